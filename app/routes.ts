@@ -1,0 +1,33 @@
+import { index, layout, prefix, route, type RouteConfig } from "@react-router/dev/routes";
+
+export default [
+  index("routes/home.tsx"),
+  layout("routes/auth/layout.tsx", [
+    route("login", "routes/auth/login.tsx"),
+    route("signup", "routes/auth/signup.tsx"),
+    route("forgot-password", "routes/auth/forgot-password.tsx"),
+    route("reset-password/:token", "routes/auth/reset-password.tsx"),
+    route("invitations/:token", "routes/auth/invitation.tsx"),
+  ]),
+  route("logout", "routes/auth/logout.tsx"),
+  route("account", "routes/account.tsx"),
+  route("theme", "routes/theme.tsx"),
+  route("outbox", "routes/outbox.tsx"),
+  route("healthz", "routes/healthz.ts"),
+  route("o/:organisation", "routes/organisation/layout.tsx", [
+    index("routes/organisation/index.tsx"),
+    route("devices", "routes/organisation/devices.tsx"),
+    route("sites", "routes/organisation/sites.tsx"),
+    route("findings", "routes/organisation/findings.tsx"),
+    route("training", "routes/organisation/training.tsx"),
+    ...prefix("settings", [
+      layout("routes/organisation/settings/layout.tsx", [
+        index("routes/organisation/settings/index.tsx"),
+        route("members", "routes/organisation/settings/members.tsx"),
+        route("organisation", "routes/organisation/settings/organisation.tsx"),
+        route("audit", "routes/organisation/settings/audit.tsx"),
+      ]),
+    ]),
+  ]),
+  route("*", "routes/not-found.tsx"),
+] satisfies RouteConfig;

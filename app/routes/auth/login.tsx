@@ -1,0 +1,65 @@
+import { Form, Link, redirect, useNavigation, useSearchParams } from "react-router";
+import type { Route } from "./+types/login";
+import { authenticateWithPassword, SignInError } from "../../../server/auth/authenticator.server";
+import { getSignedInSession, safeRedirectPath, startSession } from "../../../server/auth/session.server";
+import { formValues, invalidForm, readForm } from "../../../server/http/form.server";
+import { recordAuditEvent } from "../../../server/services/audit.server";
+import { Button } from "~/components/ui/button";
+import { FormError, TextField } from "~/components/ui/field";
+
+export const meta: Route.MetaFunction = () => [{ title: "Sign in · Sallyport" }];
+
+export async function loader({ request }: Route.LoaderArgs) {
+  if (await getSignedInSession(request)) throw redirect(safeRedirectPath(new URL(request.url).searchParams.get("redirectTo")));
+  return null;
+}
+
+export async function action({ request, context }: Route.ActionArgs) {
+  const values = formValues(await readForm(request.clone()));
+  try {
+    const user = await authenticateWithPassword(request, { clientAddress: context.clientAddress });
+    const cookie = await startSession(request, user.id, context.clientAddress);
+    await recordAuditEvent({ userId: user.id, email: user.email, clientAddress: context.clientAddress }, { organisationId: null, action: "user.signed-in", targetType: "user", targetId: user.id });
+    throw redirect(safeRedirectPath(values.redirectTo), { headers: { "Set-Cookie": cookie } });
+  } catch (error) {
+    if (error instanceof SignInError) {
+      return invalidForm({ form: error.message }, values, error.status, error.retryAfterSeconds ? { "Retry-After": String(error.retryAfterSeconds) } : undefined);
+    }
+    throw error;
+  }
+}
+
+export default function Login({ actionData }: Route.ComponentProps) {
+  const [searchParams] = useSearchParams();
+  const navigation = useNavigation();
+  const values = actionData?.values ?? {};
+  return (
+    <>
+      <h1 className="text-display">Sign in</h1>
+      <p className="mt-2 text-sm text-ink-muted">
+        New here?{" "}
+        <Link to="/signup" className="font-medium text-harbour underline underline-offset-4">
+          Create an organisation
+        </Link>
+      </p>
+      <Form method="post" className="mt-8 space-y-5" noValidate>
+        <FormError message={actionData?.errors.form} />
+        <input type="hidden" name="redirectTo" value={searchParams.get("redirectTo") ?? values.redirectTo ?? ""} />
+        <TextField label="E-mail" name="email" type="email" autoComplete="username" required defaultValue={values.email} maxLength={254} />
+        <TextField label="Password" name="password" type="password" autoComplete="current-password" required />
+        <Button type="submit" className="w-full" disabled={navigation.state === "submitting"}>
+          {navigation.state === "submitting" ? "Signing in…" : "Sign in"}
+        </Button>
+      </Form>
+      <p className="mt-6 text-sm">
+        <Link to="/forgot-password" className="text-ink-muted underline underline-offset-4 hover:text-ink">
+          Forgot your password?
+        </Link>
+      </p>
+    </>
+  );
+}
+
+export function headers({ actionHeaders }: Route.HeadersArgs) {
+  return actionHeaders;
+}

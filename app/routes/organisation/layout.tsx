@@ -1,0 +1,24 @@
+import { Outlet, useRouteLoaderData } from "react-router";
+import type { Route } from "./+types/layout";
+import { requireMember } from "../../../server/auth/guard.server";
+import { listOrganisationsOfUser } from "../../../server/services/organisations.server";
+import { AppShell } from "~/components/app-shell";
+import type { loader as rootLoader } from "~/root";
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const access = await requireMember(request, params.organisation);
+  return {
+    organisation: { slug: access.organisation.slug, name: access.organisation.name, role: access.role },
+    organisations: await listOrganisationsOfUser(access.user.id),
+    user: { name: access.user.name, email: access.user.email },
+  };
+}
+
+export default function OrganisationLayout({ loaderData }: Route.ComponentProps) {
+  const rootData = useRouteLoaderData<typeof rootLoader>("root");
+  return (
+    <AppShell organisation={loaderData.organisation} organisations={loaderData.organisations} user={loaderData.user} theme={rootData?.theme ?? "system"}>
+      <Outlet />
+    </AppShell>
+  );
+}

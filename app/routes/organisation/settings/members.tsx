@@ -1,0 +1,243 @@
+import { useState } from "react";
+import { Form, redirect, useNavigation } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/members";
+import { serializeFlash } from "../../../../server/auth/flash.server";
+import { requireMember } from "../../../../server/auth/guard.server";
+import { hasAtLeastRole, ROLE_DESCRIPTIONS, ROLES } from "../../../../server/auth/roles";
+import { getEnvironment } from "../../../../server/config.server";
+import { actorOf } from "../../../../server/http/actor.server";
+import { appOriginOf, fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "../../../../server/http/form.server";
+import { EmailSchema, IdSchema, RoleSchema } from "../../../../server/http/schemas";
+import { changeMemberRole, inviteMember, listMembers, listPendingInvitations, MemberChangeError, removeMember, revokeInvitation } from "../../../../server/services/members.server";
+import { Badge, Card } from "~/components/ui/card";
+import { Button } from "~/components/ui/button";
+import { Dialog } from "~/components/ui/dialog";
+import { FormError, SelectField, TextField } from "~/components/ui/field";
+import { Table, Td, Th } from "~/components/ui/table";
+
+export const meta: Route.MetaFunction = () => [{ title: "Members · Sallyport" }];
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const access = await requireMember(request, params.organisation);
+  const canManage = hasAtLeastRole(access.role, "admin");
+  return {
+    members: await listMembers(access.organisation.id),
+    invitations: canManage ? await listPendingInvitations(access.organisation.id) : [],
+    canManage,
+    myRole: access.role,
+    myUserId: access.user.id,
+  };
+}
+
+const InviteSchema = z.object({ email: EmailSchema, role: RoleSchema });
+const ChangeRoleSchema = z.object({ membershipId: IdSchema, role: RoleSchema });
+const MembershipSchema = z.object({ membershipId: IdSchema });
+const InvitationSchema = z.object({ invitationId: IdSchema });
+
+export async function action({ request, params, context }: Route.ActionArgs) {
+  const access = await requireMember(request, params.organisation, "admin");
+  const actor = actorOf(access, context.clientAddress);
+  const values = formValues(await readForm(request));
+  const back = async (message: string) =>
+    redirect(`/o/${access.organisation.slug}/settings/members`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message }) } });
+  try {
+    switch (values.intent) {
+      case "invite": {
+        const parsed = InviteSchema.safeParse(values);
+        if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
+        await inviteMember(access.organisation, parsed.data, actor, appOriginOf(request, getEnvironment().APP_ORIGIN));
+        return back(`Invitation sent to ${parsed.data.email}.`);
+      }
+      case "change-role": {
+        const parsed = ChangeRoleSchema.safeParse(values);
+        if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
+        await changeMemberRole(access.organisation, parsed.data.membershipId, parsed.data.role, actor);
+        return back("Role changed.");
+      }
+      case "remove": {
+        const parsed = MembershipSchema.safeParse(values);
+        if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
+        await removeMember(access.organisation, parsed.data.membershipId, actor);
+        return back("Member removed.");
+      }
+      case "revoke-invitation": {
+        const parsed = InvitationSchema.safeParse(values);
+        if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
+        await revokeInvitation(access.organisation, parsed.data.invitationId, actor);
+        return back("Invitation revoked.");
+      }
+      default:
+        return unknownIntent(values.intent);
+    }
+  } catch (error) {
+    if (error instanceof MemberChangeError) return invalidForm({ form: error.message }, values, error.status);
+    throw error;
+  }
+}
+
+type Member = Route.ComponentProps["loaderData"]["members"][number];
+
+export default function Members({ loaderData, actionData }: Route.ComponentProps) {
+  const navigation = useNavigation();
+  const [removing, setRemoving] = useState<Member | null>(null);
+  const errors: Record<string, string> = actionData?.errors ?? {};
+  const values: Record<string, string> = actionData?.values ?? {};
+  const assignable = ROLES.filter((role) => role !== "owner" || loaderData.myRole === "owner");
+  return (
+    <div className="space-y-8">
+      <FormError message={errors.form} />
+      {loaderData.canManage ? (
+        <Card className="p-5">
+          <h2 className="text-sm font-semibold">Invite a member</h2>
+          <p className="mt-1 text-sm text-ink-muted">They receive an e-mail with a single-use link, valid for 7 days.</p>
+          <Form method="post" className="mt-4 grid gap-4 sm:grid-cols-[2fr_1fr_auto] sm:items-start" noValidate>
+            <input type="hidden" name="intent" value="invite" />
+            <TextField label="E-mail" name="email" type="email" required maxLength={254} defaultValue={values.intent === "invite" ? values.email : undefined} error={values.intent === "invite" ? errors.email : undefined} />
+            <SelectField label="Role" name="role" defaultValue={values.intent === "invite" ? values.role : "engineer"} error={values.intent === "invite" ? errors.role : undefined}>
+              {assignable.map((role) => (
+                <option key={role} value={role}>
+                  {role}
+                </option>
+              ))}
+            </SelectField>
+            <div className="sm:pt-7">
+              <Button type="submit" disabled={navigation.state === "submitting"}>
+                Send invitation
+              </Button>
+            </div>
+          </Form>
+        </Card>
+      ) : null}
+
+      <section aria-labelledby="members-heading">
+        <h2 id="members-heading" className="mb-3 text-sm font-semibold">
+          Members ({loaderData.members.length})
+        </h2>
+        <Table>
+          <thead>
+            <tr>
+              <Th>Name</Th>
+              <Th>E-mail</Th>
+              <Th>Role</Th>
+              {loaderData.canManage ? <Th className="text-right">Actions</Th> : null}
+            </tr>
+          </thead>
+          <tbody>
+            {loaderData.members.map((member) => {
+              const editable = loaderData.canManage && (member.role !== "owner" || loaderData.myRole === "owner");
+              return (
+                <tr key={member.membershipId}>
+                  <Td className="font-medium">
+                    {member.name} {member.userId === loaderData.myUserId ? <Badge>you</Badge> : null}
+                  </Td>
+                  <Td className="text-ink-muted">{member.email}</Td>
+                  <Td>
+                    {editable ? (
+                      <Form method="post" className="flex items-center gap-2">
+                        <input type="hidden" name="intent" value="change-role" />
+                        <input type="hidden" name="membershipId" value={member.membershipId} />
+                        <label className="sr-only" htmlFor={`role-${member.membershipId}`}>
+                          Role of {member.name}
+                        </label>
+                        <select id={`role-${member.membershipId}`} name="role" defaultValue={member.role} className="h-8 rounded-control border border-line-strong bg-surface px-2 text-sm">
+                          {assignable.map((role) => (
+                            <option key={role} value={role}>
+                              {role}
+                            </option>
+                          ))}
+                        </select>
+                        <Button type="submit" size="sm" variant="secondary">
+                          Change
+                        </Button>
+                      </Form>
+                    ) : (
+                      <Badge tone={member.role === "owner" ? "brass" : "harbour"}>{member.role}</Badge>
+                    )}
+                  </Td>
+                  {loaderData.canManage ? (
+                    <Td className="text-right">
+                      {editable ? (
+                        <Button size="sm" variant="ghost" className="text-danger" onClick={() => setRemoving(member)} aria-label={`Remove ${member.name}`}>
+                          Remove
+                        </Button>
+                      ) : null}
+                    </Td>
+                  ) : null}
+                </tr>
+              );
+            })}
+          </tbody>
+        </Table>
+      </section>
+
+      {loaderData.canManage && loaderData.invitations.length > 0 ? (
+        <section aria-labelledby="invitations-heading">
+          <h2 id="invitations-heading" className="mb-3 text-sm font-semibold">
+            Open invitations
+          </h2>
+          <Table>
+            <thead>
+              <tr>
+                <Th>E-mail</Th>
+                <Th>Role</Th>
+                <Th>Expires</Th>
+                <Th className="text-right">Actions</Th>
+              </tr>
+            </thead>
+            <tbody>
+              {loaderData.invitations.map((invitation) => (
+                <tr key={invitation.id}>
+                  <Td>{invitation.email}</Td>
+                  <Td>{invitation.role}</Td>
+                  <Td className="tabular text-ink-muted">{invitation.expiresAt.slice(0, 10)}</Td>
+                  <Td className="text-right">
+                    <Form method="post">
+                      <input type="hidden" name="intent" value="revoke-invitation" />
+                      <input type="hidden" name="invitationId" value={invitation.id} />
+                      <Button type="submit" size="sm" variant="ghost">
+                        Revoke
+                      </Button>
+                    </Form>
+                  </Td>
+                </tr>
+              ))}
+            </tbody>
+          </Table>
+        </section>
+      ) : null}
+
+      <section aria-labelledby="roles-heading">
+        <h2 id="roles-heading" className="mb-3 text-sm font-semibold">
+          What each role may do
+        </h2>
+        <dl className="grid gap-2 text-sm sm:grid-cols-[8rem_1fr]">
+          {ROLES.map((role) => (
+            <div key={role} className="contents">
+              <dt className="font-medium">{role}</dt>
+              <dd className="text-ink-muted">{ROLE_DESCRIPTIONS[role]}</dd>
+            </div>
+          ))}
+        </dl>
+      </section>
+
+      <Dialog
+        open={removing !== null}
+        onClose={() => setRemoving(null)}
+        title={`Remove ${removing?.name ?? "member"}?`}
+        footer={
+          <Form method="post" onSubmit={() => setRemoving(null)}>
+            <input type="hidden" name="intent" value="remove" />
+            <input type="hidden" name="membershipId" value={removing?.membershipId ?? ""} />
+            <Button type="submit" variant="danger">
+              Remove member
+            </Button>
+          </Form>
+        }
+      >
+        {removing?.email} loses access to this organisation at once. Their account and other organisations stay.
+      </Dialog>
+    </div>
+  );
+}
+

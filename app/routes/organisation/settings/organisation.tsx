@@ -1,0 +1,52 @@
+import { Form, redirect, useNavigation } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/organisation";
+import { serializeFlash } from "../../../../server/auth/flash.server";
+import { requireMember } from "../../../../server/auth/guard.server";
+import { actorOf } from "../../../../server/http/actor.server";
+import { fieldErrorsOf, formValues, invalidForm, readForm } from "../../../../server/http/form.server";
+import { OrganisationNameSchema } from "../../../../server/http/schemas";
+import { renameOrganisation } from "../../../../server/services/organisations.server";
+import { Button } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { TextField } from "~/components/ui/field";
+
+export const meta: Route.MetaFunction = () => [{ title: "Organisation · Sallyport" }];
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const access = await requireMember(request, params.organisation);
+  return { name: access.organisation.name, slug: access.organisation.slug, isOwner: access.role === "owner" };
+}
+
+export async function action({ request, params, context }: Route.ActionArgs) {
+  const access = await requireMember(request, params.organisation, "owner");
+  const values = formValues(await readForm(request));
+  const parsed = z.object({ name: OrganisationNameSchema }).safeParse(values);
+  if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
+  await renameOrganisation(access.organisation, parsed.data.name, actorOf(access, context.clientAddress));
+  throw redirect(`/o/${access.organisation.slug}/settings/organisation`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: "Organisation renamed." }) } });
+}
+
+export default function OrganisationSettings({ loaderData, actionData }: Route.ComponentProps) {
+  const navigation = useNavigation();
+  return (
+    <Card className="max-w-xl p-5">
+      <h2 className="text-sm font-semibold">Organisation</h2>
+      <p className="mt-1 text-sm text-ink-muted">
+        Its address stays <code>/o/{loaderData.slug}</code> when renamed, so links keep working.
+      </p>
+      {loaderData.isOwner ? (
+        <Form method="post" className="mt-4 space-y-4" noValidate>
+          <TextField label="Name" name="name" required maxLength={100} defaultValue={actionData?.values.name ?? loaderData.name} error={actionData?.errors.name} />
+          <Button type="submit" disabled={navigation.state === "submitting"}>
+            Rename
+          </Button>
+        </Form>
+      ) : (
+        <p className="mt-4 text-sm">
+          <span className="font-medium">{loaderData.name}</span> — only an owner can rename the organisation.
+        </p>
+      )}
+    </Card>
+  );
+}

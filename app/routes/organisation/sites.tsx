@@ -1,0 +1,165 @@
+import { useState } from "react";
+import { data, Form, Link, redirect, useNavigation, useSearchParams } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/sites";
+import { serializeFlash } from "../../../server/auth/flash.server";
+import { requireMember } from "../../../server/auth/guard.server";
+import { hasAtLeastRole } from "../../../server/auth/roles";
+import { actorOf } from "../../../server/http/actor.server";
+import { fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "../../../server/http/form.server";
+import { IdSchema, SiteSchema } from "../../../server/http/schemas";
+import { createSite, deleteSite, listSites, SiteNameTakenError, updateSite } from "../../../server/services/sites.server";
+import { Button } from "~/components/ui/button";
+import { Card, PageHeader } from "~/components/ui/card";
+import { Dialog } from "~/components/ui/dialog";
+import { EmptyState } from "~/components/ui/empty-state";
+import { FormError, TextField } from "~/components/ui/field";
+import { Table, Td, Th } from "~/components/ui/table";
+
+export const meta: Route.MetaFunction = () => [{ title: "Sites · Sallyport" }];
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const access = await requireMember(request, params.organisation);
+  return { sites: await listSites(access.organisation.id), canEdit: hasAtLeastRole(access.role, "engineer") };
+}
+
+export async function action({ request, params, context }: Route.ActionArgs) {
+  const access = await requireMember(request, params.organisation, "engineer");
+  const actor = actorOf(access, context.clientAddress);
+  const values = formValues(await readForm(request));
+  const organisationId = access.organisation.id;
+  const done = async (message: string) =>
+    redirect(`/o/${access.organisation.slug}/sites`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message }) } });
+
+  switch (values.intent) {
+    case "create":
+    case "update": {
+      const parsed = SiteSchema.safeParse(values);
+      if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
+      try {
+        if (values.intent === "create") {
+          await createSite(organisationId, parsed.data, actor);
+          return done(`Site "${parsed.data.name}" created.`);
+        }
+        const siteId = IdSchema.safeParse(values.siteId);
+        if (!siteId.success) throw data({ message: "That site identifier is not valid." }, { status: 400 });
+        const updated = await updateSite(organisationId, siteId.data, parsed.data, actor);
+        if (!updated) throw data({ message: "No such site in this organisation." }, { status: 404 });
+        return done(`Site "${parsed.data.name}" saved.`);
+      } catch (error) {
+        if (error instanceof SiteNameTakenError) return invalidForm({ name: `A site named "${parsed.data.name}" exists already.` }, values, 409);
+        throw error;
+      }
+    }
+    case "delete": {
+      const parsed = z.object({ siteId: IdSchema }).safeParse(values);
+      if (!parsed.success) throw data({ message: "That site identifier is not valid." }, { status: 400 });
+      if (!(await deleteSite(organisationId, parsed.data.siteId, actor))) throw data({ message: "No such site in this organisation." }, { status: 404 });
+      return done("Site deleted.");
+    }
+    default:
+      return unknownIntent(values.intent);
+  }
+}
+
+type SiteRow = Route.ComponentProps["loaderData"]["sites"][number];
+
+function SiteForm({ site, errors, values, intent }: { site?: SiteRow; errors: Record<string, string>; values: Record<string, string>; intent: "create" | "update" }) {
+  const navigation = useNavigation();
+  return (
+    <Form method="post" className="grid gap-4 sm:grid-cols-[1fr_1fr_1fr_auto] sm:items-start" noValidate>
+      <input type="hidden" name="intent" value={intent} />
+      {site ? <input type="hidden" name="siteId" value={site.id} /> : null}
+      <TextField label="Site name" name="name" required maxLength={100} defaultValue={values.name ?? site?.name} error={errors.name} />
+      <TextField label="Customer" name="customer" maxLength={100} defaultValue={values.customer ?? site?.customer} error={errors.customer} />
+      <TextField label="Location" name="location" maxLength={200} defaultValue={values.location ?? site?.location} error={errors.location} />
+      <div className="flex gap-2 sm:pt-7">
+        <Button type="submit" disabled={navigation.state === "submitting"}>
+          {intent === "create" ? "Add site" : "Save"}
+        </Button>
+        {site ? (
+          <Link to="." className="inline-flex h-10 items-center px-3 text-sm text-ink-muted underline underline-offset-4">
+            Cancel
+          </Link>
+        ) : null}
+      </div>
+    </Form>
+  );
+}
+
+export default function Sites({ loaderData, actionData }: Route.ComponentProps) {
+  const [searchParams] = useSearchParams();
+  const [deleting, setDeleting] = useState<SiteRow | null>(null);
+  const editing = loaderData.sites.find((site) => site.id === searchParams.get("edit"));
+  const errors: Record<string, string> = actionData?.errors ?? {};
+  const values: Record<string, string> = actionData?.values ?? {};
+  const submittedIntent = values.intent;
+  return (
+    <>
+      <PageHeader title="Sites" description="Customer locations that group devices. Each device will belong to one site." />
+      {loaderData.canEdit ? (
+        <Card className="mb-6 p-5">
+          <h2 className="mb-4 text-sm font-semibold">{editing ? `Edit ${editing.name}` : "New site"}</h2>
+          <FormError message={errors.form} />
+          <SiteForm
+            key={editing?.id ?? "new"}
+            site={editing}
+            intent={editing ? "update" : "create"}
+            errors={submittedIntent === (editing ? "update" : "create") ? errors : {}}
+            values={submittedIntent === (editing ? "update" : "create") ? values : {}}
+          />
+        </Card>
+      ) : null}
+      {loaderData.sites.length === 0 ? (
+        <EmptyState title="No sites yet">{loaderData.canEdit ? "Add the first customer location above." : "An engineer or administrator can add sites."}</EmptyState>
+      ) : (
+        <Table>
+          <caption className="sr-only">Sites of this organisation</caption>
+          <thead>
+            <tr>
+              <Th>Site</Th>
+              <Th>Customer</Th>
+              <Th>Location</Th>
+              {loaderData.canEdit ? <Th className="text-right">Actions</Th> : null}
+            </tr>
+          </thead>
+          <tbody>
+            {loaderData.sites.map((site) => (
+              <tr key={site.id}>
+                <Td className="font-medium">{site.name}</Td>
+                <Td>{site.customer}</Td>
+                <Td className="text-ink-muted">{site.location}</Td>
+                {loaderData.canEdit ? (
+                  <Td className="text-right whitespace-nowrap">
+                    <Link to={`?edit=${site.id}`} className="mr-3 text-sm text-harbour underline underline-offset-4" aria-label={`Edit ${site.name}`}>
+                      Edit
+                    </Link>
+                    <button type="button" className="text-sm text-danger underline underline-offset-4" onClick={() => setDeleting(site)} aria-label={`Delete ${site.name}`}>
+                      Delete
+                    </button>
+                  </Td>
+                ) : null}
+              </tr>
+            ))}
+          </tbody>
+        </Table>
+      )}
+      <Dialog
+        open={deleting !== null}
+        onClose={() => setDeleting(null)}
+        title={`Delete ${deleting?.name ?? "site"}?`}
+        footer={
+          <Form method="post" onSubmit={() => setDeleting(null)}>
+            <input type="hidden" name="intent" value="delete" />
+            <input type="hidden" name="siteId" value={deleting?.id ?? ""} />
+            <Button type="submit" variant="danger">
+              Delete site
+            </Button>
+          </Form>
+        }
+      >
+        The site is removed for everyone in this organisation. The audit log keeps a record of it.
+      </Dialog>
+    </>
+  );
+}

@@ -1,0 +1,20 @@
+import type { Route } from "./+types/training";
+import { requireMember } from "../../../server/auth/guard.server";
+import { ComingSoon } from "~/components/coming-soon";
+
+export const meta: Route.MetaFunction = () => [{ title: "Training · Sallyport" }];
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  await requireMember(request, params.organisation);
+  return null;
+}
+
+export default function Training() {
+  return (
+    <ComingSoon
+      title="Training"
+      description="Walkthroughs of the layers for one probe, and drills in which trainees predict the outcome."
+      what="Walkthroughs and drills are planned after the analysis pages. Trainers will build scenarios from the organisation's own device models."
+    />
+  );
+}

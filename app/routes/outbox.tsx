@@ -1,0 +1,69 @@
+import { data } from "react-router";
+import type { Route } from "./+types/outbox";
+import { getEnvironment, isOutboxEnabled } from "../../server/config.server";
+import { listOutboxMessages } from "../../server/mail/outbox.server";
+import { BrandMark } from "~/components/brand";
+import { Card } from "~/components/ui/card";
+import { EmptyState } from "~/components/ui/empty-state";
+
+export const meta: Route.MetaFunction = () => [{ title: "Local outbox · Sallyport" }];
+
+// Only while the local fake SMTP server catches the mail (npm start / npm test); with a real
+// SMTP server configured this page does not exist.
+export async function loader() {
+  const directory = getEnvironment().MAIL_OUTBOX_DIR;
+  if (!isOutboxEnabled() || !directory) throw data({ message: "The local outbox is only available when Sallyport runs with its fake SMTP server." }, { status: 404 });
+  return { messages: await listOutboxMessages(directory) };
+}
+
+function Linkified({ text }: { text: string }) {
+  const parts = text.split(/(https?:\/\/[^\s<>"]+)/g);
+  return (
+    <>
+      {parts.map((part, index) =>
+        /^https?:\/\//.test(part) ? (
+          <a key={index} href={part} className="break-all text-harbour underline underline-offset-2">
+            {part}
+          </a>
+        ) : (
+          <span key={index}>{part}</span>
+        ),
+      )}
+    </>
+  );
+}
+
+export default function Outbox({ loaderData }: Route.ComponentProps) {
+  return (
+    <main className="mx-auto max-w-3xl px-6 py-10">
+      <a href="/" className="flex items-center gap-2 text-harbour">
+        <BrandMark className="size-7" />
+        <span className="font-semibold">Sallyport</span>
+      </a>
+      <h1 className="mt-6 text-display">Local outbox</h1>
+      <p className="mt-2 text-sm text-ink-muted">E-mail caught by the local fake SMTP server, newest first. Nothing here left this machine. For local development and demos only.</p>
+      <div className="mt-8 space-y-4">
+        {loaderData.messages.length === 0 ? (
+          <EmptyState title="No messages yet">Password resets and invitations sent while running locally appear here.</EmptyState>
+        ) : (
+          loaderData.messages.map((message) => (
+            <Card key={message.id} className="p-5">
+              <article aria-label={message.subject}>
+                <div className="flex flex-wrap items-baseline justify-between gap-2">
+                  <h2 className="font-semibold">{message.subject}</h2>
+                  <time className="text-xs text-ink-faint tabular" dateTime={message.date}>
+                    {new Date(message.date).toISOString().replace("T", " ").slice(0, 19)} UTC
+                  </time>
+                </div>
+                <p className="mt-1 text-sm text-ink-muted">To: {message.to}</p>
+                <pre className="mt-4 font-sans text-sm whitespace-pre-wrap">
+                  <Linkified text={message.text} />
+                </pre>
+              </article>
+            </Card>
+          ))
+        )}
+      </div>
+    </main>
+  );
+}

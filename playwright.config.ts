@@ -1,0 +1,55 @@
+import { execFileSync } from "node:child_process";
+import path from "node:path";
+import { defineConfig, devices } from "@playwright/test";
+
+// One free port per run, chosen once in the main process and inherited by the workers.
+function freePort(): number {
+  const script = "const s=require('net').createServer().listen(0,'127.0.0.1',()=>{process.stdout.write(String(s.address().port));s.close()})";
+  return Number(execFileSync(process.execPath, ["-e", script]).toString());
+}
+process.env.E2E_PORT ??= String(freePort());
+process.env.E2E_SMTP_PORT ??= String(freePort());
+process.env.E2E_OUTBOX_DIR ??= path.resolve(".data", `e2e-outbox-${process.env.E2E_PORT}`);
+const port = Number(process.env.E2E_PORT);
+const baseURL = `http://localhost:${port}`;
+
+export default defineConfig({
+  testDir: "tests/e2e",
+  outputDir: "test-results",
+  fullyParallel: false,
+  workers: 1,
+  retries: 0,
+  timeout: 60_000,
+  reporter: [["list"], ["html", { open: "never", outputFolder: "playwright-report" }]],
+  use: {
+    baseURL,
+    trace: "retain-on-failure",
+    screenshot: "only-on-failure",
+    launchOptions: {
+      executablePath: "/usr/bin/chromium",
+      args: ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run", "--disable-background-networking", "--disable-component-update", "--disable-sync"],
+    },
+  },
+  projects: [{ name: "chromium", use: { ...devices["Desktop Chrome"], viewport: { width: 1366, height: 860 } } }],
+  webServer: [
+    {
+      command: `node --import tsx server/mail/fake-smtp-server.ts --port ${process.env.E2E_SMTP_PORT} --dir ${process.env.E2E_OUTBOX_DIR}`,
+      port: Number(process.env.E2E_SMTP_PORT),
+      reuseExistingServer: false,
+    },
+    {
+      command: "node --import tsx server/http/main.ts",
+      url: `${baseURL}/healthz`,
+      reuseExistingServer: false,
+      timeout: 60_000,
+      env: {
+        NODE_ENV: "production",
+        PORT: String(port),
+        SMTP_HOST: "127.0.0.1",
+        SMTP_PORT: process.env.E2E_SMTP_PORT!,
+        SALLYPORT_FAKE_SMTP: "1",
+        MAIL_OUTBOX_DIR: process.env.E2E_OUTBOX_DIR!,
+      },
+    },
+  ],
+});

@@ -1,0 +1,12 @@
+import type { Config } from "@react-router/dev/config";
+
+export default {
+  ssr: true,
+  future: {
+    v8_middleware: false,
+    v8_splitRouteModules: true,
+    v8_viteEnvironmentApi: true,
+    v8_trailingSlashAwareDataRequests: true,
+    v8_passThroughRequests: true,
+  },
+} satisfies Config;

@@ -1,0 +1,69 @@
+import { Authenticator } from "remix-auth";
+import { FormStrategy } from "remix-auth-form";
+import { z } from "zod";
+import { User } from "../../models/index.ts";
+import { ensureDatabase } from "../db/database.server.ts";
+import { getDecoyHash, hashPassword, needsRehash, verifyPassword } from "./password.server.ts";
+import { PASSWORD_MAX_LENGTH } from "./password-rules.ts";
+import { checkSignInThrottle, clearAccountFailures, recordSignInFailure } from "./throttle.server.ts";
+
+/** A sign-in that did not succeed, with the HTTP status and the message to show. */
+export class SignInError extends Error {
+  constructor(
+    message: string,
+    readonly status: 400 | 401 | 429,
+    readonly retryAfterSeconds?: number,
+  ) {
+    super(message);
+  }
+}
+
+export const SignInSchema = z.object({
+  email: z.string().trim().toLowerCase().min(1, "Enter your e-mail address.").max(254, "That e-mail address is too long.").email("Enter a valid e-mail address."),
+  password: z.string().min(1, "Enter your password.").max(PASSWORD_MAX_LENGTH * 4, "That password is too long."),
+});
+
+export type SignInContext = { clientAddress: string };
+
+async function verifySignIn(form: FormData, context: SignInContext): Promise<User> {
+  ensureDatabase();
+  const parsed = SignInSchema.safeParse({ email: form.get("email") ?? "", password: form.get("password") ?? "" });
+  if (!parsed.success) throw new SignInError(parsed.error.issues[0].message, 400);
+  const { email, password } = parsed.data;
+  const verdict = await checkSignInThrottle(email, context.clientAddress);
+  if (verdict.throttled) {
+    const minutes = Math.ceil(verdict.retryAfterSeconds / 60);
+    throw new SignInError(
+      `Too many failed sign-ins ${verdict.scope === "account" ? "for this account" : "from your address"}. Try again in ${minutes} minute${minutes === 1 ? "" : "s"}, or reset your password.`,
+      429,
+      verdict.retryAfterSeconds,
+    );
+  }
+  const user = await User.findOne({ where: { email } });
+  const valid = await verifyPassword(user?.passwordHash ?? (await getDecoyHash()), password);
+  if (!user || !valid) {
+    await recordSignInFailure(email, context.clientAddress);
+    throw new SignInError("The e-mail address or password is not right.", 401);
+  }
+  await clearAccountFailures(email);
+  if (needsRehash(user.passwordHash)) await user.update({ passwordHash: await hashPassword(password) });
+  return user;
+}
+
+// remix-auth passes the strategy a copy of the request, so the client address (from the load
+// context, which the strategy does not see) travels in a header that we set ourselves,
+// overwriting any value a client might send.
+const CLIENT_ADDRESS_HEADER = "x-sallyport-verified-client-address";
+
+export const authenticator = new Authenticator<User>();
+authenticator.use(
+  new FormStrategy(async ({ form, request }) => verifySignIn(form, { clientAddress: request.headers.get(CLIENT_ADDRESS_HEADER) ?? "unknown" })),
+  "form",
+);
+
+/** Checks the posted e-mail and password (with throttling); throws SignInError when refused. */
+export async function authenticateWithPassword(request: Request, context: SignInContext): Promise<User> {
+  const headers = new Headers(request.headers);
+  headers.set(CLIENT_ADDRESS_HEADER, context.clientAddress);
+  return authenticator.authenticate("form", new Request(request, { headers }));
+}

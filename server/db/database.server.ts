@@ -1,0 +1,27 @@
+import { Sequelize } from "sequelize";
+import { initModels } from "../../models/index.ts";
+import { getEnvironment } from "../config.server.ts";
+
+let sequelize: Sequelize | undefined;
+
+/** The one Sequelize instance of this process, with every model registered. */
+export function getDatabase(): Sequelize {
+  if (sequelize) return sequelize;
+  sequelize = createDatabase(getEnvironment().DATABASE_URL);
+  return sequelize;
+}
+
+export function createDatabase(url: string): Sequelize {
+  const instance = new Sequelize(url, {
+    dialect: "postgres",
+    logging: false,
+    pool: { max: 10, min: 0, idle: 10_000 },
+  });
+  initModels(instance);
+  return instance;
+}
+
+/** Ensures the models are registered before a service touches them. */
+export function ensureDatabase(): void {
+  getDatabase();
+}

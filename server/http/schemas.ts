@@ -1,0 +1,47 @@
+import { z } from "zod";
+import { findPasswordProblem, PASSWORD_MAX_LENGTH } from "../auth/password-rules.ts";
+import { ROLES } from "../auth/roles.ts";
+
+// Field schemas shared by the actions, so each field is validated the same way everywhere.
+export const EmailSchema = z
+  .string()
+  .trim()
+  .toLowerCase()
+  .min(1, "Enter an e-mail address.")
+  .max(254, "An e-mail address has at most 254 characters.")
+  .email("Enter a valid e-mail address, like name@example.com.");
+
+export const PersonNameSchema = z.string().trim().min(1, "Enter a name.").max(100, "Use at most 100 characters.");
+
+export const OrganisationNameSchema = z.string().trim().min(2, "Enter the organisation's name (at least 2 characters).").max(100, "Use at most 100 characters.");
+
+export const RoleSchema = z.enum(ROLES, { message: `Choose one of: ${ROLES.join(", ")}.` });
+
+export const IdSchema = z.string().uuid("That identifier is not valid.");
+
+/** Adds the password-rule message (NIST SP 800-63B, reason said) to the "password" field. */
+export function refineNewPassword(value: { password: string; email?: string; name?: string }, refinement: z.RefinementCtx): void {
+  const problem = findPasswordProblem(value.password, { email: value.email, name: value.name });
+  if (problem) refinement.addIssue({ code: "custom", path: ["password"], message: problem });
+}
+
+const PasswordInputSchema = z.string().max(PASSWORD_MAX_LENGTH * 4, "That password is far too long.");
+
+export const SignUpSchema = z
+  .object({
+    name: PersonNameSchema,
+    email: EmailSchema,
+    organisationName: OrganisationNameSchema,
+    password: PasswordInputSchema,
+  })
+  .superRefine(refineNewPassword);
+
+export const ResetPasswordSchema = z.object({ password: PasswordInputSchema });
+
+export const InvitationSignUpSchema = z.object({ name: PersonNameSchema, password: PasswordInputSchema });
+
+export const SiteSchema = z.object({
+  name: z.string().trim().min(1, "Enter the site's name.").max(100, "Use at most 100 characters."),
+  customer: z.string().trim().max(100, "Use at most 100 characters.").default(""),
+  location: z.string().trim().max(200, "Use at most 200 characters.").default(""),
+});

@@ -1,0 +1,84 @@
+import { Op } from "sequelize";
+import { Membership, Organisation, User } from "../../models/index.ts";
+import { hashPassword } from "../auth/password.server.ts";
+import type { Role } from "../auth/roles.ts";
+import { ensureDatabase, getDatabase } from "../db/database.server.ts";
+import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
+
+// Letters that Unicode decomposition leaves alone.
+const TRANSLITERATIONS: Record<string, string> = { æ: "ae", ø: "o", ß: "ss", œ: "oe", ð: "d", þ: "th", ł: "l" };
+
+/** A URL slug from a name: lower-case letters, digits and single dashes. */
+export function slugFromName(name: string): string {
+  const slug = name
+    .toLowerCase()
+    .replace(/[æøßœðþł]/g, (letter) => TRANSLITERATIONS[letter] ?? letter)
+    .normalize("NFKD")
+    .replace(/[\u0300-\u036f]/g, "")
+    .toLowerCase()
+    .replace(/[^a-z0-9]+/g, "-")
+    .replace(/^-+|-+$/g, "")
+    .slice(0, 48)
+    .replace(/-+$/g, "");
+  return slug || "organisation";
+}
+
+async function findFreeSlug(name: string): Promise<string> {
+  const base = slugFromName(name);
+  const taken = new Set(
+    (await Organisation.findAll({ where: { slug: { [Op.like]: `${base}%` } }, attributes: ["slug"] })).map((organisation) => organisation.slug),
+  );
+  if (!taken.has(base)) return base;
+  for (let suffix = 2; ; suffix++) if (!taken.has(`${base}-${suffix}`)) return `${base}-${suffix}`;
+}
+
+export class EmailTakenError extends Error {}
+
+/** Sign-up: a new user and a new organisation in which that user is the owner. */
+export async function createUserWithOrganisation(
+  input: { email: string; name: string; password: string; organisationName: string },
+  clientAddress: string,
+): Promise<{ user: User; organisation: Organisation }> {
+  ensureDatabase();
+  const passwordHash = await hashPassword(input.password);
+  const result = await getDatabase().transaction(async (transaction) => {
+    if (await User.findOne({ where: { email: input.email }, transaction })) throw new EmailTakenError();
+    const user = await User.create({ email: input.email, name: input.name, passwordHash }, { transaction });
+    const organisation = await Organisation.create({ name: input.organisationName, slug: await findFreeSlug(input.organisationName) }, { transaction });
+    await Membership.create({ organisationId: organisation.id, userId: user.id, role: "owner" }, { transaction });
+    return { user, organisation };
+  });
+  const actor: AuditActor = { userId: result.user.id, email: result.user.email, clientAddress };
+  await recordAuditEvent(actor, { organisationId: result.organisation.id, action: "organisation.created", targetType: "organisation", targetId: result.organisation.id, changes: { name: result.organisation.name } });
+  return result;
+}
+
+/** A further organisation whose owner is an existing user. */
+export async function createOrganisationForUser(user: User, name: string, clientAddress: string): Promise<Organisation> {
+  ensureDatabase();
+  const organisation = await getDatabase().transaction(async (transaction) => {
+    const created = await Organisation.create({ name, slug: await findFreeSlug(name) }, { transaction });
+    await Membership.create({ organisationId: created.id, userId: user.id, role: "owner" }, { transaction });
+    return created;
+  });
+  await recordAuditEvent({ userId: user.id, email: user.email, clientAddress }, { organisationId: organisation.id, action: "organisation.created", targetType: "organisation", targetId: organisation.id, changes: { name } });
+  return organisation;
+}
+
+export type OrganisationSummary = { slug: string; name: string; role: Role };
+
+export async function listOrganisationsOfUser(userId: string): Promise<OrganisationSummary[]> {
+  ensureDatabase();
+  const memberships = await Membership.findAll({
+    where: { userId },
+    include: [{ model: Organisation, as: "organisation", required: true }],
+    order: [[{ model: Organisation, as: "organisation" }, "name", "ASC"]],
+  });
+  return memberships.map((membership) => ({ slug: membership.organisation!.slug, name: membership.organisation!.name, role: membership.role }));
+}
+
+export async function renameOrganisation(organisation: Organisation, name: string, actor: AuditActor): Promise<void> {
+  const before = organisation.name;
+  await organisation.update({ name });
+  await recordAuditEvent(actor, { organisationId: organisation.id, action: "organisation.renamed", targetType: "organisation", targetId: organisation.id, changes: { name: { from: before, to: name } } });
+}

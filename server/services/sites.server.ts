@@ -1,0 +1,59 @@
+import { UniqueConstraintError } from "sequelize";
+import { Site } from "../../models/index.ts";
+import { ensureDatabase } from "../db/database.server.ts";
+import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
+
+export type SiteInput = { name: string; customer: string; location: string };
+export type SiteRow = SiteInput & { id: string; updatedAt: string };
+
+export class SiteNameTakenError extends Error {}
+
+function toRow(site: Site): SiteRow {
+  return { id: site.id, name: site.name, customer: site.customer, location: site.location, updatedAt: site.updatedAt.toISOString() };
+}
+
+export async function listSites(organisationId: string): Promise<SiteRow[]> {
+  ensureDatabase();
+  return (await Site.findAll({ where: { organisationId }, order: [["name", "ASC"]] })).map(toRow);
+}
+
+export async function createSite(organisationId: string, input: SiteInput, actor: AuditActor): Promise<SiteRow> {
+  ensureDatabase();
+  try {
+    const site = await Site.create({ organisationId, ...input });
+    await recordAuditEvent(actor, { organisationId, action: "site.created", targetType: "site", targetId: site.id, changes: { ...input } });
+    return toRow(site);
+  } catch (error) {
+    if (error instanceof UniqueConstraintError) throw new SiteNameTakenError();
+    throw error;
+  }
+}
+
+/** Updates a site of this organisation; null when there is no such site here. */
+export async function updateSite(organisationId: string, siteId: string, input: SiteInput, actor: AuditActor): Promise<SiteRow | null> {
+  ensureDatabase();
+  const site = await Site.findOne({ where: { id: siteId, organisationId } });
+  if (!site) return null;
+  const changes: Record<string, { from: string; to: string }> = {};
+  for (const key of ["name", "customer", "location"] as const) {
+    if (site[key] !== input[key]) changes[key] = { from: site[key], to: input[key] };
+  }
+  if (Object.keys(changes).length === 0) return toRow(site);
+  try {
+    await site.update(input);
+  } catch (error) {
+    if (error instanceof UniqueConstraintError) throw new SiteNameTakenError();
+    throw error;
+  }
+  await recordAuditEvent(actor, { organisationId, action: "site.updated", targetType: "site", targetId: site.id, changes });
+  return toRow(site);
+}
+
+export async function deleteSite(organisationId: string, siteId: string, actor: AuditActor): Promise<boolean> {
+  ensureDatabase();
+  const site = await Site.findOne({ where: { id: siteId, organisationId } });
+  if (!site) return false;
+  await site.destroy();
+  await recordAuditEvent(actor, { organisationId, action: "site.deleted", targetType: "site", targetId: site.id, changes: { name: site.name } });
+  return true;
+}

@@ -1,0 +1,59 @@
+import { Op } from "sequelize";
+import { PasswordReset, User } from "../../models/index.ts";
+import { hashPassword } from "../auth/password.server.ts";
+import { endAllSessions } from "../auth/session.server.ts";
+import { createToken, hashToken } from "../auth/tokens.server.ts";
+import { ensureDatabase, getDatabase } from "../db/database.server.ts";
+import { sendPasswordResetMail } from "../mail/messages.server.ts";
+import { recordAuditEvent } from "./audit.server.ts";
+import { EmailTakenError } from "./organisations.server.ts";
+
+export const PASSWORD_RESET_LIFETIME_MS = 30 * 60 * 1000;
+
+/** A user created from an invitation link (no organisation of their own). */
+export async function createUser(input: { email: string; name: string; password: string }): Promise<User> {
+  ensureDatabase();
+  if (await User.findOne({ where: { email: input.email } })) throw new EmailTakenError();
+  return User.create({ email: input.email, name: input.name, passwordHash: await hashPassword(input.password) });
+}
+
+/**
+ * Sends a single-use reset link when the address belongs to a user. The caller answers the
+ * same either way, so the form does not reveal which addresses have accounts.
+ */
+export async function requestPasswordReset(email: string, appOrigin: string, clientAddress: string): Promise<void> {
+  ensureDatabase();
+  const user = await User.findOne({ where: { email } });
+  if (!user) return;
+  const token = createToken();
+  await PasswordReset.create({ userId: user.id, tokenHash: hashToken(token), expiresAt: new Date(Date.now() + PASSWORD_RESET_LIFETIME_MS), usedAt: null });
+  await sendPasswordResetMail({ to: user.email, name: user.name, link: `${appOrigin}/reset-password/${token}`, minutes: PASSWORD_RESET_LIFETIME_MS / 60_000 });
+  await recordAuditEvent({ userId: user.id, email: user.email, clientAddress }, { organisationId: null, action: "password.reset-requested", targetType: "user", targetId: user.id });
+}
+
+/** The user behind a reset link that is unused and unexpired. */
+export async function findUserForResetToken(token: string): Promise<User | null> {
+  ensureDatabase();
+  if (!/^[A-Za-z0-9_-]{20,100}$/.test(token)) return null;
+  const reset = await PasswordReset.findOne({ where: { tokenHash: hashToken(token), usedAt: null, expiresAt: { [Op.gt]: new Date() } } });
+  if (!reset) return null;
+  return User.findByPk(reset.userId);
+}
+
+/** Sets the new password, spends the link (and any other open ones) and signs out everywhere. */
+export async function completePasswordReset(token: string, password: string, clientAddress: string): Promise<User | null> {
+  ensureDatabase();
+  const passwordHash = await hashPassword(password);
+  const user = await getDatabase().transaction(async (transaction) => {
+    const reset = await PasswordReset.findOne({ where: { tokenHash: hashToken(token), usedAt: null, expiresAt: { [Op.gt]: new Date() } }, transaction, lock: transaction.LOCK.UPDATE });
+    if (!reset) return null;
+    await PasswordReset.update({ usedAt: new Date() }, { where: { userId: reset.userId, usedAt: null }, transaction });
+    const found = await User.findByPk(reset.userId, { transaction });
+    await found?.update({ passwordHash }, { transaction });
+    return found;
+  });
+  if (!user) return null;
+  await endAllSessions(user.id);
+  await recordAuditEvent({ userId: user.id, email: user.email, clientAddress }, { organisationId: null, action: "password.reset-completed", targetType: "user", targetId: user.id });
+  return user;
+}

@@ -1,0 +1,36 @@
+import { expect, test } from "@playwright/test";
+import { screenshot } from "./screenshot";
+
+test("A demo engineer signs in, finds the app shell, and signs out", async ({ page }) => {
+  await page.goto("/o/lanternfield/sites");
+  await expect(page).toHaveURL(/\/login\?redirectTo=/);
+  await screenshot(page, "01-sign-in");
+
+  await page.getByLabel("E-mail").fill("priya.nandakumar@lanternfield.example");
+  await page.getByLabel("Password").fill("wrong password for the demo");
+  await page.getByRole("button", { name: "Sign in" }).click();
+  await expect(page.getByRole("alert")).toContainText("The e-mail address or password is not right.");
+  // What was typed stays in the form.
+  await expect(page.getByLabel("E-mail")).toHaveValue("priya.nandakumar@lanternfield.example");
+
+  await page.getByLabel("Password").fill("demo-password-engineer");
+  await page.getByRole("button", { name: "Sign in" }).click();
+  await expect(page).toHaveURL(/\/o\/lanternfield\/sites$/);
+  await expect(page.getByRole("heading", { name: "Sites" })).toBeVisible();
+  await expect(page.getByRole("cell", { name: "Brightwater Clinic — main campus", exact: true })).toBeVisible();
+  const navigation = page.getByRole("navigation", { name: "Main" });
+  for (const item of ["Devices", "Sites", "Findings", "Training", "Settings"]) await expect(navigation.getByRole("link", { name: item })).toBeVisible();
+  await screenshot(page, "02-sites");
+
+  await navigation.getByRole("link", { name: "Devices" }).click();
+  await expect(page.getByRole("heading", { name: "Coming" })).toBeVisible();
+  await screenshot(page, "03-devices-coming");
+
+  await page.getByLabel("Account menu for Priya Nandakumar").click();
+  await screenshot(page, "04-user-menu");
+  await page.getByRole("button", { name: "Sign out" }).click();
+  await expect(page).toHaveURL(/\/login$/);
+  await expect(page.getByRole("status")).toContainText("Signed out.");
+  await page.goto("/o/lanternfield/sites");
+  await expect(page).toHaveURL(/\/login\?redirectTo=/);
+});
