@@ -174,9 +174,11 @@ ensure_fake_smtp() {
   export SALLYPORT_FAKE_SMTP=1
   step "Fake SMTP server on 127.0.0.1:$port (messages in $MAIL_OUTBOX_DIR)"
   if [ -f "$pid_file" ] && kill -0 "$(cat "$pid_file")" 2>/dev/null; then ok "already running"; return; fi
+  if smtp_banner_is_ours "$port"; then ok "already running (found by its banner)"; return; fi
   mkdir -p "$MAIL_OUTBOX_DIR"
   cd "$ROOT"
-  nohup npx tsx server/mail/fake-smtp-server.ts --port "$port" --dir "$MAIL_OUTBOX_DIR" >"$DATA_DIR/fake-smtp.log" 2>&1 &
+  # node itself, not npx, so the pid file names the process that listens and stop can end it.
+  nohup node --import tsx server/mail/fake-smtp-server.ts --port "$port" --dir "$MAIL_OUTBOX_DIR" >"$DATA_DIR/fake-smtp.log" 2>&1 &
   echo $! >"$pid_file"
   for _ in $(seq 1 50); do
     grep -q "listening" "$DATA_DIR/fake-smtp.log" 2>/dev/null && { ok "started"; return; }
@@ -187,12 +189,24 @@ ensure_fake_smtp() {
   fail "the fake SMTP server did not start" "is port $port taken? set SALLYPORT_SMTP_PORT"
 }
 
+# True when 127.0.0.1:PORT greets with our fake server's banner (left from an earlier run).
+smtp_banner_is_ours() {
+  node -e '
+    const socket = require("net").connect(Number(process.argv[1]), "127.0.0.1");
+    socket.setTimeout(1000, () => process.exit(1));
+    socket.on("error", () => process.exit(1));
+    socket.on("data", (data) => { socket.destroy(); process.exit(String(data).includes("Sallyport local fake SMTP") ? 0 : 1); });
+  ' "$1" 2>/dev/null
+}
+
 stop_local_services() {
   local pid_file="$DATA_DIR/fake-smtp.pid"
   if [ -f "$pid_file" ] && kill -0 "$(cat "$pid_file")" 2>/dev/null; then
     kill "$(cat "$pid_file")" && ok "stopped the fake SMTP server"
   fi
   rm -f "$pid_file"
+  # One left from a run whose pid file was lost.
+  pkill -f "fake-smtp-server.ts --port ${SALLYPORT_SMTP_PORT:-2525} " 2>/dev/null && ok "stopped a leftover fake SMTP server" || true
   local bin data
   bin=$(pg_bin_dir)
   data=$(pg_data_dir)

@@ -20,4 +20,4 @@ else
 fi
 export PORT="${PORT:-3000}"
 step "Serving on http://localhost:$PORT (Ctrl-C stops the web server; \`npm run stop\` stops PostgreSQL and the fake SMTP server)"
-exec npx tsx server/http/main.ts
+exec node --import tsx server/http/main.ts
