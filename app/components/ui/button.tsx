@@ -2,7 +2,7 @@ import type { ButtonHTMLAttributes } from "react";
 import { Link, type LinkProps } from "react-router";
 import { cx } from "./cx";
 
-type Variant = "primary" | "secondary" | "ghost" | "danger";
+type Variant = "primary" | "secondary" | "ghost" | "danger" | "ghost-danger";
 type Size = "sm" | "md";
 
 const base =
@@ -12,6 +12,7 @@ const variants: Record<Variant, string> = {
   secondary: "bg-surface text-ink border border-line-strong hover:bg-surface-sunken",
   ghost: "text-ink-muted hover:text-ink hover:bg-surface-sunken",
   danger: "bg-danger text-white hover:opacity-90 dark:text-black",
+  "ghost-danger": "text-danger hover:bg-danger-soft",
 };
 const sizes: Record<Size, string> = { sm: "h-8 px-3 text-sm", md: "h-10 px-4 text-sm" };
 

@@ -158,7 +158,7 @@ export default function Members({ loaderData, actionData }: Route.ComponentProps
                   {loaderData.canManage ? (
                     <Td className="text-right">
                       {editable ? (
-                        <Button size="sm" variant="ghost" className="text-danger" onClick={() => setRemoving(member)} aria-label={`Remove ${member.name}`}>
+                        <Button size="sm" variant="ghost-danger" onClick={() => setRemoving(member)} aria-label={`Remove ${member.name}`}>
                           Remove
                         </Button>
                       ) : null}
