@@ -1,0 +1,352 @@
+// The `sallyport` command line: validate, trace, reach, exposure, findings, diff.
+// Exit codes: 0 ok, 1 a --fail-on… condition met, 2 usage or validation error (stderr).
+
+import { readFileSync } from "node:fs";
+import { parseArgs } from "node:util";
+import {
+  OUTCOMES,
+  ProbeError,
+  SEVERITIES,
+  compileModel,
+  diffModels,
+  exposure,
+  findings,
+  parseModel,
+  reach,
+  severityAtLeast,
+  trace,
+} from "../engine/index.ts";
+import type { CompiledModel, ExposureEntry, Finding, ModelDiff, Severity, TraceResult, ValidationIssue } from "../engine/index.ts";
+import { parseCsv } from "./csv.ts";
+import { table } from "./table.ts";
+
+const USAGE = `sallyport — management-plane exposure simulator
+
+Usage:
+  sallyport validate MODEL [--json]
+  sallyport trace MODEL --from IP --on IFACE --service SVC [--to IP] [--at ISO] [--account NAME] [--json]
+  sallyport trace MODEL --probes FILE.csv          (one JSON result per line)
+  sallyport reach MODEL --from IP [--at ISO] [--json]
+  sallyport exposure MODEL [--at ISO] [--json]
+  sallyport findings MODEL [--fail-on SEVERITY] [--json]
+  sallyport diff BEFORE AFTER [--fail-on-lockout] [--json]
+
+SVC is a catalogue service name, tcp/PORT, udp/PORT or icmp/echo. ISO times without an
+offset are read on the device's clock. Severities: ${SEVERITIES.join(", ")}.
+Exit codes: 0 ok, 1 a --fail-on… condition met, 2 usage or validation error.
+The simulation models the configuration, not the device: confirm on the device in a
+maintenance window, and keep a tested break-glass path before restricting access.`;
+
+class UsageError extends Error {}
+
+const OPTIONS = {
+  json: { type: "boolean" },
+  help: { type: "boolean", short: "h" },
+  from: { type: "string" },
+  on: { type: "string" },
+  service: { type: "string" },
+  to: { type: "string" },
+  at: { type: "string" },
+  account: { type: "string" },
+  probes: { type: "string" },
+  "fail-on": { type: "string" },
+  "fail-on-lockout": { type: "boolean" },
+} as const;
+
+type Options = { [K in keyof typeof OPTIONS]?: (typeof OPTIONS)[K]["type"] extends "boolean" ? boolean : string };
+
+interface Io {
+  out(text: string): void;
+  err(text: string): void;
+}
+
+/** Runs the CLI; returns the exit code. */
+export function run(argv: readonly string[], io: Io): number {
+  let parsed: { values: Options; positionals: string[] };
+  try {
+    parsed = parseArgs({ args: [...argv], options: OPTIONS, allowPositionals: true, strict: true }) as { values: Options; positionals: string[] };
+  } catch (e) {
+    io.err(`sallyport: ${(e as Error).message}\n\n${USAGE}\n`);
+    return 2;
+  }
+  const { values, positionals } = parsed;
+  const [command, ...files] = positionals;
+  if (values.help === true || command === undefined || command === "help") {
+    io.out(`${USAGE}\n`);
+    return command === undefined && values.help !== true ? 2 : 0;
+  }
+  try {
+    switch (command) {
+      case "validate":
+        return validateCommand(files, values, io);
+      case "trace":
+        return traceCommand(files, values, io);
+      case "reach":
+        return reachCommand(files, values, io);
+      case "exposure":
+        return exposureCommand(files, values, io);
+      case "findings":
+        return findingsCommand(files, values, io);
+      case "diff":
+        return diffCommand(files, values, io);
+      default:
+        throw new UsageError(`unknown command "${command}"`);
+    }
+  } catch (e) {
+    if (e instanceof UsageError || e instanceof ProbeError || e instanceof ModelFileError) {
+      io.err(`sallyport: ${e.message}\n`);
+      if (e instanceof UsageError) io.err(`\n${USAGE}\n`);
+      return 2;
+    }
+    throw e;
+  }
+}
+
+class ModelFileError extends Error {}
+
+function oneFile(files: readonly string[], what = "MODEL"): string {
+  if (files.length !== 1) throw new UsageError(`expected one ${what} file, got ${files.length}`);
+  return files[0];
+}
+
+function readJson(path: string): unknown {
+  let text: string;
+  try {
+    text = readFileSync(path, "utf8");
+  } catch (e) {
+    throw new ModelFileError(`cannot read ${path}: ${(e as NodeJS.ErrnoException).code ?? (e as Error).message}`);
+  }
+  try {
+    return JSON.parse(text);
+  } catch (e) {
+    throw new ModelFileError(`${path} is not JSON: ${(e as Error).message}`);
+  }
+}
+
+function loadModel(path: string, io: Io): CompiledModel {
+  const result = parseModel(readJson(path));
+  reportWarnings(path, result.warnings, io);
+  if (!result.ok) {
+    const lines = result.errors.map((e) => `${path}: ${e.path === "" ? "" : `${e.path}: `}${e.message}`);
+    throw new ModelFileError(`invalid model\n${lines.join("\n")}`);
+  }
+  return compileModel(result.model);
+}
+
+const MAX_WARNINGS = 20;
+
+function reportWarnings(path: string, warnings: readonly ValidationIssue[], io: Io): void {
+  for (const w of warnings.slice(0, MAX_WARNINGS)) io.err(`${path}: warning: ${w.path === "" ? "" : `${w.path}: `}${w.message}\n`);
+  if (warnings.length > MAX_WARNINGS) io.err(`${path}: … ${warnings.length - MAX_WARNINGS} more warnings (sallyport validate --json lists them all)\n`);
+}
+
+function json(value: unknown): string {
+  return `${JSON.stringify(value, null, 2)}\n`;
+}
+
+function validateCommand(files: readonly string[], values: Options, io: Io): number {
+  const path = oneFile(files);
+  const result = parseModel(readJson(path));
+  if (values.json === true) {
+    const body = result.ok ? { ok: true, warnings: result.warnings } : { ok: false, errors: result.errors, warnings: result.warnings };
+    io.out(json(body));
+    if (!result.ok) io.err(`${path}: invalid model (${result.errors.length} errors)\n`);
+    return result.ok ? 0 : 2;
+  }
+  reportWarnings(path, result.warnings, io);
+  if (!result.ok) {
+    for (const e of result.errors) io.err(`${path}: ${e.path === "" ? "" : `${e.path}: `}${e.message}\n`);
+    return 2;
+  }
+  const m = result.model;
+  io.out(
+    `${path}: valid — device "${m.device.name}", ${m.interfaces.length} interfaces, ${m.inboundRules.length} inbound rules, ` +
+      `${m.accounts.length} accounts, ${result.warnings.length} warnings\n`,
+  );
+  return 0;
+}
+
+function traceCommand(files: readonly string[], values: Options, io: Io): number {
+  const device = loadModel(oneFile(files), io);
+  if (values.probes !== undefined) return probesCommand(device, values.probes, io);
+  for (const required of ["from", "on", "service"] as const) {
+    if (values[required] === undefined) throw new UsageError(`trace needs --${required} (or --probes FILE.csv)`);
+  }
+  const result = trace(device, {
+    from: values.from ?? "",
+    interface: values.on ?? "",
+    service: values.service ?? "",
+    to: values.to,
+    at: values.at,
+    account: values.account,
+  });
+  io.out(values.json === true ? json(result) : renderTrace(result));
+  return 0;
+}
+
+const PROBE_HEADER = ["from", "interface", "service", "to", "at", "account"];
+
+function probesCommand(device: CompiledModel, path: string, io: Io): number {
+  let text: string;
+  try {
+    text = readFileSync(path, "utf8");
+  } catch (e) {
+    throw new UsageError(`cannot read ${path}: ${(e as NodeJS.ErrnoException).code ?? (e as Error).message}`);
+  }
+  const rows = parseCsv(text);
+  const header = rows.shift()?.map((h) => h.trim().toLowerCase());
+  if (header === undefined || header.join(",") !== PROBE_HEADER.join(",")) {
+    throw new UsageError(`${path}: the header must be ${PROBE_HEADER.join(",")}`);
+  }
+  for (const row of rows) {
+    if (row.length === 1 && row[0].trim() === "") continue;
+    if (row.length !== PROBE_HEADER.length) {
+      io.out(`${JSON.stringify({ error: `expected ${PROBE_HEADER.length} fields, got ${row.length}` })}\n`);
+      continue;
+    }
+    const [from, iface, service, to, at, account] = row.map((f) => f.trim());
+    try {
+      const result = trace(device, { from, interface: iface, service, to, at, account });
+      io.out(`${JSON.stringify(result)}\n`);
+    } catch (e) {
+      if (!(e instanceof ProbeError)) throw e;
+      io.out(`${JSON.stringify({ error: e.message })}\n`);
+    }
+  }
+  return 0;
+}
+
+function renderTrace(t: TraceResult): string {
+  const head =
+    `probe    ${t.from} → ${t.interface}${t.to !== null ? ` (${t.to})` : ""} ${t.service}\n` +
+    `at       ${t.at} (device clock ${t.localTime})\n` +
+    `outcome  ${t.outcome}${t.ruleId !== null ? `   rule ${t.ruleId}` : ""}` +
+    `${t.eligibleAccounts.length > 0 ? `   eligible ${t.eligibleAccounts.join(", ")}` : ""}\n\n`;
+  return head + table(["layer", "result", "detail"], t.layers.map((l) => [l.layer, l.result, l.detail]));
+}
+
+function reachCommand(files: readonly string[], values: Options, io: Io): number {
+  const device = loadModel(oneFile(files), io);
+  if (values.from === undefined) throw new UsageError("reach needs --from IP");
+  const result = reach(device, values.from, values.at);
+  if (values.json === true) {
+    io.out(json(result));
+    return 0;
+  }
+  io.out(`reach of ${result.from} at ${result.at}\n\n`);
+  io.out(
+    table(
+      ["interface", "to", "service", "outcome", "rule", "eligible"],
+      result.results.map((r) => [r.interface, r.to ?? "-", r.service, r.outcome, r.ruleId ?? "-", r.eligibleAccounts.join(",") || "-"]),
+    ),
+  );
+  return 0;
+}
+
+function exposureRows(entries: readonly ExposureEntry[]): string[][] {
+  return entries.map((e) => {
+    const exposed = OUTCOMES.filter((o) => o !== "silent" && e.counts[o] !== "0")
+      .map((o) => `${o} ${e.counts[o]} [${summariseCidrs(e.ranges[o])}]`)
+      .join("; ");
+    return [e.interface, e.to, e.service, exposed === "" ? "silent to all" : exposed];
+  });
+}
+
+function summariseCidrs(cidrs: readonly string[]): string {
+  return cidrs.length <= 3 ? cidrs.join(" ") : `${cidrs.slice(0, 3).join(" ")} +${cidrs.length - 3} more`;
+}
+
+function exposureCommand(files: readonly string[], values: Options, io: Io): number {
+  const device = loadModel(oneFile(files), io);
+  const headers = ["interface", "to", "service", "who gets an answer (count [CIDRs])"];
+  if (values.at !== undefined) {
+    const map = exposure(device, values.at);
+    if (values.json === true) io.out(json(map));
+    else io.out(`exposure at ${map.at} (device clock ${map.localTime}; slice ${map.slice.start} – ${map.slice.end})\n\n${table(headers, exposureRows(map.entries))}`);
+    return 0;
+  }
+  const map = exposure(device);
+  if (values.json === true) {
+    // One slice at a time: a large model's full map would not fit in one string.
+    io.out('{\n"slices": [\n');
+    map.slices.forEach((s, i) => io.out(`${JSON.stringify(s)}${i + 1 < map.slices.length ? "," : ""}\n`));
+    io.out("]\n}\n");
+    return 0;
+  }
+  for (const s of map.slices) {
+    const schedules = s.activeSchedules.length > 0 ? s.activeSchedules.join(", ") : "none";
+    io.out(`slice ${s.start} – ${s.end} (active schedules: ${schedules})\n${table(headers, exposureRows(s.entries))}\n`);
+  }
+  return 0;
+}
+
+function parseSeverity(text: string | undefined): Severity | null {
+  if (text === undefined) return null;
+  const found = SEVERITIES.find((s) => s === text.toLowerCase());
+  if (found === undefined) throw new UsageError(`--fail-on takes one of ${SEVERITIES.join(", ")}`);
+  return found;
+}
+
+function renderFindings(list: readonly Finding[]): string {
+  if (list.length === 0) return "no findings\n";
+  return table(
+    ["severity", "code", "elements", "title"],
+    list.map((f) => [f.severity, f.code, f.elements.join(" "), f.title]),
+  );
+}
+
+function findingsCommand(files: readonly string[], values: Options, io: Io): number {
+  const failOn = parseSeverity(values["fail-on"]);
+  const device = loadModel(oneFile(files), io);
+  const list = findings(device);
+  io.out(values.json === true ? json({ findings: list }) : renderFindings(list));
+  return failOn !== null && list.some((f) => severityAtLeast(f.severity, failOn)) ? 1 : 0;
+}
+
+function renderDiff(d: ModelDiff): string {
+  let out = "";
+  if (d.changes.length === 0) out += "no change in any outcome\n";
+  else {
+    out += table(
+      ["interface", "to", "service", "slice", "before → after", "count", "sources"],
+      d.changes.flatMap((c) =>
+        c.transitions.map((t) => [c.interface, c.to, c.service, `${c.start} – ${c.end}`, `${t.before} → ${t.after}`, t.count, summariseCidrs(t.ranges)]),
+      ),
+    );
+  }
+  out += "\nlockout guard: ";
+  out +=
+    d.lockout.length === 0
+      ? "no operator network loses its last login path\n"
+      : `\n${d.lockout.map((l) => `  LOCKOUT ${l.operatorNetwork}: ${l.detail}`).join("\n")}\n`;
+  if (d.findingsAdded.length > 0) out += `\nfindings added\n${renderFindings(d.findingsAdded)}`;
+  if (d.findingsResolved.length > 0) out += `\nfindings resolved\n${renderFindings(d.findingsResolved)}`;
+  return out;
+}
+
+function diffCommand(files: readonly string[], values: Options, io: Io): number {
+  if (files.length !== 2) throw new UsageError(`diff needs BEFORE and AFTER model files, got ${files.length}`);
+  const before = loadModel(files[0], io);
+  const after = loadModel(files[1], io);
+  const d = diffModels(before, after);
+  io.out(values.json === true ? json(d) : renderDiff(d));
+  return values["fail-on-lockout"] === true && d.lockout.length > 0 ? 1 : 0;
+}
+
+/** Entry point when run as a program. */
+export function main(): void {
+  const chunks: string[] = [];
+  const io: Io = {
+    out: (t) => {
+      chunks.push(t);
+      if (chunks.length > 256) flush();
+    },
+    err: (t) => process.stderr.write(t),
+  };
+  const flush = (): void => {
+    if (chunks.length > 0) process.stdout.write(chunks.splice(0).join(""));
+  };
+  const code = run(process.argv.slice(2), io);
+  flush();
+  process.exitCode = code;
+}

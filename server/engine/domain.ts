@@ -1,0 +1,170 @@
+// The compiled source space of one family: every boundary of every set the rules and
+// accounts use cuts the family into "elements" (maximal intervals no set tells apart).
+// Sets become index ranges and bitsets over elements; partitions become runs of elements.
+
+import { FAMILY } from "./addresses.ts";
+import type { Family } from "./addresses.ts";
+import type { Ranges } from "./address-sets.ts";
+
+/** Runs over element indices: run k covers elements starts[k] … starts[k+1]-1 (the last run ends at the last element). */
+export interface Runs {
+  readonly starts: Int32Array;
+  readonly values: Int32Array;
+}
+
+/** A sparse bitset over elements: parallel word indices and 32-bit masks. */
+export interface SparseBits {
+  readonly words: Int32Array;
+  readonly masks: Int32Array;
+}
+
+export class Domain {
+  /** Element i is [bounds[i], bounds[i+1] - 1]; bounds[0] = 0 and the last bound is 2^bits. */
+  readonly bounds: readonly bigint[];
+  /** IPv4 only: the bounds as plain numbers for fast search. */
+  readonly boundsNumber: Float64Array | null;
+  readonly size: number;
+  readonly words: number;
+
+  constructor(
+    readonly family: Family,
+    sets: readonly Ranges[],
+  ) {
+    const cuts = new Set<bigint>([0n, FAMILY[family].size]);
+    for (const r of sets) for (let i = 0; i < r.length; i += 2) cuts.add(r[i]).add(r[i + 1] + 1n);
+    const bounds = [...cuts].sort((a, b) => (a < b ? -1 : a > b ? 1 : 0));
+    this.bounds = bounds;
+    this.size = bounds.length - 1;
+    this.words = (this.size + 31) >>> 5;
+    this.boundsNumber = family === 4 ? Float64Array.from(bounds, (b) => Number(b)) : null;
+  }
+
+  /** Index of the element holding the address. */
+  indexOf(value: bigint): number {
+    return lastAtMost(this.bounds, value, this.size);
+  }
+
+  /** IPv4 fast path of indexOf. */
+  indexOfNumber(value: number): number {
+    return lastAtMost(this.boundsNumber as Float64Array, value, this.size);
+  }
+
+  /** Ranges whose boundaries are all in this domain, as element index pairs [a0, b0, …]. */
+  toIndexRanges(ranges: Ranges): Int32Array {
+    const out = new Int32Array(ranges.length);
+    for (let i = 0; i < ranges.length; i += 2) {
+      out[i] = this.indexOf(ranges[i]);
+      out[i + 1] = this.indexOf(ranges[i + 1]);
+    }
+    return out;
+  }
+
+  toBits(indexRanges: Int32Array): SparseBits {
+    const words: number[] = [];
+    const masks: number[] = [];
+    for (let i = 0; i < indexRanges.length; i += 2) {
+      const a = indexRanges[i];
+      const b = indexRanges[i + 1];
+      for (let w = a >>> 5; w <= b >>> 5; w++) {
+        const lo = w === a >>> 5 ? a & 31 : 0;
+        const hi = w === b >>> 5 ? b & 31 : 31;
+        const mask = hi - lo === 31 ? -1 : ((1 << (hi - lo + 1)) - 1) << lo;
+        const n = words.length;
+        if (n > 0 && words[n - 1] === w) masks[n - 1] |= mask;
+        else {
+          words.push(w);
+          masks.push(mask);
+        }
+      }
+    }
+    return { words: Int32Array.from(words), masks: Int32Array.from(masks) };
+  }
+
+  /** Address ranges of the runs whose value is `value`. */
+  rangesWhere(runs: Runs, value: number): bigint[] {
+    const out: bigint[] = [];
+    const n = runs.starts.length;
+    for (let k = 0; k < n; k++) {
+      if (runs.values[k] !== value) continue;
+      const first = this.bounds[runs.starts[k]];
+      const last = this.bounds[k + 1 < n ? runs.starts[k + 1] : this.size] - 1n;
+      const m = out.length;
+      if (m > 0 && out[m - 1] + 1n === first) out[m - 1] = last;
+      else out.push(first, last);
+    }
+    return out;
+  }
+
+  /** Address counts per value (values 0 … slots-1). */
+  countsByValue(runs: Runs, slots: number): bigint[] {
+    const counts = new Array<bigint>(slots).fill(0n);
+    const n = runs.starts.length;
+    if (this.boundsNumber !== null) {
+      // IPv4 counts stay below 2^53: add as numbers.
+      const b = this.boundsNumber;
+      const sums = new Float64Array(slots);
+      for (let k = 0; k < n; k++) sums[runs.values[k]] += b[k + 1 < n ? runs.starts[k + 1] : this.size] - b[runs.starts[k]];
+      for (let s = 0; s < slots; s++) counts[s] = BigInt(sums[s]);
+      return counts;
+    }
+    for (let k = 0; k < n; k++) {
+      counts[runs.values[k]] += this.bounds[k + 1 < n ? runs.starts[k + 1] : this.size] - this.bounds[runs.starts[k]];
+    }
+    return counts;
+  }
+}
+
+/** Index of the last of the first `count` sorted values that is ≤ value (0 when none is). */
+export function lastAtMost(sorted: ArrayLike<number> | readonly bigint[], value: number | bigint, count: number): number {
+  let lo = 0;
+  let hi = count - 1;
+  while (lo < hi) {
+    const mid = (lo + hi + 1) >> 1;
+    if (sorted[mid] <= value) lo = mid;
+    else hi = mid - 1;
+  }
+  return lo;
+}
+
+/** Value of the run holding element `index`. */
+export function runValueAt(runs: Runs, index: number): number {
+  return runs.values[lastAtMost(runs.starts, index, runs.starts.length)];
+}
+
+/** Compresses one value per element into runs. */
+export function runsFromArray(values: Int32Array, length: number): Runs {
+  let count = 0;
+  for (let i = 0; i < length; i++) if (i === 0 || values[i] !== values[i - 1]) count++;
+  const starts = new Int32Array(count);
+  const vals = new Int32Array(count);
+  for (let i = 0, k = 0; i < length; i++) {
+    if (i === 0 || values[i] !== values[i - 1]) {
+      starts[k] = i;
+      vals[k++] = values[i];
+    }
+  }
+  return { starts, values: vals };
+}
+
+/** Combines two run lists element-wise with f; equal neighbours merge. */
+export function zipRuns(a: Runs, b: Runs, f: (x: number, y: number) => number): Runs {
+  const starts: number[] = [];
+  const vals: number[] = [];
+  let i = 0;
+  let j = 0;
+  const na = a.starts.length;
+  const nb = b.starts.length;
+  while (i < na && j < nb) {
+    const start = Math.max(a.starts[i], b.starts[j]);
+    const v = f(a.values[i], b.values[j]);
+    if (vals.length === 0 || vals[vals.length - 1] !== v) {
+      starts.push(start);
+      vals.push(v);
+    }
+    const nextA = i + 1 < na ? a.starts[i + 1] : Infinity;
+    const nextB = j + 1 < nb ? b.starts[j + 1] : Infinity;
+    if (nextA <= nextB) i++;
+    if (nextB <= nextA) j++;
+  }
+  return { starts: Int32Array.from(starts), values: Int32Array.from(vals) };
+}

@@ -1,0 +1,146 @@
+// Exposure map: for every interface × its addresses × catalogue service × slice, the exact
+// partition of the destination's family by outcome, as counts and minimal CIDR lists.
+
+import type { Family } from "./addresses.ts";
+import { rangesToCidrs } from "./address-sets.ts";
+import type { Ranges } from "./address-sets.ts";
+import type { CompiledModel, OutcomePartition } from "./compile.ts";
+import type { Runs } from "./domain.ts";
+import { OUTCOMES, outcomeRecord } from "./outcomes.ts";
+import type { OutcomeRecord } from "./outcomes.ts";
+import { formatWeekMinute } from "./schedules.ts";
+
+export interface ExposureEntry {
+  readonly interface: string;
+  readonly to: string;
+  readonly service: string;
+  /** Decimal address counts; they sum to 2^32 or 2^128. */
+  readonly counts: OutcomeRecord<string>;
+  /** Minimal CIDR lists, ascending. */
+  readonly ranges: OutcomeRecord<string[]>;
+}
+
+export interface ExposureSlice {
+  /** Local week time, e.g. "mon 08:00" (inclusive). */
+  readonly start: string;
+  /** Exclusive; earlier than start when the slice wraps past the end of Sunday. */
+  readonly end: string;
+  readonly startMinute: number;
+  readonly endMinute: number;
+  readonly activeSchedules: readonly string[];
+  readonly entries: readonly ExposureEntry[];
+}
+
+export interface ExposureAt {
+  readonly at: string;
+  readonly localTime: string;
+  readonly slice: { readonly start: string; readonly end: string };
+  readonly entries: readonly ExposureEntry[];
+}
+
+export interface ExposureMap {
+  readonly slices: readonly ExposureSlice[];
+}
+
+/** One cell of the map before rendering: indices into the compiled model and its partition. */
+export interface ExposureCell {
+  readonly iface: number;
+  readonly to: number;
+  readonly cls: number;
+  readonly partition: OutcomePartition;
+}
+
+/** Partition of sources by outcome for a cell: counts, and address ranges per outcome index (computed on first use). */
+export interface OutcomeSets {
+  readonly family: Family;
+  readonly counts: readonly bigint[];
+  readonly ranges: readonly Ranges[];
+}
+
+/** Cells for one slice: every interface × each of its addresses × every catalogue service. */
+export function exposureCells(engine: CompiledModel, slice: number): ExposureCell[] {
+  const cells: ExposureCell[] = [];
+  const services = engine.catalogue.length;
+  engine.interfaceAddresses.forEach((addresses, iface) => {
+    for (const to of addresses) {
+      for (let cls = 0; cls < services; cls++) cells.push({ iface, to, cls, partition: engine.outcomeOf(iface, to, cls, slice) });
+    }
+  });
+  return cells;
+}
+
+const setsCache = new WeakMap<Runs, OutcomeSets>();
+
+/** Outcome counts and ranges of a partition; shared partitions are computed once, ranges only when read. */
+export function outcomeSets(engine: CompiledModel, partition: OutcomePartition): OutcomeSets {
+  const cached = setsCache.get(partition.outcome);
+  if (cached !== undefined) return cached;
+  const domain = engine.domains[partition.family];
+  let ranges: Ranges[] | null = null;
+  const sets: OutcomeSets = {
+    family: partition.family,
+    counts: domain.countsByValue(partition.outcome, OUTCOMES.length),
+    get ranges(): Ranges[] {
+      ranges ??= OUTCOMES.map((_, i) => domain.rangesWhere(partition.outcome, i));
+      return ranges;
+    },
+  };
+  setsCache.set(partition.outcome, sets);
+  return sets;
+}
+
+const entryCache = new WeakMap<OutcomeSets, { counts: OutcomeRecord<string>; ranges: OutcomeRecord<string[]> }>();
+
+/** An exposure entry; its CIDR lists are rendered when first read (JSON.stringify reads them). */
+export function renderEntry(engine: CompiledModel, cell: ExposureCell): ExposureEntry {
+  const sets = outcomeSets(engine, cell.partition);
+  let rendered = entryCache.get(sets);
+  if (rendered === undefined) {
+    let ranges: OutcomeRecord<string[]> | null = null;
+    rendered = {
+      counts: outcomeRecord((_, i) => sets.counts[i].toString()),
+      get ranges(): OutcomeRecord<string[]> {
+        ranges ??= outcomeRecord((_, i) => rangesToCidrs(sets.ranges[i], sets.family));
+        return ranges;
+      },
+    };
+    entryCache.set(sets, rendered);
+  }
+  const shared = rendered;
+  const target = engine.addresses[cell.to];
+  return {
+    interface: engine.model.interfaces[cell.iface].name,
+    to: target.text,
+    service: engine.catalogue[cell.cls].name,
+    counts: shared.counts,
+    get ranges(): OutcomeRecord<string[]> {
+      return shared.ranges;
+    },
+  };
+}
+
+/** The exposure map at one instant (the slice holding it). */
+export function exposureAt(engine: CompiledModel, atMs: number): ExposureAt {
+  const slice = engine.sliceAt(atMs);
+  const s = engine.week.slices[slice];
+  return {
+    at: new Date(atMs).toISOString(),
+    localTime: engine.clock.localText(atMs),
+    slice: { start: formatWeekMinute(s.start), end: formatWeekMinute(s.end) },
+    entries: exposureCells(engine, slice).map((c) => renderEntry(engine, c)),
+  };
+}
+
+/** The exposure map for every slice of the week. */
+export function exposureMap(engine: CompiledModel): ExposureMap {
+  return {
+    slices: engine.week.slices.map((s, i) => ({
+      start: formatWeekMinute(s.start),
+      end: formatWeekMinute(s.end),
+      startMinute: s.start,
+      endMinute: s.end,
+      activeSchedules: engine.model.schedules.filter((_, k) => s.active[k]).map((sc) => sc.name),
+      entries: exposureCells(engine, i).map((c) => renderEntry(engine, c)),
+    })),
+  };
+}

@@ -1,0 +1,69 @@
+// Public API of the Sallyport exposure engine. Pure: no I/O, no framework, no database.
+//
+//   const parsed = parseModel(json);            // validate a device model document
+//   if (!parsed.ok) …parsed.errors (path + message)…
+//   const device = compileModel(parsed.model);
+//   trace(device, { from: "203.0.113.50", interface: "outside", service: "https" });
+//   reach(device, "203.0.113.50");  exposure(device, at?);  findings(device);
+//   diffModels(before, after);
+
+import { CompiledModel } from "./compile.ts";
+import type { ProbeInput } from "./compile.ts";
+import { exposureAt, exposureMap } from "./exposure.ts";
+import type { ExposureAt, ExposureMap } from "./exposure.ts";
+import type { DeviceModel } from "./model.ts";
+import { reachFrom } from "./reach.ts";
+import type { ReachResult } from "./reach.ts";
+import { traceProbe } from "./trace.ts";
+import type { TraceResult } from "./trace.ts";
+
+export { parseModel } from "./model.ts";
+export type {
+  Account,
+  CatalogueService,
+  DeviceInterface,
+  DeviceModel,
+  DeviceModelInput,
+  InboundRule,
+  ParseResult,
+  Schedule,
+  ValidationIssue,
+} from "./model.ts";
+export { CompiledModel, ProbeError } from "./compile.ts";
+export type { ProbeInput } from "./compile.ts";
+export { OUTCOMES, LAYERS } from "./outcomes.ts";
+export type { Layer, Outcome, OutcomeRecord } from "./outcomes.ts";
+export type { TraceLayer, TraceResult } from "./trace.ts";
+export type { ExposureAt, ExposureEntry, ExposureMap, ExposureSlice } from "./exposure.ts";
+export type { ReachResult } from "./reach.ts";
+export { findingsOf as findings, SEVERITIES, severityAtLeast } from "./findings.ts";
+export type { Finding, FindingCode, Severity } from "./findings.ts";
+export { diffModels } from "./diff.ts";
+export type { ModelDiff, DiffChange, LockoutEntry } from "./diff.ts";
+
+/** Compiles a validated model for fast questions; partitions are computed on demand and cached. */
+export function compileModel(model: DeviceModel): CompiledModel {
+  return new CompiledModel(model);
+}
+
+/** Traces one probe through every layer. Throws ProbeError for input errors. */
+export function trace(device: CompiledModel, probe: ProbeInput): TraceResult {
+  return traceProbe(device, probe);
+}
+
+/** Every interface × catalogue service for one source at one instant (default now). */
+export function reach(device: CompiledModel, source: string, at?: string | number | Date): ReachResult {
+  return reachFrom(device, source, at);
+}
+
+/** The exposure map: at one instant, or (without `at`) for every slice of the week. */
+export function exposure(device: CompiledModel): ExposureMap;
+export function exposure(device: CompiledModel, at: string | number | Date): ExposureAt;
+export function exposure(device: CompiledModel, at?: string | number | Date): ExposureAt | ExposureMap {
+  if (at === undefined) return exposureMap(device);
+  return exposureAt(device, device.instantOf(at, Date.now()));
+}
+
+
+export { BUILTIN_SERVICES } from "./model.ts";
+export { DAYS } from "./schedules.ts";

@@ -1,0 +1,342 @@
+// The device model document (schemaVersion 1): its zod schema, defaults and the
+// semantic checks that zod cannot express (references, name spaces, cycles, addresses).
+
+import { z } from "zod";
+import { AddressSyntaxError, formatAddress, parseEntry, parseInterfaceAddress } from "./addresses.ts";
+import { DAYS, isValidTimeZone } from "./schedules.ts";
+
+export const NAME_PATTERN = /^[A-Za-z0-9._-]{1,63}$/;
+const HHMM = /^([01][0-9]|2[0-3]):[0-5][0-9]$/;
+
+export const BUILTIN_ADDRESS_NAMES = ["any", "any4", "any6"] as const;
+export const ANY_SERVICE = "any";
+export const ALWAYS_SCHEDULE = "always";
+export const ANY_INTERFACE = "any";
+
+export type ServiceKind = "login" | "other" | "echo";
+export type Protocol = "tcp" | "udp" | "icmp";
+
+export interface CatalogueService {
+  readonly name: string;
+  readonly protocol: Protocol;
+  /** Port for tcp/udp; null for ICMP echo. */
+  readonly port: number | null;
+  readonly kind: ServiceKind;
+  readonly builtin: boolean;
+}
+
+/** The built-in catalogue (IANA service-name and port registry; RFC 792 / RFC 4443 echo). */
+export const BUILTIN_SERVICES: readonly CatalogueService[] = [
+  { name: "https", protocol: "tcp", port: 443, kind: "login", builtin: true },
+  { name: "http", protocol: "tcp", port: 80, kind: "login", builtin: true },
+  { name: "ssh", protocol: "tcp", port: 22, kind: "login", builtin: true },
+  { name: "telnet", protocol: "tcp", port: 23, kind: "login", builtin: true },
+  { name: "ping", protocol: "icmp", port: null, kind: "echo", builtin: true },
+  { name: "snmp", protocol: "udp", port: 161, kind: "other", builtin: true },
+];
+
+/** "tcp/443", "udp/161", "icmp/echo": how rules and probes match services. */
+export function serviceKey(protocol: Protocol, port: number | null): string {
+  return protocol === "icmp" ? "icmp/echo" : `${protocol}/${port}`;
+}
+
+function schemaFor(strict: boolean) {
+  const obj = <T extends z.ZodRawShape>(shape: T) => (strict ? z.strictObject(shape) : z.object(shape));
+  const name = z.string().regex(NAME_PATTERN, { message: "must be 1-63 characters of A-Z a-z 0-9 . _ -" });
+  const names = z.array(name);
+  return obj({
+    schemaVersion: z.literal(1, { message: "must be 1" }),
+    device: obj({
+      name,
+      timezone: z
+        .string()
+        .default("UTC")
+        .refine((tz) => isValidTimeZone(tz), { message: "is not a known IANA time zone" }),
+      defaultInbound: z.enum(["allow", "deny"]).default("allow"),
+      unlistenedPort: z.enum(["drop", "reset"]).default("drop"),
+    }),
+    interfaces: z
+      .array(
+        obj({
+          name,
+          role: z.enum(["inside", "outside", "dmz", "mgmt", "other"]).default("other"),
+          addresses: z.array(z.string()).default([]),
+          listeners: names.default([]),
+        }),
+      )
+      .default([]),
+    services: z
+      .array(
+        obj({
+          name,
+          protocol: z.enum(["tcp", "udp"]),
+          port: z.number().int().min(1).max(65535),
+          kind: z.enum(["login", "other"]),
+        }),
+      )
+      .default([]),
+    addresses: z.array(obj({ name, entries: z.array(z.string()) })).default([]),
+    addressGroups: z.array(obj({ name, members: names })).default([]),
+    serviceGroups: z.array(obj({ name, members: names })).default([]),
+    schedules: z
+      .array(
+        obj({
+          name,
+          windows: z.array(
+            obj({
+              days: z.array(z.enum(DAYS)),
+              start: z.string().regex(HHMM, { message: "must be HH:MM (00:00-23:59)" }),
+              end: z.string().regex(HHMM, { message: "must be HH:MM (00:00-23:59)" }),
+            }),
+          ),
+        }),
+      )
+      .default([]),
+    inboundRules: z
+      .array(
+        obj({
+          id: z.string().min(1, { message: "must not be empty" }),
+          interface: name,
+          sources: names,
+          destinations: names,
+          services: names,
+          schedule: name.default(ALWAYS_SCHEDULE),
+          action: z.enum(["allow", "deny"]),
+          enabled: z.boolean().default(true),
+          note: z.string().default(""),
+        }),
+      )
+      .default([]),
+    accounts: z
+      .array(
+        obj({
+          name,
+          loginSources: z.array(z.string()).default([]),
+          secondFactor: z.enum(["none", "totp"]).default("none"),
+          services: names.default([]),
+          accessLevel: z.enum(["full", "read-only"]).default("full"),
+          enabled: z.boolean().default(true),
+        }),
+      )
+      .default([]),
+    operatorNetworks: names.default([]),
+  });
+}
+
+const STRICT_SCHEMA = schemaFor(true);
+const LOOSE_SCHEMA = schemaFor(false);
+
+/** A validated device model document with every default filled in and CIDRs normalised. */
+export type DeviceModel = z.output<typeof LOOSE_SCHEMA>;
+/** The document as written (optional fields may be missing). */
+export type DeviceModelInput = z.input<typeof LOOSE_SCHEMA>;
+export type DeviceInterface = DeviceModel["interfaces"][number];
+export type InboundRule = DeviceModel["inboundRules"][number];
+export type Account = DeviceModel["accounts"][number];
+export type Schedule = DeviceModel["schedules"][number];
+
+export interface ValidationIssue {
+  /** e.g. `inboundRules[3].sources[0]`; empty for the document itself. */
+  readonly path: string;
+  readonly message: string;
+}
+
+export type ParseResult =
+  | { readonly ok: true; readonly model: DeviceModel; readonly warnings: readonly ValidationIssue[] }
+  | { readonly ok: false; readonly errors: readonly ValidationIssue[]; readonly warnings: readonly ValidationIssue[] };
+
+export function formatPath(path: readonly PropertyKey[]): string {
+  let out = "";
+  for (const part of path) {
+    if (typeof part === "number") out += `[${part}]`;
+    else out += out === "" ? String(part) : `.${String(part)}`;
+  }
+  return out;
+}
+
+/** Literal login-source text is told apart from a name by its shape. */
+export function looksLikeAddressEntry(text: string): boolean {
+  return /^[0-9A-Fa-f:.\/\- ]+$/.test(text) && /[.:]/.test(text);
+}
+
+/** Validates a document: shape with zod, then references, name spaces, cycles and addresses. */
+export function parseModel(input: unknown): ParseResult {
+  const warnings: ValidationIssue[] = [];
+  const errors: ValidationIssue[] = [];
+  const strict = STRICT_SCHEMA.safeParse(input);
+  if (!strict.success) {
+    for (const issue of strict.error.issues) {
+      if (issue.code === "unrecognized_keys") {
+        for (const key of issue.keys) {
+          warnings.push({ path: formatPath([...issue.path, key]), message: "unknown field ignored" });
+        }
+      } else {
+        errors.push({ path: formatPath(issue.path), message: issue.message });
+      }
+    }
+    if (errors.length > 0) return { ok: false, errors, warnings };
+  }
+  const loose = LOOSE_SCHEMA.safeParse(input);
+  if (!loose.success) {
+    return { ok: false, errors: loose.error.issues.map((i) => ({ path: formatPath(i.path), message: i.message })), warnings };
+  }
+  const model = loose.data;
+  checkSemantics(model, errors, warnings);
+  return errors.length > 0 ? { ok: false, errors, warnings } : { ok: true, model, warnings };
+}
+
+function checkSemantics(model: DeviceModel, errors: ValidationIssue[], warnings: ValidationIssue[]): void {
+  const fail = (path: string, message: string): void => {
+    errors.push({ path, message });
+  };
+
+  // Name spaces.
+  const addressKinds = new Map<string, "address" | "group">();
+  const serviceKinds = new Map<string, "service" | "group">();
+  const claim = <K>(space: Map<string, K>, reserved: readonly string[], name: string, kind: K, path: string, what: string): void => {
+    if (reserved.includes(name)) fail(path, `"${name}" is a built-in ${what} name`);
+    else if (space.has(name)) fail(path, `duplicate ${what} name "${name}"`);
+    else space.set(name, kind);
+  };
+  const builtinServiceNames = [...BUILTIN_SERVICES.map((s) => s.name), ANY_SERVICE];
+  model.addresses.forEach((a, i) => claim(addressKinds, BUILTIN_ADDRESS_NAMES, a.name, "address", `addresses[${i}].name`, "address"));
+  model.addressGroups.forEach((g, i) => claim(addressKinds, BUILTIN_ADDRESS_NAMES, g.name, "group", `addressGroups[${i}].name`, "address"));
+  model.services.forEach((s, i) => claim(serviceKinds, builtinServiceNames, s.name, "service", `services[${i}].name`, "service"));
+  model.serviceGroups.forEach((g, i) => claim(serviceKinds, builtinServiceNames, g.name, "group", `serviceGroups[${i}].name`, "service"));
+  const scheduleNames = new Map<string, number>();
+  model.schedules.forEach((s, i) => claim(scheduleNames, [ALWAYS_SCHEDULE], s.name, i, `schedules[${i}].name`, "schedule"));
+  const interfaceNames = new Map<string, number>();
+  model.interfaces.forEach((f, i) => claim(interfaceNames, [ANY_INTERFACE], f.name, i, `interfaces[${i}].name`, "interface"));
+  const accountNames = new Map<string, number>();
+  model.accounts.forEach((a, i) => claim(accountNames, [], a.name, i, `accounts[${i}].name`, "account"));
+  const ruleIds = new Set<string>();
+  model.inboundRules.forEach((r, i) => {
+    if (ruleIds.has(r.id)) fail(`inboundRules[${i}].id`, `duplicate rule id "${r.id}"`);
+    ruleIds.add(r.id);
+  });
+
+  // Catalogue: one service per protocol/port.
+  const byKey = new Map<string, string>(BUILTIN_SERVICES.map((s) => [serviceKey(s.protocol, s.port), s.name]));
+  model.services.forEach((s, i) => {
+    const key = serviceKey(s.protocol, s.port);
+    const other = byKey.get(key);
+    if (other !== undefined) fail(`services[${i}]`, `${key} is already the service "${other}"`);
+    else byKey.set(key, s.name);
+  });
+  const catalogue = new Set([...BUILTIN_SERVICES.map((s) => s.name), ...model.services.map((s) => s.name)]);
+
+  // Interfaces: addresses parse, each address on one interface only; listeners are catalogue services.
+  const addressOwner = new Map<string, string>();
+  model.interfaces.forEach((f, i) => {
+    f.addresses.forEach((text, j) => {
+      const path = `interfaces[${i}].addresses[${j}]`;
+      try {
+        const a = parseInterfaceAddress(text);
+        const key = `${a.family}:${a.value}`;
+        const owner = addressOwner.get(key);
+        if (owner !== undefined) fail(path, `address ${formatAddress(a.family, a.value)} is already on interface "${owner}"`);
+        else addressOwner.set(key, f.name);
+      } catch (e) {
+        fail(path, messageOf(e));
+      }
+    });
+    f.listeners.forEach((l, j) => {
+      if (!catalogue.has(l)) fail(`interfaces[${i}].listeners[${j}]`, `unknown service "${l}" (listeners name catalogue services)`);
+    });
+  });
+
+  // Address objects: entries parse; host bits are normalised with a warning.
+  /** The entry's text, normalised (with a warning) when a CIDR has host bits; errors are recorded. */
+  const normalisedEntry = (text: string, path: string): string => {
+    try {
+      const parsed = parseEntry(text);
+      if (parsed.normalised === undefined) return text;
+      warnings.push({ path, message: `host bits set in "${text}"; normalised to ${parsed.normalised}` });
+      return parsed.normalised;
+    } catch (e) {
+      fail(path, messageOf(e));
+      return text;
+    }
+  };
+  model.addresses.forEach((a, i) => {
+    a.entries = a.entries.map((text, j) => normalisedEntry(text, `addresses[${i}].entries[${j}]`));
+  });
+
+  const isAddressName = (n: string): boolean => addressKinds.has(n) || (BUILTIN_ADDRESS_NAMES as readonly string[]).includes(n);
+  const isServiceName = (n: string): boolean => serviceKinds.has(n) || catalogue.has(n) || n === ANY_SERVICE;
+  const checkAddressNames = (list: readonly string[], path: string): void => {
+    list.forEach((n, j) => {
+      if (!isAddressName(n)) fail(`${path}[${j}]`, `unknown address "${n}"`);
+    });
+  };
+
+  model.addressGroups.forEach((g, i) => checkAddressNames(g.members, `addressGroups[${i}].members`));
+  model.serviceGroups.forEach((g, i) =>
+    g.members.forEach((n, j) => {
+      if (!isServiceName(n)) fail(`serviceGroups[${i}].members[${j}]`, `unknown service "${n}"`);
+    }),
+  );
+  reportCycles(model.addressGroups, "addressGroups", fail);
+  reportCycles(model.serviceGroups, "serviceGroups", fail);
+
+  model.inboundRules.forEach((r, i) => {
+    const path = `inboundRules[${i}]`;
+    if (r.interface !== ANY_INTERFACE && !interfaceNames.has(r.interface)) fail(`${path}.interface`, `unknown interface "${r.interface}"`);
+    checkAddressNames(r.sources, `${path}.sources`);
+    checkAddressNames(r.destinations, `${path}.destinations`);
+    r.services.forEach((n, j) => {
+      if (!isServiceName(n)) fail(`${path}.services[${j}]`, `unknown service "${n}"`);
+    });
+    if (r.schedule !== ALWAYS_SCHEDULE && !scheduleNames.has(r.schedule)) fail(`${path}.schedule`, `unknown schedule "${r.schedule}"`);
+  });
+
+  model.accounts.forEach((a, i) => {
+    a.loginSources = a.loginSources.map((text, j) => {
+      const path = `accounts[${i}].loginSources[${j}]`;
+      if (!looksLikeAddressEntry(text)) {
+        if (!isAddressName(text)) fail(path, `unknown address "${text}"`);
+        return text;
+      }
+      return normalisedEntry(text, path);
+    });
+    a.services.forEach((n, j) => {
+      if (!catalogue.has(n)) fail(`accounts[${i}].services[${j}]`, `unknown service "${n}" (accounts name catalogue services)`);
+    });
+  });
+  checkAddressNames(model.operatorNetworks, "operatorNetworks");
+}
+
+/** Reports every cycle among groups once, naming the path around it. */
+function reportCycles(
+  groups: readonly { name: string; members: string[] }[],
+  field: string,
+  fail: (path: string, message: string) => void,
+): void {
+  const index = new Map(groups.map((g, i) => [g.name, i]));
+  const state = new Uint8Array(groups.length); // 0 new, 1 on stack, 2 done
+  const stack: number[] = [];
+  const visit = (i: number): void => {
+    state[i] = 1;
+    stack.push(i);
+    groups[i].members.forEach((member, j) => {
+      const k = index.get(member);
+      if (k === undefined) return;
+      if (state[k] === 1) {
+        const cycle = [...stack.slice(stack.indexOf(k)).map((n) => groups[n].name), member];
+        fail(`${field}[${i}].members[${j}]`, `group cycle ${cycle.map((n) => `"${n}"`).join(" → ")}`);
+      } else if (state[k] === 0) {
+        visit(k);
+      }
+    });
+    stack.pop();
+    state[i] = 2;
+  };
+  groups.forEach((_, i) => {
+    if (state[i] === 0) visit(i);
+  });
+}
+
+function messageOf(e: unknown): string {
+  if (e instanceof AddressSyntaxError) return e.message;
+  return e instanceof Error ? e.message : String(e);
+}

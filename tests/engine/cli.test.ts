@@ -1,0 +1,107 @@
+// The `sallyport` CLI as a pipeline sees it: spawned, exit codes, --json, --probes CSV.
+
+import { spawnSync } from "node:child_process";
+import { mkdtempSync, writeFileSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
+import { describe, expect, test } from "vitest";
+
+const ROOT = join(import.meta.dirname, "../..");
+const BIN = join(ROOT, "server/cli/sallyport.mjs");
+const MODELS = join(ROOT, "tests/fixtures/models");
+
+function sallyport(...args: string[]): { code: number | null; stdout: string; stderr: string } {
+  const r = spawnSync(process.execPath, [BIN, ...args], { cwd: ROOT, encoding: "utf8", timeout: 30_000 });
+  return { code: r.status, stdout: r.stdout, stderr: r.stderr };
+}
+
+const model = (name: string): string => join(MODELS, name);
+
+describe("sallyport CLI", { timeout: 60_000 }, () => {
+  test("trace --json follows the trace contract", () => {
+    const r = sallyport("trace", model("harbourline-edge.json"), "--from", "198.51.100.20", "--on", "outside", "--service", "https", "--at", "2025-03-04T10:00", "--json");
+    expect(r.code).toBe(0);
+    const t = JSON.parse(r.stdout);
+    expect(t).toMatchObject({ outcome: "login-mfa", at: "2025-03-04T09:00:00.000Z", ruleId: "r-noc", eligibleAccounts: ["ops-lena"] });
+    expect(t.layers.map((l: { layer: string }) => l.layer)).toEqual(["arrival", "inbound-rules", "listener", "service-kind", "login-sources", "second-factor"]);
+    expect(t.layers[1]).toMatchObject({ result: "pass", ruleId: "r-noc" });
+  });
+
+  test("a readable table without --json; a probe input error exits 2 with a message on stderr", () => {
+    const ok = sallyport("trace", model("harbourline-edge.json"), "--from", "203.0.113.50", "--on", "outside", "--service", "ssh");
+    expect(ok.code).toBe(0);
+    expect(ok.stdout).toMatch(/outcome\s+silent\s+rule r-drop/);
+    const bad = sallyport("trace", model("harbourline-edge.json"), "--from", "10.0.0", "--on", "outside", "--service", "ssh");
+    expect(bad.code).toBe(2);
+    expect(bad.stdout).toBe("");
+    expect(bad.stderr).toContain('"10.0.0"');
+  });
+
+  test("--probes CSV: one JSON line per row in input order; a bad row prints an error and processing continues", () => {
+    const dir = mkdtempSync(join(tmpdir(), "sallyport-"));
+    const csv = join(dir, "probes.csv");
+    writeFileSync(
+      csv,
+      [
+        "from,interface,service,to,at,account",
+        "198.51.100.20,outside,https,,2025-03-04T10:00,",
+        "198.51.100.20,outside,rdp,,,",
+        "192.0.2.70,outside,https,203.0.113.10,2025-03-04T09:00:00Z,vendor-kit",
+        '"2001:db8:99::5",outside,ssh,,2025-03-04T10:00,',
+      ].join("\n") + "\n",
+    );
+    const r = sallyport("trace", model("harbourline-edge.json"), "--probes", csv);
+    expect(r.code).toBe(0);
+    const lines = r.stdout.trim().split("\n").map((l) => JSON.parse(l));
+    expect(lines.length).toBe(4);
+    expect(lines[0].outcome).toBe("login-mfa");
+    expect(lines[1]).toEqual({ error: expect.stringContaining("rdp") });
+    expect([lines[2].outcome, lines[2].eligibleAccounts]).toEqual(["login-password", ["vendor-kit"]]);
+    expect(lines[3].outcome).toBe("login-mfa");
+  });
+
+  test("exposure --at --json: entries for every interface × address × catalogue service", () => {
+    const r = sallyport("exposure", model("kestrel-dental.json"), "--at", "2025-06-02T12:00:00Z", "--json");
+    expect(r.code).toBe(0);
+    const map = JSON.parse(r.stdout);
+    expect(map.entries.length).toBe(3 * 6);
+    const telnet = map.entries.find((e: { to: string; service: string }) => e.to === "2001:db8:4d::2" && e.service === "telnet");
+    expect(telnet.counts["login-password"]).toBe((2n ** 128n).toString());
+    expect(telnet.ranges["login-password"]).toEqual(["::/0"]);
+  });
+
+  test("findings --fail-on: 1 when a finding is at or above the severity, 0 otherwise", () => {
+    expect(sallyport("findings", model("kestrel-dental.json"), "--fail-on", "critical").code).toBe(1);
+    const hardened = sallyport("findings", model("kestrel-dental-hardened.json"), "--fail-on", "medium", "--json");
+    expect(hardened.code).toBe(0);
+    expect(JSON.parse(hardened.stdout).findings[0]).toMatchObject({ code: "internet-login-exposed", severity: "low" });
+  });
+
+  test("diff --fail-on-lockout exits 1 on a lockout and 0 without", () => {
+    const locked = sallyport("diff", model("kestrel-dental.json"), model("kestrel-dental-lockout.json"), "--fail-on-lockout", "--json");
+    expect(locked.code).toBe(1);
+    expect(JSON.parse(locked.stdout).lockout[0].operatorNetwork).toBe("it-contractor");
+    expect(sallyport("diff", model("kestrel-dental.json"), model("kestrel-dental-hardened.json"), "--fail-on-lockout").code).toBe(0);
+  });
+
+  test("validation errors and usage errors exit 2", () => {
+    const dir = mkdtempSync(join(tmpdir(), "sallyport-"));
+    const broken = join(dir, "broken.json");
+    writeFileSync(
+      broken,
+      JSON.stringify({
+        schemaVersion: 1,
+        device: { name: "x" },
+        interfaces: [{ name: "o", addresses: ["192.0.2.1/24"] }],
+        inboundRules: [{ id: "r1", interface: "o", sources: ["noc"], destinations: ["any"], services: ["any"], action: "deny" }],
+      }),
+    );
+    const v = sallyport("validate", broken);
+    expect(v.code).toBe(2);
+    expect(v.stderr).toContain('inboundRules[0].sources[0]: unknown address "noc"');
+    expect(sallyport("validate", model("harbourline-edge.json")).code).toBe(0);
+    expect(sallyport("frobnicate").code).toBe(2);
+    expect(sallyport("findings", model("kestrel-dental.json"), "--fail-on", "severe").code).toBe(2);
+    expect(sallyport("trace", model("kestrel-dental.json")).code).toBe(2);
+  });
+});
