@@ -1,19 +1,23 @@
 import type { Sequelize } from "sequelize";
 import { AuditEvent } from "./audit-event.ts";
+import { Device } from "./device.ts";
+import { DeviceRevision } from "./device-revision.ts";
 import { Invitation } from "./invitation.ts";
 import { Membership } from "./membership.ts";
 import { Organisation } from "./organisation.ts";
 import { PasswordReset } from "./password-reset.ts";
 import { Session } from "./session.ts";
+import { SharedAddressObject } from "./shared-address-object.ts";
 import { SignInAttempt } from "./sign-in-attempt.ts";
 import { Site } from "./site.ts";
 import { User } from "./user.ts";
 
-export { AuditEvent, Invitation, Membership, Organisation, PasswordReset, Session, SignInAttempt, Site, User };
+export type { RevisionSummaryRecord, SharedObjectsSnapshot } from "./device-revision.ts";
+export { AuditEvent, Device, DeviceRevision, Invitation, Membership, Organisation, PasswordReset, Session, SharedAddressObject, SignInAttempt, Site, User };
 
 /** Registers every model and association on one Sequelize instance. */
 export function initModels(sequelize: Sequelize): void {
-  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, SignInAttempt, PasswordReset, Invitation]) {
+  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, SignInAttempt, PasswordReset, Invitation, Device, DeviceRevision, SharedAddressObject]) {
     model.initModel(sequelize);
   }
   Organisation.hasMany(Membership, { foreignKey: "organisationId", as: "memberships" });
@@ -26,4 +30,10 @@ export function initModels(sequelize: Sequelize): void {
   PasswordReset.belongsTo(User, { foreignKey: "userId" });
   Invitation.belongsTo(Organisation, { foreignKey: "organisationId", as: "organisation" });
   Invitation.belongsTo(User, { foreignKey: "invitedById", as: "invitedBy" });
+  Device.belongsTo(Organisation, { foreignKey: "organisationId" });
+  Device.belongsTo(Site, { foreignKey: "siteId", as: "site" });
+  Site.hasMany(Device, { foreignKey: "siteId", as: "devices" });
+  Device.hasMany(DeviceRevision, { foreignKey: "deviceId", as: "revisions" });
+  DeviceRevision.belongsTo(Device, { foreignKey: "deviceId" });
+  SharedAddressObject.belongsTo(Organisation, { foreignKey: "organisationId" });
 }

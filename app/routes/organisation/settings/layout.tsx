@@ -12,6 +12,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export default function SettingsLayout({ loaderData }: Route.ComponentProps) {
   const tabs = [
     { to: "members", label: "Members" },
+    { to: "shared-objects", label: "Shared objects" },
     { to: "organisation", label: "Organisation" },
     { to: "audit", label: "Audit log" },
   ];

@@ -1,0 +1,30 @@
+import { cx } from "./ui/cx";
+
+export const SEVERITY_ORDER = ["critical", "high", "medium", "low", "info"] as const;
+
+const TONES: Record<string, string> = {
+  critical: "bg-danger text-white dark:text-black",
+  high: "bg-danger-soft text-danger border border-danger/40",
+  medium: "bg-warning-soft text-warning border border-warning/40",
+  low: "bg-info-soft text-info border border-info/30",
+  info: "bg-surface-sunken text-ink-muted border border-line",
+};
+
+/** Findings counts by severity as small labelled counters; zero counts are left out. */
+export function SeverityCounts({ counts }: { counts: Record<string, number> }) {
+  const present = SEVERITY_ORDER.filter((severity) => (counts[severity] ?? 0) > 0);
+  if (present.length === 0) return <span className="text-xs text-ink-faint">none</span>;
+  return (
+    <span className="flex flex-wrap gap-1">
+      {present.map((severity) => (
+        <span key={severity} className={cx("inline-flex items-center rounded px-1.5 py-0.5 text-xs font-medium", TONES[severity])}>
+          {counts[severity]} {severity}
+        </span>
+      ))}
+    </span>
+  );
+}
+
+export function SeverityBadge({ severity }: { severity: string }) {
+  return <span className={cx("inline-flex items-center rounded px-1.5 py-0.5 text-xs font-semibold uppercase tracking-wide", TONES[severity] ?? TONES.info)}>{severity}</span>;
+}

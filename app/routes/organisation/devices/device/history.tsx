@@ -1,0 +1,113 @@
+import { Form, useSearchParams } from "react-router";
+import type { Route } from "./+types/history";
+import { requireDevice, revisionNumberOf } from "../../../../../server/http/device-access.server";
+import { findDevice, listRevisions } from "../../../../../server/services/devices.server";
+import { diffDocuments } from "../../../../../server/workspace/index";
+import { Card } from "~/components/ui/card";
+import { Table, Td, Th } from "~/components/ui/table";
+
+export const meta: Route.MetaFunction = () => [{ title: "History · Sallyport" }];
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const access = await requireDevice(request, params);
+  const revisions = await listRevisions(access.device.id);
+  const url = new URL(request.url);
+  const current = access.revision.number;
+  const to = url.searchParams.has("to") ? revisionNumberOf(url.searchParams.get("to")) : current;
+  const from = url.searchParams.has("from") ? revisionNumberOf(url.searchParams.get("from")) : Math.max(1, to - 1);
+  const [before, after] = await Promise.all([findDevice(access.organisation.id, access.device.id, from), findDevice(access.organisation.id, access.device.id, to)]);
+  return {
+    revisions,
+    from,
+    to,
+    exportBase: `/o/${access.organisation.slug}/devices/${access.device.id}/revisions`,
+    changes: before && after ? diffDocuments(before.effective, after.effective) : null,
+  };
+}
+
+export default function History({ loaderData }: Route.ComponentProps) {
+  const [searchParams] = useSearchParams();
+  const { revisions, from, to, changes, exportBase } = loaderData;
+  return (
+    <div className="grid gap-6 xl:grid-cols-[1fr_1fr]">
+      <section aria-labelledby="revisions-heading">
+        <h2 id="revisions-heading" className="mb-3 font-semibold">
+          Revisions
+        </h2>
+        <Table>
+          <thead>
+            <tr>
+              <Th>Revision</Th>
+              <Th>Change</Th>
+              <Th>By</Th>
+              <Th>When (UTC)</Th>
+              <Th className="text-right">Export</Th>
+            </tr>
+          </thead>
+          <tbody>
+            {revisions.map((revision) => (
+              <tr key={revision.number}>
+                <Td className="tabular font-semibold">r{revision.number}</Td>
+                <Td>{revision.message || <span className="text-ink-faint">no message</span>}</Td>
+                <Td className="text-ink-muted">{revision.authorEmail}</Td>
+                <Td className="tabular whitespace-nowrap text-ink-muted">{revision.createdAt.slice(0, 16).replace("T", " ")}</Td>
+                <Td className="text-right">
+                  <a href={`${exportBase}/${revision.number}/export`} className="text-sm text-harbour underline underline-offset-4" download aria-label={`Export revision ${revision.number}`}>
+                    JSON
+                  </a>
+                </Td>
+              </tr>
+            ))}
+          </tbody>
+        </Table>
+      </section>
+      <section aria-labelledby="compare-heading">
+        <h2 id="compare-heading" className="mb-3 font-semibold">
+          Compare revisions
+        </h2>
+        <Form method="get" className="mb-4 flex flex-wrap items-end gap-3">
+          {(["from", "to"] as const).map((name) => (
+            <label key={name} className="text-sm">
+              <span className="mb-1 block font-medium">{name === "from" ? "From" : "To"}</span>
+              <select name={name} defaultValue={searchParams.get(name) ?? String(name === "from" ? from : to)} className="h-9 rounded-control border border-line-strong bg-surface px-2 text-sm">
+                {revisions.map((revision) => (
+                  <option key={revision.number} value={revision.number}>
+                    r{revision.number}
+                  </option>
+                ))}
+              </select>
+            </label>
+          ))}
+          <button type="submit" className="h-9 rounded-control border border-line-strong bg-surface px-3 text-sm font-medium hover:bg-surface-sunken">
+            Compare
+          </button>
+        </Form>
+        <Card className="p-5">
+          <h3 className="text-sm font-semibold">
+            r{from} → r{to}
+          </h3>
+          {changes === null ? (
+            <p className="mt-2 text-sm text-danger">One of these revisions does not exist.</p>
+          ) : changes.length === 0 ? (
+            <p className="mt-2 text-sm text-ink-muted">No differences in the model.</p>
+          ) : (
+            <ul className="mt-3 space-y-2 text-sm">
+              {changes.map((change, index) => (
+                <li key={index} className="border-l-2 border-line-strong pl-3">
+                  <span className="font-medium">{change.section}</span> · {change.change} <code>{change.element}</code>
+                  {change.details.length > 0 ? (
+                    <ul className="mt-1 font-mono text-xs text-ink-muted">
+                      {change.details.map((detail, detailIndex) => (
+                        <li key={detailIndex}>{detail}</li>
+                      ))}
+                    </ul>
+                  ) : null}
+                </li>
+              ))}
+            </ul>
+          )}
+        </Card>
+      </section>
+    </div>
+  );
+}

@@ -1,0 +1,68 @@
+import { Link, NavLink, Outlet } from "react-router";
+import type { Route } from "./+types/layout";
+import { hasAtLeastRole } from "../../../../../server/auth/roles";
+import { requireDevice } from "../../../../../server/http/device-access.server";
+import { buttonClasses } from "~/components/ui/button";
+import { cx } from "~/components/ui/cx";
+
+export const DEVICE_SECTIONS = [
+  ["interfaces", "Interfaces"],
+  ["addresses", "Addresses"],
+  ["services", "Services"],
+  ["schedules", "Schedules"],
+  ["rules", "Inbound rules"],
+  ["accounts", "Accounts"],
+  ["operator-networks", "Operator networks"],
+  ["settings", "Settings"],
+] as const;
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const access = await requireDevice(request, params);
+  return {
+    slug: access.organisation.slug,
+    device: { id: access.device.id, name: access.device.name, siteName: access.device.site?.name ?? "", revision: access.revision.number },
+    canEdit: hasAtLeastRole(access.role, "engineer"),
+  };
+}
+
+export default function DeviceLayout({ loaderData }: Route.ComponentProps) {
+  const { slug, device } = loaderData;
+  const base = `/o/${slug}/devices/${device.id}`;
+  const tab = ({ isActive }: { isActive: boolean }) =>
+    cx("-mb-px border-b-2 px-2.5 py-2 text-sm font-medium whitespace-nowrap", isActive ? "border-harbour text-harbour" : "border-transparent text-ink-muted hover:text-ink");
+  return (
+    <>
+      <nav aria-label="Breadcrumb" className="mb-2 text-sm text-ink-muted">
+        <Link to={`/o/${slug}/devices`} className="underline-offset-4 hover:underline">
+          Devices
+        </Link>{" "}
+        / {device.siteName}
+      </nav>
+      <div className="mb-4 flex flex-wrap items-end justify-between gap-3">
+        <div>
+          <h1 className="font-mono text-display">{device.name}</h1>
+          <p className="mt-1 text-sm text-ink-muted">
+            Current revision <strong className="tabular text-ink">r{device.revision}</strong>
+          </p>
+        </div>
+        <a href={`${base}/revisions/${device.revision}/export`} className={buttonClasses("secondary", "sm")} download>
+          Export model (JSON)
+        </a>
+      </div>
+      <nav aria-label="Device" className="mb-6 flex gap-1 overflow-x-auto border-b border-line">
+        <NavLink to={base} end className={tab}>
+          Overview
+        </NavLink>
+        {DEVICE_SECTIONS.map(([section, label]) => (
+          <NavLink key={section} to={`${base}/model/${section}`} className={tab}>
+            {label}
+          </NavLink>
+        ))}
+        <NavLink to={`${base}/history`} className={tab}>
+          History
+        </NavLink>
+      </nav>
+      <Outlet />
+    </>
+  );
+}

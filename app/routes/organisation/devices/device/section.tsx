@@ -1,0 +1,79 @@
+import { data, redirect } from "react-router";
+import type { Route } from "./+types/section";
+import { serializeFlash } from "../../../../../server/auth/flash.server";
+import { hasAtLeastRole } from "../../../../../server/auth/roles";
+import { BUILTIN_SERVICES } from "../../../../../server/engine/index";
+import { actorOf } from "../../../../../server/http/actor.server";
+import { requireDevice, revisionNumberOf } from "../../../../../server/http/device-access.server";
+import { formValuesWithLists, planDeviceEdit } from "../../../../../server/http/device-forms.server";
+import { invalidForm, readForm, unknownIntent } from "../../../../../server/http/form.server";
+import { DeviceNameTakenError, InvalidModelError, loadSharedLibrary, RevisionConflictError, saveEdit, WorkspaceNotFoundError } from "../../../../../server/services/devices.server";
+import { listSites } from "../../../../../server/services/sites.server";
+import { EditError } from "../../../../../server/workspace/index";
+import { SectionEditor, type SectionEditorProps, type SectionName } from "~/components/device/section-editor";
+
+const SECTIONS = ["interfaces", "addresses", "services", "schedules", "rules", "accounts", "operator-networks", "settings"] as const;
+
+function sectionOf(value: string | undefined): SectionName {
+  const section = SECTIONS.find((candidate) => candidate === value);
+  if (!section) throw data({ message: `This device has no section "${String(value).slice(0, 40)}".` }, { status: 404 });
+  return section;
+}
+
+export const meta: Route.MetaFunction = ({ params }) => [{ title: `${params.section} · Sallyport` }];
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const section = sectionOf(params.section);
+  const access = await requireDevice(request, params);
+  const library = await loadSharedLibrary(access.organisation.id);
+  const document = access.document;
+  const serviceCatalogue = [...BUILTIN_SERVICES.map((service) => ({ name: service.name, kind: service.kind })), ...document.services.map((service) => ({ name: service.name, kind: service.kind }))];
+  return {
+    section,
+    baseRevision: access.revision.number,
+    canEdit: hasAtLeastRole(access.role, "engineer"),
+    editing: new URL(request.url).searchParams.get("edit"),
+    document,
+    siteId: access.device.siteId,
+    sites: section === "settings" ? (await listSites(access.organisation.id)).map((site) => ({ id: site.id, name: site.name })) : [],
+    names: {
+      interfaces: document.interfaces.map((entry) => entry.name),
+      services: serviceCatalogue,
+      serviceGroups: document.serviceGroups.map((group) => group.name),
+      addresses: [...document.addresses.map((object) => object.name), ...document.addressGroups.map((group) => group.name)],
+      sharedAddresses: [...library.addresses.map((object) => object.name), ...library.addressGroups.map((group) => group.name)],
+      schedules: document.schedules.map((schedule) => schedule.name),
+    },
+  };
+}
+
+export async function action({ request, params, context }: Route.ActionArgs) {
+  const section = sectionOf(params.section);
+  const access = await requireDevice(request, params, "engineer");
+  const values = formValuesWithLists(await readForm(request));
+  const baseRevision = revisionNumberOf(values.baseRevision);
+  const planned = planDeviceEdit(values.intent, values);
+  if (!planned) return unknownIntent(values.intent);
+  if (!planned.ok) return invalidForm(planned.errors, values);
+  try {
+    const saved = await saveEdit(access.organisation.id, access.device.id, baseRevision, planned.plan.edit, actorOf(access, context.clientAddress), planned.plan.message, { siteId: planned.plan.siteId });
+    const message = saved.changes.length === 0 && !planned.plan.siteId ? "Nothing changed; no new revision." : `${planned.plan.message}. Saved as revision r${saved.number}.`;
+    throw redirect(`/o/${access.organisation.slug}/devices/${access.device.id}/model/${section}`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message }) } });
+  } catch (error) {
+    if (error instanceof EditError) return invalidForm({ form: error.message, ...(error.field ? { [error.field]: error.message } : {}) }, values, error.status);
+    if (error instanceof InvalidModelError) {
+      return invalidForm({ form: `Not saved: the model would not be valid. ${error.issues.map((issue) => `${issue.path || "document"}: ${issue.message}`).join(" · ")}` }, values);
+    }
+    if (error instanceof RevisionConflictError) {
+      return data({ ok: false as const, errors: { form: error.message } as Record<string, string>, values, conflict: { currentNumber: error.currentNumber, changes: error.changes } }, { status: 409 });
+    }
+    if (error instanceof DeviceNameTakenError) return invalidForm({ name: error.message }, values, 409);
+    if (error instanceof WorkspaceNotFoundError) return invalidForm({ form: error.message }, values, 404);
+    throw error;
+  }
+}
+
+export default function DeviceSection({ loaderData, actionData }: Route.ComponentProps) {
+  const conflict = actionData && "conflict" in actionData ? (actionData.conflict as SectionEditorProps["conflict"]) : undefined;
+  return <SectionEditor {...loaderData} errors={actionData?.errors ?? {}} values={actionData?.values ?? {}} conflict={conflict} />;
+}

@@ -1,0 +1,156 @@
+import { Form, Link, useSearchParams } from "react-router";
+import type { Route } from "./+types/fleet";
+import { requireMember } from "../../../../server/auth/guard.server";
+import { hasAtLeastRole } from "../../../../server/auth/roles";
+import { listDevices } from "../../../../server/services/devices.server";
+import { listSites } from "../../../../server/services/sites.server";
+import { isOutcome, OUTCOME_ORDER, OutcomeChip } from "~/components/outcome";
+import { SEVERITY_ORDER, SeverityCounts } from "~/components/severity";
+import { ButtonLink } from "~/components/ui/button";
+import { PageHeader } from "~/components/ui/card";
+import { EmptyState } from "~/components/ui/empty-state";
+import { Table, Td, Th } from "~/components/ui/table";
+
+export const meta: Route.MetaFunction = () => [{ title: "Devices · Sallyport" }];
+
+const SORTS = ["name", "site", "findings", "exposure", "updated"] as const;
+type Sort = (typeof SORTS)[number];
+
+function findingsWeight(counts: Record<string, number>): number {
+  // Worst severity first, then how many: critical outweighs any number of lower ones.
+  return SEVERITY_ORDER.reduce((total, severity, index) => total + (counts[severity] ?? 0) * 1000 ** (SEVERITY_ORDER.length - index), 0);
+}
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const access = await requireMember(request, params.organisation);
+  const url = new URL(request.url);
+  const query = (url.searchParams.get("q") ?? "").trim().toLowerCase().slice(0, 100);
+  const siteFilter = url.searchParams.get("site") ?? "";
+  const sort: Sort = SORTS.find((candidate) => candidate === url.searchParams.get("sort")) ?? "name";
+  const descending = url.searchParams.get("dir") === "desc";
+  const [devices, sites] = await Promise.all([listDevices(access.organisation.id), listSites(access.organisation.id)]);
+  const filtered = devices.filter((device) => (!query || device.name.toLowerCase().includes(query) || device.siteName.toLowerCase().includes(query)) && (!siteFilter || device.siteId === siteFilter));
+  const key = (device: (typeof devices)[number]): string | number => {
+    switch (sort) {
+      case "site":
+        return device.siteName.toLowerCase();
+      case "findings":
+        return findingsWeight(device.findingsBySeverity);
+      case "exposure":
+        return isOutcome(device.worstOutsideOutcome) ? OUTCOME_ORDER.indexOf(device.worstOutsideOutcome) : -1;
+      case "updated":
+        return device.updatedAt;
+      default:
+        return device.name.toLowerCase();
+    }
+  };
+  filtered.sort((a, b) => {
+    const [left, right] = [key(a), key(b)];
+    const order = left < right ? -1 : left > right ? 1 : a.name.localeCompare(b.name);
+    return descending ? -order : order;
+  });
+  return { devices: filtered, total: devices.length, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canEdit: hasAtLeastRole(access.role, "engineer"), slug: access.organisation.slug };
+}
+
+function SortHeader({ column, label, sort, descending }: { column: Sort; label: string; sort: Sort; descending: boolean }) {
+  const [searchParams] = useSearchParams();
+  const next = new URLSearchParams(searchParams);
+  next.set("sort", column);
+  next.set("dir", sort === column && !descending ? "desc" : "asc");
+  const active = sort === column;
+  return (
+    <Th aria-sort={active ? (descending ? "descending" : "ascending") : "none"}>
+      <Link to={`?${next.toString()}`} className="inline-flex items-center gap-1 hover:text-ink">
+        {label}
+        <span aria-hidden="true">{active ? (descending ? "▾" : "▴") : ""}</span>
+      </Link>
+    </Th>
+  );
+}
+
+export default function Fleet({ loaderData }: Route.ComponentProps) {
+  const [searchParams] = useSearchParams();
+  const { devices, sites, sort, descending, canEdit, slug } = loaderData;
+  return (
+    <>
+      <PageHeader
+        title="Devices"
+        description="Each device's management plane: who can reach it, and what they would see. Figures are from each device's current revision."
+        actions={
+          canEdit ? (
+            <>
+              <ButtonLink to={`/o/${slug}/devices/import`} variant="secondary">
+                Import model
+              </ButtonLink>
+              <ButtonLink to={`/o/${slug}/devices/new`}>New device</ButtonLink>
+            </>
+          ) : null
+        }
+      />
+      {loaderData.total === 0 ? (
+        <EmptyState title="No devices yet" action={canEdit ? <ButtonLink to={`/o/${slug}/devices/new`}>Add the first device</ButtonLink> : undefined}>
+          Add a device by hand or import a model document.
+        </EmptyState>
+      ) : (
+        <>
+          <Form method="get" role="search" className="mb-4 flex flex-wrap items-end gap-3">
+            <input type="hidden" name="sort" value={sort} />
+            <input type="hidden" name="dir" value={descending ? "desc" : "asc"} />
+            <label className="text-sm">
+              <span className="mb-1 block font-medium">Search</span>
+              <input name="q" defaultValue={searchParams.get("q") ?? ""} placeholder="Device or site" className="h-9 w-64 rounded-control border border-line-strong bg-surface px-3 text-sm" />
+            </label>
+            <label className="text-sm">
+              <span className="mb-1 block font-medium">Site</span>
+              <select name="site" defaultValue={searchParams.get("site") ?? ""} className="h-9 rounded-control border border-line-strong bg-surface px-2 text-sm">
+                <option value="">All sites</option>
+                {sites.map((site) => (
+                  <option key={site.id} value={site.id}>
+                    {site.name}
+                  </option>
+                ))}
+              </select>
+            </label>
+            <button type="submit" className="h-9 rounded-control border border-line-strong bg-surface px-3 text-sm font-medium hover:bg-surface-sunken">
+              Apply
+            </button>
+            <span className="text-sm text-ink-muted" aria-live="polite">
+              {devices.length} of {loaderData.total} devices
+            </span>
+          </Form>
+          <Table>
+            <caption className="sr-only">Devices, sortable by column</caption>
+            <thead>
+              <tr>
+                <SortHeader column="name" label="Device" sort={sort} descending={descending} />
+                <SortHeader column="site" label="Site" sort={sort} descending={descending} />
+                <SortHeader column="findings" label="Findings" sort={sort} descending={descending} />
+                <SortHeader column="exposure" label="Worst on outside" sort={sort} descending={descending} />
+                <SortHeader column="updated" label="Revision" sort={sort} descending={descending} />
+              </tr>
+            </thead>
+            <tbody>
+              {devices.map((device) => (
+                <tr key={device.id}>
+                  <Td className="font-medium">
+                    <Link to={`/o/${slug}/devices/${device.id}`} className="text-harbour underline-offset-4 hover:underline">
+                      {device.name}
+                    </Link>
+                  </Td>
+                  <Td className="text-ink-muted">{device.siteName}</Td>
+                  <Td>
+                    <SeverityCounts counts={device.findingsBySeverity} />
+                  </Td>
+                  <Td>{isOutcome(device.worstOutsideOutcome) ? <OutcomeChip outcome={device.worstOutsideOutcome} /> : <span className="text-xs text-ink-faint">no outside interface</span>}</Td>
+                  <Td className="tabular text-ink-muted">
+                    r{device.revision} · {device.updatedAt.slice(0, 10)}
+                  </Td>
+                </tr>
+              ))}
+            </tbody>
+          </Table>
+        </>
+      )}
+    </>
+  );
+}

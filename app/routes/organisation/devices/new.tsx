@@ -1,0 +1,75 @@
+import { Form, redirect, useNavigation } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/new";
+import { serializeFlash } from "../../../../server/auth/flash.server";
+import { requireMember } from "../../../../server/auth/guard.server";
+import { actorOf } from "../../../../server/http/actor.server";
+import { fieldErrorsOf, formValues, invalidForm, readForm } from "../../../../server/http/form.server";
+import { createDevice, DeviceNameTakenError, InvalidModelError, WorkspaceNotFoundError } from "../../../../server/services/devices.server";
+import { listSites } from "../../../../server/services/sites.server";
+import { newDocument } from "../../../../server/workspace/index";
+import { Button } from "~/components/ui/button";
+import { Card, PageHeader } from "~/components/ui/card";
+import { FormError, SelectField, TextField } from "~/components/ui/field";
+
+export const meta: Route.MetaFunction = () => [{ title: "New device · Sallyport" }];
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const access = await requireMember(request, params.organisation, "engineer");
+  return { sites: (await listSites(access.organisation.id)).map((site) => ({ id: site.id, name: site.name })) };
+}
+
+const NewDeviceSchema = z.object({
+  name: z.string().trim().regex(/^[A-Za-z0-9._-]{1,63}$/, "Use 1–63 characters: letters, digits, dot, underscore, dash."),
+  siteId: z.string().uuid("Choose a site."),
+  timezone: z.string().trim().min(1, "Enter an IANA time zone such as Europe/Amsterdam.").max(64),
+});
+
+export async function action({ request, params, context }: Route.ActionArgs) {
+  const access = await requireMember(request, params.organisation, "engineer");
+  const values = formValues(await readForm(request));
+  const parsed = NewDeviceSchema.safeParse(values);
+  if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
+  try {
+    const device = await createDevice(access.organisation.id, parsed.data.siteId, newDocument(parsed.data.name, parsed.data.timezone), actorOf(access, context.clientAddress), "Created the device");
+    throw redirect(`/o/${access.organisation.slug}/devices/${device.id}/model/interfaces`, {
+      headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: `Device ${device.name} created. Add its interfaces next.` }) },
+    });
+  } catch (error) {
+    if (error instanceof DeviceNameTakenError) return invalidForm({ name: error.message }, values, 409);
+    if (error instanceof WorkspaceNotFoundError) return invalidForm({ siteId: error.message }, values, 404);
+    if (error instanceof InvalidModelError) return invalidForm({ timezone: error.issues.map((issue) => issue.message).join("; ") }, values);
+    throw error;
+  }
+}
+
+export default function NewDevice({ loaderData, actionData }: Route.ComponentProps) {
+  const navigation = useNavigation();
+  const errors: Record<string, string> = actionData?.errors ?? {};
+  const values: Record<string, string> = actionData?.values ?? {};
+  return (
+    <>
+      <PageHeader title="New device" description="Name the appliance and choose its site; you then describe its interfaces, accounts and inbound rules." />
+      <Card className="max-w-xl p-6">
+        <Form method="post" className="space-y-5" noValidate>
+          <FormError message={errors.form} />
+          <TextField label="Device name" name="name" required maxLength={63} defaultValue={values.name} error={errors.name} hint="As the team calls it, e.g. bwc-edge-02. Letters, digits, dot, underscore, dash." />
+          <SelectField label="Site" name="siteId" defaultValue={values.siteId ?? ""} error={errors.siteId}>
+            <option value="" disabled>
+              Choose a site…
+            </option>
+            {loaderData.sites.map((site) => (
+              <option key={site.id} value={site.id}>
+                {site.name}
+              </option>
+            ))}
+          </SelectField>
+          <TextField label="Time zone" name="timezone" defaultValue={values.timezone ?? "UTC"} error={errors.timezone} hint="The device's IANA time zone; schedules are read in it." />
+          <Button type="submit" disabled={navigation.state === "submitting"}>
+            Create device
+          </Button>
+        </Form>
+      </Card>
+    </>
+  );
+}

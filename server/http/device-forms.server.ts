@@ -1,0 +1,202 @@
+// Turns the device editor's form posts into workspace edits. Each builder validates the
+// fields with zod (messages per field) and returns the edit to apply to the current document.
+import { z } from "zod";
+import { DAYS } from "../engine/index.ts";
+import {
+  deleteNamed,
+  deleteRule,
+  duplicateRule,
+  insertRule,
+  moveRule,
+  nextRuleId,
+  setOperatorNetworks,
+  setRuleEnabled,
+  updateRule,
+  updateSettings,
+  upsertNamed,
+  type ModelDocument,
+} from "../workspace/index.ts";
+import { fieldErrorsOf, type FieldErrors } from "./form.server.ts";
+
+export type EditPlan = { edit: (document: ModelDocument) => ModelDocument; message: string; siteId?: string };
+export type PlanResult = { ok: true; plan: EditPlan } | { ok: false; errors: FieldErrors };
+
+/** Form values with repeated keys (checkbox groups) joined by new lines. */
+export function formValuesWithLists(form: FormData): Record<string, string> {
+  const values: Record<string, string> = {};
+  for (const [key, value] of form.entries()) {
+    if (typeof value !== "string") continue;
+    values[key] = key in values ? `${values[key]}\n${value}` : value;
+  }
+  return values;
+}
+
+const NAME = z.string().trim().regex(/^[A-Za-z0-9._-]{1,63}$/, "Use 1–63 characters: letters, digits, dot, underscore, dash.");
+
+/** Names or entries typed one per line or separated by commas or spaces. */
+const LIST = z
+  .string()
+  .max(20_000, "That list is too long.")
+  .default("")
+  .transform((text) => text.split(/[\s,]+/).map((item) => item.trim()).filter(Boolean));
+
+const NAME_LIST = LIST.pipe(z.array(NAME.or(z.literal("any")).or(z.literal("any4")).or(z.literal("any6"))));
+
+const CHECKBOX = z
+  .string()
+  .optional()
+  .transform((value) => value === "on" || value === "true");
+
+const ORIGINAL = z.string().trim().max(63).optional().transform((value) => (value ? value : null));
+
+const InterfaceForm = z.object({
+  original: ORIGINAL,
+  name: NAME,
+  role: z.enum(["inside", "outside", "dmz", "mgmt", "other"], { message: "Choose a role." }),
+  addresses: LIST,
+  listeners: LIST,
+});
+
+const AddressForm = z.object({ original: ORIGINAL, name: NAME, entries: LIST.pipe(z.array(z.string()).min(1, "Enter at least one address, CIDR or range.")) });
+const GroupForm = z.object({ original: ORIGINAL, name: NAME, members: NAME_LIST.pipe(z.array(z.string()).min(1, "Name at least one member.")) });
+const ServiceForm = z.object({
+  original: ORIGINAL,
+  name: NAME,
+  protocol: z.enum(["tcp", "udp"], { message: "Choose tcp or udp." }),
+  port: z.coerce.number({ message: "Enter a port number." }).int("Enter a whole number.").min(1, "Ports run from 1 to 65535.").max(65535, "Ports run from 1 to 65535."),
+  kind: z.enum(["login", "other"], { message: "Choose login or other." }),
+});
+
+const WINDOW_LINE = /^((?:mon|tue|wed|thu|fri|sat|sun)(?:[ ,]+(?:mon|tue|wed|thu|fri|sat|sun))*)\s+([0-2][0-9]:[0-5][0-9])\s*-\s*([0-2][0-9]:[0-5][0-9])$/i;
+
+/** Schedule windows typed one per line: "mon tue wed thu fri 08:00-17:00". */
+const WINDOWS = z
+  .string()
+  .max(5_000)
+  .transform((text, context) => {
+    const windows: Array<{ days: Array<(typeof DAYS)[number]>; start: string; end: string }> = [];
+    for (const [index, raw] of text.split("\n").entries()) {
+      const line = raw.trim();
+      if (!line) continue;
+      const match = WINDOW_LINE.exec(line);
+      if (!match) {
+        context.addIssue({ code: "custom", message: `Line ${index + 1} ("${line.slice(0, 40)}"): write days then times, e.g. "mon tue wed thu fri 08:00-17:00".` });
+        return z.NEVER;
+      }
+      const days = match[1].toLowerCase().split(/[ ,]+/) as Array<(typeof DAYS)[number]>;
+      windows.push({ days, start: match[2], end: match[3] });
+    }
+    if (windows.length === 0) {
+      context.addIssue({ code: "custom", message: "Enter at least one window." });
+      return z.NEVER;
+    }
+    return windows;
+  });
+
+const ScheduleForm = z.object({ original: ORIGINAL, name: NAME, windows: WINDOWS });
+
+const RuleForm = z.object({
+  original: ORIGINAL,
+  id: z.string().trim().max(63).regex(/^[A-Za-z0-9._-]*$/, "Use letters, digits, dot, underscore, dash.").default(""),
+  position: z.string().trim().optional().transform((value) => (value ? Number(value) : undefined)).pipe(z.number().int("Enter a whole number.").min(1, "Positions start at 1.").optional()),
+  interface: NAME.or(z.literal("any")),
+  sources: NAME_LIST.pipe(z.array(z.string()).min(1, "Name at least one source (or any).")),
+  destinations: NAME_LIST.pipe(z.array(z.string()).min(1, "Name at least one destination (or any).")),
+  services: NAME_LIST.pipe(z.array(z.string()).min(1, "Name at least one service (or any).")),
+  schedule: NAME,
+  action: z.enum(["allow", "deny"], { message: "Choose allow or deny." }),
+  enabled: CHECKBOX,
+  note: z.string().max(500, "Use at most 500 characters.").default(""),
+});
+
+const AccountForm = z.object({
+  original: ORIGINAL,
+  name: NAME,
+  loginSources: LIST,
+  secondFactor: z.enum(["none", "totp"], { message: "Choose none or TOTP." }),
+  services: LIST,
+  accessLevel: z.enum(["full", "read-only"], { message: "Choose full or read-only." }),
+  enabled: CHECKBOX,
+});
+
+const SettingsForm = z.object({
+  name: NAME,
+  siteId: z.string().uuid("Choose a site."),
+  timezone: z.string().trim().min(1, "Enter an IANA time zone such as Europe/Amsterdam.").max(64),
+  defaultInbound: z.enum(["allow", "deny"], { message: "Choose allow or deny." }),
+  unlistenedPort: z.enum(["drop", "reset"], { message: "Choose drop or reset." }),
+});
+
+const ElementName = z.object({ name: NAME });
+const RuleId = z.object({ ruleId: z.string().trim().min(1).max(63) });
+const MoveForm = z.object({ ruleId: z.string().trim().min(1).max(63), to: z.coerce.number().int().min(1, "Positions start at 1.") });
+
+function plan<T>(schema: z.ZodType<T>, values: Record<string, string>, build: (parsed: T) => EditPlan): PlanResult {
+  const parsed = schema.safeParse(values);
+  if (!parsed.success) return { ok: false, errors: fieldErrorsOf(parsed.error) };
+  return { ok: true, plan: build(parsed.data) };
+}
+
+const verb = (original: string | null, name: string, label: string) => (original === null ? `Added ${label} ${name}` : original === name ? `Changed ${label} ${name}` : `Renamed ${label} ${original} to ${name}`);
+
+/** The edit a posted intent asks for, or the field errors; null for an intent this page does not know. */
+export function planDeviceEdit(intent: string | undefined, values: Record<string, string>): PlanResult | null {
+  switch (intent) {
+    case "save-interface":
+      return plan(InterfaceForm, values, ({ original, ...item }) => ({ edit: (document) => upsertNamed(document, "interfaces", original, item), message: verb(original, item.name, "interface") }));
+    case "delete-interface":
+      return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "interfaces", name), message: `Deleted interface ${name}` }));
+    case "save-address":
+      return plan(AddressForm, values, ({ original, ...item }) => ({ edit: (document) => upsertNamed(document, "addresses", original, item), message: verb(original, item.name, "address object") }));
+    case "delete-address":
+      return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "addresses", name), message: `Deleted address object ${name}` }));
+    case "save-address-group":
+      return plan(GroupForm, values, ({ original, ...item }) => ({ edit: (document) => upsertNamed(document, "addressGroups", original, item), message: verb(original, item.name, "address group") }));
+    case "delete-address-group":
+      return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "addressGroups", name), message: `Deleted address group ${name}` }));
+    case "save-service":
+      return plan(ServiceForm, values, ({ original, ...item }) => ({ edit: (document) => upsertNamed(document, "services", original, item), message: verb(original, item.name, "service") }));
+    case "delete-service":
+      return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "services", name), message: `Deleted service ${name}` }));
+    case "save-service-group":
+      return plan(GroupForm, values, ({ original, ...item }) => ({ edit: (document) => upsertNamed(document, "serviceGroups", original, item), message: verb(original, item.name, "service group") }));
+    case "delete-service-group":
+      return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "serviceGroups", name), message: `Deleted service group ${name}` }));
+    case "save-schedule":
+      return plan(ScheduleForm, values, ({ original, ...item }) => ({ edit: (document) => upsertNamed(document, "schedules", original, item), message: verb(original, item.name, "schedule") }));
+    case "delete-schedule":
+      return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "schedules", name), message: `Deleted schedule ${name}` }));
+    case "save-account":
+      return plan(AccountForm, values, ({ original, ...item }) => ({ edit: (document) => upsertNamed(document, "accounts", original, item), message: verb(original, item.name, "account") }));
+    case "delete-account":
+      return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "accounts", name), message: `Deleted account ${name}` }));
+    case "save-rule":
+      return plan(RuleForm, values, ({ original, position, ...fields }) => ({
+        edit: (document) => {
+          const rule = { ...fields, id: fields.id || (original ?? nextRuleId(document)) };
+          if (original === null) return insertRule(document, rule, position);
+          const updated = updateRule(document, original, rule);
+          return position === undefined ? updated : moveRule(updated, rule.id, position);
+        },
+        message: original === null ? `Added inbound rule${fields.id ? ` ${fields.id}` : ""}` : `Changed inbound rule ${original}`,
+      }));
+    case "move-rule":
+      return plan(MoveForm, values, ({ ruleId, to }) => ({ edit: (document) => moveRule(document, ruleId, to), message: `Moved inbound rule ${ruleId} to position ${to}` }));
+    case "duplicate-rule":
+      return plan(RuleId, values, ({ ruleId }) => ({ edit: (document) => duplicateRule(document, ruleId), message: `Duplicated inbound rule ${ruleId}` }));
+    case "enable-rule":
+    case "disable-rule":
+      return plan(RuleId, values, ({ ruleId }) => ({
+        edit: (document) => setRuleEnabled(document, ruleId, intent === "enable-rule"),
+        message: `${intent === "enable-rule" ? "Enabled" : "Disabled"} inbound rule ${ruleId}`,
+      }));
+    case "delete-rule":
+      return plan(RuleId, values, ({ ruleId }) => ({ edit: (document) => deleteRule(document, ruleId), message: `Deleted inbound rule ${ruleId}` }));
+    case "save-operator-networks":
+      return plan(z.object({ operatorNetworks: NAME_LIST }), values, ({ operatorNetworks }) => ({ edit: (document) => setOperatorNetworks(document, operatorNetworks), message: "Changed operator networks" }));
+    case "save-settings":
+      return plan(SettingsForm, values, ({ siteId, ...device }) => ({ edit: (document) => updateSettings(document, device), message: "Changed device settings", siteId }));
+    default:
+      return null;
+  }
+}

@@ -1,0 +1,144 @@
+import { Device, DeviceRevision, SharedAddressObject } from "../../models/index.ts";
+import { parseCsv } from "../cli/csv.ts";
+import { parseModel } from "../engine/index.ts";
+import { ensureDatabase } from "../db/database.server.ts";
+import { findUsages, type ModelDocument } from "../workspace/index.ts";
+import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
+
+export type SharedObjectInput = { kind: "address" | "group"; name: string; items: string[]; description: string };
+export type SharedObjectRow = SharedObjectInput & { id: string };
+
+/** A refused change to the shared library, with the status and message. */
+export class SharedObjectError extends Error {
+  constructor(
+    message: string,
+    readonly status: 400 | 404 | 409,
+    readonly field?: string,
+  ) {
+    super(message);
+  }
+}
+
+export async function listSharedObjects(organisationId: string): Promise<SharedObjectRow[]> {
+  ensureDatabase();
+  const objects = await SharedAddressObject.findAll({ where: { organisationId }, order: [["kind", "ASC"], ["name", "ASC"]] });
+  return objects.map((object) => ({ id: object.id, kind: object.kind, name: object.name, items: object.items, description: object.description }));
+}
+
+/**
+ * Checks the whole library as the engine would see it (entries parse, group members exist,
+ * no cycles), so a device can never be broken by a shared object that does not validate.
+ */
+function libraryProblems(objects: SharedObjectInput[]): string[] {
+  const parsed = parseModel({
+    schemaVersion: 1,
+    device: { name: "shared-library" },
+    addresses: objects.filter((object) => object.kind === "address").map((object) => ({ name: object.name, entries: object.items })),
+    addressGroups: objects.filter((object) => object.kind === "group").map((object) => ({ name: object.name, members: object.items })),
+  });
+  if (parsed.ok) return [];
+  return parsed.errors.map((issue) => {
+    const match = /^(addresses|addressGroups)\[(\d+)\]/.exec(issue.path);
+    const list = objects.filter((object) => object.kind === (match?.[1] === "addresses" ? "address" : "group"));
+    const name = match ? list[Number(match[2])]?.name : undefined;
+    return `${name ? `"${name}"` : issue.path}: ${issue.message}`;
+  });
+}
+
+async function devicesUsing(organisationId: string, name: string): Promise<string[]> {
+  const devices = await Device.findAll({ where: { organisationId } });
+  const users: string[] = [];
+  for (const device of devices) {
+    const revision = await DeviceRevision.findOne({ where: { deviceId: device.id, number: device.currentRevisionNumber }, attributes: ["document"] });
+    const document = revision?.document as unknown as ModelDocument | undefined;
+    if (!document) continue;
+    const definesItself = [...document.addresses, ...document.addressGroups].some((object) => object.name === name);
+    if (!definesItself && findUsages(document, "address", name).length > 0) users.push(device.name);
+  }
+  return users;
+}
+
+export async function saveSharedObject(organisationId: string, originalName: string | null, input: SharedObjectInput, actor: AuditActor): Promise<void> {
+  ensureDatabase();
+  const library = await listSharedObjects(organisationId);
+  const existing = originalName ? library.find((object) => object.name === originalName) : undefined;
+  if (originalName && !existing) throw new SharedObjectError(`There is no shared object named "${originalName}".`, 404);
+  if (library.some((object) => object.name === input.name && object.name !== originalName)) throw new SharedObjectError(`The name "${input.name}" is already used in the shared library.`, 409, "name");
+  if (existing && existing.name !== input.name) {
+    const users = await devicesUsing(organisationId, existing.name);
+    if (users.length > 0) throw new SharedObjectError(`"${existing.name}" is used by ${users.join(", ")}; renaming it would break them. Create a new object instead.`, 409, "name");
+  }
+  const next = [...library.filter((object) => object.name !== originalName), input];
+  const problems = libraryProblems(next);
+  if (problems.length > 0) throw new SharedObjectError(problems.join(" · "), 400, "items");
+  if (existing) {
+    await SharedAddressObject.update({ kind: input.kind, name: input.name, items: input.items, description: input.description }, { where: { id: existing.id } });
+  } else {
+    await SharedAddressObject.create({ organisationId, ...input });
+  }
+  await recordAuditEvent(actor, {
+    organisationId,
+    action: existing ? "shared-object.updated" : "shared-object.created",
+    targetType: "shared-object",
+    targetId: input.name,
+    changes: existing ? { items: { from: existing.items, to: input.items }, name: { from: existing.name, to: input.name } } : { kind: input.kind, items: input.items },
+  });
+}
+
+export async function deleteSharedObject(organisationId: string, name: string, actor: AuditActor): Promise<void> {
+  ensureDatabase();
+  const library = await listSharedObjects(organisationId);
+  const object = library.find((candidate) => candidate.name === name);
+  if (!object) throw new SharedObjectError(`There is no shared object named "${name}".`, 404);
+  const groups = library.filter((candidate) => candidate.kind === "group" && candidate.items.includes(name)).map((group) => `shared group ${group.name}`);
+  const devices = (await devicesUsing(organisationId, name)).map((device) => `device ${device}`);
+  const users = [...groups, ...devices];
+  if (users.length > 0) throw new SharedObjectError(`"${name}" is in use: ${users.join(", ")}. Remove those references first.`, 409);
+  await SharedAddressObject.destroy({ where: { organisationId, name } });
+  await recordAuditEvent(actor, { organisationId, action: "shared-object.deleted", targetType: "shared-object", targetId: name, changes: { items: object.items } });
+}
+
+export type CsvRowReport = { row: number; name: string; result: "created" | "updated" | "refused"; message: string };
+
+/**
+ * Imports address objects from CSV rows `name,entries` (entries separated by spaces or
+ * semicolons; a header row is optional). Each row stands alone: a bad row is reported and
+ * the good ones are saved.
+ */
+export async function importSharedObjectsCsv(organisationId: string, text: string, actor: AuditActor): Promise<CsvRowReport[]> {
+  const rows = parseCsv(text);
+  const report: CsvRowReport[] = [];
+  for (const [index, fields] of rows.entries()) {
+    const row = index + 1;
+    const [rawName = "", rawEntries = "", ...extra] = fields.map((field) => field.trim());
+    if (row === 1 && rawName.toLowerCase() === "name") continue;
+    if (fields.every((field) => field.trim() === "")) continue;
+    if (extra.some((field) => field !== "")) {
+      report.push({ row, name: rawName, result: "refused", message: "Too many columns: expected name,entries (quote entries that contain commas)." });
+      continue;
+    }
+    if (!/^[A-Za-z0-9._-]{1,63}$/.test(rawName)) {
+      report.push({ row, name: rawName, result: "refused", message: "The name must be 1–63 characters of letters, digits, dot, underscore, dash." });
+      continue;
+    }
+    const entries = rawEntries.split(/[\s;]+/).filter(Boolean);
+    if (entries.length === 0) {
+      report.push({ row, name: rawName, result: "refused", message: "No entries: give at least one address, CIDR or range." });
+      continue;
+    }
+    const library = await listSharedObjects(organisationId);
+    const existing = library.find((object) => object.name === rawName);
+    if (existing && existing.kind !== "address") {
+      report.push({ row, name: rawName, result: "refused", message: `"${rawName}" is a shared group; CSV import only writes address objects.` });
+      continue;
+    }
+    try {
+      await saveSharedObject(organisationId, existing ? rawName : null, { kind: "address", name: rawName, items: entries, description: existing?.description ?? "" }, actor);
+      report.push({ row, name: rawName, result: existing ? "updated" : "created", message: entries.join(" ") });
+    } catch (error) {
+      if (error instanceof SharedObjectError) report.push({ row, name: rawName, result: "refused", message: error.message });
+      else throw error;
+    }
+  }
+  return report;
+}

@@ -1,0 +1,75 @@
+// A readable difference between two device documents: what a reviewer reads in the revision
+// history and what a conflict message lists. Pure.
+import type { ModelDocument } from "./document.ts";
+
+export type DocumentChange = {
+  section: string;
+  change: "added" | "removed" | "changed" | "moved";
+  element: string;
+  details: string[];
+};
+
+const SECTIONS = [
+  ["interfaces", "Interfaces"],
+  ["addresses", "Address objects"],
+  ["addressGroups", "Address groups"],
+  ["services", "Services"],
+  ["serviceGroups", "Service groups"],
+  ["schedules", "Schedules"],
+  ["accounts", "Accounts"],
+] as const;
+
+function show(value: unknown): string {
+  if (Array.isArray(value)) return value.length === 0 ? "(none)" : value.map((item) => (typeof item === "string" ? item : JSON.stringify(item))).join(", ");
+  if (typeof value === "string") return value === "" ? '""' : value;
+  return JSON.stringify(value);
+}
+
+function fieldChanges(before: Record<string, unknown>, after: Record<string, unknown>, skip: string[] = []): string[] {
+  const keys = [...new Set([...Object.keys(before), ...Object.keys(after)])].filter((key) => !skip.includes(key));
+  return keys.filter((key) => JSON.stringify(before[key]) !== JSON.stringify(after[key])).map((key) => `${key}: ${show(before[key])} → ${show(after[key])}`);
+}
+
+/** Changes from `before` to `after`, section by section, rules by id with their moves. */
+export function diffDocuments(before: ModelDocument, after: ModelDocument): DocumentChange[] {
+  const changes: DocumentChange[] = [];
+  const settings = fieldChanges(before.device, after.device);
+  if (settings.length) changes.push({ section: "Settings", change: "changed", element: "device", details: settings });
+
+  for (const [key, section] of SECTIONS) {
+    const beforeItems = new Map((before[key] as Array<{ name: string }>).map((item) => [item.name, item as unknown as Record<string, unknown>]));
+    const afterItems = new Map((after[key] as Array<{ name: string }>).map((item) => [item.name, item as unknown as Record<string, unknown>]));
+    for (const [name, item] of afterItems) {
+      const old = beforeItems.get(name);
+      if (!old) changes.push({ section, change: "added", element: name, details: fieldChanges({}, item, ["name"]).map((line) => line.replace(/^(\w+): .* → /, "$1: ")) });
+      else {
+        const details = fieldChanges(old, item);
+        if (details.length) changes.push({ section, change: "changed", element: name, details });
+      }
+    }
+    for (const name of beforeItems.keys()) if (!afterItems.has(name)) changes.push({ section, change: "removed", element: name, details: [] });
+  }
+
+  const beforeRules = new Map(before.inboundRules.map((rule, index) => [rule.id, { rule, index }]));
+  const afterRules = new Map(after.inboundRules.map((rule, index) => [rule.id, { rule, index }]));
+  const commonBefore = before.inboundRules.filter((rule) => afterRules.has(rule.id)).map((rule) => rule.id);
+  const commonAfter = after.inboundRules.filter((rule) => beforeRules.has(rule.id)).map((rule) => rule.id);
+  for (const [id, { rule, index }] of afterRules) {
+    const old = beforeRules.get(id);
+    if (!old) {
+      changes.push({ section: "Inbound rules", change: "added", element: id, details: [`at position ${index + 1}`, `${rule.action} ${show(rule.sources)} → ${show(rule.destinations)} on ${rule.interface}, services ${show(rule.services)}`] });
+      continue;
+    }
+    const details = fieldChanges(old.rule as unknown as Record<string, unknown>, rule as unknown as Record<string, unknown>);
+    if (details.length) changes.push({ section: "Inbound rules", change: "changed", element: id, details });
+    if (commonBefore.indexOf(id) !== commonAfter.indexOf(id)) {
+      changes.push({ section: "Inbound rules", change: "moved", element: id, details: [`position ${old.index + 1} → ${index + 1}`] });
+    }
+  }
+  for (const id of beforeRules.keys()) if (!afterRules.has(id)) changes.push({ section: "Inbound rules", change: "removed", element: id, details: [] });
+
+  if (JSON.stringify(before.operatorNetworks) !== JSON.stringify(after.operatorNetworks)) {
+    changes.push({ section: "Operator networks", change: "changed", element: "operator networks", details: [`${show(before.operatorNetworks)} → ${show(after.operatorNetworks)}`] });
+  }
+  return changes;
+}

@@ -1,0 +1,25 @@
+// The device workspace's pure core: documents, edits, references, readable diffs, summaries.
+export { effectiveDocument, EMPTY_LIBRARY, newDocument, sharedObjectsUsedBy, validateDocument } from "./document.ts";
+export type { ModelDocument, SharedLibrary, ValidatedDocument } from "./document.ts";
+export {
+  deleteNamed,
+  deleteRule,
+  duplicateRule,
+  EditError,
+  ELEMENT_LABELS,
+  insertRule,
+  moveRule,
+  nextRuleId,
+  setOperatorNetworks,
+  setRuleEnabled,
+  updateRule,
+  updateSettings,
+  upsertNamed,
+} from "./edits.ts";
+export type { NamedCollection } from "./edits.ts";
+export { findUsages, renameReferences } from "./references.ts";
+export type { ElementKind, Usage } from "./references.ts";
+export { diffDocuments } from "./document-diff.ts";
+export type { DocumentChange } from "./document-diff.ts";
+export { summariseDocument } from "./summary.ts";
+export type { RevisionSummary } from "./summary.ts";

@@ -1,0 +1,39 @@
+// What the fleet table shows for a revision, computed once by the engine when it is saved.
+import { compileModel, exposure, findings, OUTCOMES, SEVERITIES, type Outcome } from "../engine/index.ts";
+import type { ModelDocument } from "./document.ts";
+
+export type RevisionSummary = {
+  findingsBySeverity: Record<string, number>;
+  /** The most exposed outcome any source gets on an outside interface at any time of the week. */
+  worstOutsideOutcome: Outcome | null;
+  counts: Record<string, number>;
+};
+
+export function summariseDocument(effective: ModelDocument): RevisionSummary {
+  const device = compileModel(effective);
+  const findingsBySeverity = Object.fromEntries(SEVERITIES.map((severity) => [severity, 0])) as Record<string, number>;
+  for (const finding of findings(device)) findingsBySeverity[finding.severity] += 1;
+
+  const outside = new Set(effective.interfaces.filter((entry) => entry.role === "outside").map((entry) => entry.name));
+  let worst = -1;
+  if (outside.size > 0) {
+    for (const slice of exposure(device).slices) {
+      for (const entry of slice.entries) {
+        if (!outside.has(entry.interface)) continue;
+        OUTCOMES.forEach((outcome, rank) => {
+          if (rank > worst && entry.counts[outcome] !== "0") worst = rank;
+        });
+      }
+    }
+  }
+  return {
+    findingsBySeverity,
+    worstOutsideOutcome: worst >= 0 ? OUTCOMES[worst] : null,
+    counts: {
+      interfaces: effective.interfaces.length,
+      inboundRules: effective.inboundRules.length,
+      accounts: effective.accounts.length,
+      addressObjects: effective.addresses.length + effective.addressGroups.length,
+    },
+  };
+}
