@@ -1,20 +1,25 @@
 import { UniqueConstraintError } from "sequelize";
-import { Site } from "../../models/index.ts";
+import { Device, Site } from "../../models/index.ts";
 import { ensureDatabase } from "../db/database.server.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 
 export type SiteInput = { name: string; customer: string; location: string };
-export type SiteRow = SiteInput & { id: string; updatedAt: string };
+export type SiteRow = SiteInput & { id: string; updatedAt: string; deviceCount: number };
 
 export class SiteNameTakenError extends Error {}
 
-function toRow(site: Site): SiteRow {
-  return { id: site.id, name: site.name, customer: site.customer, location: site.location, updatedAt: site.updatedAt.toISOString() };
+function toRow(site: Site, deviceCount = 0): SiteRow {
+  return { id: site.id, name: site.name, customer: site.customer, location: site.location, updatedAt: site.updatedAt.toISOString(), deviceCount };
 }
 
 export async function listSites(organisationId: string): Promise<SiteRow[]> {
   ensureDatabase();
-  return (await Site.findAll({ where: { organisationId }, order: [["name", "ASC"]] })).map(toRow);
+  const [sites, counts] = await Promise.all([
+    Site.findAll({ where: { organisationId }, order: [["name", "ASC"]] }),
+    Device.count({ where: { organisationId }, group: ["siteId"] }),
+  ]);
+  const bySite = new Map(counts.map((row) => [String(row.siteId), Number(row.count)]));
+  return sites.map((site) => toRow(site, bySite.get(site.id) ?? 0));
 }
 
 export async function createSite(organisationId: string, input: SiteInput, actor: AuditActor): Promise<SiteRow> {
@@ -49,10 +54,14 @@ export async function updateSite(organisationId: string, siteId: string, input: 
   return toRow(site);
 }
 
+export class SiteInUseError extends Error {}
+
 export async function deleteSite(organisationId: string, siteId: string, actor: AuditActor): Promise<boolean> {
   ensureDatabase();
   const site = await Site.findOne({ where: { id: siteId, organisationId } });
   if (!site) return false;
+  const devices = await Device.findAll({ where: { siteId }, attributes: ["name"] });
+  if (devices.length > 0) throw new SiteInUseError(`The site "${site.name}" still has devices: ${devices.map((device) => device.name).join(", ")}. Move or delete them first.`);
   await site.destroy();
   await recordAuditEvent(actor, { organisationId, action: "site.deleted", targetType: "site", targetId: site.id, changes: { name: site.name } });
   return true;

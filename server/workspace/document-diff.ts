@@ -30,6 +30,32 @@ function fieldChanges(before: Record<string, unknown>, after: Record<string, unk
   return keys.filter((key) => JSON.stringify(before[key]) !== JSON.stringify(after[key])).map((key) => `${key}: ${show(before[key])} → ${show(after[key])}`);
 }
 
+/**
+ * The rules that moved: those outside a longest run that kept its relative order, so moving
+ * one rule to the top reports that rule, not every rule it jumped over.
+ */
+function movedRuleIds(beforeOrder: string[], afterOrder: string[]): Set<string> {
+  const rank = new Map(beforeOrder.map((id, index) => [id, index]));
+  const ranks = afterOrder.map((id) => rank.get(id)!);
+  // Longest increasing subsequence, O(n log n), with back-pointers to recover it.
+  const tails: number[] = [];
+  const previous = new Array<number>(ranks.length).fill(-1);
+  for (let index = 0; index < ranks.length; index++) {
+    let low = 0;
+    let high = tails.length;
+    while (low < high) {
+      const middle = (low + high) >> 1;
+      if (ranks[tails[middle]] < ranks[index]) low = middle + 1;
+      else high = middle;
+    }
+    previous[index] = low > 0 ? tails[low - 1] : -1;
+    tails[low] = index;
+  }
+  const kept = new Set<string>();
+  for (let index = tails.length ? tails[tails.length - 1] : -1; index >= 0; index = previous[index]) kept.add(afterOrder[index]);
+  return new Set(afterOrder.filter((id) => !kept.has(id)));
+}
+
 /** Changes from `before` to `after`, section by section, rules by id with their moves. */
 export function diffDocuments(before: ModelDocument, after: ModelDocument): DocumentChange[] {
   const changes: DocumentChange[] = [];
@@ -54,6 +80,7 @@ export function diffDocuments(before: ModelDocument, after: ModelDocument): Docu
   const afterRules = new Map(after.inboundRules.map((rule, index) => [rule.id, { rule, index }]));
   const commonBefore = before.inboundRules.filter((rule) => afterRules.has(rule.id)).map((rule) => rule.id);
   const commonAfter = after.inboundRules.filter((rule) => beforeRules.has(rule.id)).map((rule) => rule.id);
+  const moved = movedRuleIds(commonBefore, commonAfter);
   for (const [id, { rule, index }] of afterRules) {
     const old = beforeRules.get(id);
     if (!old) {
@@ -62,7 +89,7 @@ export function diffDocuments(before: ModelDocument, after: ModelDocument): Docu
     }
     const details = fieldChanges(old.rule as unknown as Record<string, unknown>, rule as unknown as Record<string, unknown>);
     if (details.length) changes.push({ section: "Inbound rules", change: "changed", element: id, details });
-    if (commonBefore.indexOf(id) !== commonAfter.indexOf(id)) {
+    if (moved.has(id)) {
       changes.push({ section: "Inbound rules", change: "moved", element: id, details: [`position ${old.index + 1} → ${index + 1}`] });
     }
   }

@@ -17,12 +17,22 @@ export function newDocument(name: string, timezone = "UTC"): unknown {
 }
 
 /** Every name a document uses where an address object or group is expected. */
+// Runs before the engine has checked the document's shape, so every list may be missing or
+// not a list at all; anything malformed is left for the engine to report with its path.
 function referencedAddressNames(document: Partial<ModelDocument>): Set<string> {
   const names = new Set<string>();
-  for (const rule of document.inboundRules ?? []) for (const name of [...rule.sources, ...rule.destinations]) names.add(name);
-  for (const group of document.addressGroups ?? []) for (const name of group.members) names.add(name);
-  for (const account of document.accounts ?? []) for (const name of account.loginSources) names.add(name);
-  for (const name of document.operatorNetworks ?? []) names.add(name);
+  const listOf = (value: unknown): unknown[] => (Array.isArray(value) ? value : []);
+  const add = (value: unknown) => {
+    for (const name of listOf(value)) if (typeof name === "string") names.add(name);
+  };
+  const records = (value: unknown) => listOf(value).filter((item): item is Record<string, unknown> => typeof item === "object" && item !== null);
+  for (const rule of records(document.inboundRules)) {
+    add(rule.sources);
+    add(rule.destinations);
+  }
+  for (const group of records(document.addressGroups)) add(group.members);
+  for (const account of records(document.accounts)) add(account.loginSources);
+  add(document.operatorNetworks);
   return names;
 }
 
@@ -31,7 +41,8 @@ function referencedAddressNames(document: Partial<ModelDocument>): Set<string> {
  * itself: what a revision must record and what the engine must see.
  */
 export function sharedObjectsUsedBy(document: Partial<ModelDocument>, library: SharedLibrary): SharedLibrary {
-  const local = new Set([...(document.addresses ?? []).map((object) => object.name), ...(document.addressGroups ?? []).map((group) => group.name)]);
+  const namesOf = (value: unknown) => (Array.isArray(value) ? value : []).map((item: unknown) => (typeof item === "object" && item !== null ? (item as { name?: unknown }).name : undefined));
+  const local = new Set([...namesOf(document.addresses), ...namesOf(document.addressGroups)]);
   const addresses = new Map(library.addresses.map((object) => [object.name, object]));
   const groups = new Map(library.addressGroups.map((group) => [group.name, group]));
   const used: SharedLibrary = { addresses: [], addressGroups: [] };
@@ -77,18 +88,22 @@ export function validateDocument(input: unknown, library: SharedLibrary): Valida
   if (!input || typeof input !== "object") return { ok: false, errors: [{ path: "", message: "the document must be a JSON object" }], warnings: [] };
   const candidate = input as Partial<ModelDocument>;
   const shared = sharedObjectsUsedBy(candidate, library);
+  // A non-list is passed on untouched so the engine reports it at its own path.
   const merged = {
     ...candidate,
-    addresses: [...(Array.isArray(candidate.addresses) ? candidate.addresses : []), ...shared.addresses],
-    addressGroups: [...(Array.isArray(candidate.addressGroups) ? candidate.addressGroups : []), ...shared.addressGroups],
+    addresses: Array.isArray(candidate.addresses) || candidate.addresses === undefined ? [...(candidate.addresses ?? []), ...shared.addresses] : candidate.addresses,
+    addressGroups: Array.isArray(candidate.addressGroups) || candidate.addressGroups === undefined ? [...(candidate.addressGroups ?? []), ...shared.addressGroups] : candidate.addressGroups,
   };
   const parsed = parseModel(merged);
   if (!parsed.ok) return { ok: false, errors: parsed.errors, warnings: parsed.warnings };
   const sharedNames = new Set([...shared.addresses, ...shared.addressGroups].map((object) => object.name));
+  const isShared = (object: { name: string }) => sharedNames.has(object.name);
   const document: ModelDocument = {
     ...parsed.model,
-    addresses: parsed.model.addresses.filter((object) => !sharedNames.has(object.name)),
-    addressGroups: parsed.model.addressGroups.filter((group) => !sharedNames.has(group.name)),
+    addresses: parsed.model.addresses.filter((object) => !isShared(object)),
+    addressGroups: parsed.model.addressGroups.filter((group) => !isShared(group)),
   };
-  return { ok: true, document, shared, effective: parsed.model, warnings: parsed.warnings };
+  // The shared objects as the engine normalised them (canonical CIDRs), like the rest of the revision.
+  const normalisedShared: SharedLibrary = { addresses: parsed.model.addresses.filter(isShared), addressGroups: parsed.model.addressGroups.filter(isShared) };
+  return { ok: true, document, shared: normalisedShared, effective: parsed.model, warnings: parsed.warnings };
 }

@@ -1,11 +1,8 @@
 import { expect, test } from "@playwright/test";
-import { screenshot } from "./screenshot";
+import { screenshot, signIn, toast } from "./helpers";
 
 test("An owner invites a colleague, who joins from the e-mailed link in the local outbox", async ({ page, browser }) => {
-  await page.goto("/login");
-  await page.getByLabel("E-mail").fill("maren.holt@lanternfield.example");
-  await page.getByLabel("Password").fill("demo-password-owner");
-  await page.getByRole("button", { name: "Sign in" }).click();
+  await signIn(page, "maren.holt@lanternfield.example", "demo-password-owner");
   await page.getByRole("navigation", { name: "Main" }).getByRole("link", { name: "Settings" }).click();
   await expect(page).toHaveURL(/\/settings\/members$/);
 
@@ -19,7 +16,7 @@ test("An owner invites a colleague, who joins from the e-mailed link in the loca
 
   await page.getByLabel("E-mail").fill(invitee);
   await page.getByRole("button", { name: "Send invitation" }).click();
-  await expect(page.getByRole("status")).toContainText(`Invitation sent to ${invitee}`);
+  await expect(toast(page)).toContainText(`Invitation sent to ${invitee}`);
   await expect(page.getByRole("cell", { name: invitee })).toBeVisible();
   await screenshot(page, "10-members");
 
@@ -36,7 +33,7 @@ test("An owner invites a colleague, who joins from the e-mailed link in the loca
   await guestPage.getByLabel("Choose a password").fill("copper kettle on the stove");
   await guestPage.getByRole("button", { name: "Create account and join" }).click();
   await expect(guestPage).toHaveURL(/\/o\/lanternfield\/devices$/);
-  await expect(guestPage.getByRole("status")).toContainText("Welcome to Lanternfield Managed Networks");
+  await expect(toast(guestPage)).toContainText("Welcome to Lanternfield Managed Networks");
   await guest.close();
 
   await page.reload();
@@ -49,10 +46,7 @@ test("An owner invites a colleague, who joins from the e-mailed link in the loca
 });
 
 test("The theme can be switched to dark and stays after reload", async ({ page }) => {
-  await page.goto("/login");
-  await page.getByLabel("E-mail").fill("oskar.lindqvist@lanternfield.example");
-  await page.getByLabel("Password").fill("demo-password-reviewer");
-  await page.getByRole("button", { name: "Sign in" }).click();
+  await signIn(page, "oskar.lindqvist@lanternfield.example", "demo-password-reviewer");
   await page.getByLabel("Account menu for Oskar Lindqvist").click();
   await page.getByRole("button", { name: "dark" }).click();
   await expect(page.locator("html")).toHaveAttribute("data-theme", "dark");

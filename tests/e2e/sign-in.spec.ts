@@ -1,5 +1,5 @@
 import { expect, test } from "@playwright/test";
-import { screenshot } from "./screenshot";
+import { screenshot, toast } from "./helpers";
 
 test("A demo engineer signs in, finds the app shell, and signs out", async ({ page }) => {
   await page.goto("/o/lanternfield/sites");
@@ -22,15 +22,15 @@ test("A demo engineer signs in, finds the app shell, and signs out", async ({ pa
   for (const item of ["Devices", "Sites", "Findings", "Training", "Settings"]) await expect(navigation.getByRole("link", { name: item })).toBeVisible();
   await screenshot(page, "02-sites");
 
-  await navigation.getByRole("link", { name: "Devices" }).click();
+  await navigation.getByRole("link", { name: "Training" }).click();
   await expect(page.getByRole("heading", { name: "Coming" })).toBeVisible();
-  await screenshot(page, "03-devices-coming");
+  await screenshot(page, "03-training-coming");
 
   await page.getByLabel("Account menu for Priya Nandakumar").click();
   await screenshot(page, "04-user-menu");
   await page.getByRole("button", { name: "Sign out" }).click();
   await expect(page).toHaveURL(/\/login$/);
-  await expect(page.getByRole("status")).toContainText("Signed out.");
+  await expect(toast(page)).toContainText("Signed out.");
   await page.goto("/o/lanternfield/sites");
   await expect(page).toHaveURL(/\/login\?redirectTo=/);
 });

@@ -20,7 +20,9 @@ export function valuesFor(props: EditorProps, intent: string): { values: Record<
 /** A form of the device editor: carries the revision it was based on, for the conflict check. */
 export function EditorForm({ intent, baseRevision, children, className, label }: { intent: string; baseRevision: number; children: ReactNode; className?: string; label?: string }) {
   return (
-    <Form method="post" className={className} noValidate aria-label={label} preventScrollReset>
+    // Keyed by the revision: after a saved change the form starts empty again; after a
+    // refusal (same revision) it keeps what was typed.
+    <Form key={`${intent}-${baseRevision}`} method="post" className={className} noValidate aria-label={label} preventScrollReset>
       <input type="hidden" name="intent" value={intent} />
       <input type="hidden" name="baseRevision" value={baseRevision} />
       {children}

@@ -36,13 +36,14 @@ export type SectionEditorProps = EditorProps & {
     sharedAddresses: string[];
     schedules: string[];
   };
-  conflict?: { currentNumber: number; changes: DocumentChange[] };
+  conflict?: { currentNumber: number; changes: DocumentChange[]; message: string };
 };
 
 function Conflict({ conflict }: { conflict: NonNullable<SectionEditorProps["conflict"]> }) {
   return (
     <Card className="mb-6 border-warning/50 bg-warning-soft p-5" role="alert">
       <h2 className="font-semibold text-warning">Not saved: someone else changed this device (now revision r{conflict.currentNumber})</h2>
+      <p className="mt-1 text-sm">{conflict.message}</p>
       <p className="mt-1 text-sm">Your input is still in the form. Review what changed, then save again to apply your change on top of revision r{conflict.currentNumber}.</p>
       <ul className="mt-3 list-disc space-y-1 pl-5 text-sm">
         {conflict.changes.map((change, index) => (
@@ -531,8 +532,10 @@ function OperatorNetworksSection(props: SectionEditorProps) {
 
 function SettingsSection(props: SectionEditorProps) {
   const { values, errors } = valuesFor(props, "save-settings");
+  const removal = valuesFor(props, "delete-device");
   const device = props.document.device;
   return (
+    <div className="space-y-6">
     <Card className="max-w-xl p-6">
       {props.canEdit ? (
         <EditorForm intent="save-settings" baseRevision={props.baseRevision} className="space-y-4" label="Device settings">
@@ -566,5 +569,18 @@ function SettingsSection(props: SectionEditorProps) {
         </dl>
       )}
     </Card>
+    {props.canEdit ? (
+      <Card className="max-w-xl border-danger/40 p-6">
+        <h2 className="font-semibold text-danger">Delete this device</h2>
+        <p className="mt-1 text-sm text-ink-muted">Removes the device and every revision of it from Sallyport (the audit log keeps a record). The real device is not touched.</p>
+        <EditorForm intent="delete-device" baseRevision={props.baseRevision} className="mt-4 space-y-3" label="Delete device">
+          <TextField label={`Type ${device.name} to confirm`} name="confirmName" defaultValue={removal.values.confirmName} error={removal.errors.confirmName} autoComplete="off" />
+          <button type="submit" className="inline-flex h-10 items-center rounded-control bg-danger px-4 text-sm font-medium text-white dark:text-black">
+            Delete device
+          </button>
+        </EditorForm>
+      </Card>
+    ) : null}
+    </div>
   );
 }

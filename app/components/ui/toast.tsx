@@ -21,7 +21,7 @@ export function Toast({ toast }: { toast: ToastMessage | null }) {
   return (
     <div aria-live="polite" className="pointer-events-none fixed right-4 bottom-4 z-50 flex flex-col gap-2">
       {visible ? (
-        <div role="status" className={cx("pointer-events-auto flex max-w-sm items-start gap-3 rounded-control border px-4 py-3 text-sm shadow-overlay", tones[visible.kind])}>
+        <div role="status" data-testid="toast" className={cx("pointer-events-auto flex max-w-sm items-start gap-3 rounded-control border px-4 py-3 text-sm shadow-overlay", tones[visible.kind])}>
           <span className="flex-1">{visible.message}</span>
           <button type="button" onClick={() => setVisible(null)} className="font-semibold opacity-70 hover:opacity-100" aria-label="Dismiss message">
             ×

@@ -8,19 +8,26 @@ import { hasAtLeastRole } from "../../../server/auth/roles";
 import { actorOf } from "../../../server/http/actor.server";
 import { fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "../../../server/http/form.server";
 import { IdSchema, SiteSchema } from "../../../server/http/schemas";
-import { createSite, deleteSite, listSites, SiteNameTakenError, updateSite } from "../../../server/services/sites.server";
+import { createSite, deleteSite, listSites, SiteInUseError, SiteNameTakenError, updateSite } from "../../../server/services/sites.server";
 import { Button } from "~/components/ui/button";
 import { Card, PageHeader } from "~/components/ui/card";
 import { Dialog } from "~/components/ui/dialog";
 import { EmptyState } from "~/components/ui/empty-state";
 import { FormError, TextField } from "~/components/ui/field";
+import { SortHeader, sortRows } from "~/components/ui/sort-header";
 import { Table, Td, Th } from "~/components/ui/table";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sites · Sallyport" }];
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const access = await requireMember(request, params.organisation);
-  return { sites: await listSites(access.organisation.id), canEdit: hasAtLeastRole(access.role, "engineer") };
+  const url = new URL(request.url);
+  const query = (url.searchParams.get("q") ?? "").trim().toLowerCase().slice(0, 100);
+  const sort = (["name", "customer", "devices"] as const).find((candidate) => candidate === url.searchParams.get("sort")) ?? "name";
+  const descending = url.searchParams.get("dir") === "desc";
+  const sites = (await listSites(access.organisation.id)).filter((site) => !query || [site.name, site.customer, site.location].some((text) => text.toLowerCase().includes(query)));
+  const key = (site: (typeof sites)[number]) => (sort === "devices" ? site.deviceCount : sort === "customer" ? site.customer.toLowerCase() : site.name.toLowerCase());
+  return { sites: sortRows(sites, key, descending), sort, descending, canEdit: hasAtLeastRole(access.role, "engineer") };
 }
 
 export async function action({ request, params, context }: Route.ActionArgs) {
@@ -54,7 +61,12 @@ export async function action({ request, params, context }: Route.ActionArgs) {
     case "delete": {
       const parsed = z.object({ siteId: IdSchema }).safeParse(values);
       if (!parsed.success) throw data({ message: "That site identifier is not valid." }, { status: 400 });
-      if (!(await deleteSite(organisationId, parsed.data.siteId, actor))) throw data({ message: "No such site in this organisation." }, { status: 404 });
+      try {
+        if (!(await deleteSite(organisationId, parsed.data.siteId, actor))) throw data({ message: "No such site in this organisation." }, { status: 404 });
+      } catch (error) {
+        if (error instanceof SiteInUseError) return invalidForm({ form: error.message }, values, 409);
+        throw error;
+      }
       return done("Site deleted.");
     }
     default:
@@ -110,6 +122,15 @@ export default function Sites({ loaderData, actionData }: Route.ComponentProps) 
           />
         </Card>
       ) : null}
+      <Form method="get" role="search" className="mb-4 flex items-end gap-3">
+        <label className="text-sm">
+          <span className="mb-1 block font-medium">Search sites</span>
+          <input name="q" defaultValue={searchParams.get("q") ?? ""} placeholder="Site, customer or location" className="h-9 w-72 rounded-control border border-line-strong bg-surface px-3 text-sm" />
+        </label>
+        <button type="submit" className="h-9 rounded-control border border-line-strong bg-surface px-3 text-sm font-medium hover:bg-surface-sunken">
+          Search
+        </button>
+      </Form>
       {loaderData.sites.length === 0 ? (
         <EmptyState title="No sites yet">{loaderData.canEdit ? "Add the first customer location above." : "An engineer or administrator can add sites."}</EmptyState>
       ) : (
@@ -117,9 +138,10 @@ export default function Sites({ loaderData, actionData }: Route.ComponentProps) 
           <caption className="sr-only">Sites of this organisation</caption>
           <thead>
             <tr>
-              <Th>Site</Th>
-              <Th>Customer</Th>
+              <SortHeader column="name" label="Site" sort={loaderData.sort} descending={loaderData.descending} />
+              <SortHeader column="customer" label="Customer" sort={loaderData.sort} descending={loaderData.descending} />
               <Th>Location</Th>
+              <SortHeader column="devices" label="Devices" sort={loaderData.sort} descending={loaderData.descending} />
               {loaderData.canEdit ? <Th className="text-right">Actions</Th> : null}
             </tr>
           </thead>
@@ -129,6 +151,7 @@ export default function Sites({ loaderData, actionData }: Route.ComponentProps) 
                 <Td className="font-medium">{site.name}</Td>
                 <Td>{site.customer}</Td>
                 <Td className="text-ink-muted">{site.location}</Td>
+                <Td className="tabular">{site.deviceCount}</Td>
                 {loaderData.canEdit ? (
                   <Td className="text-right whitespace-nowrap">
                     <Link to={`?edit=${site.id}`} className="mr-3 text-sm text-harbour underline underline-offset-4" aria-label={`Edit ${site.name}`}>

@@ -1,4 +1,5 @@
 import { Form, Link, useSearchParams } from "react-router";
+import { SortHeader, sortRows } from "~/components/ui/sort-header";
 import type { Route } from "./+types/fleet";
 import { requireMember } from "../../../../server/auth/guard.server";
 import { hasAtLeastRole } from "../../../../server/auth/roles";
@@ -9,7 +10,7 @@ import { SEVERITY_ORDER, SeverityCounts } from "~/components/severity";
 import { ButtonLink } from "~/components/ui/button";
 import { PageHeader } from "~/components/ui/card";
 import { EmptyState } from "~/components/ui/empty-state";
-import { Table, Td, Th } from "~/components/ui/table";
+import { Table, Td } from "~/components/ui/table";
 
 export const meta: Route.MetaFunction = () => [{ title: "Devices · Sallyport" }];
 
@@ -44,28 +45,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
         return device.name.toLowerCase();
     }
   };
-  filtered.sort((a, b) => {
-    const [left, right] = [key(a), key(b)];
-    const order = left < right ? -1 : left > right ? 1 : a.name.localeCompare(b.name);
-    return descending ? -order : order;
-  });
-  return { devices: filtered, total: devices.length, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canEdit: hasAtLeastRole(access.role, "engineer"), slug: access.organisation.slug };
-}
-
-function SortHeader({ column, label, sort, descending }: { column: Sort; label: string; sort: Sort; descending: boolean }) {
-  const [searchParams] = useSearchParams();
-  const next = new URLSearchParams(searchParams);
-  next.set("sort", column);
-  next.set("dir", sort === column && !descending ? "desc" : "asc");
-  const active = sort === column;
-  return (
-    <Th aria-sort={active ? (descending ? "descending" : "ascending") : "none"}>
-      <Link to={`?${next.toString()}`} className="inline-flex items-center gap-1 hover:text-ink">
-        {label}
-        <span aria-hidden="true">{active ? (descending ? "▾" : "▴") : ""}</span>
-      </Link>
-    </Th>
-  );
+  return { devices: sortRows(filtered, key, descending), total: devices.length, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canEdit: hasAtLeastRole(access.role, "engineer"), slug: access.organisation.slug };
 }
 
 export default function Fleet({ loaderData }: Route.ComponentProps) {

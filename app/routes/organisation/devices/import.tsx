@@ -37,7 +37,7 @@ async function readDocument(form: FormData): Promise<{ text: string; fileName: s
   const upload = form.get("file");
   if (typeof upload === "string" || upload === null) {
     const text = form.get("documentText");
-    if (typeof text === "string" && text.length > 0) return text.length > MAX_MODEL_BYTES ? { error: "The document is larger than 1 MiB." } : { text, fileName: String(form.get("fileName") ?? "document.json") };
+    if (typeof text === "string" && text.length > 0) return text.length > MAX_MODEL_BYTES ? { error: "The document is larger than 1 MiB." } : { text, fileName: String(form.get("fileName") ?? "document.json").slice(0, 200) };
     return { error: "Choose a model document (.json) to upload." };
   }
   if (upload.size === 0) return { error: "The chosen file is empty." };

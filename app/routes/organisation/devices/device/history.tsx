@@ -29,7 +29,7 @@ export default function History({ loaderData }: Route.ComponentProps) {
   const [searchParams] = useSearchParams();
   const { revisions, from, to, changes, exportBase } = loaderData;
   return (
-    <div className="grid gap-6 xl:grid-cols-[1fr_1fr]">
+    <div className="grid gap-6 2xl:grid-cols-[3fr_2fr]">
       <section aria-labelledby="revisions-heading">
         <h2 id="revisions-heading" className="mb-3 font-semibold">
           Revisions

@@ -7,7 +7,7 @@ import { actorOf } from "../../../../../server/http/actor.server";
 import { requireDevice, revisionNumberOf } from "../../../../../server/http/device-access.server";
 import { formValuesWithLists, planDeviceEdit } from "../../../../../server/http/device-forms.server";
 import { invalidForm, readForm, unknownIntent } from "../../../../../server/http/form.server";
-import { DeviceNameTakenError, InvalidModelError, loadSharedLibrary, RevisionConflictError, saveEdit, WorkspaceNotFoundError } from "../../../../../server/services/devices.server";
+import { deleteDevice, DeviceNameTakenError, InvalidModelError, loadSharedLibrary, RevisionConflictError, saveEdit, WorkspaceNotFoundError } from "../../../../../server/services/devices.server";
 import { listSites } from "../../../../../server/services/sites.server";
 import { EditError } from "../../../../../server/workspace/index";
 import { SectionEditor, type SectionEditorProps, type SectionName } from "~/components/device/section-editor";
@@ -51,6 +51,14 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   const section = sectionOf(params.section);
   const access = await requireDevice(request, params, "engineer");
   const values = formValuesWithLists(await readForm(request));
+  if (section === "settings" && values.intent === "delete-device") {
+    if (Number(values.baseRevision) !== access.revision.number) {
+      return invalidForm({ form: `Not deleted: the device changed since you opened it (now revision r${access.revision.number}). Review it, then delete again.` }, values, 409);
+    }
+    if (values.confirmName !== access.device.name) return invalidForm({ confirmName: `Type the device name (${access.device.name}) to confirm.` }, values);
+    await deleteDevice(access.organisation.id, access.device.id, actorOf(access, context.clientAddress));
+    throw redirect(`/o/${access.organisation.slug}/devices`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: `Device ${access.device.name} and its revisions were deleted.` }) } });
+  }
   const baseRevision = revisionNumberOf(values.baseRevision);
   const planned = planDeviceEdit(values.intent, values);
   if (!planned) return unknownIntent(values.intent);
@@ -65,7 +73,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
       return invalidForm({ form: `Not saved: the model would not be valid. ${error.issues.map((issue) => `${issue.path || "document"}: ${issue.message}`).join(" · ")}` }, values);
     }
     if (error instanceof RevisionConflictError) {
-      return data({ ok: false as const, errors: { form: error.message } as Record<string, string>, values, conflict: { currentNumber: error.currentNumber, changes: error.changes } }, { status: 409 });
+      return data({ ok: false as const, errors: { form: error.message } as Record<string, string>, values, conflict: { currentNumber: error.currentNumber, changes: error.changes, message: error.message } }, { status: 409 });
     }
     if (error instanceof DeviceNameTakenError) return invalidForm({ name: error.message }, values, 409);
     if (error instanceof WorkspaceNotFoundError) return invalidForm({ form: error.message }, values, 404);

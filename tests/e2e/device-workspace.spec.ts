@@ -1,0 +1,121 @@
+import { readFileSync } from "node:fs";
+import { expect, test } from "@playwright/test";
+import { screenshot, signIn, toast } from "./helpers";
+
+test("An engineer models a new device, reorders its rules, and round-trips it through export and import", async ({ page }) => {
+  const deviceName = `e2e-edge-${Date.now().toString(36)}`;
+  await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+  await expect(page.getByRole("heading", { name: "Devices" })).toBeVisible();
+  await screenshot(page, "20-fleet");
+
+  // Create the device.
+  await page.getByRole("link", { name: "New device" }).click();
+  await page.getByLabel("Device name").fill("bad name with spaces");
+  await page.getByLabel("Site").selectOption({ label: "Copperleaf Foods — plant 2" });
+  await page.getByRole("button", { name: "Create device" }).click();
+  await expect(page.getByText("Use 1–63 characters")).toBeVisible();
+  await expect(page.getByLabel("Site")).toHaveValue(/[0-9a-f-]{36}/);
+  await page.getByLabel("Device name").fill(deviceName);
+  await page.getByLabel("Time zone").fill("Europe/Amsterdam");
+  await page.getByRole("button", { name: "Create device" }).click();
+  await expect(page.getByRole("heading", { name: deviceName })).toBeVisible();
+  await expect(toast(page)).toContainText(`Device ${deviceName} created`);
+
+  // An outside interface with https and ssh listening.
+  const interfaceForm = page.getByRole("form", { name: "Interface" });
+  await interfaceForm.getByLabel("Name").fill("outside");
+  await interfaceForm.getByLabel("Role").selectOption("outside");
+  await interfaceForm.getByLabel("Addresses").fill("203.0.113.10/24\n2001:db8:e2e::10/64");
+  await interfaceForm.getByLabel("https").check();
+  await interfaceForm.getByLabel("ssh").check();
+  await interfaceForm.getByRole("button", { name: "Add interface" }).click();
+  await expect(toast(page)).toContainText("Added interface outside. Saved as revision r2.");
+  await expect(page.getByRole("cell", { name: "https, ssh" })).toBeVisible();
+  await screenshot(page, "21-interfaces");
+
+  // The team's network, then two inbound rules: a catch-all deny first, an allow second.
+  await page.getByRole("navigation", { name: "Device" }).getByRole("link", { name: "Addresses" }).click();
+  const addressForm = page.getByRole("form", { name: "Address object" });
+  await addressForm.getByLabel("Name").fill("team-net");
+  await addressForm.getByLabel("Entries").fill("198.51.100.0/28");
+  await addressForm.getByRole("button", { name: "Add address object" }).click();
+  await expect(toast(page)).toContainText("Saved as revision r3");
+
+  await page.getByRole("navigation", { name: "Device" }).getByRole("link", { name: "Inbound rules" }).click();
+  const ruleForm = page.getByRole("form", { name: "Inbound rule" });
+  await ruleForm.getByLabel("Rule id").fill("drop-rest");
+  await ruleForm.getByLabel("Action").selectOption("deny");
+  await ruleForm.getByRole("button", { name: "Add rule" }).click();
+  // Services were left empty: refused beside the field, with what was typed kept.
+  await expect(ruleForm.getByText("Name at least one service (or any).")).toBeVisible();
+  await expect(ruleForm.getByLabel("Rule id")).toHaveValue("drop-rest");
+  await ruleForm.getByLabel("Services").fill("any");
+  await ruleForm.getByRole("button", { name: "Add rule" }).click();
+  await expect(toast(page)).toContainText("Saved as revision r4");
+  await ruleForm.getByLabel("Rule id").fill("team-admin");
+  await ruleForm.getByLabel("Action").selectOption("allow");
+  await ruleForm.getByLabel("Interface").selectOption("outside");
+  await ruleForm.getByLabel("Sources").fill("team-net");
+  await ruleForm.getByLabel("Services").fill("https\nssh");
+  await ruleForm.getByRole("button", { name: "Add rule" }).click();
+  await expect(toast(page)).toContainText("Saved as revision r5");
+  const rules = page.getByRole("list", { name: "Inbound rules in order" });
+  await expect(rules.getByRole("listitem").nth(0)).toHaveAccessibleName("Rule drop-rest at position 1");
+  // The allow must come before the catch-all deny: move it up.
+  await page.getByRole("button", { name: "Move rule team-admin up" }).click();
+  await expect(toast(page)).toContainText("Moved inbound rule team-admin to position 1");
+  await expect(rules.getByRole("listitem").nth(0)).toHaveAccessibleName("Rule team-admin at position 1");
+  await expect(rules.getByRole("listitem").nth(1)).toHaveAccessibleName("Rule drop-rest at position 2");
+  await screenshot(page, "22-rules");
+
+  // An account restricted to the team network.
+  await page.getByRole("navigation", { name: "Device" }).getByRole("link", { name: "Accounts" }).click();
+  const accountForm = page.getByRole("form", { name: "Account" });
+  await accountForm.getByLabel("Name").fill("ops-lena");
+  await accountForm.getByLabel("Login sources").fill("team-net");
+  await accountForm.getByLabel("Second factor").selectOption("totp");
+  await accountForm.getByRole("button", { name: "Add account" }).click();
+  await expect(toast(page)).toContainText("Saved as revision r7");
+  await screenshot(page, "23-accounts");
+
+  // Everything is still there after a reload.
+  await page.reload();
+  await expect(page.getByRole("cell", { name: "ops-lena", exact: true })).toBeVisible();
+  await expect(page.getByRole("cell", { name: "team-net", exact: true })).toBeVisible();
+  await page.getByRole("navigation", { name: "Device" }).getByRole("link", { name: "Inbound rules" }).click();
+  await expect(rules.getByRole("listitem").nth(0)).toHaveAccessibleName("Rule team-admin at position 1");
+
+  // Export the current revision …
+  const downloadPromise = page.waitForEvent("download");
+  await page.getByRole("link", { name: "Export model (JSON)" }).click();
+  const download = await downloadPromise;
+  const exportedPath = await download.path();
+  const exported = JSON.parse(readFileSync(exportedPath, "utf8")) as { device: { name: string }; inboundRules: Array<{ id: string }> };
+  expect(exported.device.name).toBe(deviceName);
+  expect(exported.inboundRules.map((rule) => rule.id)).toEqual(["team-admin", "drop-rest"]);
+
+  // … and import it back as a new revision of the same device: nothing changes.
+  await page.goto("/o/lanternfield/devices/import");
+  await page.getByLabel("Model document").setInputFiles(exportedPath);
+  await page.getByLabel("Import as").selectOption({ label: `${deviceName} (now r7)` });
+  await page.getByRole("button", { name: "Check the document" }).click();
+  await expect(page.getByRole("heading", { name: `Preview: ${deviceName}` })).toBeVisible();
+  await screenshot(page, "24-import-preview");
+  await page.getByRole("button", { name: `Import ${deviceName}` }).click();
+  await expect(toast(page)).toContainText("The import matched the current revision; nothing changed.");
+  await expect(page.getByRole("cell", { name: "r7", exact: true })).toBeVisible();
+  await screenshot(page, "25-history");
+});
+
+test("A bad upload is refused with its problems and creates nothing", async ({ page }) => {
+  await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+  await page.goto("/o/lanternfield/devices/import");
+  await page.getByLabel("Model document").setInputFiles({ name: "broken.json", mimeType: "application/json", buffer: Buffer.from(JSON.stringify({ schemaVersion: 1, device: { name: "broken" }, inboundRules: [{ id: "r1", interface: "any", sources: ["noc"], destinations: ["any"], services: ["ssh"], action: "allow" }] })) });
+  await page.getByLabel("Import as").selectOption({ label: "New device at Brightwater Clinic — main campus" });
+  await page.getByRole("button", { name: "Check the document" }).click();
+  await expect(page.getByRole("alert").first()).toContainText("not a valid Sallyport model");
+  await expect(page.getByText('inboundRules[0].sources[0]')).toBeVisible();
+  await screenshot(page, "26-import-refused");
+  await page.goto("/o/lanternfield/devices?q=broken");
+  await expect(page.getByText("0 of")).toBeVisible();
+});

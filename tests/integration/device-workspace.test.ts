@@ -1,0 +1,694 @@
+// The device workspace over HTTP, as a browser uses it: create a device, edit each kind of
+// element through the section forms, reorder rules, concurrent edits, refusals, import and
+// export, CSV import of shared objects, and who may do what. Each test that changes data
+// uses its own organisation, so tests do not interfere.
+// Semantics: PRODUCT.md §3–§4, docs/decisions/003-device-models-as-revisioned-documents.md.
+
+import fc from "fast-check";
+import { beforeAll, describe, expect, test } from "vitest";
+import type { Role } from "../../server/auth/roles";
+import { generateModel, type ModelSize } from "../../server/engine/testing/generate-model";
+import { EMPTY_LIBRARY, validateDocument, type ModelDocument } from "../../server/workspace/index";
+import { DEMO_PASSWORDS, signUpNewOrganisation, TestClient, type FetchResult } from "../support/client";
+
+const UUID = "[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}";
+
+/** Text of an HTML page without React's text separators, entities decoded. */
+function plain(html: string): string {
+  return html
+    .replace(/<!-- -->/g, "")
+    .replace(/&quot;/g, '"')
+    .replace(/&#x27;/g, "'")
+    .replace(/&lt;/g, "<")
+    .replace(/&gt;/g, ">")
+    .replace(/&amp;/g, "&");
+}
+
+function normalised(input: unknown): ModelDocument {
+  const validated = validateDocument(input, EMPTY_LIBRARY);
+  if (!validated.ok) throw new Error(`expected document invalid: ${JSON.stringify(validated.errors)}`);
+  return validated.document;
+}
+
+type Fields = Record<string, string | string[]>;
+
+/** A form body; an array value repeats the field, as a group of checkboxes does. */
+function formBody(fields: Fields): URLSearchParams {
+  const body = new URLSearchParams();
+  for (const [key, value] of Object.entries(fields)) for (const item of Array.isArray(value) ? value : [value]) body.append(key, item);
+  return body;
+}
+
+function postMultipart(client: TestClient, path: string, fields: Record<string, string | Blob>): Promise<FetchResult> {
+  const form = new FormData();
+  for (const [key, value] of Object.entries(fields)) {
+    if (typeof value === "string") form.append(key, value);
+    else form.append(key, value, "model.json");
+  }
+  return client.request(path, { method: "POST", body: form });
+}
+
+/** A signed-up owner with their own organisation and one site. */
+async function newOrganisationWithSite(label: string): Promise<{ client: TestClient; slug: string; siteId: string }> {
+  const { client, slug } = await signUpNewOrganisation(label);
+  const created = await client.post(`/o/${slug}/sites`, { intent: "create", name: "Harbour office", customer: "", location: "" });
+  expect(created.status).toBe(302);
+  const siteId = (await client.get(`/o/${slug}/sites`)).text.match(new RegExp(`edit=(${UUID})`))?.[1];
+  if (!siteId) throw new Error("no site id on the sites page");
+  return { client, slug, siteId };
+}
+
+/** The ids of the devices listed on the fleet page. */
+async function fleetDeviceIds(client: TestClient, slug: string): Promise<string[]> {
+  const page = await client.get(`/o/${slug}/devices`);
+  expect(page.status).toBe(200);
+  return [...new Set([...page.text.matchAll(new RegExp(`href="/o/${slug}/devices/(${UUID})"`, "g"))].map((match) => match[1]))];
+}
+
+/** One device's editor, as a user with a browser sees it. */
+class Workspace {
+  /** The revision this user last saw after their own save; forgotten after any other post. */
+  private known: number | undefined;
+
+  constructor(
+    readonly client: TestClient,
+    readonly slug: string,
+    readonly id: string,
+  ) {}
+
+  get path(): string {
+    return `/o/${this.slug}/devices/${this.id}`;
+  }
+
+  /** The revision the editor page shows: its hidden baseRevision field, or (read-only) the current revision's export link. */
+  async revision(section = "interfaces"): Promise<number> {
+    const page = await this.client.get(`${this.path}/model/${section}`);
+    expect(page.status).toBe(200);
+    const match = page.text.match(/name="baseRevision" value="(\d+)"/) ?? page.text.match(new RegExp(`href="${this.path}/revisions/(\\d+)/export"`));
+    if (!match) throw new Error(`no revision on the ${section} page`);
+    return Number(match[1]);
+  }
+
+  /** Posts an intent to a section, based on `base` (default: the revision the page shows now). */
+  async edit(section: string, fields: Fields, base?: number): Promise<FetchResult> {
+    const baseRevision = base ?? (await this.revision(section));
+    this.known = undefined;
+    return this.client.request(`${this.path}/model/${section}`, { method: "POST", body: formBody({ ...fields, baseRevision: String(baseRevision) }) });
+  }
+
+  /** An edit that must be saved as the next revision; returns the new revision number. */
+  async save(section: string, fields: Fields): Promise<number> {
+    const before = this.known ?? (await this.revision(section));
+    const response = await this.edit(section, fields, before);
+    expect(response.status, `${fields.intent}: ${plain(response.text).match(/Not saved[^<]*/)?.[0] ?? ""}`).toBe(302);
+    expect(response.location).toBe(`${this.path}/model/${section}`);
+    expect(await this.revision(section)).toBe(before + 1);
+    this.known = before + 1;
+    return before + 1;
+  }
+
+  async exported(revision: number): Promise<ModelDocument> {
+    const response = await this.client.get(`${this.path}/revisions/${revision}/export`);
+    expect(response.status).toBe(200);
+    expect(response.headers.get("content-type")).toContain("application/json");
+    return JSON.parse(response.text) as ModelDocument;
+  }
+}
+
+async function createDevice(client: TestClient, slug: string, siteId: string, name: string, timezone = "UTC"): Promise<Workspace> {
+  const response = await client.post(`/o/${slug}/devices/new`, { name, siteId, timezone });
+  expect(response.status).toBe(302);
+  const id = response.location?.match(new RegExp(`^/o/${slug}/devices/(${UUID})/model/interfaces$`))?.[1];
+  if (!id) throw new Error(`unexpected redirect ${response.location}`);
+  return new Workspace(client, slug, id);
+}
+
+/** Imports a model document as a new device at the site, through preview then import; returns the device. */
+async function importDocument(client: TestClient, slug: string, siteId: string, document: unknown): Promise<Workspace> {
+  const file = new Blob([JSON.stringify(document)], { type: "application/json" });
+  const preview = await postMultipart(client, `/o/${slug}/devices/import`, { intent: "preview", target: `site:${siteId}`, file });
+  expect(preview.status, plain(preview.text).match(/not a valid[^<]*|This is not JSON[^<]*/)?.[0]).toBe(200);
+  const documentText = preview.text.match(/name="documentText" value="([^"]*)"/)?.[1];
+  if (documentText === undefined) throw new Error("the preview has no documentText");
+  const imported = await postMultipart(client, `/o/${slug}/devices/import`, { intent: "import", target: `site:${siteId}`, fileName: "model.json", documentText: plain(documentText) });
+  expect(imported.status).toBe(302);
+  const id = imported.location?.match(new RegExp(`^/o/${slug}/devices/(${UUID})$`))?.[1];
+  if (!id) throw new Error(`unexpected redirect ${imported.location}`);
+  return new Workspace(client, slug, id);
+}
+
+/** Invented scenario: a harbour office's edge appliance. Internet side RFC 5737 / RFC 3849, inside RFC 1918 / RFC 4193. */
+const QUAY_EDGE = {
+  schemaVersion: 1,
+  device: { name: "quay-edge", timezone: "UTC" },
+  interfaces: [
+    { name: "outside", role: "outside", addresses: ["203.0.113.2/24"], listeners: ["https", "ping"] },
+    { name: "inside", role: "inside", addresses: ["10.20.0.1/24"], listeners: ["https", "ssh"] },
+  ],
+  addresses: [
+    { name: "noc-net", entries: ["10.20.30.0/24"] },
+    { name: "partner-hq", entries: ["198.51.100.0/26"] },
+  ],
+  inboundRules: [
+    { id: "r1", interface: "outside", sources: ["partner-hq"], destinations: ["any"], services: ["https"], action: "allow" },
+    { id: "r2", interface: "inside", sources: ["noc-net"], destinations: ["any"], services: ["ssh"], action: "allow" },
+    { id: "r3", interface: "outside", sources: ["any"], destinations: ["any"], services: ["ping"], action: "deny" },
+    { id: "r4", interface: "any", sources: ["any"], destinations: ["any"], services: ["any"], action: "deny", note: "final drop" },
+  ],
+  accounts: [{ name: "ops-lena", loginSources: ["noc-net"], secondFactor: "totp" }],
+  operatorNetworks: ["noc-net"],
+};
+
+describe("Building a device model through the editor", () => {
+  test("An engineer creates a device, which opens on its interfaces with an empty first revision", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-create");
+    const device = await createDevice(client, slug, siteId, "pier-gw-01", "Europe/Berlin");
+    expect(await device.revision()).toBe(1);
+    // PRODUCT.md §3 defaults: defaultInbound allow, unlistenedPort drop; top-level arrays [].
+    expect(await device.exported(1)).toEqual(normalised({ schemaVersion: 1, device: { name: "pier-gw-01", timezone: "Europe/Berlin", defaultInbound: "allow", unlistenedPort: "drop" } }));
+    expect(await fleetDeviceIds(client, slug)).toEqual([device.id]);
+
+    // Refusals create nothing: a taken name, a bad time zone, a site of no one.
+    const taken = await client.post(`/o/${slug}/devices/new`, { name: "pier-gw-01", siteId, timezone: "UTC" });
+    expect(taken.status).toBe(409);
+    expect(plain(taken.text)).toContain('A device named "pier-gw-01" exists already');
+    const badZone = await client.post(`/o/${slug}/devices/new`, { name: "pier-gw-02", siteId, timezone: "Mars/Olympus" });
+    expect(badZone.status).toBe(400);
+    expect(plain(badZone.text)).toContain("is not a known IANA time zone");
+    expect((await client.post(`/o/${slug}/devices/new`, { name: "pier-gw-03", siteId: "00000000-0000-4000-8000-000000000000", timezone: "UTC" })).status).toBe(404);
+    expect((await client.post(`/o/${slug}/devices/new`, { name: "bad name!", siteId, timezone: "UTC" })).status).toBe(400);
+    expect(await fleetDeviceIds(client, slug)).toEqual([device.id]);
+  });
+
+  test("Every kind of element is added, renamed and deleted through the section forms, each save a new revision", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-elements");
+    const device = await createDevice(client, slug, siteId, "pier-gw-01");
+
+    await device.save("interfaces", { intent: "save-interface", original: "", name: "outside", role: "outside", addresses: "203.0.113.2/24\n2001:db8:20::2/64", listeners: ["https", "ping"] });
+    await device.save("interfaces", { intent: "save-interface", name: "inside", role: "inside", addresses: "10.20.0.1/24", listeners: "https\nssh" });
+    await device.save("addresses", { intent: "save-address", original: "", name: "noc-net", entries: "10.20.30.0/24" });
+    await device.save("addresses", { intent: "save-address", name: "vpn-pool", entries: "10.20.40.0/25\nfd20:0:0:40::/64" });
+    await device.save("addresses", { intent: "save-address-group", name: "operators", members: "noc-net\nvpn-pool" });
+    await device.save("services", { intent: "save-service", name: "webconsole", protocol: "tcp", port: "8443", kind: "login" });
+    await device.save("services", { intent: "save-service-group", name: "admin-web", members: "https webconsole" });
+    await device.save("schedules", { intent: "save-schedule", name: "support-hours", windows: "mon tue wed thu fri 08:00-17:00" });
+    const rule = { original: "", interface: "outside", destinations: "any", schedule: "always", enabled: "on" };
+    await device.save("rules", { ...rule, intent: "save-rule", sources: "operators", services: "admin-web", action: "allow", note: "" });
+    await device.save("rules", { ...rule, intent: "save-rule", interface: "any", sources: "any", services: "any", schedule: "support-hours", action: "deny", note: "final drop" });
+    await device.save("accounts", { intent: "save-account", name: "ops-lena", loginSources: "operators", secondFactor: "totp", services: "https\nwebconsole", accessLevel: "full", enabled: "on" });
+    await device.save("operator-networks", { intent: "save-operator-networks", operatorNetworks: "operators" });
+    const built = await device.save("settings", { intent: "save-settings", name: "pier-gw-01", siteId, timezone: "Europe/Berlin", defaultInbound: "deny", unlistenedPort: "reset" });
+    expect(built).toBe(14);
+
+    const expected = normalised({
+      schemaVersion: 1,
+      device: { name: "pier-gw-01", timezone: "Europe/Berlin", defaultInbound: "deny", unlistenedPort: "reset" },
+      interfaces: [
+        { name: "outside", role: "outside", addresses: ["203.0.113.2/24", "2001:db8:20::2/64"], listeners: ["https", "ping"] },
+        { name: "inside", role: "inside", addresses: ["10.20.0.1/24"], listeners: ["https", "ssh"] },
+      ],
+      services: [{ name: "webconsole", protocol: "tcp", port: 8443, kind: "login" }],
+      addresses: [
+        { name: "noc-net", entries: ["10.20.30.0/24"] },
+        { name: "vpn-pool", entries: ["10.20.40.0/25", "fd20:0:0:40::/64"] },
+      ],
+      addressGroups: [{ name: "operators", members: ["noc-net", "vpn-pool"] }],
+      serviceGroups: [{ name: "admin-web", members: ["https", "webconsole"] }],
+      schedules: [{ name: "support-hours", windows: [{ days: ["mon", "tue", "wed", "thu", "fri"], start: "08:00", end: "17:00" }] }],
+      inboundRules: [
+        { id: "r1", interface: "outside", sources: ["operators"], destinations: ["any"], services: ["admin-web"], schedule: "always", action: "allow", enabled: true, note: "" },
+        { id: "r2", interface: "any", sources: ["any"], destinations: ["any"], services: ["any"], schedule: "support-hours", action: "deny", enabled: true, note: "final drop" },
+      ],
+      accounts: [{ name: "ops-lena", loginSources: ["operators"], secondFactor: "totp", services: ["https", "webconsole"], accessLevel: "full", enabled: true }],
+      operatorNetworks: ["operators"],
+    });
+    expect(await device.exported(built)).toEqual(expected);
+
+    // Renames follow every reference.
+    await device.save("addresses", { intent: "save-address", original: "noc-net", name: "noc-core", entries: "10.20.30.0/24" });
+    await device.save("interfaces", { intent: "save-interface", original: "outside", name: "uplink", role: "outside", addresses: "203.0.113.2/24\n2001:db8:20::2/64", listeners: ["https", "ping"] });
+    await device.save("services", { intent: "save-service", original: "webconsole", name: "console-alt", protocol: "tcp", port: "9443", kind: "login" });
+    await device.save("schedules", { intent: "save-schedule", original: "support-hours", name: "office-hours", windows: "mon tue wed thu fri 07:30-18:00\nsat 09:00-12:00" });
+    const renamed = await device.exported(built + 4);
+    expect(renamed.addressGroups).toEqual([{ name: "operators", members: ["noc-core", "vpn-pool"] }]);
+    expect(renamed.inboundRules.map((entry) => [entry.interface, entry.schedule])).toEqual([
+      ["uplink", "always"],
+      ["any", "office-hours"],
+    ]);
+    expect(renamed.serviceGroups).toEqual([{ name: "admin-web", members: ["https", "console-alt"] }]);
+    expect(renamed.accounts[0].services).toEqual(["https", "console-alt"]);
+    expect(renamed.services).toEqual([{ name: "console-alt", protocol: "tcp", port: 9443, kind: "login" }]);
+    expect(renamed.schedules[0].windows).toEqual([
+      { days: ["mon", "tue", "wed", "thu", "fri"], start: "07:30", end: "18:00" },
+      { days: ["sat"], start: "09:00", end: "12:00" },
+    ]);
+
+    // Deletes, each once nothing uses the element any more.
+    await device.save("rules", { intent: "delete-rule", ruleId: "r1" });
+    await device.save("services", { intent: "delete-service-group", name: "admin-web" });
+    await device.save("accounts", { intent: "delete-account", name: "ops-lena" });
+    await device.save("services", { intent: "delete-service", name: "console-alt" });
+    await device.save("rules", { ...rule, intent: "save-rule", original: "r2", interface: "any", sources: "any", services: "any", schedule: "always", action: "deny", note: "final drop" });
+    await device.save("schedules", { intent: "delete-schedule", name: "office-hours" });
+    await device.save("operator-networks", { intent: "save-operator-networks", operatorNetworks: "" });
+    await device.save("addresses", { intent: "delete-address-group", name: "operators" });
+    await device.save("addresses", { intent: "delete-address", name: "noc-core" });
+    await device.save("addresses", { intent: "delete-address", name: "vpn-pool" });
+    const last = await device.save("interfaces", { intent: "delete-interface", name: "uplink" });
+    expect(last).toBe(built + 4 + 11);
+    expect(await device.exported(last)).toEqual(
+      normalised({
+        schemaVersion: 1,
+        device: { name: "pier-gw-01", timezone: "Europe/Berlin", defaultInbound: "deny", unlistenedPort: "reset" },
+        interfaces: [{ name: "inside", role: "inside", addresses: ["10.20.0.1/24"], listeners: ["https", "ssh"] }],
+        inboundRules: [{ id: "r2", interface: "any", sources: ["any"], destinations: ["any"], services: ["any"], action: "deny", note: "final drop" }],
+      }),
+    );
+    // Revisions are immutable: the fully built revision still exports as it was.
+    expect(await device.exported(built)).toEqual(expected);
+  });
+
+  test("The history lists every revision with its message, and compares two of them", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-history");
+    const device = await importDocument(client, slug, siteId, QUAY_EDGE);
+    await device.save("addresses", { intent: "save-address", original: "partner-hq", name: "partner-hq", entries: "198.51.100.64/26" });
+    const history = await client.get(`${device.path}/history?from=1&to=2`);
+    expect(history.status).toBe(200);
+    const text = plain(history.text);
+    expect(text).toContain("Changed address object partner-hq");
+    expect(text).toContain("Imported model.json");
+    expect(text).toContain("entries: 198.51.100.0/26 → 198.51.100.64/26");
+    expect((await client.get(`${device.path}/history?from=1&to=9`)).text).toContain("One of these revisions does not exist.");
+    expect((await client.get(`${device.path}/revisions/3/export`)).status).toBe(404);
+    expect((await client.get(`${device.path}/revisions/abc/export`)).status).toBe(400);
+  });
+});
+
+describe("Inbound rule order", () => {
+  test("Moving, duplicating, inserting and disabling rules saves the new order; old revisions keep theirs", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-order");
+    const device = await importDocument(client, slug, siteId, QUAY_EDGE);
+    const order = async (revision: number) => (await device.exported(revision)).inboundRules.map((entry) => entry.id);
+    expect(await order(1)).toEqual(["r1", "r2", "r3", "r4"]);
+
+    // Common practice, no source: rules are read top to bottom, first match wins — order is meaning.
+    expect(await device.save("rules", { intent: "move-rule", ruleId: "r4", to: "1" })).toBe(2);
+    expect(await order(2)).toEqual(["r4", "r1", "r2", "r3"]);
+    expect(await device.save("rules", { intent: "move-rule", ruleId: "r4", to: "4" })).toBe(3);
+    expect(await order(3)).toEqual(["r1", "r2", "r3", "r4"]);
+    expect(await device.exported(3)).toEqual(await device.exported(1));
+
+    expect(await device.save("rules", { intent: "duplicate-rule", ruleId: "r2" })).toBe(4);
+    const duplicated = await device.exported(4);
+    expect(duplicated.inboundRules.map((entry) => entry.id)).toEqual(["r1", "r2", "r5", "r3", "r4"]);
+    expect({ ...duplicated.inboundRules[2], id: "r2" }).toEqual(duplicated.inboundRules[1]);
+
+    await device.save("rules", { intent: "save-rule", original: "", id: "vendor-window", position: "2", interface: "outside", sources: "partner-hq", destinations: "any", services: "ssh", schedule: "always", action: "allow", enabled: "on", note: "temporary" });
+    expect(await order(5)).toEqual(["r1", "vendor-window", "r2", "r5", "r3", "r4"]);
+    await device.save("rules", { intent: "save-rule", original: "r3", interface: "outside", sources: "any", destinations: "any", services: "ping", position: "1", schedule: "always", action: "deny", enabled: "on", note: "no ping" });
+    expect(await order(6)).toEqual(["r3", "r1", "vendor-window", "r2", "r5", "r4"]);
+
+    await device.save("rules", { intent: "disable-rule", ruleId: "r5" });
+    expect((await device.exported(7)).inboundRules.find((entry) => entry.id === "r5")?.enabled).toBe(false);
+    await device.save("rules", { intent: "enable-rule", ruleId: "r5" });
+    expect((await device.exported(8)).inboundRules.find((entry) => entry.id === "r5")?.enabled).toBe(true);
+    expect(await order(8)).toEqual(["r3", "r1", "vendor-window", "r2", "r5", "r4"]);
+
+    // Every earlier revision still exports with its own order.
+    expect(await order(1)).toEqual(["r1", "r2", "r3", "r4"]);
+    expect(await order(2)).toEqual(["r4", "r1", "r2", "r3"]);
+    expect(await order(5)).toEqual(["r1", "vendor-window", "r2", "r5", "r3", "r4"]);
+
+    // An edit that changes nothing makes no revision.
+    const same = await device.edit("rules", { intent: "move-rule", ruleId: "r3", to: "1" });
+    expect(same.status).toBe(302);
+    expect(await device.revision()).toBe(8);
+  });
+});
+
+describe("Concurrent edits and refused edits", () => {
+  test("Two edits from the same revision: the second is refused (409) with what changed meanwhile, and nothing is overwritten", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-conflict");
+    const device = await importDocument(client, slug, siteId, QUAY_EDGE);
+    const opened = await device.revision("addresses");
+    expect(opened).toBe(1);
+
+    const first = await device.edit("addresses", { intent: "save-address", name: "jump-hosts", entries: "10.20.50.0/28" }, opened);
+    expect(first.status).toBe(302);
+    const second = await device.edit("addresses", { intent: "save-address", original: "partner-hq", name: "partner-hq", entries: "192.0.2.0/28" }, opened);
+    expect(second.status).toBe(409);
+    const text = plain(second.text);
+    expect(text).toContain("changed since you opened it");
+    expect(text).toContain("now revision r2");
+    // The conflict lists what the other edit did (section, change, element).
+    expect(text).toMatch(/Address objects(<[^>]+>|\s|:)*added(<[^>]+>|\s)*jump-hosts/);
+    // The user's input is kept in the form.
+    expect(text).toContain("192.0.2.0/28");
+
+    const current = await device.exported(2);
+    expect(current.addresses).toEqual([
+      { name: "noc-net", entries: ["10.20.30.0/24"] },
+      { name: "partner-hq", entries: ["198.51.100.0/26"] },
+      { name: "jump-hosts", entries: ["10.20.50.0/28"] },
+    ]);
+    expect((await client.get(`${device.path}/revisions/3/export`)).status).toBe(404);
+
+    // A stale delete and a stale move are refused the same way.
+    expect((await device.edit("rules", { intent: "delete-rule", ruleId: "r1" }, opened)).status).toBe(409);
+    expect((await device.edit("rules", { intent: "move-rule", ruleId: "r4", to: "1" }, opened)).status).toBe(409);
+    expect(await device.revision()).toBe(2);
+    // Two saves sent at the same moment from the same revision: exactly one is saved.
+    const racing = await Promise.all([
+      device.edit("addresses", { intent: "save-address", name: "race-a", entries: "10.20.60.0/28" }, 2),
+      device.edit("addresses", { intent: "save-address", name: "race-b", entries: "10.20.61.0/28" }, 2),
+    ]);
+    expect(racing.map((response) => response.status).sort()).toEqual([302, 409]);
+    const afterRace = (await device.exported(3)).addresses.map((object) => object.name);
+    expect(afterRace.filter((name) => name.startsWith("race-"))).toHaveLength(1);
+    expect((await client.get(`${device.path}/revisions/4/export`)).status).toBe(404);
+    // Applied again on top of the current revision, the change goes through.
+    expect((await device.edit("addresses", { intent: "save-address", original: "partner-hq", name: "partner-hq", entries: "192.0.2.0/28" }, 3)).status).toBe(302);
+    expect((await device.exported(4)).addresses).toContainEqual({ name: "partner-hq", entries: ["192.0.2.0/28"] });
+  });
+
+  test("Deleting an element in use is refused (409) naming where; an unknown name is refused (400) with its path; nothing is saved", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-refuse");
+    const device = await importDocument(client, slug, siteId, QUAY_EDGE);
+
+    const inUse = await device.edit("addresses", { intent: "delete-address", name: "noc-net" });
+    expect(inUse.status).toBe(409);
+    const inUseText = plain(inUse.text);
+    expect(inUseText).toContain('The address object "noc-net" is in use');
+    expect(inUseText).toContain("inbound rule r2 (position 2), sources");
+    expect(inUseText).toContain("account ops-lena, login sources");
+    expect(inUseText).toContain("operator networks");
+    expect((await device.edit("interfaces", { intent: "delete-interface", name: "outside" })).status).toBe(409);
+
+    // PRODUCT.md §3: an unknown name is a validation error naming the path.
+    const unknown = await device.edit("rules", { intent: "save-rule", position: "1", interface: "outside", sources: "noc", destinations: "any", services: "ssh", schedule: "always", action: "allow", enabled: "on", note: "" });
+    expect(unknown.status).toBe(400);
+    expect(plain(unknown.text)).toContain('inboundRules[0].sources[0]: unknown address "noc"');
+
+    const unknownSchedule = await device.edit("rules", { intent: "save-rule", interface: "outside", sources: "noc-net", destinations: "any", services: "ssh", schedule: "night-shift", action: "allow", enabled: "on", note: "" });
+    expect(unknownSchedule.status).toBe(400);
+    expect(plain(unknownSchedule.text)).toContain('inboundRules[4].schedule: unknown schedule "night-shift"');
+
+    const badField = await device.edit("services", { intent: "save-service", name: "webconsole", protocol: "tcp", port: "70000", kind: "login" });
+    expect(badField.status).toBe(400);
+    expect(plain(badField.text)).toContain("Ports run from 1 to 65535.");
+    // IANA service registry: https is tcp/443 — a custom service on a catalogue port is refused.
+    const clash = await device.edit("services", { intent: "save-service", name: "web-alt", protocol: "tcp", port: "443", kind: "login" });
+    expect(clash.status).toBe(400);
+    expect(plain(clash.text)).toContain('tcp/443 is already the service "https"');
+    expect((await device.edit("rules", { intent: "delete-rule", ruleId: "r9" })).status).toBe(404);
+    expect((await device.edit("rules", { intent: "explode" })).status).toBe(400);
+    expect((await device.client.request(`${device.path}/model/rules`, { method: "POST", body: formBody({ intent: "delete-rule", ruleId: "r1" }) })).status).toBe(400);
+    expect((await device.edit("firewall-zones", { intent: "delete-rule", ruleId: "r1" }, 1)).status).toBe(404);
+
+    // Settings: a name another device has, or a time zone that does not exist.
+    await createDevice(client, slug, siteId, "quay-spare");
+    const settings = { intent: "save-settings", siteId, defaultInbound: "allow", unlistenedPort: "drop" };
+    const nameTaken = await device.edit("settings", { ...settings, name: "quay-spare", timezone: "UTC" });
+    expect(nameTaken.status).toBe(409);
+    expect(plain(nameTaken.text)).toContain("Another device of this organisation already has that name.");
+    const badZone = await device.edit("settings", { ...settings, name: "quay-edge", timezone: "Atlantis/Harbour" });
+    expect(badZone.status).toBe(400);
+    expect(plain(badZone.text)).toContain("device.timezone: is not a known IANA time zone");
+
+    expect(await device.revision()).toBe(1);
+    expect(await device.exported(1)).toEqual(normalised(QUAY_EDGE));
+  });
+});
+
+/** Small models, so a property run stays well within the time budget. */
+const TINY: ModelSize = { interfaces: 2, rules: 4, addressObjects: 3, entries: 5, groups: 2, accounts: 2, schedules: 1, spread: "narrow", scheduledShare: 0.3, scheduleStyle: "random" };
+
+describe("Import and export", () => {
+  test("Random models imported then exported come back as the same normalised document (property)", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-roundtrip");
+    let counter = 0;
+    await fc.assert(
+      fc.asyncProperty(fc.integer(), async (seed) => {
+        counter += 1;
+        const model = structuredClone(generateModel(seed, TINY).model);
+        model.device.name = `gen-${counter}-${seed >>> 0}`;
+        const device = await importDocument(client, slug, siteId, model);
+        const exported = await device.exported(1);
+        expect(exported).toEqual(normalised(model));
+        // The export is self-contained: importing it again gives the same document.
+        exported.device.name = `${model.device.name}-again`;
+        const again = await importDocument(client, slug, siteId, exported);
+        expect(await again.exported(1)).toEqual(exported);
+      }),
+      { numRuns: 5 },
+    );
+    expect(await fleetDeviceIds(client, slug)).toHaveLength(10);
+  });
+
+  test("An export carries the shared objects the device uses, with their values, and imports elsewhere unchanged", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-shared");
+    expect((await client.post(`/o/${slug}/settings/shared-objects`, { intent: "save", original: "", kind: "address", name: "hq-admins", items: "10.30.0.0/24\nfd30::/48", description: "" })).status).toBe(302);
+    expect((await client.post(`/o/${slug}/settings/shared-objects`, { intent: "save", original: "", kind: "group", name: "all-admins", items: "hq-admins", description: "" })).status).toBe(302);
+    expect((await client.post(`/o/${slug}/settings/shared-objects`, { intent: "save", original: "", kind: "address", name: "lab-net", items: "192.168.77.0/24", description: "" })).status).toBe(302);
+    const { operatorNetworks: _, ...rest } = QUAY_EDGE;
+    const document = { ...rest, operatorNetworks: ["all-admins"], accounts: [{ name: "ops-lena", loginSources: ["hq-admins"], secondFactor: "totp" }] };
+    const device = await importDocument(client, slug, siteId, document);
+    const exported = await device.exported(1);
+    expect(exported.addresses.map((object) => object.name)).toEqual(["noc-net", "partner-hq", "hq-admins"]);
+    expect(exported.addresses[2].entries).toEqual(["10.30.0.0/24", "fd30::/48"]);
+    expect(exported.addressGroups).toEqual([{ name: "all-admins", members: ["hq-admins"] }]);
+
+    // The library changes; the revision keeps the values it was saved with (docs/decisions/003).
+    expect((await client.post(`/o/${slug}/settings/shared-objects`, { intent: "save", original: "hq-admins", kind: "address", name: "hq-admins", items: "10.31.0.0/24", description: "" })).status).toBe(302);
+    expect((await device.exported(1)).addresses[2].entries).toEqual(["10.30.0.0/24", "fd30::/48"]);
+    // Renaming or deleting a shared object a device uses is refused, naming the device (docs/decisions/003).
+    const rename = await client.post(`/o/${slug}/settings/shared-objects`, { intent: "save", original: "hq-admins", kind: "address", name: "hq-admins-2", items: "10.31.0.0/24", description: "" });
+    expect(rename.status).toBe(409);
+    expect(plain(rename.text)).toContain('"hq-admins" is used by quay-edge; renaming it would break them.');
+    const refused = await client.post(`/o/${slug}/settings/shared-objects`, { intent: "delete", name: "all-admins" });
+    expect(refused.status).toBe(409);
+    expect(plain(refused.text)).toContain("device quay-edge");
+
+    // Imported into another organisation with no library, the export re-creates the same model.
+    const other = await newOrganisationWithSite("ws-shared-elsewhere");
+    const copy = await importDocument(other.client, other.slug, other.siteId, exported);
+    expect(await copy.exported(1)).toEqual(exported);
+  });
+
+  test("Bad uploads are refused with the reason and create nothing", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-bad-upload");
+    const target = `site:${siteId}`;
+    const upload = (intent: string, text: string) => postMultipart(client, `/o/${slug}/devices/import`, { intent, target, file: new Blob([text], { type: "application/json" }) });
+    for (const intent of ["preview", "import"]) {
+      const notJson = await upload(intent, "interfaces: outside\n  address 203.0.113.2");
+      expect(notJson.status).toBe(400);
+      expect(plain(notJson.text)).toContain("This is not JSON");
+
+      const version2 = await upload(intent, JSON.stringify({ ...QUAY_EDGE, schemaVersion: 2 }));
+      expect(version2.status).toBe(400);
+      expect(plain(version2.text)).toMatch(/schemaVersion<\/span>: must be 1/);
+
+      const unknown = await upload(intent, JSON.stringify({ ...QUAY_EDGE, inboundRules: [{ ...QUAY_EDGE.inboundRules[0], sources: ["noc"] }] }));
+      expect(unknown.status).toBe(400);
+      expect(plain(unknown.text)).toMatch(/inboundRules\[0\]\.sources\[0\]<\/span>: unknown address "noc"/);
+
+      const empty = await upload(intent, "");
+      expect(empty.status).toBe(400);
+      expect(plain(empty.text)).toContain("The chosen file is empty.");
+    }
+    // Over 1 MiB but under the 2 MiB request limit: the import page refuses it with its size.
+    const padding = " ".repeat(1024 * 1024 + 10);
+    const large = await upload("import", JSON.stringify(QUAY_EDGE) + padding);
+    expect(large.status).toBe(400);
+    expect(plain(large.text)).toContain("model documents may be at most 1024 KiB");
+    // Over the 2 MiB request limit: the server refuses the body before reading it.
+    const huge = await upload("import", JSON.stringify(QUAY_EDGE) + padding + padding);
+    expect(huge.status).toBe(413);
+    expect(huge.text).toContain("the limit is 2097152 bytes");
+    // The same document pasted as text over 1 MiB is refused too.
+    const pasted = await postMultipart(client, `/o/${slug}/devices/import`, { intent: "import", target, documentText: JSON.stringify(QUAY_EDGE) + padding });
+    expect(pasted.status).toBe(400);
+    expect(plain(pasted.text)).toContain("larger than 1 MiB");
+    // A valid document with nowhere to go is refused as well.
+    const noTarget = await postMultipart(client, `/o/${slug}/devices/import`, { intent: "import", target: "", file: new Blob([JSON.stringify(QUAY_EDGE)]) });
+    expect(noTarget.status).toBe(400);
+    expect((await postMultipart(client, `/o/${slug}/devices/import`, { intent: "import", target: "site:00000000-0000-4000-8000-000000000000", file: new Blob([JSON.stringify(QUAY_EDGE)]) })).status).toBe(404);
+
+    expect(await fleetDeviceIds(client, slug)).toEqual([]);
+  });
+
+  test("Importing over an existing device makes a new revision; a stale or same-named import is refused", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-reimport");
+    const device = await importDocument(client, slug, siteId, QUAY_EDGE);
+    const file = (document: unknown) => new Blob([JSON.stringify(document)], { type: "application/json" });
+    const changed = { ...QUAY_EDGE, operatorNetworks: ["noc-net", "partner-hq"] };
+    const asRevision = await postMultipart(client, `/o/${slug}/devices/import`, { intent: "import", target: `device:${device.id}`, baseRevision: "1", file: file(changed) });
+    expect(asRevision.status).toBe(302);
+    expect(asRevision.location).toBe(`${device.path}/history`);
+    expect((await device.exported(2)).operatorNetworks).toEqual(["noc-net", "partner-hq"]);
+    const stale = await postMultipart(client, `/o/${slug}/devices/import`, { intent: "import", target: `device:${device.id}`, baseRevision: "1", file: file(QUAY_EDGE) });
+    expect(stale.status).toBe(409);
+    expect(plain(stale.text)).toContain("changed since you opened it");
+    const sameName = await postMultipart(client, `/o/${slug}/devices/import`, { intent: "import", target: `site:${siteId}`, file: file(QUAY_EDGE) });
+    expect(sameName.status).toBe(409);
+    expect(await device.revision()).toBe(2);
+    expect(await fleetDeviceIds(client, slug)).toEqual([device.id]);
+  });
+});
+
+describe("Shared address objects from CSV", () => {
+  test("Each CSV row is reported as created, updated or refused with a reason; the good rows are saved", async () => {
+    const { client, slug } = await signUpNewOrganisation("ws-csv");
+    const csv = [
+      "name,entries",
+      "hq-admins,10.30.0.0/24;10.30.1.0/24",
+      '"vpn-users","fd30::/48 10.30.8.0/22"',
+      "bad name!,10.0.0.1",
+      "no-entries,",
+      "wrong-address,10.300.0.1",
+      "too-many,10.0.0.1,extra",
+      "hq-admins,10.30.0.0/23",
+      "",
+    ].join("\r\n");
+    const form = new FormData();
+    form.append("intent", "import-csv");
+    form.append("file", new Blob([csv], { type: "text/csv" }), "objects.csv");
+    const response = await client.request(`/o/${slug}/settings/shared-objects`, { method: "POST", body: form });
+    expect(response.status).toBe(200);
+    const text = plain(response.text);
+    const report = text.slice(text.indexOf("Import address objects from CSV"));
+    const rows = [...report.matchAll(/<tr>(.*?)<\/tr>/g)]
+      .map((match) => [...match[1].matchAll(/<td[^>]*>(.*?)<\/td>/g)].map((cell) => cell[1].replace(/<[^>]+>/g, "")))
+      .filter((cells) => cells.length === 4);
+    expect(rows.map(([row, name, result]) => [row, name, result])).toEqual([
+      ["2", "hq-admins", "created"],
+      ["3", "vpn-users", "created"],
+      ["4", "bad name!", "refused"],
+      ["5", "no-entries", "refused"],
+      ["6", "wrong-address", "refused"],
+      ["7", "too-many", "refused"],
+      ["8", "hq-admins", "updated"],
+    ]);
+    expect(rows[2][3]).toContain("letters, digits, dot, underscore, dash");
+    expect(rows[3][3]).toContain("No entries");
+    expect(rows[4][3]).toContain("10.300.0.1");
+    expect(rows[5][3]).toContain("Too many columns");
+    expect(text).toContain("3 saved, 4 refused");
+
+    const library = plain((await client.get(`/o/${slug}/settings/shared-objects`)).text);
+    expect(library).toContain("10.30.0.0/23");
+    expect(library).toContain("fd30::/48, 10.30.8.0/22");
+    expect(library).not.toContain("wrong-address");
+    expect(library).not.toContain("no-entries");
+  });
+});
+
+describe("Who may do what on the device pages", () => {
+  const clients = new Map<Role, TestClient>();
+  let demoDevice: string;
+  let revision: number;
+  let operatorNetworks: string;
+
+  beforeAll(async () => {
+    for (const role of ["trainee", "reviewer", "engineer", "admin", "owner"] as const) {
+      const client = new TestClient();
+      const [email, password] = DEMO_PASSWORDS[role];
+      expect((await client.signIn(email, password)).status).toBe(302);
+      clients.set(role, client);
+    }
+    const ids = await fleetDeviceIds(clients.get("trainee")!, "lanternfield");
+    expect(ids.length).toBeGreaterThanOrEqual(6);
+    demoDevice = ids[0];
+    const workspace = new Workspace(clients.get("trainee")!, "lanternfield", demoDevice);
+    revision = await workspace.revision();
+    operatorNetworks = (await workspace.exported(revision)).operatorNetworks.join("\n");
+  });
+
+  const readPaths = () => {
+    const device = `/o/lanternfield/devices/${demoDevice}`;
+    return ["/o/lanternfield/devices", device, `${device}/model/rules`, `${device}/model/settings`, `${device}/history`, `${device}/revisions/${revision}/export`, "/o/lanternfield/settings/shared-objects"];
+  };
+
+  for (const role of ["trainee", "reviewer"] as const) {
+    test(`A ${role} reads the fleet, the device, its sections, history and export, but every change is refused (403)`, async () => {
+      const client = clients.get(role)!;
+      for (const path of readPaths()) expect((await client.get(path)).status, path).toBe(200);
+      const device = new Workspace(client, "lanternfield", demoDevice);
+      expect((await device.edit("operator-networks", { intent: "save-operator-networks", operatorNetworks }, revision)).status).toBe(403);
+      expect((await device.edit("rules", { intent: "delete-rule", ruleId: "r1" }, revision)).status).toBe(403);
+      expect((await device.edit("addresses", { intent: "save-address", name: "intruder-net", entries: "192.0.2.0/24" }, revision)).status).toBe(403);
+      expect((await client.get("/o/lanternfield/devices/new")).status).toBe(403);
+      expect((await client.post("/o/lanternfield/devices/new", { name: `probe-${role}`, siteId: "00000000-0000-4000-8000-000000000000", timezone: "UTC" })).status).toBe(403);
+      expect((await client.get("/o/lanternfield/devices/import")).status).toBe(403);
+      expect((await postMultipart(client, "/o/lanternfield/devices/import", { intent: "preview", target: "", file: new Blob([JSON.stringify(QUAY_EDGE)]) })).status).toBe(403);
+      expect((await client.post("/o/lanternfield/settings/shared-objects", { intent: "save", kind: "address", name: "intruder-net", items: "192.0.2.0/24" })).status).toBe(403);
+      expect(await device.revision()).toBe(revision);
+    });
+  }
+
+  test("An engineer may edit devices but not the shared objects; an admin and an owner may do both", async () => {
+    for (const role of ["engineer", "admin", "owner"] as const) {
+      const client = clients.get(role)!;
+      for (const path of readPaths()) expect((await client.get(path)).status, `${role} ${path}`).toBe(200);
+      const device = new Workspace(client, "lanternfield", demoDevice);
+      // Saving the current value is allowed and changes nothing: no new revision of the demo device.
+      const unchanged = await device.edit("operator-networks", { intent: "save-operator-networks", operatorNetworks });
+      expect(unchanged.status, role).toBe(302);
+      expect(await device.revision()).toBe(revision);
+      expect((await client.get("/o/lanternfield/devices/new")).status).toBe(200);
+      expect((await client.get("/o/lanternfield/devices/import")).status).toBe(200);
+      const name = `probe-${role}-${Date.now().toString(36)}`;
+      const save = await client.post("/o/lanternfield/settings/shared-objects", { intent: "save", original: "", kind: "address", name, items: "10.99.0.0/24", description: "" });
+      expect(save.status, role).toBe(role === "engineer" ? 403 : 302);
+      if (role !== "engineer") expect((await client.post("/o/lanternfield/settings/shared-objects", { intent: "delete", name })).status).toBe(302);
+    }
+  });
+
+  test("Another organisation's device answers 404, to pages and to edits, even through one's own organisation", async () => {
+    const stranger = await newOrganisationWithSite("ws-stranger");
+    const foreign = await createDevice(stranger.client, stranger.slug, stranger.siteId, "private-gw");
+    const owner = clients.get("owner")!;
+    for (const path of [foreign.path, `${foreign.path}/model/rules`, `${foreign.path}/history`, `${foreign.path}/revisions/1/export`, `/o/lanternfield/devices/${foreign.id}`, `/o/lanternfield/devices/${foreign.id}/revisions/1/export`]) {
+      expect((await owner.get(path)).status, path).toBe(404);
+    }
+    const post = (path: string) => owner.request(path, { method: "POST", body: formBody({ intent: "save-operator-networks", operatorNetworks: "", baseRevision: "1" }) });
+    expect((await post(`${foreign.path}/model/operator-networks`)).status).toBe(404);
+    expect((await post(`/o/lanternfield/devices/${foreign.id}/model/operator-networks`)).status).toBe(404);
+    // And the other way round: the stranger cannot reach the demo device through their own organisation.
+    expect((await stranger.client.get(`/o/${stranger.slug}/devices/${demoDevice}`)).status).toBe(404);
+    expect((await stranger.client.request(`/o/${stranger.slug}/devices/${demoDevice}/model/rules`, { method: "POST", body: formBody({ intent: "delete-rule", ruleId: "r1", baseRevision: String(revision) }) })).status).toBe(404);
+    // Importing as a new revision of another organisation's device is refused too.
+    expect((await postMultipart(stranger.client, `/o/${stranger.slug}/devices/import`, { intent: "import", target: `device:${demoDevice}`, baseRevision: String(revision), file: new Blob([JSON.stringify(QUAY_EDGE)]) })).status).toBe(404);
+    expect(await foreign.revision()).toBe(1);
+  });
+});
+
+describe("Deleting devices and sites", () => {
+  test("A device is deleted only with its name typed and from its current revision; a site with devices cannot be deleted", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("delete-device");
+    const device = await createDevice(client, slug, siteId, "gone-soon-01");
+    const base = await device.revision("settings");
+    await device.save("operator-networks", { intent: "save-operator-networks", operatorNetworks: "any4" });
+
+    const wrongName = await device.edit("settings", { intent: "delete-device", confirmName: "something-else" });
+    expect(wrongName.status).toBe(400);
+    expect(plain(wrongName.text)).toContain("Type the device name (gone-soon-01) to confirm.");
+
+    const stale = await device.edit("settings", { intent: "delete-device", confirmName: "gone-soon-01" }, base);
+    expect(stale.status).toBe(409);
+    expect(plain(stale.text)).toContain("the device changed since you opened it");
+
+    const site = await client.post(`/o/${slug}/sites`, { intent: "delete", siteId });
+    expect(site.status).toBe(409);
+    expect(plain(site.text)).toContain("still has devices: gone-soon-01");
+
+    const deleted = await device.edit("settings", { intent: "delete-device", confirmName: "gone-soon-01" });
+    expect(deleted.status).toBe(302);
+    expect(deleted.location).toBe(`/o/${slug}/devices`);
+    expect(await fleetDeviceIds(client, slug)).toEqual([]);
+    expect((await client.get(device.path)).status).toBe(404);
+    const audit = await client.get(`/o/${slug}/settings/audit`);
+    expect(audit.text).toContain("device.deleted");
+    expect((await client.post(`/o/${slug}/sites`, { intent: "delete", siteId })).status).toBe(302);
+  });
+});
