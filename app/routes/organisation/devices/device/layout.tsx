@@ -53,6 +53,15 @@ export default function DeviceLayout({ loaderData }: Route.ComponentProps) {
         <NavLink to={base} end className={tab}>
           Overview
         </NavLink>
+        <NavLink to={`${base}/analysis`} className={tab}>
+          Trace
+        </NavLink>
+        <NavLink to={`${base}/reach`} className={tab}>
+          Reach
+        </NavLink>
+        <NavLink to={`${base}/exposure`} className={tab}>
+          Exposure map
+        </NavLink>
         {DEVICE_SECTIONS.map(([section, label]) => (
           <NavLink key={section} to={`${base}/model/${section}`} className={tab}>
             {label}
