@@ -28,7 +28,8 @@ function getLoadContext(request: express.Request, response: express.Response): S
 
 if (development) {
   const vite = await import("vite");
-  const viteServer = await vite.createServer({ root, server: { middlewareMode: true } });
+  // SALLYPORT_HMR=0 lets several development servers run side by side (tests, helpers).
+  const viteServer = await vite.createServer({ root, server: { middlewareMode: true, hmr: process.env.SALLYPORT_HMR === "0" ? false : undefined } });
   app.use(viteServer.middlewares);
   app.all(/.*/, async (request, response, next) => {
     try {

@@ -27,7 +27,9 @@ export default async function setup(project: TestProject) {
   server = spawn(process.execPath, ["--import", "tsx", "server/http/main.ts"], {
     env: {
       ...process.env,
-      NODE_ENV: "production",
+      // SALLYPORT_TEST_DEV=1 serves through Vite instead of build/, for quick runs while developing.
+      NODE_ENV: process.env.SALLYPORT_TEST_DEV === "1" ? "development" : "production",
+      SALLYPORT_HMR: "0",
       PORT: String(port),
       // Tests pose as many clients through X-Forwarded-For, so per-address throttling in one test does not spill into others.
       TRUST_PROXY: "1",

@@ -1,13 +1,219 @@
+import "@xyflow/react/dist/style.css";
+import { useEffect, useRef, useState } from "react";
+import { Form, useFetcher } from "react-router";
 import type { Route } from "./+types/analysis";
+import { compiledCurrentRevision } from "../../../../../server/analysis/compiled-revisions.server";
+import { probeInputOf, probeQueryOf, ProbeQuerySchema } from "../../../../../server/analysis/probe";
+import { BUILTIN_SERVICES, ProbeError, trace, type TraceResult } from "../../../../../server/engine/index";
 import { requireDevice } from "../../../../../server/http/device-access.server";
-import { EmptyState } from "~/components/ui/empty-state";
+import { LayerCanvas, type CanvasModel } from "~/components/analysis/layer-canvas";
+import { useTraceStore, type ProbeFields } from "~/components/analysis/trace-store";
+import { isOutcome, OutcomeChip } from "~/components/outcome";
+import { Button } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { cx } from "~/components/ui/cx";
+import { LAYER_TITLES, outcomeSentence } from "~/utils/trace-words";
 
-// Being built; see the analysis issue.
+export const meta: Route.MetaFunction = () => [{ title: "Trace a probe · Sallyport" }];
+
 export async function loader({ request, params }: Route.LoaderArgs) {
-  await requireDevice(request, params);
-  return null;
+  const access = await requireDevice(request, params);
+  const revision = await compiledCurrentRevision(access.organisation.id, access.device.id);
+  const model = revision?.effective ?? access.effective;
+  const url = new URL(request.url);
+  const query = probeQueryOf(url.searchParams);
+  let initial: { trace: TraceResult | null; error: string | null } = { trace: null, error: null };
+  if (query.from && revision) {
+    const parsed = ProbeQuerySchema.safeParse(query);
+    if (!parsed.success) initial = { trace: null, error: parsed.error.issues[0].message };
+    else {
+      try {
+        initial = { trace: trace(revision.compiled, probeInputOf(parsed.data)), error: null };
+      } catch (error) {
+        if (!(error instanceof ProbeError)) throw error;
+        initial = { trace: null, error: error.message };
+      }
+    }
+  }
+  const canvas: CanvasModel = {
+    interfaces: model.interfaces.map((entry) => ({ name: entry.name, role: entry.role, addresses: entry.addresses, listeners: entry.listeners })),
+    rules: model.inboundRules.map((rule, index) => ({
+      id: rule.id,
+      position: index + 1,
+      action: rule.action,
+      enabled: rule.enabled,
+      interface: rule.interface,
+      summary: `${rule.sources.join(", ")} → ${rule.destinations.join(", ")} · ${rule.services.join(", ")}`,
+    })),
+    defaultInbound: model.device.defaultInbound,
+    unlistenedPort: model.device.unlistenedPort,
+    accounts: model.accounts.map((account) => ({ name: account.name, loginSources: account.loginSources, secondFactor: account.secondFactor, enabled: account.enabled })),
+  };
+  return {
+    canvas,
+    services: [...BUILTIN_SERVICES.map((service) => service.name), ...model.services.map((service) => service.name)],
+    timezone: model.device.timezone,
+    devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`,
+    query,
+    initial,
+  };
 }
 
-export default function Placeholder() {
-  return <EmptyState title="Coming">This analysis page is being built.</EmptyState>;
+function queryOf(fields: ProbeFields): string {
+  return new URLSearchParams(Object.entries(fields).filter(([, value]) => value.trim() !== "")).toString();
+}
+
+function fieldsFrom(query: Record<string, string>, fallback: { interface: string; service: string }): ProbeFields {
+  return {
+    from: query.from ?? "",
+    interface: query.interface ?? fallback.interface,
+    service: query.service ?? fallback.service,
+    to: query.to ?? "",
+    at: query.at ?? "",
+    account: query.account ?? "",
+  };
+}
+
+export default function Analysis({ loaderData }: Route.ComponentProps) {
+  const { canvas, services, devicePath, timezone } = loaderData;
+  const fallback = { interface: canvas.interfaces.find((entry) => entry.role === "outside")?.name ?? canvas.interfaces[0]?.name ?? "", service: "https" };
+  const { probe, trace: result, error, step, setProbe, showResult, setStep, reset } = useTraceStore();
+  const fetcher = useFetcher<TraceResult | { error: string }>();
+  const [mounted, setMounted] = useState(false);
+  const lastQuery = useRef<string | null>(null);
+
+  // The route loader seeds the store (and the server-rendered page) once per device; typing then
+  // asks the trace API, and the URL follows without a navigation so the query stays linkable.
+  useEffect(() => {
+    const fields = fieldsFrom(loaderData.query, fallback);
+    reset(fields, loaderData.initial.trace, loaderData.initial.error);
+    lastQuery.current = queryOf(fields);
+    setMounted(true);
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, [devicePath]);
+
+  useEffect(() => {
+    if (!mounted) return;
+    const query = queryOf(probe);
+    if (query === lastQuery.current || !probe.from.trim()) return;
+    const timer = setTimeout(() => {
+      lastQuery.current = query;
+      fetcher.load(`${devicePath}/api/trace?${query}`);
+      window.history.replaceState(window.history.state, "", `${window.location.pathname}?${query}`);
+    }, 250);
+    return () => clearTimeout(timer);
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, [probe, mounted]);
+
+  useEffect(() => {
+    if (!fetcher.data) return;
+    if ("error" in fetcher.data) showResult(null, fetcher.data.error);
+    else showResult(fetcher.data, null);
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, [fetcher.data]);
+
+  const shown = mounted ? { probe, trace: result, error, step } : { probe: fieldsFrom(loaderData.query, fallback), trace: loaderData.initial.trace, error: loaderData.initial.error, step: loaderData.initial.trace?.layers.length ?? 0 };
+  const total = shown.trace?.layers.length ?? 0;
+  const rulePosition = canvas.rules.find((rule) => rule.id === shown.trace?.ruleId)?.position;
+  const input = "h-9 w-full rounded-control border border-line-strong bg-surface px-2 text-sm";
+
+  return (
+    <div className="space-y-5">
+      <Card className="p-4">
+        <Form method="get" className="grid gap-3 md:grid-cols-3 xl:grid-cols-6" aria-label="Probe" onSubmit={(event) => mounted && event.preventDefault()}>
+          <label className="text-sm">
+            <span className="mb-1 block font-medium">From (source)</span>
+            <input name="from" className={cx(input, "font-mono")} placeholder="203.0.113.50" value={shown.probe.from} onChange={(event) => setProbe({ from: event.target.value })} aria-invalid={shown.error ? true : undefined} aria-describedby="probe-error" />
+          </label>
+          <label className="text-sm">
+            <span className="mb-1 block font-medium">Interface</span>
+            <select name="interface" className={input} value={shown.probe.interface} onChange={(event) => setProbe({ interface: event.target.value })}>
+              {canvas.interfaces.map((entry) => (
+                <option key={entry.name} value={entry.name}>
+                  {entry.name} ({entry.role})
+                </option>
+              ))}
+            </select>
+          </label>
+          <label className="text-sm">
+            <span className="mb-1 block font-medium">Service</span>
+            <input name="service" list="probe-services" className={cx(input, "font-mono")} value={shown.probe.service} onChange={(event) => setProbe({ service: event.target.value })} />
+            <datalist id="probe-services">
+              {services.map((name) => (
+                <option key={name} value={name} />
+              ))}
+            </datalist>
+          </label>
+          <label className="text-sm">
+            <span className="mb-1 block font-medium">To (optional)</span>
+            <input name="to" className={cx(input, "font-mono")} placeholder="interface address" value={shown.probe.to} onChange={(event) => setProbe({ to: event.target.value })} />
+          </label>
+          <label className="text-sm">
+            <span className="mb-1 block font-medium">At (optional)</span>
+            <input name="at" className={cx(input, "font-mono")} placeholder={`now · ${timezone}`} value={shown.probe.at} onChange={(event) => setProbe({ at: event.target.value })} />
+          </label>
+          <label className="text-sm">
+            <span className="mb-1 block font-medium">Account (optional)</span>
+            <select name="account" className={input} value={shown.probe.account} onChange={(event) => setProbe({ account: event.target.value })}>
+              <option value="">any eligible</option>
+              {canvas.accounts.map((account) => (
+                <option key={account.name} value={account.name}>
+                  {account.name}
+                </option>
+              ))}
+            </select>
+          </label>
+          <noscript>
+            <Button type="submit">Trace</Button>
+          </noscript>
+        </Form>
+        <p id="probe-error" role="status" aria-live="polite" className={cx("mt-2 min-h-5 text-sm", shown.error ? "text-danger" : "text-ink-muted")}>
+          {shown.error ? shown.error : fetcher.state === "loading" ? "Tracing…" : shown.trace ? `Traced at ${shown.trace.localTime} (device clock).` : "Type a source address to trace a probe through every layer."}
+        </p>
+      </Card>
+
+      {mounted ? <LayerCanvas model={canvas} trace={shown.trace} step={shown.step} devicePath={devicePath} probe={shown.probe} /> : <div className="h-[34rem] rounded-card border border-line bg-surface" aria-hidden="true" />}
+
+      <div className="flex flex-wrap items-center gap-2" role="group" aria-label="Walkthrough">
+        <Button variant="secondary" size="sm" onClick={() => setStep(0)} disabled={!shown.trace || shown.step === 0}>
+          Start walkthrough
+        </Button>
+        <Button variant="secondary" size="sm" onClick={() => setStep(Math.max(0, shown.step - 1))} disabled={!shown.trace || shown.step === 0}>
+          Previous layer
+        </Button>
+        <Button size="sm" onClick={() => setStep(Math.min(total, shown.step + 1))} disabled={!shown.trace || shown.step >= total}>
+          Next layer
+        </Button>
+        <Button variant="ghost" size="sm" onClick={() => setStep(total)} disabled={!shown.trace || shown.step >= total}>
+          Show all
+        </Button>
+        <span className="text-sm text-ink-muted" aria-live="polite">
+          {shown.trace ? `Layer ${Math.min(shown.step, total)} of ${total}` : ""}
+        </span>
+      </div>
+
+      {shown.trace ? (
+        <Card className="p-5">
+          <ol className="space-y-2" aria-label="Layer verdicts">
+            {shown.trace.layers.map((layer, index) => (
+              <li key={layer.layer} className={cx("grid grid-cols-[9rem_6rem_1fr] items-baseline gap-3 text-sm", index >= shown.step && "opacity-40")}>
+                <span className="font-medium">{LAYER_TITLES[layer.layer]}</span>
+                <span className={cx("w-fit rounded px-1.5 py-0.5 text-xs font-semibold", index >= shown.step ? "bg-surface-sunken text-ink-faint" : layer.result === "stop" ? "bg-danger-soft text-danger" : "bg-success-soft text-success")}>
+                  {index >= shown.step ? "?" : layer.result === "stop" ? "stops here" : "passes"}
+                </span>
+                <span className="text-ink-muted">{index >= shown.step ? "Predict this layer's verdict, then step on." : layer.detail}</span>
+              </li>
+            ))}
+          </ol>
+          {shown.step >= total && isOutcome(shown.trace.outcome) ? (
+            <div className="mt-4 flex flex-wrap items-center gap-3 border-t border-line pt-4" aria-label="Outcome">
+              <OutcomeChip outcome={shown.trace.outcome} />
+              <p className="font-medium">{outcomeSentence(shown.trace, rulePosition)}</p>
+            </div>
+          ) : null}
+          <p className="mt-4 text-xs text-ink-faint">The simulation models the configuration, not the device: confirm on the device in a maintenance window before acting on it.</p>
+        </Card>
+      ) : null}
+    </div>
+  );
 }

@@ -1,0 +1,249 @@
+import { Background, Handle, Position, ReactFlow, type Edge, type Node, type NodeProps } from "@xyflow/react";
+import { useMemo } from "react";
+import { useNavigate } from "react-router";
+import type { TraceResult } from "../../../server/engine/trace";
+import { isOutcome, OUTCOME_LABELS, OutcomeChip } from "../outcome";
+import { cx } from "../ui/cx";
+import { LAYER_ORDER, LAYER_TITLES, outcomeSentence } from "~/utils/trace-words";
+
+export type CanvasModel = {
+  interfaces: Array<{ name: string; role: string; addresses: string[]; listeners: string[] }>;
+  rules: Array<{ id: string; position: number; action: string; enabled: boolean; interface: string; summary: string }>;
+  defaultInbound: string;
+  unlistenedPort: string;
+  accounts: Array<{ name: string; loginSources: string[]; secondFactor: string; enabled: boolean }>;
+};
+
+type Verdict = "pass" | "stop" | "ahead" | "unreached" | "result";
+
+type LayerNodeData = {
+  title: string;
+  verdict: Verdict;
+  detail?: string;
+  body: React.ReactNode;
+  href?: string;
+};
+
+const VERDICT_STYLE: Record<Verdict, string> = {
+  pass: "border-success bg-success-soft/60",
+  stop: "border-danger bg-danger-soft/70 ring-2 ring-danger/30",
+  ahead: "border-dashed border-line-strong bg-surface",
+  unreached: "border-line bg-surface-sunken opacity-60",
+  result: "border-brass bg-brass-soft/60 ring-2 ring-brass/30",
+};
+
+const VERDICT_WORDS: Record<Verdict, string> = { pass: "passes", stop: "stops here", ahead: "not shown yet", unreached: "not reached", result: "result" };
+
+function LayerNode({ data }: NodeProps<Node<LayerNodeData>>) {
+  return (
+    <div className={cx("w-52 rounded-card border-2 p-3 text-xs text-ink shadow-card", VERDICT_STYLE[data.verdict])}>
+      <Handle type="target" position={Position.Left} className="!bg-line-strong" />
+      <div className="flex items-center justify-between gap-2">
+        <span className="text-[11px] font-semibold tracking-wide text-ink-muted uppercase">{data.title}</span>
+        <span className={cx("rounded px-1.5 py-0.5 text-[10px] font-semibold", data.verdict === "stop" ? "bg-danger text-white dark:text-black" : data.verdict === "pass" ? "bg-success text-white dark:text-black" : "bg-surface-sunken text-ink-faint")}>
+          {VERDICT_WORDS[data.verdict]}
+        </span>
+      </div>
+      <div className="mt-2 space-y-1">{data.body}</div>
+      {data.detail && (data.verdict === "pass" || data.verdict === "stop") ? <p className="mt-2 border-t border-line pt-2 text-[11px] text-ink-muted">{data.detail}</p> : null}
+      <Handle type="source" position={Position.Right} className="!bg-line-strong" />
+    </div>
+  );
+}
+
+const NODE_TYPES = { layer: LayerNode };
+
+function gridPosition(index: number): { x: number; y: number } {
+  return { x: (index % 4) * 250, y: Math.floor(index / 4) * 250 };
+}
+
+/**
+ * The layers drawn left to right: probe → interface → inbound rules → listener → service kind →
+ * login sources → second factor → outcome. Each node shows the elements it stands for and, up to
+ * the walkthrough step, its verdict; a click opens that element's editor.
+ */
+export function LayerCanvas({ model, trace, step, devicePath, probe }: { model: CanvasModel; trace: TraceResult | null; step: number; devicePath: string; probe: { from: string; interface: string; service: string } }) {
+  const navigate = useNavigate();
+  const { nodes, edges } = useMemo(() => {
+    const verdictOf = (layer: string): { verdict: Verdict; detail?: string } => {
+      if (!trace) return { verdict: "ahead" };
+      const index = trace.layers.findIndex((entry) => entry.layer === layer);
+      if (index < 0) return { verdict: step >= trace.layers.length ? "unreached" : "ahead" };
+      if (index >= step) return { verdict: "ahead" };
+      return { verdict: trace.layers[index].result, detail: trace.layers[index].detail };
+    };
+    const iface = model.interfaces.find((entry) => entry.name === (trace?.interface ?? probe.interface));
+    const matched = trace?.ruleId;
+    const eligible = new Set(trace?.eligibleAccounts ?? []);
+    const layerNodes: Array<{ id: string; data: LayerNodeData }> = [
+      {
+        id: "arrival",
+        data: {
+          title: "Interface",
+          ...verdictOf("arrival"),
+          href: iface ? `${devicePath}/model/interfaces?edit=${encodeURIComponent(iface.name)}#edit` : undefined,
+          body: iface ? (
+            <>
+              <p className="font-mono font-semibold">
+                {iface.name} <span className="font-sans font-normal text-ink-muted">({iface.role})</span>
+              </p>
+              <p className="font-mono text-[11px] break-all text-ink-muted">{iface.addresses.join(", ") || "no addresses"}</p>
+            </>
+          ) : (
+            <p className="text-ink-muted">Choose an interface</p>
+          ),
+        },
+      },
+      {
+        id: "inbound-rules",
+        data: {
+          title: "Inbound rules",
+          ...verdictOf("inbound-rules"),
+          href: `${devicePath}/model/rules${matched ? `?edit=${encodeURIComponent(matched)}#edit` : ""}`,
+          body: (
+            <ol className="max-h-40 space-y-0.5 overflow-hidden">
+              {model.rules.slice(0, 12).map((rule) => (
+                <li key={rule.id} className={cx("flex gap-1 font-mono text-[11px]", rule.id === matched && step >= 2 ? "rounded bg-brass-soft font-semibold text-brass" : "text-ink-muted", !rule.enabled && "line-through opacity-60")}>
+                  <span className="w-5 text-right">{rule.position}</span>
+                  <span className="truncate">{rule.id}</span>
+                  <span>{rule.action}</span>
+                </li>
+              ))}
+              {model.rules.length > 12 ? <li className="text-[11px] text-ink-faint">… {model.rules.length - 12} more</li> : null}
+              <li className="text-[11px] text-ink-faint">no match → default {model.defaultInbound}</li>
+            </ol>
+          ),
+        },
+      },
+      {
+        id: "listener",
+        data: {
+          title: "Listener",
+          ...verdictOf("listener"),
+          href: iface ? `${devicePath}/model/interfaces?edit=${encodeURIComponent(iface.name)}#edit` : undefined,
+          body: (
+            <p>
+              Listening on {iface?.name ?? "—"}: <span className="font-mono">{iface?.listeners.join(", ") || "nothing"}</span>
+            </p>
+          ),
+        },
+      },
+      {
+        id: "service-kind",
+        data: { title: "Service kind", ...verdictOf("service-kind"), href: `${devicePath}/model/services`, body: <p className="font-mono">{trace?.service ?? probe.service ?? "—"}</p> },
+      },
+      {
+        id: "login-sources",
+        data: {
+          title: "Login sources",
+          ...verdictOf("login-sources"),
+          href: `${devicePath}/model/accounts`,
+          body: (
+            <ul className="space-y-0.5">
+              {model.accounts.slice(0, 8).map((account) => (
+                <li key={account.name} className={cx("font-mono text-[11px]", eligible.has(account.name) && step >= 5 ? "font-semibold text-brass" : "text-ink-muted", !account.enabled && "line-through")}>
+                  {account.name}: {account.loginSources.join(", ") || "anywhere"}
+                </li>
+              ))}
+              {model.accounts.length === 0 ? <li className="text-ink-faint">no accounts</li> : null}
+            </ul>
+          ),
+        },
+      },
+      {
+        id: "second-factor",
+        data: {
+          title: "Second factor",
+          ...verdictOf("second-factor"),
+          href: `${devicePath}/model/accounts`,
+          body: (
+            <ul className="space-y-0.5">
+              {model.accounts
+                .filter((account) => eligible.size === 0 || eligible.has(account.name))
+                .slice(0, 8)
+                .map((account) => (
+                  <li key={account.name} className="font-mono text-[11px] text-ink-muted">
+                    {account.name}: {account.secondFactor === "totp" ? "TOTP" : "none"}
+                  </li>
+                ))}
+            </ul>
+          ),
+        },
+      },
+    ];
+    const done = trace !== null && step >= trace.layers.length;
+    const nodes: Node[] = [
+      {
+        id: "probe",
+        type: "layer",
+        position: { x: 0, y: 0 },
+        data: {
+          title: "Probe",
+          verdict: trace ? "pass" : "ahead",
+          body: (
+            <>
+              <p className="font-mono font-semibold break-all">{trace?.from ?? probe.from ?? "—"}</p>
+              <p className="text-ink-muted">
+                to {trace?.to ?? "—"} · {trace?.service ?? probe.service}
+              </p>
+            </>
+          ),
+        } satisfies LayerNodeData,
+      },
+      // Two rows of four, read like text: probe → interface → rules → listener, then service kind →
+      // login sources → second factor → outcome, so each node stays legible on a laptop screen.
+      ...layerNodes.map((node, index) => ({ id: node.id, type: "layer", position: gridPosition(index + 1), data: node.data })),
+      {
+        id: "outcome",
+        type: "layer",
+        position: gridPosition(7),
+        data: {
+          title: "Outcome",
+          verdict: done ? "result" : "ahead",
+          body:
+            done && trace && isOutcome(trace.outcome) ? (
+              <>
+                <OutcomeChip outcome={trace.outcome} />
+                <p className="mt-1 text-[11px]">{outcomeSentence(trace, model.rules.find((rule) => rule.id === trace.ruleId)?.position)}</p>
+              </>
+            ) : (
+              <p className="text-ink-muted">{trace ? "Predict it, then step on." : "—"}</p>
+            ),
+        } satisfies LayerNodeData,
+      },
+    ];
+    const order = ["probe", ...LAYER_ORDER, "outcome"];
+    const reachedUpTo = trace ? Math.min(step, trace.layers.length) : 0;
+    const edges: Edge[] = order.slice(1).map((id, index) => ({
+      id: `${order[index]}-${id}`,
+      source: order[index],
+      target: id,
+      type: "smoothstep",
+      animated: index < reachedUpTo,
+      style: { stroke: index < reachedUpTo ? "var(--color-harbour)" : "var(--color-line-strong)", strokeWidth: index < reachedUpTo ? 2.5 : 1.5 },
+    }));
+    return { nodes, edges };
+  }, [model, trace, step, devicePath, probe]);
+
+  return (
+    <div className="h-[34rem] w-full overflow-hidden rounded-card border border-line bg-surface" role="img" aria-label={trace ? `Layer canvas: ${trace.layers.slice(0, step).map((layer) => `${LAYER_TITLES[layer.layer]} ${layer.result}`).join(", ")}${trace && step >= trace.layers.length ? `; outcome ${OUTCOME_LABELS[trace.outcome]}` : ""}` : "Layer canvas: no probe yet"}>
+      <ReactFlow
+        nodes={nodes}
+        edges={edges}
+        nodeTypes={NODE_TYPES}
+        fitView
+        fitViewOptions={{ padding: 0.08 }}
+        nodesDraggable={false}
+        nodesConnectable={false}
+        elementsSelectable
+        onNodeClick={(_, node) => {
+          const href = (node.data as LayerNodeData).href;
+          if (href) navigate(href);
+        }}
+        minZoom={0.3}
+      >
+        <Background gap={24} color="var(--color-line)" />
+      </ReactFlow>
+    </div>
+  );
+}

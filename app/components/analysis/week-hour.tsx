@@ -1,0 +1,56 @@
+import { OUTCOME_LABELS, OUTCOME_ORDER } from "~/components/outcome";
+import type { HourCell } from "~/utils/analysis";
+import { OUTCOME_FILL } from "./address-map";
+
+const DAYS = ["Mon", "Tue", "Wed", "Thu", "Fri", "Sat", "Sun"] as const;
+
+function labelOf(rank: number): string {
+  return rank >= 0 && rank < OUTCOME_ORDER.length ? OUTCOME_LABELS[OUTCOME_ORDER[rank]] : "no data";
+}
+
+/**
+ * The week as a table of 7 days × 24 hours on the device clock, each hour filled with the
+ * most exposed outcome during it. A table, so screen readers can walk it by day and hour;
+ * a small corner notch marks hours where the outcome changes inside the hour.
+ */
+export function WeekHourGrid({ cells, current, caption }: { cells: readonly HourCell[]; current: number | null; caption: string }) {
+  return (
+    <div className="overflow-x-auto">
+      <table className="border-separate border-spacing-[2px] text-[10px]">
+        <caption className="mb-1 text-left text-xs text-ink-muted">{caption}</caption>
+        <thead>
+          <tr>
+            <th scope="col" className="w-9">
+              <span className="sr-only">Day</span>
+            </th>
+            {Array.from({ length: 24 }, (_, hour) => (
+              <th key={hour} scope="col" className="w-6 text-center font-normal text-ink-faint">
+                {String(hour).padStart(2, "0")}
+              </th>
+            ))}
+          </tr>
+        </thead>
+        <tbody>
+          {DAYS.map((day, dayIndex) => (
+            <tr key={day}>
+              <th scope="row" className="pr-1 text-left font-medium text-ink-muted">
+                {day}
+              </th>
+              {Array.from({ length: 24 }, (_, hour) => {
+                const index = dayIndex * 24 + hour;
+                const cell = cells[index];
+                const words = `${day} ${String(hour).padStart(2, "0")}:00: ${labelOf(cell.top)}${cell.changes ? " (changes within the hour)" : ""}${current === index ? " — the chosen time" : ""}`;
+                return (
+                  <td key={hour} title={words} className="relative h-5 w-6 rounded-[3px] p-0" style={{ background: OUTCOME_FILL(cell.top), outline: current === index ? "2px solid var(--color-ink)" : undefined, outlineOffset: 1 }}>
+                    <span className="sr-only">{words}</span>
+                    {cell.changes ? <span aria-hidden="true" className="absolute top-0 right-0 h-0 w-0 border-t-[6px] border-l-[6px] border-t-ink border-l-transparent" /> : null}
+                  </td>
+                );
+              })}
+            </tr>
+          ))}
+        </tbody>
+      </table>
+    </div>
+  );
+}

@@ -1,0 +1,184 @@
+// The exposure map for the page and its CSV: one instant's entries filtered by the URL, the
+// focused entry's CIDR lists (paged) and address-space grids, and its week × hour view.
+
+import { compileModel, exposure, OUTCOMES, ProbeError } from "../engine/index.ts";
+import type { DeviceModel, ExposureEntry, Outcome } from "../engine/index.ts";
+import { buildGrid, cellsPerRank, gridRuns, IPV4_GRID, IPV6_GRIDS, pageOf, topRank, weekHourGrid, type GridSpec, type HourCell } from "../../app/utils/analysis.ts";
+
+export interface ExposureQuery {
+  readonly at: string;
+  readonly interface: string;
+  readonly service: string;
+  readonly family: "" | "4" | "6";
+  readonly outcome: "" | Outcome;
+  readonly focus: string;
+  readonly page: string;
+  readonly entryPage: string;
+}
+
+function isOutcome(value: string): value is Outcome {
+  return (OUTCOMES as readonly string[]).includes(value);
+}
+
+export function exposureQueryOf(url: URL): ExposureQuery {
+  const get = (name: string, max = 100) => (url.searchParams.get(name) ?? "").trim().slice(0, max);
+  const family = get("family");
+  const outcome = get("outcome");
+  return {
+    at: get("at", 60),
+    interface: get("interface"),
+    service: get("service"),
+    family: family === "4" || family === "6" ? family : "",
+    outcome: isOutcome(outcome) ? outcome : "",
+    focus: get("focus", 200),
+    page: get("page", 10),
+    entryPage: get("epage", 10),
+  };
+}
+
+export const familyOf = (to: string): 4 | 6 => (to.includes(":") ? 6 : 4);
+/** The URL key of an entry: "interface,to,service" (names never hold a comma). */
+export const entryKey = (entry: { interface: string; to: string; service: string }): string => `${entry.interface},${entry.to},${entry.service}`;
+
+/** The entries the filters keep, in engine order. */
+export function filterEntries(entries: readonly ExposureEntry[], query: ExposureQuery): ExposureEntry[] {
+  return entries.filter(
+    (entry) =>
+      (!query.interface || entry.interface === query.interface) &&
+      (!query.service || entry.service === query.service) &&
+      (!query.family || String(familyOf(entry.to)) === query.family) &&
+      (!query.outcome || entry.counts[query.outcome] !== "0"),
+  );
+}
+
+export interface GridView {
+  readonly spec: GridSpec;
+  /** Runs flattened as [row, column, length, rank, …] to keep the page data small. */
+  readonly runs: number[];
+  readonly cellsPerRank: number[];
+}
+
+export type ExposureAnswer =
+  | { readonly ok: false; readonly errors: { at: string } }
+  | {
+      readonly ok: true;
+      readonly at: string;
+      readonly localTime: string;
+      readonly slice: { readonly start: string; readonly end: string };
+      readonly sliceCount: number;
+      readonly interfaces: string[];
+      readonly services: string[];
+      readonly total: number;
+      readonly entries: { key: string; interface: string; to: string; service: string; family: 4 | 6; counts: string[]; top: number }[];
+      readonly entryPage: { page: number; pages: number };
+      readonly focus: null | {
+        key: string;
+        interface: string;
+        to: string;
+        service: string;
+        family: 4 | 6;
+        counts: string[];
+        cidrs: { outcome: Outcome; cidr: string }[];
+        cidrTotal: number;
+        cidrPage: { page: number; pages: number; start: number };
+        grids: GridView[];
+        /** 168 hour cells, or null when exposure does not change over the week. */
+        week: HourCell[] | null;
+        weekSlices: { start: string; end: string; outcome: Outcome | null }[];
+      };
+    };
+
+/** Parses `at` for this device; null when empty (now). */
+function instantOrError(device: ReturnType<typeof compileModel>, at: string): { ms: number } | { error: string } {
+  try {
+    return { ms: device.instantOf(at || undefined, Date.now()) };
+  } catch (error) {
+    if (!(error instanceof ProbeError)) throw error;
+    return { error: `${error.message}. Use e.g. 2025-03-04T10:00 (device clock) or 2025-03-04T16:00Z.` };
+  }
+}
+
+/** The raw entries at an instant, for the CSV. */
+export function exposureEntriesAt(model: DeviceModel, at: string): { ok: true; entries: readonly ExposureEntry[] } | { ok: false; error: string } {
+  const device = compileModel(model);
+  const instant = instantOrError(device, at);
+  if ("error" in instant) return { ok: false, error: instant.error };
+  return { ok: true, entries: exposure(device, instant.ms).entries };
+}
+
+export function answerExposure(model: DeviceModel, query: ExposureQuery): ExposureAnswer {
+  const device = compileModel(model);
+  const instant = instantOrError(device, query.at);
+  if ("error" in instant) return { ok: false, errors: { at: instant.error } };
+  const map = exposure(device, instant.ms);
+  const filtered = filterEntries(map.entries, query);
+  const counts = (entry: ExposureEntry) => OUTCOMES.map((outcome) => entry.counts[outcome]);
+  const entryPage = pageOf(query.entryPage, filtered.length);
+  const entries = filtered.slice(entryPage.start, entryPage.end).map((entry) => ({
+    key: entryKey(entry),
+    interface: entry.interface,
+    to: entry.to,
+    service: entry.service,
+    family: familyOf(entry.to),
+    counts: counts(entry),
+    top: topRank(counts(entry)),
+  }));
+  // The focused entry: the one in the URL if the filters keep it, else the most exposed.
+  let focused = filtered.find((entry) => entryKey(entry) === query.focus);
+  if (!focused && filtered.length) focused = filtered.reduce((best, entry) => (topRank(counts(entry)) > topRank(counts(best)) ? entry : best));
+  return {
+    ok: true,
+    at: map.at,
+    localTime: map.localTime,
+    slice: map.slice,
+    sliceCount: device.week.slices.length,
+    interfaces: model.interfaces.map((entry) => entry.name),
+    services: device.catalogue.map((service) => service.name),
+    total: filtered.length,
+    entries,
+    entryPage: { page: entryPage.page, pages: entryPage.pages },
+    focus: focused ? focusOf(device, focused, query) : null,
+  };
+}
+
+function focusOf(device: ReturnType<typeof compileModel>, entry: ExposureEntry, query: ExposureQuery) {
+  const family = familyOf(entry.to);
+  const ranges = entry.ranges;
+  const byRank = OUTCOMES.map((outcome) => ranges[outcome]);
+  // Most exposed first: that is what the reader is looking for.
+  const cidrs = [...OUTCOMES]
+    .reverse()
+    .filter((outcome) => !query.outcome || outcome === query.outcome)
+    .flatMap((outcome) => ranges[outcome].map((cidr) => ({ outcome, cidr })));
+  const cidrPage = pageOf(query.page, cidrs.length);
+  const grids = (family === 4 ? [IPV4_GRID] : IPV6_GRIDS).map((spec): GridView => {
+    const cells = buildGrid(spec, byRank);
+    return { spec, runs: gridRuns(cells, spec.columns).flatMap((run) => [run.row, run.column, run.length, run.rank]), cellsPerRank: cellsPerRank(cells) };
+  });
+  let week: HourCell[] | null = null;
+  let weekSlices: { start: string; end: string; outcome: Outcome | null }[] = [];
+  if (device.week.slices.length > 1) {
+    const key = entryKey(entry);
+    const slices = exposure(device).slices.map((slice) => {
+      const same = slice.entries.find((candidate) => entryKey(candidate) === key);
+      const rank = same ? topRank(OUTCOMES.map((outcome) => same.counts[outcome])) : -1;
+      return { start: slice.start, end: slice.end, startMinute: slice.startMinute, endMinute: slice.endMinute, rank };
+    });
+    week = weekHourGrid(slices);
+    weekSlices = slices.map((slice) => ({ start: slice.start, end: slice.end, outcome: slice.rank >= 0 ? OUTCOMES[slice.rank] : null }));
+  }
+  return {
+    key: entryKey(entry),
+    interface: entry.interface,
+    to: entry.to,
+    service: entry.service,
+    family,
+    counts: OUTCOMES.map((outcome) => entry.counts[outcome]),
+    cidrs: cidrs.slice(cidrPage.start, cidrPage.end),
+    cidrTotal: cidrs.length,
+    cidrPage: { page: cidrPage.page, pages: cidrPage.pages, start: cidrPage.start },
+    grids,
+    week,
+    weekSlices,
+  };
+}
