@@ -1,0 +1,13 @@
+#!/usr/bin/env bash
+# `npm run bench:web`: a benchmark database with the demo seed, the build, then the web benchmark.
+source "$(dirname "${BASH_SOURCE[0]}")/lib.sh"
+ensure_debian_packages postgresql >/dev/null
+ensure_npm_dependencies >/dev/null
+ensure_postgres_cluster >/dev/null
+ensure_database sallyport_bench_test
+ensure_session_secret
+export SALLYPORT_TEST_RESET=1
+run_migrations_and_seed >/dev/null
+build_app >/dev/null
+cd "$ROOT"
+exec node --import tsx tests/bench/web.bench.ts "$@"

@@ -1,0 +1,104 @@
+// Web benchmark: the trace page's loader and a trace round trip on a benchmark-size device.
+//   npm run bench:web            readable report
+//   npm run bench:web -- --json  one JSON object
+// Targets (2-core machine): device page loader ≤ 300 ms, trace round trip ≤ 50 ms (medians,
+// warm: a revision's compiled model is cached, as it is for an engineer tracing probe after probe).
+// Needs the build and a database: `bash server/setup/bench-web.sh` prepares both.
+import { spawn } from "node:child_process";
+import { performance } from "node:perf_hooks";
+import { createDevice } from "../../server/services/devices.server.ts";
+import { getDatabase } from "../../server/db/database.server.ts";
+import { Organisation, Site } from "../../models/index.ts";
+import { BENCH_SIZE, generateModel, prng } from "../../server/engine/testing/generate-model.ts";
+import { findFreePort } from "../support/free-port.ts";
+
+const json = process.argv.includes("--json");
+const LOADER_RUNS = 15;
+const TRACE_RUNS = 200;
+
+function median(values: number[]): number {
+  const sorted = [...values].sort((a, b) => a - b);
+  return sorted[Math.floor(sorted.length / 2)];
+}
+function percentile(values: number[], p: number): number {
+  const sorted = [...values].sort((a, b) => a - b);
+  return sorted[Math.min(sorted.length - 1, Math.floor(sorted.length * p))];
+}
+const round = (value: number) => Math.round(value * 10) / 10;
+
+async function main() {
+  getDatabase();
+  const organisation = await Organisation.findOne({ where: { slug: "lanternfield" } });
+  const site = organisation ? await Site.findOne({ where: { organisationId: organisation.id } }) : null;
+  if (!organisation || !site) throw new Error("the demo organisation is missing: run the bench through server/setup/bench-web.sh");
+  const generated = generateModel(20250301, BENCH_SIZE);
+  const document = { ...generated.model, device: { ...generated.model.device, name: `bench-${Date.now().toString(36)}` } };
+  const setupStart = performance.now();
+  const device = await createDevice(organisation.id, site.id, document, { userId: null, email: "bench@sallyport.invalid", clientAddress: "127.0.0.1" }, "Benchmark model");
+  const saveMs = performance.now() - setupStart;
+
+  const port = await findFreePort();
+  const base = `http://127.0.0.1:${port}`;
+  const server = spawn(process.execPath, ["--import", "tsx", "server/http/main.ts"], { env: { ...process.env, NODE_ENV: "production", PORT: String(port) }, stdio: ["ignore", "ignore", "inherit"] });
+  try {
+    for (let attempt = 0; ; attempt++) {
+      try {
+        if ((await fetch(`${base}/healthz`)).ok) break;
+      } catch {
+        // not up yet
+      }
+      if (attempt > 150) throw new Error("the server did not start");
+      await new Promise((resolve) => setTimeout(resolve, 200));
+    }
+    const signIn = await fetch(`${base}/login`, { method: "POST", redirect: "manual", headers: { Origin: base, "Content-Type": "application/x-www-form-urlencoded" }, body: new URLSearchParams({ email: "priya.nandakumar@lanternfield.example", password: "demo-password-engineer" }) });
+    const cookie = signIn.headers.getSetCookie().map((line) => line.split(";")[0]).join("; ");
+    if (!cookie) throw new Error("sign-in failed");
+    const get = async (path: string) => {
+      const start = performance.now();
+      const response = await fetch(`${base}${path}`, { headers: { Cookie: cookie } });
+      await response.arrayBuffer();
+      if (!response.ok) throw new Error(`${path}: ${response.status}`);
+      return performance.now() - start;
+    };
+    const page = `/o/lanternfield/devices/${device.id}/analysis`;
+    const loaderTimes: number[] = [];
+    const documentTimes: number[] = [];
+    for (let run = 0; run < LOADER_RUNS; run++) loaderTimes.push(await get(`${page}.data`));
+    for (let run = 0; run < 5; run++) documentTimes.push(await get(page));
+
+    const random = prng(7);
+    const interfaces = generated.model.interfaces ?? [];
+    const services = ["https", "ssh", "http", "ping", "snmp", "telnet"];
+    const traceTimes: number[] = [];
+    for (let run = 0; run < TRACE_RUNS; run++) {
+      const source = `${1 + Math.floor(random() * 222)}.${Math.floor(random() * 256)}.${Math.floor(random() * 256)}.${Math.floor(random() * 256)}`;
+      const probe = new URLSearchParams({ from: source, interface: interfaces[Math.floor(random() * interfaces.length)].name, service: services[Math.floor(random() * services.length)], at: "2026-12-02T10:00:00Z" });
+      traceTimes.push(await get(`/o/lanternfield/devices/${device.id}/api/trace?${probe}`));
+    }
+    const result = {
+      model: { interfaces: interfaces.length, inboundRules: generated.model.inboundRules?.length ?? 0, addressObjects: generated.model.addresses?.length ?? 0 },
+      saveRevisionMs: round(saveMs),
+      loaderColdMs: round(loaderTimes[0]),
+      loaderMedianMs: round(median(loaderTimes.slice(1))),
+      loaderP95Ms: round(percentile(loaderTimes.slice(1), 0.95)),
+      documentMedianMs: round(median(documentTimes)),
+      traceRoundTripMedianMs: round(median(traceTimes)),
+      traceRoundTripP95Ms: round(percentile(traceTimes, 0.95)),
+      targets: { loaderMs: median(loaderTimes.slice(1)) <= 300, traceRoundTripMs: median(traceTimes) <= 50 },
+    };
+    if (json) console.log(JSON.stringify(result));
+    else {
+      console.log(`benchmark device: ${result.model.inboundRules} inbound rules, ${result.model.addressObjects} address objects, ${result.model.interfaces} interfaces`);
+      console.log(`saving the revision (validate, summarise): ${result.saveRevisionMs} ms`);
+      console.log(`trace page loader: cold ${result.loaderColdMs} ms, warm median ${result.loaderMedianMs} ms (p95 ${result.loaderP95Ms}) — target ≤ 300 ms: ${result.targets.loaderMs ? "met" : "MISSED"}`);
+      console.log(`trace page document (loader + render): median ${result.documentMedianMs} ms`);
+      console.log(`trace round trip: median ${result.traceRoundTripMedianMs} ms (p95 ${result.traceRoundTripP95Ms}) — target ≤ 50 ms: ${result.targets.traceRoundTripMs ? "met" : "MISSED"}`);
+    }
+  } finally {
+    server.kill("SIGTERM");
+    await getDatabase().query(`DELETE FROM devices WHERE id = '${device.id}'`);
+    await getDatabase().close();
+  }
+}
+
+await main();
