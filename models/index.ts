@@ -2,6 +2,7 @@ import type { Sequelize } from "sequelize";
 import { AuditEvent } from "./audit-event.ts";
 import { Device } from "./device.ts";
 import { DeviceRevision } from "./device-revision.ts";
+import { FindingDismissal } from "./finding-dismissal.ts";
 import { Invitation } from "./invitation.ts";
 import { Membership } from "./membership.ts";
 import { Organisation } from "./organisation.ts";
@@ -13,11 +14,11 @@ import { Site } from "./site.ts";
 import { User } from "./user.ts";
 
 export type { RevisionSummaryRecord, SharedObjectsSnapshot } from "./device-revision.ts";
-export { AuditEvent, Device, DeviceRevision, Invitation, Membership, Organisation, PasswordReset, Session, SharedAddressObject, SignInAttempt, Site, User };
+export { AuditEvent, Device, DeviceRevision, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, Session, SharedAddressObject, SignInAttempt, Site, User };
 
 /** Registers every model and association on one Sequelize instance. */
 export function initModels(sequelize: Sequelize): void {
-  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, SignInAttempt, PasswordReset, Invitation, Device, DeviceRevision, SharedAddressObject]) {
+  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, SignInAttempt, PasswordReset, Invitation, Device, DeviceRevision, SharedAddressObject, FindingDismissal]) {
     model.initModel(sequelize);
   }
   Organisation.hasMany(Membership, { foreignKey: "organisationId", as: "memberships" });
@@ -36,4 +37,7 @@ export function initModels(sequelize: Sequelize): void {
   Device.hasMany(DeviceRevision, { foreignKey: "deviceId", as: "revisions" });
   DeviceRevision.belongsTo(Device, { foreignKey: "deviceId" });
   SharedAddressObject.belongsTo(Organisation, { foreignKey: "organisationId" });
+  FindingDismissal.belongsTo(Organisation, { foreignKey: "organisationId" });
+  FindingDismissal.belongsTo(Device, { foreignKey: "deviceId" });
+  Device.hasMany(FindingDismissal, { foreignKey: "deviceId", as: "findingDismissals" });
 }

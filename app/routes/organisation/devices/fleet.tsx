@@ -4,6 +4,7 @@ import type { Route } from "./+types/fleet";
 import { requireMember } from "../../../../server/auth/guard.server";
 import { hasAtLeastRole } from "../../../../server/auth/roles";
 import { listDevices } from "../../../../server/services/devices.server";
+import { activeFindingsBySeverity } from "../../../../server/services/findings.server";
 import { listSites } from "../../../../server/services/sites.server";
 import { isOutcome, OUTCOME_ORDER, OutcomeChip } from "~/components/outcome";
 import { SEVERITY_ORDER, SeverityCounts } from "~/components/severity";
@@ -29,7 +30,9 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const siteFilter = url.searchParams.get("site") ?? "";
   const sort: Sort = SORTS.find((candidate) => candidate === url.searchParams.get("sort")) ?? "name";
   const descending = url.searchParams.get("dir") === "desc";
-  const [devices, sites] = await Promise.all([listDevices(access.organisation.id), listSites(access.organisation.id)]);
+  const [listed, sites, active] = await Promise.all([listDevices(access.organisation.id), listSites(access.organisation.id), activeFindingsBySeverity(access.organisation.id)]);
+  // Counts leave out dismissed findings (accepted risks), as the device overview does.
+  const devices = listed.map((device) => ({ ...device, findingsBySeverity: active.get(device.id) ?? device.findingsBySeverity }));
   const filtered = devices.filter((device) => (!query || device.name.toLowerCase().includes(query) || device.siteName.toLowerCase().includes(query)) && (!siteFilter || device.siteId === siteFilter));
   const key = (device: (typeof devices)[number]): string | number => {
     switch (sort) {

@@ -1,9 +1,52 @@
-import { data } from "react-router";
+import { data, redirect } from "react-router";
+import { z } from "zod";
 import type { Route } from "./+types/dismissals";
+import { serializeFlash } from "../../../../../server/auth/flash.server";
+import { actorOf } from "../../../../../server/http/actor.server";
 import { requireDevice } from "../../../../../server/http/device-access.server";
+import { formValues, readForm, unknownIntent } from "../../../../../server/http/form.server";
+import { dismissFinding, FindingActionError, restoreFinding } from "../../../../../server/services/findings.server";
+import { parseFindingKey } from "~/components/findings/keys";
 
-// Being built; see the analysis issue.
+const ReasonSchema = z
+  .string()
+  .trim()
+  .min(3, "Say why this finding is accepted (at least 3 characters), so the next reader knows.")
+  .max(500, "Keep the reason to at most 500 characters.");
+
+/** The refusal the overview's dismiss/restore form shows beside its field, with what was typed. */
+function refused(status: 400 | 404 | 409, key: string, errors: Record<string, string>, values: Record<string, string>) {
+  return data({ ok: false as const, key, errors, values: { reason: values.reason ?? "" } }, { status });
+}
+
+// Posts only: the overview shows the findings; this address has nothing to show on its own.
 export async function loader({ request, params }: Route.LoaderArgs) {
   await requireDevice(request, params);
-  throw data({ message: "Not available yet." }, { status: 404 });
+  throw data({ message: "Dismissals are changed from the device overview (POST only)." }, { status: 405, headers: { Allow: "POST" } });
+}
+
+export async function action({ request, params, context }: Route.ActionArgs) {
+  const access = await requireDevice(request, params, "engineer");
+  const values = formValues(await readForm(request));
+  const intent = values.intent;
+  if (intent !== "dismiss" && intent !== "restore") return unknownIntent(intent);
+  const key = values.key ?? "";
+  if (!parseFindingKey(key)) return refused(400, key, { form: "That does not name a finding. Reload the overview and try again." }, values);
+  const overview = `/o/${access.organisation.slug}/devices/${access.device.id}`;
+  const actor = actorOf(access, context.clientAddress);
+  try {
+    if (intent === "dismiss") {
+      const reason = ReasonSchema.safeParse(values.reason ?? "");
+      if (!reason.success) return refused(400, key, { reason: reason.error.issues[0]?.message ?? "Enter a reason." }, values);
+      const finding = await dismissFinding(access, key, reason.data, actor);
+      throw redirect(overview, {
+        headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: `Dismissed “${finding.title}”. The device is unchanged; restore the finding when the reason no longer holds.` }) },
+      });
+    }
+    const restored = await restoreFinding(access, key, actor);
+    throw redirect(overview, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: `Restored “${restored.title}” to the active findings.` }) } });
+  } catch (error) {
+    if (error instanceof FindingActionError) return refused(error.status, key, { form: error.message }, values);
+    throw error;
+  }
 }

@@ -1,9 +1,11 @@
 import type { Route } from "./+types/overview";
-import { compileModel, findings } from "../../../../../server/engine/index";
+import { hasAtLeastRole } from "../../../../../server/auth/roles";
 import { requireDevice } from "../../../../../server/http/device-access.server";
-import { ElementLink } from "~/components/device/element-link";
+import { deviceFindings } from "../../../../../server/services/findings.server";
+import { ActiveFindingCard, DismissedFindingCard } from "~/components/findings/finding-card";
+import { countBySeverity } from "~/components/findings/keys";
 import { isOutcome, OutcomeChip } from "~/components/outcome";
-import { SEVERITY_ORDER, SeverityBadge, SeverityCounts } from "~/components/severity";
+import { SeverityCounts } from "~/components/severity";
 import { Card } from "~/components/ui/card";
 import { EmptyState } from "~/components/ui/empty-state";
 
@@ -11,20 +13,25 @@ export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.name ??
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const access = await requireDevice(request, params);
-  const list = findings(compileModel(access.effective));
-  list.sort((a, b) => SEVERITY_ORDER.indexOf(a.severity) - SEVERITY_ORDER.indexOf(b.severity));
+  // The engine lists the most severe first; dismissed ones move to their own section.
+  const list = await deviceFindings(access);
+  const active = list.filter((finding) => !finding.dismissal);
   return {
     name: access.device.name,
     devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`,
     summary: access.revision.summary,
     settings: access.effective.device,
     revision: { number: access.revision.number, message: access.revision.message, author: access.revision.authorEmail, at: access.revision.createdAt.toISOString() },
-    findings: list.map((finding) => ({ ...finding, elements: [...finding.elements] })),
+    active,
+    dismissed: list.filter((finding) => finding.dismissal),
+    // The counts show what still needs attention: dismissed findings are accepted risks.
+    activeCounts: countBySeverity(active),
+    canDismiss: hasAtLeastRole(access.role, "engineer"),
   };
 }
 
 export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
-  const { summary, settings, revision } = loaderData;
+  const { summary, settings, revision, activeCounts, active, dismissed, devicePath, canDismiss } = loaderData;
   return (
     <div className="space-y-6">
       <div className="grid gap-4 md:grid-cols-3">
@@ -34,10 +41,11 @@ export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
           <p className="mt-2 text-xs text-ink-muted">The most any source gets at any time of the week.</p>
         </Card>
         <Card className="p-5">
-          <h2 className="text-xs font-semibold tracking-wide text-ink-muted uppercase">Findings</h2>
+          <h2 className="text-xs font-semibold tracking-wide text-ink-muted uppercase">Active findings</h2>
           <div className="mt-3">
-            <SeverityCounts counts={summary.findingsBySeverity} />
+            <SeverityCounts counts={activeCounts} />
           </div>
+          {dismissed.length > 0 ? <p className="mt-2 text-xs text-ink-muted">{dismissed.length} dismissed as accepted risk, not counted.</p> : null}
         </Card>
         <Card className="p-5">
           <h2 className="text-xs font-semibold tracking-wide text-ink-muted uppercase">Model</h2>
@@ -53,33 +61,43 @@ export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
         Revision r{revision.number}: “{revision.message || "no message"}” by {revision.author || "unknown"} on {revision.at.slice(0, 16).replace("T", " ")} UTC.
       </p>
       <section aria-labelledby="findings-heading">
-        <h2 id="findings-heading" className="mb-3 text-lg font-semibold">
+        <h2 id="findings-heading" className="mb-1 text-lg font-semibold">
           Findings
         </h2>
-        {loaderData.findings.length === 0 ? (
-          <EmptyState title="No findings">The hardening checks found nothing to report on this revision. The simulation models the configuration, not the device: confirm on the device.</EmptyState>
+        <p className="mb-3 text-sm text-ink-muted">
+          Hardening checks on revision r{revision.number}, most severe first. Each names the elements involved (open one to edit it), why it matters and its source. The simulation models the
+          configuration, not the device: confirm on the device in a maintenance window.
+        </p>
+        {active.length === 0 ? (
+          <EmptyState title={dismissed.length ? "No active findings" : "No findings"}>
+            {dismissed.length
+              ? "Every finding of this revision is dismissed as an accepted risk; see below."
+              : "The hardening checks found nothing to report on this revision. The simulation models the configuration, not the device: confirm on the device."}
+          </EmptyState>
         ) : (
           <ul className="space-y-3">
-            {loaderData.findings.map((finding, index) => (
-              <li key={`${finding.code}-${index}`}>
-                <Card className="p-4">
-                  <div className="flex flex-wrap items-center gap-2">
-                    <SeverityBadge severity={finding.severity} />
-                    <h3 className="font-semibold">{finding.title}</h3>
-                    <code className="text-xs text-ink-faint">{finding.code}</code>
-                  </div>
-                  <p className="mt-2 text-sm text-ink-muted">{finding.detail}</p>
-                  <div className="mt-2 flex flex-wrap items-center gap-2 text-sm">
-                    {finding.elements.map((element) => (
-                      <ElementLink key={element} devicePath={loaderData.devicePath} element={element} />
-                    ))}
-                    <span className="ml-auto text-xs text-ink-faint">Source: {finding.source}</span>
-                  </div>
-                </Card>
+            {active.map((finding) => (
+              <li key={finding.key}>
+                <ActiveFindingCard finding={finding} devicePath={devicePath} canDismiss={canDismiss} />
               </li>
             ))}
           </ul>
         )}
+        {dismissed.length > 0 ? (
+          <details className="mt-6 rounded-card border border-line bg-surface p-4">
+            <summary className="cursor-pointer text-base font-semibold">Dismissed ({dismissed.length})</summary>
+            <p className="mt-2 text-sm text-ink-muted">
+              Accepted risks, with the reason given. They stay dismissed on later revisions while the engine reports the same finding. Dismissing changed nothing on the device.
+            </p>
+            <ul className="mt-3 space-y-3">
+              {dismissed.map((finding) => (
+                <li key={finding.key}>
+                  <DismissedFindingCard finding={finding} devicePath={devicePath} canRestore={canDismiss} />
+                </li>
+              ))}
+            </ul>
+          </details>
+        ) : null}
       </section>
     </div>
   );

@@ -1,0 +1,51 @@
+// The stable finding key (code + sorted elements) that lets a dismissal outlive a revision,
+// and the fleet findings page's filters and order, without a database.
+
+import { describe, expect, test } from "vitest";
+import { countBySeverity, filterFindingRows, findingKey, parseFindingKey, parseFindingsQuery, sortFindingRows, type FindingRowLike } from "../../app/components/findings/keys";
+
+describe("Finding keys", () => {
+  test("A finding's key ignores element order, so the same finding on a later revision has the same key", () => {
+    const first = findingKey({ code: "internet-login-exposed", elements: ["service:https", "interface:outside"] });
+    const later = findingKey({ code: "internet-login-exposed", elements: ["interface:outside", "service:https"] });
+    expect(first).toBe(later);
+    expect(first).toBe("internet-login-exposed interface:outside service:https");
+    expect(findingKey({ code: "internet-login-exposed", elements: ["interface:outside", "service:ssh"] })).not.toBe(first);
+  });
+
+  test("A key round-trips through a form, and a typed or tampered value is refused", () => {
+    expect(parseFindingKey("default-account-name account:admin")).toEqual({ code: "default-account-name", elements: ["account:admin"] });
+    expect(parseFindingKey("lockout operator-network:lf-noc")).toEqual({ code: "lockout", elements: ["operator-network:lf-noc"] });
+    for (const bad of ["", "<script>", "Default account:admin", "default-account-name account:", "default-account-name admin", `x ${"account:a ".repeat(20).trim()}`, "a".repeat(1001), 42, null]) {
+      expect(parseFindingKey(bad), String(bad).slice(0, 40)).toBeNull();
+    }
+  });
+});
+
+const row = (severity: string, deviceName: string, code: string, dismissed = false): FindingRowLike => ({ severity, deviceName, code, dismissed, deviceId: `${deviceName}-id`, siteId: "site", title: `${code} on ${deviceName}` });
+
+describe("Fleet findings filters and order", () => {
+  const rows = [row("low", "b-gw", "internet-ping"), row("critical", "a-gw", "lockout"), row("high", "c-gw", "no-second-factor", true), row("medium", "a-gw", "shadowed-rule")];
+
+  test("Severity 'at least' includes the threshold and everything worse; dismissed rows show only on request", () => {
+    const query = parseFindingsQuery(new URLSearchParams("severity=medium"));
+    expect(filterFindingRows(rows, query).map((entry) => entry.code)).toEqual(["lockout", "shadowed-rule"]);
+    const withDismissed = parseFindingsQuery(new URLSearchParams("severity=medium&dismissed=show"));
+    expect(filterFindingRows(rows, withDismissed).map((entry) => entry.code)).toEqual(["lockout", "no-second-factor", "shadowed-rule"]);
+  });
+
+  test("The default order is worst first; device and check sort A to Z, reversible", () => {
+    const worstFirst = parseFindingsQuery(new URLSearchParams(""));
+    expect(sortFindingRows(rows, worstFirst.sort, worstFirst.descending).map((entry) => entry.severity)).toEqual(["critical", "high", "medium", "low"]);
+    expect(sortFindingRows(rows, "device", false).map((entry) => entry.deviceName)).toEqual(["a-gw", "a-gw", "b-gw", "c-gw"]);
+    // Ties on the device fall back to worst first.
+    expect(sortFindingRows(rows, "device", false).slice(0, 2).map((entry) => entry.severity)).toEqual(["critical", "medium"]);
+    expect(sortFindingRows(rows, "code", true).map((entry) => entry.code)).toEqual(["shadowed-rule", "no-second-factor", "lockout", "internet-ping"]);
+  });
+
+  test("Unknown query values fall back to no filter, and counts cover every severity", () => {
+    const query = parseFindingsQuery(new URLSearchParams("severity=dire&code=<x>&site=nope&sort=colour"));
+    expect(query).toMatchObject({ minSeverity: "", code: "", site: "", sort: "severity", descending: true, showDismissed: false });
+    expect(countBySeverity(rows)).toEqual({ info: 0, low: 1, medium: 1, high: 1, critical: 1 });
+  });
+});
