@@ -84,7 +84,7 @@ export type ExposureAnswer =
         grids: GridView[];
         /** 168 hour cells, or null when exposure does not change over the week. */
         week: HourCell[] | null;
-        weekSlices: { start: string; end: string; outcome: Outcome | null }[];
+        weekSlices: { start: string; end: string; outcome: Outcome | null; exposed: string }[];
       };
     };
 
@@ -156,16 +156,22 @@ function focusOf(device: ReturnType<typeof compileModel>, entry: ExposureEntry, 
     return { spec, runs: gridRuns(cells, spec.columns).flatMap((run) => [run.row, run.column, run.length, run.rank]), cellsPerRank: cellsPerRank(cells) };
   });
   let week: HourCell[] | null = null;
-  let weekSlices: { start: string; end: string; outcome: Outcome | null }[] = [];
+  let weekSlices: { start: string; end: string; outcome: Outcome | null; exposed: string }[] = [];
   if (device.week.slices.length > 1) {
     const key = entryKey(entry);
     const slices = exposure(device).slices.map((slice) => {
       const same = slice.entries.find((candidate) => entryKey(candidate) === key);
       const rank = same ? topRank(OUTCOMES.map((outcome) => same.counts[outcome])) : -1;
-      return { start: slice.start, end: slice.end, startMinute: slice.startMinute, endMinute: slice.endMinute, rank };
+      // Addresses that get any answer: the top outcome can stay the same while more sources reach it.
+      const exposed = same ? OUTCOMES.slice(1).reduce((sum, outcome) => sum + BigInt(same.counts[outcome]), 0n) : 0n;
+      return { start: slice.start, end: slice.end, startMinute: slice.startMinute, endMinute: slice.endMinute, rank, exposed };
     });
     week = weekHourGrid(slices);
-    weekSlices = slices.map((slice) => ({ start: slice.start, end: slice.end, outcome: slice.rank >= 0 ? OUTCOMES[slice.rank] : null }));
+    // Levels of exposed-address counts (0 = the week's least), laid on the same hours.
+    const levels = [...new Set(slices.map((slice) => slice.exposed))].sort((a, b) => (a < b ? -1 : a > b ? 1 : 0));
+    const wider = weekHourGrid(slices.map((slice) => ({ ...slice, rank: levels.indexOf(slice.exposed) })));
+    week = week.map((cell, hour) => ({ ...cell, wider: wider[hour].top > 0 }));
+    weekSlices = slices.map((slice) => ({ start: slice.start, end: slice.end, outcome: slice.rank >= 0 ? OUTCOMES[slice.rank] : null, exposed: slice.exposed.toString() }));
   }
   return {
     key: entryKey(entry),

@@ -54,7 +54,7 @@ function SpecialShapes({ id, spec, special }: { id: string; spec: GridSpec; spec
     return (
       <g aria-hidden="true">
         {runs.map((run) => (
-          <circle key={`${run.row}-${run.column}`} cx={(run.column + 0.5) * CELL} cy={(run.row + 0.5) * CELL} r={5} fill="none" stroke="var(--color-ink)" strokeWidth="1.25" />
+          <circle key={`${run.row}-${run.column}`} cx={(run.column + 0.5) * CELL} cy={(run.row + 0.5) * CELL} r={spec.columns >= 256 ? 5 : 1.4} fill="none" stroke="var(--color-ink)" strokeWidth={spec.columns >= 256 ? 1.25 : 0.3} />
         ))}
       </g>
     );
@@ -62,17 +62,11 @@ function SpecialShapes({ id, spec, special }: { id: string; spec: GridSpec; spec
   return (
     <g aria-hidden="true">
       {runs.map((run) => (
-        <rect
-          key={`${run.row}-${run.column}`}
-          x={run.column * CELL}
-          y={run.row * CELL}
-          width={run.length * CELL}
-          height={CELL}
-          fill={`url(#${id}-${special.mark})`}
-          stroke="var(--color-ink)"
-          strokeOpacity="0.6"
-          strokeWidth="0.5"
-        />
+        // A pale wash first, so even a one-row block (10/8 is 2 px tall) stands out from the outcome colour.
+        <g key={`${run.row}-${run.column}`}>
+          <rect x={run.column * CELL} y={run.row * CELL} width={run.length * CELL} height={CELL} fill="var(--color-surface)" fillOpacity="0.55" />
+          <rect x={run.column * CELL} y={run.row * CELL} width={run.length * CELL} height={CELL} fill={`url(#${id}-${special.mark})`} stroke="var(--color-ink)" strokeOpacity="0.8" strokeWidth="0.6" />
+        </g>
       ))}
     </g>
   );
@@ -89,10 +83,45 @@ export function AddressGrid({ spec, runs, title, description }: { spec: GridSpec
     const [row, column, length, rank] = [runs[i], runs[i + 1], runs[i + 2], runs[i + 3]];
     rects.push(<rect key={i} x={column * CELL} y={row * CELL} width={length * CELL} height={CELL} fill={OUTCOME_FILL(rank)} />);
   }
+  // A lone exposed /16 is 2 px wide: blocks more exposed than the bulk of the map get an
+  // enlarged, outlined copy on top so they cannot be missed (bounded, so a busy map stays light).
+  const cellsOf = new Map<number, number>();
+  for (let i = 0; i < runs.length; i += 4) cellsOf.set(runs[i + 3], (cellsOf.get(runs[i + 3]) ?? 0) + runs[i + 2]);
+  const bulk = [...cellsOf].reduce((best, entry) => (entry[1] > best[1] ? entry : best), [-1, -1])[0];
+  const standouts: number[] = [];
+  for (let i = 0; i < runs.length; i += 4) if (runs[i + 3] > bulk && runs[i + 3] !== 255) standouts.push(i);
+  const halo = spec.columns >= 256 ? 3 : 0.75;
+  const halos =
+    standouts.length <= 2000
+      ? standouts.map((i) => (
+          <rect
+            key={`h${i}`}
+            x={runs[i + 1] * CELL - halo}
+            y={runs[i] * CELL - halo}
+            width={runs[i + 2] * CELL + 2 * halo}
+            height={CELL + 2 * halo}
+            fill={OUTCOME_FILL(runs[i + 3])}
+            stroke="var(--color-ink)"
+            strokeWidth={spec.columns >= 256 ? 0.8 : 0.3}
+          />
+        ))
+      : null;
   // Small grids (IPv6) are scaled up so a cell is still visible.
   const scale = spec.columns >= 256 ? 1 : 8;
   return (
     <figure className="min-w-0">
+      <div className="flex items-stretch gap-1">
+      {spec.columns === 256 ? (
+        // First-octet ticks beside the rows.
+        <div aria-hidden="true" className="relative w-6 shrink-0 text-[9px] text-ink-faint">
+          {[0, 64, 128, 192, 255].map((octet) => (
+            <span key={octet} className="tabular absolute right-0 -translate-y-1/2" style={{ top: `${((octet + 0.5) / 256) * 100}%` }}>
+              {octet}
+            </span>
+          ))}
+        </div>
+      ) : null}
+      <div className="min-w-0">
       <svg
         role="img"
         aria-labelledby={`${id}-title ${id}-desc`}
@@ -110,7 +139,20 @@ export function AddressGrid({ spec, runs, title, description }: { spec: GridSpec
         {specialsOf(spec).map((special) => (
           <SpecialShapes key={special.key} id={id} spec={spec} special={special} />
         ))}
+        <g aria-hidden="true">{halos}</g>
       </svg>
+      {spec.columns === 256 ? (
+        // Octet ticks under the picture: where 0, 64, 128, 192 and 255 fall on both axes.
+        <div aria-hidden="true" className="relative mt-0.5 h-3 text-[9px] text-ink-faint" style={{ width: width * scale, maxWidth: "100%" }}>
+          {[0, 64, 128, 192, 255].map((octet) => (
+            <span key={octet} className="absolute -translate-x-1/2 tabular" style={{ left: `${((octet + 0.5) / 256) * 100}%` }}>
+              {octet}
+            </span>
+          ))}
+        </div>
+      ) : null}
+      </div>
+      </div>
       <figcaption className="mt-1 text-xs text-ink-muted">{title}</figcaption>
     </figure>
   );
@@ -124,6 +166,7 @@ export function AddressMapLegend({ specs }: { specs: readonly GridSpec[] }) {
     <div className="space-y-3 text-xs">
       <div>
         <h4 className="mb-1 font-semibold text-ink-muted">Cell colour: most exposed outcome in the block</h4>
+        <p className="mb-1 text-ink-faint">Blocks more exposed than most of the map are drawn enlarged, outlined.</p>
         <ul className="space-y-1">
           {[...OUTCOME_ORDER].reverse().map((outcome) => (
             <li key={outcome} className="flex items-center gap-2">

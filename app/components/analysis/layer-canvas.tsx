@@ -226,7 +226,7 @@ export function LayerCanvas({ model, trace, step, devicePath, probe }: { model: 
   }, [model, trace, step, devicePath, probe]);
 
   return (
-    <div className="h-[34rem] w-full overflow-hidden rounded-card border border-line bg-surface" role="img" aria-label={trace ? `Layer canvas: ${trace.layers.slice(0, step).map((layer) => `${LAYER_TITLES[layer.layer]} ${layer.result}`).join(", ")}${trace && step >= trace.layers.length ? `; outcome ${OUTCOME_LABELS[trace.outcome]}` : ""}` : "Layer canvas: no probe yet"}>
+    <div className="h-[34rem] w-full overflow-hidden rounded-card border border-line bg-surface" role="region" aria-label={trace ? `Layer canvas: ${trace.layers.slice(0, step).map((layer) => `${LAYER_TITLES[layer.layer]} ${layer.result}`).join(", ")}${trace && step >= trace.layers.length ? `; outcome ${OUTCOME_LABELS[trace.outcome]}` : ""}` : "Layer canvas: no probe yet"}>
       <ReactFlow
         nodes={nodes}
         edges={edges}

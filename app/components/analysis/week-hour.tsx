@@ -39,10 +39,11 @@ export function WeekHourGrid({ cells, current, caption }: { cells: readonly Hour
               {Array.from({ length: 24 }, (_, hour) => {
                 const index = dayIndex * 24 + hour;
                 const cell = cells[index];
-                const words = `${day} ${String(hour).padStart(2, "0")}:00: ${labelOf(cell.top)}${cell.changes ? " (changes within the hour)" : ""}${current === index ? " — the chosen time" : ""}`;
+                const words = `${day} ${String(hour).padStart(2, "0")}:00: ${labelOf(cell.top)}${cell.wider ? ", more sources answered than at the quietest time" : ""}${cell.changes ? " (changes within the hour)" : ""}${current === index ? " — the chosen time" : ""}`;
                 return (
                   <td key={hour} title={words} className="relative h-5 w-6 rounded-[3px] p-0" style={{ background: OUTCOME_FILL(cell.top), outline: current === index ? "2px solid var(--color-ink)" : undefined, outlineOffset: 1 }}>
                     <span className="sr-only">{words}</span>
+                    {cell.wider ? <span aria-hidden="true" className="absolute top-1/2 left-1/2 h-1.5 w-1.5 -translate-x-1/2 -translate-y-1/2 rounded-full bg-surface ring-1 ring-ink/60" /> : null}
                     {cell.changes ? <span aria-hidden="true" className="absolute top-0 right-0 h-0 w-0 border-t-[6px] border-l-[6px] border-t-ink border-l-transparent" /> : null}
                   </td>
                 );

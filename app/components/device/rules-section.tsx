@@ -20,7 +20,7 @@ function RuleRow({ rule, position, count, props }: { rule: Rule; position: numbe
     <li
       ref={sortable.setNodeRef}
       style={style}
-      className={cx("grid grid-cols-[2.5rem_1fr] items-start gap-x-3 gap-y-2 border-b border-line bg-surface px-3 py-3 last:border-b-0", sortable.isDragging && "relative z-10 shadow-overlay", !rule.enabled && "opacity-60")}
+      className={cx("grid grid-cols-[2.5rem_1fr] items-start gap-x-3 gap-y-2 border-b border-line bg-surface px-3 py-3 last:border-b-0", sortable.isDragging && "relative z-10 shadow-overlay", !rule.enabled && "bg-surface-sunken")}
       aria-label={`Rule ${rule.id} at position ${position}`}
     >
       <div className="flex flex-col items-center gap-1">

@@ -1,9 +1,23 @@
-import { data } from "react-router";
 import type { Route } from "./+types/exposure.csv";
+import { OUTCOMES } from "../../../../../server/engine/index";
+import { exposureEntriesAt, exposureQueryOf, filterEntries } from "../../../../../server/analysis/exposure.server";
 import { requireDevice } from "../../../../../server/http/device-access.server";
+import { addressCount, downloadName, toCsv } from "~/utils/analysis";
 
-// Being built; see the analysis issue.
+// The exposure map at one instant as CSV: one row per CIDR, with that CIDR's address count, so
+// the counts of one entry sum to its family's size (2^32 or 2^128). Same filters as the page.
 export async function loader({ request, params }: Route.LoaderArgs) {
-  await requireDevice(request, params);
-  throw data({ message: "Not available yet." }, { status: 404 });
+  const access = await requireDevice(request, params);
+  const query = exposureQueryOf(new URL(request.url));
+  const answer = exposureEntriesAt(access.effective, query.at);
+  if (!answer.ok) return new Response(`at: ${answer.error}\n`, { status: 400, headers: { "Content-Type": "text/plain; charset=utf-8" } });
+  const rows: string[][] = [["interface", "to", "service", "outcome", "count", "cidr"]];
+  for (const entry of filterEntries(answer.entries, query)) {
+    for (const outcome of OUTCOMES) {
+      if (query.outcome && outcome !== query.outcome) continue;
+      for (const cidr of entry.ranges[outcome]) rows.push([entry.interface, entry.to, entry.service, outcome, addressCount([cidr]).toString(), cidr]);
+    }
+  }
+  const fileName = `${downloadName(access.device.name, "exposure-map")}.csv`;
+  return new Response(toCsv(rows), { headers: { "Content-Type": "text/csv; charset=utf-8", "Content-Disposition": `attachment; filename="${fileName}"` } });
 }

@@ -1,9 +1,21 @@
-import { data } from "react-router";
 import type { Route } from "./+types/reach.csv";
+import { answerReach, reachQueryOf } from "../../../../../server/analysis/reach.server";
 import { requireDevice } from "../../../../../server/http/device-access.server";
+import { downloadName, toCsv } from "~/utils/analysis";
 
-// Being built; see the analysis issue.
+const REACH_CSV_HEADER = ["interface", "to", "service", "outcome", "deciding_layer", "rule_id", "eligible_accounts", "detail"] as const;
+
+// The reach table as CSV, one row per interface × catalogue service, in engine order.
 export async function loader({ request, params }: Route.LoaderArgs) {
-  await requireDevice(request, params);
-  throw data({ message: "Not available yet." }, { status: 404 });
+  const access = await requireDevice(request, params);
+  const answer = answerReach(access.effective, reachQueryOf(new URL(request.url)));
+  if (!answer.ok) {
+    const message = Object.entries(answer.errors).map(([field, text]) => `${field}: ${text}`).join("\n");
+    return new Response(`${message}\n`, { status: 400, headers: { "Content-Type": "text/plain; charset=utf-8" } });
+  }
+  const rows = answer.rows.map((row) => [row.interface, row.to ?? "", row.service, row.outcome, row.layer, row.ruleId ?? "", row.eligibleAccounts.join(" "), row.detail]);
+  const fileName = `${downloadName(access.device.name, "reach", answer.from.replace(/[:.]/g, "_"))}.csv`;
+  return new Response(toCsv([REACH_CSV_HEADER, ...rows]), {
+    headers: { "Content-Type": "text/csv; charset=utf-8", "Content-Disposition": `attachment; filename="${fileName}"` },
+  });
 }

@@ -1,13 +1,188 @@
+import { data, Form, useSearchParams } from "react-router";
 import type { Route } from "./+types/reach";
+import { answerReach, reachQueryOf, type ReachRow } from "../../../../../server/analysis/reach.server";
 import { requireDevice } from "../../../../../server/http/device-access.server";
+import { SimulationCaution } from "~/components/analysis/common";
+import { OUTCOME_LABELS, OUTCOME_ORDER, OutcomeChip, type OutcomeName } from "~/components/outcome";
+import { buttonClasses } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
 import { EmptyState } from "~/components/ui/empty-state";
+import { TextField } from "~/components/ui/field";
+import { SortHeader, sortRows } from "~/components/ui/sort-header";
+import { Table, Td } from "~/components/ui/table";
 
-// Being built; see the analysis issue.
-export async function loader({ request, params }: Route.LoaderArgs) {
-  await requireDevice(request, params);
-  return null;
+export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Reach${loaded?.query.from ? ` from ${loaded.query.from}` : ""} · ${loaded?.deviceName ?? "Device"} · Sallyport` }];
+
+const SORTS = ["interface", "service", "outcome", "layer", "rule", "accounts"] as const;
+type Sort = (typeof SORTS)[number];
+
+const LAYER_LABELS: Record<string, string> = {
+  arrival: "Arrival",
+  "inbound-rules": "Inbound rules",
+  listener: "Listener",
+  "service-kind": "Service kind",
+  "login-sources": "Login sources",
+  "second-factor": "Second factor",
+};
+const LAYER_ORDER = Object.keys(LAYER_LABELS);
+
+function sortKey(sort: Sort): (row: ReachRow) => string | number {
+  switch (sort) {
+    case "service":
+      return (row) => row.serviceIndex * 10_000 + row.interfaceIndex;
+    case "outcome":
+      return (row) => OUTCOME_ORDER.indexOf(row.outcome) * 10_000 + row.interfaceIndex * 100 + row.serviceIndex;
+    case "layer":
+      return (row) => LAYER_ORDER.indexOf(row.layer) * 10_000 + row.interfaceIndex * 100 + row.serviceIndex;
+    case "rule":
+      return (row) => row.ruleId ?? "";
+    case "accounts":
+      return (row) => row.eligibleAccounts.join(" ");
+    default:
+      // Engine order: interfaces as in the model, services as in the catalogue.
+      return (row) => row.interfaceIndex * 10_000 + row.serviceIndex;
+  }
 }
 
-export default function Placeholder() {
-  return <EmptyState title="Coming">This analysis page is being built.</EmptyState>;
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const access = await requireDevice(request, params);
+  const url = new URL(request.url);
+  const query = reachQueryOf(url);
+  const sort: Sort = SORTS.find((candidate) => candidate === url.searchParams.get("sort")) ?? "interface";
+  const descending = url.searchParams.get("dir") === "desc";
+  const noErrors: { from?: string; at?: string } = {};
+  const base = { deviceName: access.device.name, devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`, timezone: access.effective.device.timezone, query, sort, descending };
+  // No source yet: just the form (asking is not an error).
+  if (!url.searchParams.has("from") && !url.searchParams.has("at")) return { ...base, answer: null, errors: noErrors };
+  const answer = answerReach(access.effective, query);
+  if (!answer.ok) return data({ ...base, answer: null, errors: answer.errors }, { status: 400 });
+  return { ...base, answer: { ...answer, rows: sortRows([...answer.rows], sortKey(sort), descending) }, errors: noErrors };
+}
+
+/** "reaches 2 services with a login (2 with a password only), 1 answers, …" from the rows. */
+function summaryOf(rows: readonly ReachRow[]): string {
+  const count = (outcomes: readonly OutcomeName[]) => rows.filter((row) => outcomes.includes(row.outcome)).length;
+  const logins = count(["login-password", "login-mfa", "login-denied"]);
+  const loginParts = [
+    [count(["login-password"]), "with a password only"],
+    [count(["login-mfa"]), "with a second factor"],
+    [count(["login-denied"]), "shown but refused"],
+  ] as const;
+  const loginDetail = loginParts
+    .filter(([n]) => n > 0)
+    .map(([n, words]) => `${n} ${words}`)
+    .join(", ");
+  const plural = (n: number, one: string, many: string) => `${n} ${n === 1 ? one : many}`;
+  return [
+    `reaches ${plural(logins, "service", "services")} with a login${loginDetail ? ` (${loginDetail})` : ""}`,
+    `${plural(count(["answered"]), "answers", "answer")}`,
+    `${plural(count(["refused"]), "refuses and reveals the device", "refuse and reveal the device")}`,
+    `${count(["silent"])} silent`,
+  ].join(", ");
+}
+
+export default function Reach({ loaderData }: Route.ComponentProps) {
+  const [searchParams] = useSearchParams();
+  const { query, errors, answer, sort, descending, timezone, devicePath } = loaderData;
+  const csvParams = new URLSearchParams({ from: answer?.from ?? query.from });
+  if (query.at) csvParams.set("at", query.at);
+  return (
+    <div className="space-y-6">
+      <div>
+        <h2 className="text-lg font-semibold">Reach</h2>
+        <p className="mt-1 max-w-3xl text-sm text-ink-muted">Everything one source can reach on this device: every interface × catalogue service, the outcome, and the layer that decided it.</p>
+      </div>
+      <Card className="p-5">
+        <Form method="get" className="grid items-start gap-4 md:grid-cols-[minmax(0,16rem)_minmax(0,20rem)_auto]" aria-label="Reach query">
+          {searchParams.get("sort") ? <input type="hidden" name="sort" value={sort} /> : null}
+          {searchParams.get("dir") ? <input type="hidden" name="dir" value={descending ? "desc" : "asc"} /> : null}
+          <TextField label="Source address" name="from" defaultValue={query.from} placeholder="203.0.113.50 or 2001:db8::5" error={errors.from} autoComplete="off" spellCheck={false} required />
+          <TextField
+            label="Time (optional)"
+            name="at"
+            defaultValue={query.at}
+            placeholder="2025-03-04T10:00"
+            error={errors.at}
+            autoComplete="off"
+            spellCheck={false}
+            hint={
+              <>
+                ISO 8601. Without an offset it is read on the device clock ({timezone}); with <code>Z</code> or an offset it is that instant. Empty: now.
+              </>
+            }
+          />
+          <div className="md:pt-7">
+            <button type="submit" className={buttonClasses("primary")}>
+              Show reach
+            </button>
+          </div>
+        </Form>
+      </Card>
+
+      {answer ? (
+        <section aria-labelledby="reach-results" className="space-y-3">
+          <div className="flex flex-wrap items-end justify-between gap-3">
+            <div>
+              <h3 id="reach-results" className="font-semibold">
+                From <code>{answer.from}</code>
+              </h3>
+              <p className="text-sm text-ink-muted">
+                At {answer.localTime} on the device clock ({timezone}) · {answer.at} UTC
+              </p>
+            </div>
+            <a href={`${devicePath}/reach.csv?${csvParams.toString()}`} className={buttonClasses("secondary", "sm")} download>
+              Download CSV
+            </a>
+          </div>
+          <p className="text-sm" aria-live="polite">
+            <strong>{answer.from}</strong> {summaryOf(answer.rows)}.
+          </p>
+          <SimulationCaution />
+          {answer.rows.length === 0 ? (
+            <EmptyState title="No interfaces">This device has no interfaces, so nothing can be reached.</EmptyState>
+          ) : (
+            <Table>
+              <caption className="sr-only">Outcome for each interface and service, sortable by column</caption>
+              <thead>
+                <tr>
+                  <SortHeader column="interface" label="Interface" sort={sort} descending={descending} />
+                  <SortHeader column="service" label="Service" sort={sort} descending={descending} />
+                  <SortHeader column="outcome" label="Outcome" sort={sort} descending={descending} />
+                  <SortHeader column="layer" label="Deciding layer" sort={sort} descending={descending} />
+                  <SortHeader column="rule" label="Rule" sort={sort} descending={descending} />
+                  <SortHeader column="accounts" label="Eligible accounts" sort={sort} descending={descending} />
+                </tr>
+              </thead>
+              <tbody>
+                {answer.rows.map((row) => (
+                  <tr key={row.name}>
+                    <Td>
+                      <span className="font-medium">{row.interface}</span>
+                      {row.to ? <span className="block font-mono text-xs text-ink-faint">{row.to}</span> : null}
+                    </Td>
+                    <Td className="font-mono">{row.service}</Td>
+                    <Td>
+                      <OutcomeChip outcome={row.outcome} />
+                      <span className="sr-only"> ({row.outcome})</span>
+                    </Td>
+                    <Td className="max-w-md">
+                      <span className="font-medium">{LAYER_LABELS[row.layer] ?? row.layer}</span>
+                      <span className="block text-xs text-ink-muted">{row.detail}</span>
+                    </Td>
+                    <Td className="font-mono text-xs">{row.ruleId ?? <span className="font-sans whitespace-nowrap text-ink-faint">no rule matched</span>}</Td>
+                    <Td className="text-xs">{row.eligibleAccounts.length ? row.eligibleAccounts.join(", ") : <span className="text-ink-faint">—</span>}</Td>
+                  </tr>
+                ))}
+              </tbody>
+            </Table>
+          )}
+          <p className="text-xs text-ink-muted">
+            Outcomes, least to most exposed: {OUTCOME_ORDER.map((outcome) => OUTCOME_LABELS[outcome]).join(" < ")}. Anything above “{OUTCOME_LABELS.silent}” tells an outsider the device exists.
+          </p>
+        </section>
+      ) : Object.keys(errors).length ? null : (
+        <EmptyState title="Ask about one source">Enter a source address to see what it can reach on every interface, and what it would see.</EmptyState>
+      )}
+    </div>
+  );
 }

@@ -1,0 +1,68 @@
+import AxeBuilder from "@axe-core/playwright";
+import { expect, test, type Page } from "@playwright/test";
+import { screenshot, signIn } from "./helpers";
+
+async function deviceId(page: Page, name: string): Promise<string> {
+  await page.goto("/o/lanternfield/devices");
+  const href = await page.getByRole("link", { name, exact: true }).getAttribute("href");
+  const id = href?.split("/").at(-1);
+  if (!id) throw new Error(`no demo device ${name}`);
+  return id;
+}
+
+async function expectNoSeriousViolations(page: Page) {
+  const results = await new AxeBuilder({ page }).withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa"]).analyze();
+  const serious = results.violations.filter((violation) => violation.impact === "serious" || violation.impact === "critical");
+  expect(serious.map((violation) => `${violation.id}: ${violation.help} (${violation.nodes.map((node) => node.target.join(" ")).slice(0, 3).join("; ")})`)).toEqual([]);
+}
+
+test("A trainer walks a probe through every layer, one verdict at a time", async ({ page }) => {
+  await signIn(page, "jun.watanabe@lanternfield.example", "demo-password-trainee");
+  const id = await deviceId(page, "clf-gw-02");
+  await page.goto(`/o/lanternfield/devices/${id}/analysis?from=203.0.113.50&interface=outside&service=https`);
+  const verdicts = page.getByRole("list", { name: "Layer verdicts" });
+  await expect(verdicts.getByRole("listitem")).toHaveCount(6);
+  await page.getByRole("button", { name: "Start walkthrough" }).click();
+  await expect(page.getByText("Layer 0 of 6")).toBeVisible();
+  await expect(verdicts.getByText("Predict this layer's verdict, then step on.").first()).toBeVisible();
+  await screenshot(page, "30-walkthrough-start");
+  const expected = [
+    ["Arrival", "passes"],
+    ["Inbound rules", "passes"],
+    ["Listener", "passes"],
+    ["Service kind", "passes"],
+    ["Login sources", "passes"],
+    ["Second factor", "stops here"],
+  ];
+  for (const [index, [layer, verdict]] of expected.entries()) {
+    await page.getByRole("button", { name: "Next layer" }).click();
+    await expect(page.getByText(`Layer ${index + 1} of 6`)).toBeVisible();
+    const row = verdicts.getByRole("listitem").nth(index);
+    await expect(row).toContainText(layer);
+    await expect(row).toContainText(verdict);
+    if (index === 2) await screenshot(page, "31-walkthrough-listener");
+  }
+  await expect(page.getByLabel("Outcome", { exact: true })).toContainText("Login page shown: a password alone logs in (admin without a second factor).");
+  await screenshot(page, "32-walkthrough-outcome");
+
+  // Typing a new probe asks the server again; the URL follows so the probe can be shared.
+  await page.getByLabel("From (source)").fill("10.0.0");
+  await expect(page.locator("#probe-error")).toContainText("10.0.0");
+  await page.getByLabel("From (source)").fill("198.51.100.99");
+  await page.getByLabel("Service", { exact: true }).fill("telnet");
+  await expect(page).toHaveURL(/from=198\.51\.100\.99/);
+  await expect(page.getByLabel("Outcome", { exact: true })).toBeVisible();
+
+  // Clicking a node of the canvas opens that element's editor.
+  await page.getByText("LOGIN SOURCES", { exact: false }).first().click();
+  await expect(page).toHaveURL(/\/model\/accounts/);
+});
+
+test("The device pages have no serious accessibility violations", async ({ page }) => {
+  await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+  const id = await deviceId(page, "clf-gw-02");
+  for (const path of [`/o/lanternfield/devices`, `/o/lanternfield/devices/${id}`, `/o/lanternfield/devices/${id}/analysis?from=203.0.113.50&interface=outside&service=https`, `/o/lanternfield/devices/${id}/model/rules`]) {
+    await page.goto(path);
+    await expectNoSeriousViolations(page);
+  }
+});

@@ -1,0 +1,210 @@
+// Helpers behind the reach and exposure map pages (app/utils/analysis.ts): readable counts,
+// address-space grids from CIDR lists, the week × hour grid, CSV writing and paging.
+
+import { describe, expect, test } from "vitest";
+import { parseCsv } from "../../server/cli/csv";
+import {
+  addressCount,
+  buildGrid,
+  cellsPerRank,
+  csvField,
+  formatCount,
+  gridCellCount,
+  gridRuns,
+  IPV4_GRID,
+  IPV6_GRIDS,
+  NO_RANK,
+  pageOf,
+  parseCidr,
+  toCsv,
+  topRank,
+  weekHourGrid,
+} from "../../app/utils/analysis";
+
+const RFC1918 = ["10.0.0.0/8", "172.16.0.0/12", "192.168.0.0/16"];
+const RFC5737 = ["192.0.2.0/24", "198.51.100.0/24", "203.0.113.0/24"];
+
+/** The grid cell (first octet row, second octet column) of an IPv4 address. */
+const cellOf = (a: number, b: number) => a * 256 + b;
+
+describe("Readable address counts", () => {
+  test("IPv4 counts stay exact with thousands separators", () => {
+    expect(formatCount("4294967296").text).toBe("4,294,967,296"); // RFC 4632 §3.1: a /0 holds 2^32
+    expect(formatCount("17891328").text).toBe("17,891,328"); // RFC 1918 §3: the three private blocks together
+    expect(formatCount("0").text).toBe("0");
+    expect(formatCount("256")).toEqual({ text: "256", exact: "256" }); // RFC 5737: one /24
+  });
+
+  test("Exact powers of two become 2 to the power, with the exact decimal kept for the tooltip", () => {
+    const ipv6 = formatCount((2n ** 96n).toString()); // RFC 3849: 2001:db8::/32 holds 2^96
+    expect(ipv6.text).toBe("2⁹⁶");
+    expect(ipv6.exact).toBe("79,228,162,514,264,337,593,543,950,336");
+    expect(formatCount((2n ** 128n).toString()).text).toBe("2¹²⁸");
+    expect(formatCount((2n ** 121n).toString()).text).toBe("2¹²¹"); // RFC 4193: fc00::/7
+  });
+
+  test("Other huge counts are rounded in scientific form, never as a 39-digit number", () => {
+    const rest = 2n ** 128n - 2n ** 96n; // all IPv6 outside 2001:db8::/32
+    const shown = formatCount(rest.toString());
+    expect(shown.text).toBe("≈ 3.4 × 10³⁸");
+    expect(shown.exact.replace(/,/g, "")).toBe(rest.toString());
+    expect(formatCount("999999999999999999").text).toBe("≈ 1.0 × 10¹⁸"); // rounding carries into the exponent
+    expect(formatCount("999999999999999").text).toBe("999,999,999,999,999"); // below 10^15 stays exact
+  });
+});
+
+describe("CIDR parsing and sizes", () => {
+  test("Blocks have the sizes of RFC 4632 §3.1 and the published special blocks", () => {
+    expect(addressCount(["10.0.0.0/8"])).toBe(16_777_216n); // RFC 1918 §3
+    expect(addressCount(["172.16.0.0/12"])).toBe(1_048_576n); // RFC 1918 §3
+    expect(addressCount(["192.168.0.0/16"])).toBe(65_536n); // RFC 1918 §3
+    expect(addressCount(RFC1918)).toBe(17_891_328n); // RFC 1918 (sum)
+    expect(addressCount(RFC5737)).toBe(768n); // RFC 5737: 256 each
+    expect(addressCount(["0.0.0.0/0"])).toBe(2n ** 32n); // RFC 4632 §3.1
+    expect(addressCount(["2001:db8::/32"])).toBe(2n ** 96n); // RFC 3849
+    expect(addressCount(["fe80::/10"])).toBe(2n ** 118n); // RFC 4291 §2.5.6
+    expect(addressCount(["::1/128", "::/128"])).toBe(2n); // RFC 4291 §2.5.3 / §2.5.2
+  });
+
+  test("Boundaries just outside a block are outside it", () => {
+    const block = parseCidr("172.16.0.0/12")!;
+    expect(parseCidr("172.15.255.255")!.first < block.first).toBe(true); // CHECK-VALUES: just below RFC 1918's /12
+    expect(parseCidr("172.32.0.0")!.first > block.last).toBe(true);
+    const ula = parseCidr("fc00::/7")!;
+    expect(parseCidr("fbff:ffff:ffff:ffff:ffff:ffff:ffff:ffff")!.first < ula.first).toBe(true); // RFC 4193 boundary
+    expect(parseCidr("fe00::")!.first > ula.last).toBe(true);
+  });
+
+  test("Malformed text is refused, not guessed", () => {
+    for (const bad of ["10.0.0", "10.0.0.0/33", "256.0.0.0/8", "2001:db8::1::1", "2001:db8:/32", "10.0.0.0/8/1", "fc00::/129"]) expect(parseCidr(bad), bad).toBeNull();
+    expect(parseCidr("::ffff:192.0.2.1")!.first).toBe((0xffffn << 32n) | 0xc0000201n); // RFC 5952 §5 form
+  });
+});
+
+describe("The IPv4 picture: one cell per /16", () => {
+  test("The grid has 65,536 cells (2^32 / 2^16, RFC 4632 §3.1)", () => {
+    expect(gridCellCount(IPV4_GRID)).toBe(65_536);
+  });
+
+  test("RFC 1918 space covers 256 + 16 + 1 cells, and those cells take the outcome of that space", () => {
+    // Private space answers with a login; everything else is silent. Ranks: 0 silent, 5 login-password.
+    const silent = ["0.0.0.0/5", "8.0.0.0/7", "11.0.0.0/8", "12.0.0.0/6", "16.0.0.0/4", "32.0.0.0/3", "64.0.0.0/2", "128.0.0.0/3", "160.0.0.0/5", "168.0.0.0/6", "172.0.0.0/12", "172.32.0.0/11", "172.64.0.0/10", "172.128.0.0/9", "173.0.0.0/8", "174.0.0.0/7", "176.0.0.0/4", "192.0.0.0/9", "192.128.0.0/11", "192.160.0.0/13", "192.169.0.0/16", "192.170.0.0/15", "192.172.0.0/14", "192.176.0.0/12", "192.192.0.0/10", "193.0.0.0/8", "194.0.0.0/7", "196.0.0.0/6", "200.0.0.0/5", "208.0.0.0/4", "224.0.0.0/3"];
+    // The test input itself is a partition: its sizes add up to the whole space.
+    expect(addressCount(silent) + addressCount(RFC1918)).toBe(2n ** 32n); // RFC 4632 §3.1
+    const cells = buildGrid(IPV4_GRID, [silent, [], [], [], [], RFC1918]);
+    const perRank = cellsPerRank(cells);
+    // 10/8 = 16,777,216 / 65,536 = 256 cells; 172.16/12 = 16 cells; 192.168/16 = 1 cell (RFC 1918 §3 sizes).
+    expect(perRank[5]).toBe(Number(addressCount(RFC1918) / 65_536n));
+    expect(perRank[5]).toBe(273);
+    expect(perRank[0]).toBe(65_536 - 273);
+    expect(cells[cellOf(10, 0)]).toBe(5);
+    expect(cells[cellOf(10, 255)]).toBe(5);
+    expect(cells[cellOf(172, 15)]).toBe(0);
+    expect(cells[cellOf(172, 16)]).toBe(5);
+    expect(cells[cellOf(172, 31)]).toBe(5);
+    expect(cells[cellOf(172, 32)]).toBe(0);
+    expect(cells[cellOf(192, 168)]).toBe(5);
+    expect(cells.includes(NO_RANK)).toBe(false);
+  });
+
+  test("A block smaller than a cell still colours its cell with the most exposed outcome present", () => {
+    // RFC 5737 documentation /24s answer ping (rank 2); the rest of each /16 is silent.
+    const cells = buildGrid(IPV4_GRID, [["0.0.0.0/0"], [], RFC5737]);
+    expect(cellsPerRank(cells)[2]).toBe(3);
+    expect(cells[cellOf(192, 0)]).toBe(2);
+    expect(cells[cellOf(198, 51)]).toBe(2);
+    expect(cells[cellOf(203, 0)]).toBe(2);
+    expect(cells[cellOf(203, 1)]).toBe(0);
+  });
+
+  test("Runs compress the picture row by row and cover every cell once", () => {
+    const cells = buildGrid(IPV4_GRID, [["0.0.0.0/0"], [], RFC5737]);
+    const runs = gridRuns(cells, 256);
+    expect(runs.reduce((total, run) => total + run.length, 0)).toBe(65_536);
+    // 253 plain rows + 3 rows split in three (before, the cell, after) or two at the edge.
+    expect(runs.length).toBe(253 + 2 + 3 + 2);
+    expect(runs.find((run) => run.rank === 2 && run.row === 198)).toEqual({ row: 198, column: 51, length: 1, rank: 2 });
+  });
+
+  test("The IPv6 pictures cut 2000::/3 and fc00::/7 into /12 cells", () => {
+    expect(IPV6_GRIDS.map(gridCellCount)).toEqual([512, 32]); // 2^(12−3), 2^(12−7)
+    const cells = buildGrid(IPV6_GRIDS[0], [["::/0"], [], [], [], ["2001:db8::/32"]]); // RFC 3849 inside 2000::/12
+    expect(cells[0]).toBe(4);
+    expect(cellsPerRank(cells)[4]).toBe(1);
+    const ula = buildGrid(IPV6_GRIDS[1], [["::/1"], ["fd00::/8"]]); // RFC 4193 L=1 half: fd00::/8 = 16 cells of /12
+    expect(cellsPerRank(ula)).toEqual([0, 16, 0, 0, 0, 0]);
+    expect(ula.filter((rank) => rank === NO_RANK).length).toBe(16);
+  });
+
+  test("The top outcome of an entry is the most exposed with a non-zero count", () => {
+    expect(topRank(["4294967040", "0", "256", "0", "0", "0"])).toBe(2);
+    expect(topRank(["0", "0", "0", "0", "0", "0"])).toBe(-1);
+  });
+});
+
+describe("The week × hour grid", () => {
+  test("A window crossing midnight (Sat 22:00 – Sun 04:00) colours exactly those hours", () => {
+    // Slices as the engine gives them in local week minutes: Monday 00:00 = 0.
+    const sat22 = 5 * 1440 + 22 * 60;
+    const sun04 = 6 * 1440 + 4 * 60;
+    const cells = weekHourGrid([
+      { startMinute: sun04, endMinute: sat22, rank: 0 }, // wraps past Sunday 24:00 (end < start)
+      { startMinute: sat22, endMinute: sun04, rank: 4 },
+    ]);
+    expect(cells).toHaveLength(168);
+    const exposed = cells.flatMap((cell, index) => (cell.top === 4 ? [index] : []));
+    expect(exposed).toEqual([5 * 24 + 22, 5 * 24 + 23, 6 * 24, 6 * 24 + 1, 6 * 24 + 2, 6 * 24 + 3]);
+    expect(cells[0].top).toBe(0); // Monday 00:00 is in the wrapping slice
+    expect(cells.some((cell) => cell.changes)).toBe(false);
+  });
+
+  test("A slice edge inside an hour takes the more exposed outcome and is marked as changing", () => {
+    const cells = weekHourGrid([
+      { startMinute: 8 * 60 + 30, endMinute: 17 * 60, rank: 5 },
+      { startMinute: 17 * 60, endMinute: 8 * 60 + 30, rank: 0 }, // the rest of the week, wrapping
+    ]);
+    expect(cells[8]).toEqual({ top: 5, changes: true });
+    expect(cells[7]).toEqual({ top: 0, changes: false });
+    expect(cells[16]).toEqual({ top: 5, changes: false });
+    expect(cells[17]).toEqual({ top: 0, changes: false });
+    expect(cells[24 + 9].top).toBe(0); // Tuesday is not in the window
+  });
+
+  test("One slice for the whole week fills every hour", () => {
+    const cells = weekHourGrid([{ startMinute: 0, endMinute: 10080, rank: 3 }]);
+    expect(new Set(cells.map((cell) => cell.top))).toEqual(new Set([3]));
+  });
+});
+
+describe("CSV writing (RFC 4180)", () => {
+  test("Fields with commas, quotes or line breaks are quoted and quotes doubled (RFC 4180 §2.6, §2.7)", () => {
+    expect(csvField("plain")).toBe("plain");
+    expect(csvField("a,b")).toBe('"a,b"');
+    expect(csvField('ssh is not listening on "outside"')).toBe('"ssh is not listening on ""outside"""');
+    expect(csvField("two\nlines")).toBe('"two\nlines"');
+    expect(csvField(null)).toBe("");
+    expect(csvField(42)).toBe("42");
+  });
+
+  test("Rows end with CRLF (RFC 4180 §2.1) and read back to the same fields", () => {
+    const rows = [
+      ["interface", "detail"],
+      ["outside", 'no rule matches; "allow", by default'],
+      ["inside", "line\r\nbreak"],
+    ];
+    const text = toCsv(rows);
+    expect(text.startsWith("interface,detail\r\n")).toBe(true);
+    expect(text.endsWith("\r\n")).toBe(true);
+    expect(parseCsv(text)).toEqual(rows);
+  });
+});
+
+describe("Paging", () => {
+  test("Pages clamp to what exists and never go below one", () => {
+    expect(pageOf(null, 120)).toEqual({ page: 1, pages: 3, start: 0, end: 50 });
+    expect(pageOf("3", 120)).toEqual({ page: 3, pages: 3, start: 100, end: 120 });
+    expect(pageOf("99", 120).page).toBe(3);
+    expect(pageOf("-2", 120).page).toBe(1);
+    expect(pageOf("abc", 0)).toEqual({ page: 1, pages: 1, start: 0, end: 0 });
+  });
+});
