@@ -58,6 +58,48 @@ test("A trainer walks a probe through every layer, one verdict at a time", async
   await expect(page).toHaveURL(/\/model\/accounts/);
 });
 
+test("An engineer asks what 203.0.113.50 can reach on a device, and what it would see", async ({ page }) => {
+  await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+  const id = await deviceId(page, "clf-gw-02");
+  await page.goto(`/o/lanternfield/devices/${id}/reach`);
+  await page.getByLabel("Source address").fill("203.0.113.50");
+  await page.getByRole("button", { name: "Show reach" }).click();
+  await expect(page).toHaveURL(/reach\?from=203\.0\.113\.50/);
+  const row = page.getByRole("row").filter({ hasText: "outside" }).filter({ hasText: "https" }).first();
+  await expect(row).toContainText("Login with password only");
+  await expect(row).toContainText("no second factor on admin");
+  await expect(page.getByText("The simulation models the configuration, not the device").first()).toBeVisible();
+  await screenshot(page, "33-reach");
+  const download = page.waitForEvent("download");
+  await page.getByRole("link", { name: "Download CSV" }).click();
+  expect((await download).suggestedFilename()).toMatch(/\.csv$/);
+});
+
+test("An auditor opens the exposure map of the device whose web console answers the internet", async ({ page }) => {
+  await signIn(page, "oskar.lindqvist@lanternfield.example", "demo-password-reviewer");
+  const id = await deviceId(page, "clf-gw-02");
+  await page.goto(`/o/lanternfield/devices/${id}/exposure?interface=outside&service=https`);
+  await expect(page.getByRole("heading", { name: "Exposure map" })).toBeVisible();
+  const counts = page.getByRole("table", { name: /Address counts per outcome/ });
+  await expect(counts.getByRole("row").filter({ hasText: "https" }).first()).toContainText("4,294,967,");
+  await expect(page.getByRole("table", { name: /Minimal CIDR blocks/ })).toContainText("Login with password only");
+  await screenshot(page, "34-exposure-map");
+  await expectNoSeriousViolations(page);
+});
+
+test("Findings link to the editor of the element concerned", async ({ page }) => {
+  await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+  await page.goto("/o/lanternfield/findings?code=default-account-name");
+  const row = page.getByRole("row").filter({ hasText: "clf-gw-02" }).first();
+  await expect(row).toContainText("factory-default");
+  await screenshot(page, "35-findings");
+  await expectNoSeriousViolations(page);
+  await row.getByRole("link", { name: "account admin" }).click();
+  await expect(page).toHaveURL(/\/model\/accounts\?edit=admin/);
+  await expect(page.getByRole("heading", { name: "Edit account admin" })).toBeVisible();
+  await screenshot(page, "36-finding-to-editor");
+});
+
 test("The device pages have no serious accessibility violations", async ({ page }) => {
   await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
   const id = await deviceId(page, "clf-gw-02");
