@@ -160,12 +160,15 @@ export function findingsOf(engine: CompiledModel): Finding[] {
     }
   }
 
-  // Exposure to non-private sources, per interface × service over every address and slice.
+  // Exposure to non-private sources, per interface × service over every slice and every
+  // device address a probe arriving there may be sent to (PRODUCT.md §3: `to` may be an
+  // address of another interface), so a console reached through an inside address counts too.
   type Seen = { outcomes: Set<number>; hits: AddressSet[] };
   const exposed = new Map<string, Seen>();
   const global: Record<Family, Ranges> = { 4: nonPrivate(4), 6: nonPrivate(6) };
-  engine.interfaceAddresses.forEach((addresses, iface) => {
-    for (const to of addresses) {
+  const everyAddress = engine.addresses.map((_, index) => index);
+  engine.interfaceAddresses.forEach((_own, iface) => {
+    for (const to of everyAddress) {
       for (let cls = 0; cls < engine.catalogue.length; cls++) {
         const key = `${iface}|${cls}`;
         const seen = exposed.get(key) ?? { outcomes: new Set<number>(), hits: OUTCOMES.map(() => EMPTY_SET) };
@@ -317,8 +320,9 @@ export function findingsOf(engine: CompiledModel): Finding[] {
 
 /** An enabled, always-active deny rule covering every source, destination address and service of the interface. */
 function hasCatchAllDeny(engine: CompiledModel, iface: number): boolean {
-  const own = engine.interfaceAddresses[iface].map((a) => engine.addresses[a]);
-  const families = new Set(own.map((a) => a.family));
+  // Probes arrive only in the interface's own families, but may be sent to any device address of them.
+  const families = new Set(engine.interfaceAddresses[iface].map((a) => engine.addresses[a].family));
+  const own = engine.addresses.filter((a) => families.has(a.family));
   return engine.rules.some(
     (r) =>
       r.enabled &&

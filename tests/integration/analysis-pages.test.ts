@@ -7,8 +7,8 @@ import { beforeAll, describe, expect, test } from "vitest";
 import { parseCsv } from "../../server/cli/csv";
 import { compileModel, exposure, OUTCOMES, parseModel, reach, trace } from "../../server/engine/index";
 import { DEMO_PASSWORDS, signUpNewOrganisation, TestClient } from "../support/client";
+import { plain, UUID } from "../support/html";
 
-const UUID = "[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}";
 const AT = "2025-03-04T10:00"; // a Tuesday morning on the device clock
 
 function demoDevice(name: string) {
@@ -18,9 +18,6 @@ function demoDevice(name: string) {
 }
 
 /** Text of an HTML page without React's text separators, entities decoded. */
-function plain(html: string): string {
-  return html.replace(/<!-- -->/g, "").replace(/&quot;/g, '"').replace(/&#x27;/g, "'").replace(/&lt;/g, "<").replace(/&gt;/g, ">").replace(/&amp;/g, "&");
-}
 
 /** The table rows of a page, as plain HTML fragments. */
 function rowsOf(html: string): string[] {

@@ -10,19 +10,9 @@ import type { Role } from "../../server/auth/roles";
 import { generateModel, type ModelSize } from "../../server/engine/testing/generate-model";
 import { EMPTY_LIBRARY, validateDocument, type ModelDocument } from "../../server/workspace/index";
 import { DEMO_PASSWORDS, signUpNewOrganisation, TestClient, type FetchResult } from "../support/client";
+import { plain, UUID } from "../support/html";
 
-const UUID = "[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}";
 
-/** Text of an HTML page without React's text separators, entities decoded. */
-function plain(html: string): string {
-  return html
-    .replace(/<!-- -->/g, "")
-    .replace(/&quot;/g, '"')
-    .replace(/&#x27;/g, "'")
-    .replace(/&lt;/g, "<")
-    .replace(/&gt;/g, ">")
-    .replace(/&amp;/g, "&");
-}
 
 function normalised(input: unknown): ModelDocument {
   const validated = validateDocument(input, EMPTY_LIBRARY);

@@ -6,19 +6,9 @@
 
 import { describe, expect, test } from "vitest";
 import { DEMO_PASSWORDS, signUpNewOrganisation, TestClient, type FetchResult } from "../support/client";
+import { plain, UUID } from "../support/html";
 
-const UUID = "[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}";
 
-/** Text of an HTML page without React's text separators, entities decoded. */
-function plain(html: string): string {
-  return html
-    .replace(/<!-- -->/g, "")
-    .replace(/&quot;/g, '"')
-    .replace(/&#x27;/g, "'")
-    .replace(/&lt;/g, "<")
-    .replace(/&gt;/g, ">")
-    .replace(/&amp;/g, "&");
-}
 
 async function signedIn(role: keyof typeof DEMO_PASSWORDS): Promise<TestClient> {
   const client = new TestClient();

@@ -6,18 +6,10 @@ import { Card } from "~/components/ui/card";
 import { cx } from "~/components/ui/cx";
 import { FormError } from "~/components/ui/field";
 import { severityRank } from "./keys";
+import type { FindingView } from "../../../server/services/findings.server";
 
 /** A finding as the device overview receives it from the loader. */
-export type FindingCardData = {
-  key: string;
-  code: string;
-  severity: string;
-  title: string;
-  detail: string;
-  elements: string[];
-  source: string;
-  dismissal: { reason: string; by: string; at: string; revisionNumber: number; severityThen: string; titleThen: string } | null;
-};
+export type FindingCardData = FindingView;
 
 /** What the dismissals action answers when it refuses (a redirect otherwise). */
 type Refusal = { ok: false; key: string; errors: Record<string, string>; values: { reason: string } };

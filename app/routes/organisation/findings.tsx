@@ -11,6 +11,7 @@ import { cx } from "~/components/ui/cx";
 import { EmptyState } from "~/components/ui/empty-state";
 import { SortHeader } from "~/components/ui/sort-header";
 import { Table, Td, Th } from "~/components/ui/table";
+import { SiteFilter } from "~/components/ui/site-filter";
 
 export const meta: Route.MetaFunction = () => [{ title: "Findings · Sallyport" }];
 
@@ -107,17 +108,7 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
                 ))}
               </select>
             </label>
-            <label className="text-sm">
-              <span className="mb-1 block font-medium">Site</span>
-              <select name="site" defaultValue={query.site} className={selectClasses}>
-                <option value="">All sites</option>
-                {sites.map((site) => (
-                  <option key={site.id} value={site.id}>
-                    {site.name}
-                  </option>
-                ))}
-              </select>
-            </label>
+            <SiteFilter sites={sites} defaultValue={query.site} className={selectClasses} />
             <label className="text-sm">
               <span className="mb-1 block font-medium">Device</span>
               <select name="device" defaultValue={query.device} className={selectClasses}>

@@ -1,4 +1,5 @@
 import { Form, Link, useSearchParams } from "react-router";
+import { SiteFilter } from "~/components/ui/site-filter";
 import { SortHeader, sortRows } from "~/components/ui/sort-header";
 import type { Route } from "./+types/fleet";
 import { requireMember } from "../../../../server/auth/guard.server";
@@ -83,17 +84,7 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
               <span className="mb-1 block font-medium">Search</span>
               <input name="q" defaultValue={searchParams.get("q") ?? ""} placeholder="Device or site" className="h-9 w-64 rounded-control border border-line-strong bg-surface px-3 text-sm" />
             </label>
-            <label className="text-sm">
-              <span className="mb-1 block font-medium">Site</span>
-              <select name="site" defaultValue={searchParams.get("site") ?? ""} className="h-9 rounded-control border border-line-strong bg-surface px-2 text-sm">
-                <option value="">All sites</option>
-                {sites.map((site) => (
-                  <option key={site.id} value={site.id}>
-                    {site.name}
-                  </option>
-                ))}
-              </select>
-            </label>
+            <SiteFilter sites={sites} defaultValue={searchParams.get("site") ?? ""} className="h-9 rounded-control border border-line-strong bg-surface px-2 text-sm" />
             <button type="submit" className="h-9 rounded-control border border-line-strong bg-surface px-3 text-sm font-medium hover:bg-surface-sunken">
               Apply
             </button>
