@@ -253,9 +253,14 @@ export function weekHourGrid(slices: readonly RankedSlice[]): HourCell[] {
 // ---------------------------------------------------------------------------------------------
 // CSV (RFC 4180)
 
-/** One field: quoted when it holds a comma, a double quote, CR or LF; quotes are doubled. */
+/**
+ * One field: quoted when it holds a comma, a double quote, CR or LF; quotes are doubled. Text
+ * that a spreadsheet would run as a formula (starting with = + - @, tab or CR) gets a leading
+ * apostrophe (OWASP "CSV injection" guidance); numbers are left as they are.
+ */
 export function csvField(value: string | number | null | undefined): string {
-  const text = value === null || value === undefined ? "" : String(value);
+  const raw = value === null || value === undefined ? "" : String(value);
+  const text = typeof value === "string" && /^[=+\-@\t\r]/.test(raw) ? `'${raw}` : raw;
   return /[",\r\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
 }
 

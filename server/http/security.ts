@@ -71,9 +71,17 @@ export function clientAddressOf(request: Request): string {
   return (request.ip ?? request.socket.remoteAddress ?? "unknown").replace(/^::ffff:/, "");
 }
 
-/** 413 for a request body over the limit, before anything reads it. */
+/**
+ * 413 for a request body over the limit, before anything reads it. A body without a declared
+ * length (chunked) is refused with 411: browsers always declare it for forms and uploads, and
+ * an undeclared body could not be held to the limit without reading it.
+ */
 export function requestSizeLimit(maximumBytes: number) {
   return (request: Request, response: Response, next: NextFunction) => {
+    if (!SAFE_METHODS.has(request.method) && request.headers["content-length"] === undefined && request.headers["transfer-encoding"] !== undefined) {
+      response.status(411).type("text/plain").send("Refused: send the request body with a Content-Length header.");
+      return;
+    }
     const declared = Number(request.headers["content-length"] ?? 0);
     if (declared > maximumBytes) {
       response

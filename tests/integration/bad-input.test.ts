@@ -80,6 +80,17 @@ describe("Bad input gets a clear 4xx, never a 500", () => {
     expect(response.status).toBe(413);
   });
 
+  test("A body without a declared length (chunked) is refused with 411", async () => {
+    const stream = new ReadableStream({
+      start(controller) {
+        controller.enqueue(new TextEncoder().encode("intent=create&name=chunked"));
+        controller.close();
+      },
+    });
+    const response = await engineer.request("/o/lanternfield/sites", { method: "POST", body: stream, headers: { "Content-Type": "application/x-www-form-urlencoded" }, duplex: "half" } as RequestInit);
+    expect(response.status).toBe(411);
+  });
+
   test("Unknown pages are 404 and the security headers are on every response", async () => {
     const response = await new TestClient().get("/no/such/page");
     expect(response.status).toBe(404);

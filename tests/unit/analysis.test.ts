@@ -186,6 +186,15 @@ describe("CSV writing (RFC 4180)", () => {
     expect(csvField(42)).toBe("42");
   });
 
+  // OWASP CSV injection guidance: text a spreadsheet would run as a formula is neutralised.
+  test("Text starting like a formula gets a leading apostrophe; numbers do not", () => {
+    expect(csvField("=HYPERLINK(\"x\")")).toBe('"\'=HYPERLINK(""x"")"');
+    expect(csvField("+1")).toBe("'+1");
+    expect(csvField("-rule")).toBe("'-rule");
+    expect(csvField("@sum")).toBe("'@sum");
+    expect(csvField(-5)).toBe("-5");
+  });
+
   test("Rows end with CRLF (RFC 4180 §2.1) and read back to the same fields", () => {
     const rows = [
       ["interface", "detail"],
