@@ -13,10 +13,11 @@ run_migrations_and_seed
 cd "$ROOT"
 
 failures=()
+passed=0
 run_suite() {
   local name="$1"; shift
   step "$name"
-  if "$@"; then ok "$name: passed"; else failures+=("$name"); fi
+  if "$@"; then ok "$name: passed"; passed=$((passed + 1)); else failures+=("$name"); fi
 }
 
 run_suite "Typecheck" npm run --silent typecheck
@@ -27,6 +28,7 @@ run_suite "Integration tests (Vitest, real PostgreSQL)" npx vitest run --project
 run_suite "Browser tests (Playwright, Debian's Chromium)" npx playwright test
 
 step "Summary"
+printf 'suites: %d passed, %d failed\n' "$passed" "${#failures[@]}"
 if [ ${#failures[@]} -gt 0 ]; then
   printf '  failed: %s\n' "${failures[@]}"
   exit 1
