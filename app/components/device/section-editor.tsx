@@ -19,6 +19,7 @@ import {
   type EditorProps,
 } from "./editor-kit";
 import { RulesSection } from "./rules-section";
+import type { ReactNode } from "react";
 import { Link } from "react-router";
 
 export type SectionName = "interfaces" | "addresses" | "services" | "schedules" | "rules" | "accounts" | "operator-networks" | "settings";
@@ -86,6 +87,38 @@ export function SectionEditor(props: SectionEditorProps) {
   );
 }
 
+type Column<Item> = { header: string; cell: (item: Item) => ReactNode; className?: string };
+
+/** A section's list of named elements, with edit and delete on each row for editors. */
+function ElementTable<Item extends { name: string }>({ props, items, kind, deleteIntent, columns }: { props: SectionEditorProps; items: Item[]; kind: string; deleteIntent: string; columns: Array<Column<Item>> }) {
+  return (
+    <Table>
+      <thead>
+        <tr>
+          {columns.map((column) => (
+            <Th key={column.header}>{column.header}</Th>
+          ))}
+          <Th className="text-right">Actions</Th>
+        </tr>
+      </thead>
+      <tbody>
+        {items.map((item) => (
+          <tr key={item.name}>
+            {columns.map((column) => (
+              <Td key={column.header} className={column.className}>
+                {column.cell(item)}
+              </Td>
+            ))}
+            <Td>
+              <RowActions props={props} name={item.name} deleteIntent={deleteIntent} kind={kind} />
+            </Td>
+          </tr>
+        ))}
+      </tbody>
+    </Table>
+  );
+}
+
 function editLink(name: string) {
   return `?edit=${encodeURIComponent(name)}#edit`;
 }
@@ -112,32 +145,18 @@ function InterfacesSection(props: SectionEditorProps) {
       {items.length === 0 ? (
         <EmptyState title="No interfaces yet">Add the interfaces the device has, with their addresses and the management services listening on each.</EmptyState>
       ) : (
-        <Table>
-          <thead>
-            <tr>
-              <Th>Interface</Th>
-              <Th>Role</Th>
-              <Th>Addresses</Th>
-              <Th>Listeners</Th>
-              <Th className="text-right">Actions</Th>
-            </tr>
-          </thead>
-          <tbody>
-            {items.map((item) => (
-              <tr key={item.name}>
-                <Td className="font-mono font-medium">{item.name}</Td>
-                <Td>
-                  <Badge tone={item.role === "outside" ? "brass" : "neutral"}>{item.role}</Badge>
-                </Td>
-                <Td className="font-mono text-xs">{item.addresses.join(", ") || "—"}</Td>
-                <Td className="text-xs">{item.listeners.join(", ") || <span className="text-ink-faint">none</span>}</Td>
-                <Td>
-                  <RowActions props={props} name={item.name} deleteIntent="delete-interface" kind="interface" />
-                </Td>
-              </tr>
-            ))}
-          </tbody>
-        </Table>
+        <ElementTable
+          props={props}
+          items={items}
+          kind="interface"
+          deleteIntent="delete-interface"
+          columns={[
+            { header: "Interface", cell: (item) => item.name, className: "font-mono font-medium" },
+            { header: "Role", cell: (item) => <Badge tone={item.role === "outside" ? "brass" : "neutral"}>{item.role}</Badge> },
+            { header: "Addresses", cell: (item) => item.addresses.join(", ") || "—", className: "font-mono text-xs" },
+            { header: "Listeners", cell: (item) => item.listeners.join(", ") || <span className="text-ink-faint">none</span>, className: "text-xs" },
+          ]}
+        />
       )}
       {props.canEdit ? (
         <EditorPanel title={editing ? `Edit interface ${editing.name}` : "Add an interface"} cancel={Boolean(editing)}>
@@ -183,26 +202,16 @@ function AddressesSection(props: SectionEditorProps) {
           {objects.length === 0 ? (
             <EmptyState title="No address objects">Name the networks that rules, login sources and operator networks refer to.</EmptyState>
           ) : (
-            <Table>
-              <thead>
-                <tr>
-                  <Th>Name</Th>
-                  <Th>Entries</Th>
-                  <Th className="text-right">Actions</Th>
-                </tr>
-              </thead>
-              <tbody>
-                {objects.map((item) => (
-                  <tr key={item.name}>
-                    <Td className="font-mono font-medium">{item.name}</Td>
-                    <Td className="font-mono text-xs">{item.entries.join(", ")}</Td>
-                    <Td>
-                      <RowActions props={props} name={item.name} deleteIntent="delete-address" kind="address object" />
-                    </Td>
-                  </tr>
-                ))}
-              </tbody>
-            </Table>
+            <ElementTable
+              props={props}
+              items={objects}
+              kind="address object"
+              deleteIntent="delete-address"
+              columns={[
+                { header: "Name", cell: (item) => item.name, className: "font-mono font-medium" },
+                { header: "Entries", cell: (item) => item.entries.join(", "), className: "font-mono text-xs" },
+              ]}
+            />
           )}
         </section>
         {props.canEdit ? (
@@ -252,30 +261,17 @@ function ServicesSection(props: SectionEditorProps) {
           {services.length === 0 ? (
             <p className="text-sm text-ink-muted">No custom services.</p>
           ) : (
-            <Table>
-              <thead>
-                <tr>
-                  <Th>Name</Th>
-                  <Th>Protocol/port</Th>
-                  <Th>Kind</Th>
-                  <Th className="text-right">Actions</Th>
-                </tr>
-              </thead>
-              <tbody>
-                {services.map((item) => (
-                  <tr key={item.name}>
-                    <Td className="font-mono font-medium">{item.name}</Td>
-                    <Td className="font-mono">
-                      {item.protocol}/{item.port}
-                    </Td>
-                    <Td>{item.kind}</Td>
-                    <Td>
-                      <RowActions props={props} name={item.name} deleteIntent="delete-service" kind="service" />
-                    </Td>
-                  </tr>
-                ))}
-              </tbody>
-            </Table>
+            <ElementTable
+              props={props}
+              items={services}
+              kind="service"
+              deleteIntent="delete-service"
+              columns={[
+                { header: "Name", cell: (item) => item.name, className: "font-mono font-medium" },
+                { header: "Protocol/port", cell: (item) => `${item.protocol}/${item.port}`, className: "font-mono" },
+                { header: "Kind", cell: (item) => item.kind },
+              ]}
+            />
           )}
         </section>
         {props.canEdit ? (
@@ -326,26 +322,16 @@ function GroupEditor({ props, heading, kind, groups, intent, deleteIntent, membe
         {groups.length === 0 ? (
           <p className="text-sm text-ink-muted">No {kind}s.</p>
         ) : (
-          <Table>
-            <thead>
-              <tr>
-                <Th>Name</Th>
-                <Th>Members</Th>
-                <Th className="text-right">Actions</Th>
-              </tr>
-            </thead>
-            <tbody>
-              {groups.map((item) => (
-                <tr key={item.name}>
-                  <Td className="font-mono font-medium">{item.name}</Td>
-                  <Td className="font-mono text-xs">{item.members.join(", ")}</Td>
-                  <Td>
-                    <RowActions props={props} name={item.name} deleteIntent={deleteIntent} kind={kind} />
-                  </Td>
-                </tr>
-              ))}
-            </tbody>
-          </Table>
+          <ElementTable
+            props={props}
+            items={groups}
+            kind={kind}
+            deleteIntent={deleteIntent}
+            columns={[
+              { header: "Name", cell: (item) => item.name, className: "font-mono font-medium" },
+              { header: "Members", cell: (item) => item.members.join(", "), className: "font-mono text-xs" },
+            ]}
+          />
         )}
       </section>
       {props.canEdit ? (
@@ -375,26 +361,16 @@ function SchedulesSection(props: SectionEditorProps) {
       {items.length === 0 ? (
         <EmptyState title="No schedules">Rules apply at all times (the built-in schedule “always”) unless limited to a schedule, such as a support window.</EmptyState>
       ) : (
-        <Table>
-          <thead>
-            <tr>
-              <Th>Schedule</Th>
-              <Th>Windows ({props.document.device.timezone})</Th>
-              <Th className="text-right">Actions</Th>
-            </tr>
-          </thead>
-          <tbody>
-            {items.map((item) => (
-              <tr key={item.name}>
-                <Td className="font-mono font-medium">{item.name}</Td>
-                <Td className="font-mono text-xs whitespace-pre-line">{windowsText(item.windows)}</Td>
-                <Td>
-                  <RowActions props={props} name={item.name} deleteIntent="delete-schedule" kind="schedule" />
-                </Td>
-              </tr>
-            ))}
-          </tbody>
-        </Table>
+        <ElementTable
+          props={props}
+          items={items}
+          kind="schedule"
+          deleteIntent="delete-schedule"
+          columns={[
+            { header: "Schedule", cell: (item) => item.name, className: "font-mono font-medium" },
+            { header: `Windows (${props.document.device.timezone})`, cell: (item) => windowsText(item.windows), className: "font-mono text-xs whitespace-pre-line" },
+          ]}
+        />
       )}
       {props.canEdit ? (
         <EditorPanel title={editing ? `Edit schedule ${editing.name}` : "Add a schedule"} cancel={Boolean(editing)}>
@@ -431,32 +407,26 @@ function AccountsSection(props: SectionEditorProps) {
         {items.length === 0 ? (
           <EmptyState title="No accounts">Model the administrator accounts: named accounts, their login sources and second factor.</EmptyState>
         ) : (
-          <Table>
-            <thead>
-              <tr>
-                <Th>Account</Th>
-                <Th>Login sources</Th>
-                <Th>Second factor</Th>
-                <Th>Services</Th>
-                <Th className="text-right">Actions</Th>
-              </tr>
-            </thead>
-            <tbody>
-              {items.map((item) => (
-                <tr key={item.name}>
-                  <Td className="font-mono font-medium">
+          <ElementTable
+            props={props}
+            items={items}
+            kind="account"
+            deleteIntent="delete-account"
+            columns={[
+              {
+                header: "Account",
+                className: "font-mono font-medium",
+                cell: (item) => (
+                  <>
                     {item.name} {!item.enabled ? <Badge>disabled</Badge> : null} {item.accessLevel === "read-only" ? <Badge>read-only</Badge> : null}
-                  </Td>
-                  <Td className="font-mono text-xs">{item.loginSources.join(", ") || <span className="font-sans text-danger">anywhere</span>}</Td>
-                  <Td>{item.secondFactor === "totp" ? <Badge tone="success">TOTP</Badge> : <Badge tone="danger">none</Badge>}</Td>
-                  <Td className="text-xs">{item.services.join(", ") || "all login services"}</Td>
-                  <Td>
-                    <RowActions props={props} name={item.name} deleteIntent="delete-account" kind="account" />
-                  </Td>
-                </tr>
-              ))}
-            </tbody>
-          </Table>
+                  </>
+                ),
+              },
+              { header: "Login sources", className: "font-mono text-xs", cell: (item) => item.loginSources.join(", ") || <span className="font-sans text-danger">anywhere</span> },
+              { header: "Second factor", cell: (item) => (item.secondFactor === "totp" ? <Badge tone="success">TOTP</Badge> : <Badge tone="danger">none</Badge>) },
+              { header: "Services", className: "text-xs", cell: (item) => item.services.join(", ") || "all login services" },
+            ]}
+          />
         )}
       </div>
       {props.canEdit ? (
