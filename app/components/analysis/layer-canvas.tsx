@@ -53,6 +53,15 @@ function LayerNode({ data }: NodeProps<Node<LayerNodeData>>) {
 
 const NODE_TYPES = { layer: LayerNode };
 
+const RULES_SHOWN = 12;
+
+/** The first rules, and — when the deciding rule is further down — the rules around it. */
+function visibleRules<Rule extends { id: string }>(rules: Rule[], matched: string | null | undefined): Rule[] {
+  const index = matched ? rules.findIndex((rule) => rule.id === matched) : -1;
+  if (rules.length <= RULES_SHOWN || index < RULES_SHOWN - 2) return rules.slice(0, RULES_SHOWN);
+  return [...rules.slice(0, 6), ...rules.slice(Math.max(6, index - 2), index + 3)];
+}
+
 function gridPosition(index: number): { x: number; y: number } {
   return { x: (index % 4) * 250, y: Math.floor(index / 4) * 250 };
 }
@@ -101,15 +110,15 @@ export function LayerCanvas({ model, trace, step, devicePath, probe }: { model: 
           ...verdictOf("inbound-rules"),
           href: `${devicePath}/model/rules${matched ? `?edit=${encodeURIComponent(matched)}#edit` : ""}`,
           body: (
-            <ol className="max-h-40 space-y-0.5 overflow-hidden">
-              {model.rules.slice(0, 12).map((rule) => (
+            <ol className="max-h-48 space-y-0.5 overflow-hidden">
+              {visibleRules(model.rules, matched).map((rule) => (
                 <li key={rule.id} className={cx("flex gap-1 font-mono text-[11px]", rule.id === matched && step >= 2 ? "rounded bg-brass-soft font-semibold text-brass" : "text-ink-muted", !rule.enabled && "line-through opacity-60")}>
                   <span className="w-5 text-right">{rule.position}</span>
                   <span className="truncate">{rule.id}</span>
                   <span>{rule.action}</span>
                 </li>
               ))}
-              {model.rules.length > 12 ? <li className="text-[11px] text-ink-faint">… {model.rules.length - 12} more</li> : null}
+              {model.rules.length > RULES_SHOWN ? <li className="text-[11px] text-ink-faint">{model.rules.length} rules in all</li> : null}
               <li className="text-[11px] text-ink-faint">no match → default {model.defaultInbound}</li>
             </ol>
           ),
