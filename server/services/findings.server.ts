@@ -99,6 +99,30 @@ export async function deviceFindings(found: DeviceWithRevision): Promise<Finding
   return findingsOfRevision(found.revision.id, () => found.effective).map((finding) => viewOf(finding, dismissals?.get(findingKey(finding))));
 }
 
+export type UnmatchedDismissal = { key: string; code: string; title: string; reason: string; by: string; at: string; revisionNumber: number };
+
+/**
+ * Standing dismissals of the device that no finding of this revision matches (a later change
+ * fixed it, or changed its elements). They would apply again if the same finding came back, so
+ * the overview lists them where they can be withdrawn.
+ */
+export async function unmatchedDismissals(found: DeviceWithRevision): Promise<UnmatchedDismissal[]> {
+  ensureDatabase();
+  const current = new Set(findingsOfRevision(found.revision.id, () => found.effective).map((finding) => findingKey(finding)));
+  const standing = (await standingDismissals({ deviceId: found.device.id })).get(found.device.id) ?? new Map<string, FindingDismissal>();
+  return [...standing.values()]
+    .filter((dismissal) => !current.has(dismissal.findingKey))
+    .map((dismissal) => ({
+      key: dismissal.findingKey,
+      code: dismissal.code,
+      title: dismissal.title,
+      reason: dismissal.reason,
+      by: dismissal.dismissedByEmail,
+      at: dismissal.dismissedAt.toISOString(),
+      revisionNumber: dismissal.revisionNumber,
+    }));
+}
+
 type CurrentRevision = { device: Device; revision: DeviceRevision };
 
 async function currentRevisions(organisationId: string): Promise<CurrentRevision[]> {

@@ -199,6 +199,21 @@ describe("Dismissing a finding", () => {
     expect((await client.post(dismissals, { intent: "restore", key: DEFAULT_NAME_KEY })).status).toBe(404);
   });
 
+  test("A dismissal whose finding went away is listed and can be withdrawn", async () => {
+    const { client, slug, deviceId } = await organisationWithDevice("fd-unmatched");
+    const overviewPath = `/o/${slug}/devices/${deviceId}`;
+    const reason = "Will be renamed in the next change window.";
+    expect((await client.post(`${overviewPath}/dismissals`, { intent: "dismiss", key: DEFAULT_NAME_KEY, reason })).status).toBe(302);
+    // The next revision renames the account: the finding is gone, its dismissal stays on record.
+    const renamed = { ...TIDEWATER, accounts: TIDEWATER.accounts.map((account) => ({ ...account, name: "ops-ferran" })) };
+    expect((await importModel(client, slug, `device:${deviceId}`, renamed, 1)).status).toBe(302);
+    const page = plain((await client.get(overviewPath)).text);
+    expect(page).toContain("Dismissals that no longer match a finding (1)");
+    expect(page).toContain(reason);
+    expect((await client.post(`${overviewPath}/dismissals`, { intent: "restore", key: DEFAULT_NAME_KEY })).status).toBe(302);
+    expect(plain((await client.get(overviewPath)).text)).not.toContain("Dismissals that no longer match");
+  });
+
   test("A trainee or reviewer cannot dismiss (403), and sees no dismiss control; the demo finding stays active", async () => {
     const engineer = await signedIn("engineer");
     const id = await demoDeviceId(engineer, "clf-gw-02");

@@ -1,11 +1,13 @@
+import { Form } from "react-router";
 import type { Route } from "./+types/overview";
 import { hasAtLeastRole } from "../../../../../server/auth/roles";
 import { requireDevice } from "../../../../../server/http/device-access.server";
-import { deviceFindings } from "../../../../../server/services/findings.server";
+import { deviceFindings, unmatchedDismissals } from "../../../../../server/services/findings.server";
 import { ActiveFindingCard, DismissedFindingCard } from "~/components/findings/finding-card";
 import { countBySeverity } from "~/components/findings/keys";
 import { isOutcome, OutcomeChip } from "~/components/outcome";
 import { SeverityCounts } from "~/components/severity";
+import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { EmptyState } from "~/components/ui/empty-state";
 
@@ -14,7 +16,7 @@ export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.name ??
 export async function loader({ request, params }: Route.LoaderArgs) {
   const access = await requireDevice(request, params);
   // The engine lists the most severe first; dismissed ones move to their own section.
-  const list = await deviceFindings(access);
+  const [list, unmatched] = await Promise.all([deviceFindings(access), unmatchedDismissals(access)]);
   const active = list.filter((finding) => !finding.dismissal);
   return {
     name: access.device.name,
@@ -24,6 +26,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     revision: { number: access.revision.number, message: access.revision.message, author: access.revision.authorEmail, at: access.revision.createdAt.toISOString() },
     active,
     dismissed: list.filter((finding) => finding.dismissal),
+    unmatched,
     // The counts show what still needs attention: dismissed findings are accepted risks.
     activeCounts: countBySeverity(active),
     canDismiss: hasAtLeastRole(access.role, "engineer"),
@@ -31,7 +34,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
-  const { summary, settings, revision, activeCounts, active, dismissed, devicePath, canDismiss } = loaderData;
+  const { summary, settings, revision, activeCounts, active, dismissed, unmatched, devicePath, canDismiss } = loaderData;
   return (
     <div className="space-y-6">
       <div className="grid gap-4 md:grid-cols-3">
@@ -93,6 +96,32 @@ export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
               {dismissed.map((finding) => (
                 <li key={finding.key}>
                   <DismissedFindingCard finding={finding} devicePath={devicePath} canRestore={canDismiss} />
+                </li>
+              ))}
+            </ul>
+          </details>
+        ) : null}
+        {unmatched.length > 0 ? (
+          <details className="mt-4 rounded-card border border-line bg-surface p-4">
+            <summary className="cursor-pointer text-base font-semibold">Dismissals that no longer match a finding ({unmatched.length})</summary>
+            <p className="mt-2 text-sm text-ink-muted">This revision no longer reports these findings. Their dismissals would apply again if the same finding came back; withdraw one to be told next time.</p>
+            <ul className="mt-3 space-y-2 text-sm">
+              {unmatched.map((dismissal) => (
+                <li key={dismissal.key} className="flex flex-wrap items-center gap-3 border-l-2 border-line-strong pl-3">
+                  <span className="font-medium">{dismissal.title}</span>
+                  <code className="text-xs text-ink-muted">{dismissal.code}</code>
+                  <span className="text-ink-muted">
+                    “{dismissal.reason}” — {dismissal.by}, {dismissal.at.slice(0, 10)} (r{dismissal.revisionNumber})
+                  </span>
+                  {canDismiss ? (
+                    <Form method="post" action={`${devicePath}/dismissals`}>
+                      <input type="hidden" name="intent" value="restore" />
+                      <input type="hidden" name="key" value={dismissal.key} />
+                      <Button type="submit" variant="ghost" size="sm">
+                        Withdraw
+                      </Button>
+                    </Form>
+                  ) : null}
                 </li>
               ))}
             </ul>
