@@ -119,3 +119,39 @@ test("A bad upload is refused with its problems and creates nothing", async ({ p
   await page.goto("/o/lanternfield/devices?q=broken");
   await expect(page.getByText("0 of")).toBeVisible();
 });
+
+test("Inbound rules can be reordered with the keyboard and by dragging", async ({ page }) => {
+  await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+  await page.goto("/o/lanternfield/devices");
+  await page.getByRole("link", { name: "ngl-core-01", exact: true }).click();
+  await page.getByRole("navigation", { name: "Device" }).getByRole("link", { name: "Inbound rules" }).click();
+  const rules = page.getByRole("list", { name: "Inbound rules in order" });
+  const first = await rules.getByRole("listitem").nth(0).getAttribute("aria-label");
+  const second = await rules.getByRole("listitem").nth(1).getAttribute("aria-label");
+  const firstId = first!.match(/^Rule (\S+) at/)![1];
+  const secondId = second!.match(/^Rule (\S+) at/)![1];
+
+  // Keyboard: pick the first rule up with space, move it down one place, drop it with space.
+  await page.getByRole("button", { name: `Drag to reorder rule ${firstId}; with the keyboard press space, arrows, then space` }).focus();
+  // dnd-kit measures the list between key presses, as a person's pace allows.
+  await page.keyboard.press("Space");
+  await page.waitForTimeout(300);
+  await page.keyboard.press("ArrowDown");
+  await page.waitForTimeout(300);
+  await page.keyboard.press("Space");
+  await expect(toast(page)).toContainText(`Moved inbound rule ${firstId} to position 2`);
+  await expect(rules.getByRole("listitem").nth(0)).toHaveAccessibleName(`Rule ${secondId} at position 1`);
+
+  // Mouse: drag it back above.
+  const handle = page.getByRole("button", { name: `Drag to reorder rule ${firstId}; with the keyboard press space, arrows, then space` });
+  const target = rules.getByRole("listitem").nth(0);
+  const from = await handle.boundingBox();
+  const to = await target.boundingBox();
+  await page.mouse.move(from!.x + from!.width / 2, from!.y + from!.height / 2);
+  await page.mouse.down();
+  await page.mouse.move(from!.x + from!.width / 2, from!.y - 10, { steps: 5 });
+  await page.mouse.move(to!.x + 40, to!.y + 5, { steps: 10 });
+  await page.mouse.up();
+  await expect(rules.getByRole("listitem").nth(0)).toHaveAccessibleName(`Rule ${firstId} at position 1`);
+  await expect(toast(page)).toContainText(`Moved inbound rule ${firstId} to position 1`);
+});
