@@ -45,10 +45,16 @@ const distinctCache = new WeakMap<CompiledModel, RulePartition[]>();
 export function distinctRulePartitions(engine: CompiledModel): RulePartition[] {
   const cached = distinctCache.get(engine);
   if (cached !== undefined) return cached;
+  // Walks the probe classes in the order of probeClasses() without building an entry for each.
   const byId = new Map<number, RulePartition>();
-  for (const p of probeClasses(engine)) {
-    const rules = engine.entry(p.iface, p.to, p.cls, p.slice).rules;
-    byId.set(rules.id, rules);
+  for (let iface = 0; iface < engine.interfaceAddresses.length; iface++) {
+    const families = new Set(engine.interfaceAddresses[iface].map((a) => engine.addresses[a].family));
+    for (const target of engine.addresses) {
+      if (!families.has(target.family)) continue;
+      for (const c of engine.classes) {
+        for (const rules of engine.weekRulePartitions(iface, target.index, c.index)) byId.set(rules.id, rules);
+      }
+    }
   }
   const list = [...byId.values()];
   distinctCache.set(engine, list);
@@ -88,11 +94,22 @@ export function isRedundant(engine: CompiledModel, position: number): boolean {
 export function loginReachable(engine: CompiledModel): AddressSet {
   const byFamily: Record<Family, Ranges> = { 4: [], 6: [] };
   const seen = new Set<unknown>();
-  for (const e of partitionsOf(engine, { loginOnly: true })) {
-    if (seen.has(e.outcome)) continue;
-    seen.add(e.outcome);
-    const d = engine.domains[e.family];
-    byFamily[e.family] = union(byFamily[e.family], union(d.rangesWhere(e.outcome, LOGIN_MFA), d.rangesWhere(e.outcome, LOGIN_PASSWORD)));
+  // Every login probe class (as partitionsOf with loginOnly), each distinct outcome once. A
+  // login service nothing listens to has no login outcome, whether or not its rules are evaluated.
+  for (let iface = 0; iface < engine.interfaceAddresses.length; iface++) {
+    const families = new Set(engine.interfaceAddresses[iface].map((a) => engine.addresses[a].family));
+    for (const target of engine.addresses) {
+      if (!families.has(target.family)) continue;
+      for (const c of engine.classes) {
+        if (c.kind !== "login") continue;
+        for (const e of engine.weekOutcomes(iface, target.index, c.index)) {
+          if (seen.has(e.outcome)) continue;
+          seen.add(e.outcome);
+          const d = engine.domains[e.family];
+          byFamily[e.family] = union(byFamily[e.family], union(d.rangesWhere(e.outcome, LOGIN_MFA), d.rangesWhere(e.outcome, LOGIN_PASSWORD)));
+        }
+      }
+    }
   }
   return { v4: byFamily[4], v6: byFamily[6] };
 }

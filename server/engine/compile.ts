@@ -76,6 +76,8 @@ export interface Candidates {
   readonly id: number;
   readonly rules: Int32Array;
   readonly scheduled: boolean;
+  /** The list's rules limited to a schedule, in list order (so a slice need not walk the whole list). */
+  readonly scheduledRules: Int32Array;
 }
 
 /** The first-match partition of one family's sources for one list of active rules. */
@@ -149,14 +151,19 @@ export class CompiledModel {
   private readonly ruleBits: readonly (readonly [SparseBits, SparseBits])[];
   /** Per family, per account: dense bitset of the elements inside its login sources. */
   private readonly accountBits: Readonly<Record<Family, readonly Int32Array[]>>;
-  private readonly candidates = new Map<string, Candidates>();
+  /** Indexed by (interface, destination, class). */
+  private readonly candidates: (Candidates | undefined)[] = [];
   private readonly candidateLists = new Map<string, number>();
   private readonly byInterface = new Map<number, number[]>();
   private readonly destinationRows = new Map<number, Uint8Array>();
   private readonly partitions = new Map<string, RulePartition>();
-  private readonly entries = new Map<number, EntryPartition>();
+  /** Indexed by (interface, destination, class, slice). */
+  private readonly entries: (EntryPartition | undefined)[] = [];
+  /** Rule partitions per (candidate list, family), by slice, so a slice need not rebuild the list's key. */
+  private readonly slicePartitions = new Map<number, (RulePartition | undefined)[]>();
   private readonly loginRuns = new Map<string, Runs>();
-  private readonly outcomeCache = new Map<string, Runs>();
+  /** Outcome runs per (rule partition, class, listening). */
+  private readonly outcomeCache = new Map<number, Runs>();
   private readonly scratch: Record<Family, { remaining: Int32Array; owner: Int32Array }>;
 
   constructor(readonly model: DeviceModel) {
@@ -380,25 +387,26 @@ export class CompiledModel {
 
   /** Enabled rules that can match (interface, destination, service class) at some time, in order. */
   candidateRules(iface: number, to: number, cls: number): Candidates {
-    const key = `${iface}|${to}|${cls}`;
-    const cached = this.candidates.get(key);
+    const key = (iface * this.addresses.length + to) * this.classes.length + cls;
+    const cached = this.candidates[key];
     if (cached !== undefined) return cached;
     const classKey = this.classes[cls].key;
     const list: number[] = [];
-    let scheduled = false;
+    const scheduledList: number[] = [];
     for (const position of this.rulesOnInterface(iface)) {
       const r = this.rules[position];
       if (!r.anyService && !r.serviceKeys.has(classKey)) continue;
       if (!this.destinationHolds(position, to)) continue;
       list.push(position);
-      if (r.schedule >= 0) scheduled = true;
+      if (r.schedule >= 0) scheduledList.push(position);
     }
+    const scheduled = scheduledList.length > 0;
     // Equal lists (e.g. two services named by the same rules) share one id, so their partitions are shared.
     const listKey = list.join(",");
     let id = this.candidateLists.get(listKey);
     if (id === undefined) this.candidateLists.set(listKey, (id = this.candidateLists.size));
-    const result: Candidates = { id, rules: Int32Array.from(list), scheduled };
-    this.candidates.set(key, result);
+    const result: Candidates = { id, rules: Int32Array.from(list), scheduled, scheduledRules: Int32Array.from(scheduledList) };
+    this.candidates[key] = result;
     return result;
   }
 
@@ -426,19 +434,91 @@ export class CompiledModel {
   /** First-match partition for (interface, destination, class, slice); shared between equal rule lists. */
   entry(iface: number, to: number, cls: number, slice: number): EntryPartition {
     const key = ((iface * this.addresses.length + to) * this.classes.length + cls) * this.week.slices.length + slice;
-    const cached = this.entries.get(key);
+    const cached = this.entries[key];
     if (cached !== undefined) return cached;
     const family = this.addresses[to].family;
-    const candidates = this.candidateRules(iface, to, cls);
+    const rules = this.rulePartitionAt(iface, to, cls, slice);
+    const result: EntryPartition = { family, rules, outcome: this.outcomeRunsOf(rules, iface, cls) };
+    this.entries[key] = result;
+    return result;
+  }
+
+  /** The first-match partition of entry(iface, to, cls, slice).rules, without building or keeping the entry. */
+  rulePartitionAt(iface: number, to: number, cls: number, slice: number): RulePartition {
+    const family = this.addresses[to].family;
+    return this.partitionsBySlice(family, this.candidateRules(iface, to, cls), [slice])[0];
+  }
+
+  /** The first-match partitions of (interface, destination, class) for every slice, in slice order. */
+  weekRulePartitions(iface: number, to: number, cls: number): RulePartition[] {
+    return this.partitionsBySlice(this.addresses[to].family, this.candidateRules(iface, to, cls), null);
+  }
+
+  /** Rule partitions of a candidate list for the given slices (null = all, in order). */
+  private partitionsBySlice(family: Family, candidates: Candidates, slices: readonly number[] | null): RulePartition[] {
+    const listKey = candidates.id * 2 + (family === 4 ? 0 : 1);
+    let bySlice = this.slicePartitions.get(listKey);
+    if (bySlice === undefined) {
+      bySlice = new Array<RulePartition | undefined>(this.week.slices.length).fill(undefined);
+      this.slicePartitions.set(listKey, bySlice);
+    }
+    const count = slices === null ? this.week.slices.length : slices.length;
+    const out: RulePartition[] = new Array<RulePartition>(count);
+    for (let k = 0; k < count; k++) {
+      const slice = slices === null ? k : slices[k];
+      let rules = bySlice[slice];
+      if (rules === undefined) {
+        rules = this.slicePartition(family, candidates, slice);
+        bySlice[slice] = rules;
+      }
+      out[k] = rules;
+    }
+    return out;
+  }
+
+  /** Outcome runs of a rule partition on an interface for a class (shared per partition, class and listening). */
+  private outcomeRunsOf(rules: RulePartition, iface: number, cls: number): Runs {
+    const listening = this.classes[cls].service !== null && this.listening[iface].has(this.classes[cls].service?.name ?? "");
+    const outcomeKey = (rules.id * this.classes.length + cls) * 2 + (listening ? 1 : 0);
+    let outcome = this.outcomeCache.get(outcomeKey);
+    if (outcome === undefined) {
+      outcome = this.outcomeRuns(rules.family, rules, cls, listening);
+      this.outcomeCache.set(outcomeKey, outcome);
+    }
+    return outcome;
+  }
+
+  /**
+   * The distinct outcome partitions of (interface, destination, class) over the week, in
+   * slice order: the same as outcomeOf for every slice with repeated outcomes left out
+   * (equal outcomes are the same Runs object), without building an entry per slice.
+   */
+  weekOutcomes(iface: number, to: number, cls: number): OutcomePartition[] {
+    const c = this.classes[cls];
+    const listening = c.service !== null && this.listening[iface].has(c.service.name);
+    const family = this.addresses[to].family;
+    if (!listening && (c.kind === "echo" || !this.unlistenedReset)) return [family === 4 ? SILENT_V4 : SILENT_V6];
+    const out: OutcomePartition[] = [];
+    const seen = new Set<Runs>();
+    for (const rules of this.weekRulePartitions(iface, to, cls)) {
+      const outcome = this.outcomeRunsOf(rules, iface, cls);
+      if (seen.has(outcome)) continue;
+      seen.add(outcome);
+      out.push({ family, outcome });
+    }
+    return out;
+  }
+
+  /** The rule partition of a candidate list in one slice: only the list's scheduled rules that are on. */
+  private slicePartition(family: Family, candidates: Candidates, slice: number): RulePartition {
     let activeKey = `${family}|${candidates.id}`;
     let off: number[] = [];
     const state = this.week.slices[slice].active;
     if (candidates.scheduled) {
       // The partition depends only on which of the list's scheduled rules are off in this slice.
       off = [];
-      for (const p of candidates.rules) {
-        const s = this.rules[p].schedule;
-        if (s >= 0 && !state[s]) off.push(p);
+      for (const p of candidates.scheduledRules) {
+        if (!state[this.rules[p].schedule]) off.push(p);
       }
       if (off.length > 0) activeKey += `|${off.join(",")}`;
     }
@@ -455,16 +535,7 @@ export class CompiledModel {
       }
       rules = this.rulePartition(family, active, activeKey);
     }
-    const listening = this.classes[cls].service !== null && this.listening[iface].has(this.classes[cls].service?.name ?? "");
-    const outcomeKey = `${family}|${rules.id}|${cls}|${listening ? 1 : 0}`;
-    let outcome = this.outcomeCache.get(outcomeKey);
-    if (outcome === undefined) {
-      outcome = this.outcomeRuns(family, rules, cls, listening);
-      this.outcomeCache.set(outcomeKey, outcome);
-    }
-    const result: EntryPartition = { family, rules, outcome };
-    this.entries.set(key, result);
-    return result;
+    return rules;
   }
 
   /**

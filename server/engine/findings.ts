@@ -18,7 +18,7 @@ import {
 } from "./address-sets.ts";
 import type { AddressSet, Ranges } from "./address-sets.ts";
 import { firstMatchRules, intersectsSet, isRedundant, loginReachable } from "./analysis.ts";
-import type { CompiledModel } from "./compile.ts";
+import type { CompiledModel, OutcomePartition } from "./compile.ts";
 import { ANSWERED, LOGIN_DENIED, LOGIN_MFA, LOGIN_PASSWORD, OUTCOMES, SILENT } from "./outcomes.ts";
 import { outcomeSets } from "./exposure.ts";
 
@@ -167,26 +167,40 @@ export function findingsOf(engine: CompiledModel): Finding[] {
   const exposed = new Map<string, Seen>();
   const global: Record<Family, Ranges> = { 4: nonPrivate(4), 6: nonPrivate(6) };
   const everyAddress = engine.addresses.map((_, index) => index);
+  // Many (interface, destination, service) cells see the same outcome partitions, so the
+  // non-private hits of each distinct partition are computed once.
+  const hitsOf = new Map<unknown, { outcome: number; hit: AddressSet }[]>();
+  const distinctHits = (partition: OutcomePartition): { outcome: number; hit: AddressSet }[] => {
+    const cached = hitsOf.get(partition.outcome);
+    if (cached !== undefined) return cached;
+    const list: { outcome: number; hit: AddressSet }[] = [];
+    const sets = outcomeSets(engine, partition);
+    sets.counts.forEach((n, o) => {
+      if (o === SILENT || n === 0n) return;
+      const hit = intersect(sets.ranges[o], global[sets.family]);
+      if (hit.length === 0) return;
+      list.push({ outcome: o, hit: sets.family === 4 ? { v4: hit, v6: [] } : { v4: [], v6: hit } });
+    });
+    hitsOf.set(partition.outcome, list);
+    return list;
+  };
+  const mergedHits = new Map<string, Set<AddressSet>>();
   engine.interfaceAddresses.forEach((_own, iface) => {
     for (const to of everyAddress) {
       for (let cls = 0; cls < engine.catalogue.length; cls++) {
         const key = `${iface}|${cls}`;
         const seen = exposed.get(key) ?? { outcomes: new Set<number>(), hits: OUTCOMES.map(() => EMPTY_SET) };
-        const done = new Set<unknown>();
-        for (let slice = 0; slice < engine.week.slices.length; slice++) {
-          const partition = engine.outcomeOf(iface, to, cls, slice);
-          if (done.has(partition.outcome)) continue;
-          done.add(partition.outcome);
-          const sets = outcomeSets(engine, partition);
-          sets.counts.forEach((n, o) => {
-            if (o === SILENT || n === 0n) return;
-            const hit = intersect(sets.ranges[o], global[sets.family]);
-            if (hit.length === 0) return;
+        const merged = mergedHits.get(key) ?? new Set<AddressSet>();
+        for (const partition of engine.weekOutcomes(iface, to, cls)) {
+          for (const { outcome: o, hit } of distinctHits(partition)) {
             seen.outcomes.add(o);
-            const family: AddressSet = sets.family === 4 ? { v4: hit, v6: [] } : { v4: [], v6: hit };
-            seen.hits[o] = unionSets(seen.hits[o], family);
-          });
+            // A set already merged into this outcome's hits adds nothing (same object, same outcome).
+            if (merged.has(hit)) continue;
+            merged.add(hit);
+            seen.hits[o] = unionSets(seen.hits[o], hit);
+          }
         }
+        mergedHits.set(key, merged);
         exposed.set(key, seen);
       }
     }
