@@ -14,6 +14,19 @@ function remember(revisionId: string, entry: { compiled: CompiledModel; effectiv
   while (cache.size > CACHE_SIZE) cache.delete(cache.keys().next().value!);
 }
 
+/** A revision's model, compiled once and shared by every page and API that analyses it. */
+export function compiledRevision(revisionId: string, effective: () => ModelDocument): CompiledModel {
+  const cached = cache.get(revisionId);
+  if (cached) {
+    remember(revisionId, cached);
+    return cached.compiled;
+  }
+  const document = effective();
+  const entry = { compiled: compileModel(document), effective: document };
+  remember(revisionId, entry);
+  return entry.compiled;
+}
+
 export type CompiledRevision = { device: Device; revisionNumber: number; compiled: CompiledModel; effective: ModelDocument };
 
 /** The current revision of a device of this organisation, compiled (cached by revision); null when there is none. */
@@ -32,7 +45,5 @@ export async function compiledCurrentRevision(organisationId: string, deviceId: 
   const revision = await DeviceRevision.findByPk(head.id);
   if (!revision) return null;
   const effective = effectiveDocument(revision.document as unknown as ModelDocument, revision.sharedObjects);
-  const entry = { compiled: compileModel(effective), effective };
-  remember(head.id, entry);
-  return { device, revisionNumber: head.number, ...entry };
+  return { device, revisionNumber: head.number, compiled: compiledRevision(head.id, () => effective), effective };
 }

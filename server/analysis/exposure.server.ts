@@ -1,8 +1,8 @@
 // The exposure map for the page and its CSV: one instant's entries filtered by the URL, the
 // focused entry's CIDR lists (paged) and address-space grids, and its week × hour view.
 
-import { compileModel, exposure, OUTCOMES, ProbeError } from "../engine/index.ts";
-import type { DeviceModel, ExposureEntry, Outcome } from "../engine/index.ts";
+import { exposure, OUTCOMES, ProbeError } from "../engine/index.ts";
+import type { CompiledModel, ExposureEntry, Outcome } from "../engine/index.ts";
 import { buildGrid, cellsPerRank, gridRuns, IPV4_GRID, IPV6_GRIDS, pageOf, topRank, weekHourGrid, type GridSpec, type HourCell } from "../../app/utils/analysis.ts";
 
 export interface ExposureQuery {
@@ -89,7 +89,7 @@ export type ExposureAnswer =
     };
 
 /** Parses `at` for this device; null when empty (now). */
-function instantOrError(device: ReturnType<typeof compileModel>, at: string): { ms: number } | { error: string } {
+function instantOrError(device: CompiledModel, at: string): { ms: number } | { error: string } {
   try {
     return { ms: device.instantOf(at || undefined, Date.now()) };
   } catch (error) {
@@ -99,15 +99,14 @@ function instantOrError(device: ReturnType<typeof compileModel>, at: string): { 
 }
 
 /** The raw entries at an instant, for the CSV. */
-export function exposureEntriesAt(model: DeviceModel, at: string): { ok: true; entries: readonly ExposureEntry[] } | { ok: false; error: string } {
-  const device = compileModel(model);
+export function exposureEntriesAt(device: CompiledModel, at: string): { ok: true; entries: readonly ExposureEntry[] } | { ok: false; error: string } {
   const instant = instantOrError(device, at);
   if ("error" in instant) return { ok: false, error: instant.error };
   return { ok: true, entries: exposure(device, instant.ms).entries };
 }
 
-export function answerExposure(model: DeviceModel, query: ExposureQuery): ExposureAnswer {
-  const device = compileModel(model);
+export function answerExposure(device: CompiledModel, query: ExposureQuery): ExposureAnswer {
+  const model = device.model;
   const instant = instantOrError(device, query.at);
   if ("error" in instant) return { ok: false, errors: { at: instant.error } };
   const map = exposure(device, instant.ms);
@@ -141,7 +140,7 @@ export function answerExposure(model: DeviceModel, query: ExposureQuery): Exposu
   };
 }
 
-function focusOf(device: ReturnType<typeof compileModel>, entry: ExposureEntry, query: ExposureQuery) {
+function focusOf(device: CompiledModel, entry: ExposureEntry, query: ExposureQuery) {
   const family = familyOf(entry.to);
   const ranges = entry.ranges;
   const byRank = OUTCOMES.map((outcome) => ranges[outcome]);

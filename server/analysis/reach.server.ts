@@ -1,8 +1,8 @@
 // The reach question for the page and its CSV: one source against every interface × catalogue
 // service of a device, with input errors as field messages (never a 500).
 
-import { compileModel, ProbeError, reach } from "../engine/index.ts";
-import type { DeviceModel, Outcome } from "../engine/index.ts";
+import { ProbeError, reach } from "../engine/index.ts";
+import type { CompiledModel, Outcome } from "../engine/index.ts";
 
 export interface ReachRow {
   /** Stable key for sorting ties: "interface service". */
@@ -29,8 +29,8 @@ export function reachQueryOf(url: URL): { from: string; at: string } {
   return { from: (url.searchParams.get("from") ?? "").trim().slice(0, 100), at: (url.searchParams.get("at") ?? "").trim().slice(0, 60) };
 }
 
-export function answerReach(model: DeviceModel, query: { from: string; at: string }, nowMs = Date.now()): ReachAnswer {
-  const device = compileModel(model);
+export function answerReach(device: CompiledModel, query: { from: string; at: string }, nowMs = Date.now()): ReachAnswer {
+  const model = device.model;
   const errors: { from?: string; at?: string } = {};
   let atMs = nowMs;
   try {

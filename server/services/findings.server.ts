@@ -1,8 +1,9 @@
 import { Op, UniqueConstraintError } from "sequelize";
-import { emptySeverityCounts, findingKey, isSeverity, type SeverityCountsRecord } from "../../app/components/findings/keys.ts";
+import { emptySeverityCounts, findingKey, isSeverity, type SeverityCountsRecord } from "../../app/utils/finding-keys.ts";
 import { Device, DeviceRevision, FindingDismissal, Site } from "../../models/index.ts";
 import { ensureDatabase } from "../db/database.server.ts";
-import { compileModel, findings, type Finding } from "../engine/index.ts";
+import { compiledRevision } from "../analysis/compiled-revisions.server.ts";
+import { findings, type Finding } from "../engine/index.ts";
 import { effectiveDocument, type ModelDocument } from "../workspace/index.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 import type { DeviceWithRevision } from "./devices.server.ts";
@@ -52,7 +53,7 @@ const findingsByRevision = new Map<string, readonly Finding[]>();
 function findingsOfRevision(revisionId: string, effective: () => ModelDocument): readonly Finding[] {
   const known = findingsByRevision.get(revisionId);
   if (known) return known;
-  const computed = findings(compileModel(effective()));
+  const computed = findings(compiledRevision(revisionId, effective));
   if (findingsByRevision.size >= MEMO_LIMIT) findingsByRevision.delete(findingsByRevision.keys().next().value as string);
   findingsByRevision.set(revisionId, computed);
   return computed;

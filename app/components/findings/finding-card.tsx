@@ -5,7 +5,7 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { cx } from "~/components/ui/cx";
 import { FormError } from "~/components/ui/field";
-import { severityRank } from "./keys";
+import { severityRank } from "~/utils/finding-keys";
 import type { FindingView } from "../../../server/services/findings.server";
 
 /** A finding as the device overview receives it from the loader. */

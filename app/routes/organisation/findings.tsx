@@ -3,7 +3,7 @@ import type { Route } from "./+types/findings";
 import { requireMember } from "../../../server/auth/guard.server";
 import { fleetFindings } from "../../../server/services/findings.server";
 import { ElementLink } from "~/components/device/element-link";
-import { countBySeverity, filterFindingRows, parseFindingsQuery, SEVERITY_SCALE, sortFindingRows } from "~/components/findings/keys";
+import { countBySeverity, filterFindingRows, parseFindingsQuery, SEVERITY_SCALE, sortFindingRows } from "~/utils/finding-keys";
 import { SeverityBadge } from "~/components/severity";
 import { ButtonLink } from "~/components/ui/button";
 import { Card, PageHeader } from "~/components/ui/card";

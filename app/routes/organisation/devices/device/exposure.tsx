@@ -11,6 +11,7 @@ import { Card } from "~/components/ui/card";
 import { cx } from "~/components/ui/cx";
 import { EmptyState } from "~/components/ui/empty-state";
 import { Table, Td, Th } from "~/components/ui/table";
+import { compiledRevision } from "../../../../../server/analysis/compiled-revisions.server";
 
 export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Exposure map · ${loaded?.deviceName ?? "Device"} · Sallyport` }];
 
@@ -18,7 +19,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const access = await requireDevice(request, params);
   const query = exposureQueryOf(new URL(request.url));
   const base = { deviceName: access.device.name, devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`, timezone: access.effective.device.timezone, query };
-  const answer = answerExposure(access.effective, query);
+  const answer = answerExposure(compiledRevision(access.revision.id, () => access.effective), query);
   if (!answer.ok) return data({ ...base, answer: null, error: answer.errors.at }, { status: 400 });
   return { ...base, answer, error: null };
 }

@@ -4,7 +4,7 @@ import { hasAtLeastRole } from "../../../../../server/auth/roles";
 import { requireDevice } from "../../../../../server/http/device-access.server";
 import { deviceFindings, unmatchedDismissals } from "../../../../../server/services/findings.server";
 import { ActiveFindingCard, DismissedFindingCard } from "~/components/findings/finding-card";
-import { countBySeverity } from "~/components/findings/keys";
+import { countBySeverity } from "~/utils/finding-keys";
 import { isOutcome, OutcomeChip } from "~/components/outcome";
 import { SeverityCounts } from "~/components/severity";
 import { Button } from "~/components/ui/button";

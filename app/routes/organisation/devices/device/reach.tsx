@@ -10,6 +10,7 @@ import { EmptyState } from "~/components/ui/empty-state";
 import { TextField } from "~/components/ui/field";
 import { SortHeader, sortRows } from "~/components/ui/sort-header";
 import { Table, Td } from "~/components/ui/table";
+import { compiledRevision } from "../../../../../server/analysis/compiled-revisions.server";
 
 export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Reach${loaded?.query.from ? ` from ${loaded.query.from}` : ""} · ${loaded?.deviceName ?? "Device"} · Sallyport` }];
 
@@ -54,7 +55,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const base = { deviceName: access.device.name, devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`, timezone: access.effective.device.timezone, query, sort, descending };
   // No source yet: just the form (asking is not an error).
   if (!url.searchParams.has("from") && !url.searchParams.has("at")) return { ...base, answer: null, errors: noErrors };
-  const answer = answerReach(access.effective, query);
+  const answer = answerReach(compiledRevision(access.revision.id, () => access.effective), query);
   if (!answer.ok) return data({ ...base, answer: null, errors: answer.errors }, { status: 400 });
   return { ...base, answer: { ...answer, rows: sortRows([...answer.rows], sortKey(sort), descending) }, errors: noErrors };
 }
