@@ -6,7 +6,7 @@ import { isbot } from "isbot";
 import type { RenderToPipeableStreamOptions } from "react-dom/server";
 import { renderToPipeableStream } from "react-dom/server";
 import { NonceContext } from "./utils/nonce";
-import "../server/http/context";
+import "#server/http/context";
 
 export const streamTimeout = 5_000;
 

@@ -1,10 +1,10 @@
 import { data, isRouteErrorResponse, Links, Meta, Outlet, Scripts, ScrollRestoration, useRouteLoaderData } from "react-router";
 import type { Route } from "./+types/root";
 import "./app.css";
-import { getSignedInSession } from "../server/auth/session.server";
-import { readFlash } from "../server/auth/flash.server";
-import { readTheme } from "../server/http/theme.server";
-import { isOutboxEnabled } from "../server/config.server";
+import { getSignedInSession } from "#server/auth/session.server";
+import { readFlash } from "#server/auth/flash.server";
+import { readTheme } from "#server/http/theme.server";
+import { isOutboxEnabled } from "#server/config.server";
 import { Toast } from "./components/ui/toast";
 import { useNonce } from "./utils/nonce";
 import { BrandMark } from "./components/brand";

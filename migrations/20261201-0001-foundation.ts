@@ -1,4 +1,4 @@
-import type { MigrationContext } from "../server/db/migrator.ts";
+import type { MigrationContext } from "#server/db/migrator.ts";
 
 // Plain SQL so the constraints that protect the data (role check, append-only audit log)
 // are visible in one place.

@@ -1,4 +1,4 @@
-import type { MigrationContext } from "../server/db/migrator.ts";
+import type { MigrationContext } from "#server/db/migrator.ts";
 
 // Devices keep their model as validated documents, one immutable row per revision; see
 // docs/decisions/003-device-models-as-revisioned-documents.md.

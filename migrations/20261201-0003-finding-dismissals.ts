@@ -1,4 +1,4 @@
-import type { MigrationContext } from "../server/db/migrator.ts";
+import type { MigrationContext } from "#server/db/migrator.ts";
 
 // A dismissal is an accepted risk for one finding of one device, named by a key that stays
 // the same across revisions (code + sorted elements), so it keeps applying to later

@@ -1,5 +1,5 @@
 import { DataTypes, Model, type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
-import { ROLES, type Role } from "../server/auth/roles.ts";
+import { ROLES, type Role } from "#server/auth/roles.ts";
 import type { Organisation } from "./organisation.ts";
 import type { User } from "./user.ts";
 

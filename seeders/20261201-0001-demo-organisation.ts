@@ -1,6 +1,6 @@
 import { randomUUID } from "node:crypto";
-import type { MigrationContext } from "../server/db/migrator.ts";
-import { hashPassword } from "../server/auth/password.server.ts";
+import type { MigrationContext } from "#server/db/migrator.ts";
+import { hashPassword } from "#server/auth/password.server.ts";
 import { DEMO_ORGANISATION, DEMO_SITES, DEMO_USERS } from "./demo-data.ts";
 
 // The invented managed-service provider of the demo: one user per role, three customer sites.

@@ -2,8 +2,8 @@ import { randomUUID } from "node:crypto";
 import { readFileSync } from "node:fs";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
-import type { MigrationContext } from "../server/db/migrator.ts";
-import { EMPTY_LIBRARY, summariseDocument, validateDocument } from "../server/workspace/index.ts";
+import type { MigrationContext } from "#server/db/migrator.ts";
+import { EMPTY_LIBRARY, summariseDocument, validateDocument } from "#server/workspace/index.ts";
 import { DEMO_ORGANISATION, DEMO_USERS } from "./demo-data.ts";
 
 const folder = path.join(path.dirname(fileURLToPath(import.meta.url)), "devices");

@@ -1,4 +1,4 @@
-import type { Role } from "../server/auth/roles.ts";
+import type { Role } from "#server/auth/roles.ts";
 
 // An invented scenario: the provider, its people and its customers are made up. E-mail
 // addresses use the reserved .example domain (RFC 2606). Passwords are for local demos only.

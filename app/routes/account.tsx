@@ -1,12 +1,12 @@
 import { Form, Link } from "react-router";
 import type { Route } from "./+types/account";
-import { Session } from "../../models/index";
-import { requireSignedIn } from "../../server/auth/session.server";
-import { listOrganisationsOfUser } from "../../server/services/organisations.server";
-import { BrandMark } from "~/components/brand";
-import { Button } from "~/components/ui/button";
-import { Card } from "~/components/ui/card";
-import { Table, Td, Th } from "~/components/ui/table";
+import { Session } from "#models/index";
+import { requireSignedIn } from "#server/auth/session.server";
+import { listOrganisationsOfUser } from "#server/services/organisations.server";
+import { BrandMark } from "#app/components/brand";
+import { Button } from "#app/components/ui/button";
+import { Card } from "#app/components/ui/card";
+import { Table, Td, Th } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = () => [{ title: "Account · Sallyport" }];
 

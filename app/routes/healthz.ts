@@ -1,4 +1,4 @@
-import { getDatabase } from "../../server/db/database.server";
+import { getDatabase } from "#server/db/database.server";
 
 // For the set-up scripts and monitoring: the app answers and the database is reachable.
 export async function loader() {

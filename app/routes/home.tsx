@@ -1,13 +1,13 @@
 import { Form, redirect } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/home";
-import { requireSignedIn } from "../../server/auth/session.server";
-import { fieldErrorsOf, formValues, invalidForm, readForm } from "../../server/http/form.server";
-import { OrganisationNameSchema } from "../../server/http/schemas";
-import { createOrganisationForUser, listOrganisationsOfUser } from "../../server/services/organisations.server";
-import { BrandMark } from "~/components/brand";
-import { Button } from "~/components/ui/button";
-import { TextField } from "~/components/ui/field";
+import { requireSignedIn } from "#server/auth/session.server";
+import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
+import { OrganisationNameSchema } from "#server/http/schemas";
+import { createOrganisationForUser, listOrganisationsOfUser } from "#server/services/organisations.server";
+import { BrandMark } from "#app/components/brand";
+import { Button } from "#app/components/ui/button";
+import { TextField } from "#app/components/ui/field";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sallyport" }];
 

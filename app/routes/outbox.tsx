@@ -1,10 +1,10 @@
 import { data } from "react-router";
 import type { Route } from "./+types/outbox";
-import { getEnvironment, isOutboxEnabled } from "../../server/config.server";
-import { listOutboxMessages } from "../../server/mail/outbox.server";
-import { BrandMark } from "~/components/brand";
-import { Card } from "~/components/ui/card";
-import { EmptyState } from "~/components/ui/empty-state";
+import { getEnvironment, isOutboxEnabled } from "#server/config.server";
+import { listOutboxMessages } from "#server/mail/outbox.server";
+import { BrandMark } from "#app/components/brand";
+import { Card } from "#app/components/ui/card";
+import { EmptyState } from "#app/components/ui/empty-state";
 
 export const meta: Route.MetaFunction = () => [{ title: "Local outbox · Sallyport" }];
 

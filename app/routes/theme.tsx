@@ -1,8 +1,8 @@
 import { data, redirect } from "react-router";
 import type { Route } from "./+types/theme";
-import { safeRedirectPath } from "../../server/auth/session.server";
-import { readForm } from "../../server/http/form.server";
-import { serializeTheme, THEMES } from "../../server/http/theme.server";
+import { safeRedirectPath } from "#server/auth/session.server";
+import { readForm } from "#server/http/form.server";
+import { serializeTheme, THEMES } from "#server/http/theme.server";
 
 export async function loader() {
   throw redirect("/");

@@ -1,5 +1,5 @@
 // Plain-language wording of a trace, shared by the canvas, the step list and tests. Pure.
-import type { TraceResult } from "../../server/engine/trace";
+import type { TraceResult } from "#server/engine/trace";
 
 export const LAYER_TITLES: Record<string, string> = {
   arrival: "Arrival",

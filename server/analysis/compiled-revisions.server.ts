@@ -1,4 +1,4 @@
-import { Device, DeviceRevision } from "../../models/index.ts";
+import { Device, DeviceRevision } from "#models/index.ts";
 import { ensureDatabase } from "../db/database.server.ts";
 import { compileModel, type CompiledModel } from "../engine/index.ts";
 import { effectiveDocument, type ModelDocument } from "../workspace/index.ts";

@@ -1,7 +1,7 @@
 import { Authenticator } from "remix-auth";
 import { FormStrategy } from "remix-auth-form";
 import { z } from "zod";
-import { User } from "../../models/index.ts";
+import { User } from "#models/index.ts";
 import { ensureDatabase } from "../db/database.server.ts";
 import { getDecoyHash, hashPassword, needsRehash, verifyPassword } from "./password.server.ts";
 import { PASSWORD_MAX_LENGTH } from "./password-rules.ts";

@@ -1,5 +1,5 @@
 import { data } from "react-router";
-import { Membership, Organisation, type User } from "../../models/index.ts";
+import { Membership, Organisation, type User } from "#models/index.ts";
 import { ensureDatabase } from "../db/database.server.ts";
 import { hasAtLeastRole, type Role } from "./roles.ts";
 import { requireSignedIn, type SignedInSession } from "./session.server.ts";

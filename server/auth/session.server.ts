@@ -1,6 +1,6 @@
 import { createCookie, redirect } from "react-router";
 import { Op } from "sequelize";
-import { Session, User } from "../../models/index.ts";
+import { Session, User } from "#models/index.ts";
 import { getCookieSecrets, isCookieSecure } from "../config.server.ts";
 import { ensureDatabase } from "../db/database.server.ts";
 import { createToken, hashToken } from "./tokens.server.ts";

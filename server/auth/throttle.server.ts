@@ -1,5 +1,5 @@
 import { Op } from "sequelize";
-import { SignInAttempt } from "../../models/index.ts";
+import { SignInAttempt } from "#models/index.ts";
 import { ensureDatabase } from "../db/database.server.ts";
 
 // PCI DSS v4.0 8.3.4: lock out after at most 10 invalid attempts (NIST SP 800-63B §5.2.2

@@ -1,5 +1,5 @@
 import { Sequelize } from "sequelize";
-import { initModels } from "../../models/index.ts";
+import { initModels } from "#models/index.ts";
 import { getEnvironment } from "../config.server.ts";
 
 let sequelize: Sequelize | undefined;

@@ -1,4 +1,4 @@
-import { AuditEvent } from "../../models/index.ts";
+import { AuditEvent } from "#models/index.ts";
 import { ensureDatabase } from "../db/database.server.ts";
 
 export type AuditActor = { userId: string | null; email: string; clientAddress: string };

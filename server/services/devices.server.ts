@@ -1,5 +1,5 @@
 import { Op, UniqueConstraintError } from "sequelize";
-import { Device, DeviceRevision, SharedAddressObject, Site } from "../../models/index.ts";
+import { Device, DeviceRevision, SharedAddressObject, Site } from "#models/index.ts";
 import type { ValidationIssue } from "../engine/index.ts";
 import { ensureDatabase, getDatabase } from "../db/database.server.ts";
 import {

@@ -1,6 +1,6 @@
 import { Op, UniqueConstraintError } from "sequelize";
-import { emptySeverityCounts, findingKey, isSeverity, type SeverityCountsRecord } from "../../app/utils/finding-keys.ts";
-import { Device, DeviceRevision, FindingDismissal, Site } from "../../models/index.ts";
+import { emptySeverityCounts, findingKey, isSeverity, type SeverityCountsRecord } from "#app/utils/finding-keys.ts";
+import { Device, DeviceRevision, FindingDismissal, Site } from "#models/index.ts";
 import { ensureDatabase } from "../db/database.server.ts";
 import { compiledRevision } from "../analysis/compiled-revisions.server.ts";
 import { findings, type Finding } from "../engine/index.ts";

@@ -1,5 +1,5 @@
 import { Op } from "sequelize";
-import { Invitation, Membership, type Organisation, User } from "../../models/index.ts";
+import { Invitation, Membership, type Organisation, User } from "#models/index.ts";
 import type { Role } from "../auth/roles.ts";
 import { createToken, hashToken } from "../auth/tokens.server.ts";
 import { ensureDatabase, getDatabase } from "../db/database.server.ts";

@@ -1,5 +1,5 @@
 import { Op } from "sequelize";
-import { Membership, Organisation, User } from "../../models/index.ts";
+import { Membership, Organisation, User } from "#models/index.ts";
 import { hashPassword } from "../auth/password.server.ts";
 import type { Role } from "../auth/roles.ts";
 import { ensureDatabase, getDatabase } from "../db/database.server.ts";

@@ -1,4 +1,4 @@
-import { Device, DeviceRevision, SharedAddressObject } from "../../models/index.ts";
+import { Device, DeviceRevision, SharedAddressObject } from "#models/index.ts";
 import { parseCsv } from "../cli/csv.ts";
 import { parseModel } from "../engine/index.ts";
 import { ensureDatabase } from "../db/database.server.ts";

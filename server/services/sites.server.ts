@@ -1,5 +1,5 @@
 import { UniqueConstraintError } from "sequelize";
-import { Device, Site } from "../../models/index.ts";
+import { Device, Site } from "#models/index.ts";
 import { ensureDatabase } from "../db/database.server.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 

@@ -1,5 +1,5 @@
 import { Op } from "sequelize";
-import { PasswordReset, User } from "../../models/index.ts";
+import { PasswordReset, User } from "#models/index.ts";
 import { hashPassword } from "../auth/password.server.ts";
 import { endAllSessions } from "../auth/session.server.ts";
 import { createToken, hashToken } from "../auth/tokens.server.ts";

@@ -5,11 +5,11 @@
 // naive evaluator, ≥ 1,000,000 lookups/s, peak RSS ≤ 512 MiB.
 
 import { performance } from "node:perf_hooks";
-import { compileModel, exposure, parseModel, trace } from "../../server/engine/index.ts";
-import type { DeviceModel } from "../../server/engine/index.ts";
-import { exposureCells } from "../../server/engine/exposure.ts";
-import { NaiveEvaluator } from "../../server/engine/naive.ts";
-import { BENCH_SIZE, generateModel, prng } from "../../server/engine/testing/generate-model.ts";
+import { compileModel, exposure, parseModel, trace } from "#server/engine/index.ts";
+import type { DeviceModel } from "#server/engine/index.ts";
+import { exposureCells } from "#server/engine/exposure.ts";
+import { NaiveEvaluator } from "#server/engine/naive.ts";
+import { BENCH_SIZE, generateModel, prng } from "#server/engine/testing/generate-model.ts";
 
 const SEED = 20250301;
 const TRACE_PROBES = 20_000;

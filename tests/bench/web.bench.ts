@@ -6,10 +6,10 @@
 // Needs the build and a database: `bash server/setup/bench-web.sh` prepares both.
 import { spawn } from "node:child_process";
 import { performance } from "node:perf_hooks";
-import { createDevice } from "../../server/services/devices.server.ts";
-import { getDatabase } from "../../server/db/database.server.ts";
-import { Organisation, Site } from "../../models/index.ts";
-import { BENCH_SIZE, generateModel, prng } from "../../server/engine/testing/generate-model.ts";
+import { createDevice } from "#server/services/devices.server.ts";
+import { getDatabase } from "#server/db/database.server.ts";
+import { Organisation, Site } from "#models/index.ts";
+import { BENCH_SIZE, generateModel, prng } from "#server/engine/testing/generate-model.ts";
 import { findFreePort } from "../support/free-port.ts";
 
 const json = process.argv.includes("--json");

@@ -12,8 +12,8 @@ import {
   parseAddress,
   parseEntry,
   rangeToCidrs,
-} from "../../server/engine/addresses.ts";
-import type { Family } from "../../server/engine/addresses.ts";
+} from "#server/engine/addresses.ts";
+import type { Family } from "#server/engine/addresses.ts";
 import {
   collapse,
   complement,
@@ -22,8 +22,8 @@ import {
   intersect,
   subtract,
   union,
-} from "../../server/engine/address-sets.ts";
-import type { Ranges } from "../../server/engine/address-sets.ts";
+} from "#server/engine/address-sets.ts";
+import type { Ranges } from "#server/engine/address-sets.ts";
 
 const size = (text: string): bigint => {
   const r = parseEntry(text).range;

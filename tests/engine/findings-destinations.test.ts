@@ -1,5 +1,5 @@
 import { describe, expect, test } from "vitest";
-import { compileModel, findings, parseModel, trace } from "../../server/engine/index.ts";
+import { compileModel, findings, parseModel, trace } from "#server/engine/index.ts";
 
 // An invented edge device whose inbound rules protect only the outside address: a probe on the
 // outside interface sent to the inside address still gets the login page (PRODUCT.md §3: `to`

@@ -4,8 +4,8 @@
 import { readFileSync } from "node:fs";
 import { join } from "node:path";
 import { describe, expect, test } from "vitest";
-import { ProbeError, compileModel, diffModels, exposure, findings, parseModel, reach, trace } from "../../server/engine/index.ts";
-import type { CompiledModel, ProbeInput } from "../../server/engine/index.ts";
+import { ProbeError, compileModel, diffModels, exposure, findings, parseModel, reach, trace } from "#server/engine/index.ts";
+import type { CompiledModel, ProbeInput } from "#server/engine/index.ts";
 
 const DIR = join(import.meta.dirname, "../fixtures/models");
 

@@ -1,8 +1,8 @@
 // Validation of the device model document: every error names its path.
 
 import { describe, expect, test } from "vitest";
-import { parseModel } from "../../server/engine/index.ts";
-import type { DeviceModelInput } from "../../server/engine/index.ts";
+import { parseModel } from "#server/engine/index.ts";
+import type { DeviceModelInput } from "#server/engine/index.ts";
 
 const base = (): DeviceModelInput => ({
   schemaVersion: 1,

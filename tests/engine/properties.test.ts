@@ -3,11 +3,11 @@
 
 import fc from "fast-check";
 import { describe, expect, test } from "vitest";
-import { compileModel, diffModels, exposure, findings, parseModel, trace } from "../../server/engine/index.ts";
-import type { CompiledModel, DeviceModel, DeviceModelInput } from "../../server/engine/index.ts";
-import { formatAddress, parseEntry } from "../../server/engine/addresses.ts";
-import { NaiveEvaluator } from "../../server/engine/naive.ts";
-import { SMALL_SIZE, generateModel, prng } from "../../server/engine/testing/generate-model.ts";
+import { compileModel, diffModels, exposure, findings, parseModel, trace } from "#server/engine/index.ts";
+import type { CompiledModel, DeviceModel, DeviceModelInput } from "#server/engine/index.ts";
+import { formatAddress, parseEntry } from "#server/engine/addresses.ts";
+import { NaiveEvaluator } from "#server/engine/naive.ts";
+import { SMALL_SIZE, generateModel, prng } from "#server/engine/testing/generate-model.ts";
 
 function validated(input: DeviceModelInput): DeviceModel {
   const parsed = parseModel(input);

@@ -1,7 +1,7 @@
 // Schedules, slices and the device clock.
 
 import { describe, expect, test } from "vitest";
-import { LocalClock, formatWeekMinute, parseInstant, planWeek, windowIntervals } from "../../server/engine/schedules.ts";
+import { LocalClock, formatWeekMinute, parseInstant, planWeek, windowIntervals } from "#server/engine/schedules.ts";
 
 describe("windows", () => {
   test("a same-day window is start ≤ time < end on each listed day", () => {

@@ -6,9 +6,9 @@
 
 import fc from "fast-check";
 import { beforeAll, describe, expect, test } from "vitest";
-import type { Role } from "../../server/auth/roles";
-import { generateModel, type ModelSize } from "../../server/engine/testing/generate-model";
-import { EMPTY_LIBRARY, validateDocument, type ModelDocument } from "../../server/workspace/index";
+import type { Role } from "#server/auth/roles";
+import { generateModel, type ModelSize } from "#server/engine/testing/generate-model";
+import { EMPTY_LIBRARY, validateDocument, type ModelDocument } from "#server/workspace/index";
 import { DEMO_PASSWORDS, signUpNewOrganisation, TestClient, type FetchResult } from "../support/client";
 import { plain, UUID } from "../support/html";
 

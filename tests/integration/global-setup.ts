@@ -3,7 +3,7 @@ import { mkdtempSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
 import type { TestProject } from "vitest/node";
-import { startFakeSmtp, type FakeSmtp } from "../../server/mail/fake-smtp";
+import { startFakeSmtp, type FakeSmtp } from "#server/mail/fake-smtp";
 import { findFreePort } from "../support/free-port";
 
 declare module "vitest" {

@@ -1,6 +1,6 @@
 import { afterAll, describe, expect, test } from "vitest";
-import { createDatabase } from "../../server/db/database.server";
-import { User } from "../../models/index";
+import { createDatabase } from "#server/db/database.server";
+import { User } from "#models/index";
 import { signUpNewOrganisation } from "../support/client";
 
 const sequelize = createDatabase(process.env.DATABASE_URL!);

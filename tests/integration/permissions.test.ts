@@ -1,5 +1,5 @@
 import { beforeAll, describe, expect, test } from "vitest";
-import { ROLES, roleRank, type Role } from "../../server/auth/roles";
+import { ROLES, roleRank, type Role } from "#server/auth/roles";
 import { DEMO_PASSWORDS, signUpNewOrganisation, TestClient, uniqueEmail } from "../support/client";
 
 // Each guarded operation with the lowest role allowed to do it.

@@ -2,7 +2,7 @@
 // address-space grids from CIDR lists, the week × hour grid, CSV writing and paging.
 
 import { describe, expect, test } from "vitest";
-import { parseCsv } from "../../server/cli/csv";
+import { parseCsv } from "#server/cli/csv";
 import {
   addressCount,
   buildGrid,
@@ -19,7 +19,7 @@ import {
   toCsv,
   topRank,
   weekHourGrid,
-} from "../../app/utils/analysis";
+} from "#app/utils/analysis";
 
 const RFC1918 = ["10.0.0.0/8", "172.16.0.0/12", "192.168.0.0/16"];
 const RFC5737 = ["192.0.2.0/24", "198.51.100.0/24", "203.0.113.0/24"];

@@ -1,6 +1,6 @@
 import argon2 from "argon2";
 import { describe, expect, test } from "vitest";
-import { ARGON2_OPTIONS, hashPassword, verifyPassword } from "../../server/auth/password.server";
+import { ARGON2_OPTIONS, hashPassword, verifyPassword } from "#server/auth/password.server";
 
 describe("Password hashing", () => {
   // RFC 9106 §5.3 argon2id test vector: the library computes argon2id as specified.

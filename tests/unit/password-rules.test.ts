@@ -1,5 +1,5 @@
 import { describe, expect, test } from "vitest";
-import { findPasswordProblem, PASSWORD_MAX_LENGTH, PASSWORD_MIN_LENGTH } from "../../server/auth/password-rules";
+import { findPasswordProblem, PASSWORD_MAX_LENGTH, PASSWORD_MIN_LENGTH } from "#server/auth/password-rules";
 
 describe("Password rules (NIST SP 800-63B)", () => {
   // NIST SP 800-63B rev 4 §3.1.1.2: minimum 15 characters for a password used alone.

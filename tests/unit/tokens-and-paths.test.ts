@@ -1,8 +1,8 @@
 import { describe, expect, test } from "vitest";
-import { createToken, hashToken } from "../../server/auth/tokens.server";
-import { hasAtLeastRole, ROLES } from "../../server/auth/roles";
-import { safeRedirectPath } from "../../server/auth/session.server";
-import { slugFromName } from "../../server/services/organisations.server";
+import { createToken, hashToken } from "#server/auth/tokens.server";
+import { hasAtLeastRole, ROLES } from "#server/auth/roles";
+import { safeRedirectPath } from "#server/auth/session.server";
+import { slugFromName } from "#server/services/organisations.server";
 
 describe("Tokens", () => {
   test("Tokens carry 256 random bits and differ each time", () => {

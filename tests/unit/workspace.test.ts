@@ -4,7 +4,7 @@
 
 import fc from "fast-check";
 import { describe, expect, test } from "vitest";
-import { generateModel, type ModelSize } from "../../server/engine/testing/generate-model.ts";
+import { generateModel, type ModelSize } from "#server/engine/testing/generate-model.ts";
 import {
   deleteNamed,
   deleteRule,
@@ -25,7 +25,7 @@ import {
   validateDocument,
   type ModelDocument,
   type SharedLibrary,
-} from "../../server/workspace/index.ts";
+} from "#server/workspace/index.ts";
 
 /** The normalised form of a document, or the test fails with the engine's errors. */
 function normalised(input: unknown, library: SharedLibrary = EMPTY_LIBRARY): ModelDocument {

@@ -1,6 +1,6 @@
 import type { ReactNode } from "react";
 import { Link } from "react-router";
-import { formatCount } from "~/utils/analysis";
+import { formatCount } from "#app/utils/analysis";
 
 /** The §8 caution, where someone acts on a simulated result. */
 export function SimulationCaution({ children }: { children?: ReactNode }) {

@@ -1,10 +1,10 @@
 import { Background, Handle, Position, ReactFlow, type Edge, type Node, type NodeProps } from "@xyflow/react";
 import { useMemo } from "react";
 import { useNavigate } from "react-router";
-import type { TraceResult } from "../../../server/engine/trace";
+import type { TraceResult } from "#server/engine/trace";
 import { isOutcome, OUTCOME_LABELS, OutcomeChip } from "../outcome";
 import { cx } from "../ui/cx";
-import { LAYER_ORDER, LAYER_TITLES, outcomeSentence } from "~/utils/trace-words";
+import { LAYER_ORDER, LAYER_TITLES, outcomeSentence } from "#app/utils/trace-words";
 
 export type CanvasModel = {
   interfaces: Array<{ name: string; role: string; addresses: string[]; listeners: string[] }>;

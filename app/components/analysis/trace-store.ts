@@ -1,5 +1,5 @@
 import { create } from "zustand";
-import type { TraceResult } from "../../../server/engine/trace";
+import type { TraceResult } from "#server/engine/trace";
 
 export type ProbeFields = { from: string; interface: string; service: string; to: string; at: string; account: string };
 

@@ -3,7 +3,7 @@ import { SortableContext, sortableKeyboardCoordinates, useSortable, verticalList
 import { CSS } from "@dnd-kit/utilities";
 import { useEffect, useState } from "react";
 import { Link, useSubmit } from "react-router";
-import type { ModelDocument } from "../../../server/workspace/document";
+import type { ModelDocument } from "#server/workspace/document";
 import { Badge } from "../ui/card";
 import { cx } from "../ui/cx";
 import { EmptyState } from "../ui/empty-state";

@@ -1,5 +1,5 @@
-import type { ModelDocument } from "../../../server/workspace/document";
-import type { DocumentChange } from "../../../server/workspace/document-diff";
+import type { ModelDocument } from "#server/workspace/document";
+import type { DocumentChange } from "#server/workspace/document-diff";
 import { Badge, Card } from "../ui/card";
 import { EmptyState } from "../ui/empty-state";
 import { SelectField, TextField } from "../ui/field";

@@ -1,12 +1,12 @@
 import { useFetcher } from "react-router";
-import { ElementLink } from "~/components/device/element-link";
-import { SeverityBadge } from "~/components/severity";
-import { Button } from "~/components/ui/button";
-import { Card } from "~/components/ui/card";
-import { cx } from "~/components/ui/cx";
-import { FormError } from "~/components/ui/field";
-import { severityRank } from "~/utils/finding-keys";
-import type { FindingView } from "../../../server/services/findings.server";
+import { ElementLink } from "#app/components/device/element-link";
+import { SeverityBadge } from "#app/components/severity";
+import { Button } from "#app/components/ui/button";
+import { Card } from "#app/components/ui/card";
+import { cx } from "#app/components/ui/cx";
+import { FormError } from "#app/components/ui/field";
+import { severityRank } from "#app/utils/finding-keys";
+import type { FindingView } from "#server/services/findings.server";
 
 /** A finding as the device overview receives it from the loader. */
 export type FindingCardData = FindingView;

@@ -1,12 +1,12 @@
 import { Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/forgot-password";
-import { getEnvironment, isOutboxEnabled } from "../../../server/config.server";
-import { appOriginOf, fieldErrorsOf, formValues, invalidForm, readForm } from "../../../server/http/form.server";
-import { EmailSchema } from "../../../server/http/schemas";
-import { requestPasswordReset } from "../../../server/services/users.server";
-import { Button } from "~/components/ui/button";
-import { TextField } from "~/components/ui/field";
+import { getEnvironment, isOutboxEnabled } from "#server/config.server";
+import { appOriginOf, fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
+import { EmailSchema } from "#server/http/schemas";
+import { requestPasswordReset } from "#server/services/users.server";
+import { Button } from "#app/components/ui/button";
+import { TextField } from "#app/components/ui/field";
 
 export const meta: Route.MetaFunction = () => [{ title: "Reset your password · Sallyport" }];
 

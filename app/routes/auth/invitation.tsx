@@ -1,15 +1,15 @@
 import { data, Form, Link, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/invitation";
-import { serializeFlash } from "../../../server/auth/flash.server";
-import { findPasswordProblem, PASSWORD_MIN_LENGTH } from "../../../server/auth/password-rules";
-import { getSignedInSession, startSession } from "../../../server/auth/session.server";
-import { fieldErrorsOf, formValues, invalidForm, readForm } from "../../../server/http/form.server";
-import { InvitationSignUpSchema } from "../../../server/http/schemas";
-import { acceptInvitation, findOpenInvitation, MemberChangeError } from "../../../server/services/members.server";
-import { EmailTakenError } from "../../../server/services/organisations.server";
-import { createUser } from "../../../server/services/users.server";
-import { Button, ButtonLink } from "~/components/ui/button";
-import { FormError, TextField } from "~/components/ui/field";
+import { serializeFlash } from "#server/auth/flash.server";
+import { findPasswordProblem, PASSWORD_MIN_LENGTH } from "#server/auth/password-rules";
+import { getSignedInSession, startSession } from "#server/auth/session.server";
+import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
+import { InvitationSignUpSchema } from "#server/http/schemas";
+import { acceptInvitation, findOpenInvitation, MemberChangeError } from "#server/services/members.server";
+import { EmailTakenError } from "#server/services/organisations.server";
+import { createUser } from "#server/services/users.server";
+import { Button, ButtonLink } from "#app/components/ui/button";
+import { FormError, TextField } from "#app/components/ui/field";
 
 export const meta: Route.MetaFunction = () => [{ title: "Invitation · Sallyport" }];
 

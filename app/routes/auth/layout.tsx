@@ -1,5 +1,5 @@
 import { Link, Outlet } from "react-router";
-import { BrandMark } from "~/components/brand";
+import { BrandMark } from "#app/components/brand";
 
 /** The signed-out pages: one centred card beside a short statement of what Sallyport does. */
 export default function AuthLayout() {

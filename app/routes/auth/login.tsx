@@ -1,11 +1,11 @@
 import { Form, Link, redirect, useNavigation, useSearchParams } from "react-router";
 import type { Route } from "./+types/login";
-import { authenticateWithPassword, SignInError } from "../../../server/auth/authenticator.server";
-import { getSignedInSession, safeRedirectPath, startSession } from "../../../server/auth/session.server";
-import { formValues, invalidForm, readForm } from "../../../server/http/form.server";
-import { recordAuditEvent } from "../../../server/services/audit.server";
-import { Button } from "~/components/ui/button";
-import { FormError, TextField } from "~/components/ui/field";
+import { authenticateWithPassword, SignInError } from "#server/auth/authenticator.server";
+import { getSignedInSession, safeRedirectPath, startSession } from "#server/auth/session.server";
+import { formValues, invalidForm, readForm } from "#server/http/form.server";
+import { recordAuditEvent } from "#server/services/audit.server";
+import { Button } from "#app/components/ui/button";
+import { FormError, TextField } from "#app/components/ui/field";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sign in · Sallyport" }];
 

@@ -1,9 +1,9 @@
 import { redirect } from "react-router";
 import type { Route } from "./+types/logout";
-import { endAllSessions, endSession, getSignedInSession } from "../../../server/auth/session.server";
-import { serializeFlash } from "../../../server/auth/flash.server";
-import { readForm } from "../../../server/http/form.server";
-import { recordAuditEvent } from "../../../server/services/audit.server";
+import { endAllSessions, endSession, getSignedInSession } from "#server/auth/session.server";
+import { serializeFlash } from "#server/auth/flash.server";
+import { readForm } from "#server/http/form.server";
+import { recordAuditEvent } from "#server/services/audit.server";
 
 // Sign-out is a POST only, so a link or an image on another page cannot sign anyone out.
 export async function loader() {

@@ -1,12 +1,12 @@
 import { data, Form, Link, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/reset-password";
-import { serializeFlash } from "../../../server/auth/flash.server";
-import { findPasswordProblem, PASSWORD_MIN_LENGTH } from "../../../server/auth/password-rules";
-import { fieldErrorsOf, formValues, invalidForm, readForm } from "../../../server/http/form.server";
-import { ResetPasswordSchema } from "../../../server/http/schemas";
-import { completePasswordReset, findUserForResetToken } from "../../../server/services/users.server";
-import { Button } from "~/components/ui/button";
-import { TextField } from "~/components/ui/field";
+import { serializeFlash } from "#server/auth/flash.server";
+import { findPasswordProblem, PASSWORD_MIN_LENGTH } from "#server/auth/password-rules";
+import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
+import { ResetPasswordSchema } from "#server/http/schemas";
+import { completePasswordReset, findUserForResetToken } from "#server/services/users.server";
+import { Button } from "#app/components/ui/button";
+import { TextField } from "#app/components/ui/field";
 
 export const meta: Route.MetaFunction = () => [{ title: "Choose a new password · Sallyport" }];
 

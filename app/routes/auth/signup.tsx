@@ -1,12 +1,12 @@
 import { Form, Link, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/signup";
-import { PASSWORD_MIN_LENGTH } from "../../../server/auth/password-rules";
-import { getSignedInSession, startSession } from "../../../server/auth/session.server";
-import { fieldErrorsOf, formValues, invalidForm, readForm } from "../../../server/http/form.server";
-import { SignUpSchema } from "../../../server/http/schemas";
-import { createUserWithOrganisation, EmailTakenError } from "../../../server/services/organisations.server";
-import { Button } from "~/components/ui/button";
-import { FormError, TextField } from "~/components/ui/field";
+import { PASSWORD_MIN_LENGTH } from "#server/auth/password-rules";
+import { getSignedInSession, startSession } from "#server/auth/session.server";
+import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
+import { SignUpSchema } from "#server/http/schemas";
+import { createUserWithOrganisation, EmailTakenError } from "#server/services/organisations.server";
+import { Button } from "#app/components/ui/button";
+import { FormError, TextField } from "#app/components/ui/field";
 
 export const meta: Route.MetaFunction = () => [{ title: "Create an organisation · Sallyport" }];
 

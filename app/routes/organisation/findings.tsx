@@ -1,17 +1,17 @@
 import { Form, Link, useSearchParams } from "react-router";
 import type { Route } from "./+types/findings";
-import { requireMember } from "../../../server/auth/guard.server";
-import { fleetFindings } from "../../../server/services/findings.server";
-import { ElementLink } from "~/components/device/element-link";
-import { countBySeverity, filterFindingRows, parseFindingsQuery, SEVERITY_SCALE, sortFindingRows } from "~/utils/finding-keys";
-import { SeverityBadge } from "~/components/severity";
-import { ButtonLink } from "~/components/ui/button";
-import { Card, PageHeader } from "~/components/ui/card";
-import { cx } from "~/components/ui/cx";
-import { EmptyState } from "~/components/ui/empty-state";
-import { SortHeader } from "~/components/ui/sort-header";
-import { Table, Td, Th } from "~/components/ui/table";
-import { SiteFilter } from "~/components/ui/site-filter";
+import { requireMember } from "#server/auth/guard.server";
+import { fleetFindings } from "#server/services/findings.server";
+import { ElementLink } from "#app/components/device/element-link";
+import { countBySeverity, filterFindingRows, parseFindingsQuery, SEVERITY_SCALE, sortFindingRows } from "#app/utils/finding-keys";
+import { SeverityBadge } from "#app/components/severity";
+import { ButtonLink } from "#app/components/ui/button";
+import { Card, PageHeader } from "#app/components/ui/card";
+import { cx } from "#app/components/ui/cx";
+import { EmptyState } from "#app/components/ui/empty-state";
+import { SortHeader } from "#app/components/ui/sort-header";
+import { Table, Td, Th } from "#app/components/ui/table";
+import { SiteFilter } from "#app/components/ui/site-filter";
 
 export const meta: Route.MetaFunction = () => [{ title: "Findings · Sallyport" }];
 

@@ -1,9 +1,9 @@
 import { Outlet, useRouteLoaderData } from "react-router";
 import type { Route } from "./+types/layout";
-import { requireMember } from "../../../server/auth/guard.server";
-import { listOrganisationsOfUser } from "../../../server/services/organisations.server";
-import { AppShell } from "~/components/app-shell";
-import type { loader as rootLoader } from "~/root";
+import { requireMember } from "#server/auth/guard.server";
+import { listOrganisationsOfUser } from "#server/services/organisations.server";
+import { AppShell } from "#app/components/app-shell";
+import type { loader as rootLoader } from "#app/root";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const access = await requireMember(request, params.organisation);

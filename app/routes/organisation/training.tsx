@@ -1,6 +1,6 @@
 import type { Route } from "./+types/training";
-import { requireMember } from "../../../server/auth/guard.server";
-import { ComingSoon } from "~/components/coming-soon";
+import { requireMember } from "#server/auth/guard.server";
+import { ComingSoon } from "#app/components/coming-soon";
 
 export const meta: Route.MetaFunction = () => [{ title: "Training · Sallyport" }];
 

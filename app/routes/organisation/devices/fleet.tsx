@@ -1,18 +1,18 @@
 import { Form, Link, useSearchParams } from "react-router";
-import { SiteFilter } from "~/components/ui/site-filter";
-import { SortHeader, sortRows } from "~/components/ui/sort-header";
+import { SiteFilter } from "#app/components/ui/site-filter";
+import { SortHeader, sortRows } from "#app/components/ui/sort-header";
 import type { Route } from "./+types/fleet";
-import { requireMember } from "../../../../server/auth/guard.server";
-import { hasAtLeastRole } from "../../../../server/auth/roles";
-import { listDevices } from "../../../../server/services/devices.server";
-import { activeFindingsBySeverity } from "../../../../server/services/findings.server";
-import { listSites } from "../../../../server/services/sites.server";
-import { isOutcome, OUTCOME_ORDER, OutcomeChip } from "~/components/outcome";
-import { SEVERITY_ORDER, SeverityCounts } from "~/components/severity";
-import { ButtonLink } from "~/components/ui/button";
-import { PageHeader } from "~/components/ui/card";
-import { EmptyState } from "~/components/ui/empty-state";
-import { Table, Td } from "~/components/ui/table";
+import { requireMember } from "#server/auth/guard.server";
+import { hasAtLeastRole } from "#server/auth/roles";
+import { listDevices } from "#server/services/devices.server";
+import { activeFindingsBySeverity } from "#server/services/findings.server";
+import { listSites } from "#server/services/sites.server";
+import { isOutcome, OUTCOME_ORDER, OutcomeChip } from "#app/components/outcome";
+import { SEVERITY_ORDER, SeverityCounts } from "#app/components/severity";
+import { ButtonLink } from "#app/components/ui/button";
+import { PageHeader } from "#app/components/ui/card";
+import { EmptyState } from "#app/components/ui/empty-state";
+import { Table, Td } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = () => [{ title: "Devices · Sallyport" }];
 

@@ -1,17 +1,17 @@
 import { data, Form, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/import";
-import { serializeFlash } from "../../../../server/auth/flash.server";
-import { requireMember } from "../../../../server/auth/guard.server";
-import { actorOf } from "../../../../server/http/actor.server";
-import { readForm } from "../../../../server/http/form.server";
-import { createDevice, DeviceNameTakenError, findDevice, InvalidModelError, listDevices, loadSharedLibrary, RevisionConflictError, saveEdit, WorkspaceNotFoundError } from "../../../../server/services/devices.server";
-import { listSites } from "../../../../server/services/sites.server";
-import { summariseDocument, validateDocument, type ModelDocument } from "../../../../server/workspace/index";
-import { isOutcome, OutcomeChip } from "~/components/outcome";
-import { SeverityCounts } from "~/components/severity";
-import { Button } from "~/components/ui/button";
-import { Card, PageHeader } from "~/components/ui/card";
-import { FormError, SelectField } from "~/components/ui/field";
+import { serializeFlash } from "#server/auth/flash.server";
+import { requireMember } from "#server/auth/guard.server";
+import { actorOf } from "#server/http/actor.server";
+import { readForm } from "#server/http/form.server";
+import { createDevice, DeviceNameTakenError, findDevice, InvalidModelError, listDevices, loadSharedLibrary, RevisionConflictError, saveEdit, WorkspaceNotFoundError } from "#server/services/devices.server";
+import { listSites } from "#server/services/sites.server";
+import { summariseDocument, validateDocument, type ModelDocument } from "#server/workspace/index";
+import { isOutcome, OutcomeChip } from "#app/components/outcome";
+import { SeverityCounts } from "#app/components/severity";
+import { Button } from "#app/components/ui/button";
+import { Card, PageHeader } from "#app/components/ui/card";
+import { FormError, SelectField } from "#app/components/ui/field";
 
 export const meta: Route.MetaFunction = () => [{ title: "Import a model · Sallyport" }];
 

@@ -1,16 +1,16 @@
 import { Form, redirect, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/new";
-import { serializeFlash } from "../../../../server/auth/flash.server";
-import { requireMember } from "../../../../server/auth/guard.server";
-import { actorOf } from "../../../../server/http/actor.server";
-import { fieldErrorsOf, formValues, invalidForm, readForm } from "../../../../server/http/form.server";
-import { createDevice, DeviceNameTakenError, InvalidModelError, WorkspaceNotFoundError } from "../../../../server/services/devices.server";
-import { listSites } from "../../../../server/services/sites.server";
-import { newDocument } from "../../../../server/workspace/index";
-import { Button } from "~/components/ui/button";
-import { Card, PageHeader } from "~/components/ui/card";
-import { FormError, SelectField, TextField } from "~/components/ui/field";
+import { serializeFlash } from "#server/auth/flash.server";
+import { requireMember } from "#server/auth/guard.server";
+import { actorOf } from "#server/http/actor.server";
+import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
+import { createDevice, DeviceNameTakenError, InvalidModelError, WorkspaceNotFoundError } from "#server/services/devices.server";
+import { listSites } from "#server/services/sites.server";
+import { newDocument } from "#server/workspace/index";
+import { Button } from "#app/components/ui/button";
+import { Card, PageHeader } from "#app/components/ui/card";
+import { FormError, SelectField, TextField } from "#app/components/ui/field";
 
 export const meta: Route.MetaFunction = () => [{ title: "New device · Sallyport" }];
 

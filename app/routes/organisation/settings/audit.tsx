@@ -1,8 +1,8 @@
 import type { Route } from "./+types/audit";
-import { requireMember } from "../../../../server/auth/guard.server";
-import { listAuditEvents } from "../../../../server/services/audit.server";
-import { EmptyState } from "~/components/ui/empty-state";
-import { Table, Td, Th } from "~/components/ui/table";
+import { requireMember } from "#server/auth/guard.server";
+import { listAuditEvents } from "#server/services/audit.server";
+import { EmptyState } from "#app/components/ui/empty-state";
+import { Table, Td, Th } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = () => [{ title: "Audit log · Sallyport" }];
 

@@ -1,6 +1,6 @@
 import { redirect } from "react-router";
 import type { Route } from "./+types/index";
-import { requireMember } from "../../../../server/auth/guard.server";
+import { requireMember } from "#server/auth/guard.server";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { organisation } = await requireMember(request, params.organisation);

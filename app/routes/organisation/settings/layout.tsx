@@ -1,8 +1,8 @@
 import { NavLink, Outlet } from "react-router";
 import type { Route } from "./+types/layout";
-import { requireMember } from "../../../../server/auth/guard.server";
-import { PageHeader } from "~/components/ui/card";
-import { cx } from "~/components/ui/cx";
+import { requireMember } from "#server/auth/guard.server";
+import { PageHeader } from "#app/components/ui/card";
+import { cx } from "#app/components/ui/cx";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { organisation } = await requireMember(request, params.organisation);

@@ -1,15 +1,15 @@
 import { Form, redirect, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/organisation";
-import { serializeFlash } from "../../../../server/auth/flash.server";
-import { requireMember } from "../../../../server/auth/guard.server";
-import { actorOf } from "../../../../server/http/actor.server";
-import { fieldErrorsOf, formValues, invalidForm, readForm } from "../../../../server/http/form.server";
-import { OrganisationNameSchema } from "../../../../server/http/schemas";
-import { renameOrganisation } from "../../../../server/services/organisations.server";
-import { Button } from "~/components/ui/button";
-import { Card } from "~/components/ui/card";
-import { TextField } from "~/components/ui/field";
+import { serializeFlash } from "#server/auth/flash.server";
+import { requireMember } from "#server/auth/guard.server";
+import { actorOf } from "#server/http/actor.server";
+import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
+import { OrganisationNameSchema } from "#server/http/schemas";
+import { renameOrganisation } from "#server/services/organisations.server";
+import { Button } from "#app/components/ui/button";
+import { Card } from "#app/components/ui/card";
+import { TextField } from "#app/components/ui/field";
 
 export const meta: Route.MetaFunction = () => [{ title: "Organisation · Sallyport" }];
 

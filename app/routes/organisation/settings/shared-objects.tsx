@@ -1,18 +1,18 @@
 import { Form, Link, redirect, useNavigation, useSearchParams } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/shared-objects";
-import { serializeFlash } from "../../../../server/auth/flash.server";
-import { requireMember } from "../../../../server/auth/guard.server";
-import { hasAtLeastRole } from "../../../../server/auth/roles";
-import { actorOf } from "../../../../server/http/actor.server";
-import { fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "../../../../server/http/form.server";
-import { deleteSharedObject, importSharedObjectsCsv, listSharedObjects, saveSharedObject, SharedObjectError } from "../../../../server/services/shared-objects.server";
-import { TextAreaField } from "~/components/device/editor-kit";
-import { Badge, Card } from "~/components/ui/card";
-import { Button } from "~/components/ui/button";
-import { EmptyState } from "~/components/ui/empty-state";
-import { FormError, SelectField, TextField } from "~/components/ui/field";
-import { Table, Td, Th } from "~/components/ui/table";
+import { serializeFlash } from "#server/auth/flash.server";
+import { requireMember } from "#server/auth/guard.server";
+import { hasAtLeastRole } from "#server/auth/roles";
+import { actorOf } from "#server/http/actor.server";
+import { fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
+import { deleteSharedObject, importSharedObjectsCsv, listSharedObjects, saveSharedObject, SharedObjectError } from "#server/services/shared-objects.server";
+import { TextAreaField } from "#app/components/device/editor-kit";
+import { Badge, Card } from "#app/components/ui/card";
+import { Button } from "#app/components/ui/button";
+import { EmptyState } from "#app/components/ui/empty-state";
+import { FormError, SelectField, TextField } from "#app/components/ui/field";
+import { Table, Td, Th } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = () => [{ title: "Shared objects · Sallyport" }];
 

@@ -2,17 +2,17 @@ import "@xyflow/react/dist/style.css";
 import { useEffect, useRef, useState } from "react";
 import { Form, useFetcher } from "react-router";
 import type { Route } from "./+types/analysis";
-import { compiledCurrentRevision } from "../../../../../server/analysis/compiled-revisions.server";
-import { probeInputOf, probeQueryOf, ProbeQuerySchema } from "../../../../../server/analysis/probe";
-import { BUILTIN_SERVICES, ProbeError, trace, type TraceResult } from "../../../../../server/engine/index";
-import { requireDevice } from "../../../../../server/http/device-access.server";
-import { LayerCanvas, type CanvasModel } from "~/components/analysis/layer-canvas";
-import { useTraceStore, type ProbeFields } from "~/components/analysis/trace-store";
-import { isOutcome, OutcomeChip } from "~/components/outcome";
-import { Button } from "~/components/ui/button";
-import { Card } from "~/components/ui/card";
-import { cx } from "~/components/ui/cx";
-import { LAYER_TITLES, outcomeSentence } from "~/utils/trace-words";
+import { compiledCurrentRevision } from "#server/analysis/compiled-revisions.server";
+import { probeInputOf, probeQueryOf, ProbeQuerySchema } from "#server/analysis/probe";
+import { BUILTIN_SERVICES, ProbeError, trace, type TraceResult } from "#server/engine/index";
+import { requireDevice } from "#server/http/device-access.server";
+import { LayerCanvas, type CanvasModel } from "#app/components/analysis/layer-canvas";
+import { useTraceStore, type ProbeFields } from "#app/components/analysis/trace-store";
+import { isOutcome, OutcomeChip } from "#app/components/outcome";
+import { Button } from "#app/components/ui/button";
+import { Card } from "#app/components/ui/card";
+import { cx } from "#app/components/ui/cx";
+import { LAYER_TITLES, outcomeSentence } from "#app/utils/trace-words";
 
 export const meta: Route.MetaFunction = () => [{ title: "Trace a probe · Sallyport" }];
 

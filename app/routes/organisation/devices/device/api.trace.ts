@@ -1,9 +1,9 @@
 import { data } from "react-router";
 import type { Route } from "./+types/api.trace";
-import { compiledCurrentRevision } from "../../../../../server/analysis/compiled-revisions.server";
-import { probeInputOf, probeQueryOf, ProbeQuerySchema } from "../../../../../server/analysis/probe";
-import { requireMember } from "../../../../../server/auth/guard.server";
-import { ProbeError, trace } from "../../../../../server/engine/index";
+import { compiledCurrentRevision } from "#server/analysis/compiled-revisions.server";
+import { probeInputOf, probeQueryOf, ProbeQuerySchema } from "#server/analysis/probe";
+import { requireMember } from "#server/auth/guard.server";
+import { ProbeError, trace } from "#server/engine/index";
 
 // GET …/api/trace?from=&interface=&service=[&to=&at=&account=] → the engine's trace, the same
 // JSON as `sallyport trace --json`; input errors are 400 with {"error": "…"}.

@@ -1,12 +1,12 @@
 import { data, redirect } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/dismissals";
-import { serializeFlash } from "../../../../../server/auth/flash.server";
-import { actorOf } from "../../../../../server/http/actor.server";
-import { requireDevice } from "../../../../../server/http/device-access.server";
-import { formValues, readForm, unknownIntent } from "../../../../../server/http/form.server";
-import { dismissFinding, FindingActionError, restoreFinding } from "../../../../../server/services/findings.server";
-import { parseFindingKey } from "~/utils/finding-keys";
+import { serializeFlash } from "#server/auth/flash.server";
+import { actorOf } from "#server/http/actor.server";
+import { requireDevice } from "#server/http/device-access.server";
+import { formValues, readForm, unknownIntent } from "#server/http/form.server";
+import { dismissFinding, FindingActionError, restoreFinding } from "#server/services/findings.server";
+import { parseFindingKey } from "#app/utils/finding-keys";
 
 const ReasonSchema = z
   .string()

@@ -1,5 +1,5 @@
 import type { Route } from "./+types/export";
-import { requireDevice, revisionNumberOf } from "../../../../../server/http/device-access.server";
+import { requireDevice, revisionNumberOf } from "#server/http/device-access.server";
 
 // The revision as a self-contained model document: the device's own elements plus the shared
 // objects it used, with the values they had then (docs/decisions/003).

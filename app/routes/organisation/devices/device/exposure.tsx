@@ -1,17 +1,17 @@
 import { data, Form, Link, useSearchParams } from "react-router";
 import type { Route } from "./+types/exposure";
-import { answerExposure, exposureQueryOf } from "../../../../../server/analysis/exposure.server";
-import { requireDevice } from "../../../../../server/http/device-access.server";
-import { AddressGrid, AddressMapLegend } from "~/components/analysis/address-map";
-import { Count, Pager, SimulationCaution } from "~/components/analysis/common";
-import { WeekHourGrid } from "~/components/analysis/week-hour";
-import { OUTCOME_LABELS, OUTCOME_ORDER, OutcomeChip } from "~/components/outcome";
-import { buttonClasses } from "~/components/ui/button";
-import { Card } from "~/components/ui/card";
-import { cx } from "~/components/ui/cx";
-import { EmptyState } from "~/components/ui/empty-state";
-import { Table, Td, Th } from "~/components/ui/table";
-import { compiledRevision } from "../../../../../server/analysis/compiled-revisions.server";
+import { answerExposure, exposureQueryOf } from "#server/analysis/exposure.server";
+import { requireDevice } from "#server/http/device-access.server";
+import { AddressGrid, AddressMapLegend } from "#app/components/analysis/address-map";
+import { Count, Pager, SimulationCaution } from "#app/components/analysis/common";
+import { WeekHourGrid } from "#app/components/analysis/week-hour";
+import { OUTCOME_LABELS, OUTCOME_ORDER, OutcomeChip } from "#app/components/outcome";
+import { buttonClasses } from "#app/components/ui/button";
+import { Card } from "#app/components/ui/card";
+import { cx } from "#app/components/ui/cx";
+import { EmptyState } from "#app/components/ui/empty-state";
+import { Table, Td, Th } from "#app/components/ui/table";
+import { compiledRevision } from "#server/analysis/compiled-revisions.server";
 
 export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Exposure map · ${loaded?.deviceName ?? "Device"} · Sallyport` }];
 

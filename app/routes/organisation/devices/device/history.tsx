@@ -1,10 +1,10 @@
 import { Form, useSearchParams } from "react-router";
 import type { Route } from "./+types/history";
-import { requireDevice, revisionNumberOf } from "../../../../../server/http/device-access.server";
-import { findDevice, listRevisions } from "../../../../../server/services/devices.server";
-import { diffDocuments } from "../../../../../server/workspace/index";
-import { Card } from "~/components/ui/card";
-import { Table, Td, Th } from "~/components/ui/table";
+import { requireDevice, revisionNumberOf } from "#server/http/device-access.server";
+import { findDevice, listRevisions } from "#server/services/devices.server";
+import { diffDocuments } from "#server/workspace/index";
+import { Card } from "#app/components/ui/card";
+import { Table, Td, Th } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = () => [{ title: "History · Sallyport" }];
 

@@ -1,9 +1,9 @@
 import { Link, NavLink, Outlet } from "react-router";
 import type { Route } from "./+types/layout";
-import { hasAtLeastRole } from "../../../../../server/auth/roles";
-import { requireDevice } from "../../../../../server/http/device-access.server";
-import { buttonClasses } from "~/components/ui/button";
-import { cx } from "~/components/ui/cx";
+import { hasAtLeastRole } from "#server/auth/roles";
+import { requireDevice } from "#server/http/device-access.server";
+import { buttonClasses } from "#app/components/ui/button";
+import { cx } from "#app/components/ui/cx";
 
 export const DEVICE_SECTIONS = [
   ["interfaces", "Interfaces"],

@@ -1,15 +1,15 @@
 import { Form } from "react-router";
 import type { Route } from "./+types/overview";
-import { hasAtLeastRole } from "../../../../../server/auth/roles";
-import { requireDevice } from "../../../../../server/http/device-access.server";
-import { deviceFindings, unmatchedDismissals } from "../../../../../server/services/findings.server";
-import { ActiveFindingCard, DismissedFindingCard } from "~/components/findings/finding-card";
-import { countBySeverity } from "~/utils/finding-keys";
-import { isOutcome, OutcomeChip } from "~/components/outcome";
-import { SeverityCounts } from "~/components/severity";
-import { Button } from "~/components/ui/button";
-import { Card } from "~/components/ui/card";
-import { EmptyState } from "~/components/ui/empty-state";
+import { hasAtLeastRole } from "#server/auth/roles";
+import { requireDevice } from "#server/http/device-access.server";
+import { deviceFindings, unmatchedDismissals } from "#server/services/findings.server";
+import { ActiveFindingCard, DismissedFindingCard } from "#app/components/findings/finding-card";
+import { countBySeverity } from "#app/utils/finding-keys";
+import { isOutcome, OutcomeChip } from "#app/components/outcome";
+import { SeverityCounts } from "#app/components/severity";
+import { Button } from "#app/components/ui/button";
+import { Card } from "#app/components/ui/card";
+import { EmptyState } from "#app/components/ui/empty-state";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.name ?? "Device"} · Sallyport` }];
 

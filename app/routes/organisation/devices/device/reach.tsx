@@ -1,16 +1,16 @@
 import { data, Form, useSearchParams } from "react-router";
 import type { Route } from "./+types/reach";
-import { answerReach, reachQueryOf, type ReachRow } from "../../../../../server/analysis/reach.server";
-import { requireDevice } from "../../../../../server/http/device-access.server";
-import { SimulationCaution } from "~/components/analysis/common";
-import { OUTCOME_LABELS, OUTCOME_ORDER, OutcomeChip, type OutcomeName } from "~/components/outcome";
-import { buttonClasses } from "~/components/ui/button";
-import { Card } from "~/components/ui/card";
-import { EmptyState } from "~/components/ui/empty-state";
-import { TextField } from "~/components/ui/field";
-import { SortHeader, sortRows } from "~/components/ui/sort-header";
-import { Table, Td } from "~/components/ui/table";
-import { compiledRevision } from "../../../../../server/analysis/compiled-revisions.server";
+import { answerReach, reachQueryOf, type ReachRow } from "#server/analysis/reach.server";
+import { requireDevice } from "#server/http/device-access.server";
+import { SimulationCaution } from "#app/components/analysis/common";
+import { OUTCOME_LABELS, OUTCOME_ORDER, OutcomeChip, type OutcomeName } from "#app/components/outcome";
+import { buttonClasses } from "#app/components/ui/button";
+import { Card } from "#app/components/ui/card";
+import { EmptyState } from "#app/components/ui/empty-state";
+import { TextField } from "#app/components/ui/field";
+import { SortHeader, sortRows } from "#app/components/ui/sort-header";
+import { Table, Td } from "#app/components/ui/table";
+import { compiledRevision } from "#server/analysis/compiled-revisions.server";
 
 export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Reach${loaded?.query.from ? ` from ${loaded.query.from}` : ""} · ${loaded?.deviceName ?? "Device"} · Sallyport` }];
 

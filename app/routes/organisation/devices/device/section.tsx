@@ -1,16 +1,16 @@
 import { data, redirect } from "react-router";
 import type { Route } from "./+types/section";
-import { serializeFlash } from "../../../../../server/auth/flash.server";
-import { hasAtLeastRole } from "../../../../../server/auth/roles";
-import { BUILTIN_SERVICES } from "../../../../../server/engine/index";
-import { actorOf } from "../../../../../server/http/actor.server";
-import { requireDevice, revisionNumberOf } from "../../../../../server/http/device-access.server";
-import { formValuesWithLists, planDeviceEdit } from "../../../../../server/http/device-forms.server";
-import { invalidForm, readForm, unknownIntent } from "../../../../../server/http/form.server";
-import { deleteDevice, DeviceNameTakenError, InvalidModelError, loadSharedLibrary, RevisionConflictError, saveEdit, WorkspaceNotFoundError } from "../../../../../server/services/devices.server";
-import { listSites } from "../../../../../server/services/sites.server";
-import { EditError } from "../../../../../server/workspace/index";
-import { SectionEditor, type SectionEditorProps, type SectionName } from "~/components/device/section-editor";
+import { serializeFlash } from "#server/auth/flash.server";
+import { hasAtLeastRole } from "#server/auth/roles";
+import { BUILTIN_SERVICES } from "#server/engine/index";
+import { actorOf } from "#server/http/actor.server";
+import { requireDevice, revisionNumberOf } from "#server/http/device-access.server";
+import { formValuesWithLists, planDeviceEdit } from "#server/http/device-forms.server";
+import { invalidForm, readForm, unknownIntent } from "#server/http/form.server";
+import { deleteDevice, DeviceNameTakenError, InvalidModelError, loadSharedLibrary, RevisionConflictError, saveEdit, WorkspaceNotFoundError } from "#server/services/devices.server";
+import { listSites } from "#server/services/sites.server";
+import { EditError } from "#server/workspace/index";
+import { SectionEditor, type SectionEditorProps, type SectionName } from "#app/components/device/section-editor";
 
 const SECTIONS = ["interfaces", "addresses", "services", "schedules", "rules", "accounts", "operator-networks", "settings"] as const;
 
