@@ -1,21 +1,25 @@
 import { PassThrough } from "node:stream";
-import type { AppLoadContext, EntryContext } from "react-router";
+import type { EntryContext, RouterContextProvider } from "react-router";
 import { createReadableStreamFromReadable } from "@react-router/node";
 import { ServerRouter } from "react-router";
 import { isbot } from "isbot";
 import type { RenderToPipeableStreamOptions } from "react-dom/server";
 import { renderToPipeableStream } from "react-dom/server";
 import { NonceContext } from "./utils/nonce";
-import "#server/http/context";
+import { getDatabase } from "#server/db/database.server";
+import { requestFactsContext } from "#server/http/request-context.server";
+
+// Registers the models once, when the server build loads, before any route module runs.
+getDatabase();
 
 export const streamTimeout = 5_000;
 
 // The framework's default entry, plus the CSP nonce for every inline script it writes.
-export default function handleRequest(request: Request, responseStatusCode: number, responseHeaders: Headers, routerContext: EntryContext, loadContext: AppLoadContext) {
+export default function handleRequest(request: Request, responseStatusCode: number, responseHeaders: Headers, routerContext: EntryContext, loadContext: RouterContextProvider) {
   if (request.method.toUpperCase() === "HEAD") {
     return new Response(null, { status: responseStatusCode, headers: responseHeaders });
   }
-  const nonce = loadContext.cspNonce || undefined;
+  const nonce = loadContext.get(requestFactsContext).cspNonce || undefined;
   return new Promise((resolve, reject) => {
     let shellRendered = false;
     const userAgent = request.headers.get("user-agent");

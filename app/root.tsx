@@ -1,7 +1,7 @@
 import { data, isRouteErrorResponse, Links, Meta, Outlet, Scripts, ScrollRestoration, useRouteLoaderData } from "react-router";
 import type { Route } from "./+types/root";
 import "./app.css";
-import { getSignedInSession } from "#server/auth/session.server";
+import { signedInMiddleware, signedInOf } from "#server/auth/guard.server";
 import { readFlash } from "#server/auth/flash.server";
 import { readTheme } from "#server/http/theme.server";
 import { isOutboxEnabled } from "#server/config.server";
@@ -9,10 +9,14 @@ import { Toast } from "./components/ui/toast";
 import { useNonce } from "./utils/nonce";
 import { BrandMark } from "./components/brand";
 
+// Who is asking, resolved once per request for every route below.
+export const middleware: Route.MiddlewareFunction[] = [signedInMiddleware];
+
 export const links: Route.LinksFunction = () => [{ rel: "icon", href: "/favicon.svg", type: "image/svg+xml" }];
 
-export async function loader({ request }: Route.LoaderArgs) {
-  const [signedIn, theme, { flash, clearCookie }] = await Promise.all([getSignedInSession(request), readTheme(request), readFlash(request)]);
+export async function loader({ request, context }: Route.LoaderArgs) {
+  const signedIn = signedInOf(context);
+  const [theme, { flash, clearCookie }] = await Promise.all([readTheme(request), readFlash(request)]);
   return data(
     {
       user: signedIn ? { id: signedIn.user.id, name: signedIn.user.name, email: signedIn.user.email } : null,

@@ -1,4 +1,5 @@
 import { DataTypes, Model, type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type Sequelize } from "sequelize";
+import type { DeviceModel } from "#server/engine/index.ts";
 import type { Device } from "./device.ts";
 
 /** Shared organisation objects as they were when the revision was saved. */
@@ -19,8 +20,8 @@ export class DeviceRevision extends Model<InferAttributes<DeviceRevision>, Infer
   declare id: CreationOptional<string>;
   declare deviceId: ForeignKey<Device["id"]>;
   declare number: number;
-  /** The device's own model document (names of shared objects stay references). */
-  declare document: Record<string, unknown>;
+  /** The device's own model document, normalised by the engine (names of shared objects stay references). */
+  declare document: DeviceModel;
   declare sharedObjects: SharedObjectsSnapshot;
   declare summary: RevisionSummaryRecord;
   declare message: string;

@@ -1,4 +1,5 @@
 import { DataTypes, Model, type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
+import type { DeviceRevision } from "./device-revision.ts";
 import type { Organisation } from "./organisation.ts";
 import type { Site } from "./site.ts";
 
@@ -12,6 +13,7 @@ export class Device extends Model<InferAttributes<Device>, InferCreationAttribut
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
   declare site?: NonAttribute<Site>;
+  declare revisions?: NonAttribute<DeviceRevision[]>;
 
   static initModel(sequelize: Sequelize): void {
     Device.init(

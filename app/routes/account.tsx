@@ -1,7 +1,7 @@
 import { Form, Link } from "react-router";
 import type { Route } from "./+types/account";
 import { Session } from "#models/index";
-import { requireSignedIn } from "#server/auth/session.server";
+import { requireSignedIn } from "#server/auth/guard.server";
 import { listOrganisationsOfUser } from "#server/services/organisations.server";
 import { BrandMark } from "#app/components/brand";
 import { Button } from "#app/components/ui/button";
@@ -10,8 +10,8 @@ import { Table, Td, Th } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = () => [{ title: "Account · Sallyport" }];
 
-export async function loader({ request }: Route.LoaderArgs) {
-  const { user, session } = await requireSignedIn(request);
+export async function loader({ request, context }: Route.LoaderArgs) {
+  const { user, session } = requireSignedIn(context, request);
   const sessions = await Session.findAll({ where: { userId: user.id }, order: [["lastSeenAt", "DESC"]] });
   return {
     user: { name: user.name, email: user.email },

@@ -1,30 +1,31 @@
 import { Form, redirect } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/home";
-import { requireSignedIn } from "#server/auth/session.server";
+import { requireSignedIn } from "#server/auth/guard.server";
 import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
 import { OrganisationNameSchema } from "#server/http/schemas";
 import { createOrganisationForUser, listOrganisationsOfUser } from "#server/services/organisations.server";
 import { BrandMark } from "#app/components/brand";
 import { Button } from "#app/components/ui/button";
 import { TextField } from "#app/components/ui/field";
+import { clientAddressOf } from "#server/http/request-context.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sallyport" }];
 
 // The start page sends a member to their first organisation; someone in none may create one.
-export async function loader({ request }: Route.LoaderArgs) {
-  const { user } = await requireSignedIn(request);
+export async function loader({ request, context }: Route.LoaderArgs) {
+  const { user } = requireSignedIn(context, request);
   const organisations = await listOrganisationsOfUser(user.id);
   if (organisations.length > 0) throw redirect(`/o/${organisations[0].slug}`);
   return { name: user.name };
 }
 
 export async function action({ request, context }: Route.ActionArgs) {
-  const { user } = await requireSignedIn(request);
+  const { user } = requireSignedIn(context, request);
   const values = formValues(await readForm(request));
   const parsed = z.object({ organisationName: OrganisationNameSchema }).safeParse(values);
   if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
-  const organisation = await createOrganisationForUser(user, parsed.data.organisationName, context.clientAddress);
+  const organisation = await createOrganisationForUser(user, parsed.data.organisationName, clientAddressOf(context));
   throw redirect(`/o/${organisation.slug}`);
 }
 

@@ -2,20 +2,14 @@ import { Authenticator } from "remix-auth";
 import { FormStrategy } from "remix-auth-form";
 import { z } from "zod";
 import { User } from "#models/index.ts";
-import { ensureDatabase } from "../db/database.server.ts";
+import { Refusal } from "../errors.ts";
 import { getDecoyHash, hashPassword, needsRehash, verifyPassword } from "./password.server.ts";
 import { PASSWORD_MAX_LENGTH } from "./password-rules.ts";
 import { checkSignInThrottle, clearAccountFailures, recordSignInFailure } from "./throttle.server.ts";
 
-/** A sign-in that did not succeed, with the HTTP status and the message to show. */
-export class SignInError extends Error {
-  constructor(
-    message: string,
-    readonly status: 400 | 401 | 429,
-    readonly retryAfterSeconds?: number,
-  ) {
-    super(message);
-  }
+/** A sign-in that did not succeed: the message to show, 400/401, or 429 with Retry-After. */
+function signInRefused(message: string, status: 400 | 401 | 429, retryAfterSeconds?: number): Refusal {
+  return new Refusal(message, status, { headers: retryAfterSeconds ? { "Retry-After": String(retryAfterSeconds) } : undefined });
 }
 
 export const SignInSchema = z.object({
@@ -26,14 +20,13 @@ export const SignInSchema = z.object({
 export type SignInContext = { clientAddress: string };
 
 async function verifySignIn(form: FormData, context: SignInContext): Promise<User> {
-  ensureDatabase();
   const parsed = SignInSchema.safeParse({ email: form.get("email") ?? "", password: form.get("password") ?? "" });
-  if (!parsed.success) throw new SignInError(parsed.error.issues[0].message, 400);
+  if (!parsed.success) throw signInRefused(parsed.error.issues[0].message, 400);
   const { email, password } = parsed.data;
   const verdict = await checkSignInThrottle(email, context.clientAddress);
   if (verdict.throttled) {
     const minutes = Math.ceil(verdict.retryAfterSeconds / 60);
-    throw new SignInError(
+    throw signInRefused(
       `Too many failed sign-ins ${verdict.scope === "account" ? "for this account" : "from your address"}. Try again in ${minutes} minute${minutes === 1 ? "" : "s"}, or reset your password.`,
       429,
       verdict.retryAfterSeconds,
@@ -43,7 +36,7 @@ async function verifySignIn(form: FormData, context: SignInContext): Promise<Use
   const valid = await verifyPassword(user?.passwordHash ?? (await getDecoyHash()), password);
   if (!user || !valid) {
     await recordSignInFailure(email, context.clientAddress);
-    throw new SignInError("The e-mail address or password is not right.", 401);
+    throw signInRefused("The e-mail address or password is not right.", 401);
   }
   await clearAccountFailures(email);
   if (needsRehash(user.passwordHash)) await user.update({ passwordHash: await hashPassword(password) });
@@ -61,7 +54,7 @@ authenticator.use(
   "form",
 );
 
-/** Checks the posted e-mail and password (with throttling); throws SignInError when refused. */
+/** Checks the posted e-mail and password (with throttling); throws a Refusal when refused. */
 export async function authenticateWithPassword(request: Request, context: SignInContext): Promise<User> {
   const headers = new Headers(request.headers);
   headers.set(CLIENT_ADDRESS_HEADER, context.clientAddress);

@@ -1,8 +1,12 @@
-import { data } from "react-router";
+// The request guard, in two halves (docs/decisions/005). Middleware resolves who is asking
+// once per request — the signed-in user (root), their membership of the organisation in the
+// URL (organisation layout) — and every loader and action then begins with one line that
+// checks the role it needs: `const access = requireRole(context, "engineer");`.
+import { data, redirect } from "react-router";
 import { Membership, Organisation, type User } from "#models/index.ts";
-import { ensureDatabase } from "../db/database.server.ts";
+import { organisationContext, signedInContext, type Middleware, type RequestContext } from "../http/request-context.server.ts";
 import { hasAtLeastRole, type Role } from "./roles.ts";
-import { requireSignedIn, type SignedInSession } from "./session.server.ts";
+import { getSignedInSession, type SignedInSession } from "./session.server.ts";
 
 export type OrganisationAccess = SignedInSession & {
   organisation: Organisation;
@@ -10,23 +14,50 @@ export type OrganisationAccess = SignedInSession & {
   role: Role;
 };
 
+/** Root middleware: the signed-in session of this request, or null, for every route below. */
+export const signedInMiddleware: Middleware = async ({ request, context }, next) => {
+  context.set(signedInContext, await getSignedInSession(request));
+  return next();
+};
+
 /**
- * The one guard every organisation loader and action begins with: a signed-in member of the
- * organisation in the URL with at least `minimumRole`. Not signed in → redirect to sign-in;
- * not a member (or no such organisation) → 404, so outsiders learn nothing; role too low → 403.
+ * Organisation layout middleware: a signed-in member of the organisation in the URL. Not signed
+ * in → redirect to sign-in; not a member (or no such organisation) → 404, so outsiders learn
+ * nothing. The role is checked by each loader and action.
  */
-export async function requireMember(request: Request, organisationSlug: string | undefined, minimumRole: Role = "trainee"): Promise<OrganisationAccess> {
-  const signedIn = await requireSignedIn(request);
-  const membership = await findMembership(signedIn.user, organisationSlug);
+export const organisationMiddleware: Middleware = async ({ request, params, context }, next) => {
+  const signedIn = requireSignedIn(context, request);
+  const membership = await findMembership(signedIn.user, params.organisation);
   if (!membership?.organisation) throw data({ message: "Organisation not found." }, { status: 404 });
-  if (!hasAtLeastRole(membership.role, minimumRole)) {
-    throw data({ message: `This needs the ${minimumRole} role or higher; you are ${membership.role}.` }, { status: 403 });
+  context.set(organisationContext, { ...signedIn, organisation: membership.organisation, membership, role: membership.role });
+  return next();
+};
+
+/** The signed-in user of this request; otherwise a redirect to sign-in that comes back here. */
+export function requireSignedIn(context: RequestContext, request: Request): SignedInSession {
+  const signedIn = context.get(signedInContext);
+  if (signedIn) return signedIn;
+  const url = new URL(request.url);
+  throw redirect(`/login?redirectTo=${encodeURIComponent(`${url.pathname}${url.search}`)}`);
+}
+
+/** The signed-in session, or null, as the root middleware resolved it. */
+export function signedInOf(context: RequestContext): SignedInSession | null {
+  return context.get(signedInContext);
+}
+
+/** The member's access, with at least `minimumRole` (else 403). The first line of every organisation loader and action. */
+export function requireRole(context: RequestContext, minimumRole: Role = "trainee"): OrganisationAccess {
+  const access = context.get(organisationContext);
+  // Only a route outside the organisation layout can get here without the middleware.
+  if (!access) throw new Error("requireRole used outside the organisation routes");
+  if (!hasAtLeastRole(access.role, minimumRole)) {
+    throw data({ message: `This needs the ${minimumRole} role or higher; you are ${access.role}.` }, { status: 403 });
   }
-  return { ...signedIn, organisation: membership.organisation, membership, role: membership.role };
+  return access;
 }
 
 async function findMembership(user: User, organisationSlug: string | undefined): Promise<Membership | null> {
-  ensureDatabase();
   if (!organisationSlug || !/^[a-z0-9-]{1,63}$/.test(organisationSlug)) return null;
   return Membership.findOne({
     where: { userId: user.id },

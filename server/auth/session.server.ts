@@ -1,8 +1,7 @@
-import { createCookie, redirect } from "react-router";
+import { createCookie } from "react-router";
 import { Op } from "sequelize";
 import { Session, User } from "#models/index.ts";
 import { getCookieSecrets, isCookieSecure } from "../config.server.ts";
-import { ensureDatabase } from "../db/database.server.ts";
 import { createToken, hashToken } from "./tokens.server.ts";
 
 const SESSION_LIFETIME_MS = 14 * 24 * 60 * 60 * 1000;
@@ -32,7 +31,6 @@ async function readSessionToken(request: Request): Promise<string | null> {
 
 /** The signed-in user of this request, or null (expired or revoked sessions count as none). */
 export async function getSignedInSession(request: Request): Promise<SignedInSession | null> {
-  ensureDatabase();
   const token = await readSessionToken(request);
   if (!token) return null;
   const session = await Session.findOne({
@@ -51,7 +49,6 @@ export async function getSignedInSession(request: Request): Promise<SignedInSess
  * the one the request came with. Returns the Set-Cookie header value.
  */
 export async function startSession(request: Request, userId: string, clientAddress: string): Promise<string> {
-  ensureDatabase();
   const previous = await readSessionToken(request);
   if (previous) await Session.destroy({ where: { tokenHash: hashToken(previous) } });
   const token = createToken();
@@ -69,7 +66,6 @@ export async function startSession(request: Request, userId: string, clientAddre
 
 /** Ends this request's session; returns the Set-Cookie header that clears the cookie. */
 export async function endSession(request: Request): Promise<string> {
-  ensureDatabase();
   const token = await readSessionToken(request);
   if (token) await Session.destroy({ where: { tokenHash: hashToken(token) } });
   return getSessionCookie().serialize("", { maxAge: 0 });
@@ -77,16 +73,7 @@ export async function endSession(request: Request): Promise<string> {
 
 /** Ends every session of the user, on every device ("sign out everywhere", password reset). */
 export async function endAllSessions(userId: string): Promise<number> {
-  ensureDatabase();
   return Session.destroy({ where: { userId } });
-}
-
-export async function requireSignedIn(request: Request): Promise<SignedInSession> {
-  const signedIn = await getSignedInSession(request);
-  if (signedIn) return signedIn;
-  const url = new URL(request.url);
-  const redirectTo = `${url.pathname}${url.search}`;
-  throw redirect(`/login?redirectTo=${encodeURIComponent(redirectTo)}`);
 }
 
 /** Only same-site relative paths, so a crafted link cannot send a user elsewhere after sign-in. */

@@ -1,6 +1,5 @@
 import { Op } from "sequelize";
 import { SignInAttempt } from "#models/index.ts";
-import { ensureDatabase } from "../db/database.server.ts";
 
 // PCI DSS v4.0 8.3.4: lock out after at most 10 invalid attempts (NIST SP 800-63B §5.2.2
 // allows up to 100). Per client address a higher bar, since offices share one address.
@@ -20,7 +19,6 @@ async function failuresSince(scope: "account" | "client", subject: string, since
 
 /** Whether another sign-in may be tried now for this account and client address. */
 export async function checkSignInThrottle(email: string, clientAddress: string): Promise<ThrottleVerdict> {
-  ensureDatabase();
   const since = new Date(Date.now() - THROTTLE_WINDOW_MS);
   for (const [scope, subject, limit] of [
     ["account", email, MAX_FAILURES_PER_ACCOUNT],
@@ -38,7 +36,6 @@ export async function checkSignInThrottle(email: string, clientAddress: string):
 }
 
 export async function recordSignInFailure(email: string, clientAddress: string): Promise<void> {
-  ensureDatabase();
   await SignInAttempt.bulkCreate([
     { scope: "account", subject: email.slice(0, 254) },
     { scope: "client", subject: clientAddress.slice(0, 254) },
@@ -47,6 +44,5 @@ export async function recordSignInFailure(email: string, clientAddress: string):
 
 /** A successful sign-in clears the account's failures (the client's stay). */
 export async function clearAccountFailures(email: string): Promise<void> {
-  ensureDatabase();
   await SignInAttempt.destroy({ where: { scope: "account", subject: email } });
 }

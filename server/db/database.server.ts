@@ -4,7 +4,11 @@ import { getEnvironment } from "../config.server.ts";
 
 let sequelize: Sequelize | undefined;
 
-/** The one Sequelize instance of this process, with every model registered. */
+/**
+ * The one Sequelize instance of this process, with every model registered. The app calls it
+ * once at start-up (app/entry.server.tsx), the database scripts at theirs; services then use
+ * the models directly.
+ */
 export function getDatabase(): Sequelize {
   if (sequelize) return sequelize;
   sequelize = createDatabase(getEnvironment().DATABASE_URL);
@@ -19,9 +23,4 @@ export function createDatabase(url: string): Sequelize {
   });
   initModels(instance);
   return instance;
-}
-
-/** Ensures the models are registered before a service touches them. */
-export function ensureDatabase(): void {
-  getDatabase();
 }

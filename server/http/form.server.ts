@@ -1,5 +1,6 @@
 import { data } from "react-router";
 import type { z } from "zod";
+import type { RefusalStatus, RevisionConflictFacts } from "../errors.ts";
 
 /** The form body, or a 400 for a body that is not a form at all (never a 500). */
 export async function readForm(request: Request): Promise<FormData> {
@@ -31,13 +32,24 @@ export function fieldErrorsOf(error: z.ZodError): FieldErrors {
   return errors;
 }
 
-/**
- * The action result for refused input: the field messages and what the user typed (minus
- * secrets), with status 400, so the form re-renders with nothing lost.
- */
-export function invalidForm(errors: FieldErrors, values: Record<string, string>, status: 400 | 401 | 403 | 404 | 409 | 429 = 400, headers?: HeadersInit) {
+/** What a page's form shows when an action refuses: messages by field, and what the user typed. */
+export type FormFailure = {
+  ok: false;
+  errors: FieldErrors;
+  values: Record<string, string>;
+  issues: ReadonlyArray<{ path: string; message: string }>;
+  conflict: RevisionConflictFacts | null;
+};
+
+/** The failure body: the messages, and the typed values minus secrets, so nothing is lost. */
+export function formFailure(errors: FieldErrors, values: Record<string, string>, extra: Partial<Pick<FormFailure, "issues" | "conflict">> = {}): FormFailure {
   const safeValues = Object.fromEntries(Object.entries(values).filter(([key]) => !/password/i.test(key)));
-  return data({ ok: false as const, errors, values: safeValues }, { status, headers });
+  return { ok: false, errors, values: safeValues, issues: extra.issues ?? [], conflict: extra.conflict ?? null };
+}
+
+/** The action result for refused input, with status 400 unless said otherwise. */
+export function invalidForm(errors: FieldErrors, values: Record<string, string>, status: RefusalStatus = 400, headers?: HeadersInit) {
+  return data(formFailure(errors, values), { status, headers });
 }
 
 /** The origin used for e-mailed links: APP_ORIGIN when set, else the request's own. */

@@ -6,7 +6,7 @@ import { createRequestHandler } from "@react-router/express";
 import compression from "compression";
 import express from "express";
 import type { ServerBuild } from "react-router";
-import type { SallyportLoadContext } from "./context.ts";
+import { createRequestContext } from "./request-context.server.ts";
 import { clientAddressOf, requestSizeLimit, sameOriginGuard, securityHeaders } from "./security.ts";
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "../..");
@@ -22,8 +22,9 @@ app.use(securityHeaders({ development }));
 app.use(requestSizeLimit(Number(process.env.MAX_REQUEST_BYTES ?? 2 * 1024 * 1024)));
 app.use(sameOriginGuard());
 
-function getLoadContext(request: express.Request, response: express.Response): SallyportLoadContext {
-  return { clientAddress: clientAddressOf(request), cspNonce: String(response.locals.cspNonce ?? "") };
+// React Router's middleware takes over from here: the guard resolves user, organisation and device.
+function getLoadContext(request: express.Request, response: express.Response) {
+  return createRequestContext({ clientAddress: clientAddressOf(request), cspNonce: String(response.locals.cspNonce ?? "") });
 }
 
 if (development) {

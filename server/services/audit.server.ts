@@ -1,5 +1,5 @@
+import type { Transaction } from "sequelize";
 import { AuditEvent } from "#models/index.ts";
-import { ensureDatabase } from "../db/database.server.ts";
 
 export type AuditActor = { userId: string | null; email: string; clientAddress: string };
 
@@ -12,9 +12,11 @@ export type AuditEntry = {
   changes?: Record<string, unknown>;
 };
 
-/** Appends one line to the audit log; the table refuses updates and deletes. */
-export async function recordAuditEvent(actor: AuditActor, entry: AuditEntry): Promise<void> {
-  ensureDatabase();
+/**
+ * Appends one line to the audit log; the table refuses updates and deletes. Pass the change's
+ * transaction so the entry and the change are written together or not at all.
+ */
+export async function recordAuditEvent(actor: AuditActor, entry: AuditEntry, transaction?: Transaction): Promise<void> {
   await AuditEvent.create({
     organisationId: entry.organisationId,
     actorUserId: actor.userId,
@@ -24,10 +26,9 @@ export async function recordAuditEvent(actor: AuditActor, entry: AuditEntry): Pr
     targetId: entry.targetId ?? "",
     changes: entry.changes ?? {},
     clientAddress: actor.clientAddress.slice(0, 64),
-  });
+  }, { transaction });
 }
 
 export async function listAuditEvents(organisationId: string, limit = 200): Promise<AuditEvent[]> {
-  ensureDatabase();
   return AuditEvent.findAll({ where: { organisationId }, order: [["id", "DESC"]], limit });
 }

@@ -1,12 +1,11 @@
 import { Op, UniqueConstraintError } from "sequelize";
 import { emptySeverityCounts, findingKey, isSeverity, type SeverityCountsRecord } from "#app/utils/finding-keys.ts";
-import { Device, DeviceRevision, FindingDismissal, Site } from "#models/index.ts";
-import { ensureDatabase } from "../db/database.server.ts";
-import { compiledRevision } from "../analysis/compiled-revisions.server.ts";
-import { findings, type Finding } from "../engine/index.ts";
-import { effectiveDocument, type ModelDocument } from "../workspace/index.ts";
+import { FindingDismissal } from "#models/index.ts";
+import { getDatabase } from "../db/database.server.ts";
+import { deviceRevisions, type DeviceAtRevision } from "../devices/index.ts";
+import type { Finding } from "../engine/index.ts";
+import { Refusal } from "../errors.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
-import type { DeviceWithRevision } from "./devices.server.ts";
 
 /** A dismissal as the pages show it. */
 export type DismissalView = {
@@ -32,32 +31,6 @@ export type FindingView = {
 };
 
 export type FleetFindingRow = FindingView & { deviceId: string; deviceName: string; siteId: string; siteName: string; revision: number; dismissed: boolean };
-
-/** A refused dismiss or restore, with the HTTP status the action answers. */
-export class FindingActionError extends Error {
-  constructor(
-    message: string,
-    readonly status: 404 | 409,
-  ) {
-    super(message);
-  }
-}
-
-// Revisions are immutable (a trigger refuses updates), so a revision's findings never
-// change: memoising them by revision id is always correct. This keeps the fleet page
-// cheap for demo-sized fleets; for large fleets the next step is storing findings per
-// revision when it is saved, as the summary already is.
-const MEMO_LIMIT = 2000;
-const findingsByRevision = new Map<string, readonly Finding[]>();
-
-function findingsOfRevision(revisionId: string, effective: () => ModelDocument): readonly Finding[] {
-  const known = findingsByRevision.get(revisionId);
-  if (known) return known;
-  const computed = findings(compiledRevision(revisionId, effective));
-  if (findingsByRevision.size >= MEMO_LIMIT) findingsByRevision.delete(findingsByRevision.keys().next().value as string);
-  findingsByRevision.set(revisionId, computed);
-  return computed;
-}
 
 function viewOf(finding: Finding, dismissal: FindingDismissal | undefined): FindingView {
   return {
@@ -94,10 +67,9 @@ async function standingDismissals(where: { organisationId: string } | { deviceId
 }
 
 /** The findings of the device's revision in hand (normally the current one), with dismissal state. */
-export async function deviceFindings(found: DeviceWithRevision): Promise<FindingView[]> {
-  ensureDatabase();
+export async function deviceFindings(found: DeviceAtRevision): Promise<FindingView[]> {
   const dismissals = (await standingDismissals({ deviceId: found.device.id })).get(found.device.id);
-  return findingsOfRevision(found.revision.id, () => found.effective).map((finding) => viewOf(finding, dismissals?.get(findingKey(finding))));
+  return deviceRevisions.findingsOf(found).map((finding) => viewOf(finding, dismissals?.get(findingKey(finding))));
 }
 
 export type UnmatchedDismissal = { key: string; code: string; title: string; reason: string; by: string; at: string; revisionNumber: number };
@@ -107,9 +79,8 @@ export type UnmatchedDismissal = { key: string; code: string; title: string; rea
  * fixed it, or changed its elements). They would apply again if the same finding came back, so
  * the overview lists them where they can be withdrawn.
  */
-export async function unmatchedDismissals(found: DeviceWithRevision): Promise<UnmatchedDismissal[]> {
-  ensureDatabase();
-  const current = new Set(findingsOfRevision(found.revision.id, () => found.effective).map((finding) => findingKey(finding)));
+export async function unmatchedDismissals(found: DeviceAtRevision): Promise<UnmatchedDismissal[]> {
+  const current = new Set(deviceRevisions.findingsOf(found).map((finding) => findingKey(finding)));
   const standing = (await standingDismissals({ deviceId: found.device.id })).get(found.device.id) ?? new Map<string, FindingDismissal>();
   return [...standing.values()]
     .filter((dismissal) => !current.has(dismissal.findingKey))
@@ -124,34 +95,17 @@ export async function unmatchedDismissals(found: DeviceWithRevision): Promise<Un
     }));
 }
 
-type CurrentRevision = { device: Device; revision: DeviceRevision };
-
-async function currentRevisions(organisationId: string): Promise<CurrentRevision[]> {
-  const devices = await Device.findAll({ where: { organisationId }, include: [{ model: Site, as: "site", required: true }], order: [["name", "ASC"]] });
-  if (devices.length === 0) return [];
-  const revisions = await DeviceRevision.findAll({ where: { [Op.or]: devices.map((device) => ({ deviceId: device.id, number: device.currentRevisionNumber })) } });
-  const byDevice = new Map(revisions.map((revision) => [revision.deviceId, revision]));
-  return devices.flatMap((device) => {
-    const revision = byDevice.get(device.id);
-    return revision ? [{ device, revision }] : [];
-  });
-}
-
-function effectiveOf(revision: DeviceRevision): ModelDocument {
-  return effectiveDocument(revision.document as unknown as ModelDocument, revision.sharedObjects);
-}
-
 /** Every device's current-revision findings in one organisation, dismissed ones included (marked). */
 export async function fleetFindings(organisationId: string): Promise<{ devices: Array<{ id: string; name: string; siteId: string; siteName: string }>; rows: FleetFindingRow[] }> {
-  ensureDatabase();
-  const [current, dismissals] = await Promise.all([currentRevisions(organisationId), standingDismissals({ organisationId })]);
-  const rows = current.flatMap(({ device, revision }) =>
-    findingsOfRevision(revision.id, () => effectiveOf(revision)).map((finding): FleetFindingRow => {
+  const [current, dismissals] = await Promise.all([deviceRevisions.current(organisationId), standingDismissals({ organisationId })]);
+  const rows = current.flatMap((found) => {
+    const { device, revision } = found;
+    return deviceRevisions.findingsOf(found).map((finding): FleetFindingRow => {
       const view = viewOf(finding, dismissals.get(device.id)?.get(findingKey(finding)));
-      return { ...view, deviceId: device.id, deviceName: device.name, siteId: device.siteId, siteName: device.site?.name ?? "", revision: revision.number, dismissed: view.dismissal !== null };
-    }),
-  );
-  return { devices: current.map(({ device }) => ({ id: device.id, name: device.name, siteId: device.siteId, siteName: device.site?.name ?? "" })), rows };
+      return { ...view, deviceId: device.id, deviceName: device.name, siteId: device.siteId, siteName: device.site.name, revision: revision.number, dismissed: view.dismissal !== null };
+    });
+  });
+  return { devices: current.map(({ device }) => ({ id: device.id, name: device.name, siteId: device.siteId, siteName: device.site.name })), rows };
 }
 
 /**
@@ -173,14 +127,14 @@ export async function activeFindingsBySeverity(organisationId: string): Promise<
  * dismissed on later revisions (same key) until restored. 404 when the current revision does
  * not report that finding; 409 when it is dismissed already.
  */
-export async function dismissFinding(found: DeviceWithRevision, key: string, reason: string, actor: AuditActor): Promise<FindingView> {
-  ensureDatabase();
-  const finding = findingsOfRevision(found.revision.id, () => found.effective).find((candidate) => findingKey(candidate) === key);
+export async function dismissFinding(found: DeviceAtRevision, key: string, reason: string, actor: AuditActor): Promise<FindingView> {
+  const finding = deviceRevisions.findingsOf(found).find((candidate) => findingKey(candidate) === key);
   if (!finding) {
-    throw new FindingActionError(`Revision r${found.revision.number} of ${found.device.name} reports no such finding; a later change may have resolved it. Reload the overview.`, 404);
+    throw new Refusal(`Revision r${found.revision.number} of ${found.device.name} reports no such finding; a later change may have resolved it. Reload the overview.`, 404);
   }
   const organisationId = found.device.organisationId;
   try {
+    await getDatabase().transaction(async (transaction) => {
     await FindingDismissal.create({
       organisationId,
       deviceId: found.device.id,
@@ -196,38 +150,40 @@ export async function dismissFinding(found: DeviceWithRevision, key: string, rea
       restoredAt: null,
       restoredByUserId: null,
       restoredByEmail: null,
+    }, { transaction });
+    await recordAuditEvent(actor, {
+      organisationId,
+      action: "finding.dismissed",
+      targetType: "device",
+      targetId: found.device.id,
+      changes: { device: found.device.name, revision: found.revision.number, code: finding.code, elements: [...finding.elements].sort(), severity: finding.severity, reason },
+    }, transaction);
     });
   } catch (error) {
-    if (error instanceof UniqueConstraintError) throw new FindingActionError(`"${finding.title}" is dismissed already.`, 409);
+    if (error instanceof UniqueConstraintError) throw new Refusal(`"${finding.title}" is dismissed already.`, 409);
     throw error;
   }
-  await recordAuditEvent(actor, {
-    organisationId,
-    action: "finding.dismissed",
-    targetType: "device",
-    targetId: found.device.id,
-    changes: { device: found.device.name, revision: found.revision.number, code: finding.code, elements: [...finding.elements].sort(), severity: finding.severity, reason },
-  });
   return viewOf(finding, undefined);
 }
 
 /** Ends the standing dismissal of this finding key on the device; 404 when there is none. */
-export async function restoreFinding(found: DeviceWithRevision, key: string, actor: AuditActor): Promise<{ title: string }> {
-  ensureDatabase();
+export async function restoreFinding(found: DeviceAtRevision, key: string, actor: AuditActor): Promise<{ title: string }> {
   const standing = await FindingDismissal.findOne({ where: { deviceId: found.device.id, findingKey: key, restoredAt: { [Op.is]: null } } });
-  if (!standing) throw new FindingActionError("This finding is not dismissed on this device; someone may have restored it already. Reload the overview.", 404);
+  if (!standing) throw new Refusal("This finding is not dismissed on this device; someone may have restored it already. Reload the overview.", 404);
+  await getDatabase().transaction(async (transaction) => {
   // Only the request that flips restored_at wins, so two restores never both audit.
   const [changed] = await FindingDismissal.update(
     { restoredAt: new Date(), restoredByUserId: actor.userId, restoredByEmail: actor.email },
-    { where: { id: standing.id, restoredAt: { [Op.is]: null } } },
+    { where: { id: standing.id, restoredAt: { [Op.is]: null } }, transaction },
   );
-  if (changed === 0) throw new FindingActionError("This finding was restored a moment ago by someone else.", 409);
+  if (changed === 0) throw new Refusal("This finding was restored a moment ago by someone else.", 409);
   await recordAuditEvent(actor, {
     organisationId: found.device.organisationId,
     action: "finding.restored",
     targetType: "device",
     targetId: found.device.id,
     changes: { device: found.device.name, revision: found.revision.number, code: standing.code, elements: standing.elements, reason: standing.reason, dismissedBy: standing.dismissedByEmail },
+  }, transaction);
   });
   return { title: standing.title };
 }

@@ -2,26 +2,16 @@ import { Op } from "sequelize";
 import { Invitation, Membership, type Organisation, User } from "#models/index.ts";
 import type { Role } from "../auth/roles.ts";
 import { createToken, hashToken } from "../auth/tokens.server.ts";
-import { ensureDatabase, getDatabase } from "../db/database.server.ts";
+import { getDatabase } from "../db/database.server.ts";
+import { Refusal } from "../errors.ts";
 import { sendInvitationMail } from "../mail/messages.server.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 
 export const INVITATION_LIFETIME_MS = 7 * 24 * 60 * 60 * 1000;
 
-/** A refused member change, with a message for the person who tried it. */
-export class MemberChangeError extends Error {
-  constructor(
-    message: string,
-    readonly status: 400 | 403 | 404 | 409 = 400,
-  ) {
-    super(message);
-  }
-}
-
 export type MemberRow = { membershipId: string; userId: string; name: string; email: string; role: Role; since: string };
 
 export async function listMembers(organisationId: string): Promise<MemberRow[]> {
-  ensureDatabase();
   const memberships = await Membership.findAll({
     where: { organisationId },
     include: [{ model: User, as: "user", required: true }],
@@ -40,7 +30,6 @@ export async function listMembers(organisationId: string): Promise<MemberRow[]> 
 export type PendingInvitation = { id: string; email: string; role: Role; expiresAt: string };
 
 export async function listPendingInvitations(organisationId: string): Promise<PendingInvitation[]> {
-  ensureDatabase();
   const invitations = await Invitation.findAll({
     where: { organisationId, acceptedAt: null, revokedAt: null, expiresAt: { [Op.gt]: new Date() } },
     order: [["createdAt", "DESC"]],
@@ -50,7 +39,7 @@ export async function listPendingInvitations(organisationId: string): Promise<Pe
 
 // Only an owner may hand out or take away the owner role.
 function assertMayAssign(actorRole: Role, role: Role): void {
-  if (role === "owner" && actorRole !== "owner") throw new MemberChangeError("Only an owner can make someone an owner.", 403);
+  if (role === "owner" && actorRole !== "owner") throw new Refusal("Only an owner can make someone an owner.", 403);
 }
 
 export async function inviteMember(
@@ -59,10 +48,9 @@ export async function inviteMember(
   actor: AuditActor & { role: Role; name: string },
   appOrigin: string,
 ): Promise<void> {
-  ensureDatabase();
   assertMayAssign(actor.role, input.role);
   const existing = await Membership.findOne({ where: { organisationId: organisation.id }, include: [{ model: User, as: "user", where: { email: input.email }, required: true }] });
-  if (existing) throw new MemberChangeError(`${input.email} is already a member of ${organisation.name}.`, 409);
+  if (existing) throw new Refusal(`${input.email} is already a member of ${organisation.name}.`, 409);
   const token = createToken();
   const invitation = await getDatabase().transaction(async (transaction) => {
     // A new invitation to the same address replaces the older ones.
@@ -77,9 +65,8 @@ export async function inviteMember(
 }
 
 export async function revokeInvitation(organisation: Organisation, invitationId: string, actor: AuditActor): Promise<void> {
-  ensureDatabase();
   const invitation = await Invitation.findOne({ where: { id: invitationId, organisationId: organisation.id, acceptedAt: null, revokedAt: null } });
-  if (!invitation) throw new MemberChangeError("That invitation is no longer open.", 404);
+  if (!invitation) throw new Refusal("That invitation is no longer open.", 404);
   await invitation.update({ revokedAt: new Date() });
   await recordAuditEvent(actor, { organisationId: organisation.id, action: "invitation.revoked", targetType: "invitation", targetId: invitation.id, changes: { email: invitation.email } });
 }
@@ -89,13 +76,12 @@ async function countOwners(organisationId: string): Promise<number> {
 }
 
 export async function changeMemberRole(organisation: Organisation, membershipId: string, role: Role, actor: AuditActor & { role: Role }): Promise<void> {
-  ensureDatabase();
   const membership = await Membership.findOne({ where: { id: membershipId, organisationId: organisation.id }, include: [{ model: User, as: "user" }] });
-  if (!membership) throw new MemberChangeError("No such member in this organisation.", 404);
+  if (!membership) throw new Refusal("No such member in this organisation.", 404);
   assertMayAssign(actor.role, role);
   if (membership.role === "owner") {
-    if (actor.role !== "owner") throw new MemberChangeError("Only an owner can change an owner's role.", 403);
-    if (role !== "owner" && (await countOwners(organisation.id)) <= 1) throw new MemberChangeError("This is the last owner; make someone else an owner first.", 409);
+    if (actor.role !== "owner") throw new Refusal("Only an owner can change an owner's role.", 403);
+    if (role !== "owner" && (await countOwners(organisation.id)) <= 1) throw new Refusal("This is the last owner; make someone else an owner first.", 409);
   }
   if (membership.role === role) return;
   const before = membership.role;
@@ -104,12 +90,11 @@ export async function changeMemberRole(organisation: Organisation, membershipId:
 }
 
 export async function removeMember(organisation: Organisation, membershipId: string, actor: AuditActor & { role: Role }): Promise<void> {
-  ensureDatabase();
   const membership = await Membership.findOne({ where: { id: membershipId, organisationId: organisation.id }, include: [{ model: User, as: "user" }] });
-  if (!membership) throw new MemberChangeError("No such member in this organisation.", 404);
+  if (!membership) throw new Refusal("No such member in this organisation.", 404);
   if (membership.role === "owner") {
-    if (actor.role !== "owner") throw new MemberChangeError("Only an owner can remove an owner.", 403);
-    if ((await countOwners(organisation.id)) <= 1) throw new MemberChangeError("This is the last owner; an organisation always keeps one.", 409);
+    if (actor.role !== "owner") throw new Refusal("Only an owner can remove an owner.", 403);
+    if ((await countOwners(organisation.id)) <= 1) throw new Refusal("This is the last owner; an organisation always keeps one.", 409);
   }
   await membership.destroy();
   await recordAuditEvent(actor, { organisationId: organisation.id, action: "member.removed", targetType: "membership", targetId: membership.id, changes: { email: membership.user?.email, role: membership.role } });
@@ -119,7 +104,6 @@ export type OpenInvitation = { invitation: Invitation; organisationName: string;
 
 /** The invitation behind an e-mailed link, if it is still open. */
 export async function findOpenInvitation(token: string): Promise<OpenInvitation | null> {
-  ensureDatabase();
   if (!/^[A-Za-z0-9_-]{20,100}$/.test(token)) return null;
   const invitation = await Invitation.findOne({
     where: { tokenHash: hashToken(token), acceptedAt: null, revokedAt: null, expiresAt: { [Op.gt]: new Date() } },
@@ -132,12 +116,11 @@ export async function findOpenInvitation(token: string): Promise<OpenInvitation 
 
 /** Joins the invited user to the organisation with the invited role; the link is then spent. */
 export async function acceptInvitation(open: OpenInvitation, user: User, clientAddress: string): Promise<string> {
-  ensureDatabase();
   const { invitation } = open;
-  if (user.email !== invitation.email) throw new MemberChangeError(`This invitation is for ${invitation.email}; you are signed in as ${user.email}.`, 403);
+  if (user.email !== invitation.email) throw new Refusal(`This invitation is for ${invitation.email}; you are signed in as ${user.email}.`, 403);
   await getDatabase().transaction(async (transaction) => {
     const [updated] = await Invitation.update({ acceptedAt: new Date() }, { where: { id: invitation.id, acceptedAt: null, revokedAt: null }, transaction });
-    if (updated !== 1) throw new MemberChangeError("This invitation has already been used.", 409);
+    if (updated !== 1) throw new Refusal("This invitation has already been used.", 409);
     const existing = await Membership.findOne({ where: { organisationId: invitation.organisationId, userId: user.id }, transaction });
     if (!existing) await Membership.create({ organisationId: invitation.organisationId, userId: user.id, role: invitation.role }, { transaction });
   });

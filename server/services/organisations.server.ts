@@ -2,7 +2,8 @@ import { Op } from "sequelize";
 import { Membership, Organisation, User } from "#models/index.ts";
 import { hashPassword } from "../auth/password.server.ts";
 import type { Role } from "../auth/roles.ts";
-import { ensureDatabase, getDatabase } from "../db/database.server.ts";
+import { getDatabase } from "../db/database.server.ts";
+import { Refusal } from "../errors.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 
 // Letters that Unicode decomposition leaves alone.
@@ -32,17 +33,19 @@ async function findFreeSlug(name: string): Promise<string> {
   for (let suffix = 2; ; suffix++) if (!taken.has(`${base}-${suffix}`)) return `${base}-${suffix}`;
 }
 
-export class EmailTakenError extends Error {}
+/** Sign-up with an e-mail address that has an account already. */
+export function emailTaken(): Refusal {
+  return new Refusal("An account with this e-mail address exists already. Sign in, or reset the password.", 409, { field: "email" });
+}
 
 /** Sign-up: a new user and a new organisation in which that user is the owner. */
 export async function createUserWithOrganisation(
   input: { email: string; name: string; password: string; organisationName: string },
   clientAddress: string,
 ): Promise<{ user: User; organisation: Organisation }> {
-  ensureDatabase();
   const passwordHash = await hashPassword(input.password);
   const result = await getDatabase().transaction(async (transaction) => {
-    if (await User.findOne({ where: { email: input.email }, transaction })) throw new EmailTakenError();
+    if (await User.findOne({ where: { email: input.email }, transaction })) throw emailTaken();
     const user = await User.create({ email: input.email, name: input.name, passwordHash }, { transaction });
     const organisation = await Organisation.create({ name: input.organisationName, slug: await findFreeSlug(input.organisationName) }, { transaction });
     await Membership.create({ organisationId: organisation.id, userId: user.id, role: "owner" }, { transaction });
@@ -55,7 +58,6 @@ export async function createUserWithOrganisation(
 
 /** A further organisation whose owner is an existing user. */
 export async function createOrganisationForUser(user: User, name: string, clientAddress: string): Promise<Organisation> {
-  ensureDatabase();
   const organisation = await getDatabase().transaction(async (transaction) => {
     const created = await Organisation.create({ name, slug: await findFreeSlug(name) }, { transaction });
     await Membership.create({ organisationId: created.id, userId: user.id, role: "owner" }, { transaction });
@@ -68,7 +70,6 @@ export async function createOrganisationForUser(user: User, name: string, client
 export type OrganisationSummary = { slug: string; name: string; role: Role };
 
 export async function listOrganisationsOfUser(userId: string): Promise<OrganisationSummary[]> {
-  ensureDatabase();
   const memberships = await Membership.findAll({
     where: { userId },
     include: [{ model: Organisation, as: "organisation", required: true }],

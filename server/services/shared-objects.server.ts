@@ -1,26 +1,15 @@
-import { Device, DeviceRevision, SharedAddressObject } from "#models/index.ts";
+import { SharedAddressObject } from "#models/index.ts";
 import { parseCsv } from "../cli/csv.ts";
 import { parseModel } from "../engine/index.ts";
-import { ensureDatabase } from "../db/database.server.ts";
-import { findUsages, type ModelDocument } from "../workspace/index.ts";
+import { deviceRevisions } from "../devices/index.ts";
+import { Refusal } from "../errors.ts";
+import { findUsages } from "../workspace/index.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 
 export type SharedObjectInput = { kind: "address" | "group"; name: string; items: string[]; description: string };
 export type SharedObjectRow = SharedObjectInput & { id: string };
 
-/** A refused change to the shared library, with the status and message. */
-export class SharedObjectError extends Error {
-  constructor(
-    message: string,
-    readonly status: 400 | 404 | 409,
-    readonly field?: string,
-  ) {
-    super(message);
-  }
-}
-
 export async function listSharedObjects(organisationId: string): Promise<SharedObjectRow[]> {
-  ensureDatabase();
   const objects = await SharedAddressObject.findAll({ where: { organisationId }, order: [["kind", "ASC"], ["name", "ASC"]] });
   return objects.map((object) => ({ id: object.id, kind: object.kind, name: object.name, items: object.items, description: object.description }));
 }
@@ -46,31 +35,27 @@ function libraryProblems(objects: SharedObjectInput[]): string[] {
 }
 
 async function devicesUsing(organisationId: string, name: string): Promise<string[]> {
-  const devices = await Device.findAll({ where: { organisationId } });
-  const users: string[] = [];
-  for (const device of devices) {
-    const revision = await DeviceRevision.findOne({ where: { deviceId: device.id, number: device.currentRevisionNumber }, attributes: ["document"] });
-    const document = revision?.document as unknown as ModelDocument | undefined;
-    if (!document) continue;
-    const definesItself = [...document.addresses, ...document.addressGroups].some((object) => object.name === name);
-    if (!definesItself && findUsages(document, "address", name).length > 0) users.push(device.name);
-  }
-  return users;
+  const devices = await deviceRevisions.current(organisationId);
+  return devices
+    .filter(({ document }) => {
+      const definesItself = [...document.addresses, ...document.addressGroups].some((object) => object.name === name);
+      return !definesItself && findUsages(document, "address", name).length > 0;
+    })
+    .map(({ device }) => device.name);
 }
 
 export async function saveSharedObject(organisationId: string, originalName: string | null, input: SharedObjectInput, actor: AuditActor): Promise<void> {
-  ensureDatabase();
   const library = await listSharedObjects(organisationId);
   const existing = originalName ? library.find((object) => object.name === originalName) : undefined;
-  if (originalName && !existing) throw new SharedObjectError(`There is no shared object named "${originalName}".`, 404);
-  if (library.some((object) => object.name === input.name && object.name !== originalName)) throw new SharedObjectError(`The name "${input.name}" is already used in the shared library.`, 409, "name");
+  if (originalName && !existing) throw new Refusal(`There is no shared object named "${originalName}".`, 404);
+  if (library.some((object) => object.name === input.name && object.name !== originalName)) throw new Refusal(`The name "${input.name}" is already used in the shared library.`, 409, { field: "name" });
   if (existing && existing.name !== input.name) {
     const users = await devicesUsing(organisationId, existing.name);
-    if (users.length > 0) throw new SharedObjectError(`"${existing.name}" is used by ${users.join(", ")}; renaming it would break them. Create a new object instead.`, 409, "name");
+    if (users.length > 0) throw new Refusal(`"${existing.name}" is used by ${users.join(", ")}; renaming it would break them. Create a new object instead.`, 409, { field: "name" });
   }
   const next = [...library.filter((object) => object.name !== originalName), input];
   const problems = libraryProblems(next);
-  if (problems.length > 0) throw new SharedObjectError(problems.join(" · "), 400, "items");
+  if (problems.length > 0) throw new Refusal(problems.join(" · "), 400, { field: "items" });
   if (existing) {
     await SharedAddressObject.update({ kind: input.kind, name: input.name, items: input.items, description: input.description }, { where: { id: existing.id } });
   } else {
@@ -86,14 +71,13 @@ export async function saveSharedObject(organisationId: string, originalName: str
 }
 
 export async function deleteSharedObject(organisationId: string, name: string, actor: AuditActor): Promise<void> {
-  ensureDatabase();
   const library = await listSharedObjects(organisationId);
   const object = library.find((candidate) => candidate.name === name);
-  if (!object) throw new SharedObjectError(`There is no shared object named "${name}".`, 404);
+  if (!object) throw new Refusal(`There is no shared object named "${name}".`, 404);
   const groups = library.filter((candidate) => candidate.kind === "group" && candidate.items.includes(name)).map((group) => `shared group ${group.name}`);
   const devices = (await devicesUsing(organisationId, name)).map((device) => `device ${device}`);
   const users = [...groups, ...devices];
-  if (users.length > 0) throw new SharedObjectError(`"${name}" is in use: ${users.join(", ")}. Remove those references first.`, 409);
+  if (users.length > 0) throw new Refusal(`"${name}" is in use: ${users.join(", ")}. Remove those references first.`, 409);
   await SharedAddressObject.destroy({ where: { organisationId, name } });
   await recordAuditEvent(actor, { organisationId, action: "shared-object.deleted", targetType: "shared-object", targetId: name, changes: { items: object.items } });
 }
@@ -136,7 +120,7 @@ export async function importSharedObjectsCsv(organisationId: string, text: strin
       await saveSharedObject(organisationId, existing ? rawName : null, { kind: "address", name: rawName, items: entries, description: existing?.description ?? "" }, actor);
       report.push({ row, name: rawName, result: existing ? "updated" : "created", message: entries.join(" ") });
     } catch (error) {
-      if (error instanceof SharedObjectError) report.push({ row, name: rawName, result: "refused", message: error.message });
+      if (error instanceof Refusal) report.push({ row, name: rawName, result: "refused", message: error.message });
       else throw error;
     }
   }

@@ -1,19 +1,16 @@
 import { UniqueConstraintError } from "sequelize";
 import { Device, Site } from "#models/index.ts";
-import { ensureDatabase } from "../db/database.server.ts";
+import { Refusal } from "../errors.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 
 export type SiteInput = { name: string; customer: string; location: string };
 export type SiteRow = SiteInput & { id: string; updatedAt: string; deviceCount: number };
-
-export class SiteNameTakenError extends Error {}
 
 function toRow(site: Site, deviceCount = 0): SiteRow {
   return { id: site.id, name: site.name, customer: site.customer, location: site.location, updatedAt: site.updatedAt.toISOString(), deviceCount };
 }
 
 export async function listSites(organisationId: string): Promise<SiteRow[]> {
-  ensureDatabase();
   const [sites, counts] = await Promise.all([
     Site.findAll({ where: { organisationId }, order: [["name", "ASC"]] }),
     Device.count({ where: { organisationId }, group: ["siteId"] }),
@@ -23,20 +20,18 @@ export async function listSites(organisationId: string): Promise<SiteRow[]> {
 }
 
 export async function createSite(organisationId: string, input: SiteInput, actor: AuditActor): Promise<SiteRow> {
-  ensureDatabase();
   try {
     const site = await Site.create({ organisationId, ...input });
     await recordAuditEvent(actor, { organisationId, action: "site.created", targetType: "site", targetId: site.id, changes: { ...input } });
     return toRow(site);
   } catch (error) {
-    if (error instanceof UniqueConstraintError) throw new SiteNameTakenError();
+    if (error instanceof UniqueConstraintError) throw new Refusal(`A site named "${input.name}" exists already.`, 409, { field: "name" });
     throw error;
   }
 }
 
 /** Updates a site of this organisation; null when there is no such site here. */
 export async function updateSite(organisationId: string, siteId: string, input: SiteInput, actor: AuditActor): Promise<SiteRow | null> {
-  ensureDatabase();
   const site = await Site.findOne({ where: { id: siteId, organisationId } });
   if (!site) return null;
   const changes: Record<string, { from: string; to: string }> = {};
@@ -47,21 +42,18 @@ export async function updateSite(organisationId: string, siteId: string, input: 
   try {
     await site.update(input);
   } catch (error) {
-    if (error instanceof UniqueConstraintError) throw new SiteNameTakenError();
+    if (error instanceof UniqueConstraintError) throw new Refusal(`A site named "${input.name}" exists already.`, 409, { field: "name" });
     throw error;
   }
   await recordAuditEvent(actor, { organisationId, action: "site.updated", targetType: "site", targetId: site.id, changes });
   return toRow(site);
 }
 
-export class SiteInUseError extends Error {}
-
 export async function deleteSite(organisationId: string, siteId: string, actor: AuditActor): Promise<boolean> {
-  ensureDatabase();
   const site = await Site.findOne({ where: { id: siteId, organisationId } });
   if (!site) return false;
   const devices = await Device.findAll({ where: { siteId }, attributes: ["name"] });
-  if (devices.length > 0) throw new SiteInUseError(`The site "${site.name}" still has devices: ${devices.map((device) => device.name).join(", ")}. Move or delete them first.`);
+  if (devices.length > 0) throw new Refusal(`The site "${site.name}" still has devices: ${devices.map((device) => device.name).join(", ")}. Move or delete them first.`, 409);
   await site.destroy();
   await recordAuditEvent(actor, { organisationId, action: "site.deleted", targetType: "site", targetId: site.id, changes: { name: site.name } });
   return true;

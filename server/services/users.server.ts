@@ -3,17 +3,16 @@ import { PasswordReset, User } from "#models/index.ts";
 import { hashPassword } from "../auth/password.server.ts";
 import { endAllSessions } from "../auth/session.server.ts";
 import { createToken, hashToken } from "../auth/tokens.server.ts";
-import { ensureDatabase, getDatabase } from "../db/database.server.ts";
+import { getDatabase } from "../db/database.server.ts";
 import { sendPasswordResetMail } from "../mail/messages.server.ts";
 import { recordAuditEvent } from "./audit.server.ts";
-import { EmailTakenError } from "./organisations.server.ts";
+import { emailTaken } from "./organisations.server.ts";
 
 export const PASSWORD_RESET_LIFETIME_MS = 30 * 60 * 1000;
 
 /** A user created from an invitation link (no organisation of their own). */
 export async function createUser(input: { email: string; name: string; password: string }): Promise<User> {
-  ensureDatabase();
-  if (await User.findOne({ where: { email: input.email } })) throw new EmailTakenError();
+  if (await User.findOne({ where: { email: input.email } })) throw emailTaken();
   return User.create({ email: input.email, name: input.name, passwordHash: await hashPassword(input.password) });
 }
 
@@ -22,7 +21,6 @@ export async function createUser(input: { email: string; name: string; password:
  * same either way, so the form does not reveal which addresses have accounts.
  */
 export async function requestPasswordReset(email: string, appOrigin: string, clientAddress: string): Promise<void> {
-  ensureDatabase();
   const user = await User.findOne({ where: { email } });
   if (!user) return;
   const token = createToken();
@@ -33,7 +31,6 @@ export async function requestPasswordReset(email: string, appOrigin: string, cli
 
 /** The user behind a reset link that is unused and unexpired. */
 export async function findUserForResetToken(token: string): Promise<User | null> {
-  ensureDatabase();
   if (!/^[A-Za-z0-9_-]{20,100}$/.test(token)) return null;
   const reset = await PasswordReset.findOne({ where: { tokenHash: hashToken(token), usedAt: null, expiresAt: { [Op.gt]: new Date() } } });
   if (!reset) return null;
@@ -42,7 +39,6 @@ export async function findUserForResetToken(token: string): Promise<User | null>
 
 /** Sets the new password, spends the link (and any other open ones) and signs out everywhere. */
 export async function completePasswordReset(token: string, password: string, clientAddress: string): Promise<User | null> {
-  ensureDatabase();
   const passwordHash = await hashPassword(password);
   const user = await getDatabase().transaction(async (transaction) => {
     const reset = await PasswordReset.findOne({ where: { tokenHash: hashToken(token), usedAt: null, expiresAt: { [Op.gt]: new Date() } }, transaction, lock: transaction.LOCK.UPDATE });

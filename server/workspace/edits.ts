@@ -1,17 +1,18 @@
 // Element-level edits of a device document. Each returns a new document (the input is never
 // changed) or throws EditError; the caller validates the result with the engine. Pure.
+import { Refusal } from "../errors.ts";
 import type { ModelDocument } from "./document.ts";
 import { findUsages, renameReferences, type ElementKind, type Usage } from "./references.ts";
 
-/** A refused edit: what to tell the user, the HTTP status, and the field or usages concerned. */
-export class EditError extends Error {
+/** A refused edit: what to tell the user, the HTTP status, the field and the usages concerned. */
+export class EditError extends Refusal {
   constructor(
     message: string,
-    readonly status: 400 | 404 | 409,
-    readonly field?: string,
+    status: 400 | 404 | 409,
+    field?: string,
     readonly usages: Usage[] = [],
   ) {
-    super(message);
+    super(message, status, { field });
   }
 }
 

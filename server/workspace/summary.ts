@@ -1,5 +1,5 @@
 // What the fleet table shows for a revision, computed once by the engine when it is saved.
-import { compileModel, exposure, findings, OUTCOMES, SEVERITIES, type Outcome } from "../engine/index.ts";
+import { compileModel, exposure, findings, OUTCOMES, SEVERITIES, type CompiledModel, type Finding, type Outcome } from "../engine/index.ts";
 import type { ModelDocument } from "./document.ts";
 
 export type RevisionSummary = {
@@ -9,10 +9,10 @@ export type RevisionSummary = {
   counts: Record<string, number>;
 };
 
-export function summariseDocument(effective: ModelDocument): RevisionSummary {
-  const device = compileModel(effective);
+/** The summary of a revision; pass the compiled model and findings when they exist already. */
+export function summariseDocument(effective: ModelDocument, device: CompiledModel = compileModel(effective), found: readonly Finding[] = findings(device)): RevisionSummary {
   const findingsBySeverity = Object.fromEntries(SEVERITIES.map((severity) => [severity, 0])) as Record<string, number>;
-  for (const finding of findings(device)) findingsBySeverity[finding.severity] += 1;
+  for (const finding of found) findingsBySeverity[finding.severity] += 1;
 
   const outside = new Set(effective.interfaces.filter((entry) => entry.role === "outside").map((entry) => entry.name));
   let worst = -1;

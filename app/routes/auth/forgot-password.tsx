@@ -7,6 +7,7 @@ import { EmailSchema } from "#server/http/schemas";
 import { requestPasswordReset } from "#server/services/users.server";
 import { Button } from "#app/components/ui/button";
 import { TextField } from "#app/components/ui/field";
+import { clientAddressOf } from "#server/http/request-context.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Reset your password · Sallyport" }];
 
@@ -18,7 +19,7 @@ export async function action({ request, context }: Route.ActionArgs) {
   const values = formValues(await readForm(request));
   const parsed = z.object({ email: EmailSchema }).safeParse(values);
   if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
-  await requestPasswordReset(parsed.data.email, appOriginOf(request, getEnvironment().APP_ORIGIN), context.clientAddress);
+  await requestPasswordReset(parsed.data.email, appOriginOf(request, getEnvironment().APP_ORIGIN), clientAddressOf(context));
   // The same answer whether or not the address has an account.
   return { ok: true as const, email: parsed.data.email };
 }

@@ -2,23 +2,25 @@ import { data, Form, Link, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/invitation";
 import { serializeFlash } from "#server/auth/flash.server";
 import { findPasswordProblem, PASSWORD_MIN_LENGTH } from "#server/auth/password-rules";
-import { getSignedInSession, startSession } from "#server/auth/session.server";
+import { startSession } from "#server/auth/session.server";
+import { signedInOf } from "#server/auth/guard.server";
 import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
 import { InvitationSignUpSchema } from "#server/http/schemas";
-import { acceptInvitation, findOpenInvitation, MemberChangeError } from "#server/services/members.server";
-import { EmailTakenError } from "#server/services/organisations.server";
+import { acceptInvitation, findOpenInvitation } from "#server/services/members.server";
 import { createUser } from "#server/services/users.server";
 import { Button, ButtonLink } from "#app/components/ui/button";
 import { FormError, TextField } from "#app/components/ui/field";
+import { clientAddressOf } from "#server/http/request-context.server";
+import { refusedForm } from "#server/http/refusals.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Invitation · Sallyport" }];
 
 const CLOSED = "This invitation has expired, was revoked, or was used already. Ask the person who invited you for a new one.";
 
-export async function loader({ request, params }: Route.LoaderArgs) {
+export async function loader({ request, params, context }: Route.LoaderArgs) {
   const open = await findOpenInvitation(params.token);
   if (!open) throw data({ message: CLOSED }, { status: 404 });
-  const signedIn = await getSignedInSession(request);
+  const signedIn = signedInOf(context);
   return {
     organisationName: open.organisationName,
     email: open.invitation.email,
@@ -32,10 +34,10 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   const values = formValues(await readForm(request));
   const open = await findOpenInvitation(params.token);
   if (!open) return invalidForm({ form: CLOSED }, values, 404);
-  const signedIn = await getSignedInSession(request);
+  const signedIn = signedInOf(context);
   try {
     if (signedIn) {
-      const slug = await acceptInvitation(open, signedIn.user, context.clientAddress);
+      const slug = await acceptInvitation(open, signedIn.user, clientAddressOf(context));
       throw redirect(`/o/${slug}`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: `You joined ${open.organisationName}.` }) } });
     }
     if (open.existingUser) return invalidForm({ form: "Sign in first, then open the link again." }, values, 401);
@@ -44,15 +46,13 @@ export async function action({ request, params, context }: Route.ActionArgs) {
     const problem = findPasswordProblem(parsed.data.password, { email: open.invitation.email, name: parsed.data.name });
     if (problem) return invalidForm({ password: problem }, values);
     const user = await createUser({ email: open.invitation.email, name: parsed.data.name, password: parsed.data.password });
-    const slug = await acceptInvitation(open, user, context.clientAddress);
+    const slug = await acceptInvitation(open, user, clientAddressOf(context));
     const headers = new Headers();
-    headers.append("Set-Cookie", await startSession(request, user.id, context.clientAddress));
+    headers.append("Set-Cookie", await startSession(request, user.id, clientAddressOf(context)));
     headers.append("Set-Cookie", await serializeFlash({ kind: "success", message: `Welcome to ${open.organisationName}.` }));
     throw redirect(`/o/${slug}`, { headers });
   } catch (error) {
-    if (error instanceof MemberChangeError) return invalidForm({ form: error.message }, values, error.status);
-    if (error instanceof EmailTakenError) return invalidForm({ form: "An account with this e-mail exists already: sign in, then open the link again." }, values, 409);
-    throw error;
+    return refusedForm(error, values);
   }
 }
 

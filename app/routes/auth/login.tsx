@@ -1,31 +1,31 @@
 import { Form, Link, redirect, useNavigation, useSearchParams } from "react-router";
 import type { Route } from "./+types/login";
-import { authenticateWithPassword, SignInError } from "#server/auth/authenticator.server";
-import { getSignedInSession, safeRedirectPath, startSession } from "#server/auth/session.server";
-import { formValues, invalidForm, readForm } from "#server/http/form.server";
+import { authenticateWithPassword } from "#server/auth/authenticator.server";
+import { safeRedirectPath, startSession } from "#server/auth/session.server";
+import { signedInOf } from "#server/auth/guard.server";
+import { formValues, readForm } from "#server/http/form.server";
 import { recordAuditEvent } from "#server/services/audit.server";
 import { Button } from "#app/components/ui/button";
 import { FormError, TextField } from "#app/components/ui/field";
+import { clientAddressOf } from "#server/http/request-context.server";
+import { refusedForm } from "#server/http/refusals.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sign in · Sallyport" }];
 
-export async function loader({ request }: Route.LoaderArgs) {
-  if (await getSignedInSession(request)) throw redirect(safeRedirectPath(new URL(request.url).searchParams.get("redirectTo")));
+export async function loader({ request, context }: Route.LoaderArgs) {
+  if (signedInOf(context)) throw redirect(safeRedirectPath(new URL(request.url).searchParams.get("redirectTo")));
   return null;
 }
 
 export async function action({ request, context }: Route.ActionArgs) {
   const values = formValues(await readForm(request.clone()));
   try {
-    const user = await authenticateWithPassword(request, { clientAddress: context.clientAddress });
-    const cookie = await startSession(request, user.id, context.clientAddress);
-    await recordAuditEvent({ userId: user.id, email: user.email, clientAddress: context.clientAddress }, { organisationId: null, action: "user.signed-in", targetType: "user", targetId: user.id });
+    const user = await authenticateWithPassword(request, { clientAddress: clientAddressOf(context) });
+    const cookie = await startSession(request, user.id, clientAddressOf(context));
+    await recordAuditEvent({ userId: user.id, email: user.email, clientAddress: clientAddressOf(context) }, { organisationId: null, action: "user.signed-in", targetType: "user", targetId: user.id });
     throw redirect(safeRedirectPath(values.redirectTo), { headers: { "Set-Cookie": cookie } });
   } catch (error) {
-    if (error instanceof SignInError) {
-      return invalidForm({ form: error.message }, values, error.status, error.retryAfterSeconds ? { "Retry-After": String(error.retryAfterSeconds) } : undefined);
-    }
-    throw error;
+    return refusedForm(error, values);
   }
 }
 

@@ -1,9 +1,11 @@
 import { redirect } from "react-router";
 import type { Route } from "./+types/logout";
-import { endAllSessions, endSession, getSignedInSession } from "#server/auth/session.server";
+import { endAllSessions, endSession } from "#server/auth/session.server";
+import { signedInOf } from "#server/auth/guard.server";
 import { serializeFlash } from "#server/auth/flash.server";
 import { readForm } from "#server/http/form.server";
 import { recordAuditEvent } from "#server/services/audit.server";
+import { clientAddressOf } from "#server/http/request-context.server";
 
 // Sign-out is a POST only, so a link or an image on another page cannot sign anyone out.
 export async function loader() {
@@ -12,11 +14,11 @@ export async function loader() {
 
 export async function action({ request, context }: Route.ActionArgs) {
   const form = await readForm(request.clone());
-  const signedIn = await getSignedInSession(request);
+  const signedIn = signedInOf(context);
   const everywhere = form.get("scope") === "everywhere";
   if (signedIn && everywhere) {
     await endAllSessions(signedIn.user.id);
-    await recordAuditEvent({ userId: signedIn.user.id, email: signedIn.user.email, clientAddress: context.clientAddress }, { organisationId: null, action: "user.signed-out-everywhere", targetType: "user", targetId: signedIn.user.id });
+    await recordAuditEvent({ userId: signedIn.user.id, email: signedIn.user.email, clientAddress: clientAddressOf(context) }, { organisationId: null, action: "user.signed-out-everywhere", targetType: "user", targetId: signedIn.user.id });
   }
   const headers = new Headers();
   headers.append("Set-Cookie", await endSession(request));

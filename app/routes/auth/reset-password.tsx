@@ -7,12 +7,13 @@ import { ResetPasswordSchema } from "#server/http/schemas";
 import { completePasswordReset, findUserForResetToken } from "#server/services/users.server";
 import { Button } from "#app/components/ui/button";
 import { TextField } from "#app/components/ui/field";
+import { clientAddressOf } from "#server/http/request-context.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Choose a new password · Sallyport" }];
 
 const EXPIRED = "This reset link has expired or was used already. Ask for a new one.";
 
-export async function loader({ params }: Route.LoaderArgs) {
+export async function loader({ params, context }: Route.LoaderArgs) {
   const user = await findUserForResetToken(params.token);
   if (!user) throw data({ message: EXPIRED }, { status: 404 });
   return { email: user.email };
@@ -26,7 +27,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
   const problem = findPasswordProblem(parsed.data.password, { email: user.email, name: user.name });
   if (problem) return invalidForm({ password: problem }, values);
-  const updated = await completePasswordReset(params.token, parsed.data.password, context.clientAddress);
+  const updated = await completePasswordReset(params.token, parsed.data.password, clientAddressOf(context));
   if (!updated) return invalidForm({ form: EXPIRED }, values, 404);
   throw redirect("/login", { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: "Password changed. Every other session was signed out; sign in with the new password." }) } });
 }

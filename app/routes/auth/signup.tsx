@@ -1,17 +1,20 @@
 import { Form, Link, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/signup";
 import { PASSWORD_MIN_LENGTH } from "#server/auth/password-rules";
-import { getSignedInSession, startSession } from "#server/auth/session.server";
+import { startSession } from "#server/auth/session.server";
+import { signedInOf } from "#server/auth/guard.server";
 import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
 import { SignUpSchema } from "#server/http/schemas";
-import { createUserWithOrganisation, EmailTakenError } from "#server/services/organisations.server";
+import { createUserWithOrganisation } from "#server/services/organisations.server";
 import { Button } from "#app/components/ui/button";
 import { FormError, TextField } from "#app/components/ui/field";
+import { clientAddressOf } from "#server/http/request-context.server";
+import { refusedForm } from "#server/http/refusals.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Create an organisation · Sallyport" }];
 
-export async function loader({ request }: Route.LoaderArgs) {
-  if (await getSignedInSession(request)) throw redirect("/");
+export async function loader({ request, context }: Route.LoaderArgs) {
+  if (signedInOf(context)) throw redirect("/");
   return null;
 }
 
@@ -20,14 +23,11 @@ export async function action({ request, context }: Route.ActionArgs) {
   const parsed = SignUpSchema.safeParse(values);
   if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
   try {
-    const { user, organisation } = await createUserWithOrganisation(parsed.data, context.clientAddress);
-    const cookie = await startSession(request, user.id, context.clientAddress);
+    const { user, organisation } = await createUserWithOrganisation(parsed.data, clientAddressOf(context));
+    const cookie = await startSession(request, user.id, clientAddressOf(context));
     throw redirect(`/o/${organisation.slug}`, { headers: { "Set-Cookie": cookie } });
   } catch (error) {
-    if (error instanceof EmailTakenError) {
-      return invalidForm({ email: "An account with this e-mail address exists already. Sign in, or reset the password." }, values, 409);
-    }
-    throw error;
+    return refusedForm(error, values);
   }
 }
 

@@ -1,6 +1,6 @@
 import { Form, Link, useSearchParams } from "react-router";
 import type { Route } from "./+types/findings";
-import { requireMember } from "#server/auth/guard.server";
+import { requireRole } from "#server/auth/guard.server";
 import { fleetFindings } from "#server/services/findings.server";
 import { ElementLink } from "#app/components/device/element-link";
 import { countBySeverity, filterFindingRows, parseFindingsQuery, SEVERITY_SCALE, sortFindingRows } from "#app/utils/finding-keys";
@@ -15,8 +15,8 @@ import { SiteFilter } from "#app/components/ui/site-filter";
 
 export const meta: Route.MetaFunction = () => [{ title: "Findings · Sallyport" }];
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireMember(request, params.organisation);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireRole(context);
   const query = parseFindingsQuery(new URL(request.url).searchParams);
   // Computed from each device's current revision on every visit (memoised per immutable
   // revision in the service); demo fleets are small. Large fleets: store per revision.

@@ -1,12 +1,15 @@
 import { Outlet, useRouteLoaderData } from "react-router";
 import type { Route } from "./+types/layout";
-import { requireMember } from "#server/auth/guard.server";
+import { organisationMiddleware, requireRole } from "#server/auth/guard.server";
 import { listOrganisationsOfUser } from "#server/services/organisations.server";
 import { AppShell } from "#app/components/app-shell";
 import type { loader as rootLoader } from "#app/root";
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireMember(request, params.organisation);
+// The member and their role in this organisation, resolved once per request for every route below.
+export const middleware: Route.MiddlewareFunction[] = [organisationMiddleware];
+
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireRole(context);
   return {
     organisation: { slug: access.organisation.slug, name: access.organisation.name, role: access.role },
     organisations: await listOrganisationsOfUser(access.user.id),

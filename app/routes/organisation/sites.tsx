@@ -3,12 +3,12 @@ import { data, Form, Link, redirect, useNavigation, useSearchParams } from "reac
 import { z } from "zod";
 import type { Route } from "./+types/sites";
 import { serializeFlash } from "#server/auth/flash.server";
-import { requireMember } from "#server/auth/guard.server";
+import { requireRole } from "#server/auth/guard.server";
 import { hasAtLeastRole } from "#server/auth/roles";
 import { actorOf } from "#server/http/actor.server";
 import { fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
 import { IdSchema, SiteSchema } from "#server/http/schemas";
-import { createSite, deleteSite, listSites, SiteInUseError, SiteNameTakenError, updateSite } from "#server/services/sites.server";
+import { createSite, deleteSite, listSites, updateSite } from "#server/services/sites.server";
 import { Button } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
 import { Dialog } from "#app/components/ui/dialog";
@@ -16,11 +16,13 @@ import { EmptyState } from "#app/components/ui/empty-state";
 import { FormError, TextField } from "#app/components/ui/field";
 import { SortHeader, sortRows } from "#app/components/ui/sort-header";
 import { Table, Td, Th } from "#app/components/ui/table";
+import { clientAddressOf } from "#server/http/request-context.server";
+import { refusedForm } from "#server/http/refusals.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sites · Sallyport" }];
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireMember(request, params.organisation);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireRole(context);
   const url = new URL(request.url);
   const query = (url.searchParams.get("q") ?? "").trim().toLowerCase().slice(0, 100);
   const sort = (["name", "customer", "devices"] as const).find((candidate) => candidate === url.searchParams.get("sort")) ?? "name";
@@ -31,8 +33,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 }
 
 export async function action({ request, params, context }: Route.ActionArgs) {
-  const access = await requireMember(request, params.organisation, "engineer");
-  const actor = actorOf(access, context.clientAddress);
+  const access = requireRole(context, "engineer");
+  const actor = actorOf(access, clientAddressOf(context));
   const values = formValues(await readForm(request));
   const organisationId = access.organisation.id;
   const done = async (message: string) =>
@@ -54,8 +56,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
         if (!updated) throw data({ message: "No such site in this organisation." }, { status: 404 });
         return done(`Site "${parsed.data.name}" saved.`);
       } catch (error) {
-        if (error instanceof SiteNameTakenError) return invalidForm({ name: `A site named "${parsed.data.name}" exists already.` }, values, 409);
-        throw error;
+        return refusedForm(error, values);
       }
     }
     case "delete": {
@@ -64,8 +65,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
       try {
         if (!(await deleteSite(organisationId, parsed.data.siteId, actor))) throw data({ message: "No such site in this organisation." }, { status: 404 });
       } catch (error) {
-        if (error instanceof SiteInUseError) return invalidForm({ form: error.message }, values, 409);
-        throw error;
+        return refusedForm(error, values);
       }
       return done("Site deleted.");
     }

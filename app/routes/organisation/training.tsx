@@ -1,11 +1,11 @@
 import type { Route } from "./+types/training";
-import { requireMember } from "#server/auth/guard.server";
+import { requireRole } from "#server/auth/guard.server";
 import { ComingSoon } from "#app/components/coming-soon";
 
 export const meta: Route.MetaFunction = () => [{ title: "Training · Sallyport" }];
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  await requireMember(request, params.organisation);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  requireRole(context);
   return null;
 }
 

@@ -2,7 +2,7 @@ import { Form, Link, useSearchParams } from "react-router";
 import { SiteFilter } from "#app/components/ui/site-filter";
 import { SortHeader, sortRows } from "#app/components/ui/sort-header";
 import type { Route } from "./+types/fleet";
-import { requireMember } from "#server/auth/guard.server";
+import { requireRole } from "#server/auth/guard.server";
 import { hasAtLeastRole } from "#server/auth/roles";
 import { listDevices } from "#server/services/devices.server";
 import { activeFindingsBySeverity } from "#server/services/findings.server";
@@ -24,8 +24,8 @@ function findingsWeight(counts: Record<string, number>): number {
   return SEVERITY_ORDER.reduce((total, severity, index) => total + (counts[severity] ?? 0) * 1000 ** (SEVERITY_ORDER.length - index), 0);
 }
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireMember(request, params.organisation);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireRole(context);
   const url = new URL(request.url);
   const query = (url.searchParams.get("q") ?? "").trim().toLowerCase().slice(0, 100);
   const siteFilter = url.searchParams.get("site") ?? "";

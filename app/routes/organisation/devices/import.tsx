@@ -1,10 +1,11 @@
 import { data, Form, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/import";
 import { serializeFlash } from "#server/auth/flash.server";
-import { requireMember } from "#server/auth/guard.server";
+import { requireRole } from "#server/auth/guard.server";
 import { actorOf } from "#server/http/actor.server";
 import { readForm } from "#server/http/form.server";
-import { createDevice, DeviceNameTakenError, findDevice, InvalidModelError, listDevices, loadSharedLibrary, RevisionConflictError, saveEdit, WorkspaceNotFoundError } from "#server/services/devices.server";
+import { refusedWith } from "#server/http/refusals.server";
+import { createDevice, findDevice, listDevices, loadSharedLibrary, saveEdit } from "#server/services/devices.server";
 import { listSites } from "#server/services/sites.server";
 import { summariseDocument, validateDocument, type ModelDocument } from "#server/workspace/index";
 import { isOutcome, OutcomeChip } from "#app/components/outcome";
@@ -12,14 +13,15 @@ import { SeverityCounts } from "#app/components/severity";
 import { Button } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
 import { FormError, SelectField } from "#app/components/ui/field";
+import { clientAddressOf } from "#server/http/request-context.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Import a model · Sallyport" }];
 
 /** Model documents are small; a larger upload is refused before it is parsed. */
 export const MAX_MODEL_BYTES = 1024 * 1024;
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireMember(request, params.organisation, "engineer");
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireRole(context, "engineer");
   const [sites, devices] = await Promise.all([listSites(access.organisation.id), listDevices(access.organisation.id)]);
   return { sites: sites.map((site) => ({ id: site.id, name: site.name })), devices: devices.map((device) => ({ id: device.id, name: device.name, revision: device.revision })) };
 }
@@ -46,7 +48,7 @@ async function readDocument(form: FormData): Promise<{ text: string; fileName: s
 }
 
 export async function action({ request, params, context }: Route.ActionArgs) {
-  const access = await requireMember(request, params.organisation, "engineer");
+  const access = requireRole(context, "engineer");
   const form = await readForm(request);
   const intent = form.get("intent");
   const target = String(form.get("target") ?? "");
@@ -66,7 +68,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   if (kind !== "site" && kind !== "device") return refuse("Choose where to import: a new device at a site, or a new revision of a device.", [], target);
   const existing = kind === "device" ? await findDevice(access.organisation.id, id ?? "") : null;
   if (kind === "device" && !existing) return refuse("No such device in this organisation.", [], target, 404);
-  const actor = actorOf(access, context.clientAddress);
+  const actor = actorOf(access, clientAddressOf(context));
 
   if (intent === "preview") {
     return data<ActionResult>({
@@ -91,11 +93,10 @@ export async function action({ request, params, context }: Route.ActionArgs) {
     const device = await createDevice(access.organisation.id, id ?? "", validated.document, actor, `Imported ${read.fileName}`);
     throw redirect(`/o/${access.organisation.slug}/devices/${device.id}`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: `Device ${device.name} imported.` }) } });
   } catch (error) {
-    if (error instanceof DeviceNameTakenError) return refuse(`${error.message} Import it as a new revision of that device instead, or rename the device in the document.`, [], target, 409);
-    if (error instanceof RevisionConflictError) return refuse(error.message, [], target, 409);
-    if (error instanceof WorkspaceNotFoundError) return refuse(error.message, [], target, 404);
-    if (error instanceof InvalidModelError) return refuse("The document is not a valid Sallyport model.", [...error.issues], target);
-    throw error;
+    return refusedWith(error, (refusal): ActionResult => {
+      const advice = refusal.field === "name" ? " Import it as a new revision of that device instead, or rename the device in the document." : "";
+      return { stage: "refused", message: refusal.issues.length ? "The document is not a valid Sallyport model." : `${refusal.message}${advice}`, problems: [...refusal.issues], target };
+    });
   }
 }
 

@@ -2,20 +2,22 @@ import { Form, redirect, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/new";
 import { serializeFlash } from "#server/auth/flash.server";
-import { requireMember } from "#server/auth/guard.server";
+import { requireRole } from "#server/auth/guard.server";
 import { actorOf } from "#server/http/actor.server";
 import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
-import { createDevice, DeviceNameTakenError, InvalidModelError, WorkspaceNotFoundError } from "#server/services/devices.server";
+import { createDevice } from "#server/services/devices.server";
 import { listSites } from "#server/services/sites.server";
 import { newDocument } from "#server/workspace/index";
 import { Button } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
 import { FormError, SelectField, TextField } from "#app/components/ui/field";
+import { clientAddressOf } from "#server/http/request-context.server";
+import { refusedForm } from "#server/http/refusals.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "New device · Sallyport" }];
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireMember(request, params.organisation, "engineer");
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireRole(context, "engineer");
   return { sites: (await listSites(access.organisation.id)).map((site) => ({ id: site.id, name: site.name })) };
 }
 
@@ -26,20 +28,17 @@ const NewDeviceSchema = z.object({
 });
 
 export async function action({ request, params, context }: Route.ActionArgs) {
-  const access = await requireMember(request, params.organisation, "engineer");
+  const access = requireRole(context, "engineer");
   const values = formValues(await readForm(request));
   const parsed = NewDeviceSchema.safeParse(values);
   if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
   try {
-    const device = await createDevice(access.organisation.id, parsed.data.siteId, newDocument(parsed.data.name, parsed.data.timezone), actorOf(access, context.clientAddress), "Created the device");
+    const device = await createDevice(access.organisation.id, parsed.data.siteId, newDocument(parsed.data.name, parsed.data.timezone), actorOf(access, clientAddressOf(context)), "Created the device");
     throw redirect(`/o/${access.organisation.slug}/devices/${device.id}/model/interfaces`, {
       headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: `Device ${device.name} created. Add its interfaces next.` }) },
     });
   } catch (error) {
-    if (error instanceof DeviceNameTakenError) return invalidForm({ name: error.message }, values, 409);
-    if (error instanceof WorkspaceNotFoundError) return invalidForm({ siteId: error.message }, values, 404);
-    if (error instanceof InvalidModelError) return invalidForm({ timezone: error.issues.map((issue) => issue.message).join("; ") }, values);
-    throw error;
+    return refusedForm(error, values);
   }
 }
 

@@ -1,5 +1,5 @@
 import type { Route } from "./+types/audit";
-import { requireMember } from "#server/auth/guard.server";
+import { requireRole } from "#server/auth/guard.server";
 import { listAuditEvents } from "#server/services/audit.server";
 import { EmptyState } from "#app/components/ui/empty-state";
 import { Table, Td, Th } from "#app/components/ui/table";
@@ -7,8 +7,8 @@ import { Table, Td, Th } from "#app/components/ui/table";
 export const meta: Route.MetaFunction = () => [{ title: "Audit log · Sallyport" }];
 
 // Reviewers and above: the record is evidence for change review and audits; trainees do not need it.
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireMember(request, params.organisation, "reviewer");
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireRole(context, "reviewer");
   const events = await listAuditEvents(access.organisation.id);
   return {
     events: events.map((event) => ({

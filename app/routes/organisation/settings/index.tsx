@@ -1,8 +1,8 @@
 import { redirect } from "react-router";
 import type { Route } from "./+types/index";
-import { requireMember } from "#server/auth/guard.server";
+import { requireRole } from "#server/auth/guard.server";
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const { organisation } = await requireMember(request, params.organisation);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const { organisation } = requireRole(context);
   throw redirect(`/o/${organisation.slug}/settings/members`);
 }

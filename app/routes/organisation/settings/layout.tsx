@@ -1,11 +1,11 @@
 import { NavLink, Outlet } from "react-router";
 import type { Route } from "./+types/layout";
-import { requireMember } from "#server/auth/guard.server";
+import { requireRole } from "#server/auth/guard.server";
 import { PageHeader } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const { organisation } = await requireMember(request, params.organisation);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const { organisation } = requireRole(context);
   return { slug: organisation.slug };
 }
 

@@ -3,23 +3,25 @@ import { Form, redirect, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/members";
 import { serializeFlash } from "#server/auth/flash.server";
-import { requireMember } from "#server/auth/guard.server";
+import { requireRole } from "#server/auth/guard.server";
 import { hasAtLeastRole, ROLE_DESCRIPTIONS, ROLES } from "#server/auth/roles";
 import { getEnvironment } from "#server/config.server";
 import { actorOf } from "#server/http/actor.server";
 import { appOriginOf, fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
 import { EmailSchema, IdSchema, RoleSchema } from "#server/http/schemas";
-import { changeMemberRole, inviteMember, listMembers, listPendingInvitations, MemberChangeError, removeMember, revokeInvitation } from "#server/services/members.server";
+import { changeMemberRole, inviteMember, listMembers, listPendingInvitations, removeMember, revokeInvitation } from "#server/services/members.server";
 import { Badge, Card } from "#app/components/ui/card";
 import { Button } from "#app/components/ui/button";
 import { Dialog } from "#app/components/ui/dialog";
 import { FormError, SelectField, TextField } from "#app/components/ui/field";
 import { Table, Td, Th } from "#app/components/ui/table";
+import { clientAddressOf } from "#server/http/request-context.server";
+import { refusedForm } from "#server/http/refusals.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Members · Sallyport" }];
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireMember(request, params.organisation);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireRole(context);
   const canManage = hasAtLeastRole(access.role, "admin");
   return {
     members: await listMembers(access.organisation.id),
@@ -36,8 +38,8 @@ const MembershipSchema = z.object({ membershipId: IdSchema });
 const InvitationSchema = z.object({ invitationId: IdSchema });
 
 export async function action({ request, params, context }: Route.ActionArgs) {
-  const access = await requireMember(request, params.organisation, "admin");
-  const actor = actorOf(access, context.clientAddress);
+  const access = requireRole(context, "admin");
+  const actor = actorOf(access, clientAddressOf(context));
   const values = formValues(await readForm(request));
   const back = async (message: string) =>
     redirect(`/o/${access.organisation.slug}/settings/members`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message }) } });
@@ -71,8 +73,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
         return unknownIntent(values.intent);
     }
   } catch (error) {
-    if (error instanceof MemberChangeError) return invalidForm({ form: error.message }, values, error.status);
-    throw error;
+    return refusedForm(error, values);
   }
 }
 

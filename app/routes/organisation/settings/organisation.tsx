@@ -2,7 +2,7 @@ import { Form, redirect, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/organisation";
 import { serializeFlash } from "#server/auth/flash.server";
-import { requireMember } from "#server/auth/guard.server";
+import { requireRole } from "#server/auth/guard.server";
 import { actorOf } from "#server/http/actor.server";
 import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
 import { OrganisationNameSchema } from "#server/http/schemas";
@@ -10,20 +10,21 @@ import { renameOrganisation } from "#server/services/organisations.server";
 import { Button } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { TextField } from "#app/components/ui/field";
+import { clientAddressOf } from "#server/http/request-context.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Organisation · Sallyport" }];
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireMember(request, params.organisation);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireRole(context);
   return { name: access.organisation.name, slug: access.organisation.slug, isOwner: access.role === "owner" };
 }
 
 export async function action({ request, params, context }: Route.ActionArgs) {
-  const access = await requireMember(request, params.organisation, "owner");
+  const access = requireRole(context, "owner");
   const values = formValues(await readForm(request));
   const parsed = z.object({ name: OrganisationNameSchema }).safeParse(values);
   if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
-  await renameOrganisation(access.organisation, parsed.data.name, actorOf(access, context.clientAddress));
+  await renameOrganisation(access.organisation, parsed.data.name, actorOf(access, clientAddressOf(context)));
   throw redirect(`/o/${access.organisation.slug}/settings/organisation`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: "Organisation renamed." }) } });
 }
 

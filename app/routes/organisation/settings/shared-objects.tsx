@@ -2,22 +2,24 @@ import { Form, Link, redirect, useNavigation, useSearchParams } from "react-rout
 import { z } from "zod";
 import type { Route } from "./+types/shared-objects";
 import { serializeFlash } from "#server/auth/flash.server";
-import { requireMember } from "#server/auth/guard.server";
+import { requireRole } from "#server/auth/guard.server";
 import { hasAtLeastRole } from "#server/auth/roles";
 import { actorOf } from "#server/http/actor.server";
 import { fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
-import { deleteSharedObject, importSharedObjectsCsv, listSharedObjects, saveSharedObject, SharedObjectError } from "#server/services/shared-objects.server";
+import { deleteSharedObject, importSharedObjectsCsv, listSharedObjects, saveSharedObject } from "#server/services/shared-objects.server";
 import { TextAreaField } from "#app/components/device/editor-kit";
 import { Badge, Card } from "#app/components/ui/card";
 import { Button } from "#app/components/ui/button";
 import { EmptyState } from "#app/components/ui/empty-state";
 import { FormError, SelectField, TextField } from "#app/components/ui/field";
 import { Table, Td, Th } from "#app/components/ui/table";
+import { clientAddressOf } from "#server/http/request-context.server";
+import { refusedForm } from "#server/http/refusals.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Shared objects · Sallyport" }];
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireMember(request, params.organisation);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireRole(context);
   return { objects: await listSharedObjects(access.organisation.id), canManage: hasAtLeastRole(access.role, "admin") };
 }
 
@@ -34,8 +36,8 @@ const SharedObjectSchema = z.object({
 });
 
 export async function action({ request, params, context }: Route.ActionArgs) {
-  const access = await requireMember(request, params.organisation, "admin");
-  const actor = actorOf(access, context.clientAddress);
+  const access = requireRole(context, "admin");
+  const actor = actorOf(access, clientAddressOf(context));
   const form = await readForm(request);
   const values = formValues(form);
   const back = async (message: string) => redirect(`/o/${access.organisation.slug}/settings/shared-objects`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message }) } });
@@ -65,8 +67,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
         return unknownIntent(values.intent);
     }
   } catch (error) {
-    if (error instanceof SharedObjectError) return invalidForm({ form: error.message, ...(error.field ? { [error.field]: error.message } : {}) }, values, error.status);
-    throw error;
+    return refusedForm(error, values);
   }
 }
 

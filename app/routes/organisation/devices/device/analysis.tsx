@@ -2,7 +2,6 @@ import "@xyflow/react/dist/style.css";
 import { useEffect, useRef, useState } from "react";
 import { Form, useFetcher } from "react-router";
 import type { Route } from "./+types/analysis";
-import { compiledCurrentRevision } from "#server/analysis/compiled-revisions.server";
 import { probeInputOf, probeQueryOf, ProbeQuerySchema } from "#server/analysis/probe";
 import { BUILTIN_SERVICES, ProbeError, trace, type TraceResult } from "#server/engine/index";
 import { requireDevice } from "#server/http/device-access.server";
@@ -16,19 +15,18 @@ import { LAYER_TITLES, outcomeSentence } from "#app/utils/trace-words";
 
 export const meta: Route.MetaFunction = () => [{ title: "Trace a probe · Sallyport" }];
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireDevice(request, params);
-  const revision = await compiledCurrentRevision(access.organisation.id, access.device.id);
-  const model = revision?.effective ?? access.effective;
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireDevice(context);
+  const model = access.effective;
   const url = new URL(request.url);
   const query = probeQueryOf(url.searchParams);
   let initial: { trace: TraceResult | null; error: string | null } = { trace: null, error: null };
-  if (query.from && revision) {
+  if (query.from) {
     const parsed = ProbeQuerySchema.safeParse(query);
     if (!parsed.success) initial = { trace: null, error: parsed.error.issues[0].message };
     else {
       try {
-        initial = { trace: trace(revision.compiled, probeInputOf(parsed.data)), error: null };
+        initial = { trace: trace(access.analysis.compiled, probeInputOf(parsed.data)), error: null };
       } catch (error) {
         if (!(error instanceof ProbeError)) throw error;
         initial = { trace: null, error: error.message };

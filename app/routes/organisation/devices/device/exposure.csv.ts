@@ -3,14 +3,13 @@ import { OUTCOMES } from "#server/engine/index";
 import { exposureEntriesAt, exposureQueryOf, filterEntries } from "#server/analysis/exposure.server";
 import { requireDevice } from "#server/http/device-access.server";
 import { addressCount, downloadName, toCsv } from "#app/utils/analysis";
-import { compiledRevision } from "#server/analysis/compiled-revisions.server";
 
 // The exposure map at one instant as CSV: one row per CIDR, with that CIDR's address count, so
 // the counts of one entry sum to its family's size (2^32 or 2^128). Same filters as the page.
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireDevice(request, params);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireDevice(context);
   const query = exposureQueryOf(new URL(request.url));
-  const answer = exposureEntriesAt(compiledRevision(access.revision.id, () => access.effective), query.at);
+  const answer = exposureEntriesAt(access.analysis.compiled, query.at);
   if (!answer.ok) return new Response(`at: ${answer.error}\n`, { status: 400, headers: { "Content-Type": "text/plain; charset=utf-8" } });
   const rows: string[][] = [["interface", "to", "service", "outcome", "count", "cidr"]];
   for (const entry of filterEntries(answer.entries, query)) {

@@ -11,15 +11,14 @@ import { Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
 import { EmptyState } from "#app/components/ui/empty-state";
 import { Table, Td, Th } from "#app/components/ui/table";
-import { compiledRevision } from "#server/analysis/compiled-revisions.server";
 
 export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Exposure map · ${loaded?.deviceName ?? "Device"} · Sallyport` }];
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireDevice(request, params);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireDevice(context);
   const query = exposureQueryOf(new URL(request.url));
   const base = { deviceName: access.device.name, devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`, timezone: access.effective.device.timezone, query };
-  const answer = answerExposure(compiledRevision(access.revision.id, () => access.effective), query);
+  const answer = answerExposure(access.analysis.compiled, query);
   if (!answer.ok) return data({ ...base, answer: null, error: answer.errors.at }, { status: 400 });
   return { ...base, answer, error: null };
 }

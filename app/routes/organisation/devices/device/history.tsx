@@ -1,21 +1,21 @@
 import { Form, useSearchParams } from "react-router";
 import type { Route } from "./+types/history";
-import { requireDevice, revisionNumberOf } from "#server/http/device-access.server";
-import { findDevice, listRevisions } from "#server/services/devices.server";
+import { requireDevice, requireDeviceRevision, revisionNumberOf } from "#server/http/device-access.server";
+import { listRevisions } from "#server/services/devices.server";
 import { diffDocuments } from "#server/workspace/index";
 import { Card } from "#app/components/ui/card";
 import { Table, Td, Th } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = () => [{ title: "History · Sallyport" }];
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireDevice(request, params);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireDevice(context);
   const revisions = await listRevisions(access.device.id);
   const url = new URL(request.url);
   const current = access.revision.number;
   const to = url.searchParams.has("to") ? revisionNumberOf(url.searchParams.get("to")) : current;
   const from = url.searchParams.has("from") ? revisionNumberOf(url.searchParams.get("from")) : Math.max(1, to - 1);
-  const [before, after] = await Promise.all([findDevice(access.organisation.id, access.device.id, from), findDevice(access.organisation.id, access.device.id, to)]);
+  const [before, after] = await Promise.all([requireDeviceRevision(access, from).catch(() => null), requireDeviceRevision(access, to).catch(() => null)]);
   return {
     revisions,
     from,

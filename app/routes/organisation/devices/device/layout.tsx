@@ -1,7 +1,7 @@
 import { Link, NavLink, Outlet } from "react-router";
 import type { Route } from "./+types/layout";
 import { hasAtLeastRole } from "#server/auth/roles";
-import { requireDevice } from "#server/http/device-access.server";
+import { deviceMiddleware, requireDevice } from "#server/http/device-access.server";
 import { buttonClasses } from "#app/components/ui/button";
 import { cx } from "#app/components/ui/cx";
 
@@ -16,8 +16,11 @@ export const DEVICE_SECTIONS = [
   ["settings", "Settings"],
 ] as const;
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireDevice(request, params);
+// The device in the URL at its current revision, resolved once per request for every route below.
+export const middleware: Route.MiddlewareFunction[] = [deviceMiddleware];
+
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireDevice(context);
   return {
     slug: access.organisation.slug,
     device: { id: access.device.id, name: access.device.name, siteName: access.device.site?.name ?? "", revision: access.revision.number },

@@ -13,8 +13,8 @@ import { EmptyState } from "#app/components/ui/empty-state";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.name ?? "Device"} · Sallyport` }];
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireDevice(request, params);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireDevice(context);
   // The engine lists the most severe first; dismissed ones move to their own section.
   const [list, unmatched] = await Promise.all([deviceFindings(access), unmatchedDismissals(access)]);
   const active = list.filter((finding) => !finding.dismissal);

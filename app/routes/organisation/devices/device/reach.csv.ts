@@ -2,14 +2,13 @@ import type { Route } from "./+types/reach.csv";
 import { answerReach, reachQueryOf } from "#server/analysis/reach.server";
 import { requireDevice } from "#server/http/device-access.server";
 import { downloadName, toCsv } from "#app/utils/analysis";
-import { compiledRevision } from "#server/analysis/compiled-revisions.server";
 
 const REACH_CSV_HEADER = ["interface", "to", "service", "outcome", "deciding_layer", "rule_id", "eligible_accounts", "detail"] as const;
 
 // The reach table as CSV, one row per interface × catalogue service, in engine order.
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireDevice(request, params);
-  const answer = answerReach(compiledRevision(access.revision.id, () => access.effective), reachQueryOf(new URL(request.url)));
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireDevice(context);
+  const answer = answerReach(access.analysis.compiled, reachQueryOf(new URL(request.url)));
   if (!answer.ok) {
     const message = Object.entries(answer.errors).map(([field, text]) => `${field}: ${text}`).join("\n");
     return new Response(`${message}\n`, { status: 400, headers: { "Content-Type": "text/plain; charset=utf-8" } });

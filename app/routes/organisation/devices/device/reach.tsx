@@ -10,7 +10,6 @@ import { EmptyState } from "#app/components/ui/empty-state";
 import { TextField } from "#app/components/ui/field";
 import { SortHeader, sortRows } from "#app/components/ui/sort-header";
 import { Table, Td } from "#app/components/ui/table";
-import { compiledRevision } from "#server/analysis/compiled-revisions.server";
 
 export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Reach${loaded?.query.from ? ` from ${loaded.query.from}` : ""} · ${loaded?.deviceName ?? "Device"} · Sallyport` }];
 
@@ -45,8 +44,8 @@ function sortKey(sort: Sort): (row: ReachRow) => string | number {
   }
 }
 
-export async function loader({ request, params }: Route.LoaderArgs) {
-  const access = await requireDevice(request, params);
+export async function loader({ request, params, context }: Route.LoaderArgs) {
+  const access = requireDevice(context);
   const url = new URL(request.url);
   const query = reachQueryOf(url);
   const sort: Sort = SORTS.find((candidate) => candidate === url.searchParams.get("sort")) ?? "interface";
@@ -55,7 +54,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const base = { deviceName: access.device.name, devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`, timezone: access.effective.device.timezone, query, sort, descending };
   // No source yet: just the form (asking is not an error).
   if (!url.searchParams.has("from") && !url.searchParams.has("at")) return { ...base, answer: null, errors: noErrors };
-  const answer = answerReach(compiledRevision(access.revision.id, () => access.effective), query);
+  const answer = answerReach(access.analysis.compiled, query);
   if (!answer.ok) return data({ ...base, answer: null, errors: answer.errors }, { status: 400 });
   return { ...base, answer: { ...answer, rows: sortRows([...answer.rows], sortKey(sort), descending) }, errors: noErrors };
 }

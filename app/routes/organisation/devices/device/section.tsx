@@ -7,10 +7,11 @@ import { actorOf } from "#server/http/actor.server";
 import { requireDevice, revisionNumberOf } from "#server/http/device-access.server";
 import { formValuesWithLists, planDeviceEdit } from "#server/http/device-forms.server";
 import { invalidForm, readForm, unknownIntent } from "#server/http/form.server";
-import { deleteDevice, DeviceNameTakenError, InvalidModelError, loadSharedLibrary, RevisionConflictError, saveEdit, WorkspaceNotFoundError } from "#server/services/devices.server";
+import { deleteDevice, loadSharedLibrary, saveEdit } from "#server/services/devices.server";
 import { listSites } from "#server/services/sites.server";
-import { EditError } from "#server/workspace/index";
-import { SectionEditor, type SectionEditorProps, type SectionName } from "#app/components/device/section-editor";
+import { SectionEditor, type SectionName } from "#app/components/device/section-editor";
+import { clientAddressOf } from "#server/http/request-context.server";
+import { refusedForm } from "#server/http/refusals.server";
 
 const SECTIONS = ["interfaces", "addresses", "services", "schedules", "rules", "accounts", "operator-networks", "settings"] as const;
 
@@ -22,9 +23,9 @@ function sectionOf(value: string | undefined): SectionName {
 
 export const meta: Route.MetaFunction = ({ params }) => [{ title: `${params.section} · Sallyport` }];
 
-export async function loader({ request, params }: Route.LoaderArgs) {
+export async function loader({ request, params, context }: Route.LoaderArgs) {
   const section = sectionOf(params.section);
-  const access = await requireDevice(request, params);
+  const access = requireDevice(context);
   const library = await loadSharedLibrary(access.organisation.id);
   const document = access.document;
   const serviceCatalogue = [...BUILTIN_SERVICES.map((service) => ({ name: service.name, kind: service.kind })), ...document.services.map((service) => ({ name: service.name, kind: service.kind }))];
@@ -49,14 +50,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 
 export async function action({ request, params, context }: Route.ActionArgs) {
   const section = sectionOf(params.section);
-  const access = await requireDevice(request, params, "engineer");
+  const access = requireDevice(context, "engineer");
   const values = formValuesWithLists(await readForm(request));
   if (section === "settings" && values.intent === "delete-device") {
     if (Number(values.baseRevision) !== access.revision.number) {
       return invalidForm({ form: `Not deleted: the device changed since you opened it (now revision r${access.revision.number}). Review it, then delete again.` }, values, 409);
     }
     if (values.confirmName !== access.device.name) return invalidForm({ confirmName: `Type the device name (${access.device.name}) to confirm.` }, values);
-    await deleteDevice(access.organisation.id, access.device.id, actorOf(access, context.clientAddress));
+    await deleteDevice(access.organisation.id, access.device.id, actorOf(access, clientAddressOf(context)));
     throw redirect(`/o/${access.organisation.slug}/devices`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: `Device ${access.device.name} and its revisions were deleted.` }) } });
   }
   const baseRevision = revisionNumberOf(values.baseRevision);
@@ -64,24 +65,15 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   if (!planned) return unknownIntent(values.intent);
   if (!planned.ok) return invalidForm(planned.errors, values);
   try {
-    const saved = await saveEdit(access.organisation.id, access.device.id, baseRevision, planned.plan.edit, actorOf(access, context.clientAddress), planned.plan.message, { siteId: planned.plan.siteId });
+    const saved = await saveEdit(access.organisation.id, access.device.id, baseRevision, planned.plan.edit, actorOf(access, clientAddressOf(context)), planned.plan.message, { siteId: planned.plan.siteId });
     const message = saved.changes.length === 0 && !planned.plan.siteId ? "Nothing changed; no new revision." : `${planned.plan.message}. Saved as revision r${saved.number}.`;
     throw redirect(`/o/${access.organisation.slug}/devices/${access.device.id}/model/${section}`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message }) } });
   } catch (error) {
-    if (error instanceof EditError) return invalidForm({ form: error.message, ...(error.field ? { [error.field]: error.message } : {}) }, values, error.status);
-    if (error instanceof InvalidModelError) {
-      return invalidForm({ form: `Not saved: the model would not be valid. ${error.issues.map((issue) => `${issue.path || "document"}: ${issue.message}`).join(" · ")}` }, values);
-    }
-    if (error instanceof RevisionConflictError) {
-      return data({ ok: false as const, errors: { form: error.message } as Record<string, string>, values, conflict: { currentNumber: error.currentNumber, changes: error.changes, message: error.message } }, { status: 409 });
-    }
-    if (error instanceof DeviceNameTakenError) return invalidForm({ name: error.message }, values, 409);
-    if (error instanceof WorkspaceNotFoundError) return invalidForm({ form: error.message }, values, 404);
-    throw error;
+    return refusedForm(error, values);
   }
 }
 
 export default function DeviceSection({ loaderData, actionData }: Route.ComponentProps) {
-  const conflict = actionData && "conflict" in actionData ? (actionData.conflict as SectionEditorProps["conflict"]) : undefined;
+  const conflict = actionData?.conflict ? { ...actionData.conflict, changes: [...actionData.conflict.changes], message: actionData.errors.form ?? "" } : undefined;
   return <SectionEditor {...loaderData} errors={actionData?.errors ?? {}} values={actionData?.values ?? {}} conflict={conflict} />;
 }

@@ -1,0 +1,164 @@
+// The one home for "this organisation's device, at this revision, typed, with its compiled
+// model" (docs/decisions/004). Every loader, action, service and resource route that needs a
+// device goes through a DeviceRevisions instance; nothing else queries device revisions.
+import { LRUCache } from "lru-cache";
+import { col, Op, type Transaction } from "sequelize";
+import { Device, DeviceRevision, Site } from "#models/index.ts";
+import type { CompiledModel, Finding } from "../engine/index.ts";
+import type { ModelDocument, SharedLibrary } from "../workspace/index.ts";
+import { RevisionAnalysis } from "./revision-analysis.ts";
+
+/** A revision's stored facts without its document (which the analysis holds, typed). */
+export type RevisionRecord = Pick<DeviceRevision, "id" | "number" | "message" | "authorEmail" | "createdAt" | "summary" | "sharedObjects">;
+
+/** A device of an organisation at one revision, with its site. */
+export type DeviceAtRevision = {
+  device: Device & { site: Site };
+  revision: RevisionRecord;
+  /** The device's own document, as stored (shared objects stay references). */
+  document: ModelDocument;
+  /** The shared objects the revision used, as they were when it was saved. */
+  shared: SharedLibrary;
+  /** The self-contained document the engine analyses and export writes. */
+  effective: ModelDocument;
+  analysis: RevisionAnalysis;
+};
+
+const RECORD_ATTRIBUTES = ["id", "number", "message", "authorEmail", "createdAt", "summary", "sharedObjects"] as const;
+
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+export type DeviceRevisionsOptions = {
+  /** Most revisions whose documents and compiled models are kept. */
+  maxRevisions: number;
+  /** Most model elements (rules, address entries, accounts…) kept across those revisions. */
+  maxElements: number;
+  /** Most revisions whose findings are kept (findings are small; the fleet page needs them all). */
+  maxFindings: number;
+};
+
+/** The bounds in production; docs/decisions/004 says why. */
+export const DEFAULT_BOUNDS: DeviceRevisionsOptions = { maxRevisions: 32, maxElements: 200_000, maxFindings: 4_000 };
+
+/** A rough measure of a compiled model's memory: what the compiler walks. */
+export function elementCount(document: ModelDocument): number {
+  const entries = document.addresses.reduce((total, object) => total + object.entries.length, 0);
+  return 1 + document.interfaces.length + document.inboundRules.length + document.accounts.length + entries + document.addressGroups.length + document.schedules.length;
+}
+
+export class DeviceRevisions {
+  // Owned here and nowhere else: the analyses (documents, compiled models) least recently used
+  // first out, bounded by count and by size; findings live longer in their own smaller cache.
+  readonly #analyses: LRUCache<string, RevisionAnalysis>;
+  readonly #findings: LRUCache<string, readonly Finding[]>;
+  // What a save compiled, until the revision is first read back: the document itself is taken
+  // from the database then, so a warm and a cold read give byte-identical documents.
+  readonly #compiledAtSave: LRUCache<string, CompiledModel>;
+
+  constructor(readonly bounds: DeviceRevisionsOptions = DEFAULT_BOUNDS) {
+    this.#analyses = new LRUCache({ max: bounds.maxRevisions, maxSize: bounds.maxElements, sizeCalculation: (analysis) => Math.min(bounds.maxElements, elementCount(analysis.effective)) });
+    this.#findings = new LRUCache({ max: bounds.maxFindings });
+    this.#compiledAtSave = new LRUCache({ max: Math.max(1, Math.floor(bounds.maxRevisions / 4)) });
+  }
+
+  /**
+   * The device of this organisation at its current revision (or the given one); null when the
+   * id is not a UUID, the device belongs elsewhere, or the revision does not exist. One query
+   * when the revision's analysis is cached, two otherwise.
+   */
+  async find(organisationId: string, deviceId: string, options: { revisionNumber?: number; transaction?: Transaction; lock?: boolean } = {}): Promise<DeviceAtRevision | null> {
+    if (!UUID.test(deviceId)) return null;
+    const { transaction, lock } = options;
+    if (lock && transaction) {
+      // Lock the device row on its own first: a joined FOR UPDATE that waits for another save
+      // re-checks the join against the new current revision number and would find nothing.
+      const locked = await Device.findOne({ where: { id: deviceId, organisationId }, attributes: ["id"], transaction, lock: transaction.LOCK.UPDATE });
+      if (!locked) return null;
+    }
+    const device = await Device.findOne({
+      where: { id: deviceId, organisationId },
+      include: [
+        { model: Site, as: "site", required: true },
+        {
+          model: DeviceRevision,
+          as: "revisions",
+          required: true,
+          attributes: [...RECORD_ATTRIBUTES],
+          where: { number: options.revisionNumber ?? { [Op.eq]: col("Device.current_revision_number") } },
+        },
+      ],
+      transaction,
+    });
+    const record = device?.revisions?.[0];
+    if (!device?.site || !record) return null;
+    const [analysis] = await this.#analysesOf([record], transaction);
+    return atRevision(device as Device & { site: Site }, record, analysis);
+  }
+
+  /** Every device of the organisation at its current revision, by name. Two queries at most. */
+  async current(organisationId: string): Promise<DeviceAtRevision[]> {
+    const devices = await Device.findAll({
+      where: { organisationId },
+      include: [
+        { model: Site, as: "site", required: true },
+        { model: DeviceRevision, as: "revisions", required: true, attributes: [...RECORD_ATTRIBUTES], where: { number: { [Op.eq]: col("Device.current_revision_number") } } },
+      ],
+      order: [["name", "ASC"]],
+    });
+    const withRecords = devices.flatMap((device) => (device.site && device.revisions?.[0] ? [{ device: device as Device & { site: Site }, record: device.revisions[0] }] : []));
+    const analyses = await this.#analysesOf(withRecords.map(({ record }) => record));
+    return withRecords.map(({ device, record }, index) => atRevision(device, record, analyses[index]));
+  }
+
+  /** The numbered list of a device's revisions, newest first, without documents. */
+  async history(deviceId: string): Promise<RevisionRecord[]> {
+    return DeviceRevision.findAll({ where: { deviceId }, order: [["number", "DESC"]], attributes: [...RECORD_ATTRIBUTES] });
+  }
+
+  /** The findings of a revision, kept longer than its compiled model. */
+  findingsOf(device: DeviceAtRevision): readonly Finding[] {
+    const known = this.#findings.get(device.revision.id);
+    if (known) return known;
+    const computed = device.analysis.findings;
+    this.#findings.set(device.revision.id, computed);
+    return computed;
+  }
+
+  /** The compiled model of a revision (built once, then shared by every page and API). */
+  compiledOf(device: DeviceAtRevision): CompiledModel {
+    return device.analysis.compiled;
+  }
+
+  /** Seeds the caches with what a save has just computed, so the next page needs no compiling. */
+  remember(revisionId: string, analysis: RevisionAnalysis): void {
+    this.#compiledAtSave.set(revisionId, analysis.compiled);
+    this.#findings.set(revisionId, analysis.findings);
+  }
+
+  /** Cached analyses, for tests and the contributor guide's numbers. */
+  get cachedRevisions(): number {
+    return this.#analyses.size;
+  }
+
+  async #analysesOf(records: readonly RevisionRecord[], transaction?: Transaction): Promise<RevisionAnalysis[]> {
+    const missing = records.filter((record) => !this.#analyses.has(record.id)).map((record) => record.id);
+    if (missing.length > 0) {
+      const rows = await DeviceRevision.findAll({ where: { id: missing }, attributes: ["id", "document", "sharedObjects"], transaction });
+      for (const row of rows) {
+        const known = { findings: this.#findings.get(row.id), compiled: this.#compiledAtSave.get(row.id) };
+        this.#compiledAtSave.delete(row.id);
+        this.#analyses.set(row.id, new RevisionAnalysis(row.document, row.sharedObjects, known));
+      }
+    }
+    return records.map((record) => {
+      const analysis = this.#analyses.get(record.id);
+      // Only a revision deleted between the two queries (its device deleted) can be missing.
+      if (!analysis) throw new Error(`revision ${record.id} disappeared while it was being read`);
+      return analysis;
+    });
+  }
+}
+
+function atRevision(device: Device & { site: Site }, record: RevisionRecord, analysis: RevisionAnalysis): DeviceAtRevision {
+  return { device, revision: record, document: analysis.document, shared: analysis.shared, effective: analysis.effective, analysis };
+}

@@ -1,0 +1,37 @@
+// The one place where an expected failure becomes a response (docs/decisions/006). Actions
+// wrap their service calls and hand whatever was thrown to `refusedForm` (pages) or
+// `refusedJson` (API routes); anything that is not a Refusal is re-thrown as the bug it is.
+import { data } from "react-router";
+import { ProbeError } from "../engine/index.ts";
+import { Refusal } from "../errors.ts";
+import { formFailure, type FieldErrors } from "./form.server.ts";
+
+/** The thrown value as a Refusal; the engine's probe input errors count as 400s. Re-throws anything else. */
+export function refusalOf(error: unknown): Refusal {
+  if (error instanceof Refusal) return error;
+  if (error instanceof ProbeError) return new Refusal(error.message, 400);
+  throw error;
+}
+
+/**
+ * The response for a refused form submission: the message at the top of the form and beside its
+ * field when it has one (a form without that field still shows it), the typed values kept.
+ */
+export function refusedForm(error: unknown, values: Record<string, string>) {
+  const refusal = refusalOf(error);
+  const errors: FieldErrors = { form: refusal.message };
+  if (refusal.field) errors[refusal.field] = refusal.message;
+  return data(formFailure(errors, values, { issues: refusal.issues, conflict: refusal.conflict ?? null }), { status: refusal.status, headers: refusal.headers });
+}
+
+/** The same, for an action that answers in its own shape. */
+export function refusedWith<Body>(error: unknown, bodyOf: (refusal: Refusal) => Body) {
+  const refusal = refusalOf(error);
+  return data(bodyOf(refusal), { status: refusal.status, headers: refusal.headers });
+}
+
+/** The response for a refused API request: `{"error": message}` with the refusal's status. */
+export function refusedJson(error: unknown): Response {
+  const refusal = refusalOf(error);
+  return Response.json({ error: refusal.message, ...(refusal.issues.length ? { issues: refusal.issues } : {}) }, { status: refusal.status, headers: refusal.headers });
+}
