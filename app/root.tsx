@@ -3,14 +3,15 @@ import type { Route } from "./+types/root";
 import "./app.css";
 import { signedInMiddleware, signedInOf } from "#server/auth/guard.server";
 import { readFlash } from "#server/auth/flash.server";
+import { serverTimingMiddleware } from "#server/http/server-timing.server";
 import { readTheme } from "#server/http/theme.server";
 import { isOutboxEnabled } from "#server/config.server";
 import { Toast } from "./components/ui/toast";
 import { useNonce } from "./utils/nonce";
 import { BrandMark } from "./components/brand";
 
-// Who is asking, resolved once per request for every route below.
-export const middleware: Route.MiddlewareFunction[] = [signedInMiddleware];
+// Query accounting around everything, then who is asking, resolved once per request for every route below.
+export const middleware: Route.MiddlewareFunction[] = [serverTimingMiddleware, signedInMiddleware];
 
 export const links: Route.LinksFunction = () => [{ rel: "icon", href: "/favicon.svg", type: "image/svg+xml" }];
 

@@ -20,6 +20,8 @@ const EnvironmentSchema = z.object({
   /** Set by `npm start`/`npm test` when the local fake SMTP server catches all mail. */
   SALLYPORT_FAKE_SMTP: z.enum(["0", "1"]).default("0"),
   MAIL_OUTBOX_DIR: z.string().optional(),
+  /** "1" adds a Server-Timing header with each response's database query count and time. */
+  SERVER_TIMING: z.enum(["0", "1"]).default("0"),
 });
 
 export type Environment = z.infer<typeof EnvironmentSchema>;
@@ -55,4 +57,8 @@ export function isCookieSecure(): boolean {
 /** Comma-separated so secrets can be rotated: the first signs, all verify. */
 export function getCookieSecrets(): string[] {
   return getEnvironment().SESSION_SECRET.split(",").map((secret) => secret.trim()).filter(Boolean);
+}
+
+export function isServerTimingEnabled(): boolean {
+  return getEnvironment().SERVER_TIMING === "1";
 }

@@ -1,6 +1,7 @@
 import { Sequelize } from "sequelize";
 import { initModels } from "#models/index.ts";
 import { getEnvironment } from "../config.server.ts";
+import { recordQuery } from "./query-log.server.ts";
 
 let sequelize: Sequelize | undefined;
 
@@ -18,7 +19,9 @@ export function getDatabase(): Sequelize {
 export function createDatabase(url: string): Sequelize {
   const instance = new Sequelize(url, {
     dialect: "postgres",
-    logging: false,
+    // Counted per request (Server-Timing, query budgets), never printed.
+    logging: (sql: string, milliseconds?: number) => recordQuery(sql, milliseconds),
+    benchmark: true,
     pool: { max: 10, min: 0, idle: 10_000 },
   });
   initModels(instance);

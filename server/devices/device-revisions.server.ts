@@ -95,8 +95,8 @@ export class DeviceRevisions {
     return atRevision(device as Device & { site: Site }, record, analysis);
   }
 
-  /** Every device of the organisation at its current revision, by name. Two queries at most. */
-  async current(organisationId: string): Promise<DeviceAtRevision[]> {
+  /** Every device of the organisation with its current revision's record (no document), by name. One query. */
+  async currentRecords(organisationId: string): Promise<Array<{ device: Device & { site: Site }; revision: RevisionRecord }>> {
     const devices = await Device.findAll({
       where: { organisationId },
       include: [
@@ -105,7 +105,12 @@ export class DeviceRevisions {
       ],
       order: [["name", "ASC"]],
     });
-    const withRecords = devices.flatMap((device) => (device.site && device.revisions?.[0] ? [{ device: device as Device & { site: Site }, record: device.revisions[0] }] : []));
+    return devices.flatMap((device) => (device.site && device.revisions?.[0] ? [{ device: device as Device & { site: Site }, revision: device.revisions[0] }] : []));
+  }
+
+  /** Every device of the organisation at its current revision, by name. Two queries at most. */
+  async current(organisationId: string): Promise<DeviceAtRevision[]> {
+    const withRecords = (await this.currentRecords(organisationId)).map(({ device, revision }) => ({ device, record: revision }));
     const analyses = await this.#analysesOf(withRecords.map(({ record }) => record));
     return withRecords.map(({ device, record }, index) => atRevision(device, record, analyses[index]));
   }

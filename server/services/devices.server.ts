@@ -47,7 +47,7 @@ export async function loadSharedLibrary(organisationId: string): Promise<SharedL
 }
 
 export async function listDevices(organisationId: string): Promise<DeviceRow[]> {
-  const devices = await deviceRevisions.current(organisationId);
+  const devices = await deviceRevisions.currentRecords(organisationId);
   return devices.map(({ device, revision }) => ({
     id: device.id,
     name: device.name,

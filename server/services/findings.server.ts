@@ -66,33 +66,32 @@ async function standingDismissals(where: { organisationId: string } | { deviceId
   return byDevice;
 }
 
-/** The findings of the device's revision in hand (normally the current one), with dismissal state. */
-export async function deviceFindings(found: DeviceAtRevision): Promise<FindingView[]> {
-  const dismissals = (await standingDismissals({ deviceId: found.device.id })).get(found.device.id);
-  return deviceRevisions.findingsOf(found).map((finding) => viewOf(finding, dismissals?.get(findingKey(finding))));
-}
-
 export type UnmatchedDismissal = { key: string; code: string; title: string; reason: string; by: string; at: string; revisionNumber: number };
 
 /**
- * Standing dismissals of the device that no finding of this revision matches (a later change
- * fixed it, or changed its elements). They would apply again if the same finding came back, so
- * the overview lists them where they can be withdrawn.
+ * The findings of the device's revision in hand (normally the current one) with their dismissal
+ * state, and the standing dismissals that no finding of this revision matches (a later change
+ * fixed it, or changed its elements): they would apply again if the same finding came back, so
+ * the overview lists them where they can be withdrawn. One query.
  */
-export async function unmatchedDismissals(found: DeviceAtRevision): Promise<UnmatchedDismissal[]> {
-  const current = new Set(deviceRevisions.findingsOf(found).map((finding) => findingKey(finding)));
+export async function deviceFindings(found: DeviceAtRevision): Promise<{ findings: FindingView[]; unmatched: UnmatchedDismissal[] }> {
   const standing = (await standingDismissals({ deviceId: found.device.id })).get(found.device.id) ?? new Map<string, FindingDismissal>();
-  return [...standing.values()]
-    .filter((dismissal) => !current.has(dismissal.findingKey))
-    .map((dismissal) => ({
-      key: dismissal.findingKey,
-      code: dismissal.code,
-      title: dismissal.title,
-      reason: dismissal.reason,
-      by: dismissal.dismissedByEmail,
-      at: dismissal.dismissedAt.toISOString(),
-      revisionNumber: dismissal.revisionNumber,
-    }));
+  const list = deviceRevisions.findingsOf(found);
+  const current = new Set(list.map((finding) => findingKey(finding)));
+  return {
+    findings: list.map((finding) => viewOf(finding, standing.get(findingKey(finding)))),
+    unmatched: [...standing.values()]
+      .filter((dismissal) => !current.has(dismissal.findingKey))
+      .map((dismissal) => ({
+        key: dismissal.findingKey,
+        code: dismissal.code,
+        title: dismissal.title,
+        reason: dismissal.reason,
+        by: dismissal.dismissedByEmail,
+        at: dismissal.dismissedAt.toISOString(),
+        revisionNumber: dismissal.revisionNumber,
+      })),
+  };
 }
 
 /** Every device's current-revision findings in one organisation, dismissed ones included (marked). */

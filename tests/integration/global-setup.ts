@@ -37,6 +37,8 @@ export default async function setup(project: TestProject) {
       SMTP_PORT: String(smtp.port),
       SALLYPORT_FAKE_SMTP: "1",
       MAIL_OUTBOX_DIR: outboxDir,
+      // Each response reports its query count; tests/integration/query-budget.test.ts reads it.
+      SERVER_TIMING: "1",
     },
     stdio: ["ignore", "inherit", "inherit"],
   });

@@ -2,7 +2,7 @@ import { Form } from "react-router";
 import type { Route } from "./+types/overview";
 import { hasAtLeastRole } from "#server/auth/roles";
 import { requireDevice } from "#server/http/device-access.server";
-import { deviceFindings, unmatchedDismissals } from "#server/services/findings.server";
+import { deviceFindings } from "#server/services/findings.server";
 import { ActiveFindingCard, DismissedFindingCard } from "#app/components/findings/finding-card";
 import { countBySeverity } from "#app/utils/finding-keys";
 import { isOutcome, OutcomeChip } from "#app/components/outcome";
@@ -16,7 +16,7 @@ export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.name ??
 export async function loader({ request, params, context }: Route.LoaderArgs) {
   const access = requireDevice(context);
   // The engine lists the most severe first; dismissed ones move to their own section.
-  const [list, unmatched] = await Promise.all([deviceFindings(access), unmatchedDismissals(access)]);
+  const { findings: list, unmatched } = await deviceFindings(access);
   const active = list.filter((finding) => !finding.dismissal);
   return {
     name: access.device.name,

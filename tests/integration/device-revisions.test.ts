@@ -1,0 +1,110 @@
+import { randomUUID } from "node:crypto";
+import { afterAll, beforeAll, describe, expect, test } from "vitest";
+import { Organisation, Site } from "#models/index";
+import { getDatabase } from "#server/db/database.server";
+import { withQueryTally } from "#server/db/query-log.server";
+import { DeviceRevisions, deviceRevisions, elementCount } from "#server/devices/index";
+import { trace } from "#server/engine/index";
+import { createDevice, saveEdit } from "#server/services/devices.server";
+import type { AuditActor } from "#server/services/audit.server";
+
+// The device-revision repository against the real test database: one home for "this
+// organisation's device at this revision", with caches it owns and bounds it keeps.
+
+const sequelize = getDatabase();
+afterAll(() => sequelize.close());
+
+const actor: AuditActor = { userId: null, email: "repository-test@test.example", clientAddress: "192.0.2.10" };
+let organisationId = "";
+let otherOrganisationId = "";
+const deviceIds: string[] = [];
+
+/** An invented device with a documentation-range (RFC 5737) outside address. */
+function documentNamed(name: string, outside = "203.0.113.9/24") {
+  return {
+    schemaVersion: 1,
+    device: { name },
+    interfaces: [{ name: "outside", role: "outside", addresses: [outside], listeners: ["https", "ssh"] }],
+    inboundRules: [{ id: "r1", interface: "any", sources: ["any"], destinations: ["any"], services: ["ssh"], action: "deny" }],
+    accounts: [{ name: "harbour-ops", secondFactor: "totp" }],
+  };
+}
+
+beforeAll(async () => {
+  const suffix = randomUUID().slice(0, 8);
+  const organisation = await Organisation.create({ slug: `repository-${suffix}`, name: "Repository test" });
+  const other = await Organisation.create({ slug: `repository-other-${suffix}`, name: "Repository test (other)" });
+  organisationId = organisation.id;
+  otherOrganisationId = other.id;
+  const site = await Site.create({ organisationId, name: "Pier office", customer: "", location: "" });
+  for (const name of ["pier-a", "pier-b", "pier-c"]) deviceIds.push((await createDevice(organisationId, site.id, documentNamed(name), actor, "created")).id);
+});
+
+describe("The device-revision repository", () => {
+  test("A device is found only in its own organisation, only by a UUID, and only at a revision it has", async () => {
+    const repository = new DeviceRevisions();
+    expect((await repository.find(organisationId, deviceIds[0]))?.device.name).toBe("pier-a");
+    expect(await repository.find(otherOrganisationId, deviceIds[0])).toBeNull();
+    expect(await repository.find(organisationId, "not-a-uuid")).toBeNull();
+    expect(await repository.find(organisationId, deviceIds[0], { revisionNumber: 2 })).toBeNull();
+  });
+
+  test("A warm read is one query, a cold one two, and both give the same typed document", async () => {
+    const repository = new DeviceRevisions();
+    const cold = await withQueryTally(() => repository.find(organisationId, deviceIds[1]));
+    const warm = await withQueryTally(() => repository.find(organisationId, deviceIds[1]));
+    expect(cold.tally.count).toBe(2);
+    expect(warm.tally.count).toBe(1);
+    expect(warm.result?.document).toEqual(cold.result?.document);
+    expect(warm.result?.document.interfaces[0].addresses).toEqual(["203.0.113.9/24"]);
+    // The same analysis object, so the compiled model is built once and shared.
+    expect(warm.result?.analysis).toBe(cold.result?.analysis);
+  });
+
+  test("The cache keeps at most its bound of revisions and evicts the least recently used", async () => {
+    const repository = new DeviceRevisions({ maxRevisions: 2, maxElements: 10_000, maxFindings: 10 });
+    for (const id of deviceIds) await repository.find(organisationId, id);
+    expect(repository.cachedRevisions).toBe(2);
+    // pier-a was used least recently and went first: reading it again costs the document query.
+    const again = await withQueryTally(() => repository.find(organisationId, deviceIds[0]));
+    expect(again.tally.count).toBe(2);
+    const recent = await withQueryTally(() => repository.find(organisationId, deviceIds[2]));
+    expect(recent.tally.count).toBe(1);
+  });
+
+  test("The cache is bounded by model size too: one huge revision cannot crowd out memory", async () => {
+    const size = elementCount((await new DeviceRevisions().find(organisationId, deviceIds[0]))!.effective);
+    // Room for two of these small devices by size, though ten by count.
+    const repository = new DeviceRevisions({ maxRevisions: 10, maxElements: 2 * size + 1, maxFindings: 10 });
+    for (const id of deviceIds) await repository.find(organisationId, id);
+    expect(repository.cachedRevisions).toBe(2);
+  });
+
+  test("Saving a revision seeds the shared repository: the next read needs no compiling and traces the new model", async () => {
+    const saved = await saveEdit(
+      organisationId,
+      deviceIds[2],
+      1,
+      (document) => ({ ...document, interfaces: document.interfaces.map((entry) => ({ ...entry, addresses: ["198.51.100.9/24"] })) }),
+      actor,
+      "moved the outside address",
+    );
+    expect(saved.number).toBe(2);
+    const found = await deviceRevisions.find(organisationId, deviceIds[2]);
+    expect(found?.revision.number).toBe(2);
+    expect(found?.analysis.isCompiled).toBe(true);
+    // RFC 5737: 198.51.100.0/24 is TEST-NET-2; the probe arrives (layer 1) and is refused by r1's deny (layer 2).
+    const result = trace(found!.analysis.compiled, { from: "192.0.2.50", interface: "outside", service: "ssh", to: "198.51.100.9" });
+    expect(result.outcome).toBe("silent");
+    expect(result.ruleId).toBe("r1");
+  });
+
+  test("Every current revision of an organisation comes in at most two queries, whatever the number of devices", async () => {
+    const repository = new DeviceRevisions();
+    const cold = await withQueryTally(() => repository.current(organisationId));
+    expect(cold.result.map((entry) => entry.device.name)).toEqual(["pier-a", "pier-b", "pier-c"]);
+    expect(cold.tally.count).toBe(2);
+    const warm = await withQueryTally(() => repository.current(organisationId));
+    expect(warm.tally.count).toBe(1);
+  });
+});
