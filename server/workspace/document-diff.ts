@@ -25,9 +25,13 @@ function show(value: unknown): string {
   return JSON.stringify(value);
 }
 
-function fieldChanges(before: Record<string, unknown>, after: Record<string, unknown>, skip: string[] = []): string[] {
-  const keys = [...new Set([...Object.keys(before), ...Object.keys(after)])].filter((key) => !skip.includes(key));
-  return keys.filter((key) => JSON.stringify(before[key]) !== JSON.stringify(after[key])).map((key) => `${key}: ${show(before[key])} → ${show(after[key])}`);
+function fieldChanges(before: object, after: object, skip: string[] = []): string[] {
+  const beforeFields = new Map<string, unknown>(Object.entries(before));
+  const afterFields = new Map<string, unknown>(Object.entries(after));
+  const keys = [...new Set([...beforeFields.keys(), ...afterFields.keys()])].filter((key) => !skip.includes(key));
+  return keys
+    .filter((key) => JSON.stringify(beforeFields.get(key)) !== JSON.stringify(afterFields.get(key)))
+    .map((key) => `${key}: ${show(beforeFields.get(key))} → ${show(afterFields.get(key))}`);
 }
 
 /**
@@ -63,8 +67,8 @@ export function diffDocuments(before: ModelDocument, after: ModelDocument): Docu
   if (settings.length) changes.push({ section: "Settings", change: "changed", element: "device", details: settings });
 
   for (const [key, section] of SECTIONS) {
-    const beforeItems = new Map((before[key] as Array<{ name: string }>).map((item) => [item.name, item as unknown as Record<string, unknown>]));
-    const afterItems = new Map((after[key] as Array<{ name: string }>).map((item) => [item.name, item as unknown as Record<string, unknown>]));
+    const beforeItems = new Map((before[key] as Array<{ name: string }>).map((item) => [item.name, item]));
+    const afterItems = new Map((after[key] as Array<{ name: string }>).map((item) => [item.name, item]));
     for (const [name, item] of afterItems) {
       const old = beforeItems.get(name);
       if (!old) changes.push({ section, change: "added", element: name, details: fieldChanges({}, item, ["name"]).map((line) => line.replace(/^(\w+): .* → /, "$1: ")) });
@@ -87,7 +91,7 @@ export function diffDocuments(before: ModelDocument, after: ModelDocument): Docu
       changes.push({ section: "Inbound rules", change: "added", element: id, details: [`at position ${index + 1}`, `${rule.action} ${show(rule.sources)} → ${show(rule.destinations)} on ${rule.interface}, services ${show(rule.services)}`] });
       continue;
     }
-    const details = fieldChanges(old.rule as unknown as Record<string, unknown>, rule as unknown as Record<string, unknown>);
+    const details = fieldChanges(old.rule, rule);
     if (details.length) changes.push({ section: "Inbound rules", change: "changed", element: id, details });
     if (moved.has(id)) {
       changes.push({ section: "Inbound rules", change: "moved", element: id, details: [`position ${old.index + 1} → ${index + 1}`] });

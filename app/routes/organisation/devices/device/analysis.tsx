@@ -3,7 +3,8 @@ import { useEffect, useRef, useState } from "react";
 import { Form, useFetcher } from "react-router";
 import type { Route } from "./+types/analysis";
 import { probeInputOf, probeQueryOf, ProbeQuerySchema } from "#server/analysis/probe";
-import { BUILTIN_SERVICES, ProbeError, trace, type TraceResult } from "#server/engine/index";
+import { BUILTIN_SERVICES, trace, type TraceResult } from "#server/engine/index";
+import { refusalOf } from "#server/http/refusals.server";
 import { requireDevice } from "#server/http/device-access.server";
 import { LayerCanvas, type CanvasModel } from "#app/components/analysis/layer-canvas";
 import { useTraceStore, type ProbeFields } from "#app/components/analysis/trace-store";
@@ -28,8 +29,7 @@ export async function loader({ request, params, context }: Route.LoaderArgs) {
       try {
         initial = { trace: trace(access.analysis.compiled, probeInputOf(parsed.data)), error: null };
       } catch (error) {
-        if (!(error instanceof ProbeError)) throw error;
-        initial = { trace: null, error: error.message };
+        initial = { trace: null, error: refusalOf(error).message };
       }
     }
   }
