@@ -9,5 +9,6 @@ export type SallyportLoadContext = {
 };
 
 declare module "react-router" {
+  // eslint-disable-next-line @typescript-eslint/no-empty-object-type -- declaration merging: an empty interface is how react-router's AppLoadContext takes our fields
   interface AppLoadContext extends SallyportLoadContext {}
 }
