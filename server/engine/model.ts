@@ -156,7 +156,7 @@ export function formatPath(path: readonly PropertyKey[]): string {
 
 /** Literal login-source text is told apart from a name by its shape. */
 export function looksLikeAddressEntry(text: string): boolean {
-  return /^[0-9A-Fa-f:.\/\- ]+$/.test(text) && /[.:]/.test(text);
+  return /^[0-9A-Fa-f:./\- ]+$/.test(text) && /[.:]/.test(text);
 }
 
 /** Validates a document: shape with zod, then references, name spaces, cycles and addresses. */

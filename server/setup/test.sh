@@ -21,6 +21,7 @@ run_suite() {
 }
 
 run_suite "Typecheck" npm run --silent typecheck
+run_suite "Lint (ESLint)" npm run --silent lint
 run_suite "Unit tests (Vitest)" npx vitest run --project unit
 build_app
 export NODE_ENV=production

@@ -1,7 +1,7 @@
 import { closestCenter, DndContext, KeyboardSensor, PointerSensor, useSensor, useSensors, type DragEndEvent } from "@dnd-kit/core";
 import { SortableContext, sortableKeyboardCoordinates, useSortable, verticalListSortingStrategy } from "@dnd-kit/sortable";
 import { CSS } from "@dnd-kit/utilities";
-import { useEffect, useState } from "react";
+import { useState } from "react";
 import { Link, useSubmit } from "react-router";
 import type { ModelDocument } from "#server/workspace/document";
 import { Badge } from "../ui/card";
@@ -14,13 +14,13 @@ import type { SectionEditorProps } from "./section-editor";
 type Rule = ModelDocument["inboundRules"][number];
 
 function RuleRow({ rule, position, count, props }: { rule: Rule; position: number; count: number; props: SectionEditorProps }) {
-  const sortable = useSortable({ id: rule.id, disabled: !props.canEdit });
-  const style = { transform: CSS.Transform.toString(sortable.transform), transition: sortable.transition };
+  const { setNodeRef, transform, transition, isDragging, attributes, listeners } = useSortable({ id: rule.id, disabled: !props.canEdit });
+  const style = { transform: CSS.Transform.toString(transform), transition };
   return (
     <li
-      ref={sortable.setNodeRef}
+      ref={setNodeRef}
       style={style}
-      className={cx("grid grid-cols-[2.5rem_1fr] items-start gap-x-3 gap-y-2 border-b border-line bg-surface px-3 py-3 last:border-b-0", sortable.isDragging && "relative z-10 shadow-overlay", !rule.enabled && "bg-surface-sunken")}
+      className={cx("grid grid-cols-[2.5rem_1fr] items-start gap-x-3 gap-y-2 border-b border-line bg-surface px-3 py-3 last:border-b-0", isDragging && "relative z-10 shadow-overlay", !rule.enabled && "bg-surface-sunken")}
       aria-label={`Rule ${rule.id} at position ${position}`}
     >
       <div className="flex flex-col items-center gap-1">
@@ -30,8 +30,8 @@ function RuleRow({ rule, position, count, props }: { rule: Rule; position: numbe
             type="button"
             className="cursor-grab rounded px-1 text-ink-faint hover:text-ink active:cursor-grabbing"
             aria-label={`Drag to reorder rule ${rule.id}; with the keyboard press space, arrows, then space`}
-            {...sortable.attributes}
-            {...sortable.listeners}
+            {...attributes}
+            {...listeners}
           >
             ⠿
           </button>
@@ -70,7 +70,13 @@ function RuleRow({ rule, position, count, props }: { rule: Rule; position: numbe
 export function RulesSection(props: SectionEditorProps) {
   const rules = props.document.inboundRules;
   const [order, setOrder] = useState(rules.map((rule) => rule.id));
-  useEffect(() => setOrder(rules.map((rule) => rule.id)), [rules]);
+  // New rules from the loader replace the optimistic order during render, not in an effect
+  // (react.dev "You Might Not Need an Effect": adjusting state when a prop changes).
+  const [orderOf, setOrderOf] = useState(rules);
+  if (orderOf !== rules) {
+    setOrderOf(rules);
+    setOrder(rules.map((rule) => rule.id));
+  }
   const submit = useSubmit();
   const sensors = useSensors(useSensor(PointerSensor, { activationConstraint: { distance: 4 } }), useSensor(KeyboardSensor, { coordinateGetter: sortableKeyboardCoordinates }));
   const byId = new Map(rules.map((rule) => [rule.id, rule]));

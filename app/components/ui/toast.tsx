@@ -12,8 +12,14 @@ const tones = {
 /** Shows the one-time message of the last action; stays until dismissed or 6 seconds pass. */
 export function Toast({ toast }: { toast: ToastMessage | null }) {
   const [visible, setVisible] = useState<ToastMessage | null>(toast);
-  useEffect(() => {
+  // A new message shows during render, not in an effect (react.dev "You Might Not Need an
+  // Effect": adjusting state when a prop changes); the effect only runs the timer.
+  const [shownFor, setShownFor] = useState(toast);
+  if (shownFor !== toast) {
+    setShownFor(toast);
     setVisible(toast);
+  }
+  useEffect(() => {
     if (!toast) return;
     const timer = setTimeout(() => setVisible(null), 6000);
     return () => clearTimeout(timer);

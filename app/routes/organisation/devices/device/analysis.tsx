@@ -77,6 +77,8 @@ export default function Analysis({ loaderData }: Route.ComponentProps) {
   const fallback = { interface: canvas.interfaces.find((entry) => entry.role === "outside")?.name ?? canvas.interfaces[0]?.name ?? "", service: "https" };
   const { probe, trace: result, error, step, setProbe, showResult, setStep, reset } = useTraceStore();
   const fetcher = useFetcher<TraceResult | { error: string }>();
+  // `fetcher` is a new object on every render; its `load` is stable, so the debounce effect can depend on it.
+  const loadTrace = fetcher.load;
   const [mounted, setMounted] = useState(false);
   const lastQuery = useRef<string | null>(null);
 
@@ -86,8 +88,9 @@ export default function Analysis({ loaderData }: Route.ComponentProps) {
     const fields = fieldsFrom(loaderData.query, fallback);
     reset(fields, loaderData.initial.trace, loaderData.initial.error);
     lastQuery.current = queryOf(fields);
+    // eslint-disable-next-line react-hooks/set-state-in-effect -- the first client render must match the server's HTML; only after it does the page switch to the store
     setMounted(true);
-    // eslint-disable-next-line react-hooks/exhaustive-deps
+    // eslint-disable-next-line react-hooks/exhaustive-deps -- seed once per device: the loader's query and the fallback are new on every revalidation and must not overwrite what the user is typing
   }, [devicePath]);
 
   useEffect(() => {
@@ -96,19 +99,17 @@ export default function Analysis({ loaderData }: Route.ComponentProps) {
     if (query === lastQuery.current || !probe.from.trim()) return;
     const timer = setTimeout(() => {
       lastQuery.current = query;
-      fetcher.load(`${devicePath}/api/trace?${query}`);
+      loadTrace(`${devicePath}/api/trace?${query}`);
       window.history.replaceState(window.history.state, "", `${window.location.pathname}?${query}`);
     }, 250);
     return () => clearTimeout(timer);
-    // eslint-disable-next-line react-hooks/exhaustive-deps
-  }, [probe, mounted]);
+  }, [probe, mounted, devicePath, loadTrace]);
 
   useEffect(() => {
     if (!fetcher.data) return;
     if ("error" in fetcher.data) showResult(null, fetcher.data.error);
     else showResult(fetcher.data, null);
-    // eslint-disable-next-line react-hooks/exhaustive-deps
-  }, [fetcher.data]);
+  }, [fetcher.data, showResult]);
 
   const shown = mounted ? { probe, trace: result, error, step } : { probe: fieldsFrom(loaderData.query, fallback), trace: loaderData.initial.trace, error: loaderData.initial.error, step: loaderData.initial.trace?.layers.length ?? 0 };
   const total = shown.trace?.layers.length ?? 0;
