@@ -17,7 +17,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Invitation · Sallyport
 
 const CLOSED = "This invitation has expired, was revoked, or was used already. Ask the person who invited you for a new one.";
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ params, context }: Route.LoaderArgs) {
   const open = await findOpenInvitation(params.token);
   if (!open) throw data({ message: CLOSED }, { status: 404 });
   const signedIn = signedInOf(context);

@@ -13,7 +13,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Choose a new password Â
 
 const EXPIRED = "This reset link has expired or was used already. Ask for a new one.";
 
-export async function loader({ params, context }: Route.LoaderArgs) {
+export async function loader({ params }: Route.LoaderArgs) {
   const user = await findUserForResetToken(params.token);
   if (!user) throw data({ message: EXPIRED }, { status: 404 });
   return { email: user.email };

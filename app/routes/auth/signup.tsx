@@ -13,7 +13,7 @@ import { refusedForm } from "#server/http/refusals.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Create an organisation · Sallyport" }];
 
-export async function loader({ request, context }: Route.LoaderArgs) {
+export async function loader({ context }: Route.LoaderArgs) {
   if (signedInOf(context)) throw redirect("/");
   return null;
 }

@@ -15,7 +15,7 @@ import { SiteFilter } from "#app/components/ui/site-filter";
 
 export const meta: Route.MetaFunction = () => [{ title: "Findings · Sallyport" }];
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireRole(context);
   const query = parseFindingsQuery(new URL(request.url).searchParams);
   // Computed from each device's current revision on every visit (memoised per immutable

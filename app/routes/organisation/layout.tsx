@@ -8,7 +8,7 @@ import type { loader as rootLoader } from "#app/root";
 // The member and their role in this organisation, resolved once per request for every route below.
 export const middleware: Route.MiddlewareFunction[] = [organisationMiddleware];
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ context }: Route.LoaderArgs) {
   const access = requireRole(context);
   return {
     organisation: { slug: access.organisation.slug, name: access.organisation.name, role: access.role },

@@ -21,7 +21,7 @@ import { refusedForm } from "#server/http/refusals.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sites · Sallyport" }];
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireRole(context);
   const url = new URL(request.url);
   const query = (url.searchParams.get("q") ?? "").trim().toLowerCase().slice(0, 100);
@@ -32,7 +32,7 @@ export async function loader({ request, params, context }: Route.LoaderArgs) {
   return { sites: sortRows(sites, key, descending), sort, descending, canEdit: hasAtLeastRole(access.role, "engineer") };
 }
 
-export async function action({ request, params, context }: Route.ActionArgs) {
+export async function action({ request, context }: Route.ActionArgs) {
   const access = requireRole(context, "engineer");
   const actor = actorOf(access, clientAddressOf(context));
   const values = formValues(await readForm(request));

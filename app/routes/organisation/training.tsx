@@ -4,7 +4,7 @@ import { ComingSoon } from "#app/components/coming-soon";
 
 export const meta: Route.MetaFunction = () => [{ title: "Training · Sallyport" }];
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ context }: Route.LoaderArgs) {
   requireRole(context);
   return null;
 }

@@ -24,7 +24,7 @@ function findingsWeight(counts: Record<string, number>): number {
   return SEVERITY_ORDER.reduce((total, severity, index) => total + (counts[severity] ?? 0) * 1000 ** (SEVERITY_ORDER.length - index), 0);
 }
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireRole(context);
   const url = new URL(request.url);
   const query = (url.searchParams.get("q") ?? "").trim().toLowerCase().slice(0, 100);

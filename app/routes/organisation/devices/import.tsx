@@ -20,7 +20,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Import a model · Sally
 /** Model documents are small; a larger upload is refused before it is parsed. */
 export const MAX_MODEL_BYTES = 1024 * 1024;
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ context }: Route.LoaderArgs) {
   const access = requireRole(context, "engineer");
   const [sites, devices] = await Promise.all([listSites(access.organisation.id), listDevices(access.organisation.id)]);
   return { sites: sites.map((site) => ({ id: site.id, name: site.name })), devices: devices.map((device) => ({ id: device.id, name: device.name, revision: device.revision })) };
@@ -47,7 +47,7 @@ async function readDocument(form: FormData): Promise<{ text: string; fileName: s
   return { text: await upload.text(), fileName: upload.name.slice(0, 200) };
 }
 
-export async function action({ request, params, context }: Route.ActionArgs) {
+export async function action({ request, context }: Route.ActionArgs) {
   const access = requireRole(context, "engineer");
   const form = await readForm(request);
   const intent = form.get("intent");

@@ -16,7 +16,7 @@ import { refusedForm } from "#server/http/refusals.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "New device · Sallyport" }];
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ context }: Route.LoaderArgs) {
   const access = requireRole(context, "engineer");
   return { sites: (await listSites(access.organisation.id)).map((site) => ({ id: site.id, name: site.name })) };
 }
@@ -27,7 +27,7 @@ const NewDeviceSchema = z.object({
   timezone: z.string().trim().min(1, "Enter an IANA time zone such as Europe/Amsterdam.").max(64),
 });
 
-export async function action({ request, params, context }: Route.ActionArgs) {
+export async function action({ request, context }: Route.ActionArgs) {
   const access = requireRole(context, "engineer");
   const values = formValues(await readForm(request));
   const parsed = NewDeviceSchema.safeParse(values);

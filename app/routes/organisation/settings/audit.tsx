@@ -7,7 +7,7 @@ import { Table, Td, Th } from "#app/components/ui/table";
 export const meta: Route.MetaFunction = () => [{ title: "Audit log · Sallyport" }];
 
 // Reviewers and above: the record is evidence for change review and audits; trainees do not need it.
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ context }: Route.LoaderArgs) {
   const access = requireRole(context, "reviewer");
   const events = await listAuditEvents(access.organisation.id);
   return {

@@ -4,7 +4,7 @@ import { requireRole } from "#server/auth/guard.server";
 import { PageHeader } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ context }: Route.LoaderArgs) {
   const { organisation } = requireRole(context);
   return { slug: organisation.slug };
 }

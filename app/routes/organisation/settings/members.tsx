@@ -20,7 +20,7 @@ import { refusedForm } from "#server/http/refusals.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Members · Sallyport" }];
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ context }: Route.LoaderArgs) {
   const access = requireRole(context);
   const canManage = hasAtLeastRole(access.role, "admin");
   return {
@@ -37,7 +37,7 @@ const ChangeRoleSchema = z.object({ membershipId: IdSchema, role: RoleSchema });
 const MembershipSchema = z.object({ membershipId: IdSchema });
 const InvitationSchema = z.object({ invitationId: IdSchema });
 
-export async function action({ request, params, context }: Route.ActionArgs) {
+export async function action({ request, context }: Route.ActionArgs) {
   const access = requireRole(context, "admin");
   const actor = actorOf(access, clientAddressOf(context));
   const values = formValues(await readForm(request));

@@ -14,12 +14,12 @@ import { clientAddressOf } from "#server/http/request-context.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Organisation · Sallyport" }];
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ context }: Route.LoaderArgs) {
   const access = requireRole(context);
   return { name: access.organisation.name, slug: access.organisation.slug, isOwner: access.role === "owner" };
 }
 
-export async function action({ request, params, context }: Route.ActionArgs) {
+export async function action({ request, context }: Route.ActionArgs) {
   const access = requireRole(context, "owner");
   const values = formValues(await readForm(request));
   const parsed = z.object({ name: OrganisationNameSchema }).safeParse(values);

@@ -18,7 +18,7 @@ import { refusedForm } from "#server/http/refusals.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Shared objects · Sallyport" }];
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ context }: Route.LoaderArgs) {
   const access = requireRole(context);
   return { objects: await listSharedObjects(access.organisation.id), canManage: hasAtLeastRole(access.role, "admin") };
 }
@@ -35,7 +35,7 @@ const SharedObjectSchema = z.object({
   description: z.string().trim().max(300, "Use at most 300 characters.").default(""),
 });
 
-export async function action({ request, params, context }: Route.ActionArgs) {
+export async function action({ request, context }: Route.ActionArgs) {
   const access = requireRole(context, "admin");
   const actor = actorOf(access, clientAddressOf(context));
   const form = await readForm(request);

@@ -16,7 +16,7 @@ import { LAYER_TITLES, outcomeSentence } from "#app/utils/trace-words";
 
 export const meta: Route.MetaFunction = () => [{ title: "Trace a probe · Sallyport" }];
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireDevice(context);
   const model = access.effective;
   const url = new URL(request.url);

@@ -26,12 +26,12 @@ function refused(status: 400, key: string, errors: Record<string, string>, value
 }
 
 // Posts only: the overview shows the findings; this address has nothing to show on its own.
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ context }: Route.LoaderArgs) {
   requireDevice(context);
   throw data({ message: "Dismissals are changed from the device overview (POST only)." }, { status: 405, headers: { Allow: "POST" } });
 }
 
-export async function action({ request, params, context }: Route.ActionArgs) {
+export async function action({ request, context }: Route.ActionArgs) {
   const access = requireDevice(context, "engineer");
   const values = formValues(await readForm(request));
   const intent = values.intent;

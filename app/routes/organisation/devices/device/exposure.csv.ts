@@ -6,7 +6,7 @@ import { addressCount, downloadName, toCsv } from "#app/utils/analysis";
 
 // The exposure map at one instant as CSV: one row per CIDR, with that CIDR's address count, so
 // the counts of one entry sum to its family's size (2^32 or 2^128). Same filters as the page.
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireDevice(context);
   const query = exposureQueryOf(new URL(request.url));
   const answer = exposureEntriesAt(access.analysis.compiled, query.at);

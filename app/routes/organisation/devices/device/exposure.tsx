@@ -14,7 +14,7 @@ import { Table, Td, Th } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Exposure map · ${loaded?.deviceName ?? "Device"} · Sallyport` }];
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireDevice(context);
   const query = exposureQueryOf(new URL(request.url));
   const base = { deviceName: access.device.name, devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`, timezone: access.effective.device.timezone, query };

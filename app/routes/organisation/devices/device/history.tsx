@@ -8,7 +8,7 @@ import { Table, Td, Th } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = () => [{ title: "History · Sallyport" }];
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireDevice(context);
   const revisions = await listRevisions(access.device.id);
   const url = new URL(request.url);

@@ -19,7 +19,7 @@ export const DEVICE_SECTIONS = [
 // The device in the URL at its current revision, resolved once per request for every route below.
 export const middleware: Route.MiddlewareFunction[] = [deviceMiddleware];
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ context }: Route.LoaderArgs) {
   const access = requireDevice(context);
   return {
     slug: access.organisation.slug,

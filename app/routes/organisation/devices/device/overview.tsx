@@ -13,7 +13,7 @@ import { EmptyState } from "#app/components/ui/empty-state";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.name ?? "Device"} · Sallyport` }];
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ context }: Route.LoaderArgs) {
   const access = requireDevice(context);
   // The engine lists the most severe first; dismissed ones move to their own section.
   const { findings: list, unmatched } = await deviceFindings(access);

@@ -6,7 +6,7 @@ import { downloadName, toCsv } from "#app/utils/analysis";
 const REACH_CSV_HEADER = ["interface", "to", "service", "outcome", "deciding_layer", "rule_id", "eligible_accounts", "detail"] as const;
 
 // The reach table as CSV, one row per interface × catalogue service, in engine order.
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireDevice(context);
   const answer = answerReach(access.analysis.compiled, reachQueryOf(new URL(request.url)));
   if (!answer.ok) {

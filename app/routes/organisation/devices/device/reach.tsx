@@ -44,7 +44,7 @@ function sortKey(sort: Sort): (row: ReachRow) => string | number {
   }
 }
 
-export async function loader({ request, params, context }: Route.LoaderArgs) {
+export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireDevice(context);
   const url = new URL(request.url);
   const query = reachQueryOf(url);
