@@ -3,7 +3,9 @@
 
 import { exposure, OUTCOMES, ProbeError } from "../engine/index.ts";
 import type { CompiledModel, ExposureEntry, Outcome } from "../engine/index.ts";
-import { buildGrid, cellsPerRank, gridRuns, IPV4_GRID, IPV6_GRIDS, pageOf, topRank, weekHourGrid, type GridSpec, type HourCell } from "#app/utils/analysis.ts";
+import { buildGrid, cellsPerRank, gridRuns, IPV4_GRID, IPV6_GRIDS, topRank, type GridSpec } from "./address-grids.ts";
+import { pageOf } from "./paging.ts";
+import { weekHourGrid, type HourCell } from "./week-hours.ts";
 
 export interface ExposureQuery {
   readonly at: string;

@@ -17,7 +17,7 @@ import {
   trace,
 } from "../engine/index.ts";
 import type { CompiledModel, ExposureEntry, Finding, ModelDiff, Severity, TraceResult, ValidationIssue } from "../engine/index.ts";
-import { parseCsv } from "./csv.ts";
+import { CsvSyntaxError, parseCsv } from "../formats/csv.ts";
 import { table } from "./table.ts";
 
 const USAGE = `sallyport — management-plane exposure simulator
@@ -93,7 +93,7 @@ export function run(argv: readonly string[], io: Io): number {
         throw new UsageError(`unknown command "${command}"`);
     }
   } catch (e) {
-    if (e instanceof UsageError || e instanceof ProbeError || e instanceof ModelFileError) {
+    if (e instanceof UsageError || e instanceof ProbeError || e instanceof ModelFileError || e instanceof CsvSyntaxError) {
       io.err(`sallyport: ${e.message}\n`);
       if (e instanceof UsageError) io.err(`\n${USAGE}\n`);
       return 2;
@@ -193,7 +193,14 @@ function probesCommand(device: CompiledModel, path: string, io: Io): number {
   } catch (e) {
     throw new UsageError(`cannot read ${path}: ${(e as NodeJS.ErrnoException).code ?? (e as Error).message}`);
   }
-  const rows = parseCsv(text);
+  let rows: string[][];
+  try {
+    rows = parseCsv(text);
+  } catch (e) {
+    // A broken quote can swallow every later row, so nothing is traced from such a file.
+    if (e instanceof CsvSyntaxError) throw new CsvSyntaxError(`${path}: ${e.message}`, e.line);
+    throw e;
+  }
   const header = rows.shift()?.map((h) => h.trim().toLowerCase());
   if (header === undefined || header.join(",") !== PROBE_HEADER.join(",")) {
     throw new UsageError(`${path}: the header must be ${PROBE_HEADER.join(",")}`);

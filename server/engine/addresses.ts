@@ -166,6 +166,15 @@ export function parseEntry(text: string): ParsedEntry {
     if (a.value > b.value) throw new AddressSyntaxError(`range "${text}" ends before it starts`);
     return { range: { family: a.family, first: a.value, last: b.value } };
   }
+  return parseCidr(text);
+}
+
+/**
+ * Parses a CIDR or a single address (its /32 or /128); host bits are cleared. The pages read
+ * the engine's CIDR lists with this too, so both accept exactly the same text.
+ */
+export function parseCidr(text: string): ParsedEntry {
+  const trimmed = text.trim();
   const slash = trimmed.indexOf("/");
   if (slash < 0) {
     const a = parseAddress(trimmed);

@@ -1,5 +1,5 @@
 import { SharedAddressObject } from "#models/index.ts";
-import { parseCsv } from "../cli/csv.ts";
+import { CsvSyntaxError, parseCsv } from "../formats/csv.ts";
 import { parseModel } from "../engine/index.ts";
 import { deviceRevisions } from "../devices/index.ts";
 import { Refusal } from "../errors.ts";
@@ -87,10 +87,17 @@ export type CsvRowReport = { row: number; name: string; result: "created" | "upd
 /**
  * Imports address objects from CSV rows `name,entries` (entries separated by spaces or
  * semicolons; a header row is optional). Each row stands alone: a bad row is reported and
- * the good ones are saved.
+ * the good ones are saved. Text that is not CSV at all (a stray or unclosed quote, after
+ * which no row can be trusted) refuses the whole file with a 400 and saves nothing.
  */
 export async function importSharedObjectsCsv(organisationId: string, text: string, actor: AuditActor): Promise<CsvRowReport[]> {
-  const rows = parseCsv(text);
+  let rows: string[][];
+  try {
+    rows = parseCsv(text);
+  } catch (error) {
+    if (error instanceof CsvSyntaxError) throw new Refusal(`The file is not valid CSV, nothing was imported: ${error.message}.`, 400, { field: "csv" });
+    throw error;
+  }
   const report: CsvRowReport[] = [];
   for (const [index, fields] of rows.entries()) {
     const row = index + 1;

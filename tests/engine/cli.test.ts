@@ -60,6 +60,17 @@ describe("sallyport CLI", { timeout: 60_000 }, () => {
     expect(lines[3].outcome).toBe("login-mfa");
   });
 
+  test("--probes CSV with a stray quote: exit 2 naming the file and line, nothing traced", () => {
+    const dir = mkdtempSync(join(tmpdir(), "sallyport-"));
+    const csv = join(dir, "probes.csv");
+    // RFC 4180 §2.5: an unquoted field may not hold a double quote.
+    writeFileSync(csv, ["from,interface,service,to,at,account", "198.51.100.20,outside,https,,,", '198.51.100.20,out"side,ssh,,,', ""].join("\n"));
+    const r = sallyport("trace", model("harbourline-edge.json"), "--probes", csv);
+    expect(r.code).toBe(2);
+    expect(r.stdout).toBe("");
+    expect(r.stderr).toContain(`${csv}: line 3: a double quote inside an unquoted field`);
+  });
+
   test("exposure --at --json: entries for every interface × address × catalogue service", () => {
     const r = sallyport("exposure", model("kestrel-dental.json"), "--at", "2025-06-02T12:00:00Z", "--json");
     expect(r.code).toBe(0);

@@ -4,7 +4,7 @@
 
 import { readFileSync } from "node:fs";
 import { beforeAll, describe, expect, test } from "vitest";
-import { parseCsv } from "#server/cli/csv";
+import { parseCsv } from "#server/formats/csv";
 import { compileModel, exposure, OUTCOMES, parseModel, reach, trace } from "#server/engine/index";
 import { DEMO_PASSWORDS, signUpNewOrganisation, TestClient } from "../support/client";
 import { plain, UUID } from "../support/html";

@@ -527,6 +527,9 @@ describe("Import and export", () => {
 });
 
 describe("Shared address objects from CSV", () => {
+  const importCsv = (client: TestClient, slug: string, csv: string) =>
+    postMultipart(client, `/o/${slug}/settings/shared-objects`, { intent: "import-csv", file: new Blob([csv], { type: "text/csv" }) });
+
   test("Each CSV row is reported as created, updated or refused with a reason; the good rows are saved", async () => {
     const { client, slug } = await signUpNewOrganisation("ws-csv");
     const csv = [
@@ -540,10 +543,7 @@ describe("Shared address objects from CSV", () => {
       "hq-admins,10.30.0.0/23",
       "",
     ].join("\r\n");
-    const form = new FormData();
-    form.append("intent", "import-csv");
-    form.append("file", new Blob([csv], { type: "text/csv" }), "objects.csv");
-    const response = await client.request(`/o/${slug}/settings/shared-objects`, { method: "POST", body: form });
+    const response = await importCsv(client, slug, csv);
     expect(response.status).toBe(200);
     const text = plain(response.text);
     const report = text.slice(text.indexOf("Import address objects from CSV"));
@@ -570,6 +570,33 @@ describe("Shared address objects from CSV", () => {
     expect(library).toContain("fd30::/48, 10.30.8.0/22");
     expect(library).not.toContain("wrong-address");
     expect(library).not.toContain("no-entries");
+  });
+
+  test("A file with a stray quote is refused as a whole with the line to fix, and nothing is saved", async () => {
+    const { client, slug } = await signUpNewOrganisation("ws-csv-bad");
+    // RFC 4180 §2.5: an unquoted field may not hold a double quote; rows after it cannot be trusted.
+    const csv = ["name,entries", "hq-admins,10.30.0.0/24", 'vpn"users,10.30.8.0/22', "branch,10.40.0.0/24", ""].join("\r\n");
+    const response = await importCsv(client, slug, csv);
+    expect(response.status).toBe(400);
+    const text = plain(response.text);
+    expect(text).toContain("The file is not valid CSV, nothing was imported: line 3:");
+    expect(text).toContain("double quote inside an unquoted field");
+    expect(text).not.toMatch(/\d+ saved, \d+ refused/);
+
+    const library = plain((await client.get(`/o/${slug}/settings/shared-objects`)).text);
+    expect(library).toContain("No shared objects yet");
+    expect(library).not.toContain("10.30.0.0/24");
+  });
+
+  test("A quoted field may span lines: its entries are read as one row", async () => {
+    const { client, slug } = await signUpNewOrganisation("ws-csv-lines");
+    const csv = 'name,entries\n"hq-admins","10.30.0.0/24\n10.30.1.0/24"\nbranch,10.40.0.0/24\n';
+    const response = await importCsv(client, slug, csv);
+    expect(response.status).toBe(200);
+    expect(plain(response.text)).toContain("2 saved, 0 refused"); // RFC 4180 §2.6: line breaks inside a quoted field
+    const library = plain((await client.get(`/o/${slug}/settings/shared-objects`)).text);
+    expect(library).toContain("10.30.0.0/24, 10.30.1.0/24");
+    expect(library).toContain("10.40.0.0/24");
   });
 });
 

@@ -1,25 +1,27 @@
-// Helpers behind the reach and exposure map pages (app/utils/analysis.ts): readable counts,
-// address-space grids from CIDR lists, the week × hour grid, CSV writing and paging.
+// Helpers behind the reach and exposure map pages: readable counts (app/utils/analysis.ts),
+// address-space grids from CIDR lists (server/analysis/address-grids.ts), the week × hour grid,
+// paging, and CSV reading and writing (server/formats/csv.ts).
 
 import { describe, expect, test } from "vitest";
-import { parseCsv } from "#server/cli/csv";
 import {
   addressCount,
   buildGrid,
   cellsPerRank,
-  csvField,
-  formatCount,
+  cidrBlock,
   gridCellCount,
   gridRuns,
   IPV4_GRID,
   IPV6_GRIDS,
   NO_RANK,
-  pageOf,
-  parseCidr,
-  toCsv,
   topRank,
-  weekHourGrid,
-} from "#app/utils/analysis";
+} from "#server/analysis/address-grids";
+import { pageOf } from "#server/analysis/paging";
+import { weekHourGrid } from "#server/analysis/week-hours";
+import { answerReach } from "#server/analysis/reach.server";
+import { AddressSyntaxError, parseEntry } from "#server/engine/addresses";
+import { compileModel, parseModel } from "#server/engine/index";
+import { csvField, CsvSyntaxError, parseCsv, toCsv } from "#server/formats/csv";
+import { formatCount } from "#app/utils/analysis";
 
 const RFC1918 = ["10.0.0.0/8", "172.16.0.0/12", "192.168.0.0/16"];
 const RFC5737 = ["192.0.2.0/24", "198.51.100.0/24", "203.0.113.0/24"];
@@ -67,17 +69,36 @@ describe("CIDR parsing and sizes", () => {
   });
 
   test("Boundaries just outside a block are outside it", () => {
-    const block = parseCidr("172.16.0.0/12")!;
-    expect(parseCidr("172.15.255.255")!.first < block.first).toBe(true); // CHECK-VALUES: just below RFC 1918's /12
-    expect(parseCidr("172.32.0.0")!.first > block.last).toBe(true);
-    const ula = parseCidr("fc00::/7")!;
-    expect(parseCidr("fbff:ffff:ffff:ffff:ffff:ffff:ffff:ffff")!.first < ula.first).toBe(true); // RFC 4193 boundary
-    expect(parseCidr("fe00::")!.first > ula.last).toBe(true);
+    const block = cidrBlock("172.16.0.0/12")!;
+    expect(cidrBlock("172.15.255.255")!.first < block.first).toBe(true); // CHECK-VALUES: just below RFC 1918's /12
+    expect(cidrBlock("172.32.0.0")!.first > block.last).toBe(true);
+    const ula = cidrBlock("fc00::/7")!;
+    expect(cidrBlock("fbff:ffff:ffff:ffff:ffff:ffff:ffff:ffff")!.first < ula.first).toBe(true); // RFC 4193 boundary
+    expect(cidrBlock("fe00::")!.first > ula.last).toBe(true);
   });
 
   test("Malformed text is refused, not guessed", () => {
-    for (const bad of ["10.0.0", "10.0.0.0/33", "256.0.0.0/8", "2001:db8::1::1", "2001:db8:/32", "10.0.0.0/8/1", "fc00::/129"]) expect(parseCidr(bad), bad).toBeNull();
-    expect(parseCidr("::ffff:192.0.2.1")!.first).toBe((0xffffn << 32n) | 0xc0000201n); // RFC 5952 §5 form
+    for (const bad of ["10.0.0", "10.0.0.0/33", "256.0.0.0/8", "2001:db8::1::1", "2001:db8:/32", "10.0.0.0/8/1", "fc00::/129"]) expect(cidrBlock(bad), bad).toBeNull();
+    expect(cidrBlock("::ffff:192.0.2.1")!.first).toBe((0xffffn << 32n) | 0xc0000201n); // RFC 5952 §5 form
+  });
+
+  // Leading zeros: common practice, no source (some readers take "010" as octal 8, others as
+  // decimal 10, so the engine refuses them); the pages must accept exactly what the engine does.
+  test("Leading zeros in an octet or a prefix length are refused by the pages as by the engine", () => {
+    for (const bad of ["010.0.0.1", "192.0.2.0/024"]) {
+      expect(() => parseEntry(bad), bad).toThrow(AddressSyntaxError);
+      expect(cidrBlock(bad), bad).toBeNull();
+      expect(addressCount([bad]), bad).toBe(0n);
+      expect(cellsPerRank(buildGrid(IPV4_GRID, [[bad]])), bad).toEqual([0, 0, 0, 0, 0, 0]);
+    }
+    // The reach page's source address goes through the engine too.
+    const parsed = parseModel({ schemaVersion: 1, device: { name: "edge" }, interfaces: [{ name: "outside", addresses: ["192.0.2.1/24"] }] });
+    if (!parsed.ok) throw new Error(JSON.stringify(parsed.errors));
+    const answer = answerReach(compileModel(parsed.model), { from: "010.0.0.1", at: "" });
+    expect(answer.ok).toBe(false);
+    expect(!answer.ok && answer.errors.from).toContain('"010.0.0.1"');
+    // What the engine accepts, the pages read as the same block.
+    for (const good of ["10.0.0.1", "192.0.2.0/24", "2001:db8::/32"]) expect(cidrBlock(good)).toEqual(parseEntry(good).range);
   });
 });
 
@@ -205,6 +226,56 @@ describe("CSV writing (RFC 4180)", () => {
     expect(text.startsWith("interface,detail\r\n")).toBe(true);
     expect(text.endsWith("\r\n")).toBe(true);
     expect(parseCsv(text)).toEqual(rows);
+  });
+
+  test("Numbers, empty values and formula-like text inside whole rows are written as by csvField", () => {
+    expect(toCsv([["=1+1", 7, null, undefined, "", "@x,y"]])).toBe(`'=1+1,7,,,,"'@x,y"\r\n`); // OWASP CSV injection; RFC 4180 §2.6
+    expect(toCsv([["\tcmd", "\rx", "a\rb"]])).toBe(`'\tcmd,"'\rx","a\rb"\r\n`); // a lone CR is a line break to many readers: quoted
+  });
+});
+
+describe("CSV reading (RFC 4180)", () => {
+  test("A quoted field holds commas, doubled quotes and line breaks (RFC 4180 §2.6, §2.7)", () => {
+    expect(parseCsv('name,entries\r\n"a,b","say ""hi""\r\nand\nbye"\r\n')).toEqual([
+      ["name", "entries"],
+      ["a,b", 'say "hi"\r\nand\nbye'],
+    ]);
+  });
+
+  test("CRLF, LF and CR end records alike, even mixed; a final line break makes no empty row (RFC 4180 §2.1–2.2)", () => {
+    expect(parseCsv("a,b\r\nc,d\ne,f\rg,h\n")).toEqual([["a", "b"], ["c", "d"], ["e", "f"], ["g", "h"]]);
+    expect(parseCsv("a,b")).toEqual([["a", "b"]]);
+    expect(parseCsv("")).toEqual([]);
+    // An empty line inside the text stays a row, so row numbers match the lines a person sees.
+    expect(parseCsv("a\n\nb\n")).toEqual([["a"], [""], ["b"]]);
+    // Rows may differ in length; the caller says what it expects.
+    expect(parseCsv("a\nb,c,d\n")).toEqual([["a"], ["b", "c", "d"]]);
+  });
+
+  test("A byte-order mark at the start, as spreadsheets save it, is not part of the first field", () => {
+    // Common practice, no source: spreadsheet programs write UTF-8 CSV with a BOM.
+    expect(parseCsv("\uFEFFname,entries\n")).toEqual([["name", "entries"]]);
+  });
+
+  test("A stray or unclosed quote is refused with the line, never read as some other row", () => {
+    // RFC 4180 §2.5: a field that is not enclosed in double quotes may not contain them.
+    const cases: [string, number, string][] = [
+      ['name,entries\nhq"admins,10.30.0.0/24\n', 2, "double quote inside an unquoted field"],
+      ['name,entries\n"hq-admins,10.30.0.0/24\n', 2, "never closed"],
+      ['name,entries\n"hq"-admins,10.30.0.0/24\n', 2, "after a closing double quote"],
+    ];
+    for (const [text, line, words] of cases) {
+      let caught: unknown;
+      try {
+        parseCsv(text);
+      } catch (error) {
+        caught = error;
+      }
+      expect(caught, text).toBeInstanceOf(CsvSyntaxError);
+      expect((caught as CsvSyntaxError).line, text).toBe(line);
+      expect((caught as CsvSyntaxError).message, text).toContain(words);
+      expect((caught as CsvSyntaxError).message, text).toMatch(new RegExp(`^line ${line}: `));
+    }
   });
 });
 

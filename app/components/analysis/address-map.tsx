@@ -1,6 +1,6 @@
 import { useId } from "react";
 import { OUTCOME_LABELS, OUTCOME_ORDER } from "#app/components/outcome";
-import { buildGrid, gridRuns, type GridSpec } from "#app/utils/analysis";
+import { buildGrid, gridRuns, type GridSpec } from "#server/analysis/address-grids";
 
 // The address-space picture: each cell a block of addresses, filled with the most exposed
 // outcome present in it. Drawn as SVG with one rect per run of equal cells in a row (a

@@ -1,5 +1,5 @@
 import { OUTCOME_LABELS, OUTCOME_ORDER } from "#app/components/outcome";
-import type { HourCell } from "#app/utils/analysis";
+import type { HourCell } from "#server/analysis/week-hours";
 import { OUTCOME_FILL } from "./address-map";
 
 const DAYS = ["Mon", "Tue", "Wed", "Thu", "Fri", "Sat", "Sun"] as const;

@@ -17,12 +17,3 @@ export function SortHeader<Column extends string>({ column, label, sort, descend
     </Th>
   );
 }
-
-/** Sorts rows by a key, then by name, in the URL's direction. */
-export function sortRows<Row extends { name: string }>(rows: Row[], key: (row: Row) => string | number, descending: boolean): Row[] {
-  return [...rows].sort((a, b) => {
-    const [left, right] = [key(a), key(b)];
-    const order = left < right ? -1 : left > right ? 1 : a.name.localeCompare(b.name);
-    return descending ? -order : order;
-  });
-}

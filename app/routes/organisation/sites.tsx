@@ -8,28 +8,34 @@ import { hasAtLeastRole } from "#server/auth/roles";
 import { actorOf } from "#server/http/actor.server";
 import { fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
 import { IdSchema, SiteSchema } from "#server/http/schemas";
-import { createSite, deleteSite, listSites, updateSite } from "#server/services/sites.server";
+import { createSite, deleteSite, listSites, updateSite, type SiteRow } from "#server/services/sites.server";
 import { Button } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
 import { Dialog } from "#app/components/ui/dialog";
 import { EmptyState } from "#app/components/ui/empty-state";
 import { FormError, TextField } from "#app/components/ui/field";
-import { SortHeader, sortRows } from "#app/components/ui/sort-header";
+import { SortHeader } from "#app/components/ui/sort-header";
+import { nameTie, tableRows, urlSort, type ColumnDef } from "#app/components/ui/table-rows";
 import { Table, Td, Th } from "#app/components/ui/table";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { refusedForm } from "#server/http/refusals.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sites · Sallyport" }];
 
+// Sortable columns (?sort=) and the location, all searched by ?q=.
+const COLUMNS = [
+  { id: "name", accessorFn: (site) => site.name.toLowerCase(), enableGlobalFilter: true },
+  { id: "customer", accessorFn: (site) => site.customer.toLowerCase(), enableGlobalFilter: true },
+  { id: "devices", accessorKey: "deviceCount" },
+] as const satisfies readonly ColumnDef<SiteRow>[];
+const LOCATION = { id: "location", accessorKey: "location", enableGlobalFilter: true } as const satisfies ColumnDef<SiteRow>;
+
 export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireRole(context);
   const url = new URL(request.url);
-  const query = (url.searchParams.get("q") ?? "").trim().toLowerCase().slice(0, 100);
-  const sort = (["name", "customer", "devices"] as const).find((candidate) => candidate === url.searchParams.get("sort")) ?? "name";
-  const descending = url.searchParams.get("dir") === "desc";
-  const sites = (await listSites(access.organisation.id)).filter((site) => !query || [site.name, site.customer, site.location].some((text) => text.toLowerCase().includes(query)));
-  const key = (site: (typeof sites)[number]) => (sort === "devices" ? site.deviceCount : sort === "customer" ? site.customer.toLowerCase() : site.name.toLowerCase());
-  return { sites: sortRows(sites, key, descending), sort, descending, canEdit: hasAtLeastRole(access.role, "engineer") };
+  const { sort, descending, sorting } = urlSort(url.searchParams, COLUMNS);
+  const sites = tableRows(await listSites(access.organisation.id), [...COLUMNS, LOCATION, nameTie<SiteRow>()], { globalFilter: (url.searchParams.get("q") ?? "").trim().slice(0, 100), sorting });
+  return { sites, sort, descending, canEdit: hasAtLeastRole(access.role, "engineer") };
 }
 
 export async function action({ request, context }: Route.ActionArgs) {
@@ -73,8 +79,6 @@ export async function action({ request, context }: Route.ActionArgs) {
       return unknownIntent(values.intent);
   }
 }
-
-type SiteRow = Route.ComponentProps["loaderData"]["sites"][number];
 
 function SiteForm({ site, errors, values, intent }: { site?: SiteRow; errors: Record<string, string>; values: Record<string, string>; intent: "create" | "update" }) {
   const navigation = useNavigation();

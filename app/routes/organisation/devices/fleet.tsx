@@ -1,10 +1,11 @@
 import { Form, Link, useSearchParams } from "react-router";
 import { SiteFilter } from "#app/components/ui/site-filter";
-import { SortHeader, sortRows } from "#app/components/ui/sort-header";
+import { SortHeader } from "#app/components/ui/sort-header";
+import { nameTie, tableRows, urlSort, type ColumnDef } from "#app/components/ui/table-rows";
 import type { Route } from "./+types/fleet";
 import { requireRole } from "#server/auth/guard.server";
 import { hasAtLeastRole } from "#server/auth/roles";
-import { listDevices } from "#server/services/devices.server";
+import { listDevices, type DeviceRow } from "#server/services/devices.server";
 import { activeFindingsBySeverity } from "#server/services/findings.server";
 import { listSites } from "#server/services/sites.server";
 import { isOutcome, OUTCOME_ORDER, OutcomeChip } from "#app/components/outcome";
@@ -16,40 +17,34 @@ import { Table, Td } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = () => [{ title: "Devices · Sallyport" }];
 
-const SORTS = ["name", "site", "findings", "exposure", "updated"] as const;
-type Sort = (typeof SORTS)[number];
-
 function findingsWeight(counts: Record<string, number>): number {
   // Worst severity first, then how many: critical outweighs any number of lower ones.
   return SEVERITY_ORDER.reduce((total, severity, index) => total + (counts[severity] ?? 0) * 1000 ** (SEVERITY_ORDER.length - index), 0);
 }
 
+// Sortable columns, in the order of ?sort= values; name and site are searched by ?q=.
+const COLUMNS = [
+  { id: "name", accessorFn: (device) => device.name.toLowerCase(), enableGlobalFilter: true },
+  { id: "site", accessorFn: (device) => device.siteName.toLowerCase(), enableGlobalFilter: true },
+  { id: "findings", accessorFn: (device) => findingsWeight(device.findingsBySeverity) },
+  { id: "exposure", accessorFn: (device) => (isOutcome(device.worstOutsideOutcome) ? OUTCOME_ORDER.indexOf(device.worstOutsideOutcome) : -1) },
+  { id: "updated", accessorKey: "updatedAt" },
+] as const satisfies readonly ColumnDef<DeviceRow>[];
+const SITE_FILTER = { id: "siteId", accessorKey: "siteId", filterFn: "equals" } as const satisfies ColumnDef<DeviceRow>;
+
 export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireRole(context);
   const url = new URL(request.url);
-  const query = (url.searchParams.get("q") ?? "").trim().toLowerCase().slice(0, 100);
-  const siteFilter = url.searchParams.get("site") ?? "";
-  const sort: Sort = SORTS.find((candidate) => candidate === url.searchParams.get("sort")) ?? "name";
-  const descending = url.searchParams.get("dir") === "desc";
+  const { sort, descending, sorting } = urlSort(url.searchParams, COLUMNS);
   const [listed, sites, active] = await Promise.all([listDevices(access.organisation.id), listSites(access.organisation.id), activeFindingsBySeverity(access.organisation.id)]);
   // Counts leave out dismissed findings (accepted risks), as the device overview does.
   const devices = listed.map((device) => ({ ...device, findingsBySeverity: active.get(device.id) ?? device.findingsBySeverity }));
-  const filtered = devices.filter((device) => (!query || device.name.toLowerCase().includes(query) || device.siteName.toLowerCase().includes(query)) && (!siteFilter || device.siteId === siteFilter));
-  const key = (device: (typeof devices)[number]): string | number => {
-    switch (sort) {
-      case "site":
-        return device.siteName.toLowerCase();
-      case "findings":
-        return findingsWeight(device.findingsBySeverity);
-      case "exposure":
-        return isOutcome(device.worstOutsideOutcome) ? OUTCOME_ORDER.indexOf(device.worstOutsideOutcome) : -1;
-      case "updated":
-        return device.updatedAt;
-      default:
-        return device.name.toLowerCase();
-    }
-  };
-  return { devices: sortRows(filtered, key, descending), total: devices.length, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canEdit: hasAtLeastRole(access.role, "engineer"), slug: access.organisation.slug };
+  const shown = tableRows(devices, [...COLUMNS, SITE_FILTER, nameTie<DeviceRow>()], {
+    globalFilter: (url.searchParams.get("q") ?? "").trim().slice(0, 100),
+    columnFilters: url.searchParams.get("site") ? [{ id: "siteId", value: url.searchParams.get("site") }] : [],
+    sorting,
+  });
+  return { devices: shown, total: devices.length, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canEdit: hasAtLeastRole(access.role, "engineer"), slug: access.organisation.slug };
 }
 
 export default function Fleet({ loaderData }: Route.ComponentProps) {

@@ -2,7 +2,9 @@ import type { Route } from "./+types/exposure.csv";
 import { OUTCOMES } from "#server/engine/index";
 import { exposureEntriesAt, exposureQueryOf, filterEntries } from "#server/analysis/exposure.server";
 import { requireDevice } from "#server/http/device-access.server";
-import { addressCount, downloadName, toCsv } from "#app/utils/analysis";
+import { addressCount } from "#server/analysis/address-grids";
+import { toCsv } from "#server/formats/csv";
+import { downloadName } from "#app/utils/analysis";
 
 // The exposure map at one instant as CSV: one row per CIDR, with that CIDR's address count, so
 // the counts of one entry sum to its family's size (2^32 or 2^128). Same filters as the page.

@@ -1,7 +1,8 @@
 import type { Route } from "./+types/reach.csv";
 import { answerReach, reachQueryOf } from "#server/analysis/reach.server";
 import { requireDevice } from "#server/http/device-access.server";
-import { downloadName, toCsv } from "#app/utils/analysis";
+import { toCsv } from "#server/formats/csv";
+import { downloadName } from "#app/utils/analysis";
 
 const REACH_CSV_HEADER = ["interface", "to", "service", "outcome", "deciding_layer", "rule_id", "eligible_accounts", "detail"] as const;
 

@@ -8,13 +8,11 @@ import { buttonClasses } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
 import { TextField } from "#app/components/ui/field";
-import { SortHeader, sortRows } from "#app/components/ui/sort-header";
+import { SortHeader } from "#app/components/ui/sort-header";
+import { nameTie, tableRows, urlSort, type ColumnDef } from "#app/components/ui/table-rows";
 import { Table, Td } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Reach${loaded?.query.from ? ` from ${loaded.query.from}` : ""} · ${loaded?.deviceName ?? "Device"} · Sallyport` }];
-
-const SORTS = ["interface", "service", "outcome", "layer", "rule", "accounts"] as const;
-type Sort = (typeof SORTS)[number];
 
 const LAYER_LABELS: Record<string, string> = {
   arrival: "Arrival",
@@ -26,37 +24,29 @@ const LAYER_LABELS: Record<string, string> = {
 };
 const LAYER_ORDER = Object.keys(LAYER_LABELS);
 
-function sortKey(sort: Sort): (row: ReachRow) => string | number {
-  switch (sort) {
-    case "service":
-      return (row) => row.serviceIndex * 10_000 + row.interfaceIndex;
-    case "outcome":
-      return (row) => OUTCOME_ORDER.indexOf(row.outcome) * 10_000 + row.interfaceIndex * 100 + row.serviceIndex;
-    case "layer":
-      return (row) => LAYER_ORDER.indexOf(row.layer) * 10_000 + row.interfaceIndex * 100 + row.serviceIndex;
-    case "rule":
-      return (row) => row.ruleId ?? "";
-    case "accounts":
-      return (row) => row.eligibleAccounts.join(" ");
-    default:
-      // Engine order: interfaces as in the model, services as in the catalogue.
-      return (row) => row.interfaceIndex * 10_000 + row.serviceIndex;
-  }
-}
+// Sortable columns (?sort=); the first is the engine's order: interfaces as in the model,
+// services as in the catalogue. Outcome and layer ties keep that order.
+const COLUMNS = [
+  { id: "interface", accessorFn: (row) => row.interfaceIndex * 10_000 + row.serviceIndex },
+  { id: "service", accessorFn: (row) => row.serviceIndex * 10_000 + row.interfaceIndex },
+  { id: "outcome", accessorFn: (row) => OUTCOME_ORDER.indexOf(row.outcome) * 10_000 + row.interfaceIndex * 100 + row.serviceIndex },
+  { id: "layer", accessorFn: (row) => LAYER_ORDER.indexOf(row.layer) * 10_000 + row.interfaceIndex * 100 + row.serviceIndex },
+  { id: "rule", accessorFn: (row) => row.ruleId ?? "" },
+  { id: "accounts", accessorFn: (row) => row.eligibleAccounts.join(" ") },
+] as const satisfies readonly ColumnDef<ReachRow>[];
 
 export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireDevice(context);
   const url = new URL(request.url);
   const query = reachQueryOf(url);
-  const sort: Sort = SORTS.find((candidate) => candidate === url.searchParams.get("sort")) ?? "interface";
-  const descending = url.searchParams.get("dir") === "desc";
+  const { sort, descending, sorting } = urlSort(url.searchParams, COLUMNS);
   const noErrors: { from?: string; at?: string } = {};
   const base = { deviceName: access.device.name, devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`, timezone: access.effective.device.timezone, query, sort, descending };
   // No source yet: just the form (asking is not an error).
   if (!url.searchParams.has("from") && !url.searchParams.has("at")) return { ...base, answer: null, errors: noErrors };
   const answer = answerReach(access.analysis.compiled, query);
   if (!answer.ok) return data({ ...base, answer: null, errors: answer.errors }, { status: 400 });
-  return { ...base, answer: { ...answer, rows: sortRows([...answer.rows], sortKey(sort), descending) }, errors: noErrors };
+  return { ...base, answer: { ...answer, rows: tableRows(answer.rows, [...COLUMNS, nameTie<ReachRow>()], { sorting }) }, errors: noErrors };
 }
 
 /** "reaches 2 services with a login (2 with a password only), 1 answers, …" from the rows. */
