@@ -2,7 +2,7 @@
 // the address space from the engine's CIDR lists, the week × hour grid from slices, and CSV
 // writing. No server imports, so the browser and the unit tests can use them.
 //
-// Outcomes are passed as ranks (0 = silent … 5 = login-password, the order of OUTCOME_ORDER),
+// Outcomes are passed as ranks (0 = silent … 5 = login-password, the order of the engine's OUTCOMES),
 // so these helpers stay independent of the names.
 
 export type Family = 4 | 6;

@@ -1,9 +1,8 @@
 import { Op, UniqueConstraintError } from "sequelize";
-import { emptySeverityCounts, findingKey, isSeverity, type SeverityCountsRecord } from "#app/utils/finding-keys.ts";
 import { Device, DeviceRevision, FindingDismissal, Site } from "#models/index.ts";
 import { ensureDatabase } from "../db/database.server.ts";
 import { compiledRevision } from "../analysis/compiled-revisions.server.ts";
-import { findings, type Finding } from "../engine/index.ts";
+import { emptySeverityCounts, findingKey, findings, isSeverity, type Finding, type SeverityCounts } from "../engine/index.ts";
 import { effectiveDocument, type ModelDocument } from "../workspace/index.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 import type { DeviceWithRevision } from "./devices.server.ts";
@@ -158,9 +157,9 @@ export async function fleetFindings(organisationId: string): Promise<{ devices: 
  * Counts of active (not dismissed) findings per device of the organisation, by severity,
  * from each device's current revision: the figures the fleet table should show.
  */
-export async function activeFindingsBySeverity(organisationId: string): Promise<Map<string, SeverityCountsRecord>> {
+export async function activeFindingsBySeverity(organisationId: string): Promise<Map<string, SeverityCounts>> {
   const { devices, rows } = await fleetFindings(organisationId);
-  const counts = new Map<string, SeverityCountsRecord>(devices.map((device) => [device.id, emptySeverityCounts()]));
+  const counts = new Map<string, SeverityCounts>(devices.map((device) => [device.id, emptySeverityCounts()]));
   for (const row of rows) {
     const deviceCounts = counts.get(row.deviceId);
     if (deviceCounts && !row.dismissed && isSeverity(row.severity)) deviceCounts[row.severity] += 1;

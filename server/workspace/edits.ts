@@ -1,7 +1,7 @@
 // Element-level edits of a device document. Each returns a new document (the input is never
 // changed) or throws EditError; the caller validates the result with the engine. Pure.
 import type { ModelDocument } from "./document.ts";
-import { findUsages, renameReferences, type ElementKind, type Usage } from "./references.ts";
+import { findUsages, renameReferences, type ReferenceKind, type Usage } from "./references.ts";
 
 /** A refused edit: what to tell the user, the HTTP status, and the field or usages concerned. */
 export class EditError extends Error {
@@ -19,7 +19,7 @@ export type NamedCollection = "interfaces" | "services" | "addresses" | "address
 
 type ItemOf<C extends NamedCollection> = ModelDocument[C][number];
 
-const KIND_OF: Record<NamedCollection, ElementKind | null> = {
+const KIND_OF: Record<NamedCollection, ReferenceKind | null> = {
   interfaces: "interface",
   services: "service",
   addresses: "address",

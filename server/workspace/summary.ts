@@ -1,5 +1,5 @@
 // What the fleet table shows for a revision, computed once by the engine when it is saved.
-import { compileModel, exposure, findings, OUTCOMES, SEVERITIES, type Outcome } from "../engine/index.ts";
+import { compileModel, emptySeverityCounts, exposure, findings, OUTCOMES, type Outcome } from "../engine/index.ts";
 import type { ModelDocument } from "./document.ts";
 
 export type RevisionSummary = {
@@ -11,7 +11,7 @@ export type RevisionSummary = {
 
 export function summariseDocument(effective: ModelDocument): RevisionSummary {
   const device = compileModel(effective);
-  const findingsBySeverity = Object.fromEntries(SEVERITIES.map((severity) => [severity, 0])) as Record<string, number>;
+  const findingsBySeverity: Record<string, number> = emptySeverityCounts();
   for (const finding of findings(device)) findingsBySeverity[finding.severity] += 1;
 
   const outside = new Set(effective.interfaces.filter((entry) => entry.role === "outside").map((entry) => entry.name));

@@ -7,7 +7,8 @@ import { hasAtLeastRole } from "#server/auth/roles";
 import { listDevices } from "#server/services/devices.server";
 import { activeFindingsBySeverity } from "#server/services/findings.server";
 import { listSites } from "#server/services/sites.server";
-import { isOutcome, OUTCOME_ORDER, OutcomeChip } from "#app/components/outcome";
+import { OutcomeChip } from "#app/components/outcome";
+import { isOutcome, outcomeRank } from "#server/engine/vocabulary";
 import { SEVERITY_ORDER, SeverityCounts } from "#app/components/severity";
 import { ButtonLink } from "#app/components/ui/button";
 import { PageHeader } from "#app/components/ui/card";
@@ -42,7 +43,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       case "findings":
         return findingsWeight(device.findingsBySeverity);
       case "exposure":
-        return isOutcome(device.worstOutsideOutcome) ? OUTCOME_ORDER.indexOf(device.worstOutsideOutcome) : -1;
+        return isOutcome(device.worstOutsideOutcome) ? outcomeRank(device.worstOutsideOutcome) : -1;
       case "updated":
         return device.updatedAt;
       default:

@@ -8,7 +8,8 @@ import { BUILTIN_SERVICES, ProbeError, trace, type TraceResult } from "#server/e
 import { requireDevice } from "#server/http/device-access.server";
 import { LayerCanvas, type CanvasModel } from "#app/components/analysis/layer-canvas";
 import { useTraceStore, type ProbeFields } from "#app/components/analysis/trace-store";
-import { isOutcome, OutcomeChip } from "#app/components/outcome";
+import { OutcomeChip } from "#app/components/outcome";
+import { isOutcome } from "#server/engine/vocabulary";
 import { Button } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";

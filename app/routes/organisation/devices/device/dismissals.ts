@@ -6,7 +6,7 @@ import { actorOf } from "#server/http/actor.server";
 import { requireDevice } from "#server/http/device-access.server";
 import { formValues, readForm, unknownIntent } from "#server/http/form.server";
 import { dismissFinding, FindingActionError, restoreFinding } from "#server/services/findings.server";
-import { parseFindingKey } from "#app/utils/finding-keys";
+import { parseFindingKey } from "#server/engine/finding-keys";
 
 const ReasonSchema = z
   .string()
