@@ -11,7 +11,7 @@ export class FindingDismissal extends Model<InferAttributes<FindingDismissal>, I
   declare id: CreationOptional<string>;
   declare organisationId: ForeignKey<Organisation["id"]>;
   declare deviceId: ForeignKey<Device["id"]>;
-  /** Code + sorted elements: stable across revisions (see app/components/findings/keys.ts). */
+  /** Code + sorted elements: stable across revisions (see server/engine/finding-keys.ts). */
   declare findingKey: string;
   declare code: string;
   declare elements: string[];

@@ -1,5 +1,5 @@
 import { DataTypes, Model, type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
-import { ROLES, type Role } from "#server/auth/roles.ts";
+import { ROLES, type Role } from "./roles.ts";
 import type { Organisation } from "./organisation.ts";
 import type { User } from "./user.ts";
 
@@ -23,7 +23,7 @@ export class Invitation extends Model<InferAttributes<Invitation>, InferCreation
       {
         id: { type: DataTypes.UUID, defaultValue: DataTypes.UUIDV4, primaryKey: true },
         email: { type: DataTypes.STRING(254), allowNull: false },
-        role: { type: DataTypes.STRING(16), allowNull: false, validate: { isIn: [ROLES as unknown as string[]] } },
+        role: { type: DataTypes.STRING(16), allowNull: false, validate: { isIn: [ROLES] } },
         tokenHash: { type: DataTypes.STRING(64), allowNull: false, unique: true },
         expiresAt: { type: DataTypes.DATE, allowNull: false },
         acceptedAt: { type: DataTypes.DATE, allowNull: true },

@@ -1,5 +1,5 @@
 import { DataTypes, Model, type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
-import { ROLES, type Role } from "#server/auth/roles.ts";
+import { ROLES, type Role } from "./roles.ts";
 import type { Organisation } from "./organisation.ts";
 import type { User } from "./user.ts";
 
@@ -17,7 +17,7 @@ export class Membership extends Model<InferAttributes<Membership>, InferCreation
     Membership.init(
       {
         id: { type: DataTypes.UUID, defaultValue: DataTypes.UUIDV4, primaryKey: true },
-        role: { type: DataTypes.STRING(16), allowNull: false, validate: { isIn: [ROLES as unknown as string[]] } },
+        role: { type: DataTypes.STRING(16), allowNull: false, validate: { isIn: [ROLES] } },
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },

@@ -1,11 +1,15 @@
 import { DataTypes, Model, type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type Sequelize } from "sequelize";
 import type { Organisation } from "./organisation.ts";
 
+/** What a shared object holds: address entries, or the names of its members. */
+export const SHARED_OBJECT_KINDS = ["address", "group"] as const;
+export type SharedObjectKind = (typeof SHARED_OBJECT_KINDS)[number];
+
 /** An organisation-level address object or group that any device of it may reference by name. */
 export class SharedAddressObject extends Model<InferAttributes<SharedAddressObject>, InferCreationAttributes<SharedAddressObject>> {
   declare id: CreationOptional<string>;
   declare organisationId: ForeignKey<Organisation["id"]>;
-  declare kind: "address" | "group";
+  declare kind: SharedObjectKind;
   declare name: string;
   /** Address entries of an object, or member names of a group. */
   declare items: string[];

@@ -1,10 +1,8 @@
+import { OUTCOMES, outcomeRank, type Outcome } from "#server/engine/vocabulary";
 import { cx } from "./ui/cx";
 
-export const OUTCOME_ORDER = ["silent", "refused", "answered", "login-denied", "login-mfa", "login-password"] as const;
-export type OutcomeName = (typeof OUTCOME_ORDER)[number];
-
 /** Plain words for each outcome, as an outsider would experience it. */
-export const OUTCOME_LABELS: Record<OutcomeName, string> = {
+export const OUTCOME_LABELS: Record<Outcome, string> = {
   silent: "No answer",
   refused: "Refused (device revealed)",
   answered: "Answered",
@@ -13,7 +11,8 @@ export const OUTCOME_LABELS: Record<OutcomeName, string> = {
   "login-password": "Login with password only",
 };
 
-const TONES: Record<OutcomeName, string> = {
+// Each outcome's colour is the theme token --color-outcome-<outcome> (app.css).
+export const OUTCOME_TONES: Record<Outcome, string> = {
   silent: "text-outcome-silent border-outcome-silent/40 bg-outcome-silent/10",
   refused: "text-outcome-refused border-outcome-refused/40 bg-outcome-refused/10",
   answered: "text-outcome-answered border-outcome-answered/40 bg-outcome-answered/10",
@@ -22,17 +21,13 @@ const TONES: Record<OutcomeName, string> = {
   "login-password": "text-outcome-login-password border-outcome-login-password/40 bg-outcome-login-password/10",
 };
 
-export function isOutcome(value: unknown): value is OutcomeName {
-  return typeof value === "string" && (OUTCOME_ORDER as readonly string[]).includes(value);
-}
-
 /** An outcome as a labelled chip: the colour helps, the words carry the meaning. */
-export function OutcomeChip({ outcome, className }: { outcome: OutcomeName; className?: string }) {
-  const rank = OUTCOME_ORDER.indexOf(outcome);
+export function OutcomeChip({ outcome, className }: { outcome: Outcome; className?: string }) {
+  const rank = outcomeRank(outcome);
   return (
-    <span className={cx("inline-flex items-center gap-1.5 rounded-full border px-2 py-0.5 text-xs font-medium whitespace-nowrap", TONES[outcome], className)} title={outcome}>
+    <span className={cx("inline-flex items-center gap-1.5 rounded-full border px-2 py-0.5 text-xs font-medium whitespace-nowrap", OUTCOME_TONES[outcome], className)} title={outcome}>
       <span aria-hidden="true" className="flex gap-px">
-        {OUTCOME_ORDER.slice(1).map((_, index) => (
+        {OUTCOMES.slice(1).map((_, index) => (
           <span key={index} className={cx("h-2 w-1 rounded-[1px]", index < rank ? "bg-current" : "bg-current opacity-20")} />
         ))}
       </span>

@@ -1,8 +1,10 @@
+import { isSeverity, SEVERITIES, type Severity } from "#server/engine/vocabulary";
 import { cx } from "./ui/cx";
 
-export const SEVERITY_ORDER = ["critical", "high", "medium", "low", "info"] as const;
+/** Most severe first, as lists of findings read. */
+export const SEVERITY_ORDER: readonly Severity[] = [...SEVERITIES].reverse();
 
-const TONES: Record<string, string> = {
+export const SEVERITY_TONES: Record<Severity, string> = {
   critical: "bg-danger text-white dark:text-black",
   high: "bg-danger-soft text-danger border border-danger/40",
   medium: "bg-warning-soft text-warning border border-warning/40",
@@ -17,7 +19,7 @@ export function SeverityCounts({ counts }: { counts: Record<string, number> }) {
   return (
     <span className="flex flex-wrap gap-1">
       {present.map((severity) => (
-        <span key={severity} className={cx("inline-flex items-center rounded px-1.5 py-0.5 text-xs font-medium", TONES[severity])}>
+        <span key={severity} className={cx("inline-flex items-center rounded px-1.5 py-0.5 text-xs font-medium", SEVERITY_TONES[severity])}>
           {counts[severity]} {severity}
         </span>
       ))}
@@ -26,5 +28,5 @@ export function SeverityCounts({ counts }: { counts: Record<string, number> }) {
 }
 
 export function SeverityBadge({ severity }: { severity: string }) {
-  return <span className={cx("inline-flex items-center rounded px-1.5 py-0.5 text-xs font-semibold uppercase tracking-wide", TONES[severity] ?? TONES.info)}>{severity}</span>;
+  return <span className={cx("inline-flex items-center rounded px-1.5 py-0.5 text-xs font-semibold uppercase tracking-wide", SEVERITY_TONES[isSeverity(severity) ? severity : "info"])}>{severity}</span>;
 }

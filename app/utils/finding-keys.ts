@@ -1,54 +1,7 @@
-// Pure helpers shared by the findings service and pages: the stable key that names a
-// finding across revisions, severity counting, and the fleet page's URL query.
-
-/** Least to most severe, as the engine orders them (docs/engine.md "Findings"). */
-export const SEVERITY_SCALE = ["info", "low", "medium", "high", "critical"] as const;
-export type SeverityName = (typeof SEVERITY_SCALE)[number];
-
-export type SeverityCountsRecord = Record<SeverityName, number>;
-
-/** The part of a finding that identifies it; severity and wording may change between revisions. */
-export type FindingIdentity = { code: string; elements: readonly string[] };
-
-const CODE_PATTERN = /^[a-z][a-z-]{0,39}$/;
-// An element is "kind:name"; names follow the engine's NAME_PATTERN ([A-Za-z0-9._-]{1,63}).
-const ELEMENT_PATTERN = /^[a-z][a-z-]{0,29}:[A-Za-z0-9._-]{1,63}$/;
-const MAX_ELEMENTS = 16;
-
-/**
- * Code and sorted elements, space-separated (names never contain spaces). The same finding
- * on a later revision has the same key, so a dismissal keeps applying to it; severity is
- * left out because a rule change elsewhere can move it without changing what is accepted.
- */
-export function findingKey(finding: FindingIdentity): string {
-  return [finding.code, ...[...finding.elements].sort()].join(" ");
-}
-
-/** The code and elements of a well-formed key, or null (a typed or tampered value). */
-export function parseFindingKey(value: unknown): FindingIdentity | null {
-  if (typeof value !== "string" || value.length > 1000) return null;
-  const [code = "", ...elements] = value.trim().split(" ");
-  if (!CODE_PATTERN.test(code) || elements.length > MAX_ELEMENTS || !elements.every((element) => ELEMENT_PATTERN.test(element))) return null;
-  return { code, elements: [...elements].sort() };
-}
-
-export function isSeverity(value: unknown): value is SeverityName {
-  return typeof value === "string" && (SEVERITY_SCALE as readonly string[]).includes(value);
-}
-
-export function severityRank(severity: string): number {
-  return SEVERITY_SCALE.indexOf(severity as SeverityName);
-}
-
-export function emptySeverityCounts(): SeverityCountsRecord {
-  return { info: 0, low: 0, medium: 0, high: 0, critical: 0 };
-}
-
-export function countBySeverity(items: ReadonlyArray<{ severity: string }>): SeverityCountsRecord {
-  const counts = emptySeverityCounts();
-  for (const item of items) if (isSeverity(item.severity)) counts[item.severity] += 1;
-  return counts;
-}
+// The fleet findings page's URL query, filters and order. The finding key and the severity
+// helpers they build on live in the engine (server/engine/finding-keys.ts, vocabulary.ts).
+import { FINDING_CODE_PATTERN } from "#server/engine/finding-keys";
+import { isSeverity, severityRank, type Severity } from "#server/engine/vocabulary";
 
 export const FINDING_SORTS = ["severity", "device", "code"] as const;
 export type FindingSort = (typeof FINDING_SORTS)[number];
@@ -56,7 +9,7 @@ export type FindingSort = (typeof FINDING_SORTS)[number];
 /** The fleet findings page's filters and order, all in the URL so a view can be shared. */
 export type FindingsQuery = {
   /** Show findings at this severity or above ("" = all). */
-  minSeverity: SeverityName | "";
+  minSeverity: Severity | "";
   code: string;
   site: string;
   device: string;
@@ -75,7 +28,7 @@ export function parseFindingsQuery(params: URLSearchParams): FindingsQuery {
   const sort = FINDING_SORTS.find((candidate) => candidate === params.get("sort")) ?? "severity";
   return {
     minSeverity: isSeverity(severity) ? severity : "",
-    code: CODE_PATTERN.test(code) ? code : "",
+    code: FINDING_CODE_PATTERN.test(code) ? code : "",
     site: /^[0-9a-f-]{36}$/i.test(params.get("site") ?? "") ? (params.get("site") ?? "") : "",
     device: /^[0-9a-f-]{36}$/i.test(params.get("device") ?? "") ? (params.get("device") ?? "") : "",
     showDismissed: params.get("dismissed") === "show",

@@ -1,7 +1,8 @@
 // Plain-language wording of a trace, shared by the canvas, the step list and tests. Pure.
 import type { TraceResult } from "#server/engine/trace";
+import type { Layer } from "#server/engine/vocabulary";
 
-export const LAYER_TITLES: Record<string, string> = {
+export const LAYER_TITLES: Record<Layer, string> = {
   arrival: "Arrival",
   "inbound-rules": "Inbound rules",
   listener: "Listener",
@@ -9,8 +10,6 @@ export const LAYER_TITLES: Record<string, string> = {
   "login-sources": "Login sources",
   "second-factor": "Second factor",
 };
-
-export const LAYER_ORDER = ["arrival", "inbound-rules", "listener", "service-kind", "login-sources", "second-factor"] as const;
 
 export type TraceView = Pick<TraceResult, "outcome" | "layers" | "ruleId" | "eligibleAccounts" | "interface" | "service" | "from" | "to">;
 

@@ -1,7 +1,7 @@
 // The exposure map for the page and its CSV: one instant's entries filtered by the URL, the
 // focused entry's CIDR lists (paged) and address-space grids, and its week × hour view.
 
-import { exposure, OUTCOMES, ProbeError } from "../engine/index.ts";
+import { exposure, isOutcome, OUTCOMES, ProbeError } from "../engine/index.ts";
 import type { CompiledModel, ExposureEntry, Outcome } from "../engine/index.ts";
 import { buildGrid, cellsPerRank, gridRuns, IPV4_GRID, IPV6_GRIDS, topRank, type GridSpec } from "./address-grids.ts";
 import { pageOf } from "./paging.ts";
@@ -16,10 +16,6 @@ export interface ExposureQuery {
   readonly focus: string;
   readonly page: string;
   readonly entryPage: string;
-}
-
-function isOutcome(value: string): value is Outcome {
-  return (OUTCOMES as readonly string[]).includes(value);
 }
 
 export function exposureQueryOf(url: URL): ExposureQuery {

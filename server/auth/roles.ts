@@ -1,6 +1,8 @@
-// Roles in increasing order of what they may do; a role may do everything a lower one may.
-export const ROLES = ["trainee", "reviewer", "engineer", "admin", "owner"] as const;
-export type Role = (typeof ROLES)[number];
+// What roles may do: the order and the descriptions. The words themselves live in
+// models/roles.ts, below both the models and the server.
+import { ROLES, type Role } from "#models/roles.ts";
+
+export { isRole, ROLES, type Role } from "#models/roles.ts";
 
 export function roleRank(role: Role): number {
   return ROLES.indexOf(role);
@@ -17,7 +19,3 @@ export const ROLE_DESCRIPTIONS: Record<Role, string> = {
   admin: "Manages members, invitations and shared objects.",
   owner: "Everything, including organisation settings and other owners.",
 };
-
-export function isRole(value: unknown): value is Role {
-  return typeof value === "string" && (ROLES as readonly string[]).includes(value);
-}

@@ -5,7 +5,7 @@ import type { Family } from "./addresses.ts";
 import { intersect, union } from "./address-sets.ts";
 import type { AddressSet, Ranges } from "./address-sets.ts";
 import type { CompiledModel, EntryPartition, RulePartition } from "./compile.ts";
-import { LOGIN_MFA, LOGIN_PASSWORD } from "./outcomes.ts";
+import { LOGIN_MFA, LOGIN_PASSWORD } from "./vocabulary.ts";
 
 export interface ProbeClass {
   readonly iface: number;

@@ -8,16 +8,21 @@ import { ANY_SET, EMPTY_SET, contains, rangesOf, setFromRanges, unionSets } from
 import type { AddressSet } from "./address-sets.ts";
 import { Domain, lastAtMost, runValueAt, runsFromArray, zipRuns } from "./domain.ts";
 import type { Runs, SparseBits } from "./domain.ts";
+import { looksLikeAddressEntry, serviceKey } from "./model.ts";
+import type { DeviceModel } from "./model.ts";
 import {
   ALWAYS_SCHEDULE,
+  ANSWERED,
   ANY_INTERFACE,
   ANY_SERVICE,
   BUILTIN_SERVICES,
-  looksLikeAddressEntry,
-  serviceKey,
-} from "./model.ts";
-import type { CatalogueService, DeviceModel, ServiceKind } from "./model.ts";
-import { ANSWERED, LOGIN_DENIED, LOGIN_MFA, LOGIN_PASSWORD, REFUSED, SILENT } from "./outcomes.ts";
+  LOGIN_DENIED,
+  LOGIN_MFA,
+  LOGIN_PASSWORD,
+  REFUSED,
+  SILENT,
+} from "./vocabulary.ts";
+import type { CatalogueService, ServiceKind } from "./vocabulary.ts";
 import { LocalClock, parseInstant, planWeek } from "./schedules.ts";
 import type { WeekPlan } from "./schedules.ts";
 

@@ -12,8 +12,8 @@ import type { OutcomeSets } from "./exposure.ts";
 import { findingsOf } from "./findings.ts";
 import type { Finding } from "./findings.ts";
 import { serviceKey } from "./model.ts";
-import { OUTCOMES } from "./outcomes.ts";
-import type { Outcome } from "./outcomes.ts";
+import { OUTCOMES, isBuiltinAddressName } from "./vocabulary.ts";
+import type { Outcome } from "./vocabulary.ts";
 import { WEEK_MINUTES, formatWeekMinute } from "./schedules.ts";
 
 export interface DiffTransition {
@@ -167,7 +167,7 @@ export function lockoutGuard(before: CompiledModel, after: CompiledModel): Locko
   const out: LockoutEntry[] = [];
   for (const name of names) {
     const known = (e: CompiledModel): boolean =>
-      e.model.addresses.some((a) => a.name === name) || e.model.addressGroups.some((g) => g.name === name) || ["any", "any4", "any6"].includes(name);
+      e.model.addresses.some((a) => a.name === name) || e.model.addressGroups.some((g) => g.name === name) || isBuiltinAddressName(name);
     const set: AddressSet = known(after) ? after.addressSetOf(name) : before.addressSetOf(name);
     if (!intersectsSet(set, reachBefore) || intersectsSet(set, reachAfter)) continue;
     const lost = (f: Family, s: Ranges, b: Ranges, a: Ranges): Ranges => subtract(intersect(s, b), a, f);

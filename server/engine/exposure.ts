@@ -6,8 +6,8 @@ import { rangesToCidrs } from "./address-sets.ts";
 import type { Ranges } from "./address-sets.ts";
 import type { CompiledModel, OutcomePartition } from "./compile.ts";
 import type { Runs } from "./domain.ts";
-import { OUTCOMES, outcomeRecord } from "./outcomes.ts";
-import type { OutcomeRecord } from "./outcomes.ts";
+import { OUTCOMES, outcomeRecord } from "./vocabulary.ts";
+import type { OutcomeRecord } from "./vocabulary.ts";
 import { formatWeekMinute } from "./schedules.ts";
 
 export interface ExposureEntry {

@@ -19,12 +19,9 @@ import {
 import type { AddressSet, Ranges } from "./address-sets.ts";
 import { firstMatchRules, intersectsSet, isRedundant, loginReachable } from "./analysis.ts";
 import type { CompiledModel, OutcomePartition } from "./compile.ts";
-import { ANSWERED, LOGIN_DENIED, LOGIN_MFA, LOGIN_PASSWORD, OUTCOMES, SILENT } from "./outcomes.ts";
 import { outcomeSets } from "./exposure.ts";
-
-/** Least to most severe. `--fail-on X` fails on any finding at X or above. */
-export const SEVERITIES = ["info", "low", "medium", "high", "critical"] as const;
-export type Severity = (typeof SEVERITIES)[number];
+import { ANSWERED, LOGIN_DENIED, LOGIN_MFA, LOGIN_PASSWORD, OUTCOMES, SILENT, elementRef, isBuiltinAddressName, severityRank } from "./vocabulary.ts";
+import type { ElementRef, Severity } from "./vocabulary.ts";
 
 export const FINDING_CODES = [
   "default-account-name",
@@ -49,12 +46,8 @@ export interface Finding {
   readonly title: string;
   readonly detail: string;
   /** Affected elements as "kind:name", e.g. "account:admin", "interface:outside", "rule:r-7". */
-  readonly elements: readonly string[];
+  readonly elements: readonly ElementRef[];
   readonly source: string;
-}
-
-export function severityAtLeast(severity: Severity, threshold: Severity): boolean {
-  return SEVERITIES.indexOf(severity) >= SEVERITIES.indexOf(threshold);
 }
 
 /** Factory-default administrator names scanners try first (common practice, no source). */
@@ -111,7 +104,7 @@ export function findingsOf(engine: CompiledModel): Finding[] {
   // Accounts.
   for (const a of engine.accounts) {
     const doc = model.accounts[a.index];
-    const element = `account:${a.name}`;
+    const element = elementRef("account", a.name);
     if (DEFAULT_ACCOUNT_NAMES.includes(a.name.toLowerCase())) {
       add({
         code: "default-account-name",
@@ -144,7 +137,7 @@ export function findingsOf(engine: CompiledModel): Finding[] {
       });
     }
     if (doc.loginSources.length > 0) {
-      const names = doc.loginSources.filter((n) => n === "any" || n === "any4" || n === "any6");
+      const names = doc.loginSources.filter(isBuiltinAddressName);
       const v4 = countOf(a.loginSources.v4);
       const v6 = countOf(a.loginSources.v6);
       if (names.length > 0 || v4 >= 1n << 24n || v6 >= 1n << 96n) {
@@ -208,7 +201,7 @@ export function findingsOf(engine: CompiledModel): Finding[] {
   const operators = model.operatorNetworks.reduce((acc, n) => unionSets(acc, engine.addressSetOf(n)), EMPTY_SET);
   const countText = (set: AddressSet): string => (countOf(set.v4) + countOf(set.v6)).toString();
   model.interfaces.forEach((f, iface) => {
-    const element = `interface:${f.name}`;
+    const element = elementRef("interface", f.name);
     for (const name of f.listeners) {
       if (name !== "http" && name !== "telnet") continue;
       const cls = engine.catalogue.findIndex((s) => s.name === name);
@@ -219,7 +212,7 @@ export function findingsOf(engine: CompiledModel): Finding[] {
         severity: internet ? "high" : "medium",
         title: `${name} listens on "${f.name}"`,
         detail: `${name} sends credentials in clear text; use ${name === "http" ? "https" : "ssh"} instead and disable ${name}${internet ? ". It answers non-private sources" : ""}.`,
-        elements: [element, `service:${name}`],
+        elements: [element, elementRef("service", name)],
         source: SOURCES.cleartext,
       });
     }
@@ -243,7 +236,7 @@ export function findingsOf(engine: CompiledModel): Finding[] {
               ? `Only operator networks (${countText(all)} non-private addresses) reach the login; keep that list short and the second factor on.`
               : `${countText(subtractSets(seen.hits[worst], operators))} non-private sources outside the operator networks get ${OUTCOMES[worst]} at some time ` +
                 `(${setToCidrs(subtractSets(seen.hits[worst], operators)).slice(0, 3).join(", ")}…); allow only operator networks and drop the rest silently.`,
-          elements: [element, `service:${s.name}`],
+          elements: [element, elementRef("service", s.name)],
           source: SOURCES.exposure,
         });
       } else if (s.kind === "echo" && seen.outcomes.has(ANSWERED)) {
@@ -273,14 +266,14 @@ export function findingsOf(engine: CompiledModel): Finding[] {
   const used = firstMatchRules(engine);
   for (const r of engine.rules) {
     if (!r.enabled) continue;
-    const element = `rule:${r.id}`;
+    const element = elementRef("rule", r.id);
     if (r.schedule >= 0 && !engine.week.slices.some((s) => s.active[r.schedule])) {
       add({
         code: "rule-never-active",
         severity: "low",
         title: `Rule "${r.id}" is never active`,
         detail: `Its schedule "${model.schedules[r.schedule].name}" has no active time in the week.`,
-        elements: [element, `schedule:${model.schedules[r.schedule].name}`],
+        elements: [element, elementRef("schedule", model.schedules[r.schedule].name)],
         source: SOURCES.hygiene,
       });
       continue;
@@ -317,7 +310,7 @@ export function findingsOf(engine: CompiledModel): Finding[] {
         severity: "critical",
         title: `Operator network "${name}" has no login path`,
         detail: `No address in ${[...rangesToCidrs(set.v4, 4), ...rangesToCidrs(set.v6, 6)].slice(0, 4).join(", ")} can reach a login with an eligible account on any interface, service or time.`,
-        elements: [`operator-network:${name}`],
+        elements: [elementRef("operator-network", name)],
         source: SOURCES.lockout,
       });
     }
@@ -326,7 +319,7 @@ export function findingsOf(engine: CompiledModel): Finding[] {
   out.push(...unusedObjects(engine));
   return out.sort(
     (a, b) =>
-      SEVERITIES.indexOf(b.severity) - SEVERITIES.indexOf(a.severity) ||
+      severityRank(b.severity) - severityRank(a.severity) ||
       a.code.localeCompare(b.code) ||
       a.elements.join(" ").localeCompare(b.elements.join(" ")),
   );
@@ -364,12 +357,12 @@ function unusedObjects(engine: CompiledModel): Finding[] {
     ...model.accounts.flatMap((a) => a.services),
   ]);
   const scheduleRefs = new Set(model.inboundRules.map((r) => r.schedule));
-  const unused: string[] = [
-    ...model.addresses.filter((a) => !addressRefs.has(a.name)).map((a) => `address:${a.name}`),
-    ...model.addressGroups.filter((g) => !addressRefs.has(g.name)).map((g) => `address-group:${g.name}`),
-    ...model.services.filter((s) => !serviceRefs.has(s.name)).map((s) => `service:${s.name}`),
-    ...model.serviceGroups.filter((g) => !serviceRefs.has(g.name)).map((g) => `service-group:${g.name}`),
-    ...model.schedules.filter((s) => !scheduleRefs.has(s.name)).map((s) => `schedule:${s.name}`),
+  const unused: ElementRef[] = [
+    ...model.addresses.filter((a) => !addressRefs.has(a.name)).map((a) => elementRef("address", a.name)),
+    ...model.addressGroups.filter((g) => !addressRefs.has(g.name)).map((g) => elementRef("address-group", g.name)),
+    ...model.services.filter((s) => !serviceRefs.has(s.name)).map((s) => elementRef("service", s.name)),
+    ...model.serviceGroups.filter((g) => !serviceRefs.has(g.name)).map((g) => elementRef("service-group", g.name)),
+    ...model.schedules.filter((s) => !scheduleRefs.has(s.name)).map((s) => elementRef("schedule", s.name)),
   ];
   return unused.map((element) => ({
     code: "unused-object" as const,

@@ -20,7 +20,6 @@ import type { TraceResult } from "./trace.ts";
 export { parseModel } from "./model.ts";
 export type {
   Account,
-  CatalogueService,
   DeviceInterface,
   DeviceModel,
   DeviceModelInput,
@@ -31,13 +30,67 @@ export type {
 } from "./model.ts";
 export { CompiledModel, ProbeError } from "./compile.ts";
 export type { ProbeInput } from "./compile.ts";
-export { OUTCOMES, LAYERS } from "./outcomes.ts";
-export type { Layer, Outcome, OutcomeRecord } from "./outcomes.ts";
 export type { TraceLayer, TraceResult } from "./trace.ts";
 export type { ExposureAt, ExposureEntry, ExposureMap, ExposureSlice } from "./exposure.ts";
 export type { ReachResult } from "./reach.ts";
-export { findingsOf as findings, SEVERITIES, severityAtLeast } from "./findings.ts";
-export type { Finding, FindingCode, Severity } from "./findings.ts";
+export { findingsOf as findings } from "./findings.ts";
+export type { Finding, FindingCode } from "./findings.ts";
+export { countBySeverity, emptySeverityCounts, FINDING_CODE_PATTERN, findingKey, parseFindingKey } from "./finding-keys.ts";
+export type { FindingIdentity } from "./finding-keys.ts";
+// The product's words, defined in vocabulary.ts (the browser may import that module directly).
+export {
+  ACCESS_LEVELS,
+  ALWAYS_SCHEDULE,
+  ANY_INTERFACE,
+  ANY_SERVICE,
+  BUILTIN_ADDRESS_NAMES,
+  BUILTIN_SERVICES,
+  CUSTOM_SERVICE_KINDS,
+  DAYS,
+  ELEMENT_KINDS,
+  elementRef,
+  INTERFACE_ROLES,
+  isBuiltinAddressName,
+  isDay,
+  isLayer,
+  isOutcome,
+  isSeverity,
+  LAYERS,
+  NAME_PATTERN,
+  OUTCOMES,
+  outcomeRank,
+  presentsLogin,
+  PORT_PROTOCOLS,
+  PROTOCOLS,
+  RULE_ACTIONS,
+  SECOND_FACTORS,
+  SERVICE_KINDS,
+  SEVERITIES,
+  severityAtLeast,
+  severityRank,
+  UNLISTENED_PORT_ACTIONS,
+} from "./vocabulary.ts";
+export type {
+  AccessLevel,
+  BuiltinAddressName,
+  CatalogueService,
+  CustomServiceKind,
+  Day,
+  ElementKind,
+  ElementRef,
+  InterfaceRole,
+  Layer,
+  Outcome,
+  OutcomeRecord,
+  PortProtocol,
+  Protocol,
+  RuleAction,
+  SecondFactor,
+  ServiceKind,
+  Severity,
+  SeverityCounts,
+  UnlistenedPortAction,
+} from "./vocabulary.ts";
 export { diffModels } from "./diff.ts";
 export type { ModelDiff, DiffChange, LockoutEntry } from "./diff.ts";
 
@@ -64,6 +117,3 @@ export function exposure(device: CompiledModel, at?: string | number | Date): Ex
   return exposureAt(device, device.instantOf(at, Date.now()));
 }
 
-
-export { BUILTIN_SERVICES } from "./model.ts";
-export { DAYS } from "./schedules.ts";

@@ -3,37 +3,27 @@
 
 import { z } from "zod";
 import { AddressSyntaxError, formatAddress, parseEntry, parseInterfaceAddress } from "./addresses.ts";
-import { DAYS, isValidTimeZone } from "./schedules.ts";
+import { isValidTimeZone } from "./schedules.ts";
+import {
+  ACCESS_LEVELS,
+  ALWAYS_SCHEDULE,
+  ANY_INTERFACE,
+  ANY_SERVICE,
+  BUILTIN_ADDRESS_NAMES,
+  BUILTIN_SERVICES,
+  CUSTOM_SERVICE_KINDS,
+  DAYS,
+  INTERFACE_ROLES,
+  isBuiltinAddressName,
+  NAME_PATTERN,
+  PORT_PROTOCOLS,
+  RULE_ACTIONS,
+  SECOND_FACTORS,
+  UNLISTENED_PORT_ACTIONS,
+} from "./vocabulary.ts";
+import type { Protocol } from "./vocabulary.ts";
 
-export const NAME_PATTERN = /^[A-Za-z0-9._-]{1,63}$/;
 const HHMM = /^([01][0-9]|2[0-3]):[0-5][0-9]$/;
-
-export const BUILTIN_ADDRESS_NAMES = ["any", "any4", "any6"] as const;
-export const ANY_SERVICE = "any";
-export const ALWAYS_SCHEDULE = "always";
-export const ANY_INTERFACE = "any";
-
-export type ServiceKind = "login" | "other" | "echo";
-export type Protocol = "tcp" | "udp" | "icmp";
-
-export interface CatalogueService {
-  readonly name: string;
-  readonly protocol: Protocol;
-  /** Port for tcp/udp; null for ICMP echo. */
-  readonly port: number | null;
-  readonly kind: ServiceKind;
-  readonly builtin: boolean;
-}
-
-/** The built-in catalogue (IANA service-name and port registry; RFC 792 / RFC 4443 echo). */
-export const BUILTIN_SERVICES: readonly CatalogueService[] = [
-  { name: "https", protocol: "tcp", port: 443, kind: "login", builtin: true },
-  { name: "http", protocol: "tcp", port: 80, kind: "login", builtin: true },
-  { name: "ssh", protocol: "tcp", port: 22, kind: "login", builtin: true },
-  { name: "telnet", protocol: "tcp", port: 23, kind: "login", builtin: true },
-  { name: "ping", protocol: "icmp", port: null, kind: "echo", builtin: true },
-  { name: "snmp", protocol: "udp", port: 161, kind: "other", builtin: true },
-];
 
 /** "tcp/443", "udp/161", "icmp/echo": how rules and probes match services. */
 export function serviceKey(protocol: Protocol, port: number | null): string {
@@ -52,14 +42,14 @@ function schemaFor(strict: boolean) {
         .string()
         .default("UTC")
         .refine((tz) => isValidTimeZone(tz), { message: "is not a known IANA time zone" }),
-      defaultInbound: z.enum(["allow", "deny"]).default("allow"),
-      unlistenedPort: z.enum(["drop", "reset"]).default("drop"),
+      defaultInbound: z.enum(RULE_ACTIONS).default("allow"),
+      unlistenedPort: z.enum(UNLISTENED_PORT_ACTIONS).default("drop"),
     }),
     interfaces: z
       .array(
         obj({
           name,
-          role: z.enum(["inside", "outside", "dmz", "mgmt", "other"]).default("other"),
+          role: z.enum(INTERFACE_ROLES).default("other"),
           addresses: z.array(z.string()).default([]),
           listeners: names.default([]),
         }),
@@ -69,9 +59,9 @@ function schemaFor(strict: boolean) {
       .array(
         obj({
           name,
-          protocol: z.enum(["tcp", "udp"]),
+          protocol: z.enum(PORT_PROTOCOLS),
           port: z.number().int().min(1).max(65535),
-          kind: z.enum(["login", "other"]),
+          kind: z.enum(CUSTOM_SERVICE_KINDS),
         }),
       )
       .default([]),
@@ -101,7 +91,7 @@ function schemaFor(strict: boolean) {
           destinations: names,
           services: names,
           schedule: name.default(ALWAYS_SCHEDULE),
-          action: z.enum(["allow", "deny"]),
+          action: z.enum(RULE_ACTIONS),
           enabled: z.boolean().default(true),
           note: z.string().default(""),
         }),
@@ -112,9 +102,9 @@ function schemaFor(strict: boolean) {
         obj({
           name,
           loginSources: z.array(z.string()).default([]),
-          secondFactor: z.enum(["none", "totp"]).default("none"),
+          secondFactor: z.enum(SECOND_FACTORS).default("none"),
           services: names.default([]),
-          accessLevel: z.enum(["full", "read-only"]).default("full"),
+          accessLevel: z.enum(ACCESS_LEVELS).default("full"),
           enabled: z.boolean().default(true),
         }),
       )
@@ -262,7 +252,7 @@ function checkSemantics(model: DeviceModel, errors: ValidationIssue[], warnings:
     a.entries = a.entries.map((text, j) => normalisedEntry(text, `addresses[${i}].entries[${j}]`));
   });
 
-  const isAddressName = (n: string): boolean => addressKinds.has(n) || (BUILTIN_ADDRESS_NAMES as readonly string[]).includes(n);
+  const isAddressName = (n: string): boolean => addressKinds.has(n) || isBuiltinAddressName(n);
   const isServiceName = (n: string): boolean => serviceKinds.has(n) || catalogue.has(n) || n === ANY_SERVICE;
   const checkAddressNames = (list: readonly string[], path: string): void => {
     list.forEach((n, j) => {

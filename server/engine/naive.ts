@@ -5,10 +5,10 @@
 import { DateTime } from "luxon";
 import { parseAddress, parseEntry } from "./addresses.ts";
 import type { Address, AddressRange } from "./addresses.ts";
-import { BUILTIN_SERVICES, looksLikeAddressEntry } from "./model.ts";
+import { looksLikeAddressEntry } from "./model.ts";
 import type { DeviceModel } from "./model.ts";
-import { OUTCOMES } from "./outcomes.ts";
-import type { Layer, Outcome } from "./outcomes.ts";
+import { ALWAYS_SCHEDULE, BUILTIN_SERVICES, DAYS, OUTCOMES } from "./vocabulary.ts";
+import type { Layer, Outcome } from "./vocabulary.ts";
 
 export interface NaiveProbe {
   readonly from: string;
@@ -28,7 +28,6 @@ export interface NaiveTrace {
 }
 
 type Service = { protocol: string; port: number | null; kind: string; name: string | null };
-const DAY_NAMES = ["mon", "tue", "wed", "thu", "fri", "sat", "sun"];
 
 export class NaiveEvaluator {
   private readonly entries = new Map<string, AddressRange[]>();
@@ -56,12 +55,12 @@ export class NaiveEvaluator {
   }
 
   private scheduleActive(name: string, atMs: number): boolean {
-    if (name === "always") return true;
+    if (name === ALWAYS_SCHEDULE) return true;
     const schedule = this.model.schedules.find((s) => s.name === name);
     if (schedule === undefined) return false;
     const local = DateTime.fromMillis(atMs, { zone: this.model.device.timezone });
-    const today = DAY_NAMES[local.weekday - 1];
-    const yesterday = DAY_NAMES[(local.weekday + 5) % 7];
+    const today = DAYS[local.weekday - 1];
+    const yesterday = DAYS[(local.weekday + 5) % 7];
     const minute = local.hour * 60 + local.minute;
     return schedule.windows.some((w) => {
       const start = Number(w.start.slice(0, 2)) * 60 + Number(w.start.slice(3));

@@ -2,9 +2,9 @@
 // ("week minutes"); the week is circular.
 
 import { DateTime, IANAZone } from "luxon";
+import { DAYS } from "./vocabulary.ts";
+import type { Day } from "./vocabulary.ts";
 
-export const DAYS = ["mon", "tue", "wed", "thu", "fri", "sat", "sun"] as const;
-export type Day = (typeof DAYS)[number];
 export const MINUTES_PER_DAY = 1440;
 export const WEEK_MINUTES = 7 * MINUTES_PER_DAY;
 

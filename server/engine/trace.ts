@@ -3,8 +3,8 @@
 import { formatAddress } from "./addresses.ts";
 import type { CompiledModel, ProbeInput, ResolvedProbe } from "./compile.ts";
 import { runValueAt } from "./domain.ts";
-import { OUTCOMES } from "./outcomes.ts";
-import type { Layer, Outcome } from "./outcomes.ts";
+import { OUTCOMES } from "./vocabulary.ts";
+import type { Layer, Outcome } from "./vocabulary.ts";
 
 export interface TraceLayer {
   readonly layer: Layer;

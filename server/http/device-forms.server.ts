@@ -1,7 +1,21 @@
 // Turns the device editor's form posts into workspace edits. Each builder validates the
 // fields with zod (messages per field) and returns the edit to apply to the current document.
 import { z } from "zod";
-import { DAYS } from "../engine/index.ts";
+import {
+  ACCESS_LEVELS,
+  ANY_INTERFACE,
+  BUILTIN_ADDRESS_NAMES,
+  CUSTOM_SERVICE_KINDS,
+  DAYS,
+  INTERFACE_ROLES,
+  isDay,
+  NAME_PATTERN,
+  PORT_PROTOCOLS,
+  RULE_ACTIONS,
+  SECOND_FACTORS,
+  UNLISTENED_PORT_ACTIONS,
+  type Day,
+} from "../engine/index.ts";
 import {
   deleteNamed,
   deleteRule,
@@ -17,6 +31,7 @@ import {
   type ModelDocument,
 } from "../workspace/index.ts";
 import { fieldErrorsOf, type FieldErrors } from "./form.server.ts";
+import { ElementNameSchema } from "./schemas.ts";
 
 export type EditPlan = { edit: (document: ModelDocument) => ModelDocument; message: string; siteId?: string };
 export type PlanResult = { ok: true; plan: EditPlan } | { ok: false; errors: FieldErrors };
@@ -31,7 +46,7 @@ export function formValuesWithLists(form: FormData): Record<string, string> {
   return values;
 }
 
-const NAME = z.string().trim().regex(/^[A-Za-z0-9._-]{1,63}$/, "Use 1–63 characters: letters, digits, dot, underscore, dash.");
+const NAME = ElementNameSchema;
 
 /** Names or entries typed one per line or separated by commas or spaces. */
 const LIST = z
@@ -40,7 +55,7 @@ const LIST = z
   .default("")
   .transform((text) => text.split(/[\s,]+/).map((item) => item.trim()).filter(Boolean));
 
-const NAME_LIST = LIST.pipe(z.array(NAME.or(z.literal("any")).or(z.literal("any4")).or(z.literal("any6"))));
+const NAME_LIST = LIST.pipe(z.array(NAME.or(z.enum(BUILTIN_ADDRESS_NAMES))));
 
 const CHECKBOX = z
   .string()
@@ -52,7 +67,7 @@ const ORIGINAL = z.string().trim().max(63).optional().transform((value) => (valu
 const InterfaceForm = z.object({
   original: ORIGINAL,
   name: NAME,
-  role: z.enum(["inside", "outside", "dmz", "mgmt", "other"], { message: "Choose a role." }),
+  role: z.enum(INTERFACE_ROLES, { message: "Choose a role." }),
   addresses: LIST,
   listeners: LIST,
 });
@@ -62,19 +77,20 @@ const GroupForm = z.object({ original: ORIGINAL, name: NAME, members: NAME_LIST.
 const ServiceForm = z.object({
   original: ORIGINAL,
   name: NAME,
-  protocol: z.enum(["tcp", "udp"], { message: "Choose tcp or udp." }),
+  protocol: z.enum(PORT_PROTOCOLS, { message: "Choose tcp or udp." }),
   port: z.coerce.number({ message: "Enter a port number." }).int("Enter a whole number.").min(1, "Ports run from 1 to 65535.").max(65535, "Ports run from 1 to 65535."),
-  kind: z.enum(["login", "other"], { message: "Choose login or other." }),
+  kind: z.enum(CUSTOM_SERVICE_KINDS, { message: "Choose login or other." }),
 });
 
-const WINDOW_LINE = /^((?:mon|tue|wed|thu|fri|sat|sun)(?:[ ,]+(?:mon|tue|wed|thu|fri|sat|sun))*)\s+([0-2][0-9]:[0-5][0-9])\s*-\s*([0-2][0-9]:[0-5][0-9])$/i;
+const DAY = `(?:${DAYS.join("|")})`;
+const WINDOW_LINE = new RegExp(`^(${DAY}(?:[ ,]+${DAY})*)\\s+([0-2][0-9]:[0-5][0-9])\\s*-\\s*([0-2][0-9]:[0-5][0-9])$`, "i");
 
 /** Schedule windows typed one per line: "mon tue wed thu fri 08:00-17:00". */
 const WINDOWS = z
   .string()
   .max(5_000)
   .transform((text, context) => {
-    const windows: Array<{ days: Array<(typeof DAYS)[number]>; start: string; end: string }> = [];
+    const windows: Array<{ days: Day[]; start: string; end: string }> = [];
     for (const [index, raw] of text.split("\n").entries()) {
       const line = raw.trim();
       if (!line) continue;
@@ -83,7 +99,7 @@ const WINDOWS = z
         context.addIssue({ code: "custom", message: `Line ${index + 1} ("${line.slice(0, 40)}"): write days then times, e.g. "mon tue wed thu fri 08:00-17:00".` });
         return z.NEVER;
       }
-      const days = match[1].toLowerCase().split(/[ ,]+/) as Array<(typeof DAYS)[number]>;
+      const days = match[1].toLowerCase().split(/[ ,]+/).filter(isDay);
       windows.push({ days, start: match[2], end: match[3] });
     }
     if (windows.length === 0) {
@@ -97,14 +113,15 @@ const ScheduleForm = z.object({ original: ORIGINAL, name: NAME, windows: WINDOWS
 
 const RuleForm = z.object({
   original: ORIGINAL,
-  id: z.string().trim().max(63).regex(/^[A-Za-z0-9._-]*$/, "Use letters, digits, dot, underscore, dash.").default(""),
+  // Empty asks for an automatic id; otherwise an id is a name.
+  id: z.string().trim().max(63).refine((id) => id === "" || NAME_PATTERN.test(id), "Use letters, digits, dot, underscore, dash.").default(""),
   position: z.string().trim().optional().transform((value) => (value ? Number(value) : undefined)).pipe(z.number().int("Enter a whole number.").min(1, "Positions start at 1.").optional()),
-  interface: NAME.or(z.literal("any")),
+  interface: NAME.or(z.literal(ANY_INTERFACE)),
   sources: NAME_LIST.pipe(z.array(z.string()).min(1, "Name at least one source (or any).")),
   destinations: NAME_LIST.pipe(z.array(z.string()).min(1, "Name at least one destination (or any).")),
   services: NAME_LIST.pipe(z.array(z.string()).min(1, "Name at least one service (or any).")),
   schedule: NAME,
-  action: z.enum(["allow", "deny"], { message: "Choose allow or deny." }),
+  action: z.enum(RULE_ACTIONS, { message: "Choose allow or deny." }),
   enabled: CHECKBOX,
   note: z.string().max(500, "Use at most 500 characters.").default(""),
 });
@@ -113,9 +130,9 @@ const AccountForm = z.object({
   original: ORIGINAL,
   name: NAME,
   loginSources: LIST,
-  secondFactor: z.enum(["none", "totp"], { message: "Choose none or TOTP." }),
+  secondFactor: z.enum(SECOND_FACTORS, { message: "Choose none or TOTP." }),
   services: LIST,
-  accessLevel: z.enum(["full", "read-only"], { message: "Choose full or read-only." }),
+  accessLevel: z.enum(ACCESS_LEVELS, { message: "Choose full or read-only." }),
   enabled: CHECKBOX,
 });
 
@@ -123,8 +140,8 @@ const SettingsForm = z.object({
   name: NAME,
   siteId: z.string().uuid("Choose a site."),
   timezone: z.string().trim().min(1, "Enter an IANA time zone such as Europe/Amsterdam.").max(64),
-  defaultInbound: z.enum(["allow", "deny"], { message: "Choose allow or deny." }),
-  unlistenedPort: z.enum(["drop", "reset"], { message: "Choose drop or reset." }),
+  defaultInbound: z.enum(RULE_ACTIONS, { message: "Choose allow or deny." }),
+  unlistenedPort: z.enum(UNLISTENED_PORT_ACTIONS, { message: "Choose drop or reset." }),
 });
 
 const ElementName = z.object({ name: NAME });

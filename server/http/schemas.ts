@@ -1,6 +1,7 @@
 import { z } from "zod";
 import { findPasswordProblem, PASSWORD_MAX_LENGTH } from "../auth/password-rules.ts";
-import { ROLES } from "../auth/roles.ts";
+import { ROLES } from "#models/roles.ts";
+import { NAME_PATTERN } from "../engine/vocabulary.ts";
 
 // Field schemas shared by the actions, so each field is validated the same way everywhere.
 export const EmailSchema = z
@@ -16,6 +17,9 @@ export const PersonNameSchema = z.string().trim().min(1, "Enter a name.").max(10
 export const OrganisationNameSchema = z.string().trim().min(2, "Enter the organisation's name (at least 2 characters).").max(100, "Use at most 100 characters.");
 
 export const RoleSchema = z.enum(ROLES, { message: `Choose one of: ${ROLES.join(", ")}.` });
+
+/** The name of a device, a device element or a shared object (PRODUCT.md §4: 1–63 of A-Z a-z 0-9 . _ -). */
+export const ElementNameSchema = z.string().trim().regex(NAME_PATTERN, "Use 1–63 characters: letters, digits, dot, underscore, dash.");
 
 export const IdSchema = z.string().uuid("That identifier is not valid.");
 

@@ -1,9 +1,8 @@
 import { Op, UniqueConstraintError } from "sequelize";
-import { emptySeverityCounts, findingKey, isSeverity, type SeverityCountsRecord } from "#app/utils/finding-keys.ts";
 import { FindingDismissal } from "#models/index.ts";
 import { getDatabase } from "../db/database.server.ts";
 import { deviceRevisions, type DeviceAtRevision } from "../devices/index.ts";
-import type { Finding } from "../engine/index.ts";
+import { emptySeverityCounts, findingKey, isSeverity, type Finding, type SeverityCounts } from "../engine/index.ts";
 import { Refusal } from "../errors.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 
@@ -111,9 +110,9 @@ export async function fleetFindings(organisationId: string): Promise<{ devices: 
  * Counts of active (not dismissed) findings per device of the organisation, by severity,
  * from each device's current revision: the figures the fleet table should show.
  */
-export async function activeFindingsBySeverity(organisationId: string): Promise<Map<string, SeverityCountsRecord>> {
+export async function activeFindingsBySeverity(organisationId: string): Promise<Map<string, SeverityCounts>> {
   const { devices, rows } = await fleetFindings(organisationId);
-  const counts = new Map<string, SeverityCountsRecord>(devices.map((device) => [device.id, emptySeverityCounts()]));
+  const counts = new Map<string, SeverityCounts>(devices.map((device) => [device.id, emptySeverityCounts()]));
   for (const row of rows) {
     const deviceCounts = counts.get(row.deviceId);
     if (deviceCounts && !row.dismissed && isSeverity(row.severity)) deviceCounts[row.severity] += 1;

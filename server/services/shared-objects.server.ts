@@ -1,12 +1,13 @@
 import { SharedAddressObject } from "#models/index.ts";
+import type { SharedObjectKind } from "#models/shared-address-object.ts";
 import { CsvSyntaxError, parseCsv } from "../formats/csv.ts";
-import { parseModel } from "../engine/index.ts";
+import { NAME_PATTERN, parseModel } from "../engine/index.ts";
 import { deviceRevisions } from "../devices/index.ts";
 import { Refusal } from "../errors.ts";
 import { findUsages } from "../workspace/index.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 
-export type SharedObjectInput = { kind: "address" | "group"; name: string; items: string[]; description: string };
+export type SharedObjectInput = { kind: SharedObjectKind; name: string; items: string[]; description: string };
 export type SharedObjectRow = SharedObjectInput & { id: string };
 
 export async function listSharedObjects(organisationId: string): Promise<SharedObjectRow[]> {
@@ -108,7 +109,7 @@ export async function importSharedObjectsCsv(organisationId: string, text: strin
       report.push({ row, name: rawName, result: "refused", message: "Too many columns: expected name,entries (quote entries that contain commas)." });
       continue;
     }
-    if (!/^[A-Za-z0-9._-]{1,63}$/.test(rawName)) {
+    if (!NAME_PATTERN.test(rawName)) {
       report.push({ row, name: rawName, result: "refused", message: "The name must be 1–63 characters of letters, digits, dot, underscore, dash." });
       continue;
     }

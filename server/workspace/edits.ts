@@ -2,7 +2,7 @@
 // changed) or throws EditError; the caller validates the result with the engine. Pure.
 import { Refusal } from "../errors.ts";
 import type { ModelDocument } from "./document.ts";
-import { findUsages, renameReferences, type ElementKind, type Usage } from "./references.ts";
+import { findUsages, renameReferences, type ReferenceKind, type Usage } from "./references.ts";
 
 /** A refused edit: what to tell the user, the HTTP status, the field and the usages concerned. */
 export class EditError extends Refusal {
@@ -20,7 +20,7 @@ export type NamedCollection = "interfaces" | "services" | "addresses" | "address
 
 type ItemOf<C extends NamedCollection> = ModelDocument[C][number];
 
-const KIND_OF: Record<NamedCollection, ElementKind | null> = {
+const KIND_OF: Record<NamedCollection, ReferenceKind | null> = {
   interfaces: "interface",
   services: "service",
   addresses: "address",

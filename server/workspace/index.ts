@@ -18,7 +18,7 @@ export {
 } from "./edits.ts";
 export type { NamedCollection } from "./edits.ts";
 export { findUsages, renameReferences } from "./references.ts";
-export type { ElementKind, Usage } from "./references.ts";
+export type { ReferenceKind, Usage } from "./references.ts";
 export { diffDocuments } from "./document-diff.ts";
 export type { DocumentChange } from "./document-diff.ts";
 export { summariseDocument } from "./summary.ts";

@@ -1,12 +1,14 @@
 // Where a document uses a name, and renaming a name everywhere it is used. Pure.
+import type { ElementKind } from "../engine/index.ts";
 import type { ModelDocument } from "./document.ts";
 
-export type ElementKind = "interface" | "address" | "service" | "schedule";
+/** The kinds of element other elements refer to by name (groups share their members' name space). */
+export type ReferenceKind = Extract<ElementKind, "interface" | "address" | "service" | "schedule">;
 
 export type Usage = { path: string; where: string };
 
 /** Every place that refers to `name` as an element of `kind`, with a readable description. */
-export function findUsages(document: ModelDocument, kind: ElementKind, name: string): Usage[] {
+export function findUsages(document: ModelDocument, kind: ReferenceKind, name: string): Usage[] {
   const usages: Usage[] = [];
   const add = (path: string, where: string) => usages.push({ path, where });
   document.inboundRules.forEach((rule, index) => {
@@ -43,7 +45,7 @@ export function findUsages(document: ModelDocument, kind: ElementKind, name: str
 }
 
 /** The document with every reference to `from` (as `kind`) pointing at `to`; definitions are left to the caller. */
-export function renameReferences(document: ModelDocument, kind: ElementKind, from: string, to: string): ModelDocument {
+export function renameReferences(document: ModelDocument, kind: ReferenceKind, from: string, to: string): ModelDocument {
   if (from === to) return document;
   const swap = (value: string) => (value === from ? to : value);
   const swapAll = (values: string[]) => values.map(swap);

@@ -1,5 +1,5 @@
 // What the fleet table shows for a revision, computed once by the engine when it is saved.
-import { compileModel, exposure, findings, OUTCOMES, SEVERITIES, type CompiledModel, type Finding, type Outcome } from "../engine/index.ts";
+import { compileModel, emptySeverityCounts, exposure, findings, OUTCOMES, type CompiledModel, type Finding, type Outcome } from "../engine/index.ts";
 import type { ModelDocument } from "./document.ts";
 
 export type RevisionSummary = {
@@ -11,7 +11,7 @@ export type RevisionSummary = {
 
 /** The summary of a revision; pass the compiled model and findings when they exist already. */
 export function summariseDocument(effective: ModelDocument, device: CompiledModel = compileModel(effective), found: readonly Finding[] = findings(device)): RevisionSummary {
-  const findingsBySeverity = Object.fromEntries(SEVERITIES.map((severity) => [severity, 0])) as Record<string, number>;
+  const findingsBySeverity: Record<string, number> = emptySeverityCounts();
   for (const finding of found) findingsBySeverity[finding.severity] += 1;
 
   const outside = new Set(effective.interfaces.filter((entry) => entry.role === "outside").map((entry) => entry.name));

@@ -2,7 +2,8 @@
 // and the fleet findings page's filters and order, without a database.
 
 import { describe, expect, test } from "vitest";
-import { countBySeverity, filterFindingRows, findingKey, parseFindingKey, parseFindingsQuery, sortFindingRows, type FindingRowLike } from "#app/utils/finding-keys";
+import { filterFindingRows, parseFindingsQuery, sortFindingRows, type FindingRowLike } from "#app/utils/finding-keys";
+import { countBySeverity, findingKey, parseFindingKey } from "#server/engine/finding-keys";
 
 describe("Finding keys", () => {
   test("A finding's key ignores element order, so the same finding on a later revision has the same key", () => {

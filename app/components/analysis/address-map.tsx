@@ -1,5 +1,6 @@
 import { useId } from "react";
-import { OUTCOME_LABELS, OUTCOME_ORDER } from "#app/components/outcome";
+import { OUTCOME_LABELS } from "#app/components/outcome";
+import { OUTCOMES } from "#server/engine/vocabulary";
 import { buildGrid, gridRuns, type GridSpec } from "#server/analysis/address-grids";
 
 // The address-space picture: each cell a block of addresses, filled with the most exposed
@@ -9,7 +10,7 @@ import { buildGrid, gridRuns, type GridSpec } from "#server/analysis/address-gri
 
 const CELL = 2;
 
-export const OUTCOME_FILL = (rank: number): string => (rank >= 0 && rank < OUTCOME_ORDER.length ? `var(--color-outcome-${OUTCOME_ORDER[rank]})` : "var(--color-surface-sunken)");
+export const OUTCOME_FILL = (rank: number): string => (rank >= 0 && rank < OUTCOMES.length ? `var(--color-outcome-${OUTCOMES[rank]})` : "var(--color-surface-sunken)");
 
 type Special = { key: string; label: string; source: string; cidrs: readonly string[]; mark: "hatch" | "dots" | "cross" | "ring" };
 
@@ -168,7 +169,7 @@ export function AddressMapLegend({ specs }: { specs: readonly GridSpec[] }) {
         <h4 className="mb-1 font-semibold text-ink-muted">Cell colour: most exposed outcome in the block</h4>
         <p className="mb-1 text-ink-faint">Blocks more exposed than most of the map are drawn enlarged, outlined.</p>
         <ul className="space-y-1">
-          {[...OUTCOME_ORDER].reverse().map((outcome) => (
+          {[...OUTCOMES].reverse().map((outcome) => (
             <li key={outcome} className="flex items-center gap-2">
               <span aria-hidden="true" className="inline-block h-3 w-5 rounded-[2px] border border-line-strong" style={{ background: `var(--color-outcome-${outcome})` }} />
               {OUTCOME_LABELS[outcome]}

@@ -2,9 +2,10 @@ import { Background, Handle, Position, ReactFlow, type Edge, type Node, type Nod
 import { useMemo } from "react";
 import { useNavigate } from "react-router";
 import type { TraceResult } from "#server/engine/trace";
-import { isOutcome, OUTCOME_LABELS, OutcomeChip } from "../outcome";
+import { OUTCOME_LABELS, OutcomeChip } from "../outcome";
+import { isOutcome, LAYERS, type Layer } from "#server/engine/vocabulary";
 import { cx } from "../ui/cx";
-import { LAYER_ORDER, LAYER_TITLES, outcomeSentence } from "#app/utils/trace-words";
+import { LAYER_TITLES, outcomeSentence } from "#app/utils/trace-words";
 
 export type CanvasModel = {
   interfaces: Array<{ name: string; role: string; addresses: string[]; listeners: string[] }>;
@@ -74,7 +75,7 @@ function gridPosition(index: number): { x: number; y: number } {
 export function LayerCanvas({ model, trace, step, devicePath, probe }: { model: CanvasModel; trace: TraceResult | null; step: number; devicePath: string; probe: { from: string; interface: string; service: string } }) {
   const navigate = useNavigate();
   const { nodes, edges } = useMemo(() => {
-    const verdictOf = (layer: string): { verdict: Verdict; detail?: string } => {
+    const verdictOf = (layer: Layer): { verdict: Verdict; detail?: string } => {
       if (!trace) return { verdict: "ahead" };
       const index = trace.layers.findIndex((entry) => entry.layer === layer);
       if (index < 0) return { verdict: step >= trace.layers.length ? "unreached" : "ahead" };
@@ -84,7 +85,7 @@ export function LayerCanvas({ model, trace, step, devicePath, probe }: { model: 
     const iface = model.interfaces.find((entry) => entry.name === (trace?.interface ?? probe.interface));
     const matched = trace?.ruleId;
     const eligible = new Set(trace?.eligibleAccounts ?? []);
-    const layerNodes: Array<{ id: string; data: LayerNodeData }> = [
+    const layerNodes: Array<{ id: Layer; data: LayerNodeData }> = [
       {
         id: "arrival",
         data: {
@@ -221,7 +222,7 @@ export function LayerCanvas({ model, trace, step, devicePath, probe }: { model: 
         } satisfies LayerNodeData,
       },
     ];
-    const order = ["probe", ...LAYER_ORDER, "outcome"];
+    const order = ["probe", ...LAYERS, "outcome"];
     const reachedUpTo = trace ? Math.min(step, trace.layers.length) : 0;
     const edges: Edge[] = order.slice(1).map((id, index) => ({
       id: `${order[index]}-${id}`,

@@ -1,11 +1,12 @@
-import { OUTCOME_LABELS, OUTCOME_ORDER } from "#app/components/outcome";
+import { OUTCOME_LABELS } from "#app/components/outcome";
+import { DAYS, OUTCOMES, type Day } from "#server/engine/vocabulary";
 import type { HourCell } from "#server/analysis/week-hours";
 import { OUTCOME_FILL } from "./address-map";
 
-const DAYS = ["Mon", "Tue", "Wed", "Thu", "Fri", "Sat", "Sun"] as const;
+const DAY_LABELS: Record<Day, string> = { mon: "Mon", tue: "Tue", wed: "Wed", thu: "Thu", fri: "Fri", sat: "Sat", sun: "Sun" };
 
 function labelOf(rank: number): string {
-  return rank >= 0 && rank < OUTCOME_ORDER.length ? OUTCOME_LABELS[OUTCOME_ORDER[rank]] : "no data";
+  return rank >= 0 && rank < OUTCOMES.length ? OUTCOME_LABELS[OUTCOMES[rank]] : "no data";
 }
 
 /**
@@ -34,12 +35,12 @@ export function WeekHourGrid({ cells, current, caption }: { cells: readonly Hour
           {DAYS.map((day, dayIndex) => (
             <tr key={day}>
               <th scope="row" className="pr-1 text-left font-medium text-ink-muted">
-                {day}
+                {DAY_LABELS[day]}
               </th>
               {Array.from({ length: 24 }, (_, hour) => {
                 const index = dayIndex * 24 + hour;
                 const cell = cells[index];
-                const words = `${day} ${String(hour).padStart(2, "0")}:00: ${labelOf(cell.top)}${cell.wider ? ", more sources answered than at the quietest time" : ""}${cell.changes ? " (changes within the hour)" : ""}${current === index ? " — the chosen time" : ""}`;
+                const words = `${DAY_LABELS[day]} ${String(hour).padStart(2, "0")}:00: ${labelOf(cell.top)}${cell.wider ? ", more sources answered than at the quietest time" : ""}${cell.changes ? " (changes within the hour)" : ""}${current === index ? " — the chosen time" : ""}`;
                 return (
                   <td key={hour} title={words} className="relative h-5 w-6 rounded-[3px] p-0" style={{ background: OUTCOME_FILL(cell.top), outline: current === index ? "2px solid var(--color-ink)" : undefined, outlineOffset: 1 }}>
                     <span className="sr-only">{words}</span>

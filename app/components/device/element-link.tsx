@@ -1,22 +1,13 @@
 import { Link } from "react-router";
-
-const SECTION_OF: Record<string, string> = {
-  account: "accounts",
-  address: "addresses",
-  "address-group": "addresses",
-  interface: "interfaces",
-  "operator-network": "operator-networks",
-  rule: "rules",
-  schedule: "schedules",
-  service: "services",
-  "service-group": "services",
-};
+import { ELEMENT_KINDS } from "#server/engine/vocabulary";
+import { SECTION_OF_ELEMENT } from "./sections";
 
 /** The editor address of an element named "kind:name" in findings and traces. */
 export function elementEditorPath(devicePath: string, element: string): string | null {
   const separator = element.indexOf(":");
-  const section = SECTION_OF[element.slice(0, separator)];
-  if (!section) return null;
+  const kind = ELEMENT_KINDS.find((candidate) => candidate === element.slice(0, separator));
+  if (!kind) return null;
+  const section = SECTION_OF_ELEMENT[kind];
   const name = element.slice(separator + 1);
   return `${devicePath}/model/${section}?edit=${encodeURIComponent(name)}#edit`;
 }

@@ -3,15 +3,21 @@ import { SortableContext, sortableKeyboardCoordinates, useSortable, verticalList
 import { CSS } from "@dnd-kit/utilities";
 import { useState } from "react";
 import { Link, useSubmit } from "react-router";
+import { ALWAYS_SCHEDULE, ANY_INTERFACE, type RuleAction } from "#server/engine/vocabulary";
 import type { ModelDocument } from "#server/workspace/document";
 import { Badge } from "../ui/card";
 import { cx } from "../ui/cx";
 import { EmptyState } from "../ui/empty-state";
-import { SelectField, TextField } from "../ui/field";
+import { LabelledOptions, SelectField, TextField } from "../ui/field";
 import { ActionButton, EditorForm, EditorPanel, listText, NameHint, SaveButton, TextAreaField, valuesFor } from "./editor-kit";
 import type { SectionEditorProps } from "./section-editor";
 
 type Rule = ModelDocument["inboundRules"][number];
+
+const ACTION_LABELS: Record<RuleAction, string> = {
+  allow: "allow (continue to the listener and login layers)",
+  deny: "deny (silently drop)",
+};
 
 function RuleRow({ rule, position, count, props }: { rule: Rule; position: number; count: number; props: SectionEditorProps }) {
   const { setNodeRef, transform, transition, isDragging, attributes, listeners } = useSortable({ id: rule.id, disabled: !props.canEdit });
@@ -42,7 +48,7 @@ function RuleRow({ rule, position, count, props }: { rule: Rule; position: numbe
           <code className="font-semibold">{rule.id}</code>
           <Badge tone={rule.action === "allow" ? "success" : "danger"}>{rule.action}</Badge>
           {!rule.enabled ? <Badge>disabled</Badge> : null}
-          {rule.schedule !== "always" ? <Badge tone="brass">schedule {rule.schedule}</Badge> : null}
+          {rule.schedule !== ALWAYS_SCHEDULE ? <Badge tone="brass">schedule {rule.schedule}</Badge> : null}
           <span className="text-ink-muted">on {rule.interface}</span>
         </div>
         <p className="mt-1 font-mono text-xs break-words text-ink-muted">
@@ -128,11 +134,10 @@ export function RulesSection(props: SectionEditorProps) {
               <TextField label="Position" name="position" inputMode="numeric" defaultValue={values.position ?? editingPosition?.toString()} error={errors.position} placeholder={`${rules.length + 1} (last)`} />
             </div>
             <SelectField label="Action" name="action" defaultValue={values.action ?? editing?.action ?? "allow"} error={errors.action}>
-              <option value="allow">allow (continue to the listener and login layers)</option>
-              <option value="deny">deny (silently drop)</option>
+              <LabelledOptions labels={ACTION_LABELS} />
             </SelectField>
-            <SelectField label="Interface" name="interface" defaultValue={values.interface ?? editing?.interface ?? "any"} error={errors.interface}>
-              <option value="any">any</option>
+            <SelectField label="Interface" name="interface" defaultValue={values.interface ?? editing?.interface ?? ANY_INTERFACE} error={errors.interface}>
+              <option value={ANY_INTERFACE}>{ANY_INTERFACE}</option>
               {props.names.interfaces.map((name) => (
                 <option key={name} value={name}>
                   {name}
@@ -156,8 +161,8 @@ export function RulesSection(props: SectionEditorProps) {
               error={errors.services}
               hint={<NameHint label="Services (and any)" names={[...props.names.services.map((service) => service.name), ...props.names.serviceGroups]} />}
             />
-            <SelectField label="Schedule" name="schedule" defaultValue={values.schedule ?? editing?.schedule ?? "always"} error={errors.schedule}>
-              <option value="always">always</option>
+            <SelectField label="Schedule" name="schedule" defaultValue={values.schedule ?? editing?.schedule ?? ALWAYS_SCHEDULE} error={errors.schedule}>
+              <option value={ALWAYS_SCHEDULE}>{ALWAYS_SCHEDULE}</option>
               {props.names.schedules.map((name) => (
                 <option key={name} value={name}>
                   {name}

@@ -1,8 +1,17 @@
+import {
+  ACCESS_LEVELS,
+  INTERFACE_ROLES,
+  PORT_PROTOCOLS,
+  type CustomServiceKind,
+  type RuleAction,
+  type SecondFactor,
+  type UnlistenedPortAction,
+} from "#server/engine/vocabulary";
 import type { ModelDocument } from "#server/workspace/document";
 import type { DocumentChange } from "#server/workspace/document-diff";
 import { Badge, Card } from "../ui/card";
 import { EmptyState } from "../ui/empty-state";
-import { SelectField, TextField } from "../ui/field";
+import { LabelledOptions, SelectField, TextField, WordOptions } from "../ui/field";
 import { Table, Td, Th } from "../ui/table";
 import {
   ActionButton,
@@ -19,13 +28,34 @@ import {
   type EditorProps,
 } from "./editor-kit";
 import { RulesSection } from "./rules-section";
+import type { DeviceSection } from "./sections";
 import type { ReactNode } from "react";
 import { Link } from "react-router";
 
-export type SectionName = "interfaces" | "addresses" | "services" | "schedules" | "rules" | "accounts" | "operator-networks" | "settings";
+// The choices of the editor's selects, worded for the person editing; keyed by the engine's
+// words so a new one needs its wording here.
+const SERVICE_KIND_LABELS: Record<CustomServiceKind, string> = {
+  login: "login (presents a login page or banner)",
+  other: "other (answers without a login)",
+};
+
+const SECOND_FACTOR_LABELS: Record<SecondFactor, string> = {
+  totp: "TOTP (RFC 6238)",
+  none: "none",
+};
+
+const DEFAULT_INBOUND_LABELS: Record<RuleAction, string> = {
+  allow: "allow — rules only restrict (most devices)",
+  deny: "deny — silent unless a rule allows",
+};
+
+const UNLISTENED_PORT_LABELS: Record<UnlistenedPortAction, string> = {
+  drop: "drop — no answer",
+  reset: "reset — answer with a reset or port-unreachable (reveals the device)",
+};
 
 export type SectionEditorProps = EditorProps & {
-  section: SectionName;
+  section: DeviceSection;
   document: ModelDocument;
   siteId: string;
   sites: Array<{ id: string; name: string }>;
@@ -164,11 +194,7 @@ function InterfacesSection(props: SectionEditorProps) {
             <input type="hidden" name="original" value={editing?.name ?? ""} />
             <TextField label="Name" name="name" defaultValue={values.name ?? editing?.name} error={errors.name} maxLength={63} />
             <SelectField label="Role" name="role" defaultValue={values.role ?? editing?.role ?? "inside"} error={errors.role}>
-              {["outside", "inside", "dmz", "mgmt", "other"].map((role) => (
-                <option key={role} value={role}>
-                  {role}
-                </option>
-              ))}
+              <WordOptions words={INTERFACE_ROLES} />
             </SelectField>
             <TextAreaField label="Addresses" name="addresses" defaultValue={listText(values, "addresses", editing?.addresses)} error={errors.addresses} hint="One per line, with prefix length: 192.0.2.1/24, 2001:db8:1::1/64." />
             <CheckboxGroup
@@ -281,14 +307,12 @@ function ServicesSection(props: SectionEditorProps) {
               <TextField label="Name" name="name" defaultValue={service.values.name ?? editingService?.name} error={service.errors.name} maxLength={63} />
               <div className="grid grid-cols-2 gap-3">
                 <SelectField label="Protocol" name="protocol" defaultValue={service.values.protocol ?? editingService?.protocol ?? "tcp"} error={service.errors.protocol}>
-                  <option value="tcp">tcp</option>
-                  <option value="udp">udp</option>
+                  <WordOptions words={PORT_PROTOCOLS} />
                 </SelectField>
                 <TextField label="Port" name="port" inputMode="numeric" defaultValue={service.values.port ?? editingService?.port?.toString()} error={service.errors.port} />
               </div>
               <SelectField label="Kind" name="kind" defaultValue={service.values.kind ?? editingService?.kind ?? "login"} error={service.errors.kind}>
-                <option value="login">login (presents a login page or banner)</option>
-                <option value="other">other (answers without a login)</option>
+                <LabelledOptions labels={SERVICE_KIND_LABELS} />
               </SelectField>
               <SaveButton>{editingService ? "Save service" : "Add service"}</SaveButton>
             </EditorForm>
@@ -446,8 +470,7 @@ function AccountsSection(props: SectionEditorProps) {
               }
             />
             <SelectField label="Second factor" name="secondFactor" defaultValue={values.secondFactor ?? editing?.secondFactor ?? "totp"} error={errors.secondFactor}>
-              <option value="totp">TOTP (RFC 6238)</option>
-              <option value="none">none</option>
+              <LabelledOptions labels={SECOND_FACTOR_LABELS} />
             </SelectField>
             <CheckboxGroup
               legend="Login services this account may use"
@@ -458,8 +481,7 @@ function AccountsSection(props: SectionEditorProps) {
               hint="None ticked means every login service."
             />
             <SelectField label="Access level" name="accessLevel" defaultValue={values.accessLevel ?? editing?.accessLevel ?? "full"} error={errors.accessLevel}>
-              <option value="full">full</option>
-              <option value="read-only">read-only</option>
+              <WordOptions words={ACCESS_LEVELS} />
             </SelectField>
             <label className="flex items-center gap-2 text-sm">
               <input type="checkbox" name="enabled" defaultChecked={submitted ? values.enabled === "on" : (editing?.enabled ?? true)} />
@@ -519,12 +541,10 @@ function SettingsSection(props: SectionEditorProps) {
           </SelectField>
           <TextField label="Time zone" name="timezone" defaultValue={values.timezone ?? device.timezone} error={errors.timezone} hint="IANA name, e.g. Europe/Amsterdam; schedules are read in it, daylight saving included." />
           <SelectField label="Default inbound action (no rule matched)" name="defaultInbound" defaultValue={values.defaultInbound ?? device.defaultInbound} error={errors.defaultInbound}>
-            <option value="allow">allow — rules only restrict (most devices)</option>
-            <option value="deny">deny — silent unless a rule allows</option>
+            <LabelledOptions labels={DEFAULT_INBOUND_LABELS} />
           </SelectField>
           <SelectField label="Ports with no listener" name="unlistenedPort" defaultValue={values.unlistenedPort ?? device.unlistenedPort} error={errors.unlistenedPort}>
-            <option value="drop">drop — no answer</option>
-            <option value="reset">reset — answer with a reset or port-unreachable (reveals the device)</option>
+            <LabelledOptions labels={UNLISTENED_PORT_LABELS} />
           </SelectField>
           <SaveButton>Save settings</SaveButton>
         </EditorForm>

@@ -5,7 +5,7 @@ import { Button } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
 import { FormError } from "#app/components/ui/field";
-import { severityRank } from "#app/utils/finding-keys";
+import { severityRank } from "#server/engine/vocabulary";
 import type { FindingView } from "#server/services/findings.server";
 
 /** A finding as the device overview receives it from the loader. */

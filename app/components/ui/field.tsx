@@ -53,6 +53,27 @@ export function SelectField({ label, error, hint, className, children, ...props 
   );
 }
 
+/** One option per word of a vocabulary, each showing the word itself. */
+export function WordOptions({ words }: { words: readonly string[] }) {
+  return words.map((word) => (
+    <option key={word} value={word}>
+      {word}
+    </option>
+  ));
+}
+
+/**
+ * One option per word, in the order the labels are written. Keyed by the vocabulary's type
+ * (`Record<RuleAction, string>`), so a new word fails typecheck until it has its wording.
+ */
+export function LabelledOptions<Word extends string>({ labels }: { labels: Record<Word, string> }) {
+  return Object.entries<string>(labels).map(([word, label]) => (
+    <option key={word} value={word}>
+      {label}
+    </option>
+  ));
+}
+
 /** The form-level message shown above the fields when an action refuses the whole form. */
 export function FormError({ message }: { message?: string | null }) {
   if (!message) return null;

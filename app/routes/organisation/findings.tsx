@@ -3,8 +3,9 @@ import type { Route } from "./+types/findings";
 import { requireRole } from "#server/auth/guard.server";
 import { fleetFindings } from "#server/services/findings.server";
 import { ElementLink } from "#app/components/device/element-link";
-import { countBySeverity, filterFindingRows, parseFindingsQuery, SEVERITY_SCALE, sortFindingRows } from "#app/utils/finding-keys";
-import { SeverityBadge } from "#app/components/severity";
+import { filterFindingRows, parseFindingsQuery, sortFindingRows } from "#app/utils/finding-keys";
+import { countBySeverity } from "#server/engine/finding-keys";
+import { SEVERITY_ORDER, SeverityBadge } from "#app/components/severity";
 import { ButtonLink } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
@@ -63,7 +64,7 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
       ) : (
         <>
           <section aria-label="Active findings by severity" className="mb-6 grid grid-cols-2 gap-3 sm:grid-cols-3 lg:grid-cols-6">
-            {[...SEVERITY_SCALE].reverse().map((severity) => (
+            {SEVERITY_ORDER.map((severity) => (
               <Link
                 key={severity}
                 to={severityLink(severity)}
@@ -90,7 +91,7 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
               <span className="mb-1 block font-medium">Severity at least</span>
               <select name="severity" defaultValue={query.minSeverity} className={selectClasses}>
                 <option value="">Any</option>
-                {[...SEVERITY_SCALE].reverse().map((severity) => (
+                {SEVERITY_ORDER.map((severity) => (
                   <option key={severity} value={severity}>
                     {severity}
                   </option>

@@ -4,7 +4,7 @@
 
 import { formatAddress } from "../addresses.ts";
 import type { DeviceModelInput } from "../model.ts";
-import { DAYS } from "../schedules.ts";
+import { ALWAYS_SCHEDULE, BUILTIN_ADDRESS_NAMES, DAYS, INTERFACE_ROLES } from "../vocabulary.ts";
 
 /** mulberry32: a small, fast, seedable PRNG returning [0, 1). */
 export function prng(seed: number): () => number {
@@ -126,7 +126,7 @@ export function generateModel(seed: number, size: ModelSize): Generated {
     if (chance(0.3)) addresses.push(`${v4Text((0xcb007100 + 64 + i) >>> 0)}/24`);
     return {
       name: `if${i}`,
-      role: pick(["inside", "outside", "dmz", "mgmt", "other"] as const),
+      role: pick(INTERFACE_ROLES),
       addresses,
       listeners: SERVICES.filter(() => chance(0.5)),
     };
@@ -152,7 +152,7 @@ export function generateModel(seed: number, size: ModelSize): Generated {
   const groupNames = groups.map((g) => g.name);
   const sourceName = (): string => {
     const r = rnd();
-    if (r < 0.04) return pick(["any", "any4", "any6"]);
+    if (r < 0.04) return pick(BUILTIN_ADDRESS_NAMES);
     if (r < 0.3 && groupNames.length > 0) return pick(groupNames);
     return pick(addressNames);
   };
@@ -160,7 +160,7 @@ export function generateModel(seed: number, size: ModelSize): Generated {
   const hhmm = (m: number): string => `${String(Math.floor(m / 60)).padStart(2, "0")}:${String(m % 60).padStart(2, "0")}`;
   const officeWindow = (): { days: (typeof DAYS)[number][]; start: string; end: string } => {
     const shape = int(4);
-    if (shape === 0) return { days: ["mon", "tue", "wed", "thu", "fri"], start: hhmm((7 + int(3)) * 60), end: hhmm((16 + int(4)) * 60) };
+    if (shape === 0) return { days: DAYS.slice(0, 5), start: hhmm((7 + int(3)) * 60), end: hhmm((16 + int(4)) * 60) };
     if (shape === 1) return { days: [pick(["sat", "sun"])], start: hhmm((20 + int(4)) * 60), end: hhmm((1 + int(4)) * 60) };
     if (shape === 2) return { days: [...DAYS], start: hhmm((21 + int(3)) * 60), end: hhmm((5 + int(2)) * 60) };
     return { days: [pick(DAYS)], start: hhmm(int(24) * 60), end: hhmm(int(24) * 60) };
@@ -190,13 +190,13 @@ export function generateModel(seed: number, size: ModelSize): Generated {
     sources: Array.from({ length: 1 + int(3) }, sourceName),
     destinations: chance(0.6) ? ["any"] : [iface === "any" || chance(0.3) ? "device-addrs" : chance(0.9) ? `${iface}-addrs` : pick(addressNames)],
     services: chance(0.2) ? ["any"] : [...new Set(Array.from({ length: 1 + int(3) }, () => pick(serviceChoices)))],
-    schedule: chance(size.scheduledShare) && schedules.length > 0 ? pick(schedules).name : "always",
+    schedule: chance(size.scheduledShare) && schedules.length > 0 ? pick(schedules).name : ALWAYS_SCHEDULE,
     action: chance(0.5) ? ("allow" as const) : ("deny" as const),
     enabled: chance(0.95),
   };
   });
   if (chance(0.7)) {
-    inboundRules.push({ id: "final-drop", interface: "any", sources: ["any"], destinations: ["any"], services: ["any"], schedule: "always", action: "deny", enabled: true });
+    inboundRules.push({ id: "final-drop", interface: "any", sources: ["any"], destinations: ["any"], services: ["any"], schedule: ALWAYS_SCHEDULE, action: "deny", enabled: true });
   }
 
   const accounts = Array.from({ length: size.accounts }, (_, i) => ({

@@ -8,7 +8,8 @@ import { hasAtLeastRole } from "#server/auth/roles";
 import { listDevices, type DeviceRow } from "#server/services/devices.server";
 import { activeFindingsBySeverity } from "#server/services/findings.server";
 import { listSites } from "#server/services/sites.server";
-import { isOutcome, OUTCOME_ORDER, OutcomeChip } from "#app/components/outcome";
+import { OutcomeChip } from "#app/components/outcome";
+import { isOutcome, outcomeRank } from "#server/engine/vocabulary";
 import { SEVERITY_ORDER, SeverityCounts } from "#app/components/severity";
 import { ButtonLink } from "#app/components/ui/button";
 import { PageHeader } from "#app/components/ui/card";
@@ -27,7 +28,7 @@ const COLUMNS = [
   { id: "name", accessorFn: (device) => device.name.toLowerCase(), enableGlobalFilter: true },
   { id: "site", accessorFn: (device) => device.siteName.toLowerCase(), enableGlobalFilter: true },
   { id: "findings", accessorFn: (device) => findingsWeight(device.findingsBySeverity) },
-  { id: "exposure", accessorFn: (device) => (isOutcome(device.worstOutsideOutcome) ? OUTCOME_ORDER.indexOf(device.worstOutsideOutcome) : -1) },
+  { id: "exposure", accessorFn: (device) => (isOutcome(device.worstOutsideOutcome) ? outcomeRank(device.worstOutsideOutcome) : -1) },
   { id: "updated", accessorKey: "updatedAt" },
 ] as const satisfies readonly ColumnDef<DeviceRow>[];
 const SITE_FILTER = { id: "siteId", accessorKey: "siteId", filterFn: "equals" } as const satisfies ColumnDef<DeviceRow>;

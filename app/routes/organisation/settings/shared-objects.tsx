@@ -6,12 +6,14 @@ import { requireRole } from "#server/auth/guard.server";
 import { hasAtLeastRole } from "#server/auth/roles";
 import { actorOf } from "#server/http/actor.server";
 import { fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
+import { ElementNameSchema } from "#server/http/schemas";
 import { deleteSharedObject, importSharedObjectsCsv, listSharedObjects, saveSharedObject } from "#server/services/shared-objects.server";
 import { TextAreaField } from "#app/components/device/editor-kit";
 import { Badge, Card } from "#app/components/ui/card";
 import { Button } from "#app/components/ui/button";
 import { EmptyState } from "#app/components/ui/empty-state";
-import { FormError, SelectField, TextField } from "#app/components/ui/field";
+import { FormError, LabelledOptions, SelectField, TextField } from "#app/components/ui/field";
+import { SHARED_OBJECT_KINDS, type SharedObjectKind } from "#models/shared-address-object";
 import { Table, Td, Th } from "#app/components/ui/table";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { refusedForm } from "#server/http/refusals.server";
@@ -23,10 +25,12 @@ export async function loader({ context }: Route.LoaderArgs) {
   return { objects: await listSharedObjects(access.organisation.id), canManage: hasAtLeastRole(access.role, "admin") };
 }
 
+const KIND_LABELS: Record<SharedObjectKind, string> = { address: "address object (entries)", group: "group (member names)" };
+
 const SharedObjectSchema = z.object({
   original: z.string().trim().max(63).optional().transform((value) => value || null),
-  kind: z.enum(["address", "group"], { message: "Choose address object or group." }),
-  name: z.string().trim().regex(/^[A-Za-z0-9._-]{1,63}$/, "Use 1–63 characters: letters, digits, dot, underscore, dash."),
+  kind: z.enum(SHARED_OBJECT_KINDS, { message: "Choose address object or group." }),
+  name: ElementNameSchema,
   items: z
     .string()
     .max(20_000, "That list is too long.")
@@ -135,8 +139,7 @@ export default function SharedObjects({ loaderData, actionData }: Route.Componen
               <input type="hidden" name="intent" value="save" />
               <input type="hidden" name="original" value={editing?.name ?? ""} />
               <SelectField label="Kind" name="kind" defaultValue={values.kind ?? editing?.kind ?? "address"} error={errors.kind}>
-                <option value="address">address object (entries)</option>
-                <option value="group">group (member names)</option>
+                <LabelledOptions labels={KIND_LABELS} />
               </SelectField>
               <TextField label="Name" name="name" defaultValue={values.name ?? editing?.name} error={errors.name} maxLength={63} />
               <TextAreaField label="Entries or members" name="items" defaultValue={values.items ?? editing?.items.join("\n")} error={errors.items} hint="One per line: CIDRs, addresses or ranges for an object; names for a group." />

@@ -7,7 +7,7 @@ import { requireDevice } from "#server/http/device-access.server";
 import { formValues, readForm, unknownIntent } from "#server/http/form.server";
 import { refusedWith } from "#server/http/refusals.server";
 import { dismissFinding, restoreFinding } from "#server/services/findings.server";
-import { parseFindingKey } from "#app/utils/finding-keys";
+import { parseFindingKey } from "#server/engine/finding-keys";
 import { clientAddressOf } from "#server/http/request-context.server";
 
 const ReasonSchema = z

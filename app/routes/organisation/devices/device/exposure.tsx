@@ -5,7 +5,8 @@ import { requireDevice } from "#server/http/device-access.server";
 import { AddressGrid, AddressMapLegend } from "#app/components/analysis/address-map";
 import { Count, Pager, SimulationCaution } from "#app/components/analysis/common";
 import { WeekHourGrid } from "#app/components/analysis/week-hour";
-import { OUTCOME_LABELS, OUTCOME_ORDER, OutcomeChip } from "#app/components/outcome";
+import { OUTCOME_LABELS, OutcomeChip } from "#app/components/outcome";
+import { OUTCOMES } from "#server/engine/vocabulary";
 import { buttonClasses } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
@@ -99,7 +100,7 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
             <span className="mb-1 block font-medium">Outcome present</span>
             <select name="outcome" defaultValue={query.outcome} className={selectClass}>
               <option value="">Any outcome</option>
-              {[...OUTCOME_ORDER].reverse().map((outcome) => (
+              {[...OUTCOMES].reverse().map((outcome) => (
                 <option key={outcome} value={outcome}>
                   {OUTCOME_LABELS[outcome]}
                 </option>
@@ -149,7 +150,7 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
                   <tr>
                     <Th className="px-3">Interface · address</Th>
                     <Th className="px-3">Service</Th>
-                    {[...OUTCOME_ORDER].reverse().map((outcome) => (
+                    {[...OUTCOMES].reverse().map((outcome) => (
                       <Th key={outcome} className="px-3 text-right normal-case">
                         {OUTCOME_LABELS[outcome]}
                       </Th>
@@ -168,7 +169,7 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
                           <span className="font-medium">{entry.interface}</span> <span className="font-mono text-ink-muted">{entry.to}</span>
                         </Td>
                         <Td className="px-3 py-2 font-mono">{entry.service}</Td>
-                        {[...OUTCOME_ORDER.keys()].reverse().map((rank) => (
+                        {[...OUTCOMES.keys()].reverse().map((rank) => (
                           <Td key={rank} className={cx("px-3 py-2 text-right", entry.counts[rank] === "0" ? "text-ink-faint" : rank === entry.top && rank > 0 ? "font-semibold" : undefined)}>
                             <Count value={entry.counts[rank]} />
                           </Td>
@@ -214,7 +215,7 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
                             ? "IPv4: rows are the first octet (0 at the top, 255 at the bottom), columns the second octet (0 left, 255 right)"
                             : `${grid.spec.base}: ${grid.spec.columns} cells per row, each a /${grid.spec.cellPrefix}, in address order`
                         }
-                        description={OUTCOME_ORDER.map((outcome, rank) => `${OUTCOME_LABELS[outcome]}: ${grid.cellsPerRank[rank]} cells`).join("; ")}
+                        description={OUTCOMES.map((outcome, rank) => `${OUTCOME_LABELS[outcome]}: ${grid.cellsPerRank[rank]} cells`).join("; ")}
                       />
                     ))}
                   </div>
@@ -236,10 +237,10 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
                         </tr>
                       </thead>
                       <tbody>
-                        {[...OUTCOME_ORDER.keys()].reverse().map((rank) => (
+                        {[...OUTCOMES.keys()].reverse().map((rank) => (
                           <tr key={rank} className="border-t border-line">
                             <td className="py-1 pr-2">
-                              <OutcomeChip outcome={OUTCOME_ORDER[rank]} />
+                              <OutcomeChip outcome={OUTCOMES[rank]} />
                             </td>
                             <td className="py-1 pr-2 text-right">
                               <Count value={focus.counts[rank]} />

@@ -4,17 +4,7 @@ import { hasAtLeastRole } from "#server/auth/roles";
 import { deviceMiddleware, requireDevice } from "#server/http/device-access.server";
 import { buttonClasses } from "#app/components/ui/button";
 import { cx } from "#app/components/ui/cx";
-
-export const DEVICE_SECTIONS = [
-  ["interfaces", "Interfaces"],
-  ["addresses", "Addresses"],
-  ["services", "Services"],
-  ["schedules", "Schedules"],
-  ["rules", "Inbound rules"],
-  ["accounts", "Accounts"],
-  ["operator-networks", "Operator networks"],
-  ["settings", "Settings"],
-] as const;
+import { DEVICE_SECTIONS, SECTION_TITLES } from "#app/components/device/sections";
 
 // The device in the URL at its current revision, resolved once per request for every route below.
 export const middleware: Route.MiddlewareFunction[] = [deviceMiddleware];
@@ -65,9 +55,9 @@ export default function DeviceLayout({ loaderData }: Route.ComponentProps) {
         <NavLink to={`${base}/exposure`} className={tab}>
           Exposure map
         </NavLink>
-        {DEVICE_SECTIONS.map(([section, label]) => (
+        {DEVICE_SECTIONS.map((section) => (
           <NavLink key={section} to={`${base}/model/${section}`} className={tab}>
-            {label}
+            {SECTION_TITLES[section]}
           </NavLink>
         ))}
         <NavLink to={`${base}/history`} className={tab}>

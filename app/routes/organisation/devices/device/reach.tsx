@@ -3,7 +3,9 @@ import type { Route } from "./+types/reach";
 import { answerReach, reachQueryOf, type ReachRow } from "#server/analysis/reach.server";
 import { requireDevice } from "#server/http/device-access.server";
 import { SimulationCaution } from "#app/components/analysis/common";
-import { OUTCOME_LABELS, OUTCOME_ORDER, OutcomeChip, type OutcomeName } from "#app/components/outcome";
+import { OUTCOME_LABELS, OutcomeChip } from "#app/components/outcome";
+import { isLayer, LAYERS, OUTCOMES, outcomeRank, presentsLogin, type Outcome } from "#server/engine/vocabulary";
+import { LAYER_TITLES } from "#app/utils/trace-words";
 import { buttonClasses } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
@@ -14,23 +16,13 @@ import { Table, Td } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Reach${loaded?.query.from ? ` from ${loaded.query.from}` : ""} · ${loaded?.deviceName ?? "Device"} · Sallyport` }];
 
-const LAYER_LABELS: Record<string, string> = {
-  arrival: "Arrival",
-  "inbound-rules": "Inbound rules",
-  listener: "Listener",
-  "service-kind": "Service kind",
-  "login-sources": "Login sources",
-  "second-factor": "Second factor",
-};
-const LAYER_ORDER = Object.keys(LAYER_LABELS);
-
 // Sortable columns (?sort=); the first is the engine's order: interfaces as in the model,
 // services as in the catalogue. Outcome and layer ties keep that order.
 const COLUMNS = [
   { id: "interface", accessorFn: (row) => row.interfaceIndex * 10_000 + row.serviceIndex },
   { id: "service", accessorFn: (row) => row.serviceIndex * 10_000 + row.interfaceIndex },
-  { id: "outcome", accessorFn: (row) => OUTCOME_ORDER.indexOf(row.outcome) * 10_000 + row.interfaceIndex * 100 + row.serviceIndex },
-  { id: "layer", accessorFn: (row) => LAYER_ORDER.indexOf(row.layer) * 10_000 + row.interfaceIndex * 100 + row.serviceIndex },
+  { id: "outcome", accessorFn: (row) => outcomeRank(row.outcome) * 10_000 + row.interfaceIndex * 100 + row.serviceIndex },
+  { id: "layer", accessorFn: (row) => (isLayer(row.layer) ? LAYERS.indexOf(row.layer) : -1) * 10_000 + row.interfaceIndex * 100 + row.serviceIndex },
   { id: "rule", accessorFn: (row) => row.ruleId ?? "" },
   { id: "accounts", accessorFn: (row) => row.eligibleAccounts.join(" ") },
 ] as const satisfies readonly ColumnDef<ReachRow>[];
@@ -51,8 +43,8 @@ export async function loader({ request, context }: Route.LoaderArgs) {
 
 /** "reaches 2 services with a login (2 with a password only), 1 answers, …" from the rows. */
 function summaryOf(rows: readonly ReachRow[]): string {
-  const count = (outcomes: readonly OutcomeName[]) => rows.filter((row) => outcomes.includes(row.outcome)).length;
-  const logins = count(["login-password", "login-mfa", "login-denied"]);
+  const count = (outcomes: readonly Outcome[]) => rows.filter((row) => outcomes.includes(row.outcome)).length;
+  const logins = rows.filter((row) => presentsLogin(row.outcome)).length;
   const loginParts = [
     [count(["login-password"]), "with a password only"],
     [count(["login-mfa"]), "with a second factor"],
@@ -156,7 +148,7 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
                       <span className="sr-only"> ({row.outcome})</span>
                     </Td>
                     <Td className="max-w-md">
-                      <span className="font-medium">{LAYER_LABELS[row.layer] ?? row.layer}</span>
+                      <span className="font-medium">{isLayer(row.layer) ? LAYER_TITLES[row.layer] : row.layer}</span>
                       <span className="block text-xs text-ink-muted">{row.detail}</span>
                     </Td>
                     <Td className="font-mono text-xs">{row.ruleId ?? <span className="font-sans whitespace-nowrap text-ink-faint">no rule matched</span>}</Td>
@@ -167,7 +159,7 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
             </Table>
           )}
           <p className="text-xs text-ink-muted">
-            Outcomes, least to most exposed: {OUTCOME_ORDER.map((outcome) => OUTCOME_LABELS[outcome]).join(" < ")}. Anything above “{OUTCOME_LABELS.silent}” tells an outsider the device exists.
+            Outcomes, least to most exposed: {OUTCOMES.map((outcome) => OUTCOME_LABELS[outcome]).join(" < ")}. Anything above “{OUTCOME_LABELS.silent}” tells an outsider the device exists.
           </p>
         </section>
       ) : Object.keys(errors).length ? null : (

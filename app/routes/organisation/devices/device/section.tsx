@@ -9,16 +9,14 @@ import { formValuesWithLists, planDeviceEdit } from "#server/http/device-forms.s
 import { invalidForm, readForm, unknownIntent } from "#server/http/form.server";
 import { deleteDevice, loadSharedLibrary, saveEdit } from "#server/services/devices.server";
 import { listSites } from "#server/services/sites.server";
-import { SectionEditor, type SectionName } from "#app/components/device/section-editor";
+import { SectionEditor } from "#app/components/device/section-editor";
+import { isDeviceSection, type DeviceSection } from "#app/components/device/sections";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { refusedForm } from "#server/http/refusals.server";
 
-const SECTIONS = ["interfaces", "addresses", "services", "schedules", "rules", "accounts", "operator-networks", "settings"] as const;
-
-function sectionOf(value: string | undefined): SectionName {
-  const section = SECTIONS.find((candidate) => candidate === value);
-  if (!section) throw data({ message: `This device has no section "${String(value).slice(0, 40)}".` }, { status: 404 });
-  return section;
+function sectionOf(value: string | undefined): DeviceSection {
+  if (!isDeviceSection(value)) throw data({ message: `This device has no section "${String(value).slice(0, 40)}".` }, { status: 404 });
+  return value;
 }
 
 export const meta: Route.MetaFunction = ({ params }) => [{ title: `${params.section} · Sallyport` }];

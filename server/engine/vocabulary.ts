@@ -1,0 +1,171 @@
+// The product's words, each defined once (PRODUCT.md §3–§6): outcomes, layers, severities,
+// interface roles, rule actions, days, protocols and service kinds, the built-in catalogue
+// and names, element kinds and the name pattern. Pure data and small guards with no imports,
+// so the engine, the server and the browser share this one copy. Labels, colours and
+// sentences stay in app/, keyed by these types (`Record<Outcome, string>`), so a new word
+// fails typecheck wherever it still lacks its wording.
+
+function oneOf<const Words extends readonly string[]>(words: Words, value: unknown): value is Words[number] {
+  return typeof value === "string" && words.includes(value);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Outcomes and layers (PRODUCT.md §3)
+
+/** Outcomes, least to most exposed. Everything above "silent" tells an outsider the device exists. */
+export const OUTCOMES = ["silent", "refused", "answered", "login-denied", "login-mfa", "login-password"] as const;
+export type Outcome = (typeof OUTCOMES)[number];
+export type OutcomeRecord<T> = Record<Outcome, T>;
+
+export function isOutcome(value: unknown): value is Outcome {
+  return oneOf(OUTCOMES, value);
+}
+
+/** 0 for "silent" up to 5 for "login-password": the engine computes with ranks, not names. */
+export function outcomeRank(outcome: Outcome): number {
+  return OUTCOMES.indexOf(outcome);
+}
+
+export function outcomeRecord<T>(make: (outcome: Outcome, rank: number) => T): OutcomeRecord<T> {
+  const out = {} as OutcomeRecord<T>;
+  OUTCOMES.forEach((outcome, rank) => {
+    out[outcome] = make(outcome, rank);
+  });
+  return out;
+}
+
+// Ranks by name for the engine's hot paths (partitions hold ranks).
+export const SILENT = outcomeRank("silent");
+export const REFUSED = outcomeRank("refused");
+export const ANSWERED = outcomeRank("answered");
+export const LOGIN_DENIED = outcomeRank("login-denied");
+export const LOGIN_MFA = outcomeRank("login-mfa");
+export const LOGIN_PASSWORD = outcomeRank("login-password");
+
+/** Whether the outcome shows an outsider a login (page or banner): "login-denied" and above. */
+export function presentsLogin(outcome: Outcome): boolean {
+  return outcomeRank(outcome) >= LOGIN_DENIED;
+}
+
+/** The layers of a trace, in order; the first that stops decides the outcome. */
+export const LAYERS = ["arrival", "inbound-rules", "listener", "service-kind", "login-sources", "second-factor"] as const;
+export type Layer = (typeof LAYERS)[number];
+
+export function isLayer(value: unknown): value is Layer {
+  return oneOf(LAYERS, value);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Severities (docs/engine.md "Findings")
+
+/** Least to most severe. `--fail-on X` fails on any finding at X or above. */
+export const SEVERITIES = ["info", "low", "medium", "high", "critical"] as const;
+export type Severity = (typeof SEVERITIES)[number];
+export type SeverityCounts = Record<Severity, number>;
+
+export function isSeverity(value: unknown): value is Severity {
+  return oneOf(SEVERITIES, value);
+}
+
+/** 0 (info) … 4 (critical); -1 for text that is no severity (a stored row, a URL). */
+export function severityRank(severity: string): number {
+  return isSeverity(severity) ? SEVERITIES.indexOf(severity) : -1;
+}
+
+export function severityAtLeast(severity: Severity, threshold: Severity): boolean {
+  return severityRank(severity) >= severityRank(threshold);
+}
+
+// ---------------------------------------------------------------------------------------------
+// The device model document (PRODUCT.md §4)
+
+/** Names are unique per kind, 1–63 characters of [A-Za-z0-9._-] (PRODUCT.md §4). */
+export const NAME_PATTERN = /^[A-Za-z0-9._-]{1,63}$/;
+
+/**
+ * Interface roles, in the order PRODUCT.md §4 lists them. These are the words of document
+ * version 1 (PRODUCT.md §4: outside = wan, inside = lan, mgmt = management).
+ */
+export const INTERFACE_ROLES = ["outside", "inside", "dmz", "mgmt", "other"] as const;
+export type InterfaceRole = (typeof INTERFACE_ROLES)[number];
+
+/** An inbound rule's action, and the device's default when no rule matches. */
+export const RULE_ACTIONS = ["allow", "deny"] as const;
+export type RuleAction = (typeof RULE_ACTIONS)[number];
+
+/** What a port with no listener does: "drop" stays silent, "reset" answers and so reveals the device. */
+export const UNLISTENED_PORT_ACTIONS = ["drop", "reset"] as const;
+export type UnlistenedPortAction = (typeof UNLISTENED_PORT_ACTIONS)[number];
+
+export const SECOND_FACTORS = ["none", "totp"] as const;
+export type SecondFactor = (typeof SECOND_FACTORS)[number];
+
+export const ACCESS_LEVELS = ["full", "read-only"] as const;
+export type AccessLevel = (typeof ACCESS_LEVELS)[number];
+
+/** Days of a schedule window, Monday first (ISO 8601 weekday order). */
+export const DAYS = ["mon", "tue", "wed", "thu", "fri", "sat", "sun"] as const;
+export type Day = (typeof DAYS)[number];
+
+export function isDay(value: unknown): value is Day {
+  return oneOf(DAYS, value);
+}
+
+export const PROTOCOLS = ["tcp", "udp", "icmp"] as const;
+export type Protocol = (typeof PROTOCOLS)[number];
+/** Custom services have a port; ICMP echo is the built-in "ping" only. */
+export const PORT_PROTOCOLS = ["tcp", "udp"] as const satisfies readonly Protocol[];
+export type PortProtocol = (typeof PORT_PROTOCOLS)[number];
+
+/** Layer 4 of a trace: "echo" and "other" answer, "login" presents a login. */
+export const SERVICE_KINDS = ["login", "other", "echo"] as const;
+export type ServiceKind = (typeof SERVICE_KINDS)[number];
+/** The kinds a custom service may have ("echo" is ping's alone). */
+export const CUSTOM_SERVICE_KINDS = ["login", "other"] as const satisfies readonly ServiceKind[];
+export type CustomServiceKind = (typeof CUSTOM_SERVICE_KINDS)[number];
+
+export interface CatalogueService {
+  readonly name: string;
+  readonly protocol: Protocol;
+  /** Port for tcp/udp; null for ICMP echo. */
+  readonly port: number | null;
+  readonly kind: ServiceKind;
+  readonly builtin: boolean;
+}
+
+/** The built-in catalogue (IANA service-name and port registry; RFC 792 / RFC 4443 echo). */
+export const BUILTIN_SERVICES: readonly CatalogueService[] = [
+  { name: "https", protocol: "tcp", port: 443, kind: "login", builtin: true },
+  { name: "http", protocol: "tcp", port: 80, kind: "login", builtin: true },
+  { name: "ssh", protocol: "tcp", port: 22, kind: "login", builtin: true },
+  { name: "telnet", protocol: "tcp", port: 23, kind: "login", builtin: true },
+  { name: "ping", protocol: "icmp", port: null, kind: "echo", builtin: true },
+  { name: "snmp", protocol: "udp", port: 161, kind: "other", builtin: true },
+];
+
+/** Built-in address names: all IPv4 and IPv6, all IPv4, all IPv6. */
+export const BUILTIN_ADDRESS_NAMES = ["any", "any4", "any6"] as const;
+export type BuiltinAddressName = (typeof BUILTIN_ADDRESS_NAMES)[number];
+
+export function isBuiltinAddressName(value: unknown): value is BuiltinAddressName {
+  return oneOf(BUILTIN_ADDRESS_NAMES, value);
+}
+/** In a rule's services: every protocol and port, ICMP echo included. */
+export const ANY_SERVICE = "any";
+/** In a rule's interface: every interface. */
+export const ANY_INTERFACE = "any";
+/** The built-in schedule that is active every minute of the week. */
+export const ALWAYS_SCHEDULE = "always";
+
+// ---------------------------------------------------------------------------------------------
+// Elements named by findings and traces
+
+/** The kinds of element a finding names as "kind:name" (glossary words, PRODUCT.md §6). */
+export const ELEMENT_KINDS = ["interface", "address", "address-group", "service", "service-group", "schedule", "rule", "account", "operator-network"] as const;
+export type ElementKind = (typeof ELEMENT_KINDS)[number];
+/** "account:admin", "interface:outside", "rule:r-7". */
+export type ElementRef = `${ElementKind}:${string}`;
+
+export function elementRef(kind: ElementKind, name: string): ElementRef {
+  return `${kind}:${name}`;
+}
