@@ -109,4 +109,19 @@ describe("Bad input gets a clear 4xx, never a 500", () => {
     expect(scripts.length).toBeGreaterThan(0);
     for (const attributes of scripts) expect(attributes).toContain(`nonce="${nonce}"`);
   });
+
+  test("Every font the stylesheet names is a file of this site, which the page's font-src 'self' allows", async () => {
+    const client = new TestClient();
+    const page = await client.get("/login");
+    expect(page.headers.get("Content-Security-Policy")).toContain("font-src 'self'");
+    const stylesheets = [...page.text.matchAll(/<link[^>]+rel="stylesheet"[^>]+href="([^"]+)"/g)].map((match) => match[1]);
+    expect(stylesheets.length).toBeGreaterThan(0);
+    for (const href of stylesheets) {
+      const css = (await client.get(href)).text;
+      const fonts = [...css.matchAll(/url\(([^)]+\.woff2?|data:font[^)]*)\)/g)].map((match) => match[1]);
+      expect(fonts.length).toBeGreaterThan(0);
+      // A data: URL would be refused by font-src 'self' and logged as an error on every page.
+      for (const font of fonts) expect(font.slice(0, 40)).toMatch(/^\/assets\//);
+    }
+  });
 });
