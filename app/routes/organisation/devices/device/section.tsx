@@ -22,8 +22,8 @@ function sectionOf(value: string | undefined): DeviceSection {
 export const meta: Route.MetaFunction = ({ params }) => [{ title: `${params.section} · Sallyport` }];
 
 export async function loader({ request, params, context }: Route.LoaderArgs) {
-  const section = sectionOf(params.section);
   const access = requireDevice(context);
+  const section = sectionOf(params.section);
   const library = await loadSharedLibrary(access.organisation.id);
   const document = access.document;
   const serviceCatalogue = [...BUILTIN_SERVICES.map((service) => ({ name: service.name, kind: service.kind })), ...document.services.map((service) => ({ name: service.name, kind: service.kind }))];
@@ -47,8 +47,8 @@ export async function loader({ request, params, context }: Route.LoaderArgs) {
 }
 
 export async function action({ request, params, context }: Route.ActionArgs) {
-  const section = sectionOf(params.section);
   const access = requireDevice(context, "engineer");
+  const section = sectionOf(params.section);
   const values = formValuesWithLists(await readForm(request));
   if (section === "settings" && values.intent === "delete-device") {
     if (Number(values.baseRevision) !== access.revision.number) {
