@@ -14,21 +14,38 @@ export interface ProbeClass {
   readonly slice: number;
 }
 
+/** Where a probe can arrive and be sent: an interface and a device address of a family it has. */
+export interface Arrival {
+  readonly iface: number;
+  readonly to: number;
+}
+
+/**
+ * The one enumeration of where probes go (PRODUCT.md §3): every interface × every device
+ * address a probe arriving there may be sent to — any interface's address, but only of a
+ * family the arrival interface has (layer 1: otherwise the probe never arrives). Every
+ * analysis and finding walks this, so none can count a probe that `trace` would call silent
+ * at arrival.
+ */
+export function arrivals(engine: CompiledModel): Arrival[] {
+  const out: Arrival[] = [];
+  for (let iface = 0; iface < engine.interfaceAddresses.length; iface++) {
+    const families = new Set(engine.interfaceAddresses[iface].map((a) => engine.addresses[a].family));
+    for (const target of engine.addresses) if (families.has(target.family)) out.push({ iface, to: target.index });
+  }
+  return out;
+}
+
 /**
  * Every (interface, destination, service class, slice) a probe can fall in once it has
- * arrived: destinations are all device addresses of a family the interface has, service
- * classes are the catalogue plus "any other port".
+ * arrived: the arrivals above × the catalogue plus "any other port" × the week's slices.
  */
 export function* probeClasses(engine: CompiledModel, options: { loginOnly?: boolean } = {}): Generator<ProbeClass> {
   const slices = engine.week.slices.length;
-  for (let iface = 0; iface < engine.interfaceAddresses.length; iface++) {
-    const families = new Set(engine.interfaceAddresses[iface].map((a) => engine.addresses[a].family));
-    for (const target of engine.addresses) {
-      if (!families.has(target.family)) continue;
-      for (const c of engine.classes) {
-        if (options.loginOnly === true && c.kind !== "login") continue;
-        for (let slice = 0; slice < slices; slice++) yield { iface, to: target.index, cls: c.index, slice };
-      }
+  for (const { iface, to } of arrivals(engine)) {
+    for (const c of engine.classes) {
+      if (options.loginOnly === true && c.kind !== "login") continue;
+      for (let slice = 0; slice < slices; slice++) yield { iface, to, cls: c.index, slice };
     }
   }
 }
@@ -45,15 +62,11 @@ const distinctCache = new WeakMap<CompiledModel, RulePartition[]>();
 export function distinctRulePartitions(engine: CompiledModel): RulePartition[] {
   const cached = distinctCache.get(engine);
   if (cached !== undefined) return cached;
-  // Walks the probe classes in the order of probeClasses() without building an entry for each.
+  // Walks the arrivals in the order of probeClasses() without building an entry for each.
   const byId = new Map<number, RulePartition>();
-  for (let iface = 0; iface < engine.interfaceAddresses.length; iface++) {
-    const families = new Set(engine.interfaceAddresses[iface].map((a) => engine.addresses[a].family));
-    for (const target of engine.addresses) {
-      if (!families.has(target.family)) continue;
-      for (const c of engine.classes) {
-        for (const rules of engine.weekRulePartitions(iface, target.index, c.index)) byId.set(rules.id, rules);
-      }
+  for (const { iface, to } of arrivals(engine)) {
+    for (const c of engine.classes) {
+      for (const rules of engine.weekRulePartitions(iface, to, c.index)) byId.set(rules.id, rules);
     }
   }
   const list = [...byId.values()];
@@ -96,18 +109,14 @@ export function loginReachable(engine: CompiledModel): AddressSet {
   const seen = new Set<unknown>();
   // Every login probe class (as partitionsOf with loginOnly), each distinct outcome once. A
   // login service nothing listens to has no login outcome, whether or not its rules are evaluated.
-  for (let iface = 0; iface < engine.interfaceAddresses.length; iface++) {
-    const families = new Set(engine.interfaceAddresses[iface].map((a) => engine.addresses[a].family));
-    for (const target of engine.addresses) {
-      if (!families.has(target.family)) continue;
-      for (const c of engine.classes) {
-        if (c.kind !== "login") continue;
-        for (const e of engine.weekOutcomes(iface, target.index, c.index)) {
-          if (seen.has(e.outcome)) continue;
-          seen.add(e.outcome);
-          const d = engine.domains[e.family];
-          byFamily[e.family] = union(byFamily[e.family], union(d.rangesWhere(e.outcome, LOGIN_MFA), d.rangesWhere(e.outcome, LOGIN_PASSWORD)));
-        }
+  for (const { iface, to } of arrivals(engine)) {
+    for (const c of engine.classes) {
+      if (c.kind !== "login") continue;
+      for (const e of engine.weekOutcomes(iface, to, c.index)) {
+        if (seen.has(e.outcome)) continue;
+        seen.add(e.outcome);
+        const d = engine.domains[e.family];
+        byFamily[e.family] = union(byFamily[e.family], union(d.rangesWhere(e.outcome, LOGIN_MFA), d.rangesWhere(e.outcome, LOGIN_PASSWORD)));
       }
     }
   }

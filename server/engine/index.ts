@@ -33,8 +33,9 @@ export type { ProbeInput } from "./compile.ts";
 export type { TraceLayer, TraceResult } from "./trace.ts";
 export type { ExposureAt, ExposureEntry, ExposureMap, ExposureSlice } from "./exposure.ts";
 export type { ReachResult } from "./reach.ts";
-export { findingsOf as findings } from "./findings.ts";
-export type { Finding, FindingCode } from "./findings.ts";
+export { findingsOf as findings } from "./findings/index.ts";
+export type { Finding, FindingCheck, FindingCode, Witness, WitnessProbe } from "./findings/index.ts";
+export { FINDING_CHECKS } from "./findings/index.ts";
 export { countBySeverity, emptySeverityCounts, FINDING_CODE_PATTERN, findingKey, parseFindingKey } from "./finding-keys.ts";
 export type { FindingIdentity } from "./finding-keys.ts";
 // The product's words, defined in vocabulary.ts (the browser may import that module directly).

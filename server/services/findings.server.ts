@@ -2,7 +2,7 @@ import { Op, UniqueConstraintError } from "sequelize";
 import { FindingDismissal } from "#models/index.ts";
 import { getDatabase } from "../db/database.server.ts";
 import { deviceRevisions, type DeviceAtRevision } from "../devices/index.ts";
-import { emptySeverityCounts, findingKey, isSeverity, type Finding, type SeverityCounts } from "../engine/index.ts";
+import { emptySeverityCounts, findingKey, isSeverity, type Finding, type SeverityCounts, type WitnessProbe } from "../engine/index.ts";
 import { Refusal } from "../errors.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 
@@ -26,6 +26,8 @@ export type FindingView = {
   detail: string;
   elements: string[];
   source: string;
+  /** A probe that shows the finding, for "try it" (opens the trace with it). */
+  witness: { probe: WitnessProbe; outcome: string; shows: string; proof: string | null } | null;
   dismissal: DismissalView | null;
 };
 
@@ -40,6 +42,7 @@ function viewOf(finding: Finding, dismissal: FindingDismissal | undefined): Find
     detail: finding.detail,
     elements: [...finding.elements],
     source: finding.source,
+    witness: finding.witness ? { probe: finding.witness.probe, outcome: finding.witness.outcome, shows: finding.witness.shows, proof: finding.witness.proof ?? null } : null,
     dismissal: dismissal
       ? {
           reason: dismissal.reason,

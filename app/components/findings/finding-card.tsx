@@ -1,4 +1,4 @@
-import { useFetcher } from "react-router";
+import { Link, useFetcher } from "react-router";
 import { ElementLink } from "#app/components/device/element-link";
 import { SeverityBadge } from "#app/components/severity";
 import { Button } from "#app/components/ui/button";
@@ -18,15 +18,34 @@ function when(iso: string): string {
   return `${iso.slice(0, 16).replace("T", " ")} UTC`;
 }
 
-/** Elements linked to their editors, and the published source (or "common practice"). */
+/** The trace page's address for a witness probe: the same query the trace form writes. */
+export function tryItPath(devicePath: string, probe: NonNullable<FindingCardData["witness"]>["probe"]): string {
+  return `${devicePath}/analysis?${new URLSearchParams({ from: probe.from, interface: probe.interface, service: probe.service, to: probe.to, at: probe.at })}`;
+}
+
+/** Elements linked to their editors, the witness to try, and the published source (or "common practice"). */
 function FindingFacts({ finding, devicePath }: { finding: FindingCardData; devicePath: string }) {
+  const witness = finding.witness;
   return (
-    <div className="mt-2 flex flex-wrap items-center gap-x-3 gap-y-1 text-sm">
-      {finding.elements.map((element) => (
-        <ElementLink key={element} devicePath={devicePath} element={element} />
-      ))}
-      <span className="ml-auto text-xs text-ink-faint">Source: {finding.source}</span>
-    </div>
+    <>
+      <div className="mt-2 flex flex-wrap items-center gap-x-3 gap-y-1 text-sm">
+        {finding.elements.map((element) => (
+          <ElementLink key={element} devicePath={devicePath} element={element} />
+        ))}
+        <span className="ml-auto text-xs text-ink-faint">Source: {finding.source}</span>
+      </div>
+      {witness ? (
+        <p className="mt-2 text-sm">
+          <Link to={tryItPath(devicePath, witness.probe)} className="font-medium text-harbour underline-offset-4 hover:underline">
+            Try it: trace {witness.probe.service} from {witness.probe.from} on {witness.probe.interface}
+          </Link>{" "}
+          <span className="text-ink-muted">
+            — {witness.shows}
+            {witness.proof ? ` ${witness.proof}` : ""}
+          </span>
+        </p>
+      ) : null}
+    </>
   );
 }
 

@@ -1,0 +1,100 @@
+// Rule checks: never active, never the first match, redundant. Each carries a witness probe
+// that `trace` replays; for the "never" findings the probe is one instance of the partition
+// that proves it.
+import { isRedundant } from "../../analysis.ts";
+import { elementRef, isOutcome } from "../../vocabulary.ts";
+import type { FindingContext } from "../context.ts";
+import { SOURCES } from "../sources.ts";
+import type { Finding, FindingCheck, Witness, WitnessProbe } from "../types.ts";
+
+function witnessOf(context: FindingContext, probe: WitnessProbe | undefined, shows: (ruleId: string | null) => string, proof?: string): Witness | undefined {
+  if (probe === undefined) return undefined;
+  const trace = context.traceOf(probe);
+  if (!isOutcome(trace.outcome)) return undefined;
+  return { probe, outcome: trace.outcome, ruleId: trace.ruleId, shows: shows(trace.ruleId), ...(proof ? { proof } : {}) };
+}
+
+const neverActive = (context: FindingContext) =>
+  context.engine.rules.filter((rule) => rule.enabled && rule.schedule >= 0 && !context.engine.week.slices.some((slice) => slice.active[rule.schedule]));
+
+export const ruleNeverActive: FindingCheck = {
+  code: "rule-never-active",
+  severityRule: "low",
+  source: SOURCES.hygiene,
+  check: (context) =>
+    neverActive(context).map((rule): Finding => {
+      const schedule = context.model.schedules[rule.schedule].name;
+      const witness = witnessOf(
+        context,
+        context.ruleMatchWitness(rule.position),
+        (ruleId) => `A probe that rule "${rule.id}" would match is decided by ${ruleId === null ? "the device default" : `rule "${ruleId}"`}: the rule is never active.`,
+        `The week splits into ${context.engine.week.slices.length} slice(s); schedule "${schedule}" is active in none of them.`,
+      );
+      return {
+        code: "rule-never-active",
+        severity: "low",
+        title: `Rule "${rule.id}" is never active`,
+        detail: `Its schedule "${schedule}" has no active time in the week.`,
+        elements: [elementRef("rule", rule.id), elementRef("schedule", schedule)],
+        source: SOURCES.hygiene,
+        ...(witness ? { witness } : {}),
+      };
+    }),
+};
+
+/** Enabled, sometimes-active rules: the ones the first-match checks judge. */
+const judged = (context: FindingContext) => {
+  const never = new Set(neverActive(context).map((rule) => rule.position));
+  return context.engine.rules.filter((rule) => rule.enabled && !never.has(rule.position));
+};
+
+export const shadowedRule: FindingCheck = {
+  code: "shadowed-rule",
+  severityRule: "medium",
+  source: SOURCES.ruleOrder,
+  check: (context) =>
+    judged(context)
+      .filter((rule) => !context.firstMatchRules.has(rule.position))
+      .map((rule): Finding => {
+        const witness = witnessOf(
+          context,
+          context.ruleMatchWitness(rule.position),
+          (ruleId) => `Rule "${rule.id}" matches this probe, but ${ruleId === null ? "the probe never reaches the rules" : `rule "${ruleId}" matches it first`}.`,
+          "Over every interface, destination, service and slice, the first-match partition of the sources gives this rule no element.",
+        );
+        return {
+          code: "shadowed-rule",
+          severity: "medium",
+          title: `Rule "${rule.id}" is never the first match`,
+          detail: "For every probe an earlier rule matches first (or the rule can match no probe at all); it has no effect.",
+          elements: [elementRef("rule", rule.id)],
+          source: SOURCES.ruleOrder,
+          ...(witness ? { witness } : {}),
+        };
+      }),
+};
+
+export const redundantRule: FindingCheck = {
+  code: "redundant-rule",
+  severityRule: "low",
+  source: SOURCES.ruleOrder,
+  check: (context) =>
+    judged(context)
+      .filter((rule) => context.firstMatchRules.has(rule.position) && isRedundant(context.engine, rule.position))
+      .map((rule): Finding => {
+        const witness = witnessOf(
+          context,
+          context.ruleDecidesWitness(rule.position),
+          () => `Rule "${rule.id}" decides this probe; without it the next matching rule (or the default) gives the same answer.`,
+        );
+        return {
+          code: "redundant-rule",
+          severity: "low",
+          title: `Rule "${rule.id}" is redundant`,
+          detail: "Removing this rule alone changes no outcome: wherever it decides, the next matching rule or the default acts the same way.",
+          elements: [elementRef("rule", rule.id)],
+          source: SOURCES.ruleOrder,
+          ...(witness ? { witness } : {}),
+        };
+      }),
+};

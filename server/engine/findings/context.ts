@@ -1,0 +1,289 @@
+// What the checks share, computed once per compiled model and only when a check asks: the
+// non-private exposure per interface × service, the operator networks, the rules that are
+// ever the first match, the sources with a login path — and the witness probes.
+import { FAMILY, formatAddress, parseEntry, rangeToCidrs } from "../addresses.ts";
+import type { Family } from "../addresses.ts";
+import { EMPTY_SET, intersect, rangesOf, setFromRanges, subtract, unionSets } from "../address-sets.ts";
+import type { AddressSet, Ranges } from "../address-sets.ts";
+import { arrivals, firstMatchRules, loginReachable } from "../analysis.ts";
+import type { Arrival } from "../analysis.ts";
+import type { CompiledModel, OutcomePartition } from "../compile.ts";
+import { traceProbe } from "../trace.ts";
+import type { TraceResult } from "../trace.ts";
+import { outcomeSets } from "../exposure.ts";
+import { OUTCOMES, SILENT } from "../vocabulary.ts";
+import type { Outcome } from "../vocabulary.ts";
+import type { WitnessProbe } from "./types.ts";
+
+/**
+ * Space that is not "non-private": RFC 1918, RFC 6598, loopback, link-local, multicast,
+ * "this network" and reserved IPv4 space; for IPv6 everything outside global unicast
+ * 2000::/3 (RFC 4291: unique local fc00::/7, link-local, multicast, loopback, unspecified
+ * and IETF-reserved space). Documentation ranges count as global.
+ */
+export const NON_GLOBAL: AddressSet = setFromRanges(
+  [
+    "0.0.0.0/8", // RFC 1122 §3.2.1.3
+    "10.0.0.0/8", // RFC 1918
+    "100.64.0.0/10", // RFC 6598
+    "127.0.0.0/8", // RFC 1122 loopback
+    "169.254.0.0/16", // RFC 3927
+    "172.16.0.0/12", // RFC 1918
+    "192.168.0.0/16", // RFC 1918
+    "224.0.0.0/4", // RFC 5771 multicast
+    "240.0.0.0/4", // RFC 1112 reserved (incl. 255.255.255.255)
+    "::/3", // RFC 4291: outside global unicast
+    "4000::/2",
+    "8000::/1",
+  ].map((t) => parseEntry(t).range),
+);
+
+export function nonPrivate(family: Family): Ranges {
+  return subtract([0n, FAMILY[family].max], rangesOf(NON_GLOBAL, family), family);
+}
+
+/** Every non-private address, both families. */
+export const NON_PRIVATE: AddressSet = { v4: nonPrivate(4), v6: nonPrivate(6) };
+
+/** Which outcomes non-private sources get on one interface × catalogue service, and who gets each. */
+export interface ServiceExposure {
+  readonly outcomes: ReadonlySet<number>;
+  /** Per outcome rank, the non-private sources that get it at some time, to some address. */
+  readonly hits: readonly AddressSet[];
+}
+
+/** A week minute's instant in the reference week: Monday 5 January 2026, 00:00 device time. */
+const REFERENCE_MONDAY_UTC = Date.UTC(2026, 0, 5);
+
+export class FindingContext {
+  #exposure: Map<string, ServiceExposure> | undefined;
+  #operators: AddressSet | undefined;
+  #firstMatch: Set<number> | undefined;
+  #loginReachable: AddressSet | undefined;
+  #arrivals: Arrival[] | undefined;
+
+  constructor(readonly engine: CompiledModel) {}
+
+  get model() {
+    return this.engine.model;
+  }
+
+  get arrivals(): readonly Arrival[] {
+    this.#arrivals ??= arrivals(this.engine);
+    return this.#arrivals;
+  }
+
+  /** The union of the operator networks. */
+  get operators(): AddressSet {
+    this.#operators ??= this.model.operatorNetworks.reduce((acc, name) => unionSets(acc, this.engine.addressSetOf(name)), EMPTY_SET);
+    return this.#operators;
+  }
+
+  get firstMatchRules(): ReadonlySet<number> {
+    this.#firstMatch ??= firstMatchRules(this.engine);
+    return this.#firstMatch;
+  }
+
+  get loginReachable(): AddressSet {
+    this.#loginReachable ??= loginReachable(this.engine);
+    return this.#loginReachable;
+  }
+
+  /** Non-private exposure of interface × catalogue service, over every arrival and slice; undefined when nothing answers. */
+  exposure(iface: number, cls: number): ServiceExposure | undefined {
+    this.#exposure ??= this.#computeExposure();
+    return this.#exposure.get(`${iface}|${cls}`);
+  }
+
+  #computeExposure(): Map<string, ServiceExposure> {
+    const engine = this.engine;
+    const global: Record<Family, Ranges> = { 4: nonPrivate(4), 6: nonPrivate(6) };
+    // Many cells see the same outcome partitions, so each distinct partition's non-private hits are computed once.
+    const hitsOf = new Map<unknown, { outcome: number; hit: AddressSet }[]>();
+    const distinctHits = (partition: OutcomePartition): { outcome: number; hit: AddressSet }[] => {
+      const cached = hitsOf.get(partition.outcome);
+      if (cached !== undefined) return cached;
+      const list: { outcome: number; hit: AddressSet }[] = [];
+      const sets = outcomeSets(engine, partition);
+      sets.counts.forEach((n, o) => {
+        if (o === SILENT || n === 0n) return;
+        const hit = intersect(sets.ranges[o], global[sets.family]);
+        if (hit.length === 0) return;
+        list.push({ outcome: o, hit: sets.family === 4 ? { v4: hit, v6: [] } : { v4: [], v6: hit } });
+      });
+      hitsOf.set(partition.outcome, list);
+      return list;
+    };
+    const exposure = new Map<string, { outcomes: Set<number>; hits: AddressSet[]; merged: Set<AddressSet> }>();
+    for (const { iface, to } of this.arrivals) {
+      for (let cls = 0; cls < engine.catalogue.length; cls++) {
+        const key = `${iface}|${cls}`;
+        let seen = exposure.get(key);
+        if (seen === undefined) {
+          seen = { outcomes: new Set<number>(), hits: OUTCOMES.map(() => EMPTY_SET), merged: new Set<AddressSet>() };
+          exposure.set(key, seen);
+        }
+        for (const partition of engine.weekOutcomes(iface, to, cls)) {
+          for (const { outcome, hit } of distinctHits(partition)) {
+            seen.outcomes.add(outcome);
+            // A set already merged into this outcome's hits adds nothing (same object, same outcome).
+            if (seen.merged.has(hit)) continue;
+            seen.merged.add(hit);
+            seen.hits[outcome] = unionSets(seen.hits[outcome], hit);
+          }
+        }
+      }
+    }
+    const out = new Map<string, ServiceExposure>();
+    for (const [key, seen] of exposure) if (seen.outcomes.size > 0) out.set(key, { outcomes: seen.outcomes, hits: seen.hits });
+    return out;
+  }
+
+  // ---- witnesses ----
+
+  /** An instant in the given slice of the week (device time zone), as ISO 8601 UTC. */
+  instantIn(slice: number): string {
+    const engine = this.engine;
+    const start = engine.week.slices[slice].start;
+    const monday = REFERENCE_MONDAY_UTC - engine.clock.offsetAt(REFERENCE_MONDAY_UTC) * 60_000;
+    // Normally the slice's first minute; around a daylight-saving change, the next minute that falls in it.
+    for (let minute = 0; minute < 3 * 7 * 24 * 60; minute++) {
+      const ms = monday + (((start + minute) % (7 * 24 * 60)) + (start + minute >= 7 * 24 * 60 ? 7 * 24 * 60 : 0)) * 60_000;
+      if (engine.sliceAt(ms) === slice) return new Date(ms).toISOString();
+    }
+    return new Date(monday + start * 60_000).toISOString();
+  }
+
+  /** The probe text for arrival, class, source and slice. */
+  probe(iface: number, to: number, cls: number, family: Family, source: bigint, slice: number, serviceText?: string): WitnessProbe {
+    const engine = this.engine;
+    const service = serviceText ?? engine.classes[cls].service?.name ?? "";
+    return {
+      from: formatAddress(family, source),
+      interface: this.model.interfaces[iface].name,
+      service,
+      to: engine.addresses[to].text,
+      at: this.instantIn(slice),
+    };
+  }
+
+  /** The engine's trace of a witness probe. */
+  traceOf(probe: WitnessProbe): TraceResult {
+    return traceProbe(this.engine, probe);
+  }
+
+  /** The service text for a class a rule covers: the catalogue name, or the rule's own port for "other". */
+  #serviceTextFor(position: number, cls: number): string | undefined {
+    const engine = this.engine;
+    const rule = engine.rules[position];
+    const c = engine.classes[cls];
+    if (c.service !== null) return rule.anyService || rule.serviceKeys.has(c.key) ? c.service.name : undefined;
+    return [...rule.serviceKeys].find((key) => engine.classOfKey(key) === cls);
+  }
+
+  /**
+   * A probe the rule's own conditions match (interface, source, destination, service; its
+   * schedule's first active slice, or the first slice when it has none): the instance for the
+   * rule findings. Undefined when the rule can match no probe at all.
+   */
+  ruleMatchWitness(position: number): WitnessProbe | undefined {
+    const engine = this.engine;
+    const rule = engine.rules[position];
+    const slices = engine.week.slices;
+    const activeSlice = Math.max(0, rule.schedule < 0 ? 0 : slices.findIndex((slice) => slice.active[rule.schedule]));
+    for (const { iface, to } of this.arrivals) {
+      if (rule.iface !== -1 && rule.iface !== iface) continue;
+      const target = engine.addresses[to];
+      if (intersect(rangesOf(rule.destinations, target.family), [target.value, target.value]).length === 0) continue;
+      const sources = rangesOf(rule.sources, target.family);
+      if (sources.length === 0) continue;
+      for (const c of engine.classes) {
+        const service = this.#serviceTextFor(position, c.index);
+        if (service === undefined) continue;
+        return this.probe(iface, to, c.index, target.family, sources[0], activeSlice, service);
+      }
+    }
+    return undefined;
+  }
+
+  /** A probe for which the rule is the first match (where it decides). Undefined when it never is. */
+  ruleDecidesWitness(position: number): WitnessProbe | undefined {
+    const engine = this.engine;
+    for (const { iface, to } of this.arrivals) {
+      const family = engine.addresses[to].family;
+      for (const c of engine.classes) {
+        const service = this.#serviceTextFor(position, c.index);
+        if (service === undefined) continue;
+        for (let slice = 0; slice < engine.week.slices.length; slice++) {
+          const rules = engine.rulePartitionAt(iface, to, c.index, slice);
+          const where = engine.domains[family].rangesWhere(rules.owner, position);
+          if (where.length > 0) return this.probe(iface, to, c.index, family, where[0], slice, service);
+        }
+      }
+    }
+    return undefined;
+  }
+
+  /** A probe on the interface from `sources` that no enabled rule matches, so the device default decides. */
+  defaultActionWitness(iface: number, sources: AddressSet): WitnessProbe | undefined {
+    const engine = this.engine;
+    for (const { iface: arrival, to } of this.arrivals) {
+      if (arrival !== iface) continue;
+      const family = engine.addresses[to].family;
+      for (const c of engine.classes) {
+        if (c.service === null) continue;
+        for (let slice = 0; slice < engine.week.slices.length; slice++) {
+          const rules = engine.rulePartitionAt(iface, to, c.index, slice);
+          const unmatched = intersect(engine.domains[family].rangesWhere(rules.owner, -1), rangesOf(sources, family));
+          if (unmatched.length > 0) return this.probe(iface, to, c.index, family, unmatched[0], slice);
+        }
+      }
+    }
+    return undefined;
+  }
+
+  /** A probe from the set to a login service (the first arrival of a family it has); undefined when no arrival fits. */
+  loginProbeFrom(set: AddressSet): WitnessProbe | undefined {
+    const engine = this.engine;
+    const login = engine.classes.find((c) => c.kind === "login" && c.service !== null);
+    if (login === undefined) return undefined;
+    for (const { iface, to } of this.arrivals) {
+      const family = engine.addresses[to].family;
+      const ranges = rangesOf(set, family);
+      if (ranges.length > 0) return this.probe(iface, to, login.index, family, ranges[0], 0);
+    }
+    return undefined;
+  }
+
+  /**
+   * A probe from a source in `sources` on interface × catalogue service that gets `outcome`:
+   * the first such source, the first arrival and slice where it does. Undefined when none.
+   */
+  exposureWitness(iface: number, cls: number, outcome: number, sources: AddressSet): { probe: WitnessProbe; outcome: Outcome } | undefined {
+    const engine = this.engine;
+    for (const family of [4, 6] as const) {
+      const ranges = rangesOf(sources, family);
+      if (ranges.length === 0) continue;
+      const source = ranges[0];
+      for (const { iface: arrival, to } of this.arrivals) {
+        if (arrival !== iface || engine.addresses[to].family !== family) continue;
+        for (let slice = 0; slice < engine.week.slices.length; slice++) {
+          if (engine.lookup(engine.outcomeOf(iface, to, cls, slice), source) === outcome) {
+            return { probe: this.probe(iface, to, cls, family, source, slice), outcome: OUTCOMES[outcome] };
+          }
+        }
+      }
+    }
+    return undefined;
+  }
+}
+
+/** The first `count` CIDRs of a set (IPv4 first), without rendering the rest. */
+export function firstCidrs(set: AddressSet, count: number): string[] {
+  const out: string[] = [];
+  for (const family of [4, 6] as const) {
+    const ranges = rangesOf(set, family);
+    for (let i = 0; i < ranges.length && out.length < count; i += 2) out.push(...rangeToCidrs(family, ranges[i], ranges[i + 1]).slice(0, count - out.length));
+  }
+  return out;
+}

@@ -1,0 +1,42 @@
+// Findings: hardening checks with a severity, the affected elements, why it matters, the
+// published source (or "common practice, no source") and, where one exists, a witness probe.
+// The registry below is the list of checks; each lives in its own module under checks/.
+import type { CompiledModel } from "../compile.ts";
+import { severityRank } from "../vocabulary.ts";
+import { broadLoginSources, defaultAccountName, noSecondFactor, unrestrictedAccount } from "./checks/accounts.ts";
+import { cleartextListener, internetLoginExposed, internetPing, noFinalDrop } from "./checks/exposure.ts";
+import { lockout } from "./checks/lockout.ts";
+import { redundantRule, ruleNeverActive, shadowedRule } from "./checks/rules.ts";
+import { unusedObject } from "./checks/unused-object.ts";
+import { FindingContext } from "./context.ts";
+import type { Finding, FindingCheck } from "./types.ts";
+
+export { DEFAULT_ACCOUNT_NAMES } from "./checks/accounts.ts";
+export { NON_GLOBAL, nonPrivate } from "./context.ts";
+export { FINDING_CODES } from "./types.ts";
+export type { Finding, FindingCheck, FindingCode, Witness, WitnessProbe } from "./types.ts";
+
+/** Every check, in the order of PRODUCT.md §5. */
+export const FINDING_CHECKS: readonly FindingCheck[] = [
+  defaultAccountName,
+  unrestrictedAccount,
+  noSecondFactor,
+  cleartextListener,
+  internetLoginExposed,
+  internetPing,
+  broadLoginSources,
+  shadowedRule,
+  redundantRule,
+  noFinalDrop,
+  lockout,
+  ruleNeverActive,
+  unusedObject,
+];
+
+/** Every finding for a compiled model, most severe first. */
+export function findingsOf(engine: CompiledModel): Finding[] {
+  const context = new FindingContext(engine);
+  return FINDING_CHECKS.flatMap((check) => check.check(context)).sort(
+    (a, b) => severityRank(b.severity) - severityRank(a.severity) || a.code.localeCompare(b.code) || a.elements.join(" ").localeCompare(b.elements.join(" ")),
+  );
+}
