@@ -61,6 +61,7 @@ export class FindingContext {
   #firstMatch: Set<number> | undefined;
   #loginReachable: AddressSet | undefined;
   #arrivals: Arrival[] | undefined;
+  #deciding: Map<number, { iface: number; to: number; cls: number; slice: number; family: Family; element: number }> | undefined;
 
   constructor(readonly engine: CompiledModel) {}
 
@@ -178,7 +179,11 @@ export class FindingContext {
     const rule = engine.rules[position];
     const c = engine.classes[cls];
     if (c.service !== null) return rule.anyService || rule.serviceKeys.has(c.key) ? c.service.name : undefined;
-    return [...rule.serviceKeys].find((key) => engine.classOfKey(key) === cls);
+    const own = [...rule.serviceKeys].find((key) => engine.classOfKey(key) === cls);
+    if (own !== undefined || !rule.anyService) return own;
+    // "any" covers every port: name one that no service of the model uses.
+    for (let port = 1; port < 65_536; port++) if (engine.classOfKey(`tcp/${port}`) === cls) return `tcp/${port}`;
+    return undefined;
   }
 
   /**
@@ -208,20 +213,33 @@ export class FindingContext {
 
   /** A probe for which the rule is the first match (where it decides). Undefined when it never is. */
   ruleDecidesWitness(position: number): WitnessProbe | undefined {
+    this.#deciding ??= this.#firstDecisions();
+    const found = this.#deciding.get(position);
+    if (found === undefined) return undefined;
+    const service = this.#serviceTextFor(position, found.cls);
+    if (service === undefined) return undefined;
+    const source = this.engine.domains[found.family].bounds[found.element];
+    return this.probe(found.iface, found.to, found.cls, found.family, source, found.slice, service);
+  }
+
+  /** For every rule that is ever the first match, the first place it is: one walk over the distinct partitions. */
+  #firstDecisions(): Map<number, { iface: number; to: number; cls: number; slice: number; family: Family; element: number }> {
     const engine = this.engine;
+    const out = new Map<number, { iface: number; to: number; cls: number; slice: number; family: Family; element: number }>();
+    const seen = new Set<number>();
     for (const { iface, to } of this.arrivals) {
-      const family = engine.addresses[to].family;
       for (const c of engine.classes) {
-        const service = this.#serviceTextFor(position, c.index);
-        if (service === undefined) continue;
-        for (let slice = 0; slice < engine.week.slices.length; slice++) {
-          const rules = engine.rulePartitionAt(iface, to, c.index, slice);
-          const where = engine.domains[family].rangesWhere(rules.owner, position);
-          if (where.length > 0) return this.probe(iface, to, c.index, family, where[0], slice, service);
-        }
+        engine.weekRulePartitions(iface, to, c.index).forEach((rules, slice) => {
+          if (seen.has(rules.id)) return;
+          seen.add(rules.id);
+          const { starts, values } = rules.owner;
+          for (let k = 0; k < values.length; k++) {
+            if (values[k] >= 0 && !out.has(values[k])) out.set(values[k], { iface, to, cls: c.index, slice, family: rules.family, element: starts[k] });
+          }
+        });
       }
     }
-    return undefined;
+    return out;
   }
 
   /** A probe on the interface from `sources` that no enabled rule matches, so the device default decides. */
