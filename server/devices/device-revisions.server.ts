@@ -129,11 +129,6 @@ export class DeviceRevisions {
     return computed;
   }
 
-  /** The compiled model of a revision (built once, then shared by every page and API). */
-  compiledOf(device: DeviceAtRevision): CompiledModel {
-    return device.analysis.compiled;
-  }
-
   /** Seeds the caches with what a save has just computed, so the next page needs no compiling. */
   remember(revisionId: string, analysis: RevisionAnalysis): void {
     this.#compiledAtSave.set(revisionId, analysis.compiled);
