@@ -1,6 +1,7 @@
-import { DataTypes, Model, type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type Sequelize } from "sequelize";
+import { DataTypes, Model, type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
 import type { DeviceModel } from "#server/engine/index.ts";
 import type { Device } from "./device.ts";
+import type { RevisionAnalysisRecord } from "./revision-analysis.ts";
 
 /** Shared organisation objects as they were when the revision was saved. */
 export type SharedObjectsSnapshot = {
@@ -8,11 +9,14 @@ export type SharedObjectsSnapshot = {
   addressGroups: Array<{ name: string; members: string[] }>;
 };
 
-/** What the fleet table shows, computed by the engine when the revision is saved. */
+/**
+ * Element counts, taken when the revision is saved. Revisions saved before the analysis moved
+ * to its own table (revision_analyses) also carry the two analysis fields; nothing reads them.
+ */
 export type RevisionSummaryRecord = {
-  findingsBySeverity: Record<string, number>;
-  worstOutsideOutcome: string | null;
   counts: Record<string, number>;
+  findingsBySeverity?: Record<string, number>;
+  worstOutsideOutcome?: string | null;
 };
 
 /** One immutable saved state of a device's model document. */
@@ -28,6 +32,7 @@ export class DeviceRevision extends Model<InferAttributes<DeviceRevision>, Infer
   declare authorUserId: string | null;
   declare authorEmail: string;
   declare createdAt: CreationOptional<Date>;
+  declare analysisRecord?: NonAttribute<RevisionAnalysisRecord | null>;
 
   static initModel(sequelize: Sequelize): void {
     DeviceRevision.init(

@@ -7,6 +7,7 @@ import { Invitation } from "./invitation.ts";
 import { Membership } from "./membership.ts";
 import { Organisation } from "./organisation.ts";
 import { PasswordReset } from "./password-reset.ts";
+import { RevisionAnalysisRecord } from "./revision-analysis.ts";
 import { Session } from "./session.ts";
 import { SharedAddressObject } from "./shared-address-object.ts";
 import { SignInAttempt } from "./sign-in-attempt.ts";
@@ -14,11 +15,11 @@ import { Site } from "./site.ts";
 import { User } from "./user.ts";
 
 export type { RevisionSummaryRecord, SharedObjectsSnapshot } from "./device-revision.ts";
-export { AuditEvent, Device, DeviceRevision, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, Session, SharedAddressObject, SignInAttempt, Site, User };
+export { AuditEvent, Device, DeviceRevision, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
 
 /** Registers every model and association on one Sequelize instance. */
 export function initModels(sequelize: Sequelize): void {
-  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, SignInAttempt, PasswordReset, Invitation, Device, DeviceRevision, SharedAddressObject, FindingDismissal]) {
+  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, SignInAttempt, PasswordReset, Invitation, Device, DeviceRevision, RevisionAnalysisRecord, SharedAddressObject, FindingDismissal]) {
     model.initModel(sequelize);
   }
   Organisation.hasMany(Membership, { foreignKey: "organisationId", as: "memberships" });
@@ -36,6 +37,8 @@ export function initModels(sequelize: Sequelize): void {
   Site.hasMany(Device, { foreignKey: "siteId", as: "devices" });
   Device.hasMany(DeviceRevision, { foreignKey: "deviceId", as: "revisions" });
   DeviceRevision.belongsTo(Device, { foreignKey: "deviceId" });
+  DeviceRevision.hasOne(RevisionAnalysisRecord, { foreignKey: "revisionId", as: "analysisRecord" });
+  RevisionAnalysisRecord.belongsTo(DeviceRevision, { foreignKey: "revisionId" });
   SharedAddressObject.belongsTo(Organisation, { foreignKey: "organisationId" });
   FindingDismissal.belongsTo(Organisation, { foreignKey: "organisationId" });
   FindingDismissal.belongsTo(Device, { foreignKey: "deviceId" });

@@ -3,13 +3,16 @@
 // device goes through a DeviceRevisions instance; nothing else queries device revisions.
 import { LRUCache } from "lru-cache";
 import { col, Op, type Transaction } from "sequelize";
-import { Device, DeviceRevision, Site } from "#models/index.ts";
-import type { CompiledModel, Finding } from "../engine/index.ts";
-import type { ModelDocument, SharedLibrary } from "../workspace/index.ts";
+import { Device, DeviceRevision, RevisionAnalysisRecord, Site } from "#models/index.ts";
+import type { Finding, Outcome } from "../engine/index.ts";
+import { summariseDocument, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
 import { RevisionAnalysis } from "./revision-analysis.ts";
 
 /** A revision's stored facts without its document (which the analysis holds, typed). */
-export type RevisionRecord = Pick<DeviceRevision, "id" | "number" | "message" | "authorEmail" | "createdAt" | "summary" | "sharedObjects">;
+export type RevisionRecord = Pick<DeviceRevision, "id" | "number" | "message" | "authorEmail" | "createdAt" | "summary" | "sharedObjects" | "analysisRecord">;
+
+/** What the fleet pages show about a revision once the engine has analysed it. */
+export type FleetSummary = { findingsBySeverity: Record<string, number>; worstOutsideOutcome: Outcome | null };
 
 /** A device of an organisation at one revision, with its site. */
 export type DeviceAtRevision = {
@@ -25,6 +28,8 @@ export type DeviceAtRevision = {
 };
 
 const RECORD_ATTRIBUTES = ["id", "number", "message", "authorEmail", "createdAt", "summary", "sharedObjects"] as const;
+/** The revision's stored analysis, when there is one yet (LEFT JOIN). */
+const ANALYSIS_RECORD = { model: RevisionAnalysisRecord, as: "analysisRecord", required: false, attributes: ["revisionId", "findingsBySeverity", "worstOutsideOutcome"] };
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
@@ -51,14 +56,10 @@ export class DeviceRevisions {
   // first out, bounded by count and by size; findings live longer in their own smaller cache.
   readonly #analyses: LRUCache<string, RevisionAnalysis>;
   readonly #findings: LRUCache<string, readonly Finding[]>;
-  // What a save compiled, until the revision is first read back: the document itself is taken
-  // from the database then, so a warm and a cold read give byte-identical documents.
-  readonly #compiledAtSave: LRUCache<string, CompiledModel>;
 
   constructor(readonly bounds: DeviceRevisionsOptions = DEFAULT_BOUNDS) {
     this.#analyses = new LRUCache({ max: bounds.maxRevisions, maxSize: bounds.maxElements, sizeCalculation: (analysis) => Math.min(bounds.maxElements, elementCount(analysis.effective)) });
     this.#findings = new LRUCache({ max: bounds.maxFindings });
-    this.#compiledAtSave = new LRUCache({ max: Math.max(1, Math.floor(bounds.maxRevisions / 4)) });
   }
 
   /**
@@ -85,6 +86,7 @@ export class DeviceRevisions {
           required: true,
           attributes: [...RECORD_ATTRIBUTES],
           where: { number: options.revisionNumber ?? { [Op.eq]: col("Device.current_revision_number") } },
+          include: [ANALYSIS_RECORD],
         },
       ],
       transaction,
@@ -101,7 +103,7 @@ export class DeviceRevisions {
       where: { organisationId },
       include: [
         { model: Site, as: "site", required: true },
-        { model: DeviceRevision, as: "revisions", required: true, attributes: [...RECORD_ATTRIBUTES], where: { number: { [Op.eq]: col("Device.current_revision_number") } } },
+        { model: DeviceRevision, as: "revisions", required: true, attributes: [...RECORD_ATTRIBUTES], where: { number: { [Op.eq]: col("Device.current_revision_number") } }, include: [ANALYSIS_RECORD] },
       ],
       order: [["name", "ASC"]],
     });
@@ -120,6 +122,39 @@ export class DeviceRevisions {
     return DeviceRevision.findAll({ where: { deviceId }, order: [["number", "DESC"]], attributes: [...RECORD_ATTRIBUTES] });
   }
 
+  /**
+   * The fleet summary of each revision, in order: the stored one, or — for a revision whose
+   * background analysis has not run yet — computed now, stored (first writer wins) and returned.
+   */
+  async summariesOf(records: readonly RevisionRecord[]): Promise<FleetSummary[]> {
+    const missing = records.filter((record) => !record.analysisRecord);
+    const computed = new Map<string, FleetSummary>();
+    if (missing.length > 0) {
+      const analyses = await this.#analysesOf(missing);
+      for (const [index, record] of missing.entries()) computed.set(record.id, await this.#storeSummary(record.id, analyses[index]));
+    }
+    return records.map((record) => {
+      const stored = record.analysisRecord;
+      return stored ? { findingsBySeverity: stored.findingsBySeverity, worstOutsideOutcome: stored.worstOutsideOutcome } : computed.get(record.id)!;
+    });
+  }
+
+  /** Analyses a saved revision and stores its fleet summary (the background job's work); seeds the caches. */
+  async analyseSaved(revisionId: string): Promise<void> {
+    const record = await DeviceRevision.findByPk(revisionId, { attributes: [...RECORD_ATTRIBUTES], include: [ANALYSIS_RECORD] });
+    if (!record || record.analysisRecord) return;
+    const [analysis] = await this.#analysesOf([record]);
+    await this.#storeSummary(record.id, analysis);
+  }
+
+  async #storeSummary(revisionId: string, analysis: RevisionAnalysis): Promise<FleetSummary> {
+    const findings = this.#findings.get(revisionId) ?? analysis.findings;
+    this.#findings.set(revisionId, findings);
+    const { findingsBySeverity, worstOutsideOutcome } = summariseDocument(analysis.effective, analysis.compiled, findings);
+    await RevisionAnalysisRecord.bulkCreate([{ revisionId, findingsBySeverity, worstOutsideOutcome }], { ignoreDuplicates: true });
+    return { findingsBySeverity, worstOutsideOutcome };
+  }
+
   /** The findings of a revision, kept longer than its compiled model. */
   findingsOf(device: DeviceAtRevision): readonly Finding[] {
     const known = this.#findings.get(device.revision.id);
@@ -129,11 +164,6 @@ export class DeviceRevisions {
     return computed;
   }
 
-  /** Seeds the caches with what a save has just computed, so the next page needs no compiling. */
-  remember(revisionId: string, analysis: RevisionAnalysis): void {
-    this.#compiledAtSave.set(revisionId, analysis.compiled);
-    this.#findings.set(revisionId, analysis.findings);
-  }
 
   /** Cached analyses, for tests and the contributor guide's numbers. */
   get cachedRevisions(): number {
@@ -145,9 +175,7 @@ export class DeviceRevisions {
     if (missing.length > 0) {
       const rows = await DeviceRevision.findAll({ where: { id: missing }, attributes: ["id", "document", "sharedObjects"], transaction });
       for (const row of rows) {
-        const known = { findings: this.#findings.get(row.id), compiled: this.#compiledAtSave.get(row.id) };
-        this.#compiledAtSave.delete(row.id);
-        this.#analyses.set(row.id, new RevisionAnalysis(row.document, row.sharedObjects, known));
+        this.#analyses.set(row.id, new RevisionAnalysis(row.document, row.sharedObjects, { findings: this.#findings.get(row.id) }));
       }
     }
     return records.map((record) => {

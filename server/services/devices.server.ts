@@ -1,10 +1,11 @@
 import { UniqueConstraintError } from "sequelize";
-import { Device, DeviceRevision, SharedAddressObject, Site } from "#models/index.ts";
 import { getDatabase } from "../db/database.server.ts";
-import { deviceRevisions, RevisionAnalysis, type DeviceAtRevision } from "../devices/index.ts";
+import { Device, DeviceRevision, SharedAddressObject, Site, type RevisionSummaryRecord } from "#models/index.ts";
+import { deviceRevisions, type DeviceAtRevision, type FleetSummary } from "../devices/index.ts";
+import { revisionAnalysisQueue } from "../jobs/revision-analysis.server.ts";
 import type { ValidationIssue } from "../engine/index.ts";
 import { Refusal } from "../errors.ts";
-import { diffDocuments, summariseDocument, validateDocument, type DocumentChange, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
+import { countElements, diffDocuments, effectiveDocument, validateDocument, type DocumentChange, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 
 /**
@@ -48,7 +49,8 @@ export async function loadSharedLibrary(organisationId: string): Promise<SharedL
 
 export async function listDevices(organisationId: string): Promise<DeviceRow[]> {
   const devices = await deviceRevisions.currentRecords(organisationId);
-  return devices.map(({ device, revision }) => ({
+  const summaries = await deviceRevisions.summariesOf(devices.map(({ revision }) => revision));
+  return devices.map(({ device, revision }, index) => ({
     id: device.id,
     name: device.name,
     siteId: device.siteId,
@@ -56,9 +58,15 @@ export async function listDevices(organisationId: string): Promise<DeviceRow[]> 
     revision: revision.number,
     updatedAt: revision.createdAt.toISOString(),
     updatedBy: revision.authorEmail,
-    findingsBySeverity: revision.summary.findingsBySeverity,
-    worstOutsideOutcome: revision.summary.worstOutsideOutcome,
+    findingsBySeverity: summaries[index].findingsBySeverity,
+    worstOutsideOutcome: summaries[index].worstOutsideOutcome,
   }));
+}
+
+/** The engine's summary of the revision for the pages (stored by the background analysis, or computed now). */
+export async function fleetSummaryOf(found: DeviceAtRevision): Promise<FleetSummary> {
+  const [summary] = await deviceRevisions.summariesOf([found.revision]);
+  return summary;
 }
 
 /** The device of this organisation at its current (or a given) revision; null when there is none. */
@@ -77,10 +85,9 @@ async function assertSiteOfOrganisation(organisationId: string, siteId: string):
   return site;
 }
 
-/** A revision's analysis and fleet summary, computed once at save time and handed to the cache. */
-function analyseForSave(document: ModelDocument, shared: SharedLibrary): { analysis: RevisionAnalysis; summary: ReturnType<typeof summariseDocument> } {
-  const analysis = new RevisionAnalysis(document, shared);
-  return { analysis, summary: summariseDocument(analysis.effective, analysis.compiled, analysis.findings) };
+/** What a revision records at save time: element counts. The engine's analysis follows in the background. */
+function countsOf(document: ModelDocument, shared: SharedLibrary): RevisionSummaryRecord {
+  return { counts: countElements(effectiveDocument(document, shared)) };
 }
 
 function nameTaken(name: string): Refusal {
@@ -92,7 +99,7 @@ export async function createDevice(organisationId: string, siteId: string, input
   await assertSiteOfOrganisation(organisationId, siteId);
   const validated = validateDocument(input, await loadSharedLibrary(organisationId));
   if (!validated.ok) throw invalidModel(validated.errors, "The document is not a valid Sallyport model.");
-  const { analysis, summary } = analyseForSave(validated.document, validated.shared);
+  const summary = countsOf(validated.document, validated.shared);
   try {
     const { device, revisionId } = await getDatabase().transaction(async (transaction) => {
       const created = await Device.create({ organisationId, siteId, name: validated.document.device.name, currentRevisionNumber: 1 }, { transaction });
@@ -103,7 +110,7 @@ export async function createDevice(organisationId: string, siteId: string, input
       await recordAuditEvent(actor, { organisationId, action: "device.created", targetType: "device", targetId: created.id, changes: { name: created.name, revision: 1, message } }, transaction);
       return { device: created, revisionId: revision.id };
     });
-    deviceRevisions.remember(revisionId, analysis);
+    revisionAnalysisQueue.enqueue(revisionId);
     return device;
   } catch (error) {
     if (error instanceof UniqueConstraintError) throw nameTaken(validated.document.device.name);
@@ -141,7 +148,7 @@ export async function saveEdit(
       const changes = diffDocuments(current.effective, validated.effective);
       if (changes.length === 0 && !options.siteId) return { number: currentNumber, changes, saved: null };
       const number = currentNumber + 1;
-      const { analysis, summary } = analyseForSave(validated.document, validated.shared);
+      const summary = countsOf(validated.document, validated.shared);
       const revision = await DeviceRevision.create(
         { deviceId, number, document: validated.document, sharedObjects: validated.shared, summary, message, authorUserId: actor.userId, authorEmail: actor.email },
         { transaction },
@@ -158,9 +165,9 @@ export async function saveEdit(
         },
         transaction,
       );
-      return { number, changes, saved: { revisionId: revision.id, analysis } };
+      return { number, changes, saved: { revisionId: revision.id } };
     });
-    if (result.saved) deviceRevisions.remember(result.saved.revisionId, result.saved.analysis);
+    if (result.saved) revisionAnalysisQueue.enqueue(result.saved.revisionId);
     return { number: result.number, changes: result.changes };
   } catch (error) {
     if (error instanceof UniqueConstraintError) throw new Refusal("Another device of this organisation already has that name.", 409, { field: "name" });

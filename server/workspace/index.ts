@@ -21,5 +21,5 @@ export { findUsages, renameReferences } from "./references.ts";
 export type { ReferenceKind, Usage } from "./references.ts";
 export { diffDocuments } from "./document-diff.ts";
 export type { DocumentChange } from "./document-diff.ts";
-export { summariseDocument } from "./summary.ts";
+export { countElements, summariseDocument } from "./summary.ts";
 export type { RevisionSummary } from "./summary.ts";

@@ -29,11 +29,16 @@ export function summariseDocument(effective: ModelDocument, device: CompiledMode
   return {
     findingsBySeverity,
     worstOutsideOutcome: worst >= 0 ? OUTCOMES[worst] : null,
-    counts: {
-      interfaces: effective.interfaces.length,
-      inboundRules: effective.inboundRules.length,
-      accounts: effective.accounts.length,
-      addressObjects: effective.addresses.length + effective.addressGroups.length,
-    },
+    counts: countElements(effective),
+  };
+}
+
+/** How many elements of each kind the document has (the overview's model card). */
+export function countElements(effective: ModelDocument): Record<string, number> {
+  return {
+    interfaces: effective.interfaces.length,
+    inboundRules: effective.inboundRules.length,
+    accounts: effective.accounts.length,
+    addressObjects: effective.addresses.length + effective.addressGroups.length,
   };
 }

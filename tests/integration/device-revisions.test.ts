@@ -1,10 +1,11 @@
 import { randomUUID } from "node:crypto";
 import { afterAll, beforeAll, describe, expect, test } from "vitest";
-import { Organisation, Site } from "#models/index";
+import { Organisation, RevisionAnalysisRecord, Site } from "#models/index";
 import { getDatabase } from "#server/db/database.server";
 import { withQueryTally } from "#server/db/query-log.server";
 import { DeviceRevisions, deviceRevisions, elementCount } from "#server/devices/index";
 import { trace } from "#server/engine/index";
+import { revisionAnalysisQueue } from "#server/jobs/revision-analysis.server";
 import { createDevice, saveEdit } from "#server/services/devices.server";
 import type { AuditActor } from "#server/services/audit.server";
 
@@ -80,7 +81,7 @@ describe("The device-revision repository", () => {
     expect(repository.cachedRevisions).toBe(2);
   });
 
-  test("Saving a revision seeds the shared repository: the next read needs no compiling and traces the new model", async () => {
+  test("Saving returns before the analysis; the background job then stores the summary and warms the repository", async () => {
     const saved = await saveEdit(
       organisationId,
       deviceIds[2],
@@ -90,13 +91,31 @@ describe("The device-revision repository", () => {
       "moved the outside address",
     );
     expect(saved.number).toBe(2);
+    await revisionAnalysisQueue.idle();
     const found = await deviceRevisions.find(organisationId, deviceIds[2]);
     expect(found?.revision.number).toBe(2);
     expect(found?.analysis.isCompiled).toBe(true);
-    // RFC 5737: 198.51.100.0/24 is TEST-NET-2; the probe arrives (layer 1) and is refused by r1's deny (layer 2).
+    // https listens on outside and only ssh is denied: a documentation source (RFC 5737) gets a login that asks for the second factor.
+    expect(found?.revision.analysisRecord?.worstOutsideOutcome).toBe("login-mfa");
+    // RFC 5737: 198.51.100.0/24 is TEST-NET-2; the probe arrives (layer 1) and is stopped by r1's deny (layer 2).
     const result = trace(found!.analysis.compiled, { from: "192.0.2.50", interface: "outside", service: "ssh", to: "198.51.100.9" });
     expect(result.outcome).toBe("silent");
     expect(result.ruleId).toBe("r1");
+  });
+
+  test("A revision whose analysis is not stored yet gets it from the first reader, once", async () => {
+    const found = await deviceRevisions.find(organisationId, deviceIds[1]);
+    await RevisionAnalysisRecord.destroy({ where: { revisionId: found!.revision.id } });
+    const repository = new DeviceRevisions();
+    const unstored = (await repository.find(organisationId, deviceIds[1]))!;
+    expect(unstored.revision.analysisRecord).toBeNull();
+    const [summary] = await repository.summariesOf([unstored.revision]);
+    expect(summary.worstOutsideOutcome).toBe("login-mfa");
+    expect(summary.findingsBySeverity).toMatchObject({ high: expect.any(Number) });
+    const stored = await RevisionAnalysisRecord.findByPk(found!.revision.id);
+    expect(stored?.worstOutsideOutcome).toBe("login-mfa");
+    // Read back with the revision: no computing needed any more.
+    expect((await repository.find(organisationId, deviceIds[1]))?.revision.analysisRecord?.worstOutsideOutcome).toBe("login-mfa");
   });
 
   test("Every current revision of an organisation comes in at most two queries, whatever the number of devices", async () => {

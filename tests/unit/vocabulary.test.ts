@@ -247,5 +247,6 @@ describe("Organisation roles", () => {
   test("The database accepts exactly the engine's severities and the shared object kinds", () => {
     expect(checkLists("migrations/20261201-0003-finding-dismissals.ts", "severity")).toEqual([[...SEVERITIES]]);
     expect(checkLists("migrations/20261201-0002-device-workspace.ts", "kind")).toEqual([[...SHARED_OBJECT_KINDS]]);
+    expect(checkLists("migrations/20261202-0001-revision-analyses.ts", "worst_outside_outcome")).toEqual([[...OUTCOMES]]);
   });
 });

@@ -2,6 +2,7 @@ import { Form } from "react-router";
 import type { Route } from "./+types/overview";
 import { hasAtLeastRole } from "#server/auth/roles";
 import { requireDevice } from "#server/http/device-access.server";
+import { fleetSummaryOf } from "#server/services/devices.server";
 import { deviceFindings } from "#server/services/findings.server";
 import { ActiveFindingCard, DismissedFindingCard } from "#app/components/findings/finding-card";
 import { countBySeverity } from "#server/engine/finding-keys";
@@ -17,12 +18,12 @@ export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.name ??
 export async function loader({ context }: Route.LoaderArgs) {
   const access = requireDevice(context);
   // The engine lists the most severe first; dismissed ones move to their own section.
-  const { findings: list, unmatched } = await deviceFindings(access);
+  const [{ findings: list, unmatched }, analysed] = await Promise.all([deviceFindings(access), fleetSummaryOf(access)]);
   const active = list.filter((finding) => !finding.dismissal);
   return {
     name: access.device.name,
     devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`,
-    summary: access.revision.summary,
+    summary: { counts: access.revision.summary.counts, worstOutsideOutcome: analysed.worstOutsideOutcome },
     settings: access.effective.device,
     revision: { number: access.revision.number, message: access.revision.message, author: access.revision.authorEmail, at: access.revision.createdAt.toISOString() },
     active,
