@@ -17,7 +17,7 @@ import type { ReachResult } from "./reach.ts";
 import { traceProbe } from "./trace.ts";
 import type { TraceResult } from "./trace.ts";
 
-export { parseModel } from "./model.ts";
+export { accountServiceProblem, parseModel } from "./model.ts";
 export type {
   Account,
   DeviceInterface,

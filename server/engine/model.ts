@@ -149,6 +149,24 @@ export function looksLikeAddressEntry(text: string): boolean {
   return /^[0-9A-Fa-f:./\- ]+$/.test(text) && /[.:]/.test(text);
 }
 
+/**
+ * Why an account may not name `name` among its services, or null when it may: PRODUCT.md §3,
+ * an account's services name catalogue services of kind login only (ping, snmp, custom
+ * services of kind other, service groups and `any` are refused). Shared with the device editor.
+ */
+export function accountServiceProblem(
+  name: string,
+  model: { readonly services?: readonly { name: string; kind: string }[]; readonly serviceGroups?: readonly { name: string }[] },
+): string | null {
+  const service = BUILTIN_SERVICES.find((s) => s.name === name) ?? model.services?.find((s) => s.name === name);
+  if (service?.kind === "login") return null;
+  const why = "accounts name login services only";
+  if (service !== undefined) return `"${name}" is a service of kind ${service.kind} (${why})`;
+  if (name === ANY_SERVICE) return `"${name}" is not a service name (${why}; an empty list means all of them)`;
+  if (model.serviceGroups?.some((g) => g.name === name)) return `"${name}" is a service group (${why})`;
+  return `unknown service "${name}" (${why})`;
+}
+
 /** Validates a document: shape with zod, then references, name spaces, cycles and addresses. */
 export function parseModel(input: unknown): ParseResult {
   const warnings: ValidationIssue[] = [];
@@ -290,7 +308,8 @@ function checkSemantics(model: DeviceModel, errors: ValidationIssue[], warnings:
       return normalisedEntry(text, path);
     });
     a.services.forEach((n, j) => {
-      if (!catalogue.has(n)) fail(`accounts[${i}].services[${j}]`, `unknown service "${n}" (accounts name catalogue services)`);
+      const problem = accountServiceProblem(n, model);
+      if (problem !== null) fail(`accounts[${i}].services[${j}]`, problem);
     });
   });
   checkAddressNames(model.operatorNetworks, "operatorNetworks");

@@ -3,6 +3,7 @@
 import { z } from "zod";
 import {
   ACCESS_LEVELS,
+  accountServiceProblem,
   ANY_INTERFACE,
   BUILTIN_ADDRESS_NAMES,
   CUSTOM_SERVICE_KINDS,
@@ -30,6 +31,7 @@ import {
   upsertNamed,
   type ModelDocument,
 } from "../workspace/index.ts";
+import { Refusal } from "../errors.ts";
 import { fieldErrorsOf, type FieldErrors } from "./form.server.ts";
 import { ElementNameSchema } from "./schemas.ts";
 
@@ -184,7 +186,15 @@ export function planDeviceEdit(intent: string | undefined, values: Record<string
     case "delete-schedule":
       return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "schedules", name), message: `Deleted schedule ${name}` }));
     case "save-account":
-      return plan(AccountForm, values, ({ original, ...item }) => ({ edit: (document) => upsertNamed(document, "accounts", original, item), message: verb(original, item.name, "account") }));
+      return plan(AccountForm, values, ({ original, ...item }) => ({
+        edit: (document) => {
+          // PRODUCT.md §3: login services only. The engine refuses the rest too; checked here so the message sits beside the field.
+          const problems = item.services.map((name) => accountServiceProblem(name, document)).filter((problem) => problem !== null);
+          if (problems.length > 0) throw new Refusal(`Not saved: ${problems.join("; ")}.`, 400, { field: "services" });
+          return upsertNamed(document, "accounts", original, item);
+        },
+        message: verb(original, item.name, "account"),
+      }));
     case "delete-account":
       return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "accounts", name), message: `Deleted account ${name}` }));
     case "save-rule":

@@ -6,6 +6,7 @@ import ipaddr from "ipaddr.js";
 import { IPv4CidrRange, IPv6CidrRange, RangedSet } from "ip-num";
 import { Netmask } from "netmask";
 import { describe, expect, test } from "vitest";
+import { propertyParameters, type PropertyBudget } from "#tests/support/property-runs.ts";
 import {
   AddressSyntaxError,
   formatAddress,
@@ -152,6 +153,17 @@ function cidrsOf(set: Ranges, family: Family): string[] {
   return out;
 }
 
+/**
+ * Runs and Vitest timeouts of the property tests below, with room for a loaded 2-core machine
+ * (the ip-num covers take the longest: up to about 3 s there). Seeds: DEVELOPERS.md, Tests.
+ */
+const BUDGETS = {
+  quick: { numRuns: 300, timeoutMs: 15_000 },
+  cover4: { numRuns: 200, timeoutMs: 20_000 },
+  cover6: { numRuns: 25, timeoutMs: 20_000 },
+  sizes6: { numRuns: 200, timeoutMs: 15_000 },
+} as const satisfies Record<string, PropertyBudget>;
+
 const v4 = fc.bigInt({ min: 0n, max: 2n ** 32n - 1n });
 const v6 = fc
   .bigInt({ min: 0n, max: 2n ** 128n - 1n })
@@ -172,9 +184,9 @@ describe("differential checks against npm IP libraries", () => {
         expect(parseAddress(text).value).toBe(v);
         expect(parseAddress(ipaddr.IPv6.parse(text).toNormalizedString()).value).toBe(v);
       }),
-      { numRuns: 300 },
+      propertyParameters(BUDGETS.quick),
     );
-  });
+  }, BUDGETS.quick.timeoutMs);
 
   test("IPv4 CIDR bounds match netmask's base, broadcast and size", () => {
     fc.assert(
@@ -186,12 +198,13 @@ describe("differential checks against npm IP libraries", () => {
         expect(formatAddress(4, ours.last)).toBe(theirs.broadcast ?? theirs.last);
         expect(ours.last - ours.first + 1n).toBe(BigInt(theirs.size));
       }),
-      { numRuns: 300 },
+      propertyParameters(BUDGETS.quick),
     );
-  });
+  }, BUDGETS.quick.timeoutMs);
 
   test.each([4, 6] as const)("IPv%i range → CIDRs is an exact, minimal cover per ip-num", (family) => {
     const gen = family === 4 ? v4 : v6;
+    const budget = family === 4 ? BUDGETS.cover4 : BUDGETS.cover6;
     fc.assert(
       fc.property(gen, gen, (a, b) => {
         const [first, last] = a <= b ? [a, b] : [b, a];
@@ -207,9 +220,9 @@ describe("differential checks against npm IP libraries", () => {
           expect(joined.isCidrAble()).toBe(false);
         }
       }),
-      { numRuns: family === 4 ? 200 : 25 },
+      propertyParameters(budget),
     );
-  });
+  }, BUDGETS.cover4.timeoutMs);
 
   test("IPv6 CIDR sizes match ip-num", () => {
     fc.assert(
@@ -220,9 +233,9 @@ describe("differential checks against npm IP libraries", () => {
         expect(ours.first).toBe(theirs.getFirst().getValue());
         expect(ours.last - ours.first + 1n).toBe(theirs.getSize());
       }),
-      { numRuns: 200 },
+      propertyParameters(BUDGETS.sizes6),
     );
-  });
+  }, BUDGETS.sizes6.timeoutMs);
 });
 
 describe("set algebra agrees with a brute-force membership table", () => {
@@ -245,7 +258,7 @@ describe("set algebra agrees with a brute-force membership table", () => {
         // Canonical: sorted, with gaps between ranges.
         for (let i = 2; i < a.length; i += 2) expect(a[i] > a[i - 1] + 1n).toBe(true);
       }),
-      { numRuns: 300 },
+      propertyParameters(BUDGETS.quick),
     );
-  });
+  }, BUDGETS.quick.timeoutMs);
 });

@@ -105,6 +105,37 @@ describe("errors name their path", () => {
     expect(errors[0].startsWith(`${path}: `)).toBe(true);
   });
 
+  test("an account's services name login services only (PRODUCT.md §3)", () => {
+    // PRODUCT.md §3 precise points: "an account's `services` name catalogue services of kind
+    // `login` only (naming `ping` or `snmp` there is a validation error)".
+    const doc = base();
+    doc.services = [
+      { name: "webconsole", protocol: "tcp", port: 8443, kind: "login" },
+      { name: "syslog-in", protocol: "udp", port: 514, kind: "other" },
+    ];
+    doc.serviceGroups = [{ name: "admin-web", members: ["https", "webconsole"] }];
+    doc.accounts = [
+      { name: "ops", services: ["https", "ping", "ssh", "snmp"] },
+      { name: "audit", services: ["syslog-in", "admin-web", "any", "rdp", "webconsole", "http", "telnet"] },
+    ];
+    expect(errorsOf(doc)).toEqual([
+      'accounts[0].services[1]: "ping" is a service of kind echo (accounts name login services only)',
+      'accounts[0].services[3]: "snmp" is a service of kind other (accounts name login services only)',
+      'accounts[1].services[0]: "syslog-in" is a service of kind other (accounts name login services only)',
+      'accounts[1].services[1]: "admin-web" is a service group (accounts name login services only)',
+      'accounts[1].services[2]: "any" is not a service name (accounts name login services only; an empty list means all of them)',
+      'accounts[1].services[3]: unknown service "rdp" (accounts name login services only)',
+    ]);
+  });
+
+  test("every login service of the catalogue, built-in or custom, may be named by an account (PRODUCT.md §3)", () => {
+    // PRODUCT.md §3 Services: login ssh, https, http, telnet; custom services of kind login.
+    const doc = base();
+    doc.services = [{ name: "webconsole", protocol: "tcp", port: 8443, kind: "login" }];
+    doc.accounts = [{ name: "ops", services: ["https", "http", "ssh", "telnet", "webconsole"] }];
+    expect(errorsOf(doc)).toEqual([]);
+  });
+
   test("literal entries are accepted in login sources", () => {
     const doc = base();
     doc.accounts = [{ name: "ops", loginSources: ["198.51.100.0/26", "2001:db8::/48", "192.0.2.10-192.0.2.20", "noc"] }];

@@ -8,12 +8,26 @@ import type { CompiledModel, DeviceModel, DeviceModelInput } from "#server/engin
 import { formatAddress, parseEntry } from "#server/engine/addresses.ts";
 import { NaiveEvaluator } from "#server/engine/naive.ts";
 import { SMALL_SIZE, generateModel, prng } from "#server/engine/testing/generate-model.ts";
+import { propertyParameters, type PropertyBudget } from "#tests/support/property-runs.ts";
 
 function validated(input: DeviceModelInput): DeviceModel {
   const parsed = parseModel(input);
   if (!parsed.ok) throw new Error(`generated model invalid: ${JSON.stringify(parsed.errors.slice(0, 3))}`);
   return parsed.model;
 }
+
+/**
+ * Each property's runs and Vitest timeout, sized so a run on a loaded 2-core machine ends well
+ * inside the timeout (measured; see DEVELOPERS.md, Tests). The seed is fixed unless
+ * SALLYPORT_PROPERTY_SEED says otherwise; a failure's report names it.
+ */
+const BUDGETS = {
+  naive: { numRuns: 60, timeoutMs: 30_000 },
+  naiveLarger: { numRuns: 10, timeoutMs: 30_000 },
+  exposure: { numRuns: 25, timeoutMs: 30_000 },
+  diffSelf: { numRuns: 15, timeoutMs: 30_000 },
+  removable: { numRuns: 25, timeoutMs: 30_000 },
+} as const satisfies Record<string, PropertyBudget>;
 
 const START = Date.UTC(2025, 2, 24); // a Monday; the next two weeks cross the EU/US DST changes
 const PROBE_SERVICES = ["https", "http", "ssh", "telnet", "ping", "snmp", "webconsole", "syslog-in", "tcp/8443", "tcp/8080", "udp/9999", "icmp/echo", "tcp/22"];
@@ -64,9 +78,9 @@ describe("compiled engine against the naive evaluator", () => {
           expect(compiledTrace(device, p), JSON.stringify(p)).toEqual(naive.trace(p));
         }
       }),
-      { numRuns: 60 },
+      propertyParameters(BUDGETS.naive),
     );
-  });
+  }, BUDGETS.naive.timeoutMs);
 
   test("also on larger models, where sets span many bitset words", () => {
     const medium = { ...SMALL_SIZE, interfaces: 4, rules: 80, addressObjects: 60, entries: 160, groups: 10, accounts: 8, schedules: 4 };
@@ -81,9 +95,9 @@ describe("compiled engine against the naive evaluator", () => {
           expect(compiledTrace(device, p), JSON.stringify(p)).toEqual(naive.trace(p));
         }
       }),
-      { numRuns: 10 },
+      propertyParameters(BUDGETS.naiveLarger),
     );
-  });
+  }, BUDGETS.naiveLarger.timeoutMs);
 });
 
 describe("exposure map against traces", () => {
@@ -111,9 +125,9 @@ describe("exposure map against traces", () => {
           }
         }
       }),
-      { numRuns: 25 },
+      propertyParameters(BUDGETS.exposure),
     );
-  });
+  }, BUDGETS.exposure.timeoutMs);
 });
 
 function size(cidr: string): bigint {
@@ -135,9 +149,9 @@ describe("diff and rule analyses", () => {
         const model = validated(generateModel(seed, SMALL_SIZE).model);
         expect(diffModels(compileModel(model), compileModel(model))).toEqual({ changes: [], lockout: [], findingsAdded: [], findingsResolved: [] });
       }),
-      { numRuns: 15 },
+      propertyParameters(BUDGETS.diffSelf),
     );
-  });
+  }, BUDGETS.diffSelf.timeoutMs);
 
   test("removing a rule reported as shadowed or redundant changes no outcome", () => {
     let checked = 0;
@@ -159,10 +173,10 @@ describe("diff and rule analyses", () => {
           checked++;
         }
       }),
-      { numRuns: 25 },
+      propertyParameters(BUDGETS.removable),
     );
     expect(checked).toBeGreaterThan(0);
-  });
+  }, BUDGETS.removable.timeoutMs);
 
   test("a rule that is never the first match is reported as shadowed", () => {
     // An exact duplicate placed right after its twin can never match first (common practice, no source: first match wins).

@@ -410,6 +410,39 @@ describe("Concurrent edits and refused edits", () => {
   });
 });
 
+describe("Accounts name login services only", () => {
+  test("Posting ping or snmp as an account's service is refused (400) with the message beside the services field; nothing is saved", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-account-services");
+    const device = await importDocument(client, slug, siteId, QUAY_EDGE);
+    const account = { intent: "save-account", original: "ops-lena", name: "ops-lena", loginSources: "noc-net", secondFactor: "totp", accessLevel: "full", enabled: "on" };
+
+    // PRODUCT.md §3: an account's services name catalogue services of kind login only.
+    const page = await client.get(`${device.path}/model/accounts?edit=ops-lena`);
+    expect(page.status).toBe(200);
+    const offered = [...servicesFieldset(page.text).matchAll(/name="services" value="([^"]+)"/g)].map((match) => match[1]);
+    expect(offered).toEqual(["https", "http", "ssh", "telnet"]);
+
+    const refused = await device.edit("accounts", { ...account, services: ["ssh", "ping"] });
+    expect(refused.status).toBe(400);
+    const message = 'Not saved: "ping" is a service of kind echo (accounts name login services only).';
+    expect(plain(servicesFieldset(refused.text))).toContain(message);
+    const snmp = await device.edit("accounts", { ...account, services: "snmp" });
+    expect(snmp.status).toBe(400);
+    expect(plain(servicesFieldset(snmp.text))).toContain('"snmp" is a service of kind other');
+
+    expect(await device.revision()).toBe(1);
+    await device.save("accounts", { ...account, services: ["ssh", "https"] });
+    expect((await device.exported(2)).accounts[0].services).toEqual(["ssh", "https"]);
+  });
+});
+
+/** The account form's fieldset of login services, as rendered. */
+function servicesFieldset(html: string): string {
+  const match = /<fieldset[^>]*>(?:(?!<\/fieldset>)[\s\S])*?name="services"[\s\S]*?<\/fieldset>/.exec(html);
+  if (!match) throw new Error("no services fieldset on the accounts page");
+  return match[0];
+}
+
 /** Small models, so a property run stays well within the time budget. */
 const TINY: ModelSize = { interfaces: 2, rules: 4, addressObjects: 3, entries: 5, groups: 2, accounts: 2, schedules: 1, spread: "narrow", scheduledShare: 0.3, scheduleStyle: "random" };
 
