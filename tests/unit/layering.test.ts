@@ -25,7 +25,8 @@ async function lintCode(filePath: string, code: string) {
 const layering = (messages: readonly { ruleId: string | null; message: string }[]) =>
   messages.filter((entry) => entry.ruleId === "no-restricted-imports" || entry.ruleId === "no-restricted-syntax").map((entry) => `${entry.ruleId}: ${entry.message}`);
 
-describe("Layering: app → server → engine, models below server", () => {
+// The first lint of a run loads ESLint and its plugins: seconds on a loaded 2-core machine.
+describe("Layering: app → server → engine, models below server", { timeout: 30_000 }, () => {
   test("A server module importing from app/ fails the lint step, by alias or by relative path", async () => {
     for (const specifier of ["#app/utils/x", "#app/utils/x.ts", "../../app/utils/x", "./../../app/utils/x"]) {
       const messages = await lintImport("server/services/example.server.ts", specifier);
