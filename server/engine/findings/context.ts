@@ -1,7 +1,7 @@
 // What the checks share, computed once per compiled model and only when a check asks: the
 // non-private exposure per interface × service, the operator networks, the rules that are
 // ever the first match, the sources with a login path — and the witness probes.
-import { FAMILY, formatAddress, parseEntry, rangeToCidrs } from "../addresses.ts";
+import { FAMILY, formatAddress, parseAddress, parseEntry, rangeToCidrs } from "../addresses.ts";
 import type { Family } from "../addresses.ts";
 import { EMPTY_SET, intersect, rangesOf, setFromRanges, subtract, unionSets } from "../address-sets.ts";
 import type { AddressSet, Ranges } from "../address-sets.ts";
@@ -50,6 +50,23 @@ export interface ServiceExposure {
   readonly outcomes: ReadonlySet<number>;
   /** Per outcome rank, the non-private sources that get it at some time, to some address. */
   readonly hits: readonly AddressSet[];
+}
+
+/**
+ * Witness sources, in order of preference: the documentation addresses that stand for "the
+ * internet" in examples (RFC 5737, RFC 3849), so a witness reads like the trade's examples;
+ * otherwise the first address of the set.
+ */
+const PREFERRED_SOURCES: ReadonlyArray<{ family: Family; value: bigint }> = ["203.0.113.50", "198.51.100.50", "192.0.2.50", "2001:db8::50"].map((text) => parseAddress(text));
+
+/** The witness source of a set of ranges of one family: a preferred documentation address in it, else its first address. */
+export function witnessSource(ranges: Ranges, family: Family): bigint | undefined {
+  if (ranges.length === 0) return undefined;
+  for (const candidate of PREFERRED_SOURCES) {
+    if (candidate.family !== family) continue;
+    for (let i = 0; i < ranges.length; i += 2) if (candidate.value >= ranges[i] && candidate.value <= ranges[i + 1]) return candidate.value;
+  }
+  return ranges[0];
 }
 
 /** A week minute's instant in the reference week: Monday 5 January 2026, 00:00 device time. */
@@ -252,8 +269,8 @@ export class FindingContext {
         if (c.service === null) continue;
         for (let slice = 0; slice < engine.week.slices.length; slice++) {
           const rules = engine.rulePartitionAt(iface, to, c.index, slice);
-          const unmatched = intersect(engine.domains[family].rangesWhere(rules.owner, -1), rangesOf(sources, family));
-          if (unmatched.length > 0) return this.probe(iface, to, c.index, family, unmatched[0], slice);
+          const unmatched = witnessSource(intersect(engine.domains[family].rangesWhere(rules.owner, -1), rangesOf(sources, family)), family);
+          if (unmatched !== undefined) return this.probe(iface, to, c.index, family, unmatched, slice);
         }
       }
     }
@@ -280,9 +297,8 @@ export class FindingContext {
   exposureWitness(iface: number, cls: number, outcome: number, sources: AddressSet): { probe: WitnessProbe; outcome: Outcome } | undefined {
     const engine = this.engine;
     for (const family of [4, 6] as const) {
-      const ranges = rangesOf(sources, family);
-      if (ranges.length === 0) continue;
-      const source = ranges[0];
+      const source = witnessSource(rangesOf(sources, family), family);
+      if (source === undefined) continue;
       for (const { iface: arrival, to } of this.arrivals) {
         if (arrival !== iface || engine.addresses[to].family !== family) continue;
         for (let slice = 0; slice < engine.week.slices.length; slice++) {
