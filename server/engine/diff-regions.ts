@@ -98,7 +98,6 @@ class RevisionView {
   private readonly ruleIds: Record<Family, Int32Array>;
   private readonly lists = new Map<number, Int32Array>();
   private readonly logins = new Map<string, { ids: Int32Array; accounts: Int32Array }>();
-  private readonly matches = new WeakMap<Ranges, Map<number, FirstMatches>>();
   private readonly scheduleIds: Int32Array;
   private enabledRules: { readonly positions: Int32Array; readonly ids: Int32Array } | null = null;
   /** Per stretch of the common refinement: this revision's slice. */
@@ -165,13 +164,19 @@ class RevisionView {
    * The enabled rules in order, each with the id of everything that decides where and how it
    * can match: interface, services, destinations, action, schedule pattern, sources.
    */
-  sequence(): { readonly positions: Int32Array; readonly ids: Int32Array } {
+  sequence(unchanged: ReadonlySet<string>): { readonly positions: Int32Array; readonly ids: Int32Array } {
     if (this.enabledRules !== null) return this.enabledRules;
     const positions: number[] = [];
     const ids: number[] = [];
     for (const r of this.engine.rules) {
       if (!r.enabled) continue;
       const doc = this.engine.model.inboundRules[r.position];
+      if (unchanged.has(doc.id)) {
+        // Defined alike in both revisions, with every name it uses: known by its id.
+        positions.push(r.position);
+        ids.push(this.interner.id(`=${doc.id}`));
+        continue;
+      }
       const services = r.anyService ? "*" : [...r.serviceKeys].sort().join(",");
       const destinations = doc.destinations.map((n) => `${this.nameId(n, 4)}/${this.nameId(n, 6)}`).join(",");
       positions.push(r.position);
@@ -179,6 +184,12 @@ class RevisionView {
     }
     this.enabledRules = { positions: Int32Array.from(positions), ids: Int32Array.from(ids) };
     return this.enabledRules;
+  }
+
+  /** Id of a schedule's on/off pattern over the shared stretches (-1: always on). */
+  scheduleId(position: number): number {
+    const s = this.engine.rules[position].schedule;
+    return s < 0 ? -1 : this.scheduleIds[s];
   }
 
   /** Whether an enabled rule is among the cell's candidates (as CompiledModel.candidateRules decides), without building the list. */
@@ -244,11 +255,11 @@ class RevisionView {
     return this.engine.candidateRules(side.iface, side.to, side.cls);
   }
 
-  /** The cell's outcomes over a region (the region should be small); shared by cells with the same inputs. */
+  /** The cell's outcomes over a region (the region should be small), computed once per cell and region. */
   regionView(side: CellSide | null, family: Family, region: Ranges): RegionView {
     let byInputs = this.views.get(region);
     if (byInputs === undefined) this.views.set(region, (byInputs = new Map()));
-    const key = side === null ? "silent" : `${this.candidatesOf(side).id}|${side.mode}|${side.cls}`;
+    const key = side === null ? "silent" : `${side.iface}|${side.to}|${side.cls}`;
     let view = byInputs.get(key);
     if (view === undefined) byInputs.set(key, (view = this.evaluate(side, family, region)));
     return view;
@@ -276,7 +287,7 @@ class RevisionView {
       const silent = new Uint8Array(count).fill(SILENT);
       return { pieces, bySlice: Array.from({ length: slices }, () => silent) };
     }
-    const matches = this.firstMatches(side, family, region, pieceElements);
+    const matches = this.firstMatches(side, family, pieceElements);
     const login = side.mode === "L" ? engine.loginClassRuns(family, side.cls) : null;
     const passed = side.mode === "R" ? REFUSED : ANSWERED;
     const valueOf = (owner: number, n: number): number => {
@@ -321,18 +332,15 @@ class RevisionView {
   }
 
   /**
-   * The first-match rule of each element of the pieces: a bitset sweep over the cell's
-   * candidate rules in order (as CompiledModel.rulePartition) restricted to those elements,
-   * stopping once each is decided. An element first reached by a rule limited to a schedule
-   * gets one owner per slice. Owner -1: no rule matches, the default applies.
+   * The first-match rule of each element of the pieces: a bitset sweep over the rules that
+   * can match on the cell, in order (as CompiledModel.rulePartition), restricted to those
+   * elements and stopping once each is decided, so the cell's full candidate list is never
+   * built. An element first reached by a rule limited to a schedule gets one owner per slice.
+   * Owner -1: no rule matches, the default applies.
    */
-  private firstMatches(side: CellSide, family: Family, region: Ranges, pieceElements: readonly number[]): FirstMatches {
-    const candidates = this.candidatesOf(side);
-    let byList = this.matches.get(region);
-    if (byList === undefined) this.matches.set(region, (byList = new Map()));
-    const cached = byList.get(candidates.id);
-    if (cached !== undefined) return cached;
+  private firstMatches(side: CellSide, family: Family, pieceElements: readonly number[]): FirstMatches {
     const engine = this.engine;
+    const value = engine.addresses[side.to].value;
     const slices = engine.week.slices;
     const elements: number[] = [];
     const slotOf = new Int32Array(pieceElements.length);
@@ -351,9 +359,11 @@ class RevisionView {
     const constant = new Int32Array(elements.length).fill(-1);
     const bySlice = new Map<number, Int32Array>();
     let open = elements.length;
-    for (const p of candidates.rules) {
+    for (const rule of engine.rules) {
       if (open === 0) break;
-      const schedule = engine.rules[p].schedule;
+      if (!rule.enabled || !this.canMatch(rule.position, side, value)) continue;
+      const p = rule.position;
+      const schedule = rule.schedule;
       const take = (w: number, fresh: number): void => {
         while (fresh !== 0) {
           const low = fresh & -fresh;
@@ -396,9 +406,7 @@ class RevisionView {
     }
     // Slices no rule decided fall to the default.
     for (const owners of bySlice.values()) for (let k = 0; k < owners.length; k++) if (owners[k] === UNDECIDED) owners[k] = -1;
-    const result: FirstMatches = { slotOf, constant, bySlice };
-    byList.set(candidates.id, result);
-    return result;
+    return { slotOf, constant, bySlice };
   }
 
   /** Elements of this revision's domain that overlap the region. */
@@ -508,7 +516,28 @@ export class RevisionPair {
     const changed = changedNames(beforeEngine.model, afterEngine.model);
     this.before = new RevisionView(beforeEngine, this.cuts, interner, changed);
     this.after = new RevisionView(afterEngine, this.cuts, interner, changed);
-    this.ruleEdits = this.sequenceEdits();
+    this.ruleEdits = this.sequenceEdits(changed);
+  }
+
+  /** Ids of rules defined alike in both documents whose names, services and schedule mean the same in both. */
+  private unchangedRules(changed: ReadonlySet<string>): Set<string> {
+    const sameText = (x: readonly string[], y: readonly string[]): boolean => x.length === y.length && x.every((t, i) => t === y[i]);
+    const after = new Map(this.after.engine.model.inboundRules.map((r, i) => [r.id, i]));
+    const out = new Set<string>();
+    this.before.engine.model.inboundRules.forEach((b, pb) => {
+      const pa = after.get(b.id);
+      if (pa === undefined) return;
+      const a = this.after.engine.model.inboundRules[pa];
+      if (a.interface !== b.interface || a.action !== b.action || a.enabled !== b.enabled || a.schedule !== b.schedule) return;
+      if (!sameText(a.sources, b.sources) || !sameText(a.destinations, b.destinations) || !sameText(a.services, b.services)) return;
+      if (b.sources.some((n) => changed.has(n)) || b.destinations.some((n) => changed.has(n))) return;
+      if (this.before.scheduleId(pb) !== this.after.scheduleId(pa)) return;
+      const rb = this.before.engine.rules[pb];
+      const ra = this.after.engine.rules[pa];
+      if (rb.anyService !== ra.anyService || rb.serviceKeys.size !== ra.serviceKeys.size || [...rb.serviceKeys].some((k) => !ra.serviceKeys.has(k))) return;
+      out.add(b.id);
+    });
+    return out;
   }
 
   /**
@@ -517,10 +546,11 @@ export class RevisionPair {
    * candidate list is a filter of its revision's sequence by interface, service and
    * destination, so without these rules both revisions' lists for a cell are equal too.
    */
-  private sequenceEdits(): { readonly before: readonly number[]; readonly after: readonly number[] } | null {
+  private sequenceEdits(changed: ReadonlySet<string>): { readonly before: readonly number[]; readonly after: readonly number[] } | null {
     if (this.tuning.ruleEditLimit < 0) return null;
-    const b = this.before.sequence();
-    const a = this.after.sequence();
+    const unchanged = this.unchangedRules(changed);
+    const b = this.before.sequence(unchanged);
+    const a = this.after.sequence(unchanged);
     const { head, midB, midA } = commonEnds(b.ids, a.ids);
     const edits = listEdits(midB, midA, this.tuning.ruleEditLimit);
     if (edits === null) return null;
