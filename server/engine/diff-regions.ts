@@ -594,7 +594,9 @@ export class RevisionPair {
         ...this.after.loginSourcesOf(accountsA, family),
       ]);
       const limit = this.tuning.elementLimit;
-      found = this.before.elementCount(family, region) > limit || this.after.elementCount(family, region) > limit ? WHOLE : { kind: "region", region };
+      // Edited rules and accounts with no sources in this family change nothing here.
+      if (region.length === 0) found = SAME;
+      else found = this.before.elementCount(family, region) > limit || this.after.elementCount(family, region) > limit ? WHOLE : { kind: "region", region };
       this.regions.set(key, found);
     }
     return found;

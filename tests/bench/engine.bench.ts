@@ -32,6 +32,7 @@ const START = Date.UTC(2025, 2, 24);
 const DIFF_RUNS = 5;
 const SERIES = [250, 500, 1000, 2000, 4000, 8000, 16000];
 const WARM_UP_RULES = 250;
+const SERIES_PAIRS = 3;
 const CHART = fileURLToPath(new URL("../../docs/bench/scaling.svg", import.meta.url));
 
 function time<T>(f: () => T): [T, number] {
@@ -115,33 +116,43 @@ function diffChild(): void {
   process.stdout.write(`${JSON.stringify(result)}\n`);
 }
 
-/** Child process: one size of the series. The diff runs first so its peak RSS is its own. */
+/**
+ * Child process: one size of the series. Three freshly compiled pairs of revisions are
+ * diffed first (compile and diff: the median of the three); the diff's peak RSS is read
+ * after the first pair, before anything else has run. Exposure and findings then each run on
+ * a fresh compile, so neither is helped by partitions another built.
+ */
 function seriesChild(rules: number): void {
   // Warm the code paths on a small model first, so the figures are not the JIT's first pass.
   const small = validated(WARM_UP_RULES);
-  diffModels(compileModel(small), compileModel(oneRuleMove(small).after));
+  for (let i = 0; i < 3; i++) diffModels(compileModel(small), compileModel(oneRuleMove(small).after));
   exposure(compileModel(small));
   findings(compileModel(small));
 
   const model = validated(rules);
   const entries = model.addresses.reduce((n, a) => n + a.entries.length, 0);
   const { after } = oneRuleMove(model);
-  const before = compileModel(model);
-  const revised = compileModel(after);
-  const [, diffMs] = time(() => diffModels(before, revised));
-  const diffPeak = currentPeakRssMiB();
-  const [device, compileMs] = time(() => compileModel(model));
+  const compileRuns: number[] = [];
+  const diffRuns: number[] = [];
+  let diffPeak = 0;
+  for (let i = 0; i < SERIES_PAIRS; i++) {
+    const [before, compileMs] = time(() => compileModel(model));
+    const revised = compileModel(after);
+    compileRuns.push(compileMs);
+    diffRuns.push(time(() => diffModels(before, revised))[1]);
+    if (i === 0) diffPeak = currentPeakRssMiB();
+  }
+  const device = compileModel(model);
   const [, exposureMs] = time(() => exposure(device).slices.reduce((n, sl) => n + sl.entries.length, 0));
-  // Findings on a fresh compile, so the exposure's partitions do not help them.
   const fresh = compileModel(model);
   const [, findingsMs] = time(() => findings(fresh));
   const result: SeriesRun = {
     rules,
     entries,
-    compileMs: round(compileMs, 1),
+    compileMs: round(median(compileRuns), 1),
     exposureMs: round(exposureMs, 1),
     findingsMs: round(findingsMs, 1),
-    diffMs: round(diffMs, 1),
+    diffMs: round(median(diffRuns), 1),
     peakRssMiB: round(currentPeakRssMiB(), 1),
     diffPeakRssMiB: round(diffPeak, 1),
   };
