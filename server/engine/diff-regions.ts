@@ -4,7 +4,7 @@
 // with their action, sources and schedule state), the listener, the service kind, the
 // default action and, for logins, the accounts. Equal inputs give equal outcomes. Inputs
 // that differ by a few rules or accounts can only change outcomes for sources of those rules
-// or accounts (the cell's region), so only the region is evaluated, element by element.
+// or accounts (the cell's region), so only the region's elements are evaluated.
 
 import type { Family } from "./addresses.ts";
 import { collapse, contains, rangesOf } from "./address-sets.ts";
@@ -33,10 +33,10 @@ export type CellComparison =
   /** Anything may differ: evaluate the whole source space. */
   | { readonly kind: "whole" };
 
-/** What decides a cell's outcome besides the first-match rule: S silent whatever the rules say, R refused, A answered, L a login. */
-type Mode = "S" | "R" | "A" | "L";
+/** What an allowed probe gets on a cell: R refused (nothing listens, unlistened ports reset), A answered, L a login. */
+type Mode = "R" | "A" | "L";
 
-/** One revision's indices for a cell (null when the cell is all silent there: no such interface, address or family). */
+/** One revision's indices for a cell (null when the cell is all silent there: no such interface, address or family, or nothing answers whatever the rules say). */
 export interface CellSide {
   readonly iface: number;
   readonly to: number;

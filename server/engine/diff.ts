@@ -333,10 +333,10 @@ export function lockoutGuard(before: CompiledModel, after: CompiledModel, pair: 
   /** Whether the part both revisions share gives any source of the set a login path. */
   const sharedReach = (set: AddressSet): boolean => {
     for (const [id, cell] of cells) {
-      const known = sides.get(id);
-      if (known === undefined || known.a === null || known.a.mode !== "L") continue;
-      const within = known.region === undefined ? rangesOf(set, cell.family) : subtract(rangesOf(set, cell.family), known.region, cell.family);
-      if (within.length > 0 && loginWithin(after, known.a, cell.family, within).length > 0) return true;
+      const entry = sides.get(id);
+      if (entry === undefined || entry.a === null || entry.a.mode !== "L") continue;
+      const within = entry.region === undefined ? rangesOf(set, cell.family) : subtract(rangesOf(set, cell.family), entry.region, cell.family);
+      if (within.length > 0 && loginWithin(after, entry.a, cell.family, within).length > 0) return true;
     }
     return false;
   };
