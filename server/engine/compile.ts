@@ -629,6 +629,14 @@ export class CompiledModel {
     return (this.classByKey.get(key) ?? this.classes[this.classes.length - 1]).index;
   }
 
+  /**
+   * The rule's sources as a sparse bitset over the family's elements (read-only; shared with
+   * the partitions). The diff sweeps it over only the elements an edit can change.
+   */
+  ruleSourceBits(position: number, family: Family): SparseBits {
+    return this.ruleBits[position][family === 4 ? 0 : 1];
+  }
+
   /** Whether the rule's sources hold the element. */
   ruleCovers(position: number, family: Family, element: number): boolean {
     const bits = this.ruleBits[position][family === 4 ? 0 : 1];

@@ -30,13 +30,22 @@ export class Domain {
     readonly family: Family,
     sets: readonly Ranges[],
   ) {
-    const cuts = new Set<bigint>([0n, FAMILY[family].size]);
-    for (const r of sets) for (let i = 0; i < r.length; i += 2) cuts.add(r[i]).add(r[i + 1] + 1n);
-    const bounds = [...cuts].sort((a, b) => (a < b ? -1 : a > b ? 1 : 0));
+    let bounds: bigint[];
+    if (family === 4) {
+      // IPv4 bounds (≤ 2^32) are exact as numbers, which a Set and a typed-array sort handle far faster than bigints.
+      const cuts = new Set<number>([0, 2 ** 32]);
+      for (const r of sets) for (let i = 0; i < r.length; i += 2) cuts.add(Number(r[i])).add(Number(r[i + 1]) + 1);
+      this.boundsNumber = Float64Array.from(cuts).sort();
+      bounds = Array.from(this.boundsNumber, (b) => BigInt(b));
+    } else {
+      const cuts = new Set<bigint>([0n, FAMILY[family].size]);
+      for (const r of sets) for (let i = 0; i < r.length; i += 2) cuts.add(r[i]).add(r[i + 1] + 1n);
+      bounds = [...cuts].sort((a, b) => (a < b ? -1 : a > b ? 1 : 0));
+      this.boundsNumber = null;
+    }
     this.bounds = bounds;
     this.size = bounds.length - 1;
     this.words = (this.size + 31) >>> 5;
-    this.boundsNumber = family === 4 ? Float64Array.from(bounds, (b) => Number(b)) : null;
   }
 
   /** Index of the element holding the address. */
@@ -52,9 +61,23 @@ export class Domain {
   /** Ranges whose boundaries are all in this domain, as element index pairs [a0, b0, …]. */
   toIndexRanges(ranges: Ranges): Int32Array {
     const out = new Int32Array(ranges.length);
-    for (let i = 0; i < ranges.length; i += 2) {
-      out[i] = this.indexOf(ranges[i]);
-      out[i + 1] = this.indexOf(ranges[i + 1]);
+    const numbers = this.boundsNumber;
+    if (numbers === null) {
+      for (let i = 0; i < ranges.length; i++) out[i] = this.indexOf(ranges[i]);
+      return out;
+    }
+    // IPv4: ranges are ascending, so each search starts where the previous one ended.
+    let from = 0;
+    for (let i = 0; i < ranges.length; i++) {
+      const value = Number(ranges[i]);
+      let lo = from;
+      let hi = this.size - 1;
+      while (lo < hi) {
+        const mid = (lo + hi + 1) >> 1;
+        if (numbers[mid] <= value) lo = mid;
+        else hi = mid - 1;
+      }
+      out[i] = from = lo;
     }
     return out;
   }

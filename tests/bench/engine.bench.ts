@@ -1,15 +1,27 @@
 // Engine benchmark on a seeded synthetic model of realistic large size.
-//   npm run bench            readable report
-//   npm run bench -- --json  one JSON object
+//   npm run bench                       readable report
+//   npm run bench -- --json             one JSON object
+//   --no-series                         skip the scaling series (it takes a few minutes)
+//   --series=250,500,1000               choose its sizes (inbound rules)
+//   --series-runs=3                     fresh child processes per size (median, min, max)
+//   --write-chart                       write docs/bench/scaling.svg from the series
 // Targets (2-core machine): full exposure ≤ 500 ms, compiled trace ≥ 100× faster than the
-// naive evaluator, ≥ 1,000,000 lookups/s, peak RSS ≤ 512 MiB.
+// naive evaluator, ≥ 1,000,000 lookups/s, peak RSS ≤ 512 MiB; a one-rule move diffed in
+// ≤ 100 ms and ≤ 400 MiB peak RSS; at 16,000 rules compile ≤ 2 s, findings ≤ 3 s, diff ≤ 3 s,
+// peak RSS ≤ 1 GiB. Sizes of the series and the diff run in fresh child processes, so each
+// peak RSS is that run's own.
 
+import { spawnSync } from "node:child_process";
+import { mkdirSync, writeFileSync } from "node:fs";
+import { dirname } from "node:path";
+import { fileURLToPath } from "node:url";
 import { performance } from "node:perf_hooks";
-import { compileModel, exposure, parseModel, trace } from "#server/engine/index.ts";
+import { compileModel, diffModels, exposure, findings, parseModel, trace } from "#server/engine/index.ts";
 import type { DeviceModel } from "#server/engine/index.ts";
 import { exposureCells } from "#server/engine/exposure.ts";
 import { NaiveEvaluator } from "#server/engine/naive.ts";
-import { BENCH_SIZE, generateModel, prng } from "#server/engine/testing/generate-model.ts";
+import { BENCH_SIZE, benchSize, generateModel, prng } from "#server/engine/testing/generate-model.ts";
+import { scalingChart } from "./scaling-chart.ts";
 
 const SEED = 20250301;
 const TRACE_PROBES = 20_000;
@@ -17,6 +29,11 @@ const NAIVE_PROBES = 400;
 const LOOKUPS = 4_000_000;
 const EXPOSURE_RUNS = 5;
 const START = Date.UTC(2025, 2, 24);
+const DIFF_RUNS = 5;
+const SERIES = [250, 500, 1000, 2000, 4000, 8000, 16000];
+const WARM_UP_RULES = 250;
+const SERIES_PAIRS = 3;
+const CHART = fileURLToPath(new URL("../../docs/bench/scaling.svg", import.meta.url));
 
 function time<T>(f: () => T): [T, number] {
   const t0 = performance.now();
@@ -48,7 +65,169 @@ function probesFor(model: DeviceModel, sources: readonly string[], count: number
   }));
 }
 
+const median = (xs: readonly number[]): number => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
+const currentPeakRssMiB = (): number => process.resourceUsage().maxRSS / 1024;
+
+function validated(rules: number): DeviceModel {
+  const parsed = parseModel(generateModel(SEED, rules === BENCH_SIZE.rules ? BENCH_SIZE : benchSize(rules)).model);
+  if (!parsed.ok) throw new Error(`benchmark model invalid: ${JSON.stringify(parsed.errors.slice(0, 3))}`);
+  return parsed.model;
+}
+
+/**
+ * The edit the diff is measured on: the first enabled rule at or after the middle of the
+ * list moves to the top (an engineer promoting one rule; everything it can match changes hands).
+ */
+function oneRuleMove(model: DeviceModel): { after: DeviceModel; moved: { rule: string; from: number; to: number } } {
+  const from = model.inboundRules.findIndex((r, i) => i >= Math.floor(model.inboundRules.length / 2) && r.enabled);
+  const rules = [...model.inboundRules];
+  const [rule] = rules.splice(from, 1);
+  rules.unshift(rule);
+  return { after: { ...model, inboundRules: rules }, moved: { rule: rule.id, from, to: 0 } };
+}
+
+/** Child process: the one-rule move on the benchmark model, diffed on freshly compiled revisions. */
+function diffChild(): void {
+  const model = validated(BENCH_SIZE.rules);
+  const { after, moved } = oneRuleMove(model);
+  const runs: number[] = [];
+  let last = diffModels(compileModel(model), compileModel(after));
+  for (let i = 0; i < DIFF_RUNS; i++) {
+    const before = compileModel(model);
+    const revised = compileModel(after);
+    const [d, ms] = time(() => diffModels(before, revised));
+    runs.push(ms);
+    last = d;
+  }
+  const peak = currentPeakRssMiB();
+  // The findings comparison is computed when first read; it is the findings of both revisions.
+  const [, findingsMs] = time(() => last.findingsAdded.length + last.findingsResolved.length);
+  const result = {
+    rules: model.inboundRules.length,
+    moved,
+    ms: round(median(runs), 1),
+    runsMs: runs.map((r) => round(r, 1)),
+    peakRssMiB: round(peak, 1),
+    changes: last.changes.length,
+    lockout: last.lockout.length,
+    findingsMs: round(findingsMs, 1),
+    findingsPeakRssMiB: round(currentPeakRssMiB(), 1),
+  };
+  process.stdout.write(`${JSON.stringify(result)}\n`);
+}
+
+/**
+ * Child process: one size of the series. Three freshly compiled pairs of revisions are
+ * diffed first (compile and diff: the median of the three); the diff's peak RSS is read
+ * after the first pair, before anything else has run. Exposure and findings then each run on
+ * a fresh compile, so neither is helped by partitions another built.
+ */
+function seriesChild(rules: number): void {
+  // Warm the code paths on a small model first, so the figures are not the JIT's first pass.
+  const small = validated(WARM_UP_RULES);
+  for (let i = 0; i < 3; i++) diffModels(compileModel(small), compileModel(oneRuleMove(small).after));
+  exposure(compileModel(small));
+  findings(compileModel(small));
+
+  const model = validated(rules);
+  const entries = model.addresses.reduce((n, a) => n + a.entries.length, 0);
+  const { after } = oneRuleMove(model);
+  const compileRuns: number[] = [];
+  const diffRuns: number[] = [];
+  let diffPeak = 0;
+  for (let i = 0; i < SERIES_PAIRS; i++) {
+    const [before, compileMs] = time(() => compileModel(model));
+    const revised = compileModel(after);
+    compileRuns.push(compileMs);
+    diffRuns.push(time(() => diffModels(before, revised))[1]);
+    if (i === 0) diffPeak = currentPeakRssMiB();
+  }
+  const device = compileModel(model);
+  const [, exposureMs] = time(() => exposure(device).slices.reduce((n, sl) => n + sl.entries.length, 0));
+  const fresh = compileModel(model);
+  const [, findingsMs] = time(() => findings(fresh));
+  const result: SeriesRun = {
+    rules,
+    entries,
+    compileMs: round(median(compileRuns), 1),
+    exposureMs: round(exposureMs, 1),
+    findingsMs: round(findingsMs, 1),
+    diffMs: round(median(diffRuns), 1),
+    peakRssMiB: round(currentPeakRssMiB(), 1),
+    diffPeakRssMiB: round(diffPeak, 1),
+  };
+  process.stdout.write(`${JSON.stringify(result)}\n`);
+}
+
+/** Runs this script again in a fresh process with one child task and reads its JSON line. */
+function child<T>(task: string): T {
+  const out = spawnSync(process.execPath, [...process.execArgv, process.argv[1], `--child=${task}`], { encoding: "utf8", maxBuffer: 1 << 24 });
+  if (out.status !== 0) throw new Error(`benchmark child ${task} failed (${out.status}): ${out.stderr}`);
+  return JSON.parse(out.stdout.trim().split("\n").pop() ?? "") as T;
+}
+
+interface DiffResult {
+  rules: number;
+  moved: { rule: string; from: number; to: number };
+  ms: number;
+  runsMs: number[];
+  peakRssMiB: number;
+  changes: number;
+  lockout: number;
+  findingsMs: number;
+  findingsPeakRssMiB: number;
+}
+
+interface SeriesRun {
+  rules: number;
+  entries: number;
+  compileMs: number;
+  exposureMs: number;
+  findingsMs: number;
+  diffMs: number;
+  peakRssMiB: number;
+  diffPeakRssMiB: number;
+}
+
+type Measure = "compileMs" | "exposureMs" | "findingsMs" | "diffMs" | "peakRssMiB" | "diffPeakRssMiB";
+/** One size of the series: medians over its runs, and the runs themselves when there were several. */
+type SeriesEntry = SeriesRun & { runs?: Record<Measure, number>[] };
+
+/** Least-squares slope of log(value) against log(rules): value grows about as rules^slope. */
+function growthExponent(points: readonly { rules: number; value: number }[]): number | null {
+  const usable = points.filter((p) => p.value > 0);
+  if (usable.length < 2) return null;
+  const xs = usable.map((p) => Math.log(p.rules));
+  const ys = usable.map((p) => Math.log(p.value));
+  const mx = xs.reduce((a, b) => a + b, 0) / xs.length;
+  const my = ys.reduce((a, b) => a + b, 0) / ys.length;
+  const sxy = xs.reduce((acc, x, i) => acc + (x - mx) * (ys[i] - my), 0);
+  const sxx = xs.reduce((acc, x) => acc + (x - mx) ** 2, 0);
+  return round(sxy / sxx, 2);
+}
+
+function seriesSizes(): number[] {
+  const chosen = process.argv.find((a) => a.startsWith("--series="));
+  if (chosen === undefined) return SERIES;
+  const sizes = chosen
+    .slice("--series=".length)
+    .split(",")
+    .map((t) => Number(t.trim()));
+  if (sizes.length === 0 || sizes.some((n) => !Number.isInteger(n) || n < 1)) throw new Error(`--series takes rule counts, e.g. --series=250,500,1000`);
+  return [...new Set(sizes)].sort((a, b) => a - b);
+}
+
+function seriesRuns(): number {
+  const given = process.argv.find((a) => a.startsWith("--series-runs="));
+  const n = given === undefined ? 1 : Number(given.slice("--series-runs=".length));
+  if (!Number.isInteger(n) || n < 1) throw new Error("--series-runs takes a positive whole number");
+  return n;
+}
+
 function main(): void {
+  const childTask = process.argv.find((a) => a.startsWith("--child="))?.slice("--child=".length);
+  if (childTask === "diff") return diffChild();
+  if (childTask?.startsWith("series:")) return seriesChild(Number(childTask.slice("series:".length)));
   const asJson = process.argv.includes("--json");
   const generated = generateModel(SEED, BENCH_SIZE);
   const [parsed, validateMs] = time(() => parseModel(generated.model));
@@ -111,6 +290,36 @@ function main(): void {
   const lookupsPerSecond = LOOKUPS / (lookupMs / 1000);
   const peakRssMiB = process.resourceUsage().maxRSS / 1024;
 
+  // Each of the following runs in its own fresh process (one after another, never in parallel).
+  const diff = child<DiffResult>("diff");
+  const sizes = process.argv.includes("--no-series") ? [] : seriesSizes();
+  const repeat = seriesRuns();
+  const series = sizes.map((rules): SeriesEntry => {
+    const runsOfSize = Array.from({ length: repeat }, () => child<SeriesRun>(`series:${rules}`));
+    const of = (k: Measure): number => median(runsOfSize.map((r) => r[k]));
+    const measures = (r: Record<Measure, number>): Record<Measure, number> => ({
+      compileMs: r.compileMs,
+      exposureMs: r.exposureMs,
+      findingsMs: r.findingsMs,
+      diffMs: r.diffMs,
+      peakRssMiB: r.peakRssMiB,
+      diffPeakRssMiB: r.diffPeakRssMiB,
+    });
+    const medians = measures({ compileMs: of("compileMs"), exposureMs: of("exposureMs"), findingsMs: of("findingsMs"), diffMs: of("diffMs"), peakRssMiB: of("peakRssMiB"), diffPeakRssMiB: of("diffPeakRssMiB") });
+    return { rules, entries: runsOfSize[0].entries, ...medians, ...(repeat > 1 ? { runs: runsOfSize.map(measures) } : {}) };
+  });
+  const growth =
+    series.length < 2
+      ? null
+      : {
+          compile: growthExponent(series.map((e) => ({ rules: e.rules, value: e.compileMs }))),
+          exposure: growthExponent(series.map((e) => ({ rules: e.rules, value: e.exposureMs }))),
+          findings: growthExponent(series.map((e) => ({ rules: e.rules, value: e.findingsMs }))),
+          diff: growthExponent(series.map((e) => ({ rules: e.rules, value: e.diffMs }))),
+          peakRss: growthExponent(series.map((e) => ({ rules: e.rules, value: e.peakRssMiB }))),
+        };
+  const largest = series.find((e) => e.rules === 16000);
+
   const result = {
     seed: SEED,
     model: {
@@ -134,15 +343,36 @@ function main(): void {
     speedup: round(naiveUs / traceUs, 1),
     lookupsPerSecond: Math.round(lookupsPerSecond),
     peakRssMiB: round(peakRssMiB, 1),
+    diff,
+    series,
+    growth,
     targets: {
       fullExposureMs: exposureMs <= 500,
       speedup: naiveUs / traceUs >= 100,
       lookupsPerSecond: lookupsPerSecond >= 1_000_000,
       peakRssMiB: peakRssMiB <= 512,
+      diffMs: diff.ms <= 100,
+      diffPeakRssMiB: diff.peakRssMiB <= 400,
+      ...(largest === undefined
+        ? {}
+        : {
+            at16000: {
+              compileMs: largest.compileMs <= 2000,
+              findingsMs: largest.findingsMs <= 3000,
+              diffMs: largest.diffMs <= 3000,
+              peakRssMiB: largest.peakRssMiB <= 1024,
+              diffPeakRssMiB: largest.diffPeakRssMiB <= 1024,
+            },
+          }),
     },
     checksum,
     node: process.version,
   };
+  if (process.argv.includes("--write-chart") && series.length > 0) {
+    const runsNote = repeat > 1 ? `median of ${repeat} runs per size` : "one run per size";
+    mkdirSync(dirname(CHART), { recursive: true });
+    writeFileSync(CHART, scalingChart(series, `npm run bench, ${runsNote}, fresh process per size, 2-core machine, Node ${process.version}`));
+  }
   if (asJson) {
     process.stdout.write(`${JSON.stringify(result)}\n`);
     return;
@@ -157,6 +387,23 @@ function main(): void {
       `trace: ${result.traceUsPerProbe} µs/probe (first pass, building partitions on demand: ${result.traceFirstPassUsPerProbe} µs); naive: ${result.naiveUsPerProbe} µs/probe; speedup ${result.speedup}×   target ≥ 100×: ${result.targets.speedup ? "met" : "MISSED"}`,
       `batch lookups: ${result.lookupsPerSecond.toLocaleString("en")} /s   target ≥ 1,000,000: ${result.targets.lookupsPerSecond ? "met" : "MISSED"}`,
       `peak RSS: ${result.peakRssMiB} MiB   target ≤ 512 MiB: ${result.targets.peakRssMiB ? "met" : "MISSED"}`,
+      `diff, rule ${diff.moved.rule} moved from position ${diff.moved.from} to the top (median of ${DIFF_RUNS}: ${diff.runsMs.join(", ")}): ${diff.ms} ms, ` +
+        `${diff.changes} changes, peak RSS ${diff.peakRssMiB} MiB   targets ≤ 100 ms: ${result.targets.diffMs ? "met" : "MISSED"}, ≤ 400 MiB: ${result.targets.diffPeakRssMiB ? "met" : "MISSED"}`,
+      `  reading its findings comparison (findings of both revisions): ${diff.findingsMs} ms, peak RSS then ${diff.findingsPeakRssMiB} MiB`,
+      ...(series.length === 0
+        ? []
+        : [
+            "",
+            "rules    entries   compile ms  exposure ms  findings ms   diff ms  peak RSS MiB  diff peak MiB",
+            ...series.map((e) =>
+              [e.rules, e.entries, e.compileMs, e.exposureMs, e.findingsMs, e.diffMs, e.peakRssMiB, e.diffPeakRssMiB]
+                .map((v, i) => String(v).padStart(i === 0 ? 5 : i === 1 ? 10 : 12))
+                .join(" "),
+            ),
+            growth === null
+              ? ""
+              : `growth exponents (time ∝ rules^k): compile ${growth.compile}, exposure ${growth.exposure}, findings ${growth.findings}, diff ${growth.diff}; peak RSS ${growth.peakRss}`,
+          ]),
       "",
     ].join("\n"),
   );

@@ -47,6 +47,21 @@ export const BENCH_SIZE: ModelSize = {
   scheduleStyle: "office",
 };
 
+/**
+ * The benchmark model at another number of inbound rules: address objects, entries and groups
+ * in the proportion BENCH_SIZE has at 2,000 rules; interfaces, accounts and schedules as there.
+ */
+export function benchSize(rules: number): ModelSize {
+  const scale = rules / BENCH_SIZE.rules;
+  return {
+    ...BENCH_SIZE,
+    rules,
+    addressObjects: Math.max(1, Math.round(BENCH_SIZE.addressObjects * scale)),
+    entries: Math.max(1, Math.round(BENCH_SIZE.entries * scale)),
+    groups: Math.max(1, Math.round(BENCH_SIZE.groups * scale)),
+  };
+}
+
 export const SMALL_SIZE: ModelSize = {
   interfaces: 3,
   rules: 12,
