@@ -158,9 +158,14 @@ export class CompiledModel {
   private readonly accountBits: Readonly<Record<Family, readonly Int32Array[]>>;
   /** Indexed by (interface, destination, class). */
   private readonly candidates: (Candidates | undefined)[] = [];
-  private readonly candidateLists = new Map<string, number>();
+  // Candidate lists by content hash; equal lists share one id (compared in full within a bucket).
+  private readonly candidateLists = new Map<number, Array<{ id: number; rules: Int32Array }>>();
+  private candidateListCount = 0;
   private readonly byInterface = new Map<number, number[]>();
-  private readonly destinationRows = new Map<number, Uint8Array>();
+  /** Per device address: whether each rule's destinations hold it (one byte per rule position). */
+  private readonly destinationColumns = new Map<number, Uint8Array>();
+  /** Per service class: whether each rule's services match it. */
+  private readonly serviceColumns = new Map<number, Uint8Array>();
   private readonly partitions = new Map<string, RulePartition>();
   /** Indexed by (interface, destination, class, slice). */
   private readonly entries: (EntryPartition | undefined)[] = [];
@@ -395,24 +400,52 @@ export class CompiledModel {
     const key = (iface * this.addresses.length + to) * this.classes.length + cls;
     const cached = this.candidates[key];
     if (cached !== undefined) return cached;
-    const classKey = this.classes[cls].key;
+    const services = this.serviceColumn(cls);
+    const destinations = this.destinationColumn(to);
     const list: number[] = [];
     const scheduledList: number[] = [];
     for (const position of this.rulesOnInterface(iface)) {
-      const r = this.rules[position];
-      if (!r.anyService && !r.serviceKeys.has(classKey)) continue;
-      if (!this.destinationHolds(position, to)) continue;
+      if (services[position] === 0 || destinations[position] === 0) continue;
       list.push(position);
-      if (r.schedule >= 0) scheduledList.push(position);
+      if (this.rules[position].schedule >= 0) scheduledList.push(position);
     }
-    const scheduled = scheduledList.length > 0;
-    // Equal lists (e.g. two services named by the same rules) share one id, so their partitions are shared.
-    const listKey = list.join(",");
-    let id = this.candidateLists.get(listKey);
-    if (id === undefined) this.candidateLists.set(listKey, (id = this.candidateLists.size));
-    const result: Candidates = { id, rules: Int32Array.from(list), scheduled, scheduledRules: Int32Array.from(scheduledList) };
+    const rules = Int32Array.from(list);
+    const result: Candidates = { id: this.candidateListId(rules), rules, scheduled: scheduledList.length > 0, scheduledRules: Int32Array.from(scheduledList) };
     this.candidates[key] = result;
     return result;
+  }
+
+  /** Equal lists (e.g. two services named by the same rules) share one id, so their partitions are shared. */
+  private candidateListId(rules: Int32Array): number {
+    let hash = 0x811c9dc5 ^ rules.length;
+    for (let i = 0; i < rules.length; i++) hash = Math.imul(hash ^ rules[i], 0x01000193);
+    const bucket = this.candidateLists.get(hash);
+    const same = bucket?.find((entry) => entry.rules.length === rules.length && entry.rules.every((value, i) => value === rules[i]));
+    if (same !== undefined) return same.id;
+    const id = this.candidateListCount++;
+    if (bucket === undefined) this.candidateLists.set(hash, [{ id, rules }]);
+    else bucket.push({ id, rules });
+    return id;
+  }
+
+  private serviceColumn(cls: number): Uint8Array {
+    let column = this.serviceColumns.get(cls);
+    if (column === undefined) {
+      const classKey = this.classes[cls].key;
+      column = Uint8Array.from(this.rules, (r) => (r.anyService || r.serviceKeys.has(classKey) ? 1 : 0));
+      this.serviceColumns.set(cls, column);
+    }
+    return column;
+  }
+
+  private destinationColumn(to: number): Uint8Array {
+    let column = this.destinationColumns.get(to);
+    if (column === undefined) {
+      const target = this.addresses[to];
+      column = Uint8Array.from(this.rules, (r) => (contains(rangesOf(r.destinations, target.family), target.value) ? 1 : 0));
+      this.destinationColumns.set(to, column);
+    }
+    return column;
   }
 
   /** Enabled rules for the interface or any, in order. */
@@ -423,17 +456,6 @@ export class CompiledModel {
       this.byInterface.set(iface, list);
     }
     return list;
-  }
-
-  /** Whether the rule's destinations hold the device address (answers cached per rule). */
-  private destinationHolds(position: number, to: number): boolean {
-    let row = this.destinationRows.get(position);
-    if (row === undefined) {
-      const r = this.rules[position];
-      row = Uint8Array.from(this.addresses, (a) => (contains(rangesOf(r.destinations, a.family), a.value) ? 1 : 0));
-      this.destinationRows.set(position, row);
-    }
-    return row[to] === 1;
   }
 
   /** First-match partition for (interface, destination, class, slice); shared between equal rule lists. */
