@@ -49,7 +49,7 @@ describe("sallyport exposure --json at size", () => {
     const planned = device.week.slices;
     expect(parsed.model.inboundRules.length).toBeGreaterThanOrEqual(4000);
     // The first slice as the engine builds it in this process, to compare byte for byte.
-    const firstSlice: ExposureSlice = exposureSlices(device)[Symbol.iterator]().next().value as ExposureSlice;
+    const [firstSlice] = exposureSlices(device);
     const firstLine = JSON.stringify(firstSlice);
 
     const dir = mkdtempSync(join(tmpdir(), "sallyport-stream-"));
