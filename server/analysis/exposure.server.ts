@@ -1,7 +1,7 @@
 // The exposure map for the page and its CSV: one instant's entries filtered by the URL, the
 // focused entry's CIDR lists (paged) and address-space grids, and its week × hour view.
 
-import { exposure, isOutcome, OUTCOMES, ProbeError } from "../engine/index.ts";
+import { exposure, isOutcome, outcomeRank, OUTCOMES, ProbeError } from "../engine/index.ts";
 import type { CompiledModel, ExposureEntry, Outcome } from "../engine/index.ts";
 import { buildGrid, cellsPerRank, gridRuns, IPV4_GRID, IPV6_GRIDS, topRank, type GridSpec } from "./address-grids.ts";
 import { pageOf } from "./paging.ts";
@@ -141,12 +141,13 @@ export function answerExposure(device: CompiledModel, query: ExposureQuery): Exp
 function focusOf(device: CompiledModel, entry: ExposureEntry, query: ExposureQuery) {
   const family = familyOf(entry.to);
   const ranges = entry.ranges;
+  // Each list is rendered when read, so it is read once.
   const byRank = OUTCOMES.map((outcome) => ranges[outcome]);
   // Most exposed first: that is what the reader is looking for.
   const cidrs = [...OUTCOMES]
     .reverse()
     .filter((outcome) => !query.outcome || outcome === query.outcome)
-    .flatMap((outcome) => ranges[outcome].map((cidr) => ({ outcome, cidr })));
+    .flatMap((outcome) => byRank[outcomeRank(outcome)].map((cidr) => ({ outcome, cidr })));
   const cidrPage = pageOf(query.page, cidrs.length);
   const grids = (family === 4 ? [IPV4_GRID] : IPV6_GRIDS).map((spec): GridView => {
     const cells = buildGrid(spec, byRank);

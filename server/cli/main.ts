@@ -1,6 +1,9 @@
 // The `sallyport` command line: validate, trace, reach, exposure, findings, diff.
 // Exit codes: 0 ok, 1 a --fail-on… condition met, 2 usage or validation error (stderr).
+// JSON is written as it is produced, piece by piece, waiting whenever the reader of
+// standard output is behind, so output of any size runs in flat memory.
 
+import { once } from "node:events";
 import { readFileSync } from "node:fs";
 import { parseArgs } from "node:util";
 import {
@@ -10,6 +13,7 @@ import {
   compileModel,
   diffModels,
   exposure,
+  exposureSlices,
   findings,
   parseModel,
   reach,
@@ -18,6 +22,7 @@ import {
 } from "../engine/index.ts";
 import type { CompiledModel, ExposureEntry, Finding, ModelDiff, Severity, TraceResult, ValidationIssue } from "../engine/index.ts";
 import { CsvSyntaxError, parseCsv } from "../formats/csv.ts";
+import { jsonPieces } from "../formats/json-stream.ts";
 import { table } from "./table.ts";
 
 const USAGE = `sallyport — management-plane exposure simulator
@@ -55,13 +60,14 @@ const OPTIONS = {
 
 type Options = { [K in keyof typeof OPTIONS]?: (typeof OPTIONS)[K]["type"] extends "boolean" ? boolean : string };
 
-interface Io {
-  out(text: string): void;
+export interface Io {
+  /** Standard output. A returned promise means the reader is behind: nothing more is written until it settles. */
+  out(text: string): void | Promise<void>;
   err(text: string): void;
 }
 
-/** Runs the CLI; returns the exit code. */
-export function run(argv: readonly string[], io: Io): number {
+/** Runs the CLI; resolves to the exit code. */
+export async function run(argv: readonly string[], io: Io): Promise<number> {
   let parsed: { values: Options; positionals: string[] };
   try {
     parsed = parseArgs({ args: [...argv], options: OPTIONS, allowPositionals: true, strict: true }) as { values: Options; positionals: string[] };
@@ -72,23 +78,23 @@ export function run(argv: readonly string[], io: Io): number {
   const { values, positionals } = parsed;
   const [command, ...files] = positionals;
   if (values.help === true || command === undefined || command === "help") {
-    io.out(`${USAGE}\n`);
+    await write(io, `${USAGE}\n`);
     return command === undefined && values.help !== true ? 2 : 0;
   }
   try {
     switch (command) {
       case "validate":
-        return validateCommand(files, values, io);
+        return await validateCommand(files, values, io);
       case "trace":
-        return traceCommand(files, values, io);
+        return await traceCommand(files, values, io);
       case "reach":
-        return reachCommand(files, values, io);
+        return await reachCommand(files, values, io);
       case "exposure":
-        return exposureCommand(files, values, io);
+        return await exposureCommand(files, values, io);
       case "findings":
-        return findingsCommand(files, values, io);
+        return await findingsCommand(files, values, io);
       case "diff":
-        return diffCommand(files, values, io);
+        return await diffCommand(files, values, io);
       default:
         throw new UsageError(`unknown command "${command}"`);
     }
@@ -140,16 +146,24 @@ function reportWarnings(path: string, warnings: readonly ValidationIssue[], io: 
   if (warnings.length > MAX_WARNINGS) io.err(`${path}: … ${warnings.length - MAX_WARNINGS} more warnings (sallyport validate --json lists them all)\n`);
 }
 
-function json(value: unknown): string {
-  return `${JSON.stringify(value, null, 2)}\n`;
+/** Writes text, waiting first when the reader is behind. */
+async function write(io: Io, text: string): Promise<void> {
+  const wait = io.out(text);
+  if (wait !== undefined) await wait;
 }
 
-function validateCommand(files: readonly string[], values: Options, io: Io): number {
+/** Writes `JSON.stringify(value, null, indent)` and a line break, piece by piece as it is produced. */
+async function writeJson(io: Io, value: unknown, indent = 2, end = "\n"): Promise<void> {
+  for (const piece of jsonPieces(value, { indent })) await write(io, piece);
+  if (end !== "") await write(io, end);
+}
+
+async function validateCommand(files: readonly string[], values: Options, io: Io): Promise<number> {
   const path = oneFile(files);
   const result = parseModel(readJson(path));
   if (values.json === true) {
     const body = result.ok ? { ok: true, warnings: result.warnings } : { ok: false, errors: result.errors, warnings: result.warnings };
-    io.out(json(body));
+    await writeJson(io, body);
     if (!result.ok) io.err(`${path}: invalid model (${result.errors.length} errors)\n`);
     return result.ok ? 0 : 2;
   }
@@ -159,14 +173,15 @@ function validateCommand(files: readonly string[], values: Options, io: Io): num
     return 2;
   }
   const m = result.model;
-  io.out(
+  await write(
+    io,
     `${path}: valid — device "${m.device.name}", ${m.interfaces.length} interfaces, ${m.inboundRules.length} inbound rules, ` +
       `${m.accounts.length} accounts, ${result.warnings.length} warnings\n`,
   );
   return 0;
 }
 
-function traceCommand(files: readonly string[], values: Options, io: Io): number {
+async function traceCommand(files: readonly string[], values: Options, io: Io): Promise<number> {
   const device = loadModel(oneFile(files), io);
   if (values.probes !== undefined) return probesCommand(device, values.probes, io);
   for (const required of ["from", "on", "service"] as const) {
@@ -180,13 +195,14 @@ function traceCommand(files: readonly string[], values: Options, io: Io): number
     at: values.at,
     account: values.account,
   });
-  io.out(values.json === true ? json(result) : renderTrace(result));
+  if (values.json === true) await writeJson(io, result);
+  else await write(io, renderTrace(result));
   return 0;
 }
 
 const PROBE_HEADER = ["from", "interface", "service", "to", "at", "account"];
 
-function probesCommand(device: CompiledModel, path: string, io: Io): number {
+async function probesCommand(device: CompiledModel, path: string, io: Io): Promise<number> {
   let text: string;
   try {
     text = readFileSync(path, "utf8");
@@ -208,17 +224,18 @@ function probesCommand(device: CompiledModel, path: string, io: Io): number {
   for (const row of rows) {
     if (row.length === 1 && row[0].trim() === "") continue;
     if (row.length !== PROBE_HEADER.length) {
-      io.out(`${JSON.stringify({ error: `expected ${PROBE_HEADER.length} fields, got ${row.length}` })}\n`);
+      await write(io, `${JSON.stringify({ error: `expected ${PROBE_HEADER.length} fields, got ${row.length}` })}\n`);
       continue;
     }
     const [from, iface, service, to, at, account] = row.map((f) => f.trim());
+    let line: string;
     try {
-      const result = trace(device, { from, interface: iface, service, to, at, account });
-      io.out(`${JSON.stringify(result)}\n`);
+      line = JSON.stringify(trace(device, { from, interface: iface, service, to, at, account }));
     } catch (e) {
       if (!(e instanceof ProbeError)) throw e;
-      io.out(`${JSON.stringify({ error: e.message })}\n`);
+      line = JSON.stringify({ error: e.message });
     }
+    await write(io, `${line}\n`);
   }
   return 0;
 }
@@ -232,16 +249,17 @@ function renderTrace(t: TraceResult): string {
   return head + table(["layer", "result", "detail"], t.layers.map((l) => [l.layer, l.result, l.detail]));
 }
 
-function reachCommand(files: readonly string[], values: Options, io: Io): number {
+async function reachCommand(files: readonly string[], values: Options, io: Io): Promise<number> {
   const device = loadModel(oneFile(files), io);
   if (values.from === undefined) throw new UsageError("reach needs --from IP");
   const result = reach(device, values.from, values.at);
   if (values.json === true) {
-    io.out(json(result));
+    await writeJson(io, result);
     return 0;
   }
-  io.out(`reach of ${result.from} at ${result.at}\n\n`);
-  io.out(
+  await write(io, `reach of ${result.from} at ${result.at}\n\n`);
+  await write(
+    io,
     table(
       ["interface", "to", "service", "outcome", "rule", "eligible"],
       result.results.map((r) => [r.interface, r.to ?? "-", r.service, r.outcome, r.ruleId ?? "-", r.eligibleAccounts.join(",") || "-"]),
@@ -252,8 +270,9 @@ function reachCommand(files: readonly string[], values: Options, io: Io): number
 
 function exposureRows(entries: readonly ExposureEntry[]): string[][] {
   return entries.map((e) => {
+    const ranges = e.ranges;
     const exposed = OUTCOMES.filter((o) => o !== "silent" && e.counts[o] !== "0")
-      .map((o) => `${o} ${e.counts[o]} [${summariseCidrs(e.ranges[o])}]`)
+      .map((o) => `${o} ${e.counts[o]} [${summariseCidrs(ranges[o])}]`)
       .join("; ");
     return [e.interface, e.to, e.service, exposed === "" ? "silent to all" : exposed];
   });
@@ -263,27 +282,29 @@ function summariseCidrs(cidrs: readonly string[]): string {
   return cidrs.length <= 3 ? cidrs.join(" ") : `${cidrs.slice(0, 3).join(" ")} +${cidrs.length - 3} more`;
 }
 
-function exposureCommand(files: readonly string[], values: Options, io: Io): number {
+async function exposureCommand(files: readonly string[], values: Options, io: Io): Promise<number> {
   const device = loadModel(oneFile(files), io);
   const headers = ["interface", "to", "service", "who gets an answer (count [CIDRs])"];
   if (values.at !== undefined) {
     const map = exposure(device, values.at);
-    if (values.json === true) io.out(json(map));
-    else io.out(`exposure at ${map.at} (device clock ${map.localTime}; slice ${map.slice.start} – ${map.slice.end})\n\n${table(headers, exposureRows(map.entries))}`);
+    if (values.json === true) await writeJson(io, map);
+    else await write(io, `exposure at ${map.at} (device clock ${map.localTime}; slice ${map.slice.start} – ${map.slice.end})\n\n${table(headers, exposureRows(map.entries))}`);
     return 0;
   }
-  const map = exposure(device);
-  if (values.json === true) {
-    // One slice at a time: a large model's full map would not fit in one string.
-    io.out('{\n"slices": [\n');
-    map.slices.forEach((s, i) => io.out(`${JSON.stringify(s)}${i + 1 < map.slices.length ? "," : ""}\n`));
-    io.out("]\n}\n");
-    return 0;
-  }
-  for (const s of map.slices) {
+  const count = device.week.slices.length;
+  let index = 0;
+  // Built and written one slice at a time; with --json each slice is one compact line of one document.
+  if (values.json === true) await write(io, '{\n"slices": [\n');
+  for (const s of exposureSlices(device)) {
+    index++;
+    if (values.json === true) {
+      await writeJson(io, s, 0, index < count ? ",\n" : "\n");
+      continue;
+    }
     const schedules = s.activeSchedules.length > 0 ? s.activeSchedules.join(", ") : "none";
-    io.out(`slice ${s.start} – ${s.end} (active schedules: ${schedules})\n${table(headers, exposureRows(s.entries))}\n`);
+    await write(io, `slice ${s.start} – ${s.end} (active schedules: ${schedules})\n${table(headers, exposureRows(s.entries))}\n`);
   }
+  if (values.json === true) await write(io, "]\n}\n");
   return 0;
 }
 
@@ -302,11 +323,12 @@ function renderFindings(list: readonly Finding[]): string {
   );
 }
 
-function findingsCommand(files: readonly string[], values: Options, io: Io): number {
+async function findingsCommand(files: readonly string[], values: Options, io: Io): Promise<number> {
   const failOn = parseSeverity(values["fail-on"]);
   const device = loadModel(oneFile(files), io);
   const list = findings(device);
-  io.out(values.json === true ? json({ findings: list }) : renderFindings(list));
+  if (values.json === true) await writeJson(io, { findings: list });
+  else await write(io, renderFindings(list));
   return failOn !== null && list.some((f) => severityAtLeast(f.severity, failOn)) ? 1 : 0;
 }
 
@@ -331,29 +353,30 @@ function renderDiff(d: ModelDiff): string {
   return out;
 }
 
-function diffCommand(files: readonly string[], values: Options, io: Io): number {
+async function diffCommand(files: readonly string[], values: Options, io: Io): Promise<number> {
   if (files.length !== 2) throw new UsageError(`diff needs BEFORE and AFTER model files, got ${files.length}`);
   const before = loadModel(files[0], io);
   const after = loadModel(files[1], io);
   const d = diffModels(before, after);
-  io.out(values.json === true ? json(d) : renderDiff(d));
+  if (values.json === true) await writeJson(io, d);
+  else await write(io, renderDiff(d));
   return values["fail-on-lockout"] === true && d.lockout.length > 0 ? 1 : 0;
 }
 
-/** Entry point when run as a program. */
+/**
+ * Entry point when run as a program. Output goes straight to the stream; when the stream
+ * holds more than its high-water mark (a pipe whose reader is slow), writing waits for
+ * 'drain', so the process never buffers what the reader has not taken.
+ */
 export function main(): void {
-  const chunks: string[] = [];
+  const stdout = process.stdout;
   const io: Io = {
-    out: (t) => {
-      chunks.push(t);
-      if (chunks.length > 256) flush();
+    out: (text) => (stdout.write(text) ? undefined : once(stdout, "drain").then(() => undefined)),
+    err: (text) => {
+      process.stderr.write(text);
     },
-    err: (t) => process.stderr.write(t),
   };
-  const flush = (): void => {
-    if (chunks.length > 0) process.stdout.write(chunks.splice(0).join(""));
-  };
-  const code = run(process.argv.slice(2), io);
-  flush();
-  process.exitCode = code;
+  void run(process.argv.slice(2), io).then((code) => {
+    process.exitCode = code;
+  });
 }

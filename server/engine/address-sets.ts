@@ -1,7 +1,7 @@
 // Address sets: per family, sorted non-overlapping non-adjacent closed ranges stored flat
 // as [first0, last0, first1, last1, …]. CIDRs only appear at the edges.
 
-import { FAMILY, rangeToCidrs } from "./addresses.ts";
+import { FAMILY, pushCidrs } from "./addresses.ts";
 import type { AddressRange, Family } from "./addresses.ts";
 
 /** Flat sorted ranges [first0, last0, …]; adjacent or overlapping ranges are always merged. */
@@ -139,13 +139,13 @@ export function isEmptySet(a: AddressSet): boolean {
   return a.v4.length === 0 && a.v6.length === 0;
 }
 
-export function rangesToCidrs(a: Ranges, family: Family): string[] {
-  const out: string[] = [];
-  for (let i = 0; i < a.length; i += 2) out.push(...rangeToCidrs(family, a[i], a[i + 1]));
+/** Minimal CIDR list of a set of ranges, ascending (one array, no spreading of intermediate lists). */
+export function rangesToCidrs(a: Ranges, family: Family, out: string[] = []): string[] {
+  for (let i = 0; i < a.length; i += 2) pushCidrs(out, family, a[i], a[i + 1]);
   return out;
 }
 
 export function setToCidrs(a: AddressSet): string[] {
-  return [...rangesToCidrs(a.v4, 4), ...rangesToCidrs(a.v6, 6)];
+  return rangesToCidrs(a.v6, 6, rangesToCidrs(a.v4, 4));
 }
 

@@ -111,36 +111,98 @@ export function parseAddress(text: string): Address {
   return { family: 4, value: BigInt(v4) };
 }
 
-/** RFC 5952 text: lower case, no leading zeros, longest (first) run of ≥ 2 zero groups as "::"; IPv4-mapped as ::ffff:a.b.c.d (§5). */
-export function formatAddress(family: Family, value: bigint): string {
-  if (family === 4) {
-    const n = Number(value);
-    return `${n >>> 24}.${(n >>> 16) & 255}.${(n >>> 8) & 255}.${n & 255}`;
+// Text pieces looked up rather than converted: octets in decimal (with and without the dot
+// that follows), bytes in hex, prefix lengths with their slash.
+const OCTETS: readonly string[] = Array.from({ length: 256 }, (_, i) => String(i));
+const OCTETS_DOT: readonly string[] = OCTETS.map((o) => `${o}.`);
+const HEX: readonly string[] = Array.from({ length: 256 }, (_, i) => i.toString(16));
+const HEX2: readonly string[] = Array.from({ length: 256 }, (_, i) => i.toString(16).padStart(2, "0"));
+const SLASH_PREFIX: readonly string[] = Array.from({ length: 129 }, (_, i) => `/${i}`);
+/** 2^0 … 2^32 as numbers (a lookup: `2 ** n` is a call to pow in the hot loop). */
+const POW2: readonly number[] = Array.from({ length: 33 }, (_, i) => 2 ** i);
+
+/** Dotted-quad text of an IPv4 address held as a number in [0, 2^32). */
+function formatIPv4Number(n: number): string {
+  return OCTETS_DOT[n >>> 24] + OCTETS_DOT[(n >>> 16) & 255] + OCTETS_DOT[(n >>> 8) & 255] + OCTETS[n & 255];
+}
+
+/** Lower-case hex of one 16-bit group without leading zeros (RFC 5952 §4.1, §4.3), alone and after a colon; filled as groups are met. */
+const GROUP_TEXT: (string | undefined)[] = new Array<string | undefined>(65536);
+const COLON_GROUP_TEXT: (string | undefined)[] = new Array<string | undefined>(65536);
+
+function hexGroup(g: number): string {
+  return (GROUP_TEXT[g] ??= g > 255 ? HEX[g >>> 8] + HEX2[g & 255] : HEX[g]);
+}
+
+function colonHexGroup(g: number): string {
+  return (COLON_GROUP_TEXT[g] ??= `:${hexGroup(g)}`);
+}
+
+/** An IPv6 address as four 32-bit words (numbers), most significant first; filled by toWords. */
+type Words = Float64Array;
+const TWO_32 = 4294967296;
+
+function toWords(value: bigint, out: Words): Words {
+  const hi = value >> 64n;
+  out[0] = Number(hi >> 32n);
+  out[1] = Number(BigInt.asUintN(32, hi));
+  out[2] = Number(BigInt.asUintN(32, value >> 32n));
+  out[3] = Number(BigInt.asUintN(32, value));
+  return out;
+}
+
+/** Scratch for the eight groups of an IPv6 address (formatting never re-enters itself). */
+const GROUPS = new Uint16Array(8);
+
+/** RFC 5952 text of an IPv6 address given as four 32-bit words. */
+function formatIPv6Words(w: Words): string {
+  if (w[0] === 0 && w[1] === 0 && w[2] === 0xffff) return `::ffff:${formatIPv4Number(w[3])}`;
+  const g = GROUPS;
+  for (let i = 0; i < 4; i++) {
+    g[2 * i] = w[i] >>> 16;
+    g[2 * i + 1] = w[i] & 0xffff;
   }
-  if (value >> 32n === 0xffffn) return `::ffff:${formatAddress(4, value & 0xffffffffn)}`;
-  const groups: number[] = [];
-  for (let shift = 96n; shift >= 0n; shift -= 32n) {
-    const word = Number((value >> shift) & 0xffffffffn);
-    groups.push(word >>> 16, word & 0xffff);
-  }
+  // RFC 5952 §4.2.2–4.2.3: the longest run of two or more zero groups, the first of equals.
   let bestStart = -1;
   let bestLength = 1;
   for (let i = 0; i < 8; ) {
-    if (groups[i] !== 0) {
+    if (g[i] !== 0) {
       i++;
       continue;
     }
-    let j = i;
-    while (j < 8 && groups[j] === 0) j++;
+    let j = i + 1;
+    while (j < 8 && g[j] === 0) j++;
     if (j - i > bestLength) {
       bestStart = i;
       bestLength = j - i;
     }
     i = j;
   }
-  const hex = (gs: number[]): string => gs.map((g) => g.toString(16)).join(":");
-  if (bestStart < 0) return hex(groups);
-  return `${hex(groups.slice(0, bestStart))}::${hex(groups.slice(bestStart + bestLength))}`;
+  if (bestStart < 0) {
+    let text = hexGroup(g[0]);
+    for (let i = 1; i < 8; i++) text += colonHexGroup(g[i]);
+    return text;
+  }
+  // "::" is the colon that ends the groups before the run (or starts the text) and the one
+  // that starts each group after it.
+  let text = ":";
+  if (bestStart > 0) {
+    text = hexGroup(g[0]);
+    for (let i = 1; i < bestStart; i++) text += colonHexGroup(g[i]);
+    text += ":";
+  }
+  const after = bestStart + bestLength;
+  if (after === 8) return `${text}:`;
+  for (let i = after; i < 8; i++) text += colonHexGroup(g[i]);
+  return text;
+}
+
+const FORMAT_WORDS: Words = new Float64Array(4);
+
+/** RFC 5952 text: lower case, no leading zeros, longest (first) run of ≥ 2 zero groups as "::"; IPv4-mapped as ::ffff:a.b.c.d (§5). */
+export function formatAddress(family: Family, value: bigint): string {
+  if (family === 4) return formatIPv4Number(Number(value));
+  return formatIPv6Words(toWords(value, FORMAT_WORDS));
 }
 
 export function formatCidr(family: Family, first: bigint, prefix: number): string {
@@ -209,18 +271,97 @@ export function parseInterfaceAddress(text: string): Address & { readonly prefix
 
 /** Minimal CIDR cover of [first, last] (RFC 4632 aggregation), ascending. */
 export function rangeToCidrs(family: Family, first: bigint, last: bigint): string[] {
-  const bits = FAMILY[family].bits;
   const out: string[] = [];
-  let cursor = first;
-  while (cursor <= last) {
-    // Largest aligned block starting at cursor that stays inside the range.
-    let hostBits = 0;
-    while (hostBits < bits && ((cursor >> BigInt(hostBits)) & 1n) === 0n) hostBits++;
-    while (hostBits > 0 && cursor + (1n << BigInt(hostBits)) - 1n > last) hostBits--;
-    out.push(formatCidr(family, cursor, bits - hostBits));
-    cursor += 1n << BigInt(hostBits);
-  }
+  pushCidrs(out, family, first, last);
   return out;
+}
+
+/**
+ * Appends the minimal CIDR cover of [first, last] to out. Each block is the largest one that
+ * starts at the cursor: 2^h addresses with h the smaller of the cursor's trailing zero bits
+ * (alignment) and ⌊log2(addresses left)⌋ (RFC 4632 §3.1: a /n holds 2^(bits−n) addresses).
+ * IPv4 works on numbers; IPv6 on four 32-bit words, so a block costs a few number
+ * operations and no bigint arithmetic.
+ */
+export function pushCidrs(out: string[], family: Family, first: bigint, last: bigint): void {
+  if (family === 4) {
+    // Every IPv4 value, count and block size is an exact double below 2^33.
+    let cursor = Number(first);
+    const end = Number(last);
+    while (cursor <= end) {
+      const left = end - cursor + 1;
+      const bySize = left >= TWO_32 ? 32 : 31 - Math.clz32(left);
+      const aligned = cursor === 0 ? 32 : 31 - Math.clz32(cursor & -cursor);
+      const host = aligned < bySize ? aligned : bySize;
+      out.push(formatIPv4Number(cursor) + SLASH_PREFIX[32 - host]);
+      cursor += POW2[host];
+    }
+    return;
+  }
+  const c = toWords(first, CURSOR);
+  const l = toWords(last, LAST);
+  const d = LEFT;
+  for (;;) {
+    // d = last − cursor + 1 (addresses left); a carry out of the top word means all 2^128.
+    let borrow = 0;
+    for (let i = 3; i >= 0; i--) {
+      let v = l[i] - c[i] - borrow;
+      borrow = v < 0 ? 1 : 0;
+      if (borrow === 1) v += TWO_32;
+      d[i] = v;
+    }
+    let carry = 1;
+    for (let i = 3; i >= 0 && carry === 1; i--) {
+      if (d[i] === TWO_32 - 1) d[i] = 0;
+      else {
+        d[i] += 1;
+        carry = 0;
+      }
+    }
+    const bySize = carry === 1 ? 128 : floorLog2Words(d);
+    const aligned = trailingZerosWords(c);
+    const host = aligned < bySize ? aligned : bySize;
+    out.push(formatIPv6Words(c) + SLASH_PREFIX[128 - host]);
+    if (host === bySize && isPowerOfTwoWords(d, carry)) return; // the block ends at last
+    // cursor += 2^host (host < 128 here, and no carry leaves the top word: cursor stays ≤ last).
+    let i = 3 - (host >>> 5);
+    let v = c[i] + POW2[host & 31];
+    while (v >= TWO_32) {
+      c[i] = v - TWO_32;
+      i--;
+      v = c[i] + 1;
+    }
+    c[i] = v;
+  }
+}
+
+const CURSOR: Words = new Float64Array(4);
+const LAST: Words = new Float64Array(4);
+const LEFT: Words = new Float64Array(4);
+
+/** Trailing zero bits of a 128-bit value in words (128 for zero). */
+function trailingZerosWords(w: Words): number {
+  for (let i = 3; i >= 0; i--) {
+    const word = w[i];
+    if (word !== 0) return (3 - i) * 32 + 31 - Math.clz32(word & -word);
+  }
+  return 128;
+}
+
+/** ⌊log2⌋ of a non-zero 128-bit value in words. */
+function floorLog2Words(w: Words): number {
+  for (let i = 0; i < 4; i++) if (w[i] !== 0) return (3 - i) * 32 + 31 - Math.clz32(w[i]);
+  return -1;
+}
+
+/** Whether the value in words (with a carry out of the top meaning 2^128) is a power of two. */
+function isPowerOfTwoWords(w: Words, carry: number): boolean {
+  let bits = carry;
+  for (let i = 0; i < 4 && bits <= 1; i++) {
+    const word = w[i];
+    if (word !== 0) bits += (word & (word - 1)) === 0 ? 1 : 2;
+  }
+  return bits === 1;
 }
 
 export function formatRange(family: Family, first: bigint, last: bigint): string {

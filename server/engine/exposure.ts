@@ -89,34 +89,41 @@ export function outcomeSets(engine: CompiledModel, partition: OutcomePartition):
   return sets;
 }
 
-const entryCache = new WeakMap<OutcomeSets, { counts: OutcomeRecord<string>; ranges: OutcomeRecord<string[]> }>();
+const countsCache = new WeakMap<OutcomeSets, OutcomeRecord<string>>();
 
-/** An exposure entry; its CIDR lists are rendered when first read (JSON.stringify reads them). */
+/**
+ * An exposure entry. Its counts are shared by every entry of the same partition; its CIDR
+ * lists are rendered each time one is read (JSON.stringify reads each once) and kept by
+ * nobody, so a map of millions of CIDRs is written out in flat memory. (Keeping the last
+ * few partitions' lists for neighbouring entries that share one measured no faster and 50 MB
+ * larger on the benchmark model.) A caller that reads a list twice keeps it in a variable.
+ */
 export function renderEntry(engine: CompiledModel, cell: ExposureCell): ExposureEntry {
   const sets = outcomeSets(engine, cell.partition);
-  let rendered = entryCache.get(sets);
-  if (rendered === undefined) {
-    let ranges: OutcomeRecord<string[]> | null = null;
-    rendered = {
-      counts: outcomeRecord((_, i) => sets.counts[i].toString()),
-      get ranges(): OutcomeRecord<string[]> {
-        ranges ??= outcomeRecord((_, i) => rangesToCidrs(sets.ranges[i], sets.family));
-        return ranges;
-      },
-    };
-    entryCache.set(sets, rendered);
+  let counts = countsCache.get(sets);
+  if (counts === undefined) {
+    counts = outcomeRecord((_, i) => sets.counts[i].toString());
+    countsCache.set(sets, counts);
   }
-  const shared = rendered;
   const target = engine.addresses[cell.to];
   return {
     interface: engine.model.interfaces[cell.iface].name,
     to: target.text,
     service: engine.catalogue[cell.cls].name,
-    counts: shared.counts,
+    counts,
     get ranges(): OutcomeRecord<string[]> {
-      return shared.ranges;
+      return cidrLists(sets);
     },
   };
+}
+
+/** The six CIDR lists of a partition as enumerable getters, in outcome order: one list is rendered per read. */
+function cidrLists(sets: OutcomeSets): OutcomeRecord<string[]> {
+  const lists = {} as OutcomeRecord<string[]>;
+  OUTCOMES.forEach((outcome, i) => {
+    Object.defineProperty(lists, outcome, { enumerable: true, get: () => rangesToCidrs(sets.ranges[i], sets.family) });
+  });
+  return lists;
 }
 
 /** The exposure map at one instant (the slice holding it). */
@@ -131,16 +138,25 @@ export function exposureAt(engine: CompiledModel, atMs: number): ExposureAt {
   };
 }
 
+/** One slice of the week with its entries. */
+function exposureSlice(engine: CompiledModel, index: number): ExposureSlice {
+  const s = engine.week.slices[index];
+  return {
+    start: formatWeekMinute(s.start),
+    end: formatWeekMinute(s.end),
+    startMinute: s.start,
+    endMinute: s.end,
+    activeSchedules: engine.model.schedules.filter((_, k) => s.active[k]).map((sc) => sc.name),
+    entries: exposureCells(engine, index).map((c) => renderEntry(engine, c)),
+  };
+}
+
+/** The slices of the week in order, each built when asked for: a writer holds one slice at a time. */
+export function* exposureSlices(engine: CompiledModel): Generator<ExposureSlice, void, undefined> {
+  for (let i = 0; i < engine.week.slices.length; i++) yield exposureSlice(engine, i);
+}
+
 /** The exposure map for every slice of the week. */
 export function exposureMap(engine: CompiledModel): ExposureMap {
-  return {
-    slices: engine.week.slices.map((s, i) => ({
-      start: formatWeekMinute(s.start),
-      end: formatWeekMinute(s.end),
-      startMinute: s.start,
-      endMinute: s.end,
-      activeSchedules: engine.model.schedules.filter((_, k) => s.active[k]).map((sc) => sc.name),
-      entries: exposureCells(engine, i).map((c) => renderEntry(engine, c)),
-    })),
-  };
+  return { slices: [...exposureSlices(engine)] };
 }

@@ -32,6 +32,8 @@ export { CompiledModel, ProbeError } from "./compile.ts";
 export type { ProbeInput } from "./compile.ts";
 export type { TraceLayer, TraceResult } from "./trace.ts";
 export type { ExposureAt, ExposureEntry, ExposureMap, ExposureSlice } from "./exposure.ts";
+/** The slices of `exposure(device)` one at a time, each built when asked for (a large map written slice by slice). */
+export { exposureSlices } from "./exposure.ts";
 export type { ReachResult } from "./reach.ts";
 export { findingsOf as findings } from "./findings/index.ts";
 export type { Finding, FindingCheck, FindingCode, Witness, WitnessProbe } from "./findings/index.ts";

@@ -159,9 +159,11 @@ run_migrations_and_seed() {
 }
 
 build_app() {
-  step "Building the web app"
+  step "Building the web app and the CLI"
   cd "$ROOT"
   npx react-router build >"$DATA_DIR/build.log" 2>&1 || { cat "$DATA_DIR/build.log" >&2; fail "build failed" "read the build errors above"; }
+  # The `sallyport` CLI as one file (build/cli/), so a call starts without compiling TypeScript.
+  node server/cli/build.mjs >>"$DATA_DIR/build.log" 2>&1 || { cat "$DATA_DIR/build.log" >&2; fail "CLI build failed" "read the build errors above"; }
   ok "built into build/"
 }
 

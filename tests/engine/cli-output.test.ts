@@ -1,0 +1,147 @@
+// The CLI's output path: JSON written piece by piece is byte for byte what one
+// JSON.stringify(value, null, 2) gave before; writing waits whenever the reader asks it to;
+// the bundle (build/cli) answers exactly as the TypeScript sources do; and the launcher runs
+// the bundle only while it is at least as new as every file it was built from.
+
+import { spawnSync } from "node:child_process";
+import { mkdirSync, mkdtempSync, readFileSync, rmSync, utimesSync, writeFileSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
+import { pathToFileURL } from "node:url";
+import { describe, expect, test } from "vitest";
+import { run } from "#server/cli/main.ts";
+import type { Io } from "#server/cli/main.ts";
+import { compileModel, diffModels, exposure, findings, parseModel, reach } from "#server/engine/index.ts";
+import { generateModel } from "#server/engine/testing/generate-model.ts";
+import { buildCli } from "#server/cli/build.mjs";
+import { freshBundle } from "#server/cli/fresh-bundle.mjs";
+
+const ROOT = join(import.meta.dirname, "../..");
+const FIXTURES = join(ROOT, "tests/fixtures/models");
+const AT = "2025-03-04T10:00:00Z";
+
+const temp = mkdtempSync(join(tmpdir(), "sallyport-cli-"));
+const generated = join(temp, "generated.json");
+// 300 rules over four interfaces: an --at map of a few megabytes, many pieces.
+const MODEL = generateModel(77, { interfaces: 4, rules: 300, addressObjects: 400, entries: 1600, groups: 20, accounts: 8, schedules: 4, spread: "wide", scheduledShare: 0.1, scheduleStyle: "office" }).model;
+writeFileSync(generated, JSON.stringify(MODEL));
+
+function compiledFile(path: string) {
+  const parsed = parseModel(JSON.parse(readFileSync(path, "utf8")));
+  if (!parsed.ok) throw new Error(`${path} is not a valid model`);
+  return compileModel(parsed.model);
+}
+
+/** An Io whose reader is slow every few pieces; it counts writes made while it asked to wait. */
+function slowIo(): { io: Io; text: () => string; early: () => number; waits: () => number } {
+  const pieces: string[] = [];
+  let waiting = false;
+  let early = 0;
+  let waits = 0;
+  const io: Io = {
+    out(text) {
+      if (waiting) early++;
+      pieces.push(text);
+      if (pieces.length % 3 !== 0) return undefined;
+      waiting = true;
+      waits++;
+      return new Promise<void>((resolve) =>
+        setTimeout(() => {
+          waiting = false;
+          resolve();
+        }, 1),
+      );
+    },
+    err() {},
+  };
+  return { io, text: () => pieces.join(""), early: () => early, waits: () => waits };
+}
+
+describe("JSON output, written as it is produced", { timeout: 60_000 }, () => {
+  const device = compiledFile(generated);
+  const before = join(FIXTURES, "kestrel-dental.json");
+  const after = join(FIXTURES, "kestrel-dental-lockout.json");
+  const pretty = (value: unknown): string => `${JSON.stringify(value, null, 2)}\n`;
+
+  test.each([
+    ["exposure --at", ["exposure", generated, "--at", AT, "--json"], () => pretty(exposure(device, AT))],
+    ["reach", ["reach", generated, "--from", "10.1.2.3", "--at", AT, "--json"], () => pretty(reach(device, "10.1.2.3", AT))],
+    ["findings", ["findings", generated, "--json"], () => pretty({ findings: findings(device) })],
+    ["diff", ["diff", before, after, "--json"], () => pretty(diffModels(compiledFile(before), compiledFile(after)))],
+    [
+      "exposure, every slice (one compact slice per line)",
+      ["exposure", generated, "--json"],
+      () => {
+        const slices = exposure(device).slices;
+        return `{\n"slices": [\n${slices.map((s, i) => `${JSON.stringify(s)}${i + 1 < slices.length ? "," : ""}\n`).join("")}]\n}\n`;
+      },
+    ],
+  ] as const)("%s: the same bytes as one JSON.stringify, and no write while the reader is behind", async (_, args, expected) => {
+    const reader = slowIo();
+    expect(await run(args, reader.io)).toBe(0);
+    expect(reader.text()).toBe(expected());
+    expect(reader.early()).toBe(0);
+  });
+
+  test("a large answer goes out in many pieces, each waited for", async () => {
+    const reader = slowIo();
+    await run(["exposure", generated, "--at", AT, "--json"], reader.io);
+    expect(reader.text().length).toBeGreaterThan(1_000_000);
+    expect(reader.waits()).toBeGreaterThan(5);
+  });
+
+  test("exit codes keep their meaning through the Io: 1 for --fail-on, 2 for usage", async () => {
+    const reader = slowIo();
+    expect(await run(["findings", join(FIXTURES, "kestrel-dental.json"), "--fail-on", "critical", "--json"], reader.io)).toBe(1);
+    expect(JSON.parse(reader.text()).findings.length).toBeGreaterThan(0);
+    expect(await run(["exposure"], slowIo().io)).toBe(2);
+  });
+});
+
+describe("the bundled CLI", () => {
+  test("answers byte for byte as the TypeScript sources do", { timeout: 60_000 }, async () => {
+    const bundle = await buildCli(join(temp, "bundle"));
+    const cases = [
+      ["--help"],
+      ["exposure", generated, "--at", AT, "--json"],
+      ["exposure", join(FIXTURES, "kestrel-dental.json")],
+      ["findings", join(FIXTURES, "kestrel-dental.json"), "--fail-on", "high"],
+      ["diff", join(FIXTURES, "kestrel-dental.json"), join(FIXTURES, "kestrel-dental-lockout.json"), "--fail-on-lockout", "--json"],
+      ["trace", join(FIXTURES, "harbourline-edge.json"), "--from", "198.51.100.20", "--on", "outside", "--service", "https", "--at", "2025-03-04T10:00"],
+      ["validate", join(FIXTURES, "harbourline-edge.json"), "--json"],
+      ["frobnicate"],
+    ];
+    for (const args of cases) {
+      const fromBundle = spawnSync(process.execPath, [join(ROOT, "tests/support/run-bundle.mjs"), bundle, ...args], { cwd: ROOT, encoding: "utf8", maxBuffer: 1 << 28 });
+      const fromSource = spawnSync(process.execPath, [join(ROOT, "server/cli/sallyport.mjs"), ...args], {
+        cwd: ROOT,
+        encoding: "utf8",
+        maxBuffer: 1 << 28,
+        env: { ...process.env, SALLYPORT_CLI_FROM_SOURCE: "1" },
+      });
+      expect([fromBundle.status, fromBundle.stdout, fromBundle.stderr], args.join(" ")).toEqual([fromSource.status, fromSource.stdout, fromSource.stderr]);
+    }
+  });
+
+  test("the launcher trusts a bundle only while no input is newer, missing or unlisted", () => {
+    const root = join(temp, "root");
+    rmSync(root, { recursive: true, force: true });
+    mkdirSync(join(root, "build/cli"), { recursive: true });
+    mkdirSync(join(root, "server"), { recursive: true });
+    const url = pathToFileURL(`${root}/`);
+    const at = (path: string, seconds: number): void => utimesSync(join(root, path), seconds, seconds);
+    expect(freshBundle(url)).toBeNull(); // nothing built
+    writeFileSync(join(root, "server/a.ts"), "");
+    writeFileSync(join(root, "build/cli/sallyport.mjs"), "");
+    expect(freshBundle(url)).toBeNull(); // no list of inputs
+    writeFileSync(join(root, "build/cli/inputs.json"), JSON.stringify({ bundle: "sallyport.mjs", inputs: ["server/a.ts"] }));
+    at("server/a.ts", 1_000);
+    at("build/cli/sallyport.mjs", 2_000);
+    expect(freshBundle(url)?.href).toBe(pathToFileURL(join(root, "build/cli/sallyport.mjs")).href);
+    at("server/a.ts", 3_000); // edited after the build
+    expect(freshBundle(url)).toBeNull();
+    at("server/a.ts", 1_000);
+    rmSync(join(root, "server/a.ts")); // removed since
+    expect(freshBundle(url)).toBeNull();
+  });
+});
