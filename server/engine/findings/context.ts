@@ -11,9 +11,8 @@ import type { CompiledModel, OutcomePartition } from "../compile.ts";
 import { traceProbe } from "../trace.ts";
 import type { TraceResult } from "../trace.ts";
 import { outcomeSets } from "../exposure.ts";
-import { OUTCOMES, SILENT } from "../vocabulary.ts";
-import type { Outcome } from "../vocabulary.ts";
-import type { WitnessProbe } from "./types.ts";
+import { OUTCOMES, SILENT, isOutcome } from "../vocabulary.ts";
+import type { Witness, WitnessProbe } from "./types.ts";
 
 /**
  * Space that is not "non-private": RFC 1918, RFC 6598, loopback, link-local, multicast,
@@ -185,9 +184,15 @@ export class FindingContext {
     };
   }
 
-  /** The engine's trace of a witness probe. */
-  traceOf(probe: WitnessProbe): TraceResult {
-    return traceProbe(this.engine, probe);
+  /**
+   * The witness for a probe: `trace` replays it, and its outcome and deciding rule are what the
+   * witness records. `shows` may read the trace (which rule decided, which outcome).
+   */
+  witnessOf(probe: WitnessProbe | undefined, shows: string | ((trace: TraceResult) => string), proof?: string): Witness | undefined {
+    if (probe === undefined) return undefined;
+    const trace = traceProbe(this.engine, probe);
+    if (!isOutcome(trace.outcome)) return undefined;
+    return { probe, outcome: trace.outcome, ruleId: trace.ruleId, shows: typeof shows === "string" ? shows : shows(trace), ...(proof ? { proof } : {}) };
   }
 
   /** The service text for a class a rule covers: the catalogue name, or the rule's own port for "other". */
@@ -294,7 +299,7 @@ export class FindingContext {
    * A probe from a source in `sources` on interface × catalogue service that gets `outcome`:
    * the first such source, the first arrival and slice where it does. Undefined when none.
    */
-  exposureWitness(iface: number, cls: number, outcome: number, sources: AddressSet): { probe: WitnessProbe; outcome: Outcome } | undefined {
+  exposureWitness(iface: number, cls: number, outcome: number, sources: AddressSet): WitnessProbe | undefined {
     const engine = this.engine;
     for (const family of [4, 6] as const) {
       const source = witnessSource(rangesOf(sources, family), family);
@@ -303,7 +308,7 @@ export class FindingContext {
         if (arrival !== iface || engine.addresses[to].family !== family) continue;
         for (let slice = 0; slice < engine.week.slices.length; slice++) {
           if (engine.lookup(engine.outcomeOf(iface, to, cls, slice), source) === outcome) {
-            return { probe: this.probe(iface, to, cls, family, source, slice), outcome: OUTCOMES[outcome] };
+            return this.probe(iface, to, cls, family, source, slice);
           }
         }
       }

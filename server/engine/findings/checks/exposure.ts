@@ -4,11 +4,10 @@ import { FAMILY } from "../../addresses.ts";
 import { EMPTY_SET, countOf, intersect, isEmptySet, rangesOf, subtractSets, unionSets } from "../../address-sets.ts";
 import type { AddressSet } from "../../address-sets.ts";
 import type { CompiledModel } from "../../compile.ts";
-import { ANSWERED, LOGIN_DENIED, LOGIN_MFA, LOGIN_PASSWORD, OUTCOMES, elementRef, isOutcome } from "../../vocabulary.ts";
-import type { FindingContext } from "../context.ts";
+import { ANSWERED, LOGIN_DENIED, LOGIN_MFA, LOGIN_PASSWORD, OUTCOMES, elementRef } from "../../vocabulary.ts";
 import { firstCidrs, NON_PRIVATE } from "../context.ts";
 import { SOURCES } from "../sources.ts";
-import type { Finding, FindingCheck, Witness } from "../types.ts";
+import type { Finding, FindingCheck } from "../types.ts";
 
 const countText = (set: AddressSet): string => (countOf(set.v4) + countOf(set.v6)).toString();
 
@@ -35,13 +34,6 @@ export const cleartextListener: FindingCheck = {
     ),
 };
 
-function exposureWitness(context: FindingContext, iface: number, cls: number, outcome: number, sources: AddressSet, shows: string): Witness | undefined {
-  const found = context.exposureWitness(iface, cls, outcome, sources);
-  if (found === undefined) return undefined;
-  const trace = context.traceOf(found.probe);
-  return { probe: found.probe, outcome: found.outcome, ruleId: trace.ruleId, shows };
-}
-
 export const internetLoginExposed: FindingCheck = {
   code: "internet-login-exposed",
   severityRule:
@@ -62,12 +54,8 @@ export const internetLoginExposed: FindingCheck = {
         const all = login.reduce((acc, outcome) => unionSets(acc, seen.hits[outcome]), EMPTY_SET);
         const shown = worst === undefined ? login[0] : worst;
         const sources = worst === undefined ? seen.hits[shown] : subtractSets(seen.hits[worst], context.operators);
-        const witness = exposureWitness(
-          context,
-          iface,
-          cls,
-          shown,
-          sources,
+        const witness = context.witnessOf(
+          context.exposureWitness(iface, cls, shown, sources),
           `${worst === undefined ? "An operator network source" : "A non-private source outside the operator networks"} gets ${OUTCOMES[shown]} from ${service.name} on "${entry.name}".`,
         );
         return [
@@ -98,7 +86,7 @@ export const internetPing: FindingCheck = {
       context.engine.catalogue.flatMap((service, cls): Finding[] => {
         const seen = context.exposure(iface, cls);
         if (service.kind !== "echo" || seen === undefined || !seen.outcomes.has(ANSWERED)) return [];
-        const witness = exposureWitness(context, iface, cls, ANSWERED, seen.hits[ANSWERED], `A non-private source gets an echo reply on "${entry.name}".`);
+        const witness = context.witnessOf(context.exposureWitness(iface, cls, ANSWERED, seen.hits[ANSWERED]), `A non-private source gets an echo reply on "${entry.name}".`);
         return [
           {
             code: "internet-ping",
@@ -139,12 +127,10 @@ export const noFinalDrop: FindingCheck = {
     context.model.interfaces.flatMap((entry, iface): Finding[] => {
       const { engine } = context;
       if (entry.role !== "outside" || !engine.defaultAllow || hasCatchAllDeny(engine, iface)) return [];
-      const probe = context.defaultActionWitness(iface, NON_PRIVATE);
-      const trace = probe ? context.traceOf(probe) : undefined;
-      const witness: Witness | undefined =
-        probe && trace && isOutcome(trace.outcome)
-          ? { probe, outcome: trace.outcome, ruleId: trace.ruleId, shows: `No enabled rule matches this probe from a non-private source; the device default (allow) lets it through to ${trace.outcome}.` }
-          : undefined;
+      const witness = context.witnessOf(
+        context.defaultActionWitness(iface, NON_PRIVATE),
+        (trace) => `No enabled rule matches this probe from a non-private source; the device default (allow) lets it through to ${trace.outcome}.`,
+      );
       return [
         {
           code: "no-final-drop",

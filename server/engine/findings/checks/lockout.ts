@@ -1,7 +1,7 @@
 // Lockout: an operator network with no login path at any time.
 import { rangesToCidrs } from "../../address-sets.ts";
 import { intersectsSet } from "../../analysis.ts";
-import { elementRef, isOutcome } from "../../vocabulary.ts";
+import { elementRef } from "../../vocabulary.ts";
 import { SOURCES } from "../sources.ts";
 import type { Finding, FindingCheck } from "../types.ts";
 
@@ -15,18 +15,11 @@ export const lockout: FindingCheck = {
     return model.operatorNetworks.flatMap((name): Finding[] => {
       const set = engine.addressSetOf(name);
       if (intersectsSet(set, context.loginReachable)) return [];
-      const probe = context.loginProbeFrom(set);
-      const trace = probe ? context.traceOf(probe) : undefined;
-      const witness =
-        probe && trace && isOutcome(trace.outcome)
-          ? {
-              probe,
-              outcome: trace.outcome,
-              ruleId: trace.ruleId,
-              shows: `A source in "${name}" gets ${trace.outcome} here, not a login.`,
-              proof: "Over every interface, destination, login service and slice of the week, no source in this network gets login-mfa or login-password.",
-            }
-          : undefined;
+      const witness = context.witnessOf(
+        context.loginProbeFrom(set),
+        (trace) => `A source in "${name}" gets ${trace.outcome} here, not a login.`,
+        "Over every interface, destination, login service and slice of the week, no source in this network gets login-mfa or login-password.",
+      );
       return [
         {
           code: "lockout",

@@ -2,17 +2,10 @@
 // that `trace` replays; for the "never" findings the probe is one instance of the partition
 // that proves it.
 import { isRedundant } from "../../analysis.ts";
-import { elementRef, isOutcome } from "../../vocabulary.ts";
+import { elementRef } from "../../vocabulary.ts";
 import type { FindingContext } from "../context.ts";
 import { SOURCES } from "../sources.ts";
-import type { Finding, FindingCheck, Witness, WitnessProbe } from "../types.ts";
-
-function witnessOf(context: FindingContext, probe: WitnessProbe | undefined, shows: (ruleId: string | null) => string, proof?: string): Witness | undefined {
-  if (probe === undefined) return undefined;
-  const trace = context.traceOf(probe);
-  if (!isOutcome(trace.outcome)) return undefined;
-  return { probe, outcome: trace.outcome, ruleId: trace.ruleId, shows: shows(trace.ruleId), ...(proof ? { proof } : {}) };
-}
+import type { Finding, FindingCheck } from "../types.ts";
 
 const neverActive = (context: FindingContext) =>
   context.engine.rules.filter((rule) => rule.enabled && rule.schedule >= 0 && !context.engine.week.slices.some((slice) => slice.active[rule.schedule]));
@@ -24,10 +17,9 @@ export const ruleNeverActive: FindingCheck = {
   check: (context) =>
     neverActive(context).map((rule): Finding => {
       const schedule = context.model.schedules[rule.schedule].name;
-      const witness = witnessOf(
-        context,
+      const witness = context.witnessOf(
         context.ruleMatchWitness(rule.position),
-        (ruleId) => `A probe that rule "${rule.id}" would match is decided by ${ruleId === null ? "the device default" : `rule "${ruleId}"`}: the rule is never active.`,
+        ({ ruleId }) => `A probe that rule "${rule.id}" would match is decided by ${ruleId === null ? "the device default" : `rule "${ruleId}"`}: the rule is never active.`,
         `The week splits into ${context.engine.week.slices.length} slice(s); schedule "${schedule}" is active in none of them.`,
       );
       return {
@@ -56,10 +48,9 @@ export const shadowedRule: FindingCheck = {
     judged(context)
       .filter((rule) => !context.firstMatchRules.has(rule.position))
       .map((rule): Finding => {
-        const witness = witnessOf(
-          context,
+        const witness = context.witnessOf(
           context.ruleMatchWitness(rule.position),
-          (ruleId) => `Rule "${rule.id}" matches this probe, but ${ruleId === null ? "the probe never reaches the rules" : `rule "${ruleId}" matches it first`}.`,
+          ({ ruleId }) => `Rule "${rule.id}" matches this probe, but ${ruleId === null ? "the probe never reaches the rules" : `rule "${ruleId}" matches it first`}.`,
           "Over every interface, destination, service and slice, the first-match partition of the sources gives this rule no element.",
         );
         return {
@@ -82,10 +73,9 @@ export const redundantRule: FindingCheck = {
     judged(context)
       .filter((rule) => context.firstMatchRules.has(rule.position) && isRedundant(context.engine, rule.position))
       .map((rule): Finding => {
-        const witness = witnessOf(
-          context,
+        const witness = context.witnessOf(
           context.ruleDecidesWitness(rule.position),
-          () => `Rule "${rule.id}" decides this probe; without it the next matching rule (or the default) gives the same answer.`,
+          `Rule "${rule.id}" decides this probe; without it the next matching rule (or the default) gives the same answer.`,
         );
         return {
           code: "redundant-rule",
