@@ -141,9 +141,13 @@ export class DeviceRevisions {
 
   /** Analyses a saved revision and stores its fleet summary (the background job's work); seeds the caches. */
   async analyseSaved(revisionId: string): Promise<void> {
-    const record = await DeviceRevision.findByPk(revisionId, { attributes: [...RECORD_ATTRIBUTES], include: [ANALYSIS_RECORD] });
+    const record = await DeviceRevision.findByPk(revisionId, { attributes: [...RECORD_ATTRIBUTES, "deviceId"], include: [ANALYSIS_RECORD] });
     if (!record || record.analysisRecord) return;
-    const [analysis] = await this.#analysesOf([record]);
+    // The revision it was saved on, when its compiled model is still in memory: the new one is
+    // then compiled on it and re-uses what the edit left alone.
+    const previous = await DeviceRevision.findOne({ where: { deviceId: record.deviceId, number: { [Op.lt]: record.number } }, order: [["number", "DESC"]], attributes: ["id"] });
+    const basis = previous ? this.#analyses.peek(previous.id) : undefined;
+    const [analysis] = await this.#analysesOf([record], undefined, basis);
     await this.#storeSummary(record.id, analysis);
   }
 
@@ -170,12 +174,12 @@ export class DeviceRevisions {
     return this.#analyses.size;
   }
 
-  async #analysesOf(records: readonly RevisionRecord[], transaction?: Transaction): Promise<RevisionAnalysis[]> {
+  async #analysesOf(records: readonly RevisionRecord[], transaction?: Transaction, basis?: RevisionAnalysis): Promise<RevisionAnalysis[]> {
     const missing = records.filter((record) => !this.#analyses.has(record.id)).map((record) => record.id);
     if (missing.length > 0) {
       const rows = await DeviceRevision.findAll({ where: { id: missing }, attributes: ["id", "document", "sharedObjects"], transaction });
       for (const row of rows) {
-        this.#analyses.set(row.id, new RevisionAnalysis(row.document, row.sharedObjects, { findings: this.#findings.get(row.id) }));
+        this.#analyses.set(row.id, new RevisionAnalysis(row.document, row.sharedObjects, { findings: this.#findings.get(row.id), basis }));
       }
     }
     return records.map((record) => {

@@ -9,20 +9,27 @@ export class RevisionAnalysis {
   readonly effective: ModelDocument;
   #compiled: CompiledModel | undefined;
   #findings: readonly Finding[] | undefined;
+  #basis: RevisionAnalysis | undefined;
 
+  /** `known.basis`: the analysis of the revision this one was saved on; compiling re-uses what the edit left alone (compileModel's basis). */
   constructor(
     readonly document: ModelDocument,
     readonly shared: SharedLibrary,
-    known: { effective?: ModelDocument; compiled?: CompiledModel; findings?: readonly Finding[] } = {},
+    known: { effective?: ModelDocument; compiled?: CompiledModel; findings?: readonly Finding[]; basis?: RevisionAnalysis } = {},
   ) {
     this.effective = known.effective ?? effectiveDocument(document, shared);
     this.#compiled = known.compiled;
     this.#findings = known.findings;
+    this.#basis = known.basis?.isCompiled ? known.basis : undefined;
   }
 
   /** The compiled model, built once; partitions inside it are computed on demand and kept. */
   get compiled(): CompiledModel {
-    this.#compiled ??= compileModel(this.effective);
+    if (this.#compiled === undefined) {
+      this.#compiled = compileModel(this.effective, { basis: this.#basis?.compiled });
+      // Held no longer than needed: a chain of revisions must not keep each other alive.
+      this.#basis = undefined;
+    }
     return this.#compiled;
   }
 

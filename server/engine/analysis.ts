@@ -56,18 +56,37 @@ export function partitionsOf(engine: CompiledModel, options: { loginOnly?: boole
   return out;
 }
 
+const firstOfListCache = new WeakMap<CompiledModel, { iface: number; to: number; cls: number }[]>();
+
+/** The first (arrival, service class) of each distinct candidate list, in the order of probeClasses(). */
+export function firstOfEachList(engine: CompiledModel): readonly { iface: number; to: number; cls: number }[] {
+  const cached = firstOfListCache.get(engine);
+  if (cached !== undefined) return cached;
+  const seen = new Set<number>();
+  const out: { iface: number; to: number; cls: number }[] = [];
+  for (const { iface, to } of arrivals(engine)) {
+    for (const c of engine.classes) {
+      const list = engine.candidateRules(iface, to, c.index);
+      const key = list.id * 2 + (engine.addresses[to].family === 4 ? 0 : 1);
+      if (seen.has(key)) continue;
+      seen.add(key);
+      out.push({ iface, to, cls: c.index });
+    }
+  }
+  firstOfListCache.set(engine, out);
+  return out;
+}
+
 const distinctCache = new WeakMap<CompiledModel, RulePartition[]>();
 
 /** The distinct first-match partitions over every probe class (computed once per compiled model). */
 export function distinctRulePartitions(engine: CompiledModel): RulePartition[] {
   const cached = distinctCache.get(engine);
   if (cached !== undefined) return cached;
-  // Walks the arrivals in the order of probeClasses() without building an entry for each.
+  // Walks the arrivals in the order of probeClasses(), each candidate list once (equal lists have equal partitions).
   const byId = new Map<number, RulePartition>();
-  for (const { iface, to } of arrivals(engine)) {
-    for (const c of engine.classes) {
-      for (const rules of engine.weekRulePartitions(iface, to, c.index)) byId.set(rules.id, rules);
-    }
+  for (const { iface, to, cls } of firstOfEachList(engine)) {
+    for (const rules of engine.weekRulePartitions(iface, to, cls)) byId.set(rules.id, rules);
   }
   const list = [...byId.values()];
   distinctCache.set(engine, list);
@@ -81,26 +100,21 @@ export function firstMatchRules(engine: CompiledModel): Set<number> {
   return used;
 }
 
+const decisiveCache = new WeakMap<CompiledModel, Set<number>>();
+
+/** Positions of rules whose removal alone changes some outcome: in some partition, the next match (or the default) acts differently where they decide. */
+export function decisiveRules(engine: CompiledModel): Set<number> {
+  const cached = decisiveCache.get(engine);
+  if (cached !== undefined) return cached;
+  const out = new Set<number>();
+  for (const p of distinctRulePartitions(engine)) for (const position of engine.decisiveRules(p)) out.add(position);
+  decisiveCache.set(engine, out);
+  return out;
+}
+
 /** Whether removing the rule changes no outcome: wherever it is the first match, the next match (or the default) acts alike. */
 export function isRedundant(engine: CompiledModel, position: number): boolean {
-  const allow = engine.rules[position].allow;
-  for (const p of distinctRulePartitions(engine)) {
-    const { starts, values } = p.owner;
-    const at = p.active.indexOf(position);
-    if (at < 0 || !values.includes(position)) continue;
-    const later = p.active.subarray(at + 1);
-    const size = engine.domains[p.family].size;
-    for (let k = 0; k < values.length; k++) {
-      if (values[k] !== position) continue;
-      const end = k + 1 < starts.length ? starts[k + 1] : size;
-      for (let element = starts[k]; element < end; element++) {
-        const next = later.find((q) => engine.ruleCovers(q, p.family, element));
-        const nextAllow = next === undefined ? engine.defaultAllow : engine.rules[next].allow;
-        if (nextAllow !== allow) return false;
-      }
-    }
-  }
-  return true;
+  return !decisiveRules(engine).has(position);
 }
 
 /** Sources (both families) that reach a login with an eligible account somewhere, at some time. */
@@ -109,9 +123,15 @@ export function loginReachable(engine: CompiledModel): AddressSet {
   const seen = new Set<unknown>();
   // Every login probe class (as partitionsOf with loginOnly), each distinct outcome once. A
   // login service nothing listens to has no login outcome, whether or not its rules are evaluated.
+  const lists = new Set<number>();
   for (const { iface, to } of arrivals(engine)) {
     for (const c of engine.classes) {
       if (c.kind !== "login") continue;
+      // The same candidate list, class and listening give the same outcomes.
+      const listening = c.service !== null && engine.listening[iface].has(c.service.name) ? 1 : 0;
+      const key = ((engine.candidateRules(iface, to, c.index).id * engine.classes.length + c.index) * 2 + listening) * 2 + (engine.addresses[to].family === 4 ? 0 : 1);
+      if (lists.has(key)) continue;
+      lists.add(key);
       for (const e of engine.weekOutcomes(iface, to, c.index)) {
         if (seen.has(e.outcome)) continue;
         seen.add(e.outcome);

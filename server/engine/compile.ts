@@ -131,6 +131,28 @@ export interface ProbeInput {
 
 const PORT_SERVICE = /^(tcp|udp)\/([0-9]{1,5})$/;
 
+/** Partition ids are unique across compiled models, so a model compiled on a basis can share the basis's partitions and caches keyed by them. */
+let nextPartitionId = 0;
+let nextRuleToken = 0;
+
+/** A hash of a partition's content: its family and its rules' tokens in order (FNV-1a over the numbers). */
+function contentHash(family: Family, tokens: ArrayLike<number>): number {
+  let hash = 0x811c9dc5 ^ family;
+  for (let i = 0; i < tokens.length; i++) hash = Math.imul(hash ^ tokens[i], 0x01000193);
+  return hash ^ tokens.length;
+}
+
+/** Options of compileModel. */
+export interface CompileOptions {
+  /**
+   * The compiled previous version of the same device. Whatever an edit cannot change is
+   * taken from it instead of recomputed: address sets, the source elements, rule bitsets,
+   * first-match partitions of rule lists whose rules kept their sources, and the outcome
+   * runs of those partitions when the rules kept their actions.
+   */
+  readonly basis?: CompiledModel;
+}
+
 export class CompiledModel {
   readonly clock: LocalClock;
   readonly week: WeekPlan;
@@ -154,6 +176,26 @@ export class CompiledModel {
   private objectsByName: Map<string, DeviceModel["addresses"][number]> | null = null;
   private groupsByName: Map<string, DeviceModel["addressGroups"][number]> | null = null;
   private readonly ruleBits: readonly (readonly [SparseBits, SparseBits])[];
+  /** Per rule: its source names as one key (rules with equal keys have equal sources). */
+  private readonly sourceKeys: readonly string[];
+  /** Bitsets per source key, shared by rules with the same sources (and with a basis of the same elements). */
+  private readonly bitsBySources: Map<string, readonly [SparseBits, SparseBits]>;
+  /** The basis whose partitions may be re-used (same elements), or null. Weak, so a chain of edits does not keep every earlier version alive. */
+  private readonly basisRef: WeakRef<CompiledModel> | null = null;
+  /** Partitions taken from the basis whose outcome runs carry over too (same actions, services, accounts, defaults): the basis's partition. */
+  private readonly outcomesFrom = new Map<RulePartition, RulePartition>();
+  /** The basis's partitions by a hash of their family and rule tokens. */
+  private basisIndex: Map<number, RulePartition[]> | null = null;
+  /** Per position: a number naming the rule's id and sources, equal for the same rule in a basis with the same sources. */
+  private readonly ruleTokens: Int32Array;
+  private readonly decisive = new Map<RulePartition, Int32Array>();
+  /** How this model's rule partitions came about: swept over their whole list, updated from the basis after an edit, or taken from the basis. */
+  readonly partitionSources = { swept: 0, updated: 0, reused: 0 };
+  /** The one rule an edit changed in a way that changes lists (not only its action), when exactly one did. */
+  private readonly editedRule: { id: string; basisPosition: number } | null = null;
+  /** Per position: the same rule's position in the basis, or undefined when it is new. */
+  private readonly basisPositions: (number | undefined)[] = [];
+  private readonly sameCatalogueAndAccounts: boolean = false;
   /** Per family, per account: dense bitset of the elements inside its login sources. */
   private readonly accountBits: Readonly<Record<Family, readonly Int32Array[]>>;
   /** Indexed by (interface, destination, class). */
@@ -174,9 +216,14 @@ export class CompiledModel {
   private readonly loginRuns = new Map<string, Runs>();
   /** Outcome runs per (rule partition, class, listening). */
   private readonly outcomeCache = new Map<number, Runs>();
-  private readonly scratch: Record<Family, { remaining: Int32Array; owner: Int32Array }>;
+  private readonly scratch: Record<Family, { remaining: Int32Array; second: Int32Array; owner: Int32Array }>;
 
-  constructor(readonly model: DeviceModel) {
+  constructor(
+    readonly model: DeviceModel,
+    options: CompileOptions = {},
+  ) {
+    const basis = options.basis !== undefined && sameAddressBook(options.basis.model, model) ? options.basis : undefined;
+    if (basis !== undefined) for (const [name, set] of basis.addressSets) this.addressSets.set(name, set);
     this.clock = new LocalClock(model.device.timezone);
     this.week = planWeek(model.schedules.map((s) => s.windows));
     this.defaultAllow = model.device.defaultInbound === "allow";
@@ -239,16 +286,39 @@ export class CompiledModel {
       loginSources: a.loginSources.length === 0 ? ANY_SET : this.loginSetOf(a.loginSources),
     }));
 
+    this.sourceKeys = model.inboundRules.map((r) => r.sources.join("\n"));
+    const sameAccounts = basis !== undefined && JSON.stringify(basis.model.accounts) === JSON.stringify(model.accounts);
+    // Elements come from every rule's sources (disabled ones too, so switching a rule on or off
+    // keeps them) and the login sources: equal inputs give equal elements, shared with the basis.
+    const distinctSources = new Map<string, AddressSet>();
+    this.rules.forEach((r, i) => distinctSources.set(this.sourceKeys[i], r.sources));
+    const sameElements = sameAccounts && basis !== undefined && sameKeys(distinctSources, basis.bitsBySources);
     const domainFor = (family: Family): Domain =>
-      new Domain(family, [
-        ...this.rules.filter((r) => r.enabled).map((r) => rangesOf(r.sources, family)),
-        ...this.accounts.map((a) => rangesOf(a.loginSources, family)),
+      new Domain(family, [...[...distinctSources.values()].map((set) => rangesOf(set, family)), ...this.accounts.map((a) => rangesOf(a.loginSources, family))]);
+    this.domains = sameElements ? basis.domains : { 4: domainFor(4), 6: domainFor(6) };
+    this.bitsBySources = sameElements ? basis.bitsBySources : new Map();
+    for (const [key, set] of distinctSources) {
+      if (this.bitsBySources.has(key)) continue;
+      this.bitsBySources.set(key, [
+        this.domains[4].toBits(this.domains[4].toIndexRanges(set.v4)),
+        this.domains[6].toBits(this.domains[6].toIndexRanges(set.v6)),
       ]);
-    this.domains = { 4: domainFor(4), 6: domainFor(6) };
-    this.ruleBits = this.rules.map((r) => [
-      this.domains[4].toBits(this.domains[4].toIndexRanges(r.sources.v4)),
-      this.domains[6].toBits(this.domains[6].toIndexRanges(r.sources.v6)),
-    ]);
+    }
+    this.ruleBits = this.sourceKeys.map((key) => this.bitsBySources.get(key) as readonly [SparseBits, SparseBits]);
+    const basisTokens = new Map<string, number>();
+    if (sameElements) basis.model.inboundRules.forEach((r, i) => basisTokens.set(`${r.id}\u0001${basis.sourceKeys[i]}`, basis.ruleTokens[i]));
+    this.ruleTokens = Int32Array.from(model.inboundRules, (r, i) => basisTokens.get(`${r.id}\u0001${this.sourceKeys[i]}`) ?? nextRuleToken++);
+    if (sameElements) {
+      this.basisRef = new WeakRef(basis);
+      const edit = singleEdit(basis.model, model);
+      this.editedRule = edit === null ? null : { id: edit, basisPosition: basis.model.inboundRules.findIndex((r) => r.id === edit) };
+      const basisIndexOf = new Map(basis.model.inboundRules.map((r, i) => [r.id, i]));
+      this.basisPositions = model.inboundRules.map((r) => basisIndexOf.get(r.id));
+      this.sameCatalogueAndAccounts =
+        JSON.stringify(basis.model.services) === JSON.stringify(model.services) &&
+        basis.defaultAllow === this.defaultAllow &&
+        basis.unlistenedReset === this.unlistenedReset;
+    }
     const denseBits = (family: Family, set: AddressSet): Int32Array => {
       const d = this.domains[family];
       const dense = new Int32Array(d.words);
@@ -256,15 +326,25 @@ export class CompiledModel {
       for (let k = 0; k < sparse.words.length; k++) dense[sparse.words[k]] |= sparse.masks[k];
       return dense;
     };
-    this.accountBits = {
-      4: this.accounts.map((a) => denseBits(4, a.loginSources)),
-      6: this.accounts.map((a) => denseBits(6, a.loginSources)),
-    };
+    this.accountBits =
+      sameElements && basis !== undefined
+        ? basis.accountBits
+        : {
+            4: this.accounts.map((a) => denseBits(4, a.loginSources)),
+            6: this.accounts.map((a) => denseBits(6, a.loginSources)),
+          };
+    if (sameElements && this.sameCatalogueAndAccounts && basis !== undefined) for (const [key, runs] of basis.loginRuns) this.loginRuns.set(key, runs);
     const scratchFor = (family: Family) => ({
       remaining: new Int32Array(this.domains[family].words),
+      second: new Int32Array(this.domains[family].words),
       owner: new Int32Array(this.domains[family].size),
     });
     this.scratch = { 4: scratchFor(4), 6: scratchFor(6) };
+  }
+
+  /** The model this one was compiled on, while it is still alive and shares this one's elements. */
+  get basisModel(): CompiledModel | undefined {
+    return this.basisRef?.deref();
   }
 
   // ---- name resolution ----
@@ -509,7 +589,9 @@ export class CompiledModel {
     const outcomeKey = (rules.id * this.classes.length + cls) * 2 + (listening ? 1 : 0);
     let outcome = this.outcomeCache.get(outcomeKey);
     if (outcome === undefined) {
-      outcome = this.outcomeRuns(rules.family, rules, cls, listening);
+      const from = this.outcomesFrom.get(rules);
+      if (from !== undefined) outcome = this.basisRef?.deref()?.outcomeCache.get((from.id * this.classes.length + cls) * 2 + (listening ? 1 : 0));
+      outcome ??= this.outcomeRuns(rules.family, rules, cls, listening);
       this.outcomeCache.set(outcomeKey, outcome);
     }
     return outcome;
@@ -560,9 +642,160 @@ export class CompiledModel {
           if (s < 0 || state[s]) active[n++] = p;
         }
       }
-      rules = this.rulePartition(family, active, activeKey);
+      rules = this.basisPartition(family, active) ?? this.rulePartition(family, active, activeKey);
+      this.partitions.set(activeKey, rules);
     }
     return rules;
+  }
+
+  /**
+   * The basis's partition of the same rules (by id, each with the same sources) in the same
+   * order, with its owners renumbered to this model's positions; undefined when the basis has
+   * none. The runs' starts are shared: the elements are the same.
+   */
+  private basisPartition(family: Family, active: Int32Array): RulePartition | undefined {
+    const basis = this.basisRef?.deref();
+    if (basis === undefined) return undefined;
+    this.basisIndex ??= basis.partitionsByContent();
+    const tokens = Int32Array.from(active, (position) => this.ruleTokens[position]);
+    const found = this.basisIndex.get(contentHash(family, tokens))?.find((p) => basis.hasTokens(p, family, tokens));
+    if (found !== undefined) {
+      this.partitionSources.reused++;
+      return this.renumbered(basis, found, active);
+    }
+    const updated = this.updatedPartition(basis, family, active, tokens);
+    if (updated !== undefined) this.partitionSources.updated++;
+    return updated;
+  }
+
+  /** Whether the partition is of the family and of rules with these tokens, in order. */
+  private hasTokens(partition: RulePartition, family: Family, tokens: Int32Array): boolean {
+    if (partition.family !== family || partition.active.length !== tokens.length) return false;
+    for (let k = 0; k < tokens.length; k++) if (this.ruleTokens[partition.active[k]] !== tokens[k]) return false;
+    return true;
+  }
+
+  /** The basis's partition of the same rules in the same order, in this model's positions. */
+  private renumbered(basis: CompiledModel, found: RulePartition, active: Int32Array): RulePartition {
+    let samePositions = true;
+    for (let k = 0; k < active.length && samePositions; k++) samePositions = found.active[k] === active[k];
+    let sameActions = this.sameCatalogueAndAccounts;
+    for (let k = 0; k < active.length && sameActions; k++) sameActions = basis.rules[found.active[k]].allow === this.rules[active[k]].allow;
+    let partition = found;
+    if (!samePositions) {
+      const renumber = new Map<number, number>();
+      for (let k = 0; k < active.length; k++) renumber.set(found.active[k], active[k]);
+      const values = found.owner.values.map((v) => (v < 0 ? v : (renumber.get(v) as number)));
+      partition = { id: nextPartitionId++, family: found.family, active, owner: { starts: found.owner.starts, values } };
+    }
+    if (sameActions) this.outcomesFrom.set(partition, found);
+    return partition;
+  }
+
+  /**
+   * After an edit of one rule (added, removed, moved, switched, or its interface, sources,
+   * destinations, services or schedule changed): the basis's partition of the same list
+   * without the rule — or with the rule where the basis had it, which is taken out first
+   * (its elements go to their next match) — with the rule put in at its new place (it takes
+   * the elements it covers from later rules and from the default). Linear in the elements
+   * instead of a sweep over the whole list. Undefined when the basis has neither list.
+   */
+  private updatedPartition(basis: CompiledModel, family: Family, active: Int32Array, tokens: Int32Array): RulePartition | undefined {
+    const edited = this.editedRule;
+    if (edited === null) return undefined;
+    const at = active.findIndex((position) => this.rules[position].id === edited.id);
+    const without = at < 0 ? tokens : tokens.filter((_, k) => k !== at);
+    const withoutPositions = at < 0 ? active : active.filter((_, k) => k !== at);
+    const index = this.basisIndex as Map<number, RulePartition[]>;
+    const lookup = (list: Int32Array) => index.get(contentHash(family, list))?.find((p) => basis.hasTokens(p, family, list));
+    let base = lookup(without);
+    let removeAt = -1;
+    if (base === undefined && edited.basisPosition >= 0) {
+      // The list as the basis had it: the rule between its basis neighbours.
+      let insertAt = 0;
+      while (insertAt < withoutPositions.length && (this.basisPositions[withoutPositions[insertAt]] ?? -1) < edited.basisPosition) insertAt++;
+      const withIt = new Int32Array(without.length + 1);
+      withIt.set(without.subarray(0, insertAt));
+      withIt[insertAt] = basis.ruleTokens[edited.basisPosition];
+      withIt.set(without.subarray(insertAt), insertAt + 1);
+      base = lookup(withIt);
+      removeAt = insertAt;
+    }
+    if (base === undefined) return undefined;
+
+    const domain = this.domains[family];
+    const { owner, remaining: need } = this.scratch[family];
+    const { starts, values } = base.owner;
+    for (let k = 0; k < starts.length; k++) owner.fill(values[k], starts[k], k + 1 < starts.length ? starts[k + 1] : domain.size);
+    const familySlot = family === 4 ? 0 : 1;
+    if (removeAt >= 0) {
+      // Its elements go to the next rule of the basis's list that covers them, else to the default.
+      const removed = base.active[removeAt];
+      need.fill(0);
+      let count = 0;
+      for (let k = 0; k < starts.length; k++) {
+        if (values[k] !== removed) continue;
+        const end = k + 1 < starts.length ? starts[k + 1] : domain.size;
+        for (let element = starts[k]; element < end; element++) {
+          need[element >>> 5] |= 1 << (element & 31);
+          owner[element] = -1;
+          count++;
+        }
+      }
+      for (let k = removeAt + 1; k < base.active.length && count > 0; k++) {
+        const bits = basis.ruleBits[base.active[k]][familySlot];
+        for (let j = 0; j < bits.words.length; j++) {
+          const w = bits.words[j];
+          let hit = need[w] & bits.masks[j];
+          if (hit === 0) continue;
+          need[w] ^= hit;
+          const elementBase = w << 5;
+          while (hit !== 0) {
+            const low = hit & -hit;
+            hit ^= low;
+            owner[elementBase + 31 - Math.clz32(low)] = base.active[k];
+            count--;
+          }
+        }
+      }
+    }
+    // Into this model's positions (the basis's list minus the removed rule lines up with `withoutPositions`).
+    const renumber = new Int32Array(basis.rules.length).fill(-1);
+    const baseKept = removeAt < 0 ? base.active : base.active.filter((_, k) => k !== removeAt);
+    baseKept.forEach((position, k) => (renumber[position] = withoutPositions[k]));
+    for (let element = 0; element < domain.size; element++) {
+      const v = owner[element];
+      if (v >= 0) owner[element] = renumber[v];
+    }
+    if (at >= 0) {
+      // The rule takes what it covers from later rules and from the default.
+      const position = active[at];
+      const bits = this.ruleBits[position][familySlot];
+      for (let j = 0; j < bits.words.length; j++) {
+        let mask = bits.masks[j];
+        const elementBase = bits.words[j] << 5;
+        while (mask !== 0) {
+          const low = mask & -mask;
+          mask ^= low;
+          const element = elementBase + 31 - Math.clz32(low);
+          const current = owner[element];
+          if (current < 0 || current > position) owner[element] = position;
+        }
+      }
+    }
+    return { id: nextPartitionId++, family, active, owner: runsFromArray(owner, domain.size) };
+  }
+
+  /** This model's partitions by the hash of their content: family and the rules' tokens in order. */
+  private partitionsByContent(): Map<number, RulePartition[]> {
+    const out = new Map<number, RulePartition[]>();
+    for (const p of new Set(this.partitions.values())) {
+      const hash = contentHash(p.family, Array.from(p.active, (position) => this.ruleTokens[position]));
+      const bucket = out.get(hash);
+      if (bucket === undefined) out.set(hash, [p]);
+      else bucket.push(p);
+    }
+    return out;
   }
 
   /**
@@ -581,6 +814,7 @@ export class CompiledModel {
   rulePartition(family: Family, active: Int32Array, key: string = `${family}|${active.join(",")}`): RulePartition {
     const cached = this.partitions.get(key);
     if (cached !== undefined) return cached;
+    this.partitionSources.swept++;
     const domain = this.domains[family];
     const { remaining, owner } = this.scratch[family];
     remaining.fill(-1);
@@ -610,9 +844,80 @@ export class CompiledModel {
         if (remaining[w] === 0 && --live === 0) break outer;
       }
     }
-    const partition: RulePartition = { id: this.partitions.size, family, active, owner: runsFromArray(owner, domain.size) };
+    const partition: RulePartition = { id: nextPartitionId++, family, active, owner: runsFromArray(owner, domain.size) };
     this.partitions.set(key, partition);
     return partition;
+  }
+
+  /**
+   * Positions of the partition's rules whose removal would change a decision somewhere in it:
+   * where the rule is the first match, the next matching active rule (or the device default)
+   * acts differently. One bitset sweep finds every element's second match. Kept per partition,
+   * and carried over from the basis with the partition.
+   */
+  decisiveRules(partition: RulePartition): Int32Array {
+    const cached = this.decisive.get(partition);
+    if (cached !== undefined) return cached;
+    const from = this.outcomesFrom.get(partition);
+    const inherited = from === undefined ? undefined : this.basisRef?.deref()?.decisive.get(from);
+    if (inherited !== undefined && from !== undefined) {
+      // Same rules in the same order with the same actions: translate positions list-wise.
+      const at = new Map<number, number>();
+      from.active.forEach((position, k) => at.set(position, partition.active[k]));
+      const translated = inherited.map((position) => at.get(position) as number);
+      this.decisive.set(partition, translated);
+      return translated;
+    }
+    const family = partition.family;
+    const domain = this.domains[family];
+    const owner = this.scratch[family].owner;
+    const { starts, values } = partition.owner;
+    for (let k = 0; k < starts.length; k++) owner.fill(values[k], starts[k], k + 1 < starts.length ? starts[k + 1] : domain.size);
+    // first[w] / second[w]: elements of word w whose first / second match has been seen.
+    const first = this.scratch[family].remaining;
+    first.fill(0);
+    const second = this.scratch[family].second;
+    second.fill(0);
+    const decisive = new Set<number>();
+    // Stop once every rule that decides somewhere here is known to matter.
+    const deciders = new Set<number>();
+    for (const v of values) if (v >= 0) deciders.add(v);
+    const familySlot = family === 4 ? 0 : 1;
+    for (let k = 0; k < partition.active.length && decisive.size < deciders.size; k++) {
+      const position = partition.active[k];
+      const allow = this.rules[position].allow;
+      const bits = this.ruleBits[position][familySlot];
+      for (let j = 0; j < bits.words.length; j++) {
+        const w = bits.words[j];
+        const mask = bits.masks[j];
+        let fresh = mask & first[w] & ~second[w];
+        first[w] |= mask;
+        if (fresh === 0) continue;
+        second[w] |= fresh;
+        const base = w << 5;
+        while (fresh !== 0) {
+          const low = fresh & -fresh;
+          fresh ^= low;
+          const decider = owner[base + 31 - Math.clz32(low)];
+          if (this.rules[decider].allow !== allow) decisive.add(decider);
+        }
+      }
+    }
+    // Owned elements with no second match fall to the default.
+    for (let k = 0; k < starts.length; k++) {
+      const first = values[k];
+      if (first < 0 || decisive.has(first) || this.rules[first].allow === this.defaultAllow) continue;
+      const end = k + 1 < starts.length ? starts[k + 1] : domain.size;
+      for (let element = starts[k]; element < end; element++) {
+        if (((second[element >>> 5] >>> (element & 31)) & 1) === 0) {
+          decisive.add(first);
+          break;
+        }
+      }
+    }
+    const result = Int32Array.from(decisive).sort();
+    this.decisive.set(partition, result);
+    return result;
   }
 
   /** Login outcome per element for one service class: denied, second factor, or password alone. */
@@ -699,6 +1004,53 @@ export class CompiledModel {
 const CONSTANT_RUNS: Runs = { starts: Int32Array.of(0), values: Int32Array.of(0) };
 const SILENT_V4: OutcomePartition = { family: 4, outcome: { starts: Int32Array.of(0), values: Int32Array.of(SILENT) } };
 const SILENT_V6: OutcomePartition = { family: 6, outcome: { starts: Int32Array.of(0), values: Int32Array.of(SILENT) } };
+
+/**
+ * The id of the one rule whose edit can change rule lists, when exactly one did: added,
+ * removed, moved, switched on or off, or its interface, sources, destinations, services or
+ * schedule changed. A change of action alone changes no list. Null when none or several did.
+ */
+function singleEdit(before: DeviceModel, after: DeviceModel): string | null {
+  const listed = (r: DeviceModel["inboundRules"][number]) =>
+    [r.enabled, r.interface, r.schedule, r.sources.join("\n"), r.destinations.join("\n"), r.services.join("\n")].join("\u0001");
+  const old = new Map(before.inboundRules.map((r) => [r.id, r]));
+  const now = new Map(after.inboundRules.map((r) => [r.id, r]));
+  const edited = new Set<string>();
+  for (const [id, r] of now) {
+    const was = old.get(id);
+    if (was === undefined || listed(was) !== listed(r)) edited.add(id);
+  }
+  for (const id of old.keys()) if (!now.has(id)) edited.add(id);
+  if (edited.size > 1) return null;
+  // The order of the other rules must be unchanged; a move shows as one rule out of place.
+  const a = before.inboundRules.map((r) => r.id).filter((id) => now.has(id) && !edited.has(id));
+  const b = after.inboundRules.map((r) => r.id).filter((id) => old.has(id) && !edited.has(id));
+  const first = a.findIndex((id, i) => id !== b[i]);
+  if (first < 0) return edited.size === 1 ? [...edited][0] : null;
+  if (edited.size === 1) return null;
+  for (const moved of [a[first], b[first]]) {
+    const a2 = a.filter((id) => id !== moved);
+    const b2 = b.filter((id) => id !== moved);
+    if (a2.every((id, i) => id === b2[i])) return moved;
+  }
+  return null;
+}
+
+/** Whether two models name the same address objects and groups with the same contents. */
+function sameAddressBook(a: DeviceModel, b: DeviceModel): boolean {
+  if (a.addresses.length !== b.addresses.length || a.addressGroups.length !== b.addressGroups.length) return false;
+  const sameList = (x: readonly string[], y: readonly string[]) => x.length === y.length && x.every((v, i) => v === y[i]);
+  return (
+    a.addresses.every((o, i) => o.name === b.addresses[i].name && sameList(o.entries, b.addresses[i].entries)) &&
+    a.addressGroups.every((g, i) => g.name === b.addressGroups[i].name && sameList(g.members, b.addressGroups[i].members))
+  );
+}
+
+function sameKeys(a: ReadonlyMap<string, unknown>, b: ReadonlyMap<string, unknown>): boolean {
+  if (a.size !== b.size) return false;
+  for (const key of a.keys()) if (!b.has(key)) return false;
+  return true;
+}
 
 export function parseProbeAddress(text: string, field: string): Address {
   try {

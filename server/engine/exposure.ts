@@ -126,6 +126,27 @@ function cidrLists(sets: OutcomeSets): OutcomeRecord<string[]> {
   return lists;
 }
 
+/**
+ * The most exposed outcome (highest in OUTCOMES order) any source gets on the given
+ * interfaces' own addresses, any catalogue service, any time of the week — what the exposure
+ * map would show at its worst, read from each distinct outcome partition's counts without
+ * rendering the map. -1 when there are no such cells.
+ */
+export function worstOutcomeOn(engine: CompiledModel, interfaces: readonly number[]): number {
+  let worst = -1;
+  for (const iface of interfaces) {
+    for (const to of engine.interfaceAddresses[iface]) {
+      for (let cls = 0; cls < engine.catalogue.length; cls++) {
+        for (const partition of engine.weekOutcomes(iface, to, cls)) {
+          const counts = outcomeSets(engine, partition).counts;
+          for (let rank = counts.length - 1; rank > worst; rank--) if (counts[rank] !== 0n) worst = rank;
+        }
+      }
+    }
+  }
+  return worst;
+}
+
 /** The exposure map at one instant (the slice holding it). */
 export function exposureAt(engine: CompiledModel, atMs: number): ExposureAt {
   const slice = engine.sliceAt(atMs);

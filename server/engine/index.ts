@@ -8,7 +8,7 @@
 //   diffModels(before, after);
 
 import { CompiledModel } from "./compile.ts";
-import type { ProbeInput } from "./compile.ts";
+import type { CompileOptions, ProbeInput } from "./compile.ts";
 import { exposureAt, exposureMap } from "./exposure.ts";
 import type { ExposureAt, ExposureMap } from "./exposure.ts";
 import type { DeviceModel } from "./model.ts";
@@ -29,11 +29,22 @@ export type {
   ValidationIssue,
 } from "./model.ts";
 export { CompiledModel, ProbeError } from "./compile.ts";
-export type { ProbeInput } from "./compile.ts";
+export type { CompileOptions, ProbeInput } from "./compile.ts";
 export type { TraceLayer, TraceResult } from "./trace.ts";
 export type { ExposureAt, ExposureEntry, ExposureMap, ExposureSlice } from "./exposure.ts";
 /** The slices of `exposure(device)` one at a time, each built when asked for (a large map written slice by slice). */
 export { exposureSlices } from "./exposure.ts";
+import { worstOutcomeOn } from "./exposure.ts";
+import { OUTCOMES } from "./vocabulary.ts";
+import type { Outcome } from "./vocabulary.ts";
+
+/** The most exposed outcome any source gets on the named interfaces at any time of the week, or null when they have no addresses. */
+export function worstOutcome(device: CompiledModel, interfaceNames: Iterable<string>): Outcome | null {
+  const wanted = new Set(interfaceNames);
+  const indices = device.model.interfaces.flatMap((entry, index) => (wanted.has(entry.name) ? [index] : []));
+  const rank = worstOutcomeOn(device, indices);
+  return rank < 0 ? null : OUTCOMES[rank];
+}
 export type { ReachResult } from "./reach.ts";
 export { findingsOf as findings } from "./findings/index.ts";
 export type { Finding, FindingCheck, FindingCode, Witness, WitnessProbe } from "./findings/index.ts";
@@ -98,8 +109,8 @@ export { diffModels } from "./diff.ts";
 export type { ModelDiff, DiffChange, LockoutEntry } from "./diff.ts";
 
 /** Compiles a validated model for fast questions; partitions are computed on demand and cached. */
-export function compileModel(model: DeviceModel): CompiledModel {
-  return new CompiledModel(model);
+export function compileModel(model: DeviceModel, options: CompileOptions = {}): CompiledModel {
+  return new CompiledModel(model, options);
 }
 
 /** Traces one probe through every layer. Throws ProbeError for input errors. */

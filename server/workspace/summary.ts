@@ -1,5 +1,5 @@
 // What the fleet table shows for a revision, computed once by the engine when it is saved.
-import { compileModel, emptySeverityCounts, exposure, findings, OUTCOMES, type CompiledModel, type Finding, type Outcome } from "../engine/index.ts";
+import { compileModel, emptySeverityCounts, findings, worstOutcome, type CompiledModel, type Finding, type Outcome } from "../engine/index.ts";
 import type { ModelDocument } from "./document.ts";
 
 export type RevisionSummary = {
@@ -14,21 +14,11 @@ export function summariseDocument(effective: ModelDocument, device: CompiledMode
   const findingsBySeverity: Record<string, number> = emptySeverityCounts();
   for (const finding of found) findingsBySeverity[finding.severity] += 1;
 
-  const outside = new Set(effective.interfaces.filter((entry) => entry.role === "outside").map((entry) => entry.name));
-  let worst = -1;
-  if (outside.size > 0) {
-    for (const slice of exposure(device).slices) {
-      for (const entry of slice.entries) {
-        if (!outside.has(entry.interface)) continue;
-        OUTCOMES.forEach((outcome, rank) => {
-          if (rank > worst && entry.counts[outcome] !== "0") worst = rank;
-        });
-      }
-    }
-  }
+  const outside = effective.interfaces.filter((entry) => entry.role === "outside").map((entry) => entry.name);
+  const worst = worstOutcome(device, outside);
   return {
     findingsBySeverity,
-    worstOutsideOutcome: worst >= 0 ? OUTCOMES[worst] : null,
+    worstOutsideOutcome: worst,
     counts: countElements(effective),
   };
 }

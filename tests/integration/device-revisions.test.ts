@@ -4,7 +4,7 @@ import { Organisation, RevisionAnalysisRecord, Site } from "#models/index";
 import { getDatabase } from "#server/db/database.server";
 import { withQueryTally } from "#server/db/query-log.server";
 import { DeviceRevisions, deviceRevisions, elementCount } from "#server/devices/index";
-import { trace } from "#server/engine/index";
+import { compileModel, findings, trace } from "#server/engine/index";
 import { revisionAnalysisQueue } from "#server/jobs/revision-analysis.server";
 import { createDevice, saveEdit } from "#server/services/devices.server";
 import type { AuditActor } from "#server/services/audit.server";
@@ -101,6 +101,34 @@ describe("The device-revision repository", () => {
     const result = trace(found!.analysis.compiled, { from: "192.0.2.50", interface: "outside", service: "ssh", to: "198.51.100.9" });
     expect(result.outcome).toBe("silent");
     expect(result.ruleId).toBe("r1");
+  });
+
+  test("The background job compiles a saved revision on the one it was saved on, re-using its rule partitions, and answers as a fresh compile", async () => {
+    const before = await deviceRevisions.find(organisationId, deviceIds[0]);
+    // Analyse the current revision as the pages would, so it is compiled and in memory.
+    expect(before?.analysis.findings.length).toBeGreaterThanOrEqual(0);
+    const saved = await saveEdit(
+      organisationId,
+      deviceIds[0],
+      before!.revision.number,
+      (document) => ({
+        ...document,
+        inboundRules: [{ id: "r0", interface: "any", sources: ["any"], destinations: ["any"], services: ["https"], action: "deny", enabled: false }, ...document.inboundRules],
+      }),
+      actor,
+      "added a disabled rule",
+    );
+    await revisionAnalysisQueue.idle();
+    const after = await deviceRevisions.find(organisationId, deviceIds[0]);
+    expect(after?.revision.number).toBe(saved.number);
+    const compiled = after!.analysis.compiled;
+    expect(compiled.partitionSources.reused + compiled.partitionSources.updated).toBeGreaterThan(0);
+    expect(compiled.partitionSources.swept).toBe(0);
+    // Same answer as a model compiled from nothing (RFC 5737 source; r1 denies ssh, PRODUCT.md §3 layer 2).
+    const fresh = compileModel(after!.effective);
+    const probe = { from: "192.0.2.50", interface: "outside", service: "ssh" };
+    expect(trace(compiled, probe)).toEqual(trace(fresh, probe));
+    expect(after!.analysis.findings).toEqual(findings(fresh));
   });
 
   test("A revision whose analysis is not stored yet gets it from the first reader, once", async () => {

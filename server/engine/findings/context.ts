@@ -5,7 +5,7 @@ import { FAMILY, formatAddress, parseAddress, parseEntry, rangeToCidrs } from ".
 import type { Family } from "../addresses.ts";
 import { EMPTY_SET, intersect, rangesOf, setFromRanges, subtract, unionSets } from "../address-sets.ts";
 import type { AddressSet, Ranges } from "../address-sets.ts";
-import { arrivals, firstMatchRules, loginReachable } from "../analysis.ts";
+import { arrivals, firstMatchRules, firstOfEachList, loginReachable } from "../analysis.ts";
 import type { Arrival } from "../analysis.ts";
 import type { CompiledModel, OutcomePartition } from "../compile.ts";
 import { traceProbe } from "../trace.ts";
@@ -71,15 +71,65 @@ export function witnessSource(ranges: Ranges, family: Family): bigint | undefine
 /** A week minute's instant in the reference week: Monday 5 January 2026, 00:00 device time. */
 const REFERENCE_MONDAY_UTC = Date.UTC(2026, 0, 5);
 
+/** Non-private sources of one family that get one outcome in one outcome partition. */
+interface Hit {
+  readonly outcome: number;
+  readonly hit: AddressSet;
+}
+
+const hitsCache = new WeakMap<object, readonly Hit[]>();
+
+/** The non-silent outcomes of a partition that reach non-private sources, kept with the partition's runs (shared with models compiled on it). */
+function distinctHits(engine: CompiledModel, partition: OutcomePartition): readonly Hit[] {
+  const cached = hitsCache.get(partition.outcome);
+  if (cached !== undefined) return cached;
+  const list: Hit[] = [];
+  const sets = outcomeSets(engine, partition);
+  const global = NON_PRIVATE;
+  sets.counts.forEach((n, o) => {
+    if (o === SILENT || n === 0n) return;
+    const hit = intersect(sets.ranges[o], rangesOf(global, sets.family));
+    if (hit.length === 0) return;
+    list.push({ outcome: o, hit: sets.family === 4 ? { v4: hit, v6: [] } : { v4: [], v6: hit } });
+  });
+  hitsCache.set(partition.outcome, list);
+  return list;
+}
+
+function exposureOf(hits: readonly Hit[]): ServiceExposure {
+  const outcomes = new Set<number>();
+  const byOutcome: AddressSet[] = OUTCOMES.map(() => EMPTY_SET);
+  for (const { outcome, hit } of hits) {
+    outcomes.add(outcome);
+    byOutcome[outcome] = unionSets(byOutcome[outcome], hit);
+  }
+  return { outcomes, hits: byOutcome };
+}
+
 export class FindingContext {
   #exposure: Map<string, ServiceExposure> | undefined;
+  /** Per interface × service, the distinct hits the exposure was computed from (a later context re-uses equal ones). */
+  #exposureInputs: Map<string, readonly Hit[]> | undefined;
   #operators: AddressSet | undefined;
   #firstMatch: Set<number> | undefined;
   #loginReachable: AddressSet | undefined;
   #arrivals: Arrival[] | undefined;
   #deciding: Map<number, { iface: number; to: number; cls: number; slice: number; family: Family; element: number }> | undefined;
 
-  constructor(readonly engine: CompiledModel) {}
+  #basis: FindingContext | undefined;
+
+  /** `basis`: the context of the model this one was compiled on, whose results it may re-use until `releaseBasis`. */
+  constructor(
+    readonly engine: CompiledModel,
+    basis?: FindingContext,
+  ) {
+    this.#basis = basis;
+  }
+
+  /** Drops the link to the basis, so a chain of edits does not keep every earlier context alive. */
+  releaseBasis(): void {
+    this.#basis = undefined;
+  }
 
   get model() {
     return this.engine.model;
@@ -114,45 +164,39 @@ export class FindingContext {
 
   #computeExposure(): Map<string, ServiceExposure> {
     const engine = this.engine;
-    const global: Record<Family, Ranges> = { 4: nonPrivate(4), 6: nonPrivate(6) };
-    // Many cells see the same outcome partitions, so each distinct partition's non-private hits are computed once.
-    const hitsOf = new Map<unknown, { outcome: number; hit: AddressSet }[]>();
-    const distinctHits = (partition: OutcomePartition): { outcome: number; hit: AddressSet }[] => {
-      const cached = hitsOf.get(partition.outcome);
-      if (cached !== undefined) return cached;
-      const list: { outcome: number; hit: AddressSet }[] = [];
-      const sets = outcomeSets(engine, partition);
-      sets.counts.forEach((n, o) => {
-        if (o === SILENT || n === 0n) return;
-        const hit = intersect(sets.ranges[o], global[sets.family]);
-        if (hit.length === 0) return;
-        list.push({ outcome: o, hit: sets.family === 4 ? { v4: hit, v6: [] } : { v4: [], v6: hit } });
-      });
-      hitsOf.set(partition.outcome, list);
-      return list;
-    };
-    const exposure = new Map<string, { outcomes: Set<number>; hits: AddressSet[]; merged: Set<AddressSet> }>();
-    for (const { iface, to } of this.arrivals) {
+    const previous = this.#basis;
+    const basis = previous === undefined ? undefined : previous.#exposureInputs;
+    const basisExposure = previous === undefined ? undefined : previous.#exposure;
+    const inputs = new Map<string, readonly Hit[]>();
+    const out = new Map<string, ServiceExposure>();
+    for (let iface = 0; iface < engine.interfaceAddresses.length; iface++) {
       for (let cls = 0; cls < engine.catalogue.length; cls++) {
-        const key = `${iface}|${cls}`;
-        let seen = exposure.get(key);
-        if (seen === undefined) {
-          seen = { outcomes: new Set<number>(), hits: OUTCOMES.map(() => EMPTY_SET), merged: new Set<AddressSet>() };
-          exposure.set(key, seen);
-        }
-        for (const partition of engine.weekOutcomes(iface, to, cls)) {
-          for (const { outcome, hit } of distinctHits(partition)) {
-            seen.outcomes.add(outcome);
-            // A set already merged into this outcome's hits adds nothing (same object, same outcome).
-            if (seen.merged.has(hit)) continue;
-            seen.merged.add(hit);
-            seen.hits[outcome] = unionSets(seen.hits[outcome], hit);
+        // Many cells see the same outcome partitions: each distinct partition's hits are computed once (and kept with it).
+        const hits: Hit[] = [];
+        const merged = new Set<Hit>();
+        const lists = new Set<number>();
+        for (const { iface: arrival, to } of this.arrivals) {
+          if (arrival !== iface) continue;
+          const list = engine.candidateRules(iface, to, cls).id * 2 + (engine.addresses[to].family === 4 ? 0 : 1);
+          if (lists.has(list)) continue;
+          lists.add(list);
+          for (const partition of engine.weekOutcomes(iface, to, cls)) {
+            for (const hit of distinctHits(engine, partition)) {
+              if (merged.has(hit)) continue;
+              merged.add(hit);
+              hits.push(hit);
+            }
           }
         }
+        const key = `${iface}|${cls}`;
+        inputs.set(key, hits);
+        if (hits.length === 0) continue;
+        const before = basis?.get(key);
+        const kept = before !== undefined && before.length === hits.length && before.every((hit, i) => hit === hits[i]) ? basisExposure?.get(key) : undefined;
+        out.set(key, kept ?? exposureOf(hits));
       }
     }
-    const out = new Map<string, ServiceExposure>();
-    for (const [key, seen] of exposure) if (seen.outcomes.size > 0) out.set(key, { outcomes: seen.outcomes, hits: seen.hits });
+    this.#exposureInputs = inputs;
     return out;
   }
 
@@ -249,17 +293,16 @@ export class FindingContext {
     const engine = this.engine;
     const out = new Map<number, { iface: number; to: number; cls: number; slice: number; family: Family; element: number }>();
     const seen = new Set<number>();
-    for (const { iface, to } of this.arrivals) {
-      for (const c of engine.classes) {
-        engine.weekRulePartitions(iface, to, c.index).forEach((rules, slice) => {
-          if (seen.has(rules.id)) return;
-          seen.add(rules.id);
-          const { starts, values } = rules.owner;
-          for (let k = 0; k < values.length; k++) {
-            if (values[k] >= 0 && !out.has(values[k])) out.set(values[k], { iface, to, cls: c.index, slice, family: rules.family, element: starts[k] });
-          }
-        });
-      }
+    // A later arrival with an already-walked candidate list has only partitions already seen.
+    for (const { iface, to, cls } of firstOfEachList(engine)) {
+      engine.weekRulePartitions(iface, to, cls).forEach((rules, slice) => {
+        if (seen.has(rules.id)) return;
+        seen.add(rules.id);
+        const { starts, values } = rules.owner;
+        for (let k = 0; k < values.length; k++) {
+          if (values[k] >= 0 && !out.has(values[k])) out.set(values[k], { iface, to, cls, slice, family: rules.family, element: starts[k] });
+        }
+      });
     }
     return out;
   }

@@ -33,10 +33,16 @@ export const FINDING_CHECKS: readonly FindingCheck[] = [
   unusedObject,
 ];
 
-/** Every finding for a compiled model, most severe first. */
+const contexts = new WeakMap<CompiledModel, FindingContext>();
+
+/** Every finding for a compiled model, most severe first. A model compiled on a basis re-uses what the basis's findings computed and the edit left alone. */
 export function findingsOf(engine: CompiledModel): Finding[] {
-  const context = new FindingContext(engine);
-  return FINDING_CHECKS.flatMap((check) => check.check(context)).sort(
+  const basis = engine.basisModel;
+  const context = new FindingContext(engine, basis === undefined ? undefined : contexts.get(basis));
+  contexts.set(engine, context);
+  const found = FINDING_CHECKS.flatMap((check) => check.check(context));
+  context.releaseBasis();
+  return found.sort(
     (a, b) => severityRank(b.severity) - severityRank(a.severity) || a.code.localeCompare(b.code) || a.elements.join(" ").localeCompare(b.elements.join(" ")),
   );
 }
