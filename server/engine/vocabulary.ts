@@ -139,14 +139,18 @@ export interface CatalogueService {
   readonly builtin: boolean;
 }
 
-/** The built-in catalogue (IANA service-name and port registry; RFC 792 / RFC 4443 echo). */
+/**
+ * The built-in catalogue (IANA service-name and port registry; RFC 792 / RFC 4443 echo), grouped
+ * by kind as PRODUCT.md §3 lists it: login ssh, https, http, telnet; other snmp; echo ping. This
+ * is also the order of catalogue services in every output.
+ */
 export const BUILTIN_SERVICES: readonly CatalogueService[] = [
+  { name: "ssh", protocol: "tcp", port: 22, kind: "login", builtin: true },
   { name: "https", protocol: "tcp", port: 443, kind: "login", builtin: true },
   { name: "http", protocol: "tcp", port: 80, kind: "login", builtin: true },
-  { name: "ssh", protocol: "tcp", port: 22, kind: "login", builtin: true },
   { name: "telnet", protocol: "tcp", port: 23, kind: "login", builtin: true },
-  { name: "ping", protocol: "icmp", port: null, kind: "echo", builtin: true },
   { name: "snmp", protocol: "udp", port: 161, kind: "other", builtin: true },
+  { name: "ping", protocol: "icmp", port: null, kind: "echo", builtin: true },
 ];
 
 /** Built-in address names: all IPv4 and IPv6, all IPv4, all IPv6. */
