@@ -1,5 +1,6 @@
 import {
   ACCESS_LEVELS,
+  ALL_WEEK_SCHEDULE,
   PORT_PROTOCOLS,
   type CustomServiceKind,
   type InterfaceRole,
@@ -394,7 +395,7 @@ function SchedulesSection(props: SectionEditorProps) {
   return (
     <div className="grid gap-6 xl:grid-cols-[1fr_26rem]">
       {items.length === 0 ? (
-        <EmptyState title="No schedules">Rules apply at all times (the built-in schedule “always”) unless limited to a schedule, such as a support window.</EmptyState>
+        <EmptyState title="No schedules">Rules apply at all times (the built-in schedule “{ALL_WEEK_SCHEDULE}”) unless limited to a schedule, such as a support window.</EmptyState>
       ) : (
         <ElementTable
           props={props}
