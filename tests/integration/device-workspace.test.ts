@@ -420,7 +420,7 @@ describe("Accounts name login services only", () => {
     const page = await client.get(`${device.path}/model/accounts?edit=ops-lena`);
     expect(page.status).toBe(200);
     const offered = [...servicesFieldset(page.text).matchAll(/name="services" value="([^"]+)"/g)].map((match) => match[1]);
-    expect(offered).toEqual(["https", "http", "ssh", "telnet"]);
+    expect(offered).toEqual(["ssh", "https", "http", "telnet"]); // PRODUCT.md §3: the catalogue's login services, in its order
 
     const refused = await device.edit("accounts", { ...account, services: ["ssh", "ping"] });
     expect(refused.status).toBe(400);
