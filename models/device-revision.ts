@@ -1,5 +1,5 @@
 import { DataTypes, Model, type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
-import type { DeviceModel } from "#server/engine/index.ts";
+import type { DeviceModel, VersionOneModel } from "#server/engine/index.ts";
 import type { Device } from "./device.ts";
 import type { RevisionAnalysisRecord } from "./revision-analysis.ts";
 
@@ -24,8 +24,11 @@ export class DeviceRevision extends Model<InferAttributes<DeviceRevision>, Infer
   declare id: CreationOptional<string>;
   declare deviceId: ForeignKey<Device["id"]>;
   declare number: number;
-  /** The device's own model document, normalised by the engine (names of shared objects stay references). */
-  declare document: DeviceModel;
+  /**
+   * The device's own model document, normalised by the engine (names of shared objects stay
+   * references). Revisions saved before version 2 hold version 1; the repository upgrades them on read.
+   */
+  declare document: DeviceModel | VersionOneModel;
   declare sharedObjects: SharedObjectsSnapshot;
   declare summary: RevisionSummaryRecord;
   declare message: string;

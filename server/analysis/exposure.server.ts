@@ -3,6 +3,7 @@
 
 import { exposure, isOutcome, outcomeRank, OUTCOMES, ProbeError } from "../engine/index.ts";
 import type { CompiledModel, ExposureEntry, Outcome } from "../engine/index.ts";
+import { namesByKind } from "./catalogue.ts";
 import { buildGrid, cellsPerRank, gridRuns, IPV4_GRID, IPV6_GRIDS, topRank, type GridSpec } from "./address-grids.ts";
 import { pageOf } from "./paging.ts";
 import { weekHourGrid, type HourCell } from "./week-hours.ts";
@@ -130,7 +131,7 @@ export function answerExposure(device: CompiledModel, query: ExposureQuery): Exp
     slice: map.slice,
     sliceCount: device.week.slices.length,
     interfaces: model.interfaces.map((entry) => entry.name),
-    services: device.catalogue.map((service) => service.name),
+    services: namesByKind(device.catalogue),
     total: filtered.length,
     entries,
     entryPage: { page: entryPage.page, pages: entryPage.pages },

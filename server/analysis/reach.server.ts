@@ -3,6 +3,7 @@
 
 import { ProbeError, reach } from "../engine/index.ts";
 import type { CompiledModel, Outcome } from "../engine/index.ts";
+import { namesByKind } from "./catalogue.ts";
 
 export interface ReachRow {
   /** Stable key for sorting ties: "interface service". */
@@ -53,7 +54,7 @@ export function answerReach(device: CompiledModel, query: { from: string; at: st
   try {
     const result = reach(device, query.from, atMs);
     const interfaces = model.interfaces.map((entry) => entry.name);
-    const services = device.catalogue.map((service) => service.name);
+    const services = namesByKind(device.catalogue);
     const rows = result.results.map((trace): ReachRow => {
       const deciding = trace.layers[trace.layers.length - 1];
       return {

@@ -17,10 +17,11 @@ import {
   findings,
   parseModel,
   reach,
+  VERSION_1_UPGRADE_SUMMARY,
   severityAtLeast,
   trace,
 } from "../engine/index.ts";
-import type { CompiledModel, ExposureEntry, Finding, ModelDiff, Severity, TraceResult, ValidationIssue } from "../engine/index.ts";
+import type { CompiledModel, ExposureEntry, Finding, ModelDiff, ParseResult, Severity, TraceResult, ValidationIssue } from "../engine/index.ts";
 import { CsvSyntaxError, parseCsv } from "../formats/csv.ts";
 import { jsonPieces } from "../formats/json-stream.ts";
 import { table } from "./table.ts";
@@ -129,8 +130,15 @@ function readJson(path: string): unknown {
   }
 }
 
-function loadModel(path: string, io: Io): CompiledModel {
+/** Parses a model file, saying on stderr (one line) when it was a version-1 document read as version 2. */
+function parseFile(path: string, io: Io): ParseResult {
   const result = parseModel(readJson(path));
+  if (result.upgradedFrom === 1) io.err(`${path}: note: version-1 document read as version 2 (${VERSION_1_UPGRADE_SUMMARY}); the file is unchanged\n`);
+  return result;
+}
+
+function loadModel(path: string, io: Io): CompiledModel {
+  const result = parseFile(path, io);
   reportWarnings(path, result.warnings, io);
   if (!result.ok) {
     const lines = result.errors.map((e) => `${path}: ${e.path === "" ? "" : `${e.path}: `}${e.message}`);
@@ -160,7 +168,7 @@ async function writeJson(io: Io, value: unknown, indent = 2, end = "\n"): Promis
 
 async function validateCommand(files: readonly string[], values: Options, io: Io): Promise<number> {
   const path = oneFile(files);
-  const result = parseModel(readJson(path));
+  const result = parseFile(path, io);
   if (values.json === true) {
     const body = result.ok ? { ok: true, warnings: result.warnings } : { ok: false, errors: result.errors, warnings: result.warnings };
     await writeJson(io, body);

@@ -5,7 +5,7 @@ import { LRUCache } from "lru-cache";
 import { col, Op, type Transaction } from "sequelize";
 import { Device, DeviceRevision, RevisionAnalysisRecord, Site } from "#models/index.ts";
 import type { Finding, Outcome } from "../engine/index.ts";
-import { summariseDocument, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
+import { currentRevision, summariseDocument, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
 import { RevisionAnalysis } from "./revision-analysis.ts";
 
 /** A revision's stored facts without its document (which the analysis holds, typed). */
@@ -179,7 +179,8 @@ export class DeviceRevisions {
     if (missing.length > 0) {
       const rows = await DeviceRevision.findAll({ where: { id: missing }, attributes: ["id", "document", "sharedObjects"], transaction });
       for (const row of rows) {
-        this.#analyses.set(row.id, new RevisionAnalysis(row.document, row.sharedObjects, { findings: this.#findings.get(row.id), basis }));
+        const { document, shared } = currentRevision(row.document, row.sharedObjects);
+        this.#analyses.set(row.id, new RevisionAnalysis(document, shared, { findings: this.#findings.get(row.id), basis }));
       }
     }
     return records.map((record) => {

@@ -11,7 +11,7 @@ import type { Runs, SparseBits } from "./domain.ts";
 import { looksLikeAddressEntry, serviceKey } from "./model.ts";
 import type { DeviceModel } from "./model.ts";
 import {
-  ALWAYS_SCHEDULE,
+  ALL_WEEK_SCHEDULE,
   ANSWERED,
   ANY_INTERFACE,
   ANY_SERVICE,
@@ -274,7 +274,7 @@ export class CompiledModel {
         destinations: this.setOfNames(r.destinations),
         anyService: keys === null,
         serviceKeys: keys ?? new Set(),
-        schedule: r.schedule === ALWAYS_SCHEDULE ? -1 : (scheduleIndex.get(r.schedule) ?? -1),
+        schedule: r.schedule === ALL_WEEK_SCHEDULE ? -1 : (scheduleIndex.get(r.schedule) ?? -1),
       };
     });
     this.accounts = model.accounts.map((a, index): CompiledAccount => ({

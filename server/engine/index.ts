@@ -1,9 +1,9 @@
 // Public API of the Sallyport exposure engine. Pure: no I/O, no framework, no database.
 //
-//   const parsed = parseModel(json);            // validate a device model document
+//   const parsed = parseModel(json);            // validate a device model document (version 1 is upgraded)
 //   if (!parsed.ok) …parsed.errors (path + message)…
 //   const device = compileModel(parsed.model);
-//   trace(device, { from: "203.0.113.50", interface: "outside", service: "https" });
+//   trace(device, { from: "203.0.113.50", interface: "uplink", service: "https" });
 //   reach(device, "203.0.113.50");  exposure(device, at?);  findings(device);
 //   diffModels(before, after);
 
@@ -27,7 +27,12 @@ export type {
   ParseResult,
   Schedule,
   ValidationIssue,
+  VersionOneModel,
+  VersionOneModelInput,
 } from "./model.ts";
+/** Version 1 → 2 on read; parseModel calls it, and the version-1 words live there. */
+export { upgradeModel, VERSION_1_ALL_WEEK_SCHEDULE, VERSION_1_ROLES, VERSION_1_UPGRADE_SUMMARY } from "./upgrade.ts";
+export type { UpgradeResult, VersionOneRole } from "./upgrade.ts";
 export { CompiledModel, ProbeError } from "./compile.ts";
 export type { CompileOptions, ProbeInput } from "./compile.ts";
 export type { TraceLayer, TraceResult } from "./trace.ts";
@@ -54,7 +59,7 @@ export type { FindingIdentity } from "./finding-keys.ts";
 // The product's words, defined in vocabulary.ts (the browser may import that module directly).
 export {
   ACCESS_LEVELS,
-  ALWAYS_SCHEDULE,
+  ALL_WEEK_SCHEDULE,
   ANY_INTERFACE,
   ANY_SERVICE,
   BUILTIN_ADDRESS_NAMES,
@@ -70,12 +75,14 @@ export {
   isOutcome,
   isSeverity,
   LAYERS,
+  MODEL_SCHEMA_VERSION,
   NAME_PATTERN,
   OUTCOMES,
   outcomeRank,
   presentsLogin,
   PORT_PROTOCOLS,
   PROTOCOLS,
+  READABLE_SCHEMA_VERSIONS,
   RULE_ACTIONS,
   SECOND_FACTORS,
   SERVICE_KINDS,
@@ -99,6 +106,7 @@ export type {
   PortProtocol,
   Protocol,
   RuleAction,
+  SchemaVersion,
   SecondFactor,
   ServiceKind,
   Severity,

@@ -1,12 +1,15 @@
-// The device model document (schemaVersion 1): its zod schema, defaults and the
-// semantic checks that zod cannot express (references, name spaces, cycles, addresses).
+// The device model document (schemaVersion 2): its zod schema, defaults and the semantic
+// checks that zod cannot express (references, name spaces, cycles, addresses). Older versions
+// are upgraded first (upgrade.ts), so everything after the upgrade sees version-2 words.
 
 import { z } from "zod";
 import { AddressSyntaxError, formatAddress, parseEntry, parseInterfaceAddress } from "./addresses.ts";
 import { isValidTimeZone } from "./schedules.ts";
+import { upgradeModel } from "./upgrade.ts";
+import type { VersionOneRole } from "./upgrade.ts";
 import {
   ACCESS_LEVELS,
-  ALWAYS_SCHEDULE,
+  ALL_WEEK_SCHEDULE,
   ANY_INTERFACE,
   ANY_SERVICE,
   BUILTIN_ADDRESS_NAMES,
@@ -15,6 +18,7 @@ import {
   DAYS,
   INTERFACE_ROLES,
   isBuiltinAddressName,
+  MODEL_SCHEMA_VERSION,
   NAME_PATTERN,
   PORT_PROTOCOLS,
   RULE_ACTIONS,
@@ -35,7 +39,7 @@ function schemaFor(strict: boolean) {
   const name = z.string().regex(NAME_PATTERN, { message: "must be 1-63 characters of A-Z a-z 0-9 . _ -" });
   const names = z.array(name);
   return obj({
-    schemaVersion: z.literal(1, { message: "must be 1" }),
+    schemaVersion: z.literal(MODEL_SCHEMA_VERSION, { message: `must be ${MODEL_SCHEMA_VERSION}` }),
     device: obj({
       name,
       timezone: z
@@ -90,7 +94,7 @@ function schemaFor(strict: boolean) {
           sources: names,
           destinations: names,
           services: names,
-          schedule: name.default(ALWAYS_SCHEDULE),
+          schedule: name.default(ALL_WEEK_SCHEDULE),
           action: z.enum(RULE_ACTIONS),
           enabled: z.boolean().default(true),
           note: z.string().default(""),
@@ -125,15 +129,31 @@ export type InboundRule = DeviceModel["inboundRules"][number];
 export type Account = DeviceModel["accounts"][number];
 export type Schedule = DeviceModel["schedules"][number];
 
+/**
+ * A validated version-1 document, as revisions saved before version 2 hold it: the same shape
+ * with version 1's words (its schedule names are plain strings either way). Read it through
+ * parseModel, which upgrades it.
+ */
+export type VersionOneModel = Omit<DeviceModel, "schemaVersion" | "interfaces"> & {
+  schemaVersion: 1;
+  interfaces: Array<Omit<DeviceInterface, "role"> & { role: VersionOneRole }>;
+};
+/** A version-1 document as written (optional fields may be missing). */
+export type VersionOneModelInput = Omit<DeviceModelInput, "schemaVersion" | "interfaces"> & {
+  schemaVersion: 1;
+  interfaces?: Array<Omit<NonNullable<DeviceModelInput["interfaces"]>[number], "role"> & { role?: VersionOneRole }>;
+};
+
 export interface ValidationIssue {
   /** e.g. `inboundRules[3].sources[0]`; empty for the document itself. */
   readonly path: string;
   readonly message: string;
 }
 
+/** `upgradedFrom` is there when the input was an older version, read as the current one. */
 export type ParseResult =
-  | { readonly ok: true; readonly model: DeviceModel; readonly warnings: readonly ValidationIssue[] }
-  | { readonly ok: false; readonly errors: readonly ValidationIssue[]; readonly warnings: readonly ValidationIssue[] };
+  | { readonly ok: true; readonly model: DeviceModel; readonly warnings: readonly ValidationIssue[]; readonly upgradedFrom?: 1 }
+  | { readonly ok: false; readonly errors: readonly ValidationIssue[]; readonly warnings: readonly ValidationIssue[]; readonly upgradedFrom?: 1 };
 
 export function formatPath(path: readonly PropertyKey[]): string {
   let out = "";
@@ -167,9 +187,19 @@ export function accountServiceProblem(
   return `unknown service "${name}" (${why})`;
 }
 
-/** Validates a document: shape with zod, then references, name spaces, cycles and addresses. */
+/**
+ * Validates a document: its version (an older one is upgraded), then shape with zod, then
+ * references, name spaces, cycles and addresses.
+ */
 export function parseModel(input: unknown): ParseResult {
-  const warnings: ValidationIssue[] = [];
+  const upgrade = upgradeModel(input);
+  if (!upgrade.ok) return { ok: false, errors: upgrade.errors, warnings: [] };
+  const upgraded = upgrade.from === 1 ? { upgradedFrom: upgrade.from } : {};
+  const result = parseCurrent(upgrade.document, [...upgrade.warnings]);
+  return { ...result, ...upgraded };
+}
+
+function parseCurrent(input: unknown, warnings: ValidationIssue[]): ParseResult {
   const errors: ValidationIssue[] = [];
   const strict = STRICT_SCHEMA.safeParse(input);
   if (!strict.success) {
@@ -212,7 +242,7 @@ function checkSemantics(model: DeviceModel, errors: ValidationIssue[], warnings:
   model.services.forEach((s, i) => claim(serviceKinds, builtinServiceNames, s.name, "service", `services[${i}].name`, "service"));
   model.serviceGroups.forEach((g, i) => claim(serviceKinds, builtinServiceNames, g.name, "group", `serviceGroups[${i}].name`, "service"));
   const scheduleNames = new Map<string, number>();
-  model.schedules.forEach((s, i) => claim(scheduleNames, [ALWAYS_SCHEDULE], s.name, i, `schedules[${i}].name`, "schedule"));
+  model.schedules.forEach((s, i) => claim(scheduleNames, [ALL_WEEK_SCHEDULE], s.name, i, `schedules[${i}].name`, "schedule"));
   const interfaceNames = new Map<string, number>();
   model.interfaces.forEach((f, i) => claim(interfaceNames, [ANY_INTERFACE], f.name, i, `interfaces[${i}].name`, "interface"));
   const accountNames = new Map<string, number>();
@@ -295,7 +325,7 @@ function checkSemantics(model: DeviceModel, errors: ValidationIssue[], warnings:
     r.services.forEach((n, j) => {
       if (!isServiceName(n)) fail(`${path}.services[${j}]`, `unknown service "${n}"`);
     });
-    if (r.schedule !== ALWAYS_SCHEDULE && !scheduleNames.has(r.schedule)) fail(`${path}.schedule`, `unknown schedule "${r.schedule}"`);
+    if (r.schedule !== ALL_WEEK_SCHEDULE && !scheduleNames.has(r.schedule)) fail(`${path}.schedule`, `unknown schedule "${r.schedule}"`);
   });
 
   model.accounts.forEach((a, i) => {

@@ -7,7 +7,7 @@ import { parseAddress, parseEntry } from "./addresses.ts";
 import type { Address, AddressRange } from "./addresses.ts";
 import { looksLikeAddressEntry } from "./model.ts";
 import type { DeviceModel } from "./model.ts";
-import { ALWAYS_SCHEDULE, BUILTIN_SERVICES, DAYS, OUTCOMES } from "./vocabulary.ts";
+import { ALL_WEEK_SCHEDULE, BUILTIN_SERVICES, DAYS, OUTCOMES } from "./vocabulary.ts";
 import type { Layer, Outcome } from "./vocabulary.ts";
 
 export interface NaiveProbe {
@@ -55,7 +55,7 @@ export class NaiveEvaluator {
   }
 
   private scheduleActive(name: string, atMs: number): boolean {
-    if (name === ALWAYS_SCHEDULE) return true;
+    if (name === ALL_WEEK_SCHEDULE) return true;
     const schedule = this.model.schedules.find((s) => s.name === name);
     if (schedule === undefined) return false;
     const local = DateTime.fromMillis(atMs, { zone: this.model.device.timezone });

@@ -79,14 +79,20 @@ export function severityAtLeast(severity: Severity, threshold: Severity): boolea
 // ---------------------------------------------------------------------------------------------
 // The device model document (PRODUCT.md §4)
 
+/** The version of the device model document this release writes (PRODUCT.md §4). */
+export const MODEL_SCHEMA_VERSION = 2;
+/** The versions it reads: version 1 is upgraded on read (upgrade.ts). */
+export const READABLE_SCHEMA_VERSIONS = [1, 2] as const;
+export type SchemaVersion = (typeof READABLE_SCHEMA_VERSIONS)[number];
+
 /** Names are unique per kind, 1–63 characters of [A-Za-z0-9._-] (PRODUCT.md §4). */
 export const NAME_PATTERN = /^[A-Za-z0-9._-]{1,63}$/;
 
 /**
- * Interface roles, in the order PRODUCT.md §4 lists them. These are the words of document
- * version 1 (PRODUCT.md §4: outside = wan, inside = lan, mgmt = management).
+ * Interface roles, in the order PRODUCT.md §4 lists them: WAN and LAN as RFC 7084 names a
+ * router's interfaces, DMZ as NIST SP 800-41. Version 1's words for them live in upgrade.ts.
  */
-export const INTERFACE_ROLES = ["outside", "inside", "dmz", "mgmt", "other"] as const;
+export const INTERFACE_ROLES = ["wan", "lan", "dmz", "management", "other"] as const;
 export type InterfaceRole = (typeof INTERFACE_ROLES)[number];
 
 /** An inbound rule's action, and the device's default when no rule matches. */
@@ -133,14 +139,18 @@ export interface CatalogueService {
   readonly builtin: boolean;
 }
 
-/** The built-in catalogue (IANA service-name and port registry; RFC 792 / RFC 4443 echo). */
+/**
+ * The built-in catalogue (IANA service-name and port registry; RFC 792 / RFC 4443 echo), grouped
+ * by kind as PRODUCT.md §3 lists it: login ssh, https, http, telnet; other snmp; echo ping. This
+ * is also the order of catalogue services in every output.
+ */
 export const BUILTIN_SERVICES: readonly CatalogueService[] = [
+  { name: "ssh", protocol: "tcp", port: 22, kind: "login", builtin: true },
   { name: "https", protocol: "tcp", port: 443, kind: "login", builtin: true },
   { name: "http", protocol: "tcp", port: 80, kind: "login", builtin: true },
-  { name: "ssh", protocol: "tcp", port: 22, kind: "login", builtin: true },
   { name: "telnet", protocol: "tcp", port: 23, kind: "login", builtin: true },
-  { name: "ping", protocol: "icmp", port: null, kind: "echo", builtin: true },
   { name: "snmp", protocol: "udp", port: 161, kind: "other", builtin: true },
+  { name: "ping", protocol: "icmp", port: null, kind: "echo", builtin: true },
 ];
 
 /** Built-in address names: all IPv4 and IPv6, all IPv4, all IPv6. */
@@ -154,8 +164,8 @@ export function isBuiltinAddressName(value: unknown): value is BuiltinAddressNam
 export const ANY_SERVICE = "any";
 /** In a rule's interface: every interface. */
 export const ANY_INTERFACE = "any";
-/** The built-in schedule that is active every minute of the week. */
-export const ALWAYS_SCHEDULE = "always";
+/** The built-in schedule that is active every minute of the week (version 1 called it "always"). */
+export const ALL_WEEK_SCHEDULE = "all-week";
 
 // ---------------------------------------------------------------------------------------------
 // Elements named by findings and traces
@@ -163,7 +173,7 @@ export const ALWAYS_SCHEDULE = "always";
 /** The kinds of element a finding names as "kind:name" (glossary words, PRODUCT.md §6). */
 export const ELEMENT_KINDS = ["interface", "address", "address-group", "service", "service-group", "schedule", "rule", "account", "operator-network"] as const;
 export type ElementKind = (typeof ELEMENT_KINDS)[number];
-/** "account:admin", "interface:outside", "rule:r-7". */
+/** "account:admin", "interface:uplink", "rule:r-7". */
 export type ElementRef = `${ElementKind}:${string}`;
 
 export function elementRef(kind: ElementKind, name: string): ElementRef {

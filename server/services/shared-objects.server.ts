@@ -1,7 +1,7 @@
 import { SharedAddressObject } from "#models/index.ts";
 import type { SharedObjectKind } from "#models/shared-address-object.ts";
 import { CsvSyntaxError, parseCsv } from "../formats/csv.ts";
-import { NAME_PATTERN, parseModel } from "../engine/index.ts";
+import { MODEL_SCHEMA_VERSION, NAME_PATTERN, parseModel } from "../engine/index.ts";
 import { deviceRevisions } from "../devices/index.ts";
 import { Refusal } from "../errors.ts";
 import { findUsages } from "../workspace/index.ts";
@@ -21,7 +21,7 @@ export async function listSharedObjects(organisationId: string): Promise<SharedO
  */
 function libraryProblems(objects: SharedObjectInput[]): string[] {
   const parsed = parseModel({
-    schemaVersion: 1,
+    schemaVersion: MODEL_SCHEMA_VERSION,
     device: { name: "shared-library" },
     addresses: objects.filter((object) => object.kind === "address").map((object) => ({ name: object.name, entries: object.items })),
     addressGroups: objects.filter((object) => object.kind === "group").map((object) => ({ name: object.name, members: object.items })),

@@ -1,7 +1,9 @@
 // The device model document as the workspace stores and edits it. Pure: no I/O.
-import { parseModel, type DeviceModel, type ValidationIssue } from "../engine/index.ts";
+import { MODEL_SCHEMA_VERSION, parseModel, type DeviceModel, type ValidationIssue, type VersionOneModel } from "../engine/index.ts";
 
 export type ModelDocument = DeviceModel;
+/** A revision's document as the database holds it: version 2, or version 1 when saved before version 2. */
+export type StoredDocument = DeviceModel | VersionOneModel;
 
 /** Organisation-level address objects and groups, as a device revision records them. */
 export type SharedLibrary = {
@@ -13,7 +15,7 @@ export const EMPTY_LIBRARY: SharedLibrary = { addresses: [], addressGroups: [] }
 
 /** A new device's first document: only its settings, everything else empty. */
 export function newDocument(name: string, timezone = "UTC"): unknown {
-  return { schemaVersion: 1, device: { name, timezone, defaultInbound: "allow", unlistenedPort: "drop" } };
+  return { schemaVersion: MODEL_SCHEMA_VERSION, device: { name, timezone, defaultInbound: "allow", unlistenedPort: "drop" } };
 }
 
 /** Every name a document uses where an address object or group is expected. */
@@ -74,8 +76,9 @@ export function effectiveDocument(document: ModelDocument, shared: SharedLibrary
   };
 }
 
+/** `upgradedFrom` is there when the input was a version-1 document (the result is version 2). */
 export type ValidatedDocument =
-  | { ok: true; document: ModelDocument; shared: SharedLibrary; effective: ModelDocument; warnings: readonly ValidationIssue[] }
+  | { ok: true; document: ModelDocument; shared: SharedLibrary; effective: ModelDocument; warnings: readonly ValidationIssue[]; upgradedFrom?: 1 }
   | { ok: false; errors: readonly ValidationIssue[]; warnings: readonly ValidationIssue[] };
 
 /**
@@ -105,5 +108,18 @@ export function validateDocument(input: unknown, library: SharedLibrary): Valida
   };
   // The shared objects as the engine normalised them (canonical CIDRs), like the rest of the revision.
   const normalisedShared: SharedLibrary = { addresses: parsed.model.addresses.filter(isShared), addressGroups: parsed.model.addressGroups.filter(isShared) };
-  return { ok: true, document, shared: normalisedShared, effective: parsed.model, warnings: parsed.warnings };
+  return { ok: true, document, shared: normalisedShared, effective: parsed.model, warnings: parsed.warnings, ...(parsed.upgradedFrom ? { upgradedFrom: parsed.upgradedFrom } : {}) };
+}
+
+/**
+ * A stored revision in the current version. Revisions never change, so one saved in version 1
+ * is upgraded each time it is read, through the engine's parse step (with the shared objects
+ * it used, which it names); a version-2 revision is returned as it is, without parsing.
+ */
+export function currentRevision(document: StoredDocument, shared: SharedLibrary): { document: ModelDocument; shared: SharedLibrary } {
+  if (document.schemaVersion === MODEL_SCHEMA_VERSION) return { document, shared };
+  const validated = validateDocument(document, shared);
+  // A version-1 revision was valid when saved, and the upgrade only renames: this is a bug.
+  if (!validated.ok) throw new Error(`a version-1 revision does not upgrade: ${validated.errors.map((issue) => `${issue.path}: ${issue.message}`).join("; ")}`);
+  return { document: validated.document, shared: validated.shared };
 }

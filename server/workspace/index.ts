@@ -1,6 +1,6 @@
 // The device workspace's pure core: documents, edits, references, readable diffs, summaries.
-export { effectiveDocument, EMPTY_LIBRARY, newDocument, sharedObjectsUsedBy, validateDocument } from "./document.ts";
-export type { ModelDocument, SharedLibrary, ValidatedDocument } from "./document.ts";
+export { currentRevision, effectiveDocument, EMPTY_LIBRARY, newDocument, sharedObjectsUsedBy, validateDocument } from "./document.ts";
+export type { ModelDocument, SharedLibrary, StoredDocument, ValidatedDocument } from "./document.ts";
 export {
   deleteNamed,
   deleteRule,

@@ -4,7 +4,10 @@ import type { ModelDocument } from "./document.ts";
 
 export type RevisionSummary = {
   findingsBySeverity: Record<string, number>;
-  /** The most exposed outcome any source gets on an outside interface at any time of the week. */
+  /**
+   * The most exposed outcome any source gets on a wan interface at any time of the week. The
+   * name (and the revision_analyses column) keep the word from before the version-2 roles.
+   */
   worstOutsideOutcome: Outcome | null;
   counts: Record<string, number>;
 };
@@ -14,8 +17,8 @@ export function summariseDocument(effective: ModelDocument, device: CompiledMode
   const findingsBySeverity: Record<string, number> = emptySeverityCounts();
   for (const finding of found) findingsBySeverity[finding.severity] += 1;
 
-  const outside = effective.interfaces.filter((entry) => entry.role === "outside").map((entry) => entry.name);
-  const worst = worstOutcome(device, outside);
+  const wan = effective.interfaces.filter((entry) => entry.role === "wan").map((entry) => entry.name);
+  const worst = worstOutcome(device, wan);
   return {
     findingsBySeverity,
     worstOutsideOutcome: worst,

@@ -21,16 +21,17 @@ test("An engineer models a new device, reorders its rules, and round-trips it th
   await expect(page.getByRole("heading", { name: deviceName })).toBeVisible();
   await expect(toast(page)).toContainText(`Device ${deviceName} created`);
 
-  // An outside interface with https and ssh listening.
+  // A wan interface named outside, with https and ssh listening (switches grouped by kind).
   const interfaceForm = page.getByRole("form", { name: "Interface" });
   await interfaceForm.getByLabel("Name").fill("outside");
-  await interfaceForm.getByLabel("Role").selectOption("outside");
+  await interfaceForm.getByLabel("Role").selectOption("wan");
   await interfaceForm.getByLabel("Addresses").fill("203.0.113.10/24\n2001:db8:e2e::10/64");
   await interfaceForm.getByLabel("https").check();
   await interfaceForm.getByLabel("ssh").check();
   await interfaceForm.getByRole("button", { name: "Add interface" }).click();
   await expect(toast(page)).toContainText("Added interface outside. Saved as revision r2.");
-  await expect(page.getByRole("cell", { name: "https, ssh" })).toBeVisible();
+  // The listeners column lists them by kind, in the catalogue's order (PRODUCT.md §3: login ssh, https, http, telnet).
+  await expect(page.getByRole("cell", { name: "login ssh, https" })).toBeVisible();
   await screenshot(page, "21-interfaces");
 
   // The team's network, then two inbound rules: a catch-all deny first, an allow second.
@@ -110,7 +111,7 @@ test("An engineer models a new device, reorders its rules, and round-trips it th
 test("A bad upload is refused with its problems and creates nothing", async ({ page }) => {
   await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
   await page.goto("/o/lanternfield/devices/import");
-  await page.getByLabel("Model document").setInputFiles({ name: "broken.json", mimeType: "application/json", buffer: Buffer.from(JSON.stringify({ schemaVersion: 1, device: { name: "broken" }, inboundRules: [{ id: "r1", interface: "any", sources: ["noc"], destinations: ["any"], services: ["ssh"], action: "allow" }] })) });
+  await page.getByLabel("Model document").setInputFiles({ name: "broken.json", mimeType: "application/json", buffer: Buffer.from(JSON.stringify({ schemaVersion: 2, device: { name: "broken" }, inboundRules: [{ id: "r1", interface: "any", sources: ["noc"], destinations: ["any"], services: ["ssh"], action: "allow" }] })) });
   await page.getByLabel("Import as").selectOption({ label: "New device at Brightwater Clinic — main campus" });
   await page.getByRole("button", { name: "Check the document" }).click();
   await expect(page.getByRole("alert").first()).toContainText("not a valid Sallyport model");

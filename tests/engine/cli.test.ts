@@ -95,13 +95,39 @@ describe("sallyport CLI", { timeout: 60_000 }, () => {
     expect(sallyport("diff", model("kestrel-dental.json"), model("kestrel-dental-hardened.json"), "--fail-on-lockout").code).toBe(0);
   });
 
+  test("a version-1 document is read as version 2: the same answers, and one line on stderr says so", () => {
+    // PRODUCT.md §4: version-1 documents are still read and upgraded on read; the CLI says so.
+    const v1 = join(ROOT, "tests/fixtures/version-1/harbourline-edge.json");
+    const args = ["--from", "198.51.100.20", "--on", "outside", "--service", "https", "--at", "2025-03-04T10:00", "--json"];
+    const old = sallyport("trace", v1, ...args);
+    const current = sallyport("trace", model("harbourline-edge.json"), ...args);
+    expect(old.code).toBe(0);
+    expect(old.stdout).toBe(current.stdout);
+    expect(current.stderr).toBe("");
+    const notes = old.stderr.split("\n").filter((line) => line !== "");
+    expect(notes).toEqual([`${v1}: note: version-1 document read as version 2 (roles outside → wan, inside → lan, mgmt → management; schedule always → all-week); the file is unchanged`]);
+    const validated = sallyport("validate", v1);
+    expect(validated.code).toBe(0);
+    expect(validated.stderr).toContain("version-1 document read as version 2");
+    expect(sallyport("findings", v1, "--json").stdout).toBe(sallyport("findings", model("harbourline-edge.json"), "--json").stdout);
+  });
+
+  test("a document of a version Sallyport does not know is refused with a clear message", () => {
+    const dir = mkdtempSync(join(tmpdir(), "sallyport-"));
+    const future = join(dir, "future.json");
+    writeFileSync(future, JSON.stringify({ schemaVersion: 3, device: { name: "x" } }));
+    const v = sallyport("validate", future);
+    expect(v.code).toBe(2);
+    expect(v.stderr).toContain("schemaVersion: 3 is not a version Sallyport reads: it reads 1 and 2, and writes 2");
+  });
+
   test("validation errors and usage errors exit 2", () => {
     const dir = mkdtempSync(join(tmpdir(), "sallyport-"));
     const broken = join(dir, "broken.json");
     writeFileSync(
       broken,
       JSON.stringify({
-        schemaVersion: 1,
+        schemaVersion: 2,
         device: { name: "x" },
         interfaces: [{ name: "o", addresses: ["192.0.2.1/24"] }],
         inboundRules: [{ id: "r1", interface: "o", sources: ["noc"], destinations: ["any"], services: ["any"], action: "deny" }],

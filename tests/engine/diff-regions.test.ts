@@ -86,7 +86,7 @@ function edited(model: DeviceModel, sources: readonly string[], edit: Edit, seed
         sources: [...next.operatorNetworks],
         destinations: ["any"],
         services: [rnd() < 0.6 ? "any" : pick(["ssh", "https", "webconsole", "admin-web"])],
-        schedule: "always",
+        schedule: "all-week",
         action: "deny",
         enabled: true,
         note: "",

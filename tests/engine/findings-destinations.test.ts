@@ -5,11 +5,11 @@ import { compileModel, findings, parseModel, trace } from "#server/engine/index.
 // outside interface sent to the inside address still gets the login page (PRODUCT.md §3: `to`
 // may be an address of another interface; the listener is that of the arrival interface).
 const MODEL = {
-  schemaVersion: 1,
+  schemaVersion: 2,
   device: { name: "quayside-edge" },
   interfaces: [
-    { name: "outside", role: "outside", addresses: ["203.0.113.1/24"], listeners: ["https"] },
-    { name: "inside", role: "inside", addresses: ["10.0.0.1/24"], listeners: ["https", "ssh"] },
+    { name: "outside", role: "wan", addresses: ["203.0.113.1/24"], listeners: ["https"] },
+    { name: "inside", role: "lan", addresses: ["10.0.0.1/24"], listeners: ["https", "ssh"] },
   ],
   addresses: [
     { name: "ops", entries: ["198.51.100.0/28"] },

@@ -5,9 +5,9 @@ import { parseModel } from "#server/engine/index.ts";
 import type { DeviceModelInput } from "#server/engine/index.ts";
 
 const base = (): DeviceModelInput => ({
-  schemaVersion: 1,
+  schemaVersion: 2,
   device: { name: "lab-fw" },
-  interfaces: [{ name: "outside", role: "outside", addresses: ["192.0.2.1/24"], listeners: ["https"] }],
+  interfaces: [{ name: "outside", role: "wan", addresses: ["192.0.2.1/24"], listeners: ["https"] }],
   addresses: [{ name: "noc", entries: ["198.51.100.0/26"] }],
   inboundRules: [{ id: "r1", interface: "outside", sources: ["noc"], destinations: ["any"], services: ["https"], action: "allow" }],
   accounts: [{ name: "ops", loginSources: ["noc"], secondFactor: "totp" }],
@@ -25,7 +25,7 @@ describe("a valid document", () => {
     if (!result.ok) return;
     const m = result.model;
     expect(m.device).toEqual({ name: "lab-fw", timezone: "UTC", defaultInbound: "allow", unlistenedPort: "drop" });
-    expect(m.inboundRules[0]).toMatchObject({ schedule: "always", enabled: true, note: "" });
+    expect(m.inboundRules[0]).toMatchObject({ schedule: "all-week", enabled: true, note: "" });
     expect(m.accounts[0]).toMatchObject({ services: [], accessLevel: "full", enabled: true });
     expect(m.schedules).toEqual([]);
     expect(m.operatorNetworks).toEqual([]);
@@ -70,7 +70,7 @@ describe("errors name their path", () => {
   });
 
   test.each([
-    [(d: DeviceModelInput) => (d.schemaVersion = 2 as 1), "schemaVersion"],
+    [(d: DeviceModelInput) => (d.schemaVersion = 3 as 2), "schemaVersion"],
     [(d: DeviceModelInput) => (d.device.timezone = "Mars/Olympus"), "device.timezone"],
     [(d: DeviceModelInput) => (d.interfaces = [{ name: "bad name", addresses: [] }]), "interfaces[0].name"],
     [(d: DeviceModelInput) => (d.interfaces = [{ name: "any", addresses: [] }]), "interfaces[0].name"],
@@ -83,7 +83,7 @@ describe("errors name their path", () => {
     [(d: DeviceModelInput) => (d.services = [{ name: "web2", protocol: "tcp", port: 443, kind: "login" }]), "services[0]"],
     [(d: DeviceModelInput) => (d.services = [{ name: "ssh", protocol: "tcp", port: 2222, kind: "login" }]), "services[0].name"],
     [(d: DeviceModelInput) => (d.services = [{ name: "x", protocol: "tcp", port: 70000, kind: "login" }]), "services[0].port"],
-    [(d: DeviceModelInput) => (d.schedules = [{ name: "always", windows: [] }]), "schedules[0].name"],
+    [(d: DeviceModelInput) => (d.schedules = [{ name: "all-week", windows: [] }]), "schedules[0].name"],
     [(d: DeviceModelInput) => (d.schedules = [{ name: "s", windows: [{ days: ["mon"], start: "24:00", end: "08:00" }] }]), "schedules[0].windows[0].start"],
     [(d: DeviceModelInput) => (d.schedules = [{ name: "s", windows: [{ days: ["monday" as "mon"], start: "08:00", end: "09:00" }] }]), "schedules[0].windows[0].days[0]"],
     [(d: DeviceModelInput) => d.inboundRules?.push({ id: "r1", interface: "outside", sources: ["noc"], destinations: ["any"], services: ["any"], action: "deny" }), "inboundRules[1].id"],

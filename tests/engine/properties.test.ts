@@ -181,7 +181,7 @@ describe("diff and rule analyses", () => {
   test("a rule that is never the first match is reported as shadowed", () => {
     // An exact duplicate placed right after its twin can never match first (common practice, no source: first match wins).
     const model = validated(generateModel(7, SMALL_SIZE).model);
-    const first = model.inboundRules.find((r) => r.enabled && r.schedule === "always");
+    const first = model.inboundRules.find((r) => r.enabled && r.schedule === "all-week");
     if (first === undefined) throw new Error("generator gave no always-on rule");
     const index = model.inboundRules.indexOf(first);
     const twin = { ...first, id: `${first.id}-twin` };

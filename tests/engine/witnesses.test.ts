@@ -60,7 +60,7 @@ function checkWitness(model: DeviceModel, finding: Finding): void {
   const only = (id: string, allWeek: boolean): DeviceModel => ({
     ...model,
     device: { ...model.device, defaultInbound: "deny" },
-    inboundRules: model.inboundRules.filter((r) => r.id === id).map((r) => ({ ...r, action: "allow" as const, ...(allWeek ? { schedule: "always" } : {}) })),
+    inboundRules: model.inboundRules.filter((r) => r.id === id).map((r) => ({ ...r, action: "allow" as const, ...(allWeek ? { schedule: "all-week" } : {}) })),
   });
   switch (finding.code) {
     case "internet-login-exposed":
@@ -162,7 +162,7 @@ describe("Witnesses", () => {
           const t = trace(device, probe);
           const iface = model.interfaces.find((f) => f.name === probe.interface)!;
           const context = JSON.stringify(probe);
-          if (LOGIN.has(t.outcome) && (iface.role === "outside" || iface.role === "dmz") && isNonPrivate(probe.from)) {
+          if (LOGIN.has(t.outcome) && (iface.role === "wan" || iface.role === "dmz") && isNonPrivate(probe.from)) {
             expect(has("internet-login-exposed", `interface:${iface.name}`, `service:${probe.service}`), context).toBe(true);
           }
           if (t.outcome === "answered" && probe.service === "ping" && isNonPrivate(probe.from)) expect(has("internet-ping", `interface:${iface.name}`), context).toBe(true);
@@ -184,11 +184,11 @@ describe("Findings follow arrival (PRODUCT.md §3, layer 1)", () => {
   // An outside interface with IPv4 only; IPv6 lives on the inside. Documentation addresses:
   // RFC 5737 (203.0.113.0/24) and RFC 3849 (2001:db8::/32); inside RFC 1918 / RFC 4193.
   const model = validated({
-    schemaVersion: 1,
+    schemaVersion: 2,
     device: { name: "quayside-edge", timezone: "UTC" },
     interfaces: [
-      { name: "outside", role: "outside", addresses: ["203.0.113.2/24"], listeners: ["https"] },
-      { name: "inside", role: "inside", addresses: ["10.30.0.1/24", "fd00:30::1/64"], listeners: ["https", "ssh"] },
+      { name: "outside", role: "wan", addresses: ["203.0.113.2/24"], listeners: ["https"] },
+      { name: "inside", role: "lan", addresses: ["10.30.0.1/24", "fd00:30::1/64"], listeners: ["https", "ssh"] },
     ],
     addresses: [{ name: "ops-desk", entries: ["10.30.8.0/24"] }],
     inboundRules: [],

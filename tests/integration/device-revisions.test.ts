@@ -1,10 +1,10 @@
 import { randomUUID } from "node:crypto";
 import { afterAll, beforeAll, describe, expect, test } from "vitest";
-import { Organisation, RevisionAnalysisRecord, Site } from "#models/index";
+import { Device, DeviceRevision, Organisation, RevisionAnalysisRecord, Site } from "#models/index";
 import { getDatabase } from "#server/db/database.server";
 import { withQueryTally } from "#server/db/query-log.server";
 import { DeviceRevisions, deviceRevisions, elementCount } from "#server/devices/index";
-import { compileModel, findings, trace } from "#server/engine/index";
+import { compileModel, exposure, findings, trace, type VersionOneModel } from "#server/engine/index";
 import { revisionAnalysisQueue } from "#server/jobs/revision-analysis.server";
 import { createDevice, saveEdit } from "#server/services/devices.server";
 import type { AuditActor } from "#server/services/audit.server";
@@ -23,9 +23,9 @@ const deviceIds: string[] = [];
 /** An invented device with a documentation-range (RFC 5737) outside address. */
 function documentNamed(name: string, outside = "203.0.113.9/24") {
   return {
-    schemaVersion: 1,
+    schemaVersion: 2,
     device: { name },
-    interfaces: [{ name: "outside", role: "outside", addresses: [outside], listeners: ["https", "ssh"] }],
+    interfaces: [{ name: "outside", role: "wan", addresses: [outside], listeners: ["https", "ssh"] }],
     inboundRules: [{ id: "r1", interface: "any", sources: ["any"], destinations: ["any"], services: ["ssh"], action: "deny" }],
     accounts: [{ name: "harbour-ops", secondFactor: "totp" }],
   };
@@ -153,5 +153,50 @@ describe("The device-revision repository", () => {
     expect(cold.tally.count).toBe(2);
     const warm = await withQueryTally(() => repository.current(organisationId));
     expect(warm.tally.count).toBe(1);
+  });
+});
+
+describe("Revisions saved in version 1 of the document", () => {
+  test("A revision stored in version 1 is read as version 2 with the same answers, and the next save writes version 2", async () => {
+    const site = await Site.create({ organisationId, name: "Quay office", customer: "", location: "" });
+    const written = {
+      schemaVersion: 2,
+      device: { name: "quay-v1" },
+      interfaces: [
+        { name: "uplink", role: "wan", addresses: ["203.0.113.20/24"], listeners: ["https", "ssh"] },
+        { name: "oob", role: "management", addresses: ["10.99.0.1/24"], listeners: ["ssh"] },
+      ],
+      inboundRules: [{ id: "r1", interface: "any", sources: ["any"], destinations: ["any"], services: ["ssh"], schedule: "all-week", action: "deny" }],
+      accounts: [{ name: "harbour-ops", secondFactor: "totp" }],
+    };
+    const device = await createDevice(organisationId, site.id, written, actor, "created");
+    const first = (await new DeviceRevisions().find(organisationId, device.id))!;
+    // The same document as the first release wrote it (PRODUCT.md §4: wan was outside,
+    // management was mgmt, the built-in schedule all-week was always). Revisions never change,
+    // so such a row stays in the database; it is inserted here as it was then.
+    const versionOne: VersionOneModel = {
+      ...first.document,
+      schemaVersion: 1,
+      interfaces: first.document.interfaces.map((entry) => ({ ...entry, role: entry.role === "wan" ? "outside" : "mgmt" })),
+      inboundRules: first.document.inboundRules.map((rule) => ({ ...rule, schedule: "always" })),
+    };
+    await DeviceRevision.create({ deviceId: device.id, number: 2, document: versionOne, sharedObjects: first.shared, summary: first.revision.summary, message: "saved by the first release", authorUserId: null, authorEmail: actor.email });
+    await Device.update({ currentRevisionNumber: 2 }, { where: { id: device.id } });
+
+    const read = (await new DeviceRevisions().find(organisationId, device.id))!;
+    expect(read.revision.number).toBe(2);
+    expect(read.document).toEqual(first.document);
+    expect(read.analysis.findings).toEqual(first.analysis.findings);
+    expect(exposure(read.analysis.compiled)).toEqual(exposure(first.analysis.compiled));
+    // The fleet's worst outcome on wan interfaces reads the upgraded roles: https answers with a second factor.
+    const [summary] = await new DeviceRevisions().summariesOf([read.revision]);
+    expect(summary.worstOutsideOutcome).toBe("login-mfa");
+
+    await saveEdit(organisationId, device.id, 2, (document) => ({ ...document, accounts: [...document.accounts, { ...document.accounts[0], name: "harbour-oncall" }] }), actor, "an account added");
+    await revisionAnalysisQueue.idle();
+    const saved = await DeviceRevision.findOne({ where: { deviceId: device.id, number: 3 } });
+    expect(saved?.document.schemaVersion).toBe(2);
+    expect(saved?.document.interfaces.map((entry) => entry.role)).toEqual(["wan", "management"]);
+    expect(saved?.document.inboundRules.map((rule) => rule.schedule)).toEqual(["all-week"]);
   });
 });

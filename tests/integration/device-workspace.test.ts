@@ -129,11 +129,11 @@ async function importDocument(client: TestClient, slug: string, siteId: string, 
 
 /** Invented scenario: a harbour office's edge appliance. Internet side RFC 5737 / RFC 3849, inside RFC 1918 / RFC 4193. */
 const QUAY_EDGE = {
-  schemaVersion: 1,
+  schemaVersion: 2,
   device: { name: "quay-edge", timezone: "UTC" },
   interfaces: [
-    { name: "outside", role: "outside", addresses: ["203.0.113.2/24"], listeners: ["https", "ping"] },
-    { name: "inside", role: "inside", addresses: ["10.20.0.1/24"], listeners: ["https", "ssh"] },
+    { name: "outside", role: "wan", addresses: ["203.0.113.2/24"], listeners: ["https", "ping"] },
+    { name: "inside", role: "lan", addresses: ["10.20.0.1/24"], listeners: ["https", "ssh"] },
   ],
   addresses: [
     { name: "noc-net", entries: ["10.20.30.0/24"] },
@@ -155,7 +155,7 @@ describe("Building a device model through the editor", () => {
     const device = await createDevice(client, slug, siteId, "pier-gw-01", "Europe/Berlin");
     expect(await device.revision()).toBe(1);
     // PRODUCT.md §3 defaults: defaultInbound allow, unlistenedPort drop; top-level arrays [].
-    expect(await device.exported(1)).toEqual(normalised({ schemaVersion: 1, device: { name: "pier-gw-01", timezone: "Europe/Berlin", defaultInbound: "allow", unlistenedPort: "drop" } }));
+    expect(await device.exported(1)).toEqual(normalised({ schemaVersion: 2, device: { name: "pier-gw-01", timezone: "Europe/Berlin", defaultInbound: "allow", unlistenedPort: "drop" } }));
     expect(await fleetDeviceIds(client, slug)).toEqual([device.id]);
 
     // Refusals create nothing: a taken name, a bad time zone, a site of no one.
@@ -174,15 +174,15 @@ describe("Building a device model through the editor", () => {
     const { client, slug, siteId } = await newOrganisationWithSite("ws-elements");
     const device = await createDevice(client, slug, siteId, "pier-gw-01");
 
-    await device.save("interfaces", { intent: "save-interface", original: "", name: "outside", role: "outside", addresses: "203.0.113.2/24\n2001:db8:20::2/64", listeners: ["https", "ping"] });
-    await device.save("interfaces", { intent: "save-interface", name: "inside", role: "inside", addresses: "10.20.0.1/24", listeners: "https\nssh" });
+    await device.save("interfaces", { intent: "save-interface", original: "", name: "outside", role: "wan", addresses: "203.0.113.2/24\n2001:db8:20::2/64", listeners: ["https", "ping"] });
+    await device.save("interfaces", { intent: "save-interface", name: "inside", role: "lan", addresses: "10.20.0.1/24", listeners: "https\nssh" });
     await device.save("addresses", { intent: "save-address", original: "", name: "noc-net", entries: "10.20.30.0/24" });
     await device.save("addresses", { intent: "save-address", name: "vpn-pool", entries: "10.20.40.0/25\nfd20:0:0:40::/64" });
     await device.save("addresses", { intent: "save-address-group", name: "operators", members: "noc-net\nvpn-pool" });
     await device.save("services", { intent: "save-service", name: "webconsole", protocol: "tcp", port: "8443", kind: "login" });
     await device.save("services", { intent: "save-service-group", name: "admin-web", members: "https webconsole" });
     await device.save("schedules", { intent: "save-schedule", name: "support-hours", windows: "mon tue wed thu fri 08:00-17:00" });
-    const rule = { original: "", interface: "outside", destinations: "any", schedule: "always", enabled: "on" };
+    const rule = { original: "", interface: "outside", destinations: "any", schedule: "all-week", enabled: "on" };
     await device.save("rules", { ...rule, intent: "save-rule", sources: "operators", services: "admin-web", action: "allow", note: "" });
     await device.save("rules", { ...rule, intent: "save-rule", interface: "any", sources: "any", services: "any", schedule: "support-hours", action: "deny", note: "final drop" });
     await device.save("accounts", { intent: "save-account", name: "ops-lena", loginSources: "operators", secondFactor: "totp", services: "https\nwebconsole", accessLevel: "full", enabled: "on" });
@@ -191,11 +191,11 @@ describe("Building a device model through the editor", () => {
     expect(built).toBe(14);
 
     const expected = normalised({
-      schemaVersion: 1,
+      schemaVersion: 2,
       device: { name: "pier-gw-01", timezone: "Europe/Berlin", defaultInbound: "deny", unlistenedPort: "reset" },
       interfaces: [
-        { name: "outside", role: "outside", addresses: ["203.0.113.2/24", "2001:db8:20::2/64"], listeners: ["https", "ping"] },
-        { name: "inside", role: "inside", addresses: ["10.20.0.1/24"], listeners: ["https", "ssh"] },
+        { name: "outside", role: "wan", addresses: ["203.0.113.2/24", "2001:db8:20::2/64"], listeners: ["https", "ping"] },
+        { name: "inside", role: "lan", addresses: ["10.20.0.1/24"], listeners: ["https", "ssh"] },
       ],
       services: [{ name: "webconsole", protocol: "tcp", port: 8443, kind: "login" }],
       addresses: [
@@ -206,7 +206,7 @@ describe("Building a device model through the editor", () => {
       serviceGroups: [{ name: "admin-web", members: ["https", "webconsole"] }],
       schedules: [{ name: "support-hours", windows: [{ days: ["mon", "tue", "wed", "thu", "fri"], start: "08:00", end: "17:00" }] }],
       inboundRules: [
-        { id: "r1", interface: "outside", sources: ["operators"], destinations: ["any"], services: ["admin-web"], schedule: "always", action: "allow", enabled: true, note: "" },
+        { id: "r1", interface: "outside", sources: ["operators"], destinations: ["any"], services: ["admin-web"], schedule: "all-week", action: "allow", enabled: true, note: "" },
         { id: "r2", interface: "any", sources: ["any"], destinations: ["any"], services: ["any"], schedule: "support-hours", action: "deny", enabled: true, note: "final drop" },
       ],
       accounts: [{ name: "ops-lena", loginSources: ["operators"], secondFactor: "totp", services: ["https", "webconsole"], accessLevel: "full", enabled: true }],
@@ -216,13 +216,13 @@ describe("Building a device model through the editor", () => {
 
     // Renames follow every reference.
     await device.save("addresses", { intent: "save-address", original: "noc-net", name: "noc-core", entries: "10.20.30.0/24" });
-    await device.save("interfaces", { intent: "save-interface", original: "outside", name: "uplink", role: "outside", addresses: "203.0.113.2/24\n2001:db8:20::2/64", listeners: ["https", "ping"] });
+    await device.save("interfaces", { intent: "save-interface", original: "outside", name: "uplink", role: "wan", addresses: "203.0.113.2/24\n2001:db8:20::2/64", listeners: ["https", "ping"] });
     await device.save("services", { intent: "save-service", original: "webconsole", name: "console-alt", protocol: "tcp", port: "9443", kind: "login" });
     await device.save("schedules", { intent: "save-schedule", original: "support-hours", name: "office-hours", windows: "mon tue wed thu fri 07:30-18:00\nsat 09:00-12:00" });
     const renamed = await device.exported(built + 4);
     expect(renamed.addressGroups).toEqual([{ name: "operators", members: ["noc-core", "vpn-pool"] }]);
     expect(renamed.inboundRules.map((entry) => [entry.interface, entry.schedule])).toEqual([
-      ["uplink", "always"],
+      ["uplink", "all-week"],
       ["any", "office-hours"],
     ]);
     expect(renamed.serviceGroups).toEqual([{ name: "admin-web", members: ["https", "console-alt"] }]);
@@ -238,7 +238,7 @@ describe("Building a device model through the editor", () => {
     await device.save("services", { intent: "delete-service-group", name: "admin-web" });
     await device.save("accounts", { intent: "delete-account", name: "ops-lena" });
     await device.save("services", { intent: "delete-service", name: "console-alt" });
-    await device.save("rules", { ...rule, intent: "save-rule", original: "r2", interface: "any", sources: "any", services: "any", schedule: "always", action: "deny", note: "final drop" });
+    await device.save("rules", { ...rule, intent: "save-rule", original: "r2", interface: "any", sources: "any", services: "any", schedule: "all-week", action: "deny", note: "final drop" });
     await device.save("schedules", { intent: "delete-schedule", name: "office-hours" });
     await device.save("operator-networks", { intent: "save-operator-networks", operatorNetworks: "" });
     await device.save("addresses", { intent: "delete-address-group", name: "operators" });
@@ -248,9 +248,9 @@ describe("Building a device model through the editor", () => {
     expect(last).toBe(built + 4 + 11);
     expect(await device.exported(last)).toEqual(
       normalised({
-        schemaVersion: 1,
+        schemaVersion: 2,
         device: { name: "pier-gw-01", timezone: "Europe/Berlin", defaultInbound: "deny", unlistenedPort: "reset" },
-        interfaces: [{ name: "inside", role: "inside", addresses: ["10.20.0.1/24"], listeners: ["https", "ssh"] }],
+        interfaces: [{ name: "inside", role: "lan", addresses: ["10.20.0.1/24"], listeners: ["https", "ssh"] }],
         inboundRules: [{ id: "r2", interface: "any", sources: ["any"], destinations: ["any"], services: ["any"], action: "deny", note: "final drop" }],
       }),
     );
@@ -293,9 +293,9 @@ describe("Inbound rule order", () => {
     expect(duplicated.inboundRules.map((entry) => entry.id)).toEqual(["r1", "r2", "r5", "r3", "r4"]);
     expect({ ...duplicated.inboundRules[2], id: "r2" }).toEqual(duplicated.inboundRules[1]);
 
-    await device.save("rules", { intent: "save-rule", original: "", id: "vendor-window", position: "2", interface: "outside", sources: "partner-hq", destinations: "any", services: "ssh", schedule: "always", action: "allow", enabled: "on", note: "temporary" });
+    await device.save("rules", { intent: "save-rule", original: "", id: "vendor-window", position: "2", interface: "outside", sources: "partner-hq", destinations: "any", services: "ssh", schedule: "all-week", action: "allow", enabled: "on", note: "temporary" });
     expect(await order(5)).toEqual(["r1", "vendor-window", "r2", "r5", "r3", "r4"]);
-    await device.save("rules", { intent: "save-rule", original: "r3", interface: "outside", sources: "any", destinations: "any", services: "ping", position: "1", schedule: "always", action: "deny", enabled: "on", note: "no ping" });
+    await device.save("rules", { intent: "save-rule", original: "r3", interface: "outside", sources: "any", destinations: "any", services: "ping", position: "1", schedule: "all-week", action: "deny", enabled: "on", note: "no ping" });
     expect(await order(6)).toEqual(["r3", "r1", "vendor-window", "r2", "r5", "r4"]);
 
     await device.save("rules", { intent: "disable-rule", ruleId: "r5" });
@@ -375,7 +375,7 @@ describe("Concurrent edits and refused edits", () => {
     expect((await device.edit("interfaces", { intent: "delete-interface", name: "outside" })).status).toBe(409);
 
     // PRODUCT.md §3: an unknown name is a validation error naming the path.
-    const unknown = await device.edit("rules", { intent: "save-rule", position: "1", interface: "outside", sources: "noc", destinations: "any", services: "ssh", schedule: "always", action: "allow", enabled: "on", note: "" });
+    const unknown = await device.edit("rules", { intent: "save-rule", position: "1", interface: "outside", sources: "noc", destinations: "any", services: "ssh", schedule: "all-week", action: "allow", enabled: "on", note: "" });
     expect(unknown.status).toBe(400);
     expect(plain(unknown.text)).toContain('inboundRules[0].sources[0]: unknown address "noc"');
 
@@ -420,7 +420,7 @@ describe("Accounts name login services only", () => {
     const page = await client.get(`${device.path}/model/accounts?edit=ops-lena`);
     expect(page.status).toBe(200);
     const offered = [...servicesFieldset(page.text).matchAll(/name="services" value="([^"]+)"/g)].map((match) => match[1]);
-    expect(offered).toEqual(["https", "http", "ssh", "telnet"]);
+    expect(offered).toEqual(["ssh", "https", "http", "telnet"]); // PRODUCT.md §3: the catalogue's login services, in its order
 
     const refused = await device.edit("accounts", { ...account, services: ["ssh", "ping"] });
     expect(refused.status).toBe(400);
@@ -507,9 +507,9 @@ describe("Import and export", () => {
       expect(notJson.status).toBe(400);
       expect(plain(notJson.text)).toContain("This is not JSON");
 
-      const version2 = await upload(intent, JSON.stringify({ ...QUAY_EDGE, schemaVersion: 2 }));
-      expect(version2.status).toBe(400);
-      expect(plain(version2.text)).toMatch(/schemaVersion<\/span>: must be 1/);
+      const version3 = await upload(intent, JSON.stringify({ ...QUAY_EDGE, schemaVersion: 3 }));
+      expect(version3.status).toBe(400);
+      expect(plain(version3.text)).toMatch(/schemaVersion<\/span>: 3 is not a version Sallyport reads: it reads 1 and 2/);
 
       const unknown = await upload(intent, JSON.stringify({ ...QUAY_EDGE, inboundRules: [{ ...QUAY_EDGE.inboundRules[0], sources: ["noc"] }] }));
       expect(unknown.status).toBe(400);
@@ -538,6 +538,26 @@ describe("Import and export", () => {
     expect((await postMultipart(client, `/o/${slug}/devices/import`, { intent: "import", target: "site:00000000-0000-4000-8000-000000000000", file: new Blob([JSON.stringify(QUAY_EDGE)]) })).status).toBe(404);
 
     expect(await fleetDeviceIds(client, slug)).toEqual([]);
+  });
+
+  test("A version-1 document is imported as version 2: the preview says so, and the export has the new names", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-version-1");
+    // QUAY_EDGE as the first release wrote it (PRODUCT.md §4): roles outside and inside, the built-in schedule always.
+    const versionOne = {
+      ...QUAY_EDGE,
+      schemaVersion: 1,
+      interfaces: QUAY_EDGE.interfaces.map((entry) => ({ ...entry, role: entry.role === "wan" ? "outside" : "inside" })),
+      inboundRules: QUAY_EDGE.inboundRules.map((rule) => ({ ...rule, schedule: "always" })),
+    };
+    const preview = await postMultipart(client, `/o/${slug}/devices/import`, { intent: "preview", target: `site:${siteId}`, file: new Blob([JSON.stringify(versionOne)], { type: "application/json" }) });
+    expect(preview.status).toBe(200);
+    expect(plain(preview.text)).toContain("Written in version 1 of the model document; read and saved as version 2 (roles outside → wan, inside → lan, mgmt → management; schedule always → all-week)");
+    const device = await importDocument(client, slug, siteId, versionOne);
+    const exported = await device.exported(1);
+    expect(exported).toEqual(normalised(QUAY_EDGE));
+    expect(exported.schemaVersion).toBe(2);
+    expect(exported.interfaces.map((entry) => entry.role)).toEqual(["wan", "lan"]);
+    expect(new Set(exported.inboundRules.map((rule) => rule.schedule))).toEqual(new Set(["all-week"]));
   });
 
   test("Importing over an existing device makes a new revision; a stale or same-named import is refused", async () => {

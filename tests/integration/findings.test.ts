@@ -27,11 +27,11 @@ async function demoDeviceId(client: TestClient, name: string): Promise<string> {
 // An invented gateway: a factory-default account name with no second factor, narrow login
 // sources, a final drop. Names and addresses are invented (RFC 5737, RFC 1918).
 const TIDEWATER = {
-  schemaVersion: 1,
+  schemaVersion: 2,
   device: { name: "tidewater-gw", timezone: "UTC" },
   interfaces: [
-    { name: "outside", role: "outside", addresses: ["192.0.2.10/24"], listeners: [] },
-    { name: "mgmt", role: "mgmt", addresses: ["10.77.0.1/24"], listeners: ["https", "ssh"] },
+    { name: "outside", role: "wan", addresses: ["192.0.2.10/24"], listeners: [] },
+    { name: "mgmt", role: "management", addresses: ["10.77.0.1/24"], listeners: ["https", "ssh"] },
   ],
   addresses: [{ name: "ops-lan", entries: ["10.77.0.0/24"] }],
   inboundRules: [

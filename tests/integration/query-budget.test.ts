@@ -10,11 +10,11 @@ const UUID = "[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}";
 
 /** An invented device: documentation addresses (RFC 5737) outside, RFC 1918 inside. */
 const TIDEWATER_EDGE = {
-  schemaVersion: 1,
+  schemaVersion: 2,
   device: { name: "tidewater-edge", timezone: "Europe/Lisbon" },
   interfaces: [
-    { name: "outside", role: "outside", addresses: ["198.51.100.10/24"], listeners: ["https", "ping"] },
-    { name: "inside", role: "inside", addresses: ["10.44.0.1/24"], listeners: ["https", "ssh"] },
+    { name: "outside", role: "wan", addresses: ["198.51.100.10/24"], listeners: ["https", "ping"] },
+    { name: "inside", role: "lan", addresses: ["10.44.0.1/24"], listeners: ["https", "ssh"] },
   ],
   addresses: [{ name: "ops-desk", entries: ["10.44.8.0/24"] }],
   schedules: [{ name: "weekdays", windows: [{ days: ["mon", "tue", "wed", "thu", "fri"], start: "08:00", end: "18:00" }] }],

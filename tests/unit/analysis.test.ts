@@ -92,7 +92,7 @@ describe("CIDR parsing and sizes", () => {
       expect(cellsPerRank(buildGrid(IPV4_GRID, [[bad]])), bad).toEqual([0, 0, 0, 0, 0, 0]);
     }
     // The reach page's source address goes through the engine too.
-    const parsed = parseModel({ schemaVersion: 1, device: { name: "edge" }, interfaces: [{ name: "outside", addresses: ["192.0.2.1/24"] }] });
+    const parsed = parseModel({ schemaVersion: 2, device: { name: "edge" }, interfaces: [{ name: "outside", addresses: ["192.0.2.1/24"] }] });
     if (!parsed.ok) throw new Error(JSON.stringify(parsed.errors));
     const answer = answerReach(compileModel(parsed.model), { from: "010.0.0.1", at: "" });
     expect(answer.ok).toBe(false);

@@ -10,9 +10,9 @@ import { EMPTY_LIBRARY, validateDocument, type ModelDocument } from "#server/wor
 function document(): ModelDocument {
   const validated = validateDocument(
     {
-      schemaVersion: 1,
+      schemaVersion: 2,
       device: { name: "quay-edge" },
-      interfaces: [{ name: "inside", role: "inside", addresses: ["10.20.0.1/24"], listeners: ["https", "ssh", "webconsole"] }],
+      interfaces: [{ name: "inside", role: "lan", addresses: ["10.20.0.1/24"], listeners: ["https", "ssh", "webconsole"] }],
       services: [
         { name: "webconsole", protocol: "tcp", port: 8443, kind: "login" },
         { name: "syslog-in", protocol: "udp", port: 514, kind: "other" },

@@ -22,6 +22,7 @@ import {
   emptySeverityCounts,
   findings,
   INTERFACE_ROLES,
+  VERSION_1_ROLES,
   isOutcome,
   isSeverity,
   LAYERS,
@@ -46,9 +47,9 @@ import { ROLES } from "#models/roles";
 import { SHARED_OBJECT_KINDS } from "#models/shared-address-object";
 
 const lab = (overrides: Partial<DeviceModelInput> = {}): DeviceModelInput => ({
-  schemaVersion: 1,
+  schemaVersion: 2,
   device: { name: "lab-gw" },
-  interfaces: [{ name: "uplink", role: "outside", addresses: ["192.0.2.1/24", "2001:db8::1/64"], listeners: ["ssh", "https", "snmp", "ping"] }],
+  interfaces: [{ name: "uplink", role: "wan", addresses: ["192.0.2.1/24", "2001:db8::1/64"], listeners: ["ssh", "https", "snmp", "ping"] }],
   accounts: [{ name: "duty-engineer", secondFactor: "none" }],
   ...overrides,
 });
@@ -138,15 +139,18 @@ describe("Severities", () => {
 });
 
 describe("The device model document's words", () => {
-  test("Interface roles are the brief's five roles, in its order, under their version-1 names", () => {
-    // PRODUCT.md §4 lists wan, lan, dmz, management, other (WAN/LAN as RFC 7084 names a router's
-    // interfaces, DMZ as NIST SP 800-41); version-1 documents call them outside, inside, dmz,
-    // mgmt, other, which is what the engine reads today.
-    const versionOneName = { wan: "outside", lan: "inside", dmz: "dmz", management: "mgmt", other: "other" };
-    expect(INTERFACE_ROLES).toEqual(Object.values(versionOneName));
+  test("Interface roles are the brief's five roles, in its order; version 1's words are read as them", () => {
+    // PRODUCT.md §4 (version 2): wan, lan, dmz, management, other — WAN/LAN as RFC 7084 names a
+    // router's interfaces, DMZ as NIST SP 800-41. Version 1 said outside, inside, dmz, mgmt, other.
+    expect(INTERFACE_ROLES).toEqual(["wan", "lan", "dmz", "management", "other"]);
+    expect(VERSION_1_ROLES).toEqual({ outside: "wan", inside: "lan", dmz: "dmz", mgmt: "management", other: "other" });
     for (const role of INTERFACE_ROLES) expect(parseModel(lab({ interfaces: [{ name: "uplink", role }] })).ok).toBe(true);
     const refused = parseModel({ ...lab(), interfaces: [{ name: "uplink", role: "perimeter" }] });
     expect(refused.ok ? [] : refused.errors.map((issue) => issue.path)).toEqual(["interfaces[0].role"]);
+    for (const [before, after] of Object.entries(VERSION_1_ROLES)) {
+      const read = parseModel({ ...lab(), schemaVersion: 1, interfaces: [{ name: "uplink", role: before }] });
+      expect(read.ok ? read.model.interfaces[0].role : read.errors, before).toBe(after);
+    }
   });
 
   test("Schedule days run Monday to Sunday", () => {
@@ -177,7 +181,7 @@ describe("The device model document's words", () => {
     const elements = findings(
       compiled(
         lab({
-          interfaces: [{ name: "uplink", role: "outside", addresses: ["192.0.2.1/24"], listeners: ["http", "ssh"] }],
+          interfaces: [{ name: "uplink", role: "wan", addresses: ["192.0.2.1/24"], listeners: ["http", "ssh"] }],
           addresses: [{ name: "spare-net", entries: ["198.51.100.0/28"] }],
           addressGroups: [{ name: "spare-group", members: ["any4"] }],
           services: [{ name: "spare-svc", protocol: "tcp", port: 8443, kind: "login" }],

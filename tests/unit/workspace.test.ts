@@ -6,6 +6,7 @@ import fc from "fast-check";
 import { describe, expect, test } from "vitest";
 import { generateModel, type ModelSize } from "#server/engine/testing/generate-model.ts";
 import {
+  currentRevision,
   deleteNamed,
   deleteRule,
   diffDocuments,
@@ -36,11 +37,11 @@ function normalised(input: unknown, library: SharedLibrary = EMPTY_LIBRARY): Mod
 
 /** Invented scenario: an edge appliance at a harbour office. Internet side RFC 5737/3849, inside RFC 1918/4193. */
 const EDGE = {
-  schemaVersion: 1,
+  schemaVersion: 2,
   device: { name: "quay-edge-01", timezone: "Europe/Berlin", defaultInbound: "allow", unlistenedPort: "drop" },
   interfaces: [
-    { name: "outside", role: "outside", addresses: ["203.0.113.2/24", "2001:db8:20::2/64"], listeners: ["https", "ping"] },
-    { name: "inside", role: "inside", addresses: ["10.20.0.1/24", "fd20:0:0:1::1/64"], listeners: ["https", "ssh", "webconsole"] },
+    { name: "outside", role: "wan", addresses: ["203.0.113.2/24", "2001:db8:20::2/64"], listeners: ["https", "ping"] },
+    { name: "inside", role: "lan", addresses: ["10.20.0.1/24", "fd20:0:0:1::1/64"], listeners: ["https", "ssh", "webconsole"] },
   ],
   services: [{ name: "webconsole", protocol: "tcp", port: 8443, kind: "login" }],
   addresses: [
@@ -68,7 +69,7 @@ const EDGE = {
 
 const base = (): ModelDocument => normalised(EDGE);
 const ruleIds = (document: ModelDocument) => document.inboundRules.map((rule) => rule.id);
-const rule = (id: string): ModelDocument["inboundRules"][number] => ({ id, interface: "outside", sources: ["partner-hq"], destinations: ["any"], services: ["ping"], schedule: "always", action: "allow", enabled: true, note: "" });
+const rule = (id: string): ModelDocument["inboundRules"][number] => ({ id, interface: "outside", sources: ["partner-hq"], destinations: ["any"], services: ["ping"], schedule: "all-week", action: "allow", enabled: true, note: "" });
 
 function refusal(run: () => unknown): EditError {
   try {
@@ -172,7 +173,7 @@ describe("Named elements: add, change, rename, delete", () => {
     // PRODUCT.md §3: address objects and address groups share one name space; so do services and service groups.
     expect(refusal(() => upsertNamed(document, "addresses", null, { name: "operators", entries: ["10.1.0.0/16"] })).status).toBe(409);
     expect(refusal(() => upsertNamed(document, "serviceGroups", null, { name: "webconsole", members: ["ssh"] })).status).toBe(409);
-    expect(refusal(() => upsertNamed(document, "interfaces", null, { name: "inside", role: "inside", addresses: [], listeners: [] })).status).toBe(409);
+    expect(refusal(() => upsertNamed(document, "interfaces", null, { name: "inside", role: "lan", addresses: [], listeners: [] })).status).toBe(409);
   });
 
   test("Changing an element keeps its place in its list", () => {
@@ -326,9 +327,9 @@ const LIBRARY: SharedLibrary = {
 
 describe("Validation with the organisation's shared objects", () => {
   const usingShared = {
-    schemaVersion: 1,
+    schemaVersion: 2,
     device: { name: "pier-gw" },
-    interfaces: [{ name: "mgmt", role: "mgmt", addresses: ["10.70.0.1/24"], listeners: ["ssh"] }],
+    interfaces: [{ name: "mgmt", role: "management", addresses: ["10.70.0.1/24"], listeners: ["ssh"] }],
     inboundRules: [{ id: "r1", interface: "mgmt", sources: ["remote-ops"], destinations: ["any"], services: ["ssh"], action: "allow" }],
     accounts: [{ name: "ops-amara", loginSources: ["jump-hosts"], secondFactor: "totp" }],
   };
@@ -380,7 +381,7 @@ describe("Validation with the organisation's shared objects", () => {
   });
 
   test("Defaults become explicit and a CIDR with host bits is normalised with a warning", () => {
-    const validated = validateDocument({ schemaVersion: 1, device: { name: "tiny" }, addresses: [{ name: "noc", entries: ["10.20.30.7/24"] }], operatorNetworks: ["noc"] }, EMPTY_LIBRARY);
+    const validated = validateDocument({ schemaVersion: 2, device: { name: "tiny" }, addresses: [{ name: "noc", entries: ["10.20.30.7/24"] }], operatorNetworks: ["noc"] }, EMPTY_LIBRARY);
     expect(validated.ok).toBe(true);
     if (!validated.ok) return;
     // PRODUCT.md §3 defaults: timezone UTC, defaultInbound allow, unlistenedPort drop; top-level arrays [].
@@ -393,23 +394,34 @@ describe("Validation with the organisation's shared objects", () => {
 
   test("Not an object at all is an error, not an exception", () => {
     for (const input of [null, 42, "text", undefined]) expect(validateDocument(input, EMPTY_LIBRARY).ok).toBe(false);
-    const wrongVersion = validateDocument({ schemaVersion: 2, device: { name: "x" } }, EMPTY_LIBRARY);
+    const wrongVersion = validateDocument({ schemaVersion: 3, device: { name: "x" } }, EMPTY_LIBRARY);
     expect(wrongVersion.ok).toBe(false);
     if (!wrongVersion.ok) expect(wrongVersion.errors[0].path).toBe("schemaVersion");
+  });
+
+  test("A stored version-2 revision is used as it is; a version-1 one is upgraded with the shared objects it names", () => {
+    const library: SharedLibrary = { addresses: [{ name: "jump-hosts", entries: ["10.70.1.0/28"] }], addressGroups: [] };
+    const current = normalised({ schemaVersion: 2, device: { name: "tiny" }, interfaces: [{ name: "oob", role: "management", addresses: ["10.70.0.1/24"] }], operatorNetworks: ["jump-hosts"] }, library);
+    const same = currentRevision(current, library);
+    expect(same.document).toBe(current);
+    expect(same.shared).toBe(library);
+    // PRODUCT.md §4: version 1 called the management role mgmt.
+    const stored = { ...current, schemaVersion: 1 as const, interfaces: current.interfaces.map((entry) => ({ ...entry, role: "mgmt" as const })) };
+    expect(currentRevision(stored, library)).toEqual({ document: current, shared: library });
   });
 
   // BUG (reported): sharedObjectsUsedBy (server/workspace/document.ts, referencedAddressNames) iterates
   // `account.loginSources` without a default, so a valid document that omits it throws a TypeError
   // (the import page answers 500). PRODUCT.md §3: an account's loginSources default to [] (anywhere).
   test("An account may omit its login sources (default: anywhere)", () => {
-    const validated = validateDocument({ schemaVersion: 1, device: { name: "tiny" }, accounts: [{ name: "ops-lena", secondFactor: "totp" }] }, EMPTY_LIBRARY);
+    const validated = validateDocument({ schemaVersion: 2, device: { name: "tiny" }, accounts: [{ name: "ops-lena", secondFactor: "totp" }] }, EMPTY_LIBRARY);
     expect(validated.ok).toBe(true);
   });
 
   // BUG (reported): the same loop spreads `rule.sources`, `group.members` and iterates
   // `inboundRules` unchecked, so a malformed document throws instead of returning path errors.
   test("A malformed document gets path errors instead of an exception", () => {
-    const validated = validateDocument({ schemaVersion: 1, device: { name: "tiny" }, inboundRules: [{ id: "r1", action: "allow" }] }, EMPTY_LIBRARY);
+    const validated = validateDocument({ schemaVersion: 2, device: { name: "tiny" }, inboundRules: [{ id: "r1", action: "allow" }] }, EMPTY_LIBRARY);
     expect(validated.ok).toBe(false);
   });
 
@@ -418,7 +430,7 @@ describe("Validation with the organisation's shared objects", () => {
   // the export (effectiveDocument(document, shared)) then differs from what was analysed.
   test("The recorded shared objects are the normalised values the engine analysed", () => {
     const library = { addresses: [{ name: "jump-hosts", entries: ["10.70.1.7/28"] }], addressGroups: [] };
-    const validated = validateDocument({ schemaVersion: 1, device: { name: "tiny" }, operatorNetworks: ["jump-hosts"] }, library);
+    const validated = validateDocument({ schemaVersion: 2, device: { name: "tiny" }, operatorNetworks: ["jump-hosts"] }, library);
     expect(validated.ok).toBe(true);
     if (!validated.ok) return;
     expect(effectiveDocument(validated.document, validated.shared)).toEqual(validated.effective);

@@ -3,12 +3,12 @@ import { useMemo } from "react";
 import { useNavigate } from "react-router";
 import type { TraceResult } from "#server/engine/trace";
 import { OUTCOME_LABELS, OutcomeChip } from "../outcome";
-import { isOutcome, LAYERS, type Layer } from "#server/engine/vocabulary";
+import { isOutcome, LAYERS, type InterfaceRole, type Layer } from "#server/engine/vocabulary";
 import { cx } from "../ui/cx";
 import { LAYER_TITLES, outcomeSentence } from "#app/utils/trace-words";
 
 export type CanvasModel = {
-  interfaces: Array<{ name: string; role: string; addresses: string[]; listeners: string[] }>;
+  interfaces: Array<{ name: string; role: InterfaceRole; addresses: string[]; listeners: string[] }>;
   rules: Array<{ id: string; position: number; action: string; enabled: boolean; interface: string; summary: string }>;
   defaultInbound: string;
   unlistenedPort: string;

@@ -3,7 +3,7 @@ import { SortableContext, sortableKeyboardCoordinates, useSortable, verticalList
 import { CSS } from "@dnd-kit/utilities";
 import { useState } from "react";
 import { Link, useSubmit } from "react-router";
-import { ALWAYS_SCHEDULE, ANY_INTERFACE, type RuleAction } from "#server/engine/vocabulary";
+import { ALL_WEEK_SCHEDULE, ANY_INTERFACE, type RuleAction } from "#server/engine/vocabulary";
 import type { ModelDocument } from "#server/workspace/document";
 import { Badge } from "../ui/card";
 import { cx } from "../ui/cx";
@@ -48,7 +48,7 @@ function RuleRow({ rule, position, count, props }: { rule: Rule; position: numbe
           <code className="font-semibold">{rule.id}</code>
           <Badge tone={rule.action === "allow" ? "success" : "danger"}>{rule.action}</Badge>
           {!rule.enabled ? <Badge>disabled</Badge> : null}
-          {rule.schedule !== ALWAYS_SCHEDULE ? <Badge tone="brass">schedule {rule.schedule}</Badge> : null}
+          {rule.schedule !== ALL_WEEK_SCHEDULE ? <Badge tone="brass">schedule {rule.schedule}</Badge> : null}
           <span className="text-ink-muted">on {rule.interface}</span>
         </div>
         <p className="mt-1 font-mono text-xs break-words text-ink-muted">
@@ -161,8 +161,8 @@ export function RulesSection(props: SectionEditorProps) {
               error={errors.services}
               hint={<NameHint label="Services (and any)" names={[...props.names.services.map((service) => service.name), ...props.names.serviceGroups]} />}
             />
-            <SelectField label="Schedule" name="schedule" defaultValue={values.schedule ?? editing?.schedule ?? ALWAYS_SCHEDULE} error={errors.schedule}>
-              <option value={ALWAYS_SCHEDULE}>{ALWAYS_SCHEDULE}</option>
+            <SelectField label="Schedule" name="schedule" defaultValue={values.schedule ?? editing?.schedule ?? ALL_WEEK_SCHEDULE} error={errors.schedule}>
+              <option value={ALL_WEEK_SCHEDULE}>{ALL_WEEK_SCHEDULE}</option>
               {props.names.schedules.map((name) => (
                 <option key={name} value={name}>
                   {name}

@@ -1,8 +1,9 @@
 import {
   ACCESS_LEVELS,
-  INTERFACE_ROLES,
+  ALL_WEEK_SCHEDULE,
   PORT_PROTOCOLS,
   type CustomServiceKind,
+  type InterfaceRole,
   type RuleAction,
   type SecondFactor,
   type UnlistenedPortAction,
@@ -27,6 +28,7 @@ import {
   valuesFor,
   type EditorProps,
 } from "./editor-kit";
+import { ListenersByKind, ListenerToggles, type ListedService } from "./listener-toggles";
 import { RulesSection } from "./rules-section";
 import type { DeviceSection } from "./sections";
 import type { ReactNode } from "react";
@@ -38,6 +40,18 @@ const SERVICE_KIND_LABELS: Record<CustomServiceKind, string> = {
   login: "login (presents a login page or banner)",
   other: "other (answers without a login)",
 };
+
+// WAN and LAN as RFC 7084 names a router's interfaces, DMZ as NIST SP 800-41 (PRODUCT.md §4).
+const INTERFACE_ROLE_LABELS: Record<InterfaceRole, string> = {
+  wan: "wan — toward the internet or another party",
+  lan: "lan — the organisation's own network",
+  dmz: "dmz — public-facing servers, apart from the lan",
+  management: "management — reserved for administering devices",
+  other: "other",
+};
+
+/** Roles whose interfaces outsiders can reach: the internet-login-exposed finding looks at these. */
+const OUTWARD_ROLES: ReadonlySet<InterfaceRole> = new Set(["wan", "dmz"]);
 
 const SECOND_FACTOR_LABELS: Record<SecondFactor, string> = {
   totp: "TOTP (RFC 6238)",
@@ -61,7 +75,7 @@ export type SectionEditorProps = EditorProps & {
   sites: Array<{ id: string; name: string }>;
   names: {
     interfaces: string[];
-    services: Array<{ name: string; kind: string }>;
+    services: ListedService[];
     serviceGroups: string[];
     addresses: string[];
     sharedAddresses: string[];
@@ -182,9 +196,9 @@ function InterfacesSection(props: SectionEditorProps) {
           deleteIntent="delete-interface"
           columns={[
             { header: "Interface", cell: (item) => item.name, className: "font-mono font-medium" },
-            { header: "Role", cell: (item) => <Badge tone={item.role === "outside" ? "brass" : "neutral"}>{item.role}</Badge> },
+            { header: "Role", cell: (item) => <Badge tone={OUTWARD_ROLES.has(item.role) ? "brass" : "neutral"}>{item.role}</Badge> },
             { header: "Addresses", cell: (item) => item.addresses.join(", ") || "—", className: "font-mono text-xs" },
-            { header: "Listeners", cell: (item) => item.listeners.join(", ") || <span className="text-ink-faint">none</span>, className: "text-xs" },
+            { header: "Listeners", cell: (item) => <ListenersByKind listeners={item.listeners} services={props.names.services} />, className: "text-xs" },
           ]}
         />
       )}
@@ -193,17 +207,15 @@ function InterfacesSection(props: SectionEditorProps) {
           <EditorForm intent="save-interface" baseRevision={props.baseRevision} className="space-y-4" label="Interface">
             <input type="hidden" name="original" value={editing?.name ?? ""} />
             <TextField label="Name" name="name" defaultValue={values.name ?? editing?.name} error={errors.name} maxLength={63} />
-            <SelectField label="Role" name="role" defaultValue={values.role ?? editing?.role ?? "inside"} error={errors.role}>
-              <WordOptions words={INTERFACE_ROLES} />
+            <SelectField label="Role" name="role" defaultValue={values.role ?? editing?.role ?? "lan"} error={errors.role}>
+              <LabelledOptions labels={INTERFACE_ROLE_LABELS} />
             </SelectField>
             <TextAreaField label="Addresses" name="addresses" defaultValue={listText(values, "addresses", editing?.addresses)} error={errors.addresses} hint="One per line, with prefix length: 192.0.2.1/24, 2001:db8:1::1/64." />
-            <CheckboxGroup
-              legend="Listeners (management services answering on this interface)"
-              name="listeners"
-              options={props.names.services.map((service) => ({ value: service.name, label: service.name }))}
+            <ListenerToggles
+              services={props.names.services}
               checked={checkedList(values, "listeners", editing?.listeners, submitted)}
               error={errors.listeners}
-              hint="Listen only where administrators connect; prefer https and ssh to http and telnet."
+              hint="The management services answering on this interface. Listen only where administrators connect; prefer https and ssh to http and telnet."
             />
             <SaveButton>{editing ? "Save interface" : "Add interface"}</SaveButton>
           </EditorForm>
@@ -383,7 +395,7 @@ function SchedulesSection(props: SectionEditorProps) {
   return (
     <div className="grid gap-6 xl:grid-cols-[1fr_26rem]">
       {items.length === 0 ? (
-        <EmptyState title="No schedules">Rules apply at all times (the built-in schedule “always”) unless limited to a schedule, such as a support window.</EmptyState>
+        <EmptyState title="No schedules">Rules apply at all times (the built-in schedule “{ALL_WEEK_SCHEDULE}”) unless limited to a schedule, such as a support window.</EmptyState>
       ) : (
         <ElementTable
           props={props}

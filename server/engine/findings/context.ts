@@ -310,6 +310,8 @@ export class FindingContext {
   /** A probe on the interface from `sources` that no enabled rule matches, so the device default decides. */
   defaultActionWitness(iface: number, sources: AddressSet): WitnessProbe | undefined {
     const engine = this.engine;
+    // Of the first such probe per destination and service, the one with the most exposed outcome shows best what the default lets through.
+    let best: { probe: WitnessProbe; rank: number } | undefined;
     for (const { iface: arrival, to } of this.arrivals) {
       if (arrival !== iface) continue;
       const family = engine.addresses[to].family;
@@ -318,11 +320,15 @@ export class FindingContext {
         for (let slice = 0; slice < engine.week.slices.length; slice++) {
           const rules = engine.rulePartitionAt(iface, to, c.index, slice);
           const unmatched = witnessSource(intersect(engine.domains[family].rangesWhere(rules.owner, -1), rangesOf(sources, family)), family);
-          if (unmatched !== undefined) return this.probe(iface, to, c.index, family, unmatched, slice);
+          if (unmatched === undefined) continue;
+          const rank = engine.lookup(engine.outcomeOf(iface, to, c.index, slice), unmatched);
+          if (best === undefined || rank > best.rank) best = { probe: this.probe(iface, to, c.index, family, unmatched, slice), rank };
+          break;
         }
+        if (best !== undefined && best.rank === OUTCOMES.length - 1) return best.probe;
       }
     }
-    return undefined;
+    return best?.probe;
   }
 
   /** A probe from the set to a login service (the first arrival of a family it has); undefined when no arrival fits. */

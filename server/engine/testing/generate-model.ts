@@ -3,8 +3,8 @@
 // addresses from RFC 1918 / RFC 4193 space.
 
 import { formatAddress } from "../addresses.ts";
-import type { DeviceModelInput } from "../model.ts";
-import { ALWAYS_SCHEDULE, BUILTIN_ADDRESS_NAMES, DAYS, INTERFACE_ROLES } from "../vocabulary.ts";
+import type { DeviceModelInput, VersionOneModelInput } from "../model.ts";
+import { ALL_WEEK_SCHEDULE, BUILTIN_ADDRESS_NAMES, DAYS, INTERFACE_ROLES, MODEL_SCHEMA_VERSION } from "../vocabulary.ts";
 
 /** mulberry32: a small, fast, seedable PRNG returning [0, 1). */
 export function prng(seed: number): () => number {
@@ -78,8 +78,8 @@ export const SMALL_SIZE: ModelSize = {
 const ZONES = ["UTC", "Europe/Berlin", "America/New_York", "Australia/Lord_Howe", "Asia/Kolkata"];
 const SERVICES = ["https", "http", "ssh", "telnet", "ping", "snmp", "webconsole", "syslog-in"];
 
-export interface Generated {
-  readonly model: DeviceModelInput;
+export interface Generated<Model = DeviceModelInput> {
+  readonly model: Model;
   /** Addresses worth probing from: inside and around the model's entries. */
   readonly sampleSources: readonly string[];
 }
@@ -205,13 +205,13 @@ export function generateModel(seed: number, size: ModelSize): Generated {
     sources: Array.from({ length: 1 + int(3) }, sourceName),
     destinations: chance(0.6) ? ["any"] : [iface === "any" || chance(0.3) ? "device-addrs" : chance(0.9) ? `${iface}-addrs` : pick(addressNames)],
     services: chance(0.2) ? ["any"] : [...new Set(Array.from({ length: 1 + int(3) }, () => pick(serviceChoices)))],
-    schedule: chance(size.scheduledShare) && schedules.length > 0 ? pick(schedules).name : ALWAYS_SCHEDULE,
+    schedule: chance(size.scheduledShare) && schedules.length > 0 ? pick(schedules).name : ALL_WEEK_SCHEDULE,
     action: chance(0.5) ? ("allow" as const) : ("deny" as const),
     enabled: chance(0.95),
   };
   });
   if (chance(0.7)) {
-    inboundRules.push({ id: "final-drop", interface: "any", sources: ["any"], destinations: ["any"], services: ["any"], schedule: ALWAYS_SCHEDULE, action: "deny", enabled: true });
+    inboundRules.push({ id: "final-drop", interface: "any", sources: ["any"], destinations: ["any"], services: ["any"], schedule: ALL_WEEK_SCHEDULE, action: "deny", enabled: true });
   }
 
   const accounts = Array.from({ length: size.accounts }, (_, i) => ({
@@ -223,7 +223,7 @@ export function generateModel(seed: number, size: ModelSize): Generated {
   }));
 
   const model: DeviceModelInput = {
-    schemaVersion: 1,
+    schemaVersion: MODEL_SCHEMA_VERSION,
     device: {
       name: `gen-${seed >>> 0}`,
       timezone: pick(ZONES),
@@ -246,4 +246,27 @@ export function generateModel(seed: number, size: ModelSize): Generated {
   for (let i = 0; i < 8; i++) sources.push(v4Text(v4()), v6Text(v6()));
   sources.push("0.0.0.0", "255.255.255.255", "::", "ffff:ffff:ffff:ffff:ffff:ffff:ffff:ffff", ...deviceAddressTexts);
   return { model, sampleSources: [...new Set(sources)] };
+}
+
+/**
+ * Version 1's words, written out here from PRODUCT.md §4 rather than taken from upgrade.ts, so
+ * a property test checks the upgrade against a second statement of the mapping: each role sits
+ * at the position of the version-2 role it became (INTERFACE_ROLES).
+ */
+const VERSION_1_ROLE_WORDS = ["outside", "inside", "dmz", "mgmt", "other"] as const;
+const VERSION_1_ALL_WEEK = "always";
+
+/** The same model as generateModel(seed, size), written as a version-1 document. */
+export function generateVersionOneModel(seed: number, size: ModelSize): Generated<VersionOneModelInput> {
+  const { model, sampleSources } = generateModel(seed, size);
+  const roleWord = (role: (typeof INTERFACE_ROLES)[number] | undefined) => (role === undefined ? undefined : VERSION_1_ROLE_WORDS[INTERFACE_ROLES.indexOf(role)]);
+  return {
+    model: {
+      ...model,
+      schemaVersion: 1,
+      interfaces: model.interfaces?.map((entry) => ({ ...entry, role: roleWord(entry.role) })),
+      inboundRules: model.inboundRules?.map((rule) => (rule.schedule === ALL_WEEK_SCHEDULE ? { ...rule, schedule: VERSION_1_ALL_WEEK } : rule)),
+    },
+    sampleSources,
+  };
 }

@@ -95,7 +95,7 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
                 <SortHeader column="name" label="Device" sort={sort} descending={descending} />
                 <SortHeader column="site" label="Site" sort={sort} descending={descending} />
                 <SortHeader column="findings" label="Findings" sort={sort} descending={descending} />
-                <SortHeader column="exposure" label="Worst on outside" sort={sort} descending={descending} />
+                <SortHeader column="exposure" label="Worst on wan" sort={sort} descending={descending} />
                 <SortHeader column="updated" label="Revision" sort={sort} descending={descending} />
               </tr>
             </thead>
@@ -111,7 +111,7 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
                   <Td>
                     <SeverityCounts counts={device.findingsBySeverity} />
                   </Td>
-                  <Td>{isOutcome(device.worstOutsideOutcome) ? <OutcomeChip outcome={device.worstOutsideOutcome} /> : <span className="text-xs text-ink-faint">no outside interface</span>}</Td>
+                  <Td>{isOutcome(device.worstOutsideOutcome) ? <OutcomeChip outcome={device.worstOutsideOutcome} /> : <span className="text-xs text-ink-faint">no wan interface</span>}</Td>
                   <Td className="tabular text-ink-muted">
                     r{device.revision} · {device.updatedAt.slice(0, 10)}
                   </Td>

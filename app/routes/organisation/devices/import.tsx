@@ -10,6 +10,7 @@ import { listSites } from "#server/services/sites.server";
 import { summariseDocument, validateDocument, type ModelDocument } from "#server/workspace/index";
 import { OutcomeChip } from "#app/components/outcome";
 import { isOutcome } from "#server/engine/vocabulary";
+import { MODEL_SCHEMA_VERSION, VERSION_1_UPGRADE_SUMMARY } from "#server/engine/index";
 import { SeverityCounts } from "#app/components/severity";
 import { Button } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
@@ -30,7 +31,7 @@ export async function loader({ context }: Route.LoaderArgs) {
 type Problem = { path: string; message: string };
 type ActionResult =
   | { stage: "refused"; message: string; problems: Problem[]; target: string }
-  | { stage: "preview"; documentText: string; target: string; fileName: string; summary: ReturnType<typeof summariseDocument>; deviceName: string; warnings: Problem[]; baseRevision: number | null; targetLabel: string };
+  | { stage: "preview"; documentText: string; target: string; fileName: string; summary: ReturnType<typeof summariseDocument>; deviceName: string; warnings: Problem[]; baseRevision: number | null; targetLabel: string; upgradeNote: string | null };
 
 function refuse(message: string, problems: Problem[], target: string, status = 400) {
   return data<ActionResult>({ stage: "refused", message, problems, target }, { status });
@@ -60,7 +61,7 @@ export async function action({ request, context }: Route.ActionArgs) {
   try {
     parsed = JSON.parse(read.text);
   } catch (error) {
-    return refuse(`This is not JSON: ${error instanceof Error ? error.message : "unreadable"}. Sallyport imports its own model documents (schemaVersion 1).`, [], target);
+    return refuse(`This is not JSON: ${error instanceof Error ? error.message : "unreadable"}. Sallyport imports its own model documents (schemaVersion 2, or 1).`, [], target);
   }
   const validated = validateDocument(parsed, await loadSharedLibrary(access.organisation.id));
   if (!validated.ok) return refuse(`The document is not a valid Sallyport model: ${validated.errors.length} problem${validated.errors.length === 1 ? "" : "s"}. Nothing was created.`, [...validated.errors], target);
@@ -82,6 +83,7 @@ export async function action({ request, context }: Route.ActionArgs) {
       warnings: [...validated.warnings],
       baseRevision: existing?.revision.number ?? null,
       targetLabel: existing ? `a new revision of ${existing.device.name} (now r${existing.revision.number})` : "a new device",
+      upgradeNote: validated.upgradedFrom ? `Written in version ${validated.upgradedFrom} of the model document; read and saved as version ${MODEL_SCHEMA_VERSION} (${VERSION_1_UPGRADE_SUMMARY}). Nothing else changes.` : null,
     });
   }
   try {
@@ -107,7 +109,7 @@ export default function ImportModel({ loaderData, actionData }: Route.ComponentP
   const target = actionData?.target ?? "";
   return (
     <>
-      <PageHeader title="Import a model document" description="Upload a Sallyport model document (JSON, schemaVersion 1, at most 1 MiB). You see what it contains before anything is created." />
+      <PageHeader title="Import a model document" description="Upload a Sallyport model document (JSON, schemaVersion 2 — version 1 is read too — at most 1 MiB). You see what it contains before anything is created." />
       <div className="grid gap-6 lg:grid-cols-2">
         <Card className="p-6">
           <Form method="post" encType="multipart/form-data" className="space-y-5" noValidate>
@@ -166,6 +168,7 @@ export default function ImportModel({ loaderData, actionData }: Route.ComponentP
             <p className="mt-1 text-sm text-ink-muted">
               From {actionData.fileName}, as {actionData.targetLabel}.
             </p>
+            {actionData.upgradeNote ? <p className="mt-2 rounded-control border border-info/40 bg-info-soft p-3 text-sm">{actionData.upgradeNote}</p> : null}
             <dl className="mt-4 grid grid-cols-[10rem_1fr] gap-2 text-sm">
               <dt className="text-ink-muted">Will create</dt>
               <dd>
@@ -175,8 +178,8 @@ export default function ImportModel({ loaderData, actionData }: Route.ComponentP
               <dd>
                 <SeverityCounts counts={actionData.summary.findingsBySeverity} />
               </dd>
-              <dt className="text-ink-muted">Worst on outside</dt>
-              <dd>{isOutcome(actionData.summary.worstOutsideOutcome) ? <OutcomeChip outcome={actionData.summary.worstOutsideOutcome} /> : "no outside interface"}</dd>
+              <dt className="text-ink-muted">Worst on wan</dt>
+              <dd>{isOutcome(actionData.summary.worstOutsideOutcome) ? <OutcomeChip outcome={actionData.summary.worstOutsideOutcome} /> : "no wan interface"}</dd>
             </dl>
             {actionData.warnings.length > 0 ? (
               <ul className="mt-4 rounded-control border border-warning/40 bg-warning-soft p-3 text-xs">

@@ -41,7 +41,7 @@ export const internetLoginExposed: FindingCheck = {
   source: SOURCES.exposure,
   check: (context) =>
     context.model.interfaces.flatMap((entry, iface) => {
-      if (entry.role !== "outside" && entry.role !== "dmz") return [];
+      if (entry.role !== "wan" && entry.role !== "dmz") return [];
       return context.engine.catalogue.flatMap((service, cls): Finding[] => {
         const seen = context.exposure(iface, cls);
         if (service.kind !== "login" || seen === undefined) return [];
@@ -126,7 +126,7 @@ export const noFinalDrop: FindingCheck = {
   check: (context) =>
     context.model.interfaces.flatMap((entry, iface): Finding[] => {
       const { engine } = context;
-      if (entry.role !== "outside" || !engine.defaultAllow || hasCatchAllDeny(engine, iface)) return [];
+      if (entry.role !== "wan" || !engine.defaultAllow || hasCatchAllDeny(engine, iface)) return [];
       const witness = context.witnessOf(
         context.defaultActionWitness(iface, NON_PRIVATE),
         (trace) => `No enabled rule matches this probe from a non-private source; the device default (allow) lets it through to ${trace.outcome}.`,

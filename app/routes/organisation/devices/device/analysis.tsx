@@ -3,7 +3,8 @@ import { useEffect, useRef, useState } from "react";
 import { Form, useFetcher } from "react-router";
 import type { Route } from "./+types/analysis";
 import { probeInputOf, probeQueryOf, ProbeQuerySchema } from "#server/analysis/probe";
-import { BUILTIN_SERVICES, trace, type TraceResult } from "#server/engine/index";
+import { trace, type TraceResult } from "#server/engine/index";
+import { inCatalogueOrder, namesByKind } from "#server/analysis/catalogue";
 import { refusalOf } from "#server/http/refusals.server";
 import { requireDevice } from "#server/http/device-access.server";
 import { LayerCanvas, type CanvasModel } from "#app/components/analysis/layer-canvas";
@@ -35,7 +36,7 @@ export async function loader({ request, context }: Route.LoaderArgs) {
     }
   }
   const canvas: CanvasModel = {
-    interfaces: model.interfaces.map((entry) => ({ name: entry.name, role: entry.role, addresses: entry.addresses, listeners: entry.listeners })),
+    interfaces: model.interfaces.map((entry) => ({ name: entry.name, role: entry.role, addresses: entry.addresses, listeners: inCatalogueOrder(entry.listeners, access.analysis.compiled.catalogue) })),
     rules: model.inboundRules.map((rule, index) => ({
       id: rule.id,
       position: index + 1,
@@ -50,7 +51,7 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   };
   return {
     canvas,
-    services: [...BUILTIN_SERVICES.map((service) => service.name), ...model.services.map((service) => service.name)],
+    services: namesByKind(access.analysis.compiled.catalogue),
     timezone: model.device.timezone,
     devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`,
     query,
@@ -75,7 +76,7 @@ function fieldsFrom(query: Record<string, string>, fallback: { interface: string
 
 export default function Analysis({ loaderData }: Route.ComponentProps) {
   const { canvas, services, devicePath, timezone } = loaderData;
-  const fallback = { interface: canvas.interfaces.find((entry) => entry.role === "outside")?.name ?? canvas.interfaces[0]?.name ?? "", service: "https" };
+  const fallback = { interface: canvas.interfaces.find((entry) => entry.role === "wan")?.name ?? canvas.interfaces[0]?.name ?? "", service: "https" };
   const { probe, trace: result, error, step, setProbe, showResult, setStep, reset } = useTraceStore();
   const fetcher = useFetcher<TraceResult | { error: string }>();
   // `fetcher` is a new object on every render; its `load` is stable, so the debounce effect can depend on it.

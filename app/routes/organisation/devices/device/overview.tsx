@@ -41,8 +41,8 @@ export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
     <div className="space-y-6">
       <div className="grid gap-4 md:grid-cols-3">
         <Card className="p-5">
-          <h2 className="text-xs font-semibold tracking-wide text-ink-muted uppercase">Worst on outside interfaces</h2>
-          <div className="mt-3">{isOutcome(summary.worstOutsideOutcome) ? <OutcomeChip outcome={summary.worstOutsideOutcome} /> : <span className="text-sm text-ink-muted">No outside interface</span>}</div>
+          <h2 className="text-xs font-semibold tracking-wide text-ink-muted uppercase">Worst on wan interfaces</h2>
+          <div className="mt-3">{isOutcome(summary.worstOutsideOutcome) ? <OutcomeChip outcome={summary.worstOutsideOutcome} /> : <span className="text-sm text-ink-muted">No wan interface</span>}</div>
           <p className="mt-2 text-xs text-ink-muted">The most any source gets at any time of the week.</p>
         </Card>
         <Card className="p-5">

@@ -10,6 +10,7 @@ import { invalidForm, readForm, unknownIntent } from "#server/http/form.server";
 import { deleteDevice, loadSharedLibrary, saveEdit } from "#server/services/devices.server";
 import { listSites } from "#server/services/sites.server";
 import { SectionEditor } from "#app/components/device/section-editor";
+import type { ListedService } from "#app/components/device/listener-toggles";
 import { isDeviceSection, type DeviceSection } from "#app/components/device/sections";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { refusedForm } from "#server/http/refusals.server";
@@ -26,7 +27,10 @@ export async function loader({ request, params, context }: Route.LoaderArgs) {
   const section = sectionOf(params.section);
   const library = await loadSharedLibrary(access.organisation.id);
   const document = access.document;
-  const serviceCatalogue = [...BUILTIN_SERVICES.map((service) => ({ name: service.name, kind: service.kind })), ...document.services.map((service) => ({ name: service.name, kind: service.kind }))];
+  const serviceCatalogue: ListedService[] = [
+    ...BUILTIN_SERVICES.map((service) => ({ name: service.name, kind: service.kind, protocol: service.protocol, port: service.port, builtin: true })),
+    ...document.services.map((service) => ({ name: service.name, kind: service.kind, protocol: service.protocol, port: service.port, builtin: false })),
+  ];
   return {
     section,
     baseRevision: access.revision.number,
