@@ -170,7 +170,7 @@ function planCsv(rows: string[][]): Planner {
       report.push({ row, name: rawName, result: current ? "updated" : "created", message: entries.join(" ") });
     }
     const written = [...writes.values()];
-    const touched = new Map(written.filter(({ input, existing }) => !existing || !sameValue(existing, input)).map((write) => [write.input.name, `from CSV: ${changeWords(write)}`]));
+    const touched = new Map(written.filter(({ input, existing }) => !existing || !sameValue(existing, input)).map((write) => [write.input.name, `${changeWords(write)} (CSV import)`]));
     const summary = `address objects from CSV: ${written.map(({ input, existing }) => `${input.name} ${existing ? "updated" : "created"}`).join(", ")}`;
     return { after, writes: written, touched, summary, report };
   };

@@ -393,7 +393,7 @@ describe("Changing a shared object", () => {
     for (const device of ["quay-edge", "pier-gw"]) {
       expect((await exported(organisation, device, 2)).status).toBe(200);
       // Each device's message names the change of the objects it uses (spare-net is used by none).
-      expect(await historyText(organisation, device)).toContain("Shared from CSV: address object ops-desk: 198.51.100.0/28 → 198.51.100.32/28");
+      expect(await historyText(organisation, device)).toContain("Shared address object ops-desk: 198.51.100.0/28 → 198.51.100.32/28 (CSV import)");
     }
     expect(devices["quay-edge"]).toMatch(new RegExp(UUID));
   });
