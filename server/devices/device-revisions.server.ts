@@ -98,7 +98,7 @@ export class DeviceRevisions {
   }
 
   /** Every device of the organisation with its current revision's record (no document), by name. One query. */
-  async currentRecords(organisationId: string): Promise<Array<{ device: Device & { site: Site }; revision: RevisionRecord }>> {
+  async currentRecords(organisationId: string, options: { transaction?: Transaction } = {}): Promise<Array<{ device: Device & { site: Site }; revision: RevisionRecord }>> {
     const devices = await Device.findAll({
       where: { organisationId },
       include: [
@@ -106,14 +106,15 @@ export class DeviceRevisions {
         { model: DeviceRevision, as: "revisions", required: true, attributes: [...RECORD_ATTRIBUTES], where: { number: { [Op.eq]: col("Device.current_revision_number") } }, include: [ANALYSIS_RECORD] },
       ],
       order: [["name", "ASC"]],
+      transaction: options.transaction,
     });
     return devices.flatMap((device) => (device.site && device.revisions?.[0] ? [{ device: device as Device & { site: Site }, revision: device.revisions[0] }] : []));
   }
 
   /** Every device of the organisation at its current revision, by name. Two queries at most. */
-  async current(organisationId: string): Promise<DeviceAtRevision[]> {
-    const withRecords = (await this.currentRecords(organisationId)).map(({ device, revision }) => ({ device, record: revision }));
-    const analyses = await this.#analysesOf(withRecords.map(({ record }) => record));
+  async current(organisationId: string, options: { transaction?: Transaction } = {}): Promise<DeviceAtRevision[]> {
+    const withRecords = (await this.currentRecords(organisationId, options)).map(({ device, revision }) => ({ device, record: revision }));
+    const analyses = await this.#analysesOf(withRecords.map(({ record }) => record), options.transaction);
     return withRecords.map(({ device, record }, index) => atRevision(device, record, analyses[index]));
   }
 

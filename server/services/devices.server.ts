@@ -1,4 +1,4 @@
-import { UniqueConstraintError } from "sequelize";
+import { UniqueConstraintError, type Transaction } from "sequelize";
 import { getDatabase } from "../db/database.server.ts";
 import { Device, DeviceRevision, SharedAddressObject, Site, type RevisionSummaryRecord } from "#models/index.ts";
 import { deviceRevisions, type DeviceAtRevision, type FleetSummary } from "../devices/index.ts";
@@ -7,6 +7,7 @@ import type { ValidationIssue } from "../engine/index.ts";
 import { Refusal } from "../errors.ts";
 import { countElements, diffDocuments, effectiveDocument, validateDocument, type DocumentChange, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
+import { lockSharedLibrary } from "./shared-library-lock.server.ts";
 
 /**
  * The model did not validate: every problem with its document path. When every problem is in one
@@ -39,8 +40,8 @@ export type DeviceRow = {
   worstOutsideOutcome: string | null;
 };
 
-export async function loadSharedLibrary(organisationId: string): Promise<SharedLibrary> {
-  const objects = await SharedAddressObject.findAll({ where: { organisationId }, order: [["name", "ASC"]] });
+export async function loadSharedLibrary(organisationId: string, transaction?: Transaction): Promise<SharedLibrary> {
+  const objects = await SharedAddressObject.findAll({ where: { organisationId }, order: [["name", "ASC"]], transaction });
   return {
     addresses: objects.filter((object) => object.kind === "address").map((object) => ({ name: object.name, entries: object.items })),
     addressGroups: objects.filter((object) => object.kind === "group").map((object) => ({ name: object.name, members: object.items })),
@@ -97,11 +98,15 @@ function nameTaken(name: string): Refusal {
 /** Creates a device with its first revision from a document (validated with the organisation's shared objects). */
 export async function createDevice(organisationId: string, siteId: string, input: unknown, actor: AuditActor, message: string): Promise<Device> {
   await assertSiteOfOrganisation(organisationId, siteId);
-  const validated = validateDocument(input, await loadSharedLibrary(organisationId));
-  if (!validated.ok) throw invalidModel(validated.errors, "The document is not a valid Sallyport model.");
-  const summary = countsOf(validated.document, validated.shared);
+  let name = "";
   try {
     const { device, revisionId } = await getDatabase().transaction(async (transaction) => {
+      // The library as no concurrent shared-object change is replacing it (shared-library-lock.server.ts).
+      await lockSharedLibrary(transaction, organisationId, "read");
+      const validated = validateDocument(input, await loadSharedLibrary(organisationId, transaction));
+      if (!validated.ok) throw invalidModel(validated.errors, "The document is not a valid Sallyport model.");
+      name = validated.document.device.name;
+      const summary = countsOf(validated.document, validated.shared);
       const created = await Device.create({ organisationId, siteId, name: validated.document.device.name, currentRevisionNumber: 1 }, { transaction });
       const revision = await DeviceRevision.create(
         { deviceId: created.id, number: 1, document: validated.document, sharedObjects: validated.shared, summary, message, authorUserId: actor.userId, authorEmail: actor.email },
@@ -113,9 +118,46 @@ export async function createDevice(organisationId: string, siteId: string, input
     revisionAnalysisQueue.enqueue(revisionId);
     return device;
   } catch (error) {
-    if (error instanceof UniqueConstraintError) throw nameTaken(validated.document.device.name);
+    if (error instanceof UniqueConstraintError) throw nameTaken(name);
     throw error;
   }
+}
+
+/**
+ * Writes the next revision of a device read with its row locked in this transaction, moves the
+ * device to it and records it in the audit log, in the same transaction. The caller enqueues
+ * the background analysis of `revisionId` once the transaction has committed.
+ */
+export async function writeRevision(
+  organisationId: string,
+  current: DeviceAtRevision,
+  validated: { document: ModelDocument; shared: SharedLibrary },
+  changes: readonly DocumentChange[],
+  actor: AuditActor,
+  message: string,
+  transaction: Transaction,
+  options: { siteId?: string; audit?: Record<string, unknown> } = {},
+): Promise<{ number: number; revisionId: string }> {
+  const deviceId = current.device.id;
+  const number = current.revision.number + 1;
+  const summary = countsOf(validated.document, validated.shared);
+  const revision = await DeviceRevision.create(
+    { deviceId, number, document: validated.document, sharedObjects: validated.shared, summary, message, authorUserId: actor.userId, authorEmail: actor.email },
+    { transaction },
+  );
+  await current.device.update({ currentRevisionNumber: number, name: validated.document.device.name, ...(options.siteId ? { siteId: options.siteId } : {}) }, { transaction });
+  await recordAuditEvent(
+    actor,
+    {
+      organisationId,
+      action: "device.revised",
+      targetType: "device",
+      targetId: deviceId,
+      changes: { revision: number, message, changes: changes.map((change) => `${change.section}: ${change.change} ${change.element}`).slice(0, 50), ...options.audit },
+    },
+    transaction,
+  );
+  return { number, revisionId: revision.id };
 }
 
 /**
@@ -132,9 +174,11 @@ export async function saveEdit(
   options: { siteId?: string } = {},
 ): Promise<{ number: number; changes: DocumentChange[] }> {
   if (options.siteId) await assertSiteOfOrganisation(organisationId, options.siteId);
-  const library = await loadSharedLibrary(organisationId);
   try {
     const result = await getDatabase().transaction(async (transaction) => {
+      // The library as no concurrent shared-object change is replacing it (shared-library-lock.server.ts).
+      await lockSharedLibrary(transaction, organisationId, "read");
+      const library = await loadSharedLibrary(organisationId, transaction);
       const current = await deviceRevisions.find(organisationId, deviceId, { transaction, lock: true });
       if (!current) throw new Refusal("No such device in this organisation.", 404);
       const currentNumber = current.revision.number;
@@ -147,25 +191,8 @@ export async function saveEdit(
       if (!validated.ok) throw invalidModel(validated.errors);
       const changes = diffDocuments(current.effective, validated.effective);
       if (changes.length === 0 && !options.siteId) return { number: currentNumber, changes, saved: null };
-      const number = currentNumber + 1;
-      const summary = countsOf(validated.document, validated.shared);
-      const revision = await DeviceRevision.create(
-        { deviceId, number, document: validated.document, sharedObjects: validated.shared, summary, message, authorUserId: actor.userId, authorEmail: actor.email },
-        { transaction },
-      );
-      await current.device.update({ currentRevisionNumber: number, name: validated.document.device.name, ...(options.siteId ? { siteId: options.siteId } : {}) }, { transaction });
-      await recordAuditEvent(
-        actor,
-        {
-          organisationId,
-          action: "device.revised",
-          targetType: "device",
-          targetId: deviceId,
-          changes: { revision: number, message, changes: changes.map((change) => `${change.section}: ${change.change} ${change.element}`).slice(0, 50) },
-        },
-        transaction,
-      );
-      return { number, changes, saved: { revisionId: revision.id } };
+      const saved = await writeRevision(organisationId, current, validated, changes, actor, message, transaction, { siteId: options.siteId });
+      return { number: saved.number, changes, saved };
     });
     if (result.saved) revisionAnalysisQueue.enqueue(result.saved.revisionId);
     return { number: result.number, changes: result.changes };

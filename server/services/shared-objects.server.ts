@@ -1,17 +1,28 @@
+// The organisation's shared address objects and groups. A change to one takes effect on every
+// device that uses it (directly or through shared groups) at once: the change is previewed
+// with each device's exposure diff, and saving it writes the library and a new revision of each
+// of those devices in one transaction, checked against the revisions the preview showed.
+import { createHash } from "node:crypto";
+import type { Transaction } from "sequelize";
+import { getDatabase } from "../db/database.server.ts";
 import { SharedAddressObject } from "#models/index.ts";
 import type { SharedObjectKind } from "#models/shared-address-object.ts";
+import { exposureChangeOf, type ExposureChange } from "../analysis/exposure-change.ts";
 import { CsvSyntaxError, parseCsv } from "../formats/csv.ts";
-import { MODEL_SCHEMA_VERSION, NAME_PATTERN, parseModel } from "../engine/index.ts";
-import { deviceRevisions } from "../devices/index.ts";
+import { compileModel, diffModels, findings, MODEL_SCHEMA_VERSION, NAME_PATTERN, parseModel } from "../engine/index.ts";
+import { deviceRevisions, type DeviceAtRevision } from "../devices/index.ts";
 import { Refusal } from "../errors.ts";
-import { findUsages } from "../workspace/index.ts";
+import { revisionAnalysisQueue } from "../jobs/revision-analysis.server.ts";
+import { diffDocuments, sharedObjectsUsedBy, validateDocument, type DocumentChange, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
+import { writeRevision } from "./devices.server.ts";
+import { lockSharedLibrary } from "./shared-library-lock.server.ts";
 
 export type SharedObjectInput = { kind: SharedObjectKind; name: string; items: string[]; description: string };
 export type SharedObjectRow = SharedObjectInput & { id: string };
 
-export async function listSharedObjects(organisationId: string): Promise<SharedObjectRow[]> {
-  const objects = await SharedAddressObject.findAll({ where: { organisationId }, order: [["kind", "ASC"], ["name", "ASC"]] });
+export async function listSharedObjects(organisationId: string, transaction?: Transaction): Promise<SharedObjectRow[]> {
+  const objects = await SharedAddressObject.findAll({ where: { organisationId }, order: [["kind", "ASC"], ["name", "ASC"]], transaction });
   return objects.map((object) => ({ id: object.id, kind: object.kind, name: object.name, items: object.items, description: object.description }));
 }
 
@@ -35,102 +46,364 @@ function libraryProblems(objects: SharedObjectInput[]): string[] {
   });
 }
 
-async function devicesUsing(organisationId: string, name: string): Promise<string[]> {
-  const devices = await deviceRevisions.current(organisationId);
-  return devices
-    .filter(({ document }) => {
-      const definesItself = [...document.addresses, ...document.addressGroups].some((object) => object.name === name);
-      return !definesItself && findUsages(document, "address", name).length > 0;
-    })
-    .map(({ device }) => device.name);
+function libraryOf(objects: readonly SharedObjectInput[]): SharedLibrary {
+  return {
+    addresses: objects.filter((object) => object.kind === "address").map((object) => ({ name: object.name, entries: object.items })),
+    addressGroups: objects.filter((object) => object.kind === "group").map((object) => ({ name: object.name, members: object.items })),
+  };
 }
 
-export async function saveSharedObject(organisationId: string, originalName: string | null, input: SharedObjectInput, actor: AuditActor): Promise<void> {
-  const library = await listSharedObjects(organisationId);
-  const existing = originalName ? library.find((object) => object.name === originalName) : undefined;
-  if (originalName && !existing) throw new Refusal(`There is no shared object named "${originalName}".`, 404);
-  if (library.some((object) => object.name === input.name && object.name !== originalName)) throw new Refusal(`The name "${input.name}" is already used in the shared library.`, 409, { field: "name" });
-  if (existing && existing.name !== input.name) {
-    const users = await devicesUsing(organisationId, existing.name);
-    if (users.length > 0) throw new Refusal(`"${existing.name}" is used by ${users.join(", ")}; renaming it would break them. Create a new object instead.`, 409, { field: "name" });
-  }
-  const next = [...library.filter((object) => object.name !== originalName), input];
-  const problems = libraryProblems(next);
-  if (problems.length > 0) throw new Refusal(problems.join(" · "), 400, { field: "items" });
-  if (existing) {
-    await SharedAddressObject.update({ kind: input.kind, name: input.name, items: input.items, description: input.description }, { where: { id: existing.id } });
-  } else {
-    await SharedAddressObject.create({ organisationId, ...input });
-  }
-  await recordAuditEvent(actor, {
-    organisationId,
-    action: existing ? "shared-object.updated" : "shared-object.created",
-    targetType: "shared-object",
-    targetId: input.name,
-    changes: existing ? { items: { from: existing.items, to: input.items }, name: { from: existing.name, to: input.name } } : { kind: input.kind, items: input.items },
-  });
+/** The library's state as the preview saw it: saving refuses when it is no longer the same. */
+function fingerprintOf(objects: readonly SharedObjectInput[]): string {
+  const canonical = [...objects].sort((a, b) => a.name.localeCompare(b.name)).map(({ kind, name, items, description }) => [kind, name, items, description]);
+  return createHash("sha256").update(JSON.stringify(canonical)).digest("hex");
 }
 
-export async function deleteSharedObject(organisationId: string, name: string, actor: AuditActor): Promise<void> {
-  const library = await listSharedObjects(organisationId);
-  const object = library.find((candidate) => candidate.name === name);
-  if (!object) throw new Refusal(`There is no shared object named "${name}".`, 404);
-  const groups = library.filter((candidate) => candidate.kind === "group" && candidate.items.includes(name)).map((group) => `shared group ${group.name}`);
-  const devices = (await devicesUsing(organisationId, name)).map((device) => `device ${device}`);
-  const users = [...groups, ...devices];
-  if (users.length > 0) throw new Refusal(`"${name}" is in use: ${users.join(", ")}. Remove those references first.`, 409);
-  await SharedAddressObject.destroy({ where: { organisationId, name } });
-  await recordAuditEvent(actor, { organisationId, action: "shared-object.deleted", targetType: "shared-object", targetId: name, changes: { items: object.items } });
+function namesIn(library: SharedLibrary): string[] {
+  return [...library.addresses, ...library.addressGroups].map((object) => object.name);
 }
+
+/** Names of the devices whose current revision uses the shared object, directly or through groups. */
+function devicesUsing(devices: readonly DeviceAtRevision[], library: SharedLibrary, name: string): string[] {
+  return devices.filter(({ document }) => namesIn(sharedObjectsUsedBy(document, library)).includes(name)).map(({ device }) => device.name);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Planning a change: the library after it, and what each device that uses it becomes
 
 export type CsvRowReport = { row: number; name: string; result: "created" | "updated" | "refused"; message: string };
 
+type LibraryWrite = { input: SharedObjectInput; existing: SharedObjectRow | null };
+
+/** A change of the library, planned against one state of it. */
+type LibraryPlan = {
+  /** The whole library after the change. */
+  after: SharedObjectInput[];
+  writes: LibraryWrite[];
+  /** Names whose value the change sets (created, or with new entries, members or kind), each with the change in words ("address object ops-desk: … → …"). */
+  touched: Map<string, string>;
+  /** The whole change in a few words, for the page. */
+  summary: string;
+  /** Per CSV row, what became of it. */
+  report?: CsvRowReport[];
+};
+
+type Planner = (library: SharedObjectRow[], devices: readonly DeviceAtRevision[]) => LibraryPlan;
+
+function sameValue(a: SharedObjectInput, b: SharedObjectInput): boolean {
+  return a.kind === b.kind && JSON.stringify(a.items) === JSON.stringify(b.items);
+}
+
+function kindWords(kind: SharedObjectKind): string {
+  return kind === "group" ? "address group" : "address object";
+}
+
+/** "address object ops-desk: 198.51.100.0/28 → 198.51.100.16/28", "address object spare-net created: 10.9.0.0/16". */
+function changeWords({ input, existing }: LibraryWrite): string {
+  return existing ? `${kindWords(input.kind)} ${input.name}: ${existing.items.join(", ")} → ${input.items.join(", ")}` : `${kindWords(input.kind)} ${input.name} created: ${input.items.join(", ")}`;
+}
+
+/** Saving one object (new, or replacing `originalName`). */
+function planSave(originalName: string | null, input: SharedObjectInput): Planner {
+  return (library, devices) => {
+    const existing = originalName ? library.find((object) => object.name === originalName) : undefined;
+    if (originalName && !existing) throw new Refusal(`There is no shared object named "${originalName}".`, 404);
+    if (library.some((object) => object.name === input.name && object.name !== originalName)) throw new Refusal(`The name "${input.name}" is already used in the shared library.`, 409, { field: "name" });
+    if (existing && existing.name !== input.name) {
+      const users = devicesUsing(devices, libraryOf(library), existing.name);
+      if (users.length > 0) throw new Refusal(`"${existing.name}" is used by ${users.join(", ")}; renaming it would break them. Create a new object instead.`, 409, { field: "name" });
+    }
+    const after = [...library.filter((object) => object.name !== originalName), input];
+    const problems = libraryProblems(after);
+    if (problems.length > 0) throw new Refusal(problems.join(" · "), 400, { field: "items" });
+    const write = { input, existing: existing ?? null };
+    const summary = changeWords(write);
+    const touched = new Map(existing && sameValue(existing, input) && existing.name === input.name ? [] : [input.name, ...(existing ? [existing.name] : [])].map((name) => [name, summary]));
+    return { after, writes: [write], touched, summary };
+  };
+}
+
 /**
- * Imports address objects from CSV rows `name,entries` (entries separated by spaces or
- * semicolons; a header row is optional). Each row stands alone: a bad row is reported and
- * the good ones are saved. Text that is not CSV at all (a stray or unclosed quote, after
- * which no row can be trusted) refuses the whole file with a 400 and saves nothing.
+ * Importing address objects from CSV rows `name,entries` (entries separated by spaces or
+ * semicolons; a header row is optional). Each row stands alone: a bad row is reported and the
+ * good ones make up the change.
  */
-export async function importSharedObjectsCsv(organisationId: string, text: string, actor: AuditActor): Promise<CsvRowReport[]> {
-  let rows: string[][];
+function planCsv(rows: string[][]): Planner {
+  return (library) => {
+    let after: SharedObjectInput[] = library.map(({ kind, name, items, description }) => ({ kind, name, items, description }));
+    const report: CsvRowReport[] = [];
+    const writes = new Map<string, LibraryWrite>();
+    for (const [index, fields] of rows.entries()) {
+      const row = index + 1;
+      const [rawName = "", rawEntries = "", ...extra] = fields.map((field) => field.trim());
+      if (row === 1 && rawName.toLowerCase() === "name") continue;
+      if (fields.every((field) => field.trim() === "")) continue;
+      const refuse = (message: string) => report.push({ row, name: rawName, result: "refused", message });
+      if (extra.some((field) => field !== "")) {
+        refuse("Too many columns: expected name,entries (quote entries that contain commas).");
+        continue;
+      }
+      if (!NAME_PATTERN.test(rawName)) {
+        refuse("The name must be 1–63 characters of letters, digits, dot, underscore, dash.");
+        continue;
+      }
+      const entries = rawEntries.split(/[\s;]+/).filter(Boolean);
+      if (entries.length === 0) {
+        refuse("No entries: give at least one address, CIDR or range.");
+        continue;
+      }
+      const current = after.find((object) => object.name === rawName);
+      if (current && current.kind !== "address") {
+        refuse(`"${rawName}" is a shared group; CSV import only writes address objects.`);
+        continue;
+      }
+      const input: SharedObjectInput = { kind: "address", name: rawName, items: entries, description: current?.description ?? "" };
+      const next = [...after.filter((object) => object.name !== rawName), input];
+      const problems = libraryProblems(next);
+      if (problems.length > 0) {
+        refuse(problems.join(" · "));
+        continue;
+      }
+      after = next;
+      const existing = library.find((object) => object.name === rawName) ?? null;
+      writes.set(rawName, { input, existing });
+      report.push({ row, name: rawName, result: current ? "updated" : "created", message: entries.join(" ") });
+    }
+    const written = [...writes.values()];
+    const touched = new Map(written.filter(({ input, existing }) => !existing || !sameValue(existing, input)).map((write) => [write.input.name, `${changeWords(write)} (CSV import)`]));
+    const summary = `address objects from CSV: ${written.map(({ input, existing }) => `${input.name} ${existing ? "updated" : "created"}`).join(", ")}`;
+    return { after, writes: written, touched, summary, report };
+  };
+}
+
+/** A device the change gives a new revision: its current revision, the document it becomes, and the changed names it uses. */
+type DeviceRevisionPlan = { current: DeviceAtRevision; document: ModelDocument; shared: SharedLibrary; effective: ModelDocument; changes: DocumentChange[]; uses: string[] };
+
+/**
+ * The devices whose current revision uses a name the change sets, directly or through shared
+ * groups (before or after it), validated with the library after it. A device whose model comes
+ * out the same (say, only a description changed) keeps its revision.
+ */
+function devicePlans(plan: LibraryPlan, before: SharedLibrary, devices: readonly DeviceAtRevision[]): { revised: DeviceRevisionPlan[]; unchanged: string[] } {
+  const after = libraryOf(plan.after);
+  const revised: DeviceRevisionPlan[] = [];
+  const unchanged: string[] = [];
+  if (plan.touched.size === 0) return { revised, unchanged };
+  for (const current of devices) {
+    const uses = [...new Set([...namesIn(sharedObjectsUsedBy(current.document, before)), ...namesIn(sharedObjectsUsedBy(current.document, after))])].filter((name) => plan.touched.has(name));
+    if (uses.length === 0) continue;
+    const validated = validateDocument(current.document, after);
+    if (!validated.ok) {
+      const problems = validated.errors.map((issue) => `${issue.path || "document"}: ${issue.message}`).join(" · ");
+      throw new Refusal(`Not saved: device ${current.device.name} would not be valid with this change. ${problems}`, 400, { field: "items" });
+    }
+    const changes = diffDocuments(current.effective, validated.effective);
+    if (changes.length === 0) unchanged.push(current.device.name);
+    else revised.push({ current, document: validated.document, shared: validated.shared, effective: validated.effective, changes, uses: uses.sort() });
+  }
+  return { revised, unchanged };
+}
+
+// ---------------------------------------------------------------------------------------------
+// The preview
+
+/** What the confirm step sends back: the library and the device revisions the preview showed. */
+export type SharedChangeConfirmation = { library: string; bases: string };
+
+export type DeviceEffect = {
+  deviceId: string;
+  deviceName: string;
+  siteName: string;
+  revision: number;
+  /** The model's own changes (the shared objects' new values), as the history page lists them. */
+  changes: DocumentChange[];
+  exposure: ExposureChange;
+};
+
+export type SharedChangePreview = {
+  summary: string;
+  /** Devices that get a new revision, by name. */
+  devices: DeviceEffect[];
+  /** Devices that use the object but whose model does not change. */
+  unchanged: string[];
+  confirmation: SharedChangeConfirmation;
+  report: CsvRowReport[] | null;
+};
+
+/** "id:number" per device, sorted: the revisions a save must still find current. */
+function basesOf(revised: readonly DeviceRevisionPlan[]): string {
+  return revised
+    .map(({ current }) => `${current.device.id}:${current.revision.number}`)
+    .sort()
+    .join(",");
+}
+
+function effectOf(plan: DeviceRevisionPlan): DeviceEffect {
+  const { current } = plan;
+  const after = compileModel(plan.effective);
+  // The repository's findings of the current revision; the new model's are computed here once.
+  const diff = diffModels(current.analysis.compiled, after, { findings: { before: deviceRevisions.findingsOf(current), after: findings(after) } });
+  return {
+    deviceId: current.device.id,
+    deviceName: current.device.name,
+    siteName: current.device.site.name,
+    revision: current.revision.number,
+    changes: plan.changes,
+    exposure: exposureChangeOf(diff, current.effective.device.timezone),
+  };
+}
+
+async function preview(organisationId: string, planner: Planner): Promise<SharedChangePreview> {
+  const library = await listSharedObjects(organisationId);
+  const devices = await deviceRevisions.current(organisationId);
+  const plan = planner(library, devices);
+  const { revised, unchanged } = devicePlans(plan, libraryOf(library), devices);
+  return {
+    summary: plan.summary,
+    devices: revised.map(effectOf),
+    unchanged,
+    confirmation: { library: fingerprintOf(library), bases: basesOf(revised) },
+    report: plan.report ?? null,
+  };
+}
+
+/** What saving `input` (a new object, or the one named `originalName`) would do to each device that uses it. */
+export function previewSharedObjectChange(organisationId: string, originalName: string | null, input: SharedObjectInput): Promise<SharedChangePreview> {
+  return preview(organisationId, planSave(originalName, input));
+}
+
+// ---------------------------------------------------------------------------------------------
+// Saving
+
+export type SavedSharedChange = { summary: string; revisions: Array<{ deviceId: string; deviceName: string; number: number }>; report: CsvRowReport[] | null };
+
+function stalePreview(what: string): Refusal {
+  return new Refusal(`Nothing was saved: ${what} since you reviewed this change. Review its effect again, then confirm.`, 409);
+}
+
+/** Refuses unless the devices to revise are exactly those the preview showed, each still at the revision it showed. */
+function checkBases(revised: readonly DeviceRevisionPlan[], confirmed: string): void {
+  const bases = new Map(
+    confirmed
+      .split(",")
+      .filter(Boolean)
+      .map((entry) => {
+        const [id = "", number = ""] = entry.split(":");
+        return [id, Number(number)] as const;
+      }),
+  );
+  for (const { current } of revised) {
+    const base = bases.get(current.device.id);
+    if (base === undefined) throw stalePreview(`device ${current.device.name} started to use it`);
+    if (base !== current.revision.number) {
+      throw stalePreview(`device ${current.device.name} changed: revision ${current.revision.number} by ${current.revision.authorEmail || "someone"} replaced revision ${base}`);
+    }
+    bases.delete(current.device.id);
+  }
+  if (bases.size > 0) throw stalePreview("a device it would have changed no longer uses it or was deleted");
+}
+
+/**
+ * Applies a planned change in one transaction: the library, a new revision of each device that
+ * uses a changed object (message naming the change), and the audit entries. Refused with a 409
+ * and nothing written when the library or any of those devices is no longer as the preview saw
+ * it. The new revisions go to the background analysis after the commit.
+ */
+async function commit(organisationId: string, planner: Planner, actor: AuditActor, confirmation: SharedChangeConfirmation): Promise<SavedSharedChange> {
+  const saved = await getDatabase().transaction(async (transaction) => {
+    await lockSharedLibrary(transaction, organisationId, "write");
+    const library = await listSharedObjects(organisationId, transaction);
+    if (fingerprintOf(library) !== confirmation.library) throw stalePreview("the shared objects changed (someone else saved one)");
+    const devices = await deviceRevisions.current(organisationId, { transaction });
+    const plan = planner(library, devices);
+    const { revised } = devicePlans(plan, libraryOf(library), devices);
+    checkBases(revised, confirmation.bases);
+    // Device rows locked in one order, so two changes can never wait for each other.
+    const ordered = [...revised].sort((a, b) => a.current.device.id.localeCompare(b.current.device.id));
+    const locked = new Map<string, DeviceAtRevision>();
+    for (const { current } of ordered) {
+      const found = await deviceRevisions.find(organisationId, current.device.id, { transaction, lock: true });
+      if (!found || found.revision.number !== current.revision.number) throw stalePreview(`device ${current.device.name} changed or was deleted`);
+      locked.set(found.device.id, found);
+    }
+
+    for (const { input, existing } of plan.writes) {
+      if (existing) await SharedAddressObject.update({ kind: input.kind, name: input.name, items: input.items, description: input.description }, { where: { id: existing.id, organisationId }, transaction });
+      else await SharedAddressObject.create({ organisationId, ...input }, { transaction });
+    }
+    const revisions: Array<{ deviceId: string; deviceName: string; number: number; revisionId: string }> = [];
+    for (const entry of revised) {
+      const current = locked.get(entry.current.device.id)!;
+      // The message names the changes of the objects this device uses.
+      const message = `Shared ${[...new Set(entry.uses.map((name) => plan.touched.get(name)))].join("; ")}`.slice(0, 500);
+      const written = await writeRevision(organisationId, current, entry, entry.changes, actor, message, transaction, { audit: { sharedObjects: entry.uses } });
+      revisions.push({ deviceId: current.device.id, deviceName: current.device.name, number: written.number, revisionId: written.revisionId });
+    }
+    const revisionList = revisions.map(({ deviceName, number }) => ({ device: deviceName, revision: number }));
+    for (const { input, existing } of plan.writes) {
+      await recordAuditEvent(
+        actor,
+        {
+          organisationId,
+          action: existing ? "shared-object.updated" : "shared-object.created",
+          targetType: "shared-object",
+          targetId: input.name,
+          changes: existing
+            ? { items: { from: existing.items, to: input.items }, name: { from: existing.name, to: input.name }, deviceRevisions: revisionList }
+            : { kind: input.kind, items: input.items, deviceRevisions: revisionList },
+        },
+        transaction,
+      );
+    }
+    return { summary: plan.summary, revisions, report: plan.report ?? null };
+  });
+  for (const { revisionId } of saved.revisions) revisionAnalysisQueue.enqueue(revisionId);
+  return { summary: saved.summary, revisions: saved.revisions.map(({ deviceId, deviceName, number }) => ({ deviceId, deviceName, number })), report: saved.report };
+}
+
+/**
+ * Saves a shared object and gives each device that uses it a new revision, provided the library
+ * and those devices are still as `confirmation` (from the preview) says.
+ */
+export function saveSharedObject(organisationId: string, originalName: string | null, input: SharedObjectInput, actor: AuditActor, confirmation: SharedChangeConfirmation): Promise<SavedSharedChange> {
+  return commit(organisationId, planSave(originalName, input), actor, confirmation);
+}
+
+/** Deletes an unused shared object; refused with the list of its users (shared groups, devices) when it is in use. */
+export async function deleteSharedObject(organisationId: string, name: string, actor: AuditActor): Promise<void> {
+  await getDatabase().transaction(async (transaction) => {
+    await lockSharedLibrary(transaction, organisationId, "write");
+    const library = await listSharedObjects(organisationId, transaction);
+    const object = library.find((candidate) => candidate.name === name);
+    if (!object) throw new Refusal(`There is no shared object named "${name}".`, 404);
+    const groups = library.filter((candidate) => candidate.kind === "group" && candidate.items.includes(name)).map((group) => `shared group ${group.name}`);
+    const devices = devicesUsing(await deviceRevisions.current(organisationId, { transaction }), libraryOf(library), name).map((device) => `device ${device}`);
+    const users = [...groups, ...devices];
+    if (users.length > 0) throw new Refusal(`"${name}" is in use: ${users.join(", ")}. Remove those references first.`, 409);
+    await SharedAddressObject.destroy({ where: { organisationId, name }, transaction });
+    await recordAuditEvent(actor, { organisationId, action: "shared-object.deleted", targetType: "shared-object", targetId: name, changes: { items: object.items } }, transaction);
+  });
+}
+
+// ---------------------------------------------------------------------------------------------
+// CSV import
+
+function csvRows(text: string): string[][] {
   try {
-    rows = parseCsv(text);
+    return parseCsv(text);
   } catch (error) {
+    // Text that is not CSV at all (a stray or unclosed quote, after which no row can be trusted).
     if (error instanceof CsvSyntaxError) throw new Refusal(`The file is not valid CSV, nothing was imported: ${error.message}.`, 400, { field: "csv" });
     throw error;
   }
-  const report: CsvRowReport[] = [];
-  for (const [index, fields] of rows.entries()) {
-    const row = index + 1;
-    const [rawName = "", rawEntries = "", ...extra] = fields.map((field) => field.trim());
-    if (row === 1 && rawName.toLowerCase() === "name") continue;
-    if (fields.every((field) => field.trim() === "")) continue;
-    if (extra.some((field) => field !== "")) {
-      report.push({ row, name: rawName, result: "refused", message: "Too many columns: expected name,entries (quote entries that contain commas)." });
-      continue;
-    }
-    if (!NAME_PATTERN.test(rawName)) {
-      report.push({ row, name: rawName, result: "refused", message: "The name must be 1–63 characters of letters, digits, dot, underscore, dash." });
-      continue;
-    }
-    const entries = rawEntries.split(/[\s;]+/).filter(Boolean);
-    if (entries.length === 0) {
-      report.push({ row, name: rawName, result: "refused", message: "No entries: give at least one address, CIDR or range." });
-      continue;
-    }
-    const library = await listSharedObjects(organisationId);
-    const existing = library.find((object) => object.name === rawName);
-    if (existing && existing.kind !== "address") {
-      report.push({ row, name: rawName, result: "refused", message: `"${rawName}" is a shared group; CSV import only writes address objects.` });
-      continue;
-    }
-    try {
-      await saveSharedObject(organisationId, existing ? rawName : null, { kind: "address", name: rawName, items: entries, description: existing?.description ?? "" }, actor);
-      report.push({ row, name: rawName, result: existing ? "updated" : "created", message: entries.join(" ") });
-    } catch (error) {
-      if (error instanceof Refusal) report.push({ row, name: rawName, result: "refused", message: error.message });
-      else throw error;
-    }
-  }
-  return report;
+}
+
+/** What importing the CSV would do: the row report and each device's exposure change. Saves nothing. */
+export function previewSharedObjectsCsv(organisationId: string, text: string): Promise<SharedChangePreview> {
+  return preview(organisationId, planCsv(csvRows(text)));
+}
+
+/** Imports the CSV's good rows as one change, through the same checks and device revisions as a single save. */
+export function importSharedObjectsCsv(organisationId: string, text: string, actor: AuditActor, confirmation: SharedChangeConfirmation): Promise<SavedSharedChange> {
+  return commit(organisationId, planCsv(csvRows(text)), actor, confirmation);
 }

@@ -11,6 +11,7 @@ import { generateModel, type ModelSize } from "#server/engine/testing/generate-m
 import { EMPTY_LIBRARY, validateDocument, type ModelDocument } from "#server/workspace/index";
 import { DEMO_PASSWORDS, signUpNewOrganisation, TestClient, type FetchResult } from "../support/client";
 import { plain, UUID } from "../support/html";
+import { confirmReview } from "../support/shared-objects";
 
 
 
@@ -481,9 +482,15 @@ describe("Import and export", () => {
     expect(exported.addresses[2].entries).toEqual(["10.30.0.0/24", "fd30::/48"]);
     expect(exported.addressGroups).toEqual([{ name: "all-admins", members: ["hq-admins"] }]);
 
-    // The library changes; the revision keeps the values it was saved with (docs/decisions/003).
-    expect((await client.post(`/o/${slug}/settings/shared-objects`, { intent: "save", original: "hq-admins", kind: "address", name: "hq-admins", items: "10.31.0.0/24", description: "" })).status).toBe(302);
+    // The library changes: the device uses it, so saving first shows the review, and the
+    // confirmation gives the device a new revision; revision 1 keeps the values it was saved
+    // with (docs/decisions/003).
+    const review = await client.post(`/o/${slug}/settings/shared-objects`, { intent: "save", original: "hq-admins", kind: "address", name: "hq-admins", items: "10.31.0.0/24", description: "" });
+    expect(review.status).toBe(200);
+    expect(plain(review.text)).toContain("Save and create 1 new revision");
+    expect((await confirmReview(client, `/o/${slug}/settings/shared-objects`, review)).status).toBe(302);
     expect((await device.exported(1)).addresses[2].entries).toEqual(["10.30.0.0/24", "fd30::/48"]);
+    expect((await device.exported(2)).addresses[2].entries).toEqual(["10.31.0.0/24"]);
     // Renaming or deleting a shared object a device uses is refused, naming the device (docs/decisions/003).
     const rename = await client.post(`/o/${slug}/settings/shared-objects`, { intent: "save", original: "hq-admins", kind: "address", name: "hq-admins-2", items: "10.31.0.0/24", description: "" });
     expect(rename.status).toBe(409);

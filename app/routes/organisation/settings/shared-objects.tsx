@@ -1,14 +1,26 @@
-import { Form, Link, redirect, useNavigation, useSearchParams } from "react-router";
+import { data, Form, Link, redirect, useNavigation, useSearchParams } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/shared-objects";
 import { serializeFlash } from "#server/auth/flash.server";
 import { requireRole } from "#server/auth/guard.server";
 import { hasAtLeastRole } from "#server/auth/roles";
 import { actorOf } from "#server/http/actor.server";
-import { fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
+import { fieldErrorsOf, formFailure, formValues, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
 import { ElementNameSchema } from "#server/http/schemas";
-import { deleteSharedObject, importSharedObjectsCsv, listSharedObjects, saveSharedObject } from "#server/services/shared-objects.server";
+import {
+  deleteSharedObject,
+  importSharedObjectsCsv,
+  listSharedObjects,
+  previewSharedObjectChange,
+  previewSharedObjectsCsv,
+  saveSharedObject,
+  type SavedSharedChange,
+  type SharedChangeConfirmation,
+  type SharedChangePreview,
+} from "#server/services/shared-objects.server";
 import { TextAreaField } from "#app/components/device/editor-kit";
+import { SharedChangeReview } from "#app/components/shared-objects/change-preview";
+import { CsvReport } from "#app/components/shared-objects/csv-report";
 import { Badge, Card } from "#app/components/ui/card";
 import { Button } from "#app/components/ui/button";
 import { EmptyState } from "#app/components/ui/empty-state";
@@ -16,13 +28,13 @@ import { FormError, LabelledOptions, SelectField, TextField } from "#app/compone
 import { SHARED_OBJECT_KINDS, type SharedObjectKind } from "#models/shared-address-object";
 import { Table, Td, Th } from "#app/components/ui/table";
 import { clientAddressOf } from "#server/http/request-context.server";
-import { refusedForm } from "#server/http/refusals.server";
+import { refusedForm, refusedWith } from "#server/http/refusals.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Shared objects · Sallyport" }];
 
 export async function loader({ context }: Route.LoaderArgs) {
   const access = requireRole(context);
-  return { objects: await listSharedObjects(access.organisation.id), canManage: hasAtLeastRole(access.role, "admin") };
+  return { objects: await listSharedObjects(access.organisation.id), canManage: hasAtLeastRole(access.role, "admin"), organisationPath: `/o/${access.organisation.slug}` };
 }
 
 const KIND_LABELS: Record<SharedObjectKind, string> = { address: "address object (entries)", group: "group (member names)" };
@@ -39,39 +51,98 @@ const SharedObjectSchema = z.object({
   description: z.string().trim().max(300, "Use at most 300 characters.").default(""),
 });
 
+/** The confirm step's fields: the library and device revisions the review showed. */
+const ConfirmationSchema = z.object({
+  library: z.string().regex(/^[0-9a-f]{64}$/),
+  bases: z.string().max(400_000).regex(/^([0-9a-f-]{36}:\d{1,9}(,[0-9a-f-]{36}:\d{1,9})*)?$/),
+});
+
+function confirmationOf(values: Record<string, string>): SharedChangeConfirmation | null {
+  if (values.confirm !== "1") return null;
+  const parsed = ConfirmationSchema.safeParse(values);
+  return parsed.success ? parsed.data : null;
+}
+
+/** "quay-edge r4, pier-b r7": which devices the save revised. */
+function revisionWords(saved: SavedSharedChange): string {
+  if (saved.revisions.length === 0) return "";
+  return ` New revisions: ${saved.revisions.map((revision) => `${revision.deviceName} r${revision.number}`).join(", ")}.`;
+}
+
+/**
+ * Saving a change to the library is two steps when it changes any device: the first submission
+ * answers with the review (each device's exposure diff), the confirmation saves — or answers 409
+ * with a fresh review when the library or a device changed in between.
+ */
 export async function action({ request, context }: Route.ActionArgs) {
   const access = requireRole(context, "admin");
   const actor = actorOf(access, clientAddressOf(context));
+  const organisationId = access.organisation.id;
   const form = await readForm(request);
   const values = formValues(form);
   const back = async (message: string) => redirect(`/o/${access.organisation.slug}/settings/shared-objects`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message }) } });
-  try {
-    switch (values.intent) {
-      case "save": {
-        const parsed = SharedObjectSchema.safeParse(values);
-        if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
-        const { original, ...input } = parsed.data;
-        await saveSharedObject(access.organisation.id, original, input, actor);
-        return back(`Shared ${input.kind === "group" ? "group" : "address object"} ${input.name} saved.`);
+  const confirmation = confirmationOf(values);
+  if (values.confirm === "1" && !confirmation) return invalidForm({ form: "The confirmation is incomplete; review the change again." }, values);
+  // A refused confirmation shows the change's effect as it is now, ready to confirm again.
+  const refusedWithReview = async (error: unknown, review: () => Promise<SharedChangePreview>, kept: Record<string, string>) => {
+    const fresh = confirmation ? await review().catch(() => null) : null;
+    return refusedWith(error, (refusal) => ({
+      ...formFailure({ form: refusal.message, ...(refusal.field ? { [refusal.field]: refusal.message } : {}) }, kept, { issues: refusal.issues }),
+      preview: fresh?.devices.length ? fresh : null,
+    }));
+  };
+  switch (values.intent) {
+    case "save": {
+      const parsed = SharedObjectSchema.safeParse(values);
+      if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
+      const { original, ...input } = parsed.data;
+      const review = () => previewSharedObjectChange(organisationId, original, input);
+      try {
+        let saved: SavedSharedChange;
+        if (confirmation) saved = await saveSharedObject(organisationId, original, input, actor, confirmation);
+        else {
+          const preview = await review();
+          if (preview.devices.length > 0) return data({ ok: true as const, preview, values });
+          saved = await saveSharedObject(organisationId, original, input, actor, preview.confirmation);
+        }
+        return back(`Shared ${input.kind === "group" ? "group" : "address object"} ${input.name} saved.${revisionWords(saved)}`);
+      } catch (error) {
+        return refusedWithReview(error, review, values);
       }
-      case "delete": {
-        const name = z.string().trim().min(1).max(63).safeParse(values.name);
-        if (!name.success) return invalidForm({ form: "Name the object to delete." }, values);
-        await deleteSharedObject(access.organisation.id, name.data, actor);
-        return back(`Shared object ${name.data} deleted.`);
-      }
-      case "import-csv": {
-        const upload = form.get("file");
-        const text = upload && typeof upload !== "string" ? await upload.text() : (values.csv ?? "");
-        if (!text.trim()) return invalidForm({ csv: "Choose a CSV file or paste rows." }, values);
-        if (text.length > 512 * 1024) return invalidForm({ csv: "The CSV is larger than 512 KiB." }, values);
-        return { ok: true as const, report: await importSharedObjectsCsv(access.organisation.id, text, actor) };
-      }
-      default:
-        return unknownIntent(values.intent);
     }
-  } catch (error) {
-    return refusedForm(error, values);
+    case "delete": {
+      const name = z.string().trim().min(1).max(63).safeParse(values.name);
+      if (!name.success) return invalidForm({ form: "Name the object to delete." }, values);
+      try {
+        await deleteSharedObject(organisationId, name.data, actor);
+      } catch (error) {
+        return refusedForm(error, values);
+      }
+      return back(`Shared object ${name.data} deleted.`);
+    }
+    case "import-csv": {
+      const upload = form.get("file");
+      const text = upload && typeof upload !== "string" ? await upload.text() : (values.csv ?? "");
+      if (!text.trim()) return invalidForm({ csv: "Choose a CSV file or paste rows." }, values);
+      if (text.length > 512 * 1024) return invalidForm({ csv: "The CSV is larger than 512 KiB." }, values);
+      const review = () => previewSharedObjectsCsv(organisationId, text);
+      // The file travels on as text, so the confirmation imports exactly what was reviewed.
+      const kept = { intent: "import-csv", csv: text };
+      try {
+        let saved: SavedSharedChange;
+        if (confirmation) saved = await importSharedObjectsCsv(organisationId, text, actor, confirmation);
+        else {
+          const preview = await review();
+          if (preview.devices.length > 0) return data({ ok: true as const, preview, values: kept });
+          saved = await importSharedObjectsCsv(organisationId, text, actor, preview.confirmation);
+        }
+        return { ok: true as const, report: saved.report ?? [], revisions: saved.revisions };
+      } catch (error) {
+        return refusedWithReview(error, review, kept);
+      }
+    }
+    default:
+      return unknownIntent(values.intent);
   }
 }
 
@@ -81,14 +152,19 @@ export default function SharedObjects({ loaderData, actionData }: Route.Componen
   const editing = loaderData.objects.find((object) => object.name === searchParams.get("edit"));
   const failed = actionData && "errors" in actionData ? actionData : null;
   const errors: Record<string, string> = failed?.errors ?? {};
-  const values: Record<string, string> = failed?.values ?? {};
+  const values: Record<string, string> = actionData && "values" in actionData ? actionData.values : {};
   const report = actionData && "report" in actionData ? actionData.report : null;
+  const preview = actionData && "preview" in actionData ? actionData.preview : null;
+  // What the confirmation sends again: the change as the user entered it.
+  const reviewFields: Record<string, string> = values.intent === "import-csv" ? { intent: "import-csv", csv: values.csv ?? "" } : { intent: "save", original: values.original ?? "", kind: values.kind ?? "", name: values.name ?? "", items: values.items ?? "", description: values.description ?? "" };
+  const pagePath = `${loaderData.organisationPath}/settings/shared-objects`;
   return (
-    <div className="space-y-8">
+    <div className="min-w-0 space-y-8" data-testid="shared-objects-page">
       <p className="max-w-3xl text-sm text-ink-muted">
-        Address objects and groups that every device of this organisation can use by name — such as the operator networks the team administers from. Edit one here and each device's next revision uses the new value; every revision records the values it was saved with.
+        Address objects and groups that every device of this organisation can use by name — such as the operator networks the team administers from. Changing one gives every device that uses it a new revision at once, after you have reviewed how each device's exposure changes; every revision records the values it was saved with.
       </p>
       <FormError message={errors.form} />
+      {preview ? <SharedChangeReview preview={preview} fields={reviewFields} organisationPath={loaderData.organisationPath} cancelPath={values.intent === "save" && values.original ? `${pagePath}?edit=${encodeURIComponent(values.original)}` : pagePath} /> : null}
       <div className="grid gap-6 xl:grid-cols-[1fr_26rem]">
         {loaderData.objects.length === 0 ? (
           <EmptyState title="No shared objects yet">Add the networks your team administers from once, and use them on every device.</EmptyState>
@@ -135,7 +211,7 @@ export default function SharedObjects({ loaderData, actionData }: Route.Componen
         {loaderData.canManage ? (
           <Card className="p-5">
             <h2 className="mb-4 text-sm font-semibold">{editing ? `Edit ${editing.name}` : "Add a shared object"}</h2>
-            <Form method="post" className="space-y-4" noValidate key={editing?.id ?? "new"}>
+            <Form method="post" className="space-y-4" noValidate key={`${editing?.id ?? "new"}:${values.items ?? ""}`}>
               <input type="hidden" name="intent" value="save" />
               <input type="hidden" name="original" value={editing?.name ?? ""} />
               <SelectField label="Kind" name="kind" defaultValue={values.kind ?? editing?.kind ?? "address"} error={errors.kind}>
@@ -159,9 +235,9 @@ export default function SharedObjects({ loaderData, actionData }: Route.Componen
           </p>
           <Form method="post" encType="multipart/form-data" className="mt-4 flex flex-wrap items-end gap-3" noValidate>
             <input type="hidden" name="intent" value="import-csv" />
-            <label className="text-sm">
+            <label className="max-w-full min-w-0 text-sm">
               <span className="mb-1 block font-medium">CSV file</span>
-              <input type="file" name="file" accept=".csv,text/csv" className="text-sm" />
+              <input type="file" name="file" accept=".csv,text/csv" className="max-w-full text-sm" />
             </label>
             <Button type="submit" variant="secondary" disabled={navigation.state === "submitting"}>
               Import CSV
@@ -174,31 +250,7 @@ export default function SharedObjects({ loaderData, actionData }: Route.Componen
           </Form>
           {report ? (
             <div className="mt-4">
-              <Table>
-                <caption className="p-2 text-left text-sm font-medium">
-                  {report.filter((row) => row.result !== "refused").length} saved, {report.filter((row) => row.result === "refused").length} refused
-                </caption>
-                <thead>
-                  <tr>
-                    <Th>Row</Th>
-                    <Th>Name</Th>
-                    <Th>Result</Th>
-                    <Th>Detail</Th>
-                  </tr>
-                </thead>
-                <tbody>
-                  {report.map((row) => (
-                    <tr key={row.row}>
-                      <Td className="tabular">{row.row}</Td>
-                      <Td className="font-mono">{row.name}</Td>
-                      <Td>
-                        <Badge tone={row.result === "refused" ? "danger" : "success"}>{row.result}</Badge>
-                      </Td>
-                      <Td className="text-xs">{row.message}</Td>
-                    </tr>
-                  ))}
-                </tbody>
-              </Table>
+              <CsvReport report={report} />
             </div>
           ) : null}
         </Card>

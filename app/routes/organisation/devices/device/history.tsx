@@ -3,6 +3,7 @@ import type { Route } from "./+types/history";
 import { requireDevice, requireDeviceRevision, revisionNumberOf } from "#server/http/device-access.server";
 import { listRevisions } from "#server/services/devices.server";
 import { diffDocuments } from "#server/workspace/index";
+import { DocumentChanges } from "#app/components/device/document-changes";
 import { Card } from "#app/components/ui/card";
 import { Table, Td, Th } from "#app/components/ui/table";
 
@@ -91,20 +92,7 @@ export default function History({ loaderData }: Route.ComponentProps) {
           ) : changes.length === 0 ? (
             <p className="mt-2 text-sm text-ink-muted">No differences in the model.</p>
           ) : (
-            <ul className="mt-3 space-y-2 text-sm">
-              {changes.map((change, index) => (
-                <li key={index} className="border-l-2 border-line-strong pl-3">
-                  <span className="font-medium">{change.section}</span> · {change.change} <code>{change.element}</code>
-                  {change.details.length > 0 ? (
-                    <ul className="mt-1 font-mono text-xs text-ink-muted">
-                      {change.details.map((detail, detailIndex) => (
-                        <li key={detailIndex}>{detail}</li>
-                      ))}
-                    </ul>
-                  ) : null}
-                </li>
-              ))}
-            </ul>
+            <DocumentChanges changes={changes} className="mt-3" />
           )}
         </Card>
       </section>
