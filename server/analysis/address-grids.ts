@@ -8,7 +8,7 @@
 // Outcomes are passed as ranks (0 = silent … 5 = login-password, the order of OUTCOMES), so
 // these helpers stay independent of the names.
 
-import { AddressSyntaxError, FAMILY, formatCidr, parseCidr, type AddressRange, type Family } from "../engine/addresses.ts";
+import { AddressSyntaxError, FAMILY, formatCidr, parseCidr, pushCidrs, type AddressRange, type Family } from "../engine/addresses.ts";
 
 /** A rank meaning "no outcome" (an hour or a cell the partition does not cover). */
 export const NO_RANK = 255;
@@ -174,6 +174,10 @@ export interface ZoomView {
   readonly cells: ZoomCell[];
   /** Addresses of each outcome rank in the whole block, decimal. */
   readonly counts: string[];
+  /** The special-purpose block the whole view lies in, as "Documentation, RFC 3849", or null. */
+  readonly special: string | null;
+  /** The uniform cells of each outcome as minimal CIDR blocks (neighbours merged), most cells first. */
+  readonly uniform: { readonly rank: number; readonly cells: number; readonly cidrs: string[] }[];
 }
 
 /**
@@ -275,6 +279,24 @@ export function zoomView(family: Family, segments: readonly Segment[], block: st
       marked: special !== null && special.marked !== false,
     });
   }
+  // Inside one special-purpose block the view says so once, instead of marking every cell.
+  const whole = specialOf(family, range.first, range.last);
+  if (whole) for (let cell = 0; cell < cells.length; cell++) if (cells[cell].special === `${whole.label}, ${whole.source}`) cells[cell] = { ...cells[cell], marked: false };
+  // Runs of neighbouring uniform cells of one outcome, read back as CIDR blocks (RFC 4632 aggregation).
+  const uniform = new Map<number, { cells: number; cidrs: string[] }>();
+  for (let cell = 0; cell < cells.length; ) {
+    if (!cells[cell].uniform) {
+      cell += 1;
+      continue;
+    }
+    let end = cell;
+    while (end + 1 < cells.length && cells[end + 1].uniform && cells[end + 1].top === cells[cell].top) end += 1;
+    const entry = uniform.get(cells[cell].top) ?? { cells: 0, cidrs: [] };
+    entry.cells += end - cell + 1;
+    pushCidrs(entry.cidrs, family, range.first + BigInt(cell) * cellSize, range.first + BigInt(end + 1) * cellSize - 1n);
+    uniform.set(cells[cell].top, entry);
+    cell = end + 1;
+  }
   return {
     family,
     block,
@@ -283,6 +305,8 @@ export function zoomView(family: Family, segments: readonly Segment[], block: st
     columns: 2 ** Math.ceil((cellPrefix - prefix) / 2),
     cells,
     counts: total.map(String),
+    special: whole ? `${whole.label}, ${whole.source}` : null,
+    uniform: [...uniform.entries()].map(([rank, entry]) => ({ rank, ...entry })).sort((a, b) => b.cells - a.cells || b.rank - a.rank),
   };
 }
 

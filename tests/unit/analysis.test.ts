@@ -173,6 +173,11 @@ describe("The address-space drill-down", () => {
     expect(view.trail).toEqual(["0.0.0.0/0"]);
     expect(cellAt(view, "192.0.2.0")).toMatchObject({ cidr: "192.0.2.0/24", uniform: true, top: 2, special: "Documentation, RFC 5737" });
     expect(view.cells.filter((candidate) => candidate.top === 2)).toHaveLength(1);
+    // In words: the uniform cells of each outcome as merged CIDR blocks, the commonest first.
+    expect(view.uniform.map((group) => [group.rank, group.cells])).toEqual([[0, 255], [2, 1]]);
+    expect(view.uniform[1].cidrs).toEqual(["192.0.2.0/24"]);
+    expect(view.uniform[0].cidrs.slice(0, 3)).toEqual(["192.0.0.0/23", "192.0.3.0/24", "192.0.4.0/22"]);
+    expect(addressCount(view.uniform[0].cidrs)).toBe(2n ** 16n - 256n); // the rest of the /16 (RFC 4632 §3.1)
     // A block typed into the URL is reached from its nearest view.
     expect(trailTo(4, segments, "192.0.2.0/24")).toEqual(["0.0.0.0/0", "192.0.0.0/16"]);
     expect(trailTo(4, segments, "192.0.2.0/25")).toEqual(["0.0.0.0/0", "192.0.0.0/16", "192.0.2.0/24"]);
@@ -193,6 +198,10 @@ describe("The address-space drill-down", () => {
     expect(view.trail).toEqual(["::/0"]);
     expect(view.cells.filter((candidate) => candidate.top === 4 && candidate.uniform)).toHaveLength(16); // a /48 is 16 cells of /52
     expect(cellAt(view, "2001:db8:4c46::").cidr).toBe("2001:db8:4c46::/52"); // RFC 5952 text
+    // Inside documentation space the view names it once rather than marking all 256 cells.
+    expect(view.special).toBe("Documentation, RFC 3849");
+    expect(view.cells.some((candidate) => candidate.marked)).toBe(false);
+    expect(root.special).toBeNull();
     expect(cellAt(root, "fd00::1")).toMatchObject({ special: "Unique local, RFC 4193", marked: true });
   });
 

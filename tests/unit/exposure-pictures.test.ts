@@ -50,6 +50,15 @@ function checkView(device: CompiledModel, entry: ExposureEntry, view: ZoomView, 
   const segments = segmentsOf(family, OUTCOMES.map((outcome) => entry.ranges[outcome]));
   expect(sum(view.counts)).toBe(sizeOf(view.block)); // the cells cover the block exactly (RFC 4632 §3.1)
   expect(view.cells.length).toBe(2 ** (view.cellPrefix - prefixOf(view.block)));
+  // The view in words: uniform cells merged into blocks, each block's ends traced to its outcome.
+  expect(view.uniform.reduce((total, group) => total + group.cells, 0) + view.cells.filter((cell) => !cell.uniform).length).toBe(view.cells.length);
+  for (const group of view.uniform) {
+    for (const text of group.cidrs.slice(0, 4)) {
+      const range = cidrBlock(text)!;
+      expect(outcomeFrom(device, entry, family, range.first, at), text).toBe(OUTCOMES[group.rank]);
+      expect(outcomeFrom(device, entry, family, range.last, at), text).toBe(OUTCOMES[group.rank]);
+    }
+  }
   const next: ZoomView[] = [];
   for (const index of sample(view.cells.length)) {
     const cell = view.cells[index];

@@ -21,18 +21,18 @@ function countWords(decimal: string): string {
   return `about ${text.replace("≈ ", "").replace(/[⁰¹²³⁴⁵⁶⁷⁸⁹]+/, (digits) => `^${[...digits].map((digit) => "⁰¹²³⁴⁵⁶⁷⁸⁹".indexOf(digit)).join("")}`)}`;
 }
 
-/** "2,048 login with second factor, 254 no answer": the outcomes present, most exposed first. */
-function countsInWords(counts: readonly string[]): string {
+/** "2,048 login with second factor, 254 no answer": the outcomes present, most exposed first; `spoken` for labels read aloud. */
+function countsInWords(counts: readonly string[], spoken = false): string {
   return [...OUTCOMES.keys()]
     .reverse()
     .filter((rank) => counts[rank] !== "0")
-    .map((rank) => `${countWords(counts[rank])} ${OUTCOME_LABELS[OUTCOMES[rank]].toLowerCase()}`)
+    .map((rank) => `${spoken ? countWords(counts[rank]) : formatCount(counts[rank]).text} ${OUTCOME_LABELS[OUTCOMES[rank]].toLowerCase()}`)
     .join(", ");
 }
 
-function cellWords(cell: ZoomCell): string {
+function cellWords(cell: ZoomCell, spoken = false): string {
   const outcome = outcomeAt(cell.top);
-  const what = cell.uniform && outcome ? `all ${OUTCOME_LABELS[outcome].toLowerCase()}` : `outcomes change here: ${countsInWords(cell.counts)}`;
+  const what = cell.uniform && outcome ? `all ${OUTCOME_LABELS[outcome].toLowerCase()}` : `outcomes change here: ${countsInWords(cell.counts, spoken)}`;
   return `${cell.cidr}${cell.special ? ` (${cell.special})` : ""}: ${what}`;
 }
 
@@ -53,10 +53,6 @@ export function AddressZoom({ view, problem }: { view: ZoomView; problem: string
   const cellSize = view.cellPrefix;
   const mixed = view.cells.filter((cell) => !cell.uniform);
   const present = OUTCOMES.filter((_, rank) => view.cells.some((cell) => cell.counts[rank] !== "0"));
-  // Uniform cells by outcome: the commonest is summarised, the others listed by block.
-  const uniformBy = new Map<number, ZoomCell[]>();
-  for (const cell of view.cells) if (cell.uniform) uniformBy.set(cell.top, [...(uniformBy.get(cell.top) ?? []), cell]);
-  const commonest = [...uniformBy.entries()].reduce<[number, ZoomCell[]] | null>((best, entry) => (!best || entry[1].length > best[1].length ? entry : best), null);
   const shown = active === null ? null : view.cells[active];
   const parent = view.trail.at(-1) ?? null;
   return (
@@ -95,7 +91,8 @@ export function AddressZoom({ view, problem }: { view: ZoomView; problem: string
         <div className="w-full max-w-[30rem] min-w-0">
           <table className="w-full table-fixed border-separate border-spacing-[2px] text-[9px] sm:text-[10px]" onMouseLeave={() => setActive(null)}>
             <caption className="mb-1 text-left text-xs text-ink-muted">
-              {view.block}: {view.cells.length.toLocaleString("en")} cells of /{cellSize}, in address order (left to right, then down). Hover or focus a cell for its counts; striped cells link to where their outcomes change.
+              {view.block}
+              {view.special ? ` (${view.special})` : ""}: {view.cells.length.toLocaleString("en")} cells of /{cellSize}, in address order (left to right, then down). Hover or focus a cell for its counts; striped cells link to where their outcomes change.
             </caption>
             <thead>
               <tr>
@@ -103,8 +100,9 @@ export function AddressZoom({ view, problem }: { view: ZoomView; problem: string
                   <span className="sr-only">First cell of the row</span>
                 </th>
                 {Array.from({ length: view.columns }, (_, column) => (
+                  // Every fourth column labelled on narrow screens, where "+10" does not fit a cell.
                   <th key={column} scope="col" className="font-normal text-ink-faint">
-                    +{column.toString(radix)}
+                    <span className={column % 4 ? "max-sm:sr-only" : undefined}>+{column.toString(radix)}</span>
                   </th>
                 ))}
               </tr>
@@ -127,7 +125,7 @@ export function AddressZoom({ view, problem }: { view: ZoomView; problem: string
                           <Link
                             to={linkTo(cell.zoom)}
                             preventScrollReset
-                            aria-label={`${words}. Zoom in to ${cell.zoom}`}
+                            aria-label={`${cellWords(cell, true)}. Zoom in to ${cell.zoom}`}
                             title={`${words}. Select to zoom in to ${cell.zoom}.`}
                             onFocus={() => setActive(index)}
                             onMouseEnter={() => setActive(index)}
@@ -153,7 +151,7 @@ export function AddressZoom({ view, problem }: { view: ZoomView; problem: string
           </table>
         </div>
 
-        <div className="min-w-64 flex-1 space-y-3 text-xs">
+        <div className="min-w-0 flex-1 basis-64 space-y-3 text-xs">
           <p className="min-h-[3.5em] rounded-control border border-line bg-surface-sunken px-3 py-2 text-sm" aria-hidden="true">
             {shown ? (
               <>
@@ -195,47 +193,29 @@ export function AddressZoom({ view, problem }: { view: ZoomView; problem: string
         </div>
       </div>
 
-      <ViewInWords view={view} mixed={mixed} uniformBy={uniformBy} commonest={commonest?.[0] ?? null} linkTo={linkTo} />
+      <ViewInWords view={view} mixed={mixed} linkTo={linkTo} />
     </div>
   );
 }
 
-/** The view as text: the commonest uniform outcome in a sentence, the other uniform cells and the mixed ones listed. */
-function ViewInWords({
-  view,
-  mixed,
-  uniformBy,
-  commonest,
-  linkTo,
-}: {
-  view: ZoomView;
-  mixed: readonly ZoomCell[];
-  uniformBy: ReadonlyMap<number, readonly ZoomCell[]>;
-  commonest: number | null;
-  linkTo: (block: string) => string;
-}) {
+/** The view as text: the commonest uniform outcome in a sentence, the other uniform blocks and the mixed cells listed. */
+function ViewInWords({ view, mixed, linkTo }: { view: ZoomView; mixed: readonly ZoomCell[]; linkTo: (block: string) => string }) {
   const LIMIT = 12;
   // Most exposed first, as the reader looks for exposure.
   const ranked = [...mixed].sort((a, b) => b.top - a.top);
-  const others = [...uniformBy.entries()].filter(([rank]) => rank !== commonest).sort((a, b) => b[0] - a[0]);
+  const [commonest, ...others] = view.uniform;
   const name = (rank: number): string => OUTCOME_LABELS[outcomeAt(rank) ?? "silent"].toLowerCase();
   return (
     <div className="space-y-2 text-sm">
       <p>
         In {view.block}: {countsInWords(view.counts)}.{" "}
-        {commonest !== null ? (
-          <>
-            {(uniformBy.get(commonest)?.length ?? 0).toLocaleString("en")} of {view.cells.length.toLocaleString("en")} cells are all {name(commonest)}
-            {mixed.length ? `; ${mixed.length.toLocaleString("en")} ${mixed.length === 1 ? "has" : "have"} several outcomes` : ""}.
-          </>
-        ) : (
-          `Every cell has several outcomes.`
-        )}
+        {commonest ? `${commonest.cells.toLocaleString("en")} of ${view.cells.length.toLocaleString("en")} cells are all ${name(commonest.rank)}` : "Every cell has several outcomes"}
+        {commonest && mixed.length ? `; ${mixed.length.toLocaleString("en")} ${mixed.length === 1 ? "has" : "have"} several outcomes` : ""}.
       </p>
-      {others.map(([rank, cells]) => (
-        <p key={rank}>
-          All {name(rank)}: <span className="font-mono text-xs">{cells.slice(0, LIMIT).map((cell) => cell.cidr).join(", ")}</span>
-          {cells.length > LIMIT ? ` and ${(cells.length - LIMIT).toLocaleString("en")} more` : ""}
+      {[...others].sort((a, b) => b.rank - a.rank).map((group) => (
+        <p key={group.rank}>
+          All {name(group.rank)}: <span className="font-mono text-xs">{group.cidrs.slice(0, LIMIT).join(", ")}</span>
+          {group.cidrs.length > LIMIT ? ` and ${(group.cidrs.length - LIMIT).toLocaleString("en")} more blocks` : ""}
         </p>
       ))}
       {ranked.length ? (

@@ -54,7 +54,9 @@ export function WeekHourView({ week, current, timezone }: { week: WeekView; curr
           {week.changingBlocks > week.changing.length ? ` and ${(week.changingBlocks - week.changing.length).toLocaleString("en")} more blocks` : ""}. The hours below show their worst outcome.
         </dd>
       </dl>
-      <div className="overflow-x-auto">
+      {/* Scrolls inside the card on a narrow screen; focusable so the keyboard can scroll it (WCAG 2.1.1). */}
+      {/* eslint-disable-next-line jsx-a11y/no-noninteractive-tabindex -- a scrolling region must take focus to be scrolled by keyboard (axe scrollable-region-focusable) */}
+      <div className="overflow-x-auto" role="region" aria-label="Week by hour" tabIndex={0}>
         <table className="w-full min-w-[20rem] table-fixed border-separate border-spacing-[2px] text-[9px] sm:text-[10px]">
           <caption className="mb-1 text-left text-xs text-ink-muted">
             Worst outcome of the changing addresses in each hour, device clock ({timezone}).
@@ -65,8 +67,9 @@ export function WeekHourView({ week, current, timezone }: { week: WeekView; curr
                 <span className="sr-only">Day</span>
               </th>
               {Array.from({ length: 24 }, (_, hour) => (
+                // Every third hour labelled on narrow screens, where two digits do not fit a cell.
                 <th key={hour} scope="col" className="text-center font-normal text-ink-faint tabular">
-                  {String(hour).padStart(2, "0")}
+                  <span className={hour % 3 ? "max-sm:sr-only" : undefined}>{String(hour).padStart(2, "0")}</span>
                 </th>
               ))}
             </tr>
@@ -103,12 +106,14 @@ export function WeekHourView({ week, current, timezone }: { week: WeekView; curr
         outcomes={present}
         extra={
           <>
-            <li className="flex items-center gap-1.5">
-              <span aria-hidden="true" className="relative inline-block size-4 rounded-[3px] border border-line-strong bg-surface">
-                <span className="absolute top-0 right-0 size-0 border-t-[6px] border-l-[6px] border-t-ink border-l-transparent" />
-              </span>
-              Corner notch: the outcome changes within the hour
-            </li>
+            {week.hours.some((cell) => cell.changes) ? (
+              <li className="flex items-center gap-1.5">
+                <span aria-hidden="true" className="relative inline-block size-4 rounded-[3px] border border-line-strong bg-surface">
+                  <span className="absolute top-0 right-0 size-0 border-t-[6px] border-l-[6px] border-t-ink border-l-transparent" />
+                </span>
+                Corner notch: the outcome changes within the hour
+              </li>
+            ) : null}
             {current !== null ? (
               <li className="flex items-center gap-1.5">
                 <span aria-hidden="true" className="inline-block size-4 rounded-[3px] border border-line-strong bg-surface outline-2 outline-offset-1 outline-ink" />

@@ -212,12 +212,16 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
               </Card>
 
               <Card className="p-4 sm:p-5">
-                <h4 className="mb-2 text-sm font-semibold">Over the week</h4>
+                <section aria-labelledby="week-heading">
+                <h4 id="week-heading" className="mb-2 text-sm font-semibold">
+                  Over the week
+                </h4>
                 {focus.week ? (
                   <WeekHourView week={focus.week} current={hourIndexOf(answer.localTime)} timezone={timezone} />
                 ) : (
                   <p className="text-sm text-ink-muted">No schedule changes anything on this device: exposure does not change over the week.</p>
                 )}
+                </section>
               </Card>
 
               <section aria-labelledby="cidr-heading">
