@@ -4,7 +4,7 @@
 
 import { exposure, isOutcome, outcomeRank, OUTCOMES, ProbeError } from "../engine/index.ts";
 import type { CompiledModel, ExposureEntry, Outcome } from "../engine/index.ts";
-import { parseViewBlock, rootBlock, segmentsOf, topRank, zoomView, type ZoomView } from "./address-grids.ts";
+import { parseViewBlock, rootBlock, segmentsOf, topRank, zoomView, type Segment, type ZoomView } from "./address-grids.ts";
 import { pageOf } from "./paging.ts";
 import { weekChanges, weekHourGrid, type WeekView } from "./week-hours.ts";
 
@@ -136,6 +136,22 @@ export function answerExposure(device: CompiledModel, query: ExposureQuery): Exp
   };
 }
 
+/**
+ * An entry's partition as segments, parsed once per partition: entries of one partition share
+ * their counts object (the engine computes a shared partition once and keeps it while the
+ * compiled model lives), so that object keys the cache — across the slices of the week view
+ * and across requests as a reader zooms.
+ */
+const segmentsCache = new WeakMap<object, Segment[]>();
+function segmentsOfEntry(entry: ExposureEntry): Segment[] {
+  let segments = segmentsCache.get(entry.counts);
+  if (!segments) {
+    segments = segmentsOf(familyOf(entry.to), OUTCOMES.map((outcome) => entry.ranges[outcome]));
+    segmentsCache.set(entry.counts, segments);
+  }
+  return segments;
+}
+
 function focusOf(device: CompiledModel, entry: ExposureEntry, query: ExposureQuery) {
   const family = familyOf(entry.to);
   const ranges = entry.ranges;
@@ -147,7 +163,7 @@ function focusOf(device: CompiledModel, entry: ExposureEntry, query: ExposureQue
     .filter((outcome) => !query.outcome || outcome === query.outcome)
     .flatMap((outcome) => byRank[outcomeRank(outcome)].map((cidr) => ({ outcome, cidr })));
   const cidrPage = pageOf(query.page, cidrs.length);
-  const segments = segmentsOf(family, byRank);
+  const segments = segmentsOfEntry(entry);
   const requested = query.block ? parseViewBlock(family, query.block) : null;
   const view = zoomView(family, segments, requested?.ok ? requested.block : rootBlock(family));
   let week: WeekView | null = null;
@@ -155,7 +171,7 @@ function focusOf(device: CompiledModel, entry: ExposureEntry, query: ExposureQue
     const key = entryKey(entry);
     const slices = exposure(device).slices.map((slice) => {
       const same = slice.entries.find((candidate) => entryKey(candidate) === key);
-      return { start: slice.start, end: slice.end, startMinute: slice.startMinute, endMinute: slice.endMinute, segments: same ? segmentsOf(family, OUTCOMES.map((outcome) => same.ranges[outcome])) : [] };
+      return { start: slice.start, end: slice.end, startMinute: slice.startMinute, endMinute: slice.endMinute, segments: same ? segmentsOfEntry(same) : [] };
     });
     const changes = weekChanges(family, slices);
     // Each slice's rank is the worst outcome of the changing sources in it (-1: nothing changes).
