@@ -5,7 +5,8 @@ import { cx } from "./ui/cx";
 export const SEVERITY_ORDER: readonly Severity[] = [...SEVERITIES].reverse();
 
 export const SEVERITY_TONES: Record<Severity, string> = {
-  critical: "bg-danger text-white dark:text-black",
+  // The surface colour is white in light mode and near-black in dark mode, like the danger fill's contrast needs (a dark: variant would miss the system theme).
+  critical: "bg-danger text-surface",
   high: "bg-danger-soft text-danger border border-danger/40",
   medium: "bg-warning-soft text-warning border border-warning/40",
   low: "bg-info-soft text-info border border-info/30",

@@ -1,12 +1,13 @@
 // The exposure map for the page and its CSV: one instant's entries filtered by the URL, the
-// focused entry's CIDR lists (paged) and address-space grids, and its week × hour view.
+// focused entry's CIDR lists (paged), its address-space view (zoomed to the URL's block) and
+// its week × hour view.
 
 import { exposure, isOutcome, outcomeRank, OUTCOMES, ProbeError } from "../engine/index.ts";
 import type { CompiledModel, ExposureEntry, Outcome } from "../engine/index.ts";
 import { namesByKind } from "./catalogue.ts";
-import { buildGrid, cellsPerRank, gridRuns, IPV4_GRID, IPV6_GRIDS, topRank, type GridSpec } from "./address-grids.ts";
+import { parseViewBlock, rootBlock, segmentsOf, topRank, zoomView, type Segment, type ZoomView } from "./address-grids.ts";
 import { pageOf } from "./paging.ts";
-import { weekHourGrid, type HourCell } from "./week-hours.ts";
+import { weekChanges, weekHourGrid, type WeekView } from "./week-hours.ts";
 
 export interface ExposureQuery {
   readonly at: string;
@@ -17,6 +18,8 @@ export interface ExposureQuery {
   readonly focus: string;
   readonly page: string;
   readonly entryPage: string;
+  /** The block the address-space view shows ("" = the whole space). */
+  readonly block: string;
 }
 
 export function exposureQueryOf(url: URL): ExposureQuery {
@@ -32,6 +35,7 @@ export function exposureQueryOf(url: URL): ExposureQuery {
     focus: get("focus", 200),
     page: get("page", 10),
     entryPage: get("epage", 10),
+    block: get("block", 60),
   };
 }
 
@@ -48,13 +52,6 @@ export function filterEntries(entries: readonly ExposureEntry[], query: Exposure
       (!query.family || String(familyOf(entry.to)) === query.family) &&
       (!query.outcome || entry.counts[query.outcome] !== "0"),
   );
-}
-
-export interface GridView {
-  readonly spec: GridSpec;
-  /** Runs flattened as [row, column, length, rank, …] to keep the page data small. */
-  readonly runs: number[];
-  readonly cellsPerRank: number[];
 }
 
 export type ExposureAnswer =
@@ -80,10 +77,11 @@ export type ExposureAnswer =
         cidrs: { outcome: Outcome; cidr: string }[];
         cidrTotal: number;
         cidrPage: { page: number; pages: number; start: number };
-        grids: GridView[];
-        /** 168 hour cells, or null when exposure does not change over the week. */
-        week: HourCell[] | null;
-        weekSlices: { start: string; end: string; outcome: Outcome | null; exposed: string }[];
+        view: ZoomView;
+        /** Set when the URL's block could not be shown (the whole space is shown instead). */
+        blockProblem: string | null;
+        /** Null when the device's week has one slice. */
+        week: WeekView | null;
       };
     };
 
@@ -139,6 +137,22 @@ export function answerExposure(device: CompiledModel, query: ExposureQuery): Exp
   };
 }
 
+/**
+ * An entry's partition as segments, parsed once per partition: entries of one partition share
+ * their counts object (the engine computes a shared partition once and keeps it while the
+ * compiled model lives), so that object keys the cache — across the slices of the week view
+ * and across requests as a reader zooms.
+ */
+const segmentsCache = new WeakMap<object, Segment[]>();
+function segmentsOfEntry(entry: ExposureEntry): Segment[] {
+  let segments = segmentsCache.get(entry.counts);
+  if (!segments) {
+    segments = segmentsOf(familyOf(entry.to), OUTCOMES.map((outcome) => entry.ranges[outcome]));
+    segmentsCache.set(entry.counts, segments);
+  }
+  return segments;
+}
+
 function focusOf(device: CompiledModel, entry: ExposureEntry, query: ExposureQuery) {
   const family = familyOf(entry.to);
   const ranges = entry.ranges;
@@ -150,27 +164,27 @@ function focusOf(device: CompiledModel, entry: ExposureEntry, query: ExposureQue
     .filter((outcome) => !query.outcome || outcome === query.outcome)
     .flatMap((outcome) => byRank[outcomeRank(outcome)].map((cidr) => ({ outcome, cidr })));
   const cidrPage = pageOf(query.page, cidrs.length);
-  const grids = (family === 4 ? [IPV4_GRID] : IPV6_GRIDS).map((spec): GridView => {
-    const cells = buildGrid(spec, byRank);
-    return { spec, runs: gridRuns(cells, spec.columns).flatMap((run) => [run.row, run.column, run.length, run.rank]), cellsPerRank: cellsPerRank(cells) };
-  });
-  let week: HourCell[] | null = null;
-  let weekSlices: { start: string; end: string; outcome: Outcome | null; exposed: string }[] = [];
+  const segments = segmentsOfEntry(entry);
+  const requested = query.block ? parseViewBlock(family, query.block) : null;
+  const view = zoomView(family, segments, requested?.ok ? requested.block : rootBlock(family));
+  let week: WeekView | null = null;
   if (device.week.slices.length > 1) {
     const key = entryKey(entry);
     const slices = exposure(device).slices.map((slice) => {
       const same = slice.entries.find((candidate) => entryKey(candidate) === key);
-      const rank = same ? topRank(OUTCOMES.map((outcome) => same.counts[outcome])) : -1;
-      // Addresses that get any answer: the top outcome can stay the same while more sources reach it.
-      const exposed = same ? OUTCOMES.slice(1).reduce((sum, outcome) => sum + BigInt(same.counts[outcome]), 0n) : 0n;
-      return { start: slice.start, end: slice.end, startMinute: slice.startMinute, endMinute: slice.endMinute, rank, exposed };
+      return { start: slice.start, end: slice.end, startMinute: slice.startMinute, endMinute: slice.endMinute, segments: same ? segmentsOfEntry(same) : [] };
     });
-    week = weekHourGrid(slices);
-    // Levels of exposed-address counts (0 = the week's least), laid on the same hours.
-    const levels = [...new Set(slices.map((slice) => slice.exposed))].sort((a, b) => (a < b ? -1 : a > b ? 1 : 0));
-    const wider = weekHourGrid(slices.map((slice) => ({ ...slice, rank: levels.indexOf(slice.exposed) })));
-    week = week.map((cell, hour) => ({ ...cell, wider: wider[hour].top > 0 }));
-    weekSlices = slices.map((slice) => ({ start: slice.start, end: slice.end, outcome: slice.rank >= 0 ? OUTCOMES[slice.rank] : null, exposed: slice.exposed.toString() }));
+    const changes = weekChanges(family, slices);
+    // Each slice's rank is the worst outcome of the changing sources in it (-1: nothing changes).
+    const ranked = slices.map((slice, index) => ({ ...slice, rank: topRank(changes.perSlice[index].map(String)) }));
+    week = {
+      hours: weekHourGrid(ranked),
+      steady: changes.steady.map(String),
+      changing: changes.changing,
+      changingBlocks: changes.changingBlocks,
+      changingCount: changes.changingCount.toString(),
+      slices: ranked.map((slice, index) => ({ start: slice.start, end: slice.end, outcome: slice.rank >= 0 ? OUTCOMES[slice.rank] : null, counts: changes.perSlice[index].map(String) })),
+    };
   }
   return {
     key: entryKey(entry),
@@ -182,8 +196,8 @@ function focusOf(device: CompiledModel, entry: ExposureEntry, query: ExposureQue
     cidrs: cidrs.slice(cidrPage.start, cidrPage.end),
     cidrTotal: cidrs.length,
     cidrPage: { page: cidrPage.page, pages: cidrPage.pages, start: cidrPage.start },
-    grids,
+    view,
+    blockProblem: requested && !requested.ok ? `${requested.problem}; showing the whole IPv${family} space.` : null,
     week,
-    weekSlices,
   };
 }

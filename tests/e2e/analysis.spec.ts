@@ -10,8 +10,9 @@ async function deviceId(page: Page, name: string): Promise<string> {
   return id;
 }
 
-async function expectNoSeriousViolations(page: Page) {
-  const results = await new AxeBuilder({ page }).withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa"]).analyze();
+async function expectNoSeriousViolations(page: Page, within?: string) {
+  const builder = new AxeBuilder({ page }).withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa"]);
+  const results = await (within ? builder.include(within) : builder).analyze();
   const serious = results.violations.filter((violation) => violation.impact === "serious" || violation.impact === "critical");
   expect(serious.map((violation) => `${violation.id}: ${violation.help} (${violation.nodes.map((node) => node.target.join(" ")).slice(0, 3).join("; ")})`)).toEqual([]);
 }
@@ -108,3 +109,84 @@ test("The device pages have no serious accessibility violations", async ({ page 
     await expectNoSeriousViolations(page);
   }
 });
+
+/** Collects console errors and failed requests of a page, to assert none at the end. */
+function watchForErrors(page: Page): string[] {
+  const problems: string[] = [];
+  page.on("console", (message) => {
+    if (message.type() === "error") problems.push(`console: ${message.text()}`);
+  });
+  page.on("pageerror", (error) => problems.push(`page: ${error.message}`));
+  // A request the browser abandons because the test navigates on (net::ERR_ABORTED) is not a failure.
+  page.on("requestfailed", (request) => {
+    const reason = request.failure()?.errorText ?? "";
+    if (reason !== "net::ERR_ABORTED") problems.push(`request: ${request.url()} ${reason}`);
+  });
+  return problems;
+}
+
+for (const [width, scheme] of [
+  [1366, "light"],
+  [390, "dark"],
+] as const) {
+  test(`An engineer zooms into the address space to where the scanners are dropped, and back out (${width} px, ${scheme})`, async ({ page }) => {
+    await page.setViewportSize({ width, height: 900 });
+    await page.emulateMedia({ colorScheme: scheme });
+    const problems = watchForErrors(page);
+    await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+    const id = await deviceId(page, "clf-gw-02");
+    await page.goto(`/o/lanternfield/devices/${id}/exposure?interface=outside&service=https&family=4`);
+    const view = page.getByRole("region", { name: /Where in the IPv4 space the outcome changes/ });
+    await expect(view.getByRole("navigation", { name: "Address block shown" })).toContainText("All IPv4");
+    // seeders/devices/README.md: clf-gw-02 answers the internet with a password-only login except a blocked scanner range in 203.0.113.0/24.
+    const mixed = view.getByRole("link", { name: /^203\.0\.0\.0\/8: outcomes change here/ });
+    await mixed.focus();
+    await expect(view.getByText(/203\.0\.0\.0\/8.*select to zoom in to 203\.0\.113\.0\/24/s)).toBeVisible();
+    await screenshot(page, `37-address-view-${width}-${scheme}`);
+    await mixed.click();
+    await expect(page).toHaveURL(/block=203\.0\.113\.0%2F24/);
+    await expect(view.locator('[aria-current="location"]')).toHaveText("203.0.113.0/24");
+    // A cell of the dropped range reads "no answer", one outside it a password-only login; as trace says (seeders/devices/README.md).
+    await expect(view.locator('[title^="203.0.113.205/32"]')).toHaveAttribute("title", /all no answer/);
+    await expect(view.locator('[title^="203.0.113.50/32"]')).toHaveAttribute("title", /all login with password only/);
+    await screenshot(page, `38-address-view-zoomed-${width}-${scheme}`);
+    await expectNoSeriousViolations(page, "section[aria-labelledby=address-view-heading]");
+    await view.getByRole("link", { name: "Zoom out" }).click();
+    await expect(page).not.toHaveURL(/block=/);
+    await expect(view.locator('[aria-current="location"]')).toHaveText("All IPv4");
+    // The picture never widens the page.
+    expect(await page.evaluate(() => document.querySelector("section[aria-labelledby=address-view-heading]")!.scrollWidth <= document.querySelector("section[aria-labelledby=address-view-heading]")!.clientWidth + 1)).toBe(true);
+    expect(problems).toEqual([]);
+  });
+
+  test(`The week view lights the vendor's support window, and the fleet findings fit one line each (${width} px, ${scheme})`, async ({ page }) => {
+    await page.setViewportSize({ width, height: 900 });
+    await page.emulateMedia({ colorScheme: scheme });
+    const problems = watchForErrors(page);
+    await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+    const id = await deviceId(page, "clf-fw-01");
+    await page.goto(`/o/lanternfield/devices/${id}/exposure?interface=outside&service=https&family=4&at=2025-03-18T10:00`);
+    const week = page.getByRole("table", { name: /Worst outcome of the changing addresses in each hour/ });
+    // seeders/devices/README.md: quillstone-support reaches the login Mon–Fri 08:00–17:00 (America/Chicago).
+    await expect(week.getByRole("cell", { name: /Tue 10:00: Login with second factor — the chosen time/ })).toBeVisible();
+    await expect(week.getByRole("cell", { name: /Sat 10:00: No answer/ })).toBeVisible();
+    await expect(page.locator("dl").getByText("203.0.113.128/27", { exact: true })).toBeVisible();
+    await week.scrollIntoViewIfNeeded();
+    await screenshot(page, `39-week-view-${width}-${scheme}`);
+    await expectNoSeriousViolations(page, "section[aria-labelledby=week-heading]");
+
+    await page.goto("/o/lanternfield/findings");
+    const table = page.getByRole("table", { name: /grouped by check/ });
+    await expect(table.getByText("internet-login-exposed", { exact: true }).first()).toBeVisible();
+    const row = table.getByRole("row").filter({ hasText: 'https on "outside" presents a login' }).filter({ hasText: "clf-gw-02" });
+    await row.getByText('https on "outside" presents a login').click();
+    await expect(row.getByText(/^Witness: https from/)).toBeVisible();
+    await row.getByRole("link", { name: /Try it/ }).click();
+    await expect(page).toHaveURL(/\/analysis\?from=.*&service=https/);
+    await expect(page.getByLabel("Outcome", { exact: true })).toContainText("password");
+    await page.goto("/o/lanternfield/findings");
+    await screenshot(page, `40-findings-dense-${width}-${scheme}`);
+    await expectNoSeriousViolations(page, "main table");
+    expect(problems).toEqual([]);
+  });
+}

@@ -111,15 +111,51 @@ describe("Findings across the fleet", () => {
 
   test("Sorting by device orders the rows by device name; by severity the worst come first", async () => {
     const client = await signedIn("reviewer");
-    const byDevice = plain((await client.get("/o/lanternfield/findings?sort=device&dir=asc")).text);
+    // One list (no grouping), so the order runs across the whole page.
+    const byDevice = plain((await client.get("/o/lanternfield/findings?sort=device&dir=asc&group=none")).text);
     const devices = [...byDevice.matchAll(new RegExp(`href="/o/lanternfield/devices/${UUID}"[^>]*>([a-z0-9.-]+)<`, "g"))].map((match) => match[1]);
     expect(devices.length).toBeGreaterThan(5);
     expect(devices).toEqual([...devices].sort((a, b) => a.localeCompare(b)));
-    const bySeverity = plain((await client.get("/o/lanternfield/findings")).text);
+    const bySeverity = plain((await client.get("/o/lanternfield/findings?group=none")).text);
     const severities = [...bySeverity.matchAll(/<td[^>]*><span class="[^"]*uppercase[^"]*">(critical|high|medium|low|info)<\/span>/g)].map((match) => match[1]);
     const rank = ["info", "low", "medium", "high", "critical"];
     expect(severities.length).toBeGreaterThan(5);
     expect(severities.map((severity) => rank.indexOf(severity))).toEqual(severities.map((severity) => rank.indexOf(severity)).sort((a, b) => b - a));
+  });
+});
+
+describe("The fleet findings page is dense", () => {
+  test("By default findings sit under their check, worst group first, one row each, with the witness to try", async () => {
+    const client = await signedIn("engineer");
+    const id = await demoDeviceId(client, "clf-gw-02");
+    const text = plain((await client.get("/o/lanternfield/findings")).text);
+    // Group headers: the check's code and how many findings on how many devices.
+    const headers = [...text.matchAll(/<th colSpan="\d+" scope="colgroup"[^>]*>.*?<span class="[^"]*uppercase[^"]*">(critical|high|medium|low|info)<\/span><code[^>]*>([a-z-]+)<\/code><span[^>]*>(\d+) findings? on (\d+) devices?/g)].map((match) => ({ worst: match[1], code: match[2], findings: Number(match[3]) }));
+    expect(headers.length).toBeGreaterThan(5);
+    expect(new Set(headers.map((header) => header.code)).size).toBe(headers.length); // one group per check
+    const rank = ["info", "low", "medium", "high", "critical"];
+    expect(headers.map((header) => rank.indexOf(header.worst))).toEqual(headers.map((header) => rank.indexOf(header.worst)).sort((a, b) => b - a));
+    // Every finding is one row: the rows add up to the count the page announces.
+    const total = Number(text.match(/(\d+) of \d+ findings/)![1]);
+    expect(headers.reduce((sum, header) => sum + header.findings, 0)).toBe(total);
+    // The witness is kept: internet-login-exposed on clf-gw-02 links to the trace page with its probe.
+    const row = text.split("<tr").find((candidate) => candidate.includes('https on "outside" presents a login') && candidate.includes(`/o/lanternfield/devices/${id}"`))!;
+    expect(row).toContain("Witness: https from");
+    expect(row).toMatch(new RegExp(`href="/o/lanternfield/devices/${id}/analysis\\?from=[^"]+&interface=outside&service=https[^"]*"[^>]*>Try it`));
+    // The detail folds out under the title.
+    expect(row).toMatch(/<details[^>]*><summary[^>]*>https on "outside" presents a login/);
+  });
+
+  test("Grouped by device, each device heads its own findings", async () => {
+    const client = await signedIn("trainee");
+    const id = await demoDeviceId(client, "clf-gw-02");
+    const text = plain((await client.get("/o/lanternfield/findings?group=device")).text);
+    const groups = text.split('scope="colgroup"').slice(1);
+    const own = groups.find((group) => group.includes(`href="/o/lanternfield/devices/${id}"`))!;
+    // seeders/devices/README.md: clf-gw-02 has 10 findings.
+    expect(own).toMatch(/· 10 findings/);
+    expect(own).toContain('Account "admin" has a factory-default name');
+    expect((await client.get("/o/lanternfield/findings?group=colour")).status).toBe(200); // an unknown value groups by check
   });
 });
 

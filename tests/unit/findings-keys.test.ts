@@ -2,7 +2,7 @@
 // and the fleet findings page's filters and order, without a database.
 
 import { describe, expect, test } from "vitest";
-import { filterFindingRows, parseFindingsQuery, sortFindingRows, type FindingRowLike } from "#app/utils/finding-keys";
+import { filterFindingRows, groupFindingRows, parseFindingsQuery, sortFindingRows, type FindingRowLike } from "#app/utils/finding-keys";
 import { countBySeverity, findingKey, parseFindingKey } from "#server/engine/finding-keys";
 
 describe("Finding keys", () => {
@@ -46,7 +46,24 @@ describe("Fleet findings filters and order", () => {
 
   test("Unknown query values fall back to no filter, and counts cover every severity", () => {
     const query = parseFindingsQuery(new URLSearchParams("severity=dire&code=<x>&site=nope&sort=colour"));
-    expect(query).toMatchObject({ minSeverity: "", code: "", site: "", sort: "severity", descending: true, showDismissed: false });
+    expect(query).toMatchObject({ minSeverity: "", code: "", site: "", sort: "severity", descending: true, showDismissed: false, group: "code" });
     expect(countBySeverity(rows)).toEqual({ info: 0, low: 1, medium: 1, high: 1, critical: 1 });
+  });
+
+  test("Grouping keeps each group's rows in order, puts groups with the worst active finding first, and dismissed-only groups last", () => {
+    const all = [...rows, row("info", "b-gw", "lockout"), row("high", "d-gw", "unused-object", true)];
+    const sorted = sortFindingRows(all, "severity", true);
+    const byCode = groupFindingRows(sorted, "code");
+    expect(byCode.map((group) => group.key)).toEqual(["lockout", "shadowed-rule", "internet-ping", "no-second-factor", "unused-object"]);
+    expect(byCode[0]).toMatchObject({ worst: "critical", active: 2 });
+    expect(byCode[0].rows.map((entry) => entry.deviceName)).toEqual(["a-gw", "b-gw"]);
+    // A dismissed finding does not make its group look worse than its active ones.
+    expect(byCode.at(-1)).toMatchObject({ key: "unused-object", worst: "high", active: 0 });
+    const byDevice = groupFindingRows(sorted, "device");
+    expect(byDevice.map((group) => group.key)).toEqual(["a-gw-id", "b-gw-id", "c-gw-id", "d-gw-id"]);
+    expect(byDevice[0].rows.map((entry) => entry.code)).toEqual(["lockout", "shadowed-rule"]);
+    expect(groupFindingRows(sorted, "none")).toEqual([{ key: "", rows: sorted, worst: "critical", active: 4 }]);
+    // Every row lands in exactly one group.
+    for (const by of ["code", "device", "none"] as const) expect(groupFindingRows(sorted, by).flatMap((group) => group.rows)).toHaveLength(all.length);
   });
 });

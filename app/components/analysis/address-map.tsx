@@ -1,204 +1,240 @@
-import { useId } from "react";
+import { useState } from "react";
+import { Link, useSearchParams } from "react-router";
 import { OUTCOME_LABELS } from "#app/components/outcome";
+import { formatCount } from "#app/utils/analysis";
 import { OUTCOMES } from "#server/engine/vocabulary";
-import { buildGrid, gridRuns, type GridSpec } from "#server/analysis/address-grids";
+import type { ZoomCell, ZoomView } from "#server/analysis/address-grids";
+import { CellMark, cellStyle, OutcomeLegend, outcomeAt } from "./outcome-marks";
 
-// The address-space picture: each cell a block of addresses, filled with the most exposed
-// outcome present in it. Drawn as SVG with one rect per run of equal cells in a row (a
-// handful for the demo devices), so it renders on the server and follows the theme tokens.
-// Special-purpose space is drawn over it as hatched, outlined areas, named in the legend.
+// The address-space picture: one block of the source space as up to 16 × 16 cells, each
+// filled with its outcome (a letter as well as a colour), mixed cells striped and linked to
+// the block where their changes are, a breadcrumb back out, and the view in words below for
+// those who do not use the picture. The server computes every cell (server/analysis/
+// address-grids.ts); this file only draws.
 
-const CELL = 2;
-
-export const OUTCOME_FILL = (rank: number): string => (rank >= 0 && rank < OUTCOMES.length ? `var(--color-outcome-${OUTCOMES[rank]})` : "var(--color-surface-sunken)");
-
-type Special = { key: string; label: string; source: string; cidrs: readonly string[]; mark: "hatch" | "dots" | "cross" | "ring" };
-
-/** Special-purpose blocks (RFC 6890 registry) shown on the IPv4 map. */
-const IPV4_SPECIAL: readonly Special[] = [
-  { key: "private", label: "Private", source: "RFC 1918", cidrs: ["10.0.0.0/8", "172.16.0.0/12", "192.168.0.0/16"], mark: "hatch" },
-  { key: "shared", label: "Shared address space", source: "RFC 6598", cidrs: ["100.64.0.0/10"], mark: "hatch" },
-  { key: "local", label: "Loopback and link-local", source: "RFC 1122, RFC 3927", cidrs: ["127.0.0.0/8", "169.254.0.0/16"], mark: "dots" },
-  { key: "reserved", label: "This network, multicast, reserved", source: "RFC 1122, RFC 5771, RFC 1112", cidrs: ["0.0.0.0/8", "224.0.0.0/4", "240.0.0.0/4"], mark: "cross" },
-  { key: "documentation", label: "Documentation (smaller than a cell: ringed)", source: "RFC 5737", cidrs: ["192.0.2.0/24", "198.51.100.0/24", "203.0.113.0/24"], mark: "ring" },
-];
-const IPV6_SPECIAL: Record<string, readonly Special[]> = {
-  "2000::/3": [{ key: "documentation", label: "Documentation 2001:db8::/32 (ringed)", source: "RFC 3849", cidrs: ["2001:db8::/32"], mark: "ring" }],
-  "fc00::/7": [{ key: "ula", label: "Unique local (the whole strip)", source: "RFC 4193", cidrs: ["fc00::/7"], mark: "hatch" }],
-};
-
-function specialsOf(spec: GridSpec): readonly Special[] {
-  return spec.family === 4 ? IPV4_SPECIAL : (IPV6_SPECIAL[spec.base] ?? []);
+/** A count in words for a label or a tooltip: exact below 10^15, else a power of two or rounded. */
+function countWords(decimal: string): string {
+  const { text, exact } = formatCount(decimal);
+  if (text === exact) return exact;
+  const value = BigInt(decimal);
+  if ((value & (value - 1n)) === 0n) return `2 to the power ${value.toString(2).length - 1}`;
+  return `about ${text.replace("≈ ", "").replace(/[⁰¹²³⁴⁵⁶⁷⁸⁹]+/, (digits) => `^${[...digits].map((digit) => "⁰¹²³⁴⁵⁶⁷⁸⁹".indexOf(digit)).join("")}`)}`;
 }
 
-function Patterns({ id }: { id: string }) {
-  const stroke = "var(--color-ink)";
-  return (
-    <defs>
-      <pattern id={`${id}-hatch`} width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)">
-        <line x1="0" y1="0" x2="0" y2="6" stroke={stroke} strokeWidth="1.5" strokeOpacity="0.55" />
-      </pattern>
-      <pattern id={`${id}-dots`} width="4" height="4" patternUnits="userSpaceOnUse">
-        <circle cx="2" cy="2" r="0.9" fill={stroke} fillOpacity="0.7" />
-      </pattern>
-      <pattern id={`${id}-cross`} width="6" height="6" patternUnits="userSpaceOnUse">
-        <path d="M0 0 L6 6 M6 0 L0 6" stroke={stroke} strokeWidth="0.8" strokeOpacity="0.5" />
-      </pattern>
-    </defs>
-  );
+/** "2,048 login with second factor, 254 no answer": the outcomes present, most exposed first; `spoken` for labels read aloud. */
+function countsInWords(counts: readonly string[], spoken = false): string {
+  return [...OUTCOMES.keys()]
+    .reverse()
+    .filter((rank) => counts[rank] !== "0")
+    .map((rank) => `${spoken ? countWords(counts[rank]) : formatCount(counts[rank]).text} ${OUTCOME_LABELS[OUTCOMES[rank]].toLowerCase()}`)
+    .join(", ");
 }
 
-function SpecialShapes({ id, spec, special }: { id: string; spec: GridSpec; special: Special }) {
-  const cells = buildGrid(spec, [special.cidrs]);
-  const runs = gridRuns(cells, spec.columns).filter((run) => run.rank === 0);
-  if (special.mark === "ring") {
-    return (
-      <g aria-hidden="true">
-        {runs.map((run) => (
-          <circle key={`${run.row}-${run.column}`} cx={(run.column + 0.5) * CELL} cy={(run.row + 0.5) * CELL} r={spec.columns >= 256 ? 5 : 1.4} fill="none" stroke="var(--color-ink)" strokeWidth={spec.columns >= 256 ? 1.25 : 0.3} />
-        ))}
-      </g>
-    );
-  }
-  return (
-    <g aria-hidden="true">
-      {runs.map((run) => (
-        // A pale wash first, so even a one-row block (10/8 is 2 px tall) stands out from the outcome colour.
-        <g key={`${run.row}-${run.column}`}>
-          <rect x={run.column * CELL} y={run.row * CELL} width={run.length * CELL} height={CELL} fill="var(--color-surface)" fillOpacity="0.55" />
-          <rect x={run.column * CELL} y={run.row * CELL} width={run.length * CELL} height={CELL} fill={`url(#${id}-${special.mark})`} stroke="var(--color-ink)" strokeOpacity="0.8" strokeWidth="0.6" />
-        </g>
-      ))}
-    </g>
-  );
+function cellWords(cell: ZoomCell, spoken = false): string {
+  const outcome = outcomeAt(cell.top);
+  const what = cell.uniform && outcome ? `all ${OUTCOME_LABELS[outcome].toLowerCase()}` : `outcomes change here: ${countsInWords(cell.counts, spoken)}`;
+  return `${cell.cidr}${cell.special ? ` (${cell.special})` : ""}: ${what}`;
 }
 
-/** One grid: cells coloured by outcome rank, special space marked, described for screen readers. */
-export function AddressGrid({ spec, runs, title, description }: { spec: GridSpec; runs: readonly number[]; title: string; description: string }) {
-  const id = useId().replace(/:/g, "");
-  const rows = Math.ceil(2 ** (spec.cellPrefix - Number(spec.base.split("/")[1])) / spec.columns);
-  const width = spec.columns * CELL;
-  const height = rows * CELL;
-  const rects = [];
-  for (let i = 0; i < runs.length; i += 4) {
-    const [row, column, length, rank] = [runs[i], runs[i + 1], runs[i + 2], runs[i + 3]];
-    rects.push(<rect key={i} x={column * CELL} y={row * CELL} width={length * CELL} height={CELL} fill={OUTCOME_FILL(rank)} />);
-  }
-  // A lone exposed /16 is 2 px wide: blocks more exposed than the bulk of the map get an
-  // enlarged, outlined copy on top so they cannot be missed (bounded, so a busy map stays light).
-  const cellsOf = new Map<number, number>();
-  for (let i = 0; i < runs.length; i += 4) cellsOf.set(runs[i + 3], (cellsOf.get(runs[i + 3]) ?? 0) + runs[i + 2]);
-  const bulk = [...cellsOf].reduce((best, entry) => (entry[1] > best[1] ? entry : best), [-1, -1])[0];
-  const standouts: number[] = [];
-  for (let i = 0; i < runs.length; i += 4) if (runs[i + 3] > bulk && runs[i + 3] !== 255) standouts.push(i);
-  const halo = spec.columns >= 256 ? 3 : 0.75;
-  const halos =
-    standouts.length <= 2000
-      ? standouts.map((i) => (
-          <rect
-            key={`h${i}`}
-            x={runs[i + 1] * CELL - halo}
-            y={runs[i] * CELL - halo}
-            width={runs[i + 2] * CELL + 2 * halo}
-            height={CELL + 2 * halo}
-            fill={OUTCOME_FILL(runs[i + 3])}
-            stroke="var(--color-ink)"
-            strokeWidth={spec.columns >= 256 ? 0.8 : 0.3}
-          />
-        ))
-      : null;
-  // Small grids (IPv6) are scaled up so a cell is still visible.
-  const scale = spec.columns >= 256 ? 1 : 8;
-  return (
-    <figure className="min-w-0">
-      <div className="flex items-stretch gap-1">
-      {spec.columns === 256 ? (
-        // First-octet ticks beside the rows.
-        <div aria-hidden="true" className="relative w-6 shrink-0 text-[9px] text-ink-faint">
-          {[0, 64, 128, 192, 255].map((octet) => (
-            <span key={octet} className="tabular absolute right-0 -translate-y-1/2" style={{ top: `${((octet + 0.5) / 256) * 100}%` }}>
-              {octet}
-            </span>
-          ))}
-        </div>
-      ) : null}
-      <div className="min-w-0">
-      <svg
-        role="img"
-        aria-labelledby={`${id}-title ${id}-desc`}
-        viewBox={`0 0 ${width} ${height}`}
-        width={width * scale}
-        height={height * scale}
-        className="h-auto max-w-full rounded-[4px] border border-line-strong"
-        shapeRendering="crispEdges"
-        preserveAspectRatio="xMinYMin meet"
-      >
-        <title id={`${id}-title`}>{title}</title>
-        <desc id={`${id}-desc`}>{description}</desc>
-        <Patterns id={id} />
-        {rects}
-        {specialsOf(spec).map((special) => (
-          <SpecialShapes key={special.key} id={id} spec={spec} special={special} />
-        ))}
-        <g aria-hidden="true">{halos}</g>
-      </svg>
-      {spec.columns === 256 ? (
-        // Octet ticks under the picture: where 0, 64, 128, 192 and 255 fall on both axes.
-        <div aria-hidden="true" className="relative mt-0.5 h-3 text-[9px] text-ink-faint" style={{ width: width * scale, maxWidth: "100%" }}>
-          {[0, 64, 128, 192, 255].map((octet) => (
-            <span key={octet} className="absolute -translate-x-1/2 tabular" style={{ left: `${((octet + 0.5) / 256) * 100}%` }}>
-              {octet}
-            </span>
-          ))}
-        </div>
-      ) : null}
-      </div>
-      </div>
-      <figcaption className="mt-1 text-xs text-ink-muted">{title}</figcaption>
-    </figure>
-  );
-}
+const familyName = (family: 4 | 6) => `IPv${family}`;
 
-/** The legend: outcomes as swatches with words, then the special-purpose marks. */
-export function AddressMapLegend({ specs }: { specs: readonly GridSpec[] }) {
-  const id = useId().replace(/:/g, "");
-  const specials = specs.flatMap(specialsOf);
+export function AddressZoom({ view, problem }: { view: ZoomView; problem: string | null }) {
+  const [searchParams] = useSearchParams();
+  const [active, setActive] = useState<number | null>(null);
+  const linkTo = (block: string | null) => {
+    const next = new URLSearchParams(searchParams);
+    if (block) next.set("block", block);
+    else next.delete("block");
+    next.delete("page");
+    return `?${next.toString()}`;
+  };
+  const radix = view.family === 4 ? 10 : 16;
+  const rows = Math.ceil(view.cells.length / view.columns);
+  const cellSize = view.cellPrefix;
+  const mixed = view.cells.filter((cell) => !cell.uniform);
+  const present = OUTCOMES.filter((_, rank) => view.cells.some((cell) => cell.counts[rank] !== "0"));
+  const shown = active === null ? null : view.cells[active];
+  const parent = view.trail.at(-1) ?? null;
   return (
-    <div className="space-y-3 text-xs">
-      <div>
-        <h4 className="mb-1 font-semibold text-ink-muted">Cell colour: most exposed outcome in the block</h4>
-        <p className="mb-1 text-ink-faint">Blocks more exposed than most of the map are drawn enlarged, outlined.</p>
-        <ul className="space-y-1">
-          {[...OUTCOMES].reverse().map((outcome) => (
-            <li key={outcome} className="flex items-center gap-2">
-              <span aria-hidden="true" className="inline-block h-3 w-5 rounded-[2px] border border-line-strong" style={{ background: `var(--color-outcome-${outcome})` }} />
-              {OUTCOME_LABELS[outcome]}
+    <div className="space-y-3">
+      <nav aria-label="Address block shown" className="flex flex-wrap items-center gap-x-1 gap-y-1 text-sm">
+        <ol className="flex flex-wrap items-center gap-x-1">
+          {view.trail.map((block, index) => (
+            <li key={block} className="flex items-center gap-1">
+              <Link to={linkTo(index === 0 ? null : block)} preventScrollReset className="font-mono text-harbour underline-offset-4 hover:underline">
+                {index === 0 ? `All ${familyName(view.family)}` : block}
+              </Link>
+              <span aria-hidden="true" className="text-ink-faint">
+                ›
+              </span>
             </li>
           ))}
-        </ul>
+          <li>
+            <span aria-current="location" className="font-mono font-semibold">
+              {view.trail.length === 0 ? `All ${familyName(view.family)}` : view.block}
+            </span>
+          </li>
+        </ol>
+        {parent ? (
+          <Link to={linkTo(view.trail.length === 1 ? null : parent)} preventScrollReset className="ml-auto rounded-control border border-line-strong bg-surface px-2 py-0.5 text-xs hover:bg-surface-sunken">
+            Zoom out
+          </Link>
+        ) : null}
+      </nav>
+      {problem ? (
+        <p role="status" className="text-sm text-warning">
+          {problem}
+        </p>
+      ) : null}
+
+      <div className="flex flex-wrap items-start gap-x-6 gap-y-4">
+        <div className="w-full max-w-[30rem] min-w-0">
+          <table className="w-full table-fixed border-separate border-spacing-[2px] text-[9px] sm:text-[10px]" onMouseLeave={() => setActive(null)}>
+            <caption className="mb-1 text-left text-xs text-ink-muted">
+              {view.block}
+              {view.special ? ` (${view.special})` : ""}: {view.cells.length.toLocaleString("en")} cells of /{cellSize}, in address order (left to right, then down). Hover or focus a cell for its counts; striped cells link to where their outcomes change.
+            </caption>
+            <thead>
+              <tr>
+                <th scope="col" className="w-7 sm:w-9">
+                  <span className="sr-only">First cell of the row</span>
+                </th>
+                {Array.from({ length: view.columns }, (_, column) => (
+                  // Every fourth column labelled on narrow screens, where "+10" does not fit a cell.
+                  <th key={column} scope="col" className="font-normal text-ink-faint">
+                    <span className={column % 4 ? "max-sm:sr-only" : undefined}>+{column.toString(radix)}</span>
+                  </th>
+                ))}
+              </tr>
+            </thead>
+            <tbody>
+              {Array.from({ length: rows }, (_, row) => (
+                <tr key={row}>
+                  <th scope="row" className="pr-0.5 text-right font-normal text-ink-faint tabular">
+                    {(row * view.columns).toString(radix)}
+                  </th>
+                  {view.cells.slice(row * view.columns, (row + 1) * view.columns).map((cell, column) => {
+                    const index = row * view.columns + column;
+                    const words = cellWords(cell);
+                    const classes =
+                      "relative flex aspect-square w-full items-center justify-center rounded-[2px] outline-offset-1 hover:outline-2 hover:outline-ink focus-visible:outline-2 focus-visible:outline-brass";
+                    const notch = cell.marked ? <span aria-hidden="true" className="absolute top-0 left-0 size-0 border-t-[5px] border-r-[5px] border-t-ink/70 border-r-transparent" /> : null;
+                    return (
+                      <td key={cell.cidr} className="p-0">
+                        {cell.zoom ? (
+                          <Link
+                            to={linkTo(cell.zoom)}
+                            preventScrollReset
+                            aria-label={`${cellWords(cell, true)}. Zoom in to ${cell.zoom}`}
+                            title={`${words}. Select to zoom in to ${cell.zoom}.`}
+                            onFocus={() => setActive(index)}
+                            onMouseEnter={() => setActive(index)}
+                            className={`${classes} border border-dashed border-ink/70`}
+                            style={cellStyle(cell.top, true)}
+                          >
+                            {notch}
+                            <CellMark rank={cell.top} mixed />
+                          </Link>
+                        ) : (
+                          <span title={words} onMouseEnter={() => setActive(index)} className={classes} style={cellStyle(cell.top, false)}>
+                            {notch}
+                            <CellMark rank={cell.top} mixed={false} />
+                            <span className="sr-only">{words}</span>
+                          </span>
+                        )}
+                      </td>
+                    );
+                  })}
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        </div>
+
+        <div className="min-w-0 flex-1 basis-64 space-y-3 text-xs">
+          <p className="min-h-[3.5em] rounded-control border border-line bg-surface-sunken px-3 py-2 text-sm" aria-hidden="true">
+            {shown ? (
+              <>
+                <span className="font-mono font-semibold">{shown.cidr}</span>
+                {shown.special ? <span className="text-ink-muted"> · {shown.special}</span> : null}
+                <br />
+                {shown.uniform ? OUTCOME_LABELS[outcomeAt(shown.top) ?? "silent"] : countsInWords(shown.counts)}
+                {shown.zoom ? <span className="text-ink-muted"> — select to zoom in to {shown.zoom}</span> : null}
+              </>
+            ) : (
+              <span className="text-ink-muted">Point at or tab to a cell to read its block and counts here.</span>
+            )}
+          </p>
+          <div>
+            <h4 className="mb-1 font-semibold text-ink-muted">Outcomes, worst first</h4>
+            <OutcomeLegend
+              outcomes={present}
+              className="flex-col"
+              extra={
+                <>
+                  {mixed.length ? (
+                    <li className="flex items-center gap-1.5">
+                      <span aria-hidden="true" className="inline-flex size-4 shrink-0 items-center justify-center rounded-[3px] border border-dashed border-ink/70" style={cellStyle(mixed[0].top, true)} />
+                      Striped, dashed edge: several outcomes inside; the colour and letter show the worst. Select to zoom in.
+                    </li>
+                  ) : null}
+                  {view.cells.some((cell) => cell.marked) ? (
+                    <li className="flex items-center gap-1.5">
+                      <span aria-hidden="true" className="relative inline-block size-4 shrink-0 rounded-[3px] border border-line-strong bg-surface">
+                        <span className="absolute top-0 left-0 size-0 border-t-[6px] border-r-[6px] border-t-ink/70 border-r-transparent" />
+                      </span>
+                      Corner notch: special-purpose space (private, documentation, multicast…), named on hover
+                    </li>
+                  ) : null}
+                </>
+              }
+            />
+          </div>
+        </div>
       </div>
-      {specials.length ? (
+
+      <ViewInWords view={view} mixed={mixed} linkTo={linkTo} />
+    </div>
+  );
+}
+
+/** The view as text: the commonest uniform outcome in a sentence, the other uniform blocks and the mixed cells listed. */
+function ViewInWords({ view, mixed, linkTo }: { view: ZoomView; mixed: readonly ZoomCell[]; linkTo: (block: string) => string }) {
+  const LIMIT = 12;
+  // Most exposed first, as the reader looks for exposure.
+  const ranked = [...mixed].sort((a, b) => b.top - a.top);
+  const [commonest, ...others] = view.uniform;
+  const name = (rank: number): string => OUTCOME_LABELS[outcomeAt(rank) ?? "silent"].toLowerCase();
+  return (
+    <div className="space-y-2 text-sm">
+      <p>
+        In {view.block}: {countsInWords(view.counts)}.{" "}
+        {commonest ? `${commonest.cells.toLocaleString("en")} of ${view.cells.length.toLocaleString("en")} cells are all ${name(commonest.rank)}` : "Every cell has several outcomes"}
+        {commonest && mixed.length ? `; ${mixed.length.toLocaleString("en")} ${mixed.length === 1 ? "has" : "have"} several outcomes` : ""}.
+      </p>
+      {[...others].sort((a, b) => b.rank - a.rank).map((group) => (
+        <p key={group.rank}>
+          All {name(group.rank)}: <span className="font-mono text-xs">{group.cidrs.slice(0, LIMIT).join(", ")}</span>
+          {group.cidrs.length > LIMIT ? ` and ${(group.cidrs.length - LIMIT).toLocaleString("en")} more blocks` : ""}
+        </p>
+      ))}
+      {ranked.length ? (
         <div>
-          <h4 className="mb-1 font-semibold text-ink-muted">Special-purpose space</h4>
-          <svg width="0" height="0" aria-hidden="true" className="absolute">
-            <Patterns id={id} />
-          </svg>
-          <ul className="space-y-1">
-            {specials.map((special) => (
-              <li key={special.key} className="flex items-center gap-2">
-                <svg aria-hidden="true" width="20" height="12" className="shrink-0">
-                  {special.mark === "ring" ? (
-                    <circle cx="10" cy="6" r="5" fill="none" stroke="var(--color-ink)" strokeWidth="1.25" />
-                  ) : (
-                    <rect x="0.5" y="0.5" width="19" height="11" fill={`url(#${id}-${special.mark})`} stroke="var(--color-ink)" strokeOpacity="0.6" />
-                  )}
-                </svg>
-                <span>
-                  {special.label} <span className="text-ink-faint">({special.source})</span>
+          <h4 className="text-xs font-semibold text-ink-muted">Where the outcome changes (most exposed first)</h4>
+          <ul className="mt-1 space-y-0.5">
+            {ranked.slice(0, LIMIT).map((cell) => (
+              <li key={cell.cidr}>
+                <Link to={linkTo(cell.zoom ?? cell.cidr)} preventScrollReset className="font-mono text-xs text-harbour underline-offset-4 hover:underline">
+                  {cell.zoom ?? cell.cidr}
+                </Link>{" "}
+                <span className="text-xs text-ink-muted">
+                  {cell.zoom !== cell.cidr ? `(inside ${cell.cidr}) ` : ""}
+                  {countsInWords(cell.counts)}
                 </span>
               </li>
             ))}
           </ul>
+          {ranked.length > LIMIT ? <p className="mt-1 text-xs text-ink-muted">and {(ranked.length - LIMIT).toLocaleString("en")} more striped cells in the picture.</p> : null}
         </div>
       ) : null}
     </div>

@@ -3,15 +3,16 @@ import type { Route } from "./+types/findings";
 import { requireRole } from "#server/auth/guard.server";
 import { fleetFindings } from "#server/services/findings.server";
 import { ElementLink } from "#app/components/device/element-link";
-import { filterFindingRows, parseFindingsQuery, sortFindingRows } from "#app/utils/finding-keys";
+import { filterFindingRows, groupFindingRows, parseFindingsQuery, sortFindingRows, type FindingGroupBy } from "#app/utils/finding-keys";
 import { countBySeverity } from "#server/engine/finding-keys";
 import { SEVERITY_ORDER, SeverityBadge } from "#app/components/severity";
+import { tryItPath } from "#app/components/findings/finding-card";
 import { ButtonLink } from "#app/components/ui/button";
-import { Card, PageHeader } from "#app/components/ui/card";
+import { PageHeader } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
 import { EmptyState } from "#app/components/ui/empty-state";
 import { SortHeader } from "#app/components/ui/sort-header";
-import { Table, Td, Th } from "#app/components/ui/table";
+import { Table, Th } from "#app/components/ui/table";
 import { SiteFilter } from "#app/components/ui/site-filter";
 
 export const meta: Route.MetaFunction = () => [{ title: "Findings · Sallyport" }];
@@ -30,7 +31,8 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   return {
     slug: access.organisation.slug,
     query,
-    rows: shown,
+    groups: groupFindingRows(shown, query.group),
+    shownCount: shown.length,
     counts: countBySeverity(inScope.filter((row) => !row.dismissed)),
     dismissedCount: inScope.filter((row) => row.dismissed).length,
     total: rows.length,
@@ -44,11 +46,16 @@ export async function loader({ request, context }: Route.LoaderArgs) {
 const selectClasses = "h-9 rounded-control border border-line-strong bg-surface px-2 text-sm";
 
 export default function Findings({ loaderData }: Route.ComponentProps) {
-  const { slug, query, rows, counts, devices, sites, codes } = loaderData;
+  const { slug, query, groups, counts, devices, sites, codes } = loaderData;
   const [searchParams] = useSearchParams();
   const severityLink = (severity: string) => {
     const next = new URLSearchParams(searchParams);
     next.set("severity", severity);
+    return `?${next.toString()}`;
+  };
+  const groupLink = (group: FindingGroupBy) => {
+    const next = new URLSearchParams(searchParams);
+    next.set("group", group);
     return `?${next.toString()}`;
   };
   return (
@@ -63,30 +70,28 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
         </EmptyState>
       ) : (
         <>
-          <section aria-label="Active findings by severity" className="mb-6 grid grid-cols-2 gap-3 sm:grid-cols-3 lg:grid-cols-6">
+          <section aria-label="Active findings by severity" className="mb-4 flex flex-wrap items-center gap-2 text-sm">
             {SEVERITY_ORDER.map((severity) => (
               <Link
                 key={severity}
                 to={severityLink(severity)}
                 preventScrollReset
                 aria-label={`${counts[severity]} active ${severity}; show ${severity} and above`}
-                className={cx("rounded-card border bg-surface p-3 shadow-card hover:border-line-strong", query.minSeverity === severity ? "border-harbour" : "border-line")}
+                className={cx("inline-flex items-center gap-2 rounded-control border bg-surface px-2.5 py-1 shadow-card hover:border-line-strong", query.minSeverity === severity ? "border-harbour" : "border-line")}
               >
                 <SeverityBadge severity={severity} />
-                <span className="mt-2 block text-2xl font-semibold tabular">{counts[severity]}</span>
-                <span className="text-xs text-ink-muted">active</span>
+                <span className="font-semibold tabular">{counts[severity]}</span>
               </Link>
             ))}
-            <Card className="p-3">
-              <span className="inline-flex rounded px-1.5 py-0.5 text-xs font-semibold tracking-wide text-ink-muted uppercase">dismissed</span>
-              <span className="mt-2 block text-2xl font-semibold text-ink-muted tabular">{loaderData.dismissedCount}</span>
-              <span className="text-xs text-ink-muted">accepted risks</span>
-            </Card>
+            <span className="inline-flex items-center gap-2 rounded-control border border-dashed border-line px-2.5 py-1 text-ink-muted">
+              dismissed <span className="font-semibold tabular">{loaderData.dismissedCount}</span>
+            </span>
           </section>
 
           <Form method="get" role="search" className="mb-4 flex flex-wrap items-end gap-3">
             <input type="hidden" name="sort" value={query.sort} />
             <input type="hidden" name="dir" value={query.descending ? "desc" : "asc"} />
+            <input type="hidden" name="group" value={query.group} />
             <label className="text-sm">
               <span className="mb-1 block font-medium">Severity at least</span>
               <select name="severity" defaultValue={query.minSeverity} className={selectClasses}>
@@ -132,79 +137,171 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
               Clear
             </Link>
             <span className="ml-auto text-sm text-ink-muted" aria-live="polite">
-              {rows.length} of {loaderData.total} findings
+              {loaderData.shownCount} of {loaderData.total} findings
             </span>
           </Form>
 
-          {rows.length === 0 ? (
+          <nav aria-label="Group findings" className="mb-3 flex flex-wrap items-center gap-1 text-sm">
+            <span className="mr-1 text-ink-muted">Group by</span>
+            {(
+              [
+                ["code", "Check"],
+                ["device", "Device"],
+                ["none", "No grouping"],
+              ] as const
+            ).map(([group, label]) => (
+              <Link
+                key={group}
+                to={groupLink(group)}
+                preventScrollReset
+                aria-current={query.group === group ? "true" : undefined}
+                className={cx("rounded-control border px-2.5 py-1", query.group === group ? "border-harbour bg-harbour-soft font-medium text-harbour-strong" : "border-line bg-surface hover:border-line-strong")}
+              >
+                {label}
+              </Link>
+            ))}
+          </nav>
+
+          {loaderData.shownCount === 0 ? (
             <EmptyState title="No findings match">
               {loaderData.total === 0 ? "The hardening checks found nothing on any device's current revision. The simulation models the configuration, not the device: confirm on the device." : "Loosen the filters, or show dismissed findings."}
             </EmptyState>
           ) : (
-            <Table>
-              <caption className="sr-only">Findings on every device's current revision, sortable by severity, device and check</caption>
-              <thead>
-                <tr>
-                  <SortHeader column="severity" label="Severity" sort={query.sort} descending={query.descending} />
-                  <Th>Finding</Th>
-                  <SortHeader column="device" label="Device" sort={query.sort} descending={query.descending} />
-                  <Th>Affected elements</Th>
-                  <SortHeader column="code" label="Check" sort={query.sort} descending={query.descending} />
-                  <Th>State</Th>
-                </tr>
-              </thead>
-              <tbody>
-                {rows.map((row) => {
-                  const devicePath = `/o/${slug}/devices/${row.deviceId}`;
-                  return (
-                    <tr key={`${row.deviceId} ${row.key}`} className={row.dismissed ? "bg-surface-sunken" : undefined}>
-                      <Td className="align-top">
-                        <SeverityBadge severity={row.severity} />
-                      </Td>
-                      <Td className="max-w-lg min-w-64 align-top">
-                        <span className={cx("font-medium", row.dismissed && "text-ink-muted")}>{row.title}</span>
-                        <p className="mt-1 text-xs text-ink-muted">{row.detail}</p>
-                        <p className="mt-1 text-xs text-ink-faint">Source: {row.source}</p>
-                      </Td>
-                      <Td className="max-w-48 align-top">
-                        <Link to={devicePath} className="font-mono text-sm whitespace-nowrap text-harbour underline-offset-4 hover:underline">
-                          {row.deviceName}
-                        </Link>
-                        <span className="block text-xs text-ink-muted">
-                          {row.siteName} · r{row.revision}
-                        </span>
-                      </Td>
-                      <Td className="align-top">
-                        <span className="flex flex-col gap-1 whitespace-nowrap">
-                          {row.elements.map((element) => (
-                            <ElementLink key={element} devicePath={devicePath} element={element} />
-                          ))}
-                        </span>
-                      </Td>
-                      <Td className="align-top">
-                        <code className="text-xs whitespace-nowrap">{row.code}</code>
-                      </Td>
-                      <Td className="max-w-56 min-w-36 align-top text-xs">
-                        {row.dismissal ? (
-                          <>
-                            <span className="font-semibold text-ink-muted uppercase">Dismissed</span>
-                            <span className="mt-1 block text-ink-muted">“{row.dismissal.reason}”</span>
-                            <span className="mt-1 block text-ink-faint">
-                              {row.dismissal.by} · {row.dismissal.at.slice(0, 10)}
-                            </span>
-                          </>
-                        ) : (
-                          <span className="text-ink">Active</span>
-                        )}
-                      </Td>
-                    </tr>
-                  );
-                })}
-              </tbody>
-            </Table>
+            <FindingsTable slug={slug} groups={groups} query={query} />
           )}
         </>
       )}
     </>
+  );
+}
+
+type Loaded = Route.ComponentProps["loaderData"];
+
+/**
+ * One line per finding, under a header per check or device: severity, title (the detail, the
+ * published source, the witness and any dismissal fold out beneath it), where, the affected
+ * elements, a "Try it" link that replays the witness on the trace page, and the state.
+ */
+function FindingsTable({ slug, groups, query }: { slug: string; groups: Loaded["groups"]; query: Loaded["query"] }) {
+  const showDevice = query.group !== "device";
+  const showCode = query.group !== "code";
+  const columns = 4 + Number(showDevice) + Number(showCode);
+  return (
+    // Below the sm breakpoint each finding is a short stacked block instead of a wide row.
+    <Table className="text-sm max-sm:block">
+      <caption className="sr-only">
+        Findings on every device's current revision{query.group === "none" ? "" : `, grouped by ${query.group === "code" ? "check" : "device"}`}; sortable by severity, device and check
+      </caption>
+      <thead className="max-sm:hidden">
+        <tr className="max-sm:flex max-sm:flex-wrap">
+          <SortHeader column="severity" label="Severity" sort={query.sort} descending={query.descending} />
+          <Th>Finding</Th>
+          {showDevice ? <SortHeader column="device" label="Device" sort={query.sort} descending={query.descending} /> : null}
+          {showCode ? <SortHeader column="code" label="Check" sort={query.sort} descending={query.descending} /> : null}
+          <Th>Affected elements</Th>
+          <Th>
+            <span className="sr-only">Try the witness</span>
+          </Th>
+        </tr>
+      </thead>
+      {groups.map((group) => {
+        const first = group.rows[0];
+        const deviceCount = new Set(group.rows.map((row) => row.deviceId)).size;
+        return (
+          <tbody key={group.key || "all"} className="max-sm:block">
+            {query.group === "none" ? null : (
+              <tr className="bg-surface-sunken max-sm:block">
+                <th colSpan={columns} scope="colgroup" className="border-b border-line px-4 py-1.5 text-left font-normal max-sm:block max-sm:px-3">
+                  <span className="flex flex-wrap items-center gap-x-3 gap-y-1">
+                    <SeverityBadge severity={group.worst} />
+                    {query.group === "code" ? (
+                      <code className="font-semibold">{group.key}</code>
+                    ) : (
+                      <Link to={`/o/${slug}/devices/${group.key}`} className="font-mono font-semibold text-harbour underline-offset-4 hover:underline">
+                        {first.deviceName}
+                      </Link>
+                    )}
+                    <span className="text-xs text-ink-muted">
+                      {query.group === "code"
+                        ? `${group.rows.length} ${group.rows.length === 1 ? "finding" : "findings"} on ${deviceCount} ${deviceCount === 1 ? "device" : "devices"}`
+                        : `${first.siteName} · r${first.revision} · ${group.rows.length} ${group.rows.length === 1 ? "finding" : "findings"}`}
+                      {group.active < group.rows.length ? ` (${group.rows.length - group.active} dismissed)` : ""}
+                    </span>
+                  </span>
+                </th>
+              </tr>
+            )}
+            {group.rows.map((row) => (
+              <FindingRow key={`${row.deviceId} ${row.key}`} row={row} devicePath={`/o/${slug}/devices/${row.deviceId}`} showDevice={showDevice} showCode={showCode} />
+            ))}
+          </tbody>
+        );
+      })}
+    </Table>
+  );
+}
+
+function FindingRow({ row, devicePath, showDevice, showCode }: { row: Loaded["groups"][number]["rows"][number]; devicePath: string; showDevice: boolean; showCode: boolean }) {
+  const cell = "border-b border-line px-3 py-1.5 align-top max-sm:border-0 max-sm:p-0";
+  const witness = row.witness;
+  return (
+    <tr className={cx(row.dismissed && "bg-surface-sunken", "max-sm:flex max-sm:flex-wrap max-sm:items-baseline max-sm:gap-x-2 max-sm:gap-y-1 max-sm:border-b max-sm:border-line max-sm:px-3 max-sm:py-2")}>
+      <td className={cx(cell, "w-0 pl-4 max-sm:w-auto max-sm:pl-0")}><SeverityBadge severity={row.severity} /></td>
+      <td className={cx(cell, "min-w-56 max-sm:min-w-0 max-sm:flex-1")}>
+        <details className="group">
+          <summary className={cx("cursor-pointer marker:text-ink-faint", row.dismissed && "text-ink-muted")}>
+            {row.title}
+            {row.dismissed ? <span className="ml-2 rounded border border-dashed border-line-strong px-1 text-xs font-semibold text-ink-muted uppercase">Dismissed</span> : null}
+          </summary>
+          <div className="mt-1 space-y-1 pb-1 text-xs text-ink-muted">
+            <p>{row.detail}</p>
+            {witness ? (
+              <p>
+                Witness: {witness.probe.service} from <span className="font-mono">{witness.probe.from}</span> on {witness.probe.interface} — {witness.shows}
+                {witness.proof ? ` ${witness.proof}` : ""}
+              </p>
+            ) : null}
+            <p className="text-ink-faint">
+              Source: {row.source} · check <code>{row.code}</code>
+            </p>
+            {row.dismissal ? (
+              <p>
+                Dismissed by {row.dismissal.by || "unknown"} on {row.dismissal.at.slice(0, 10)}: “{row.dismissal.reason}”
+              </p>
+            ) : null}
+          </div>
+        </details>
+      </td>
+      {showDevice ? (
+        <td className={cx(cell, "max-w-64 truncate whitespace-nowrap max-sm:basis-full")} title={`${row.deviceName} · ${row.siteName} · revision r${row.revision}`}>
+          <Link to={devicePath} className="font-mono text-harbour underline-offset-4 hover:underline">
+            {row.deviceName}
+          </Link>
+          <span className="text-xs text-ink-muted">
+            {" "}
+            · {row.siteName}
+          </span>
+        </td>
+      ) : null}
+      {showCode ? (
+        <td className={cell}>
+          <code className="text-xs whitespace-nowrap">{row.code}</code>
+        </td>
+      ) : null}
+      <td className={cx(cell, "lg:whitespace-nowrap")}>
+        <span className="flex flex-wrap gap-x-2 gap-y-0.5 lg:flex-nowrap">
+          {row.elements.map((element) => (
+            <ElementLink key={element} devicePath={devicePath} element={element} />
+          ))}
+        </span>
+      </td>
+      <td className={cx(cell, "pr-4 text-xs whitespace-nowrap max-sm:pr-0")}>
+        {witness ? (
+          <Link to={tryItPath(devicePath, witness.probe)} className="font-medium text-harbour underline-offset-4 hover:underline">
+            Try it<span className="sr-only">: trace {witness.probe.service} from {witness.probe.from} on {witness.probe.interface} of {row.deviceName}</span>
+          </Link>
+        ) : null}
+      </td>
+    </tr>
   );
 }

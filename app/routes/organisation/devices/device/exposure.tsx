@@ -2,9 +2,9 @@ import { data, Form, Link, useSearchParams } from "react-router";
 import type { Route } from "./+types/exposure";
 import { answerExposure, exposureQueryOf } from "#server/analysis/exposure.server";
 import { requireDevice } from "#server/http/device-access.server";
-import { AddressGrid, AddressMapLegend } from "#app/components/analysis/address-map";
+import { AddressZoom } from "#app/components/analysis/address-map";
 import { Count, Pager, SimulationCaution } from "#app/components/analysis/common";
-import { WeekHourGrid } from "#app/components/analysis/week-hour";
+import { WeekHourView } from "#app/components/analysis/week-hour";
 import { OUTCOME_LABELS, OutcomeChip } from "#app/components/outcome";
 import { OUTCOMES } from "#server/engine/vocabulary";
 import { buttonClasses } from "#app/components/ui/button";
@@ -201,88 +201,27 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
                 <p className="text-sm text-ink-muted">Most exposed entry under these filters unless you chose one above.</p>
               </div>
 
-              <Card className="p-5">
-                <h4 className="mb-3 text-sm font-semibold">{focus.family === 4 ? "The IPv4 source space, one cell per /16" : "IPv6 global unicast and unique local space, one cell per /12"}</h4>
-                <div className="flex flex-wrap items-start gap-6">
-                  <div className="flex flex-col gap-4">
-                    {focus.grids.map((grid) => (
-                      <AddressGrid
-                        key={grid.spec.base}
-                        spec={grid.spec}
-                        runs={grid.runs}
-                        title={
-                          grid.spec.family === 4
-                            ? "IPv4: rows are the first octet (0 at the top, 255 at the bottom), columns the second octet (0 left, 255 right)"
-                            : `${grid.spec.base}: ${grid.spec.columns} cells per row, each a /${grid.spec.cellPrefix}, in address order`
-                        }
-                        description={OUTCOMES.map((outcome, rank) => `${OUTCOME_LABELS[outcome]}: ${grid.cellsPerRank[rank]} cells`).join("; ")}
-                      />
-                    ))}
-                  </div>
-                  <div className="min-w-64 flex-1 space-y-5">
-                    <AddressMapLegend specs={focus.grids.map((grid) => grid.spec)} />
-                    <table className="w-full text-xs">
-                      <caption className="mb-1 text-left font-semibold text-ink-muted">In words</caption>
-                      <thead>
-                        <tr className="text-left text-ink-muted">
-                          <th scope="col" className="py-1 pr-2 font-medium">
-                            Outcome
-                          </th>
-                          <th scope="col" className="py-1 pr-2 text-right font-medium">
-                            Addresses
-                          </th>
-                          <th scope="col" className="py-1 text-right font-medium">
-                            Cells where it is the most exposed{focus.grids.length > 1 ? ` (${focus.grids.map((grid) => grid.spec.base).join(" + ")})` : ""}
-                          </th>
-                        </tr>
-                      </thead>
-                      <tbody>
-                        {[...OUTCOMES.keys()].reverse().map((rank) => (
-                          <tr key={rank} className="border-t border-line">
-                            <td className="py-1 pr-2">
-                              <OutcomeChip outcome={OUTCOMES[rank]} />
-                            </td>
-                            <td className="py-1 pr-2 text-right">
-                              <Count value={focus.counts[rank]} />
-                            </td>
-                            <td className="tabular py-1 text-right">{focus.grids.map((grid) => grid.cellsPerRank[rank].toLocaleString("en")).join(" + ")}</td>
-                          </tr>
-                        ))}
-                      </tbody>
-                    </table>
-                  </div>
-                </div>
+              <Card className="p-4 sm:p-5">
+                <section aria-labelledby="address-view-heading">
+                  <h4 id="address-view-heading" className="mb-1 text-sm font-semibold">
+                    Where in the {focus.family === 4 ? "IPv4" : "IPv6"} space the outcome changes
+                  </h4>
+                  <p className="mb-3 text-xs text-ink-muted">Each cell is a block of source addresses. Striped cells hold more than one outcome: select one to zoom in to the block where its outcomes change.</p>
+                  <AddressZoom view={focus.view} problem={focus.blockProblem} />
+                </section>
               </Card>
 
-              <Card className="p-5">
-                <h4 className="mb-2 text-sm font-semibold">Over the week</h4>
+              <Card className="p-4 sm:p-5">
+                <section aria-labelledby="week-heading">
+                <h4 id="week-heading" className="mb-2 text-sm font-semibold">
+                  Over the week
+                </h4>
                 {focus.week ? (
-                  <>
-                    <WeekHourGrid
-                      cells={focus.week}
-                      current={hourIndexOf(answer.localTime)}
-                      caption={`Most exposed outcome in each hour, device clock (${timezone}); the outlined hour is the chosen time; a centre dot marks hours in which more sources get an answer than at the quietest time; a corner notch marks an hour in which the outcome changes.`}
-                    />
-                    <details className="mt-3 text-xs">
-                      <summary className="cursor-pointer text-ink-muted">The {focus.weekSlices.length} slices in words</summary>
-                      <ul className="mt-2 space-y-1">
-                        {focus.weekSlices.map((slice) => (
-                          <li key={`${slice.start}-${slice.end}`} className="flex items-center gap-2">
-                            <span className="tabular w-36 font-mono">
-                              {slice.start} – {slice.end}
-                            </span>
-                            {slice.outcome ? <OutcomeChip outcome={slice.outcome} /> : <span className="text-ink-faint">not present</span>}
-                            <span className="text-ink-muted">
-                              <Count value={slice.exposed} /> sources get an answer
-                            </span>
-                          </li>
-                        ))}
-                      </ul>
-                    </details>
-                  </>
+                  <WeekHourView week={focus.week} current={hourIndexOf(answer.localTime)} timezone={timezone} />
                 ) : (
                   <p className="text-sm text-ink-muted">No schedule changes anything on this device: exposure does not change over the week.</p>
                 )}
+                </section>
               </Card>
 
               <section aria-labelledby="cidr-heading">
