@@ -13,6 +13,9 @@ import { EmptyState } from "#app/components/ui/empty-state";
 import { SortHeader } from "#app/components/ui/sort-header";
 import { Table, Td, Th } from "#app/components/ui/table";
 import { SiteFilter } from "#app/components/ui/site-filter";
+import { Time } from "#app/components/ui/time";
+import { SimulationCaution } from "#app/components/analysis/common";
+import { formatNumber, plural } from "#server/engine/format";
 
 export const meta: Route.MetaFunction = () => [{ title: "Findings · Sallyport" }];
 
@@ -38,6 +41,7 @@ export async function loader({ request, context }: Route.LoaderArgs) {
     devices: devices.map((device) => ({ id: device.id, name: device.name })),
     sites,
     codes: [...new Set(rows.map((row) => row.code))].sort(),
+    now: new Date().toISOString(),
   };
 }
 
@@ -69,17 +73,17 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
                 key={severity}
                 to={severityLink(severity)}
                 preventScrollReset
-                aria-label={`${counts[severity]} active ${severity}; show ${severity} and above`}
+                aria-label={`${formatNumber(counts[severity])} active ${severity}; show ${severity} and above`}
                 className={cx("rounded-card border bg-surface p-3 shadow-card hover:border-line-strong", query.minSeverity === severity ? "border-harbour" : "border-line")}
               >
                 <SeverityBadge severity={severity} />
-                <span className="mt-2 block text-2xl font-semibold tabular">{counts[severity]}</span>
+                <span className="mt-2 block text-2xl font-semibold tabular">{formatNumber(counts[severity])}</span>
                 <span className="text-xs text-ink-muted">active</span>
               </Link>
             ))}
             <Card className="p-3">
               <span className="inline-flex rounded px-1.5 py-0.5 text-xs font-semibold tracking-wide text-ink-muted uppercase">dismissed</span>
-              <span className="mt-2 block text-2xl font-semibold text-ink-muted tabular">{loaderData.dismissedCount}</span>
+              <span className="mt-2 block text-2xl font-semibold text-ink-muted tabular">{formatNumber(loaderData.dismissedCount)}</span>
               <span className="text-xs text-ink-muted">accepted risks</span>
             </Card>
           </section>
@@ -132,13 +136,13 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
               Clear
             </Link>
             <span className="ml-auto text-sm text-ink-muted" aria-live="polite">
-              {rows.length} of {loaderData.total} findings
+              {formatNumber(rows.length)} of {plural(loaderData.total, { one: "finding", other: "findings" })}
             </span>
           </Form>
 
           {rows.length === 0 ? (
             <EmptyState title="No findings match">
-              {loaderData.total === 0 ? "The hardening checks found nothing on any device's current revision. The simulation models the configuration, not the device: confirm on the device." : "Loosen the filters, or show dismissed findings."}
+              {loaderData.total === 0 ? "The hardening checks found nothing on any device's current revision." : "Loosen the filters, or show dismissed findings."}
             </EmptyState>
           ) : (
             <Table>
@@ -190,7 +194,7 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
                             <span className="font-semibold text-ink-muted uppercase">Dismissed</span>
                             <span className="mt-1 block text-ink-muted">“{row.dismissal.reason}”</span>
                             <span className="mt-1 block text-ink-faint">
-                              {row.dismissal.by} · {row.dismissal.at.slice(0, 10)}
+                              {row.dismissal.by} · <Time at={row.dismissal.at} now={loaderData.now} />
                             </span>
                           </>
                         ) : (
@@ -203,6 +207,9 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
               </tbody>
             </Table>
           )}
+          <div className="mt-8">
+            <SimulationCaution />
+          </div>
         </>
       )}
     </>

@@ -15,6 +15,7 @@ import { Button } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
 import { FormError, SelectField } from "#app/components/ui/field";
 import { clientAddressOf } from "#server/http/request-context.server";
+import { plural } from "#server/engine/format";
 
 export const meta: Route.MetaFunction = () => [{ title: "Import a model · Sallyport" }];
 
@@ -63,7 +64,7 @@ export async function action({ request, context }: Route.ActionArgs) {
     return refuse(`This is not JSON: ${error instanceof Error ? error.message : "unreadable"}. Sallyport imports its own model documents (schemaVersion 1).`, [], target);
   }
   const validated = validateDocument(parsed, await loadSharedLibrary(access.organisation.id));
-  if (!validated.ok) return refuse(`The document is not a valid Sallyport model: ${validated.errors.length} problem${validated.errors.length === 1 ? "" : "s"}. Nothing was created.`, [...validated.errors], target);
+  if (!validated.ok) return refuse(`The document is not a valid Sallyport model: ${plural(validated.errors.length, { one: "problem", other: "problems" })}. Nothing was created.`, [...validated.errors], target);
 
   const [kind, id] = target.split(":");
   if (kind !== "site" && kind !== "device") return refuse("Choose where to import: a new device at a site, or a new revision of a device.", [], target);

@@ -17,6 +17,7 @@ import { SHARED_OBJECT_KINDS, type SharedObjectKind } from "#models/shared-addre
 import { Table, Td, Th } from "#app/components/ui/table";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { refusedForm } from "#server/http/refusals.server";
+import { formatNumber } from "#server/engine/format";
 
 export const meta: Route.MetaFunction = () => [{ title: "Shared objects · Sallyport" }];
 
@@ -176,7 +177,7 @@ export default function SharedObjects({ loaderData, actionData }: Route.Componen
             <div className="mt-4">
               <Table>
                 <caption className="p-2 text-left text-sm font-medium">
-                  {report.filter((row) => row.result !== "refused").length} saved, {report.filter((row) => row.result === "refused").length} refused
+                  {formatNumber(report.filter((row) => row.result !== "refused").length)} saved, {formatNumber(report.filter((row) => row.result === "refused").length)} refused
                 </caption>
                 <thead>
                   <tr>

@@ -3,10 +3,11 @@ import type { Route } from "./+types/exposure";
 import { answerExposure, exposureQueryOf } from "#server/analysis/exposure.server";
 import { requireDevice } from "#server/http/device-access.server";
 import { AddressGrid, AddressMapLegend } from "#app/components/analysis/address-map";
-import { Count, Pager, SimulationCaution } from "#app/components/analysis/common";
+import { Count, Pager } from "#app/components/analysis/common";
 import { WeekHourGrid } from "#app/components/analysis/week-hour";
 import { OUTCOME_LABELS, OutcomeChip } from "#app/components/outcome";
 import { OUTCOMES } from "#server/engine/vocabulary";
+import { formatInstant, formatNumber, plural, pluralWord } from "#server/engine/format";
 import { buttonClasses } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
@@ -125,24 +126,23 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
         <>
           <div className="flex flex-wrap items-end justify-between gap-3">
             <p className="text-sm">
-              At <strong className="tabular">{answer.localTime}</strong> on the device clock ({timezone}), which falls in the slice{" "}
+              At <strong className="tabular">{formatInstant(answer.at, timezone)}</strong>, which falls in the slice{" "}
               <strong>
                 {answer.slice.start} – {answer.slice.end}
               </strong>{" "}
-              ({answer.sliceCount === 1 ? "the only slice: exposure does not change over the week" : `one of ${answer.sliceCount} slices of the week`}).
+              ({answer.sliceCount === 1 ? "the only slice: exposure does not change over the week" : `one of ${formatNumber(answer.sliceCount)} slices of the week`}).
             </p>
             <a href={`${devicePath}/exposure.csv?${filterParams.toString()}`} className={buttonClasses("secondary", "sm")} download>
               Download CSV
             </a>
           </div>
-          <SimulationCaution />
 
           {answer.total === 0 ? (
             <EmptyState title="Nothing matches these filters">Clear a filter to see more of the exposure map.</EmptyState>
           ) : (
             <section aria-labelledby="entries-heading">
               <h3 id="entries-heading" className="mb-2 font-semibold">
-                Addresses per outcome <span className="font-normal text-ink-muted">({answer.total} entries)</span>
+                Addresses per outcome <span className="font-normal text-ink-muted">({plural(answer.total, { one: "entry", other: "entries" })})</span>
               </h3>
               <Table className="text-xs">
                 <caption className="sr-only">Address counts per outcome for each interface, address and service; choose one to map it</caption>
@@ -215,7 +215,7 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
                             ? "IPv4: rows are the first octet (0 at the top, 255 at the bottom), columns the second octet (0 left, 255 right)"
                             : `${grid.spec.base}: ${grid.spec.columns} cells per row, each a /${grid.spec.cellPrefix}, in address order`
                         }
-                        description={OUTCOMES.map((outcome, rank) => `${OUTCOME_LABELS[outcome]}: ${grid.cellsPerRank[rank]} cells`).join("; ")}
+                        description={OUTCOMES.map((outcome, rank) => `${OUTCOME_LABELS[outcome]}: ${plural(grid.cellsPerRank[rank], { one: "cell", other: "cells" })}`).join("; ")}
                       />
                     ))}
                   </div>
@@ -245,7 +245,7 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
                             <td className="py-1 pr-2 text-right">
                               <Count value={focus.counts[rank]} />
                             </td>
-                            <td className="tabular py-1 text-right">{focus.grids.map((grid) => grid.cellsPerRank[rank].toLocaleString("en")).join(" + ")}</td>
+                            <td className="tabular py-1 text-right">{focus.grids.map((grid) => formatNumber(grid.cellsPerRank[rank])).join(" + ")}</td>
                           </tr>
                         ))}
                       </tbody>
@@ -264,7 +264,7 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
                       caption={`Most exposed outcome in each hour, device clock (${timezone}); the outlined hour is the chosen time; a centre dot marks hours in which more sources get an answer than at the quietest time; a corner notch marks an hour in which the outcome changes.`}
                     />
                     <details className="mt-3 text-xs">
-                      <summary className="cursor-pointer text-ink-muted">The {focus.weekSlices.length} slices in words</summary>
+                      <summary className="cursor-pointer text-ink-muted">The {plural(focus.weekSlices.length, { one: "slice", other: "slices" })} in words</summary>
                       <ul className="mt-2 space-y-1">
                         {focus.weekSlices.map((slice) => (
                           <li key={`${slice.start}-${slice.end}`} className="flex items-center gap-2">
@@ -273,7 +273,7 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
                             </span>
                             {slice.outcome ? <OutcomeChip outcome={slice.outcome} /> : <span className="text-ink-faint">not present</span>}
                             <span className="text-ink-muted">
-                              <Count value={slice.exposed} /> sources get an answer
+                              <Count value={slice.exposed} /> {pluralWord(BigInt(slice.exposed), { one: "source gets", other: "sources get" })} an answer
                             </span>
                           </li>
                         ))}
@@ -287,7 +287,7 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
 
               <section aria-labelledby="cidr-heading">
                 <h4 id="cidr-heading" className="mb-2 text-sm font-semibold">
-                  CIDR lists{query.outcome ? ` — ${OUTCOME_LABELS[query.outcome]}` : ""} <span className="font-normal text-ink-muted">({focus.cidrTotal.toLocaleString("en")} blocks, most exposed first)</span>
+                  CIDR lists{query.outcome ? ` — ${OUTCOME_LABELS[query.outcome]}` : ""} <span className="font-normal text-ink-muted">({plural(focus.cidrTotal, { one: "block", other: "blocks" })}, most exposed first)</span>
                 </h4>
                 <Table className="text-xs">
                   <caption className="sr-only">Minimal CIDR blocks of each outcome for the chosen entry</caption>
@@ -315,7 +315,7 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
             </section>
           ) : null}
           <p className="text-xs text-ink-muted">
-            Counts below 10<sup>15</sup> are exact; larger IPv6 counts are shown as a power of two or rounded (≈), with the exact figure on hover.
+            Counts below a million are exact; larger ones are rounded to three figures (“3.70 billion”), and IPv6-sized ones shown as a power of two or in scientific form; hover for the exact figure.
           </p>
         </>
       ) : null}
