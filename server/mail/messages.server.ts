@@ -1,4 +1,5 @@
 import type { Role } from "../auth/roles.ts";
+import { formatDuration } from "../engine/format.ts";
 import { sendMail } from "./mailer.server.ts";
 
 function escapeHtml(value: string): string {
@@ -13,7 +14,7 @@ function layout(paragraphs: string[], link: { href: string; label: string }): st
 export async function sendPasswordResetMail(input: { to: string; name: string; link: string; minutes: number }): Promise<void> {
   const paragraphs = [
     `Hello ${input.name},`,
-    `Someone (hopefully you) asked to reset your Sallyport password. The link works once and expires in ${input.minutes} minutes.`,
+    `Someone (hopefully you) asked to reset your Sallyport password. The link works once and expires in ${formatDuration(input.minutes, "minute")}.`,
     "If you did not ask for this, ignore this message; your password stays as it is.",
   ];
   await sendMail({
@@ -35,4 +36,28 @@ export async function sendInvitationMail(input: { to: string; organisationName: 
     text: `${paragraphs.join("\n\n")}\n\nAccept the invitation: ${input.link}\n`,
     html: layout(paragraphs, { href: input.link, label: "Accept the invitation" }),
   });
+}
+
+export async function sendEmailChangeMail(input: { to: string; name: string; link: string; lifetime: string }): Promise<void> {
+  const paragraphs = [
+    `Hello ${input.name},`,
+    `Someone (hopefully you) asked to use this address to sign in to Sallyport. Nothing changes until you follow the link; it works once and expires in ${input.lifetime}.`,
+    "If you did not ask for this, ignore this message.",
+  ];
+  await sendMail({
+    to: input.to,
+    subject: "Confirm your new Sallyport e-mail address",
+    text: `${paragraphs.join("\n\n")}\n\nConfirm this address: ${input.link}\n`,
+    html: layout(paragraphs, { href: input.link, label: "Confirm this address" }),
+  });
+}
+
+/** Sent to the old address once the change is made, so a change nobody asked for is noticed. */
+export async function sendEmailChangedNotice(input: { to: string; name: string; newEmail: string }): Promise<void> {
+  const text = [
+    `Hello ${input.name},`,
+    `Your Sallyport account now signs in with ${input.newEmail} instead of this address.`,
+    "If you did not make this change, ask your organisation's administrator for help at once.",
+  ].join("\n\n");
+  await sendMail({ to: input.to, subject: "Your Sallyport e-mail address was changed", text: `${text}\n`, html: `<div style="font-family:system-ui,sans-serif;max-width:520px;color:#14202b"><p>${text.split("\n\n").map(escapeHtml).join("</p><p>")}</p></div>` });
 }
