@@ -170,7 +170,12 @@ export default function ImportModel({ loaderData, actionData }: Route.ComponentP
             <dl className="mt-4 grid grid-cols-[10rem_1fr] gap-2 text-sm">
               <dt className="text-ink-muted">Will create</dt>
               <dd>
-                {actionData.summary.counts.interfaces} interfaces, {actionData.summary.counts.addressObjects} address objects and groups, {actionData.summary.counts.inboundRules} inbound rules, {actionData.summary.counts.accounts} accounts
+                {[
+                  plural(actionData.summary.counts.interfaces, { one: "interface", other: "interfaces" }),
+                  plural(actionData.summary.counts.addressObjects, { one: "address object or group", other: "address objects and groups" }),
+                  plural(actionData.summary.counts.inboundRules, { one: "inbound rule", other: "inbound rules" }),
+                  plural(actionData.summary.counts.accounts, { one: "account", other: "accounts" }),
+                ].join(", ")}
               </dd>
               <dt className="text-ink-muted">Findings</dt>
               <dd>
