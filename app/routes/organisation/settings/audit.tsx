@@ -27,6 +27,8 @@ export async function loader({ request, context }: Route.LoaderArgs) {
     page: found.page,
     pages: found.pages,
     filtered: Boolean(query.actor || query.action || query.device || query.from || query.to),
+    pageSize: AUDIT_PAGE_SIZE,
+    csvLimit: AUDIT_CSV_LIMIT,
     now: new Date().toISOString(),
     entries: found.rows.map((row) => ({
       id: row.id,
@@ -49,10 +51,10 @@ const inputClass = "h-9 rounded-control border border-line-strong bg-surface px-
 
 export default function AuditLog({ loaderData }: Route.ComponentProps) {
   const [searchParams] = useSearchParams();
-  const { query, choices, entries, total, page, pages, filtered, now, slug } = loaderData;
+  const { query, choices, entries, total, page, pages, filtered, now, slug, pageSize, csvLimit } = loaderData;
   const csvParams = new URLSearchParams(searchParams);
   csvParams.delete("page");
-  const first = (page - 1) * AUDIT_PAGE_SIZE + 1;
+  const first = (page - 1) * pageSize + 1;
   return (
     <div className="space-y-4">
       <p className="text-sm text-ink-muted">Every change in this organisation, newest first. Append-only: entries cannot be edited or deleted, by anyone. Days are UTC.</p>
@@ -119,7 +121,7 @@ export default function AuditLog({ loaderData }: Route.ComponentProps) {
           <p className="text-sm text-ink-muted" aria-live="polite">
             {total > entries.length ? `${formatNumber(first)}–${formatNumber(first + entries.length - 1)} of ` : ""}
             {plural(total, { one: "entry", other: "entries" })}
-            {total > AUDIT_CSV_LIMIT ? ` · the CSV holds the newest ${formatNumber(AUDIT_CSV_LIMIT)}` : ""}
+            {total > csvLimit ? ` · the CSV holds the newest ${formatNumber(csvLimit)}` : ""}
           </p>
           <Table>
             <caption className="sr-only">Audit log entries, newest first</caption>
