@@ -53,7 +53,8 @@ export function AppShell({ organisation, organisations, user, theme, children }:
       </nav>
       <div className="flex min-w-0 flex-1 flex-col">
         <header className="flex h-14 items-center justify-between gap-4 border-b border-line bg-surface px-6">
-          <details className="group relative">
+          {/* Keyed by the path so a menu closes once one of its links has been followed. */}
+          <details key={`organisations ${location.pathname}`} className="group relative">
             <summary className="flex cursor-pointer list-none items-center gap-2 rounded-control px-2 py-1.5 text-sm font-semibold hover:bg-surface-sunken" aria-label={`Organisation: ${organisation.name}. Switch organisation`}>
               <span className="grid size-6 place-items-center rounded-md bg-brass-soft text-xs font-bold text-brass" aria-hidden="true">
                 {organisation.name.slice(0, 1).toUpperCase()}
@@ -80,7 +81,7 @@ export function AppShell({ organisation, organisations, user, theme, children }:
               </ul>
             </div>
           </details>
-          <details className="relative">
+          <details key={`account ${location.pathname}`} className="relative">
             <summary className="flex cursor-pointer list-none items-center gap-2 rounded-control px-2 py-1.5 text-sm hover:bg-surface-sunken" aria-label={`Account menu for ${user.name}`}>
               <span className="grid size-7 place-items-center rounded-full bg-harbour text-xs font-semibold text-on-harbour" aria-hidden="true">
                 {user.name

@@ -81,6 +81,11 @@ function fieldChanges(changes: Changes): string {
   return parts.join(", ");
 }
 
+/** " from “a” to “b”" for a recorded { from, to } pair; "" for anything else. */
+function fromTo(value: unknown): string {
+  return isFromTo(value) ? ` from ${quoted(valueText(value.from))} to ${quoted(valueText(value.to))}` : "";
+}
+
 /** "lastRevision" → "last revision". */
 export function fieldLabel(field: string): string {
   return field.replace(/([a-z])([A-Z])/g, "$1 $2").replace(/[-_]/g, " ").toLowerCase();
@@ -88,7 +93,7 @@ export function fieldLabel(field: string): string {
 
 const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => string> = {
   "organisation.created": (c, target) => `Created the organisation ${quoted(c.name, target)}`,
-  "organisation.renamed": (c) => `Renamed the organisation: ${fieldChanges(c)}`,
+  "organisation.renamed": (c) => `Renamed the organisation${fromTo(c.name)}`,
   "site.created": (c) => `Added site ${quoted(c.name)}${word(c.customer, "") ? ` for ${word(c.customer)}` : ""}${word(c.location, "") ? ` at ${word(c.location)}` : ""}`,
   "site.updated": (c, target) => `Changed site ${quoted(target)}: ${fieldChanges(c)}`,
   "site.deleted": (c, target) => `Deleted site ${quoted(c.name, target)}`,
@@ -111,9 +116,9 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "member.removed": (c, target) => `Removed ${target}${word(c.role, "") ? ` (${word(c.role)})` : ""} from the organisation`,
   "user.signed-in": () => "Signed in",
   "user.signed-out-everywhere": () => "Signed out on every device",
-  "user.renamed": (c) => `Changed their name: ${fieldChanges(c)}`,
+  "user.renamed": (c) => `Changed their name${fromTo(c.name)}`,
   "user.email-change-requested": (c) => `Asked to change their e-mail to ${word(c.newEmail)}; a confirmation link went to that address`,
-  "user.email-changed": (c) => `Changed their e-mail: ${fieldChanges(c)}`,
+  "user.email-changed": (c) => `Changed their e-mail${fromTo(c.email)}`,
   "user.password-changed": (c) => `Changed their password${typeof c.otherSessionsEnded === "number" ? ` and signed out ${plural(c.otherSessionsEnded, { one: "other session", other: "other sessions" })}` : ""}`,
   "password.reset-requested": () => "Asked for a password reset link",
   "password.reset-completed": () => "Set a new password from a reset link and signed out everywhere",

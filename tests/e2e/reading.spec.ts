@@ -32,7 +32,7 @@ test("A new user changes their name on the account page, inside the app shell", 
   await nameForm.getByLabel("Name").fill("Ada Quayside");
   await nameForm.getByRole("button", { name: "Save name" }).click();
   await expect(toast(page)).toContainText("Your name is now Ada Quayside.");
-  await expect(page.getByText("Changed their name: name “Ada Pierhead” → “Ada Quayside”")).toBeVisible();
+  await expect(page.getByText("Changed their name from “Ada Pierhead” to “Ada Quayside”")).toBeVisible();
 
   const passwordForm = page.getByRole("form", { name: "Change your password" });
   await passwordForm.getByLabel("Current password").fill("not the password at all");
@@ -40,7 +40,8 @@ test("A new user changes their name on the account page, inside the app shell", 
   await passwordForm.getByRole("button", { name: "Change password" }).click();
   await expect(passwordForm.getByText("That is not your current password.")).toBeVisible();
   await screenshot(page, "40-account");
-  expect(errors).toEqual([]);
+  // The refused form answers 400 by design (server/http/form.server.ts); nothing else may log an error.
+  expect(errors.filter((error) => !error.includes("responded with a status of 400"))).toEqual([]);
 });
 
 test("An owner reads the audit log in words, filters it and opens an entry's details", async ({ page }) => {

@@ -47,7 +47,7 @@ describe("The account page", () => {
     const [event] = await accountEvents(email);
     expect(event.action).toBe("user.renamed");
     expect(event.changes).toEqual({ name: { from: "Test acct-name", to: "Marit Quayle" } });
-    expect(plain((await client.get(`/o/${slug}/account`)).text)).toContain("Changed their name: name “Test acct-name” → “Marit Quayle”");
+    expect(plain((await client.get(`/o/${slug}/account`)).text)).toContain("Changed their name from “Test acct-name” to “Marit Quayle”");
   });
 
   test("A new e-mail takes effect only when the link sent to it is followed; the old address is told and the link works once", async () => {

@@ -25,6 +25,8 @@ describe("Audit words", () => {
     expect(auditSentence({ action: "member.role-changed", targetName: "Ines Quayside", changes })).toBe("Changed the role of Ines Quayside from trainee to engineer");
     expect(auditSentence({ action: "site.updated", targetName: "Pier 4", changes: { location: { from: "", to: "Dock 2" } } })).toBe("Changed site “Pier 4”: location “—” → “Dock 2”");
     expect(auditSentence({ action: "user.password-changed", targetName: null, changes: { otherSessionsEnded: 1 } })).toBe("Changed their password and signed out 1 other session");
+    expect(auditSentence({ action: "user.renamed", targetName: null, changes })).toBe("Changed their name from “Pier 3” to “Pier 4”");
+    expect(auditSentence({ action: "organisation.renamed", targetName: null, changes: { name: { from: "Harbour Ltd", to: "Harbour plc" } } })).toBe("Renamed the organisation from “Harbour Ltd” to “Harbour plc”");
   });
 
   test("A stored action this version does not know still reads, with its values", () => {
