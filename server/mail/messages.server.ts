@@ -6,9 +6,12 @@ function escapeHtml(value: string): string {
   return value.replace(/[&<>"']/g, (character) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[character]!);
 }
 
-function layout(paragraphs: string[], link: { href: string; label: string }): string {
+function layout(paragraphs: string[], link?: { href: string; label: string }): string {
   const body = paragraphs.map((paragraph) => `<p style="margin:0 0 14px">${escapeHtml(paragraph)}</p>`).join("");
-  return `<div style="font-family:system-ui,sans-serif;max-width:520px;color:#14202b">${body}<p><a href="${escapeHtml(link.href)}" style="display:inline-block;padding:10px 16px;background:#0f5c63;color:#fff;border-radius:6px;text-decoration:none">${escapeHtml(link.label)}</a></p><p style="color:#5b6b78;font-size:13px">Or paste this link into your browser: ${escapeHtml(link.href)}</p></div>`;
+  const button = link
+    ? `<p><a href="${escapeHtml(link.href)}" style="display:inline-block;padding:10px 16px;background:#0f5c63;color:#fff;border-radius:6px;text-decoration:none">${escapeHtml(link.label)}</a></p><p style="color:#5b6b78;font-size:13px">Or paste this link into your browser: ${escapeHtml(link.href)}</p>`
+    : "";
+  return `<div style="font-family:system-ui,sans-serif;max-width:520px;color:#14202b">${body}${button}</div>`;
 }
 
 export async function sendPasswordResetMail(input: { to: string; name: string; link: string; minutes: number }): Promise<void> {
@@ -54,10 +57,10 @@ export async function sendEmailChangeMail(input: { to: string; name: string; lin
 
 /** Sent to the old address once the change is made, so a change nobody asked for is noticed. */
 export async function sendEmailChangedNotice(input: { to: string; name: string; newEmail: string }): Promise<void> {
-  const text = [
+  const paragraphs = [
     `Hello ${input.name},`,
     `Your Sallyport account now signs in with ${input.newEmail} instead of this address.`,
     "If you did not make this change, ask your organisation's administrator for help at once.",
-  ].join("\n\n");
-  await sendMail({ to: input.to, subject: "Your Sallyport e-mail address was changed", text: `${text}\n`, html: `<div style="font-family:system-ui,sans-serif;max-width:520px;color:#14202b"><p>${text.split("\n\n").map(escapeHtml).join("</p><p>")}</p></div>` });
+  ];
+  await sendMail({ to: input.to, subject: "Your Sallyport e-mail address was changed", text: `${paragraphs.join("\n\n")}\n`, html: layout(paragraphs) });
 }

@@ -11,16 +11,22 @@ function consoleErrors(page: Page): string[] {
   return errors;
 }
 
-test("A new user changes their name on the account page, inside the app shell", async ({ page }) => {
-  const errors = consoleErrors(page);
+/** Signs up a new user with an organisation of their own; returns the organisation's slug. */
+async function signUp(page: Page, name: string, organisation: string): Promise<string> {
   const stamp = Date.now().toString(36);
   await page.goto("/signup");
-  await page.getByLabel("Your name").fill("Ada Pierhead");
-  await page.getByLabel("Work e-mail").fill(`ada-${stamp}@test.example`);
-  await page.getByLabel("Organisation").fill(`Pierhead Survey ${stamp}`);
+  await page.getByLabel("Your name").fill(name);
+  await page.getByLabel("Work e-mail").fill(`${name.split(" ")[0].toLowerCase()}-${stamp}@test.example`);
+  await page.getByLabel("Organisation").fill(`${organisation} ${stamp}`);
   await page.getByLabel("Password", { exact: true }).fill("quiet harbour lantern 42");
   await page.getByRole("button", { name: "Create organisation" }).click();
   await page.waitForURL(/\/o\//);
+  return new URL(page.url()).pathname.split("/")[2];
+}
+
+test("A new user changes their name on the account page, inside the app shell", async ({ page }) => {
+  const errors = consoleErrors(page);
+  await signUp(page, "Ada Pierhead", "Pierhead Survey");
 
   await page.getByLabel("Account menu for Ada Pierhead").click();
   await page.getByRole("link", { name: "Your account" }).click();
@@ -46,15 +52,7 @@ test("A new user changes their name on the account page, inside the app shell", 
 
 test("An owner reads the audit log in words, filters it and opens an entry's details", async ({ page }) => {
   const errors = consoleErrors(page);
-  const stamp = Date.now().toString(36);
-  await page.goto("/signup");
-  await page.getByLabel("Your name").fill("Bo Ledger");
-  await page.getByLabel("Work e-mail").fill(`bo-${stamp}@test.example`);
-  await page.getByLabel("Organisation").fill(`Ledger Marine ${stamp}`);
-  await page.getByLabel("Password", { exact: true }).fill("quiet harbour lantern 42");
-  await page.getByRole("button", { name: "Create organisation" }).click();
-  await page.waitForURL(/\/o\//);
-  const slug = new URL(page.url()).pathname.split("/")[2];
+  const slug = await signUp(page, "Bo Ledger", "Ledger Marine");
   await page.goto(`/o/${slug}/sites`);
   await page.getByLabel("Site name").fill("Slipway");
   await page.getByLabel("Location").fill("North quay");

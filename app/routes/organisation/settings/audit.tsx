@@ -49,6 +49,23 @@ export async function loader({ request, context }: Route.LoaderArgs) {
 const selectClass = "h-9 max-w-64 rounded-control border border-line-strong bg-surface px-2 text-sm";
 const inputClass = "h-9 rounded-control border border-line-strong bg-surface px-2 text-sm";
 
+/** One filter: a labelled select whose first option means "no filter". */
+function Choice({ label, name, value, any, options }: { label: string; name: string; value: string; any: string; options: readonly { id: string; label: string }[] }) {
+  return (
+    <label className="text-sm">
+      <span className="mb-1 block font-medium">{label}</span>
+      <select name={name} defaultValue={value} className={selectClass}>
+        <option value="">{any}</option>
+        {options.map((option) => (
+          <option key={option.id} value={option.id}>
+            {option.label}
+          </option>
+        ))}
+      </select>
+    </label>
+  );
+}
+
 export default function AuditLog({ loaderData }: Route.ComponentProps) {
   const [searchParams] = useSearchParams();
   const { query, choices, entries, total, page, pages, filtered, now, slug, pageSize, csvLimit } = loaderData;
@@ -60,39 +77,9 @@ export default function AuditLog({ loaderData }: Route.ComponentProps) {
       <p className="text-sm text-ink-muted">Every change in this organisation, newest first. Append-only: entries cannot be edited or deleted, by anyone. Days are UTC.</p>
       <Card className="p-4">
         <Form method="get" className="flex flex-wrap items-end gap-3" aria-label="Audit log filters">
-          <label className="text-sm">
-            <span className="mb-1 block font-medium">Who</span>
-            <select name="actor" defaultValue={query.actor} className={selectClass}>
-              <option value="">Anyone</option>
-              {choices.actors.map((actor) => (
-                <option key={actor.id} value={actor.id}>
-                  {actor.label}
-                </option>
-              ))}
-            </select>
-          </label>
-          <label className="text-sm">
-            <span className="mb-1 block font-medium">What</span>
-            <select name="action" defaultValue={query.action} className={selectClass}>
-              <option value="">Any change</option>
-              {AUDIT_ACTIONS.map((action) => (
-                <option key={action} value={action}>
-                  {AUDIT_ACTION_LABELS[action]}
-                </option>
-              ))}
-            </select>
-          </label>
-          <label className="text-sm">
-            <span className="mb-1 block font-medium">Device</span>
-            <select name="device" defaultValue={query.device} className={selectClass}>
-              <option value="">Any device</option>
-              {choices.devices.map((device) => (
-                <option key={device.id} value={device.id}>
-                  {device.label}
-                </option>
-              ))}
-            </select>
-          </label>
+          <Choice label="Who" name="actor" value={query.actor} any="Anyone" options={choices.actors} />
+          <Choice label="What" name="action" value={query.action} any="Any change" options={AUDIT_ACTIONS.map((action) => ({ id: action, label: AUDIT_ACTION_LABELS[action] }))} />
+          <Choice label="Device" name="device" value={query.device} any="Any device" options={choices.devices} />
           <label className="text-sm">
             <span className="mb-1 block font-medium">From</span>
             <input type="date" name="from" defaultValue={query.from} className={inputClass} />
