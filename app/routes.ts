@@ -8,6 +8,7 @@ export default [
     route("forgot-password", "routes/auth/forgot-password.tsx"),
     route("reset-password/:token", "routes/auth/reset-password.tsx"),
     route("invitations/:token", "routes/auth/invitation.tsx"),
+    route("confirm-email/:token", "routes/auth/confirm-email.tsx"),
   ]),
   route("logout", "routes/auth/logout.tsx"),
   route("account", "routes/account.tsx"),
@@ -36,6 +37,7 @@ export default [
     route("sites", "routes/organisation/sites.tsx"),
     route("findings", "routes/organisation/findings.tsx"),
     route("training", "routes/organisation/training.tsx"),
+    route("account", "routes/organisation/account.tsx"),
     ...prefix("settings", [
       layout("routes/organisation/settings/layout.tsx", [
         index("routes/organisation/settings/index.tsx"),
@@ -44,6 +46,7 @@ export default [
         route("shared-objects", "routes/organisation/settings/shared-objects.tsx"),
         route("audit", "routes/organisation/settings/audit.tsx"),
       ]),
+      route("audit.csv", "routes/organisation/settings/audit.csv.ts"),
     ]),
   ]),
   route("*", "routes/not-found.tsx"),

@@ -1,6 +1,7 @@
 import type { Sequelize } from "sequelize";
 import { AuditEvent } from "./audit-event.ts";
 import { Device } from "./device.ts";
+import { EmailChange } from "./email-change.ts";
 import { DeviceRevision } from "./device-revision.ts";
 import { FindingDismissal } from "./finding-dismissal.ts";
 import { Invitation } from "./invitation.ts";
@@ -15,11 +16,11 @@ import { Site } from "./site.ts";
 import { User } from "./user.ts";
 
 export type { RevisionSummaryRecord, SharedObjectsSnapshot } from "./device-revision.ts";
-export { AuditEvent, Device, DeviceRevision, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
+export { AuditEvent, Device, DeviceRevision, EmailChange, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
 
 /** Registers every model and association on one Sequelize instance. */
 export function initModels(sequelize: Sequelize): void {
-  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, SignInAttempt, PasswordReset, Invitation, Device, DeviceRevision, RevisionAnalysisRecord, SharedAddressObject, FindingDismissal]) {
+  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, SignInAttempt, PasswordReset, EmailChange, Invitation, Device, DeviceRevision, RevisionAnalysisRecord, SharedAddressObject, FindingDismissal]) {
     model.initModel(sequelize);
   }
   Organisation.hasMany(Membership, { foreignKey: "organisationId", as: "memberships" });
@@ -30,6 +31,7 @@ export function initModels(sequelize: Sequelize): void {
   Site.belongsTo(Organisation, { foreignKey: "organisationId" });
   Session.belongsTo(User, { foreignKey: "userId", as: "user" });
   PasswordReset.belongsTo(User, { foreignKey: "userId" });
+  EmailChange.belongsTo(User, { foreignKey: "userId" });
   Invitation.belongsTo(Organisation, { foreignKey: "organisationId", as: "organisation" });
   Invitation.belongsTo(User, { foreignKey: "invitedById", as: "invitedBy" });
   Device.belongsTo(Organisation, { foreignKey: "organisationId" });

@@ -50,11 +50,11 @@ export function AppShell({ organisation, organisations, user, theme, children }:
             </li>
           ))}
         </ul>
-        <p className="mt-auto px-2 text-xs leading-relaxed text-ink-faint max-md:hidden">Models the configuration, not the device. Confirm on the device in a maintenance window.</p>
       </nav>
       <div className="flex min-w-0 flex-1 flex-col">
         <header className="flex h-14 items-center justify-between gap-4 border-b border-line bg-surface px-6">
-          <details className="group relative">
+          {/* Keyed by the path so a menu closes once one of its links has been followed. */}
+          <details key={`organisations ${location.pathname}`} className="group relative">
             <summary className="flex cursor-pointer list-none items-center gap-2 rounded-control px-2 py-1.5 text-sm font-semibold hover:bg-surface-sunken" aria-label={`Organisation: ${organisation.name}. Switch organisation`}>
               <span className="grid size-6 place-items-center rounded-md bg-brass-soft text-xs font-bold text-brass" aria-hidden="true">
                 {organisation.name.slice(0, 1).toUpperCase()}
@@ -81,7 +81,7 @@ export function AppShell({ organisation, organisations, user, theme, children }:
               </ul>
             </div>
           </details>
-          <details className="relative">
+          <details key={`account ${location.pathname}`} className="relative">
             <summary className="flex cursor-pointer list-none items-center gap-2 rounded-control px-2 py-1.5 text-sm hover:bg-surface-sunken" aria-label={`Account menu for ${user.name}`}>
               <span className="grid size-7 place-items-center rounded-full bg-harbour text-xs font-semibold text-on-harbour" aria-hidden="true">
                 {user.name
@@ -96,8 +96,8 @@ export function AppShell({ organisation, organisations, user, theme, children }:
             <div className="absolute right-0 z-30 mt-2 w-72 rounded-card border border-line bg-surface-raised p-2 shadow-overlay">
               <p className="px-2 py-1 text-sm font-medium">{user.name}</p>
               <p className="px-2 pb-2 text-xs break-all text-ink-muted">{user.email}</p>
-              <Link to="/account" className="block rounded-control px-2 py-2 text-sm hover:bg-surface-sunken">
-                Account and sessions
+              <Link to={`/o/${organisation.slug}/account`} className="block rounded-control px-2 py-2 text-sm hover:bg-surface-sunken">
+                Your account
               </Link>
               <Form method="post" action="/theme" className="flex items-center gap-1 px-2 py-2" aria-label="Theme">
                 <input type="hidden" name="returnTo" value={location.pathname + location.search} />

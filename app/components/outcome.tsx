@@ -1,15 +1,8 @@
-import { OUTCOMES, outcomeRank, type Outcome } from "#server/engine/vocabulary";
+import { OUTCOME_LABELS, OUTCOMES, outcomeRank, type Outcome } from "#server/engine/vocabulary";
 import { cx } from "./ui/cx";
 
-/** Plain words for each outcome, as an outsider would experience it. */
-export const OUTCOME_LABELS: Record<Outcome, string> = {
-  silent: "No answer",
-  refused: "Refused (device revealed)",
-  answered: "Answered",
-  "login-denied": "Login shown, refused",
-  "login-mfa": "Login with second factor",
-  "login-password": "Login with password only",
-};
+// The labels live with the codes (server/engine/vocabulary.ts) so screens and CSV exports agree.
+export { OUTCOME_LABELS };
 
 // Each outcome's colour is the theme token --color-outcome-<outcome> (app.css).
 export const OUTCOME_TONES: Record<Outcome, string> = {

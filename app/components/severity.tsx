@@ -1,5 +1,6 @@
 import { isSeverity, SEVERITIES, type Severity } from "#server/engine/vocabulary";
 import { cx } from "./ui/cx";
+import { formatNumber } from "#server/engine/format";
 
 /** Most severe first, as lists of findings read. */
 export const SEVERITY_ORDER: readonly Severity[] = [...SEVERITIES].reverse();
@@ -21,7 +22,7 @@ export function SeverityCounts({ counts }: { counts: Record<string, number> }) {
     <span className="flex flex-wrap gap-1">
       {present.map((severity) => (
         <span key={severity} className={cx("inline-flex items-center rounded px-1.5 py-0.5 text-xs font-medium", SEVERITY_TONES[severity])}>
-          {counts[severity]} {severity}
+          {formatNumber(counts[severity] ?? 0)} {severity}
         </span>
       ))}
     </span>

@@ -1,4 +1,4 @@
-import { Form, redirect } from "react-router";
+import { Form, Link, redirect } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/home";
 import { requireSignedIn } from "#server/auth/guard.server";
@@ -39,10 +39,13 @@ export default function Home({ loaderData, actionData }: Route.ComponentProps) {
         <TextField label="Organisation" name="organisationName" required maxLength={100} defaultValue={actionData?.values.organisationName} error={actionData?.errors.organisationName} />
         <Button type="submit">Create organisation</Button>
       </Form>
-      <Form method="post" action="/logout" className="mt-10">
+      <Form method="post" action="/logout" className="mt-10 flex items-center gap-4">
         <Button type="submit" variant="ghost" size="sm">
           Sign out
         </Button>
+        <Link to="/account" className="text-sm text-ink-muted underline underline-offset-4">
+          Your account
+        </Link>
       </Form>
     </main>
   );

@@ -5,6 +5,7 @@ import { listOutboxMessages } from "#server/mail/outbox.server";
 import { BrandMark } from "#app/components/brand";
 import { Card } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
+import { Time } from "#app/components/ui/time";
 
 export const meta: Route.MetaFunction = () => [{ title: "Local outbox · Sallyport" }];
 
@@ -51,9 +52,7 @@ export default function Outbox({ loaderData }: Route.ComponentProps) {
               <article aria-label={message.subject}>
                 <div className="flex flex-wrap items-baseline justify-between gap-2">
                   <h2 className="font-semibold">{message.subject}</h2>
-                  <time className="text-xs text-ink-faint tabular" dateTime={message.date}>
-                    {new Date(message.date).toISOString().replace("T", " ").slice(0, 19)} UTC
-                  </time>
+                  <Time at={message.date} className="text-xs text-ink-faint tabular" />
                 </div>
                 <p className="mt-1 text-sm text-ink-muted">To: {message.to}</p>
                 <pre className="mt-4 font-sans text-sm whitespace-pre-wrap">

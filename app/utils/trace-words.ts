@@ -1,15 +1,9 @@
 // Plain-language wording of a trace, shared by the canvas, the step list and tests. Pure.
 import type { TraceResult } from "#server/engine/trace";
-import type { Layer } from "#server/engine/vocabulary";
+import { LAYER_LABELS } from "#server/engine/vocabulary";
 
-export const LAYER_TITLES: Record<Layer, string> = {
-  arrival: "Arrival",
-  "inbound-rules": "Inbound rules",
-  listener: "Listener",
-  "service-kind": "Service kind",
-  "login-sources": "Login sources",
-  "second-factor": "Second factor",
-};
+/** The layers' titles: the vocabulary's labels, so the reach table, its CSV and the canvas agree. */
+export const LAYER_TITLES = LAYER_LABELS;
 
 export type TraceView = Pick<TraceResult, "outcome" | "layers" | "ruleId" | "eligibleAccounts" | "interface" | "service" | "from" | "to">;
 

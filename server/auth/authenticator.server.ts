@@ -2,6 +2,7 @@ import { Authenticator } from "remix-auth";
 import { FormStrategy } from "remix-auth-form";
 import { z } from "zod";
 import { User } from "#models/index.ts";
+import { formatDuration } from "../engine/format.ts";
 import { Refusal } from "../errors.ts";
 import { getDecoyHash, hashPassword, needsRehash, verifyPassword } from "./password.server.ts";
 import { PASSWORD_MAX_LENGTH } from "./password-rules.ts";
@@ -27,7 +28,7 @@ async function verifySignIn(form: FormData, context: SignInContext): Promise<Use
   if (verdict.throttled) {
     const minutes = Math.ceil(verdict.retryAfterSeconds / 60);
     throw signInRefused(
-      `Too many failed sign-ins ${verdict.scope === "account" ? "for this account" : "from your address"}. Try again in ${minutes} minute${minutes === 1 ? "" : "s"}, or reset your password.`,
+      `Too many failed sign-ins ${verdict.scope === "account" ? "for this account" : "from your address"}. Try again in ${formatDuration(minutes, "minute")}, or reset your password.`,
       429,
       verdict.retryAfterSeconds,
     );

@@ -23,6 +23,7 @@ import {
 } from "../engine/index.ts";
 import type { CompiledModel, ExposureEntry, Finding, ModelDiff, ParseResult, Severity, TraceResult, ValidationIssue } from "../engine/index.ts";
 import { CsvSyntaxError, parseCsv } from "../formats/csv.ts";
+import { plural } from "../engine/format.ts";
 import { jsonPieces } from "../formats/json-stream.ts";
 import { table } from "./table.ts";
 
@@ -172,7 +173,7 @@ async function validateCommand(files: readonly string[], values: Options, io: Io
   if (values.json === true) {
     const body = result.ok ? { ok: true, warnings: result.warnings } : { ok: false, errors: result.errors, warnings: result.warnings };
     await writeJson(io, body);
-    if (!result.ok) io.err(`${path}: invalid model (${result.errors.length} errors)\n`);
+    if (!result.ok) io.err(`${path}: invalid model (${plural(result.errors.length, { one: "error", other: "errors" })})\n`);
     return result.ok ? 0 : 2;
   }
   reportWarnings(path, result.warnings, io);
@@ -183,8 +184,9 @@ async function validateCommand(files: readonly string[], values: Options, io: Io
   const m = result.model;
   await write(
     io,
-    `${path}: valid — device "${m.device.name}", ${m.interfaces.length} interfaces, ${m.inboundRules.length} inbound rules, ` +
-      `${m.accounts.length} accounts, ${result.warnings.length} warnings\n`,
+    `${path}: valid — device "${m.device.name}", ${plural(m.interfaces.length, { one: "interface", other: "interfaces" })}, ` +
+      `${plural(m.inboundRules.length, { one: "inbound rule", other: "inbound rules" })}, ${plural(m.accounts.length, { one: "account", other: "accounts" })}, ` +
+      `${plural(result.warnings.length, { one: "warning", other: "warnings" })}\n`,
   );
   return 0;
 }

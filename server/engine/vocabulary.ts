@@ -1,9 +1,10 @@
 // The product's words, each defined once (PRODUCT.md §3–§6): outcomes, layers, severities,
 // interface roles, rule actions, days, protocols and service kinds, the built-in catalogue
 // and names, element kinds and the name pattern. Pure data and small guards with no imports,
-// so the engine, the server and the browser share this one copy. Labels, colours and
-// sentences stay in app/, keyed by these types (`Record<Outcome, string>`), so a new word
-// fails typecheck wherever it still lacks its wording.
+// so the engine, the server and the browser share this one copy. The labels a person reads
+// for the codes are here too (end of file), so every screen, every CSV export (beside the
+// code) and the CLI use one wording; colours and sentences stay in app/. All are keyed by
+// these types (`Record<Outcome, string>`), so a new word fails typecheck until it is worded.
 
 function oneOf<const Words extends readonly string[]>(words: Words, value: unknown): value is Words[number] {
   return typeof value === "string" && words.includes(value);
@@ -179,3 +180,27 @@ export type ElementRef = `${ElementKind}:${string}`;
 export function elementRef(kind: ElementKind, name: string): ElementRef {
   return `${kind}:${name}`;
 }
+
+// ---------------------------------------------------------------------------------------------
+// Labels: the words shown for the codes on every screen and beside the code in CSV exports.
+// The JSON API and the CLI's JSON keep the codes; these are for people.
+
+/** Each outcome as an outsider experiences it. */
+export const OUTCOME_LABELS: OutcomeRecord<string> = {
+  silent: "No answer",
+  refused: "Refused (device revealed)",
+  answered: "Answered",
+  "login-denied": "Login shown, refused",
+  "login-mfa": "Login with second factor",
+  "login-password": "Login with password only",
+};
+
+/** Each layer of a trace, as the canvas, the step list and the reach table title it. */
+export const LAYER_LABELS: Record<Layer, string> = {
+  arrival: "Arrival",
+  "inbound-rules": "Inbound rules",
+  listener: "Listener",
+  "service-kind": "Service kind",
+  "login-sources": "Login sources",
+  "second-factor": "Second factor",
+};

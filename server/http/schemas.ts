@@ -49,3 +49,17 @@ export const SiteSchema = z.object({
   customer: z.string().trim().max(100, "Use at most 100 characters.").default(""),
   location: z.string().trim().max(200, "Use at most 200 characters.").default(""),
 });
+
+// The account page's three forms. The current password is checked by the service; the new
+// one against the password rules with the user's own name and e-mail.
+export const ChangeNameSchema = z.object({ name: PersonNameSchema });
+
+export const ChangeEmailSchema = z.object({
+  newEmail: EmailSchema,
+  currentPassword: z.string().min(1, "Enter your current password to confirm it is you.").max(PASSWORD_MAX_LENGTH * 4, "That password is far too long."),
+});
+
+export const ChangePasswordSchema = z.object({
+  currentPassword: z.string().min(1, "Enter your current password.").max(PASSWORD_MAX_LENGTH * 4, "That password is far too long."),
+  newPassword: PasswordInputSchema,
+});

@@ -1,19 +1,23 @@
 import type { Role } from "../auth/roles.ts";
+import { formatDuration } from "../engine/format.ts";
 import { sendMail } from "./mailer.server.ts";
 
 function escapeHtml(value: string): string {
   return value.replace(/[&<>"']/g, (character) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[character]!);
 }
 
-function layout(paragraphs: string[], link: { href: string; label: string }): string {
+function layout(paragraphs: string[], link?: { href: string; label: string }): string {
   const body = paragraphs.map((paragraph) => `<p style="margin:0 0 14px">${escapeHtml(paragraph)}</p>`).join("");
-  return `<div style="font-family:system-ui,sans-serif;max-width:520px;color:#14202b">${body}<p><a href="${escapeHtml(link.href)}" style="display:inline-block;padding:10px 16px;background:#0f5c63;color:#fff;border-radius:6px;text-decoration:none">${escapeHtml(link.label)}</a></p><p style="color:#5b6b78;font-size:13px">Or paste this link into your browser: ${escapeHtml(link.href)}</p></div>`;
+  const button = link
+    ? `<p><a href="${escapeHtml(link.href)}" style="display:inline-block;padding:10px 16px;background:#0f5c63;color:#fff;border-radius:6px;text-decoration:none">${escapeHtml(link.label)}</a></p><p style="color:#5b6b78;font-size:13px">Or paste this link into your browser: ${escapeHtml(link.href)}</p>`
+    : "";
+  return `<div style="font-family:system-ui,sans-serif;max-width:520px;color:#14202b">${body}${button}</div>`;
 }
 
 export async function sendPasswordResetMail(input: { to: string; name: string; link: string; minutes: number }): Promise<void> {
   const paragraphs = [
     `Hello ${input.name},`,
-    `Someone (hopefully you) asked to reset your Sallyport password. The link works once and expires in ${input.minutes} minutes.`,
+    `Someone (hopefully you) asked to reset your Sallyport password. The link works once and expires in ${formatDuration(input.minutes, "minute")}.`,
     "If you did not ask for this, ignore this message; your password stays as it is.",
   ];
   await sendMail({
@@ -35,4 +39,28 @@ export async function sendInvitationMail(input: { to: string; organisationName: 
     text: `${paragraphs.join("\n\n")}\n\nAccept the invitation: ${input.link}\n`,
     html: layout(paragraphs, { href: input.link, label: "Accept the invitation" }),
   });
+}
+
+export async function sendEmailChangeMail(input: { to: string; name: string; link: string; lifetime: string }): Promise<void> {
+  const paragraphs = [
+    `Hello ${input.name},`,
+    `Someone (hopefully you) asked to use this address to sign in to Sallyport. Nothing changes until you follow the link; it works once and expires in ${input.lifetime}.`,
+    "If you did not ask for this, ignore this message.",
+  ];
+  await sendMail({
+    to: input.to,
+    subject: "Confirm your new Sallyport e-mail address",
+    text: `${paragraphs.join("\n\n")}\n\nConfirm this address: ${input.link}\n`,
+    html: layout(paragraphs, { href: input.link, label: "Confirm this address" }),
+  });
+}
+
+/** Sent to the old address once the change is made, so a change nobody asked for is noticed. */
+export async function sendEmailChangedNotice(input: { to: string; name: string; newEmail: string }): Promise<void> {
+  const paragraphs = [
+    `Hello ${input.name},`,
+    `Your Sallyport account now signs in with ${input.newEmail} instead of this address.`,
+    "If you did not make this change, ask your organisation's administrator for help at once.",
+  ];
+  await sendMail({ to: input.to, subject: "Your Sallyport e-mail address was changed", text: `${paragraphs.join("\n\n")}\n`, html: layout(paragraphs) });
 }

@@ -27,6 +27,24 @@ describe("sallyport CLI", { timeout: 60_000 }, () => {
     expect(t.layers[1]).toMatchObject({ result: "pass", ruleId: "r-noc" });
   });
 
+  test("validate sums a model up with plurals that agree (CLDR plural rules: one for exactly 1)", () => {
+    const dir = mkdtempSync(join(tmpdir(), "sallyport-"));
+    const file = join(dir, "one-of-each.json");
+    writeFileSync(
+      file,
+      JSON.stringify({
+        schemaVersion: 1,
+        device: { name: "one-of-each" },
+        interfaces: [{ name: "uplink", addresses: ["192.0.2.1/24"], listeners: ["ssh"] }],
+        inboundRules: [{ id: "r1", interface: "any", sources: ["any"], destinations: ["any"], services: ["ssh"], action: "allow" }],
+        accounts: [{ name: "ops-lena", secondFactor: "totp" }],
+      }),
+    );
+    const r = sallyport("validate", file);
+    expect(r.code).toBe(0);
+    expect(r.stdout).toContain('valid — device "one-of-each", 1 interface, 1 inbound rule, 1 account, 0 warnings');
+  });
+
   test("a readable table without --json; a probe input error exits 2 with a message on stderr", () => {
     const ok = sallyport("trace", model("harbourline-edge.json"), "--from", "203.0.113.50", "--on", "outside", "--service", "ssh");
     expect(ok.code).toBe(0);

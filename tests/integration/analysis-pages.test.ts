@@ -6,6 +6,7 @@ import { readFileSync } from "node:fs";
 import { beforeAll, describe, expect, test } from "vitest";
 import { parseCsv } from "#server/formats/csv";
 import { compileModel, exposure, OUTCOMES, parseModel, reach, trace } from "#server/engine/index";
+import { isOutcome, LAYER_LABELS, OUTCOME_LABELS } from "#server/engine/vocabulary";
 import { DEMO_PASSWORDS, signUpNewOrganisation, TestClient } from "../support/client";
 import { plain, UUID } from "../support/html";
 
@@ -76,20 +77,39 @@ describe("Reach: what one source can reach", () => {
     expect(response.headers.get("content-type")).toMatch(/^text\/csv/);
     expect(response.headers.get("content-disposition")).toMatch(/^attachment; filename=".+\.csv"$/);
     const [header, ...rows] = parseCsv(response.text);
-    expect(header).toEqual(["interface", "to", "service", "outcome", "deciding_layer", "rule_id", "eligible_accounts", "detail"]);
+    // Each code column is followed by its label column.
+    expect(header).toEqual(["interface", "to", "service", "outcome", "outcome_label", "deciding_layer", "deciding_layer_label", "rule_id", "eligible_accounts", "detail"]);
     const device = demoDevice("clf-gw-02");
     expect(rows).toHaveLength(device.model.interfaces.length * device.catalogue.length);
     const expected = reach(device, "203.0.113.50", AT).results;
     rows.forEach((row, index) => {
+      const deciding = expected[index].layers[expected[index].layers.length - 1];
       expect(row[0]).toBe(expected[index].interface);
       expect(row[2]).toBe(expected[index].service);
       expect(row[3]).toBe(expected[index].outcome);
-      expect(row[4]).toBe(expected[index].layers[expected[index].layers.length - 1].layer);
-      expect(row[5]).toBe(expected[index].ruleId ?? "");
-      expect(row[7]).toBe(expected[index].layers[expected[index].layers.length - 1].detail);
+      expect(row[4]).toBe(OUTCOME_LABELS[expected[index].outcome]);
+      expect(row[5]).toBe(deciding.layer);
+      expect(row[6]).toBe(LAYER_LABELS[deciding.layer]);
+      expect(row[7]).toBe(expected[index].ruleId ?? "");
+      expect(row[9]).toBe(deciding.detail);
     });
     // A detail with quotes in it survives the round trip (RFC 4180 §2.7).
-    expect(rows.some((row) => row[7].includes('"outside"'))).toBe(true);
+    expect(rows.some((row) => row[9].includes('"outside"'))).toBe(true);
+  });
+
+  test("The reach page and its CSV use one vocabulary: each CSV code's label is what the page shows in that row", async () => {
+    const [page, csv] = await Promise.all([engineer.get(path("clf-gw-02", `reach?from=203.0.113.205&at=${AT}`)), engineer.get(path("clf-gw-02", `reach.csv?from=203.0.113.205&at=${AT}`))]);
+    const pageRows = rowsOf(page.text);
+    const rows = parseCsv(csv.text).slice(1);
+    expect(new Set(rows.map((row) => row[3])).size).toBeGreaterThan(1); // several outcomes, so the check means something
+    for (const [iface, , service, outcome, outcomeLabel, , layerLabel] of rows) {
+      const shown = pageRows.find((html) => html.includes(`>${iface}<`) && html.includes(`>${service}<`));
+      expect(shown, `${iface} ${service}`).toContain(`>${outcomeLabel}<`);
+      expect(shown).toContain(`(${outcome})`);
+      expect(shown).toContain(`>${layerLabel}<`);
+    }
+    // The silent outcome reads "No answer" on the page and in the CSV's label column, with the code beside it.
+    expect(rows.some((row) => row[3] === "silent" && row[4] === OUTCOME_LABELS.silent)).toBe(true);
   });
 
   test("A blocked scanner's address shows the deciding rule", async () => {
@@ -97,7 +117,7 @@ describe("Reach: what one source can reach", () => {
     const row = parseCsv(response.text).find((fields) => fields[0] === "outside" && fields[2] === "https");
     const direct = trace(demoDevice("clf-gw-02"), { from: "203.0.113.205", interface: "outside", service: "https", at: AT });
     expect(row?.[3]).toBe(direct.outcome);
-    expect(row?.[5]).toBe(direct.ruleId);
+    expect(row?.[7]).toBe(direct.ruleId);
     expect(direct.ruleId).toBe("block-noisy-scanners"); // seeders/devices/README.md
   });
 
@@ -133,9 +153,10 @@ describe("Exposure map", () => {
       expect(response.status).toBe(200);
       expect(response.headers.get("content-disposition")).toMatch(/^attachment;/);
       const [header, ...rows] = parseCsv(response.text);
-      expect(header).toEqual(["interface", "to", "service", "outcome", "count", "cidr"]);
+      expect(header).toEqual(["interface", "to", "service", "outcome", "outcome_label", "count", "cidr"]);
       const sums = new Map<string, bigint>();
-      for (const [iface, to, service, outcome, count] of rows) {
+      for (const [iface, to, service, outcome, label, count] of rows) {
+        expect(isOutcome(outcome) ? OUTCOME_LABELS[outcome] : `not an outcome: ${outcome}`).toBe(label);
         const key = `${iface} ${to} ${service} ${outcome}`;
         sums.set(key, (sums.get(key) ?? 0n) + BigInt(count));
       }
@@ -156,7 +177,7 @@ describe("Exposure map", () => {
     expect(rows.length).toBeGreaterThan(0);
     expect(rows.every((row) => row[0] === "outside" && row[2] === "https" && row[3] === "login-password")).toBe(true);
     const entry = exposure(demoDevice("clf-gw-02"), AT).entries.find((candidate) => candidate.interface === "outside" && candidate.service === "https")!;
-    expect(rows.map((row) => row[5])).toEqual(entry.ranges["login-password"]);
+    expect(rows.map((row) => row[6])).toEqual(entry.ranges["login-password"]);
   });
 
   test("The exposure page shows the instant's slice, the counts, the address picture with a legend, and a paged CIDR list", async () => {

@@ -765,7 +765,7 @@ describe("Deleting devices and sites", () => {
     expect(await fleetDeviceIds(client, slug)).toEqual([]);
     expect((await client.get(device.path)).status).toBe(404);
     const audit = await client.get(`/o/${slug}/settings/audit`);
-    expect(audit.text).toContain("device.deleted");
+    expect(audit.text).toContain('<tr data-action="device.deleted"');
     expect((await client.post(`/o/${slug}/sites`, { intent: "delete", siteId })).status).toBe(302);
   });
 });

@@ -212,7 +212,7 @@ describe("Dismissing a finding", () => {
     // Once only; the audit log shows who accepted what and why.
     expect((await client.post(dismissals, { intent: "dismiss", key: DEFAULT_NAME_KEY, reason })).status).toBe(409);
     const audit = plain((await client.get(`/o/${slug}/settings/audit`)).text);
-    expect(audit).toContain("finding.dismissed");
+    expect(audit).toContain('<tr data-action="finding.dismissed"');
     expect(audit).toContain("default-account-name");
     expect(audit).toContain(reason);
 
@@ -231,7 +231,7 @@ describe("Dismissing a finding", () => {
     expect(stateOnOverview(back.text, DEFAULT_NAME_KEY)).toBe("active");
     expect(plain(back.text)).not.toContain("Dismissed (");
     expect(plain((await client.get(`/o/${slug}/findings`)).text)).toContain('Account "administrator" has a factory-default name');
-    expect(plain((await client.get(`/o/${slug}/settings/audit`)).text)).toContain("finding.restored");
+    expect(plain((await client.get(`/o/${slug}/settings/audit`)).text)).toContain('<tr data-action="finding.restored"');
     expect((await client.post(dismissals, { intent: "restore", key: DEFAULT_NAME_KEY })).status).toBe(404);
   });
 

@@ -74,6 +74,6 @@ describe("Invitations", () => {
     expect((await owner.post(`/o/${slug}/settings/members`, { intent: "change-role", membershipId: subjectId!, role: "engineer" })).status).toBe(302);
     expect((await owner.post(`/o/${slug}/settings/members`, { intent: "remove", membershipId: subjectId! })).status).toBe(302);
     const audit = await owner.get(`/o/${slug}/settings/audit`);
-    for (const action of ["invitation.sent", "invitation.accepted", "member.role-changed", "member.removed"]) expect(audit.text).toContain(action);
+    for (const action of ["invitation.sent", "invitation.accepted", "member.role-changed", "member.removed"]) expect(audit.text).toContain(`<tr data-action="${action}"`);
   });
 });

@@ -11,7 +11,6 @@ import { answerReach } from "#server/analysis/reach.server";
 import { AddressSyntaxError, FAMILY, parseEntry, rangeToCidrs } from "#server/engine/addresses";
 import { compileModel, parseModel } from "#server/engine/index";
 import { csvField, CsvSyntaxError, parseCsv, toCsv } from "#server/formats/csv";
-import { formatCount } from "#app/utils/analysis";
 
 const RFC1918 = ["10.0.0.0/8", "172.16.0.0/12", "192.168.0.0/16"];
 const RFC5737 = ["192.0.2.0/24", "198.51.100.0/24", "203.0.113.0/24"];
@@ -41,32 +40,6 @@ function silentElsewhere(family: 4 | 6, byRank: string[][]): string[][] {
 }
 /** Cells per top rank (index = rank), uniform and mixed together. */
 const perTop = (view: ZoomView) => view.cells.reduce((counts, cell) => (counts[cell.top] += 1, counts), [0, 0, 0, 0, 0, 0]);
-
-describe("Readable address counts", () => {
-  test("IPv4 counts stay exact with thousands separators", () => {
-    expect(formatCount("4294967296").text).toBe("4,294,967,296"); // RFC 4632 §3.1: a /0 holds 2^32
-    expect(formatCount("17891328").text).toBe("17,891,328"); // RFC 1918 §3: the three private blocks together
-    expect(formatCount("0").text).toBe("0");
-    expect(formatCount("256")).toEqual({ text: "256", exact: "256" }); // RFC 5737: one /24
-  });
-
-  test("Exact powers of two become 2 to the power, with the exact decimal kept for the tooltip", () => {
-    const ipv6 = formatCount((2n ** 96n).toString()); // RFC 3849: 2001:db8::/32 holds 2^96
-    expect(ipv6.text).toBe("2⁹⁶");
-    expect(ipv6.exact).toBe("79,228,162,514,264,337,593,543,950,336");
-    expect(formatCount((2n ** 128n).toString()).text).toBe("2¹²⁸");
-    expect(formatCount((2n ** 121n).toString()).text).toBe("2¹²¹"); // RFC 4193: fc00::/7
-  });
-
-  test("Other huge counts are rounded in scientific form, never as a 39-digit number", () => {
-    const rest = 2n ** 128n - 2n ** 96n; // all IPv6 outside 2001:db8::/32
-    const shown = formatCount(rest.toString());
-    expect(shown.text).toBe("≈ 3.4 × 10³⁸");
-    expect(shown.exact.replace(/,/g, "")).toBe(rest.toString());
-    expect(formatCount("999999999999999999").text).toBe("≈ 1.0 × 10¹⁸"); // rounding carries into the exponent
-    expect(formatCount("999999999999999").text).toBe("999,999,999,999,999"); // below 10^15 stays exact
-  });
-});
 
 describe("CIDR parsing and sizes", () => {
   test("Blocks have the sizes of RFC 4632 §3.1 and the published special blocks", () => {

@@ -1,7 +1,7 @@
 import { useState } from "react";
 import { Link, useSearchParams } from "react-router";
 import { OUTCOME_LABELS } from "#app/components/outcome";
-import { formatCount } from "#app/utils/analysis";
+import { formatCount } from "#server/engine/format";
 import { OUTCOMES } from "#server/engine/vocabulary";
 import type { ZoomCell, ZoomView } from "#server/analysis/address-grids";
 import { CellMark, cellStyle, OutcomeLegend, outcomeAt } from "./outcome-marks";

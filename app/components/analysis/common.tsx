@@ -1,23 +1,26 @@
 import type { ReactNode } from "react";
 import { Link } from "react-router";
-import { formatCount } from "#app/utils/analysis";
+import { formatCount } from "#server/engine/format";
 
-/** The §8 caution, where someone acts on a simulated result. */
+/**
+ * The §8 caution, once per page that shows simulated results: the device workspace shows it
+ * at its foot (the device layout), the fleet findings page at its own.
+ */
 export function SimulationCaution({ children }: { children?: ReactNode }) {
   return (
-    <p className="rounded-control border border-warning/40 bg-warning-soft px-3 py-2 text-sm text-warning">
+    <p role="note" data-testid="simulation-caution" className="rounded-control border border-warning/40 bg-warning-soft px-3 py-2 text-sm text-warning">
       The simulation models the configuration, not the device: confirm on the device in a maintenance window, and follow your change policy and the device maker's documentation.
       {children ? <> {children}</> : null}
     </p>
   );
 }
 
-/** A big address count, readable, with the exact decimal in the tooltip and for screen readers. */
-export function Count({ value }: { value: string }) {
+/** A count, readable ("3.70 billion"), with the exact decimal in the tooltip and for screen readers. */
+export function Count({ value, unit = "addresses" }: { value: string | bigint | number; unit?: string }) {
   const { text, exact } = formatCount(value);
   if (text === exact) return <span className="tabular">{text}</span>;
   return (
-    <span className="tabular" title={`${exact} addresses`}>
+    <span className="tabular" title={`${exact} ${unit}`}>
       <span aria-hidden="true">{text}</span>
       <span className="sr-only">{exact}</span>
     </span>

@@ -6,6 +6,7 @@ import { OUTCOME_LABELS, OutcomeChip } from "../outcome";
 import { isOutcome, LAYERS, type InterfaceRole, type Layer } from "#server/engine/vocabulary";
 import { cx } from "../ui/cx";
 import { LAYER_TITLES, outcomeSentence } from "#app/utils/trace-words";
+import { plural } from "#server/engine/format";
 
 export type CanvasModel = {
   interfaces: Array<{ name: string; role: InterfaceRole; addresses: string[]; listeners: string[] }>;
@@ -119,7 +120,7 @@ export function LayerCanvas({ model, trace, step, devicePath, probe }: { model: 
                   <span>{rule.action}</span>
                 </li>
               ))}
-              {model.rules.length > RULES_SHOWN ? <li className="text-[11px] text-ink-faint">{model.rules.length} rules in all</li> : null}
+              {model.rules.length > RULES_SHOWN ? <li className="text-[11px] text-ink-faint">{plural(model.rules.length, { one: "rule", other: "rules" })} in all</li> : null}
               <li className="text-[11px] text-ink-faint">no match → default {model.defaultInbound}</li>
             </ol>
           ),

@@ -1,6 +1,6 @@
 import { OUTCOME_LABELS } from "#app/components/outcome";
 import { OutcomeChip } from "#app/components/outcome";
-import { formatCount } from "#app/utils/analysis";
+import { formatCount } from "#server/engine/format";
 import { DAYS, OUTCOMES, type Day } from "#server/engine/vocabulary";
 import type { WeekView } from "#server/analysis/week-hours";
 import { Count } from "./common";

@@ -6,6 +6,7 @@ import { Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
 import { FormError } from "#app/components/ui/field";
 import { severityRank } from "#server/engine/vocabulary";
+import { Time } from "#app/components/ui/time";
 import type { FindingView } from "#server/services/findings.server";
 
 /** A finding as the device overview receives it from the loader. */
@@ -13,10 +14,6 @@ export type FindingCardData = FindingView;
 
 /** What the dismissals action answers when it refuses (a redirect otherwise). */
 type Refusal = { ok: false; key: string; errors: Record<string, string>; values: { reason: string } };
-
-function when(iso: string): string {
-  return `${iso.slice(0, 16).replace("T", " ")} UTC`;
-}
 
 /** The trace page's address for a witness probe: the same query the trace form writes. */
 export function tryItPath(devicePath: string, probe: NonNullable<FindingCardData["witness"]>["probe"]): string {
@@ -119,7 +116,7 @@ function DismissReasonField({ findingKey, error, defaultValue }: { findingKey: s
 }
 
 /** A dismissed finding: the reason, who and when, and Restore for engineers and above. */
-export function DismissedFindingCard({ finding, devicePath, canRestore }: { finding: FindingCardData; devicePath: string; canRestore: boolean }) {
+export function DismissedFindingCard({ finding, devicePath, canRestore, timeZone }: { finding: FindingCardData; devicePath: string; canRestore: boolean; timeZone: string }) {
   const fetcher = useFetcher<Refusal>();
   const refusal = fetcher.data && fetcher.data.key === finding.key ? fetcher.data : null;
   const dismissal = finding.dismissal;
@@ -135,7 +132,7 @@ export function DismissedFindingCard({ finding, devicePath, canRestore }: { find
       <FindingFacts finding={finding} devicePath={devicePath} />
       <blockquote className="mt-3 border-l-2 border-line-strong pl-3 text-sm">“{dismissal.reason}”</blockquote>
       <p className="mt-1 text-xs text-ink-muted">
-        Dismissed by {dismissal.by || "unknown"} on {when(dismissal.at)} (revision r{dismissal.revisionNumber}).
+        Dismissed by {dismissal.by || "unknown"} on <Time at={dismissal.at} timeZone={timeZone} /> (revision r{dismissal.revisionNumber}).
       </p>
       {worse ? (
         <p className="mt-2 text-sm font-medium text-danger">

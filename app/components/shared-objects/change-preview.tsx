@@ -6,7 +6,7 @@ import { SeverityBadge } from "#app/components/severity";
 import { Button, ButtonLink } from "#app/components/ui/button";
 import { Badge, Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
-import { formatCount } from "#app/utils/analysis";
+import { formatCount } from "#server/engine/format";
 import type { ExposureChangeRow, FindingLine } from "#server/analysis/exposure-change";
 import type { CsvRowReport, DeviceEffect, SharedChangePreview } from "#server/services/shared-objects.server";
 import { CsvReport } from "./csv-report";

@@ -14,6 +14,9 @@ import { EmptyState } from "#app/components/ui/empty-state";
 import { SortHeader } from "#app/components/ui/sort-header";
 import { Table, Th } from "#app/components/ui/table";
 import { SiteFilter } from "#app/components/ui/site-filter";
+import { SimulationCaution } from "#app/components/analysis/common";
+import { Time } from "#app/components/ui/time";
+import { formatNumber, plural } from "#server/engine/format";
 
 export const meta: Route.MetaFunction = () => [{ title: "Findings · Sallyport" }];
 
@@ -40,6 +43,7 @@ export async function loader({ request, context }: Route.LoaderArgs) {
     devices: devices.map((device) => ({ id: device.id, name: device.name })),
     sites,
     codes: [...new Set(rows.map((row) => row.code))].sort(),
+    now: new Date().toISOString(),
   };
 }
 
@@ -76,15 +80,15 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
                 key={severity}
                 to={severityLink(severity)}
                 preventScrollReset
-                aria-label={`${counts[severity]} active ${severity}; show ${severity} and above`}
+                aria-label={`${formatNumber(counts[severity])} active ${severity}; show ${severity} and above`}
                 className={cx("inline-flex items-center gap-2 rounded-control border bg-surface px-2.5 py-1 shadow-card hover:border-line-strong", query.minSeverity === severity ? "border-harbour" : "border-line")}
               >
                 <SeverityBadge severity={severity} />
-                <span className="font-semibold tabular">{counts[severity]}</span>
+                <span className="font-semibold tabular">{formatNumber(counts[severity])}</span>
               </Link>
             ))}
             <span className="inline-flex items-center gap-2 rounded-control border border-dashed border-line px-2.5 py-1 text-ink-muted">
-              dismissed <span className="font-semibold tabular">{loaderData.dismissedCount}</span>
+              dismissed <span className="font-semibold tabular">{formatNumber(loaderData.dismissedCount)}</span>
             </span>
           </section>
 
@@ -137,7 +141,7 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
               Clear
             </Link>
             <span className="ml-auto text-sm text-ink-muted" aria-live="polite">
-              {loaderData.shownCount} of {loaderData.total} findings
+              {formatNumber(loaderData.shownCount)} of {plural(loaderData.total, { one: "finding", other: "findings" })}
             </span>
           </Form>
 
@@ -164,11 +168,14 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
 
           {loaderData.shownCount === 0 ? (
             <EmptyState title="No findings match">
-              {loaderData.total === 0 ? "The hardening checks found nothing on any device's current revision. The simulation models the configuration, not the device: confirm on the device." : "Loosen the filters, or show dismissed findings."}
+              {loaderData.total === 0 ? "The hardening checks found nothing on any device's current revision." : "Loosen the filters, or show dismissed findings."}
             </EmptyState>
           ) : (
             <FindingsTable slug={slug} groups={groups} query={query} />
           )}
+          <div className="mt-8">
+            <SimulationCaution />
+          </div>
         </>
       )}
     </>
@@ -266,7 +273,7 @@ function FindingRow({ row, devicePath, showDevice, showCode }: { row: Loaded["gr
             </p>
             {row.dismissal ? (
               <p>
-                Dismissed by {row.dismissal.by || "unknown"} on {row.dismissal.at.slice(0, 10)}: “{row.dismissal.reason}”
+                Dismissed by {row.dismissal.by || "unknown"} <Time at={row.dismissal.at} />: “{row.dismissal.reason}”
               </p>
             ) : null}
           </div>

@@ -17,6 +17,7 @@ import { FormError, TextField } from "#app/components/ui/field";
 import { SortHeader } from "#app/components/ui/sort-header";
 import { nameTie, tableRows, urlSort, type ColumnDef } from "#app/components/ui/table-rows";
 import { Table, Td, Th } from "#app/components/ui/table";
+import { formatNumber } from "#server/engine/format";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { refusedForm } from "#server/http/refusals.server";
 
@@ -155,7 +156,7 @@ export default function Sites({ loaderData, actionData }: Route.ComponentProps) 
                 <Td className="font-medium">{site.name}</Td>
                 <Td>{site.customer}</Td>
                 <Td className="text-ink-muted">{site.location}</Td>
-                <Td className="tabular">{site.deviceCount}</Td>
+                <Td className="tabular">{formatNumber(site.deviceCount)}</Td>
                 {loaderData.canEdit ? (
                   <Td className="text-right whitespace-nowrap">
                     <Link to={`?edit=${site.id}`} className="mr-3 text-sm text-harbour underline underline-offset-4" aria-label={`Edit ${site.name}`}>

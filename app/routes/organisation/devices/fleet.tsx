@@ -15,6 +15,8 @@ import { ButtonLink } from "#app/components/ui/button";
 import { PageHeader } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
 import { Table, Td } from "#app/components/ui/table";
+import { Time } from "#app/components/ui/time";
+import { formatNumber, plural } from "#server/engine/format";
 
 export const meta: Route.MetaFunction = () => [{ title: "Devices · Sallyport" }];
 
@@ -45,7 +47,7 @@ export async function loader({ request, context }: Route.LoaderArgs) {
     columnFilters: url.searchParams.get("site") ? [{ id: "siteId", value: url.searchParams.get("site") }] : [],
     sorting,
   });
-  return { devices: shown, total: devices.length, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canEdit: hasAtLeastRole(access.role, "engineer"), slug: access.organisation.slug };
+  return { devices: shown, total: devices.length, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canEdit: hasAtLeastRole(access.role, "engineer"), slug: access.organisation.slug, now: new Date().toISOString() };
 }
 
 export default function Fleet({ loaderData }: Route.ComponentProps) {
@@ -85,7 +87,7 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
               Apply
             </button>
             <span className="text-sm text-ink-muted" aria-live="polite">
-              {devices.length} of {loaderData.total} devices
+              {formatNumber(devices.length)} of {plural(loaderData.total, { one: "device", other: "devices" })}
             </span>
           </Form>
           <Table>
@@ -113,7 +115,7 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
                   </Td>
                   <Td>{isOutcome(device.worstOutsideOutcome) ? <OutcomeChip outcome={device.worstOutsideOutcome} /> : <span className="text-xs text-ink-faint">no wan interface</span>}</Td>
                   <Td className="tabular text-ink-muted">
-                    r{device.revision} · {device.updatedAt.slice(0, 10)}
+                    r{device.revision} · <Time at={device.updatedAt} now={loaderData.now} />
                   </Td>
                 </tr>
               ))}

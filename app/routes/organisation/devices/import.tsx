@@ -16,6 +16,7 @@ import { Button } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
 import { FormError, SelectField } from "#app/components/ui/field";
 import { clientAddressOf } from "#server/http/request-context.server";
+import { plural } from "#server/engine/format";
 
 export const meta: Route.MetaFunction = () => [{ title: "Import a model · Sallyport" }];
 
@@ -64,7 +65,7 @@ export async function action({ request, context }: Route.ActionArgs) {
     return refuse(`This is not JSON: ${error instanceof Error ? error.message : "unreadable"}. Sallyport imports its own model documents (schemaVersion 2, or 1).`, [], target);
   }
   const validated = validateDocument(parsed, await loadSharedLibrary(access.organisation.id));
-  if (!validated.ok) return refuse(`The document is not a valid Sallyport model: ${validated.errors.length} problem${validated.errors.length === 1 ? "" : "s"}. Nothing was created.`, [...validated.errors], target);
+  if (!validated.ok) return refuse(`The document is not a valid Sallyport model: ${plural(validated.errors.length, { one: "problem", other: "problems" })}. Nothing was created.`, [...validated.errors], target);
 
   const [kind, id] = target.split(":");
   if (kind !== "site" && kind !== "device") return refuse("Choose where to import: a new device at a site, or a new revision of a device.", [], target);
@@ -172,7 +173,12 @@ export default function ImportModel({ loaderData, actionData }: Route.ComponentP
             <dl className="mt-4 grid grid-cols-[10rem_1fr] gap-2 text-sm">
               <dt className="text-ink-muted">Will create</dt>
               <dd>
-                {actionData.summary.counts.interfaces} interfaces, {actionData.summary.counts.addressObjects} address objects and groups, {actionData.summary.counts.inboundRules} inbound rules, {actionData.summary.counts.accounts} accounts
+                {[
+                  plural(actionData.summary.counts.interfaces, { one: "interface", other: "interfaces" }),
+                  plural(actionData.summary.counts.addressObjects, { one: "address object or group", other: "address objects and groups" }),
+                  plural(actionData.summary.counts.inboundRules, { one: "inbound rule", other: "inbound rules" }),
+                  plural(actionData.summary.counts.accounts, { one: "account", other: "accounts" }),
+                ].join(", ")}
               </dd>
               <dt className="text-ink-muted">Findings</dt>
               <dd>

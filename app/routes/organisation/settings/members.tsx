@@ -15,6 +15,8 @@ import { Button } from "#app/components/ui/button";
 import { Dialog } from "#app/components/ui/dialog";
 import { FormError, SelectField, TextField } from "#app/components/ui/field";
 import { Table, Td, Th } from "#app/components/ui/table";
+import { Time } from "#app/components/ui/time";
+import { formatNumber } from "#server/engine/format";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { refusedForm } from "#server/http/refusals.server";
 
@@ -29,6 +31,7 @@ export async function loader({ context }: Route.LoaderArgs) {
     canManage,
     myRole: access.role,
     myUserId: access.user.id,
+    now: new Date().toISOString(),
   };
 }
 
@@ -113,7 +116,7 @@ export default function Members({ loaderData, actionData }: Route.ComponentProps
 
       <section aria-labelledby="members-heading">
         <h2 id="members-heading" className="mb-3 text-sm font-semibold">
-          Members ({loaderData.members.length})
+          Members ({formatNumber(loaderData.members.length)})
         </h2>
         <Table>
           <thead>
@@ -191,7 +194,9 @@ export default function Members({ loaderData, actionData }: Route.ComponentProps
                 <tr key={invitation.id}>
                   <Td>{invitation.email}</Td>
                   <Td>{invitation.role}</Td>
-                  <Td className="tabular text-ink-muted">{invitation.expiresAt.slice(0, 10)}</Td>
+                  <Td className="tabular text-ink-muted">
+                    <Time at={invitation.expiresAt} now={loaderData.now} />
+                  </Td>
                   <Td className="text-right">
                     <Form method="post">
                       <input type="hidden" name="intent" value="revoke-invitation" />

@@ -1,5 +1,6 @@
 // Account checks: factory-default names, no login sources, no second factor, very broad login sources.
 import { countOf } from "../../address-sets.ts";
+import { formatCount } from "../../format.ts";
 import { elementRef, isBuiltinAddressName } from "../../vocabulary.ts";
 import { SOURCES } from "../sources.ts";
 import type { Finding, FindingCheck } from "../types.ts";
@@ -74,7 +75,7 @@ export const broadLoginSources: FindingCheck = {
           code: "broad-login-sources",
           severity: "medium",
           title: `Account "${account.name}" has very broad login sources`,
-          detail: `Login sources cover ${v4} IPv4 and ${v6} IPv6 addresses${names.length > 0 ? ` (including "${names.join('", "')}")` : ""}; thresholds: 2^24 IPv4 or 2^96 IPv6 (a /32) addresses.`,
+          detail: `Login sources cover ${formatCount(v4).text} IPv4 and ${formatCount(v6).text} IPv6 addresses${names.length > 0 ? ` (including "${names.join('", "')}")` : ""}; thresholds: 2^24 IPv4 or 2^96 IPv6 (a /32) addresses.`,
           elements: [elementRef("account", account.name)],
           source: SOURCES.restrictSources,
       };

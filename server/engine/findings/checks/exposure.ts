@@ -5,11 +5,13 @@ import { EMPTY_SET, countOf, intersect, isEmptySet, rangesOf, subtractSets, unio
 import type { AddressSet } from "../../address-sets.ts";
 import type { CompiledModel } from "../../compile.ts";
 import { ANSWERED, LOGIN_DENIED, LOGIN_MFA, LOGIN_PASSWORD, OUTCOMES, elementRef } from "../../vocabulary.ts";
+import { formatCount } from "../../format.ts";
 import { firstCidrs, NON_PRIVATE } from "../context.ts";
 import { SOURCES } from "../sources.ts";
 import type { Finding, FindingCheck } from "../types.ts";
 
-const countText = (set: AddressSet): string => (countOf(set.v4) + countOf(set.v6)).toString();
+// In words ("3.70 billion"): the exposure map has the exact figures.
+const countText = (set: AddressSet): string => formatCount(countOf(set.v4) + countOf(set.v6)).text;
 
 export const cleartextListener: FindingCheck = {
   code: "cleartext-listener",

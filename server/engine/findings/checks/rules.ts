@@ -2,6 +2,7 @@
 // that `trace` replays; for the "never" findings the probe is one instance of the partition
 // that proves it.
 import { isRedundant } from "../../analysis.ts";
+import { plural } from "../../format.ts";
 import { elementRef } from "../../vocabulary.ts";
 import type { FindingContext } from "../context.ts";
 import { SOURCES } from "../sources.ts";
@@ -20,7 +21,7 @@ export const ruleNeverActive: FindingCheck = {
       const witness = context.witnessOf(
         context.ruleMatchWitness(rule.position),
         ({ ruleId }) => `A probe that rule "${rule.id}" would match is decided by ${ruleId === null ? "the device default" : `rule "${ruleId}"`}: the rule is never active.`,
-        `The week splits into ${context.engine.week.slices.length} slice(s); schedule "${schedule}" is active in none of them.`,
+        `The week splits into ${plural(context.engine.week.slices.length, { one: "slice", other: "slices" })}; schedule "${schedule}" is active in none of them.`,
       );
       return {
         code: "rule-never-active",

@@ -15,6 +15,7 @@ import { Button } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
 import { LAYER_TITLES, outcomeSentence } from "#app/utils/trace-words";
+import { formatInstant } from "#server/engine/format";
 
 export const meta: Route.MetaFunction = () => [{ title: "Trace a probe · Sallyport" }];
 
@@ -169,7 +170,7 @@ export default function Analysis({ loaderData }: Route.ComponentProps) {
           </noscript>
         </Form>
         <p id="probe-error" role="status" aria-live="polite" className={cx("mt-2 min-h-5 text-sm", shown.error ? "text-danger" : "text-ink-muted")}>
-          {shown.error ? shown.error : fetcher.state === "loading" ? "Tracing…" : shown.trace ? `Traced at ${shown.trace.localTime} (device clock).` : "Type a source address to trace a probe through every layer."}
+          {shown.error ? shown.error : fetcher.state === "loading" ? "Tracing…" : shown.trace ? `Traced at ${formatInstant(shown.trace.at, timezone)}.` : "Type a source address to trace a probe through every layer."}
         </p>
       </Card>
 
@@ -212,7 +213,6 @@ export default function Analysis({ loaderData }: Route.ComponentProps) {
               <p className="font-medium">{outcomeSentence(shown.trace, rulePosition)}</p>
             </div>
           ) : null}
-          <p className="mt-4 text-xs text-ink-faint">The simulation models the configuration, not the device: confirm on the device in a maintenance window before acting on it.</p>
         </Card>
       ) : null}
     </div>

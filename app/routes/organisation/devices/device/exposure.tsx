@@ -3,10 +3,11 @@ import type { Route } from "./+types/exposure";
 import { answerExposure, exposureQueryOf } from "#server/analysis/exposure.server";
 import { requireDevice } from "#server/http/device-access.server";
 import { AddressZoom } from "#app/components/analysis/address-map";
-import { Count, Pager, SimulationCaution } from "#app/components/analysis/common";
+import { Count, Pager } from "#app/components/analysis/common";
 import { WeekHourView } from "#app/components/analysis/week-hour";
 import { OUTCOME_LABELS, OutcomeChip } from "#app/components/outcome";
 import { OUTCOMES } from "#server/engine/vocabulary";
+import { formatInstant, formatNumber, plural } from "#server/engine/format";
 import { buttonClasses } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
@@ -125,24 +126,23 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
         <>
           <div className="flex flex-wrap items-end justify-between gap-3">
             <p className="text-sm">
-              At <strong className="tabular">{answer.localTime}</strong> on the device clock ({timezone}), which falls in the slice{" "}
+              At <strong className="tabular">{formatInstant(answer.at, timezone)}</strong>, which falls in the slice{" "}
               <strong>
                 {answer.slice.start} – {answer.slice.end}
               </strong>{" "}
-              ({answer.sliceCount === 1 ? "the only slice: exposure does not change over the week" : `one of ${answer.sliceCount} slices of the week`}).
+              ({answer.sliceCount === 1 ? "the only slice: exposure does not change over the week" : `one of ${formatNumber(answer.sliceCount)} slices of the week`}).
             </p>
             <a href={`${devicePath}/exposure.csv?${filterParams.toString()}`} className={buttonClasses("secondary", "sm")} download>
               Download CSV
             </a>
           </div>
-          <SimulationCaution />
 
           {answer.total === 0 ? (
             <EmptyState title="Nothing matches these filters">Clear a filter to see more of the exposure map.</EmptyState>
           ) : (
             <section aria-labelledby="entries-heading">
               <h3 id="entries-heading" className="mb-2 font-semibold">
-                Addresses per outcome <span className="font-normal text-ink-muted">({answer.total} entries)</span>
+                Addresses per outcome <span className="font-normal text-ink-muted">({plural(answer.total, { one: "entry", other: "entries" })})</span>
               </h3>
               <Table className="text-xs">
                 <caption className="sr-only">Address counts per outcome for each interface, address and service; choose one to map it</caption>
@@ -226,7 +226,7 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
 
               <section aria-labelledby="cidr-heading">
                 <h4 id="cidr-heading" className="mb-2 text-sm font-semibold">
-                  CIDR lists{query.outcome ? ` — ${OUTCOME_LABELS[query.outcome]}` : ""} <span className="font-normal text-ink-muted">({focus.cidrTotal.toLocaleString("en")} blocks, most exposed first)</span>
+                  CIDR lists{query.outcome ? ` — ${OUTCOME_LABELS[query.outcome]}` : ""} <span className="font-normal text-ink-muted">({plural(focus.cidrTotal, { one: "block", other: "blocks" })}, most exposed first)</span>
                 </h4>
                 <Table className="text-xs">
                   <caption className="sr-only">Minimal CIDR blocks of each outcome for the chosen entry</caption>
@@ -254,7 +254,7 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
             </section>
           ) : null}
           <p className="text-xs text-ink-muted">
-            Counts below 10<sup>15</sup> are exact; larger IPv6 counts are shown as a power of two or rounded (≈), with the exact figure on hover.
+            Counts below a million are exact; larger ones are rounded to three figures (“3.70 billion”), and IPv6-sized ones shown as a power of two or in scientific form; hover for the exact figure.
           </p>
         </>
       ) : null}

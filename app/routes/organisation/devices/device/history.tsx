@@ -6,6 +6,7 @@ import { diffDocuments } from "#server/workspace/index";
 import { DocumentChanges } from "#app/components/device/document-changes";
 import { Card } from "#app/components/ui/card";
 import { Table, Td, Th } from "#app/components/ui/table";
+import { Time } from "#app/components/ui/time";
 
 export const meta: Route.MetaFunction = () => [{ title: "History · Sallyport" }];
 
@@ -19,6 +20,7 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   const [before, after] = await Promise.all([requireDeviceRevision(access, from).catch(() => null), requireDeviceRevision(access, to).catch(() => null)]);
   return {
     revisions,
+    timezone: access.effective.device.timezone,
     from,
     to,
     exportBase: `/o/${access.organisation.slug}/devices/${access.device.id}/revisions`,
@@ -28,7 +30,7 @@ export async function loader({ request, context }: Route.LoaderArgs) {
 
 export default function History({ loaderData }: Route.ComponentProps) {
   const [searchParams] = useSearchParams();
-  const { revisions, from, to, changes, exportBase } = loaderData;
+  const { revisions, timezone, from, to, changes, exportBase } = loaderData;
   return (
     <div className="grid gap-6 2xl:grid-cols-[3fr_2fr]">
       <section aria-labelledby="revisions-heading">
@@ -41,7 +43,7 @@ export default function History({ loaderData }: Route.ComponentProps) {
               <Th>Revision</Th>
               <Th>Change</Th>
               <Th>By</Th>
-              <Th>When (UTC)</Th>
+              <Th>When ({timezone})</Th>
               <Th className="text-right">Export</Th>
             </tr>
           </thead>
@@ -51,7 +53,7 @@ export default function History({ loaderData }: Route.ComponentProps) {
                 <Td className="tabular font-semibold">r{revision.number}</Td>
                 <Td>{revision.message || <span className="text-ink-faint">no message</span>}</Td>
                 <Td className="text-ink-muted">{revision.authorEmail}</Td>
-                <Td className="tabular whitespace-nowrap text-ink-muted">{revision.createdAt.slice(0, 16).replace("T", " ")}</Td>
+                <Td className="tabular whitespace-nowrap text-ink-muted"><Time at={revision.createdAt} timeZone={timezone} clock /></Td>
                 <Td className="text-right">
                   <a href={`${exportBase}/${revision.number}/export`} className="text-sm text-harbour underline underline-offset-4" download aria-label={`Export revision ${revision.number}`}>
                     JSON

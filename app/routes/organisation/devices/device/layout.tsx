@@ -5,6 +5,7 @@ import { deviceMiddleware, requireDevice } from "#server/http/device-access.serv
 import { buttonClasses } from "#app/components/ui/button";
 import { cx } from "#app/components/ui/cx";
 import { DEVICE_SECTIONS, SECTION_TITLES } from "#app/components/device/sections";
+import { SimulationCaution } from "#app/components/analysis/common";
 
 // The device in the URL at its current revision, resolved once per request for every route below.
 export const middleware: Route.MiddlewareFunction[] = [deviceMiddleware];
@@ -65,6 +66,10 @@ export default function DeviceLayout({ loaderData }: Route.ComponentProps) {
         </NavLink>
       </nav>
       <Outlet />
+      {/* Once per page, at the foot of the workspace: every tab shows simulated results. */}
+      <footer className="mt-10">
+        <SimulationCaution />
+      </footer>
     </>
   );
 }

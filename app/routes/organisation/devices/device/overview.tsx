@@ -12,6 +12,8 @@ import { SeverityCounts } from "#app/components/severity";
 import { Button } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
+import { Time } from "#app/components/ui/time";
+import { formatDay, formatNumber, plural } from "#server/engine/format";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.name ?? "Device"} · Sallyport` }];
 
@@ -50,12 +52,13 @@ export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
           <div className="mt-3">
             <SeverityCounts counts={activeCounts} />
           </div>
-          {dismissed.length > 0 ? <p className="mt-2 text-xs text-ink-muted">{dismissed.length} dismissed as accepted risk, not counted.</p> : null}
+          {dismissed.length > 0 ? <p className="mt-2 text-xs text-ink-muted">{formatNumber(dismissed.length)} dismissed as accepted risk, not counted.</p> : null}
         </Card>
         <Card className="p-5">
           <h2 className="text-xs font-semibold tracking-wide text-ink-muted uppercase">Model</h2>
           <p className="mt-3 text-sm">
-            {summary.counts.interfaces} interfaces · {summary.counts.inboundRules} inbound rules · {summary.counts.accounts} accounts
+            {plural(summary.counts.interfaces, { one: "interface", other: "interfaces" })} · {plural(summary.counts.inboundRules, { one: "inbound rule", other: "inbound rules" })} ·{" "}
+            {plural(summary.counts.accounts, { one: "account", other: "accounts" })}
           </p>
           <p className="mt-1 text-xs text-ink-muted">
             Time zone {settings.timezone} · default inbound {settings.defaultInbound} · unlistened ports {settings.unlistenedPort}
@@ -63,21 +66,20 @@ export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
         </Card>
       </div>
       <p className="text-sm text-ink-muted">
-        Revision r{revision.number}: “{revision.message || "no message"}” by {revision.author || "unknown"} on {revision.at.slice(0, 16).replace("T", " ")} UTC.
+        Revision r{revision.number}: “{revision.message || "no message"}” by {revision.author || "unknown"} on <Time at={revision.at} timeZone={settings.timezone} />.
       </p>
       <section aria-labelledby="findings-heading">
         <h2 id="findings-heading" className="mb-1 text-lg font-semibold">
           Findings
         </h2>
         <p className="mb-3 text-sm text-ink-muted">
-          Hardening checks on revision r{revision.number}, most severe first. Each names the elements involved (open one to edit it), why it matters and its source. The simulation models the
-          configuration, not the device: confirm on the device in a maintenance window.
+          Hardening checks on revision r{revision.number}, most severe first. Each names the elements involved (open one to edit it), why it matters and its source.
         </p>
         {active.length === 0 ? (
           <EmptyState title={dismissed.length ? "No active findings" : "No findings"}>
             {dismissed.length
               ? "Every finding of this revision is dismissed as an accepted risk; see below."
-              : "The hardening checks found nothing to report on this revision. The simulation models the configuration, not the device: confirm on the device."}
+              : "The hardening checks found nothing to report on this revision."}
           </EmptyState>
         ) : (
           <ul className="space-y-3">
@@ -90,14 +92,14 @@ export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
         )}
         {dismissed.length > 0 ? (
           <details className="mt-6 rounded-card border border-line bg-surface p-4">
-            <summary className="cursor-pointer text-base font-semibold">Dismissed ({dismissed.length})</summary>
+            <summary className="cursor-pointer text-base font-semibold">Dismissed ({formatNumber(dismissed.length)})</summary>
             <p className="mt-2 text-sm text-ink-muted">
               Accepted risks, with the reason given. They stay dismissed on later revisions while the engine reports the same finding. Dismissing changed nothing on the device.
             </p>
             <ul className="mt-3 space-y-3">
               {dismissed.map((finding) => (
                 <li key={finding.key}>
-                  <DismissedFindingCard finding={finding} devicePath={devicePath} canRestore={canDismiss} />
+                  <DismissedFindingCard finding={finding} devicePath={devicePath} canRestore={canDismiss} timeZone={settings.timezone} />
                 </li>
               ))}
             </ul>
@@ -105,7 +107,7 @@ export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
         ) : null}
         {unmatched.length > 0 ? (
           <details className="mt-4 rounded-card border border-line bg-surface p-4">
-            <summary className="cursor-pointer text-base font-semibold">Dismissals that no longer match a finding ({unmatched.length})</summary>
+            <summary className="cursor-pointer text-base font-semibold">Dismissals that no longer match a finding ({formatNumber(unmatched.length)})</summary>
             <p className="mt-2 text-sm text-ink-muted">This revision no longer reports these findings. Their dismissals would apply again if the same finding came back; withdraw one to be told next time.</p>
             <ul className="mt-3 space-y-2 text-sm">
               {unmatched.map((dismissal) => (
@@ -113,7 +115,7 @@ export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
                   <span className="font-medium">{dismissal.title}</span>
                   <code className="text-xs text-ink-muted">{dismissal.code}</code>
                   <span className="text-ink-muted">
-                    “{dismissal.reason}” — {dismissal.by}, {dismissal.at.slice(0, 10)} (r{dismissal.revisionNumber})
+                    “{dismissal.reason}” — {dismissal.by}, {formatDay(dismissal.at, settings.timezone)} (r{dismissal.revisionNumber})
                   </span>
                   {canDismiss ? (
                     <Form method="post" action={`${devicePath}/dismissals`}>

@@ -3,8 +3,10 @@ import { answerReach, reachQueryOf } from "#server/analysis/reach.server";
 import { requireDevice } from "#server/http/device-access.server";
 import { toCsv } from "#server/formats/csv";
 import { downloadName } from "#app/utils/analysis";
+import { isLayer, LAYER_LABELS, OUTCOME_LABELS } from "#server/engine/vocabulary";
 
-const REACH_CSV_HEADER = ["interface", "to", "service", "outcome", "deciding_layer", "rule_id", "eligible_accounts", "detail"] as const;
+// Codes for programs, and beside each code column its label as the screens show it.
+const REACH_CSV_HEADER = ["interface", "to", "service", "outcome", "outcome_label", "deciding_layer", "deciding_layer_label", "rule_id", "eligible_accounts", "detail"] as const;
 
 // The reach table as CSV, one row per interface × catalogue service, in engine order.
 export async function loader({ request, context }: Route.LoaderArgs) {
@@ -14,7 +16,18 @@ export async function loader({ request, context }: Route.LoaderArgs) {
     const message = Object.entries(answer.errors).map(([field, text]) => `${field}: ${text}`).join("\n");
     return new Response(`${message}\n`, { status: 400, headers: { "Content-Type": "text/plain; charset=utf-8" } });
   }
-  const rows = answer.rows.map((row) => [row.interface, row.to ?? "", row.service, row.outcome, row.layer, row.ruleId ?? "", row.eligibleAccounts.join(" "), row.detail]);
+  const rows = answer.rows.map((row) => [
+    row.interface,
+    row.to ?? "",
+    row.service,
+    row.outcome,
+    OUTCOME_LABELS[row.outcome],
+    row.layer,
+    isLayer(row.layer) ? LAYER_LABELS[row.layer] : row.layer,
+    row.ruleId ?? "",
+    row.eligibleAccounts.join(" "),
+    row.detail,
+  ]);
   const fileName = `${downloadName(access.device.name, "reach", answer.from.replace(/[:.]/g, "_"))}.csv`;
   return new Response(toCsv([REACH_CSV_HEADER, ...rows]), {
     headers: { "Content-Type": "text/csv; charset=utf-8", "Content-Disposition": `attachment; filename="${fileName}"` },

@@ -2,10 +2,10 @@ import { data, Form, useSearchParams } from "react-router";
 import type { Route } from "./+types/reach";
 import { answerReach, reachQueryOf, type ReachRow } from "#server/analysis/reach.server";
 import { requireDevice } from "#server/http/device-access.server";
-import { SimulationCaution } from "#app/components/analysis/common";
 import { OUTCOME_LABELS, OutcomeChip } from "#app/components/outcome";
 import { isLayer, LAYERS, OUTCOMES, outcomeRank, presentsLogin, type Outcome } from "#server/engine/vocabulary";
 import { LAYER_TITLES } from "#app/utils/trace-words";
+import { formatInstant, formatNumber, plural, pluralWord, type PluralForms } from "#server/engine/format";
 import { buttonClasses } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
@@ -52,14 +52,14 @@ function summaryOf(rows: readonly ReachRow[]): string {
   ] as const;
   const loginDetail = loginParts
     .filter(([n]) => n > 0)
-    .map(([n, words]) => `${n} ${words}`)
+    .map(([n, words]) => `${formatNumber(n)} ${words}`)
     .join(", ");
-  const plural = (n: number, one: string, many: string) => `${n} ${n === 1 ? one : many}`;
+  const verb = (n: number, forms: PluralForms) => `${formatNumber(n)} ${pluralWord(n, forms)}`;
   return [
-    `reaches ${plural(logins, "service", "services")} with a login${loginDetail ? ` (${loginDetail})` : ""}`,
-    `${plural(count(["answered"]), "answers", "answer")}`,
-    `${plural(count(["refused"]), "refuses and reveals the device", "refuse and reveal the device")}`,
-    `${count(["silent"])} silent`,
+    `reaches ${plural(logins, { one: "service", other: "services" })} with a login${loginDetail ? ` (${loginDetail})` : ""}`,
+    verb(count(["answered"]), { one: "answers", other: "answer" }),
+    verb(count(["refused"]), { one: "refuses and reveals the device", other: "refuse and reveal the device" }),
+    verb(count(["silent"]), { one: "gives no answer", other: "give no answer" }),
   ].join(", ");
 }
 
@@ -109,7 +109,7 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
                 From <code>{answer.from}</code>
               </h3>
               <p className="text-sm text-ink-muted">
-                At {answer.localTime} on the device clock ({timezone}) · {answer.at} UTC
+                At {formatInstant(answer.at, timezone)}
               </p>
             </div>
             <a href={`${devicePath}/reach.csv?${csvParams.toString()}`} className={buttonClasses("secondary", "sm")} download>
@@ -119,7 +119,6 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
           <p className="text-sm" aria-live="polite">
             <strong>{answer.from}</strong> {summaryOf(answer.rows)}.
           </p>
-          <SimulationCaution />
           {answer.rows.length === 0 ? (
             <EmptyState title="No interfaces">This device has no interfaces, so nothing can be reached.</EmptyState>
           ) : (

@@ -1,0 +1,142 @@
+// The audit log in words: a label for each action and target type, one sentence per entry and
+// its recorded values as readable lines. Shared by the audit page and its CSV export. Pure.
+import { isAuditAction, isAuditTargetType, type AuditAction, type AuditTargetType } from "#models/audit-actions";
+import { plural } from "#server/engine/format";
+
+export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
+  "organisation.created": "Organisation created",
+  "organisation.renamed": "Organisation renamed",
+  "site.created": "Site added",
+  "site.updated": "Site changed",
+  "site.deleted": "Site deleted",
+  "device.created": "Device created",
+  "device.revised": "New revision saved",
+  "device.deleted": "Device deleted",
+  "finding.dismissed": "Finding dismissed",
+  "finding.restored": "Finding restored",
+  "shared-object.created": "Shared object created",
+  "shared-object.updated": "Shared object changed",
+  "shared-object.deleted": "Shared object deleted",
+  "invitation.sent": "Invitation sent",
+  "invitation.revoked": "Invitation revoked",
+  "invitation.accepted": "Invitation accepted",
+  "member.role-changed": "Role changed",
+  "member.removed": "Member removed",
+  "user.signed-in": "Signed in",
+  "user.signed-out-everywhere": "Signed out everywhere",
+  "user.renamed": "Name changed",
+  "user.email-change-requested": "E-mail change requested",
+  "user.email-changed": "E-mail changed",
+  "user.password-changed": "Password changed",
+  "password.reset-requested": "Password reset requested",
+  "password.reset-completed": "Password reset",
+};
+
+export const AUDIT_TARGET_LABELS: Record<AuditTargetType, string> = {
+  organisation: "Organisation",
+  site: "Site",
+  device: "Device",
+  "shared-object": "Shared object",
+  invitation: "Invitation",
+  membership: "Member",
+  user: "Account",
+};
+
+/** The label of a stored action; a code this version does not know is shown as it is. */
+export function auditActionLabel(action: string): string {
+  return isAuditAction(action) ? AUDIT_ACTION_LABELS[action] : action;
+}
+
+export function auditTargetLabel(targetType: string): string {
+  return isAuditTargetType(targetType) ? AUDIT_TARGET_LABELS[targetType] : targetType;
+}
+
+/** What a sentence needs of an entry. */
+export type AuditEntryWords = { action: string; targetName: string | null; changes: Record<string, unknown> };
+
+type Changes = Record<string, unknown>;
+type FromTo = { from: unknown; to: unknown };
+
+const isFromTo = (value: unknown): value is FromTo => typeof value === "object" && value !== null && !Array.isArray(value) && "from" in value && "to" in value;
+
+/** A recorded value as text: lists joined, "from → to" pairs, numbers and strings as they are. */
+export function valueText(value: unknown): string {
+  if (value === null || value === undefined || value === "") return "—";
+  if (typeof value === "string") return value;
+  if (typeof value === "number" || typeof value === "boolean") return String(value);
+  if (Array.isArray(value)) return value.length ? value.map(valueText).join(", ") : "none";
+  if (isFromTo(value)) return `${valueText(value.from)} → ${valueText(value.to)}`;
+  return JSON.stringify(value);
+}
+
+const word = (value: unknown, fallback = "?") => (typeof value === "string" && value ? value : typeof value === "number" ? String(value) : fallback);
+const quoted = (value: unknown, fallback = "?") => `“${word(value, fallback)}”`;
+const listOf = (value: unknown): unknown[] => (Array.isArray(value) ? value : []);
+
+/** "name “a” → “b”, location “x” → “y”" for the { field: { from, to } } pairs that differ. */
+function fieldChanges(changes: Changes): string {
+  const parts = Object.entries(changes)
+    .filter((entry): entry is [string, FromTo] => isFromTo(entry[1]) && JSON.stringify(entry[1].from) !== JSON.stringify(entry[1].to))
+    .map(([field, { from, to }]) => `${fieldLabel(field)} ${quoted(valueText(from))} → ${quoted(valueText(to))}`);
+  return parts.join(", ");
+}
+
+/** " from “a” to “b”" for a recorded { from, to } pair; "" for anything else. */
+function fromTo(value: unknown): string {
+  return isFromTo(value) ? ` from ${quoted(valueText(value.from))} to ${quoted(valueText(value.to))}` : "";
+}
+
+/** "lastRevision" → "last revision". */
+export function fieldLabel(field: string): string {
+  return field.replace(/([a-z])([A-Z])/g, "$1 $2").replace(/[-_]/g, " ").toLowerCase();
+}
+
+const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => string> = {
+  "organisation.created": (c, target) => `Created the organisation ${quoted(c.name, target)}`,
+  "organisation.renamed": (c) => `Renamed the organisation${fromTo(c.name)}`,
+  "site.created": (c) => `Added site ${quoted(c.name)}${word(c.customer, "") ? ` for ${word(c.customer)}` : ""}${word(c.location, "") ? ` at ${word(c.location)}` : ""}`,
+  "site.updated": (c, target) => `Changed site ${quoted(target)}: ${fieldChanges(c)}`,
+  "site.deleted": (c, target) => `Deleted site ${quoted(c.name, target)}`,
+  "device.created": (c, target) => `Created device ${quoted(c.name, target)} as r${word(c.revision, "1")}${word(c.message, "") ? `: ${quoted(c.message)}` : ""}`,
+  "device.revised": (c, target) =>
+    `Saved r${word(c.revision)} of ${quoted(target)}${word(c.message, "") ? `: ${quoted(c.message)}` : ""} (${plural(listOf(c.changes).length, { one: "change", other: "changes" })})`,
+  "device.deleted": (c, target) => `Deleted device ${quoted(c.name, target)} and its revisions (last r${word(c.lastRevision)})`,
+  "finding.dismissed": (c, target) => `Dismissed ${word(c.code)} on ${quoted(c.device, target)} (r${word(c.revision)}) as an accepted risk: ${quoted(c.reason)}`,
+  "finding.restored": (c, target) => `Restored ${word(c.code)} on ${quoted(c.device, target)} to the active findings`,
+  "shared-object.created": (c, target) => `Created shared ${c.kind === "group" ? "group" : "address object"} ${quoted(target)}: ${valueText(c.items)}`,
+  "shared-object.updated": (c, target) => {
+    const changed = fieldChanges(c);
+    return `Changed shared object ${quoted(target)}${changed ? `: ${changed}` : " (no difference)"}`;
+  },
+  "shared-object.deleted": (c, target) => `Deleted shared object ${quoted(target)} (${valueText(c.items)})`,
+  "invitation.sent": (c) => `Invited ${word(c.email)} as ${word(c.role)}`,
+  "invitation.revoked": (c) => `Revoked the invitation for ${word(c.email)}`,
+  "invitation.accepted": (c) => `${word(c.email)} joined as ${word(c.role)}`,
+  "member.role-changed": (c, target) => (isFromTo(c.role) ? `Changed the role of ${target} from ${word(c.role.from)} to ${word(c.role.to)}` : `Changed the role of ${target}`),
+  "member.removed": (c, target) => `Removed ${target}${word(c.role, "") ? ` (${word(c.role)})` : ""} from the organisation`,
+  "user.signed-in": () => "Signed in",
+  "user.signed-out-everywhere": () => "Signed out on every device",
+  "user.renamed": (c) => `Changed their name${fromTo(c.name)}`,
+  "user.email-change-requested": (c) => `Asked to change their e-mail to ${word(c.newEmail)}; a confirmation link went to that address`,
+  "user.email-changed": (c) => `Changed their e-mail${fromTo(c.email)}`,
+  "user.password-changed": (c) => `Changed their password${typeof c.otherSessionsEnded === "number" ? ` and signed out ${plural(c.otherSessionsEnded, { one: "other session", other: "other sessions" })}` : ""}`,
+  "password.reset-requested": () => "Asked for a password reset link",
+  "password.reset-completed": () => "Set a new password from a reset link and signed out everywhere",
+};
+
+/** One sentence for an entry, naming the target as it is now (or was). */
+export function auditSentence(entry: AuditEntryWords): string {
+  const target = entry.targetName ?? "a deleted item";
+  if (isAuditAction(entry.action)) return SENTENCES[entry.action](entry.changes, target);
+  const changed = Object.entries(entry.changes).map(([field, value]) => `${fieldLabel(field)}: ${valueText(value)}`);
+  return `${entry.action} ${target}${changed.length ? ` (${changed.join("; ")})` : ""}`;
+}
+
+/** The recorded values as readable lines, for the expandable details. */
+export function auditDetails(changes: Record<string, unknown>): { field: string; lines: string[] }[] {
+  return Object.entries(changes).map(([field, value]) => ({
+    field: fieldLabel(field),
+    // A list of changes (a revision's) reads best one per line.
+    lines: Array.isArray(value) && value.every((item) => typeof item === "string") && value.length > 1 ? value.map(valueText) : [valueText(value)],
+  }));
+}

@@ -1,0 +1,45 @@
+// The audit log's words: every action a service records and every kind of target, defined once.
+// Pure data, so the services (which write them), the audit page and its CSV export share it;
+// labels live in app/utils/audit-words.ts as `Record<AuditAction, string>`, so a new action
+// fails typecheck until it is worded.
+
+export const AUDIT_ACTIONS = [
+  "organisation.created",
+  "organisation.renamed",
+  "site.created",
+  "site.updated",
+  "site.deleted",
+  "device.created",
+  "device.revised",
+  "device.deleted",
+  "finding.dismissed",
+  "finding.restored",
+  "shared-object.created",
+  "shared-object.updated",
+  "shared-object.deleted",
+  "invitation.sent",
+  "invitation.revoked",
+  "invitation.accepted",
+  "member.role-changed",
+  "member.removed",
+  "user.signed-in",
+  "user.signed-out-everywhere",
+  "user.renamed",
+  "user.email-change-requested",
+  "user.email-changed",
+  "user.password-changed",
+  "password.reset-requested",
+  "password.reset-completed",
+] as const;
+export type AuditAction = (typeof AUDIT_ACTIONS)[number];
+
+export function isAuditAction(value: unknown): value is AuditAction {
+  return typeof value === "string" && (AUDIT_ACTIONS as readonly string[]).includes(value);
+}
+
+export const AUDIT_TARGET_TYPES = ["organisation", "site", "device", "shared-object", "invitation", "membership", "user"] as const;
+export type AuditTargetType = (typeof AUDIT_TARGET_TYPES)[number];
+
+export function isAuditTargetType(value: unknown): value is AuditTargetType {
+  return typeof value === "string" && (AUDIT_TARGET_TYPES as readonly string[]).includes(value);
+}

@@ -1,0 +1,73 @@
+// The account page's loader data and its three forms (name, e-mail, password), shared by the
+// page inside an organisation's shell and the bare page for someone in no organisation.
+import { redirect } from "react-router";
+import { serializeFlash } from "../auth/flash.server.ts";
+import { findPasswordProblem } from "../auth/password-rules.ts";
+import type { SignedInSession } from "../auth/session.server.ts";
+import { Session } from "#models/index.ts";
+import { getEnvironment } from "../config.server.ts";
+import { plural } from "../engine/format.ts";
+import { changePassword, pendingEmailChange, recentAccountActivity, renameUser, requestEmailChange } from "../services/account.server.ts";
+import { appOriginOf, fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "./form.server.ts";
+import { refusedForm } from "./refusals.server.ts";
+import { clientAddressOf, type RequestContext } from "./request-context.server.ts";
+import { ChangeEmailSchema, ChangeNameSchema, ChangePasswordSchema } from "./schemas.ts";
+
+export type AccountPageData = Awaited<ReturnType<typeof accountPageData>>;
+
+export async function accountPageData({ user, session }: SignedInSession) {
+  const [sessions, pending, activity] = await Promise.all([
+    Session.findAll({ where: { userId: user.id }, order: [["lastSeenAt", "DESC"]] }),
+    pendingEmailChange(user.id),
+    recentAccountActivity(user.id),
+  ]);
+  return {
+    user: { name: user.name, email: user.email },
+    pendingEmail: pending ? { newEmail: pending.newEmail, expiresAt: pending.expiresAt.toISOString() } : null,
+    sessions: sessions.map((candidate) => ({
+      id: candidate.id,
+      current: candidate.id === session.id,
+      userAgent: candidate.userAgent,
+      clientAddress: candidate.clientAddress,
+      lastSeenAt: candidate.lastSeenAt.toISOString(),
+    })),
+    activity: activity.map((event) => ({ id: String(event.id), at: event.createdAt.toISOString(), action: event.action, changes: event.changes, clientAddress: event.clientAddress })),
+    // Relative times count from here, so the server and the browser render the same words.
+    now: new Date().toISOString(),
+  };
+}
+
+/** The account forms: validate, call the service, come back to `selfPath` with a toast. */
+export async function accountAction(request: Request, context: RequestContext, { user, session }: SignedInSession, selfPath: string) {
+  const values = formValues(await readForm(request));
+  const clientAddress = clientAddressOf(context);
+  const back = async (message: string) => redirect(selfPath, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message }) } });
+  try {
+    switch (values.intent) {
+      case "name": {
+        const parsed = ChangeNameSchema.safeParse(values);
+        if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
+        const changed = await renameUser(user, parsed.data.name, clientAddress);
+        return back(changed ? `Your name is now ${parsed.data.name}.` : "Your name is unchanged.");
+      }
+      case "email": {
+        const parsed = ChangeEmailSchema.safeParse(values);
+        if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
+        await requestEmailChange(user, parsed.data, appOriginOf(request, getEnvironment().APP_ORIGIN), clientAddress);
+        return back(`We sent a confirmation link to ${parsed.data.newEmail}. Your e-mail changes when you follow it.`);
+      }
+      case "password": {
+        const parsed = ChangePasswordSchema.safeParse(values);
+        if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
+        const problem = findPasswordProblem(parsed.data.newPassword, { email: user.email, name: user.name });
+        if (problem) return invalidForm({ newPassword: problem }, values);
+        const ended = await changePassword(user, session.id, parsed.data, clientAddress);
+        return back(ended ? `Password changed. ${plural(ended, { one: "other session was", other: "other sessions were" })} signed out.` : "Password changed.");
+      }
+      default:
+        return unknownIntent(values.intent);
+    }
+  } catch (error) {
+    return refusedForm(error, values);
+  }
+}
