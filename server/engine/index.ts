@@ -59,6 +59,7 @@ export {
   isOutcome,
   isSeverity,
   LAYERS,
+  looksLikeAddressEntry,
   NAME_PATTERN,
   OUTCOMES,
   outcomeRank,

@@ -15,6 +15,7 @@ import {
   DAYS,
   INTERFACE_ROLES,
   isBuiltinAddressName,
+  looksLikeAddressEntry,
   NAME_PATTERN,
   PORT_PROTOCOLS,
   RULE_ACTIONS,
@@ -144,10 +145,8 @@ export function formatPath(path: readonly PropertyKey[]): string {
   return out;
 }
 
-/** Literal login-source text is told apart from a name by its shape. */
-export function looksLikeAddressEntry(text: string): boolean {
-  return /^[0-9A-Fa-f:./\- ]+$/.test(text) && /[.:]/.test(text);
-}
+// Defined with the other words in vocabulary.ts, so the browser's pickers tell literals apart the same way.
+export { looksLikeAddressEntry } from "./vocabulary.ts";
 
 /**
  * Why an account may not name `name` among its services, or null when it may: PRODUCT.md §3,
