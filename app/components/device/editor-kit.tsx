@@ -3,6 +3,7 @@ import { Form, Link, useNavigation } from "react-router";
 import { Button } from "../ui/button";
 import { Card } from "../ui/card";
 import { FormError } from "../ui/field";
+import { namesIn } from "../ui/name-picker";
 
 export type EditorProps = {
   baseRevision: number;
@@ -40,13 +41,29 @@ export function SaveButton({ children = "Save" }: { children?: ReactNode }) {
 }
 
 /** A small inline form with one button, e.g. delete or duplicate. */
-export function ActionButton({ intent, baseRevision, fields, label, variant = "ghost", accessibleLabel }: { intent: string; baseRevision: number; fields: Record<string, string>; label: string; variant?: "ghost" | "ghost-danger" | "secondary"; accessibleLabel?: string }) {
+export function ActionButton({
+  intent,
+  baseRevision,
+  fields,
+  label,
+  variant = "ghost",
+  accessibleLabel,
+  disabled,
+}: {
+  intent: string;
+  baseRevision: number;
+  fields: Record<string, string>;
+  label: string;
+  variant?: "ghost" | "ghost-danger" | "secondary";
+  accessibleLabel?: string;
+  disabled?: boolean;
+}) {
   return (
     <EditorForm intent={intent} baseRevision={baseRevision} className="inline">
       {Object.entries(fields).map(([name, value]) => (
         <input key={name} type="hidden" name={name} value={value} />
       ))}
-      <Button type="submit" size="sm" variant={variant} aria-label={accessibleLabel}>
+      <Button type="submit" size="sm" variant={variant} aria-label={accessibleLabel} disabled={disabled}>
         {label}
       </Button>
     </EditorForm>
@@ -129,6 +146,15 @@ export function FormMessage({ errors }: { errors: Record<string, string> }) {
 /** Splits a list kept in a form value (one per line) or given as an array. */
 export function listText(values: Record<string, string>, key: string, fallback: readonly string[] | undefined): string {
   return key in values ? values[key] : (fallback ?? []).join("\n");
+}
+
+/**
+ * The names a picker starts from: what this form submitted when it was refused (a picker that
+ * had nothing chosen submits no value at all), else the element's own.
+ */
+export function pickedNames(props: EditorProps, intent: string, key: string, fallback: readonly string[] | undefined): string[] {
+  if (props.values.intent === intent) return namesIn(props.values[key] ?? "");
+  return [...(fallback ?? [])];
 }
 
 export function checkedList(values: Record<string, string>, key: string, fallback: readonly string[] | undefined, submitted: boolean): string[] {

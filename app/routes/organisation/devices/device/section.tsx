@@ -11,7 +11,9 @@ import { deleteDevice, loadSharedLibrary, saveEdit } from "#server/services/devi
 import { listSites } from "#server/services/sites.server";
 import { SectionEditor } from "#app/components/device/section-editor";
 import { isDeviceSection, type DeviceSection } from "#app/components/device/sections";
+import type { EditorNames } from "#app/components/device/name-groups";
 import { clientAddressOf } from "#server/http/request-context.server";
+import { readRuleView } from "#server/http/preferences.server";
 import type { ModelDocument } from "#server/workspace/document";
 
 function sectionOf(value: string | undefined): DeviceSection {
@@ -27,6 +29,19 @@ export async function loader({ request, params, context }: Route.LoaderArgs) {
   const library = await loadSharedLibrary(access.organisation.id);
   const document = access.document;
   const serviceCatalogue = [...BUILTIN_SERVICES.map((service) => ({ name: service.name, kind: service.kind })), ...document.services.map((service) => ({ name: service.name, kind: service.kind }))];
+  // A device object of the same name takes precedence over a shared one.
+  const ownAddressNames = new Set([...document.addresses, ...document.addressGroups].map((object) => object.name));
+  const notShadowed = (objects: Array<{ name: string }>) => objects.map((object) => object.name).filter((name) => !ownAddressNames.has(name));
+  const names: EditorNames = {
+    interfaces: document.interfaces.map((entry) => entry.name),
+    services: serviceCatalogue,
+    serviceGroups: document.serviceGroups.map((group) => group.name),
+    addressObjects: document.addresses.map((object) => object.name),
+    addressGroups: document.addressGroups.map((group) => group.name),
+    sharedAddressObjects: notShadowed(library.addresses),
+    sharedAddressGroups: notShadowed(library.addressGroups),
+    schedules: document.schedules.map((schedule) => schedule.name),
+  };
   return {
     section,
     baseRevision: access.revision.number,
@@ -34,15 +49,9 @@ export async function loader({ request, params, context }: Route.LoaderArgs) {
     editing: new URL(request.url).searchParams.get("edit"),
     document,
     siteId: access.device.siteId,
+    ruleView: section === "rules" ? await readRuleView(request) : "detailed",
     sites: section === "settings" ? (await listSites(access.organisation.id)).map((site) => ({ id: site.id, name: site.name })) : [],
-    names: {
-      interfaces: document.interfaces.map((entry) => entry.name),
-      services: serviceCatalogue,
-      serviceGroups: document.serviceGroups.map((group) => group.name),
-      addresses: [...document.addresses.map((object) => object.name), ...document.addressGroups.map((group) => group.name)],
-      sharedAddresses: [...library.addresses.map((object) => object.name), ...library.addressGroups.map((group) => group.name)],
-      schedules: document.schedules.map((schedule) => schedule.name),
-    },
+    names,
   };
 }
 
