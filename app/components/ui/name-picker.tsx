@@ -139,7 +139,7 @@ function PickerInput({ placeholder, accept }: { placeholder: string; accept: (te
     if (text === "") return;
     event.preventDefault();
     event.stopPropagation();
-    // Not state.close(): closing commits the combobox's own selection, which lacks a literal.
+    // The list stays as it is, as after choosing an option: open for the next name, Escape closes it.
     accept(text);
   };
   return (
