@@ -39,7 +39,7 @@ import {
 import { Refusal } from "../errors.ts";
 import { fieldErrorsOf, formFailure, type FieldErrors } from "./form.server.ts";
 import { refusalOf, refusedForm } from "./refusals.server.ts";
-import { ElementNameSchema } from "./schemas.ts";
+import { ElementNameSchema, TimeZoneSchema } from "./schemas.ts";
 
 /**
  * An edit to apply, the toast that announces it, and the element its form edits (so the
@@ -175,7 +175,7 @@ const AccountForm = z.object({
 const SettingsForm = z.object({
   name: NAME,
   siteId: z.string().uuid("Choose a site."),
-  timezone: z.string().trim().min(1, "Enter an IANA time zone such as Europe/Amsterdam.").max(64),
+  timezone: TimeZoneSchema,
   defaultInbound: z.enum(RULE_ACTIONS, { message: "Choose allow or deny." }),
   unlistenedPort: z.enum(UNLISTENED_PORT_ACTIONS, { message: "Choose drop or reset." }),
 });

@@ -10,6 +10,7 @@ import {
   ANY_SERVICE,
   BUILTIN_ADDRESS_NAMES,
   BUILTIN_SERVICES,
+  isValidTimeZone,
   looksLikeAddressEntry,
   type ValidationIssue,
 } from "../engine/index.ts";
@@ -206,15 +207,21 @@ function issueInWords(issue: ValidationIssue, book: NameBook, value?: string): s
   if ((match = /^group cycle (.*)$/.exec(message))) {
     return `Groups would contain each other in a loop: ${match[1].replace(/"/g, "")}.`;
   }
-  if (message === "is not a known IANA time zone") {
-    const zone = value ?? "";
-    return `“${zone}” is not a known IANA time zone (such as Europe/Amsterdam).${didYouMean(zone, knownTimeZones())}`;
-  }
+  if (message === "is not a known IANA time zone") return timeZoneProblem(value ?? "") ?? sentence(message);
   if (message === "must be 1-63 characters of A-Z a-z 0-9 . _ -") return "Use 1–63 characters: letters, digits, dot, underscore, dash.";
   if (/^must be HH:MM/.test(message) && path.section === "schedules") {
     return `Window ${(path.item ?? 0) + 1}: times run from 00:00 to 23:59 (HH:MM).`;
   }
   return sentence(message);
+}
+
+/**
+ * Why a device time zone is refused, with the zone it nearly names, or null when the engine
+ * knows it. Shared with the forms that ask for a time zone, so they refuse before the engine does.
+ */
+export function timeZoneProblem(zone: string): string | null {
+  if (isValidTimeZone(zone)) return null;
+  return `“${zone.slice(0, 64)}” is not a known IANA time zone (such as Europe/Amsterdam).${didYouMean(zone, knownTimeZones())}`;
 }
 
 let timeZones: string[] | null = null;

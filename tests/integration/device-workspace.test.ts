@@ -316,6 +316,29 @@ describe("Inbound rule order", () => {
   });
 });
 
+describe("The rule list's view", () => {
+  test("The compact view is chosen by a form post, remembered in a cookie and read by the rules page; a view that does not exist is refused (400)", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-rule-view");
+    const device = await importDocument(client, slug, siteId, QUAY_EDGE);
+    const rulesPath = `${device.path}/model/rules`;
+    expect((await client.get(rulesPath)).text).toMatch(/<ol[^>]*aria-label="Inbound rules in order"/);
+
+    const chosen = await client.post("/preferences", { ruleView: "compact", returnTo: rulesPath });
+    expect(chosen.status).toBe(302);
+    expect(chosen.location).toBe(rulesPath);
+    expect(chosen.setCookies.join("\n")).toMatch(/sallyport-rule-view=/);
+    const compact = await client.get(rulesPath);
+    expect(compact.text).toMatch(/<table[^>]*aria-label="Inbound rules in order"/);
+    // One row per rule, each with its position, in document order.
+    expect([...compact.text.matchAll(/<tr[^>]*aria-label="Rule (\S+) at position (\d+)"/g)].map((match) => `${match[2]}:${match[1]}`)).toEqual(["1:r1", "2:r2", "3:r3", "4:r4"]);
+
+    expect((await client.post("/preferences", { ruleView: "sideways", returnTo: rulesPath })).status).toBe(400);
+    // Only paths on this site are returned to.
+    expect((await client.post("/preferences", { ruleView: "detailed", returnTo: "https://elsewhere.example/" })).location).toBe("/");
+    expect((await client.get(rulesPath)).text).toMatch(/<ol[^>]*aria-label="Inbound rules in order"/);
+  });
+});
+
 describe("Concurrent edits and refused edits", () => {
   test("Two edits from the same revision: the second is refused (409) with what changed meanwhile, and nothing is overwritten", async () => {
     const { client, slug, siteId } = await newOrganisationWithSite("ws-conflict");
@@ -461,6 +484,20 @@ describe("Refused forms say each problem beside its field and keep what was type
     expect(fieldError(refused.text, "Login sources")).toBe("No address object or group is named “vpn-pol”. Did you mean “vpn-pool”?");
     await device.save("accounts", { intent: "save-account", original: "ops-lena", name: "ops-lena", loginSources: ["vpn-pool", "192.0.2.0/28"], secondFactor: "totp", accessLevel: "full", enabled: "on" });
     expect((await device.exported(2)).accounts[0].loginSources).toEqual(["vpn-pool", "192.0.2.0/28"]);
+  });
+});
+
+describe("Refused shared objects are said in words too", () => {
+  test("A shared group naming a missing object is refused (400) beside its members, with the close name; what was typed stays", async () => {
+    const { client, slug } = await signUpNewOrganisation("ws-shared-group-words");
+    expect((await client.post(`/o/${slug}/settings/shared-objects`, { intent: "save", original: "", kind: "address", name: "vpn-pool", items: "10.99.0.0/24", description: "" })).status).toBe(302);
+    const refused = await client.post(`/o/${slug}/settings/shared-objects`, { intent: "save", original: "", kind: "group", name: "operators", items: "vpn-pol", description: "remote staff" });
+    expect(refused.status).toBe(400);
+    // PRODUCT.md §3: group members must exist (an unknown name is a validation error).
+    expect(fieldError(refused.text, "Entries or members")).toBe("No address object or group is named “vpn-pol”. Did you mean “vpn-pool”?");
+    expect(visibleText(refused.text)).not.toMatch(/addressGroups\[/);
+    expect(plain(refused.text)).toMatch(/<textarea[^>]*name="items"[^>]*>vpn-pol<\/textarea>/);
+    expect(plain(refused.text)).toContain('value="remote staff"');
   });
 });
 

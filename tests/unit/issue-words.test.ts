@@ -7,6 +7,7 @@ import {
   EMPTY_LIBRARY,
   fieldMessagesForIssues,
   parseIssuePath,
+  timeZoneProblem,
   validateDocument,
   type FormTarget,
   type ModelDocument,
@@ -160,6 +161,18 @@ describe("Problems in shared objects", () => {
     expect(Object.keys(messages)).toEqual(["form"]);
     // Short IPv4 forms such as 10.0.0 are malformed (PRODUCT.md §3).
     expect(messages.form).toMatch(/^Not saved\. Shared address object “vpn-pool”, entries: “10\.99\.0” is not an IPv4 address/);
+  });
+});
+
+describe("Time zones on the forms that ask for one", () => {
+  test("a known IANA zone passes; a near miss names the zone it nearly is; nonsense gets no guess", () => {
+    // IANA time zone database names (tz database, "Area/Location").
+    expect(timeZoneProblem("Europe/Amsterdam")).toBeNull();
+    expect(timeZoneProblem("UTC")).toBeNull();
+    expect(timeZoneProblem("Europe/Amsterdamm")).toBe("“Europe/Amsterdamm” is not a known IANA time zone (such as Europe/Amsterdam). Did you mean “Europe/Amsterdam”?");
+    // Nearest first: Tokyo is one slip away, Tomsk two.
+    expect(timeZoneProblem("Asia/Tokio")).toMatch(/Did you mean “Asia\/Tokyo” or “Asia\/Tomsk”\?$/);
+    expect(timeZoneProblem("Atlantis/Harbour")).toBe("“Atlantis/Harbour” is not a known IANA time zone (such as Europe/Amsterdam).");
   });
 });
 
