@@ -36,6 +36,7 @@ import {
   type ModelDocument,
   type SharedLibrary,
 } from "../workspace/index.ts";
+import { namesIn } from "../workspace/name-lists.ts";
 import { Refusal } from "../errors.ts";
 import { fieldErrorsOf, formFailure, type FieldErrors } from "./form.server.ts";
 import { refusalOf, refusedForm } from "./refusals.server.ts";
@@ -65,7 +66,7 @@ const LIST = z
   .string()
   .max(20_000, "That list is too long.")
   .default("")
-  .transform((text) => text.split(/[\s,]+/).map((item) => item.trim()).filter(Boolean));
+  .transform(namesIn);
 
 /** Names of elements; an address typed where a name belongs is told so (PRODUCT.md §3: rules, groups and operator networks take names). */
 const NAME_LIST = LIST.pipe(

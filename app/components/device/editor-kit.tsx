@@ -3,7 +3,7 @@ import { Form, Link, useNavigation } from "react-router";
 import { Button } from "../ui/button";
 import { Card } from "../ui/card";
 import { FormError } from "../ui/field";
-import { namesIn } from "../ui/name-picker";
+import { namesIn } from "#server/workspace/name-lists";
 
 export type EditorProps = {
   baseRevision: number;

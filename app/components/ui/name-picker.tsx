@@ -54,14 +54,6 @@ function useHydrated(): boolean {
   );
 }
 
-/** The names in a text area's value or a submitted list: one per line, or separated by commas or spaces. */
-export function namesIn(text: string): string[] {
-  return text
-    .split(/[\s,]+/)
-    .map((item) => item.trim())
-    .filter(Boolean);
-}
-
 export function NamePicker(props: NamePickerProps) {
   const hydrated = useHydrated();
   // Keyed by the starting names: another element opened for editing, or a refused submission
@@ -251,14 +243,14 @@ function Picker({ label, name, groups, defaultValue, error, hint, literals = fal
                 textValue={item}
                 className={({ isFocusVisible }) =>
                   cx(
-                    "inline-flex items-center gap-1 rounded-control border py-0.5 pr-1 pl-2 font-mono text-xs outline-none",
+                    "inline-flex items-center gap-0.5 rounded-control border pl-2 font-mono text-xs outline-none",
                     chosenUnknown.includes(item) ? "border-danger bg-danger-soft text-danger" : "border-line bg-harbour-soft text-ink",
                     isFocusVisible && "ring-2 ring-brass",
                   )
                 }
               >
                 {item}
-                <Button slot="remove" aria-label={`Remove ${item}`} className="rounded px-1 text-ink-muted hover:bg-surface hover:text-ink">
+                <Button slot="remove" aria-label={`Remove ${item}`} className="inline-flex h-6 w-6 items-center justify-center rounded text-ink-muted hover:bg-surface hover:text-ink">
                   <span aria-hidden="true">×</span>
                 </Button>
               </Tag>
