@@ -335,6 +335,8 @@ function GroupEditor({ props, heading, kind, groups, intent, deleteIntent, membe
   const editing = groups.find((item) => item.name === props.editing);
   const { values, errors } = valuesFor(props, intent);
   const headingId = `${intent}-heading`;
+  // A group cannot contain itself: it is not offered as its own member.
+  const offered = memberGroups.map((group) => ({ ...group, names: group.names.filter((name) => name !== editing?.name) }));
   return (
     <div className="grid gap-6 xl:grid-cols-[1fr_26rem]">
       <section aria-labelledby={headingId}>
@@ -361,7 +363,7 @@ function GroupEditor({ props, heading, kind, groups, intent, deleteIntent, membe
           <EditorForm intent={intent} baseRevision={props.baseRevision} className="space-y-4" label={kind}>
             <input type="hidden" name="original" value={editing?.name ?? ""} />
             <TextField label="Name" name="name" defaultValue={values.name ?? editing?.name} error={errors.name} maxLength={63} />
-            <NamePicker label="Members" name="members" groups={memberGroups} defaultValue={pickedNames(props, intent, "members", editing?.members)} error={errors.members} />
+            <NamePicker label="Members" name="members" groups={offered} defaultValue={pickedNames(props, intent, "members", editing?.members)} error={errors.members} />
             <SaveButton>{editing ? `Save ${kind}` : `Add ${kind}`}</SaveButton>
           </EditorForm>
         </EditorPanel>

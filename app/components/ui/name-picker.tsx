@@ -147,7 +147,17 @@ function Picker({ label, name, groups, defaultValue, error, hint, literals = fal
   const id = useId();
   const [chosen, setChosen] = useState<string[]>(() => [...new Set(defaultValue)]);
   const [typed, setTyped] = useState("");
-  const offered = new Set(groups.flatMap((group) => group.names));
+  // Each name once, in the first group that has it: an option id must be unique in the list.
+  const offered = new Set<string>();
+  const sections = groups.map((group) => {
+    const names: string[] = [];
+    for (const item of group.names) {
+      if (offered.has(item)) continue;
+      offered.add(item);
+      names.push(item);
+    }
+    return { label: group.label, names };
+  });
   const isLiteral = (text: string) => literals && looksLikeAddressEntry(text);
   // Chosen entries the lists do not offer: literal entries, and names that do not exist (typed
   // without JavaScript, or kept from a refused submission) so they can be seen and removed.
@@ -204,7 +214,7 @@ function Picker({ label, name, groups, defaultValue, error, hint, literals = fal
                 </Option>
               </ListBoxSection>
             ) : null}
-            {groups
+            {sections
               .filter((group) => group.names.length > 0)
               .map((group) => (
                 <ListBoxSection key={group.label}>
