@@ -2,7 +2,7 @@ import { useId, type ReactNode } from "react";
 import { Form, Link, useNavigation } from "react-router";
 import { Button } from "../ui/button";
 import { Card } from "../ui/card";
-import { FormError } from "../ui/field";
+import { FieldNotes, FormError } from "../ui/field";
 import { namesIn } from "#server/workspace/name-lists";
 
 export type EditorProps = {
@@ -83,19 +83,10 @@ export function TextAreaField({ label, name, defaultValue, error, hint, rows = 3
         rows={rows}
         defaultValue={defaultValue}
         aria-invalid={error ? true : undefined}
-        aria-describedby={`${id}-hint ${error ? `${id}-error` : ""}`}
+        aria-describedby={[hint ? `${id}-hint` : "", error ? `${id}-error` : ""].join(" ").trim() || undefined}
         className={`block w-full rounded-control border bg-surface px-3 py-2 font-mono text-sm shadow-card focus:ring-2 focus:ring-brass/60 focus:outline-none ${error ? "border-danger" : "border-line-strong"}`}
       />
-      {hint ? (
-        <p id={`${id}-hint`} className="text-xs text-ink-muted">
-          {hint}
-        </p>
-      ) : null}
-      {error ? (
-        <p id={`${id}-error`} role="alert" className="text-sm text-danger">
-          {error}
-        </p>
-      ) : null}
+      <FieldNotes id={id} hint={hint} error={error} />
     </div>
   );
 }

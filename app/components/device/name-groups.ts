@@ -1,7 +1,7 @@
 // The names each picker of the device editor offers, grouped by kind: what a rule's sources,
 // a group's members or an account's login sources may name (PRODUCT.md §3–§4). Pure.
 import { ANY_SERVICE, BUILTIN_ADDRESS_NAMES, type ServiceKind } from "#server/engine/vocabulary";
-import type { NameGroup } from "../ui/name-picker";
+import type { NameGroup } from "./name-picker";
 
 /** The names a device's forms may use, as the section loader lists them. */
 export type EditorNames = {

@@ -9,7 +9,7 @@ import { Badge } from "../ui/card";
 import { cx } from "../ui/cx";
 import { EmptyState } from "../ui/empty-state";
 import { LabelledOptions, SelectField, TextField } from "../ui/field";
-import { NamePicker } from "../ui/name-picker";
+import { NamePicker } from "./name-picker";
 import { ActionButton, EditorForm, EditorPanel, pickedNames, SaveButton, valuesFor } from "./editor-kit";
 import { addressNameGroups, serviceNameGroups } from "./name-groups";
 import type { SectionEditorProps } from "./section-editor";
@@ -92,6 +92,8 @@ function RuleRow({ rule, position, count, props }: { rule: Rule; position: numbe
 }
 
 const RULE_VIEW_LABELS: Record<RuleView, string> = { detailed: "Detailed", compact: "Compact" };
+
+const COMPACT_COLUMNS = ["#", "Rule", "Action", "Interface", "From", "To", "Services", "Schedule"] as const;
 
 /** Detailed (a card per rule) or compact (a line per rule, for long lists); remembered in a cookie by a plain form post. */
 function RuleViewToggle({ view }: { view: RuleView }) {
@@ -223,30 +225,11 @@ export function RulesSection(props: SectionEditorProps) {
                   <table className="w-full border-collapse text-sm" aria-label="Inbound rules in order">
                     <thead>
                       <tr className="bg-surface-sunken text-left text-xs font-semibold tracking-wide text-ink-muted uppercase">
-                        <th scope="col" className="px-2 py-1.5">
-                          #
-                        </th>
-                        <th scope="col" className="px-2 py-1.5">
-                          Rule
-                        </th>
-                        <th scope="col" className="px-2 py-1.5">
-                          Action
-                        </th>
-                        <th scope="col" className="px-2 py-1.5">
-                          Interface
-                        </th>
-                        <th scope="col" className="px-2 py-1.5">
-                          From
-                        </th>
-                        <th scope="col" className="px-2 py-1.5">
-                          To
-                        </th>
-                        <th scope="col" className="px-2 py-1.5">
-                          Services
-                        </th>
-                        <th scope="col" className="px-2 py-1.5">
-                          Schedule
-                        </th>
+                        {COMPACT_COLUMNS.map((column) => (
+                          <th key={column} scope="col" className="px-2 py-1.5">
+                            {column}
+                          </th>
+                        ))}
                         {props.canEdit ? (
                           <th scope="col" className="px-2 py-1.5 text-right">
                             <span className="sr-only">Actions</span>

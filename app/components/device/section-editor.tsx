@@ -29,7 +29,7 @@ import {
   valuesFor,
   type EditorProps,
 } from "./editor-kit";
-import { NamePicker, type NameGroup } from "../ui/name-picker";
+import { NamePicker, type NameGroup } from "./name-picker";
 import { addressNameGroups, serviceNameGroups, type EditorNames } from "./name-groups";
 import { RulesSection } from "./rules-section";
 import type { DeviceSection } from "./sections";

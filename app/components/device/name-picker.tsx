@@ -23,7 +23,9 @@ import {
   type Key,
 } from "react-aria-components";
 import { looksLikeAddressEntry } from "#server/engine/vocabulary";
-import { cx } from "./cx";
+import { cx } from "../ui/cx";
+import { FieldNotes } from "../ui/field";
+import { TextAreaField } from "./editor-kit";
 
 /** One kind of name the field takes, e.g. "Address objects" with their names. */
 export type NameGroup = { label: string; names: readonly string[] };
@@ -61,47 +63,27 @@ export function NamePicker(props: NamePickerProps) {
   return hydrated ? <Picker key={props.defaultValue.join("\n")} {...props} /> : <PlainNames {...props} />;
 }
 
-function FieldMessages({ id, hint, error }: { id: string; hint?: ReactNode; error?: string }) {
-  return (
-    <>
-      {hint ? (
-        <p id={`${id}-hint`} className="text-xs text-ink-muted">
-          {hint}
-        </p>
-      ) : null}
-      {error ? (
-        <p id={`${id}-error`} role="alert" className="text-sm text-danger">
-          {error}
-        </p>
-      ) : null}
-    </>
-  );
-}
 
 /** Without JavaScript (and until hydration): the names one per line, as the action reads them. */
 function PlainNames({ label, name, defaultValue, error, hint, rows = 3 }: NamePickerProps) {
-  const id = useId();
-  return (
-    <div className="space-y-1.5">
-      <label htmlFor={id} className="block text-sm font-medium">
-        {label}
-      </label>
-      <textarea
-        id={id}
-        name={name}
-        rows={rows}
-        defaultValue={defaultValue.join("\n")}
-        aria-invalid={error ? true : undefined}
-        aria-describedby={[hint ? `${id}-hint` : "", error ? `${id}-error` : ""].join(" ").trim() || undefined}
-        className={cx("block w-full rounded-control border bg-surface px-3 py-2 font-mono text-sm shadow-card focus:ring-2 focus:ring-brass/60 focus:outline-none", error ? "border-danger" : "border-line-strong")}
-      />
-      <FieldMessages id={id} hint={hint} error={error} />
-    </div>
-  );
+  return <TextAreaField label={label} name={name} rows={rows} defaultValue={defaultValue.join("\n")} error={error} hint={hint} />;
 }
 
 const itemClasses = ({ isFocused, isSelected }: { isFocused: boolean; isSelected: boolean }) =>
   cx("flex cursor-default items-center gap-2 rounded px-2 py-1.5 font-mono text-sm outline-none", isFocused && "bg-harbour-soft", isSelected && "font-semibold");
+
+/** Chosen entries the groups do not offer, listed so they show as chosen and can be unchosen. */
+function ChosenSection({ label, names, tone = "muted" }: { label: string; names: readonly string[]; tone?: "muted" | "danger" }) {
+  if (names.length === 0) return null;
+  return (
+    <ListBoxSection>
+      <Header className={cx("px-2 pt-2 pb-1 text-xs font-semibold tracking-wide uppercase", tone === "danger" ? "text-danger" : "text-ink-muted")}>{label}</Header>
+      {names.map((item) => (
+        <Option key={item} id={item} />
+      ))}
+    </ListBoxSection>
+  );
+}
 
 function Option({ id, children }: { id: string; children?: ReactNode }) {
   return (
@@ -224,22 +206,8 @@ function Picker({ label, name, groups, defaultValue, error, hint, literals = fal
                   ))}
                 </ListBoxSection>
               ))}
-            {chosenLiterals.length > 0 ? (
-              <ListBoxSection>
-                <Header className="px-2 pt-2 pb-1 text-xs font-semibold tracking-wide text-ink-muted uppercase">Literal entries</Header>
-                {chosenLiterals.map((item) => (
-                  <Option key={item} id={item} />
-                ))}
-              </ListBoxSection>
-            ) : null}
-            {chosenUnknown.length > 0 ? (
-              <ListBoxSection>
-                <Header className="px-2 pt-2 pb-1 text-xs font-semibold tracking-wide text-danger uppercase">Not found</Header>
-                {chosenUnknown.map((item) => (
-                  <Option key={item} id={item} />
-                ))}
-              </ListBoxSection>
-            ) : null}
+            <ChosenSection label="Literal entries" names={chosenLiterals} />
+            <ChosenSection label="Not found" names={chosenUnknown} tone="danger" />
           </ListBox>
         </Popover>
       </ComboBox>
@@ -271,7 +239,7 @@ function Picker({ label, name, groups, defaultValue, error, hint, literals = fal
       {chosen.map((item) => (
         <input key={item} type="hidden" name={name} value={item} />
       ))}
-      <FieldMessages id={id} hint={<>{hint} Type a name{literals ? " or an address" : ""} and press Enter, or ↓ to open the list; Delete removes a focused tag.</>} error={error} />
+      <FieldNotes id={id} hint={<>{hint} Type a name{literals ? " or an address" : ""} and press Enter, or ↓ to open the list; Delete removes a focused tag.</>} error={error} />
     </div>
   );
 }
