@@ -13,6 +13,7 @@ export default [
   route("logout", "routes/auth/logout.tsx"),
   route("account", "routes/account.tsx"),
   route("theme", "routes/theme.tsx"),
+  route("preferences", "routes/preferences.ts"),
   route("outbox", "routes/outbox.tsx"),
   route("healthz", "routes/healthz.ts"),
   route("o/:organisation", "routes/organisation/layout.tsx", [

@@ -18,6 +18,7 @@ import { traceProbe } from "./trace.ts";
 import type { TraceResult } from "./trace.ts";
 
 export { accountServiceProblem, parseModel } from "./model.ts";
+export { isValidTimeZone } from "./schedules.ts";
 export type {
   Account,
   DeviceInterface,
@@ -76,6 +77,7 @@ export {
   isSeverity,
   LAYERS,
   MODEL_SCHEMA_VERSION,
+  looksLikeAddressEntry,
   NAME_PATTERN,
   OUTCOMES,
   outcomeRank,

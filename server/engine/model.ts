@@ -19,6 +19,7 @@ import {
   INTERFACE_ROLES,
   isBuiltinAddressName,
   MODEL_SCHEMA_VERSION,
+  looksLikeAddressEntry,
   NAME_PATTERN,
   PORT_PROTOCOLS,
   RULE_ACTIONS,
@@ -164,10 +165,8 @@ export function formatPath(path: readonly PropertyKey[]): string {
   return out;
 }
 
-/** Literal login-source text is told apart from a name by its shape. */
-export function looksLikeAddressEntry(text: string): boolean {
-  return /^[0-9A-Fa-f:./\- ]+$/.test(text) && /[.:]/.test(text);
-}
+// Defined with the other words in vocabulary.ts, so the browser's pickers tell literals apart the same way.
+export { looksLikeAddressEntry } from "./vocabulary.ts";
 
 /**
  * Why an account may not name `name` among its services, or null when it may: PRODUCT.md §3,

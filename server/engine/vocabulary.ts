@@ -161,6 +161,11 @@ export type BuiltinAddressName = (typeof BUILTIN_ADDRESS_NAMES)[number];
 export function isBuiltinAddressName(value: unknown): value is BuiltinAddressName {
   return oneOf(BUILTIN_ADDRESS_NAMES, value);
 }
+/** Literal login-source text (an address, CIDR or range) is told apart from a name by its shape. */
+export function looksLikeAddressEntry(text: string): boolean {
+  return /^[0-9A-Fa-f:./\- ]+$/.test(text) && /[.:]/.test(text);
+}
+
 /** In a rule's services: every protocol and port, ICMP echo included. */
 export const ANY_SERVICE = "any";
 /** In a rule's interface: every interface. */

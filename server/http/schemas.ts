@@ -2,6 +2,7 @@ import { z } from "zod";
 import { findPasswordProblem, PASSWORD_MAX_LENGTH } from "../auth/password-rules.ts";
 import { ROLES } from "#models/roles.ts";
 import { NAME_PATTERN } from "../engine/vocabulary.ts";
+import { timeZoneProblem } from "../workspace/issue-words.ts";
 
 // Field schemas shared by the actions, so each field is validated the same way everywhere.
 export const EmailSchema = z
@@ -20,6 +21,17 @@ export const RoleSchema = z.enum(ROLES, { message: `Choose one of: ${ROLES.join(
 
 /** The name of a device, a device element or a shared object (PRODUCT.md §4: 1–63 of A-Z a-z 0-9 . _ -). */
 export const ElementNameSchema = z.string().trim().regex(NAME_PATTERN, "Use 1–63 characters: letters, digits, dot, underscore, dash.");
+
+/** A device's IANA time zone; an unknown one is refused with the zone it nearly names. */
+export const TimeZoneSchema = z
+  .string()
+  .trim()
+  .min(1, "Enter an IANA time zone such as Europe/Amsterdam.")
+  .max(64, "Use at most 64 characters.")
+  .superRefine((zone, context) => {
+    const problem = timeZoneProblem(zone);
+    if (problem) context.addIssue({ code: "custom", message: problem });
+  });
 
 export const IdSchema = z.string().uuid("That identifier is not valid.");
 

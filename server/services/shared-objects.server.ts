@@ -13,7 +13,7 @@ import { compileModel, diffModels, findings, MODEL_SCHEMA_VERSION, NAME_PATTERN,
 import { deviceRevisions, type DeviceAtRevision } from "../devices/index.ts";
 import { Refusal } from "../errors.ts";
 import { revisionAnalysisQueue } from "../jobs/revision-analysis.server.ts";
-import { diffDocuments, sharedObjectsUsedBy, validateDocument, type DocumentChange, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
+import { diffDocuments, EMPTY_LIBRARY, fieldMessagesForIssues, sharedObjectsUsedBy, validateDocument, type DocumentChange, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 import { writeRevision } from "./devices.server.ts";
 import { lockSharedLibrary } from "./shared-library-lock.server.ts";
@@ -29,22 +29,41 @@ export async function listSharedObjects(organisationId: string, transaction?: Tr
 /**
  * Checks the whole library as the engine would see it (entries parse, group members exist,
  * no cycles), so a device can never be broken by a shared object that does not validate.
+ * Returns the problems in words: those of the edited object as for its entries or members
+ * field, any other with the object named; null when the library validates.
  */
-function libraryProblems(objects: SharedObjectInput[]): string[] {
-  const parsed = parseModel({
+function libraryProblems(objects: SharedObjectInput[], edited: SharedObjectInput): string | null {
+  const library = {
     schemaVersion: MODEL_SCHEMA_VERSION,
     device: { name: "shared-library" },
     addresses: objects.filter((object) => object.kind === "address").map((object) => ({ name: object.name, entries: object.items })),
     addressGroups: objects.filter((object) => object.kind === "group").map((object) => ({ name: object.name, members: object.items })),
-  });
-  if (parsed.ok) return [];
-  return parsed.errors.map((issue) => {
-    const match = /^(addresses|addressGroups)\[(\d+)\]/.exec(issue.path);
-    const list = objects.filter((object) => object.kind === (match?.[1] === "addresses" ? "address" : "group"));
-    const name = match ? list[Number(match[2])]?.name : undefined;
-    return `${name ? `"${name}"` : issue.path}: ${issue.message}`;
-  });
+  };
+  const parsed = parseModel(library);
+  if (parsed.ok) return null;
+  // The library stands in for a device document here; its parts are the ones the engine checked.
+  const document = { ...EMPTY_DOCUMENT, addresses: library.addresses, addressGroups: library.addressGroups };
+  const messages = fieldMessagesForIssues(parsed.errors, document, EMPTY_LIBRARY, { collection: edited.kind === "address" ? "addresses" : "addressGroups", name: edited.name });
+  const fields = Object.keys(messages).filter((key) => key !== "form");
+  // Every problem is the edited object's entries or members: say just that, beside the field.
+  if (fields.length === 1 && (fields[0] === "entries" || fields[0] === "members")) return messages[fields[0]];
+  return messages.form.replace(/^Not saved\. /, "");
 }
+
+/** A document with nothing in it, for checking the shared library alone. */
+const EMPTY_DOCUMENT: ModelDocument = {
+  schemaVersion: MODEL_SCHEMA_VERSION,
+  device: { name: "shared-library", timezone: "UTC", defaultInbound: "allow", unlistenedPort: "drop" },
+  interfaces: [],
+  services: [],
+  addresses: [],
+  addressGroups: [],
+  serviceGroups: [],
+  schedules: [],
+  inboundRules: [],
+  accounts: [],
+  operatorNetworks: [],
+};
 
 function libraryOf(objects: readonly SharedObjectInput[]): SharedLibrary {
   return {
@@ -114,8 +133,8 @@ function planSave(originalName: string | null, input: SharedObjectInput): Planne
       if (users.length > 0) throw new Refusal(`"${existing.name}" is used by ${users.join(", ")}; renaming it would break them. Create a new object instead.`, 409, { field: "name" });
     }
     const after = [...library.filter((object) => object.name !== originalName), input];
-    const problems = libraryProblems(after);
-    if (problems.length > 0) throw new Refusal(problems.join(" · "), 400, { field: "items" });
+    const problems = libraryProblems(after, input);
+    if (problems !== null) throw new Refusal(problems, 400, { field: "items" });
     const write = { input, existing: existing ?? null };
     const summary = changeWords(write);
     const touched = new Map(existing && sameValue(existing, input) && existing.name === input.name ? [] : [input.name, ...(existing ? [existing.name] : [])].map((name) => [name, summary]));
@@ -159,9 +178,9 @@ function planCsv(rows: string[][]): Planner {
       }
       const input: SharedObjectInput = { kind: "address", name: rawName, items: entries, description: current?.description ?? "" };
       const next = [...after.filter((object) => object.name !== rawName), input];
-      const problems = libraryProblems(next);
-      if (problems.length > 0) {
-        refuse(problems.join(" · "));
+      const problems = libraryProblems(next, input);
+      if (problems !== null) {
+        refuse(problems);
         continue;
       }
       after = next;

@@ -23,3 +23,6 @@ export { diffDocuments } from "./document-diff.ts";
 export type { DocumentChange } from "./document-diff.ts";
 export { countElements, summariseDocument } from "./summary.ts";
 export type { RevisionSummary } from "./summary.ts";
+export { closeNames, didYouMean } from "./close-names.ts";
+export { fieldMessagesForIssues, parseIssuePath, timeZoneProblem } from "./issue-words.ts";
+export type { FieldMessages, FormTarget } from "./issue-words.ts";

@@ -1,6 +1,6 @@
 import { readFileSync } from "node:fs";
 import { expect, test } from "@playwright/test";
-import { screenshot, signIn, toast } from "./helpers";
+import { chooseNames, screenshot, signIn, toast } from "./helpers";
 
 test("An engineer models a new device, reorders its rules, and round-trips it through export and import", async ({ page }) => {
   const deviceName = `e2e-edge-${Date.now().toString(36)}`;
@@ -50,18 +50,20 @@ test("An engineer models a new device, reorders its rules, and round-trips it th
   // Services were left empty: refused beside the field, with what was typed kept.
   await expect(ruleForm.getByText("Name at least one service (or any).")).toBeVisible();
   await expect(ruleForm.getByLabel("Rule id")).toHaveValue("drop-rest");
-  await ruleForm.getByLabel("Services").fill("any");
+  await chooseNames(ruleForm, "Services", ["any"]);
   await ruleForm.getByRole("button", { name: "Add rule" }).click();
   await expect(toast(page)).toContainText("Saved as revision r4");
   await ruleForm.getByLabel("Rule id").fill("team-admin");
   await ruleForm.getByLabel("Action").selectOption("allow");
   await ruleForm.getByLabel("Interface").selectOption("outside");
-  await ruleForm.getByLabel("Sources").fill("team-net");
-  await ruleForm.getByLabel("Services").fill("https\nssh");
+  await chooseNames(ruleForm, "Sources", ["team-net"]);
+  await ruleForm.getByRole("grid", { name: "Chosen sources" }).getByRole("button", { name: "Remove any" }).click();
+  await chooseNames(ruleForm, "Services", ["https", "ssh"]);
   await ruleForm.getByRole("button", { name: "Add rule" }).click();
   await expect(toast(page)).toContainText("Saved as revision r5");
   const rules = page.getByRole("list", { name: "Inbound rules in order" });
   await expect(rules.getByRole("listitem").nth(0)).toHaveAccessibleName("Rule drop-rest at position 1");
+  await expect(rules.getByRole("listitem").nth(1)).toContainText("from team-net → to any · services https, ssh");
   // The allow must come before the catch-all deny: move it up.
   await page.getByRole("button", { name: "Move rule team-admin up" }).click();
   await expect(toast(page)).toContainText("Moved inbound rule team-admin to position 1");
@@ -73,7 +75,7 @@ test("An engineer models a new device, reorders its rules, and round-trips it th
   await page.getByRole("navigation", { name: "Device" }).getByRole("link", { name: "Accounts" }).click();
   const accountForm = page.getByRole("form", { name: "Account" });
   await accountForm.getByLabel("Name").fill("ops-lena");
-  await accountForm.getByLabel("Login sources").fill("team-net");
+  await chooseNames(accountForm, "Login sources", ["team-net"]);
   await accountForm.getByLabel("Second factor").selectOption("totp");
   await accountForm.getByRole("button", { name: "Add account" }).click();
   await expect(toast(page)).toContainText("Saved as revision r7");

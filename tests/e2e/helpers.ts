@@ -1,6 +1,6 @@
 import { mkdirSync } from "node:fs";
 import path from "node:path";
-import type { Page } from "@playwright/test";
+import { expect, type Locator, type Page } from "@playwright/test";
 
 const directory = path.resolve("tests/artifacts/screenshots");
 
@@ -22,4 +22,19 @@ export async function signIn(page: Page, email: string, password: string): Promi
 /** The one-time message shown after an action. */
 export function toast(page: Page) {
   return page.getByTestId("toast");
+}
+
+/** Chooses names in a name picker with the keyboard: each typed in full, then Enter. */
+export async function chooseNames(scope: Locator, label: string, names: readonly string[]): Promise<void> {
+  const input = scope.getByRole("combobox", { name: label });
+  await input.focus();
+  for (const name of names) {
+    await input.pressSequentially(name);
+    await input.press("Enter");
+    await expect(input).toHaveValue("");
+  }
+  // Escape closes the list (while it is open, the rest of the page is hidden from assistive technology).
+  await input.press("Escape");
+  const chosen = scope.getByRole("grid", { name: `Chosen ${label.toLowerCase()}` });
+  for (const name of names) await expect(chosen.getByRole("row", { name })).toBeVisible();
 }

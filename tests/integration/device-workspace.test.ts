@@ -10,7 +10,7 @@ import type { Role } from "#server/auth/roles";
 import { generateModel, type ModelSize } from "#server/engine/testing/generate-model";
 import { EMPTY_LIBRARY, validateDocument, type ModelDocument } from "#server/workspace/index";
 import { DEMO_PASSWORDS, signUpNewOrganisation, TestClient, type FetchResult } from "../support/client";
-import { plain, UUID } from "../support/html";
+import { fieldError, formAlert, plain, UUID, visibleText } from "../support/html";
 import { confirmReview } from "../support/shared-objects";
 
 
@@ -317,6 +317,29 @@ describe("Inbound rule order", () => {
   });
 });
 
+describe("The rule list's view", () => {
+  test("The compact view is chosen by a form post, remembered in a cookie and read by the rules page; a view that does not exist is refused (400)", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-rule-view");
+    const device = await importDocument(client, slug, siteId, QUAY_EDGE);
+    const rulesPath = `${device.path}/model/rules`;
+    expect((await client.get(rulesPath)).text).toMatch(/<ol[^>]*aria-label="Inbound rules in order"/);
+
+    const chosen = await client.post("/preferences", { ruleView: "compact", returnTo: rulesPath });
+    expect(chosen.status).toBe(302);
+    expect(chosen.location).toBe(rulesPath);
+    expect(chosen.setCookies.join("\n")).toMatch(/sallyport-rule-view=/);
+    const compact = await client.get(rulesPath);
+    expect(compact.text).toMatch(/<table[^>]*aria-label="Inbound rules in order"/);
+    // One row per rule, each with its position, in document order.
+    expect([...compact.text.matchAll(/<tr[^>]*aria-label="Rule (\S+) at position (\d+)"/g)].map((match) => `${match[2]}:${match[1]}`)).toEqual(["1:r1", "2:r2", "3:r3", "4:r4"]);
+
+    expect((await client.post("/preferences", { ruleView: "sideways", returnTo: rulesPath })).status).toBe(400);
+    // Only paths on this site are returned to.
+    expect((await client.post("/preferences", { ruleView: "detailed", returnTo: "https://elsewhere.example/" })).location).toBe("/");
+    expect((await client.get(rulesPath)).text).toMatch(/<ol[^>]*aria-label="Inbound rules in order"/);
+  });
+});
+
 describe("Concurrent edits and refused edits", () => {
   test("Two edits from the same revision: the second is refused (409) with what changed meanwhile, and nothing is overwritten", async () => {
     const { client, slug, siteId } = await newOrganisationWithSite("ws-conflict");
@@ -362,7 +385,7 @@ describe("Concurrent edits and refused edits", () => {
     expect((await device.exported(4)).addresses).toContainEqual({ name: "partner-hq", entries: ["192.0.2.0/28"] });
   });
 
-  test("Deleting an element in use is refused (409) naming where; an unknown name is refused (400) with its path; nothing is saved", async () => {
+  test("Deleting an element in use is refused (409) naming where; an unknown name is refused (400) in words beside its field; nothing is saved", async () => {
     const { client, slug, siteId } = await newOrganisationWithSite("ws-refuse");
     const device = await importDocument(client, slug, siteId, QUAY_EDGE);
 
@@ -375,14 +398,16 @@ describe("Concurrent edits and refused edits", () => {
     expect(inUseText).toContain("operator networks");
     expect((await device.edit("interfaces", { intent: "delete-interface", name: "outside" })).status).toBe(409);
 
-    // PRODUCT.md §3: an unknown name is a validation error naming the path.
+    // PRODUCT.md §3: an unknown name is a validation error; the form says it beside the field, in
+    // words (the path stays in the CLI and the API).
     const unknown = await device.edit("rules", { intent: "save-rule", position: "1", interface: "outside", sources: "noc", destinations: "any", services: "ssh", schedule: "all-week", action: "allow", enabled: "on", note: "" });
     expect(unknown.status).toBe(400);
-    expect(plain(unknown.text)).toContain('inboundRules[0].sources[0]: unknown address "noc"');
+    expect(fieldError(unknown.text, "Sources")).toBe("No address object or group is named “noc”.");
+    expect(visibleText(unknown.text)).not.toContain("inboundRules[");
 
     const unknownSchedule = await device.edit("rules", { intent: "save-rule", interface: "outside", sources: "noc-net", destinations: "any", services: "ssh", schedule: "night-shift", action: "allow", enabled: "on", note: "" });
     expect(unknownSchedule.status).toBe(400);
-    expect(plain(unknownSchedule.text)).toContain('inboundRules[4].schedule: unknown schedule "night-shift"');
+    expect(fieldError(unknownSchedule.text, "Schedule")).toBe("No schedule is named “night-shift”.");
 
     const badField = await device.edit("services", { intent: "save-service", name: "webconsole", protocol: "tcp", port: "70000", kind: "login" });
     expect(badField.status).toBe(400);
@@ -390,7 +415,7 @@ describe("Concurrent edits and refused edits", () => {
     // IANA service registry: https is tcp/443 — a custom service on a catalogue port is refused.
     const clash = await device.edit("services", { intent: "save-service", name: "web-alt", protocol: "tcp", port: "443", kind: "login" });
     expect(clash.status).toBe(400);
-    expect(plain(clash.text)).toContain('tcp/443 is already the service "https"');
+    expect(fieldError(clash.text, "Port")).toBe("tcp/443 is already the service “https”; two services cannot share a protocol and port.");
     expect((await device.edit("rules", { intent: "delete-rule", ruleId: "r9" })).status).toBe(404);
     expect((await device.edit("rules", { intent: "explode" })).status).toBe(400);
     expect((await device.client.request(`${device.path}/model/rules`, { method: "POST", body: formBody({ intent: "delete-rule", ruleId: "r1" }) })).status).toBe(400);
@@ -404,10 +429,76 @@ describe("Concurrent edits and refused edits", () => {
     expect(plain(nameTaken.text)).toContain("Another device of this organisation already has that name.");
     const badZone = await device.edit("settings", { ...settings, name: "quay-edge", timezone: "Atlantis/Harbour" });
     expect(badZone.status).toBe(400);
-    expect(plain(badZone.text)).toContain("device.timezone: is not a known IANA time zone");
+    expect(fieldError(badZone.text, "Time zone")).toBe("“Atlantis/Harbour” is not a known IANA time zone (such as Europe/Amsterdam).");
 
     expect(await device.revision()).toBe(1);
     expect(await device.exported(1)).toEqual(normalised(QUAY_EDGE));
+  });
+});
+
+describe("Refused forms say each problem beside its field and keep what was typed", () => {
+  test("A rule with mistyped names is refused (400): each problem under its field in words, with the close name, and the typed values back in the form", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-field-words");
+    const device = await importDocument(client, slug, siteId, QUAY_EDGE);
+    const typed = { intent: "save-rule", id: "partner-ssh", position: "2", interface: "outside", sources: "noc-nte\npartner-hq", destinations: "any", services: "sshh", schedule: "always", action: "allow", enabled: "on", note: "partner maintenance" };
+
+    const refused = await device.edit("rules", typed);
+    expect(refused.status).toBe(400);
+    // PRODUCT.md §3: unknown names are validation errors; here said beside Sources and Services.
+    expect(fieldError(refused.text, "Sources")).toBe("No address object or group is named “noc-nte”. Did you mean “noc-net”?");
+    // IANA service-name registry: ssh is tcp/22, the built-in the typo is closest to.
+    expect(fieldError(refused.text, "Services")).toBe("No service or service group is named “sshh”. Did you mean “ssh”?");
+    expect(fieldError(refused.text, "Destinations")).toBeNull();
+    expect(formAlert(refused.text)).toBe("Not saved. Sources: no address object or group is named “noc-nte”. Did you mean “noc-net”? Services: no service or service group is named “sshh”. Did you mean “ssh”?");
+    expect(visibleText(refused.text)).not.toMatch(/inboundRules\[/);
+    // What was typed is back in the form (without JavaScript the pickers are text areas).
+    const ruleForm = /<form[^>]*aria-label="Inbound rule"[\s\S]*?<\/form>/.exec(refused.text)?.[0] ?? "";
+    expect(ruleForm).toMatch(/name="id"[^>]*value="partner-ssh"|value="partner-ssh"[^>]*name="id"/);
+    expect(plain(ruleForm)).toMatch(/<textarea[^>]*name="sources"[^>]*>noc-nte\npartner-hq<\/textarea>/);
+    expect(plain(ruleForm)).toMatch(/<textarea[^>]*name="services"[^>]*>sshh<\/textarea>/);
+    expect(plain(ruleForm)).toContain('value="partner maintenance"');
+    expect(await device.revision()).toBe(1);
+
+    // Corrected, it saves.
+    await device.save("rules", { ...typed, sources: "noc-net\npartner-hq", services: ["ssh"] });
+    expect((await device.exported(2)).inboundRules[1]).toMatchObject({ id: "partner-ssh", sources: ["noc-net", "partner-hq"], services: ["ssh"] });
+  });
+
+  test("An interface address without its prefix length is refused beside Addresses; with it, saved", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-prefix");
+    const device = await createDevice(client, slug, siteId, "pier-gw-02");
+    const typed = { intent: "save-interface", original: "", name: "outside", role: "other", addresses: "203.0.113.2", listeners: "https" };
+    const refused = await device.edit("interfaces", typed);
+    expect(refused.status).toBe(400);
+    // PRODUCT.md §4 writes interface addresses with the link's prefix (RFC 5737 documentation address here).
+    expect(fieldError(refused.text, "Addresses")).toBe("“203.0.113.2” has no prefix length: add the link's, e.g. 203.0.113.2/24 (/32 for the address alone).");
+    expect(plain(refused.text)).toMatch(/<textarea[^>]*name="addresses"[^>]*>203\.0\.113\.2<\/textarea>/);
+    await device.save("interfaces", { ...typed, addresses: "203.0.113.2/24" });
+  });
+
+  test("An unknown login source suggests the organisation's shared object it nearly names", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-shared-words");
+    expect((await client.post(`/o/${slug}/settings/shared-objects`, { intent: "save", original: "", kind: "address", name: "vpn-pool", items: "10.99.0.0/24", description: "" })).status).toBe(302);
+    const device = await importDocument(client, slug, siteId, QUAY_EDGE);
+    const refused = await device.edit("accounts", { intent: "save-account", original: "ops-lena", name: "ops-lena", loginSources: "vpn-pol\n192.0.2.0/28", secondFactor: "totp", accessLevel: "full", enabled: "on" });
+    expect(refused.status).toBe(400);
+    expect(fieldError(refused.text, "Login sources")).toBe("No address object or group is named “vpn-pol”. Did you mean “vpn-pool”?");
+    await device.save("accounts", { intent: "save-account", original: "ops-lena", name: "ops-lena", loginSources: ["vpn-pool", "192.0.2.0/28"], secondFactor: "totp", accessLevel: "full", enabled: "on" });
+    expect((await device.exported(2)).accounts[0].loginSources).toEqual(["vpn-pool", "192.0.2.0/28"]);
+  });
+});
+
+describe("Refused shared objects are said in words too", () => {
+  test("A shared group naming a missing object is refused (400) beside its members, with the close name; what was typed stays", async () => {
+    const { client, slug } = await signUpNewOrganisation("ws-shared-group-words");
+    expect((await client.post(`/o/${slug}/settings/shared-objects`, { intent: "save", original: "", kind: "address", name: "vpn-pool", items: "10.99.0.0/24", description: "" })).status).toBe(302);
+    const refused = await client.post(`/o/${slug}/settings/shared-objects`, { intent: "save", original: "", kind: "group", name: "operators", items: "vpn-pol", description: "remote staff" });
+    expect(refused.status).toBe(400);
+    // PRODUCT.md §3: group members must exist (an unknown name is a validation error).
+    expect(fieldError(refused.text, "Entries or members")).toBe("No address object or group is named “vpn-pol”. Did you mean “vpn-pool”?");
+    expect(visibleText(refused.text)).not.toMatch(/addressGroups\[/);
+    expect(plain(refused.text)).toMatch(/<textarea[^>]*name="items"[^>]*>vpn-pol<\/textarea>/);
+    expect(plain(refused.text)).toContain('value="remote staff"');
   });
 });
 

@@ -207,12 +207,12 @@ describe("Changing a shared object", () => {
         ["login-password", "login-denied", "198.51.100.0/28"],
       ].sort(),
     );
-    // quay-edge: https and ssh (one row each way and family: the same sources move on both services).
+    // quay-edge: ssh and https, in catalogue order (PRODUCT.md §3) (one row each way and family: the same sources move on both services).
     expect(quay.rows.map((row) => [row.before, row.after, row.services.join(" "), row.ranges.join(" ")]).sort()).toEqual(
       [
-        ["silent", "login-mfa", "https ssh", "198.51.100.16/28"],
-        ["silent", "login-mfa", "https ssh", "2001:db8:77::/120"],
-        ["login-mfa", "silent", "https ssh", "198.51.100.0/28"],
+        ["silent", "login-mfa", "ssh https", "198.51.100.16/28"],
+        ["silent", "login-mfa", "ssh https", "2001:db8:77::/120"],
+        ["login-mfa", "silent", "ssh https", "198.51.100.0/28"],
       ].sort(),
     );
   });

@@ -51,3 +51,30 @@ describe("The account form names login services only (PRODUCT.md §3)", () => {
     );
   });
 });
+
+describe("Interface addresses carry the link's prefix length", () => {
+  const saveInterface = (addresses: string) => planDeviceEdit("save-interface", { original: "", name: "outside", role: "other", addresses, listeners: "" });
+
+  test("addresses with a prefix length are accepted, IPv4 and IPv6", () => {
+    // PRODUCT.md §4 writes interface addresses as "192.0.2.1/24", "2001:db8:1::1/64" (RFC 5737, RFC 3849).
+    expect(saveInterface("192.0.2.1/24\n2001:db8:1::1/64")?.ok).toBe(true);
+  });
+
+  test.each([
+    ["192.0.2.1", "“192.0.2.1” has no prefix length: add the link's, e.g. 192.0.2.1/24 (/32 for the address alone)."],
+    ["2001:db8:1::1", "“2001:db8:1::1” has no prefix length: add the link's, e.g. 2001:db8:1::1/64 (/128 for the address alone)."],
+  ])("a bare address (%s) is refused beside the addresses field", (address, message) => {
+    expect(saveInterface(`192.0.2.9/24\n${address}`)).toEqual({ ok: false, errors: { addresses: message } });
+  });
+});
+
+describe("Lists of names say when an address was typed instead", () => {
+  const saveRule = (sources: string) => planDeviceEdit("save-rule", { interface: "any", sources, destinations: "any", services: "ssh", schedule: "office-hours", action: "allow" });
+
+  test("a CIDR among a rule's sources is refused with the reason, not the name pattern", () => {
+    // PRODUCT.md §3: rule sources take names; literal entries only in login sources.
+    expect(saveRule("noc-net 10.0.0.0/8")).toEqual({ ok: false, errors: { sources: "“10.0.0.0/8” is an address, but this list takes the names of address objects and groups: add an address object for it first." } });
+    expect(saveRule("noc net!")).toEqual({ ok: false, errors: { sources: "“net!” is not a name: names have 1–63 characters, letters, digits, dot, underscore, dash." } });
+    expect(saveRule("noc-net any4")?.ok).toBe(true);
+  });
+});

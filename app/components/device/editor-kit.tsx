@@ -2,7 +2,8 @@ import { useId, type ReactNode } from "react";
 import { Form, Link, useNavigation } from "react-router";
 import { Button } from "../ui/button";
 import { Card } from "../ui/card";
-import { FormError } from "../ui/field";
+import { FieldNotes, FormError } from "../ui/field";
+import { namesIn } from "#server/workspace/name-lists";
 
 export type EditorProps = {
   baseRevision: number;
@@ -40,13 +41,29 @@ export function SaveButton({ children = "Save" }: { children?: ReactNode }) {
 }
 
 /** A small inline form with one button, e.g. delete or duplicate. */
-export function ActionButton({ intent, baseRevision, fields, label, variant = "ghost", accessibleLabel }: { intent: string; baseRevision: number; fields: Record<string, string>; label: string; variant?: "ghost" | "ghost-danger" | "secondary"; accessibleLabel?: string }) {
+export function ActionButton({
+  intent,
+  baseRevision,
+  fields,
+  label,
+  variant = "ghost",
+  accessibleLabel,
+  disabled,
+}: {
+  intent: string;
+  baseRevision: number;
+  fields: Record<string, string>;
+  label: string;
+  variant?: "ghost" | "ghost-danger" | "secondary";
+  accessibleLabel?: string;
+  disabled?: boolean;
+}) {
   return (
     <EditorForm intent={intent} baseRevision={baseRevision} className="inline">
       {Object.entries(fields).map(([name, value]) => (
         <input key={name} type="hidden" name={name} value={value} />
       ))}
-      <Button type="submit" size="sm" variant={variant} aria-label={accessibleLabel}>
+      <Button type="submit" size="sm" variant={variant} aria-label={accessibleLabel} disabled={disabled}>
         {label}
       </Button>
     </EditorForm>
@@ -66,19 +83,10 @@ export function TextAreaField({ label, name, defaultValue, error, hint, rows = 3
         rows={rows}
         defaultValue={defaultValue}
         aria-invalid={error ? true : undefined}
-        aria-describedby={`${id}-hint ${error ? `${id}-error` : ""}`}
+        aria-describedby={[hint ? `${id}-hint` : "", error ? `${id}-error` : ""].join(" ").trim() || undefined}
         className={`block w-full rounded-control border bg-surface px-3 py-2 font-mono text-sm shadow-card focus:ring-2 focus:ring-brass/60 focus:outline-none ${error ? "border-danger" : "border-line-strong"}`}
       />
-      {hint ? (
-        <p id={`${id}-hint`} className="text-xs text-ink-muted">
-          {hint}
-        </p>
-      ) : null}
-      {error ? (
-        <p id={`${id}-error`} role="alert" className="text-sm text-danger">
-          {error}
-        </p>
-      ) : null}
+      <FieldNotes id={id} hint={hint} error={error} />
     </div>
   );
 }
@@ -129,6 +137,15 @@ export function FormMessage({ errors }: { errors: Record<string, string> }) {
 /** Splits a list kept in a form value (one per line) or given as an array. */
 export function listText(values: Record<string, string>, key: string, fallback: readonly string[] | undefined): string {
   return key in values ? values[key] : (fallback ?? []).join("\n");
+}
+
+/**
+ * The names a picker starts from: what this form submitted when it was refused (a picker that
+ * had nothing chosen submits no value at all), else the element's own.
+ */
+export function pickedNames(props: EditorProps, intent: string, key: string, fallback: readonly string[] | undefined): string[] {
+  if (props.values.intent === intent) return namesIn(props.values[key] ?? "");
+  return [...(fallback ?? [])];
 }
 
 export function checkedList(values: Record<string, string>, key: string, fallback: readonly string[] | undefined, submitted: boolean): string[] {

@@ -10,6 +10,7 @@ import {
 } from "#server/engine/vocabulary";
 import type { ModelDocument } from "#server/workspace/document";
 import type { DocumentChange } from "#server/workspace/document-diff";
+import type { RuleView } from "#server/http/preferences.server";
 import { Badge, Card } from "../ui/card";
 import { EmptyState } from "../ui/empty-state";
 import { LabelledOptions, SelectField, TextField, WordOptions } from "../ui/field";
@@ -23,12 +24,15 @@ import {
   FormMessage,
   listText,
   NameHint,
+  pickedNames,
   SaveButton,
   TextAreaField,
   valuesFor,
   type EditorProps,
 } from "./editor-kit";
 import { ListenersByKind, ListenerToggles, type ListedService } from "./listener-toggles";
+import { NamePicker, type NameGroup } from "./name-picker";
+import { addressNameGroups, serviceNameGroups, type EditorNames } from "./name-groups";
 import { RulesSection } from "./rules-section";
 import type { DeviceSection } from "./sections";
 import type { ReactNode } from "react";
@@ -73,14 +77,8 @@ export type SectionEditorProps = EditorProps & {
   document: ModelDocument;
   siteId: string;
   sites: Array<{ id: string; name: string }>;
-  names: {
-    interfaces: string[];
-    services: ListedService[];
-    serviceGroups: string[];
-    addresses: string[];
-    sharedAddresses: string[];
-    schedules: string[];
-  };
+  names: EditorNames & { services: ListedService[] };
+  ruleView: RuleView;
   conflict?: { currentNumber: number; changes: DocumentChange[]; message: string };
 };
 
@@ -270,11 +268,11 @@ function AddressesSection(props: SectionEditorProps) {
         groups={groups}
         intent="save-address-group"
         deleteIntent="delete-address-group"
-        memberNames={[...props.names.addresses, ...props.names.sharedAddresses]}
+        memberGroups={addressNameGroups(props.names)}
       />
-      {props.names.sharedAddresses.length > 0 ? (
+      {props.names.sharedAddressObjects.length + props.names.sharedAddressGroups.length > 0 ? (
         <p className="text-sm text-ink-muted">
-          Shared objects of the organisation can be used by name too: <NameHint label="shared" names={props.names.sharedAddresses} />. A device object with the same name takes precedence.
+          Shared objects of the organisation can be used by name too: <NameHint label="shared" names={[...props.names.sharedAddressObjects, ...props.names.sharedAddressGroups]} />. A device object with the same name takes precedence.
         </p>
       ) : null}
     </div>
@@ -338,17 +336,19 @@ function ServicesSection(props: SectionEditorProps) {
         groups={groups}
         intent="save-service-group"
         deleteIntent="delete-service-group"
-        memberNames={[...props.names.services.map((entry) => entry.name), ...props.names.serviceGroups]}
+        memberGroups={serviceNameGroups(props.names)}
       />
     </div>
   );
 }
 
 /** A list of groups (address or service) with its add/edit panel: the two work alike. */
-function GroupEditor({ props, heading, kind, groups, intent, deleteIntent, memberNames }: { props: SectionEditorProps; heading: string; kind: string; groups: Array<{ name: string; members: string[] }>; intent: string; deleteIntent: string; memberNames: string[] }) {
+function GroupEditor({ props, heading, kind, groups, intent, deleteIntent, memberGroups }: { props: SectionEditorProps; heading: string; kind: string; groups: Array<{ name: string; members: string[] }>; intent: string; deleteIntent: string; memberGroups: NameGroup[] }) {
   const editing = groups.find((item) => item.name === props.editing);
   const { values, errors } = valuesFor(props, intent);
   const headingId = `${intent}-heading`;
+  // A group cannot contain itself: it is not offered as its own member.
+  const offered = memberGroups.map((group) => ({ ...group, names: group.names.filter((name) => name !== editing?.name) }));
   return (
     <div className="grid gap-6 xl:grid-cols-[1fr_26rem]">
       <section aria-labelledby={headingId}>
@@ -375,7 +375,7 @@ function GroupEditor({ props, heading, kind, groups, intent, deleteIntent, membe
           <EditorForm intent={intent} baseRevision={props.baseRevision} className="space-y-4" label={kind}>
             <input type="hidden" name="original" value={editing?.name ?? ""} />
             <TextField label="Name" name="name" defaultValue={values.name ?? editing?.name} error={errors.name} maxLength={63} />
-            <TextAreaField label="Members" name="members" defaultValue={listText(values, "members", editing?.members)} error={errors.members} hint={<NameHint label="Names you can use" names={memberNames} />} />
+            <NamePicker label="Members" name="members" groups={offered} defaultValue={pickedNames(props, intent, "members", editing?.members)} error={errors.members} />
             <SaveButton>{editing ? `Save ${kind}` : `Add ${kind}`}</SaveButton>
           </EditorForm>
         </EditorPanel>
@@ -470,16 +470,14 @@ function AccountsSection(props: SectionEditorProps) {
           <EditorForm intent="save-account" baseRevision={props.baseRevision} className="space-y-4" label="Account">
             <input type="hidden" name="original" value={editing?.name ?? ""} />
             <TextField label="Name" name="name" defaultValue={values.name ?? editing?.name} error={errors.name} maxLength={63} />
-            <TextAreaField
+            <NamePicker
               label="Login sources"
               name="loginSources"
-              defaultValue={listText(values, "loginSources", editing?.loginSources)}
+              groups={addressNameGroups(props.names)}
+              literals
+              defaultValue={pickedNames(props, "save-account", "loginSources", editing?.loginSources)}
               error={errors.loginSources}
-              hint={
-                <>
-                  Address names or literal entries, one per line; empty means anywhere. <NameHint label="Names" names={[...props.names.addresses, ...props.names.sharedAddresses]} />
-                </>
-              }
+              hint="Address objects and groups, or literal addresses, CIDRs and ranges; none means anywhere."
             />
             <SelectField label="Second factor" name="secondFactor" defaultValue={values.secondFactor ?? editing?.secondFactor ?? "totp"} error={errors.secondFactor}>
               <LabelledOptions labels={SECOND_FACTOR_LABELS} />
@@ -508,7 +506,7 @@ function AccountsSection(props: SectionEditorProps) {
 }
 
 function OperatorNetworksSection(props: SectionEditorProps) {
-  const { values, errors } = valuesFor(props, "save-operator-networks");
+  const { errors } = valuesFor(props, "save-operator-networks");
   const current = props.document.operatorNetworks;
   return (
     <div className="grid gap-6 xl:grid-cols-[1fr_26rem]">
@@ -519,12 +517,12 @@ function OperatorNetworksSection(props: SectionEditorProps) {
       {props.canEdit ? (
         <EditorPanel title="Operator networks">
           <EditorForm intent="save-operator-networks" baseRevision={props.baseRevision} className="space-y-4" label="Operator networks">
-            <TextAreaField
+            <NamePicker
               label="Address names"
               name="operatorNetworks"
-              defaultValue={listText(values, "operatorNetworks", current)}
+              groups={addressNameGroups(props.names)}
+              defaultValue={pickedNames(props, "save-operator-networks", "operatorNetworks", current)}
               error={errors.operatorNetworks}
-              hint={<NameHint label="Names you can use" names={[...props.names.addresses, ...props.names.sharedAddresses]} />}
             />
             <SaveButton>Save operator networks</SaveButton>
           </EditorForm>

@@ -83,3 +83,21 @@ export function FormError({ message }: { message?: string | null }) {
     </div>
   );
 }
+
+/** A field's hint and error lines, with the ids its control's aria-describedby names (`${id}-hint`, `${id}-error`). */
+export function FieldNotes({ id, hint, error }: { id: string; hint?: ReactNode; error?: string }) {
+  return (
+    <>
+      {hint ? (
+        <p id={`${id}-hint`} className="text-xs text-ink-muted">
+          {hint}
+        </p>
+      ) : null}
+      {error ? (
+        <p id={`${id}-error`} role="alert" className="text-sm text-danger">
+          {error}
+        </p>
+      ) : null}
+    </>
+  );
+}

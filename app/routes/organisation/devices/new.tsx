@@ -5,7 +5,7 @@ import { serializeFlash } from "#server/auth/flash.server";
 import { requireRole } from "#server/auth/guard.server";
 import { actorOf } from "#server/http/actor.server";
 import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
-import { ElementNameSchema } from "#server/http/schemas";
+import { ElementNameSchema, TimeZoneSchema } from "#server/http/schemas";
 import { createDevice } from "#server/services/devices.server";
 import { listSites } from "#server/services/sites.server";
 import { newDocument } from "#server/workspace/index";
@@ -25,7 +25,7 @@ export async function loader({ context }: Route.LoaderArgs) {
 const NewDeviceSchema = z.object({
   name: ElementNameSchema,
   siteId: z.string().uuid("Choose a site."),
-  timezone: z.string().trim().min(1, "Enter an IANA time zone such as Europe/Amsterdam.").max(64),
+  timezone: TimeZoneSchema,
 });
 
 export async function action({ request, context }: Route.ActionArgs) {

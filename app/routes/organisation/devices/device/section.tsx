@@ -5,15 +5,17 @@ import { hasAtLeastRole } from "#server/auth/roles";
 import { BUILTIN_SERVICES } from "#server/engine/index";
 import { actorOf } from "#server/http/actor.server";
 import { requireDevice, revisionNumberOf } from "#server/http/device-access.server";
-import { formValuesWithLists, planDeviceEdit } from "#server/http/device-forms.server";
+import { formValuesWithLists, planDeviceEdit, refusedDeviceEdit } from "#server/http/device-forms.server";
 import { invalidForm, readForm, unknownIntent } from "#server/http/form.server";
 import { deleteDevice, loadSharedLibrary, saveEdit } from "#server/services/devices.server";
 import { listSites } from "#server/services/sites.server";
 import { SectionEditor } from "#app/components/device/section-editor";
 import type { ListedService } from "#app/components/device/listener-toggles";
 import { isDeviceSection, type DeviceSection } from "#app/components/device/sections";
+import type { EditorNames } from "#app/components/device/name-groups";
 import { clientAddressOf } from "#server/http/request-context.server";
-import { refusedForm } from "#server/http/refusals.server";
+import { readRuleView } from "#server/http/preferences.server";
+import type { ModelDocument } from "#server/workspace/document";
 
 function sectionOf(value: string | undefined): DeviceSection {
   if (!isDeviceSection(value)) throw data({ message: `This device has no section "${String(value).slice(0, 40)}".` }, { status: 404 });
@@ -31,6 +33,19 @@ export async function loader({ request, params, context }: Route.LoaderArgs) {
     ...BUILTIN_SERVICES.map((service) => ({ name: service.name, kind: service.kind, protocol: service.protocol, port: service.port, builtin: true })),
     ...document.services.map((service) => ({ name: service.name, kind: service.kind, protocol: service.protocol, port: service.port, builtin: false })),
   ];
+  // A device object of the same name takes precedence over a shared one.
+  const ownAddressNames = new Set([...document.addresses, ...document.addressGroups].map((object) => object.name));
+  const notShadowed = (objects: Array<{ name: string }>) => objects.map((object) => object.name).filter((name) => !ownAddressNames.has(name));
+  const names: EditorNames & { services: ListedService[] } = {
+    interfaces: document.interfaces.map((entry) => entry.name),
+    services: serviceCatalogue,
+    serviceGroups: document.serviceGroups.map((group) => group.name),
+    addressObjects: document.addresses.map((object) => object.name),
+    addressGroups: document.addressGroups.map((group) => group.name),
+    sharedAddressObjects: notShadowed(library.addresses),
+    sharedAddressGroups: notShadowed(library.addressGroups),
+    schedules: document.schedules.map((schedule) => schedule.name),
+  };
   return {
     section,
     baseRevision: access.revision.number,
@@ -38,15 +53,9 @@ export async function loader({ request, params, context }: Route.LoaderArgs) {
     editing: new URL(request.url).searchParams.get("edit"),
     document,
     siteId: access.device.siteId,
+    ruleView: section === "rules" ? await readRuleView(request) : "detailed",
     sites: section === "settings" ? (await listSites(access.organisation.id)).map((site) => ({ id: site.id, name: site.name })) : [],
-    names: {
-      interfaces: document.interfaces.map((entry) => entry.name),
-      services: serviceCatalogue,
-      serviceGroups: document.serviceGroups.map((group) => group.name),
-      addresses: [...document.addresses.map((object) => object.name), ...document.addressGroups.map((group) => group.name)],
-      sharedAddresses: [...library.addresses.map((object) => object.name), ...library.addressGroups.map((group) => group.name)],
-      schedules: document.schedules.map((schedule) => schedule.name),
-    },
+    names,
   };
 }
 
@@ -66,12 +75,15 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   const planned = planDeviceEdit(values.intent, values);
   if (!planned) return unknownIntent(values.intent);
   if (!planned.ok) return invalidForm(planned.errors, values);
+  // The document the engine checked, kept so its problems can be put beside this form's fields.
+  const attempt: { candidate?: ModelDocument } = {};
+  const edit = (document: ModelDocument) => (attempt.candidate = planned.plan.edit(document));
   try {
-    const saved = await saveEdit(access.organisation.id, access.device.id, baseRevision, planned.plan.edit, actorOf(access, clientAddressOf(context)), planned.plan.message, { siteId: planned.plan.siteId });
+    const saved = await saveEdit(access.organisation.id, access.device.id, baseRevision, edit, actorOf(access, clientAddressOf(context)), planned.plan.message, { siteId: planned.plan.siteId });
     const message = saved.changes.length === 0 && !planned.plan.siteId ? "Nothing changed; no new revision." : `${planned.plan.message}. Saved as revision r${saved.number}.`;
     throw redirect(`/o/${access.organisation.slug}/devices/${access.device.id}/model/${section}`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message }) } });
   } catch (error) {
-    return refusedForm(error, values);
+    return refusedDeviceEdit(error, values, { plan: planned.plan, candidate: attempt.candidate, library: () => loadSharedLibrary(access.organisation.id) });
   }
 }
 

@@ -1,0 +1,18 @@
+import { createCookie } from "react-router";
+
+/** How the inbound rules are listed: a card per rule, or one table line per rule for long lists. */
+export const RULE_VIEWS = ["detailed", "compact"] as const;
+export type RuleView = (typeof RULE_VIEWS)[number];
+
+// Like the theme: a display preference, not secret and not signed, read by the server so the
+// first paint already has it (no flash, no hydration mismatch).
+const ruleViewCookie = createCookie("sallyport-rule-view", { path: "/", sameSite: "lax", httpOnly: true, maxAge: 60 * 60 * 24 * 365 });
+
+export async function readRuleView(request: Request): Promise<RuleView> {
+  const value: unknown = await ruleViewCookie.parse(request.headers.get("Cookie"));
+  return RULE_VIEWS.find((view) => view === value) ?? "detailed";
+}
+
+export async function serializeRuleView(view: RuleView): Promise<string> {
+  return ruleViewCookie.serialize(view);
+}
