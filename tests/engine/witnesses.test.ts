@@ -87,6 +87,10 @@ function checkWitness(model: DeviceModel, finding: Finding): void {
       expect(alone.ruleId, context).toBe(rule);
       // …yet in the real model it is not the rule that matches first.
       expect(traced.ruleId, context).not.toBe(rule);
+      // A shadowed rule's detail names the rules that match first; the witness's deciding rule is one of them (unless the list is cut).
+      if (finding.code === "shadowed-rule" && traced.ruleId !== null && !finding.detail.includes("and others")) {
+        expect(finding.detail, context).toContain(`"${traced.ruleId}"`);
+      }
       break;
     }
     case "redundant-rule": {

@@ -5,7 +5,8 @@ import { FAMILY, formatAddress, parseAddress, parseEntry, rangeToCidrs } from ".
 import type { Family } from "../addresses.ts";
 import { EMPTY_SET, intersect, rangesOf, setFromRanges, subtract, unionSets } from "../address-sets.ts";
 import type { AddressSet, Ranges } from "../address-sets.ts";
-import { arrivals, firstMatchRules, firstOfEachList, loginReachable } from "../analysis.ts";
+import { arrivals, distinctRulePartitions, firstMatchRules, firstOfEachList, loginReachable } from "../analysis.ts";
+import { runValueAt } from "../domain.ts";
 import type { Arrival } from "../analysis.ts";
 import type { CompiledModel, OutcomePartition } from "../compile.ts";
 import { traceProbe } from "../trace.ts";
@@ -275,6 +276,31 @@ export class FindingContext {
       }
     }
     return undefined;
+  }
+
+  /**
+   * The earlier rules that take a rule's matches: wherever it is active and its sources hold
+   * an element, the element's first match — in rule order, at most `limit` (the caller says
+   * "and others" when there are more, so the walk stops at limit + 1).
+   */
+  shadowersOf(position: number, limit = 3): number[] {
+    const engine = this.engine;
+    const found = new Set<number>();
+    for (const partition of distinctRulePartitions(engine)) {
+      if (!partition.active.includes(position)) continue;
+      const bits = engine.ruleSourceBits(position, partition.family);
+      for (let j = 0; j < bits.words.length && found.size <= limit; j++) {
+        let mask = bits.masks[j];
+        while (mask !== 0 && found.size <= limit) {
+          const low = mask & -mask;
+          mask ^= low;
+          const owner = runValueAt(partition.owner, (bits.words[j] << 5) + 31 - Math.clz32(low));
+          if (owner >= 0 && owner !== position) found.add(owner);
+        }
+      }
+      if (found.size > limit) break;
+    }
+    return [...found].sort((a, b) => a - b);
   }
 
   /** A probe for which the rule is the first match (where it decides). Undefined when it never is. */
