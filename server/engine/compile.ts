@@ -189,6 +189,28 @@ export class CompiledModel {
   /** Per position: a number naming the rule's id and sources, equal for the same rule in a basis with the same sources. */
   private readonly ruleTokens: Int32Array;
   private readonly decisive = new Map<RulePartition, Int32Array>();
+  /** Positions of rules in a partition that is not the basis's own (same rules, same order, same actions). */
+  private readonly touched = new Set<number>();
+  /** Whether the model differs from its basis in its inbound rules alone. */
+  private readonly onlyRulesChanged: boolean = false;
+
+  private touch(active: Int32Array): void {
+    for (const position of active) this.touched.add(position);
+  }
+
+  /**
+   * Whether every first-match decision about the rule is the basis's: the model was compiled
+   * on a basis that differs only in its inbound rules, the rule is in the basis unchanged, and
+   * every partition it is in (of those computed so far: ask after the analysis has walked
+   * them) was taken from the basis with the same rules, order and actions. What a finding
+   * says about such a rule is what the basis's finding said.
+   */
+  ruleUntouched(position: number): boolean {
+    if (!this.onlyRulesChanged || this.touched.has(position)) return false;
+    const id = this.rules[position].id;
+    return this.editedRule?.id !== id && this.basisPositions[position] !== undefined;
+  }
+
   /** How this model's rule partitions came about: swept over their whole list, updated from the basis after an edit, or taken from the basis. */
   readonly partitionSources = { swept: 0, updated: 0, reused: 0 };
   /** The one rule an edit changed in a way that changes lists (not only its action), when exactly one did. */
@@ -310,6 +332,9 @@ export class CompiledModel {
     this.ruleTokens = Int32Array.from(model.inboundRules, (r, i) => basisTokens.get(`${r.id}\u0001${this.sourceKeys[i]}`) ?? nextRuleToken++);
     if (sameElements) {
       this.basisRef = new WeakRef(basis);
+      // The address book is already known to be the same; the rest is small.
+      const others = (m: DeviceModel) => JSON.stringify([m.schemaVersion, m.device, m.interfaces, m.services, m.serviceGroups, m.schedules, m.accounts, m.operatorNetworks]);
+      this.onlyRulesChanged = others(basis.model) === others(model) && Object.keys(basis.model).length === Object.keys(model).length;
       const edit = singleEdit(basis.model, model);
       this.editedRule = edit === null ? null : { id: edit, basisPosition: basis.model.inboundRules.findIndex((r) => r.id === edit) };
       const basisIndexOf = new Map(basis.model.inboundRules.map((r, i) => [r.id, i]));
@@ -664,7 +689,10 @@ export class CompiledModel {
       return this.renumbered(basis, found, active);
     }
     const updated = this.updatedPartition(basis, family, active, tokens);
-    if (updated !== undefined) this.partitionSources.updated++;
+    if (updated !== undefined) {
+      this.partitionSources.updated++;
+      this.touch(active);
+    }
     return updated;
   }
 
@@ -689,6 +717,7 @@ export class CompiledModel {
       partition = { id: nextPartitionId++, family: found.family, active, owner: { starts: found.owner.starts, values } };
     }
     if (sameActions) this.outcomesFrom.set(partition, found);
+    else this.touch(active);
     return partition;
   }
 
@@ -815,6 +844,7 @@ export class CompiledModel {
     const cached = this.partitions.get(key);
     if (cached !== undefined) return cached;
     this.partitionSources.swept++;
+    this.touch(active);
     const domain = this.domains[family];
     const { remaining, owner } = this.scratch[family];
     remaining.fill(-1);

@@ -6,14 +6,13 @@ import type { Family } from "../addresses.ts";
 import { EMPTY_SET, intersect, rangesOf, setFromRanges, subtract, unionSets } from "../address-sets.ts";
 import type { AddressSet, Ranges } from "../address-sets.ts";
 import { arrivals, distinctRulePartitions, firstMatchRules, firstOfEachList, loginReachable } from "../analysis.ts";
-import { runValueAt } from "../domain.ts";
 import type { Arrival } from "../analysis.ts";
-import type { CompiledModel, OutcomePartition } from "../compile.ts";
+import type { CompiledModel, OutcomePartition, RulePartition } from "../compile.ts";
 import { traceProbe } from "../trace.ts";
 import type { TraceResult } from "../trace.ts";
 import { outcomeSets } from "../exposure.ts";
 import { OUTCOMES, SILENT, isOutcome } from "../vocabulary.ts";
-import type { Witness, WitnessProbe } from "./types.ts";
+import type { Finding, Witness, WitnessProbe } from "./types.ts";
 
 /**
  * Space that is not "non-private": RFC 1918, RFC 6598, loopback, link-local, multicast,
@@ -118,6 +117,8 @@ export class FindingContext {
   #deciding: Map<number, { iface: number; to: number; cls: number; slice: number; family: Family; element: number }> | undefined;
 
   #basis: FindingContext | undefined;
+  /** Per rule position: the distinct partitions whose active rules include it. */
+  #partitionsByRule: Map<number, RulePartition[]> | undefined;
 
   /** `basis`: the context of the model this one was compiled on, whose results it may re-use until `releaseBasis`. */
   constructor(
@@ -125,6 +126,23 @@ export class FindingContext {
     basis?: FindingContext,
   ) {
     this.#basis = basis;
+  }
+
+  /** Per "code|rule id": the rule findings made here, for a context compiled on this one to re-use. */
+  #ruleFindings = new Map<string, Finding>();
+
+  /**
+   * A finding about one rule: the basis's own when every first-match decision about the rule
+   * is unchanged (CompiledModel.ruleUntouched), else built. Call it only after the check has
+   * walked the partitions (e.g. through firstMatchRules).
+   */
+  ruleFinding(code: string, position: number, build: () => Finding): Finding {
+    const key = `${code}|${this.engine.rules[position].id}`;
+    const basis = this.#basis;
+    const previous = basis === undefined ? undefined : basis.#ruleFindings.get(key);
+    const finding = previous !== undefined && this.engine.ruleUntouched(position) ? previous : build();
+    this.#ruleFindings.set(key, finding);
+    return finding;
   }
 
   /** Drops the link to the basis, so a chain of edits does not keep every earlier context alive. */
@@ -280,25 +298,45 @@ export class FindingContext {
 
   /**
    * The earlier rules that take a rule's matches: wherever it is active and its sources hold
-   * an element, the element's first match — in rule order, at most `limit` (the caller says
-   * "and others" when there are more, so the walk stops at limit + 1).
+   * an element, the element's first match — every one, in rule order (so the answer does not
+   * depend on the order partitions are walked in).
    */
-  shadowersOf(position: number, limit = 3): number[] {
+  shadowersOf(position: number): number[] {
     const engine = this.engine;
     const found = new Set<number>();
-    for (const partition of distinctRulePartitions(engine)) {
-      if (!partition.active.includes(position)) continue;
-      const bits = engine.ruleSourceBits(position, partition.family);
-      for (let j = 0; j < bits.words.length && found.size <= limit; j++) {
-        let mask = bits.masks[j];
-        while (mask !== 0 && found.size <= limit) {
-          const low = mask & -mask;
-          mask ^= low;
-          const owner = runValueAt(partition.owner, (bits.words[j] << 5) + 31 - Math.clz32(low));
-          if (owner >= 0 && owner !== position) found.add(owner);
+    if (this.#partitionsByRule === undefined) {
+      this.#partitionsByRule = new Map();
+      for (const partition of distinctRulePartitions(engine)) {
+        for (const rule of partition.active) {
+          const list = this.#partitionsByRule.get(rule);
+          if (list === undefined) this.#partitionsByRule.set(rule, [partition]);
+          else list.push(partition);
         }
       }
-      if (found.size > limit) break;
+    }
+    for (const partition of this.#partitionsByRule.get(position) ?? []) {
+      const bits = engine.ruleSourceBits(position, partition.family);
+      const { starts, values } = partition.owner;
+      // Elements come in ascending order, so the run holding each is found by walking forward.
+      let run = 0;
+      for (let j = 0; j < bits.words.length; j++) {
+        let mask = bits.masks[j];
+        while (mask !== 0) {
+          const low = mask & -mask;
+          mask ^= low;
+          const element = (bits.words[j] << 5) + 31 - Math.clz32(low);
+          while (run + 1 < starts.length && starts[run + 1] <= element) run++;
+          const owner = values[run];
+          if (owner >= 0 && owner !== position) found.add(owner);
+          // The rest of this run has the same owner: skip to its end.
+          const end = run + 1 < starts.length ? starts[run + 1] : Infinity;
+          if (end - element > 1) {
+            const within = end - (bits.words[j] << 5);
+            if (within >= 32) mask = 0;
+            else if (within > 0) mask &= ~((1 << within) - 1);
+          }
+        }
+      }
     }
     return [...found].sort((a, b) => a - b);
   }

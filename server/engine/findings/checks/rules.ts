@@ -48,29 +48,31 @@ export const shadowedRule: FindingCheck = {
   check: (context) =>
     judged(context)
       .filter((rule) => !context.firstMatchRules.has(rule.position))
-      .map((rule): Finding => {
-        const witness = context.witnessOf(
-          context.ruleMatchWitness(rule.position),
-          ({ ruleId }) => `Rule "${rule.id}" matches this probe, but ${ruleId === null ? "the probe never reaches the rules" : `rule "${ruleId}" matches it first`}.`,
-          "Over every interface, destination, service and slice, the first-match partition of the sources gives this rule no element.",
-        );
-        const shadowers = context.shadowersOf(rule.position);
-        const named = shadowers.slice(0, 3).map((position) => `"${context.engine.rules[position].id}"`);
-        const by =
-          named.length === 0
-            ? "The rule can match no probe at all (no interface, destination, service and time it names has an address of its sources' family); it has no effect."
-            : `Wherever it would match, ${shadowers.length > 3 ? `earlier rules (${named.join(", ")} and others) match` : `rule${named.length === 1 ? "" : "s"} ${named.join(named.length === 2 ? " and " : ", ")} match${named.length === 1 ? "es" : ""}`} first; it has no effect.`;
-        return {
-          code: "shadowed-rule",
-          severity: "medium",
-          title: `Rule "${rule.id}" is never the first match`,
-          detail: by,
-          // The shadowing rules are named in the detail, not the elements: the elements are the finding's identity (dismissals).
-          elements: [elementRef("rule", rule.id)],
-          source: SOURCES.ruleOrder,
-          ...(witness ? { witness } : {}),
-        };
-      }),
+      .map((rule): Finding =>
+        context.ruleFinding("shadowed-rule", rule.position, () => {
+          const witness = context.witnessOf(
+            context.ruleMatchWitness(rule.position),
+            ({ ruleId }) => `Rule "${rule.id}" matches this probe, but ${ruleId === null ? "the probe never reaches the rules" : `rule "${ruleId}" matches it first`}.`,
+            "Over every interface, destination, service and slice, the first-match partition of the sources gives this rule no element.",
+          );
+          const shadowers = context.shadowersOf(rule.position);
+          const named = shadowers.slice(0, 3).map((position) => `"${context.engine.rules[position].id}"`);
+          const by =
+            named.length === 0
+              ? "The rule can match no probe at all (no interface, destination, service and time it names has an address of its sources' family); it has no effect."
+              : `Wherever it would match, ${shadowers.length > 3 ? `earlier rules (${named.join(", ")} and others) match` : `rule${named.length === 1 ? "" : "s"} ${named.join(named.length === 2 ? " and " : ", ")} match${named.length === 1 ? "es" : ""}`} first; it has no effect.`;
+          return {
+            code: "shadowed-rule",
+            severity: "medium",
+            title: `Rule "${rule.id}" is never the first match`,
+            detail: by,
+            // The shadowing rules are named in the detail, not the elements: the elements are the finding's identity (dismissals).
+            elements: [elementRef("rule", rule.id)],
+            source: SOURCES.ruleOrder,
+            ...(witness ? { witness } : {}),
+          };
+        }),
+      ),
 };
 
 export const redundantRule: FindingCheck = {
@@ -80,6 +82,7 @@ export const redundantRule: FindingCheck = {
   check: (context) =>
     judged(context)
       .filter((rule) => context.firstMatchRules.has(rule.position) && isRedundant(context.engine, rule.position))
+      // Built each time: its witness is the first place the rule decides in the walk, which an edit elsewhere can move.
       .map((rule): Finding => {
         const witness = context.witnessOf(
           context.ruleDecidesWitness(rule.position),
