@@ -100,21 +100,30 @@ export function firstMatchRules(engine: CompiledModel): Set<number> {
   return used;
 }
 
-const decisiveCache = new WeakMap<CompiledModel, Set<number>>();
-
-/** Positions of rules whose removal alone changes some outcome: in some partition, the next match (or the default) acts differently where they decide. */
-export function decisiveRules(engine: CompiledModel): Set<number> {
-  const cached = decisiveCache.get(engine);
-  if (cached !== undefined) return cached;
-  const out = new Set<number>();
-  for (const p of distinctRulePartitions(engine)) for (const position of engine.decisiveRules(p)) out.add(position);
-  decisiveCache.set(engine, out);
-  return out;
-}
-
-/** Whether removing the rule changes no outcome: wherever it is the first match, the next match (or the default) acts alike. */
+/**
+ * Whether removing the rule changes no outcome: wherever it is the first match, the next match
+ * (or the default) acts alike. Asked per rule, it stops at the first element that differs, so
+ * rules that matter (nearly all) are settled at once.
+ */
 export function isRedundant(engine: CompiledModel, position: number): boolean {
-  return !decisiveRules(engine).has(position);
+  const allow = engine.rules[position].allow;
+  for (const p of distinctRulePartitions(engine)) {
+    const { starts, values } = p.owner;
+    const at = p.active.indexOf(position);
+    if (at < 0 || !values.includes(position)) continue;
+    const later = p.active.subarray(at + 1);
+    const size = engine.domains[p.family].size;
+    for (let k = 0; k < values.length; k++) {
+      if (values[k] !== position) continue;
+      const end = k + 1 < starts.length ? starts[k + 1] : size;
+      for (let element = starts[k]; element < end; element++) {
+        const next = later.find((q) => engine.ruleCovers(q, p.family, element));
+        const nextAllow = next === undefined ? engine.defaultAllow : engine.rules[next].allow;
+        if (nextAllow !== allow) return false;
+      }
+    }
+  }
+  return true;
 }
 
 /** Sources (both families) that reach a login with an eligible account somewhere, at some time. */

@@ -188,7 +188,6 @@ export class CompiledModel {
   private basisIndex: Map<number, RulePartition[]> | null = null;
   /** Per position: a number naming the rule's id and sources, equal for the same rule in a basis with the same sources. */
   private readonly ruleTokens: Int32Array;
-  private readonly decisive = new Map<RulePartition, Int32Array>();
   /** Positions of rules in a partition that is not the basis's own (same rules, same order, same actions). */
   private readonly touched = new Set<number>();
   /** Whether the model differs from its basis in its inbound rules alone. */
@@ -238,7 +237,7 @@ export class CompiledModel {
   private readonly loginRuns = new Map<string, Runs>();
   /** Outcome runs per (rule partition, class, listening). */
   private readonly outcomeCache = new Map<number, Runs>();
-  private readonly scratch: Record<Family, { remaining: Int32Array; second: Int32Array; owner: Int32Array }>;
+  private readonly scratch: Record<Family, { remaining: Int32Array; owner: Int32Array }>;
 
   constructor(
     readonly model: DeviceModel,
@@ -361,7 +360,6 @@ export class CompiledModel {
     if (sameElements && this.sameCatalogueAndAccounts && basis !== undefined) for (const [key, runs] of basis.loginRuns) this.loginRuns.set(key, runs);
     const scratchFor = (family: Family) => ({
       remaining: new Int32Array(this.domains[family].words),
-      second: new Int32Array(this.domains[family].words),
       owner: new Int32Array(this.domains[family].size),
     });
     this.scratch = { 4: scratchFor(4), 6: scratchFor(6) };
@@ -877,77 +875,6 @@ export class CompiledModel {
     const partition: RulePartition = { id: nextPartitionId++, family, active, owner: runsFromArray(owner, domain.size) };
     this.partitions.set(key, partition);
     return partition;
-  }
-
-  /**
-   * Positions of the partition's rules whose removal would change a decision somewhere in it:
-   * where the rule is the first match, the next matching active rule (or the device default)
-   * acts differently. One bitset sweep finds every element's second match. Kept per partition,
-   * and carried over from the basis with the partition.
-   */
-  decisiveRules(partition: RulePartition): Int32Array {
-    const cached = this.decisive.get(partition);
-    if (cached !== undefined) return cached;
-    const from = this.outcomesFrom.get(partition);
-    const inherited = from === undefined ? undefined : this.basisRef?.deref()?.decisive.get(from);
-    if (inherited !== undefined && from !== undefined) {
-      // Same rules in the same order with the same actions: translate positions list-wise.
-      const at = new Map<number, number>();
-      from.active.forEach((position, k) => at.set(position, partition.active[k]));
-      const translated = inherited.map((position) => at.get(position) as number);
-      this.decisive.set(partition, translated);
-      return translated;
-    }
-    const family = partition.family;
-    const domain = this.domains[family];
-    const owner = this.scratch[family].owner;
-    const { starts, values } = partition.owner;
-    for (let k = 0; k < starts.length; k++) owner.fill(values[k], starts[k], k + 1 < starts.length ? starts[k + 1] : domain.size);
-    // first[w] / second[w]: elements of word w whose first / second match has been seen.
-    const first = this.scratch[family].remaining;
-    first.fill(0);
-    const second = this.scratch[family].second;
-    second.fill(0);
-    const decisive = new Set<number>();
-    // Stop once every rule that decides somewhere here is known to matter.
-    const deciders = new Set<number>();
-    for (const v of values) if (v >= 0) deciders.add(v);
-    const familySlot = family === 4 ? 0 : 1;
-    for (let k = 0; k < partition.active.length && decisive.size < deciders.size; k++) {
-      const position = partition.active[k];
-      const allow = this.rules[position].allow;
-      const bits = this.ruleBits[position][familySlot];
-      for (let j = 0; j < bits.words.length; j++) {
-        const w = bits.words[j];
-        const mask = bits.masks[j];
-        let fresh = mask & first[w] & ~second[w];
-        first[w] |= mask;
-        if (fresh === 0) continue;
-        second[w] |= fresh;
-        const base = w << 5;
-        while (fresh !== 0) {
-          const low = fresh & -fresh;
-          fresh ^= low;
-          const decider = owner[base + 31 - Math.clz32(low)];
-          if (this.rules[decider].allow !== allow) decisive.add(decider);
-        }
-      }
-    }
-    // Owned elements with no second match fall to the default.
-    for (let k = 0; k < starts.length; k++) {
-      const first = values[k];
-      if (first < 0 || decisive.has(first) || this.rules[first].allow === this.defaultAllow) continue;
-      const end = k + 1 < starts.length ? starts[k + 1] : domain.size;
-      for (let element = starts[k]; element < end; element++) {
-        if (((second[element >>> 5] >>> (element & 31)) & 1) === 0) {
-          decisive.add(first);
-          break;
-        }
-      }
-    }
-    const result = Int32Array.from(decisive).sort();
-    this.decisive.set(partition, result);
-    return result;
   }
 
   /** Login outcome per element for one service class: denied, second factor, or password alone. */

@@ -5,9 +5,9 @@ import { FAMILY, formatAddress, parseAddress, parseEntry, rangeToCidrs } from ".
 import type { Family } from "../addresses.ts";
 import { EMPTY_SET, intersect, rangesOf, setFromRanges, subtract, unionSets } from "../address-sets.ts";
 import type { AddressSet, Ranges } from "../address-sets.ts";
-import { arrivals, distinctRulePartitions, firstMatchRules, firstOfEachList, loginReachable } from "../analysis.ts";
+import { arrivals, firstMatchRules, firstOfEachList, loginReachable } from "../analysis.ts";
 import type { Arrival } from "../analysis.ts";
-import type { CompiledModel, OutcomePartition, RulePartition } from "../compile.ts";
+import type { CompiledModel, OutcomePartition } from "../compile.ts";
 import { traceProbe } from "../trace.ts";
 import type { TraceResult } from "../trace.ts";
 import { outcomeSets } from "../exposure.ts";
@@ -117,8 +117,6 @@ export class FindingContext {
   #deciding: Map<number, { iface: number; to: number; cls: number; slice: number; family: Family; element: number }> | undefined;
 
   #basis: FindingContext | undefined;
-  /** Per rule position: the distinct partitions whose active rules include it. */
-  #partitionsByRule: Map<number, RulePartition[]> | undefined;
 
   /** `basis`: the context of the model this one was compiled on, whose results it may re-use until `releaseBasis`. */
   constructor(
@@ -294,51 +292,6 @@ export class FindingContext {
       }
     }
     return undefined;
-  }
-
-  /**
-   * The earlier rules that take a rule's matches: wherever it is active and its sources hold
-   * an element, the element's first match — every one, in rule order (so the answer does not
-   * depend on the order partitions are walked in).
-   */
-  shadowersOf(position: number): number[] {
-    const engine = this.engine;
-    const found = new Set<number>();
-    if (this.#partitionsByRule === undefined) {
-      this.#partitionsByRule = new Map();
-      for (const partition of distinctRulePartitions(engine)) {
-        for (const rule of partition.active) {
-          const list = this.#partitionsByRule.get(rule);
-          if (list === undefined) this.#partitionsByRule.set(rule, [partition]);
-          else list.push(partition);
-        }
-      }
-    }
-    for (const partition of this.#partitionsByRule.get(position) ?? []) {
-      const bits = engine.ruleSourceBits(position, partition.family);
-      const { starts, values } = partition.owner;
-      // Elements come in ascending order, so the run holding each is found by walking forward.
-      let run = 0;
-      for (let j = 0; j < bits.words.length; j++) {
-        let mask = bits.masks[j];
-        while (mask !== 0) {
-          const low = mask & -mask;
-          mask ^= low;
-          const element = (bits.words[j] << 5) + 31 - Math.clz32(low);
-          while (run + 1 < starts.length && starts[run + 1] <= element) run++;
-          const owner = values[run];
-          if (owner >= 0 && owner !== position) found.add(owner);
-          // The rest of this run has the same owner: skip to its end.
-          const end = run + 1 < starts.length ? starts[run + 1] : Infinity;
-          if (end - element > 1) {
-            const within = end - (bits.words[j] << 5);
-            if (within >= 32) mask = 0;
-            else if (within > 0) mask &= ~((1 << within) - 1);
-          }
-        }
-      }
-    }
-    return [...found].sort((a, b) => a - b);
   }
 
   /** A probe for which the rule is the first match (where it decides). Undefined when it never is. */

@@ -55,12 +55,13 @@ export const shadowedRule: FindingCheck = {
             ({ ruleId }) => `Rule "${rule.id}" matches this probe, but ${ruleId === null ? "the probe never reaches the rules" : `rule "${ruleId}" matches it first`}.`,
             "Over every interface, destination, service and slice, the first-match partition of the sources gives this rule no element.",
           );
-          const shadowers = context.shadowersOf(rule.position);
-          const named = shadowers.slice(0, 3).map((position) => `"${context.engine.rules[position].id}"`);
+          // The rule that takes the example probe names the shadowing concretely (finding every shadowing rule costs a walk per rule).
           const by =
-            named.length === 0
+            witness === undefined
               ? "The rule can match no probe at all (no interface, destination, service and time it names has an address of its sources' family); it has no effect."
-              : `Wherever it would match, ${shadowers.length > 3 ? `earlier rules (${named.join(", ")} and others) match` : `rule${named.length === 1 ? "" : "s"} ${named.join(named.length === 2 ? " and " : ", ")} match${named.length === 1 ? "es" : ""}`} first; it has no effect.`;
+              : witness.ruleId === null
+                ? "Wherever it would match, the probe is decided before the rules; it has no effect."
+                : `Wherever it would match, an earlier rule matches first (rule "${witness.ruleId}" at the example probe); it has no effect.`;
           return {
             code: "shadowed-rule",
             severity: "medium",
