@@ -72,7 +72,7 @@ interface EditTiming {
 }
 
 /**
- * One-element edit → re-analysis: the model compiled on the analysed previous version
+ * One-element edit → re-analysis (in its own process, like the diff, so the main run's peak RSS stays its own): the model compiled on the analysed previous version
  * (compileModel's basis), every exposure cell's counts, and the findings. Each run starts from
  * the same analysed basis. Medians of the parts are reported beside the spread of the total.
  */
@@ -360,6 +360,10 @@ function seriesRuns(): number {
 async function main(): Promise<void> {
   const childTask = process.argv.find((a) => a.startsWith("--child="))?.slice("--child=".length);
   if (childTask === "diff") return diffChild();
+  if (childTask === "edits") {
+    process.stdout.write(`${JSON.stringify(editBenchmark(validated(BENCH_SIZE.rules)))}\n`);
+    return;
+  }
   if (childTask?.startsWith("series:")) return seriesChild(Number(childTask.slice("series:".length)));
   const asJson = process.argv.includes("--json");
   const generated = generateModel(SEED, BENCH_SIZE);
@@ -400,8 +404,6 @@ async function main(): Promise<void> {
   }
   const findingsSorted = [...findingsRuns].sort((a, b) => a - b);
   const findingsMs = { min: round(findingsSorted[0], 1), median: round(findingsSorted[Math.floor(findingsSorted.length / 2)], 1), max: round(findingsSorted[findingsSorted.length - 1], 1), count: findingsCount };
-
-  const edits = editBenchmark(model);
 
   // Trace per probe, the full public API (text parsing, time zone, layer details).
   const probes = probesFor(model, generated.sampleSources, TRACE_PROBES, SEED + 1);
@@ -444,6 +446,7 @@ async function main(): Promise<void> {
 
   // Each of the following runs in its own fresh process (one after another, never in parallel).
   const diff = child<DiffResult>("diff");
+  const edits = child<Record<string, EditTiming>>("edits");
   const sizes = process.argv.includes("--no-series") ? [] : seriesSizes();
   const repeat = seriesRuns();
   const series = sizes.map((rules): SeriesEntry => {
