@@ -2,6 +2,7 @@ import { OUTCOME_LABELS } from "#app/components/outcome";
 import { DAYS, OUTCOMES, type Day } from "#server/engine/vocabulary";
 import type { HourCell } from "#server/analysis/week-hours";
 import { OUTCOME_FILL } from "./address-map";
+import { ScrollArea } from "#app/components/ui/scroll-area";
 
 const DAY_LABELS: Record<Day, string> = { mon: "Mon", tue: "Tue", wed: "Wed", thu: "Thu", fri: "Fri", sat: "Sat", sun: "Sun" };
 
@@ -16,7 +17,7 @@ function labelOf(rank: number): string {
  */
 export function WeekHourGrid({ cells, current, caption }: { cells: readonly HourCell[]; current: number | null; caption: string }) {
   return (
-    <div className="overflow-x-auto">
+    <ScrollArea>
       <table className="border-separate border-spacing-[2px] text-[10px]">
         <caption className="mb-1 text-left text-xs text-ink-muted">{caption}</caption>
         <thead>
@@ -53,6 +54,6 @@ export function WeekHourGrid({ cells, current, caption }: { cells: readonly Hour
           ))}
         </tbody>
       </table>
-    </div>
+    </ScrollArea>
   );
 }

@@ -1,11 +1,12 @@
 import type { HTMLAttributes, TdHTMLAttributes, ThHTMLAttributes } from "react";
 import { cx } from "./cx";
+import { ScrollArea } from "./scroll-area";
 
 export function Table({ className, ...props }: HTMLAttributes<HTMLTableElement>) {
   return (
-    <div className="overflow-x-auto rounded-card border border-line bg-surface shadow-card">
+    <ScrollArea className="rounded-card border border-line bg-surface shadow-card">
       <table className={cx("w-full border-collapse text-sm", className)} {...props} />
-    </div>
+    </ScrollArea>
   );
 }
 

@@ -13,8 +13,12 @@ import { EmptyState } from "#app/components/ui/empty-state";
 import { SortHeader } from "#app/components/ui/sort-header";
 import { Table, Td, Th } from "#app/components/ui/table";
 import { SiteFilter } from "#app/components/ui/site-filter";
+import { PageErrorBoundary } from "#app/components/error-panel";
 
 export const meta: Route.MetaFunction = () => [{ title: "Findings · Sallyport" }];
+
+// A refusal (a role too low, say) shows inside the organisation's frame.
+export const ErrorBoundary = PageErrorBoundary;
 
 export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireRole(context);

@@ -1,5 +1,6 @@
 import type { Route } from "./+types/audit";
 import { requireRole } from "#server/auth/guard.server";
+import { PAGE_ROLES } from "#server/auth/roles";
 import { listAuditEvents } from "#server/services/audit.server";
 import { EmptyState } from "#app/components/ui/empty-state";
 import { Table, Td, Th } from "#app/components/ui/table";
@@ -8,7 +9,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Audit log · Sallyport"
 
 // Reviewers and above: the record is evidence for change review and audits; trainees do not need it.
 export async function loader({ context }: Route.LoaderArgs) {
-  const access = requireRole(context, "reviewer");
+  const access = requireRole(context, PAGE_ROLES.auditLog);
   const events = await listAuditEvents(access.organisation.id);
   return {
     events: events.map((event) => ({

@@ -13,6 +13,7 @@ import { isOutcome } from "#server/engine/vocabulary";
 import { Button } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
+import { NoInterfacesYet } from "#app/components/device/no-interfaces";
 import { LAYER_TITLES, outcomeSentence } from "#app/utils/trace-words";
 
 export const meta: Route.MetaFunction = () => [{ title: "Trace a probe · Sallyport" }];
@@ -74,6 +75,11 @@ function fieldsFrom(query: Record<string, string>, fallback: { interface: string
 }
 
 export default function Analysis({ loaderData }: Route.ComponentProps) {
+  if (loaderData.canvas.interfaces.length === 0) return <NoInterfacesYet page="A trace" />;
+  return <TraceWorkspace loaderData={loaderData} />;
+}
+
+function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">) {
   const { canvas, services, devicePath, timezone } = loaderData;
   const fallback = { interface: canvas.interfaces.find((entry) => entry.role === "outside")?.name ?? canvas.interfaces[0]?.name ?? "", service: "https" };
   const { probe, trace: result, error, step, setProbe, showResult, setStep, reset } = useTraceStore();

@@ -11,6 +11,7 @@ import { buttonClasses } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
 import { EmptyState } from "#app/components/ui/empty-state";
+import { NoInterfacesYet } from "#app/components/device/no-interfaces";
 import { Table, Td, Th } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Exposure map · ${loaded?.deviceName ?? "Device"} · Sallyport` }];
@@ -46,6 +47,7 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
     return `?${next.toString()}`;
   };
   const focus = answer?.focus ?? null;
+  if (answer && answer.interfaces.length === 0) return <NoInterfacesYet page="An exposure map" />;
   return (
     <div className="space-y-6">
       <div>
@@ -204,7 +206,7 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
               <Card className="p-5">
                 <h4 className="mb-3 text-sm font-semibold">{focus.family === 4 ? "The IPv4 source space, one cell per /16" : "IPv6 global unicast and unique local space, one cell per /12"}</h4>
                 <div className="flex flex-wrap items-start gap-6">
-                  <div className="flex flex-col gap-4">
+                  <div className="flex max-w-full min-w-0 flex-col gap-4">
                     {focus.grids.map((grid) => (
                       <AddressGrid
                         key={grid.spec.base}

@@ -9,6 +9,7 @@ import { LAYER_TITLES } from "#app/utils/trace-words";
 import { buttonClasses } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
+import { NoInterfacesYet } from "#app/components/device/no-interfaces";
 import { TextField } from "#app/components/ui/field";
 import { SortHeader } from "#app/components/ui/sort-header";
 import { nameTie, tableRows, urlSort, type ColumnDef } from "#app/components/ui/table-rows";
@@ -121,7 +122,7 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
           </p>
           <SimulationCaution />
           {answer.rows.length === 0 ? (
-            <EmptyState title="No interfaces">This device has no interfaces, so nothing can be reached.</EmptyState>
+            <NoInterfacesYet page="Reach" />
           ) : (
             <Table>
               <caption className="sr-only">Outcome for each interface and service, sortable by column</caption>
