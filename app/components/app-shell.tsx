@@ -23,7 +23,7 @@ function Icon({ path, className }: { path: string; className?: string }) {
 }
 
 /**
- * The signed-in frame. Wide screens: navigation down the left (icons only below 1024 px),
+ * The signed-in frame. Wide screens: navigation down the left (icons only below 1280 px),
  * organisation switcher and user menu on top. Below 768 px the same navigation is a row of
  * five under the top bar, so the content keeps the whole width of a phone.
  */
@@ -36,17 +36,18 @@ export function AppShell({ organisation, organisations, user, theme, children }:
       </a>
       <nav
         aria-label="Main"
-        className="row-start-2 border-b border-line bg-surface px-2 py-1 md:sticky md:top-0 md:col-start-1 md:row-span-2 md:row-start-1 md:flex md:h-screen md:w-16 md:flex-col md:border-r md:border-b-0 md:px-3 md:py-4 lg:w-56"
+        className="row-start-2 border-b border-line bg-surface px-2 py-1 md:sticky md:top-0 md:col-start-1 md:row-span-2 md:row-start-1 md:flex md:h-screen md:w-16 md:flex-col md:border-r md:border-b-0 md:px-3 md:py-4 xl:w-56"
       >
         <Link to={`/o/${organisation.slug}`} className="mb-6 flex items-center gap-2 px-2 text-harbour max-md:hidden">
           <BrandMark className="size-8 shrink-0" />
-          <span className="text-lg font-semibold tracking-tight max-lg:hidden">Sallyport</span>
+          <span className="text-lg font-semibold tracking-tight max-xl:hidden">Sallyport</span>
         </Link>
         <ul className="grid grid-cols-5 gap-1 md:block md:space-y-1">
           {NAVIGATION.map((item) => (
             <li key={item.to}>
               <NavLink
                 to={`/o/${organisation.slug}/${item.to}`}
+                title={item.label}
                 className={({ isActive }) =>
                   cx(
                     "flex items-center rounded-control text-sm font-medium max-md:flex-col max-md:gap-0.5 max-md:px-1 max-md:py-1.5 max-md:text-xs md:gap-3 md:px-2.5 md:py-2",
@@ -55,12 +56,12 @@ export function AppShell({ organisation, organisations, user, theme, children }:
                 }
               >
                 <Icon path={item.icon} />
-                <span className="md:max-lg:sr-only">{item.label}</span>
+                <span className="md:max-xl:sr-only">{item.label}</span>
               </NavLink>
             </li>
           ))}
         </ul>
-        <p className="mt-auto px-2 text-xs leading-relaxed text-ink-faint max-lg:hidden">Models the configuration, not the device. Confirm on the device in a maintenance window.</p>
+        <p className="mt-auto px-2 text-xs leading-relaxed text-ink-faint max-xl:hidden">Models the configuration, not the device. Confirm on the device in a maintenance window.</p>
       </nav>
       <header className="row-start-1 flex h-14 min-w-0 items-center justify-between gap-2 border-b border-line bg-surface px-3 sm:gap-4 md:col-start-2 md:px-6">
         <details className="group relative min-w-0">

@@ -75,6 +75,25 @@ async function sidewaysOverflow(page: Page): Promise<number> {
   return page.evaluate(() => (document.scrollingElement ?? document.documentElement).scrollWidth - window.innerWidth);
 }
 
+/**
+ * On a device page at 1366 px, every one of the device's 13 pages is linked inside the device
+ * navigation's box (none cut off or pushed out of view), and exactly one is marked current.
+ */
+async function deviceNavigationProblems(page: Page): Promise<string[]> {
+  return page.getByRole("navigation", { name: "Device" }).evaluate((nav) => {
+    const box = nav.getBoundingClientRect();
+    const links = [...nav.querySelectorAll("a")];
+    const problems = links.filter((link) => {
+      const own = link.getBoundingClientRect();
+      return own.width === 0 || own.left < box.left || own.right > box.right || own.right > window.innerWidth;
+    }).map((link) => `device page "${link.textContent}" is cut off or out of view`);
+    if (links.length !== 13) problems.push(`the device navigation has ${links.length} pages, not 13`);
+    const current = links.filter((link) => link.getAttribute("aria-current") === "page");
+    if (current.length !== 1) problems.push(`${current.length} device pages are marked current`);
+    return problems;
+  });
+}
+
 /** Same-origin link paths on the page, except downloads. */
 async function linkPaths(page: Page): Promise<string[]> {
   return page.locator("a[href^='/']:not([download])").evaluateAll((links) => links.map((link) => new URL((link as HTMLAnchorElement).href).pathname));
@@ -110,6 +129,7 @@ for (const role of ROLES) {
       const response = await page.goto(url);
       expect(response?.status(), url).toBe(200);
       await hydrated(page);
+      if (url.startsWith(team.device.path)) for (const problem of await deviceNavigationProblems(page)) findings.push(`${url} at 1366 px: ${problem}`);
       for (const size of SIZES) {
         await page.setViewportSize(size);
         for (const scheme of SCHEMES) {

@@ -50,7 +50,7 @@ function SettingsFrame({ frame, children }: { frame: Route.ComponentProps["loade
           <NavLink
             key={tab.to}
             to={`/o/${frame.slug}/settings/${tab.to}`}
-            className={({ isActive }) => cx("-mb-px border-b-2 px-3 py-2 text-sm font-medium whitespace-nowrap", isActive ? "border-harbour text-harbour" : "border-transparent text-ink-muted hover:text-ink")}
+            className={({ isActive }) => cx("-mb-px border-b-2 px-2 py-2 text-sm font-medium whitespace-nowrap sm:px-3", isActive ? "border-harbour text-harbour" : "border-transparent text-ink-muted hover:text-ink")}
           >
             {tab.label}
           </NavLink>

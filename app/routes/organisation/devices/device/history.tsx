@@ -48,7 +48,7 @@ export default function History({ loaderData }: Route.ComponentProps) {
             {revisions.map((revision) => (
               <tr key={revision.number}>
                 <Td className="tabular font-semibold">r{revision.number}</Td>
-                <Td>{revision.message || <span className="text-ink-faint">no message</span>}</Td>
+                <Td className="max-sm:min-w-56!">{revision.message || <span className="text-ink-faint">no message</span>}</Td>
                 <Td className="text-ink-muted">{revision.authorEmail}</Td>
                 <Td className="tabular whitespace-nowrap text-ink-muted">{revision.createdAt.slice(0, 16).replace("T", " ")}</Td>
                 <Td className="text-right">

@@ -148,7 +148,7 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
                       <OutcomeChip outcome={row.outcome} />
                       <span className="sr-only"> ({row.outcome})</span>
                     </Td>
-                    <Td className="max-w-md">
+                    <Td className="max-w-md max-sm:min-w-56!">
                       <span className="font-medium">{isLayer(row.layer) ? LAYER_TITLES[row.layer] : row.layer}</span>
                       <span className="block text-xs text-ink-muted">{row.detail}</span>
                     </Td>
