@@ -45,6 +45,7 @@ export default [
         route("audit", "routes/organisation/settings/audit.tsx"),
       ]),
     ]),
+    route("*", "routes/organisation/not-found.tsx"),
   ]),
   route("*", "routes/not-found.tsx"),
 ] satisfies RouteConfig;

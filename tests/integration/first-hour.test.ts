@@ -123,6 +123,12 @@ describe("Pages a role may not open", () => {
     expect(plain(refusedForm.text)).toContain("This needs the engineer role or higher; you are trainee.");
     expect(refusedForm.text).toContain('aria-label="Main"');
 
+    // An address inside the organisation that no page answers is a 404 inside the frame too.
+    const missing = await trainee.get("/o/lanternfield/no-such-page");
+    expect(missing.status).toBe(404);
+    expect(missing.text).toContain('aria-label="Main"');
+    expect(plain(missing.text)).toContain("There is no such page in this organisation.");
+
     const reviewer = new TestClient();
     await reviewer.signIn(...DEMO_PASSWORDS.reviewer);
     expect((await reviewer.get("/o/lanternfield/settings/members")).text).toContain('href="/o/lanternfield/settings/audit"');
