@@ -202,7 +202,7 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
         <Card className="p-5">
           <ol className="space-y-2" aria-label="Layer verdicts">
             {shown.trace.layers.map((layer, index) => (
-              <li key={layer.layer} className={cx("grid grid-cols-[9rem_6rem_1fr] items-baseline gap-3 text-sm", index >= shown.step && "opacity-40")}>
+              <li key={layer.layer} className={cx("grid grid-cols-[9rem_6rem_1fr] items-baseline gap-3 text-sm max-sm:grid-cols-[minmax(0,1fr)_auto] max-sm:gap-x-3 max-sm:gap-y-0.5 max-sm:[&>:last-child]:col-span-2", index >= shown.step && "opacity-40")}>
                 <span className="font-medium">{LAYER_TITLES[layer.layer]}</span>
                 <span className={cx("w-fit rounded px-1.5 py-0.5 text-xs font-semibold", index >= shown.step ? "bg-surface-sunken text-ink-faint" : layer.result === "stop" ? "bg-danger-soft text-danger" : "bg-success-soft text-success")}>
                   {index >= shown.step ? "?" : layer.result === "stop" ? "stops here" : "passes"}
