@@ -110,6 +110,18 @@ export default defineConfig([
     extends: [reactHooks.configs.flat.recommended],
   },
 
+  {
+    // Every browser test goes through the shared fixture, which fails it on a console error or a failed request.
+    name: "sallyport/e2e-fixture",
+    files: ["tests/e2e/**/*.spec.ts"],
+    rules: {
+      "no-restricted-imports": [
+        "error",
+        { paths: [{ name: "@playwright/test", importNames: ["test"], message: "Import test from ./fixtures: it fails a test on console errors and failed requests." }] },
+      ],
+    },
+  },
+
   // Layering. A file takes the options of the last block that matches it, so each block lists
   // every restriction for its folder.
   layer([`server/**/${SOURCE}`], serverRules, ["server/engine/**", "server/services/**", "server/analysis/**"]),

@@ -1,4 +1,5 @@
-import { data, isRouteErrorResponse, Links, Meta, Outlet, Scripts, ScrollRestoration, useRouteLoaderData } from "react-router";
+import { data, Links, Meta, Outlet, Scripts, ScrollRestoration, useRouteLoaderData } from "react-router";
+import { useEffect } from "react";
 import type { Route } from "./+types/root";
 import "./app.css";
 import { signedInMiddleware, signedInOf } from "#server/auth/guard.server";
@@ -8,7 +9,7 @@ import { readTheme } from "#server/http/theme.server";
 import { isOutboxEnabled } from "#server/config.server";
 import { Toast } from "./components/ui/toast";
 import { useNonce } from "./utils/nonce";
-import { BrandMark } from "./components/brand";
+import { StandaloneError } from "./components/error-panel";
 
 // Query accounting around everything, then who is asking, resolved once per request for every route below.
 export const middleware: Route.MiddlewareFunction[] = [serverTimingMiddleware, signedInMiddleware];
@@ -33,6 +34,10 @@ export function Layout({ children }: { children: React.ReactNode }) {
   const rootData = useRouteLoaderData<typeof loader>("root");
   const nonce = useNonce();
   const theme = rootData?.theme ?? "system";
+  // Marks the page as hydrated, so browser tests know its scripts have run (and logged whatever they log).
+  useEffect(() => {
+    document.documentElement.dataset.hydrated = "true";
+  }, []);
   return (
     <html lang="en" data-theme={theme === "system" ? undefined : theme}>
       <head>
@@ -56,33 +61,5 @@ export default function App() {
 }
 
 export function ErrorBoundary({ error }: Route.ErrorBoundaryProps) {
-  let title = "Something went wrong";
-  let message = "An unexpected error occurred. The team has the details in the server log.";
-  let stack: string | undefined;
-  if (isRouteErrorResponse(error)) {
-    title = error.status === 404 ? "Not found" : error.status === 403 ? "Not allowed" : `${error.status} ${error.statusText || "Error"}`;
-    const payload: unknown = error.data;
-    if (payload && typeof payload === "object" && "message" in payload && typeof payload.message === "string") message = payload.message;
-    else if (typeof payload === "string" && payload) message = payload;
-    else if (error.status === 404) message = "There is nothing at this address, or you do not have access to it.";
-  } else if (import.meta.env.DEV && error instanceof Error) {
-    message = error.message;
-    stack = error.stack;
-  }
-  return (
-    <main className="mx-auto flex min-h-screen max-w-xl flex-col justify-center px-6 py-16">
-      <div className="mb-6 flex items-center gap-2 text-harbour">
-        <BrandMark className="size-7" />
-        <span className="font-semibold">Sallyport</span>
-      </div>
-      <h1 className="text-display">{title}</h1>
-      <p className="mt-3 text-ink-muted">{message}</p>
-      {stack ? <pre className="mt-6 overflow-x-auto rounded-control bg-surface-sunken p-4 text-xs">{stack}</pre> : null}
-      <p className="mt-8">
-        <a href="/" className="font-medium text-harbour underline underline-offset-4">
-          Back to the start page
-        </a>
-      </p>
-    </main>
-  );
+  return <StandaloneError error={error} />;
 }

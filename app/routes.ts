@@ -49,6 +49,7 @@ export default [
       ]),
       route("audit.csv", "routes/organisation/settings/audit.csv.ts"),
     ]),
+    route("*", "routes/organisation/not-found.tsx"),
   ]),
   route("*", "routes/not-found.tsx"),
 ] satisfies RouteConfig;

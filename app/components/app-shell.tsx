@@ -22,110 +22,119 @@ function Icon({ path, className }: { path: string; className?: string }) {
   );
 }
 
-/** The signed-in frame: navigation on the left; organisation switcher and user menu on top. */
+/**
+ * The signed-in frame. Wide screens: navigation down the left (icons only below 1280 px),
+ * organisation switcher and user menu on top. Below 768 px the same navigation is a row of
+ * five under the top bar, so the content keeps the whole width of a phone.
+ */
 export function AppShell({ organisation, organisations, user, theme, children }: { organisation: ShellOrganisation; organisations: ShellOrganisation[]; user: ShellUser; theme: string; children: ReactNode }) {
   const location = useLocation();
   return (
-    <div className="flex min-h-screen">
+    <div className="grid min-h-screen grid-cols-1 grid-rows-[auto_auto_1fr] md:grid-cols-[auto_minmax(0,1fr)] md:grid-rows-[auto_1fr]">
       <a href="#main" className="sr-only focus:not-sr-only focus:fixed focus:top-2 focus:left-2 focus:z-50 focus:rounded-control focus:bg-surface focus:px-3 focus:py-2">
         Skip to content
       </a>
-      <nav aria-label="Main" className="sticky top-0 flex h-screen w-56 shrink-0 flex-col border-r border-line bg-surface px-3 py-4 max-md:w-16">
-        <Link to={`/o/${organisation.slug}`} className="mb-6 flex items-center gap-2 px-2 text-harbour">
+      <nav
+        aria-label="Main"
+        className="row-start-2 border-b border-line bg-surface px-2 py-1 md:sticky md:top-0 md:col-start-1 md:row-span-2 md:row-start-1 md:flex md:h-screen md:w-16 md:flex-col md:border-r md:border-b-0 md:px-3 md:py-4 xl:w-56"
+      >
+        <Link to={`/o/${organisation.slug}`} className="mb-6 flex items-center gap-2 px-2 text-harbour max-md:hidden">
           <BrandMark className="size-8 shrink-0" />
-          <span className="text-lg font-semibold tracking-tight max-md:hidden">Sallyport</span>
+          <span className="text-lg font-semibold tracking-tight max-xl:hidden">Sallyport</span>
         </Link>
-        <ul className="space-y-1">
+        <ul className="grid grid-cols-5 gap-1 md:block md:space-y-1">
           {NAVIGATION.map((item) => (
             <li key={item.to}>
               <NavLink
                 to={`/o/${organisation.slug}/${item.to}`}
+                title={item.label}
                 className={({ isActive }) =>
-                  cx("flex items-center gap-3 rounded-control px-2.5 py-2 text-sm font-medium", isActive ? "bg-harbour-soft text-harbour" : "text-ink-muted hover:bg-surface-sunken hover:text-ink")
+                  cx(
+                    "flex items-center rounded-control text-sm font-medium max-md:flex-col max-md:gap-0.5 max-md:px-1 max-md:py-1.5 max-md:text-xs md:gap-3 md:px-2.5 md:py-2",
+                    isActive ? "bg-harbour-soft text-harbour" : "text-ink-muted hover:bg-surface-sunken hover:text-ink",
+                  )
                 }
               >
                 <Icon path={item.icon} />
-                <span className="max-md:sr-only">{item.label}</span>
+                <span className="md:max-xl:sr-only">{item.label}</span>
               </NavLink>
             </li>
           ))}
         </ul>
       </nav>
-      <div className="flex min-w-0 flex-1 flex-col">
-        <header className="flex h-14 items-center justify-between gap-4 border-b border-line bg-surface px-6">
-          {/* Keyed by the path so a menu closes once one of its links has been followed. */}
-          <details key={`organisations ${location.pathname}`} className="group relative">
-            <summary className="flex cursor-pointer list-none items-center gap-2 rounded-control px-2 py-1.5 text-sm font-semibold hover:bg-surface-sunken" aria-label={`Organisation: ${organisation.name}. Switch organisation`}>
-              <span className="grid size-6 place-items-center rounded-md bg-brass-soft text-xs font-bold text-brass" aria-hidden="true">
-                {organisation.name.slice(0, 1).toUpperCase()}
-              </span>
-              {organisation.name}
-              <span className="text-xs font-normal text-ink-faint">({organisation.role})</span>
-              <Icon path="M6 9l6 6 6-6" className="size-4 text-ink-faint" />
-            </summary>
-            <div className="absolute left-0 z-30 mt-2 w-72 rounded-card border border-line bg-surface-raised p-2 shadow-overlay">
-              <p className="px-2 pb-1 text-xs font-semibold tracking-wide text-ink-faint uppercase">Your organisations</p>
-              <ul>
-                {organisations.map((candidate) => (
-                  <li key={candidate.slug}>
-                    <Link
-                      to={`/o/${candidate.slug}`}
-                      aria-current={candidate.slug === organisation.slug ? "true" : undefined}
-                      className="flex items-center justify-between rounded-control px-2 py-2 text-sm hover:bg-surface-sunken aria-[current]:font-semibold"
-                    >
-                      {candidate.name}
-                      <span className="text-xs text-ink-faint">{candidate.role}</span>
-                    </Link>
-                  </li>
-                ))}
-              </ul>
-            </div>
-          </details>
-          <details key={`account ${location.pathname}`} className="relative">
-            <summary className="flex cursor-pointer list-none items-center gap-2 rounded-control px-2 py-1.5 text-sm hover:bg-surface-sunken" aria-label={`Account menu for ${user.name}`}>
-              <span className="grid size-7 place-items-center rounded-full bg-harbour text-xs font-semibold text-on-harbour" aria-hidden="true">
-                {user.name
-                  .split(/\s+/)
-                  .map((part) => part[0])
-                  .slice(0, 2)
-                  .join("")
-                  .toUpperCase()}
-              </span>
-              <span className="max-sm:hidden">{user.name}</span>
-            </summary>
-            <div className="absolute right-0 z-30 mt-2 w-72 rounded-card border border-line bg-surface-raised p-2 shadow-overlay">
-              <p className="px-2 py-1 text-sm font-medium">{user.name}</p>
-              <p className="px-2 pb-2 text-xs break-all text-ink-muted">{user.email}</p>
-              <Link to={`/o/${organisation.slug}/account`} className="block rounded-control px-2 py-2 text-sm hover:bg-surface-sunken">
-                Your account
-              </Link>
-              <Form method="post" action="/theme" className="flex items-center gap-1 px-2 py-2" aria-label="Theme">
-                <input type="hidden" name="returnTo" value={location.pathname + location.search} />
-                {["system", "light", "dark"].map((option) => (
-                  <button
-                    key={option}
-                    type="submit"
-                    name="theme"
-                    value={option}
-                    aria-pressed={theme === option}
-                    className="flex-1 rounded-md border border-line px-2 py-1 text-xs capitalize aria-pressed:border-harbour aria-pressed:bg-harbour-soft aria-pressed:text-harbour"
+      <header className="row-start-1 flex h-14 min-w-0 items-center justify-between gap-2 border-b border-line bg-surface px-3 sm:gap-4 md:col-start-2 md:px-6">
+        {/* Keyed by the path so a menu closes once one of its links has been followed. */}
+        <details key={`organisations ${location.pathname}`} className="group relative min-w-0">
+          <summary className="flex cursor-pointer list-none items-center gap-2 rounded-control px-2 py-1.5 text-sm font-semibold hover:bg-surface-sunken" aria-label={`Organisation: ${organisation.name}. Switch organisation`}>
+            <span className="grid size-6 shrink-0 place-items-center rounded-md bg-brass-soft text-xs font-bold text-brass" aria-hidden="true">
+              {organisation.name.slice(0, 1).toUpperCase()}
+            </span>
+            <span className="truncate">{organisation.name}</span>
+            <span className="text-xs font-normal text-ink-faint max-sm:hidden">({organisation.role})</span>
+            <Icon path="M6 9l6 6 6-6" className="size-4 text-ink-faint" />
+          </summary>
+          <div className="absolute left-0 z-30 mt-2 w-72 rounded-card border border-line bg-surface-raised p-2 shadow-overlay">
+            <p className="px-2 pb-1 text-xs font-semibold tracking-wide text-ink-faint uppercase">Your organisations</p>
+            <ul>
+              {organisations.map((candidate) => (
+                <li key={candidate.slug}>
+                  <Link
+                    to={`/o/${candidate.slug}`}
+                    aria-current={candidate.slug === organisation.slug ? "true" : undefined}
+                    className="flex items-center justify-between rounded-control px-2 py-2 text-sm hover:bg-surface-sunken aria-[current]:font-semibold"
                   >
-                    {option}
-                  </button>
-                ))}
-              </Form>
-              <Form method="post" action="/logout" className="border-t border-line pt-1">
-                <button type="submit" className="block w-full rounded-control px-2 py-2 text-left text-sm hover:bg-surface-sunken">
-                  Sign out
+                    {candidate.name}
+                    <span className="text-xs text-ink-faint">{candidate.role}</span>
+                  </Link>
+                </li>
+              ))}
+            </ul>
+          </div>
+        </details>
+        <details key={`account ${location.pathname}`} className="relative">
+          <summary className="flex cursor-pointer list-none items-center gap-2 rounded-control px-2 py-1.5 text-sm hover:bg-surface-sunken" aria-label={`Account menu for ${user.name}`}>
+            <span className="grid size-7 place-items-center rounded-full bg-harbour text-xs font-semibold text-on-harbour" aria-hidden="true">
+              {user.name
+                .split(/\s+/)
+                .map((part) => part[0])
+                .slice(0, 2)
+                .join("")
+                .toUpperCase()}
+            </span>
+            <span className="max-sm:hidden">{user.name}</span>
+          </summary>
+          <div className="absolute right-0 z-30 mt-2 w-72 rounded-card border border-line bg-surface-raised p-2 shadow-overlay">
+            <p className="px-2 py-1 text-sm font-medium">{user.name}</p>
+            <p className="px-2 pb-2 text-xs break-all text-ink-muted">{user.email}</p>
+            <Link to={`/o/${organisation.slug}/account`} className="block rounded-control px-2 py-2 text-sm hover:bg-surface-sunken">
+              Your account
+            </Link>
+            <Form method="post" action="/theme" className="flex items-center gap-1 px-2 py-2" aria-label="Theme">
+              <input type="hidden" name="returnTo" value={location.pathname + location.search} />
+              {["system", "light", "dark"].map((option) => (
+                <button
+                  key={option}
+                  type="submit"
+                  name="theme"
+                  value={option}
+                  aria-pressed={theme === option}
+                  className="flex-1 rounded-md border border-line px-2 py-1 text-xs capitalize aria-pressed:border-harbour aria-pressed:bg-harbour-soft aria-pressed:text-harbour"
+                >
+                  {option}
                 </button>
-              </Form>
-            </div>
-          </details>
-        </header>
-        <main id="main" className="mx-auto w-full max-w-6xl flex-1 px-6 py-8">
-          {children}
-        </main>
-      </div>
+              ))}
+            </Form>
+            <Form method="post" action="/logout" className="border-t border-line pt-1">
+              <button type="submit" className="block w-full rounded-control px-2 py-2 text-left text-sm hover:bg-surface-sunken">
+                Sign out
+              </button>
+            </Form>
+          </div>
+        </details>
+      </header>
+      <main id="main" className="row-start-3 mx-auto w-full max-w-6xl min-w-0 px-4 py-6 sm:px-6 sm:py-8 md:col-start-2 md:row-start-2">
+        {children}
+      </main>
     </div>
   );
 }

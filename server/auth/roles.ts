@@ -19,3 +19,13 @@ export const ROLE_DESCRIPTIONS: Record<Role, string> = {
   admin: "Manages members, invitations and shared objects.",
   owner: "Everything, including organisation settings and other owners.",
 };
+
+/**
+ * The least role of each page that not every member may open. The page's guard and every
+ * link to it read this one table, so a member is never offered a page that refuses them.
+ */
+export const PAGE_ROLES = {
+  auditLog: "reviewer",
+  newDevice: "engineer",
+  importModel: "engineer",
+} as const satisfies Record<string, Role>;

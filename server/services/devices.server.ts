@@ -8,6 +8,7 @@ import { Refusal } from "../errors.ts";
 import { countElements, diffDocuments, effectiveDocument, validateDocument, type DocumentChange, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 import { lockSharedLibrary } from "./shared-library-lock.server.ts";
+import { createSite, type SiteInput } from "./sites.server.ts";
 
 /**
  * The model did not validate: every problem with its document path. When every problem is in one
@@ -91,13 +92,36 @@ function countsOf(document: ModelDocument, shared: SharedLibrary): RevisionSumma
   return { counts: countElements(effectiveDocument(document, shared)) };
 }
 
+/**
+ * Whether a device name is taken in this organisation, and a free one to offer instead: the
+ * first free one of name-2, name-3 … (kept within 63 characters). The import preview offers it.
+ */
+export async function deviceNameChoice(organisationId: string, name: string): Promise<{ taken: { id: string; revision: number } | null; free: string }> {
+  const devices = await Device.findAll({ where: { organisationId }, attributes: ["id", "name", "currentRevisionNumber"] });
+  const names = new Set(devices.map((device) => device.name));
+  const same = devices.find((device) => device.name === name);
+  if (!same) return { taken: null, free: name };
+  for (let number = 2; ; number += 1) {
+    const suffix = `-${number}`;
+    const candidate = `${name.slice(0, 63 - suffix.length)}${suffix}`;
+    if (!names.has(candidate)) return { taken: { id: same.id, revision: same.currentRevisionNumber }, free: candidate };
+  }
+}
+
 function nameTaken(name: string): Refusal {
   return new Refusal(`A device named "${name}" exists already in this organisation.`, 409, { field: "name" });
 }
 
+/**
+ * Where a new device goes: a site of the organisation (its id), or a new site created with the
+ * device in one transaction — an organisation's first device need not wait for a visit to the
+ * sites page (docs/decisions/008). A taken site name is refused beside `field`.
+ */
+export type DeviceSite = string | { newSite: SiteInput; field: string };
+
 /** Creates a device with its first revision from a document (validated with the organisation's shared objects). */
-export async function createDevice(organisationId: string, siteId: string, input: unknown, actor: AuditActor, message: string): Promise<Device> {
-  await assertSiteOfOrganisation(organisationId, siteId);
+export async function createDevice(organisationId: string, site: DeviceSite, input: unknown, actor: AuditActor, message: string): Promise<Device> {
+  if (typeof site === "string") await assertSiteOfOrganisation(organisationId, site);
   let name = "";
   try {
     const { device, revisionId } = await getDatabase().transaction(async (transaction) => {
@@ -107,6 +131,8 @@ export async function createDevice(organisationId: string, siteId: string, input
       if (!validated.ok) throw invalidModel(validated.errors, "The document is not a valid Sallyport model.");
       name = validated.document.device.name;
       const summary = countsOf(validated.document, validated.shared);
+      // A refused site name rolls the whole transaction back: no site without its device.
+      const siteId = typeof site === "string" ? site : (await createSite(organisationId, site.newSite, actor, { transaction, field: site.field })).id;
       const created = await Device.create({ organisationId, siteId, name: validated.document.device.name, currentRevisionNumber: 1 }, { transaction });
       const revision = await DeviceRevision.create(
         { deviceId: created.id, number: 1, document: validated.document, sharedObjects: validated.shared, summary, message, authorUserId: actor.userId, authorEmail: actor.email },

@@ -1,4 +1,4 @@
-import { UniqueConstraintError } from "sequelize";
+import { UniqueConstraintError, type Transaction } from "sequelize";
 import { Device, Site } from "#models/index.ts";
 import { Refusal } from "../errors.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
@@ -19,13 +19,18 @@ export async function listSites(organisationId: string): Promise<SiteRow[]> {
   return sites.map((site) => toRow(site, bySite.get(site.id) ?? 0));
 }
 
-export async function createSite(organisationId: string, input: SiteInput, actor: AuditActor): Promise<SiteRow> {
+/**
+ * Creates a site, inside the caller's transaction when given (a new device with its first
+ * site). A taken name is refused beside `field`: "name" on the sites page.
+ */
+export async function createSite(organisationId: string, input: SiteInput, actor: AuditActor, options: { transaction?: Transaction; field?: string } = {}): Promise<SiteRow> {
+  const { transaction, field = "name" } = options;
   try {
-    const site = await Site.create({ organisationId, ...input });
-    await recordAuditEvent(actor, { organisationId, action: "site.created", targetType: "site", targetId: site.id, changes: { ...input } });
+    const site = await Site.create({ organisationId, ...input }, { transaction });
+    await recordAuditEvent(actor, { organisationId, action: "site.created", targetType: "site", targetId: site.id, changes: { ...input } }, transaction);
     return toRow(site);
   } catch (error) {
-    if (error instanceof UniqueConstraintError) throw new Refusal(`A site named "${input.name}" exists already.`, 409, { field: "name" });
+    if (error instanceof UniqueConstraintError) throw new Refusal(`A site named "${input.name}" exists already.`, 409, { field });
     throw error;
   }
 }

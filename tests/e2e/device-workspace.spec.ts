@@ -1,8 +1,11 @@
 import { readFileSync } from "node:fs";
-import { expect, test } from "@playwright/test";
+import { expect, test } from "./fixtures";
 import { chooseNames, screenshot, signIn, toast } from "./helpers";
 
-test("An engineer models a new device, reorders its rules, and round-trips it through export and import", async ({ page }) => {
+test("An engineer models a new device, reorders its rules, and round-trips it through export and import", async ({ page, browserProblems }) => {
+  // Two submissions below are refused on purpose (a bad name, a rule without services): 400s.
+  browserProblems.expect(400, /\/devices\/new\.data$/);
+  browserProblems.expect(400, /\/model\/rules\.data$/);
   const deviceName = `e2e-edge-${Date.now().toString(36)}`;
   await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
   await expect(page.getByRole("heading", { name: "Devices" })).toBeVisible();
@@ -110,7 +113,8 @@ test("An engineer models a new device, reorders its rules, and round-trips it th
   await screenshot(page, "25-history");
 });
 
-test("A bad upload is refused with its problems and creates nothing", async ({ page }) => {
+test("A bad upload is refused with its problems and creates nothing", async ({ page, browserProblems }) => {
+  browserProblems.expect(400, /\/devices\/import\.data$/);
   await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
   await page.goto("/o/lanternfield/devices/import");
   await page.getByLabel("Model document").setInputFiles({ name: "broken.json", mimeType: "application/json", buffer: Buffer.from(JSON.stringify({ schemaVersion: 2, device: { name: "broken" }, inboundRules: [{ id: "r1", interface: "any", sources: ["noc"], destinations: ["any"], services: ["ssh"], action: "allow" }] })) });

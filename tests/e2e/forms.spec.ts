@@ -2,7 +2,8 @@
 // in words beside their fields with "did you mean", forms that work without JavaScript, and the
 // rule list's ends and compact view.
 import AxeBuilder from "@axe-core/playwright";
-import { expect, test, type Page } from "@playwright/test";
+import type { Page } from "@playwright/test";
+import { expect, test } from "./fixtures";
 import { screenshot, signIn, toast } from "./helpers";
 
 /** Invented scenario: a ferry terminal's edge appliance; RFC 5737 outside, RFC 1918 inside. */
@@ -110,7 +111,9 @@ test("An engineer adds an inbound rule with the name pickers using the keyboard 
 test.describe("Without JavaScript", () => {
   test.use({ javaScriptEnabled: false });
 
-  test("A mistyped name is refused beside its field with the close name, what was typed stays, and the corrected form saves", async ({ page }) => {
+  test("A mistyped name is refused beside its field with the close name, what was typed stays, and the corrected form saves", async ({ page, browserProblems }) => {
+    // The refused form answers 400 (DEVELOPERS.md: bad input is a clear 4xx).
+    browserProblems.expect(400, /\/model\/rules/);
     const name = `forms-nojs-${Date.now().toString(36)}`;
     await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
     await page.goto(await importDevice(page, name));

@@ -1,5 +1,6 @@
 import { mkdirSync } from "node:fs";
 import path from "node:path";
+import AxeBuilder from "@axe-core/playwright";
 import { expect, type Locator, type Page } from "@playwright/test";
 
 const directory = path.resolve("tests/artifacts/screenshots");
@@ -37,4 +38,25 @@ export async function chooseNames(scope: Locator, label: string, names: readonly
   await input.press("Escape");
   const chosen = scope.getByRole("grid", { name: `Chosen ${label.toLowerCase()}` });
   for (const name of names) await expect(chosen.getByRole("row", { name })).toBeVisible();
+}
+
+/**
+ * axe's serious and critical violations on the page as it is laid out now (WCAG 2.1 A and AA
+ * rules, or only `rules` when given), each as "rule: help (first few elements)". Minor and
+ * moderate ones are left to review.
+ */
+export async function seriousAccessibilityViolations(page: Page, rules?: string[], within?: string): Promise<string[]> {
+  // Legacy mode runs axe in the page itself; the default cross-frame mode opens a blank page for
+  // every run to merge frame results, which doubles the time, and the app has no frames.
+  const whole = new AxeBuilder({ page }).setLegacyMode();
+  const builder = within ? whole.include(within) : whole;
+  const results = await (rules ? builder.withRules(rules) : builder.withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa"])).analyze();
+  return results.violations
+    .filter((violation) => violation.impact === "serious" || violation.impact === "critical")
+    .map((violation) => `${violation.id}: ${violation.help} (${violation.nodes.map((node) => node.target.join(" ")).slice(0, 3).join("; ")})`);
+}
+
+/** Waits until the page's scripts have hydrated it (the root layout marks <html>). */
+export async function hydrated(page: Page): Promise<void> {
+  await page.locator("html[data-hydrated]").waitFor({ state: "attached" });
 }

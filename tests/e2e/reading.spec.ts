@@ -1,4 +1,5 @@
-import { expect, test, type Page } from "@playwright/test";
+import type { Page } from "@playwright/test";
+import { expect, test } from "./fixtures";
 import { screenshot, signIn, toast } from "./helpers";
 
 /** Console errors of the page (a hydration mismatch in a formatted time or count shows here). */

@@ -1,5 +1,6 @@
 import AxeBuilder from "@axe-core/playwright";
-import { expect, test, type Page } from "@playwright/test";
+import type { Page } from "@playwright/test";
+import { expect, test } from "./fixtures";
 import { PIER_GW, QUAY_EDGE } from "../support/shared-objects";
 import { screenshot, toast } from "./helpers";
 

@@ -1,7 +1,9 @@
-import { expect, test } from "@playwright/test";
+import { expect, test } from "./fixtures";
 import { screenshot, toast } from "./helpers";
 
-test("A demo engineer signs in, finds the app shell, and signs out", async ({ page }) => {
+test("A demo engineer signs in, finds the app shell, and signs out", async ({ page, browserProblems }) => {
+  // The wrong password below is refused with a 401.
+  browserProblems.expect(401, /\/login\.data\?/);
   await page.goto("/o/lanternfield/sites");
   await expect(page).toHaveURL(/\/login\?redirectTo=/);
   await screenshot(page, "01-sign-in");

@@ -9,7 +9,7 @@ import { beforeAll, describe, expect, test } from "vitest";
 import type { Role } from "#server/auth/roles";
 import { generateModel, type ModelSize } from "#server/engine/testing/generate-model";
 import { EMPTY_LIBRARY, validateDocument, type ModelDocument } from "#server/workspace/index";
-import { DEMO_PASSWORDS, signUpNewOrganisation, TestClient, type FetchResult } from "../support/client";
+import { DEMO_PASSWORDS, postMultipart, signUpNewOrganisation, TestClient, type FetchResult } from "../support/client";
 import { fieldError, formAlert, plain, UUID, visibleText } from "../support/html";
 import { confirmReview } from "../support/shared-objects";
 
@@ -28,15 +28,6 @@ function formBody(fields: Fields): URLSearchParams {
   const body = new URLSearchParams();
   for (const [key, value] of Object.entries(fields)) for (const item of Array.isArray(value) ? value : [value]) body.append(key, item);
   return body;
-}
-
-function postMultipart(client: TestClient, path: string, fields: Record<string, string | Blob>): Promise<FetchResult> {
-  const form = new FormData();
-  for (const [key, value] of Object.entries(fields)) {
-    if (typeof value === "string") form.append(key, value);
-    else form.append(key, value, "model.json");
-  }
-  return client.request(path, { method: "POST", body: form });
 }
 
 /** A signed-up owner with their own organisation and one site. */

@@ -1,9 +1,22 @@
-import { inject, describe, expect, test } from "vitest";
+import { afterAll, inject, describe, expect, test } from "vitest";
+import { Membership, Organisation } from "#models/index";
+import { getDatabase } from "#server/db/database.server";
 import { waitForLink } from "../support/outbox";
 import { DEMO_PASSWORDS, GOOD_PASSWORD, signUpNewOrganisation, TestClient, uniqueEmail } from "../support/client";
+import { plain } from "../support/html";
 
 const outboxDir = inject("outboxDir");
 const LINK = /https?:\/\/\S+\/invitations\/[A-Za-z0-9_-]+/;
+// The models are bound to the test database when it is first opened.
+const sequelize = getDatabase();
+afterAll(() => sequelize.close());
+
+/** The membership id of the one member of a new organisation (the page offers no controls on one's own row). */
+async function onlyMembershipId(slug: string): Promise<string | undefined> {
+  const organisation = await Organisation.findOne({ where: { slug } });
+  const memberships = await Membership.findAll({ where: { organisationId: organisation?.id ?? "" } });
+  return memberships.length === 1 ? memberships[0].id : undefined;
+}
 
 describe("Invitations", () => {
   test("An owner invites a new person, who joins through the e-mailed link with the invited role", async () => {
@@ -51,14 +64,32 @@ describe("Invitations", () => {
 
   test("The last owner can be neither removed nor demoted", async () => {
     const { client: owner, slug } = await signUpNewOrganisation("last-owner");
-    const members = await owner.get(`/o/${slug}/settings/members`);
-    const membershipId = members.text.match(/name="membershipId" value="([0-9a-f-]{36})"/)?.[1];
+    const membershipId = await onlyMembershipId(slug);
     expect(membershipId).toBeDefined();
     const demote = await owner.post(`/o/${slug}/settings/members`, { intent: "change-role", membershipId: membershipId!, role: "admin" });
     expect(demote.status).toBe(409);
     expect(demote.text).toContain("last owner");
     const remove = await owner.post(`/o/${slug}/settings/members`, { intent: "remove", membershipId: membershipId! });
     expect(remove.status).toBe(409);
+  });
+
+  test("Members are offered role changes and removal for others, never for their own row", async () => {
+    const { client: owner, slug } = await signUpNewOrganisation("own-row");
+    const invitee = uniqueEmail("own-row-admin");
+    await owner.post(`/o/${slug}/settings/members`, { intent: "invite", email: invitee, role: "admin" });
+    const path = new URL(await waitForLink(outboxDir, invitee, LINK)).pathname;
+    const admin = new TestClient();
+    await admin.post(path, { name: "Row Admin", password: GOOD_PASSWORD });
+    const page = await admin.get(`/o/${slug}/settings/members`);
+    expect(page.status).toBe(200);
+    // The admin sees the owner's row read-only (only an owner changes an owner) and their own row read-only too.
+    expect(plain(page.text)).not.toContain("Role of Row Admin");
+    expect(page.text).not.toContain('aria-label="Remove Row Admin"');
+    expect(page.text).not.toMatch(/name="membershipId" value="[0-9a-f-]{36}"/);
+    const ownerPage = plain((await owner.get(`/o/${slug}/settings/members`)).text);
+    expect(ownerPage).toContain("Role of Row Admin");
+    expect(ownerPage).toContain('aria-label="Remove Row Admin"');
+    expect(ownerPage).not.toContain("Role of Test own-row");
   });
 
   test("Role changes and removals go to the audit log", async () => {

@@ -93,3 +93,13 @@ export async function signUpNewOrganisation(label: string): Promise<{ client: Te
   if (response.status !== 302 || !response.location?.startsWith("/o/")) throw new Error(`sign-up failed: ${response.status} ${response.text.slice(0, 300)}`);
   return { client, email, slug: response.location.slice(3) };
 }
+
+/** Posts a multipart form (an upload) with the client's cookies and Origin; a Blob is sent as the file "model.json". */
+export function postMultipart(client: TestClient, path: string, fields: Record<string, string | Blob>): Promise<FetchResult> {
+  const form = new FormData();
+  for (const [key, value] of Object.entries(fields)) {
+    if (typeof value === "string") form.append(key, value);
+    else form.append(key, value, "model.json");
+  }
+  return client.request(path, { method: "POST", body: form });
+}

@@ -17,8 +17,12 @@ import { SiteFilter } from "#app/components/ui/site-filter";
 import { SimulationCaution } from "#app/components/analysis/common";
 import { Time } from "#app/components/ui/time";
 import { formatNumber, plural } from "#server/engine/format";
+import { PageErrorBoundary } from "#app/components/error-panel";
 
 export const meta: Route.MetaFunction = () => [{ title: "Findings · Sallyport" }];
+
+// A refusal (a role too low, say) shows inside the organisation's frame.
+export const ErrorBoundary = PageErrorBoundary;
 
 export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireRole(context);

@@ -20,8 +20,12 @@ import { Table, Td, Th } from "#app/components/ui/table";
 import { formatNumber } from "#server/engine/format";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { refusedForm } from "#server/http/refusals.server";
+import { PageErrorBoundary } from "#app/components/error-panel";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sites · Sallyport" }];
+
+// A refusal (a role too low, say) shows inside the organisation's frame.
+export const ErrorBoundary = PageErrorBoundary;
 
 // Sortable columns (?sort=) and the location, all searched by ?q=.
 const COLUMNS = [

@@ -4,7 +4,7 @@ import { SortHeader } from "#app/components/ui/sort-header";
 import { nameTie, tableRows, urlSort, type ColumnDef } from "#app/components/ui/table-rows";
 import type { Route } from "./+types/fleet";
 import { requireRole } from "#server/auth/guard.server";
-import { hasAtLeastRole } from "#server/auth/roles";
+import { hasAtLeastRole, PAGE_ROLES } from "#server/auth/roles";
 import { listDevices, type DeviceRow } from "#server/services/devices.server";
 import { activeFindingsBySeverity } from "#server/services/findings.server";
 import { listSites } from "#server/services/sites.server";
@@ -17,8 +17,12 @@ import { EmptyState } from "#app/components/ui/empty-state";
 import { Table, Td } from "#app/components/ui/table";
 import { Time } from "#app/components/ui/time";
 import { formatNumber, plural } from "#server/engine/format";
+import { PageErrorBoundary } from "#app/components/error-panel";
 
 export const meta: Route.MetaFunction = () => [{ title: "Devices · Sallyport" }];
+
+// A refusal (a role too low, say) shows inside the organisation's frame.
+export const ErrorBoundary = PageErrorBoundary;
 
 function findingsWeight(counts: Record<string, number>): number {
   // Worst severity first, then how many: critical outweighs any number of lower ones.
@@ -47,31 +51,47 @@ export async function loader({ request, context }: Route.LoaderArgs) {
     columnFilters: url.searchParams.get("site") ? [{ id: "siteId", value: url.searchParams.get("site") }] : [],
     sorting,
   });
-  return { devices: shown, total: devices.length, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canEdit: hasAtLeastRole(access.role, "engineer"), slug: access.organisation.slug, now: new Date().toISOString() };
+  return { devices: shown, total: devices.length, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canAdd: hasAtLeastRole(access.role, PAGE_ROLES.newDevice), canImport: hasAtLeastRole(access.role, PAGE_ROLES.importModel), slug: access.organisation.slug, now: new Date().toISOString() };
 }
 
 export default function Fleet({ loaderData }: Route.ComponentProps) {
   const [searchParams] = useSearchParams();
-  const { devices, sites, sort, descending, canEdit, slug } = loaderData;
+  const { devices, sites, sort, descending, canAdd, canImport, slug } = loaderData;
   return (
     <>
       <PageHeader
         title="Devices"
         description="Each device's management plane: who can reach it, and what they would see. Figures are from each device's current revision."
         actions={
-          canEdit ? (
+          canAdd || canImport ? (
             <>
-              <ButtonLink to={`/o/${slug}/devices/import`} variant="secondary">
-                Import model
-              </ButtonLink>
-              <ButtonLink to={`/o/${slug}/devices/new`}>New device</ButtonLink>
+              {canImport ? (
+                <ButtonLink to={`/o/${slug}/devices/import`} variant="secondary">
+                  Import model
+                </ButtonLink>
+              ) : null}
+              {canAdd ? <ButtonLink to={`/o/${slug}/devices/new`}>New device</ButtonLink> : null}
             </>
           ) : null
         }
       />
       {loaderData.total === 0 ? (
-        <EmptyState title="No devices yet" action={canEdit ? <ButtonLink to={`/o/${slug}/devices/new`}>Add the first device</ButtonLink> : undefined}>
-          Add a device by hand or import a model document.
+        <EmptyState
+          title="No devices yet"
+          action={
+            canAdd || canImport ? (
+              <div className="flex flex-wrap justify-center gap-2">
+                {canAdd ? <ButtonLink to={`/o/${slug}/devices/new`}>Add the first device</ButtonLink> : null}
+                {canImport ? (
+                  <ButtonLink to={`/o/${slug}/devices/import`} variant="secondary">
+                    Import a model document
+                  </ButtonLink>
+                ) : null}
+              </div>
+            ) : undefined
+          }
+        >
+          {canAdd ? "Describe a device by hand — its site, interfaces, accounts and inbound rules — or import a model document exported earlier." : "Engineers, admins and owners add devices; they appear here as soon as one is saved."}
         </EmptyState>
       ) : (
         <>

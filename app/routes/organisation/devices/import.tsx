@@ -1,11 +1,15 @@
+import { useState } from "react";
 import { data, Form, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/import";
 import { serializeFlash } from "#server/auth/flash.server";
 import { requireRole } from "#server/auth/guard.server";
+import { PAGE_ROLES } from "#server/auth/roles";
 import { actorOf } from "#server/http/actor.server";
 import { readForm } from "#server/http/form.server";
+import { ElementNameSchema } from "#server/http/schemas";
+import { isRefusal } from "#server/errors";
 import { refusedWith } from "#server/http/refusals.server";
-import { createDevice, findDevice, listDevices, loadSharedLibrary, saveEdit } from "#server/services/devices.server";
+import { createDevice, deviceNameChoice, findDevice, listDevices, loadSharedLibrary, saveEdit } from "#server/services/devices.server";
 import { listSites } from "#server/services/sites.server";
 import { summariseDocument, validateDocument, type ModelDocument } from "#server/workspace/index";
 import { OutcomeChip } from "#app/components/outcome";
@@ -14,79 +18,119 @@ import { MODEL_SCHEMA_VERSION, VERSION_1_UPGRADE_SUMMARY } from "#server/engine/
 import { SeverityCounts } from "#app/components/severity";
 import { Button } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
-import { FormError, SelectField } from "#app/components/ui/field";
+import { FormError, SelectField, TextField } from "#app/components/ui/field";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { plural } from "#server/engine/format";
+import { PageErrorBoundary } from "#app/components/error-panel";
 
 export const meta: Route.MetaFunction = () => [{ title: "Import a model · Sallyport" }];
+
+// A refusal (a role too low, say) shows inside the organisation's frame.
+export const ErrorBoundary = PageErrorBoundary;
 
 /** Model documents are small; a larger upload is refused before it is parsed. */
 export const MAX_MODEL_BYTES = 1024 * 1024;
 
 export async function loader({ context }: Route.LoaderArgs) {
-  const access = requireRole(context, "engineer");
+  const access = requireRole(context, PAGE_ROLES.importModel);
   const [sites, devices] = await Promise.all([listSites(access.organisation.id), listDevices(access.organisation.id)]);
   return { sites: sites.map((site) => ({ id: site.id, name: site.name })), devices: devices.map((device) => ({ id: device.id, name: device.name, revision: device.revision })) };
 }
 
 type Problem = { path: string; message: string };
-type ActionResult =
-  | { stage: "refused"; message: string; problems: Problem[]; target: string }
-  | { stage: "preview"; documentText: string; target: string; fileName: string; summary: ReturnType<typeof summariseDocument>; deviceName: string; warnings: Problem[]; baseRevision: number | null; targetLabel: string; upgradeNote: string | null };
+/** Messages beside the fields of the first step: the file, the site and where to import. */
+type StepErrors = { file?: string; target?: string; siteName?: string };
+type Preview = {
+  stage: "preview";
+  documentText: string;
+  target: string;
+  siteName: string;
+  fileName: string;
+  summary: ReturnType<typeof summariseDocument>;
+  deviceName: string;
+  warnings: Problem[];
+  baseRevision: number | null;
+  targetLabel: string;
+  /** Set when the file was a version-1 document, read (and saved) as the current version. */
+  upgradeNote: string | null;
+  /** A new device: the name it gets (the document's, or a free one when that is taken) and what to say about it. */
+  rename: { proposed: string; taken: { id: string; revision: number } | null; error: string | null } | null;
+};
+type ActionResult = { stage: "refused"; message: string; problems: Problem[]; target: string; siteName: string; errors: StepErrors } | Preview;
 
-function refuse(message: string, problems: Problem[], target: string, status = 400) {
-  return data<ActionResult>({ stage: "refused", message, problems, target }, { status });
+/** The value of the "Import as" choice that creates the device at a new site. */
+const NEW_SITE_TARGET = "site:new";
+
+function refuse(message: string, problems: Problem[], context: { target: string; siteName: string }, status = 400, errors: StepErrors = {}) {
+  return data<ActionResult>({ stage: "refused", message, problems, errors, ...context }, { status });
 }
+
+const NO_FILE = "No file chosen: choose a model document (.json) to upload.";
 
 async function readDocument(form: FormData): Promise<{ text: string; fileName: string } | { error: string }> {
   const upload = form.get("file");
   if (typeof upload === "string" || upload === null) {
     const text = form.get("documentText");
     if (typeof text === "string" && text.length > 0) return text.length > MAX_MODEL_BYTES ? { error: "The document is larger than 1 MiB." } : { text, fileName: String(form.get("fileName") ?? "document.json").slice(0, 200) };
-    return { error: "Choose a model document (.json) to upload." };
+    return { error: NO_FILE };
   }
+  // A browser sends a form with no file chosen as an empty part without a name.
+  if (upload.size === 0 && upload.name === "") return { error: NO_FILE };
   if (upload.size === 0) return { error: "The chosen file is empty." };
   if (upload.size > MAX_MODEL_BYTES) return { error: `The file is ${Math.ceil(upload.size / 1024)} KiB; model documents may be at most 1024 KiB.` };
   return { text: await upload.text(), fileName: upload.name.slice(0, 200) };
 }
 
 export async function action({ request, context }: Route.ActionArgs) {
-  const access = requireRole(context, "engineer");
+  const access = requireRole(context, PAGE_ROLES.importModel);
   const form = await readForm(request);
   const intent = form.get("intent");
   const target = String(form.get("target") ?? "");
+  const siteName = String(form.get("siteName") ?? "").trim();
+  const step = { target, siteName };
   if (intent !== "preview" && intent !== "import") throw data({ message: "Unknown action." }, { status: 400 });
   const read = await readDocument(form);
-  if ("error" in read) return refuse(read.error, [], target);
+  if ("error" in read) return refuse(read.error, [], step, 400, { file: read.error });
   let parsed: unknown;
   try {
     parsed = JSON.parse(read.text);
   } catch (error) {
-    return refuse(`This is not JSON: ${error instanceof Error ? error.message : "unreadable"}. Sallyport imports its own model documents (schemaVersion 2, or 1).`, [], target);
+    return refuse(`This is not JSON: ${error instanceof Error ? error.message : "unreadable"}. Sallyport imports its own model documents (schemaVersion 2, or 1).`, [], step);
   }
   const validated = validateDocument(parsed, await loadSharedLibrary(access.organisation.id));
-  if (!validated.ok) return refuse(`The document is not a valid Sallyport model: ${plural(validated.errors.length, { one: "problem", other: "problems" })}. Nothing was created.`, [...validated.errors], target);
+  if (!validated.ok) return refuse(`The document is not a valid Sallyport model: ${plural(validated.errors.length, { one: "problem", other: "problems" })}. Nothing was created.`, [...validated.errors], step);
 
   const [kind, id] = target.split(":");
-  if (kind !== "site" && kind !== "device") return refuse("Choose where to import: a new device at a site, or a new revision of a device.", [], target);
+  if (kind !== "site" && kind !== "device") {
+    const message = "Choose where to import: a new device at a site, or a new revision of a device.";
+    return refuse(message, [], step, 400, { target: message });
+  }
+  const newSite = target === NEW_SITE_TARGET;
+  if (newSite && !siteName) return refuse("Name the new site.", [], step, 400, { siteName: "Name the new site, e.g. the customer's office or plant." });
+  if (newSite && siteName.length > 100) return refuse("Use at most 100 characters.", [], step, 400, { siteName: "Use at most 100 characters." });
   const existing = kind === "device" ? await findDevice(access.organisation.id, id ?? "") : null;
-  if (kind === "device" && !existing) return refuse("No such device in this organisation.", [], target, 404);
+  if (kind === "device" && !existing) return refuse("No such device in this organisation.", [], step, 404);
   const actor = actorOf(access, clientAddressOf(context));
+  const documentName = validated.document.device.name;
 
-  if (intent === "preview") {
-    return data<ActionResult>({
+  const preview = async (error: string | null = null, proposed?: string): Promise<Preview> => {
+    const choice = existing ? null : await deviceNameChoice(access.organisation.id, documentName);
+    return {
       stage: "preview",
       documentText: JSON.stringify(validated.document),
       fileName: read.fileName,
       target,
+      siteName,
       summary: summariseDocument(validated.effective),
-      deviceName: validated.document.device.name,
+      deviceName: documentName,
       warnings: [...validated.warnings],
       baseRevision: existing?.revision.number ?? null,
-      targetLabel: existing ? `a new revision of ${existing.device.name} (now r${existing.revision.number})` : "a new device",
+      targetLabel: existing ? `a new revision of ${existing.device.name} (now r${existing.revision.number})` : newSite ? `a new device at the new site ${siteName}` : "a new device",
       upgradeNote: validated.upgradedFrom ? `Written in version ${validated.upgradedFrom} of the model document; read and saved as version ${MODEL_SCHEMA_VERSION} (${VERSION_1_UPGRADE_SUMMARY}). Nothing else changes.` : null,
-    });
-  }
+      rename: choice ? { proposed: proposed ?? choice.free, taken: choice.taken, error } : null,
+    };
+  };
+  if (intent === "preview") return data<ActionResult>(await preview());
   try {
     if (existing) {
       const baseRevision = Number(form.get("baseRevision"));
@@ -94,12 +138,22 @@ export async function action({ request, context }: Route.ActionArgs) {
       const saved = await saveEdit(access.organisation.id, existing.device.id, baseRevision, () => document, actor, `Imported ${read.fileName}`);
       throw redirect(`/o/${access.organisation.slug}/devices/${existing.device.id}/history`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: saved.changes.length ? `Imported as revision r${saved.number}.` : "The import matched the current revision; nothing changed." }) } });
     }
-    const device = await createDevice(access.organisation.id, id ?? "", validated.document, actor, `Imported ${read.fileName}`);
+    // The preview's rename field; a request without it keeps the document's own name.
+    const requested = form.get("deviceName");
+    const name = typeof requested === "string" ? ElementNameSchema.safeParse(requested) : { success: true as const, data: documentName };
+    if (!name.success) return data<ActionResult>(await preview(name.error.issues[0]?.message ?? "Enter a device name.", String(requested)), { status: 400 });
+    const document: ModelDocument = { ...validated.document, device: { ...validated.document.device, name: name.data } };
+    const site = newSite ? { newSite: { name: siteName, customer: "", location: "" }, field: "siteName" } : (id ?? "");
+    const device = await createDevice(access.organisation.id, site, document, actor, `Imported ${read.fileName}`);
     throw redirect(`/o/${access.organisation.slug}/devices/${device.id}`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: `Device ${device.name} imported.` }) } });
   } catch (error) {
+    const renamed = String(form.get("deviceName") ?? documentName);
+    // A name taken meanwhile: back to the preview, with the rename field saying so.
+    const again = !existing && isRefusal(error) && error.field === "name" ? await preview(error.message, renamed) : null;
     return refusedWith(error, (refusal): ActionResult => {
+      if (again) return again;
       const advice = refusal.field === "name" ? " Import it as a new revision of that device instead, or rename the device in the document." : "";
-      return { stage: "refused", message: refusal.issues.length ? "The document is not a valid Sallyport model." : `${refusal.message}${advice}`, problems: [...refusal.issues], target };
+      return { stage: "refused", message: refusal.issues.length ? "The document is not a valid Sallyport model." : `${refusal.message}${advice}`, problems: [...refusal.issues], errors: refusal.field === "siteName" ? { siteName: refusal.message } : {}, ...step };
     });
   }
 }
@@ -107,7 +161,16 @@ export async function action({ request, context }: Route.ActionArgs) {
 export default function ImportModel({ loaderData, actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
   const busy = navigation.state === "submitting";
-  const target = actionData?.target ?? "";
+  const { sites, devices } = loaderData;
+  const [target, setTarget] = useState(actionData?.target ?? (sites.length === 0 ? NEW_SITE_TARGET : ""));
+  // The choice follows the server's answer (the preview may switch to a new revision), as state adjusted during render.
+  const [answeredTarget, setAnsweredTarget] = useState(actionData?.target);
+  if (actionData && actionData.target !== answeredTarget) {
+    setAnsweredTarget(actionData.target);
+    setTarget(actionData.target);
+  }
+  const errors: StepErrors = actionData?.stage === "refused" ? actionData.errors : {};
+  const fieldMessages = new Set(Object.values(errors));
   return (
     <>
       <PageHeader title="Import a model document" description="Upload a Sallyport model document (JSON, schemaVersion 2 — version 1 is read too — at most 1 MiB). You see what it contains before anything is created." />
@@ -115,7 +178,7 @@ export default function ImportModel({ loaderData, actionData }: Route.ComponentP
         <Card className="p-6">
           <Form method="post" encType="multipart/form-data" className="space-y-5" noValidate>
             <input type="hidden" name="intent" value="preview" />
-            {actionData?.stage === "refused" ? (
+            {actionData?.stage === "refused" && !fieldMessages.has(actionData.message) ? (
               <div role="alert" className="space-y-2">
                 <FormError message={actionData.message} />
                 {actionData.problems.length > 0 ? (
@@ -133,22 +196,36 @@ export default function ImportModel({ loaderData, actionData }: Route.ComponentP
               <label htmlFor="model-file" className="block text-sm font-medium">
                 Model document
               </label>
-              <input id="model-file" type="file" name="file" accept=".json,application/json" className="block w-full text-sm file:mr-3 file:rounded-control file:border file:border-line-strong file:bg-surface file:px-3 file:py-1.5" />
+              <input
+                id="model-file"
+                type="file"
+                name="file"
+                accept=".json,application/json"
+                aria-invalid={errors.file ? true : undefined}
+                aria-describedby={errors.file ? "model-file-error" : undefined}
+                className="block w-full text-sm file:mr-3 file:rounded-control file:border file:border-line-strong file:bg-surface file:px-3 file:py-1.5"
+              />
+              {errors.file ? (
+                <p id="model-file-error" role="alert" className="text-sm text-danger">
+                  {errors.file}
+                </p>
+              ) : null}
             </div>
-            <SelectField label="Import as" name="target" defaultValue={target}>
+            <SelectField label="Import as" name="target" value={target} onChange={(event) => setTarget(event.currentTarget.value)} error={errors.target}>
               <option value="" disabled>
                 Choose…
               </option>
               <optgroup label="A new device at site">
-                {loaderData.sites.map((site) => (
+                {sites.map((site) => (
                   <option key={site.id} value={`site:${site.id}`}>
                     New device at {site.name}
                   </option>
                 ))}
+                <option value={NEW_SITE_TARGET}>New device at a new site…</option>
               </optgroup>
-              {loaderData.devices.length > 0 ? (
+              {devices.length > 0 ? (
                 <optgroup label="A new revision of">
-                  {loaderData.devices.map((device) => (
+                  {devices.map((device) => (
                     <option key={device.id} value={`device:${device.id}`}>
                       {device.name} (now r{device.revision})
                     </option>
@@ -156,59 +233,109 @@ export default function ImportModel({ loaderData, actionData }: Route.ComponentP
                 </optgroup>
               ) : null}
             </SelectField>
+            {target === NEW_SITE_TARGET ? (
+              <TextField
+                label="New site's name"
+                name="siteName"
+                required
+                maxLength={100}
+                defaultValue={actionData?.siteName}
+                error={errors.siteName}
+                hint={sites.length === 0 ? "This organisation has no sites yet: name the first one (a customer location, or your own office). It is created with the device." : "Created with the device; add its customer and location on the Sites page."}
+              />
+            ) : null}
             <Button type="submit" disabled={busy}>
               Check the document
             </Button>
           </Form>
         </Card>
-        {actionData?.stage === "preview" ? (
-          <Card className="p-6" aria-labelledby="preview-heading">
-            <h2 id="preview-heading" className="text-lg font-semibold">
-              Preview: {actionData.deviceName}
-            </h2>
-            <p className="mt-1 text-sm text-ink-muted">
-              From {actionData.fileName}, as {actionData.targetLabel}.
-            </p>
-            {actionData.upgradeNote ? <p className="mt-2 rounded-control border border-info/40 bg-info-soft p-3 text-sm">{actionData.upgradeNote}</p> : null}
-            <dl className="mt-4 grid grid-cols-[10rem_1fr] gap-2 text-sm">
-              <dt className="text-ink-muted">Will create</dt>
-              <dd>
-                {[
-                  plural(actionData.summary.counts.interfaces, { one: "interface", other: "interfaces" }),
-                  plural(actionData.summary.counts.addressObjects, { one: "address object or group", other: "address objects and groups" }),
-                  plural(actionData.summary.counts.inboundRules, { one: "inbound rule", other: "inbound rules" }),
-                  plural(actionData.summary.counts.accounts, { one: "account", other: "accounts" }),
-                ].join(", ")}
-              </dd>
-              <dt className="text-ink-muted">Findings</dt>
-              <dd>
-                <SeverityCounts counts={actionData.summary.findingsBySeverity} />
-              </dd>
-              <dt className="text-ink-muted">Worst on wan</dt>
-              <dd>{isOutcome(actionData.summary.worstOutsideOutcome) ? <OutcomeChip outcome={actionData.summary.worstOutsideOutcome} /> : "no wan interface"}</dd>
-            </dl>
-            {actionData.warnings.length > 0 ? (
-              <ul className="mt-4 rounded-control border border-warning/40 bg-warning-soft p-3 text-xs">
-                {actionData.warnings.map((warning, index) => (
-                  <li key={index}>
-                    <code>{warning.path}</code>: {warning.message}
-                  </li>
-                ))}
-              </ul>
-            ) : null}
-            <Form method="post" className="mt-6">
-              <input type="hidden" name="intent" value="import" />
-              <input type="hidden" name="target" value={actionData.target} />
-              <input type="hidden" name="fileName" value={actionData.fileName} />
-              <input type="hidden" name="baseRevision" value={actionData.baseRevision ?? ""} />
-              <input type="hidden" name="documentText" value={actionData.documentText} />
-              <Button type="submit" disabled={busy}>
-                Import {actionData.deviceName}
-              </Button>
-            </Form>
-          </Card>
-        ) : null}
+        {actionData?.stage === "preview" ? <ImportPreview key={`${actionData.target}:${actionData.documentText.length}:${actionData.rename?.proposed ?? ""}`} preview={actionData} busy={busy} /> : null}
       </div>
     </>
+  );
+}
+
+type PreviewData = Extract<Route.ComponentProps["actionData"], { stage: "preview" }>;
+
+function ImportPreview({ preview, busy }: { preview: PreviewData; busy: boolean }) {
+  const { rename } = preview;
+  const carried = (
+    <>
+      <input type="hidden" name="fileName" value={preview.fileName} />
+      <input type="hidden" name="documentText" value={preview.documentText} />
+    </>
+  );
+  return (
+    <Card className="p-6" aria-labelledby="preview-heading">
+      <h2 id="preview-heading" className="text-lg font-semibold">
+        Preview: {preview.deviceName}
+      </h2>
+      <p className="mt-1 text-sm text-ink-muted">
+        From {preview.fileName}, as {preview.targetLabel}.
+      </p>
+      {preview.upgradeNote ? <p className="mt-2 rounded-control border border-info/40 bg-info-soft p-3 text-sm">{preview.upgradeNote}</p> : null}
+      <dl className="mt-4 grid grid-cols-[minmax(6rem,10rem)_1fr] gap-2 text-sm">
+        <dt className="text-ink-muted">Will create</dt>
+        <dd>
+          {[
+            plural(preview.summary.counts.interfaces, { one: "interface", other: "interfaces" }),
+            plural(preview.summary.counts.addressObjects, { one: "address object or group", other: "address objects and groups" }),
+            plural(preview.summary.counts.inboundRules, { one: "inbound rule", other: "inbound rules" }),
+            plural(preview.summary.counts.accounts, { one: "account", other: "accounts" }),
+          ].join(", ")}
+        </dd>
+        <dt className="text-ink-muted">Findings</dt>
+        <dd>
+          <SeverityCounts counts={preview.summary.findingsBySeverity} />
+        </dd>
+        <dt className="text-ink-muted">Worst on wan</dt>
+        <dd>{isOutcome(preview.summary.worstOutsideOutcome) ? <OutcomeChip outcome={preview.summary.worstOutsideOutcome} /> : "no wan interface"}</dd>
+      </dl>
+      {preview.warnings.length > 0 ? (
+        <ul className="mt-4 rounded-control border border-warning/40 bg-warning-soft p-3 text-xs">
+          {preview.warnings.map((warning, index) => (
+            <li key={index}>
+              <code>{warning.path}</code>: {warning.message}
+            </li>
+          ))}
+        </ul>
+      ) : null}
+      <Form method="post" className="mt-6 space-y-4">
+        <input type="hidden" name="intent" value="import" />
+        <input type="hidden" name="target" value={preview.target} />
+        <input type="hidden" name="siteName" value={preview.siteName} />
+        <input type="hidden" name="baseRevision" value={preview.baseRevision ?? ""} />
+        {carried}
+        {rename ? (
+          <TextField
+            label="Name of the new device"
+            name="deviceName"
+            required
+            maxLength={63}
+            defaultValue={rename.proposed}
+            error={rename.error ?? undefined}
+            hint={
+              rename.taken
+                ? `A device named ${preview.deviceName} exists already, so this one is offered as ${rename.proposed}; change it as you like. Letters, digits, dot, underscore, dash.`
+                : "The name in the document; change it to import under another name. Letters, digits, dot, underscore, dash."
+            }
+          />
+        ) : null}
+        <Button type="submit" disabled={busy}>
+          Import {rename ? "as a new device" : preview.deviceName}
+        </Button>
+      </Form>
+      {rename?.taken ? (
+        <Form method="post" className="mt-3 border-t border-line pt-3 text-sm">
+          <input type="hidden" name="intent" value="preview" />
+          <input type="hidden" name="target" value={`device:${rename.taken.id}`} />
+          {carried}
+          <span className="text-ink-muted">Or update the existing one: </span>
+          <button type="submit" className="font-medium text-harbour underline underline-offset-4" disabled={busy}>
+            check it as a new revision of {preview.deviceName} (now r{rename.taken.revision})
+          </button>
+        </Form>
+      ) : null}
+    </Card>
   );
 }

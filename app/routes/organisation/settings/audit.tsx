@@ -8,6 +8,7 @@ import { AUDIT_ACTION_LABELS, auditActionLabel, auditDetails, auditSentence, aud
 import { Pager } from "#app/components/analysis/common";
 import { buttonClasses } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
+import { PAGE_ROLES } from "#server/auth/roles";
 import { EmptyState } from "#app/components/ui/empty-state";
 import { Table, Td, Th } from "#app/components/ui/table";
 import { Time } from "#app/components/ui/time";
@@ -16,7 +17,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Audit log · Sallyport"
 
 // Reviewers and above: the record is evidence for change review and audits; trainees do not need it.
 export async function loader({ request, context }: Route.LoaderArgs) {
-  const access = requireRole(context, "reviewer");
+  const access = requireRole(context, PAGE_ROLES.auditLog);
   const query = parseAuditQuery(new URL(request.url).searchParams);
   const [found, choices] = await Promise.all([auditLogPage(access.organisation.id, query), auditFilterChoices(access.organisation.id)]);
   return {

@@ -129,7 +129,8 @@ export default function Members({ loaderData, actionData }: Route.ComponentProps
           </thead>
           <tbody>
             {loaderData.members.map((member) => {
-              const editable = loaderData.canManage && (member.role !== "owner" || loaderData.myRole === "owner");
+              // Nobody changes or removes their own membership from here: another admin or owner does.
+              const editable = loaderData.canManage && member.userId !== loaderData.myUserId && (member.role !== "owner" || loaderData.myRole === "owner");
               return (
                 <tr key={member.membershipId}>
                   <Td className="font-medium">

@@ -14,6 +14,7 @@ import { isOutcome } from "#server/engine/vocabulary";
 import { Button } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
+import { NoInterfacesYet } from "#app/components/device/no-interfaces";
 import { LAYER_TITLES, outcomeSentence } from "#app/utils/trace-words";
 import { formatInstant } from "#server/engine/format";
 
@@ -76,6 +77,11 @@ function fieldsFrom(query: Record<string, string>, fallback: { interface: string
 }
 
 export default function Analysis({ loaderData }: Route.ComponentProps) {
+  if (loaderData.canvas.interfaces.length === 0) return <NoInterfacesYet page="A trace" />;
+  return <TraceWorkspace loaderData={loaderData} />;
+}
+
+function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">) {
   const { canvas, services, devicePath, timezone } = loaderData;
   const fallback = { interface: canvas.interfaces.find((entry) => entry.role === "wan")?.name ?? canvas.interfaces[0]?.name ?? "", service: "https" };
   const { probe, trace: result, error, step, setProbe, showResult, setStep, reset } = useTraceStore();
@@ -198,7 +204,7 @@ export default function Analysis({ loaderData }: Route.ComponentProps) {
         <Card className="p-5">
           <ol className="space-y-2" aria-label="Layer verdicts">
             {shown.trace.layers.map((layer, index) => (
-              <li key={layer.layer} className={cx("grid grid-cols-[9rem_6rem_1fr] items-baseline gap-3 text-sm", index >= shown.step && "opacity-40")}>
+              <li key={layer.layer} className={cx("grid grid-cols-[9rem_6rem_1fr] items-baseline gap-3 text-sm max-sm:grid-cols-[minmax(0,1fr)_auto] max-sm:gap-x-3 max-sm:gap-y-0.5 max-sm:[&>:last-child]:col-span-2", index >= shown.step && "opacity-40")}>
                 <span className="font-medium">{LAYER_TITLES[layer.layer]}</span>
                 <span className={cx("w-fit rounded px-1.5 py-0.5 text-xs font-semibold", index >= shown.step ? "bg-surface-sunken text-ink-faint" : layer.result === "stop" ? "bg-danger-soft text-danger" : "bg-success-soft text-success")}>
                   {index >= shown.step ? "?" : layer.result === "stop" ? "stops here" : "passes"}

@@ -12,6 +12,7 @@ import { buttonClasses } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
 import { EmptyState } from "#app/components/ui/empty-state";
+import { NoInterfacesYet } from "#app/components/device/no-interfaces";
 import { Table, Td, Th } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Exposure map · ${loaded?.deviceName ?? "Device"} · Sallyport` }];
@@ -47,6 +48,7 @@ export default function Exposure({ loaderData }: Route.ComponentProps) {
     return `?${next.toString()}`;
   };
   const focus = answer?.focus ?? null;
+  if (answer && answer.interfaces.length === 0) return <NoInterfacesYet page="An exposure map" />;
   return (
     <div className="space-y-6">
       <div>

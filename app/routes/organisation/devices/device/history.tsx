@@ -51,7 +51,7 @@ export default function History({ loaderData }: Route.ComponentProps) {
             {revisions.map((revision) => (
               <tr key={revision.number}>
                 <Td className="tabular font-semibold">r{revision.number}</Td>
-                <Td>{revision.message || <span className="text-ink-faint">no message</span>}</Td>
+                <Td className="max-sm:min-w-56!">{revision.message || <span className="text-ink-faint">no message</span>}</Td>
                 <Td className="text-ink-muted">{revision.authorEmail}</Td>
                 <Td className="tabular whitespace-nowrap text-ink-muted"><Time at={revision.createdAt} timeZone={timezone} clock /></Td>
                 <Td className="text-right">

@@ -1,11 +1,12 @@
-import { Link, NavLink, Outlet } from "react-router";
+import type { ReactNode } from "react";
+import { Link, Outlet, useParams, useRouteLoaderData } from "react-router";
 import type { Route } from "./+types/layout";
 import { hasAtLeastRole } from "#server/auth/roles";
 import { deviceMiddleware, requireDevice } from "#server/http/device-access.server";
 import { buttonClasses } from "#app/components/ui/button";
-import { cx } from "#app/components/ui/cx";
-import { DEVICE_SECTIONS, SECTION_TITLES } from "#app/components/device/sections";
 import { SimulationCaution } from "#app/components/analysis/common";
+import { DeviceNav } from "#app/components/device/device-nav";
+import { ErrorPanel } from "#app/components/error-panel";
 
 // The device in the URL at its current revision, resolved once per request for every route below.
 export const middleware: Route.MiddlewareFunction[] = [deviceMiddleware];
@@ -19,11 +20,31 @@ export async function loader({ context }: Route.LoaderArgs) {
   };
 }
 
+type DeviceFrameData = Route.ComponentProps["loaderData"];
+
 export default function DeviceLayout({ loaderData }: Route.ComponentProps) {
-  const { slug, device } = loaderData;
+  return (
+    <DeviceFrame frame={loaderData}>
+      <Outlet />
+    </DeviceFrame>
+  );
+}
+
+/** A device page refused or failed: the message shows under the device's name and navigation. */
+export function ErrorBoundary({ error }: Route.ErrorBoundaryProps) {
+  const frame = useRouteLoaderData<typeof loader>("routes/organisation/devices/device/layout");
+  const params = useParams();
+  if (!frame) return <ErrorPanel error={error} home={{ to: `/o/${params.organisation ?? ""}/devices`, label: "Back to devices" }} />;
+  return (
+    <DeviceFrame frame={frame}>
+      <ErrorPanel error={error} home={{ to: `/o/${frame.slug}/devices/${frame.device.id}`, label: `Back to ${frame.device.name}` }} />
+    </DeviceFrame>
+  );
+}
+
+function DeviceFrame({ frame, children }: { frame: DeviceFrameData; children: ReactNode }) {
+  const { slug, device } = frame;
   const base = `/o/${slug}/devices/${device.id}`;
-  const tab = ({ isActive }: { isActive: boolean }) =>
-    cx("-mb-px border-b-2 px-2.5 py-2 text-sm font-medium whitespace-nowrap", isActive ? "border-harbour text-harbour" : "border-transparent text-ink-muted hover:text-ink");
   return (
     <>
       <nav aria-label="Breadcrumb" className="mb-2 text-sm text-ink-muted">
@@ -34,7 +55,7 @@ export default function DeviceLayout({ loaderData }: Route.ComponentProps) {
       </nav>
       <div className="mb-4 flex flex-wrap items-end justify-between gap-3">
         <div>
-          <h1 className="font-mono text-display">{device.name}</h1>
+          <h1 className="font-mono text-display break-all">{device.name}</h1>
           <p className="mt-1 text-sm text-ink-muted">
             Current revision <strong className="tabular text-ink">r{device.revision}</strong>
           </p>
@@ -43,29 +64,8 @@ export default function DeviceLayout({ loaderData }: Route.ComponentProps) {
           Export model (JSON)
         </a>
       </div>
-      <nav aria-label="Device" className="mb-6 flex gap-1 overflow-x-auto border-b border-line">
-        <NavLink to={base} end className={tab}>
-          Overview
-        </NavLink>
-        <NavLink to={`${base}/analysis`} className={tab}>
-          Trace
-        </NavLink>
-        <NavLink to={`${base}/reach`} className={tab}>
-          Reach
-        </NavLink>
-        <NavLink to={`${base}/exposure`} className={tab}>
-          Exposure map
-        </NavLink>
-        {DEVICE_SECTIONS.map((section) => (
-          <NavLink key={section} to={`${base}/model/${section}`} className={tab}>
-            {SECTION_TITLES[section]}
-          </NavLink>
-        ))}
-        <NavLink to={`${base}/history`} className={tab}>
-          History
-        </NavLink>
-      </nav>
-      <Outlet />
+      <DeviceNav base={base} />
+      {children}
       {/* Once per page, at the foot of the workspace: every tab shows simulated results. */}
       <footer className="mt-10">
         <SimulationCaution />

@@ -9,6 +9,7 @@ import { formatInstant, formatNumber, plural, pluralWord, type PluralForms } fro
 import { buttonClasses } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
+import { NoInterfacesYet } from "#app/components/device/no-interfaces";
 import { TextField } from "#app/components/ui/field";
 import { SortHeader } from "#app/components/ui/sort-header";
 import { nameTie, tableRows, urlSort, type ColumnDef } from "#app/components/ui/table-rows";
@@ -120,7 +121,7 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
             <strong>{answer.from}</strong> {summaryOf(answer.rows)}.
           </p>
           {answer.rows.length === 0 ? (
-            <EmptyState title="No interfaces">This device has no interfaces, so nothing can be reached.</EmptyState>
+            <NoInterfacesYet page="Reach" />
           ) : (
             <Table>
               <caption className="sr-only">Outcome for each interface and service, sortable by column</caption>
@@ -146,7 +147,7 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
                       <OutcomeChip outcome={row.outcome} />
                       <span className="sr-only"> ({row.outcome})</span>
                     </Td>
-                    <Td className="max-w-md">
+                    <Td className="max-w-md max-sm:min-w-56!">
                       <span className="font-medium">{isLayer(row.layer) ? LAYER_TITLES[row.layer] : row.layer}</span>
                       <span className="block text-xs text-ink-muted">{row.detail}</span>
                     </Td>

@@ -1,0 +1,176 @@
+import { mkdirSync } from "node:fs";
+import path from "node:path";
+import type { Page } from "@playwright/test";
+import { ROLES, type Role } from "#models/roles";
+import { hasAtLeastRole, PAGE_ROLES } from "#server/auth/roles";
+import { DEVICE_SECTIONS } from "#app/components/device/sections";
+import { expect, test } from "./fixtures";
+import { hydrated, seriousAccessibilityViolations } from "./helpers";
+import { createTeam, type Team } from "./team";
+
+// Every page of the app, as every role of an organisation of the tests' own, at a laptop's
+// 1366 px and a phone's 390 px, in light and dark: the shell never scrolls sideways, axe finds
+// no serious or critical violation, and (through the shared fixture) nothing logs an error or
+// fails to load. Screenshots go to tests/artifacts/sweep/<role>/ (1366 light and 390 dark).
+//
+// Kept to a few minutes on a 2-core machine: each page is loaded once and re-laid out at each
+// size and scheme; the dark scheme changes colours only, so axe's colour rules run there and
+// every rule runs in light; and a rendering that another role already had (same main content
+// and navigation) is not checked by axe again.
+
+const SIZES = [
+  { name: "1366", width: 1366, height: 860 },
+  { name: "390", width: 390, height: 844 },
+] as const;
+const SCHEMES = ["light", "dark"] as const;
+const ARTIFACTS = path.resolve("tests/artifacts/sweep");
+/** axe rules whose verdict depends on colours, the only thing the scheme changes. */
+const COLOUR_RULES = ["color-contrast", "link-in-text-block"];
+/** Renderings axe has checked, across the roles' tests: page, size, scheme and the HTML of the page's own content and navigation. */
+const checked = new Set<string>();
+
+/** A key for what axe would see on the page now, apart from the signed-in person's own name in the top bar. */
+async function renderingKey(page: Page, where: string): Promise<string> {
+  const html = await page.evaluate(() => [...document.querySelectorAll("main, nav")].map((element) => element.outerHTML).join(""));
+  return `${where}\n${html}`;
+}
+
+/** Pages that not every role may open, with the least role each needs (the pages' own table). */
+const GATED: Array<{ path: string; role: Role }> = [
+  { path: "devices/new", role: PAGE_ROLES.newDevice },
+  { path: "devices/import", role: PAGE_ROLES.importModel },
+  { path: "settings/audit", role: PAGE_ROLES.auditLog },
+];
+
+function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } {
+  const organisation = `/o/${team.slug}`;
+  const device = team.device.path;
+  const everyone = ["devices", "sites", "findings", "training", "settings/members", "settings/shared-objects", "settings/organisation"].map((page) => `${organisation}/${page}`);
+  const devicePages = [
+    device,
+    `${device}/analysis?from=203.0.113.50&interface=outside&service=https`,
+    `${device}/reach?from=203.0.113.50`,
+    `${device}/exposure?interface=outside&service=https`,
+    `${device}/history`,
+    ...DEVICE_SECTIONS.map((section) => `${device}/model/${section}`),
+  ];
+  const gated = GATED.map((page) => ({ ...page, path: `${organisation}/${page.path}` }));
+  return {
+    open: [...everyone, ...gated.filter((page) => hasAtLeastRole(role, page.role)).map((page) => page.path), "/account", ...devicePages],
+    refused: gated.filter((page) => !hasAtLeastRole(role, page.role)).map((page) => page.path),
+  };
+}
+
+function artifactName(team: Team, url: string): string {
+  return url
+    .replace(team.device.path, "device")
+    .replace(`/o/${team.slug}/`, "")
+    .replace(/^\//, "")
+    .replace(/[^a-z0-9]+/gi, "-")
+    .replace(/-+$/, "");
+}
+
+/** How far the document scrolls sideways: 0 when nothing sticks out of the viewport. */
+async function sidewaysOverflow(page: Page): Promise<number> {
+  return page.evaluate(() => (document.scrollingElement ?? document.documentElement).scrollWidth - window.innerWidth);
+}
+
+/**
+ * On a device page at 1366 px, every one of the device's 13 pages is linked inside the device
+ * navigation's box (none cut off or pushed out of view), and exactly one is marked current.
+ */
+async function deviceNavigationProblems(page: Page): Promise<string[]> {
+  return page.getByRole("navigation", { name: "Device" }).evaluate((nav) => {
+    const box = nav.getBoundingClientRect();
+    const links = [...nav.querySelectorAll("a")];
+    const problems = links.filter((link) => {
+      const own = link.getBoundingClientRect();
+      return own.width === 0 || own.left < box.left || own.right > box.right || own.right > window.innerWidth;
+    }).map((link) => `device page "${link.textContent}" is cut off or out of view`);
+    if (links.length !== 13) problems.push(`the device navigation has ${links.length} pages, not 13`);
+    const current = links.filter((link) => link.getAttribute("aria-current") === "page");
+    if (current.length !== 1) problems.push(`${current.length} device pages are marked current`);
+    return problems;
+  });
+}
+
+/** Same-origin link paths on the page, except downloads. */
+async function linkPaths(page: Page): Promise<string[]> {
+  return page.locator("a[href^='/']:not([download])").evaluateAll((links) => links.map((link) => new URL((link as HTMLAnchorElement).href).pathname));
+}
+
+// Traces of ~500 screenshots and axe runs would cost more than the sweep itself.
+test.use({ trace: "off" });
+
+let team: Team;
+test.beforeAll(async ({ playwright }, testInfo) => {
+  const baseURL = testInfo.project.use.baseURL;
+  if (!baseURL) throw new Error("no baseURL in playwright.config.ts");
+  team = await createTeam(playwright.request, baseURL, "sweep");
+});
+
+for (const role of ROLES) {
+  test(`Every page as ${role === "admin" || role === "owner" || role === "engineer" ? "an" : "a"} ${role}, at 1366 and 390 px, light and dark, fits the screen and passes axe`, async ({ browser, browserProblems }) => {
+    // About 40 s on a quiet machine; the bound leaves room for a busy one.
+    test.setTimeout(360_000);
+    // Reduced motion: colours switch at once with the scheme, so axe never measures a transition halfway.
+    const context = await browser.newContext({ storageState: team.members[role].storageState, viewport: SIZES[0], reducedMotion: "reduce" });
+    browserProblems.watch(context);
+    const page = await context.newPage();
+    const { open, refused } = pagesOf(team, role);
+    const folder = path.join(ARTIFACTS, role);
+    mkdirSync(folder, { recursive: true });
+    const seen = new Set<string>();
+    const findings: string[] = [];
+
+    for (const url of open) {
+      await page.setViewportSize(SIZES[0]);
+      await page.emulateMedia({ colorScheme: "light" });
+      const response = await page.goto(url);
+      expect(response?.status(), url).toBe(200);
+      await hydrated(page);
+      if (url.startsWith(team.device.path)) for (const problem of await deviceNavigationProblems(page)) findings.push(`${url} at 1366 px: ${problem}`);
+      for (const size of SIZES) {
+        await page.setViewportSize(size);
+        for (const scheme of SCHEMES) {
+          await page.emulateMedia({ colorScheme: scheme });
+          const where = `${url} at ${size.name} px, ${scheme}`;
+          const overflow = await sidewaysOverflow(page);
+          if (overflow > 0) findings.push(`${where}: the page scrolls ${overflow} px sideways`);
+          const key = await renderingKey(page, where);
+          if (!checked.has(key)) {
+            checked.add(key);
+            for (const violation of await seriousAccessibilityViolations(page, scheme === "dark" ? COLOUR_RULES : undefined)) findings.push(`${where}: ${violation}`);
+          }
+          // Two of the four kept: the laptop in light and the phone in dark show both sizes and both schemes.
+          if ((size.name === "1366") === (scheme === "light")) await page.screenshot({ path: path.join(folder, `${artifactName(team, url)}-${size.name}-${scheme}.png`), fullPage: true });
+        }
+      }
+      for (const link of await linkPaths(page)) seen.add(link);
+    }
+
+    // A page the role may not open is not linked from any page it may open …
+    const refusedPaths = new Set(refused.map((url) => new URL(url, "http://x").pathname));
+    expect([...seen].filter((link) => refusedPaths.has(link)), "links to pages this role may not open").toEqual([]);
+    // … and every other page linked answers (those not swept above are asked for directly).
+    const swept = new Set(open.map((url) => new URL(url, "http://x").pathname));
+    for (const link of [...seen].filter((candidate) => !swept.has(candidate) && candidate !== "/logout")) {
+      const answer = await page.request.get(link);
+      if (answer.status() >= 400) findings.push(`link ${link} answers ${answer.status()}`);
+    }
+
+    // Opened by address anyway, such a page refuses inside the app's frame, with a way back.
+    for (const url of refused) {
+      browserProblems.expect(403, new RegExp(`${url.replace(/[/.]/g, "\\$&")}(\\?|$)`));
+      const response = await page.goto(url);
+      expect(response?.status(), url).toBe(403);
+      await expect(page.getByRole("heading", { name: "Not allowed" })).toBeVisible();
+      await expect(page.getByRole("navigation", { name: "Main" })).toBeVisible();
+      await expect(page.getByRole("link", { name: /^Back to / })).toBeVisible();
+      await page.screenshot({ path: path.join(folder, `refused-${artifactName(team, url)}-390-dark.png`) });
+    }
+
+    expect(findings).toEqual([]);
+    await context.close();
+  });
+}
