@@ -4,7 +4,7 @@
 import AxeBuilder from "@axe-core/playwright";
 import type { Page } from "@playwright/test";
 import { expect, test } from "./fixtures";
-import { screenshot, signIn, toast } from "./helpers";
+import { screenshot, signUpNewOrganisation, toast } from "./helpers";
 
 /** Invented scenario: a ferry terminal's edge appliance; RFC 5737 outside, RFC 1918 inside. */
 function terminalEdge(name: string) {
@@ -27,13 +27,19 @@ function terminalEdge(name: string) {
   };
 }
 
-/** Imports a fresh device through the import page; returns the path of its rules section. */
+/**
+ * Signs up a new organisation of its own (tests never change the demo's) and imports a fresh
+ * device through the import page at a new site; returns the path of its rules section.
+ */
 async function importDevice(page: Page, name: string): Promise<string> {
-  await page.goto("/o/lanternfield/devices/import");
+  const slug = await signUpNewOrganisation(page, "Ferry terminal", name);
+  await page.goto(`/o/${slug}/devices/import`);
   await page.getByLabel("Model document").setInputFiles({ name: `${name}.json`, mimeType: "application/json", buffer: Buffer.from(JSON.stringify(terminalEdge(name))) });
-  await page.getByLabel("Import as").selectOption({ label: "New device at Brightwater Clinic — main campus" });
+  await page.getByLabel("New site's name").fill("Ferry terminal");
   await page.getByRole("button", { name: "Check the document" }).click();
-  await page.getByRole("button", { name: `Import ${name}` }).click();
+  // A new device's name is offered for confirmation (it is free, so it is the document's own).
+  await expect(page.getByLabel("Name of the new device")).toHaveValue(name);
+  await page.getByRole("button", { name: "Import as a new device" }).click();
   await page.waitForURL(/\/devices\/[0-9a-f-]{36}$/);
   await expect(page.getByRole("heading", { name, exact: true })).toBeVisible();
   return `${new URL(page.url()).pathname}/model/rules`;
@@ -41,7 +47,6 @@ async function importDevice(page: Page, name: string): Promise<string> {
 
 test("An engineer adds an inbound rule with the name pickers using the keyboard only", async ({ page }) => {
   const name = `forms-kbd-${Date.now().toString(36)}`;
-  await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
   await page.goto(await importDevice(page, name));
   const ruleForm = page.getByRole("form", { name: "Inbound rule" });
 
@@ -115,7 +120,6 @@ test.describe("Without JavaScript", () => {
     // The refused form answers 400 (DEVELOPERS.md: bad input is a clear 4xx).
     browserProblems.expect(400, /\/model\/rules/);
     const name = `forms-nojs-${Date.now().toString(36)}`;
-    await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
     await page.goto(await importDevice(page, name));
     const ruleForm = page.getByRole("form", { name: "Inbound rule" });
     // Progressive enhancement: the pickers are text areas, one name per line.
@@ -144,7 +148,6 @@ test.describe("Without JavaScript", () => {
 
 test("The first rule cannot move up nor the last down; the compact view lists a rule per line and is remembered", async ({ page }) => {
   const name = `forms-list-${Date.now().toString(36)}`;
-  await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
   await page.goto(await importDevice(page, name));
   await expect(page.getByRole("button", { name: "Move rule noc-admin up" })).toBeDisabled();
   await expect(page.getByRole("button", { name: "Move rule noc-admin down" })).toBeEnabled();

@@ -60,3 +60,16 @@ export async function seriousAccessibilityViolations(page: Page, rules?: string[
 export async function hydrated(page: Page): Promise<void> {
   await page.locator("html[data-hydrated]").waitFor({ state: "attached" });
 }
+
+/** Signs up a new organisation with its owner (an invented person; e-mail in the reserved test.example domain); returns its slug. */
+export async function signUpNewOrganisation(page: Page, organisation: string, label: string): Promise<string> {
+  const stamp = `${label}-${Date.now().toString(36)}`;
+  await page.goto("/signup");
+  await page.getByLabel("Your name").fill("Ines Quayle");
+  await page.getByLabel("Work e-mail").fill(`ines.${stamp}@test.example`);
+  await page.getByLabel("Organisation").fill(`${organisation} ${stamp}`);
+  await page.getByLabel("Password", { exact: true }).fill("quiet harbour lantern 42");
+  await page.getByRole("button", { name: "Create organisation" }).click();
+  await page.waitForURL(/\/o\/[a-z0-9-]+\/devices$/);
+  return new URL(page.url()).pathname.split("/")[2];
+}

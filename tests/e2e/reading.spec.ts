@@ -25,7 +25,9 @@ async function signUp(page: Page, name: string, organisation: string): Promise<s
   return new URL(page.url()).pathname.split("/")[2];
 }
 
-test("A new user changes their name on the account page, inside the app shell", async ({ page }) => {
+test("A new user changes their name on the account page, inside the app shell", async ({ page, browserProblems }) => {
+  // A refused change answers 400 (bad input is a clear 4xx).
+  browserProblems.expect(400, /\/account/);
   const errors = consoleErrors(page);
   await signUp(page, "Ada Pierhead", "Pierhead Survey");
 

@@ -126,7 +126,7 @@ describe("The device-revision repository", () => {
     expect(compiled.partitionSources.swept).toBe(0);
     // Same answer as a model compiled from nothing (RFC 5737 source; r1 denies ssh, PRODUCT.md §3 layer 2).
     const fresh = compileModel(after!.effective);
-    const probe = { from: "192.0.2.50", interface: "outside", service: "ssh" };
+    const probe = { from: "192.0.2.50", interface: "outside", service: "ssh", at: "2026-01-05T10:00:00Z" };
     expect(trace(compiled, probe)).toEqual(trace(fresh, probe));
     expect(after!.analysis.findings).toEqual(findings(fresh));
   });

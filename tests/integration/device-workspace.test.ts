@@ -431,7 +431,7 @@ describe("Refused forms say each problem beside its field and keep what was type
   test("A rule with mistyped names is refused (400): each problem under its field in words, with the close name, and the typed values back in the form", async () => {
     const { client, slug, siteId } = await newOrganisationWithSite("ws-field-words");
     const device = await importDocument(client, slug, siteId, QUAY_EDGE);
-    const typed = { intent: "save-rule", id: "partner-ssh", position: "2", interface: "outside", sources: "noc-nte\npartner-hq", destinations: "any", services: "sshh", schedule: "always", action: "allow", enabled: "on", note: "partner maintenance" };
+    const typed = { intent: "save-rule", id: "partner-ssh", position: "2", interface: "outside", sources: "noc-nte\npartner-hq", destinations: "any", services: "sshh", schedule: "all-week", action: "allow", enabled: "on", note: "partner maintenance" };
 
     const refused = await device.edit("rules", typed);
     expect(refused.status).toBe(400);
