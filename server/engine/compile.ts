@@ -333,7 +333,7 @@ export class CompiledModel {
       this.basisRef = new WeakRef(basis);
       // The address book is already known to be the same; the rest is small.
       const others = (m: DeviceModel) => JSON.stringify([m.schemaVersion, m.device, m.interfaces, m.services, m.serviceGroups, m.schedules, m.accounts, m.operatorNetworks]);
-      this.onlyRulesChanged = others(basis.model) === others(model) && Object.keys(basis.model).length === Object.keys(model).length;
+      this.onlyRulesChanged = others(basis.model) === others(model);
       const edit = singleEdit(basis.model, model);
       this.editedRule = edit === null ? null : { id: edit, basisPosition: basis.model.inboundRules.findIndex((r) => r.id === edit) };
       const basisIndexOf = new Map(basis.model.inboundRules.map((r, i) => [r.id, i]));

@@ -9,7 +9,9 @@
 
 import { CompiledModel } from "./compile.ts";
 import type { CompileOptions, ProbeInput } from "./compile.ts";
-import { exposureAt, exposureMap } from "./exposure.ts";
+import { exposureAt, exposureMap, worstOutcomeOn } from "./exposure.ts";
+import { OUTCOMES } from "./vocabulary.ts";
+import type { Outcome } from "./vocabulary.ts";
 import type { ExposureAt, ExposureMap } from "./exposure.ts";
 import type { DeviceModel } from "./model.ts";
 import { reachFrom } from "./reach.ts";
@@ -40,17 +42,6 @@ export type { TraceLayer, TraceResult } from "./trace.ts";
 export type { ExposureAt, ExposureEntry, ExposureMap, ExposureSlice } from "./exposure.ts";
 /** The slices of `exposure(device)` one at a time, each built when asked for (a large map written slice by slice). */
 export { exposureSlices } from "./exposure.ts";
-import { worstOutcomeOn } from "./exposure.ts";
-import { OUTCOMES } from "./vocabulary.ts";
-import type { Outcome } from "./vocabulary.ts";
-
-/** The most exposed outcome any source gets on the named interfaces at any time of the week, or null when they have no addresses. */
-export function worstOutcome(device: CompiledModel, interfaceNames: Iterable<string>): Outcome | null {
-  const wanted = new Set(interfaceNames);
-  const indices = device.model.interfaces.flatMap((entry, index) => (wanted.has(entry.name) ? [index] : []));
-  const rank = worstOutcomeOn(device, indices);
-  return rank < 0 ? null : OUTCOMES[rank];
-}
 export type { ReachResult } from "./reach.ts";
 export { findingsOf as findings } from "./findings/index.ts";
 export type { Finding, FindingCheck, FindingCode, Witness, WitnessProbe } from "./findings/index.ts";
@@ -141,3 +132,10 @@ export function exposure(device: CompiledModel, at?: string | number | Date): Ex
   return exposureAt(device, device.instantOf(at, Date.now()));
 }
 
+/** The most exposed outcome any source gets on the named interfaces at any time of the week, or null when they have no addresses. */
+export function worstOutcome(device: CompiledModel, interfaceNames: Iterable<string>): Outcome | null {
+  const wanted = new Set(interfaceNames);
+  const indices = device.model.interfaces.flatMap((entry, index) => (wanted.has(entry.name) ? [index] : []));
+  const rank = worstOutcomeOn(device, indices);
+  return rank < 0 ? null : OUTCOMES[rank];
+}

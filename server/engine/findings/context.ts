@@ -186,14 +186,15 @@ export class FindingContext {
     const basisExposure = previous === undefined ? undefined : previous.#exposure;
     const inputs = new Map<string, readonly Hit[]>();
     const out = new Map<string, ServiceExposure>();
+    const destinations: number[][] = engine.interfaceAddresses.map(() => []);
+    for (const { iface, to } of this.arrivals) destinations[iface].push(to);
     for (let iface = 0; iface < engine.interfaceAddresses.length; iface++) {
       for (let cls = 0; cls < engine.catalogue.length; cls++) {
         // Many cells see the same outcome partitions: each distinct partition's hits are computed once (and kept with it).
         const hits: Hit[] = [];
         const merged = new Set<Hit>();
         const lists = new Set<number>();
-        for (const { iface: arrival, to } of this.arrivals) {
-          if (arrival !== iface) continue;
+        for (const to of destinations[iface]) {
           const list = engine.candidateRules(iface, to, cls).id * 2 + (engine.addresses[to].family === 4 ? 0 : 1);
           if (lists.has(list)) continue;
           lists.add(list);
