@@ -2,9 +2,10 @@
 // which rules are ever the first match, and which sources have a login path.
 
 import type { Family } from "./addresses.ts";
-import { intersect, union } from "./address-sets.ts";
+import { intersect } from "./address-sets.ts";
 import type { AddressSet, Ranges } from "./address-sets.ts";
 import type { CompiledModel, EntryPartition, RulePartition } from "./compile.ts";
+import type { Runs } from "./domain.ts";
 import { LOGIN_MFA, LOGIN_PASSWORD } from "./vocabulary.ts";
 
 export interface ProbeClass {
@@ -95,41 +96,98 @@ export function distinctRulePartitions(engine: CompiledModel): RulePartition[] {
 
 /** Positions of rules that are the first match for at least one probe. */
 export function firstMatchRules(engine: CompiledModel): Set<number> {
+  const deciding = new Uint8Array(engine.rules.length);
+  for (const p of distinctRulePartitions(engine)) {
+    const values = p.owner.values;
+    for (let k = 0; k < values.length; k++) if (values[k] >= 0) deciding[values[k]] = 1;
+  }
   const used = new Set<number>();
-  for (const p of distinctRulePartitions(engine)) for (const v of p.owner.values) if (v >= 0) used.add(v);
+  for (let position = 0; position < deciding.length; position++) if (deciding[position] === 1) used.add(position);
   return used;
 }
 
 /**
- * Whether removing the rule changes no outcome: wherever it is the first match, the next match
- * (or the default) acts alike. Asked per rule, it stops at the first element that differs, so
- * rules that matter (nearly all) are settled at once.
+ * Whether every element in [start, end) has its first match among active[from…] (or the
+ * default) with the given action: a sweep of the later rules' bitsets over the run's words
+ * only, stopping at the first rule of the other action that takes an element.
  */
-export function isRedundant(engine: CompiledModel, position: number): boolean {
-  const allow = engine.rules[position].allow;
-  for (const p of distinctRulePartitions(engine)) {
-    const { starts, values } = p.owner;
-    const at = p.active.indexOf(position);
-    if (at < 0 || !values.includes(position)) continue;
-    const later = p.active.subarray(at + 1);
-    const size = engine.domains[p.family].size;
-    for (let k = 0; k < values.length; k++) {
-      if (values[k] !== position) continue;
-      const end = k + 1 < starts.length ? starts[k + 1] : size;
-      for (let element = starts[k]; element < end; element++) {
-        const next = later.find((q) => engine.ruleCovers(q, p.family, element));
-        const nextAllow = next === undefined ? engine.defaultAllow : engine.rules[next].allow;
-        if (nextAllow !== allow) return false;
-      }
+function actsAlikeAfter(engine: CompiledModel, family: Family, active: Int32Array, from: number, start: number, end: number, allow: boolean, remaining: Int32Array): boolean {
+  const firstWord = start >>> 5;
+  const lastWord = (end - 1) >>> 5;
+  let left = 0;
+  for (let w = firstWord; w <= lastWord; w++) {
+    const lo = w === firstWord ? start & 31 : 0;
+    const hi = w === lastWord ? (end - 1) & 31 : 31;
+    remaining[w - firstWord] = hi - lo === 31 ? -1 : ((1 << (hi - lo + 1)) - 1) << lo;
+    left++;
+  }
+  for (let i = from; i < active.length; i++) {
+    const bits = engine.ruleSourceBits(active[i], family);
+    const words = bits.words;
+    let lo = 0;
+    let hi = words.length;
+    while (lo < hi) {
+      const mid = (lo + hi) >>> 1;
+      if (words[mid] < firstWord) lo = mid + 1;
+      else hi = mid;
+    }
+    const same = engine.rules[active[i]].allow === allow;
+    for (let j = lo; j < words.length && words[j] <= lastWord; j++) {
+      const w = words[j] - firstWord;
+      const fresh = remaining[w] & bits.masks[j];
+      if (fresh === 0) continue;
+      if (!same) return false;
+      remaining[w] ^= fresh;
+      if (remaining[w] === 0 && --left === 0) return true;
     }
   }
-  return true;
+  return engine.defaultAllow === allow;
+}
+
+const redundantCache = new WeakMap<CompiledModel, Set<number>>();
+
+/**
+ * Rules that are the first match somewhere and whose removal alone changes no outcome:
+ * wherever such a rule is the first match, the next match (or the default) acts alike. One
+ * walk over the distinct partitions; a rule is dropped at the first element where its next
+ * match differs, so rules that matter (nearly all) cost a single check.
+ */
+export function redundantRules(engine: CompiledModel): Set<number> {
+  const cached = redundantCache.get(engine);
+  if (cached !== undefined) return cached;
+  // Per rule: 0 never the first match, 1 the first match somewhere, 2 and removing it matters.
+  const state = new Uint8Array(engine.rules.length);
+  // Per partition, where each active rule sits in its list (reset after each partition).
+  const place = new Int32Array(engine.rules.length).fill(-1);
+  const remaining = new Int32Array(Math.max(engine.domains[4].words, engine.domains[6].words) + 1);
+  for (const p of distinctRulePartitions(engine)) {
+    const { starts, values } = p.owner;
+    const size = engine.domains[p.family].size;
+    const active = p.active;
+    let placed = false;
+    for (let k = 0; k < values.length; k++) {
+      const position = values[k];
+      if (position < 0 || state[position] === 2) continue;
+      state[position] = 1;
+      if (!placed) {
+        for (let i = 0; i < active.length; i++) place[active[i]] = i;
+        placed = true;
+      }
+      const end = k + 1 < starts.length ? starts[k + 1] : size;
+      if (!actsAlikeAfter(engine, p.family, active, place[position] + 1, starts[k], end, engine.rules[position].allow, remaining)) state[position] = 2;
+    }
+    if (placed) for (let i = 0; i < active.length; i++) place[active[i]] = -1;
+  }
+  const redundant = new Set<number>();
+  for (let position = 0; position < state.length; position++) if (state[position] === 1) redundant.add(position);
+  redundantCache.set(engine, redundant);
+  return redundant;
 }
 
 /** Sources (both families) that reach a login with an eligible account somewhere, at some time. */
 export function loginReachable(engine: CompiledModel): AddressSet {
-  const byFamily: Record<Family, Ranges> = { 4: [], 6: [] };
-  const seen = new Set<unknown>();
+  const byFamily: Record<Family, Runs[]> = { 4: [], 6: [] };
+  const seen = new Set<Runs>();
   // Every login probe class (as partitionsOf with loginOnly), each distinct outcome once. A
   // login service nothing listens to has no login outcome, whether or not its rules are evaluated.
   const lists = new Set<number>();
@@ -144,12 +202,13 @@ export function loginReachable(engine: CompiledModel): AddressSet {
       for (const e of engine.weekOutcomes(iface, to, c.index)) {
         if (seen.has(e.outcome)) continue;
         seen.add(e.outcome);
-        const d = engine.domains[e.family];
-        byFamily[e.family] = union(byFamily[e.family], union(d.rangesWhere(e.outcome, LOGIN_MFA), d.rangesWhere(e.outcome, LOGIN_PASSWORD)));
+        byFamily[e.family].push(e.outcome);
       }
     }
   }
-  return { v4: byFamily[4], v6: byFamily[6] };
+  const login = (1 << LOGIN_MFA) | (1 << LOGIN_PASSWORD);
+  const rangesOfFamily = (family: Family): Ranges => (byFamily[family].length === 0 ? [] : engine.domains[family].rangesWhereAny(byFamily[family], login));
+  return { v4: rangesOfFamily(4), v6: rangesOfFamily(6) };
 }
 
 export function intersectsSet(a: AddressSet, b: AddressSet): boolean {

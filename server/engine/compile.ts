@@ -6,7 +6,7 @@ import { formatAddress, parseAddress, parseEntry } from "./addresses.ts";
 import type { Address, Family } from "./addresses.ts";
 import { ANY_SET, EMPTY_SET, contains, rangesOf, setFromRanges, unionSets } from "./address-sets.ts";
 import type { AddressSet } from "./address-sets.ts";
-import { Domain, lastAtMost, runValueAt, runsFromArray, zipRuns } from "./domain.ts";
+import { Domain, lastAtMost, mapRuns, runValueAt, runsFromArray, zipRuns } from "./domain.ts";
 import type { Runs, SparseBits } from "./domain.ts";
 import { looksLikeAddressEntry, serviceKey } from "./model.ts";
 import type { DeviceModel } from "./model.ts";
@@ -225,6 +225,7 @@ export class CompiledModel {
   private readonly candidateLists = new Map<number, Array<{ id: number; rules: Int32Array }>>();
   private candidateListCount = 0;
   private readonly byInterface = new Map<number, number[]>();
+  private readonly byInterfaceAndClass: (Int32Array | undefined)[] = [];
   /** Per device address: whether each rule's destinations hold it (one byte per rule position). */
   private readonly destinationColumns = new Map<number, Uint8Array>();
   /** Per service class: whether each rule's services match it. */
@@ -503,12 +504,13 @@ export class CompiledModel {
     const key = (iface * this.addresses.length + to) * this.classes.length + cls;
     const cached = this.candidates[key];
     if (cached !== undefined) return cached;
-    const services = this.serviceColumn(cls);
     const destinations = this.destinationColumn(to);
+    const onInterface = this.serviceRulesOnInterface(iface, cls);
     const list: number[] = [];
     const scheduledList: number[] = [];
-    for (const position of this.rulesOnInterface(iface)) {
-      if (services[position] === 0 || destinations[position] === 0) continue;
+    for (let k = 0; k < onInterface.length; k++) {
+      const position = onInterface[k];
+      if (destinations[position] === 0) continue;
       list.push(position);
       if (this.rules[position].schedule >= 0) scheduledList.push(position);
     }
@@ -518,13 +520,31 @@ export class CompiledModel {
     return result;
   }
 
+  /** Enabled rules for the interface (or any) that name the service class, in order: every destination's candidates are a subset. */
+  private serviceRulesOnInterface(iface: number, cls: number): Int32Array {
+    const key = iface * this.classes.length + cls;
+    let list = this.byInterfaceAndClass[key];
+    if (list === undefined) {
+      const services = this.serviceColumn(cls);
+      list = Int32Array.from(this.rulesOnInterface(iface).filter((position) => services[position] !== 0));
+      this.byInterfaceAndClass[key] = list;
+    }
+    return list;
+  }
+
   /** Equal lists (e.g. two services named by the same rules) share one id, so their partitions are shared. */
   private candidateListId(rules: Int32Array): number {
     let hash = 0x811c9dc5 ^ rules.length;
     for (let i = 0; i < rules.length; i++) hash = Math.imul(hash ^ rules[i], 0x01000193);
     const bucket = this.candidateLists.get(hash);
-    const same = bucket?.find((entry) => entry.rules.length === rules.length && entry.rules.every((value, i) => value === rules[i]));
-    if (same !== undefined) return same.id;
+    if (bucket !== undefined) {
+      for (const entry of bucket) {
+        if (entry.rules.length !== rules.length) continue;
+        let i = 0;
+        while (i < rules.length && entry.rules[i] === rules[i]) i++;
+        if (i === rules.length) return entry.id;
+      }
+    }
     const id = this.candidateListCount++;
     if (bucket === undefined) this.candidateLists.set(hash, [{ id, rules }]);
     else bucket.push({ id, rules });
@@ -847,7 +867,6 @@ export class CompiledModel {
     const { remaining, owner } = this.scratch[family];
     remaining.fill(-1);
     if ((domain.size & 31) !== 0) remaining[domain.words - 1] = (1 << (domain.size & 31)) - 1;
-    owner.fill(-1);
     let live = domain.words;
     const familySlot = family === 4 ? 0 : 1;
     outer: for (let k = 0; k < active.length; k++) {
@@ -870,6 +889,20 @@ export class CompiledModel {
           }
         }
         if (remaining[w] === 0 && --live === 0) break outer;
+      }
+    }
+    // Elements no rule took go to the default (owner is scratch: every element is written).
+    for (let w = 0; w < domain.words && live > 0; w++) {
+      let left = remaining[w];
+      if (left === 0) continue;
+      const base = w << 5;
+      if (left === -1) owner.fill(-1, base, base + 32);
+      else {
+        while (left !== 0) {
+          const low = left & -left;
+          owner[base + 31 - Math.clz32(low)] = -1;
+          left ^= low;
+        }
       }
     }
     const partition: RulePartition = { id: nextPartitionId++, family, active, owner: runsFromArray(owner, domain.size) };
@@ -899,13 +932,38 @@ export class CompiledModel {
   }
 
   private outcomeRuns(family: Family, rules: RulePartition, cls: number, listening: boolean): Runs {
-    const allowed = (owner: number): boolean => (owner < 0 ? this.defaultAllow : this.rules[owner].allow);
     const kind = this.classes[cls].kind;
     if (!listening || kind !== "login") {
       const passed = !listening ? (kind === "echo" || !this.unlistenedReset ? SILENT : REFUSED) : ANSWERED;
-      return zipRuns(rules.owner, CONSTANT_RUNS, (o) => (allowed(o) ? passed : SILENT));
+      return mapRuns(rules.owner, this.outcomeTable(passed));
     }
-    return zipRuns(rules.owner, this.loginClassRuns(family, cls), (o, login) => (allowed(o) ? login : SILENT));
+    const allowed = this.allowTable();
+    return zipRuns(rules.owner, this.loginClassRuns(family, cls), (owner, login) => (allowed[owner + 1] === 1 ? login : SILENT));
+  }
+
+  #outcomeTables = new Map<number, Int32Array>();
+  #allowTable: Uint8Array | undefined;
+
+  /** Per first-match owner (position + 1; 0 for the default): 1 where it allows. */
+  private allowTable(): Uint8Array {
+    if (this.#allowTable === undefined) {
+      const table = new Uint8Array(this.rules.length + 1);
+      table[0] = this.defaultAllow ? 1 : 0;
+      for (let position = 0; position < this.rules.length; position++) table[position + 1] = this.rules[position].allow ? 1 : 0;
+      this.#allowTable = table;
+    }
+    return this.#allowTable;
+  }
+
+  /** Per first-match owner (position + 1; 0 for the default): `passed` where it allows, silence where it drops. */
+  private outcomeTable(passed: number): Int32Array {
+    let table = this.#outcomeTables.get(passed);
+    if (table === undefined) {
+      const allowed = this.allowTable();
+      table = Int32Array.from(allowed, (allow) => (allow === 1 ? passed : SILENT));
+      this.#outcomeTables.set(passed, table);
+    }
+    return table;
   }
 
   /** The service class for a service key in this model ("other" when no catalogue service has it). */
@@ -958,7 +1016,6 @@ export class CompiledModel {
 
 }
 
-const CONSTANT_RUNS: Runs = { starts: Int32Array.of(0), values: Int32Array.of(0) };
 const SILENT_V4: OutcomePartition = { family: 4, outcome: { starts: Int32Array.of(0), values: Int32Array.of(SILENT) } };
 const SILENT_V6: OutcomePartition = { family: 6, outcome: { starts: Int32Array.of(0), values: Int32Array.of(SILENT) } };
 

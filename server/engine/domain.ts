@@ -118,6 +118,48 @@ export class Domain {
     return out;
   }
 
+  #cover: Int32Array | undefined;
+
+  /**
+   * Address ranges of the elements whose value is in `wanted` (a bit mask over values 0…31) in
+   * at least one of the run lists: the union of rangesWhere over lists and values, computed on
+   * element indices (a coverage count per boundary) so only the merged result becomes bigints.
+   */
+  rangesWhereAny(lists: readonly Runs[], wanted: number): bigint[] {
+    if (lists.length === 1 && (wanted & (wanted - 1)) === 0) return this.rangesWhere(lists[0], 31 - Math.clz32(wanted));
+    const cover = (this.#cover ??= new Int32Array(this.size + 1));
+    const touched: number[] = [];
+    for (const runs of lists) {
+      const n = runs.starts.length;
+      for (let k = 0; k < n; k++) {
+        if (((wanted >>> runs.values[k]) & 1) === 0) continue;
+        const start = runs.starts[k];
+        const end = k + 1 < n ? runs.starts[k + 1] : this.size;
+        if (cover[start]++ === 0) touched.push(start);
+        if (cover[end]-- === 0) touched.push(end);
+      }
+    }
+    const points = Int32Array.from(touched).sort();
+    const out: bigint[] = [];
+    let depth = 0;
+    let open = 0;
+    for (let i = 0; i < points.length; i++) {
+      const at = points[i];
+      const before = depth;
+      depth += cover[at];
+      cover[at] = 0;
+      if (before === 0 && depth > 0) open = at;
+      else if (before > 0 && depth === 0) {
+        const first = this.bounds[open];
+        const last = this.bounds[at] - 1n;
+        const m = out.length;
+        if (m > 0 && out[m - 1] + 1n === first) out[m - 1] = last;
+        else out.push(first, last);
+      }
+    }
+    return out;
+  }
+
   /** Address counts per value (values 0 … slots-1). */
   countsByValue(runs: Runs, slots: number): bigint[] {
     const counts = new Array<bigint>(slots).fill(0n);
@@ -154,40 +196,66 @@ export function runValueAt(runs: Runs, index: number): number {
   return runs.values[lastAtMost(runs.starts, index, runs.starts.length)];
 }
 
-/** Compresses one value per element into runs. */
+let runStarts = new Int32Array(1024);
+let runValues = new Int32Array(1024);
+
+/** Compresses one value per element into runs (one pass into shared scratch, then copied out). */
+function ensureScratch(length: number): void {
+  if (runStarts.length < length) {
+    runStarts = new Int32Array(length);
+    runValues = new Int32Array(length);
+  }
+}
+
 export function runsFromArray(values: Int32Array, length: number): Runs {
+  ensureScratch(length);
   let count = 0;
-  for (let i = 0; i < length; i++) if (i === 0 || values[i] !== values[i - 1]) count++;
-  const starts = new Int32Array(count);
-  const vals = new Int32Array(count);
-  for (let i = 0, k = 0; i < length; i++) {
-    if (i === 0 || values[i] !== values[i - 1]) {
-      starts[k] = i;
-      vals[k++] = values[i];
+  let previous = 0;
+  for (let i = 0; i < length; i++) {
+    const v = values[i];
+    if (i === 0 || v !== previous) {
+      runStarts[count] = i;
+      runValues[count++] = v;
+      previous = v;
     }
   }
-  return { starts, values: vals };
+  return { starts: runStarts.slice(0, count), values: runValues.slice(0, count) };
 }
 
 /** Combines two run lists element-wise with f; equal neighbours merge. */
 export function zipRuns(a: Runs, b: Runs, f: (x: number, y: number) => number): Runs {
-  const starts: number[] = [];
-  const vals: number[] = [];
-  let i = 0;
-  let j = 0;
   const na = a.starts.length;
   const nb = b.starts.length;
+  ensureScratch(na + nb);
+  let count = 0;
+  let i = 0;
+  let j = 0;
   while (i < na && j < nb) {
-    const start = Math.max(a.starts[i], b.starts[j]);
+    const start = a.starts[i] > b.starts[j] ? a.starts[i] : b.starts[j];
     const v = f(a.values[i], b.values[j]);
-    if (vals.length === 0 || vals[vals.length - 1] !== v) {
-      starts.push(start);
-      vals.push(v);
+    if (count === 0 || runValues[count - 1] !== v) {
+      runStarts[count] = start;
+      runValues[count++] = v;
     }
     const nextA = i + 1 < na ? a.starts[i + 1] : Infinity;
     const nextB = j + 1 < nb ? b.starts[j + 1] : Infinity;
     if (nextA <= nextB) i++;
     if (nextB <= nextA) j++;
   }
-  return { starts: Int32Array.from(starts), values: Int32Array.from(vals) };
+  return { starts: runStarts.slice(0, count), values: runValues.slice(0, count) };
+}
+
+/** Maps each run's value through `table` (indexed by value + 1, so -1 maps too); equal neighbours merge. */
+export function mapRuns(a: Runs, table: Int32Array): Runs {
+  const n = a.starts.length;
+  ensureScratch(n);
+  let count = 0;
+  for (let k = 0; k < n; k++) {
+    const v = table[a.values[k] + 1];
+    if (count === 0 || runValues[count - 1] !== v) {
+      runStarts[count] = a.starts[k];
+      runValues[count++] = v;
+    }
+  }
+  return { starts: runStarts.slice(0, count), values: runValues.slice(0, count) };
 }

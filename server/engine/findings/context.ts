@@ -7,10 +7,10 @@ import { EMPTY_SET, intersect, rangesOf, setFromRanges, subtract, unionSets } fr
 import type { AddressSet, Ranges } from "../address-sets.ts";
 import { arrivals, firstMatchRules, firstOfEachList, loginReachable } from "../analysis.ts";
 import type { Arrival } from "../analysis.ts";
-import type { CompiledModel, OutcomePartition } from "../compile.ts";
+import type { CompiledModel } from "../compile.ts";
+import type { Runs } from "../domain.ts";
 import { traceProbe } from "../trace.ts";
 import type { TraceResult } from "../trace.ts";
-import { outcomeSets } from "../exposure.ts";
 import { OUTCOMES, SILENT, isOutcome } from "../vocabulary.ts";
 import type { Finding, Witness, WitnessProbe } from "./types.ts";
 
@@ -71,45 +71,33 @@ export function witnessSource(ranges: Ranges, family: Family): bigint | undefine
 /** A week minute's instant in the reference week: Monday 5 January 2026, 00:00 device time. */
 const REFERENCE_MONDAY_UTC = Date.UTC(2026, 0, 5);
 
-/** Non-private sources of one family that get one outcome in one outcome partition. */
-interface Hit {
-  readonly outcome: number;
-  readonly hit: AddressSet;
-}
+/** Bit mask of every outcome that answers at all (all but silence). */
+const NOT_SILENT = ((1 << OUTCOMES.length) - 1) & ~(1 << SILENT);
 
-const hitsCache = new WeakMap<object, readonly Hit[]>();
-
-/** The non-silent outcomes of a partition that reach non-private sources, kept with the partition's runs (shared with models compiled on it). */
-function distinctHits(engine: CompiledModel, partition: OutcomePartition): readonly Hit[] {
-  const cached = hitsCache.get(partition.outcome);
-  if (cached !== undefined) return cached;
-  const list: Hit[] = [];
-  const sets = outcomeSets(engine, partition);
-  const global = NON_PRIVATE;
-  sets.counts.forEach((n, o) => {
-    if (o === SILENT || n === 0n) return;
-    const hit = intersect(sets.ranges[o], rangesOf(global, sets.family));
-    if (hit.length === 0) return;
-    list.push({ outcome: o, hit: sets.family === 4 ? { v4: hit, v6: [] } : { v4: [], v6: hit } });
-  });
-  hitsCache.set(partition.outcome, list);
-  return list;
-}
-
-function exposureOf(hits: readonly Hit[]): ServiceExposure {
+/** Non-private exposure from the distinct outcome runs seen on one interface × service, per family. */
+function exposureOf(engine: CompiledModel, lists: { readonly 4: readonly Runs[]; readonly 6: readonly Runs[] }): ServiceExposure | undefined {
   const outcomes = new Set<number>();
-  const byOutcome: AddressSet[] = OUTCOMES.map(() => EMPTY_SET);
-  for (const { outcome, hit } of hits) {
-    outcomes.add(outcome);
-    byOutcome[outcome] = unionSets(byOutcome[outcome], hit);
+  const hits: AddressSet[] = OUTCOMES.map(() => EMPTY_SET);
+  for (const family of [4, 6] as const) {
+    const runs = lists[family];
+    if (runs.length === 0) continue;
+    const domain = engine.domains[family];
+    const global = rangesOf(NON_PRIVATE, family);
+    for (let outcome = 0; outcome < OUTCOMES.length; outcome++) {
+      if (((NOT_SILENT >>> outcome) & 1) === 0) continue;
+      const hit = intersect(domain.rangesWhereAny(runs, 1 << outcome), global);
+      if (hit.length === 0) continue;
+      outcomes.add(outcome);
+      hits[outcome] = family === 4 ? { v4: hit, v6: hits[outcome].v6 } : { v4: hits[outcome].v4, v6: hit };
+    }
   }
-  return { outcomes, hits: byOutcome };
+  return outcomes.size === 0 ? undefined : { outcomes, hits };
 }
 
 export class FindingContext {
   #exposure: Map<string, ServiceExposure> | undefined;
-  /** Per interface × service, the distinct hits the exposure was computed from (a later context re-uses equal ones). */
-  #exposureInputs: Map<string, readonly Hit[]> | undefined;
+  /** Per interface × service, the distinct outcome runs the exposure was computed from (a later context re-uses equal ones). */
+  #exposureInputs: Map<string, readonly Runs[]> | undefined;
   #operators: AddressSet | undefined;
   #firstMatch: Set<number> | undefined;
   #loginReachable: AddressSet | undefined;
@@ -184,34 +172,33 @@ export class FindingContext {
     const previous = this.#basis;
     const basis = previous === undefined ? undefined : previous.#exposureInputs;
     const basisExposure = previous === undefined ? undefined : previous.#exposure;
-    const inputs = new Map<string, readonly Hit[]>();
+    const inputs = new Map<string, readonly Runs[]>();
     const out = new Map<string, ServiceExposure>();
     const destinations: number[][] = engine.interfaceAddresses.map(() => []);
     for (const { iface, to } of this.arrivals) destinations[iface].push(to);
     for (let iface = 0; iface < engine.interfaceAddresses.length; iface++) {
       for (let cls = 0; cls < engine.catalogue.length; cls++) {
-        // Many cells see the same outcome partitions: each distinct partition's hits are computed once (and kept with it).
-        const hits: Hit[] = [];
-        const merged = new Set<Hit>();
-        const lists = new Set<number>();
+        // Many cells see the same outcome runs: each distinct list of candidate rules, and each distinct runs object, counts once.
+        const lists = { 4: [] as Runs[], 6: [] as Runs[] };
+        const seen = new Set<Runs>();
+        const candidateLists = new Set<number>();
         for (const to of destinations[iface]) {
           const list = engine.candidateRules(iface, to, cls).id * 2 + (engine.addresses[to].family === 4 ? 0 : 1);
-          if (lists.has(list)) continue;
-          lists.add(list);
+          if (candidateLists.has(list)) continue;
+          candidateLists.add(list);
           for (const partition of engine.weekOutcomes(iface, to, cls)) {
-            for (const hit of distinctHits(engine, partition)) {
-              if (merged.has(hit)) continue;
-              merged.add(hit);
-              hits.push(hit);
-            }
+            if (seen.has(partition.outcome)) continue;
+            seen.add(partition.outcome);
+            lists[partition.family].push(partition.outcome);
           }
         }
         const key = `${iface}|${cls}`;
-        inputs.set(key, hits);
-        if (hits.length === 0) continue;
+        const all = [...lists[4], ...lists[6]];
+        inputs.set(key, all);
         const before = basis?.get(key);
-        const kept = before !== undefined && before.length === hits.length && before.every((hit, i) => hit === hits[i]) ? basisExposure?.get(key) : undefined;
-        out.set(key, kept ?? exposureOf(hits));
+        const same = before !== undefined && before.length === all.length && before.every((runs, i) => runs === all[i]);
+        const exposure = same ? basisExposure?.get(key) : exposureOf(engine, lists);
+        if (exposure !== undefined) out.set(key, exposure);
       }
     }
     this.#exposureInputs = inputs;

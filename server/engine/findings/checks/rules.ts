@@ -1,7 +1,7 @@
 // Rule checks: never active, never the first match, redundant. Each carries a witness probe
 // that `trace` replays; for the "never" findings the probe is one instance of the partition
 // that proves it.
-import { isRedundant } from "../../analysis.ts";
+import { redundantRules } from "../../analysis.ts";
 import { plural } from "../../format.ts";
 import { elementRef } from "../../vocabulary.ts";
 import type { FindingContext } from "../context.ts";
@@ -80,9 +80,10 @@ export const redundantRule: FindingCheck = {
   code: "redundant-rule",
   severityRule: "low",
   source: SOURCES.ruleOrder,
-  check: (context) =>
-    judged(context)
-      .filter((rule) => context.firstMatchRules.has(rule.position) && isRedundant(context.engine, rule.position))
+  check: (context) => {
+    const redundant = redundantRules(context.engine);
+    return judged(context)
+      .filter((rule) => redundant.has(rule.position))
       // Built each time: its witness is the first place the rule decides in the walk, which an edit elsewhere can move.
       .map((rule): Finding => {
         const witness = context.witnessOf(
@@ -98,5 +99,6 @@ export const redundantRule: FindingCheck = {
           source: SOURCES.ruleOrder,
           ...(witness ? { witness } : {}),
         };
-      }),
+      });
+  },
 };
