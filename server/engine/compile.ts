@@ -6,7 +6,7 @@ import { formatAddress, parseAddress, parseEntry } from "./addresses.ts";
 import type { Address, Family } from "./addresses.ts";
 import { ANY_SET, EMPTY_SET, contains, rangesOf, setFromRanges, unionSets } from "./address-sets.ts";
 import type { AddressSet } from "./address-sets.ts";
-import { Domain, lastAtMost, mapRuns, runValueAt, runsFromArray, zipRuns } from "./domain.ts";
+import { Domain, MIXED_WORD, lastAtMost, mapRuns, runValueAt, runsFromArray, runsFromWords, zipRuns } from "./domain.ts";
 import type { Runs, SparseBits } from "./domain.ts";
 import { looksLikeAddressEntry, serviceKey } from "./model.ts";
 import type { DeviceModel } from "./model.ts";
@@ -180,6 +180,10 @@ export class CompiledModel {
   private readonly sourceKeys: readonly string[];
   /** Bitsets per source key, shared by rules with the same sources (and with a basis of the same elements). */
   private readonly bitsBySources: Map<string, readonly [SparseBits, SparseBits]>;
+  /** Bitsets per address name and family ("4|name"), shared like bitsBySources. */
+  private readonly bitsByName: Map<string, SparseBits>;
+  /** The address objects (and built-in names) the rules' sources name, sorted, one per line: what the elements are cut from. */
+  private readonly sourceObjects: string;
   /** The basis whose partitions may be re-used (same elements), or null. Weak, so a chain of edits does not keep every earlier version alive. */
   private readonly basisRef: WeakRef<CompiledModel> | null = null;
   /** Partitions taken from the basis whose outcome runs carry over too (same actions, services, accounts, defaults): the basis's partition. */
@@ -194,6 +198,8 @@ export class CompiledModel {
   private readonly onlyRulesChanged: boolean = false;
 
   private touch(active: Int32Array): void {
+    // Only ruleUntouched reads it, and only for a model compiled on a basis.
+    if (!this.onlyRulesChanged) return;
     for (const position of active) this.touched.add(position);
   }
 
@@ -238,7 +244,7 @@ export class CompiledModel {
   private readonly loginRuns = new Map<string, Runs>();
   /** Outcome runs per (rule partition, class, listening). */
   private readonly outcomeCache = new Map<number, Runs>();
-  private readonly scratch: Record<Family, { remaining: Int32Array; owner: Int32Array }>;
+  private readonly scratch: Record<Family, { remaining: Int32Array; owner: Int32Array; wordOwners: Int32Array }>;
 
   constructor(
     readonly model: DeviceModel,
@@ -284,15 +290,21 @@ export class CompiledModel {
     this.listening = model.interfaces.map((f) => new Set(f.listeners));
 
     const scheduleIndex = new Map(model.schedules.map((s, i) => [s.name, i]));
+    const setOf = (names: readonly string[]): AddressSet => this.setOfNames(names);
     this.rules = model.inboundRules.map((r, position): CompiledRule => {
       const keys = this.serviceKeysOf(r.services);
+      let sources: AddressSet | undefined;
       return {
         position,
         id: r.id,
         allow: r.action === "allow",
         enabled: r.enabled,
         iface: r.interface === ANY_INTERFACE ? -1 : (this.interfaceIndex.get(r.interface) ?? -2),
-        sources: this.setOfNames(r.sources),
+        // Address ranges only when read (witness text, the diff): analysis works on the rule's bitsets.
+        get sources(): AddressSet {
+          sources ??= setOf(r.sources);
+          return sources;
+        },
         destinations: this.setOfNames(r.destinations),
         anyService: keys === null,
         serviceKeys: keys ?? new Set(),
@@ -310,22 +322,29 @@ export class CompiledModel {
 
     this.sourceKeys = model.inboundRules.map((r) => r.sources.join("\n"));
     const sameAccounts = basis !== undefined && JSON.stringify(basis.model.accounts) === JSON.stringify(model.accounts);
-    // Elements come from every rule's sources (disabled ones too, so switching a rule on or off
-    // keeps them) and the login sources: equal inputs give equal elements, shared with the basis.
-    const distinctSources = new Map<string, AddressSet>();
-    this.rules.forEach((r, i) => distinctSources.set(this.sourceKeys[i], r.sources));
-    const sameElements = sameAccounts && basis !== undefined && sameKeys(distinctSources, basis.bitsBySources);
+    // Elements come from the address objects every rule's sources name (disabled rules too, so
+    // switching a rule on or off keeps them; groups through their members) and the login
+    // sources: any list of those names is a union of elements, and the same names and
+    // accounts give the same elements, shared with the basis — a rule edit that names no new
+    // object keeps them.
+    this.sourceObjects = this.objectNames(model.inboundRules.flatMap((r) => r.sources)).join("\n");
+    const sameElements = sameAccounts && basis !== undefined && basis.sourceObjects === this.sourceObjects;
     const domainFor = (family: Family): Domain =>
-      new Domain(family, [...[...distinctSources.values()].map((set) => rangesOf(set, family)), ...this.accounts.map((a) => rangesOf(a.loginSources, family))]);
-    this.domains = sameElements ? basis.domains : { 4: domainFor(4), 6: domainFor(6) };
-    this.bitsBySources = sameElements ? basis.bitsBySources : new Map();
-    for (const [key, set] of distinctSources) {
-      if (this.bitsBySources.has(key)) continue;
-      this.bitsBySources.set(key, [
-        this.domains[4].toBits(this.domains[4].toIndexRanges(set.v4)),
-        this.domains[6].toBits(this.domains[6].toIndexRanges(set.v6)),
+      new Domain(family, [
+        ...this.sourceObjects.split("\n").filter((name) => name !== "").map((name) => rangesOf(this.addressSetOf(name), family)),
+        ...this.accounts.map((a) => rangesOf(a.loginSources, family)),
       ]);
-    }
+    this.domains = sameElements ? basis.domains : { 4: domainFor(4), 6: domainFor(6) };
+    this.bitsByName = sameElements ? basis.bitsByName : new Map();
+    this.bitsBySources = sameElements ? basis.bitsBySources : new Map();
+    model.inboundRules.forEach((r, i) => {
+      const key = this.sourceKeys[i];
+      if (this.bitsBySources.has(key)) return;
+      this.bitsBySources.set(key, [
+        this.domains[4].unionBits(r.sources.map((name) => this.bitsOfName(name, 4))),
+        this.domains[6].unionBits(r.sources.map((name) => this.bitsOfName(name, 6))),
+      ]);
+    });
     this.ruleBits = this.sourceKeys.map((key) => this.bitsBySources.get(key) as readonly [SparseBits, SparseBits]);
     const basisTokens = new Map<string, number>();
     if (sameElements) basis.model.inboundRules.forEach((r, i) => basisTokens.set(`${r.id}\u0001${basis.sourceKeys[i]}`, basis.ruleTokens[i]));
@@ -362,6 +381,7 @@ export class CompiledModel {
     const scratchFor = (family: Family) => ({
       remaining: new Int32Array(this.domains[family].words),
       owner: new Int32Array(this.domains[family].size),
+      wordOwners: new Int32Array(this.domains[family].words),
     });
     this.scratch = { 4: scratchFor(4), 6: scratchFor(6) };
   }
@@ -395,6 +415,52 @@ export class CompiledModel {
     }
     this.addressSets.set(name, set);
     return set;
+  }
+
+  /** The address objects and built-in names behind a list of names (groups through their members), sorted and distinct. */
+  private objectNames(names: readonly string[]): string[] {
+    this.groupsByName ??= new Map(this.model.addressGroups.map((g) => [g.name, g]));
+    const groups = this.groupsByName;
+    const out = new Set<string>();
+    const seen = new Set<string>();
+    const visit = (name: string): void => {
+      if (seen.has(name)) return;
+      seen.add(name);
+      const group = groups.get(name);
+      if (group === undefined) out.add(name);
+      else for (const member of group.members) visit(member);
+    };
+    for (const name of names) visit(name);
+    return [...out].sort();
+  }
+
+  /** The elements of a named address set as a sparse bitset (a group's as the union of its members'). */
+  private bitsOfName(name: string, family: Family): SparseBits {
+    const key = `${family}|${name}`;
+    const cached = this.bitsByName.get(key);
+    if (cached !== undefined) return cached;
+    const domain = this.domains[family];
+    this.groupsByName ??= new Map(this.model.addressGroups.map((g) => [g.name, g]));
+    const group = this.groupsByName.get(name);
+    // Validation rules out cycles; an empty set in progress keeps a cycle finite anyway.
+    if (group !== undefined) this.bitsByName.set(key, { words: new Int32Array(0), masks: new Int32Array(0) });
+    const bits =
+      group === undefined
+        ? domain.toBits(domain.toIndexRanges(rangesOf(this.addressSetOf(name), family)))
+        : domain.unionBits(group.members.map((member) => this.bitsOfName(member, family)));
+    this.bitsByName.set(key, bits);
+    return bits;
+  }
+
+  /** The first address of the rule's sources in the family, or undefined when it has none there. */
+  firstSourceOf(position: number, family: Family): bigint | undefined {
+    const element = this.domains[family].firstElement(this.ruleBits[position][family === 4 ? 0 : 1]);
+    return element < 0 ? undefined : this.domains[family].bounds[element];
+  }
+
+  /** Whether the rule's sources hold every address of the family. */
+  ruleHoldsEverySource(position: number, family: Family): boolean {
+    return this.domains[family].holdsAll(this.ruleBits[position][family === 4 ? 0 : 1]);
   }
 
   setOfNames(names: readonly string[]): AddressSet {
@@ -864,9 +930,11 @@ export class CompiledModel {
     this.partitionSources.swept++;
     this.touch(active);
     const domain = this.domains[family];
-    const { remaining, owner } = this.scratch[family];
+    const { remaining, owner, wordOwners } = this.scratch[family];
     remaining.fill(-1);
     if ((domain.size & 31) !== 0) remaining[domain.words - 1] = (1 << (domain.size & 31)) - 1;
+    // Per word: the one rule that took all of it at once, MIXED_WORD, or UNTOUCHED.
+    wordOwners.fill(UNTOUCHED);
     let live = domain.words;
     const familySlot = family === 4 ? 0 : 1;
     outer: for (let k = 0; k < active.length; k++) {
@@ -879,9 +947,10 @@ export class CompiledModel {
         let fresh = remaining[w] & masks[j];
         if (fresh === 0) continue;
         remaining[w] ^= fresh;
-        const base = w << 5;
-        if (fresh === -1) owner.fill(position, base, base + 32);
+        if (fresh === -1) wordOwners[w] = position;
         else {
+          wordOwners[w] = MIXED_WORD;
+          const base = w << 5;
           while (fresh !== 0) {
             const low = fresh & -fresh;
             owner[base + 31 - Math.clz32(low)] = position;
@@ -891,21 +960,22 @@ export class CompiledModel {
         if (remaining[w] === 0 && --live === 0) break outer;
       }
     }
-    // Elements no rule took go to the default (owner is scratch: every element is written).
+    // Elements no rule took go to the default.
     for (let w = 0; w < domain.words && live > 0; w++) {
+      if (wordOwners[w] === UNTOUCHED) {
+        wordOwners[w] = -1;
+        continue;
+      }
       let left = remaining[w];
       if (left === 0) continue;
       const base = w << 5;
-      if (left === -1) owner.fill(-1, base, base + 32);
-      else {
-        while (left !== 0) {
-          const low = left & -left;
-          owner[base + 31 - Math.clz32(low)] = -1;
-          left ^= low;
-        }
+      while (left !== 0) {
+        const low = left & -left;
+        owner[base + 31 - Math.clz32(low)] = -1;
+        left ^= low;
       }
     }
-    const partition: RulePartition = { id: nextPartitionId++, family, active, owner: runsFromArray(owner, domain.size) };
+    const partition: RulePartition = { id: nextPartitionId++, family, active, owner: runsFromWords(owner, wordOwners, domain.size) };
     this.partitions.set(key, partition);
     return partition;
   }
@@ -1016,6 +1086,9 @@ export class CompiledModel {
 
 }
 
+/** In a sweep's word owners: no rule has taken any element of the word yet. */
+const UNTOUCHED = -3;
+
 const SILENT_V4: OutcomePartition = { family: 4, outcome: { starts: Int32Array.of(0), values: Int32Array.of(SILENT) } };
 const SILENT_V6: OutcomePartition = { family: 6, outcome: { starts: Int32Array.of(0), values: Int32Array.of(SILENT) } };
 
@@ -1058,12 +1131,6 @@ function sameAddressBook(a: DeviceModel, b: DeviceModel): boolean {
     a.addresses.every((o, i) => o.name === b.addresses[i].name && sameList(o.entries, b.addresses[i].entries)) &&
     a.addressGroups.every((g, i) => g.name === b.addressGroups[i].name && sameList(g.members, b.addressGroups[i].members))
   );
-}
-
-function sameKeys(a: ReadonlyMap<string, unknown>, b: ReadonlyMap<string, unknown>): boolean {
-  if (a.size !== b.size) return false;
-  for (const key of a.keys()) if (!b.has(key)) return false;
-  return true;
 }
 
 export function parseProbeAddress(text: string, field: string): Address {

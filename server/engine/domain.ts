@@ -103,6 +103,47 @@ export class Domain {
     return { words: Int32Array.from(words), masks: Int32Array.from(masks) };
   }
 
+  #dense: Int32Array | undefined;
+
+  /** The union of sparse bitsets (one of them returned as is when it is the only one). */
+  unionBits(parts: readonly SparseBits[]): SparseBits {
+    if (parts.length === 1) return parts[0];
+    const dense = (this.#dense ??= new Int32Array(this.words));
+    const touched: number[] = [];
+    for (const part of parts) {
+      const { words, masks } = part;
+      for (let j = 0; j < words.length; j++) {
+        const w = words[j];
+        if (dense[w] === 0) touched.push(w);
+        dense[w] |= masks[j];
+      }
+    }
+    const words = Int32Array.from(touched).sort();
+    const masks = new Int32Array(words.length);
+    for (let j = 0; j < words.length; j++) {
+      masks[j] = dense[words[j]];
+      dense[words[j]] = 0;
+    }
+    return { words, masks };
+  }
+
+  /** The first element a sparse bitset holds, or -1 when it is empty. */
+  firstElement(bits: SparseBits): number {
+    if (bits.words.length === 0) return -1;
+    const mask = bits.masks[0];
+    return (bits.words[0] << 5) + 31 - Math.clz32(mask & -mask);
+  }
+
+  /** Whether a sparse bitset holds every element. */
+  holdsAll(bits: SparseBits): boolean {
+    if (bits.words.length !== this.words) return false;
+    for (let j = 0; j < bits.words.length; j++) {
+      const expected = j === this.words - 1 && (this.size & 31) !== 0 ? (1 << (this.size & 31)) - 1 : -1;
+      if (bits.masks[j] !== expected) return false;
+    }
+    return true;
+  }
+
   /** Address ranges of the runs whose value is `value`. */
   rangesWhere(runs: Runs, value: number): bigint[] {
     const out: bigint[] = [];
@@ -217,6 +258,43 @@ export function runsFromArray(values: Int32Array, length: number): Runs {
       runStarts[count] = i;
       runValues[count++] = v;
       previous = v;
+    }
+  }
+  return { starts: runStarts.slice(0, count), values: runValues.slice(0, count) };
+}
+
+/** In `wordOwners`: the word's 32 elements do not all have one value; read them from the element array. */
+export const MIXED_WORD = -2;
+
+/**
+ * runsFromArray for a sweep that knows, per 32-element word, whether one value covers it
+ * (`wordOwners[w]`) or not (MIXED_WORD): uniform words are taken whole, so a partition costs
+ * its words plus its mixed elements rather than every element.
+ */
+export function runsFromWords(values: Int32Array, wordOwners: Int32Array, length: number): Runs {
+  ensureScratch(length);
+  const words = (length + 31) >>> 5;
+  let count = 0;
+  let previous = MIXED_WORD;
+  for (let w = 0; w < words; w++) {
+    const uniform = wordOwners[w];
+    const base = w << 5;
+    if (uniform !== MIXED_WORD) {
+      if (uniform !== previous) {
+        runStarts[count] = base;
+        runValues[count++] = uniform;
+        previous = uniform;
+      }
+      continue;
+    }
+    const end = base + 32 < length ? base + 32 : length;
+    for (let i = base; i < end; i++) {
+      const v = values[i];
+      if (v !== previous) {
+        runStarts[count] = i;
+        runValues[count++] = v;
+        previous = v;
+      }
     }
   }
   return { starts: runStarts.slice(0, count), values: runValues.slice(0, count) };

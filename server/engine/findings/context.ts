@@ -271,12 +271,12 @@ export class FindingContext {
       if (rule.iface !== -1 && rule.iface !== iface) continue;
       const target = engine.addresses[to];
       if (intersect(rangesOf(rule.destinations, target.family), [target.value, target.value]).length === 0) continue;
-      const sources = rangesOf(rule.sources, target.family);
-      if (sources.length === 0) continue;
+      const source = engine.firstSourceOf(position, target.family);
+      if (source === undefined) continue;
       for (const c of engine.classes) {
         const service = this.#serviceTextFor(position, c.index);
         if (service === undefined) continue;
-        return this.probe(iface, to, c.index, target.family, sources[0], activeSlice, service);
+        return this.probe(iface, to, c.index, target.family, source, activeSlice, service);
       }
     }
     return undefined;

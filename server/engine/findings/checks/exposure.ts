@@ -1,6 +1,5 @@
 // Exposure checks: cleartext listeners, logins and ping answering non-private sources, no
 // catch-all deny. All read the one enumeration of arrivals (FindingContext.exposure).
-import { FAMILY } from "../../addresses.ts";
 import { EMPTY_SET, countOf, intersect, isEmptySet, rangesOf, subtractSets, unionSets } from "../../address-sets.ts";
 import type { AddressSet } from "../../address-sets.ts";
 import type { CompiledModel } from "../../compile.ts";
@@ -116,7 +115,7 @@ function hasCatchAllDeny(engine: CompiledModel, iface: number): boolean {
       (r.iface === -1 || r.iface === iface) &&
       r.anyService &&
       (r.schedule < 0 || engine.week.slices.every((s) => s.active[r.schedule])) &&
-      [...families].every((f) => countOf(rangesOf(r.sources, f)) === FAMILY[f].size) &&
+      [...families].every((f) => engine.ruleHoldsEverySource(r.position, f)) &&
       own.every((a) => intersect(rangesOf(r.destinations, a.family), [a.value, a.value]).length > 0),
   );
 }
