@@ -6,7 +6,7 @@ import { formatAddress, parseAddress, parseEntry } from "./addresses.ts";
 import type { Address, Family } from "./addresses.ts";
 import { ANY_SET, EMPTY_SET, contains, rangesOf, setFromRanges, unionSets } from "./address-sets.ts";
 import type { AddressSet } from "./address-sets.ts";
-import { Domain, MIXED_WORD, lastAtMost, mapRuns, runValueAt, runsFromArray, runsFromWords, zipRuns } from "./domain.ts";
+import { Domain, MIXED_WORD, lastAtMost, mapRuns, patchedRuns, runValueAt, runsFromArray, runsFromWords, zipRuns } from "./domain.ts";
 import type { Runs, SparseBits } from "./domain.ts";
 import { looksLikeAddressEntry, serviceKey } from "./model.ts";
 import type { DeviceModel } from "./model.ts";
@@ -182,8 +182,8 @@ export class CompiledModel {
   private readonly bitsBySources: Map<string, readonly [SparseBits, SparseBits]>;
   /** Bitsets per address name and family ("4|name"), shared like bitsBySources. */
   private readonly bitsByName: Map<string, SparseBits>;
-  /** The address objects (and built-in names) the rules' sources name, sorted, one per line: what the elements are cut from. */
-  private readonly sourceObjects: string;
+  /** The address objects (and built-in names) the elements are cut from: those the rules' sources name (or more, when lent by a basis). */
+  private readonly sourceObjects: ReadonlySet<string>;
   /** The basis whose partitions may be re-used (same elements), or null. Weak, so a chain of edits does not keep every earlier version alive. */
   private readonly basisRef: WeakRef<CompiledModel> | null = null;
   /** Partitions taken from the basis whose outcome runs carry over too (same actions, services, accounts, defaults): the basis's partition. */
@@ -216,8 +216,8 @@ export class CompiledModel {
     return this.editedRule?.id !== id && this.basisPositions[position] !== undefined;
   }
 
-  /** How this model's rule partitions came about: swept over their whole list, updated from the basis after an edit, or taken from the basis. */
-  readonly partitionSources = { swept: 0, updated: 0, reused: 0 };
+  /** How this model's rule partitions came about: swept over their whole list, derived from the list with every rule on (some scheduled rules off), updated from the basis after an edit, or taken from the basis. */
+  readonly partitionSources = { swept: 0, derived: 0, updated: 0, reused: 0 };
   /** The one rule an edit changed in a way that changes lists (not only its action), when exactly one did. */
   private readonly editedRule: { id: string; basisPosition: number } | null = null;
   /** Per position: the same rule's position in the basis, or undefined when it is new. */
@@ -244,6 +244,7 @@ export class CompiledModel {
   private readonly loginRuns = new Map<string, Runs>();
   /** Outcome runs per (rule partition, class, listening). */
   private readonly outcomeCache = new Map<number, Runs>();
+  private patchScratch: Uint8Array | undefined;
   private readonly scratch: Record<Family, { remaining: Int32Array; owner: Int32Array; wordOwners: Int32Array }>;
 
   constructor(
@@ -327,11 +328,14 @@ export class CompiledModel {
     // sources: any list of those names is a union of elements, and the same names and
     // accounts give the same elements, shared with the basis — a rule edit that names no new
     // object keeps them.
-    this.sourceObjects = this.objectNames(model.inboundRules.flatMap((r) => r.sources)).join("\n");
-    const sameElements = sameAccounts && basis !== undefined && basis.sourceObjects === this.sourceObjects;
+    // Elements cut for more objects than these rules name are still exact (only finer), so a
+    // basis whose objects include all of these lends its elements too (a rule removed).
+    const named = this.objectNames(model.inboundRules.flatMap((r) => r.sources));
+    const sameElements = sameAccounts && basis !== undefined && named.every((name) => basis.sourceObjects.has(name));
+    this.sourceObjects = sameElements ? basis.sourceObjects : new Set(named);
     const domainFor = (family: Family): Domain =>
       new Domain(family, [
-        ...this.sourceObjects.split("\n").filter((name) => name !== "").map((name) => rangesOf(this.addressSetOf(name), family)),
+        ...named.map((name) => rangesOf(this.addressSetOf(name), family)),
         ...this.accounts.map((a) => rangesOf(a.loginSources, family)),
       ]);
     this.domains = sameElements ? basis.domains : { 4: domainFor(4), 6: domainFor(6) };
@@ -751,10 +755,88 @@ export class CompiledModel {
           if (s < 0 || state[s]) active[n++] = p;
         }
       }
-      rules = this.basisPartition(family, active) ?? this.rulePartition(family, active, activeKey);
+      rules =
+        this.basisPartition(family, active) ??
+        (off.length > 0 ? this.derivedPartition(family, this.slicePartitionAllOn(family, candidates), active, off) : this.rulePartition(family, active, activeKey));
       this.partitions.set(activeKey, rules);
     }
     return rules;
+  }
+
+  /** The partition of a candidate list with every one of its rules on (whether or not some slice has them all on). */
+  private slicePartitionAllOn(family: Family, candidates: Candidates): RulePartition {
+    const key = `${family}|${candidates.id}`;
+    let rules = this.partitions.get(key);
+    if (rules === undefined) {
+      rules = this.basisPartition(family, candidates.rules) ?? this.rulePartition(family, candidates.rules, key);
+      this.partitions.set(key, rules);
+    }
+    return rules;
+  }
+
+  /**
+   * The partition of a list with some of its scheduled rules off, from the list's partition with
+   * all of them on: an element an off rule took goes to the next rule of `active` that covers it
+   * (or to the default); every other element keeps its owner, since the rules before it are
+   * the same or fewer. Costs the base's runs and the off rules' elements, not a sweep of the list.
+   */
+  private derivedPartition(family: Family, base: RulePartition, active: Int32Array, off: readonly number[]): RulePartition {
+    this.partitionSources.derived++;
+    this.touch(active);
+    const domain = this.domains[family];
+    const { remaining: need, owner } = this.scratch[family];
+    const patched = (this.patchScratch ??= new Uint8Array(this.rules.length + 1));
+    for (const position of off) patched[position + 1] = 1;
+    const { starts, values } = base.owner;
+    need.fill(0);
+    const needWords: number[] = [];
+    let count = 0;
+    for (let k = 0; k < values.length; k++) {
+      if (patched[values[k] + 1] === 0) continue;
+      const end = k + 1 < starts.length ? starts[k + 1] : domain.size;
+      for (let element = starts[k]; element < end; element++) {
+        const w = element >>> 5;
+        if (need[w] === 0) needWords.push(w);
+        need[w] |= 1 << (element & 31);
+        owner[element] = -1;
+        count++;
+      }
+    }
+    needWords.sort((a, b) => a - b);
+    let firstOff = Infinity;
+    for (const position of off) if (position < firstOff) firstOff = position;
+    const familySlot = family === 4 ? 0 : 1;
+    for (let k = 0; k < active.length && count > 0; k++) {
+      const position = active[k];
+      if (position < firstOff) continue;
+      const { words, masks } = this.ruleBits[position][familySlot];
+      let from = 0;
+      for (const w of needWords) {
+        if (need[w] === 0) continue;
+        // The first of the rule's words at or after w (its words are ascending, and so are needWords).
+        let hi = words.length;
+        while (from < hi) {
+          const mid = (from + hi) >>> 1;
+          if (words[mid] < w) from = mid + 1;
+          else hi = mid;
+        }
+        if (from === words.length) break;
+        if (words[from] !== w) continue;
+        let fresh = need[w] & masks[from];
+        if (fresh === 0) continue;
+        need[w] ^= fresh;
+        const elementBase = w << 5;
+        while (fresh !== 0) {
+          const low = fresh & -fresh;
+          owner[elementBase + 31 - Math.clz32(low)] = position;
+          fresh ^= low;
+          count--;
+        }
+      }
+    }
+    const runs = patchedRuns(base.owner, patched, owner, domain.size);
+    for (const position of off) patched[position + 1] = 0;
+    return { id: nextPartitionId++, family, active, owner: runs };
   }
 
   /**

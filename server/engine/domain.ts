@@ -300,6 +300,39 @@ export function runsFromWords(values: Int32Array, wordOwners: Int32Array, length
   return { starts: runStarts.slice(0, count), values: runValues.slice(0, count) };
 }
 
+/**
+ * Runs like `base`, except that the elements of runs whose value is flagged in `patched`
+ * (indexed by value + 1) take their values from `values`; equal neighbours merge.
+ */
+export function patchedRuns(base: Runs, patched: Uint8Array, values: Int32Array, length: number): Runs {
+  const n = base.starts.length;
+  ensureScratch(length);
+  let count = 0;
+  let previous = MIXED_WORD;
+  for (let k = 0; k < n; k++) {
+    const v = base.values[k];
+    const start = base.starts[k];
+    if (patched[v + 1] === 0) {
+      if (v !== previous) {
+        runStarts[count] = start;
+        runValues[count++] = v;
+        previous = v;
+      }
+      continue;
+    }
+    const end = k + 1 < n ? base.starts[k + 1] : length;
+    for (let i = start; i < end; i++) {
+      const w = values[i];
+      if (w !== previous) {
+        runStarts[count] = i;
+        runValues[count++] = w;
+        previous = w;
+      }
+    }
+  }
+  return { starts: runStarts.slice(0, count), values: runValues.slice(0, count) };
+}
+
 /** Combines two run lists element-wise with f; equal neighbours merge. */
 export function zipRuns(a: Runs, b: Runs, f: (x: number, y: number) => number): Runs {
   const na = a.starts.length;
