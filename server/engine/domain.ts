@@ -1,5 +1,6 @@
-// The compiled source space of one family: every boundary of every set the rules and
-// accounts use cuts the family into "elements" (maximal intervals no set tells apart).
+// The compiled source space of one family: every boundary of every set it is built from (the
+// address objects the rules name, the login sources) cuts the family into "elements"
+// (intervals no such set tells apart; any union of those sets is a union of elements).
 // Sets become index ranges and bitsets over elements; partitions become runs of elements.
 
 import { FAMILY } from "./addresses.ts";

@@ -1,0 +1,15 @@
+import { performance } from "node:perf_hooks";
+import { Session } from "node:inspector/promises";
+import { writeFileSync } from "node:fs";
+import { compileModel, parseModel, findings } from "#server/engine/index.ts";
+import { benchSize, generateModel } from "#server/engine/testing/generate-model.ts";
+const rules = Number(process.argv[2] ?? 16000);
+const g = generateModel(20250301, benchSize(rules));
+const p = parseModel(g.model); if (!p.ok) throw new Error("bad");
+const s = new Session(); s.connect(); await s.post("Profiler.enable"); await s.post("Profiler.setSamplingInterval", { interval: 500 });
+await s.post("Profiler.start");
+let t0 = performance.now(); const c = compileModel(p.model); const cm = performance.now() - t0;
+t0 = performance.now(); findings(c); const fm = performance.now() - t0;
+const { profile } = await s.post("Profiler.stop");
+writeFileSync("/tmp/compile.cpuprofile", JSON.stringify(profile));
+console.log(rules, "compile", cm.toFixed(0), "findings", fm.toFixed(0), "rss", (process.memoryUsage().rss / 1048576).toFixed(0), "domain", c.domains[4].size, c.domains[6].size);
