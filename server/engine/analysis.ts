@@ -96,13 +96,13 @@ export function distinctRulePartitions(engine: CompiledModel): RulePartition[] {
 
 /** Positions of rules that are the first match for at least one probe. */
 export function firstMatchRules(engine: CompiledModel): Set<number> {
-  const deciding = new Uint8Array(engine.rules.length);
+  const deciding = new Uint8Array(engine.slotCount);
   for (const p of distinctRulePartitions(engine)) {
     const values = p.owner.values;
     for (let k = 0; k < values.length; k++) if (values[k] >= 0) deciding[values[k]] = 1;
   }
   const used = new Set<number>();
-  for (let position = 0; position < deciding.length; position++) if (deciding[position] === 1) used.add(position);
+  for (let slot = 0; slot < deciding.length; slot++) if (deciding[slot] === 1) used.add(engine.positionOfSlot(slot));
   return used;
 }
 
@@ -122,7 +122,8 @@ function actsAlikeAfter(engine: CompiledModel, family: Family, active: Int32Arra
     left++;
   }
   for (let i = from; i < active.length; i++) {
-    const bits = engine.ruleSourceBits(active[i], family);
+    const position = engine.positionOfSlot(active[i]);
+    const bits = engine.ruleSourceBits(position, family);
     const words = bits.words;
     let lo = 0;
     let hi = words.length;
@@ -131,7 +132,7 @@ function actsAlikeAfter(engine: CompiledModel, family: Family, active: Int32Arra
       if (words[mid] < firstWord) lo = mid + 1;
       else hi = mid;
     }
-    const same = engine.rules[active[i]].allow === allow;
+    const same = engine.rules[position].allow === allow;
     for (let j = lo; j < words.length && words[j] <= lastWord; j++) {
       const w = words[j] - firstWord;
       const fresh = remaining[w] & bits.masks[j];
@@ -155,10 +156,10 @@ const redundantCache = new WeakMap<CompiledModel, Set<number>>();
 export function redundantRules(engine: CompiledModel): Set<number> {
   const cached = redundantCache.get(engine);
   if (cached !== undefined) return cached;
-  // Per rule: 0 never the first match, 1 the first match somewhere, 2 and removing it matters.
-  const state = new Uint8Array(engine.rules.length);
+  // Per slot: 0 never the first match, 1 the first match somewhere, 2 and removing it matters.
+  const state = new Uint8Array(engine.slotCount);
   // Per partition, where each active rule sits in its list (reset after each partition).
-  const place = new Int32Array(engine.rules.length).fill(-1);
+  const place = new Int32Array(engine.slotCount).fill(-1);
   const remaining = new Int32Array(Math.max(engine.domains[4].words, engine.domains[6].words) + 1);
   for (const p of distinctRulePartitions(engine)) {
     const { starts, values } = p.owner;
@@ -166,20 +167,20 @@ export function redundantRules(engine: CompiledModel): Set<number> {
     const active = p.active;
     let placed = false;
     for (let k = 0; k < values.length; k++) {
-      const position = values[k];
-      if (position < 0 || state[position] === 2) continue;
-      state[position] = 1;
+      const slot = values[k];
+      if (slot < 0 || state[slot] === 2) continue;
+      state[slot] = 1;
       if (!placed) {
         for (let i = 0; i < active.length; i++) place[active[i]] = i;
         placed = true;
       }
       const end = k + 1 < starts.length ? starts[k + 1] : size;
-      if (!actsAlikeAfter(engine, p.family, active, place[position] + 1, starts[k], end, engine.rules[position].allow, remaining)) state[position] = 2;
+      if (!actsAlikeAfter(engine, p.family, active, place[slot] + 1, starts[k], end, engine.rules[engine.positionOfSlot(slot)].allow, remaining)) state[slot] = 2;
     }
     if (placed) for (let i = 0; i < active.length; i++) place[active[i]] = -1;
   }
   const redundant = new Set<number>();
-  for (let position = 0; position < state.length; position++) if (state[position] === 1) redundant.add(position);
+  for (let slot = 0; slot < state.length; slot++) if (state[slot] === 1) redundant.add(engine.positionOfSlot(slot));
   redundantCache.set(engine, redundant);
   return redundant;
 }

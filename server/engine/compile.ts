@@ -6,7 +6,7 @@ import { formatAddress, parseAddress, parseEntry } from "./addresses.ts";
 import type { Address, Family } from "./addresses.ts";
 import { ANY_SET, EMPTY_SET, contains, rangesOf, setFromRanges, unionSets } from "./address-sets.ts";
 import type { AddressSet } from "./address-sets.ts";
-import { Domain, MIXED_WORD, lastAtMost, mapRuns, patchedRuns, runValueAt, runsFromArray, runsFromWords, zipRuns } from "./domain.ts";
+import { Domain, MIXED_WORD, mapRuns, patchedRuns, runValueAt, runsFromArray, runsFromWords, zipRuns } from "./domain.ts";
 import type { Runs, SparseBits } from "./domain.ts";
 import { looksLikeAddressEntry, serviceKey } from "./model.ts";
 import type { DeviceModel } from "./model.ts";
@@ -89,9 +89,9 @@ export interface Candidates {
 export interface RulePartition {
   readonly id: number;
   readonly family: Family;
-  /** Positions of the active rules it was computed from, in order. */
+  /** Slots (CompiledModel.positionOfSlot) of the active rules it was computed from, in order. */
   readonly active: Int32Array;
-  /** Run values: position of the first matching rule, or -1 where none matched. */
+  /** Run values: slot of the first matching rule, or -1 where none matched. */
   readonly owner: Runs;
 }
 
@@ -133,7 +133,6 @@ const PORT_SERVICE = /^(tcp|udp)\/([0-9]{1,5})$/;
 
 /** Partition ids are unique across compiled models, so a model compiled on a basis can share the basis's partitions and caches keyed by them. */
 let nextPartitionId = 0;
-let nextRuleToken = 0;
 
 /** A hash of a partition's content: its family and its rules' tokens in order (FNV-1a over the numbers). */
 function contentHash(family: Family, tokens: ArrayLike<number>): number {
@@ -190,8 +189,16 @@ export class CompiledModel {
   private readonly outcomesFrom = new Map<RulePartition, RulePartition>();
   /** The basis's partitions by a hash of their family and rule tokens. */
   private basisIndex: Map<number, RulePartition[]> | null = null;
-  /** Per position: a number naming the rule's id and sources, equal for the same rule in a basis with the same sources. */
-  private readonly ruleTokens: Int32Array;
+  /**
+   * Per position: the rule's slot, the number partitions name it by. A rule keeps its slot in
+   * a model compiled on a basis with the same elements while its id and sources stay, so the
+   * basis's partitions of kept rules are this model's as they are, whatever moved.
+   */
+  private readonly ruleSlots: Int32Array;
+  /** Per slot: the rule's position, or -1 for a slot of the basis this model has not. */
+  private readonly slotPositions: Int32Array;
+  /** Slots are below this. */
+  readonly slotCount: number;
   /** Positions of rules in a partition that is not the basis's own (same rules, same order, same actions). */
   private readonly touched = new Set<number>();
   /** Whether the model differs from its basis in its inbound rules alone. */
@@ -200,7 +207,7 @@ export class CompiledModel {
   private touch(active: Int32Array): void {
     // Only ruleUntouched reads it, and only for a model compiled on a basis.
     if (!this.onlyRulesChanged) return;
-    for (const position of active) this.touched.add(position);
+    for (const slot of active) this.touched.add(this.slotPositions[slot]);
   }
 
   /**
@@ -350,9 +357,14 @@ export class CompiledModel {
       ]);
     });
     this.ruleBits = this.sourceKeys.map((key) => this.bitsBySources.get(key) as readonly [SparseBits, SparseBits]);
-    const basisTokens = new Map<string, number>();
-    if (sameElements) basis.model.inboundRules.forEach((r, i) => basisTokens.set(`${r.id}\u0001${basis.sourceKeys[i]}`, basis.ruleTokens[i]));
-    this.ruleTokens = Int32Array.from(model.inboundRules, (r, i) => basisTokens.get(`${r.id}\u0001${this.sourceKeys[i]}`) ?? nextRuleToken++);
+    // Slots: the basis's for rules with the same id and sources; new ones past the basis's.
+    const basisSlots = new Map<string, number>();
+    if (sameElements) basis.model.inboundRules.forEach((r, i) => basisSlots.set(`${r.id}\u0001${basis.sourceKeys[i]}`, basis.ruleSlots[i]));
+    let slotCount = sameElements ? basis.slotCount : model.inboundRules.length;
+    this.ruleSlots = Int32Array.from(model.inboundRules, (r, i) => (sameElements ? (basisSlots.get(`${r.id}\u0001${this.sourceKeys[i]}`) ?? slotCount++) : i));
+    this.slotCount = slotCount;
+    this.slotPositions = new Int32Array(slotCount).fill(-1);
+    this.ruleSlots.forEach((slot, position) => (this.slotPositions[slot] = position));
     if (sameElements) {
       this.basisRef = new WeakRef(basis);
       // The address book is already known to be the same; the rest is small.
@@ -746,18 +758,14 @@ export class CompiledModel {
     }
     let rules = this.partitions.get(activeKey);
     if (rules === undefined) {
-      let active = candidates.rules;
-      if (off.length > 0) {
-        active = new Int32Array(active.length - off.length);
-        let n = 0;
-        for (const p of candidates.rules) {
-          const s = this.rules[p].schedule;
-          if (s < 0 || state[s]) active[n++] = p;
-        }
+      if (off.length === 0) return this.slicePartitionAllOn(family, candidates);
+      const active = new Int32Array(candidates.rules.length - off.length);
+      let n = 0;
+      for (const p of candidates.rules) {
+        const s = this.rules[p].schedule;
+        if (s < 0 || state[s]) active[n++] = this.ruleSlots[p];
       }
-      rules =
-        this.basisPartition(family, active) ??
-        (off.length > 0 ? this.derivedPartition(family, this.slicePartitionAllOn(family, candidates), active, off) : this.rulePartition(family, active, activeKey));
+      rules = this.basisPartition(family, active) ?? this.derivedPartition(family, this.slicePartitionAllOn(family, candidates), active, off);
       this.partitions.set(activeKey, rules);
     }
     return rules;
@@ -768,7 +776,8 @@ export class CompiledModel {
     const key = `${family}|${candidates.id}`;
     let rules = this.partitions.get(key);
     if (rules === undefined) {
-      rules = this.basisPartition(family, candidates.rules) ?? this.rulePartition(family, candidates.rules, key);
+      const active = Int32Array.from(candidates.rules, (position) => this.ruleSlots[position]);
+      rules = this.basisPartition(family, active) ?? this.rulePartition(family, active, key);
       this.partitions.set(key, rules);
     }
     return rules;
@@ -785,8 +794,8 @@ export class CompiledModel {
     this.touch(active);
     const domain = this.domains[family];
     const { remaining: need, owner } = this.scratch[family];
-    const patched = (this.patchScratch ??= new Uint8Array(this.rules.length + 1));
-    for (const position of off) patched[position + 1] = 1;
+    const patched = (this.patchScratch ??= new Uint8Array(this.slotCount + 1));
+    for (const position of off) patched[this.ruleSlots[position] + 1] = 1;
     const { starts, values } = base.owner;
     need.fill(0);
     const needWords: number[] = [];
@@ -807,7 +816,8 @@ export class CompiledModel {
     for (const position of off) if (position < firstOff) firstOff = position;
     const familySlot = family === 4 ? 0 : 1;
     for (let k = 0; k < active.length && count > 0; k++) {
-      const position = active[k];
+      const slot = active[k];
+      const position = this.slotPositions[slot];
       if (position < firstOff) continue;
       const { words, masks } = this.ruleBits[position][familySlot];
       let from = 0;
@@ -828,63 +838,41 @@ export class CompiledModel {
         const elementBase = w << 5;
         while (fresh !== 0) {
           const low = fresh & -fresh;
-          owner[elementBase + 31 - Math.clz32(low)] = position;
+          owner[elementBase + 31 - Math.clz32(low)] = slot;
           fresh ^= low;
           count--;
         }
       }
     }
     const runs = patchedRuns(base.owner, patched, owner, domain.size);
-    for (const position of off) patched[position + 1] = 0;
+    for (const position of off) patched[this.ruleSlots[position] + 1] = 0;
     return { id: nextPartitionId++, family, active, owner: runs };
   }
 
   /**
    * The basis's partition of the same rules (by id, each with the same sources) in the same
-   * order, with its owners renumbered to this model's positions; undefined when the basis has
-   * none. The runs' starts are shared: the elements are the same.
+   * order: the same object, since both name rules by slot; undefined when the basis has none.
    */
   private basisPartition(family: Family, active: Int32Array): RulePartition | undefined {
     const basis = this.basisRef?.deref();
     if (basis === undefined) return undefined;
     this.basisIndex ??= basis.partitionsByContent();
-    const tokens = Int32Array.from(active, (position) => this.ruleTokens[position]);
-    const found = this.basisIndex.get(contentHash(family, tokens))?.find((p) => basis.hasTokens(p, family, tokens));
+    const found = this.basisIndex.get(contentHash(family, active))?.find((p) => sameSlots(p, family, active));
     if (found !== undefined) {
       this.partitionSources.reused++;
-      return this.renumbered(basis, found, active);
+      // Its outcome runs carry over too when every rule in it kept its action.
+      let sameActions = this.sameCatalogueAndAccounts;
+      for (let k = 0; k < active.length && sameActions; k++) sameActions = basis.rules[basis.slotPositions[active[k]]].allow === this.rules[this.slotPositions[active[k]]].allow;
+      if (sameActions) this.outcomesFrom.set(found, found);
+      else this.touch(active);
+      return found;
     }
-    const updated = this.updatedPartition(basis, family, active, tokens);
+    const updated = this.updatedPartition(basis, family, active);
     if (updated !== undefined) {
       this.partitionSources.updated++;
       this.touch(active);
     }
     return updated;
-  }
-
-  /** Whether the partition is of the family and of rules with these tokens, in order. */
-  private hasTokens(partition: RulePartition, family: Family, tokens: Int32Array): boolean {
-    if (partition.family !== family || partition.active.length !== tokens.length) return false;
-    for (let k = 0; k < tokens.length; k++) if (this.ruleTokens[partition.active[k]] !== tokens[k]) return false;
-    return true;
-  }
-
-  /** The basis's partition of the same rules in the same order, in this model's positions. */
-  private renumbered(basis: CompiledModel, found: RulePartition, active: Int32Array): RulePartition {
-    let samePositions = true;
-    for (let k = 0; k < active.length && samePositions; k++) samePositions = found.active[k] === active[k];
-    let sameActions = this.sameCatalogueAndAccounts;
-    for (let k = 0; k < active.length && sameActions; k++) sameActions = basis.rules[found.active[k]].allow === this.rules[active[k]].allow;
-    let partition = found;
-    if (!samePositions) {
-      const renumber = new Map<number, number>();
-      for (let k = 0; k < active.length; k++) renumber.set(found.active[k], active[k]);
-      const values = found.owner.values.map((v) => (v < 0 ? v : (renumber.get(v) as number)));
-      partition = { id: nextPartitionId++, family: found.family, active, owner: { starts: found.owner.starts, values } };
-    }
-    if (sameActions) this.outcomesFrom.set(partition, found);
-    else this.touch(active);
-    return partition;
   }
 
   /**
@@ -895,23 +883,22 @@ export class CompiledModel {
    * the elements it covers from later rules and from the default). Linear in the elements
    * instead of a sweep over the whole list. Undefined when the basis has neither list.
    */
-  private updatedPartition(basis: CompiledModel, family: Family, active: Int32Array, tokens: Int32Array): RulePartition | undefined {
+  private updatedPartition(basis: CompiledModel, family: Family, active: Int32Array): RulePartition | undefined {
     const edited = this.editedRule;
     if (edited === null) return undefined;
-    const at = active.findIndex((position) => this.rules[position].id === edited.id);
-    const without = at < 0 ? tokens : tokens.filter((_, k) => k !== at);
-    const withoutPositions = at < 0 ? active : active.filter((_, k) => k !== at);
+    const at = active.findIndex((slot) => this.rules[this.slotPositions[slot]].id === edited.id);
+    const without = at < 0 ? active : active.filter((_, k) => k !== at);
     const index = this.basisIndex as Map<number, RulePartition[]>;
-    const lookup = (list: Int32Array) => index.get(contentHash(family, list))?.find((p) => basis.hasTokens(p, family, list));
+    const lookup = (list: Int32Array) => index.get(contentHash(family, list))?.find((p) => sameSlots(p, family, list));
     let base = lookup(without);
     let removeAt = -1;
     if (base === undefined && edited.basisPosition >= 0) {
       // The list as the basis had it: the rule between its basis neighbours.
       let insertAt = 0;
-      while (insertAt < withoutPositions.length && (this.basisPositions[withoutPositions[insertAt]] ?? -1) < edited.basisPosition) insertAt++;
+      while (insertAt < without.length && (this.basisPositions[this.slotPositions[without[insertAt]]] ?? -1) < edited.basisPosition) insertAt++;
       const withIt = new Int32Array(without.length + 1);
       withIt.set(without.subarray(0, insertAt));
-      withIt[insertAt] = basis.ruleTokens[edited.basisPosition];
+      withIt[insertAt] = basis.ruleSlots[edited.basisPosition];
       withIt.set(without.subarray(insertAt), insertAt + 1);
       base = lookup(withIt);
       removeAt = insertAt;
@@ -938,7 +925,8 @@ export class CompiledModel {
         }
       }
       for (let k = removeAt + 1; k < base.active.length && count > 0; k++) {
-        const bits = basis.ruleBits[base.active[k]][familySlot];
+        const slot = base.active[k];
+        const bits = basis.ruleBits[basis.slotPositions[slot]][familySlot];
         for (let j = 0; j < bits.words.length; j++) {
           const w = bits.words[j];
           let hit = need[w] & bits.masks[j];
@@ -948,23 +936,16 @@ export class CompiledModel {
           while (hit !== 0) {
             const low = hit & -hit;
             hit ^= low;
-            owner[elementBase + 31 - Math.clz32(low)] = base.active[k];
+            owner[elementBase + 31 - Math.clz32(low)] = slot;
             count--;
           }
         }
       }
     }
-    // Into this model's positions (the basis's list minus the removed rule lines up with `withoutPositions`).
-    const renumber = new Int32Array(basis.rules.length).fill(-1);
-    const baseKept = removeAt < 0 ? base.active : base.active.filter((_, k) => k !== removeAt);
-    baseKept.forEach((position, k) => (renumber[position] = withoutPositions[k]));
-    for (let element = 0; element < domain.size; element++) {
-      const v = owner[element];
-      if (v >= 0) owner[element] = renumber[v];
-    }
     if (at >= 0) {
       // The rule takes what it covers from later rules and from the default.
-      const position = active[at];
+      const slot = active[at];
+      const position = this.slotPositions[slot];
       const bits = this.ruleBits[position][familySlot];
       for (let j = 0; j < bits.words.length; j++) {
         let mask = bits.masks[j];
@@ -974,7 +955,7 @@ export class CompiledModel {
           mask ^= low;
           const element = elementBase + 31 - Math.clz32(low);
           const current = owner[element];
-          if (current < 0 || current > position) owner[element] = position;
+          if (current < 0 || this.slotPositions[current] > position) owner[element] = slot;
         }
       }
     }
@@ -985,7 +966,7 @@ export class CompiledModel {
   private partitionsByContent(): Map<number, RulePartition[]> {
     const out = new Map<number, RulePartition[]>();
     for (const p of new Set(this.partitions.values())) {
-      const hash = contentHash(p.family, Array.from(p.active, (position) => this.ruleTokens[position]));
+      const hash = contentHash(p.family, p.active);
       const bucket = out.get(hash);
       if (bucket === undefined) out.set(hash, [p]);
       else bucket.push(p);
@@ -1020,8 +1001,8 @@ export class CompiledModel {
     let live = domain.words;
     const familySlot = family === 4 ? 0 : 1;
     outer: for (let k = 0; k < active.length; k++) {
-      const position = active[k];
-      const bits = this.ruleBits[position][familySlot];
+      const slot = active[k];
+      const bits = this.ruleBits[this.slotPositions[slot]][familySlot];
       const words = bits.words;
       const masks = bits.masks;
       for (let j = 0; j < words.length; j++) {
@@ -1029,13 +1010,13 @@ export class CompiledModel {
         let fresh = remaining[w] & masks[j];
         if (fresh === 0) continue;
         remaining[w] ^= fresh;
-        if (fresh === -1) wordOwners[w] = position;
+        if (fresh === -1) wordOwners[w] = slot;
         else {
           wordOwners[w] = MIXED_WORD;
           const base = w << 5;
           while (fresh !== 0) {
             const low = fresh & -fresh;
-            owner[base + 31 - Math.clz32(low)] = position;
+            owner[base + 31 - Math.clz32(low)] = slot;
             fresh ^= low;
           }
         }
@@ -1096,18 +1077,18 @@ export class CompiledModel {
   #outcomeTables = new Map<number, Int32Array>();
   #allowTable: Uint8Array | undefined;
 
-  /** Per first-match owner (position + 1; 0 for the default): 1 where it allows. */
+  /** Per first-match owner (slot + 1; 0 for the default): 1 where it allows. */
   private allowTable(): Uint8Array {
     if (this.#allowTable === undefined) {
-      const table = new Uint8Array(this.rules.length + 1);
+      const table = new Uint8Array(this.slotCount + 1);
       table[0] = this.defaultAllow ? 1 : 0;
-      for (let position = 0; position < this.rules.length; position++) table[position + 1] = this.rules[position].allow ? 1 : 0;
+      for (let position = 0; position < this.rules.length; position++) table[this.ruleSlots[position] + 1] = this.rules[position].allow ? 1 : 0;
       this.#allowTable = table;
     }
     return this.#allowTable;
   }
 
-  /** Per first-match owner (position + 1; 0 for the default): `passed` where it allows, silence where it drops. */
+  /** Per first-match owner (slot + 1; 0 for the default): `passed` where it allows, silence where it drops. */
   private outcomeTable(passed: number): Int32Array {
     let table = this.#outcomeTables.get(passed);
     if (table === undefined) {
@@ -1131,12 +1112,17 @@ export class CompiledModel {
     return this.ruleBits[position][family === 4 ? 0 : 1];
   }
 
-  /** Whether the rule's sources hold the element. */
-  ruleCovers(position: number, family: Family, element: number): boolean {
-    const bits = this.ruleBits[position][family === 4 ? 0 : 1];
-    const k = lastAtMost(bits.words, element >>> 5, bits.words.length);
-    return bits.words.length > 0 && bits.words[k] === element >>> 5 && ((bits.masks[k] >>> (element & 31)) & 1) === 1;
+  /** The position of the rule a partition names by this slot (owners and `active` lists hold slots). */
+  positionOfSlot(slot: number): number {
+    return this.slotPositions[slot];
   }
+
+  /** The slot partitions name the rule at this position by. */
+  slotOf(position: number): number {
+    return this.ruleSlots[position];
+  }
+
+
 
   /** Element index of an address in its family's domain. */
   elementOf(address: Address): number {
@@ -1206,6 +1192,13 @@ function singleEdit(before: DeviceModel, after: DeviceModel): string | null {
 }
 
 /** Whether two models name the same address objects and groups with the same contents. */
+/** Whether the partition is of the family and of these slots, in order. */
+function sameSlots(partition: RulePartition, family: Family, active: Int32Array): boolean {
+  if (partition.family !== family || partition.active.length !== active.length) return false;
+  for (let k = 0; k < active.length; k++) if (partition.active[k] !== active[k]) return false;
+  return true;
+}
+
 function sameAddressBook(a: DeviceModel, b: DeviceModel): boolean {
   if (a.addresses.length !== b.addresses.length || a.addressGroups.length !== b.addressGroups.length) return false;
   const sameList = (x: readonly string[], y: readonly string[]) => x.length === y.length && x.every((v, i) => v === y[i]);

@@ -52,7 +52,8 @@ function makeOracle(engine: CompiledModel): LayerOracle {
   return {
     firstMatch(probe) {
       const entry = engine.entry(probe.iface, probe.to, probe.serviceClass.index, engine.sliceAt(probe.atMs));
-      return runValueAt(entry.rules.owner, engine.elementOf(probe.from));
+      const slot = runValueAt(entry.rules.owner, engine.elementOf(probe.from));
+      return slot < 0 ? slot : engine.positionOfSlot(slot);
     },
     eligible(probe, serviceName) {
       return engine.eligibleAccounts(probe.from.family, engine.elementOf(probe.from), serviceName, probe.account);

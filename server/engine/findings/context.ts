@@ -305,7 +305,9 @@ export class FindingContext {
         seen.add(rules.id);
         const { starts, values } = rules.owner;
         for (let k = 0; k < values.length; k++) {
-          if (values[k] >= 0 && !out.has(values[k])) out.set(values[k], { iface, to, cls, slice, family: rules.family, element: starts[k] });
+          if (values[k] < 0) continue;
+          const position = engine.positionOfSlot(values[k]);
+          if (!out.has(position)) out.set(position, { iface, to, cls, slice, family: rules.family, element: starts[k] });
         }
       });
     }
