@@ -83,7 +83,7 @@ export function AwaitingDismissal({ finding, devicePath, powers, timeZone, retur
             {answer ? (
               <>
                 <Button type="submit" name="intent" value="confirm" size="sm" disabled={busy}>
-                  Confirm dismissal<span className="sr-only">: {finding.title}</span>
+                  Confirm dismissal<span className="sr-only"> of {finding.title}</span>
                 </Button>
                 <Button type="submit" name="intent" value="decline" variant="secondary" size="sm" disabled={busy}>
                   Decline<span className="sr-only"> the dismissal of {finding.title}</span>

@@ -1,4 +1,4 @@
-import { Form, Link, useSearchParams } from "react-router";
+import { Form, Link, useLocation, useSearchParams } from "react-router";
 import type { Route } from "./+types/findings";
 import { requireRole } from "#server/auth/guard.server";
 import { hasAtLeastRole } from "#server/auth/roles";
@@ -36,9 +36,9 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   const fleet = await fleetFindings(access.organisation.id);
   const devices = fleet.devices;
   const rows = fleet.rows.map((row) => ({ ...row, awaitsMyConfirmation: mayAnswer(row.dismissal, powers) }));
-  // The counts follow the place filters (site, device, code) but not the severity threshold,
-  // so they show what the threshold would hide.
-  const inScope = filterFindingRows(rows, { ...query, minSeverity: "", showDismissed: true });
+  // The counts follow the place filters (site, device, code) but not the severity threshold
+  // (nor "awaiting my confirmation"), so they show what the threshold would hide.
+  const inScope = filterFindingRows(rows, { ...query, minSeverity: "", showDismissed: true, awaitingMine: false });
   const shown = sortFindingRows(filterFindingRows(rows, query), query.sort, query.descending);
   const sites = [...new Map(devices.map((device) => [device.siteId, device.siteName])).entries()].map(([id, name]) => ({ id, name })).sort((a, b) => a.name.localeCompare(b.name));
   return {
@@ -51,8 +51,6 @@ export async function loader({ request, context }: Route.LoaderArgs) {
     awaitingCount: inScope.filter((row) => row.awaitingConfirmation).length,
     awaitingMineCount: inScope.filter((row) => row.awaitsMyConfirmation).length,
     powers,
-    // The findings page's own address, so answering a dismissal comes back to the same view.
-    here: `${url.pathname}${url.search}`,
     total: rows.length,
     deviceCount: devices.length,
     devices: devices.map((device) => ({ id: device.id, name: device.name })),
@@ -67,6 +65,9 @@ const selectClasses = "h-9 rounded-control border border-line-strong bg-surface 
 export default function Findings({ loaderData }: Route.ComponentProps) {
   const { slug, query, groups, counts, devices, sites, codes } = loaderData;
   const [searchParams] = useSearchParams();
+  // The page's own address (the browser's, not a data request's), so answering a dismissal comes back to the same view.
+  const location = useLocation();
+  const here = `${location.pathname}${location.search}`;
   const severityLink = (severity: string) => {
     const next = new URLSearchParams(searchParams);
     next.set("severity", severity);
@@ -122,7 +123,8 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
             ) : null}
           </section>
 
-          <Form method="get" role="search" className="mb-4 flex flex-wrap items-end gap-3">
+          {/* Keyed by the query, so the fields show the URL's filters after a link (a severity chip, "awaiting your confirmation") changed them. */}
+          <Form key={searchParams.toString()} method="get" role="search" className="mb-4 flex flex-wrap items-end gap-3">
             <input type="hidden" name="sort" value={query.sort} />
             <input type="hidden" name="dir" value={query.descending ? "desc" : "asc"} />
             <input type="hidden" name="group" value={query.group} />
@@ -211,7 +213,7 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
                   : "Loosen the filters, or show dismissed findings."}
             </EmptyState>
           ) : (
-            <FindingsTable slug={slug} groups={groups} query={query} powers={loaderData.powers} here={loaderData.here} />
+            <FindingsTable slug={slug} groups={groups} query={query} powers={loaderData.powers} here={here} />
           )}
           <div className="mt-8">
             <SimulationCaution />
