@@ -36,6 +36,11 @@ export const TimeZoneSchema = z
 
 export const IdSchema = z.string().uuid("That identifier is not valid.");
 
+/** The import page's last step for a new revision of a device: its effect was read (the box ticked). */
+export const ImportEffectReadSchema = z.object({
+  effectRead: z.literal("yes", { message: "Read the effect of this import above, then tick “I have read the effect” to import it." }),
+});
+
 /** Why a finding is accepted as a risk: as long as the finding's dismissal rule asks (20 characters for high and critical). */
 export function dismissalReasonSchema(rule: Exclude<DismissalRule, { kind: "refused" }>) {
   return z
