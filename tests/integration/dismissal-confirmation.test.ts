@@ -250,6 +250,8 @@ describe("A high or critical finding's dismissal takes a second person", () => {
     expect(mine).toContain(REASON);
     expect(offers(mine, "confirm")).toBe(true);
     expect(mine).not.toContain(NO_SECOND_FACTOR.title);
+    // The counts keep their scope: the filter narrows the list, not the figures.
+    expect(fleetActive(mine)).toMatchObject({ critical: 1, high: 2, medium: 1 });
     const asker = plain((await team.members.engineer.get(`${findingsPage}?awaiting=mine`)).text);
     expect(asker).toContain("Nothing awaits your confirmation");
     // A trainee is offered no such filter.
