@@ -4,8 +4,9 @@ import type { Organisation } from "./organisation.ts";
 
 /**
  * One finding of one device accepted as a risk, with the reason; it applies to the same
- * finding key on later revisions until restored (restoredAt set). Rows are kept after a
- * restore so the history of accepted risks stays readable.
+ * finding key on later revisions until restored (restoredAt set). A dismissal that needs
+ * confirmation applies only once a second person confirmed it (confirmedAt set). Rows are kept
+ * after a restore so the history of accepted risks stays readable.
  */
 export class FindingDismissal extends Model<InferAttributes<FindingDismissal>, InferCreationAttributes<FindingDismissal>> {
   declare id: CreationOptional<string>;
@@ -24,6 +25,11 @@ export class FindingDismissal extends Model<InferAttributes<FindingDismissal>, I
   declare dismissedByUserId: string | null;
   declare dismissedByEmail: string;
   declare dismissedAt: CreationOptional<Date>;
+  /** Set for a high or critical finding: a second person must confirm before it takes effect. */
+  declare needsConfirmation: CreationOptional<boolean>;
+  declare confirmedAt: CreationOptional<Date | null>;
+  declare confirmedByUserId: CreationOptional<string | null>;
+  declare confirmedByEmail: CreationOptional<string | null>;
   declare restoredAt: Date | null;
   declare restoredByUserId: string | null;
   declare restoredByEmail: string | null;
@@ -42,6 +48,10 @@ export class FindingDismissal extends Model<InferAttributes<FindingDismissal>, I
         dismissedByUserId: { type: DataTypes.UUID, allowNull: true },
         dismissedByEmail: { type: DataTypes.STRING(254), allowNull: false },
         dismissedAt: { type: DataTypes.DATE, allowNull: false, defaultValue: DataTypes.NOW },
+        needsConfirmation: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
+        confirmedAt: { type: DataTypes.DATE, allowNull: true },
+        confirmedByUserId: { type: DataTypes.UUID, allowNull: true },
+        confirmedByEmail: { type: DataTypes.STRING(254), allowNull: true },
         restoredAt: { type: DataTypes.DATE, allowNull: true },
         restoredByUserId: { type: DataTypes.UUID, allowNull: true },
         restoredByEmail: { type: DataTypes.STRING(254), allowNull: true },

@@ -14,6 +14,10 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "device.deleted": "Device deleted",
   "finding.dismissed": "Finding dismissed",
   "finding.restored": "Finding restored",
+  "finding.dismissal-requested": "Dismissal asked for",
+  "finding.dismissal-confirmed": "Dismissal confirmed",
+  "finding.dismissal-declined": "Dismissal declined",
+  "finding.dismissal-withdrawn": "Dismissal withdrawn",
   "shared-object.created": "Shared object created",
   "shared-object.updated": "Shared object changed",
   "shared-object.deleted": "Shared object deleted",
@@ -103,6 +107,11 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "device.deleted": (c, target) => `Deleted device ${quoted(c.name, target)} and its revisions (last r${word(c.lastRevision)})`,
   "finding.dismissed": (c, target) => `Dismissed ${word(c.code)} on ${quoted(c.device, target)} (r${word(c.revision)}) as an accepted risk: ${quoted(c.reason)}`,
   "finding.restored": (c, target) => `Restored ${word(c.code)} on ${quoted(c.device, target)} to the active findings`,
+  "finding.dismissal-requested": (c, target) =>
+    `Asked to dismiss ${word(c.code)}${word(c.severity, "") ? ` (${word(c.severity)})` : ""} on ${quoted(c.device, target)} (r${word(c.revision)}) as an accepted risk, awaiting a second person's confirmation: ${quoted(c.reason)}`,
+  "finding.dismissal-confirmed": (c, target) => `Confirmed the dismissal of ${word(c.code)} on ${quoted(c.device, target)} asked for by ${word(c.dismissedBy, "another member")}: ${quoted(c.reason)}`,
+  "finding.dismissal-declined": (c, target) => `Declined the dismissal of ${word(c.code)} on ${quoted(c.device, target)} asked for by ${word(c.dismissedBy, "another member")}; the finding stays active`,
+  "finding.dismissal-withdrawn": (c, target) => `Withdrew the dismissal of ${word(c.code)} on ${quoted(c.device, target)} before it was confirmed`,
   "shared-object.created": (c, target) => `Created shared ${c.kind === "group" ? "group" : "address object"} ${quoted(target)}: ${valueText(c.items)}`,
   "shared-object.updated": (c, target) => {
     const changed = fieldChanges(c);

@@ -18,6 +18,8 @@ export type FindingsQuery = {
   site: string;
   device: string;
   showDismissed: boolean;
+  /** Only findings whose dismissal awaits the viewer's confirmation (asked for by someone else). */
+  awaitingMine: boolean;
   sort: FindingSort;
   descending: boolean;
   /** Grouping, "code" unless the URL says otherwise: a fleet has the same few problems on many devices. */
@@ -38,6 +40,7 @@ export function parseFindingsQuery(params: URLSearchParams): FindingsQuery {
     site: /^[0-9a-f-]{36}$/i.test(params.get("site") ?? "") ? (params.get("site") ?? "") : "",
     device: /^[0-9a-f-]{36}$/i.test(params.get("device") ?? "") ? (params.get("device") ?? "") : "",
     showDismissed: params.get("dismissed") === "show",
+    awaitingMine: params.get("awaiting") === "mine",
     sort,
     // Severity reads naturally worst-first; the other columns A→Z.
     descending: params.has("dir") ? params.get("dir") === "desc" : sort === "severity",
@@ -45,7 +48,8 @@ export function parseFindingsQuery(params: URLSearchParams): FindingsQuery {
   };
 }
 
-export type FindingRowLike = { severity: string; code: string; deviceName: string; siteId: string; deviceId: string; title: string; dismissed: boolean };
+/** `awaitsMyConfirmation`: its dismissal waits for a second person, and the viewer may be that person. */
+export type FindingRowLike = { severity: string; code: string; deviceName: string; siteId: string; deviceId: string; title: string; dismissed: boolean; awaitsMyConfirmation?: boolean };
 
 /** Rows that pass the filters (the severity threshold is inclusive). */
 export function filterFindingRows<Row extends FindingRowLike>(rows: readonly Row[], query: FindingsQuery): Row[] {
@@ -56,7 +60,8 @@ export function filterFindingRows<Row extends FindingRowLike>(rows: readonly Row
       (!query.code || row.code === query.code) &&
       (!query.site || row.siteId === query.site) &&
       (!query.device || row.deviceId === query.device) &&
-      (query.showDismissed || !row.dismissed),
+      (query.showDismissed || !row.dismissed) &&
+      (!query.awaitingMine || row.awaitsMyConfirmation === true),
   );
 }
 

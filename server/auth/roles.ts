@@ -14,7 +14,7 @@ export function hasAtLeastRole(role: Role, minimum: Role): boolean {
 
 export const ROLE_DESCRIPTIONS: Record<Role, string> = {
   trainee: "Reads devices and findings; takes walkthroughs and drills.",
-  reviewer: "Reads everything; reviews and approves proposals.",
+  reviewer: "Reads everything; reviews and approves change proposals; confirms dismissals of high and critical findings.",
   engineer: "Edits devices, sites and proposals.",
   admin: "Manages members, invitations and shared objects.",
   owner: "Everything, including organisation settings and other owners.",

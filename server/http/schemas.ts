@@ -3,6 +3,7 @@ import { findPasswordProblem, PASSWORD_MAX_LENGTH } from "../auth/password-rules
 import { ROLES } from "#models/roles.ts";
 import { NAME_PATTERN } from "../engine/vocabulary.ts";
 import { timeZoneProblem } from "../workspace/issue-words.ts";
+import { REASON_MAX, shortReasonMessage, type DismissalRule } from "../services/dismissal-rules.ts";
 
 // Field schemas shared by the actions, so each field is validated the same way everywhere.
 export const EmailSchema = z
@@ -34,6 +35,22 @@ export const TimeZoneSchema = z
   });
 
 export const IdSchema = z.string().uuid("That identifier is not valid.");
+
+/** The import page's last step for a new revision of a device: its effect was read (the box ticked). */
+export const ImportEffectReadSchema = z.object({
+  effectRead: z.literal("yes", { message: "Read the effect of this import above, then tick “I have read the effect” to import it." }),
+});
+
+/** Why a finding is accepted as a risk: as long as the finding's dismissal rule asks (20 characters for high and critical). */
+export function dismissalReasonSchema(rule: Exclude<DismissalRule, { kind: "refused" }>) {
+  return z
+    .string()
+    .trim()
+    .max(REASON_MAX, `Keep the reason to at most ${REASON_MAX} characters.`)
+    .superRefine((reason, context) => {
+      if (reason.length < rule.minReason) context.addIssue({ code: "custom", message: shortReasonMessage(rule, reason.length) });
+    });
+}
 
 /** Adds the password-rule message (NIST SP 800-63B, reason said) to the "password" field. */
 export function refineNewPassword(value: { password: string; email?: string; name?: string }, refinement: z.RefinementCtx): void {

@@ -654,7 +654,11 @@ describe("Import and export", () => {
     const device = await importDocument(client, slug, siteId, QUAY_EDGE);
     const file = (document: unknown) => new Blob([JSON.stringify(document)], { type: "application/json" });
     const changed = { ...QUAY_EDGE, operatorNetworks: ["noc-net", "partner-hq"] };
-    const asRevision = await postMultipart(client, `/o/${slug}/devices/import`, { intent: "import", target: `device:${device.id}`, baseRevision: "1", file: file(changed) });
+    // A change is imported only once its effect was read (the box on the preview).
+    const unread = await postMultipart(client, `/o/${slug}/devices/import`, { intent: "import", target: `device:${device.id}`, baseRevision: "1", file: file(changed) });
+    expect(unread.status).toBe(400);
+    expect(await device.revision()).toBe(1);
+    const asRevision = await postMultipart(client, `/o/${slug}/devices/import`, { intent: "import", target: `device:${device.id}`, baseRevision: "1", effectRead: "yes", file: file(changed) });
     expect(asRevision.status).toBe(302);
     expect(asRevision.location).toBe(`${device.path}/history`);
     expect((await device.exported(2)).operatorNetworks).toEqual(["noc-net", "partner-hq"]);
@@ -665,6 +669,83 @@ describe("Import and export", () => {
     expect(sameName.status).toBe(409);
     expect(await device.revision()).toBe(2);
     expect(await fleetDeviceIds(client, slug)).toEqual([device.id]);
+  });
+});
+
+describe("Importing a new revision is judged by its effect", () => {
+  // Issue 11: the catch-all deny dragged to the top locks out the operator network. The lockout
+  // guard and the findings come from the engine's diff (docs/engine.md, "The diff"); the
+  // catch-all first makes every later rule shadowed (first match wins, PRODUCT.md §3).
+  const lockedOut = { ...QUAY_EDGE, inboundRules: [QUAY_EDGE.inboundRules[3], QUAY_EDGE.inboundRules[0], QUAY_EDGE.inboundRules[1]] };
+  /** The page's words as read: no scripts, no tags, nothing between the pieces of one sentence. */
+  const words = (html: string) => plain(html.replace(/<script[\s\S]*?<\/script>/g, "")).replace(/<[^>]+>/g, "");
+
+  test("The preview shows counts before → after, findings new and resolved, and the lockout in words; the import waits for 'I have read the effect'", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-import-effect");
+    const device = await importDocument(client, slug, siteId, QUAY_EDGE);
+    const path = `/o/${slug}/devices/import`;
+    const target = `device:${device.id}`;
+    const preview = await postMultipart(client, path, { intent: "preview", target, file: new Blob([JSON.stringify(lockedOut)], { type: "application/json" }) });
+    expect(preview.status).toBe(200);
+    const text = plain(preview.text);
+    const shown = words(preview.text);
+    expect(shown).toContain("Effect on quay-edge: r1 → r2");
+    // Element counts before → after: one inbound rule fewer, the rest unchanged.
+    const counts = Object.fromEntries([...text.matchAll(/data-kind="(\w+)" data-before="(\d+)" data-after="(\d+)"/g)].map((match) => [match[1], [Number(match[2]), Number(match[3])]]));
+    expect(counts).toEqual({ interfaces: [2, 2], addressObjects: [2, 2], inboundRules: [4, 3], accounts: [1, 1] });
+    // The lockout guard names the network, in the effect and in words beside the import button.
+    expect(text).toMatch(/data-testid="lockout-guard"[\s\S]*noc-net/);
+    expect(shown).toContain("Importing this locks the team out: operator network “noc-net” would have no login path left on any interface, service or time.");
+    // Findings new: the lockout itself (critical) and the rules the catch-all now shadows.
+    const added = text.slice(text.indexOf("New findings"), text.indexOf("Resolved findings"));
+    expect(added).toContain('Operator network "noc-net" has no login path');
+    expect(added).toContain('Rule "r1" is never the first match');
+    // Resolved: the removed rule's own finding, and partner-hq's login on the wan, now silent.
+    const resolved = text.slice(text.indexOf("Resolved findings"), text.indexOf("Model changes"));
+    expect(resolved).toContain('Rule "r3" is redundant');
+    expect(resolved).toContain('https on "outside" presents a login to non-private sources');
+    expect(shown).toContain("I have read the effect, including the lockout warning");
+
+    // The last step without the box: 400, the reason beside it, the preview and the document kept, nothing saved.
+    const documentText = preview.text.match(/name="documentText" value="([^"]*)"/)?.[1];
+    if (documentText === undefined) throw new Error("the preview has no documentText");
+    const last = { intent: "import", target, baseRevision: "1", fileName: "locked.json", documentText: plain(documentText) };
+    const unread = await postMultipart(client, path, last);
+    expect(unread.status).toBe(400);
+    // The message sits beside the box, which names it (aria-describedby).
+    expect(unread.text).toMatch(/name="effectRead"[^>]*aria-describedby="effect-read-error"|aria-describedby="effect-read-error"[^>]*name="effectRead"/);
+    expect(plain(unread.text).match(/id="effect-read-error"[^>]*>([^<]*)/)?.[1]).toBe(
+      "Read the effect of this import above, then tick “I have read the effect” to import it.",
+    );
+    expect(unread.text).toMatch(/name="documentText" value="[^"]+"/);
+    expect(plain(unread.text)).toMatch(/name="target" value="device:[0-9a-f-]{36}"/);
+    expect(words(unread.text)).toContain("Effect on quay-edge: r1 → r2");
+    expect(await device.revision()).toBe(1);
+    // Another value than the box's is not a confirmation either.
+    expect((await postMultipart(client, path, { ...last, effectRead: "on" })).status).toBe(400);
+
+    // With the box ticked, the revision lands.
+    const imported = await postMultipart(client, path, { ...last, effectRead: "yes" });
+    expect(imported.status).toBe(302);
+    expect(await device.revision()).toBe(2);
+    expect((await device.exported(2)).inboundRules.map((rule) => rule.id)).toEqual(["r4", "r1", "r2"]);
+  });
+
+  test("An import that changes nothing says so and needs no box; a new device shows what it will create", async () => {
+    const { client, slug, siteId } = await newOrganisationWithSite("ws-import-same");
+    const device = await importDocument(client, slug, siteId, QUAY_EDGE);
+    const path = `/o/${slug}/devices/import`;
+    const same = await postMultipart(client, path, { intent: "preview", target: `device:${device.id}`, file: new Blob([JSON.stringify(QUAY_EDGE)]) });
+    expect(same.status).toBe(200);
+    expect(words(same.text)).toContain("This document matches revision r1: importing it changes nothing.");
+    expect(same.text).not.toContain('name="effectRead"');
+    const again = await postMultipart(client, path, { intent: "import", target: `device:${device.id}`, baseRevision: "1", file: new Blob([JSON.stringify(QUAY_EDGE)]) });
+    expect(again.status).toBe(302);
+    expect(await device.revision()).toBe(1);
+    const fresh = await postMultipart(client, path, { intent: "preview", target: `site:${siteId}`, file: new Blob([JSON.stringify({ ...QUAY_EDGE, device: { name: "quay-edge-b" } })]) });
+    expect(words(fresh.text)).toContain("Will create");
+    expect(fresh.text).not.toContain("import-effect");
+    expect(fresh.text).not.toContain('name="effectRead"');
   });
 });
 

@@ -24,14 +24,15 @@ async function demoDeviceId(client: TestClient, name: string): Promise<string> {
   return id;
 }
 
-// An invented gateway: a factory-default account name with no second factor, narrow login
+// An invented gateway: a factory-default account name with no second factor (two high
+// findings), cleartext http listening on the management interface (a medium one), narrow login
 // sources, a final drop. Names and addresses are invented (RFC 5737, RFC 1918).
 const TIDEWATER = {
   schemaVersion: 2,
   device: { name: "tidewater-gw", timezone: "UTC" },
   interfaces: [
     { name: "outside", role: "wan", addresses: ["192.0.2.10/24"], listeners: [] },
-    { name: "mgmt", role: "management", addresses: ["10.77.0.1/24"], listeners: ["https", "ssh"] },
+    { name: "mgmt", role: "management", addresses: ["10.77.0.1/24"], listeners: ["https", "ssh", "http"] },
   ],
   addresses: [{ name: "ops-lan", entries: ["10.77.0.0/24"] }],
   inboundRules: [
@@ -43,6 +44,9 @@ const TIDEWATER = {
 };
 
 const DEFAULT_NAME_KEY = "default-account-name account:administrator";
+/** Medium: dismissed at once, by the rule from before second-person confirmation. */
+const CLEARTEXT_KEY = "cleartext-listener interface:mgmt service:http";
+const CLEARTEXT_TITLE = 'http listens on "mgmt"';
 
 function importModel(client: TestClient, slug: string, target: string, document: unknown, baseRevision?: number): Promise<FetchResult> {
   const form = new FormData();
@@ -51,6 +55,8 @@ function importModel(client: TestClient, slug: string, target: string, document:
   form.append("fileName", "tidewater.json");
   form.append("documentText", JSON.stringify(document));
   if (baseRevision) form.append("baseRevision", String(baseRevision));
+  // A new revision of an existing device is imported only once its effect was read.
+  if (target.startsWith("device:")) form.append("effectRead", "yes");
   return client.request(`/o/${slug}/devices/import`, { method: "POST", body: form });
 }
 
@@ -160,79 +166,80 @@ describe("The fleet findings page is dense", () => {
 });
 
 describe("Dismissing a finding", () => {
-  test("An owner dismisses a finding with a reason: it moves to Dismissed, leaves the counts and the fleet page, is audited, survives a new revision, and can be restored", async () => {
+  test("An owner dismisses a medium finding with a reason: it moves to Dismissed, leaves the counts and the fleet page, is audited, survives a new revision, and can be restored", async () => {
     const { client, slug, deviceId } = await organisationWithDevice("fd-dismiss");
     const overviewPath = `/o/${slug}/devices/${deviceId}`;
     const dismissals = `${overviewPath}/dismissals`;
 
     const before = await client.get(overviewPath);
     expect(before.status).toBe(200);
-    expect(stateOnOverview(before.text, DEFAULT_NAME_KEY)).toBe("active");
+    expect(stateOnOverview(before.text, CLEARTEXT_KEY)).toBe("active");
     const countsBefore = activeCounts(before.text);
-    expect(countsBefore.high).toBeGreaterThanOrEqual(1);
-    expect(plain((await client.get(`/o/${slug}/findings`)).text)).toContain('Account "administrator" has a factory-default name');
+    expect(countsBefore.medium).toBe(1);
+    expect(plain((await client.get(`/o/${slug}/findings`)).text)).toContain(CLEARTEXT_TITLE);
 
     // Refusals: a missing or too short reason keeps the key and what was typed; nothing changes.
-    const missing = await client.post(dismissals, { intent: "dismiss", key: DEFAULT_NAME_KEY });
+    const missing = await client.post(dismissals, { intent: "dismiss", key: CLEARTEXT_KEY });
     expect(missing.status).toBe(400);
     expect(plain(missing.text)).toContain("Say why this finding is accepted");
-    const short = await client.post(dismissals, { intent: "dismiss", key: DEFAULT_NAME_KEY, reason: " ok " });
+    const short = await client.post(dismissals, { intent: "dismiss", key: CLEARTEXT_KEY, reason: " ok " });
     expect(short.status).toBe(400);
     expect(plain(short.text)).toContain("at least 3 characters");
     expect(plain(short.text)).toContain(" ok ");
-    expect((await client.post(dismissals, { intent: "dismiss", key: DEFAULT_NAME_KEY, reason: "x".repeat(501) })).status).toBe(400);
+    expect((await client.post(dismissals, { intent: "dismiss", key: CLEARTEXT_KEY, reason: "x".repeat(501) })).status).toBe(400);
     // A well-formed key this revision does not report is 404; a malformed one 400; an unknown intent 400.
     const unknown = await client.post(dismissals, { intent: "dismiss", key: "default-account-name account:nobody", reason: "Accepted for the test." });
     expect(unknown.status).toBe(404);
     expect(plain(unknown.text)).toContain("reports no such finding");
     expect((await client.post(dismissals, { intent: "dismiss", key: "<script>", reason: "Accepted for the test." })).status).toBe(400);
-    expect((await client.post(dismissals, { intent: "forget", key: DEFAULT_NAME_KEY, reason: "Accepted for the test." })).status).toBe(400);
+    expect((await client.post(dismissals, { intent: "forget", key: CLEARTEXT_KEY, reason: "Accepted for the test." })).status).toBe(400);
     expect((await client.get(dismissals)).status).toBe(405);
-    expect(stateOnOverview((await client.get(overviewPath)).text, DEFAULT_NAME_KEY)).toBe("active");
+    expect(stateOnOverview((await client.get(overviewPath)).text, CLEARTEXT_KEY)).toBe("active");
 
     const reason = "Renamed on the device in change 4711; the model update follows.";
-    const dismissed = await client.post(dismissals, { intent: "dismiss", key: DEFAULT_NAME_KEY, reason });
+    const dismissed = await client.post(dismissals, { intent: "dismiss", key: CLEARTEXT_KEY, reason });
     expect(dismissed.status).toBe(302);
     expect(dismissed.location).toBe(overviewPath);
     expect(dismissed.setCookies.some((cookie) => cookie.startsWith("sallyport-flash="))).toBe(true);
 
     const after = await client.get(overviewPath);
-    expect(stateOnOverview(after.text, DEFAULT_NAME_KEY)).toBe("dismissed");
+    expect(stateOnOverview(after.text, CLEARTEXT_KEY)).toBe("dismissed");
     expect(plain(after.text)).toContain("Dismissed (1)");
     expect(plain(after.text)).toContain(reason);
     // The overview counts active findings only.
-    expect(activeCounts(after.text).high ?? 0).toBe(countsBefore.high - 1);
+    expect(activeCounts(after.text).medium ?? 0).toBe(countsBefore.medium - 1);
+    expect(activeCounts(after.text).high).toBe(countsBefore.high);
 
     // Gone from the fleet page unless dismissed ones are shown.
-    expect(plain((await client.get(`/o/${slug}/findings`)).text)).not.toContain('Account "administrator" has a factory-default name');
+    expect(plain((await client.get(`/o/${slug}/findings`)).text)).not.toContain(CLEARTEXT_TITLE);
     const shown = plain((await client.get(`/o/${slug}/findings?dismissed=show`)).text);
-    expect(shown).toContain('Account "administrator" has a factory-default name');
+    expect(shown).toContain(CLEARTEXT_TITLE);
     expect(shown).toContain(reason);
 
     // Once only; the audit log shows who accepted what and why.
-    expect((await client.post(dismissals, { intent: "dismiss", key: DEFAULT_NAME_KEY, reason })).status).toBe(409);
+    expect((await client.post(dismissals, { intent: "dismiss", key: CLEARTEXT_KEY, reason })).status).toBe(409);
     const audit = plain((await client.get(`/o/${slug}/settings/audit`)).text);
     expect(audit).toContain('<tr data-action="finding.dismissed"');
-    expect(audit).toContain("default-account-name");
+    expect(audit).toContain("cleartext-listener");
     expect(audit).toContain(reason);
 
     // A later revision reports the same finding: it stays dismissed ("accepted risk").
-    const revised = await importModel(client, slug, `device:${deviceId}`, { ...TIDEWATER, interfaces: TIDEWATER.interfaces.map((entry) => (entry.name === "mgmt" ? { ...entry, listeners: ["https"] } : entry)) }, 1);
+    const revised = await importModel(client, slug, `device:${deviceId}`, { ...TIDEWATER, interfaces: TIDEWATER.interfaces.map((entry) => (entry.name === "mgmt" ? { ...entry, listeners: ["https", "http"] } : entry)) }, 1);
     expect(revised.status).toBe(302);
     const onRevision2 = await client.get(overviewPath);
     expect(plain(onRevision2.text)).toContain("Hardening checks on revision r2");
-    expect(stateOnOverview(onRevision2.text, DEFAULT_NAME_KEY)).toBe("dismissed");
+    expect(stateOnOverview(onRevision2.text, CLEARTEXT_KEY)).toBe("dismissed");
 
     // Restore: back among the active findings and on the fleet page, audited; a second restore finds nothing.
-    const restored = await client.post(dismissals, { intent: "restore", key: DEFAULT_NAME_KEY });
+    const restored = await client.post(dismissals, { intent: "restore", key: CLEARTEXT_KEY });
     expect(restored.status).toBe(302);
     expect(restored.location).toBe(overviewPath);
     const back = await client.get(overviewPath);
-    expect(stateOnOverview(back.text, DEFAULT_NAME_KEY)).toBe("active");
+    expect(stateOnOverview(back.text, CLEARTEXT_KEY)).toBe("active");
     expect(plain(back.text)).not.toContain("Dismissed (");
-    expect(plain((await client.get(`/o/${slug}/findings`)).text)).toContain('Account "administrator" has a factory-default name');
+    expect(plain((await client.get(`/o/${slug}/findings`)).text)).toContain(CLEARTEXT_TITLE);
     expect(plain((await client.get(`/o/${slug}/settings/audit`)).text)).toContain('<tr data-action="finding.restored"');
-    expect((await client.post(dismissals, { intent: "restore", key: DEFAULT_NAME_KEY })).status).toBe(404);
+    expect((await client.post(dismissals, { intent: "restore", key: CLEARTEXT_KEY })).status).toBe(404);
   });
 
   test("A dismissal whose finding went away is listed and can be withdrawn", async () => {

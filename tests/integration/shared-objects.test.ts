@@ -44,6 +44,8 @@ type TestOrganisation = { client: TestClient; slug: string; organisationId: stri
 function importDocument(client: TestClient, slug: string, target: string, document: unknown, baseRevision?: number): Promise<FetchResult> {
   const fields: Record<string, string> = { intent: "import", target, fileName: "model.json", documentText: JSON.stringify(document) };
   if (baseRevision) fields.baseRevision = String(baseRevision);
+  // A new revision of an existing device is imported only once its effect was read.
+  if (target.startsWith("device:")) fields.effectRead = "yes";
   return client.post(`/o/${slug}/devices/import`, fields);
 }
 

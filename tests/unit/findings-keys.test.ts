@@ -4,6 +4,9 @@
 import { describe, expect, test } from "vitest";
 import { filterFindingRows, groupFindingRows, parseFindingsQuery, sortFindingRows, type FindingRowLike } from "#app/utils/finding-keys";
 import { countBySeverity, findingKey, parseFindingKey } from "#server/engine/finding-keys";
+import { SEVERITIES } from "#server/engine/vocabulary";
+import { dismissalRuleOf, LOCKOUT_NOT_DISMISSIBLE } from "#server/services/dismissal-rules";
+import { dismissalReasonSchema } from "#server/http/schemas";
 
 describe("Finding keys", () => {
   test("A finding's key ignores element order, so the same finding on a later revision has the same key", () => {
@@ -44,9 +47,16 @@ describe("Fleet findings filters and order", () => {
     expect(sortFindingRows(rows, "code", true).map((entry) => entry.code)).toEqual(["shadowed-rule", "no-second-factor", "lockout", "internet-ping"]);
   });
 
+  test("'Awaiting my confirmation' keeps only the rows whose dismissal the viewer may confirm", () => {
+    const waiting = [...rows, { ...row("high", "d-gw", "default-account-name"), awaitsMyConfirmation: true }, { ...row("critical", "e-gw", "no-second-factor"), awaitsMyConfirmation: false }];
+    expect(filterFindingRows(waiting, parseFindingsQuery(new URLSearchParams("awaiting=mine"))).map((entry) => entry.deviceName)).toEqual(["d-gw"]);
+    // Any other value is no filter.
+    expect(filterFindingRows(waiting, parseFindingsQuery(new URLSearchParams("awaiting=everyone")))).toHaveLength(5);
+  });
+
   test("Unknown query values fall back to no filter, and counts cover every severity", () => {
     const query = parseFindingsQuery(new URLSearchParams("severity=dire&code=<x>&site=nope&sort=colour"));
-    expect(query).toMatchObject({ minSeverity: "", code: "", site: "", sort: "severity", descending: true, showDismissed: false, group: "code" });
+    expect(query).toMatchObject({ minSeverity: "", code: "", site: "", sort: "severity", descending: true, showDismissed: false, awaitingMine: false, group: "code" });
     expect(countBySeverity(rows)).toEqual({ info: 0, low: 1, medium: 1, high: 1, critical: 1 });
   });
 
@@ -65,5 +75,32 @@ describe("Fleet findings filters and order", () => {
     expect(groupFindingRows(sorted, "none")).toEqual([{ key: "", rows: sorted, worst: "critical", active: 4 }]);
     // Every row lands in exactly one group.
     for (const by of ["code", "device", "none"] as const) expect(groupFindingRows(sorted, by).flatMap((group) => group.rows)).toHaveLength(all.length);
+  });
+});
+
+describe("Dismissal rules", () => {
+  test("High and critical findings need 20 characters and a second person; medium and below keep 3 and one; a lockout is never dismissed", () => {
+    // Issue 11, item 8 (Sallyport's own thresholds; the two-person rule is separation of duties, NIST SP 800-53 Rev. 5 AC-5).
+    const rules = Object.fromEntries(SEVERITIES.map((severity) => [severity, dismissalRuleOf({ code: "no-second-factor", severity })]));
+    expect(rules).toEqual({
+      info: { kind: "direct", minReason: 3 },
+      low: { kind: "direct", minReason: 3 },
+      medium: { kind: "direct", minReason: 3 },
+      high: { kind: "confirmed", minReason: 20 },
+      critical: { kind: "confirmed", minReason: 20 },
+    });
+    for (const severity of SEVERITIES) expect(dismissalRuleOf({ code: "lockout", severity })).toEqual({ kind: "refused", message: LOCKOUT_NOT_DISMISSIBLE });
+  });
+
+  test("The reason is trimmed and measured against the finding's rule", () => {
+    const confirmed = dismissalReasonSchema({ kind: "confirmed", minReason: 20 });
+    const nineteen = confirmed.safeParse("  Accepted by the CSO  ");
+    expect(nineteen.success).toBe(false);
+    expect(nineteen.error?.issues[0]?.message).toBe("A high or critical finding needs a reason of at least 20 characters (this one has 19), so the reviewer who confirms it can judge the risk.");
+    expect(confirmed.safeParse(" Accepted by the CSO. ").data).toBe("Accepted by the CSO.");
+    const direct = dismissalReasonSchema({ kind: "direct", minReason: 3 });
+    expect(direct.safeParse("ok").success).toBe(false);
+    expect(direct.safeParse("yes").success).toBe(true);
+    expect(direct.safeParse("x".repeat(501)).error?.issues[0]?.message).toBe("Keep the reason to at most 500 characters.");
   });
 });

@@ -46,11 +46,72 @@ function FindingFacts({ finding, devicePath }: { finding: FindingCardData; devic
   );
 }
 
-/** An active finding, with the dismiss form for engineers and above. */
-export function ActiveFindingCard({ finding, devicePath, canDismiss }: { finding: FindingCardData; devicePath: string; canDismiss: boolean }) {
+/** What the viewer may do with dismissals: ask for and withdraw them (engineer and above), answer someone else's (reviewer and above). */
+export type DismissalPowers = { userId: string; canDismiss: boolean; canConfirm: boolean };
+
+/** True when the viewer may confirm or decline this finding's dismissal: it awaits confirmation and someone else asked. */
+export function mayAnswer(dismissal: FindingCardData["dismissal"], powers: DismissalPowers): boolean {
+  return dismissal?.state === "awaiting-confirmation" && powers.canConfirm && dismissal.byUserId !== powers.userId;
+}
+
+/**
+ * A dismissal that waits for a second person: the reason and who asked, Confirm and Decline for a
+ * reviewer or above who did not ask, Withdraw for an engineer or above. `returnTo`: the page to
+ * come back to after answering (the device overview when left out).
+ */
+export function AwaitingDismissal({ finding, devicePath, powers, timeZone, returnTo, compact = false }: { finding: FindingCardData; devicePath: string; powers: DismissalPowers; timeZone?: string; returnTo?: string; compact?: boolean }) {
+  const fetcher = useFetcher<Refusal>();
+  const refusal = fetcher.data && fetcher.data.key === finding.key ? fetcher.data : null;
+  const dismissal = finding.dismissal;
+  if (dismissal?.state !== "awaiting-confirmation") return null;
+  const answer = mayAnswer(dismissal, powers);
+  const own = dismissal.byUserId === powers.userId;
+  const busy = fetcher.state !== "idle";
+  return (
+    <div className={cx("rounded-control border border-dashed border-brass/60 bg-brass-soft/40", compact ? "mt-1 p-2" : "mt-3 p-3")} data-testid="awaiting-dismissal">
+      <p className="text-sm font-semibold">Dismissal awaiting confirmation</p>
+      <blockquote className="mt-1 border-l-2 border-line-strong pl-3 text-sm">“{dismissal.reason}”</blockquote>
+      <p className="mt-1 text-xs text-ink-muted">
+        Asked for by {own ? "you" : dismissal.by || "unknown"} on <Time at={dismissal.at} timeZone={timeZone} /> (revision r{dismissal.revisionNumber}). The finding still counts until a second person (a reviewer or above, not the one who asked) confirms it.
+      </p>
+      {answer || powers.canDismiss ? (
+        <fetcher.Form method="post" action={`${devicePath}/dismissals`} className="mt-2 space-y-2">
+          <input type="hidden" name="key" value={finding.key} />
+          {returnTo ? <input type="hidden" name="returnTo" value={returnTo} /> : null}
+          <FormError message={refusal?.errors.form} />
+          <div className="flex flex-wrap gap-2">
+            {answer ? (
+              <>
+                <Button type="submit" name="intent" value="confirm" size="sm" disabled={busy}>
+                  Confirm dismissal<span className="sr-only"> of {finding.title}</span>
+                </Button>
+                <Button type="submit" name="intent" value="decline" variant="secondary" size="sm" disabled={busy}>
+                  Decline<span className="sr-only"> the dismissal of {finding.title}</span>
+                </Button>
+              </>
+            ) : null}
+            {powers.canDismiss ? (
+              <Button type="submit" name="intent" value="restore" variant="ghost" size="sm" disabled={busy}>
+                Withdraw the request<span className="sr-only"> to dismiss {finding.title}</span>
+              </Button>
+            ) : null}
+          </div>
+        </fetcher.Form>
+      ) : null}
+    </div>
+  );
+}
+
+/**
+ * An active finding (a dismissal awaiting confirmation leaves it active), with the dismiss form
+ * for engineers and above — never for a lockout, which is fixed rather than dismissed.
+ */
+export function ActiveFindingCard({ finding, devicePath, powers, timeZone }: { finding: FindingCardData; devicePath: string; powers: DismissalPowers; timeZone?: string }) {
   const fetcher = useFetcher<Refusal>();
   const refusal = fetcher.data && fetcher.data.key === finding.key ? fetcher.data : null;
   const busy = fetcher.state !== "idle";
+  const rule = finding.rule;
+  const awaiting = finding.dismissal?.state === "awaiting-confirmation";
   return (
     <Card className="p-4">
       <div className="flex flex-wrap items-center gap-2">
@@ -60,7 +121,9 @@ export function ActiveFindingCard({ finding, devicePath, canDismiss }: { finding
       </div>
       <p className="mt-2 text-sm text-ink-muted">{finding.detail}</p>
       <FindingFacts finding={finding} devicePath={devicePath} />
-      {canDismiss ? (
+      {awaiting ? <AwaitingDismissal finding={finding} devicePath={devicePath} powers={powers} timeZone={timeZone} /> : null}
+      {!awaiting && rule.kind === "refused" ? <p className="mt-3 border-t border-line pt-3 text-sm text-ink-muted">{rule.message}</p> : null}
+      {!awaiting && rule.kind !== "refused" && powers.canDismiss ? (
         <details className="group mt-3 border-t border-line pt-3" open={refusal ? true : undefined}>
           <summary className="cursor-pointer list-none text-sm font-medium text-ink-muted hover:text-ink [&::-webkit-details-marker]:hidden">
             <span className="group-open:hidden">Dismiss…</span>
@@ -69,14 +132,17 @@ export function ActiveFindingCard({ finding, devicePath, canDismiss }: { finding
           <fetcher.Form method="post" action={`${devicePath}/dismissals`} className="mt-3 space-y-3" noValidate>
             <input type="hidden" name="intent" value="dismiss" />
             <input type="hidden" name="key" value={finding.key} />
-            <FormError message={refusal?.errors.form} />
-            <DismissReasonField findingKey={finding.key} error={refusal?.errors.reason} defaultValue={refusal?.values.reason ?? ""} />
+            <FormError message={refusal && refusal.errors.form !== refusal.errors.reason ? refusal.errors.form : undefined} />
+            <DismissReasonField findingKey={finding.key} error={refusal?.errors.reason} defaultValue={refusal?.values.reason ?? ""} minLength={rule.minReason} />
             <p className="text-xs text-ink-muted">
+              {rule.kind === "confirmed"
+                ? `A ${finding.severity} finding needs a reason of at least ${rule.minReason} characters and a second person's confirmation (a reviewer or above, not you); until then it still counts. `
+                : null}
               Dismissing records an accepted risk on this and later revisions until someone restores it. It does not change the device; any change to the device follows your organisation's change
               policy.
             </p>
             <Button type="submit" variant="secondary" size="sm" disabled={busy}>
-              {busy ? "Dismissing…" : "Dismiss with this reason"}
+              {busy ? "Sending…" : rule.kind === "confirmed" ? "Ask to dismiss with this reason" : "Dismiss with this reason"}
             </Button>
           </fetcher.Form>
         </details>
@@ -85,7 +151,7 @@ export function ActiveFindingCard({ finding, devicePath, canDismiss }: { finding
   );
 }
 
-function DismissReasonField({ findingKey, error, defaultValue }: { findingKey: string; error?: string; defaultValue: string }) {
+function DismissReasonField({ findingKey, error, defaultValue, minLength }: { findingKey: string; error?: string; defaultValue: string; minLength: number }) {
   const id = `reason-${findingKey.replace(/[^A-Za-z0-9_-]/g, "_")}`;
   return (
     <div className="space-y-1.5">
@@ -96,6 +162,7 @@ function DismissReasonField({ findingKey, error, defaultValue }: { findingKey: s
         id={id}
         name="reason"
         rows={2}
+        minLength={minLength}
         maxLength={500}
         defaultValue={defaultValue}
         aria-invalid={error ? true : undefined}
@@ -115,7 +182,7 @@ function DismissReasonField({ findingKey, error, defaultValue }: { findingKey: s
   );
 }
 
-/** A dismissed finding: the reason, who and when, and Restore for engineers and above. */
+/** A dismissed finding (the dismissal in effect): the reason, who and when, who confirmed it, and Restore for engineers and above. */
 export function DismissedFindingCard({ finding, devicePath, canRestore, timeZone }: { finding: FindingCardData; devicePath: string; canRestore: boolean; timeZone: string }) {
   const fetcher = useFetcher<Refusal>();
   const refusal = fetcher.data && fetcher.data.key === finding.key ? fetcher.data : null;
@@ -132,7 +199,13 @@ export function DismissedFindingCard({ finding, devicePath, canRestore, timeZone
       <FindingFacts finding={finding} devicePath={devicePath} />
       <blockquote className="mt-3 border-l-2 border-line-strong pl-3 text-sm">“{dismissal.reason}”</blockquote>
       <p className="mt-1 text-xs text-ink-muted">
-        Dismissed by {dismissal.by || "unknown"} on <Time at={dismissal.at} timeZone={timeZone} /> (revision r{dismissal.revisionNumber}).
+        Dismissed by {dismissal.by || "unknown"} on <Time at={dismissal.at} timeZone={timeZone} /> (revision r{dismissal.revisionNumber})
+        {dismissal.confirmedBy && dismissal.confirmedAt ? (
+          <>
+            ; confirmed by {dismissal.confirmedBy} on <Time at={dismissal.confirmedAt} timeZone={timeZone} />
+          </>
+        ) : null}
+        .
       </p>
       {worse ? (
         <p className="mt-2 text-sm font-medium text-danger">

@@ -86,24 +86,35 @@ function FindingList({ title, findings, tone }: { title: string; findings: reado
   );
 }
 
-function DeviceEffectCard({ effect, organisationPath }: { effect: DeviceEffect; organisationPath: string }) {
-  const devicePath = `${organisationPath}/devices/${effect.deviceId}`;
+/**
+ * How one device's exposure changes, without a frame of its own: who is more or less exposed,
+ * the lockout guard, who gains and loses each outcome, where outcomes change, the findings that
+ * appear or go, and the model's own changes. The shared-object review frames it per device; the
+ * import preview shows it for a new revision.
+ */
+function ChangeRows({ exposure, devicePath }: { exposure: DeviceEffect["exposure"]; devicePath: string }) {
+  return (
+    <>
+      <ul className="mt-1">
+        {exposure.rows.map((row, index) => (
+          <ChangeRow key={index} row={row} devicePath={devicePath} />
+        ))}
+      </ul>
+      {exposure.totalRows > exposure.rows.length ? (
+        <p className="mt-2 text-xs text-ink-muted">
+          Showing the {exposure.rows.length} largest steps of {exposure.totalRows}; after saving, the device's exposure map shows every change.
+        </p>
+      ) : null}
+    </>
+  );
+}
+
+/** `foldRows`: the step-by-step rows start folded (the import preview, where the decision comes after them). */
+export function DeviceEffectDetails({ effect, devicePath, headingId, foldRows = false }: { effect: DeviceEffect; devicePath: string; headingId: string; foldRows?: boolean }) {
   const { exposure } = effect;
-  const headingId = `effect-${effect.deviceId}`;
   const noExposureChange = exposure.transitions === 0;
   return (
-    <Card className="min-w-0 p-3 sm:p-5" aria-labelledby={headingId} role="group" data-testid="device-effect">
-      <div className="flex flex-wrap items-baseline justify-between gap-x-4 gap-y-1">
-        <h3 id={headingId} className="font-semibold">
-          <Link to={devicePath} className="font-mono text-harbour underline-offset-4 hover:underline">
-            {effect.deviceName}
-          </Link>
-        </h3>
-        <span className="text-sm text-ink-muted">
-          {effect.siteName} · revision r{effect.revision} → <span className="font-medium text-ink">r{effect.revision + 1}</span>
-        </span>
-      </div>
-
+    <>
       <div className="mt-3 flex flex-wrap gap-2 text-sm" data-testid="effect-summary">
         {noExposureChange ? (
           <Badge>No outcome changes for any source</Badge>
@@ -122,7 +133,7 @@ function DeviceEffectCard({ effect, organisationPath }: { effect: DeviceEffect; 
       </div>
 
       {exposure.lockout.length > 0 ? (
-        <div role="alert" className="mt-3 rounded-control border border-danger/40 bg-danger-soft px-3 py-2 text-sm text-danger">
+        <div role="alert" className="mt-3 rounded-control border border-danger/40 bg-danger-soft px-3 py-2 text-sm text-danger" data-testid="lockout-guard">
           <p className="font-semibold">Lockout guard: an operator network loses its last login path</p>
           <ul className="mt-1 list-disc pl-5">
             {exposure.lockout.map((entry) => (
@@ -161,19 +172,19 @@ function DeviceEffectCard({ effect, organisationPath }: { effect: DeviceEffect; 
       ) : null}
 
       {exposure.rows.length > 0 ? (
-        <div className="mt-4">
-          <h4 className="text-xs font-semibold tracking-wide text-ink-muted uppercase">Where outcomes change (device time)</h4>
-          <ul className="mt-1">
-            {exposure.rows.map((row, index) => (
-              <ChangeRow key={index} row={row} devicePath={devicePath} />
-            ))}
-          </ul>
-          {exposure.totalRows > exposure.rows.length ? (
-            <p className="mt-2 text-xs text-ink-muted">
-              Showing the {exposure.rows.length} largest steps of {exposure.totalRows}; after saving, the device's exposure map shows every change.
-            </p>
-          ) : null}
-        </div>
+        foldRows ? (
+          <details className="mt-4" data-testid="outcome-changes">
+            <summary className="cursor-pointer text-xs font-semibold tracking-wide text-ink-muted uppercase hover:text-ink">
+              Where outcomes change (device time): {counted(String(exposure.totalRows), "step", "steps")}
+            </summary>
+            <ChangeRows exposure={exposure} devicePath={devicePath} />
+          </details>
+        ) : (
+          <div className="mt-4">
+            <h4 className="text-xs font-semibold tracking-wide text-ink-muted uppercase">Where outcomes change (device time)</h4>
+            <ChangeRows exposure={exposure} devicePath={devicePath} />
+          </div>
+        )
       ) : null}
 
       {exposure.findingsAdded.length + exposure.findingsResolved.length > 0 ? (
@@ -187,6 +198,26 @@ function DeviceEffectCard({ effect, organisationPath }: { effect: DeviceEffect; 
         <summary className="cursor-pointer font-medium text-ink-muted hover:text-ink">Model changes ({effect.changes.length})</summary>
         <DocumentChanges changes={effect.changes} className="mt-2" />
       </details>
+    </>
+  );
+}
+
+function DeviceEffectCard({ effect, organisationPath }: { effect: DeviceEffect; organisationPath: string }) {
+  const devicePath = `${organisationPath}/devices/${effect.deviceId}`;
+  const headingId = `effect-${effect.deviceId}`;
+  return (
+    <Card className="min-w-0 p-3 sm:p-5" aria-labelledby={headingId} role="group" data-testid="device-effect">
+      <div className="flex flex-wrap items-baseline justify-between gap-x-4 gap-y-1">
+        <h3 id={headingId} className="font-semibold">
+          <Link to={devicePath} className="font-mono text-harbour underline-offset-4 hover:underline">
+            {effect.deviceName}
+          </Link>
+        </h3>
+        <span className="text-sm text-ink-muted">
+          {effect.siteName} · revision r{effect.revision} → <span className="font-medium text-ink">r{effect.revision + 1}</span>
+        </span>
+      </div>
+      <DeviceEffectDetails effect={effect} devicePath={devicePath} headingId={headingId} />
     </Card>
   );
 }

@@ -1,12 +1,14 @@
-import { Form, Link, useSearchParams } from "react-router";
+import { Form, Link, useLocation, useSearchParams } from "react-router";
 import type { Route } from "./+types/findings";
 import { requireRole } from "#server/auth/guard.server";
+import { hasAtLeastRole } from "#server/auth/roles";
 import { fleetFindings } from "#server/services/findings.server";
+import { CONFIRM_ROLE, DISMISS_ROLE } from "#server/services/dismissal-rules";
 import { ElementLink } from "#app/components/device/element-link";
 import { filterFindingRows, groupFindingRows, parseFindingsQuery, sortFindingRows, type FindingGroupBy } from "#app/utils/finding-keys";
 import { countBySeverity } from "#server/engine/finding-keys";
 import { SEVERITY_ORDER, SeverityBadge } from "#app/components/severity";
-import { tryItPath } from "#app/components/findings/finding-card";
+import { AwaitingDismissal, mayAnswer, tryItPath, type DismissalPowers } from "#app/components/findings/finding-card";
 import { ButtonLink } from "#app/components/ui/button";
 import { PageHeader } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
@@ -26,13 +28,17 @@ export const ErrorBoundary = PageErrorBoundary;
 
 export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireRole(context);
-  const query = parseFindingsQuery(new URL(request.url).searchParams);
+  const url = new URL(request.url);
+  const query = parseFindingsQuery(url.searchParams);
+  const powers: DismissalPowers = { userId: access.user.id, canDismiss: hasAtLeastRole(access.role, DISMISS_ROLE), canConfirm: hasAtLeastRole(access.role, CONFIRM_ROLE) };
   // Computed from each device's current revision on every visit (memoised per immutable
   // revision in the service); demo fleets are small. Large fleets: store per revision.
-  const { devices, rows } = await fleetFindings(access.organisation.id);
-  // The counts follow the place filters (site, device, code) but not the severity threshold,
-  // so they show what the threshold would hide.
-  const inScope = filterFindingRows(rows, { ...query, minSeverity: "", showDismissed: true });
+  const fleet = await fleetFindings(access.organisation.id);
+  const devices = fleet.devices;
+  const rows = fleet.rows.map((row) => ({ ...row, awaitsMyConfirmation: mayAnswer(row.dismissal, powers) }));
+  // The counts follow the place filters (site, device, code) but not the severity threshold
+  // (nor "awaiting my confirmation"), so they show what the threshold would hide.
+  const inScope = filterFindingRows(rows, { ...query, minSeverity: "", showDismissed: true, awaitingMine: false });
   const shown = sortFindingRows(filterFindingRows(rows, query), query.sort, query.descending);
   const sites = [...new Map(devices.map((device) => [device.siteId, device.siteName])).entries()].map(([id, name]) => ({ id, name })).sort((a, b) => a.name.localeCompare(b.name));
   return {
@@ -42,6 +48,9 @@ export async function loader({ request, context }: Route.LoaderArgs) {
     shownCount: shown.length,
     counts: countBySeverity(inScope.filter((row) => !row.dismissed)),
     dismissedCount: inScope.filter((row) => row.dismissed).length,
+    awaitingCount: inScope.filter((row) => row.awaitingConfirmation).length,
+    awaitingMineCount: inScope.filter((row) => row.awaitsMyConfirmation).length,
+    powers,
     total: rows.length,
     deviceCount: devices.length,
     devices: devices.map((device) => ({ id: device.id, name: device.name })),
@@ -56,9 +65,17 @@ const selectClasses = "h-9 rounded-control border border-line-strong bg-surface 
 export default function Findings({ loaderData }: Route.ComponentProps) {
   const { slug, query, groups, counts, devices, sites, codes } = loaderData;
   const [searchParams] = useSearchParams();
+  // The page's own address (the browser's, not a data request's), so answering a dismissal comes back to the same view.
+  const location = useLocation();
+  const here = `${location.pathname}${location.search}`;
   const severityLink = (severity: string) => {
     const next = new URLSearchParams(searchParams);
     next.set("severity", severity);
+    return `?${next.toString()}`;
+  };
+  const awaitingLink = () => {
+    const next = new URLSearchParams(searchParams);
+    next.set("awaiting", "mine");
     return `?${next.toString()}`;
   };
   const groupLink = (group: FindingGroupBy) => {
@@ -70,7 +87,7 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
     <>
       <PageHeader
         title="Findings"
-        description="Hardening checks on every device's current revision: what is wrong, which elements, why it matters and the published source. Dismissed findings are accepted risks; dismissing changes nothing on a device."
+        description="Hardening checks on every device's current revision: what is wrong, which elements, why it matters and the published source. Dismissed findings are accepted risks; dismissing changes nothing on a device. A high or critical finding's dismissal counts only once a second person confirms it."
       />
       {loaderData.deviceCount === 0 ? (
         <EmptyState title="No devices yet" action={<ButtonLink to={`/o/${slug}/devices`}>Go to devices</ButtonLink>}>
@@ -94,9 +111,20 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
             <span className="inline-flex items-center gap-2 rounded-control border border-dashed border-line px-2.5 py-1 text-ink-muted">
               dismissed <span className="font-semibold tabular">{formatNumber(loaderData.dismissedCount)}</span>
             </span>
+            {loaderData.awaitingCount > 0 ? (
+              <span className="inline-flex items-center gap-2 rounded-control border border-dashed border-brass/60 px-2.5 py-1 text-ink-muted" data-testid="awaiting-count">
+                dismissals awaiting confirmation <span className="font-semibold tabular">{formatNumber(loaderData.awaitingCount)}</span>
+              </span>
+            ) : null}
+            {loaderData.powers.canConfirm && loaderData.awaitingMineCount > 0 && !query.awaitingMine ? (
+              <Link to={awaitingLink()} preventScrollReset className="font-medium text-harbour underline-offset-4 hover:underline" data-testid="awaiting-mine-link">
+                {formatNumber(loaderData.awaitingMineCount)} awaiting your confirmation
+              </Link>
+            ) : null}
           </section>
 
-          <Form method="get" role="search" className="mb-4 flex flex-wrap items-end gap-3">
+          {/* Keyed by the query, so the fields show the URL's filters after a link (a severity chip, "awaiting your confirmation") changed them. */}
+          <Form key={searchParams.toString()} method="get" role="search" className="mb-4 flex flex-wrap items-end gap-3">
             <input type="hidden" name="sort" value={query.sort} />
             <input type="hidden" name="dir" value={query.descending ? "desc" : "asc"} />
             <input type="hidden" name="group" value={query.group} />
@@ -138,6 +166,12 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
               <input type="checkbox" name="dismissed" value="show" defaultChecked={query.showDismissed} className="size-4 accent-harbour" />
               Show dismissed
             </label>
+            {loaderData.powers.canConfirm ? (
+              <label className="flex h-9 items-center gap-2 text-sm">
+                <input type="checkbox" name="awaiting" value="mine" defaultChecked={query.awaitingMine} className="size-4 accent-harbour" />
+                Awaiting my confirmation
+              </label>
+            ) : null}
             <button type="submit" className="h-9 rounded-control border border-line-strong bg-surface px-3 text-sm font-medium hover:bg-surface-sunken">
               Apply
             </button>
@@ -171,11 +205,15 @@ export default function Findings({ loaderData }: Route.ComponentProps) {
           </nav>
 
           {loaderData.shownCount === 0 ? (
-            <EmptyState title="No findings match">
-              {loaderData.total === 0 ? "The hardening checks found nothing on any device's current revision." : "Loosen the filters, or show dismissed findings."}
+            <EmptyState title={query.awaitingMine ? "Nothing awaits your confirmation" : "No findings match"}>
+              {query.awaitingMine
+                ? "No dismissal asked for by someone else waits for a second person among the findings these filters show."
+                : loaderData.total === 0
+                  ? "The hardening checks found nothing on any device's current revision."
+                  : "Loosen the filters, or show dismissed findings."}
             </EmptyState>
           ) : (
-            <FindingsTable slug={slug} groups={groups} query={query} />
+            <FindingsTable slug={slug} groups={groups} query={query} powers={loaderData.powers} here={here} />
           )}
           <div className="mt-8">
             <SimulationCaution />
@@ -193,7 +231,7 @@ type Loaded = Route.ComponentProps["loaderData"];
  * published source, the witness and any dismissal fold out beneath it), where, the affected
  * elements, a "Try it" link that replays the witness on the trace page, and the state.
  */
-function FindingsTable({ slug, groups, query }: { slug: string; groups: Loaded["groups"]; query: Loaded["query"] }) {
+function FindingsTable({ slug, groups, query, powers, here }: { slug: string; groups: Loaded["groups"]; query: Loaded["query"]; powers: DismissalPowers; here: string }) {
   const showDevice = query.group !== "device";
   const showCode = query.group !== "code";
   const columns = 4 + Number(showDevice) + Number(showCode);
@@ -243,7 +281,7 @@ function FindingsTable({ slug, groups, query }: { slug: string; groups: Loaded["
               </tr>
             )}
             {group.rows.map((row) => (
-              <FindingRow key={`${row.deviceId} ${row.key}`} row={row} devicePath={`/o/${slug}/devices/${row.deviceId}`} showDevice={showDevice} showCode={showCode} />
+              <FindingRow key={`${row.deviceId} ${row.key}`} row={row} devicePath={`/o/${slug}/devices/${row.deviceId}`} showDevice={showDevice} showCode={showCode} powers={powers} here={here} />
             ))}
           </tbody>
         );
@@ -252,7 +290,7 @@ function FindingsTable({ slug, groups, query }: { slug: string; groups: Loaded["
   );
 }
 
-function FindingRow({ row, devicePath, showDevice, showCode }: { row: Loaded["groups"][number]["rows"][number]; devicePath: string; showDevice: boolean; showCode: boolean }) {
+function FindingRow({ row, devicePath, showDevice, showCode, powers, here }: { row: Loaded["groups"][number]["rows"][number]; devicePath: string; showDevice: boolean; showCode: boolean; powers: DismissalPowers; here: string }) {
   const cell = "border-b border-line px-3 py-1.5 align-top max-sm:border-0 max-sm:p-0";
   const witness = row.witness;
   return (
@@ -275,13 +313,15 @@ function FindingRow({ row, devicePath, showDevice, showCode }: { row: Loaded["gr
             <p className="text-ink-faint">
               Source: {row.source} · check <code>{row.code}</code>
             </p>
-            {row.dismissal ? (
+            {row.dismissal && row.dismissed ? (
               <p>
-                Dismissed by {row.dismissal.by || "unknown"} <Time at={row.dismissal.at} />: “{row.dismissal.reason}”
+                Dismissed by {row.dismissal.by || "unknown"} <Time at={row.dismissal.at} />
+                {row.dismissal.confirmedBy ? `, confirmed by ${row.dismissal.confirmedBy}` : ""}: “{row.dismissal.reason}”
               </p>
             ) : null}
           </div>
         </details>
+        {row.awaitingConfirmation ? <AwaitingDismissal finding={row} devicePath={devicePath} powers={powers} returnTo={here} compact /> : null}
       </td>
       {showDevice ? (
         <td className={cx(cell, "max-w-64 truncate whitespace-nowrap max-sm:basis-full")} title={`${row.deviceName} · ${row.siteName} · revision r${row.revision}`}>

@@ -6,21 +6,24 @@ import { requireRole } from "#server/auth/guard.server";
 import { PAGE_ROLES } from "#server/auth/roles";
 import { actorOf } from "#server/http/actor.server";
 import { readForm } from "#server/http/form.server";
-import { ElementNameSchema } from "#server/http/schemas";
+import { ElementNameSchema, ImportEffectReadSchema } from "#server/http/schemas";
 import { isRefusal } from "#server/errors";
 import { refusedWith } from "#server/http/refusals.server";
 import { createDevice, deviceNameChoice, findDevice, listDevices, loadSharedLibrary, saveEdit } from "#server/services/devices.server";
+import { revisionEffect } from "#server/services/revision-effect.server";
 import { listSites } from "#server/services/sites.server";
-import { summariseDocument, validateDocument, type ModelDocument } from "#server/workspace/index";
+import { diffDocuments, summariseDocument, validateDocument, type ModelDocument } from "#server/workspace/index";
 import { OutcomeChip } from "#app/components/outcome";
 import { isOutcome } from "#server/engine/vocabulary";
 import { MODEL_SCHEMA_VERSION, VERSION_1_UPGRADE_SUMMARY } from "#server/engine/index";
 import { SeverityCounts } from "#app/components/severity";
+import { DeviceEffectDetails } from "#app/components/shared-objects/change-preview";
 import { Button } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
 import { FormError, SelectField, TextField } from "#app/components/ui/field";
 import { clientAddressOf } from "#server/http/request-context.server";
-import { plural } from "#server/engine/format";
+import { formatNumber, plural } from "#server/engine/format";
+import { cx } from "#app/components/ui/cx";
 import { PageErrorBoundary } from "#app/components/error-panel";
 
 export const meta: Route.MetaFunction = () => [{ title: "Import a model · Sallyport" }];
@@ -55,6 +58,12 @@ type Preview = {
   upgradeNote: string | null;
   /** A new device: the name it gets (the document's, or a free one when that is taken) and what to say about it. */
   rename: { proposed: string; taken: { id: string; revision: number } | null; error: string | null } | null;
+  /** A new revision of a device: what it would do, judged by effect against the current revision. */
+  effect: ReturnType<typeof revisionEffect> | null;
+  /** The last step was sent without "I have read the effect" ticked: what to do, beside the box. */
+  effectReadError: string | null;
+  /** The device's pages (its trace page replays an effect row's witness); null for a new device. */
+  devicePath: string | null;
 };
 type ActionResult = { stage: "refused"; message: string; problems: Problem[]; target: string; siteName: string; errors: StepErrors } | Preview;
 
@@ -113,27 +122,39 @@ export async function action({ request, context }: Route.ActionArgs) {
   const actor = actorOf(access, clientAddressOf(context));
   const documentName = validated.document.device.name;
 
-  const preview = async (error: string | null = null, proposed?: string): Promise<Preview> => {
+  const preview = async (error: string | null = null, proposed?: string, effectReadError: string | null = null): Promise<Preview> => {
     const choice = existing ? null : await deviceNameChoice(access.organisation.id, documentName);
+    // A new revision is judged by its effect on the current one (counts, findings, lockout guard).
+    const effect = existing ? revisionEffect(existing, validated.effective) : null;
     return {
       stage: "preview",
       documentText: JSON.stringify(validated.document),
       fileName: read.fileName,
       target,
       siteName,
-      summary: summariseDocument(validated.effective),
+      summary: effect ? effect.after : summariseDocument(validated.effective),
       deviceName: documentName,
       warnings: [...validated.warnings],
       baseRevision: existing?.revision.number ?? null,
       targetLabel: existing ? `a new revision of ${existing.device.name} (now r${existing.revision.number})` : newSite ? `a new device at the new site ${siteName}` : "a new device",
       upgradeNote: validated.upgradedFrom ? `Written in version ${validated.upgradedFrom} of the model document; read and saved as version ${MODEL_SCHEMA_VERSION} (${VERSION_1_UPGRADE_SUMMARY}). Nothing else changes.` : null,
       rename: choice ? { proposed: proposed ?? choice.free, taken: choice.taken, error } : null,
+      effect,
+      effectReadError,
+      devicePath: existing ? `/o/${access.organisation.slug}/devices/${existing.device.id}` : null,
     };
   };
   if (intent === "preview") return data<ActionResult>(await preview());
   try {
     if (existing) {
       const baseRevision = Number(form.get("baseRevision"));
+      // A change to the revision the preview showed lands only once its effect was read. (On a
+      // stale base the save below refuses with what changed; an import that changes nothing
+      // has no effect to read.)
+      if (baseRevision === existing.revision.number && diffDocuments(existing.effective, validated.effective).length > 0) {
+        const read = ImportEffectReadSchema.safeParse({ effectRead: form.get("effectRead") ?? "" });
+        if (!read.success) return data<ActionResult>(await preview(null, undefined, read.error.issues[0]?.message ?? "Tick “I have read the effect” to import."), { status: 400 });
+      }
       const document: ModelDocument = validated.document;
       const saved = await saveEdit(access.organisation.id, existing.device.id, baseRevision, () => document, actor, `Imported ${read.fileName}`);
       throw redirect(`/o/${access.organisation.slug}/devices/${existing.device.id}/history`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: saved.changes.length ? `Imported as revision r${saved.number}.` : "The import matched the current revision; nothing changed." }) } });
@@ -174,7 +195,8 @@ export default function ImportModel({ loaderData, actionData }: Route.ComponentP
   return (
     <>
       <PageHeader title="Import a model document" description="Upload a Sallyport model document (JSON, schemaVersion 2 — version 1 is read too — at most 1 MiB). You see what it contains before anything is created." />
-      <div className="grid gap-6 lg:grid-cols-2">
+      {/* A new revision's effect needs the page's width; the upload form then sits above it. */}
+      <div className={cx("grid gap-6", actionData?.stage === "preview" && actionData.effect ? "" : "lg:grid-cols-2")}>
         <Card className="p-6">
           <Form method="post" encType="multipart/form-data" className="space-y-5" noValidate>
             <input type="hidden" name="intent" value="preview" />
@@ -257,8 +279,40 @@ export default function ImportModel({ loaderData, actionData }: Route.ComponentP
 
 type PreviewData = Extract<Route.ComponentProps["actionData"], { stage: "preview" }>;
 
+/** "interfaces 3 → 3 · inbound rules 7 → 6 …", the ones that change marked. */
+function ElementCounts({ before, after }: { before: Record<string, number>; after: Record<string, number> }) {
+  const kinds = [
+    ["interfaces", "interfaces"],
+    ["addressObjects", "address objects and groups"],
+    ["inboundRules", "inbound rules"],
+    ["accounts", "accounts"],
+  ] as const;
+  return (
+    <ul className="space-y-0.5">
+      {kinds.map(([kind, words]) => {
+        const was = before[kind] ?? 0;
+        const will = after[kind] ?? 0;
+        return (
+          <li key={kind} data-kind={kind} data-before={was} data-after={will}>
+            {words} <span className="tabular">{formatNumber(was)}</span> → <span className={cx("tabular", was !== will && "font-semibold text-ink")}>{formatNumber(will)}</span>
+          </li>
+        );
+      })}
+    </ul>
+  );
+}
+
+/** The lockout guard in one sentence: which operator networks lose every login path. */
+function lockoutWords(lockout: ReadonlyArray<{ operatorNetwork: string }>): string {
+  const names = lockout.map((entry) => `“${entry.operatorNetwork}”`);
+  const list = names.length === 1 ? names[0] : `${names.slice(0, -1).join(", ")} and ${names.at(-1)}`;
+  return `operator ${names.length === 1 ? "network" : "networks"} ${list} would have no login path left on any interface, service or time.`;
+}
+
 function ImportPreview({ preview, busy }: { preview: PreviewData; busy: boolean }) {
-  const { rename } = preview;
+  const { rename, effect } = preview;
+  const changes = effect !== null && effect.changes.length > 0;
+  const lockout = effect?.exposure.lockout ?? [];
   const carried = (
     <>
       <input type="hidden" name="fileName" value={preview.fileName} />
@@ -275,20 +329,31 @@ function ImportPreview({ preview, busy }: { preview: PreviewData; busy: boolean 
       </p>
       {preview.upgradeNote ? <p className="mt-2 rounded-control border border-info/40 bg-info-soft p-3 text-sm">{preview.upgradeNote}</p> : null}
       <dl className="mt-4 grid grid-cols-[minmax(6rem,10rem)_1fr] gap-2 text-sm">
-        <dt className="text-ink-muted">Will create</dt>
-        <dd>
-          {[
-            plural(preview.summary.counts.interfaces, { one: "interface", other: "interfaces" }),
-            plural(preview.summary.counts.addressObjects, { one: "address object or group", other: "address objects and groups" }),
-            plural(preview.summary.counts.inboundRules, { one: "inbound rule", other: "inbound rules" }),
-            plural(preview.summary.counts.accounts, { one: "account", other: "accounts" }),
-          ].join(", ")}
-        </dd>
-        <dt className="text-ink-muted">Findings</dt>
+        {effect ? (
+          <>
+            <dt className="text-ink-muted">Elements</dt>
+            <dd data-testid="import-counts">
+              <ElementCounts before={effect.counts.before} after={effect.counts.after} />
+            </dd>
+          </>
+        ) : (
+          <>
+            <dt className="text-ink-muted">Will create</dt>
+            <dd>
+              {[
+                plural(preview.summary.counts.interfaces, { one: "interface", other: "interfaces" }),
+                plural(preview.summary.counts.addressObjects, { one: "address object or group", other: "address objects and groups" }),
+                plural(preview.summary.counts.inboundRules, { one: "inbound rule", other: "inbound rules" }),
+                plural(preview.summary.counts.accounts, { one: "account", other: "accounts" }),
+              ].join(", ")}
+            </dd>
+          </>
+        )}
+        <dt className="text-ink-muted">{effect ? "Findings after" : "Findings"}</dt>
         <dd>
           <SeverityCounts counts={preview.summary.findingsBySeverity} />
         </dd>
-        <dt className="text-ink-muted">Worst on wan</dt>
+        <dt className="text-ink-muted">{effect ? "Worst on wan after" : "Worst on wan"}</dt>
         <dd>{isOutcome(preview.summary.worstOutsideOutcome) ? <OutcomeChip outcome={preview.summary.worstOutsideOutcome} /> : "no wan interface"}</dd>
       </dl>
       {preview.warnings.length > 0 ? (
@@ -299,6 +364,19 @@ function ImportPreview({ preview, busy }: { preview: PreviewData; busy: boolean 
             </li>
           ))}
         </ul>
+      ) : null}
+      {effect && preview.devicePath ? (
+        <section aria-labelledby="import-effect-heading" className="mt-5 border-t border-line pt-4" data-testid="import-effect">
+          <h3 id="import-effect-heading" className="font-semibold">
+            Effect on {effect.deviceName}
+            {changes ? `: r${effect.revision} → r${effect.revision + 1}` : ""}
+          </h3>
+          {changes ? (
+            <DeviceEffectDetails effect={effect} devicePath={preview.devicePath} headingId="import-effect" foldRows />
+          ) : (
+            <p className="mt-1 text-sm text-ink-muted">This document matches revision r{effect.revision}: importing it changes nothing.</p>
+          )}
+        </section>
       ) : null}
       <Form method="post" className="mt-6 space-y-4">
         <input type="hidden" name="intent" value="import" />
@@ -321,9 +399,43 @@ function ImportPreview({ preview, busy }: { preview: PreviewData; busy: boolean 
             }
           />
         ) : null}
-        <Button type="submit" disabled={busy}>
-          Import {rename ? "as a new device" : preview.deviceName}
-        </Button>
+        {lockout.length > 0 ? (
+          <p className="rounded-control border border-danger/40 bg-danger-soft px-3 py-2 text-sm text-danger" data-testid="import-lockout-warning">
+            <span className="font-semibold">Importing this locks the team out:</span> {lockoutWords(lockout)} Keep a tested break-glass path before you restrict access, confirm on
+            the device in a maintenance window, and follow your organisation's change policy.
+          </p>
+        ) : null}
+        {changes ? (
+          <div className="space-y-1.5">
+            <label className="flex items-start gap-2 text-sm font-medium">
+              <input
+                type="checkbox"
+                name="effectRead"
+                value="yes"
+                aria-invalid={preview.effectReadError ? true : undefined}
+                aria-describedby={preview.effectReadError ? "effect-read-error" : undefined}
+                className="mt-0.5 size-4 accent-harbour"
+              />
+              <span>I have read the effect{lockout.length > 0 ? ", including the lockout warning" : ""}</span>
+            </label>
+            {preview.effectReadError ? (
+              <p id="effect-read-error" role="alert" className="text-sm text-danger">
+                {preview.effectReadError}
+              </p>
+            ) : null}
+          </div>
+        ) : null}
+        <div className="flex flex-wrap items-center gap-3" data-testid="import-actions">
+          <Button type="submit" variant={lockout.length > 0 ? "danger" : "primary"} disabled={busy}>
+            Import {rename ? "as a new device" : preview.deviceName}
+          </Button>
+          {/*
+            Issue 11 (change proposals): the "Import as a proposal" button goes here, beside
+            Import, for a new revision of a device (effect !== null). It submits this same form
+            (the document, target and base revision above) with its own intent to the proposal
+            service; this page only hands the document over.
+          */}
+        </div>
       </Form>
       {rename?.taken ? (
         <Form method="post" className="mt-3 border-t border-line pt-3 text-sm">

@@ -1,6 +1,7 @@
 import { Form } from "react-router";
 import type { Route } from "./+types/overview";
 import { hasAtLeastRole } from "#server/auth/roles";
+import { CONFIRM_ROLE, DISMISS_ROLE } from "#server/services/dismissal-rules";
 import { requireDevice } from "#server/http/device-access.server";
 import { fleetSummaryOf } from "#server/services/devices.server";
 import { deviceFindings } from "#server/services/findings.server";
@@ -19,9 +20,10 @@ export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.name ??
 
 export async function loader({ context }: Route.LoaderArgs) {
   const access = requireDevice(context);
-  // The engine lists the most severe first; dismissed ones move to their own section.
+  // The engine lists the most severe first; dismissed ones (in effect) move to their own section,
+  // those whose dismissal awaits confirmation stay among the active ones.
   const [{ findings: list, unmatched }, analysed] = await Promise.all([deviceFindings(access), fleetSummaryOf(access)]);
-  const active = list.filter((finding) => !finding.dismissal);
+  const active = list.filter((finding) => finding.dismissal?.state !== "in-effect");
   return {
     name: access.device.name,
     devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`,
@@ -29,16 +31,18 @@ export async function loader({ context }: Route.LoaderArgs) {
     settings: access.effective.device,
     revision: { number: access.revision.number, message: access.revision.message, author: access.revision.authorEmail, at: access.revision.createdAt.toISOString() },
     active,
-    dismissed: list.filter((finding) => finding.dismissal),
+    dismissed: list.filter((finding) => finding.dismissal?.state === "in-effect"),
     unmatched,
     // The counts show what still needs attention: dismissed findings are accepted risks.
     activeCounts: countBySeverity(active),
-    canDismiss: hasAtLeastRole(access.role, "engineer"),
+    awaitingCount: active.filter((finding) => finding.dismissal).length,
+    powers: { userId: access.user.id, canDismiss: hasAtLeastRole(access.role, DISMISS_ROLE), canConfirm: hasAtLeastRole(access.role, CONFIRM_ROLE) },
   };
 }
 
 export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
-  const { summary, settings, revision, activeCounts, active, dismissed, unmatched, devicePath, canDismiss } = loaderData;
+  const { summary, settings, revision, activeCounts, active, dismissed, unmatched, devicePath, powers, awaitingCount } = loaderData;
+  const canDismiss = powers.canDismiss;
   return (
     <div className="space-y-6">
       <div className="grid gap-4 md:grid-cols-3">
@@ -53,6 +57,9 @@ export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
             <SeverityCounts counts={activeCounts} />
           </div>
           {dismissed.length > 0 ? <p className="mt-2 text-xs text-ink-muted">{formatNumber(dismissed.length)} dismissed as accepted risk, not counted.</p> : null}
+          {awaitingCount > 0 ? (
+            <p className="mt-1 text-xs text-ink-muted">{plural(awaitingCount, { one: "dismissal awaits", other: "dismissals await" })} confirmation; counted until confirmed.</p>
+          ) : null}
         </Card>
         <Card className="p-5">
           <h2 className="text-xs font-semibold tracking-wide text-ink-muted uppercase">Model</h2>
@@ -85,7 +92,7 @@ export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
           <ul className="space-y-3">
             {active.map((finding) => (
               <li key={finding.key}>
-                <ActiveFindingCard finding={finding} devicePath={devicePath} canDismiss={canDismiss} />
+                <ActiveFindingCard finding={finding} devicePath={devicePath} powers={powers} timeZone={settings.timezone} />
               </li>
             ))}
           </ul>
@@ -116,6 +123,7 @@ export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
                   <code className="text-xs text-ink-muted">{dismissal.code}</code>
                   <span className="text-ink-muted">
                     “{dismissal.reason}” — {dismissal.by}, {formatDay(dismissal.at, settings.timezone)} (r{dismissal.revisionNumber})
+                    {dismissal.state === "awaiting-confirmation" ? ", awaiting confirmation" : ""}
                   </span>
                   {canDismiss ? (
                     <Form method="post" action={`${devicePath}/dismissals`}>
