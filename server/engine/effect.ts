@@ -420,7 +420,8 @@ function workFromLosses(before: CompiledModel, after: CompiledModel, entries: re
   });
 }
 
-function expectationChanges(before: CompiledModel, after: CompiledModel, expectations: readonly Expectation[]): ExpectationChange[] {
+/** Each expectation checked on both revisions: broken (held before, not after) and fixed marked. */
+export function compareExpectations(before: CompiledModel, after: CompiledModel, expectations: readonly Expectation[]): ExpectationChange[] {
   if (expectations.length === 0) return [];
   const was = checkExpectations(before, expectations);
   const now = checkExpectations(after, expectations);
@@ -475,7 +476,7 @@ export function changeEffect(before: CompiledModel, after: CompiledModel, option
 
   const lockout = lockoutOf(diff.lockout, cells);
   const losses = workFromLosses(before, after, workFrom);
-  const expectations = expectationChanges(before, after, options.expectations ?? []);
+  const expectations = compareExpectations(before, after, options.expectations ?? []);
   const blocking: Blocking[] = [
     ...lockout.map((l): Blocking => ({ kind: "lockout", subject: l.operatorNetwork, words: l.words })),
     ...losses.map((l): Blocking => ({ kind: "work-from", subject: l.sources.join(" "), words: l.words })),

@@ -4,8 +4,6 @@
 // rule names that rule and not the neighbours it jumped over. Pure; History, the stale-edit
 // banner and the effect of a change all read moves from here.
 
-/** The part of an inbound rule this module compares: its id and its other fields. */
-export type RuleLike = { readonly id: string } & object;
 
 export interface RuleMove {
   readonly id: string;
@@ -117,7 +115,7 @@ export function ruleMoves(beforeIds: readonly string[], afterIds: readonly strin
 }
 
 /** Rules added, removed, moved and changed between two rule lists (the documents' inboundRules). */
-export function ruleChanges(before: readonly RuleLike[], after: readonly RuleLike[]): RuleChanges {
+export function ruleChanges<Rule extends { readonly id: string }>(before: readonly Rule[], after: readonly Rule[]): RuleChanges {
   const beforeById = new Map(before.map((rule, index) => [rule.id, { rule, index }]));
   const afterById = new Map(after.map((rule, index) => [rule.id, { rule, index }]));
   const added = after.flatMap((rule, index) => (beforeById.has(rule.id) ? [] : [{ id: rule.id, position: index + 1 }]));
