@@ -14,6 +14,11 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "device.deleted": "Device deleted",
   "finding.dismissed": "Finding dismissed",
   "finding.restored": "Finding restored",
+  "expectation.added": "Expectation added",
+  "expectation.changed": "Expectation changed",
+  "expectation.deleted": "Expectation deleted",
+  "expectation.reordered": "Expectation moved",
+  "expectation.imported": "Expectations imported",
   "shared-object.created": "Shared object created",
   "shared-object.updated": "Shared object changed",
   "shared-object.deleted": "Shared object deleted",
@@ -103,6 +108,12 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "device.deleted": (c, target) => `Deleted device ${quoted(c.name, target)} and its revisions (last r${word(c.lastRevision)})`,
   "finding.dismissed": (c, target) => `Dismissed ${word(c.code)} on ${quoted(c.device, target)} (r${word(c.revision)}) as an accepted risk: ${quoted(c.reason)}`,
   "finding.restored": (c, target) => `Restored ${word(c.code)} on ${quoted(c.device, target)} to the active findings`,
+  "expectation.added": (c, target) => `Added expectation ${quoted(c.id)} on ${quoted(c.device, target)}: ${word(c.words, "")}`,
+  "expectation.changed": (c, target) => `Changed expectation ${quoted(c.id)} on ${quoted(c.device, target)}: ${word(c.words, "")}`,
+  "expectation.deleted": (c, target) => `Deleted expectation ${quoted(c.id)} on ${quoted(c.device, target)}: ${word(c.words, "")}`,
+  "expectation.reordered": (c, target) => `Moved expectation ${quoted(c.id)} on ${quoted(c.device, target)}${fromTo(c.position)}`,
+  "expectation.imported": (c, target) =>
+    `Imported ${plural(typeof c.count === "number" ? c.count : 0, { one: "expectation", other: "expectations" })} into ${quoted(c.device, target)} (${c.mode === "replace" ? "replacing the list" : "added to the list"})`,
   "shared-object.created": (c, target) => `Created shared ${c.kind === "group" ? "group" : "address object"} ${quoted(target)}: ${valueText(c.items)}`,
   "shared-object.updated": (c, target) => {
     const changed = fieldChanges(c);

@@ -54,7 +54,7 @@ export interface Page<T> {
 export const DEFAULT_PAGE_SIZE = 20;
 
 /** Items offset … offset + limit − 1 of a list, with where they sit in it. Offsets and limits out of range are brought inside. */
-export function pageOf<T>(list: readonly T[], offset = 0, limit = DEFAULT_PAGE_SIZE): Page<T> {
+export function pageAt<T>(list: readonly T[], offset = 0, limit = DEFAULT_PAGE_SIZE): Page<T> {
   const size = Math.max(1, Math.min(1000, Math.floor(limit)));
   const start = Math.max(0, Math.min(Math.floor(offset), Math.max(0, list.length - 1)));
   return { items: list.slice(start, start + size), offset: start, limit: size, total: list.length };
@@ -274,7 +274,7 @@ function groupsOf(cells: readonly DiffChange[], pageSize: number): { groups: Eff
       count: size.toString(),
       words: groupWords(size, g.before, g.after, places),
       places,
-      sources: pageOf(cidrsOf(set), 0, pageSize),
+      sources: pageAt(cidrsOf(set), 0, pageSize),
     };
   });
   // The most exposed moves first (the higher of the two outcomes), losses before gains at the same level, then the most sources.
@@ -290,7 +290,7 @@ function groupsOf(cells: readonly DiffChange[], pageSize: number): { groups: Eff
 export function effectSourcesPage(effect: Pick<ChangeEffect, "cells">, key: string, offset = 0, limit = DEFAULT_PAGE_SIZE): Page<string> {
   const pairs = emptyPairs();
   for (const cell of effect.cells) for (const t of cell.transitions) if (`${t.before}>${t.after}` === key) addCidrs(pairs, t.ranges);
-  return pageOf(cidrsOf(setOf(pairs)), offset, limit);
+  return pageAt(cidrsOf(setOf(pairs)), offset, limit);
 }
 
 function ruleIdsOf(findings: readonly Finding[], code: Finding["code"]): Set<string> {

@@ -109,7 +109,7 @@ export type {
 export { diffModels } from "./diff.ts";
 export type { ModelDiff, DiffChange, DiffOptions, DiffTransition, LockoutEntry } from "./diff.ts";
 /** The effect of a change for a reviewer (effect.ts), the rule changes behind it, and expectations. */
-export { changeEffect, compareExpectations, DEFAULT_PAGE_SIZE, effectSourcesPage, pageOf, placesWords } from "./effect.ts";
+export { changeEffect, compareExpectations, DEFAULT_PAGE_SIZE, effectSourcesPage, pageAt, placesWords } from "./effect.ts";
 export type {
   Blocking,
   ChangeEffect,
