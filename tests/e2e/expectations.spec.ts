@@ -33,6 +33,8 @@ test("An engineer records what must hold; a failing bound links to a trace of it
   const probe = page.locator("#expectation-noc-https-mfa");
   await expect(probe).toContainText("Holds");
   await expect(probe).toContainText("198.51.100.20 → outside https: Login with second factor, all week");
+  // The form starts empty again for the next one.
+  await expect(probeForm.getByLabel("Id")).toHaveValue("");
 
   const boundForm = page.locator("form").filter({ has: page.getByRole("button", { name: "Add bound" }) });
   await boundForm.getByLabel("Id").fill("internet-quiet-https");

@@ -156,7 +156,8 @@ export default function Expectations({ loaderData }: Route.ComponentProps) {
           </ol>
         </>
       )}
-      {canEdit ? <EditorPanels interfaces={loaderData.interfaces} services={loaderData.services} /> : null}
+      {/* Keyed by the list, so the forms start empty again once what they added is in it. */}
+      {canEdit ? <EditorPanels key={items.map((item) => item.expectation.id).join(" ")} interfaces={loaderData.interfaces} services={loaderData.services} /> : null}
     </div>
   );
 }
