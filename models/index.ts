@@ -2,6 +2,7 @@ import type { Sequelize } from "sequelize";
 import { AuditEvent } from "./audit-event.ts";
 import { Device } from "./device.ts";
 import { EmailChange } from "./email-change.ts";
+import { DeviceExpectation } from "./device-expectation.ts";
 import { DeviceRevision } from "./device-revision.ts";
 import { FindingDismissal } from "./finding-dismissal.ts";
 import { Invitation } from "./invitation.ts";
@@ -16,11 +17,11 @@ import { Site } from "./site.ts";
 import { User } from "./user.ts";
 
 export type { RevisionSummaryRecord, SharedObjectsSnapshot } from "./device-revision.ts";
-export { AuditEvent, Device, DeviceRevision, EmailChange, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
+export { AuditEvent, Device, DeviceExpectation, DeviceRevision, EmailChange, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
 
 /** Registers every model and association on one Sequelize instance. */
 export function initModels(sequelize: Sequelize): void {
-  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, SignInAttempt, PasswordReset, EmailChange, Invitation, Device, DeviceRevision, RevisionAnalysisRecord, SharedAddressObject, FindingDismissal]) {
+  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, SignInAttempt, PasswordReset, EmailChange, Invitation, Device, DeviceRevision, RevisionAnalysisRecord, SharedAddressObject, FindingDismissal, DeviceExpectation]) {
     model.initModel(sequelize);
   }
   Organisation.hasMany(Membership, { foreignKey: "organisationId", as: "memberships" });
@@ -45,4 +46,6 @@ export function initModels(sequelize: Sequelize): void {
   FindingDismissal.belongsTo(Organisation, { foreignKey: "organisationId" });
   FindingDismissal.belongsTo(Device, { foreignKey: "deviceId" });
   Device.hasMany(FindingDismissal, { foreignKey: "deviceId", as: "findingDismissals" });
+  DeviceExpectation.belongsTo(Organisation, { foreignKey: "organisationId" });
+  DeviceExpectation.belongsTo(Device, { foreignKey: "deviceId" });
 }

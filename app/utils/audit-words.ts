@@ -18,6 +18,11 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "finding.dismissal-confirmed": "Dismissal confirmed",
   "finding.dismissal-declined": "Dismissal declined",
   "finding.dismissal-withdrawn": "Dismissal withdrawn",
+  "expectation.added": "Expectation added",
+  "expectation.changed": "Expectation changed",
+  "expectation.deleted": "Expectation deleted",
+  "expectation.reordered": "Expectation moved",
+  "expectation.imported": "Expectations imported",
   "shared-object.created": "Shared object created",
   "shared-object.updated": "Shared object changed",
   "shared-object.deleted": "Shared object deleted",
@@ -112,6 +117,12 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "finding.dismissal-confirmed": (c, target) => `Confirmed the dismissal of ${word(c.code)} on ${quoted(c.device, target)} asked for by ${word(c.dismissedBy, "another member")}: ${quoted(c.reason)}`,
   "finding.dismissal-declined": (c, target) => `Declined the dismissal of ${word(c.code)} on ${quoted(c.device, target)} asked for by ${word(c.dismissedBy, "another member")}; the finding stays active`,
   "finding.dismissal-withdrawn": (c, target) => `Withdrew the dismissal of ${word(c.code)} on ${quoted(c.device, target)} before it was confirmed`,
+  "expectation.added": (c, target) => `Added expectation ${quoted(c.id)} on ${quoted(c.device, target)}: ${word(c.words, "")}`,
+  "expectation.changed": (c, target) => `Changed expectation ${quoted(c.id)} on ${quoted(c.device, target)}: ${word(c.words, "")}`,
+  "expectation.deleted": (c, target) => `Deleted expectation ${quoted(c.id)} on ${quoted(c.device, target)}: ${word(c.words, "")}`,
+  "expectation.reordered": (c, target) => `Moved expectation ${quoted(c.id)} on ${quoted(c.device, target)}${fromTo(c.position)}`,
+  "expectation.imported": (c, target) =>
+    `Imported ${plural(typeof c.count === "number" ? c.count : 0, { one: "expectation", other: "expectations" })} into ${quoted(c.device, target)} (${c.mode === "replace" ? "replacing the list" : "added to the list"})`,
   "shared-object.created": (c, target) => `Created shared ${c.kind === "group" ? "group" : "address object"} ${quoted(target)}: ${valueText(c.items)}`,
   "shared-object.updated": (c, target) => {
     const changed = fieldChanges(c);

@@ -10,18 +10,20 @@ import {
   OUTCOMES,
   ProbeError,
   SEVERITIES,
+  compareExpectations,
   compileModel,
   diffModels,
   exposure,
   exposureSlices,
   findings,
+  parseExpectationsFile,
   parseModel,
   reach,
   VERSION_1_UPGRADE_SUMMARY,
   severityAtLeast,
   trace,
 } from "../engine/index.ts";
-import type { CompiledModel, ExposureEntry, Finding, ModelDiff, ParseResult, Severity, TraceResult, ValidationIssue } from "../engine/index.ts";
+import type { CompiledModel, Expectation, ExpectationChange, ExposureEntry, Finding, ModelDiff, ParseResult, Severity, TraceResult, ValidationIssue } from "../engine/index.ts";
 import { CsvSyntaxError, parseCsv } from "../formats/csv.ts";
 import { plural } from "../engine/format.ts";
 import { jsonPieces } from "../formats/json-stream.ts";
@@ -36,11 +38,13 @@ Usage:
   sallyport reach MODEL --from IP [--at ISO] [--json]
   sallyport exposure MODEL [--at ISO] [--json]
   sallyport findings MODEL [--fail-on SEVERITY] [--json]
-  sallyport diff BEFORE AFTER [--fail-on-lockout] [--json]
+  sallyport diff BEFORE AFTER [--fail-on-lockout] [--expectations FILE] [--json]
 
 SVC is a catalogue service name, tcp/PORT, udp/PORT or icmp/echo. ISO times without an
 offset are read on the device's clock. Severities: ${SEVERITIES.join(", ")}.
-Exit codes: 0 ok, 1 a --fail-on… condition met, 2 usage or validation error.
+--expectations FILE checks an expectations file (docs/engine.md) on both revisions.
+Exit codes: 0 ok, 1 a --fail-on… condition met or an expectation that held no longer
+does, 2 usage or validation error.
 The simulation models the configuration, not the device: confirm on the device in a
 maintenance window, and keep a tested break-glass path before restricting access.`;
 
@@ -58,6 +62,7 @@ const OPTIONS = {
   probes: { type: "string" },
   "fail-on": { type: "string" },
   "fail-on-lockout": { type: "boolean" },
+  expectations: { type: "string" },
 } as const;
 
 type Options = { [K in keyof typeof OPTIONS]?: (typeof OPTIONS)[K]["type"] extends "boolean" ? boolean : string };
@@ -363,14 +368,37 @@ function renderDiff(d: ModelDiff): string {
   return out;
 }
 
+/** An expectations file; a malformed one is refused with the path of every problem. */
+function loadExpectations(path: string): Expectation[] {
+  const parsed = parseExpectationsFile(readJson(path));
+  if (!parsed.ok) throw new ModelFileError(`invalid expectations file\n${parsed.errors.map((e) => `${path}: ${e.path === "" ? "" : `${e.path}: `}${e.message}`).join("\n")}`);
+  return [...parsed.expectations];
+}
+
+function renderExpectations(list: readonly ExpectationChange[]): string {
+  if (list.length === 0) return "\nexpectations: none in the file\n";
+  const mark = (e: ExpectationChange) => (e.broken ? "BROKEN" : e.fixed ? "fixed" : e.after.holds ? "holds" : "still failing");
+  return `\nexpectations\n${table(
+    ["id", "before", "after", "", "after the change"],
+    list.map((e) => [e.id, e.before.status, e.after.status, mark(e), e.after.words]),
+  )}`;
+}
+
 async function diffCommand(files: readonly string[], values: Options, io: Io): Promise<number> {
   if (files.length !== 2) throw new UsageError(`diff needs BEFORE and AFTER model files, got ${files.length}`);
+  const expectations = values.expectations === undefined ? null : loadExpectations(values.expectations);
   const before = loadModel(files[0], io);
   const after = loadModel(files[1], io);
   const d = diffModels(before, after);
-  if (values.json === true) await writeJson(io, d);
-  else await write(io, renderDiff(d));
-  return values["fail-on-lockout"] === true && d.lockout.length > 0 ? 1 : 0;
+  const checked = expectations === null ? null : compareExpectations(before, after, expectations);
+  if (values.json === true) {
+    // The diff's own keys first, unchanged; the expectations only when asked for.
+    if (checked === null) await writeJson(io, d);
+    else await writeJson(io, { changes: d.changes, lockout: d.lockout, findingsAdded: d.findingsAdded, findingsResolved: d.findingsResolved, expectations: checked });
+  } else await write(io, renderDiff(d) + (checked === null ? "" : renderExpectations(checked)));
+  const lockedOut = values["fail-on-lockout"] === true && d.lockout.length > 0;
+  const broken = checked !== null && checked.some((e) => e.broken);
+  return lockedOut || broken ? 1 : 0;
 }
 
 /**

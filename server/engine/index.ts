@@ -107,7 +107,53 @@ export type {
   UnlistenedPortAction,
 } from "./vocabulary.ts";
 export { diffModels } from "./diff.ts";
-export type { ModelDiff, DiffChange, LockoutEntry } from "./diff.ts";
+export type { ModelDiff, DiffChange, DiffOptions, DiffTransition, LockoutEntry } from "./diff.ts";
+/** The effect of a change for a reviewer (effect.ts), the rule changes behind it, and expectations. */
+export { changeEffect, compareExpectations, DEFAULT_PAGE_SIZE, effectSourcesPage, pageAt, placesWords } from "./effect.ts";
+export type {
+  Blocking,
+  ChangeEffect,
+  EffectDirection,
+  EffectGroup,
+  EffectLockout,
+  EffectOptions,
+  EffectPlace,
+  EffectRules,
+  ExpectationChange,
+  FindingLine,
+  Page,
+  WorkFromLoss,
+} from "./effect.ts";
+export { changedFields, movedRuleIds, ruleChanges, ruleMoves } from "./rule-changes.ts";
+export type { RuleChanges, RuleMove } from "./rule-changes.ts";
+export {
+  ALL_WEEK,
+  BoundExpectationSchema,
+  checkExpectations,
+  ExpectationSchema,
+  expectationsFile,
+  ExpectationsFileSchema,
+  expectationWords,
+  EXPECTATIONS_FORMAT,
+  EXPECTATIONS_VERSION,
+  MAX_EXPECTATIONS,
+  NON_PRIVATE_SOURCES,
+  parseExpectation,
+  parseExpectationsFile,
+  ProbeExpectationSchema,
+} from "./expectations.ts";
+export type {
+  BoundExpectation,
+  Expectation,
+  ExpectationInput,
+  ExpectationResult,
+  ExpectationStatus,
+  ExpectationsFile,
+  ExpectationWitness,
+  ParsedExpectations,
+  ProbeExpectation,
+} from "./expectations.ts";
+export { instantInSlice, instantOfWeekMinute, parseWeekTime, WEEK_TIME_PATTERN } from "./week-times.ts";
 
 /** Compiles a validated model for fast questions; partitions are computed on demand and cached. */
 export function compileModel(model: DeviceModel, options: CompileOptions = {}): CompiledModel {

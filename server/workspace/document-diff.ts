@@ -1,5 +1,7 @@
 // A readable difference between two device documents: what a reviewer reads in the revision
 // history and what a conflict message lists. Pure.
+import { ruleMoves } from "../engine/index.ts";
+import type { RuleMove } from "../engine/index.ts";
 import type { ModelDocument } from "./document.ts";
 
 export type DocumentChange = {
@@ -35,29 +37,15 @@ function fieldChanges(before: object, after: object, skip: string[] = []): strin
 }
 
 /**
- * The rules that moved: those outside a longest run that kept its relative order, so moving
- * one rule to the top reports that rule, not every rule it jumped over.
+ * A move in words: its positions, and where they alone would mislead, where it went — a swap
+ * of two neighbours names the other rule, and a position that reads the same before and after
+ * (rules added or removed above it) names the rule now above it.
  */
-function movedRuleIds(beforeOrder: string[], afterOrder: string[]): Set<string> {
-  const rank = new Map(beforeOrder.map((id, index) => [id, index]));
-  const ranks = afterOrder.map((id) => rank.get(id)!);
-  // Longest increasing subsequence, O(n log n), with back-pointers to recover it.
-  const tails: number[] = [];
-  const previous = new Array<number>(ranks.length).fill(-1);
-  for (let index = 0; index < ranks.length; index++) {
-    let low = 0;
-    let high = tails.length;
-    while (low < high) {
-      const middle = (low + high) >> 1;
-      if (ranks[tails[middle]] < ranks[index]) low = middle + 1;
-      else high = middle;
-    }
-    previous[index] = low > 0 ? tails[low - 1] : -1;
-    tails[low] = index;
-  }
-  const kept = new Set<string>();
-  for (let index = tails.length ? tails[tails.length - 1] : -1; index >= 0; index = previous[index]) kept.add(afterOrder[index]);
-  return new Set(afterOrder.filter((id) => !kept.has(id)));
+function moveDetails(move: RuleMove): string[] {
+  const details = [`position ${move.from} → ${move.to}`];
+  if (move.swappedWith !== undefined) details.push(`swapped places with ${move.swappedWith}`);
+  else if (move.from === move.to) details.push(move.below === null ? "now first, above the rules it followed before" : `now below ${move.below}`);
+  return details;
 }
 
 /** Changes from `before` to `after`, section by section, rules by id with their moves. */
@@ -82,9 +70,13 @@ export function diffDocuments(before: ModelDocument, after: ModelDocument): Docu
 
   const beforeRules = new Map(before.inboundRules.map((rule, index) => [rule.id, { rule, index }]));
   const afterRules = new Map(after.inboundRules.map((rule, index) => [rule.id, { rule, index }]));
-  const commonBefore = before.inboundRules.filter((rule) => afterRules.has(rule.id)).map((rule) => rule.id);
-  const commonAfter = after.inboundRules.filter((rule) => beforeRules.has(rule.id)).map((rule) => rule.id);
-  const moved = movedRuleIds(commonBefore, commonAfter);
+  // The engine's move detection (a longest common subsequence of the ids): one move names the moved rule.
+  const moved = new Map(
+    ruleMoves(
+      before.inboundRules.map((rule) => rule.id),
+      after.inboundRules.map((rule) => rule.id),
+    ).map((move) => [move.id, move]),
+  );
   for (const [id, { rule, index }] of afterRules) {
     const old = beforeRules.get(id);
     if (!old) {
@@ -93,9 +85,8 @@ export function diffDocuments(before: ModelDocument, after: ModelDocument): Docu
     }
     const details = fieldChanges(old.rule, rule);
     if (details.length) changes.push({ section: "Inbound rules", change: "changed", element: id, details });
-    if (moved.has(id)) {
-      changes.push({ section: "Inbound rules", change: "moved", element: id, details: [`position ${old.index + 1} → ${index + 1}`] });
-    }
+    const move = moved.get(id);
+    if (move) changes.push({ section: "Inbound rules", change: "moved", element: id, details: moveDetails(move) });
   }
   for (const id of beforeRules.keys()) if (!afterRules.has(id)) changes.push({ section: "Inbound rules", change: "removed", element: id, details: [] });
 

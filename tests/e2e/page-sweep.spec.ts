@@ -51,6 +51,7 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
     `${device}/analysis?from=203.0.113.50&interface=outside&service=https`,
     `${device}/reach?from=203.0.113.50`,
     `${device}/exposure?interface=outside&service=https`,
+    `${device}/expectations`,
     `${device}/history`,
     ...DEVICE_SECTIONS.map((section) => `${device}/model/${section}`),
   ];
@@ -76,7 +77,7 @@ async function sidewaysOverflow(page: Page): Promise<number> {
 }
 
 /**
- * On a device page at 1366 px, every one of the device's 13 pages is linked inside the device
+ * On a device page at 1366 px, every one of the device's 14 pages is linked inside the device
  * navigation's box (none cut off or pushed out of view), and exactly one is marked current.
  */
 async function deviceNavigationProblems(page: Page): Promise<string[]> {
@@ -87,7 +88,7 @@ async function deviceNavigationProblems(page: Page): Promise<string[]> {
       const own = link.getBoundingClientRect();
       return own.width === 0 || own.left < box.left || own.right > box.right || own.right > window.innerWidth;
     }).map((link) => `device page "${link.textContent}" is cut off or out of view`);
-    if (links.length !== 13) problems.push(`the device navigation has ${links.length} pages, not 13`);
+    if (links.length !== 14) problems.push(`the device navigation has ${links.length} pages, not 14`);
     const current = links.filter((link) => link.getAttribute("aria-current") === "page");
     if (current.length !== 1) problems.push(`${current.length} device pages are marked current`);
     return problems;

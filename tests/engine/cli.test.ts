@@ -113,6 +113,39 @@ describe("sallyport CLI", { timeout: 60_000 }, () => {
     expect(sallyport("diff", model("kestrel-dental.json"), model("kestrel-dental-hardened.json"), "--fail-on-lockout").code).toBe(0);
   });
 
+  test("diff --expectations checks both revisions: exit 1 when one that held no longer does, 0 when none broke, 2 with paths for a malformed file", () => {
+    const dir = mkdtempSync(join(tmpdir(), "sallyport-"));
+    const file = join(dir, "expectations.json");
+    const expectations = (list: unknown[]) => writeFileSync(file, JSON.stringify({ format: "sallyport-expectations", version: 1, expectations: list }));
+    // The contractor (203.0.113.40/29, RFC 5737) reaches the https login before; the lockout revision drops it.
+    const contractor = { id: "contractor-https", note: "the IT contractor logs in", kind: "probe", from: "203.0.113.41", interface: "wan", service: "https", expect: "login-password" };
+    const quiet = { id: "no-internet-ssh", kind: "bound", sources: "non-private", interface: "wan", service: "ssh", atMost: "silent" };
+    expectations([contractor, quiet]);
+    const broken = sallyport("diff", model("kestrel-dental.json"), model("kestrel-dental-lockout.json"), "--expectations", file, "--json");
+    expect(broken.code).toBe(1);
+    const body = JSON.parse(broken.stdout);
+    // The diff's contract is kept: its keys first and unchanged, the expectations beside them.
+    expect(Object.keys(body)).toEqual(["changes", "lockout", "findingsAdded", "findingsResolved", "expectations"]);
+    expect(body.lockout[0].operatorNetwork).toBe("it-contractor");
+    expect(body.expectations.map((e: { id: string; broken: boolean; before: { status: string }; after: { status: string } }) => [e.id, e.before.status, e.after.status, e.broken])).toEqual([
+      ["contractor-https", "holds", "fails", true],
+      ["no-internet-ssh", "holds", "holds", false],
+    ]);
+    expect(body.expectations[0].after.witness).toMatchObject({ from: "203.0.113.41", interface: "wan", service: "https", outcome: "silent" });
+    const text = sallyport("diff", model("kestrel-dental.json"), model("kestrel-dental-lockout.json"), "--expectations", file);
+    expect(text.code).toBe(1);
+    expect(text.stdout).toMatch(/contractor-https\s+holds\s+fails\s+BROKEN/);
+    // Only the bound: nothing that held breaks, so the exit code is the diff's own (0 without --fail-on-lockout).
+    expectations([quiet]);
+    expect(sallyport("diff", model("kestrel-dental.json"), model("kestrel-dental-lockout.json"), "--expectations", file).code).toBe(0);
+    expect(sallyport("diff", model("kestrel-dental.json"), model("kestrel-dental-lockout.json"), "--expectations", file, "--fail-on-lockout").code).toBe(1);
+    expectations([{ ...contractor, from: "not-an-address" }]);
+    const malformed = sallyport("diff", model("kestrel-dental.json"), model("kestrel-dental-lockout.json"), "--expectations", file);
+    expect(malformed.code).toBe(2);
+    expect(malformed.stdout).toBe("");
+    expect(malformed.stderr).toContain("expectations[0].from: must be one IPv4 or IPv6 address");
+  });
+
   test("a version-1 document is read as version 2: the same answers, and one line on stderr says so", () => {
     // PRODUCT.md §4: version-1 documents are still read and upgraded on read; the CLI says so.
     const v1 = join(ROOT, "tests/fixtures/version-1/harbourline-edge.json");

@@ -301,6 +301,32 @@ describe("Readable differences between two documents", () => {
     expect(added).toEqual([{ section: "Inbound rules", change: "added", element: "r-new", details: ["at position 2", "allow partner-hq → any on outside, services ping"] }]);
   });
 
+  test("A rule moved down while a rule is inserted at the top is named as moved, never its neighbour as \"position 2 → 2\"", () => {
+    const before = base();
+    // r1 goes to the bottom, a new rule goes on top: r2 sits at position 2 before and after.
+    const after = insertRule(moveRule(before, "r1", 4), rule("r-new"), 1);
+    expect(ruleIds(after)).toEqual(["r-new", "r2", "r3", "r4", "r1"]);
+    const moves = diffDocuments(before, after).filter((change) => change.change === "moved");
+    expect(moves).toEqual([{ section: "Inbound rules", change: "moved", element: "r1", details: ["position 1 → 5"] }]);
+    expect(moves.flatMap((change) => change.details).join(" ")).not.toMatch(/position (\d+) → \1\b/);
+  });
+
+  test("Two neighbours swapping places: the rule that went up is named, with the neighbour it swapped with", () => {
+    const before = base();
+    // Moving r2 down one place and moving r3 up one place give the same document.
+    for (const after of [moveRule(before, "r2", 3), moveRule(before, "r3", 2)]) {
+      expect(diffDocuments(before, after)).toEqual([{ section: "Inbound rules", change: "moved", element: "r3", details: ["position 3 → 2", "swapped places with r2"] }]);
+    }
+  });
+
+  test("A moved rule whose position reads the same before and after says which rule it now follows", () => {
+    const before = base();
+    const [r1, r2, r3] = before.inboundRules;
+    // p and q go; r1 moves below r3. Its number is 3 before and after, so the number alone would say nothing.
+    const changes = diffDocuments({ ...before, inboundRules: [rule("p"), rule("q"), r1, r2, r3] }, { ...before, inboundRules: [r2, r3, r1] });
+    expect(changes.filter((change) => change.change === "moved")).toEqual([{ section: "Inbound rules", change: "moved", element: "r1", details: ["position 3 → 3", "now below r3"] }]);
+  });
+
   test("Rule field changes, settings and operator networks are each named", () => {
     const before = base();
     const after = setOperatorNetworks(updateSettings(setRuleEnabled(before, "r2", false), { ...before.device, timezone: "UTC" }), ["operators"]);

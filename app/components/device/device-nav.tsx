@@ -21,6 +21,7 @@ export function deviceNavGroups(base: string): Group[] {
         { to: `${base}/analysis`, label: "Trace" },
         { to: `${base}/reach`, label: "Reach" },
         { to: `${base}/exposure`, label: "Exposure map" },
+        { to: `${base}/expectations`, label: "Expectations" },
       ],
     },
     { id: "record", label: "Record", tabs: [{ to: `${base}/history`, label: "History" }] },

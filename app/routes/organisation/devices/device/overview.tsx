@@ -1,4 +1,6 @@
-import { Form } from "react-router";
+import { useEffect } from "react";
+import { Form, Link, useFetcher } from "react-router";
+import type { loader as expectationsLoader } from "./expectations";
 import type { Route } from "./+types/overview";
 import { hasAtLeastRole } from "#server/auth/roles";
 import { CONFIRM_ROLE, DISMISS_ROLE } from "#server/services/dismissal-rules";
@@ -40,6 +42,43 @@ export async function loader({ context }: Route.LoaderArgs) {
   };
 }
 
+/**
+ * One line for the device's expectations on the current revision: how many fail, or that they
+ * hold. Read from the Expectations tab's loader once the page is interactive, so the overview's
+ * own request stays within its query budget (tests/integration/query-budget.test.ts).
+ */
+function ExpectationsLine({ devicePath }: { devicePath: string }) {
+  const fetcher = useFetcher<typeof expectationsLoader>();
+  const { load, state, data } = fetcher;
+  useEffect(() => {
+    if (state === "idle" && data === undefined) void load(`${devicePath}/expectations`);
+  }, [devicePath, load, state, data]);
+  if (data === undefined || data.items.length === 0) return null;
+  const count = data.items.length;
+  const failing = data.items.filter((item) => item.result.status === "fails").length;
+  const unknown = data.items.filter((item) => item.result.status === "unknown").length;
+  const of = plural(count, { one: "expectation", other: "expectations" });
+  const holding = count - unknown;
+  const line =
+    failing > 0
+      ? `${formatNumber(failing)} of ${of} ${failing === 1 ? "fails" : "fail"} on r${data.revision}`
+      : holding === 0
+        ? `No expectation can be checked on r${data.revision}`
+        : holding === count
+          ? count === 1
+            ? `The expectation holds on r${data.revision}`
+            : `All ${of} hold on r${data.revision}`
+          : `${formatNumber(holding)} of ${of} hold on r${data.revision}`;
+  return (
+    <p className="text-sm" role="status">
+      <Link to={`${devicePath}/expectations`} className={`font-medium underline-offset-4 hover:underline ${failing > 0 ? "text-danger" : "text-harbour"}`}>
+        {line}
+      </Link>
+      {unknown > 0 && failing > 0 ? <span className="text-ink-muted"> · {formatNumber(unknown)} cannot be checked</span> : null}
+    </p>
+  );
+}
+
 export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
   const { summary, settings, revision, activeCounts, active, dismissed, unmatched, devicePath, powers, awaitingCount } = loaderData;
   const canDismiss = powers.canDismiss;
@@ -72,6 +111,7 @@ export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
           </p>
         </Card>
       </div>
+      <ExpectationsLine devicePath={devicePath} />
       <p className="text-sm text-ink-muted">
         Revision r{revision.number}: “{revision.message || "no message"}” by {revision.author || "unknown"} on <Time at={revision.at} timeZone={settings.timezone} />.
       </p>
