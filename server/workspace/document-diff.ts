@@ -38,7 +38,7 @@ function fieldChanges(before: object, after: object, skip: string[] = []): strin
  * The rules that moved: those outside a longest run that kept its relative order, so moving
  * one rule to the top reports that rule, not every rule it jumped over.
  */
-function movedRuleIds(beforeOrder: string[], afterOrder: string[]): Set<string> {
+export function movedRuleIds(beforeOrder: string[], afterOrder: string[]): Set<string> {
   const rank = new Map(beforeOrder.map((id, index) => [id, index]));
   const ranks = afterOrder.map((id) => rank.get(id)!);
   // Longest increasing subsequence, O(n log n), with back-pointers to recover it.

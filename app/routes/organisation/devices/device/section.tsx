@@ -5,7 +5,7 @@ import { hasAtLeastRole } from "#server/auth/roles";
 import { BUILTIN_SERVICES } from "#server/engine/index";
 import { actorOf } from "#server/http/actor.server";
 import { requireDevice, revisionNumberOf } from "#server/http/device-access.server";
-import { formValuesWithLists, planDeviceEdit, refusedDeviceEdit } from "#server/http/device-forms.server";
+import { formValuesWithLists, planDeviceEdit, PlannedAttempt, refusedDeviceEdit } from "#server/http/device-forms.server";
 import { invalidForm, readForm, unknownIntent } from "#server/http/form.server";
 import { deleteDevice, loadSharedLibrary, saveEdit } from "#server/services/devices.server";
 import { listSites } from "#server/services/sites.server";
@@ -15,7 +15,6 @@ import { isDeviceSection, type DeviceSection } from "#app/components/device/sect
 import type { EditorNames } from "#app/components/device/name-groups";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { readRuleView } from "#server/http/preferences.server";
-import type { ModelDocument } from "#server/workspace/document";
 
 function sectionOf(value: string | undefined): DeviceSection {
   if (!isDeviceSection(value)) throw data({ message: `This device has no section "${String(value).slice(0, 40)}".` }, { status: 404 });
@@ -76,14 +75,13 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   if (!planned) return unknownIntent(values.intent);
   if (!planned.ok) return invalidForm(planned.errors, values);
   // The document the engine checked, kept so its problems can be put beside this form's fields.
-  const attempt: { candidate?: ModelDocument } = {};
-  const edit = (document: ModelDocument) => (attempt.candidate = planned.plan.edit(document));
+  const attempt = new PlannedAttempt(planned.plan);
   try {
-    const saved = await saveEdit(access.organisation.id, access.device.id, baseRevision, edit, actorOf(access, clientAddressOf(context)), planned.plan.message, { siteId: planned.plan.siteId });
+    const saved = await saveEdit(access.organisation.id, access.device.id, baseRevision, attempt.apply, actorOf(access, clientAddressOf(context)), planned.plan.message, { siteId: planned.plan.siteId });
     const message = saved.changes.length === 0 && !planned.plan.siteId ? "Nothing changed; no new revision." : `${planned.plan.message}. Saved as revision r${saved.number}.`;
     throw redirect(`/o/${access.organisation.slug}/devices/${access.device.id}/model/${section}`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message }) } });
   } catch (error) {
-    return refusedDeviceEdit(error, values, { plan: planned.plan, candidate: attempt.candidate, library: () => loadSharedLibrary(access.organisation.id) });
+    return refusedDeviceEdit(error, values, attempt, () => loadSharedLibrary(access.organisation.id));
   }
 }
 
