@@ -106,7 +106,7 @@ export type {
   SeverityCounts,
   UnlistenedPortAction,
 } from "./vocabulary.ts";
-export { diffModels } from "./diff.ts";
+export { diffModels, lockoutGuard } from "./diff.ts";
 export type { ModelDiff, DiffChange, LockoutEntry } from "./diff.ts";
 
 /** Compiles a validated model for fast questions; partitions are computed on demand and cached. */
