@@ -43,3 +43,9 @@ export function refusedJson(error: unknown): Response {
     { status: refusal.status, headers: refusal.headers },
   );
 }
+
+/** For a loader: a refusal becomes the page's error response (shown in its frame), anything else stays the bug it is. */
+export function refusedPage(error: unknown): never {
+  const refusal = refusalOf(error);
+  throw data({ message: refusal.message }, { status: refusal.status, headers: refusal.headers });
+}

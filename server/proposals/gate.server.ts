@@ -7,16 +7,9 @@
 import { DateTime } from "luxon";
 import { DAYS, lockoutGuard, outcomeRank, trace, type CompiledModel } from "../engine/index.ts";
 
-export const GATE_REASON_KINDS = ["lockout", "work-from"] as const;
-export type GateReasonKind = (typeof GATE_REASON_KINDS)[number];
+import type { GateReason } from "./gate-words.ts";
 
-/** One reason the change is blocked: what kind, a sentence, and the facts behind it (sources, services). */
-export type GateReason = { kind: GateReasonKind; words: string; details: string[] };
-
-export const GATE_REASON_LABELS: Record<GateReasonKind, string> = {
-  lockout: "Lockout guard: operator network",
-  "work-from": "Lockout guard: where you work from",
-};
+export { GATE_REASON_KINDS, GATE_REASON_LABELS, type GateReason, type GateReasonKind } from "./gate-words.ts";
 
 export type GateInput = {
   before: CompiledModel;

@@ -22,6 +22,7 @@ import { isInsideWindow, windowProblem, windowWords, type ChangeWindow } from ".
 import { gateReasons, type GateReason } from "../proposals/gate.server.ts";
 import { isOpenState, nextState, notOpenWords, OPEN_PROPOSAL_STATES, PROPOSAL_STATE_LABELS, type ProposalAction } from "../proposals/state.ts";
 import {
+  canonicalJson,
   describeElementEdit,
   diffDocuments,
   editsBetween,
@@ -99,9 +100,9 @@ function assertVersion(proposal: ChangeProposal, expected: number | undefined): 
   }
 }
 
-function assertWrittenReason(text: string, field: string, what: string): string {
+function assertWrittenReason(text: string, field: string, what: string, reasons: readonly GateReason[] = []): string {
   const trimmed = text.trim();
-  if (trimmed.length < WRITTEN_REASON_MIN) throw new Refusal(`${what} needs a written reason of at least ${WRITTEN_REASON_MIN} characters, so the next reader knows why.`, 400, { field });
+  if (trimmed.length < WRITTEN_REASON_MIN) throw new Refusal(`${what} needs a written reason of at least ${WRITTEN_REASON_MIN} characters, so the next reader knows why.`, 400, { field, reasons });
   return trimmed;
 }
 
@@ -321,7 +322,7 @@ export async function editDraft(ref: ProposalRef, expectedVersion: number, attem
     const library = await loadSharedLibrary(ref.organisationId, transaction);
     const validated = validateDocument(attempt.apply(proposal.draftDocument), library);
     if (!validated.ok) throw invalidModel(validated.errors);
-    if (JSON.stringify(validated.document) === JSON.stringify(proposal.draftDocument)) return { draftVersion: proposal.draftVersion, changed: false, approvers: [], proposal };
+    if (canonicalJson(validated.document) === canonicalJson(proposal.draftDocument)) return { draftVersion: proposal.draftVersion, changed: false, approvers: [], proposal };
     const approvers = (await currentApprovals(proposal, transaction)).map((approval) => approval.reviewerUserId);
     const position = (await ProposalEdit.max<number, ProposalEdit>("position", { where: { proposalId: proposal.id }, transaction })) ?? 0;
     await ProposalEdit.create({ proposalId: proposal.id, position: position + 1, edit: attempt.resolved, message: message.slice(0, 500), authorUserId: actor.userId, authorEmail: actor.email }, { transaction });
@@ -378,7 +379,7 @@ export async function submitProposal(ref: ProposalRef, input: { acknowledgement?
       if (!input.acknowledgement?.trim()) {
         throw gateRefusal(reasons, "Not submitted: the lockout guard blocks this change. Change the draft so nobody loses their way in — or, when the change is meant, acknowledge it in writing and an admin or owner will decide.", 409, "acknowledgement");
       }
-      acknowledgement = assertWrittenReason(input.acknowledgement, "acknowledgement", "Submitting past the lockout guard");
+      acknowledgement = assertWrittenReason(input.acknowledgement, "acknowledgement", "Submitting past the lockout guard", reasons);
     }
     await proposal.update({ state: next, submittedAt: nowOf(environment), guardAcknowledgement: acknowledgement }, { transaction });
     await audit(actor, proposal, "proposal.submitted", { draftVersion: proposal.draftVersion, ...(acknowledgement ? { acknowledgement, guard: reasons.map((reason) => reason.words) } : {}) }, transaction);
@@ -449,7 +450,7 @@ export async function reviewProposal(ref: ProposalRef, input: ReviewInput, actor
       let guardOverride = "";
       if (reasons.length > 0) {
         if (!hasAtLeastRole(actor.role, "admin")) throw gateRefusal(reasons, "The lockout guard blocks this change: only an admin or owner can approve it, with a written reason.", 403);
-        guardOverride = assertWrittenReason(input.guardOverride ?? "", "guardOverride", "Approving past the lockout guard");
+        guardOverride = assertWrittenReason(input.guardOverride ?? "", "guardOverride", "Approving past the lockout guard", reasons);
       }
       try {
         await ProposalReview.create({ proposalId: proposal.id, reviewerUserId: actor.userId, reviewerEmail: actor.email, reviewerRole: actor.role, verdict: "approved", reason: input.reason, guardOverrideReason: guardOverride, draftVersion: proposal.draftVersion }, { transaction });
@@ -630,13 +631,13 @@ export function directSaveGuard(policy: { changesThroughProposals: boolean }, ac
     if (policy.changesThroughProposals) {
       if (!isAdmin) throw new Refusal("Not saved: in this organisation changes go through proposals. Propose this change instead; an admin can save directly in an emergency (break-glass), with a reason.", 403, { reasons });
       if (!override) throw new Refusal("Not saved: in this organisation changes go through proposals. Propose this change instead, or — in an emergency — save it directly (break-glass) with a written reason.", 403, { field: "overrideReason", reasons });
-      const reason = assertWrittenReason(override.reason, "overrideReason", "A break-glass save");
+      const reason = assertWrittenReason(override.reason, "overrideReason", "A break-glass save", reasons);
       return { action: "device.break-glass-saved", changes: { reason, ...(reasons.length ? { guard: reasons.map((entry) => entry.words) } : {}) } };
     }
     if (reasons.length === 0) return null;
     if (!isAdmin) throw gateRefusal(reasons, "Not saved: the lockout guard blocks this change. Change it so nobody loses their way in, or make it a proposal for an admin or owner to decide.", 409);
     if (!override) throw gateRefusal(reasons, "Not saved: the lockout guard blocks this change. Change it, make it a proposal, or — as an admin — save it anyway with a written reason.", 409, "overrideReason");
-    const reason = assertWrittenReason(override.reason, "overrideReason", "Saving past the lockout guard");
+    const reason = assertWrittenReason(override.reason, "overrideReason", "Saving past the lockout guard", reasons);
     return { action: "device.saved-past-guard", changes: { reason, guard: reasons.map((entry) => entry.words) } };
   };
 }
@@ -900,4 +901,14 @@ export async function proposalView(ref: ProposalRef, viewer: { userId: string; r
     },
     viewerIsAuthor: author,
   };
+}
+
+/** The devices and authors the changes page can filter by: those that have proposals. */
+export async function proposalFilterChoices(organisationId: string): Promise<{ devices: Array<{ id: string; label: string }>; authors: Array<{ id: string; label: string }> }> {
+  const rows = await ChangeProposal.findAll({ where: { organisationId }, attributes: ["deviceId", "authorUserId", "authorEmail"], include: [{ model: Device, as: "device", required: true, attributes: ["id", "name"] }] });
+  const devices = new Map(rows.map((row) => [row.deviceId, row.device?.name ?? row.deviceId]));
+  const authorIds = [...new Set(rows.map((row) => row.authorUserId).filter((id): id is string => id !== null))];
+  const users = new Map((await User.findAll({ where: { id: authorIds }, attributes: ["id", "name", "email"] })).map((user) => [user.id, `${user.name} (${user.email})`]));
+  const sorted = (entries: Iterable<[string, string]>) => [...entries].map(([id, label]) => ({ id, label })).sort((a, b) => a.label.localeCompare(b.label));
+  return { devices: sorted(devices), authors: sorted(authorIds.map((id): [string, string] => [id, users.get(id) ?? id])) };
 }

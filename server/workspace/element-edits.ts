@@ -18,7 +18,7 @@ import {
 } from "../engine/index.ts";
 import { Refusal } from "../errors.ts";
 import type { ModelDocument } from "./document.ts";
-import { diffDocuments, movedRuleIds, type DocumentChange } from "./document-diff.ts";
+import { canonicalJson, diffDocuments, movedRuleIds, type DocumentChange } from "./document-diff.ts";
 import {
   deleteNamed,
   deleteRule,
@@ -347,7 +347,7 @@ export function describeElementEdit(edit: ElementEdit): string {
 // ---------------------------------------------------------------------------------------------
 // From two documents to the edits between them
 
-const same = (a: unknown, b: unknown) => JSON.stringify(a) === JSON.stringify(b);
+const same = (a: unknown, b: unknown) => canonicalJson(a) === canonicalJson(b);
 
 /** Groups first, so a group is gone before the members it named are deleted. */
 const DELETE_ORDER: readonly NamedCollection[] = ["addressGroups", "serviceGroups", "accounts", "interfaces", "schedules", "addresses", "services"];

@@ -19,7 +19,7 @@ export {
 export type { NamedCollection } from "./edits.ts";
 export { findUsages, renameReferences } from "./references.ts";
 export type { ReferenceKind, Usage } from "./references.ts";
-export { diffDocuments } from "./document-diff.ts";
+export { canonicalJson, diffDocuments } from "./document-diff.ts";
 export {
   applyElementEdit,
   applyElementEdits,
