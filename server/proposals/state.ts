@@ -13,6 +13,9 @@ export { OPEN_PROPOSAL_STATES, PROPOSAL_STATES, type ProposalState };
 export const PROPOSAL_ACTIONS = ["edit", "submit", "comment", "request-changes", "approve", "complete-approval", "reject", "withdraw", "bring-up-to-date", "apply"] as const;
 export type ProposalAction = (typeof PROPOSAL_ACTIONS)[number];
 
+/** The characters a written reason needs at least: an override, an acknowledgement, an outside-window apply. */
+export const WRITTEN_REASON_MIN = 20;
+
 /** An approved proposal whose draft changes goes back to review: its approvals no longer count. */
 const AFTER_EDIT: Partial<Record<ProposalState, ProposalState>> = { draft: "draft", in_review: "in_review", changes_requested: "changes_requested", approved: "in_review" };
 

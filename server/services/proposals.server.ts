@@ -20,7 +20,7 @@ import { bringUpToDate, type Conflict, type ConflictChoice } from "../proposals/
 import { windowCalendar } from "../proposals/calendar.server.ts";
 import { isInsideWindow, windowProblem, windowWords, type ChangeWindow } from "../proposals/change-window.ts";
 import { gateReasons, type GateReason } from "../proposals/gate.server.ts";
-import { isOpenState, nextState, notOpenWords, OPEN_PROPOSAL_STATES, PROPOSAL_STATE_LABELS, type ProposalAction } from "../proposals/state.ts";
+import { isOpenState, nextState, notOpenWords, OPEN_PROPOSAL_STATES, PROPOSAL_STATE_LABELS, WRITTEN_REASON_MIN, type ProposalAction } from "../proposals/state.ts";
 import {
   canonicalJson,
   describeElementEdit,
@@ -48,8 +48,7 @@ export type ProposalEnvironment = { now?: Date; send?: (mail: OutgoingMail) => P
 /** A proposal of an organisation's device, as the URL names it. */
 export type ProposalRef = { organisationId: string; deviceId: string; proposalId: string };
 
-/** The words a written reason needs at least: an override, an acknowledgement, an outside-window apply. */
-export const WRITTEN_REASON_MIN = 20;
+export { WRITTEN_REASON_MIN };
 
 export type ProposalDetails = { title: string; reason: string; ticket: string; window: ChangeWindow; workFrom: string };
 

@@ -438,7 +438,7 @@ describe("Applying happens once, in the window, on an up-to-date draft, or not a
     await saveEdit(team.organisationId, team.deviceId, 2, (document) => applyElementEdit(document, { kind: "rule.update", ruleId: "r1", rule: { ...(document.inboundRules[0]), services: ["https"] } }), team.members.admin.actor, "Changed inbound rule r1");
     const author = await team.members.author.client();
     const listed = await postJson(author, `${team.path}/proposals/${proposalId}/bring-up-to-date`, { draftVersion: 1 });
-    expect(listed.status).toBe(200);
+    expect(listed.status).toBe(409);
     expect(listed.json).toMatchObject({ ok: false, liveRevision: 3 });
     expect(listed.json.conflicts).toEqual([{ key: "inboundRules:r2", words: "inbound rule r2", live: ["changed: note: \"\" → changed live"], draft: ["Changed inbound rule r2"], problem: null }]);
     // Nothing changed yet.

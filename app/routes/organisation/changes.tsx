@@ -49,7 +49,8 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   return { proposals, choices, filters, slug: access.organisation.slug, canReview: hasAtLeastRole(access.role, "reviewer"), now: new Date().toISOString() };
 }
 
-const SELECT = "h-9 rounded-control border border-line-strong bg-surface px-2 text-sm";
+// A long author or device name must not push the page sideways on a phone.
+const SELECT = "h-9 max-w-full rounded-control border border-line-strong bg-surface px-2 text-sm";
 
 export default function Changes({ loaderData }: Route.ComponentProps) {
   const [searchParams] = useSearchParams();
@@ -58,7 +59,7 @@ export default function Changes({ loaderData }: Route.ComponentProps) {
     <>
       <PageHeader title="Changes" description="Every proposal of the organisation's devices: drafts, those waiting for review, approved ones waiting for their change window, and what was applied." />
       <Form method="get" role="search" className="mb-4 flex flex-wrap items-end gap-3">
-        <label className="text-sm">
+        <label className="max-w-full min-w-0 text-sm">
           <span className="mb-1 block font-medium">State</span>
           <select name="state" defaultValue={filters.state} className={SELECT}>
             <option value="open">Open (not yet applied or closed)</option>
@@ -70,7 +71,7 @@ export default function Changes({ loaderData }: Route.ComponentProps) {
             ))}
           </select>
         </label>
-        <label className="text-sm">
+        <label className="max-w-full min-w-0 text-sm">
           <span className="mb-1 block font-medium">Device</span>
           <select name="device" defaultValue={filters.device} className={SELECT}>
             <option value="">Any device</option>
@@ -81,7 +82,7 @@ export default function Changes({ loaderData }: Route.ComponentProps) {
             ))}
           </select>
         </label>
-        <label className="text-sm">
+        <label className="max-w-full min-w-0 text-sm">
           <span className="mb-1 block font-medium">Author</span>
           <select name="author" defaultValue={filters.author} className={SELECT}>
             <option value="">Anyone</option>

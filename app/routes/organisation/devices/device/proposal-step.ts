@@ -12,7 +12,8 @@ import { isProposalStep, PROPOSAL_STEPS } from "#server/http/schemas";
 // POST …/proposals/:proposal/:step with a JSON body (or a form) → {"ok": true, "message", …facts}.
 // Steps: submit, comment, approve, request-changes, reject, withdraw, bring-up-to-date, apply.
 // Refusals are {"error": …} with the refusal's status (issues with paths for malformed input,
-// reasons when the gate blocks, conflict when the device moved on).
+// reasons when the gate blocks, conflict when the device moved on); conflicts to settle when
+// bringing a draft up to date are a 409 with {"ok": false, "conflicts": […]}.
 
 export async function loader({ context }: Route.LoaderArgs) {
   requireDevice(context);
@@ -50,6 +51,8 @@ export async function action({ request, params, context }: Route.ActionArgs) {
       actorOf(access, clientAddressOf(context)),
       { appOrigin: appOriginOf(request, getEnvironment().APP_ORIGIN) },
     );
+    // Conflicts to settle (bringing a draft up to date): nothing changed, so not a success.
+    if (outcome.facts.ok === false) return Response.json({ error: outcome.message, ...outcome.facts }, { status: 409 });
     return Response.json({ ok: true, message: outcome.message, ...outcome.facts });
   } catch (error) {
     return refusedJson(error);

@@ -7,7 +7,8 @@ import { requireDevice, revisionNumberOf } from "#server/http/device-access.serv
 import { formValuesWithLists, planDeviceEdit, PlannedAttempt, refusedDeviceEdit } from "#server/http/device-forms.server";
 import { appOriginOf, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
 import { deleteDevice, loadSharedLibrary } from "#server/services/devices.server";
-import { saveDirectEdit, WRITTEN_REASON_MIN } from "#server/services/proposals.server";
+import { saveDirectEdit } from "#server/services/proposals.server";
+import { WRITTEN_REASON_MIN } from "#server/proposals/state";
 import { getEnvironment } from "#server/config.server";
 import { GuardPanel } from "#app/components/proposals/guard-panel";
 import { listSites } from "#server/services/sites.server";
