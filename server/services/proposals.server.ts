@@ -437,9 +437,15 @@ export async function reviewProposal(ref: ProposalRef, input: ReviewInput, actor
     const required = await approvalsRequired(ref.organisationId, transaction);
     const approvals = await currentApprovals(proposal, transaction);
     if (input.verdict === "approved") {
-      // Approving again what one approved already changes nothing (a double click).
+      // Approving again what one approved already changes nothing (a double click) — unless the
+      // organisation now needs fewer approvals than it had: then this completes the approval.
       if (approvals.some((approval) => approval.reviewerUserId === actor.userId) && (proposal.state === "in_review" || proposal.state === "approved")) {
-        return { proposal, approvals: approvals.length, required, completed: false, verdict: input.verdict, changed: false, approverIds: [] };
+        const completes = proposal.state === "in_review" && approvals.length >= required;
+        if (completes) {
+          await proposal.update({ state: "approved" }, { transaction });
+          await audit(actor, proposal, "proposal.approved", { draftVersion: proposal.draftVersion, approvals: approvals.length, required }, transaction);
+        }
+        return { proposal, approvals: approvals.length, required, completed: completes, verdict: input.verdict, changed: completes, approverIds: approvals.map((approval) => approval.reviewerUserId) };
       }
       const complete = approvals.length + 1 >= required;
       const next = stepTo(proposal, complete ? "complete-approval" : "approve");
@@ -561,11 +567,11 @@ export async function applyProposal(ref: ProposalRef, input: { outsideWindowReas
   const result = await getDatabase().transaction(async (transaction) => {
     const proposal = await lockedProposal(ref, transaction);
     if (proposal.state === "applied" && proposal.appliedRevisionNumber !== null) return { proposal, revision: proposal.appliedRevisionNumber, alreadyApplied: true, revisionId: null };
+    // Closed, draft or sent back: said as the state machine says it.
+    if (proposal.state !== "approved" && proposal.state !== "in_review") stepTo(proposal, "apply");
     const required = await approvalsRequired(ref.organisationId, transaction);
     const approvals = await currentApprovals(proposal, transaction);
-    if (proposal.state === "in_review" || approvals.length < required) {
-      throw new Refusal(`Not applied: this proposal needs ${required} approval${required === 1 ? "" : "s"} of its current draft and has ${approvals.length}.`, 409);
-    }
+    if (approvals.length < required) throw new Refusal(`Not applied: this proposal needs ${required} approval${required === 1 ? "" : "s"} of its current draft and has ${approvals.length}.`, 409);
     const next = stepTo(proposal, "apply");
     // Shared library first, then the device row: the order every save takes (shared-library-lock.server.ts).
     await lockSharedLibrary(transaction, ref.organisationId, "read");

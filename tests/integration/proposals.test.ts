@@ -327,6 +327,29 @@ describe("Who may take which step", () => {
   });
 });
 
+describe("Approvals the organisation needs", () => {
+  test("With two approvals needed the second reviewer's approval approves it; when the organisation needs fewer, approving again completes one", async () => {
+    const team = await makeTeam("two");
+    await Organisation.update({ approvalsRequired: 2 }, { where: { id: team.organisationId } });
+    const first = await submittedProposal(team, "Two approvals");
+    const mail = mailbox();
+    expect(await reviewProposal(ref(team, first), { verdict: "approved", reason: "" }, team.members.reviewer.actor, mail.environment)).toEqual({ state: "in_review", approvals: 1, required: 2 });
+    expect(mail.sent.map((message) => message.subject)).toEqual(["Approval 1 of 2: Two approvals"]);
+    // The same reviewer again: still one.
+    expect(await reviewProposal(ref(team, first), { verdict: "approved", reason: "" }, team.members.reviewer.actor, mail.environment)).toEqual({ state: "in_review", approvals: 1, required: 2 });
+    expect(await reviewProposal(ref(team, first), { verdict: "approved", reason: "" }, team.members.engineer.actor, mail.environment)).toEqual({ state: "approved", approvals: 2, required: 2 });
+    // Both approvers and the author get the window.
+    const approved = mail.sent.filter((message) => message.subject.startsWith("Approved: Two approvals"));
+    expect(approved.map((message) => message.to).sort()).toEqual([team.members.author.email, team.members.engineer.email, team.members.reviewer.email].sort());
+    expect(approved.every((message) => message.attachments?.[0]?.contentType.startsWith("text/calendar"))).toBe(true);
+
+    const second = await submittedProposal(team, "Fewer needed later");
+    await reviewProposal(ref(team, second), { verdict: "approved", reason: "" }, team.members.reviewer.actor, mail.environment);
+    await Organisation.update({ approvalsRequired: 1 }, { where: { id: team.organisationId } });
+    expect(await reviewProposal(ref(team, second), { verdict: "approved", reason: "" }, team.members.reviewer.actor, mail.environment)).toEqual({ state: "approved", approvals: 1, required: 1 });
+  });
+});
+
 describe("Applying happens once, in the window, on an up-to-date draft, or not at all", () => {
   test("Two applies at once make one revision; approving twice counts once", async () => {
     const team = await makeTeam("twice");
