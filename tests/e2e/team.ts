@@ -81,9 +81,11 @@ export async function createTeam(request: APIRequest, baseURL: string, label: st
 export async function createProposal(request: APIRequest, baseURL: string, team: Team): Promise<string> {
   const engineer = await request.newContext({ baseURL, extraHTTPHeaders: { Origin: baseURL }, storageState: team.members.engineer.storageState });
   const day = 86_400_000;
-  // Wall-clock times in the device's zone, as a datetime-local field sends them: tomorrow evening.
+  // Wall-clock times in the device's zone, as a datetime-local field sends them: tomorrow at
+  // 18:00–20:00 (never in the hour the clocks skip, which is at night).
   const local = (at: Date) => at.toISOString().slice(0, 16);
   const start = new Date(Date.now() + day);
+  start.setUTCHours(18, 0, 0, 0);
   const path = await expectRedirect(
     await engineer.post(`${team.device.path}/proposals/new`, {
       form: { intent: "create", title: "Pause the scanner block for the audit", reason: "The auditors scan from the blocklisted range this week.", ticket: "CHG-1042", windowStart: local(start), windowEnd: local(new Date(start.getTime() + 2 * 3_600_000)), workFrom: "" },
