@@ -29,6 +29,10 @@ export default [
       route("model/:section", "routes/organisation/devices/device/section.tsx"),
       route("history", "routes/organisation/devices/device/history.tsx"),
       route("expectations", "routes/organisation/devices/device/expectations.tsx"),
+      route("proposals", "routes/organisation/devices/device/proposals.tsx"),
+      route("proposals/new", "routes/organisation/devices/device/proposal-new.tsx"),
+      route("proposals/:proposal", "routes/organisation/devices/device/proposal.tsx"),
+      route("proposals/:proposal/draft/:section", "routes/organisation/devices/device/proposal-draft.tsx"),
       // Resource routes sit inside the device layout so its middleware resolves the device for them too.
       route("revisions/:revision/export", "routes/organisation/devices/device/export.ts"),
       route("api/trace", "routes/organisation/devices/device/api.trace.ts"),
@@ -36,9 +40,12 @@ export default [
       route("exposure.csv", "routes/organisation/devices/device/exposure.csv.ts"),
       route("dismissals", "routes/organisation/devices/device/dismissals.ts"),
       route("expectations.json", "routes/organisation/devices/device/expectations.json.ts"),
+      route("proposals/:proposal/:step", "routes/organisation/devices/device/proposal-step.ts"),
+      route("api/proposals", "routes/organisation/devices/device/api.proposals.ts"),
     ]),
     route("sites", "routes/organisation/sites.tsx"),
     route("findings", "routes/organisation/findings.tsx"),
+    route("changes", "routes/organisation/changes.tsx"),
     route("training", "routes/organisation/training.tsx"),
     route("account", "routes/organisation/account.tsx"),
     ...prefix("settings", [

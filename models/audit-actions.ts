@@ -6,12 +6,15 @@
 export const AUDIT_ACTIONS = [
   "organisation.created",
   "organisation.renamed",
+  "organisation.change-policy-changed",
   "site.created",
   "site.updated",
   "site.deleted",
   "device.created",
   "device.revised",
   "device.deleted",
+  "device.break-glass-saved",
+  "device.saved-past-guard",
   "finding.dismissed",
   "finding.restored",
   "finding.dismissal-requested",
@@ -23,6 +26,17 @@ export const AUDIT_ACTIONS = [
   "expectation.deleted",
   "expectation.reordered",
   "expectation.imported",
+  "proposal.created",
+  "proposal.draft-edited",
+  "proposal.details-changed",
+  "proposal.submitted",
+  "proposal.commented",
+  "proposal.changes-requested",
+  "proposal.approved",
+  "proposal.rejected",
+  "proposal.withdrawn",
+  "proposal.brought-up-to-date",
+  "proposal.applied",
   "shared-object.created",
   "shared-object.updated",
   "shared-object.deleted",
@@ -46,7 +60,7 @@ export function isAuditAction(value: unknown): value is AuditAction {
   return typeof value === "string" && (AUDIT_ACTIONS as readonly string[]).includes(value);
 }
 
-export const AUDIT_TARGET_TYPES = ["organisation", "site", "device", "shared-object", "invitation", "membership", "user"] as const;
+export const AUDIT_TARGET_TYPES = ["organisation", "site", "device", "shared-object", "invitation", "membership", "user", "proposal"] as const;
 export type AuditTargetType = (typeof AUDIT_TARGET_TYPES)[number];
 
 export function isAuditTargetType(value: unknown): value is AuditTargetType {

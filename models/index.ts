@@ -1,5 +1,6 @@
 import type { Sequelize } from "sequelize";
 import { AuditEvent } from "./audit-event.ts";
+import { ChangeProposal } from "./change-proposal.ts";
 import { Device } from "./device.ts";
 import { EmailChange } from "./email-change.ts";
 import { DeviceExpectation } from "./device-expectation.ts";
@@ -9,6 +10,9 @@ import { Invitation } from "./invitation.ts";
 import { Membership } from "./membership.ts";
 import { Organisation } from "./organisation.ts";
 import { PasswordReset } from "./password-reset.ts";
+import { ProposalComment } from "./proposal-comment.ts";
+import { ProposalEdit } from "./proposal-edit.ts";
+import { ProposalReview } from "./proposal-review.ts";
 import { RevisionAnalysisRecord } from "./revision-analysis.ts";
 import { Session } from "./session.ts";
 import { SharedAddressObject } from "./shared-address-object.ts";
@@ -17,11 +21,12 @@ import { Site } from "./site.ts";
 import { User } from "./user.ts";
 
 export type { RevisionSummaryRecord, SharedObjectsSnapshot } from "./device-revision.ts";
+export { ChangeProposal, ProposalComment, ProposalEdit, ProposalReview };
 export { AuditEvent, Device, DeviceExpectation, DeviceRevision, EmailChange, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
 
 /** Registers every model and association on one Sequelize instance. */
 export function initModels(sequelize: Sequelize): void {
-  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, SignInAttempt, PasswordReset, EmailChange, Invitation, Device, DeviceRevision, RevisionAnalysisRecord, SharedAddressObject, FindingDismissal, DeviceExpectation]) {
+  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, SignInAttempt, PasswordReset, EmailChange, Invitation, Device, DeviceRevision, RevisionAnalysisRecord, SharedAddressObject, FindingDismissal, DeviceExpectation, ChangeProposal, ProposalEdit, ProposalComment, ProposalReview]) {
     model.initModel(sequelize);
   }
   Organisation.hasMany(Membership, { foreignKey: "organisationId", as: "memberships" });
@@ -48,4 +53,13 @@ export function initModels(sequelize: Sequelize): void {
   Device.hasMany(FindingDismissal, { foreignKey: "deviceId", as: "findingDismissals" });
   DeviceExpectation.belongsTo(Organisation, { foreignKey: "organisationId" });
   DeviceExpectation.belongsTo(Device, { foreignKey: "deviceId" });
+  ChangeProposal.belongsTo(Organisation, { foreignKey: "organisationId" });
+  ChangeProposal.belongsTo(Device, { foreignKey: "deviceId", as: "device" });
+  Device.hasMany(ChangeProposal, { foreignKey: "deviceId", as: "proposals" });
+  ChangeProposal.hasMany(ProposalEdit, { foreignKey: "proposalId", as: "edits" });
+  ProposalEdit.belongsTo(ChangeProposal, { foreignKey: "proposalId" });
+  ChangeProposal.hasMany(ProposalComment, { foreignKey: "proposalId", as: "comments" });
+  ProposalComment.belongsTo(ChangeProposal, { foreignKey: "proposalId" });
+  ChangeProposal.hasMany(ProposalReview, { foreignKey: "proposalId", as: "reviews" });
+  ProposalReview.belongsTo(ChangeProposal, { foreignKey: "proposalId" });
 }

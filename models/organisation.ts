@@ -5,6 +5,10 @@ export class Organisation extends Model<InferAttributes<Organisation>, InferCrea
   /** URL segment: /o/:slug/… */
   declare slug: string;
   declare name: string;
+  /** Approvals a change proposal needs before it may be applied (1–5). */
+  declare approvalsRequired: CreationOptional<number>;
+  /** When on, the live editor saves only an admin's break-glass edit; changes go through proposals. */
+  declare changesThroughProposals: CreationOptional<boolean>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 
@@ -14,6 +18,8 @@ export class Organisation extends Model<InferAttributes<Organisation>, InferCrea
         id: { type: DataTypes.UUID, defaultValue: DataTypes.UUIDV4, primaryKey: true },
         slug: { type: DataTypes.STRING(63), allowNull: false, unique: true },
         name: { type: DataTypes.STRING(100), allowNull: false },
+        approvalsRequired: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 1 },
+        changesThroughProposals: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },

@@ -16,7 +16,11 @@ export type RefusalOptions = {
   issues?: readonly RefusalIssue[];
   /** The edit was based on an older revision: what the current one is and what changed since. */
   conflict?: RevisionConflictFacts;
+  /** Why a change is blocked (the gate of server/proposals/gate.server.ts): kind, words and details. */
+  reasons?: readonly RefusalReason[];
 };
+
+export type RefusalReason = { kind: string; words: string; details: readonly string[] };
 
 export type RevisionConflictFacts = {
   currentNumber: number;
@@ -30,6 +34,7 @@ export class Refusal extends Error {
   readonly headers: Record<string, string>;
   readonly issues: readonly RefusalIssue[];
   readonly conflict?: RevisionConflictFacts;
+  readonly reasons: readonly RefusalReason[];
 
   constructor(
     message: string,
@@ -42,6 +47,7 @@ export class Refusal extends Error {
     this.headers = options.headers ?? {};
     this.issues = options.issues ?? [];
     this.conflict = options.conflict;
+    this.reasons = options.reasons ?? [];
   }
 }
 

@@ -10,6 +10,7 @@ const NAVIGATION = [
   { to: "devices", label: "Devices", icon: "M4 6h16v5H4zM4 13h16v5H4zM7 8.5h.01M7 15.5h.01" },
   { to: "sites", label: "Sites", icon: "M12 21s-7-6.2-7-11.5A7 7 0 0 1 19 9.5C19 14.8 12 21 12 21zM12 12a2.5 2.5 0 1 0 0-5 2.5 2.5 0 0 0 0 5z" },
   { to: "findings", label: "Findings", icon: "M12 3l9 16H3zM12 10v4M12 17h.01" },
+  { to: "changes", label: "Changes", icon: "M7 4v16M7 20l-3-3M7 20l3-3M17 20V4M17 4l-3 3M17 4l3 3" },
   { to: "training", label: "Training", icon: "M3 8l9-4 9 4-9 4zM7 10v5c0 1.5 2.2 3 5 3s5-1.5 5-3v-5" },
   { to: "settings", label: "Settings", icon: "M12 15a3 3 0 1 0 0-6 3 3 0 0 0 0 6zM19 12a7 7 0 0 0-.1-1.2l2-1.6-2-3.4-2.4 1a7 7 0 0 0-2-1.2L14 3h-4l-.5 2.6a7 7 0 0 0-2 1.2l-2.4-1-2 3.4 2 1.6a7 7 0 0 0 0 2.4l-2 1.6 2 3.4 2.4-1a7 7 0 0 0 2 1.2L10 21h4l.5-2.6a7 7 0 0 0 2-1.2l2.4 1 2-3.4-2-1.6c.1-.4.1-.8.1-1.2z" },
 ] as const;
@@ -25,7 +26,7 @@ function Icon({ path, className }: { path: string; className?: string }) {
 /**
  * The signed-in frame. Wide screens: navigation down the left (icons only below 1280 px),
  * organisation switcher and user menu on top. Below 768 px the same navigation is a row of
- * five under the top bar, so the content keeps the whole width of a phone.
+ * six under the top bar, so the content keeps the whole width of a phone.
  */
 export function AppShell({ organisation, organisations, user, theme, children }: { organisation: ShellOrganisation; organisations: ShellOrganisation[]; user: ShellUser; theme: string; children: ReactNode }) {
   const location = useLocation();
@@ -42,7 +43,7 @@ export function AppShell({ organisation, organisations, user, theme, children }:
           <BrandMark className="size-8 shrink-0" />
           <span className="text-lg font-semibold tracking-tight max-xl:hidden">Sallyport</span>
         </Link>
-        <ul className="grid grid-cols-5 gap-1 md:block md:space-y-1">
+        <ul className="grid grid-cols-6 gap-1 md:block md:space-y-1">
           {NAVIGATION.map((item) => (
             <li key={item.to}>
               <NavLink

@@ -6,12 +6,15 @@ import { plural } from "#server/engine/format";
 export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "organisation.created": "Organisation created",
   "organisation.renamed": "Organisation renamed",
+  "organisation.change-policy-changed": "Change policy changed",
   "site.created": "Site added",
   "site.updated": "Site changed",
   "site.deleted": "Site deleted",
   "device.created": "Device created",
   "device.revised": "New revision saved",
   "device.deleted": "Device deleted",
+  "device.break-glass-saved": "Break-glass save",
+  "device.saved-past-guard": "Saved past the lockout guard",
   "finding.dismissed": "Finding dismissed",
   "finding.restored": "Finding restored",
   "finding.dismissal-requested": "Dismissal asked for",
@@ -23,6 +26,17 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "expectation.deleted": "Expectation deleted",
   "expectation.reordered": "Expectation moved",
   "expectation.imported": "Expectations imported",
+  "proposal.created": "Proposal created",
+  "proposal.draft-edited": "Proposal draft edited",
+  "proposal.details-changed": "Proposal details changed",
+  "proposal.submitted": "Proposal submitted for review",
+  "proposal.commented": "Proposal comment",
+  "proposal.changes-requested": "Changes requested",
+  "proposal.approved": "Proposal approved",
+  "proposal.rejected": "Proposal rejected",
+  "proposal.withdrawn": "Proposal withdrawn",
+  "proposal.brought-up-to-date": "Proposal brought up to date",
+  "proposal.applied": "Proposal applied",
   "shared-object.created": "Shared object created",
   "shared-object.updated": "Shared object changed",
   "shared-object.deleted": "Shared object deleted",
@@ -49,6 +63,7 @@ export const AUDIT_TARGET_LABELS: Record<AuditTargetType, string> = {
   invitation: "Invitation",
   membership: "Member",
   user: "Account",
+  proposal: "Proposal",
 };
 
 /** The label of a stored action; a code this version does not know is shown as it is. */
@@ -103,6 +118,7 @@ export function fieldLabel(field: string): string {
 const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => string> = {
   "organisation.created": (c, target) => `Created the organisation ${quoted(c.name, target)}`,
   "organisation.renamed": (c) => `Renamed the organisation${fromTo(c.name)}`,
+  "organisation.change-policy-changed": (c) => `Changed the change policy: ${fieldChanges(c) || "no difference"}`,
   "site.created": (c) => `Added site ${quoted(c.name)}${word(c.customer, "") ? ` for ${word(c.customer)}` : ""}${word(c.location, "") ? ` at ${word(c.location)}` : ""}`,
   "site.updated": (c, target) => `Changed site ${quoted(target)}: ${fieldChanges(c)}`,
   "site.deleted": (c, target) => `Deleted site ${quoted(c.name, target)}`,
@@ -110,6 +126,8 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "device.revised": (c, target) =>
     `Saved r${word(c.revision)} of ${quoted(target)}${word(c.message, "") ? `: ${quoted(c.message)}` : ""} (${plural(listOf(c.changes).length, { one: "change", other: "changes" })})`,
   "device.deleted": (c, target) => `Deleted device ${quoted(c.name, target)} and its revisions (last r${word(c.lastRevision)})`,
+  "device.break-glass-saved": (c, target) => `Saved r${word(c.revision)} of ${quoted(target)} directly, though changes go through proposals (break-glass): ${quoted(c.reason)}`,
+  "device.saved-past-guard": (c, target) => `Saved r${word(c.revision)} of ${quoted(target)} though the lockout guard blocked it: ${quoted(c.reason)}`,
   "finding.dismissed": (c, target) => `Dismissed ${word(c.code)} on ${quoted(c.device, target)} (r${word(c.revision)}) as an accepted risk: ${quoted(c.reason)}`,
   "finding.restored": (c, target) => `Restored ${word(c.code)} on ${quoted(c.device, target)} to the active findings`,
   "finding.dismissal-requested": (c, target) =>
@@ -123,6 +141,18 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "expectation.reordered": (c, target) => `Moved expectation ${quoted(c.id)} on ${quoted(c.device, target)}${fromTo(c.position)}`,
   "expectation.imported": (c, target) =>
     `Imported ${plural(typeof c.count === "number" ? c.count : 0, { one: "expectation", other: "expectations" })} into ${quoted(c.device, target)} (${c.mode === "replace" ? "replacing the list" : "added to the list"})`,
+  "proposal.created": (c, target) => `Proposed ${quoted(c.name, target)} for ${quoted(c.device)} on r${word(c.baseRevision)}`,
+  "proposal.draft-edited": (c, target) => `Edited the draft of ${quoted(target)}: ${word(c.edit)}`,
+  "proposal.details-changed": (c, target) => `Changed the details of ${quoted(target)}${fieldChanges(c) ? `: ${fieldChanges(c)}` : ""}`,
+  "proposal.submitted": (c, target) => `Submitted ${quoted(target)} for review${word(c.acknowledgement, "") ? `, acknowledging the lockout guard: ${quoted(c.acknowledgement)}` : ""}`,
+  "proposal.commented": (c, target) => `Commented on ${word(c.ruleId, "") ? `inbound rule ${word(c.ruleId)} of ` : ""}${quoted(target)}: ${quoted(c.comment)}`,
+  "proposal.changes-requested": (c, target) => `Asked for changes to ${quoted(target)}: ${quoted(c.reason)}`,
+  "proposal.approved": (c, target) =>
+    `Approved ${quoted(target)} (${word(c.approvals)} of ${word(c.required)} needed)${word(c.guardOverride, "") ? `, past the lockout guard: ${quoted(c.guardOverride)}` : ""}`,
+  "proposal.rejected": (c, target) => `Rejected ${quoted(target)}: ${quoted(c.reason)}`,
+  "proposal.withdrawn": (c, target) => `Withdrew ${quoted(c.name, target)}`,
+  "proposal.brought-up-to-date": (c, target) => `Brought ${quoted(target)} up to date${fromTo(c.baseRevision)}${listOf(c.settled).length ? `, settling ${plural(listOf(c.settled).length, { one: "conflict", other: "conflicts" })}` : ""}`,
+  "proposal.applied": (c, target) => `Applied ${quoted(target)} as r${word(c.revision)}${word(c.outsideWindowReason, "") ? `, outside its change window: ${quoted(c.outsideWindowReason)}` : ""}`,
   "shared-object.created": (c, target) => `Created shared ${c.kind === "group" ? "group" : "address object"} ${quoted(target)}: ${valueText(c.items)}`,
   "shared-object.updated": (c, target) => {
     const changed = fieldChanges(c);

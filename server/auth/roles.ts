@@ -28,4 +28,5 @@ export const PAGE_ROLES = {
   auditLog: "reviewer",
   newDevice: "engineer",
   importModel: "engineer",
+  proposeChange: "engineer",
 } as const satisfies Record<string, Role>;

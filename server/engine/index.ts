@@ -106,7 +106,7 @@ export type {
   SeverityCounts,
   UnlistenedPortAction,
 } from "./vocabulary.ts";
-export { diffModels } from "./diff.ts";
+export { diffModels, lockoutGuard } from "./diff.ts";
 export type { ModelDiff, DiffChange, DiffOptions, DiffTransition, LockoutEntry } from "./diff.ts";
 /** The effect of a change for a reviewer (effect.ts), the rule changes behind it, and expectations. */
 export { changeEffect, compareExpectations, DEFAULT_PAGE_SIZE, effectSourcesPage, pageAt, placesWords } from "./effect.ts";

@@ -4,7 +4,6 @@ import { data } from "react-router";
 import { z } from "zod";
 import {
   ACCESS_LEVELS,
-  accountServiceProblem,
   ANY_INTERFACE,
   CUSTOM_SERVICE_KINDS,
   DAYS,
@@ -20,33 +19,26 @@ import {
   type Day,
 } from "../engine/index.ts";
 import {
-  deleteNamed,
-  deleteRule,
-  duplicateRule,
-  insertRule,
-  moveRule,
-  nextRuleId,
-  setOperatorNetworks,
-  setRuleEnabled,
-  updateRule,
-  updateSettings,
-  upsertNamed,
+  applyElementEdit,
+  describeElementEdit,
+  resolveElementEdit,
   fieldMessagesForIssues,
+  type ElementEdit,
   type FormTarget,
   type ModelDocument,
   type SharedLibrary,
 } from "../workspace/index.ts";
 import { namesIn } from "../workspace/name-lists.ts";
-import { Refusal } from "../errors.ts";
 import { fieldErrorsOf, formFailure, type FieldErrors } from "./form.server.ts";
 import { refusalOf, refusedForm } from "./refusals.server.ts";
 import { ElementNameSchema, TimeZoneSchema } from "./schemas.ts";
 
 /**
- * An edit to apply, the toast that announces it, and the element its form edits (so the
- * engine's problems can be shown beside that form's fields).
+ * An edit to apply (data, so a proposal can record it and re-apply it later), the toast that
+ * announces it, and the element its form edits (so the engine's problems can be shown beside
+ * that form's fields). A new device settings form also names the site (not part of the document).
  */
-export type EditPlan = { edit: (document: ModelDocument) => ModelDocument; message: string; target: FormTarget; siteId?: string };
+export type EditPlan = { edit: ElementEdit; message: string; target: FormTarget; siteId?: string };
 export type PlanResult = { ok: true; plan: EditPlan } | { ok: false; errors: FieldErrors };
 
 /** Form values with repeated keys (checkbox groups) joined by new lines. */
@@ -191,84 +183,90 @@ function plan<T>(schema: z.ZodType<T>, values: Record<string, string>, build: (p
   return { ok: true, plan: build(parsed.data) };
 }
 
-const verb = (original: string | null, name: string, label: string) => (original === null ? `Added ${label} ${name}` : original === name ? `Changed ${label} ${name}` : `Renamed ${label} ${original} to ${name}`);
+/** The plan for an edit: its toast says what it does. */
+function planned(edit: ElementEdit, target: FormTarget): EditPlan {
+  return { edit, message: describeElementEdit(edit), target };
+}
 
 /** The edit a posted intent asks for, or the field errors; null for an intent this page does not know. */
 export function planDeviceEdit(intent: string | undefined, values: Record<string, string>): PlanResult | null {
   switch (intent) {
     case "save-interface":
-      return plan(InterfaceForm, values, ({ original, ...item }) => ({ edit: (document) => upsertNamed(document, "interfaces", original, item), message: verb(original, item.name, "interface"), target: { collection: "interfaces", name: item.name } }));
+      return plan(InterfaceForm, values, ({ original, ...item }) => planned({ kind: "upsert", collection: "interfaces", original, item }, { collection: "interfaces", name: item.name }));
     case "delete-interface":
-      return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "interfaces", name), message: `Deleted interface ${name}`, target: { collection: "interfaces", name } }));
+      return plan(ElementName, values, ({ name }) => planned({ kind: "delete", collection: "interfaces", name }, { collection: "interfaces", name }));
     case "save-address":
-      return plan(AddressForm, values, ({ original, ...item }) => ({ edit: (document) => upsertNamed(document, "addresses", original, item), message: verb(original, item.name, "address object"), target: { collection: "addresses", name: item.name } }));
+      return plan(AddressForm, values, ({ original, ...item }) => planned({ kind: "upsert", collection: "addresses", original, item }, { collection: "addresses", name: item.name }));
     case "delete-address":
-      return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "addresses", name), message: `Deleted address object ${name}`, target: { collection: "addresses", name } }));
+      return plan(ElementName, values, ({ name }) => planned({ kind: "delete", collection: "addresses", name }, { collection: "addresses", name }));
     case "save-address-group":
-      return plan(GroupForm, values, ({ original, ...item }) => ({ edit: (document) => upsertNamed(document, "addressGroups", original, item), message: verb(original, item.name, "address group"), target: { collection: "addressGroups", name: item.name } }));
+      return plan(GroupForm, values, ({ original, ...item }) => planned({ kind: "upsert", collection: "addressGroups", original, item }, { collection: "addressGroups", name: item.name }));
     case "delete-address-group":
-      return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "addressGroups", name), message: `Deleted address group ${name}`, target: { collection: "addressGroups", name } }));
+      return plan(ElementName, values, ({ name }) => planned({ kind: "delete", collection: "addressGroups", name }, { collection: "addressGroups", name }));
     case "save-service":
-      return plan(ServiceForm, values, ({ original, ...item }) => ({ edit: (document) => upsertNamed(document, "services", original, item), message: verb(original, item.name, "service"), target: { collection: "services", name: item.name } }));
+      return plan(ServiceForm, values, ({ original, ...item }) => planned({ kind: "upsert", collection: "services", original, item }, { collection: "services", name: item.name }));
     case "delete-service":
-      return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "services", name), message: `Deleted service ${name}`, target: { collection: "services", name } }));
+      return plan(ElementName, values, ({ name }) => planned({ kind: "delete", collection: "services", name }, { collection: "services", name }));
     case "save-service-group":
-      return plan(GroupForm, values, ({ original, ...item }) => ({ edit: (document) => upsertNamed(document, "serviceGroups", original, item), message: verb(original, item.name, "service group"), target: { collection: "serviceGroups", name: item.name } }));
+      return plan(GroupForm, values, ({ original, ...item }) => planned({ kind: "upsert", collection: "serviceGroups", original, item }, { collection: "serviceGroups", name: item.name }));
     case "delete-service-group":
-      return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "serviceGroups", name), message: `Deleted service group ${name}`, target: { collection: "serviceGroups", name } }));
+      return plan(ElementName, values, ({ name }) => planned({ kind: "delete", collection: "serviceGroups", name }, { collection: "serviceGroups", name }));
     case "save-schedule":
-      return plan(ScheduleForm, values, ({ original, ...item }) => ({ edit: (document) => upsertNamed(document, "schedules", original, item), message: verb(original, item.name, "schedule"), target: { collection: "schedules", name: item.name } }));
+      return plan(ScheduleForm, values, ({ original, ...item }) => planned({ kind: "upsert", collection: "schedules", original, item }, { collection: "schedules", name: item.name }));
     case "delete-schedule":
-      return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "schedules", name), message: `Deleted schedule ${name}`, target: { collection: "schedules", name } }));
+      return plan(ElementName, values, ({ name }) => planned({ kind: "delete", collection: "schedules", name }, { collection: "schedules", name }));
     case "save-account":
-      return plan(AccountForm, values, ({ original, ...item }) => ({
-        edit: (document) => {
-          // PRODUCT.md §3: login services only. The engine refuses the rest too; checked here so the message sits beside the field.
-          const problems = item.services.map((name) => accountServiceProblem(name, document)).filter((problem) => problem !== null);
-          if (problems.length > 0) throw new Refusal(`Not saved: ${problems.join("; ")}.`, 400, { field: "services" });
-          return upsertNamed(document, "accounts", original, item);
-        },
-        message: verb(original, item.name, "account"),
-        target: { collection: "accounts", name: item.name },
-      }));
+      // PRODUCT.md §3: login services only; applyElementEdit refuses the rest beside the services field.
+      return plan(AccountForm, values, ({ original, ...item }) => planned({ kind: "upsert", collection: "accounts", original, item }, { collection: "accounts", name: item.name }));
     case "delete-account":
-      return plan(ElementName, values, ({ name }) => ({ edit: (document) => deleteNamed(document, "accounts", name), message: `Deleted account ${name}`, target: { collection: "accounts", name } }));
+      return plan(ElementName, values, ({ name }) => planned({ kind: "delete", collection: "accounts", name }, { collection: "accounts", name }));
     case "save-rule":
       return plan(RuleForm, values, ({ original, position, ...fields }) => {
-        // An empty id is chosen when the edit runs; the target learns it then.
-        const target = { collection: "inboundRules" as const, name: fields.id || (original ?? "") };
-        return {
-          edit: (document) => {
-            const rule = { ...fields, id: fields.id || (original ?? nextRuleId(document)) };
-            target.name = rule.id;
-            if (original === null) return insertRule(document, rule, position);
-            const updated = updateRule(document, original, rule);
-            return position === undefined ? updated : moveRule(updated, rule.id, position);
-          },
-          message: original === null ? `Added inbound rule${fields.id ? ` ${fields.id}` : ""}` : `Changed inbound rule ${original}`,
-          target,
-        };
+        // An empty id on a new rule is chosen when the edit is applied; the target learns it then (PlannedAttempt).
+        if (original === null) return planned({ kind: "rule.insert", rule: fields, position }, { collection: "inboundRules", name: fields.id });
+        const rule = { ...fields, id: fields.id || original };
+        return planned({ kind: "rule.update", ruleId: original, rule, position }, { collection: "inboundRules", name: rule.id });
       });
     case "move-rule":
-      return plan(MoveForm, values, ({ ruleId, to }) => ({ edit: (document) => moveRule(document, ruleId, to), message: `Moved inbound rule ${ruleId} to position ${to}`, target: { collection: "inboundRules", name: ruleId } }));
+      return plan(MoveForm, values, ({ ruleId, to }) => planned({ kind: "rule.move", ruleId, to }, { collection: "inboundRules", name: ruleId }));
     case "duplicate-rule":
-      return plan(RuleId, values, ({ ruleId }) => ({ edit: (document) => duplicateRule(document, ruleId), message: `Duplicated inbound rule ${ruleId}`, target: { collection: "inboundRules", name: ruleId } }));
+      return plan(RuleId, values, ({ ruleId }) => planned({ kind: "rule.duplicate", ruleId }, { collection: "inboundRules", name: ruleId }));
     case "enable-rule":
     case "disable-rule":
-      return plan(RuleId, values, ({ ruleId }) => ({
-        edit: (document) => setRuleEnabled(document, ruleId, intent === "enable-rule"),
-        message: `${intent === "enable-rule" ? "Enabled" : "Disabled"} inbound rule ${ruleId}`,
-        target: { collection: "inboundRules", name: ruleId },
-      }));
+      return plan(RuleId, values, ({ ruleId }) => planned({ kind: "rule.enable", ruleId, enabled: intent === "enable-rule" }, { collection: "inboundRules", name: ruleId }));
     case "delete-rule":
-      return plan(RuleId, values, ({ ruleId }) => ({ edit: (document) => deleteRule(document, ruleId), message: `Deleted inbound rule ${ruleId}`, target: { collection: "inboundRules", name: ruleId } }));
+      return plan(RuleId, values, ({ ruleId }) => planned({ kind: "rule.delete", ruleId }, { collection: "inboundRules", name: ruleId }));
     case "save-operator-networks":
-      return plan(z.object({ operatorNetworks: NAME_LIST }), values, ({ operatorNetworks }) => ({ edit: (document) => setOperatorNetworks(document, operatorNetworks), message: "Changed operator networks", target: { collection: "operatorNetworks" } }));
+      return plan(z.object({ operatorNetworks: NAME_LIST }), values, ({ operatorNetworks }) => planned({ kind: "operator-networks", names: operatorNetworks }, { collection: "operatorNetworks" }));
     case "save-settings":
-      return plan(SettingsForm, values, ({ siteId, ...device }) => ({ edit: (document) => updateSettings(document, device), message: "Changed device settings", target: { collection: "device" }, siteId }));
+      return plan(SettingsForm, values, ({ siteId, ...device }) => ({ ...planned({ kind: "settings", device }, { collection: "device" }), siteId }));
     default:
       return null;
   }
+}
+
+/**
+ * One try of a plan on a document: the edit with its choices made (a new rule's id), the
+ * document the engine is about to check and the element the form edited, kept so the engine's
+ * problems can be put beside that form's fields.
+ */
+export class PlannedAttempt {
+  candidate: ModelDocument | undefined;
+  resolved: ElementEdit;
+  target: FormTarget;
+
+  constructor(readonly plan: EditPlan) {
+    this.resolved = plan.edit;
+    this.target = plan.target;
+  }
+
+  /** The edited document (what saveEdit and a draft edit call with the document they hold). */
+  readonly apply = (document: ModelDocument): ModelDocument => {
+    this.resolved = resolveElementEdit(document, this.plan.edit);
+    if (this.resolved.kind === "rule.insert") this.target = { collection: "inboundRules", name: this.resolved.rule.id };
+    this.candidate = applyElementEdit(document, this.resolved);
+    return this.candidate;
+  };
 }
 
 /**
@@ -276,9 +274,9 @@ export function planDeviceEdit(intent: string | undefined, values: Record<string
  * beside the fields of the form that made it (document paths stay in the CLI and the API);
  * any other refusal is answered as every form answers it. What the user typed is kept.
  */
-export async function refusedDeviceEdit(error: unknown, values: Record<string, string>, attempt: { plan: EditPlan; candidate: ModelDocument | undefined; library: () => Promise<SharedLibrary> }) {
+export async function refusedDeviceEdit(error: unknown, values: Record<string, string>, attempt: PlannedAttempt, library: () => Promise<SharedLibrary>) {
   const refusal = refusalOf(error);
   if (refusal.issues.length === 0 || attempt.candidate === undefined) return refusedForm(refusal, values);
-  const errors = fieldMessagesForIssues(refusal.issues, attempt.candidate, await attempt.library(), attempt.plan.target);
+  const errors = fieldMessagesForIssues(refusal.issues, attempt.candidate, await library(), attempt.target);
   return data(formFailure(errors, values, { issues: refusal.issues }), { status: refusal.status, headers: refusal.headers });
 }

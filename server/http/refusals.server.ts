@@ -21,7 +21,7 @@ export function refusedForm(error: unknown, values: Record<string, string>) {
   const refusal = refusalOf(error);
   const errors: FieldErrors = { form: refusal.message };
   if (refusal.field) errors[refusal.field] = refusal.message;
-  return data(formFailure(errors, values, { issues: refusal.issues, conflict: refusal.conflict ?? null }), { status: refusal.status, headers: refusal.headers });
+  return data(formFailure(errors, values, { issues: refusal.issues, conflict: refusal.conflict ?? null, reasons: refusal.reasons }), { status: refusal.status, headers: refusal.headers });
 }
 
 /** The same, for an action that answers in its own shape. */
@@ -30,8 +30,22 @@ export function refusedWith<Body>(error: unknown, bodyOf: (refusal: Refusal) => 
   return data(bodyOf(refusal), { status: refusal.status, headers: refusal.headers });
 }
 
-/** The response for a refused API request: `{"error": message}` with the refusal's status. */
+/** The response for a refused API request: `{"error": message}` with the refusal's status (and its issues, conflict or reasons when it has them). */
 export function refusedJson(error: unknown): Response {
   const refusal = refusalOf(error);
-  return Response.json({ error: refusal.message, ...(refusal.issues.length ? { issues: refusal.issues } : {}) }, { status: refusal.status, headers: refusal.headers });
+  return Response.json(
+    {
+      error: refusal.message,
+      ...(refusal.issues.length ? { issues: refusal.issues } : {}),
+      ...(refusal.conflict ? { conflict: refusal.conflict } : {}),
+      ...(refusal.reasons.length ? { reasons: refusal.reasons } : {}),
+    },
+    { status: refusal.status, headers: refusal.headers },
+  );
+}
+
+/** For a loader: a refusal becomes the page's error response (shown in its frame), anything else stays the bug it is. */
+export function refusedPage(error: unknown): never {
+  const refusal = refusalOf(error);
+  throw data({ message: refusal.message }, { status: refusal.status, headers: refusal.headers });
 }

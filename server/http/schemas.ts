@@ -92,3 +92,71 @@ export const ChangePasswordSchema = z.object({
   currentPassword: z.string().min(1, "Enter your current password.").max(PASSWORD_MAX_LENGTH * 4, "That password is far too long."),
   newPassword: PasswordInputSchema,
 });
+
+// ---------------------------------------------------------------------------------------------
+// Change proposals (docs/decisions/010). The window's two times are wall-clock times in the
+// device's zone ("2026-12-08T22:00", as a datetime-local field sends them); the route turns
+// them into instants with the device's zone (server/proposals/change-window.ts).
+
+/** A written reason where one is asked for: an override, an acknowledgement, applying outside the window. */
+const WrittenReason = z.string().trim().max(2000, "Use at most 2,000 characters.");
+
+export const ProposalDetailsSchema = z.object({
+  title: z.string().trim().min(3, "Give the change a title of at least 3 characters; it becomes the revision's message.").max(200, "Use at most 200 characters."),
+  reason: z.string().trim().max(4000, "Use at most 4,000 characters.").default(""),
+  ticket: z.string().trim().max(100, "Use at most 100 characters.").default(""),
+  windowStart: z.string().trim().min(1, "Enter when the change window starts."),
+  windowEnd: z.string().trim().min(1, "Enter when the change window ends."),
+  workFrom: z
+    .string()
+    .trim()
+    .max(64)
+    .default("")
+    .refine((text) => text === "" || z.union([z.ipv4(), z.ipv6()]).safeParse(text).success, "Enter one IPv4 or IPv6 address, like 192.0.2.10 or 2001:db8::10 — or leave it empty."),
+});
+
+export const PROPOSAL_STEPS = ["submit", "comment", "approve", "request-changes", "reject", "withdraw", "bring-up-to-date", "apply"] as const;
+export type ProposalStep = (typeof PROPOSAL_STEPS)[number];
+
+export function isProposalStep(value: unknown): value is ProposalStep {
+  return typeof value === "string" && (PROPOSAL_STEPS as readonly string[]).includes(value);
+}
+
+/** What each step of a proposal takes; the same whether it comes as a form or as JSON. */
+export const ProposalStepSchemas = {
+  submit: z.object({ acknowledgement: WrittenReason.default("") }),
+  comment: z.object({
+    body: z.string().trim().min(1, "Write the comment.").max(4000, "Use at most 4,000 characters."),
+    ruleId: z
+      .string()
+      .trim()
+      .max(63)
+      .default("")
+      .transform((value) => (value === "" ? null : value)),
+  }),
+  approve: z.object({ reason: WrittenReason.default(""), guardOverride: WrittenReason.default("") }),
+  "request-changes": z.object({ reason: WrittenReason.pipe(z.string().min(3, "Say what should change, so the author knows.")) }),
+  reject: z.object({ reason: WrittenReason.pipe(z.string().min(3, "Say why it is rejected, so the author knows.")) }),
+  withdraw: z.object({}),
+  "bring-up-to-date": z.object({
+    draftVersion: z.coerce.number().int().min(1),
+    choices: z.record(z.string().max(200), z.enum(["draft", "live"], { message: "Choose the draft's change or the live one." })).default({}),
+  }),
+  apply: z.object({ outsideWindowReason: WrittenReason.default("") }),
+} satisfies Record<ProposalStep, z.ZodType>;
+
+/** A proposal made from a whole document over the API: the window as ISO 8601 instants with an offset. */
+export const ProposalDocumentSchema = ProposalDetailsSchema.omit({ windowStart: true, windowEnd: true }).extend({
+  windowStart: z.iso.datetime({ offset: true, message: "Give the window's start as an ISO 8601 instant with an offset, like 2026-12-08T21:00:00Z." }),
+  windowEnd: z.iso.datetime({ offset: true, message: "Give the window's end as an ISO 8601 instant with an offset, like 2026-12-08T22:30:00Z." }),
+  document: z.unknown().refine((value) => typeof value === "object" && value !== null, "Send the model document (schemaVersion 2) as a JSON object."),
+});
+
+/** The organisation's change policy (settings page, admins). */
+export const ChangePolicySchema = z.object({
+  approvalsRequired: z.coerce.number({ message: "Choose how many approvals." }).int("Choose a whole number.").min(1, "At least one approval.").max(5, "At most five approvals."),
+  changesThroughProposals: z
+    .string()
+    .optional()
+    .transform((value) => value === "on" || value === "true"),
+});

@@ -1,7 +1,9 @@
 import nodemailer, { type Transporter } from "nodemailer";
 import { getEnvironment } from "../config.server.ts";
 
-export type OutgoingMail = { to: string; subject: string; text: string; html: string };
+/** A file sent with a message, e.g. a change window as an iCalendar event (text/calendar, RFC 5545). */
+export type MailAttachment = { filename: string; content: string; contentType: string };
+export type OutgoingMail = { to: string; subject: string; text: string; html: string; attachments?: MailAttachment[] };
 
 let transporter: Transporter | undefined;
 

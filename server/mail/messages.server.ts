@@ -1,6 +1,6 @@
 import type { Role } from "../auth/roles.ts";
 import { formatDuration } from "../engine/format.ts";
-import { sendMail } from "./mailer.server.ts";
+import { sendMail, type OutgoingMail } from "./mailer.server.ts";
 
 function escapeHtml(value: string): string {
   return value.replace(/[&<>"']/g, (character) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[character]!);
@@ -63,4 +63,19 @@ export async function sendEmailChangedNotice(input: { to: string; name: string; 
     "If you did not make this change, ask your organisation's administrator for help at once.",
   ];
   await sendMail({ to: input.to, subject: "Your Sallyport e-mail address was changed", text: `${paragraphs.join("\n\n")}\n`, html: layout(paragraphs) });
+}
+
+/**
+ * A message about a change proposal (submitted, commented on, approved, applied …): the
+ * paragraphs, a button to the proposal, and, with an approval, its change window as an
+ * iCalendar event (RFC 5545) to put in a calendar. Composed here, sent by the caller.
+ */
+export function proposalMail(input: { to: string; subject: string; paragraphs: string[]; link: string; calendar?: string }): OutgoingMail {
+  return {
+    to: input.to,
+    subject: input.subject,
+    text: `${input.paragraphs.join("\n\n")}\n\nOpen the proposal: ${input.link}\n`,
+    html: layout(input.paragraphs, { href: input.link, label: "Open the proposal" }),
+    ...(input.calendar ? { attachments: [{ filename: "change-window.ics", content: input.calendar, contentType: "text/calendar; charset=utf-8; method=PUBLISH" }] } : {}),
+  };
 }

@@ -4,6 +4,7 @@ import { Device, DeviceRevision, SharedAddressObject, Site, type RevisionSummary
 import { deviceRevisions, type DeviceAtRevision, type FleetSummary } from "../devices/index.ts";
 import { revisionAnalysisQueue } from "../jobs/revision-analysis.server.ts";
 import type { ValidationIssue } from "../engine/index.ts";
+import type { AuditAction } from "#models/audit-actions.ts";
 import { Refusal } from "../errors.ts";
 import { countElements, diffDocuments, effectiveDocument, validateDocument, type DocumentChange, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
@@ -186,9 +187,19 @@ export async function writeRevision(
   return { number, revisionId: revision.id };
 }
 
+/** What a save guard asks to record beside the revision it let through (an override, say). */
+export type SaveGuardNote = { action: AuditAction; changes: Record<string, unknown> };
+
+/**
+ * Judges a direct save inside its transaction, on the exact documents that will be saved:
+ * refuses by throwing a Refusal, or lets it through, with a note for the audit log or none.
+ */
+export type SaveGuard = (current: DeviceAtRevision, validated: { document: ModelDocument; shared: SharedLibrary; effective: ModelDocument }) => SaveGuardNote | null;
+
 /**
  * Applies an edit to the current document and saves the result as a new revision — only if
- * the user's view was the current revision (optimistic concurrency: never a silent overwrite).
+ * the user's view was the current revision (optimistic concurrency: never a silent overwrite),
+ * and only if the guard (when given) lets it through.
  */
 export async function saveEdit(
   organisationId: string,
@@ -197,8 +208,8 @@ export async function saveEdit(
   edit: (document: ModelDocument) => unknown,
   actor: AuditActor,
   message: string,
-  options: { siteId?: string } = {},
-): Promise<{ number: number; changes: DocumentChange[] }> {
+  options: { siteId?: string; guard?: SaveGuard } = {},
+): Promise<{ number: number; changes: DocumentChange[]; note: SaveGuardNote | null }> {
   if (options.siteId) await assertSiteOfOrganisation(organisationId, options.siteId);
   try {
     const result = await getDatabase().transaction(async (transaction) => {
@@ -216,12 +227,14 @@ export async function saveEdit(
       const validated = validateDocument(edit(current.document), library);
       if (!validated.ok) throw invalidModel(validated.errors);
       const changes = diffDocuments(current.effective, validated.effective);
-      if (changes.length === 0 && !options.siteId) return { number: currentNumber, changes, saved: null };
+      if (changes.length === 0 && !options.siteId) return { number: currentNumber, changes, saved: null, note: null };
+      const note = options.guard ? options.guard(current, validated) : null;
       const saved = await writeRevision(organisationId, current, validated, changes, actor, message, transaction, { siteId: options.siteId });
-      return { number: saved.number, changes, saved };
+      if (note) await recordAuditEvent(actor, { organisationId, action: note.action, targetType: "device", targetId: deviceId, changes: { revision: saved.number, message, ...note.changes } }, transaction);
+      return { number: saved.number, changes, saved, note };
     });
     if (result.saved) revisionAnalysisQueue.enqueue(result.saved.revisionId);
-    return { number: result.number, changes: result.changes };
+    return { number: result.number, changes: result.changes, note: result.note };
   } catch (error) {
     if (error instanceof UniqueConstraintError) throw new Refusal("Another device of this organisation already has that name.", 409, { field: "name" });
     throw error;

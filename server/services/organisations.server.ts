@@ -83,3 +83,26 @@ export async function renameOrganisation(organisation: Organisation, name: strin
   await organisation.update({ name });
   await recordAuditEvent(actor, { organisationId: organisation.id, action: "organisation.renamed", targetType: "organisation", targetId: organisation.id, changes: { name: { from: before, to: name } } });
 }
+
+/** The organisation's change policy: approvals a proposal needs, and whether changes must go through proposals. */
+export type ChangePolicy = { approvalsRequired: number; changesThroughProposals: boolean };
+
+export async function updateChangePolicy(organisation: Organisation, policy: ChangePolicy, actor: AuditActor): Promise<boolean> {
+  const before: ChangePolicy = { approvalsRequired: organisation.approvalsRequired, changesThroughProposals: organisation.changesThroughProposals };
+  if (before.approvalsRequired === policy.approvalsRequired && before.changesThroughProposals === policy.changesThroughProposals) return false;
+  await getDatabase().transaction(async (transaction) => {
+    await organisation.update(policy, { transaction });
+    await recordAuditEvent(
+      actor,
+      {
+        organisationId: organisation.id,
+        action: "organisation.change-policy-changed",
+        targetType: "organisation",
+        targetId: organisation.id,
+        changes: { approvalsRequired: { from: before.approvalsRequired, to: policy.approvalsRequired }, changesThroughProposals: { from: before.changesThroughProposals, to: policy.changesThroughProposals } },
+      },
+      transaction,
+    );
+  });
+  return true;
+}

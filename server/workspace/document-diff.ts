@@ -27,12 +27,22 @@ function show(value: unknown): string {
   return JSON.stringify(value);
 }
 
+/**
+ * JSON text with every object's keys in order: equal for equal values, whatever order the keys
+ * came in (PostgreSQL's jsonb hands objects back with its own key order).
+ */
+export function canonicalJson(value: unknown): string {
+  return JSON.stringify(value, (_key, item: unknown) =>
+    item !== null && typeof item === "object" && !Array.isArray(item) ? Object.fromEntries(Object.entries(item).sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0))) : item,
+  );
+}
+
 function fieldChanges(before: object, after: object, skip: string[] = []): string[] {
   const beforeFields = new Map<string, unknown>(Object.entries(before));
   const afterFields = new Map<string, unknown>(Object.entries(after));
   const keys = [...new Set([...beforeFields.keys(), ...afterFields.keys()])].filter((key) => !skip.includes(key));
   return keys
-    .filter((key) => JSON.stringify(beforeFields.get(key)) !== JSON.stringify(afterFields.get(key)))
+    .filter((key) => canonicalJson(beforeFields.get(key)) !== canonicalJson(afterFields.get(key)))
     .map((key) => `${key}: ${show(beforeFields.get(key))} → ${show(afterFields.get(key))}`);
 }
 
@@ -90,7 +100,7 @@ export function diffDocuments(before: ModelDocument, after: ModelDocument): Docu
   }
   for (const id of beforeRules.keys()) if (!afterRules.has(id)) changes.push({ section: "Inbound rules", change: "removed", element: id, details: [] });
 
-  if (JSON.stringify(before.operatorNetworks) !== JSON.stringify(after.operatorNetworks)) {
+  if (canonicalJson(before.operatorNetworks) !== canonicalJson(after.operatorNetworks)) {
     changes.push({ section: "Operator networks", change: "changed", element: "operator networks", details: [`${show(before.operatorNetworks)} → ${show(after.operatorNetworks)}`] });
   }
   return changes;

@@ -19,7 +19,22 @@ export {
 export type { NamedCollection } from "./edits.ts";
 export { findUsages, renameReferences } from "./references.ts";
 export type { ReferenceKind, Usage } from "./references.ts";
-export { diffDocuments } from "./document-diff.ts";
+export { canonicalJson, diffDocuments } from "./document-diff.ts";
+export {
+  applyElementEdit,
+  applyElementEdits,
+  describeElementEdit,
+  editsBetween,
+  ElementEditSchema,
+  elementKeyWords,
+  elementsChangedIn,
+  elementsTouchedBy,
+  OPERATOR_NETWORKS_KEY,
+  parseElementEdits,
+  resolveElementEdit,
+  SETTINGS_KEY,
+} from "./element-edits.ts";
+export type { ElementEdit, ElementEditKind, ElementKey } from "./element-edits.ts";
 export type { DocumentChange } from "./document-diff.ts";
 export { countElements, summariseDocument } from "./summary.ts";
 export type { RevisionSummary } from "./summary.ts";

@@ -3,10 +3,11 @@ import path from "node:path";
 import type { Page } from "@playwright/test";
 import { ROLES, type Role } from "#models/roles";
 import { hasAtLeastRole, PAGE_ROLES } from "#server/auth/roles";
+import { deviceNavGroups } from "#app/components/device/device-nav";
 import { DEVICE_SECTIONS } from "#app/components/device/sections";
 import { expect, test } from "./fixtures";
 import { hydrated, seriousAccessibilityViolations } from "./helpers";
-import { createTeam, type Team } from "./team";
+import { createProposal, createTeam, type Team } from "./team";
 
 // Every page of the app, as every role of an organisation of the tests' own, at a laptop's
 // 1366 px and a phone's 390 px, in light and dark: the shell never scrolls sideways, axe finds
@@ -42,10 +43,13 @@ const GATED: Array<{ path: string; role: Role }> = [
   { path: "settings/audit", role: PAGE_ROLES.auditLog },
 ];
 
+/** The device navigation's pages, counted from its own groups. */
+const DEVICE_PAGE_COUNT = deviceNavGroups("").flatMap((group) => group.tabs).length;
+
 function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } {
   const organisation = `/o/${team.slug}`;
   const device = team.device.path;
-  const everyone = ["devices", "sites", "findings", "training", "settings/members", "settings/shared-objects", "settings/organisation"].map((page) => `${organisation}/${page}`);
+  const everyone = ["devices", "sites", "findings", "changes", "training", "settings/members", "settings/shared-objects", "settings/organisation"].map((page) => `${organisation}/${page}`);
   const devicePages = [
     device,
     `${device}/analysis?from=203.0.113.50&interface=outside&service=https`,
@@ -53,9 +57,12 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
     `${device}/exposure?interface=outside&service=https`,
     `${device}/expectations`,
     `${device}/history`,
+    `${device}/proposals`,
+    proposalPath,
+    `${proposalPath}/draft/rules`,
     ...DEVICE_SECTIONS.map((section) => `${device}/model/${section}`),
   ];
-  const gated = GATED.map((page) => ({ ...page, path: `${organisation}/${page.path}` }));
+  const gated = [...GATED.map((page) => ({ ...page, path: `${organisation}/${page.path}` })), { path: `${device}/proposals/new`, role: PAGE_ROLES.proposeChange }];
   return {
     open: [...everyone, ...gated.filter((page) => hasAtLeastRole(role, page.role)).map((page) => page.path), "/account", ...devicePages],
     refused: gated.filter((page) => !hasAtLeastRole(role, page.role)).map((page) => page.path),
@@ -77,22 +84,22 @@ async function sidewaysOverflow(page: Page): Promise<number> {
 }
 
 /**
- * On a device page at 1366 px, every one of the device's 14 pages is linked inside the device
+ * On a device page at 1366 px, every one of the device's pages is linked inside the device
  * navigation's box (none cut off or pushed out of view), and exactly one is marked current.
  */
 async function deviceNavigationProblems(page: Page): Promise<string[]> {
-  return page.getByRole("navigation", { name: "Device" }).evaluate((nav) => {
+  return page.getByRole("navigation", { name: "Device" }).evaluate((nav, expected) => {
     const box = nav.getBoundingClientRect();
     const links = [...nav.querySelectorAll("a")];
     const problems = links.filter((link) => {
       const own = link.getBoundingClientRect();
       return own.width === 0 || own.left < box.left || own.right > box.right || own.right > window.innerWidth;
     }).map((link) => `device page "${link.textContent}" is cut off or out of view`);
-    if (links.length !== 14) problems.push(`the device navigation has ${links.length} pages, not 14`);
+    if (links.length !== expected) problems.push(`the device navigation has ${links.length} pages, not ${expected}`);
     const current = links.filter((link) => link.getAttribute("aria-current") === "page");
     if (current.length !== 1) problems.push(`${current.length} device pages are marked current`);
     return problems;
-  });
+  }, DEVICE_PAGE_COUNT);
 }
 
 /** Same-origin link paths on the page, except downloads. */
@@ -104,10 +111,13 @@ async function linkPaths(page: Page): Promise<string[]> {
 test.use({ trace: "off" });
 
 let team: Team;
+/** A proposal of the team's engineer, in review: its page and its draft's editor are swept too. */
+let proposalPath = "";
 test.beforeAll(async ({ playwright }, testInfo) => {
   const baseURL = testInfo.project.use.baseURL;
   if (!baseURL) throw new Error("no baseURL in playwright.config.ts");
   team = await createTeam(playwright.request, baseURL, "sweep");
+  proposalPath = await createProposal(playwright.request, baseURL, team);
 });
 
 for (const role of ROLES) {

@@ -73,3 +73,32 @@ export async function createTeam(request: APIRequest, baseURL: string, label: st
   await owner.dispose();
   return { slug, name, members, device: { id: deviceId, name: "hl-edge-1", path: `/o/${slug}/devices/${deviceId}` } };
 }
+
+/**
+ * A proposal by the team's engineer on its device, with one draft edit (the ping deny above
+ * the rest), submitted for review; returns the proposal's path.
+ */
+export async function createProposal(request: APIRequest, baseURL: string, team: Team): Promise<string> {
+  const engineer = await request.newContext({ baseURL, extraHTTPHeaders: { Origin: baseURL }, storageState: team.members.engineer.storageState });
+  const day = 86_400_000;
+  // Wall-clock times in the device's zone, as a datetime-local field sends them: tomorrow at
+  // 18:00–20:00 (never in the hour the clocks skip, which is at night).
+  const local = (at: Date) => at.toISOString().slice(0, 16);
+  const start = new Date(Date.now() + day);
+  start.setUTCHours(18, 0, 0, 0);
+  const path = await expectRedirect(
+    await engineer.post(`${team.device.path}/proposals/new`, {
+      form: { intent: "create", title: "Pause the scanner block for the audit", reason: "The auditors scan from the blocklisted range this week.", ticket: "CHG-1042", windowStart: local(start), windowEnd: local(new Date(start.getTime() + 2 * 3_600_000)), workFrom: "" },
+      maxRedirects: 0,
+    }),
+    "propose a change",
+  );
+  const rules = await engineer.get(`${path}/draft/rules`);
+  const firstRule = /name="ruleId" value="([^"]+)"/.exec(await rules.text())?.[1];
+  if (!firstRule) throw new Error("the draft's rules page lists no rule");
+  await expectRedirect(await engineer.post(`${path}/draft/rules`, { form: { intent: "disable-rule", ruleId: firstRule, baseRevision: "1" }, maxRedirects: 0 }), "draft edit");
+  const submitted = await engineer.post(`${path}/submit`, { data: {} });
+  if (submitted.status() !== 200) throw new Error(`submit: ${submitted.status()} ${(await submitted.text()).slice(0, 300)}`);
+  await engineer.dispose();
+  return path;
+}

@@ -30,6 +30,12 @@ function formBody(fields: Fields): URLSearchParams {
   return body;
 }
 
+/**
+ * For a save the lockout guard blocks (docs/decisions/010): these owners mean the change and
+ * save it anyway, with a written reason, as an admin or owner may.
+ */
+const PAST_THE_GUARD = { overrideReason: "Editor test: the lockout is intended here." };
+
 /** A signed-up owner with their own organisation and one site. */
 async function newOrganisationWithSite(label: string): Promise<{ client: TestClient; slug: string; siteId: string }> {
   const { client, slug } = await signUpNewOrganisation(label);
@@ -226,7 +232,7 @@ describe("Building a device model through the editor", () => {
     ]);
 
     // Deletes, each once nothing uses the element any more.
-    await device.save("rules", { intent: "delete-rule", ruleId: "r1" });
+    await device.save("rules", { intent: "delete-rule", ruleId: "r1", ...PAST_THE_GUARD });
     await device.save("services", { intent: "delete-service-group", name: "admin-web" });
     await device.save("accounts", { intent: "delete-account", name: "ops-lena" });
     await device.save("services", { intent: "delete-service", name: "console-alt" });
@@ -274,7 +280,7 @@ describe("Inbound rule order", () => {
     expect(await order(1)).toEqual(["r1", "r2", "r3", "r4"]);
 
     // Common practice, no source: rules are read top to bottom, first match wins — order is meaning.
-    expect(await device.save("rules", { intent: "move-rule", ruleId: "r4", to: "1" })).toBe(2);
+    expect(await device.save("rules", { intent: "move-rule", ruleId: "r4", to: "1", ...PAST_THE_GUARD })).toBe(2);
     expect(await order(2)).toEqual(["r4", "r1", "r2", "r3"]);
     expect(await device.save("rules", { intent: "move-rule", ruleId: "r4", to: "4" })).toBe(3);
     expect(await order(3)).toEqual(["r1", "r2", "r3", "r4"]);
@@ -474,7 +480,7 @@ describe("Refused forms say each problem beside its field and keep what was type
     const refused = await device.edit("accounts", { intent: "save-account", original: "ops-lena", name: "ops-lena", loginSources: "vpn-pol\n192.0.2.0/28", secondFactor: "totp", accessLevel: "full", enabled: "on" });
     expect(refused.status).toBe(400);
     expect(fieldError(refused.text, "Login sources")).toBe("No address object or group is named “vpn-pol”. Did you mean “vpn-pool”?");
-    await device.save("accounts", { intent: "save-account", original: "ops-lena", name: "ops-lena", loginSources: ["vpn-pool", "192.0.2.0/28"], secondFactor: "totp", accessLevel: "full", enabled: "on" });
+    await device.save("accounts", { intent: "save-account", original: "ops-lena", name: "ops-lena", loginSources: ["vpn-pool", "192.0.2.0/28"], secondFactor: "totp", accessLevel: "full", enabled: "on", ...PAST_THE_GUARD });
     expect((await device.exported(2)).accounts[0].loginSources).toEqual(["vpn-pool", "192.0.2.0/28"]);
   });
 });

@@ -28,3 +28,26 @@ export async function waitForLink(directory: string, to: string, pattern: RegExp
   }
   throw new Error(`no e-mail to ${to} with a link matching ${pattern} within ${timeoutMs} ms`);
 }
+
+export type CaughtMailWithFiles = CaughtMail & { attachments: Array<{ filename: string; contentType: string; content: string }> };
+
+/** Waits for the newest message to an address whose subject matches, with its attachments as text. */
+export async function waitForMail(directory: string, to: string, subject: RegExp, timeoutMs = 10_000): Promise<CaughtMailWithFiles> {
+  const deadline = Date.now() + timeoutMs;
+  while (Date.now() < deadline) {
+    const names = (await readdir(directory).catch(() => [] as string[])).filter((name) => name.endsWith(".eml")).sort().reverse();
+    for (const name of names) {
+      const parsed = await simpleParser(await readFile(path.join(directory, name)));
+      const recipients = Array.isArray(parsed.to) ? parsed.to.map((address) => address.text).join(", ") : (parsed.to?.text ?? "");
+      if (!recipients.includes(to) || !subject.test(parsed.subject ?? "")) continue;
+      return {
+        to: recipients,
+        subject: parsed.subject ?? "",
+        text: parsed.text ?? "",
+        attachments: parsed.attachments.map((file) => ({ filename: file.filename ?? "", contentType: file.contentType, content: file.content.toString("utf8") })),
+      };
+    }
+    await new Promise((resolve) => setTimeout(resolve, 100));
+  }
+  throw new Error(`no e-mail to ${to} with a subject matching ${subject} within ${timeoutMs} ms`);
+}

@@ -30,8 +30,8 @@ describe("Audit words", () => {
   });
 
   test("A stored action this version does not know still reads, with its values", () => {
-    expect(auditActionLabel("proposal.approved")).toBe("proposal.approved");
-    expect(auditSentence({ action: "proposal.approved", targetName: null, changes: { lastRevision: 4 } })).toBe("proposal.approved a deleted item (last revision: 4)");
+    expect(auditActionLabel("drill.scored")).toBe("drill.scored");
+    expect(auditSentence({ action: "drill.scored", targetName: null, changes: { lastRevision: 4 } })).toBe("drill.scored a deleted item (last revision: 4)");
   });
 
   test("Recorded values become readable lines", () => {

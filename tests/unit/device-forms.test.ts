@@ -4,7 +4,7 @@
 import { describe, expect, test } from "vitest";
 import { Refusal } from "#server/errors.ts";
 import { planDeviceEdit } from "#server/http/device-forms.server.ts";
-import { EMPTY_LIBRARY, validateDocument, type ModelDocument } from "#server/workspace/index.ts";
+import { applyElementEdit, EMPTY_LIBRARY, validateDocument, type ModelDocument } from "#server/workspace/index.ts";
 
 /** Invented scenario: a harbour office's edge appliance; RFC 5737 outside, RFC 1918 inside. */
 function document(): ModelDocument {
@@ -30,7 +30,8 @@ function document(): ModelDocument {
 function saveAccount(services: string): (document: ModelDocument) => ModelDocument {
   const planned = planDeviceEdit("save-account", { original: "ops-lena", name: "ops-lena", loginSources: "noc-net", secondFactor: "totp", services, accessLevel: "full", enabled: "on" });
   if (!planned?.ok) throw new Error("the form itself should be valid");
-  return planned.plan.edit;
+  const edit = planned.plan.edit;
+  return (document) => applyElementEdit(document, edit);
 }
 
 describe("The account form names login services only (PRODUCT.md §3)", () => {

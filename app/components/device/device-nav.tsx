@@ -24,7 +24,14 @@ export function deviceNavGroups(base: string): Group[] {
         { to: `${base}/expectations`, label: "Expectations" },
       ],
     },
-    { id: "record", label: "Record", tabs: [{ to: `${base}/history`, label: "History" }] },
+    {
+      id: "record",
+      label: "Record",
+      tabs: [
+        { to: `${base}/history`, label: "History" },
+        { to: `${base}/proposals`, label: "Proposals" },
+      ],
+    },
     { id: "model", label: "Model", tabs: DEVICE_SECTIONS.map((section) => ({ to: `${base}/model/${section}`, label: SECTION_TITLES[section] })) },
   ];
 }

@@ -1,6 +1,8 @@
 // The names each picker of the device editor offers, grouped by kind: what a rule's sources,
 // a group's members or an account's login sources may name (PRODUCT.md §3–§4). Pure.
-import { ANY_SERVICE, BUILTIN_ADDRESS_NAMES, type ServiceKind } from "#server/engine/vocabulary";
+import { ANY_SERVICE, BUILTIN_ADDRESS_NAMES, BUILTIN_SERVICES, type ServiceKind } from "#server/engine/vocabulary";
+import type { ModelDocument, SharedLibrary } from "#server/workspace/document";
+import type { ListedService } from "./listener-toggles";
 import type { NameGroup } from "./name-picker";
 
 /** The names a device's forms may use, as the section loader lists them. */
@@ -42,4 +44,28 @@ export function serviceNameGroups(names: EditorNames): NameGroup[] {
     { label: "Service groups", names: names.serviceGroups },
     { label: "Built-in (every protocol and port)", names: [ANY_SERVICE] },
   ];
+}
+
+/**
+ * The names a document's forms may use, with the organisation's shared objects that no device
+ * object of the same name shadows: what the live editor and a proposal's draft editor offer.
+ */
+export function editorNamesOf(document: ModelDocument, library: SharedLibrary): EditorNames & { services: ListedService[] } {
+  const serviceCatalogue: ListedService[] = [
+    ...BUILTIN_SERVICES.map((service) => ({ name: service.name, kind: service.kind, protocol: service.protocol, port: service.port, builtin: true })),
+    ...document.services.map((service) => ({ name: service.name, kind: service.kind, protocol: service.protocol, port: service.port, builtin: false })),
+  ];
+  // A device object of the same name takes precedence over a shared one.
+  const ownAddressNames = new Set([...document.addresses, ...document.addressGroups].map((object) => object.name));
+  const notShadowed = (objects: Array<{ name: string }>) => objects.map((object) => object.name).filter((name) => !ownAddressNames.has(name));
+  return {
+    interfaces: document.interfaces.map((entry) => entry.name),
+    services: serviceCatalogue,
+    serviceGroups: document.serviceGroups.map((group) => group.name),
+    addressObjects: document.addresses.map((object) => object.name),
+    addressGroups: document.addressGroups.map((group) => group.name),
+    sharedAddressObjects: notShadowed(library.addresses),
+    sharedAddressGroups: notShadowed(library.addressGroups),
+    schedules: document.schedules.map((schedule) => schedule.name),
+  };
 }

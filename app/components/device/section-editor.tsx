@@ -80,6 +80,8 @@ export type SectionEditorProps = EditorProps & {
   names: EditorNames & { services: ListedService[] };
   ruleView: RuleView;
   conflict?: { currentNumber: number; changes: DocumentChange[]; message: string };
+  /** Editing a proposal's draft: the model only, so no site choice and no deleting the device. */
+  draft?: boolean;
 };
 
 function Conflict({ conflict }: { conflict: NonNullable<SectionEditorProps["conflict"]> }) {
@@ -542,13 +544,17 @@ function SettingsSection(props: SectionEditorProps) {
       {props.canEdit ? (
         <EditorForm intent="save-settings" baseRevision={props.baseRevision} className="space-y-4" label="Device settings">
           <TextField label="Device name" name="name" defaultValue={values.name ?? device.name} error={errors.name} maxLength={63} />
-          <SelectField label="Site" name="siteId" defaultValue={values.siteId ?? props.siteId} error={errors.siteId}>
-            {props.sites.map((site) => (
-              <option key={site.id} value={site.id}>
-                {site.name}
-              </option>
-            ))}
-          </SelectField>
+          {props.draft ? (
+            <input type="hidden" name="siteId" value={props.siteId} />
+          ) : (
+            <SelectField label="Site" name="siteId" defaultValue={values.siteId ?? props.siteId} error={errors.siteId}>
+              {props.sites.map((site) => (
+                <option key={site.id} value={site.id}>
+                  {site.name}
+                </option>
+              ))}
+            </SelectField>
+          )}
           <TextField label="Time zone" name="timezone" defaultValue={values.timezone ?? device.timezone} error={errors.timezone} hint="IANA name, e.g. Europe/Amsterdam; schedules are read in it, daylight saving included." />
           <SelectField label="Default inbound action (no rule matched)" name="defaultInbound" defaultValue={values.defaultInbound ?? device.defaultInbound} error={errors.defaultInbound}>
             <LabelledOptions labels={DEFAULT_INBOUND_LABELS} />
@@ -569,7 +575,7 @@ function SettingsSection(props: SectionEditorProps) {
         </dl>
       )}
     </Card>
-    {props.canEdit ? (
+    {props.canEdit && !props.draft ? (
       <Card className="max-w-xl border-danger/40 p-6">
         <h2 className="font-semibold text-danger">Delete this device</h2>
         <p className="mt-1 text-sm text-ink-muted">Removes the device and every revision of it from Sallyport (the audit log keeps a record). The real device is not touched.</p>

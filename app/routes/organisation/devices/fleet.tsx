@@ -8,6 +8,7 @@ import { hasAtLeastRole, PAGE_ROLES } from "#server/auth/roles";
 import { listDevices, type DeviceRow } from "#server/services/devices.server";
 import { activeFindingsBySeverity } from "#server/services/findings.server";
 import { listSites } from "#server/services/sites.server";
+import { openProposalCounts } from "#server/services/proposals.server";
 import { OutcomeChip } from "#app/components/outcome";
 import { isOutcome, outcomeRank } from "#server/engine/vocabulary";
 import { SEVERITY_ORDER, SeverityCounts } from "#app/components/severity";
@@ -36,17 +37,18 @@ const COLUMNS = [
   { id: "findings", accessorFn: (device) => findingsWeight(device.findingsBySeverity) },
   { id: "exposure", accessorFn: (device) => (isOutcome(device.worstOutsideOutcome) ? outcomeRank(device.worstOutsideOutcome) : -1) },
   { id: "updated", accessorKey: "updatedAt" },
-] as const satisfies readonly ColumnDef<DeviceRow>[];
-const SITE_FILTER = { id: "siteId", accessorKey: "siteId", filterFn: "equals" } as const satisfies ColumnDef<DeviceRow>;
+  { id: "proposals", accessorKey: "openProposals" },
+] as const satisfies readonly ColumnDef<DeviceRow & { openProposals: number }>[];
+const SITE_FILTER = { id: "siteId", accessorKey: "siteId", filterFn: "equals" } as const satisfies ColumnDef<DeviceRow & { openProposals: number }>;
 
 export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireRole(context);
   const url = new URL(request.url);
   const { sort, descending, sorting } = urlSort(url.searchParams, COLUMNS);
-  const [listed, sites, active] = await Promise.all([listDevices(access.organisation.id), listSites(access.organisation.id), activeFindingsBySeverity(access.organisation.id)]);
+  const [listed, sites, active, proposals] = await Promise.all([listDevices(access.organisation.id), listSites(access.organisation.id), activeFindingsBySeverity(access.organisation.id), openProposalCounts(access.organisation.id)]);
   // Counts leave out dismissed findings (accepted risks), as the device overview does.
-  const devices = listed.map((device) => ({ ...device, findingsBySeverity: active.get(device.id) ?? device.findingsBySeverity }));
-  const shown = tableRows(devices, [...COLUMNS, SITE_FILTER, nameTie<DeviceRow>()], {
+  const devices = listed.map((device) => ({ ...device, findingsBySeverity: active.get(device.id) ?? device.findingsBySeverity, openProposals: proposals.get(device.id) ?? 0 }));
+  const shown = tableRows(devices, [...COLUMNS, SITE_FILTER, nameTie<DeviceRow & { openProposals: number }>()], {
     globalFilter: (url.searchParams.get("q") ?? "").trim().slice(0, 100),
     columnFilters: url.searchParams.get("site") ? [{ id: "siteId", value: url.searchParams.get("site") }] : [],
     sorting,
@@ -119,6 +121,7 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
                 <SortHeader column="findings" label="Findings" sort={sort} descending={descending} />
                 <SortHeader column="exposure" label="Worst on wan" sort={sort} descending={descending} />
                 <SortHeader column="updated" label="Revision" sort={sort} descending={descending} />
+                <SortHeader column="proposals" label="Open proposals" sort={sort} descending={descending} />
               </tr>
             </thead>
             <tbody>
@@ -136,6 +139,15 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
                   <Td>{isOutcome(device.worstOutsideOutcome) ? <OutcomeChip outcome={device.worstOutsideOutcome} /> : <span className="text-xs text-ink-faint">no wan interface</span>}</Td>
                   <Td className="tabular text-ink-muted">
                     r{device.revision} · <Time at={device.updatedAt} now={loaderData.now} />
+                  </Td>
+                  <Td className="tabular">
+                    {device.openProposals > 0 ? (
+                      <Link to={`/o/${slug}/devices/${device.id}/proposals`} className="text-harbour underline-offset-4 hover:underline" aria-label={`${plural(device.openProposals, { one: "open proposal", other: "open proposals" })} for ${device.name}`}>
+                        {formatNumber(device.openProposals)}
+                      </Link>
+                    ) : (
+                      <span className="text-ink-faint">none</span>
+                    )}
                   </Td>
                 </tr>
               ))}

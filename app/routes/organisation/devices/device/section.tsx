@@ -1,21 +1,22 @@
 import { data, redirect } from "react-router";
 import type { Route } from "./+types/section";
 import { serializeFlash } from "#server/auth/flash.server";
-import { hasAtLeastRole } from "#server/auth/roles";
-import { BUILTIN_SERVICES } from "#server/engine/index";
+import { hasAtLeastRole, PAGE_ROLES } from "#server/auth/roles";
 import { actorOf } from "#server/http/actor.server";
 import { requireDevice, revisionNumberOf } from "#server/http/device-access.server";
-import { formValuesWithLists, planDeviceEdit, refusedDeviceEdit } from "#server/http/device-forms.server";
-import { invalidForm, readForm, unknownIntent } from "#server/http/form.server";
-import { deleteDevice, loadSharedLibrary, saveEdit } from "#server/services/devices.server";
+import { formValuesWithLists, planDeviceEdit, PlannedAttempt, refusedDeviceEdit } from "#server/http/device-forms.server";
+import { appOriginOf, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
+import { deleteDevice, loadSharedLibrary } from "#server/services/devices.server";
+import { saveDirectEdit } from "#server/services/proposals.server";
+import { WRITTEN_REASON_MIN } from "#server/proposals/state";
+import { getEnvironment } from "#server/config.server";
+import { GuardPanel } from "#app/components/proposals/guard-panel";
 import { listSites } from "#server/services/sites.server";
 import { SectionEditor } from "#app/components/device/section-editor";
-import type { ListedService } from "#app/components/device/listener-toggles";
 import { isDeviceSection, type DeviceSection } from "#app/components/device/sections";
-import type { EditorNames } from "#app/components/device/name-groups";
+import { editorNamesOf } from "#app/components/device/name-groups";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { readRuleView } from "#server/http/preferences.server";
-import type { ModelDocument } from "#server/workspace/document";
 
 function sectionOf(value: string | undefined): DeviceSection {
   if (!isDeviceSection(value)) throw data({ message: `This device has no section "${String(value).slice(0, 40)}".` }, { status: 404 });
@@ -29,27 +30,16 @@ export async function loader({ request, params, context }: Route.LoaderArgs) {
   const section = sectionOf(params.section);
   const library = await loadSharedLibrary(access.organisation.id);
   const document = access.document;
-  const serviceCatalogue: ListedService[] = [
-    ...BUILTIN_SERVICES.map((service) => ({ name: service.name, kind: service.kind, protocol: service.protocol, port: service.port, builtin: true })),
-    ...document.services.map((service) => ({ name: service.name, kind: service.kind, protocol: service.protocol, port: service.port, builtin: false })),
-  ];
-  // A device object of the same name takes precedence over a shared one.
-  const ownAddressNames = new Set([...document.addresses, ...document.addressGroups].map((object) => object.name));
-  const notShadowed = (objects: Array<{ name: string }>) => objects.map((object) => object.name).filter((name) => !ownAddressNames.has(name));
-  const names: EditorNames & { services: ListedService[] } = {
-    interfaces: document.interfaces.map((entry) => entry.name),
-    services: serviceCatalogue,
-    serviceGroups: document.serviceGroups.map((group) => group.name),
-    addressObjects: document.addresses.map((object) => object.name),
-    addressGroups: document.addressGroups.map((group) => group.name),
-    sharedAddressObjects: notShadowed(library.addresses),
-    sharedAddressGroups: notShadowed(library.addressGroups),
-    schedules: document.schedules.map((schedule) => schedule.name),
-  };
+  const names = editorNamesOf(document, library);
+  const isAdmin = hasAtLeastRole(access.role, "admin");
+  const { changesThroughProposals } = access.organisation;
   return {
     section,
     baseRevision: access.revision.number,
-    canEdit: hasAtLeastRole(access.role, "engineer"),
+    // When changes go through proposals, the live editor is read-only but for an admin's break-glass save.
+    canEdit: hasAtLeastRole(access.role, "engineer") && (!changesThroughProposals || isAdmin),
+    policy: { changesThroughProposals, isAdmin },
+    proposePath: hasAtLeastRole(access.role, PAGE_ROLES.proposeChange) ? `/o/${access.organisation.slug}/devices/${access.device.id}/proposals/new` : null,
     editing: new URL(request.url).searchParams.get("edit"),
     document,
     siteId: access.device.siteId,
@@ -76,18 +66,56 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   if (!planned) return unknownIntent(values.intent);
   if (!planned.ok) return invalidForm(planned.errors, values);
   // The document the engine checked, kept so its problems can be put beside this form's fields.
-  const attempt: { candidate?: ModelDocument } = {};
-  const edit = (document: ModelDocument) => (attempt.candidate = planned.plan.edit(document));
+  const attempt = new PlannedAttempt(planned.plan);
+  const override = values.overrideReason?.trim() ? { reason: values.overrideReason } : null;
   try {
-    const saved = await saveEdit(access.organisation.id, access.device.id, baseRevision, edit, actorOf(access, clientAddressOf(context)), planned.plan.message, { siteId: planned.plan.siteId });
-    const message = saved.changes.length === 0 && !planned.plan.siteId ? "Nothing changed; no new revision." : `${planned.plan.message}. Saved as revision r${saved.number}.`;
+    // Under the organisation's change policy: the gate, and whether changes go through proposals.
+    const saved = await saveDirectEdit(
+      { organisationId: access.organisation.id, deviceId: access.device.id, deviceName: access.device.name, slug: access.organisation.slug },
+      access.organisation,
+      baseRevision,
+      attempt.apply,
+      actorOf(access, clientAddressOf(context)),
+      planned.plan.message,
+      { siteId: planned.plan.siteId, override },
+      { appOrigin: appOriginOf(request, getEnvironment().APP_ORIGIN) },
+    );
+    const overridden = saved.note?.action === "device.break-glass-saved" ? " (break-glass: the reviewers were e-mailed)" : saved.note ? " (past the lockout guard, with your reason)" : "";
+    const message = saved.changes.length === 0 && !planned.plan.siteId ? "Nothing changed; no new revision." : `${planned.plan.message}. Saved as revision r${saved.number}${overridden}.`;
     throw redirect(`/o/${access.organisation.slug}/devices/${access.device.id}/model/${section}`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message }) } });
   } catch (error) {
-    return refusedDeviceEdit(error, values, { plan: planned.plan, candidate: attempt.candidate, library: () => loadSharedLibrary(access.organisation.id) });
+    return refusedDeviceEdit(error, values, attempt, () => loadSharedLibrary(access.organisation.id));
   }
 }
 
 export default function DeviceSection({ loaderData, actionData }: Route.ComponentProps) {
   const conflict = actionData?.conflict ? { ...actionData.conflict, changes: [...actionData.conflict.changes], message: actionData.errors.form ?? "" } : undefined;
-  return <SectionEditor {...loaderData} errors={actionData?.errors ?? {}} values={actionData?.values ?? {}} conflict={conflict} />;
+  const { policy, proposePath } = loaderData;
+  const errors = actionData?.errors ?? {};
+  const reasons = actionData?.reasons ?? [];
+  // Refused by the change policy or the lockout guard: the panel says why and offers the ways on.
+  const guarded = reasons.length > 0 || "overrideReason" in errors;
+  return (
+    <>
+      {policy.changesThroughProposals ? (
+        <p role="note" className="mb-4 rounded-card border border-brass/40 bg-brass-soft px-4 py-3 text-sm">
+          In this organisation changes go through proposals: {proposePath ? <a href={proposePath} className="font-medium text-harbour underline underline-offset-4">propose a change</a> : "engineers propose them"}, a reviewer approves it, and it is applied in its change window.
+          {policy.isAdmin ? " As an admin you can still save here in an emergency (break-glass), with a written reason." : ""}
+        </p>
+      ) : null}
+      {guarded && actionData ? (
+        <GuardPanel
+          message={errors.form ?? ""}
+          reasons={reasons}
+          values={actionData.values}
+          overrideError={errors.overrideReason === errors.form ? undefined : errors.overrideReason}
+          canOverride={policy.isAdmin}
+          breakGlass={policy.changesThroughProposals}
+          proposePath={proposePath}
+          minimum={WRITTEN_REASON_MIN}
+        />
+      ) : null}
+      <SectionEditor {...loaderData} errors={guarded ? {} : errors} values={actionData?.values ?? {}} conflict={conflict} />
+    </>
+  );
 }

@@ -1,0 +1,87 @@
+// The gate: the one place that says whether a change may go ahead as it is. Given the model
+// before (the proposal's base, or the live revision for a direct save) and after, it returns
+// the blocking reasons, each with its kind, its words and the details behind them. Today: the
+// lockout guard (an operator network loses every login path) and the address the author works
+// from losing its login. Another kind can join the list (the integrator adds failing
+// expectations) without any caller changing: callers only read `kind`, `words` and `details`.
+import { DateTime } from "luxon";
+import { DAYS, lockoutGuard, outcomeRank, trace, type CompiledModel } from "../engine/index.ts";
+
+import type { GateReason } from "./gate-words.ts";
+
+export { GATE_REASON_KINDS, GATE_REASON_LABELS, type GateReason, type GateReasonKind } from "./gate-words.ts";
+
+export type GateInput = {
+  before: CompiledModel;
+  after: CompiledModel;
+  /** The address the author declared they work from ("" or absent: none). */
+  workFrom?: string;
+};
+
+/** Lists of addresses are cut here; the count of the rest is said. */
+const DETAILS_SHOWN = 12;
+
+/** Every blocking reason; empty when the change may go ahead. */
+export function gateReasons(input: GateInput): GateReason[] {
+  const reasons: GateReason[] = [];
+  for (const entry of lockoutGuard(input.before, input.after)) {
+    const shown = entry.lostRanges.slice(0, DETAILS_SHOWN);
+    reasons.push({
+      kind: "lockout",
+      words: `Operator network “${entry.operatorNetwork}” would lose every login path: no address in it would reach a login with an eligible account, on any interface, service or time.`,
+      details: [...shown.map((range) => `no login any more from ${range}`), ...(entry.lostRanges.length > shown.length ? [`and ${entry.lostRanges.length - shown.length} more ranges`] : [])],
+    });
+  }
+  const workFrom = input.workFrom?.trim();
+  if (workFrom) {
+    const before = loginPaths(input.before, workFrom);
+    if (before.length > 0 && loginPaths(input.after, workFrom).length === 0) {
+      reasons.push({
+        kind: "work-from",
+        words: `${workFrom}, where you said you work from, would lose every login it has.`,
+        details: before.map((path) => `it logs in today on ${path}`),
+      });
+    }
+  }
+  return reasons;
+}
+
+// A week without daylight-saving changes in any zone that has them (they fall in March–April
+// and September–November), starting on a Monday: week minute 0 is Monday 00:00.
+const REFERENCE_MONDAY = { year: 2026, month: 1, day: 5 };
+
+const LOGIN = outcomeRank("login-mfa");
+
+/** "mon 08:00" for a week minute (Monday 00:00 is 0). */
+function weekTime(minute: number): string {
+  const inDay = minute % 1440;
+  return `${DAYS[Math.floor(minute / 1440)]} ${String(Math.floor(inDay / 60)).padStart(2, "0")}:${String(inDay % 60).padStart(2, "0")}`;
+}
+
+/**
+ * Every interface × login service on which the address gets a login (with or without a second
+ * factor) at some time of the week, with the first such time when not at every time: the
+ * evaluation is exact per slice of the week (PRODUCT.md §3: schedules split the week into
+ * slices), traced at each slice's start.
+ */
+export function loginPaths(device: CompiledModel, address: string): string[] {
+  const zone = device.model.device.timezone;
+  const monday = DateTime.fromObject({ ...REFERENCE_MONDAY, hour: 0, minute: 0 }, { zone });
+  const starts = [...new Set(device.week.slices.map((slice) => slice.start))].sort((a, b) => a - b);
+  const paths = new Map<string, { minutes: number[] }>();
+  for (const minute of starts) {
+    const at = monday.plus({ minutes: minute }).toMillis();
+    for (const entry of device.model.interfaces) {
+      for (const service of device.catalogue) {
+        if (service.kind !== "login") continue;
+        const result = trace(device, { from: address, interface: entry.name, service: service.name, at });
+        if (outcomeRank(result.outcome) < LOGIN) continue;
+        const key = `${entry.name} ${service.name}`;
+        const path = paths.get(key) ?? { minutes: [] };
+        path.minutes.push(minute);
+        paths.set(key, path);
+      }
+    }
+  }
+  return [...paths].map(([key, { minutes }]) => (minutes.length === starts.length ? key : `${key} (from ${weekTime(minutes[0])})`));
+}
