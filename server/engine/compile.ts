@@ -586,6 +586,9 @@ export class CompiledModel {
     const key = (iface * this.addresses.length + to) * this.classes.length + cls;
     const cached = this.candidates[key];
     if (cached !== undefined) return cached;
+    // Addresses every rule's destinations treat alike have the same lists.
+    const alike = this.destinationRepresentative(to);
+    if (alike !== to) return (this.candidates[key] = this.candidateRules(iface, alike, cls));
     const destinations = this.destinationColumn(to);
     const onInterface = this.serviceRulesOnInterface(iface, cls);
     const list: number[] = [];
@@ -641,6 +644,31 @@ export class CompiledModel {
       this.serviceColumns.set(cls, column);
     }
     return column;
+  }
+
+  /** Per device address: the first address whose destination column is the same. */
+  private destinationRepresentatives: Int32Array | undefined;
+
+  private destinationRepresentative(to: number): number {
+    if (this.destinationRepresentatives === undefined) {
+      const byHash = new Map<number, number[]>();
+      this.destinationRepresentatives = Int32Array.from(this.addresses, (address) => {
+        const column = this.destinationColumn(address.index);
+        let hash = 0x811c9dc5;
+        for (let i = 0; i < column.length; i++) hash = Math.imul(hash ^ column[i], 0x01000193);
+        const bucket = byHash.get(hash) ?? [];
+        const found = bucket.find((other) => {
+          const seen = this.destinationColumn(other);
+          for (let i = 0; i < column.length; i++) if (seen[i] !== column[i]) return false;
+          return true;
+        });
+        if (found !== undefined) return found;
+        bucket.push(address.index);
+        byHash.set(hash, bucket);
+        return address.index;
+      });
+    }
+    return this.destinationRepresentatives[to];
   }
 
   private destinationColumn(to: number): Uint8Array {

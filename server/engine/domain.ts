@@ -160,27 +160,22 @@ export class Domain {
     return out;
   }
 
-  #cover: Int32Array | undefined;
+  /** Coverage counts per boundary, one scratch array per value asked for at once (all zero between calls). */
+  #covers: Int32Array[] = [];
 
-  /**
-   * Address ranges of the elements whose value is in `wanted` (a bit mask over values 0…31) in
-   * at least one of the run lists: the union of rangesWhere over lists and values, computed on
-   * element indices (a coverage count per boundary) so only the merged result becomes bigints.
-   */
-  rangesWhereAny(lists: readonly Runs[], wanted: number): bigint[] {
-    if (lists.length === 1 && (wanted & (wanted - 1)) === 0) return this.rangesWhere(lists[0], 31 - Math.clz32(wanted));
-    const cover = (this.#cover ??= new Int32Array(this.size + 1));
-    const touched: number[] = [];
-    for (const runs of lists) {
-      const n = runs.starts.length;
-      for (let k = 0; k < n; k++) {
-        if (((wanted >>> runs.values[k]) & 1) === 0) continue;
-        const start = runs.starts[k];
-        const end = k + 1 < n ? runs.starts[k + 1] : this.size;
-        if (cover[start]++ === 0) touched.push(start);
-        if (cover[end]-- === 0) touched.push(end);
-      }
-    }
+  #cover(i: number): Int32Array {
+    while (this.#covers.length <= i) this.#covers.push(new Int32Array(this.size + 1));
+    return this.#covers[i];
+  }
+
+  /** Adds [start, end) to a coverage count, noting boundaries touched for the first time. */
+  static #count(cover: Int32Array, touched: number[], start: number, end: number): void {
+    if (cover[start]++ === 0) touched.push(start);
+    if (cover[end]-- === 0) touched.push(end);
+  }
+
+  /** The address ranges a coverage count covers, merged; leaves the count zero again. */
+  #covered(cover: Int32Array, touched: readonly number[]): bigint[] {
     const points = Int32Array.from(touched).sort();
     const out: bigint[] = [];
     let depth = 0;
@@ -200,6 +195,43 @@ export class Domain {
       }
     }
     return out;
+  }
+
+  /**
+   * Address ranges of the elements whose value is in `wanted` (a bit mask over values 0…31) in
+   * at least one of the run lists: the union of rangesWhere over lists and values, computed on
+   * element indices (a coverage count per boundary) so only the merged result becomes bigints.
+   */
+  rangesWhereAny(lists: readonly Runs[], wanted: number): bigint[] {
+    if (lists.length === 1 && (wanted & (wanted - 1)) === 0) return this.rangesWhere(lists[0], 31 - Math.clz32(wanted));
+    const cover = this.#cover(0);
+    const touched: number[] = [];
+    for (const runs of lists) {
+      const n = runs.starts.length;
+      for (let k = 0; k < n; k++) {
+        if (((wanted >>> runs.values[k]) & 1) === 0) continue;
+        Domain.#count(cover, touched, runs.starts[k], k + 1 < n ? runs.starts[k + 1] : this.size);
+      }
+    }
+    return this.#covered(cover, touched);
+  }
+
+  /** For each of `values` (each 0…31), the address ranges where some run list has it: rangesWhereAny per value, in one pass over the runs. */
+  rangesWhereEach(lists: readonly Runs[], values: readonly number[]): bigint[][] {
+    const slot = new Int8Array(32).fill(-1);
+    values.forEach((value, i) => (slot[value] = i));
+    const covers = values.map((_, i) => this.#cover(i));
+    const touched: number[][] = values.map(() => []);
+    for (const runs of lists) {
+      const n = runs.starts.length;
+      for (let k = 0; k < n; k++) {
+        const v = runs.values[k];
+        const i = v >= 0 && v < 32 ? slot[v] : -1;
+        if (i < 0) continue;
+        Domain.#count(covers[i], touched[i], runs.starts[k], k + 1 < n ? runs.starts[k + 1] : this.size);
+      }
+    }
+    return values.map((_, i) => this.#covered(covers[i], touched[i]));
   }
 
   /** Address counts per value (values 0 … slots-1). */

@@ -71,8 +71,8 @@ export function witnessSource(ranges: Ranges, family: Family): bigint | undefine
 /** A week minute's instant in the reference week: Monday 5 January 2026, 00:00 device time. */
 const REFERENCE_MONDAY_UTC = Date.UTC(2026, 0, 5);
 
-/** Bit mask of every outcome that answers at all (all but silence). */
-const NOT_SILENT = ((1 << OUTCOMES.length) - 1) & ~(1 << SILENT);
+/** Every outcome that answers at all (all but silence). */
+const ANSWERING = OUTCOMES.map((_, outcome) => outcome).filter((outcome) => outcome !== SILENT);
 
 /** Non-private exposure from the distinct outcome runs seen on one interface × service, per family. */
 function exposureOf(engine: CompiledModel, lists: { readonly 4: readonly Runs[]; readonly 6: readonly Runs[] }): ServiceExposure | undefined {
@@ -81,15 +81,14 @@ function exposureOf(engine: CompiledModel, lists: { readonly 4: readonly Runs[];
   for (const family of [4, 6] as const) {
     const runs = lists[family];
     if (runs.length === 0) continue;
-    const domain = engine.domains[family];
     const global = rangesOf(NON_PRIVATE, family);
-    for (let outcome = 0; outcome < OUTCOMES.length; outcome++) {
-      if (((NOT_SILENT >>> outcome) & 1) === 0) continue;
-      const hit = intersect(domain.rangesWhereAny(runs, 1 << outcome), global);
-      if (hit.length === 0) continue;
+    engine.domains[family].rangesWhereEach(runs, ANSWERING).forEach((ranges, i) => {
+      const hit = intersect(ranges, global);
+      if (hit.length === 0) return;
+      const outcome = ANSWERING[i];
       outcomes.add(outcome);
       hits[outcome] = family === 4 ? { v4: hit, v6: hits[outcome].v6 } : { v4: hits[outcome].v4, v6: hit };
-    }
+    });
   }
   return outcomes.size === 0 ? undefined : { outcomes, hits };
 }
