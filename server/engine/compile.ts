@@ -839,7 +839,7 @@ export class CompiledModel {
         count++;
       }
     }
-    needWords.sort((a, b) => a - b);
+    const wordsInOrder = Int32Array.from(needWords).sort();
     let firstOff = Infinity;
     for (const position of off) if (position < firstOff) firstOff = position;
     const familySlot = family === 4 ? 0 : 1;
@@ -849,7 +849,7 @@ export class CompiledModel {
       if (position < firstOff) continue;
       const { words, masks } = this.ruleBits[position][familySlot];
       let from = 0;
-      for (const w of needWords) {
+      for (const w of wordsInOrder) {
         if (need[w] === 0) continue;
         // The first of the rule's words at or after w (its words are ascending, and so are needWords).
         let hi = words.length;

@@ -297,18 +297,23 @@ export class FindingContext {
     const engine = this.engine;
     const out = new Map<number, { iface: number; to: number; cls: number; slice: number; family: Family; element: number }>();
     const seen = new Set<number>();
+    // Slots already given their first place: most runs are of rules already placed, skipped at once.
+    const placed = new Uint8Array(engine.slotCount);
     // A later arrival with an already-walked candidate list has only partitions already seen.
     for (const { iface, to, cls } of firstOfEachList(engine)) {
-      engine.weekRulePartitions(iface, to, cls).forEach((rules, slice) => {
-        if (seen.has(rules.id)) return;
+      const partitions = engine.weekRulePartitions(iface, to, cls);
+      for (let slice = 0; slice < partitions.length; slice++) {
+        const rules = partitions[slice];
+        if (seen.has(rules.id)) continue;
         seen.add(rules.id);
         const { starts, values } = rules.owner;
         for (let k = 0; k < values.length; k++) {
-          if (values[k] < 0) continue;
-          const position = engine.positionOfSlot(values[k]);
-          if (!out.has(position)) out.set(position, { iface, to, cls, slice, family: rules.family, element: starts[k] });
+          const slot = values[k];
+          if (slot < 0 || placed[slot] === 1) continue;
+          placed[slot] = 1;
+          out.set(engine.positionOfSlot(slot), { iface, to, cls, slice, family: rules.family, element: starts[k] });
         }
-      });
+      }
     }
     return out;
   }
