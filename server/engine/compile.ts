@@ -252,6 +252,8 @@ export class CompiledModel {
   /** Outcome runs per (rule partition, class, listening). */
   private readonly outcomeCache = new Map<number, Runs>();
   private patchScratch: Uint8Array | undefined;
+  /** Per position: the rule's schedule index, or -1 for all week. */
+  private ruleSchedules: Int32Array | undefined;
   private readonly scratch: Record<Family, { remaining: Int32Array; owner: Int32Array; wordOwners: Int32Array }>;
 
   constructor(
@@ -788,10 +790,12 @@ export class CompiledModel {
     if (rules === undefined) {
       if (off.length === 0) return this.slicePartitionAllOn(family, candidates);
       const active = new Int32Array(candidates.rules.length - off.length);
+      const list = candidates.rules;
+      const schedules = (this.ruleSchedules ??= Int32Array.from(this.rules, (rule) => rule.schedule));
       let n = 0;
-      for (const p of candidates.rules) {
-        const s = this.rules[p].schedule;
-        if (s < 0 || state[s]) active[n++] = this.ruleSlots[p];
+      for (let k = 0; k < list.length; k++) {
+        const s = schedules[list[k]];
+        if (s < 0 || state[s]) active[n++] = this.ruleSlots[list[k]];
       }
       rules = this.basisPartition(family, active) ?? this.derivedPartition(family, this.slicePartitionAllOn(family, candidates), active, off);
       this.partitions.set(activeKey, rules);
