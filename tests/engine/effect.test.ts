@@ -5,52 +5,25 @@
 
 import fc from "fast-check";
 import { describe, expect, test } from "vitest";
-import { changeEffect, compileModel, effectSourcesPage, findings, instantOfWeekMinute, parseModel, ProbeError, trace } from "#server/engine/index.ts";
-import type { ChangeEffect, CompiledModel, DeviceModel, DeviceModelInput, Expectation, Outcome } from "#server/engine/index.ts";
+import { changeEffect, compileModel, effectSourcesPage, findings, instantOfWeekMinute, ProbeError, trace } from "#server/engine/index.ts";
+import type { ChangeEffect, CompiledModel, DeviceModelInput, Expectation, Outcome } from "#server/engine/index.ts";
 import { FAMILY, formatAddress, parseCidr, parseEntry } from "#server/engine/addresses.ts";
 import type { Family } from "#server/engine/addresses.ts";
 import { serviceKey } from "#server/engine/model.ts";
 import { WEEK_MINUTES } from "#server/engine/schedules.ts";
 import { parseWeekTime } from "#server/engine/week-times.ts";
 import { SMALL_SIZE, generateModel, prng } from "#server/engine/testing/generate-model.ts";
+import { MEDIUM, RULE_EDITS, validated, withRules } from "./random-edits.ts";
+import type { Edit, Rule } from "./random-edits.ts";
 import { propertyParameters } from "#tests/support/property-runs.ts";
 
-const MEDIUM = { ...SMALL_SIZE, interfaces: 4, rules: 30, addressObjects: 20, entries: 50, groups: 5, accounts: 5, schedules: 3 };
-
-function validated(input: DeviceModelInput): DeviceModel {
-  const parsed = parseModel(input);
-  if (!parsed.ok) throw new Error(`model invalid: ${JSON.stringify(parsed.errors.slice(0, 3))}`);
-  return parsed.model;
-}
-
-type Rule = DeviceModel["inboundRules"][number];
-const withRules = (model: DeviceModel, rules: Rule[]): DeviceModel => ({ ...model, inboundRules: rules });
-
 /** Edits of the kinds the editor makes, and ones prone to locking the operators out. */
-const EDITS: Record<string, (model: DeviceModel, pick: () => number) => DeviceModel> = {
-  move: (m, pick) => {
-    const rules = [...m.inboundRules];
-    const [rule] = rules.splice(pick() % rules.length, 1);
-    rules.splice(pick() % (rules.length + 1), 0, rule);
-    return withRules(m, rules);
-  },
-  switch: (m, pick) => {
-    const at = pick() % m.inboundRules.length;
-    return withRules(m, m.inboundRules.map((r, i) => (i === at ? { ...r, enabled: !r.enabled } : r)));
-  },
-  action: (m, pick) => {
-    const at = pick() % m.inboundRules.length;
-    return withRules(m, m.inboundRules.map((r, i) => (i === at ? { ...r, action: r.action === "allow" ? "deny" : "allow" } : r)));
-  },
-  remove: (m, pick) => {
-    const at = pick() % m.inboundRules.length;
-    return withRules(m, m.inboundRules.filter((_, i) => i !== at));
-  },
-  sources: (m, pick) => {
-    const at = pick() % m.inboundRules.length;
-    const other = m.inboundRules[pick() % m.inboundRules.length];
-    return withRules(m, m.inboundRules.map((r, i) => (i === at ? { ...r, sources: other.sources } : r)));
-  },
+const EDITS: Record<string, Edit> = {
+  move: RULE_EDITS.move,
+  switch: RULE_EDITS.switch,
+  action: RULE_EDITS.action,
+  remove: RULE_EDITS.remove,
+  sources: RULE_EDITS.sources,
   listener: (m, pick) => ({ ...m, interfaces: m.interfaces.map((f, i) => (i === pick() % m.interfaces.length ? { ...f, listeners: f.listeners.slice(1) } : f)) }),
   account: (m, pick) => ({ ...m, accounts: m.accounts.map((a, i) => (i === pick() % m.accounts.length ? { ...a, enabled: !a.enabled } : a)) }),
   denyOperators: (m, pick) => {

@@ -7,66 +7,13 @@
 
 import fc from "fast-check";
 import { describe, expect, test } from "vitest";
-import { compileModel, exposure, findings, parseModel, trace } from "#server/engine/index.ts";
-import type { CompiledModel, DeviceModel, DeviceModelInput } from "#server/engine/index.ts";
-import { SMALL_SIZE, generateModel, prng } from "#server/engine/testing/generate-model.ts";
+import { compileModel, exposure, findings, trace } from "#server/engine/index.ts";
+import type { CompiledModel } from "#server/engine/index.ts";
+import { generateModel, prng } from "#server/engine/testing/generate-model.ts";
+import { MEDIUM, RULE_EDITS, validated } from "./random-edits.ts";
 import { propertyParameters } from "#tests/support/property-runs.ts";
 
-const MEDIUM = { ...SMALL_SIZE, interfaces: 4, rules: 30, addressObjects: 20, entries: 50, groups: 5, accounts: 5, schedules: 3 };
-
-function validated(input: DeviceModelInput): DeviceModel {
-  const parsed = parseModel(input);
-  if (!parsed.ok) throw new Error(`model invalid: ${JSON.stringify(parsed.errors.slice(0, 3))}`);
-  return parsed.model;
-}
-
-type Rule = DeviceModel["inboundRules"][number];
-type Edit = (model: DeviceModel, pick: () => number) => DeviceModel;
-
-const withRules = (model: DeviceModel, rules: Rule[]): DeviceModel => ({ ...model, inboundRules: rules });
-
-/** One-element edits of the kinds the editor makes. */
-const EDITS: Record<string, Edit> = {
-  move: (m, pick) => {
-    const rules = [...m.inboundRules];
-    const [rule] = rules.splice(pick() % rules.length, 1);
-    rules.splice(pick() % (rules.length + 1), 0, rule);
-    return withRules(m, rules);
-  },
-  switch: (m, pick) => {
-    const at = pick() % m.inboundRules.length;
-    return withRules(m, m.inboundRules.map((r, i) => (i === at ? { ...r, enabled: !r.enabled } : r)));
-  },
-  action: (m, pick) => {
-    const at = pick() % m.inboundRules.length;
-    return withRules(m, m.inboundRules.map((r, i) => (i === at ? { ...r, action: r.action === "allow" ? "deny" : "allow" } : r)));
-  },
-  remove: (m, pick) => {
-    const at = pick() % m.inboundRules.length;
-    return withRules(m, m.inboundRules.filter((_, i) => i !== at));
-  },
-  add: (m, pick) => {
-    const copy = { ...m.inboundRules[pick() % m.inboundRules.length], id: `added-${m.inboundRules.length}-${pick()}` };
-    const rules = [...m.inboundRules];
-    rules.splice(pick() % (rules.length + 1), 0, copy);
-    return withRules(m, rules);
-  },
-  sources: (m, pick) => {
-    const at = pick() % m.inboundRules.length;
-    const other = m.inboundRules[pick() % m.inboundRules.length];
-    return withRules(m, m.inboundRules.map((r, i) => (i === at ? { ...r, sources: other.sources } : r)));
-  },
-  services: (m, pick) => {
-    const at = pick() % m.inboundRules.length;
-    const other = m.inboundRules[pick() % m.inboundRules.length];
-    return withRules(m, m.inboundRules.map((r, i) => (i === at ? { ...r, services: other.services, destinations: other.destinations } : r)));
-  },
-  interface: (m, pick) => {
-    const at = pick() % m.inboundRules.length;
-    const names = ["any", ...m.interfaces.map((f) => f.name)];
-    return withRules(m, m.inboundRules.map((r, i) => (i === at ? { ...r, interface: names[pick() % names.length] } : r)));
-  },
-};
+const EDITS = RULE_EDITS;
 
 /** Every answer the analysis pages and the CLI give, as one comparable value. */
 function answers(device: CompiledModel, probes: readonly { from: string; interface: string; service: string; at: number }[]): string {
