@@ -1,28 +1,12 @@
 import { Link } from "react-router";
-import type { ProposalState } from "#models/proposal-states";
+import type { ProposalRow } from "#server/services/proposals.server";
 import { formatInstant } from "#server/engine/format";
 import { Table, Td, Th } from "../ui/table";
 import { Time } from "../ui/time";
 import { StateBadge } from "./proposal-bits";
 
-export type ListedProposal = {
-  id: string;
-  deviceId: string;
-  deviceName: string;
-  title: string;
-  state: ProposalState;
-  authorEmail: string;
-  authorName: string | null;
-  baseRevision: number;
-  stale: boolean;
-  windowStart: string;
-  windowEnd: string;
-  timezone: string;
-  approvals: number;
-  required: number;
-  updatedAt: string;
-  appliedRevision: number | null;
-};
+/** What the table shows of a proposal (a row as the proposals service lists it). */
+export type ListedProposal = Omit<ProposalRow, "stateLabel" | "authorUserId" | "liveRevision">;
 
 /** Proposals as rows: title, state and approvals, window in the device's zone, author; the device when several are listed. */
 export function ProposalTable({ proposals, slug, now, showDevice, caption }: { proposals: readonly ListedProposal[]; slug: string; now: string; showDevice: boolean; caption: string }) {
