@@ -1,7 +1,8 @@
 import ICAL from "ical.js";
 import { DateTime } from "luxon";
-import type { Browser, Page } from "@playwright/test";
+import type { APIRequest, APIRequestContext, Browser, Page } from "@playwright/test";
 import type { Role } from "#models/roles";
+import { formatInstant } from "#server/engine/format";
 import { expect, test, type BrowserProblems } from "./fixtures";
 import { hydrated, screenshot, seriousAccessibilityViolations, signIn, toast } from "./helpers";
 import { createTeam, outboxDirectory, type Team } from "./team";
@@ -112,6 +113,38 @@ async function editDraftRule(page: Page, id: string, fields: { interface?: strin
   await form.getByRole("button", { name: "Save rule" }).click();
   await expect(toast(page)).toContainText("in the draft");
   await expect(toast(page)).toContainText("The device is unchanged.");
+}
+
+/** An HTTP client signed in as a member (posts carry the site's Origin, as a browser's do). */
+async function memberClient(playwright: { request: APIRequest }, baseURL: string, team: Team, role: Role): Promise<APIRequestContext> {
+  return playwright.request.newContext({ baseURL, extraHTTPHeaders: { Origin: baseURL }, storageState: team.members[role].storageState });
+}
+
+/**
+ * Set-up over HTTP, for the steps the first scenario takes in the browser: the engineer proposes
+ * a change with the given window, disables the given rules in its draft (one element edit each)
+ * and submits it. Returns the proposal's path.
+ */
+async function submittedProposal(engineer: APIRequestContext, team: Team, details: { title: string; window: { start: string; end: string }; disable: string[] }): Promise<string> {
+  const created = await engineer.post(`${team.device.path}/proposals/new`, {
+    form: { intent: "create", title: details.title, reason: "The auditors need it for the week of the audit.", ticket: "CHG-3110", windowStart: details.window.start, windowEnd: details.window.end, workFrom: "" },
+    maxRedirects: 0,
+  });
+  const path = created.headers()["location"];
+  expect(created.status(), "propose a change").toBe(302);
+  for (const [index, ruleId] of details.disable.entries()) {
+    const edited = await engineer.post(`${path}/draft/rules`, { form: { intent: "disable-rule", ruleId, baseRevision: String(index + 1) }, maxRedirects: 0 });
+    expect(edited.status(), `disable ${ruleId} in the draft`).toBe(302);
+  }
+  const submitted = await engineer.post(`${path}/submit`, { data: {} });
+  expect(submitted.status(), `submit: ${await submitted.text()}`).toBe(200);
+  return path;
+}
+
+/** The reviewer approves the proposal over its JSON route. */
+async function approveOverHttp(reviewer: APIRequestContext, path: string): Promise<void> {
+  const approved = await reviewer.post(`${path}/approve`, { data: { reason: "Read the draft; fine for the audit week." } });
+  expect(approved.status(), `approve: ${await approved.text()}`).toBe(200);
 }
 
 for (const size of SIZES) {
@@ -238,3 +271,154 @@ for (const size of SIZES) {
   });
 }
 
+for (const size of SIZES) {
+  // The first choice keeps the draft's change, the second takes the live one: both ways of settling.
+  const choice = size.name === "1366" ? ("draft" as const) : ("live" as const);
+  test(`The device moves on while a proposal is open; its author brings the draft up to date, settles the conflict on the rule both changed (${choice === "draft" ? "keeping the draft's change" : "taking the live one"}), and the approvals start again (${size.name} px, ${size.scheme})`, async ({ browser, browserProblems, playwright }, testInfo) => {
+    test.setTimeout(240_000);
+    const baseURL = testInfo.project.use.baseURL ?? "";
+    const team = await createTeam(playwright.request, baseURL, `stale-${size.name}`);
+    const title = "Pause the scanner block and the vendor's night ssh for the audit";
+    const engineerClient = await memberClient(playwright, baseURL, team, "engineer");
+    const reviewerClient = await memberClient(playwright, baseURL, team, "reviewer");
+    const path = await submittedProposal(engineerClient, team, { title, window: windowOf("now", "Europe/Berlin"), disable: ["r-block", "r-maint"] });
+    await approveOverHttp(reviewerClient, path);
+
+    // Meanwhile an admin edits r-block — the rule the draft disables — directly on the live model.
+    const admin = await memberPage(browser, browserProblems, team, "admin", size);
+    await admin.goto(team.device.path);
+    await openDevicePage(admin, "Inbound rules");
+    await admin.getByRole("link", { name: "Edit rule r-block" }).click();
+    const ruleForm = admin.getByRole("form", { name: "Inbound rule" });
+    await expect(ruleForm.getByLabel("Rule id")).toHaveValue("r-block");
+    await ruleForm.getByLabel("Note").fill("scanner seen again on 2 Dec; keep it out");
+    await ruleForm.getByRole("button", { name: "Save rule" }).click();
+    await expect(toast(admin)).toContainText("Saved as revision r2");
+    const liveBlock = ruleList(admin).getByRole("listitem").first();
+    await expect(liveBlock).toHaveAccessibleName("Rule r-block at position 1");
+    // The edit form took r-block's own action and interface: still a deny, on outside.
+    await expect(liveBlock).toContainText("deny");
+    await expect(liveBlock).toContainText("on outside");
+    await expect(liveBlock).toContainText("scanner seen again on 2 Dec");
+
+    // The author finds the proposal marked stale in the device's list, and on its page.
+    const engineer = await memberPage(browser, browserProblems, team, "engineer", size);
+    await engineer.goto(team.device.path);
+    await openDevicePage(engineer, "Proposals");
+    const row = engineer.getByRole("row").filter({ has: engineer.getByRole("link", { name: title }) });
+    await expect(row).toContainText("the device moved on since");
+    await expect(row).toContainText("Approved");
+    await row.getByRole("link", { name: title }).click();
+    await hydrated(engineer);
+    const stale = engineer.getByRole("region", { name: "The device moved on: r1 → r2" });
+    await expect(stale).toContainText("r-block");
+    await expect(engineer.getByText("1 of 1 needed for this draft version")).toBeVisible();
+
+    // Bringing it up to date lists the conflict: r-block, changed on both sides.
+    await stale.getByRole("button", { name: "Bring the draft up to date" }).click();
+    const conflicts = stale.getByRole("group", { name: "Changed on both sides — choose which change to keep for each" });
+    await expect(conflicts).toBeVisible();
+    await expect(conflicts).toContainText("inbound rule r-block");
+    await expect(conflicts).toContainText("scanner seen again on 2 Dec");
+    await expect(conflicts).toContainText("Live:");
+    await expect(conflicts).toContainText("Draft:");
+    // Only r-block: the draft's other edit (r-maint) met nothing new on the live side.
+    await expect(conflicts).not.toContainText("r-maint");
+    await expect(stale.getByRole("alert").first()).toContainText("Not brought up to date: settle the conflict first.");
+    await keyStep(engineer, size, "83-proposal-conflict");
+
+    await conflicts.getByRole("radio", { name: choice === "draft" ? "Keep the draft's change" : "Take the live one" }).check();
+    await stale.getByRole("button", { name: "Bring up to date with these choices" }).click();
+    await expect(toast(engineer)).toContainText("Brought up to date with r2; the approvals start again.");
+    await expect(engineer.getByRole("region", { name: /^The device moved on/ })).toHaveCount(0);
+    await expect(engineer.getByText(/revision r2 · draft version \d+/)).toBeVisible();
+    // The approval was for the old draft: it no longer counts, and the proposal is back in review.
+    await expect(engineer.getByText("In review", { exact: true }).first()).toBeVisible();
+    await expect(engineer.getByText("0 of 1 needed for this draft version")).toBeVisible();
+    await expect(engineer.getByRole("region", { name: "Review" })).toContainText("no longer counts: the draft changed");
+    await keyStep(engineer, size, `84-proposal-up-to-date-${choice}`);
+
+    // The draft, read in its editor: the admin's note is in; r-block is disabled only if the draft's change was kept.
+    await engineer.getByRole("navigation", { name: "Edit the draft" }).getByRole("link", { name: "Inbound rules" }).click();
+    const draftBlock = ruleList(engineer).getByRole("listitem").filter({ has: engineer.getByText("r-block", { exact: true }) });
+    await expect(draftBlock).toContainText("scanner seen again on 2 Dec");
+    if (choice === "draft") await expect(draftBlock).toContainText("disabled");
+    else await expect(draftBlock).not.toContainText("disabled");
+    await expect(ruleList(engineer).getByRole("listitem").filter({ has: engineer.getByText("r-maint", { exact: true }) })).toContainText("disabled");
+    await engineerClient.dispose();
+    await reviewerClient.dispose();
+  });
+}
+
+for (const size of SIZES) {
+  test(`Refusals as people meet them: the author is not offered an approval (403 over JSON), applying before the window is refused naming it, a trainee reads without actions (${size.name} px, ${size.scheme})`, async ({ browser, browserProblems, playwright }, testInfo) => {
+    test.setTimeout(240_000);
+    // Both refusals below are caused on purpose: the author's own approval over JSON, and the early apply.
+    browserProblems.expect(403, /\/proposals\/[0-9a-f-]{36}\/approve$/);
+    browserProblems.expect(409, /\/proposals\/[0-9a-f-]{36}\.data$/);
+    const baseURL = testInfo.project.use.baseURL ?? "";
+    const team = await createTeam(playwright.request, baseURL, `refuse-${size.name}`);
+    const timezone = "Europe/Berlin";
+    const window = windowOf("tomorrow", timezone);
+    const title = "Pause the scanner block for the audit";
+    const engineerClient = await memberClient(playwright, baseURL, team, "engineer");
+    const path = await submittedProposal(engineerClient, team, { title, window, disable: ["r-block"] });
+
+    // The author, on their own proposal in review: no approval offered, and the JSON route says why.
+    const engineer = await memberPage(browser, browserProblems, team, "engineer", size);
+    await engineer.goto(`${baseURL}${path}`);
+    await hydrated(engineer);
+    const review = engineer.getByRole("region", { name: "Review" });
+    await expect(review).toContainText("You wrote this proposal, so someone else reviews it.");
+    await expect(engineer.getByRole("button", { name: "Approve" })).toHaveCount(0);
+    await expect(engineer.getByRole("form", { name: "Approve" })).toHaveCount(0);
+    const ownApproval = await engineer.evaluate(async (url) => {
+      const response = await fetch(url, { method: "POST", headers: { "Content-Type": "application/json" }, body: JSON.stringify({ reason: "" }) });
+      return { status: response.status, body: (await response.json()) as { error?: string } };
+    }, `${path}/approve`);
+    expect(ownApproval.status).toBe(403);
+    expect(ownApproval.body.error).toContain("You wrote this proposal, so someone else reviews it");
+
+    // Approved by the reviewer, it still cannot be applied before its window opens: the refusal names the window.
+    const reviewerClient = await memberClient(playwright, baseURL, team, "reviewer");
+    await approveOverHttp(reviewerClient, path);
+    await engineer.reload();
+    await hydrated(engineer);
+    await expect(engineer.getByText("Approved", { exact: true }).first()).toBeVisible();
+    const applyForm = engineer.getByRole("form", { name: "Apply the proposal" });
+    await expect(applyForm).toContainText("The change window is not open now; it can be applied inside it.");
+    await applyForm.getByRole("button", { name: "Apply as a new revision" }).click();
+    const refusal = applyForm.getByRole("alert").first();
+    await expect(refusal).toContainText("Not applied: it is");
+    await expect(refusal).toContainText(`outside the change window (${formatInstant(window.startAt, timezone)} to ${formatInstant(window.endAt, timezone)})`);
+    await expect(refusal).toContainText("ask an admin or owner to apply it now with a written reason");
+    await keyStep(engineer, size, "85-proposal-outside-window");
+    // Nothing was applied: the device is still at r1.
+    await expect(engineer.getByText("Current revision r1")).toBeVisible();
+    await expect(engineer.getByText("Approved", { exact: true }).first()).toBeVisible();
+
+    // A trainee sees the proposal in the list and reads it, with no action offered anywhere.
+    const trainee = await memberPage(browser, browserProblems, team, "trainee", size);
+    await trainee.goto(team.device.path);
+    await openDevicePage(trainee, "Proposals");
+    await expect(trainee.getByRole("link", { name: "Propose a change" })).toHaveCount(0);
+    const row = trainee.getByRole("row").filter({ has: trainee.getByRole("link", { name: title }) });
+    await expect(row).toContainText("Approved");
+    await row.getByRole("link", { name: title }).click();
+    await expect(trainee.getByRole("heading", { name: title, level: 2 })).toBeVisible();
+    await hydrated(trainee);
+    const main = trainee.getByRole("main");
+    await expect(main.getByRole("form")).toHaveCount(0);
+    await expect(main.getByRole("button", { name: /Approve|Request changes|Reject|Apply|Submit|Withdraw|Add the comment|Bring/ })).toHaveCount(0);
+    await expect(main.getByRole("textbox")).toHaveCount(0);
+    await keyStep(trainee, size, "86-proposal-trainee");
+    // The draft reads in the editor's sections, without its editing controls.
+    await main.getByRole("link", { name: "Read the draft's inbound rules" }).click();
+    await expect(draftBanner(trainee)).toBeVisible();
+    await expect(ruleList(trainee).getByRole("listitem").first()).toContainText("disabled");
+    await expect(trainee.getByRole("button", { name: /^Move rule|^Disable rule|^Delete rule/ })).toHaveCount(0);
+    await expect(trainee.getByRole("form", { name: "Inbound rule" })).toHaveCount(0);
+    await engineerClient.dispose();
+    await reviewerClient.dispose();
+  });
+}
