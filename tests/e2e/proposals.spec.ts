@@ -1,3 +1,4 @@
+import { readFileSync } from "node:fs";
 import ICAL from "ical.js";
 import { DateTime } from "luxon";
 import type { APIRequest, APIRequestContext, Browser, Page } from "@playwright/test";
@@ -422,3 +423,53 @@ for (const size of SIZES) {
     await reviewerClient.dispose();
   });
 }
+
+// FIXME(integrator): enable once the change record page (helper D1, review-ui) is merged; adjust
+// the link's and the page's names below to the page as built. Issue 11, "Must show": "the
+// change record prints". Kept here so the first scenario's proposal is followed to its record.
+test.fixme("The change record of an applied proposal shows its reason, approvals and revision, prints without the app's frame, and downloads as JSON", async ({ browser, browserProblems, playwright }, testInfo) => {
+  test.setTimeout(240_000);
+  const baseURL = testInfo.project.use.baseURL ?? "";
+  const team = await createTeam(playwright.request, baseURL, "record");
+  const title = "Pause the scanner block for the audit";
+  const engineerClient = await memberClient(playwright, baseURL, team, "engineer");
+  const reviewerClient = await memberClient(playwright, baseURL, team, "reviewer");
+  const path = await submittedProposal(engineerClient, team, { title, window: windowOf("now", "Europe/Berlin"), disable: ["r-block"] });
+  await approveOverHttp(reviewerClient, path);
+  const applied = await engineerClient.post(`${path}/apply`, { data: {} });
+  expect(applied.status(), await applied.text()).toBe(200);
+
+  const reviewer = await memberPage(browser, browserProblems, team, "reviewer", SIZES[0]);
+  await reviewer.goto(`${baseURL}${path}`);
+  await hydrated(reviewer);
+  await reviewer.getByRole("link", { name: /change record/i }).click();
+  await hydrated(reviewer);
+  const record = reviewer.getByRole("main");
+  await expect(record.getByRole("heading", { name: /change record/i }).first()).toBeVisible();
+  await expect(record).toContainText(title);
+  await expect(record).toContainText("The auditors need it for the week of the audit.");
+  await expect(record).toContainText("Dagny Mwangi");
+  await expect(record).toContainText("r2");
+  await screenshot(reviewer, "87-change-record-1366-light");
+
+  // Printed (CSS Media Queries 4, "print"): the app's navigation is gone, the record fits an A4 page's width.
+  await reviewer.setViewportSize({ width: 794, height: 1123 });
+  await reviewer.emulateMedia({ media: "print" });
+  await expect(reviewer.getByRole("navigation", { name: "Main" })).toBeHidden();
+  await expect(reviewer.getByRole("navigation", { name: "Device" })).toBeHidden();
+  await expect(record.getByRole("button")).toHaveCount(0);
+  const overflow = await reviewer.evaluate(() => (document.scrollingElement ?? document.documentElement).scrollWidth - window.innerWidth);
+  expect(overflow, "the printed record is wider than the page").toBeLessThanOrEqual(0);
+  const pdf = await reviewer.pdf({ format: "A4" });
+  expect(pdf.subarray(0, 5).toString("latin1")).toBe("%PDF-");
+  await reviewer.emulateMedia({ media: "screen" });
+
+  // And as JSON, for the change system: the same facts.
+  const download = reviewer.waitForEvent("download");
+  await record.getByRole("link", { name: /JSON/ }).click();
+  const saved = await (await download).path();
+  const json = JSON.parse(readFileSync(saved, "utf8")) as Record<string, unknown>;
+  expect(JSON.stringify(json)).toContain(title);
+  await engineerClient.dispose();
+  await reviewerClient.dispose();
+});
