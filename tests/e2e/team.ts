@@ -17,7 +17,7 @@ const INVITATION_LINK = /https?:\/\/\S+\/invitations\/[A-Za-z0-9_-]+/;
 const MODEL_FILE = path.resolve("tests/fixtures/models/harbourline-edge.json");
 const PEOPLE: Record<Role, string> = { owner: "Ada Pierce", admin: "Bram Okafor", engineer: "Chen Lindahl", reviewer: "Dagny Mwangi", trainee: "Emil Sato" };
 
-function outboxDirectory(): string {
+export function outboxDirectory(): string {
   const directory = process.env.E2E_OUTBOX_DIR;
   if (!directory) throw new Error("E2E_OUTBOX_DIR is not set; run the browser tests through playwright.config.ts");
   return directory;

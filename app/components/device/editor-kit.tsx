@@ -1,5 +1,5 @@
 import { useId, type ReactNode } from "react";
-import { Form, Link, useNavigation } from "react-router";
+import { Form, Link, useNavigation, useSearchParams } from "react-router";
 import { Button } from "../ui/button";
 import { Card } from "../ui/card";
 import { FieldNotes, FormError } from "../ui/field";
@@ -20,10 +20,13 @@ export function valuesFor(props: EditorProps, intent: string): { values: Record<
 
 /** A form of the device editor: carries the revision it was based on, for the conflict check. */
 export function EditorForm({ intent, baseRevision, children, className, label }: { intent: string; baseRevision: number; children: ReactNode; className?: string; label?: string }) {
+  const [searchParams] = useSearchParams();
   return (
     // Keyed by the revision: after a saved change the form starts empty again; after a
-    // refusal (same revision) it keeps what was typed.
-    <Form key={`${intent}-${baseRevision}`} method="post" className={className} noValidate aria-label={label} preventScrollReset>
+    // refusal (same revision) it keeps what was typed. And by the element being edited
+    // (`?edit=`): a select keeps its first selection when only its defaultValue changes, so
+    // without a fresh form "Edit rule r-drop" would show (and save) the previous element's action.
+    <Form key={`${intent}-${baseRevision}-${searchParams.get("edit") ?? ""}`} method="post" className={className} noValidate aria-label={label} preventScrollReset>
       <input type="hidden" name="intent" value={intent} />
       <input type="hidden" name="baseRevision" value={baseRevision} />
       {children}

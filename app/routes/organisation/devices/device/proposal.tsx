@@ -42,11 +42,12 @@ export async function loader({ params, context }: Route.LoaderArgs) {
 }
 
 export async function action({ request, params, context }: Route.ActionArgs) {
-  requireDevice(context);
+  const viewer = requireDevice(context);
   const proposalId = proposalIdOf(params.proposal);
   const values = formValues(await readForm(request));
   const intent = values.intent;
-  const here = new URL(request.url).pathname;
+  // The page's own address, not the request's: a post from the hydrated page arrives at "….data".
+  const here = `/o/${viewer.organisation.slug}/devices/${viewer.device.id}/proposals/${proposalId}`;
   if (intent === "details") {
     const access = requireDevice(context, "engineer");
     const read = readProposalDetails(values, access.effective.device.timezone);
@@ -333,7 +334,8 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
         ) : null}
 
         {can.review ? (
-          <div className="space-y-4 border-t border-line pt-4">
+          // Keyed by the number of reviews: after a verdict its forms start empty again.
+          <div key={`review-${view.reviews.length}`} className="space-y-4 border-t border-line pt-4">
             <Form method="post" className="space-y-3" aria-label="Approve">
               <input type="hidden" name="intent" value="approve" />
               <FormError message={approve.errors.form} />
@@ -423,7 +425,8 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
           <p className="mb-4 text-sm text-ink-muted">No comments yet.</p>
         )}
         {can.comment ? (
-          <Form method="post" className="space-y-3" aria-label="Comment">
+          // Keyed by the number of comments: after one is added the form starts empty, so it is not sent twice.
+          <Form key={`comment-${view.comments.length}`} method="post" className="space-y-3" aria-label="Comment">
             <input type="hidden" name="intent" value="comment" />
             <FormError message={comment.errors.form} />
             <SelectField label="About" name="ruleId" defaultValue={comment.values.ruleId ?? ""} error={comment.errors.ruleId}>
