@@ -193,8 +193,13 @@ export type SaveGuardNote = { action: AuditAction; changes: Record<string, unkno
 /**
  * Judges a direct save inside its transaction, on the exact documents that will be saved:
  * refuses by throwing a Refusal, or lets it through, with a note for the audit log or none.
+ * It may read more (the device's expectations) in the save's transaction.
  */
-export type SaveGuard = (current: DeviceAtRevision, validated: { document: ModelDocument; shared: SharedLibrary; effective: ModelDocument }) => SaveGuardNote | null;
+export type SaveGuard = (
+  current: DeviceAtRevision,
+  validated: { document: ModelDocument; shared: SharedLibrary; effective: ModelDocument },
+  transaction: Transaction,
+) => SaveGuardNote | null | Promise<SaveGuardNote | null>;
 
 /**
  * Applies an edit to the current document and saves the result as a new revision — only if
@@ -228,7 +233,7 @@ export async function saveEdit(
       if (!validated.ok) throw invalidModel(validated.errors);
       const changes = diffDocuments(current.effective, validated.effective);
       if (changes.length === 0 && !options.siteId) return { number: currentNumber, changes, saved: null, note: null };
-      const note = options.guard ? options.guard(current, validated) : null;
+      const note = options.guard ? await options.guard(current, validated, transaction) : null;
       const saved = await writeRevision(organisationId, current, validated, changes, actor, message, transaction, { siteId: options.siteId });
       if (note) await recordAuditEvent(actor, { organisationId, action: note.action, targetType: "device", targetId: deviceId, changes: { revision: saved.number, message, ...note.changes } }, transaction);
       return { number: saved.number, changes, saved, note };

@@ -15,6 +15,7 @@ import type { Conflict } from "#server/proposals/bring-up-to-date";
 import { localText } from "#server/proposals/change-window";
 import { proposalView, updateProposalDetails } from "#server/services/proposals.server";
 import { WRITTEN_REASON_MIN } from "#server/proposals/state";
+import { gateBlocks, gateSubject } from "#server/proposals/gate-words";
 import { DocumentChanges } from "#app/components/device/document-changes";
 import { TextAreaField } from "#app/components/device/editor-kit";
 import { DEVICE_SECTIONS, SECTION_TITLES } from "#app/components/device/sections";
@@ -109,6 +110,8 @@ function Submitting({ children, variant = "primary" }: { children: ReactNode; va
   );
 }
 
+const capitalised = (text: string): string => text.charAt(0).toUpperCase() + text.slice(1);
+
 const VERDICT_WORDS = { approved: "approved", changes_requested: "asked for changes", rejected: "rejected" } as const;
 
 export default function ProposalPage({ loaderData, actionData }: Route.ComponentProps) {
@@ -128,6 +131,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
   const details = resultFor(actionData, "details");
   const ruleIds = view.draft.inboundRules.map((rule) => rule.id);
   const blocked = view.gate.length > 0;
+  const gate = gateSubject(view.gate);
 
   return (
     <div className="mx-auto max-w-4xl space-y-6">
@@ -236,7 +240,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
         </section>
       ) : null}
 
-      <Section id="guard" title="Lockout guard">
+      <Section id="guard" title="Lockout guard and expectations">
         {view.draftProblems.length > 0 ? (
           <div className="text-sm text-danger">
             <p>The draft is no longer a valid model (a shared object it uses changed):</p>
@@ -252,7 +256,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
             <GateReasons reasons={view.gate} />
           </>
         ) : (
-          <p className="text-sm text-ink-muted">{view.draftChanges.length > 0 ? "No operator network loses its login, nor the address the author works from." : "Nothing to check yet: the draft changes nothing."}</p>
+          <p className="text-sm text-ink-muted">{view.draftChanges.length > 0 ? "No operator network loses its login, nor the address the author works from, and every expectation that held still holds." : "Nothing to check yet: the draft changes nothing."}</p>
         )}
         {proposal.guardAcknowledgement ? <p className="mt-3 text-sm">The author acknowledged the guard: “{proposal.guardAcknowledgement}”</p> : null}
       </Section>
@@ -305,7 +309,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
                 <Time at={review.at} now={now} />
                 {review.verdict === "approved" && !review.counts ? <Badge>no longer counts: the draft changed</Badge> : null}
                 {review.reason ? <p className="text-ink-muted">“{review.reason}”</p> : null}
-                {review.guardOverride ? <p className="text-ink-muted">Past the lockout guard: “{review.guardOverride}”</p> : null}
+                {review.guardOverride ? <p className="text-ink-muted">Approved past what blocked it: “{review.guardOverride}”</p> : null}
               </li>
             ))}
           </ul>
@@ -320,7 +324,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
             {submit.reasons.length > 0 ? <GateReasons reasons={submit.reasons} /> : null}
             {blocked ? (
               <TextAreaField
-                label="Acknowledge the lockout guard (only if the change is meant)"
+                label={`Acknowledge ${gate.words} (only if the change is meant)`}
                 name="acknowledgement"
                 defaultValue={submit.values.acknowledgement}
                 error={submit.errors.acknowledgement}
@@ -341,7 +345,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
               <TextAreaField label="Approval note (optional)" name="reason" rows={2} defaultValue={approve.values.reason} error={approve.errors.reason} />
               {blocked && can.approvePastGuard ? (
                 <TextAreaField
-                  label="Why approve past the lockout guard"
+                  label={`Why approve past ${gate.words}`}
                   name="guardOverride"
                   rows={2}
                   defaultValue={approve.values.guardOverride}
@@ -349,7 +353,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
                   hint={`At least ${WRITTEN_REASON_MIN} characters; recorded with your approval.`}
                 />
               ) : null}
-              {blocked && !can.approvePastGuard ? <p className="text-sm text-ink-muted">The lockout guard blocks this change: only an admin or owner can approve it.</p> : <Submitting>Approve</Submitting>}
+              {blocked && !can.approvePastGuard ? <p className="text-sm text-ink-muted">{capitalised(gateBlocks(view.gate))} this change: only an admin or owner can approve it.</p> : <Submitting>Approve</Submitting>}
             </Form>
             <div className="grid gap-4 md:grid-cols-2">
               <Form method="post" className="space-y-3" aria-label="Request changes">

@@ -113,6 +113,7 @@ export default function DeviceSection({ loaderData, actionData }: Route.Componen
           breakGlass={policy.changesThroughProposals}
           proposePath={proposePath}
           minimum={WRITTEN_REASON_MIN}
+          effect={actionData.effect}
         />
       ) : null}
       <SectionEditor {...loaderData} errors={guarded ? {} : errors} values={actionData?.values ?? {}} conflict={conflict} />
