@@ -4,7 +4,7 @@
 
 import { describe, expect, test } from "vitest";
 import { PROPOSAL_STATES, type ProposalState } from "#models/proposal-states";
-import { compileModel, trace } from "#server/engine/index";
+import { compileModel, trace, type Expectation } from "#server/engine/index";
 import { bringUpToDate } from "#server/proposals/bring-up-to-date";
 import { instantInZone, isInsideWindow, localText, windowProblem } from "#server/proposals/change-window";
 import { gateReasons, loginPaths } from "#server/proposals/gate.server";
@@ -138,8 +138,8 @@ describe("The gate names every reason a change is blocked", () => {
 
   // Decision 011: an expectation blocks when it held before and fails after — or can no longer
   // be checked; one that already failed does not (the change did not break it).
-  const deskSsh = { id: "desk-ssh", note: "", kind: "probe", from: "10.40.77.7", interface: "inside", service: "ssh", when: "all-week", expect: "login-mfa" } as const;
-  const noPasswordLogin = { id: "no-password-login", note: "", kind: "bound", sources: ["10.40.0.0/16"], interface: "inside", service: "ssh", atMost: "login-mfa" } as const;
+  const deskSsh: Expectation = { id: "desk-ssh", note: "", kind: "probe", from: "10.40.77.7", interface: "inside", service: "ssh", when: "all-week", expect: "login-mfa" };
+  const noPasswordLogin: Expectation = { id: "no-password-login", note: "", kind: "bound", sources: ["10.40.0.0/16"], interface: "inside", service: "ssh", atMost: "login-mfa" };
 
   test("An expectation that held and fails after the change blocks, naming its witness; one that failed already does not", () => {
     const withoutDesk = { ...MARINA, inboundRules: MARINA.inboundRules.filter((rule) => rule.id !== "r2") };
