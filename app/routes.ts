@@ -40,6 +40,7 @@ export default [
       route("exposure.csv", "routes/organisation/devices/device/exposure.csv.ts"),
       route("dismissals", "routes/organisation/devices/device/dismissals.ts"),
       route("expectations.json", "routes/organisation/devices/device/expectations.json.ts"),
+      route("proposals/:proposal/effect", "routes/organisation/devices/device/proposal-effect.ts"),
       route("proposals/:proposal/:step", "routes/organisation/devices/device/proposal-step.ts"),
       route("api/proposals", "routes/organisation/devices/device/api.proposals.ts"),
     ]),

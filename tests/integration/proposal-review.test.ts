@@ -12,7 +12,7 @@ import { changeEffect, compileModel, parseModel, trace } from "#server/engine/in
 import { addExpectation } from "#server/services/expectations.server";
 import { applyProposal, createProposal, reviewProposal } from "#server/services/proposals.server";
 import { applyElementEdit } from "#server/workspace/index";
-import { visibleText } from "../support/html";
+import { plain, visibleText } from "../support/html";
 import { attemptOf, details, mailbox, makeTeam, NOTE_R2, postJson, ref, revisionCount, type Team } from "../support/proposal-team";
 
 const sequelize = getDatabase();
@@ -113,5 +113,97 @@ describe("Expectations join the gate", () => {
     expect(refused.json.error).toMatch(/^Not applied: a failing expectation blocks this change and no admin or owner approved it past it\./);
     expect(await revisionCount(team.deviceId)).toBe(1);
     expect((await ChangeProposal.findByPk(proposal.id))?.state).toBe("approved");
+  });
+});
+
+/** The catch-all deny first: the NOC loses its logins (a lockout), everything else goes quiet too. */
+const DENY_FIRST = { kind: "rule.move", ruleId: "r4", to: 1 } as const;
+
+type EffectJson = {
+  proposal: { id: string; baseRevision: number; draftVersion: number; appliedRevision: number | null };
+  timezone: string;
+  ok: boolean;
+  effect: {
+    headline: string;
+    blocked: boolean;
+    totals: { gains: string; loses: string };
+    groups: Array<{ key: string; before: string; after: string; count: string; sources: { items: string[]; offset: number; limit: number; total: number }; witness: { from: string; interface: string; service: string; to: string; at: string } }>;
+    rules: { moved: Array<{ id: string; from: number; to: number }> };
+    blocking: Array<{ kind: string; subject: string }>;
+    picture: { cells: Array<{ interface: string; service: string; before: string; after: string; changed: boolean }> };
+  };
+};
+
+describe("The effect a reviewer reads", () => {
+  test("The effect JSON says what the page says, and every group's witness replays with trace on the base and on the draft; a draft edit refreshes it", async () => {
+    const team = await makeTeam("effect");
+    const { environment } = mailbox();
+    const proposal = await createProposal({ organisationId: team.organisationId, deviceId: team.deviceId }, details("Deny first", undefined, "10.20.30.41"), { kind: "edit", attempt: attemptOf(DENY_FIRST), message: "Moved inbound rule r4 to position 1" }, team.members.author.actor, environment);
+    const proposalPath = `${team.path}/proposals/${proposal.id}`;
+    // Anyone in the organisation reads it, a trainee too.
+    const trainee = await team.members.trainee.client();
+    const answer = await trainee.get(`${proposalPath}/effect`);
+    expect(answer.status).toBe(200);
+    expect(answer.headers.get("content-type")).toMatch(/^application\/json/);
+    const json = JSON.parse(answer.text) as EffectJson;
+    expect(json.proposal).toEqual({ id: proposal.id, baseRevision: 1, draftVersion: 1, appliedRevision: null });
+    expect(json.ok).toBe(true);
+
+    // The engine's effect of exactly these two documents.
+    const base = await deviceRevisions.find(team.organisationId, team.deviceId);
+    const draftDocument = parseModel((await ChangeProposal.findByPk(proposal.id))!.draftDocument);
+    if (!base || !draftDocument.ok) throw new Error("the base and the draft read");
+    const draft = compileModel(draftDocument.model);
+    const engine = changeEffect(base.analysis.compiled, draft, { workFrom: ["10.20.30.41"] });
+    expect(json.effect.headline).toBe(engine.headline);
+    expect(json.effect.headline).toMatch(/^Locks out operator network "noc-net"/);
+    expect(json.effect.blocked).toBe(true);
+    expect(json.effect.blocking.map((entry) => entry.kind)).toEqual(["lockout", "work-from"]);
+    expect(json.effect.rules.moved).toEqual([expect.objectContaining({ id: "r4", from: 4, to: 1 })]);
+    // A claim needs a witness: each group's probe gets 'before' on the base and 'after' on the draft.
+    expect(json.effect.groups.length).toBeGreaterThan(0);
+    for (const group of json.effect.groups) {
+      expect(trace(base.analysis.compiled, group.witness).outcome, group.key).toBe(group.before);
+      expect(trace(draft, group.witness).outcome, group.key).toBe(group.after);
+    }
+    const nocSsh = json.effect.picture.cells.find((cell) => cell.interface === "inside" && cell.service === "ssh");
+    expect(nocSsh).toMatchObject({ before: "login-mfa", after: "silent", changed: true });
+
+    // The page shows the same headline, the moved rule with a way to comment on it, and the picture.
+    const reviewer = await team.members.reviewer.client();
+    const page = await reviewer.get(proposalPath);
+    const text = visibleText(page.text).replace(/\s+/g, " ");
+    expect(text).toContain(engine.headline);
+    expect(text).toMatch(/Moved r4 comment ?: position 4 → 1/);
+    expect(page.text).toContain('data-testid="effect-picture"');
+    // "comment" beside a rule opens the comment form about it.
+    const about = await reviewer.get(`${proposalPath}?comment=r4`);
+    expect(plain(about.text)).toMatch(/<option value="r4" selected="">inbound rule r4<\/option>/);
+
+    // One page of a group's sources at a time.
+    const big = json.effect.groups.find((group) => group.sources.total >= 2);
+    if (big) {
+      const paged = JSON.parse((await trainee.get(`${proposalPath}/effect?group=${encodeURIComponent(big.key)}&offset=1&limit=1`)).text) as EffectJson;
+      expect(paged.effect.groups.find((group) => group.key === big.key)?.sources).toEqual({ items: [big.sources.items[1]], offset: 1, limit: 1, total: big.sources.total });
+    }
+    // The summary the draft editor refreshes: the headline and what blocks, nothing more.
+    const summary = JSON.parse((await trainee.get(`${proposalPath}/effect?summary=1`)).text) as { effect: Record<string, unknown> };
+    expect(Object.keys(summary.effect).sort()).toEqual(["blocked", "blocking", "changed", "headline", "totals"]);
+
+    // A draft edit (the deny back last): the effect follows the new draft version.
+    const author = await team.members.author.client();
+    expect((await author.post(`${proposalPath}/draft/rules`, { intent: "move-rule", ruleId: "r4", to: "4", baseRevision: "1" })).status).toBe(302);
+    const after = JSON.parse((await author.get(`${proposalPath}/effect?summary=1`)).text) as EffectJson;
+    expect(after.proposal.draftVersion).toBe(2);
+    expect(after.effect.headline).toBe("No source's outcome changes");
+    expect(after.effect.blocked).toBe(false);
+
+    // Bad input: a malformed offset is 400 with its path; another organisation's proposal is 404.
+    const bad = await trainee.get(`${proposalPath}/effect?offset=-3`);
+    expect(bad.status).toBe(400);
+    expect(JSON.parse(bad.text)).toEqual({ error: "The request is not valid.", issues: [{ path: "offset", message: "must be a whole number, 0 or more" }] });
+    const other = await makeTeam("effect-other");
+    expect((await (await other.members.owner.client()).get(`${other.path}/proposals/${proposal.id}/effect`)).status).toBe(404);
+    expect((await trainee.get(`${team.path}/proposals/not-an-id/effect`)).status).toBe(400);
   });
 });

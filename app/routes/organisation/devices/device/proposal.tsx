@@ -1,5 +1,5 @@
 import type { ReactNode } from "react";
-import { Form, Link, redirect, useNavigation } from "react-router";
+import { Form, Link, redirect, useNavigation, useSearchParams } from "react-router";
 import type { Route } from "./+types/proposal";
 import { serializeFlash } from "#server/auth/flash.server";
 import { getEnvironment } from "#server/config.server";
@@ -14,6 +14,8 @@ import { isProposalStep } from "#server/http/schemas";
 import type { Conflict } from "#server/proposals/bring-up-to-date";
 import { localText } from "#server/proposals/change-window";
 import { proposalView, updateProposalDetails } from "#server/services/proposals.server";
+import { proposalEffect } from "#server/services/proposal-effect.server";
+import { EffectDetails } from "#app/components/proposals/effect-section";
 import { WRITTEN_REASON_MIN } from "#server/proposals/state";
 import { gateBlocks, gateSubject } from "#server/proposals/gate-words";
 import { DocumentChanges } from "#app/components/device/document-changes";
@@ -29,14 +31,25 @@ import { plural } from "#server/engine/format";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.view.proposal.title ?? "Proposal"} · Sallyport` }];
 
-export async function loader({ params, context }: Route.LoaderArgs) {
+/** A whole number from the query, or undefined (the effect's sources page). */
+function offsetOf(text: string | null): number | undefined {
+  const value = Number(text ?? "");
+  return text && Number.isInteger(value) && value >= 0 ? value : undefined;
+}
+
+export async function loader({ request, params, context }: Route.LoaderArgs) {
   const access = requireDevice(context);
   const proposalId = proposalIdOf(params.proposal);
+  const url = new URL(request.url);
+  const ref = { organisationId: access.organisation.id, deviceId: access.device.id, proposalId };
   try {
-    const view = await proposalView({ organisationId: access.organisation.id, deviceId: access.device.id, proposalId }, { userId: access.user.id, role: access.role });
+    const [view, effect] = await Promise.all([
+      proposalView(ref, { userId: access.user.id, role: access.role }),
+      proposalEffect(ref, { group: url.searchParams.get("group") ?? undefined, offset: offsetOf(url.searchParams.get("offset")) }),
+    ]);
     // The window as the details form shows it: wall-clock times in the device's zone.
     const localWindow = { start: localText(new Date(view.proposal.windowStart), view.timezone), end: localText(new Date(view.proposal.windowEnd), view.timezone) };
-    return { view, localWindow, base: `/o/${access.organisation.slug}/devices/${access.device.id}`, now: new Date().toISOString() };
+    return { view, effect, localWindow, base: `/o/${access.organisation.slug}/devices/${access.device.id}`, now: new Date().toISOString() };
   } catch (error) {
     return refusedPage(error);
   }
@@ -115,7 +128,15 @@ const capitalised = (text: string): string => text.charAt(0).toUpperCase() + tex
 const VERDICT_WORDS = { approved: "approved", changes_requested: "asked for changes", rejected: "rejected" } as const;
 
 export default function ProposalPage({ loaderData, actionData }: Route.ComponentProps) {
-  const { view, base, now } = loaderData;
+  const { view, base, now, effect } = loaderData;
+  const [searchParams] = useSearchParams();
+  // "Comment" beside a rule of the effect opens the comment form about that rule.
+  const commentRule = searchParams.get("comment") ?? "";
+  const commentPath = (ruleId: string) => {
+    const next = new URLSearchParams(searchParams);
+    next.set("comment", ruleId);
+    return `?${next.toString()}#comments-heading`;
+  };
   const { proposal, can } = view;
   const draftBase = `${base}/proposals/${proposal.id}/draft`;
   const stale = view.liveChanges.length > 0;
@@ -129,7 +150,8 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
   const withdraw = resultFor(actionData, "withdraw");
   const update = resultFor(actionData, "bring-up-to-date");
   const details = resultFor(actionData, "details");
-  const ruleIds = view.draft.inboundRules.map((rule) => rule.id);
+  // The draft's rules, and the rules it removes (a comment may be about one of those too).
+  const ruleIds = [...new Set([...view.draft.inboundRules.map((rule) => rule.id), ...(effect.ok ? effect.view.rules.removed.map((rule) => rule.id) : [])])];
   const blocked = view.gate.length > 0;
   const gate = gateSubject(view.gate);
 
@@ -239,6 +261,18 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
           </Card>
         </section>
       ) : null}
+
+      <Section
+        id="effect"
+        title="Effect"
+        aside={<span className="text-sm text-ink-muted">{effect.basis.appliedRevision !== null ? `r${effect.basis.baseRevision} → r${effect.basis.appliedRevision}` : `r${effect.basis.baseRevision} → draft version ${effect.basis.draftVersion}`}</span>}
+      >
+        {effect.ok ? (
+          <EffectDetails effect={effect.view} search={searchParams} commentPath={can.comment ? commentPath : null} />
+        ) : (
+          <p className="text-sm text-danger">The draft is no longer a valid model, so its effect cannot be worked out: edit the draft.</p>
+        )}
+      </Section>
 
       <Section id="guard" title="Lockout guard and expectations">
         {view.draftProblems.length > 0 ? (
@@ -427,10 +461,10 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
           <p className="mb-4 text-sm text-ink-muted">No comments yet.</p>
         )}
         {can.comment ? (
-          <Form method="post" className="space-y-3" aria-label="Comment">
+          <Form key={commentRule} method="post" className="space-y-3" aria-label="Comment">
             <input type="hidden" name="intent" value="comment" />
             <FormError message={comment.errors.form} />
-            <SelectField label="About" name="ruleId" defaultValue={comment.values.ruleId ?? ""} error={comment.errors.ruleId}>
+            <SelectField label="About" name="ruleId" defaultValue={comment.values.ruleId ?? (ruleIds.includes(commentRule) ? commentRule : "")} error={comment.errors.ruleId}>
               <option value="">the whole proposal</option>
               {ruleIds.map((id) => (
                 <option key={id} value={id}>
