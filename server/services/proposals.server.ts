@@ -813,6 +813,13 @@ export async function listProposals(organisationId: string, filter: ProposalFilt
   return rows.filter((row) => !reviewer || !row.approvedBy.includes(reviewer)).map(({ approvedBy: _approvedBy, ...row }) => row);
 }
 
+/** The proposals applied to a device, by the revision each made: History links each revision to its change record. One query. */
+export async function appliedProposals(organisationId: string, deviceId: string): Promise<Array<{ revision: number; id: string; title: string }>> {
+  if (!UUID.test(deviceId)) return [];
+  const rows = await ChangeProposal.findAll({ where: { organisationId, deviceId, state: "applied" }, attributes: ["id", "title", "appliedRevisionNumber"] });
+  return rows.flatMap((row) => (row.appliedRevisionNumber === null ? [] : [{ revision: row.appliedRevisionNumber, id: row.id, title: row.title }]));
+}
+
 /** Open proposals per device of the organisation, for the fleet table. One query. */
 export async function openProposalCounts(organisationId: string): Promise<Map<string, number>> {
   const rows = await ChangeProposal.count({ where: { organisationId, state: { [Op.in]: [...OPEN_PROPOSAL_STATES] } }, group: ["deviceId"] });

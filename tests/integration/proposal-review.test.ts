@@ -207,3 +207,82 @@ describe("The effect a reviewer reads", () => {
     expect((await trainee.get(`${team.path}/proposals/not-an-id/effect`)).status).toBe(400);
   });
 });
+
+/** Every key path of a JSON value, arrays read through their first item ("reviews[].by.email"). */
+function keyPaths(value: unknown, prefix = ""): string[] {
+  if (Array.isArray(value)) return value.length === 0 ? [`${prefix}[]`] : keyPaths(value[0], `${prefix}[]`);
+  if (value === null || typeof value !== "object") return [prefix];
+  return Object.entries(value).flatMap(([key, inner]) => keyPaths(inner, prefix ? `${prefix}.${key}` : key));
+}
+
+describe("The change record", () => {
+  test("An applied proposal's change record shows the change, its effect, the expectations, the approvals with times and the revision; it downloads as JSON with stable keys; History links to it", async () => {
+    const team = await withPartnerExpectation("record");
+    const { environment } = mailbox();
+    const proposal = await createProposal(
+      { organisationId: team.organisationId, deviceId: team.deviceId },
+      { ...details("Note the partner rule"), reason: "The partner asked for a note on their rule.", ticket: "CHG-2042" },
+      { kind: "edit", attempt: attemptOf(NOTE_R2), message: "Changed inbound rule r2" },
+      team.members.author.actor,
+      environment,
+    );
+    const proposalPath = `${team.path}/proposals/${proposal.id}`;
+    const author = await team.members.author.client();
+    expect((await postJson(author, `${proposalPath}/submit`, {})).status).toBe(200);
+    const reviewer = await team.members.reviewer.client();
+    expect((await postJson(reviewer, `${proposalPath}/comment`, { body: "Fine by me; the note helps the night shift.", ruleId: "r2" })).status).toBe(200);
+    expect((await postJson(reviewer, `${proposalPath}/approve`, { reason: "Read the effect: nothing changes for anyone." })).status).toBe(200);
+    expect((await applyProposal(ref(team, proposal.id), {}, team.members.author.actor, environment)).revision).toBe(2);
+    const stored = await ChangeProposal.findByPk(proposal.id);
+    const approval = await AuditEvent.findOne({ where: { organisationId: team.organisationId, action: "proposal.approved", targetId: proposal.id } });
+
+    // The proposal page and History link to it.
+    expect((await reviewer.get(proposalPath)).text).toContain(`href="${proposalPath}/record"`);
+    const history = await reviewer.get(`${team.path}/history`);
+    expect(history.text).toContain(`href="${proposalPath}/record"`);
+    expect(history.text).toContain('aria-label="Change record of revision 2"');
+
+    // The page: every part a reviewer files with the change ticket.
+    const page = await reviewer.get(`${proposalPath}/record`);
+    expect(page.status).toBe(200);
+    expect(page.text).toContain("data-change-record");
+    const text = visibleText(page.text).replace(/\s+/g, " ");
+    for (const part of ["The change", "Effect and expectations", "Review", "Note the partner rule", "The partner asked for a note on their rule.", "CHG-2042", "No source's outcome changes", "changed r2 : note", "partner-console", "Read the effect: nothing changes for anyone.", "Fine by me; the note helps the night shift."]) expect(text).toContain(part);
+    expect(text).toMatch(/Approved by Reviewer record \(reviewer-record-[0-9a-f]{8}@test\.example\) \( ?reviewer ?\), \w{3} \d{1,2} \w{3} \d{4}, \d{2}:\d{2} Europe\/Oslo/);
+    expect(page.text).toContain(`href="${team.path}/history?to=2"`);
+
+    // The JSON: the same record, as a download, with stable keys.
+    const download = await reviewer.get(`${proposalPath}/record.json`);
+    expect(download.status).toBe(200);
+    expect(download.headers.get("content-type")).toBe("application/json; charset=utf-8");
+    expect(download.headers.get("content-disposition")).toBe(`attachment; filename="mole-edge-change-record-${proposal.id.slice(0, 8)}.json"`);
+    const record = JSON.parse(download.text) as Record<string, unknown> & { proposal: Record<string, unknown>; reviews: Array<Record<string, unknown>>; applied: Record<string, unknown>; expectations: Array<Record<string, unknown>>; window: Record<string, unknown> };
+    expect(keyPaths(record)).toEqual([
+      "format", "version",
+      "proposal.id", "proposal.title", "proposal.reason", "proposal.ticket", "proposal.state", "proposal.stateLabel", "proposal.author.name", "proposal.author.email", "proposal.workFrom", "proposal.createdAt", "proposal.submittedAt", "proposal.draftVersion", "proposal.baseRevision", "proposal.blockAcknowledged",
+      "device.id", "device.name", "device.timezone",
+      "window.start", "window.end", "window.timezone",
+      "applied.revision", "applied.at", "applied.by", "applied.outsideWindowReason",
+      "effect.comparedWith", "effect.fromRevision", "effect.headline", "effect.changed", "effect.totals.gains", "effect.totals.loses", "effect.groups[]",
+      "effect.rules.added[]", "effect.rules.removed[]", "effect.rules.moved[]", "effect.rules.changed[].id", "effect.rules.changed[].fields[]",
+      "effect.rules.becomeShadowed[]", "effect.rules.stopShadowed[]", "effect.rules.becomeRedundant[]", "effect.rules.stopRedundant[]",
+      "effect.findings.new[]", "effect.findings.resolved[]", "effect.findings.unchanged", "effect.lockout[]", "effect.workFrom[]", "effect.blocking[]",
+      "expectations[].id", "expectations[].kind", "expectations[].expectation", "expectations[].before.status", "expectations[].before.words", "expectations[].after.status", "expectations[].after.words", "expectations[].broken", "expectations[].fixed",
+      "reviews[].verdict", "reviews[].by.name", "reviews[].by.email", "reviews[].role", "reviews[].at", "reviews[].draftVersion", "reviews[].countsNow", "reviews[].reason", "reviews[].approvedPastBlock",
+      "comments[].by.name", "comments[].by.email", "comments[].at", "comments[].ruleId", "comments[].body", "comments[].draftVersion",
+    ]);
+    expect(record).toMatchObject({ format: "sallyport-change-record", version: 1, proposal: { id: proposal.id, title: "Note the partner rule", ticket: "CHG-2042", state: "applied", baseRevision: 1 }, device: { id: team.deviceId, name: "mole-edge", timezone: "Europe/Oslo" } });
+    expect(record.window).toEqual({ start: stored?.windowStart.toISOString(), end: stored?.windowEnd.toISOString(), timezone: "Europe/Oslo" });
+    expect(record.applied).toEqual({ revision: 2, at: stored?.appliedAt?.toISOString(), by: team.members.author.email, outsideWindowReason: "" });
+    expect(record.expectations).toEqual([expect.objectContaining({ id: "partner-console", before: expect.objectContaining({ status: "holds" }), after: expect.objectContaining({ status: "holds" }), broken: false })]);
+    // The approval's time is the one the audit log recorded for it.
+    expect(record.reviews).toEqual([expect.objectContaining({ verdict: "approved", role: "reviewer", countsNow: true, by: { name: team.members.reviewer.name, email: team.members.reviewer.email } })]);
+    expect(Math.abs(Date.parse(String(record.reviews[0].at)) - (approval?.createdAt.getTime() ?? 0))).toBeLessThan(5_000);
+
+    // Another organisation's proposal answers 404, page and JSON alike.
+    const other = await makeTeam("record-other");
+    const outsider = await other.members.owner.client();
+    expect((await outsider.get(`${other.path}/proposals/${proposal.id}/record`)).status).toBe(404);
+    expect((await outsider.get(`${other.path}/proposals/${proposal.id}/record.json`)).status).toBe(404);
+  });
+});

@@ -173,6 +173,12 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
             <StateBadge state={proposal.state} />
           </div>
           {proposal.reason ? <p className="mt-2 text-sm whitespace-pre-line">{proposal.reason}</p> : null}
+          <p className="mt-2 text-sm">
+            <Link to={`${base}/proposals/${proposal.id}/record`} className="text-harbour underline underline-offset-4">
+              Change record
+            </Link>{" "}
+            <span className="text-ink-muted">(to print, or download as JSON)</span>
+          </p>
           <dl className="mt-4 grid gap-x-6 gap-y-2 text-sm sm:grid-cols-[10rem_1fr]">
             <dt className="text-ink-muted">Change window</dt>
             <dd>
