@@ -4,16 +4,19 @@
 // deleting a device under the change policy. Each test makes its own organisation.
 // Semantics: docs/decisions/010-change-proposals.md and 011-expectations.md.
 
+import { DateTime } from "luxon";
 import { afterAll, describe, expect, test } from "vitest";
-import { AuditEvent, ChangeProposal } from "#models/index";
+import { AuditEvent, ChangeProposal, Site } from "#models/index";
 import { getDatabase } from "#server/db/database.server";
 import { deviceRevisions } from "#server/devices/index";
 import { changeEffect, compileModel, parseModel, trace } from "#server/engine/index";
 import { addExpectation } from "#server/services/expectations.server";
 import { applyProposal, createProposal, reviewProposal } from "#server/services/proposals.server";
 import { applyElementEdit } from "#server/workspace/index";
-import { plain, visibleText } from "../support/html";
-import { attemptOf, details, mailbox, makeTeam, NOTE_R2, postJson, ref, revisionCount, type Team } from "../support/proposal-team";
+import { postMultipart } from "../support/client";
+import { fieldError, plain, UUID, visibleText } from "../support/html";
+import { localText } from "#server/proposals/change-window";
+import { attemptOf, details, mailbox, makeTeam, MOLE, NOTE_R2, postJson, ref, revisionCount, TIMEZONE, type Team } from "../support/proposal-team";
 
 const sequelize = getDatabase();
 afterAll(() => sequelize.close());
@@ -284,5 +287,56 @@ describe("The change record", () => {
     const outsider = await other.members.owner.client();
     expect((await outsider.get(`${other.path}/proposals/${proposal.id}/record`)).status).toBe(404);
     expect((await outsider.get(`${other.path}/proposals/${proposal.id}/record.json`)).status).toBe(404);
+  });
+});
+
+describe("Importing a document as a proposal", () => {
+  test("The import preview of a new revision offers 'Import as a proposal': a title is asked for (nothing typed is lost when it is refused), and the proposal's draft is the document, the device unchanged", async () => {
+    const team = await makeTeam("import");
+    const engineer = await team.members.engineer.client();
+    const document = { ...MOLE, inboundRules: [MOLE.inboundRules[2], ...MOLE.inboundRules.filter((rule) => rule.id !== "r3")] };
+    const fields = { intent: "import", target: `device:${team.deviceId}`, fileName: "mole-ping-first.json", documentText: JSON.stringify(document) };
+    const preview = await postMultipart(engineer, "/o/" + team.slug + "/devices/import", { ...fields, intent: "preview" });
+    expect(preview.status).toBe(200);
+    const previewText = visibleText(preview.text);
+    expect(previewText).toContain("Or import it as a proposal");
+    const button = /<button([^>]*)>Import as a proposal<\/button>/.exec(preview.text)?.[1] ?? "";
+    expect(button).toContain('name="as"');
+    expect(button).toContain('value="proposal"');
+
+    // No title: refused beside the field, with the window as typed kept and nothing created.
+    const windowStart = localText(new Date(Date.now() + 86_400_000), TIMEZONE);
+    const windowEnd = localText(new Date(Date.now() + 90_000_000), TIMEZONE);
+    const untitled = await postMultipart(engineer, `/o/${team.slug}/devices/import`, { ...fields, as: "proposal", title: "", windowStart, windowEnd });
+    expect(untitled.status).toBe(400);
+    expect(fieldError(untitled.text, "Proposal title")).toBe("Give the change a title of at least 3 characters; it becomes the revision's message.");
+    expect(plain(untitled.text)).toContain(`value="${windowStart}"`);
+    expect(await ChangeProposal.count({ where: { deviceId: team.deviceId } })).toBe(0);
+    // A window that ends before it starts: said beside the window, the title kept.
+    const backwards = await postMultipart(engineer, `/o/${team.slug}/devices/import`, { ...fields, as: "proposal", title: "Ping deny first", windowStart: windowEnd, windowEnd: windowStart });
+    expect(backwards.status).toBe(400);
+    expect(fieldError(backwards.text, "Change window ends")).toBe("The window must end after it starts.");
+    expect(plain(backwards.text)).toContain('value="Ping deny first"');
+
+    // With a title: a proposal whose draft is the document, recorded as element edits; the device stays at r1.
+    const created = await postMultipart(engineer, `/o/${team.slug}/devices/import`, { ...fields, as: "proposal", title: "Ping deny first", windowStart, windowEnd });
+    expect(created.status, visibleText(created.text).slice(0, 300)).toBe(302);
+    const proposalId = created.location?.match(new RegExp(`^${team.path}/proposals/(${UUID})$`))?.[1] ?? "";
+    const proposal = await ChangeProposal.findByPk(proposalId);
+    expect(proposal).toMatchObject({ title: "Ping deny first", state: "draft", baseRevisionNumber: 1, authorUserId: team.members.engineer.userId, reason: "Imported from mole-ping-first.json." });
+    expect(proposal?.draftDocument.inboundRules.map((rule) => rule.id)).toEqual(["r3", "r1", "r2", "r4"]);
+    // The wall-clock time typed is read in the device's zone (IANA tz database, through luxon).
+    expect(proposal?.windowStart.toISOString()).toBe(DateTime.fromISO(windowStart, { zone: TIMEZONE }).toUTC().toISO());
+    expect(await revisionCount(team.deviceId)).toBe(1);
+    const audit = await AuditEvent.findOne({ where: { organisationId: team.organisationId, action: "proposal.created", targetId: proposalId } });
+    expect(audit?.changes).toMatchObject({ source: "document", edits: 1 });
+
+    // A new device cannot start as a proposal: there is nothing to propose a change to.
+    const site = await Site.findOne({ where: { organisationId: team.organisationId } });
+    const newDevice = await postMultipart(engineer, `/o/${team.slug}/devices/import`, { ...fields, target: `site:${site?.id ?? ""}`, as: "proposal", title: "New" });
+    expect(newDevice.status).toBe(400);
+    expect(visibleText(newDevice.text)).toContain("Only a new revision of an existing device can be imported as a proposal.");
+    // A trainee may not import at all.
+    expect((await postMultipart(await team.members.trainee.client(), `/o/${team.slug}/devices/import`, { ...fields, as: "proposal", title: "Trainee's", windowStart, windowEnd })).status).toBe(403);
   });
 });
