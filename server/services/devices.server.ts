@@ -6,6 +6,8 @@ import { revisionAnalysisQueue } from "../jobs/revision-analysis.server.ts";
 import type { ValidationIssue } from "../engine/index.ts";
 import type { AuditAction } from "#models/audit-actions.ts";
 import { Refusal } from "../errors.ts";
+import { hasAtLeastRole, type Role } from "../auth/roles.ts";
+import { WRITTEN_REASON_MIN } from "../proposals/state.ts";
 import { countElements, diffDocuments, effectiveDocument, validateDocument, type DocumentChange, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 import { lockSharedLibrary } from "./shared-library-lock.server.ts";
@@ -246,12 +248,31 @@ export async function saveEdit(
   }
 }
 
-export async function deleteDevice(organisationId: string, deviceId: string, actor: AuditActor): Promise<boolean> {
+/** Who deletes, under which change policy, and (for an admin's break-glass deletion) why. */
+export type DeletionPolicy = { changesThroughProposals: boolean; role: Role; breakGlassReason?: string };
+
+/**
+ * Deletes a device and its revisions (its proposals go with it: docs/decisions/010). When the
+ * organisation's changes go through proposals, only an admin's break-glass deletion with a
+ * written reason is allowed (403 otherwise, with the reason in words), and it is audited as such
+ * beside the deletion itself.
+ */
+export async function deleteDevice(organisationId: string, deviceId: string, actor: AuditActor, policy?: DeletionPolicy): Promise<boolean> {
+  let breakGlass = "";
+  if (policy?.changesThroughProposals) {
+    if (!hasAtLeastRole(policy.role, "admin")) throw new Refusal("Not deleted: in this organisation changes go through proposals, and deleting a device cannot be proposed. Ask an admin, who can delete it in an emergency (break-glass) with a written reason.", 403);
+    const reason = policy.breakGlassReason?.trim() ?? "";
+    if (!reason) throw new Refusal("Not deleted: in this organisation changes go through proposals. As an admin you can delete it in an emergency (break-glass), with a written reason.", 403, { field: "breakGlassReason" });
+    if (reason.length < WRITTEN_REASON_MIN) throw new Refusal(`A break-glass deletion needs a written reason of at least ${WRITTEN_REASON_MIN} characters, so the next reader knows why.`, 400, { field: "breakGlassReason" });
+    breakGlass = reason;
+  }
   return getDatabase().transaction(async (transaction) => {
     const device = await Device.findOne({ where: { id: deviceId, organisationId }, transaction });
     if (!device) return false;
     await device.destroy({ transaction });
-    await recordAuditEvent(actor, { organisationId, action: "device.deleted", targetType: "device", targetId: deviceId, changes: { name: device.name, lastRevision: device.currentRevisionNumber } }, transaction);
+    const facts = { name: device.name, lastRevision: device.currentRevisionNumber };
+    await recordAuditEvent(actor, { organisationId, action: "device.deleted", targetType: "device", targetId: deviceId, changes: facts }, transaction);
+    if (breakGlass) await recordAuditEvent(actor, { organisationId, action: "device.break-glass-deleted", targetType: "device", targetId: deviceId, changes: { ...facts, reason: breakGlass } }, transaction);
     return true;
   });
 }

@@ -6,7 +6,7 @@
 
 import { DateTime } from "luxon";
 import { afterAll, describe, expect, test } from "vitest";
-import { AuditEvent, ChangeProposal, Site } from "#models/index";
+import { AuditEvent, ChangeProposal, Device, Site } from "#models/index";
 import { getDatabase } from "#server/db/database.server";
 import { deviceRevisions } from "#server/devices/index";
 import { changeEffect, compileModel, parseModel, trace } from "#server/engine/index";
@@ -338,5 +338,51 @@ describe("Importing a document as a proposal", () => {
     expect(visibleText(newDevice.text)).toContain("Only a new revision of an existing device can be imported as a proposal.");
     // A trainee may not import at all.
     expect((await postMultipart(await team.members.trainee.client(), `/o/${team.slug}/devices/import`, { ...fields, as: "proposal", title: "Trainee's", windowStart, windowEnd })).status).toBe(403);
+  });
+});
+
+describe("Deleting a device under the change policy", () => {
+  test("When changes go through proposals, deleting a device is refused (403 with words) except an admin's break-glass deletion with a written reason, audited", async () => {
+    const team = await makeTeam("delete");
+    const admin = await team.members.admin.client();
+    expect((await admin.post(`/o/${team.slug}/settings/organisation`, { intent: "change-policy", approvalsRequired: "1", changesThroughProposals: "on" })).status).toBe(302);
+    const remove = { intent: "delete-device", baseRevision: "1", confirmName: "mole-edge" };
+
+    // An engineer (who could delete it before) is refused with the reason, the device kept.
+    const engineer = await team.members.engineer.client();
+    const refused = await engineer.post(`${team.path}/model/settings`, remove);
+    expect(refused.status).toBe(403);
+    expect(visibleText(refused.text)).toContain("Not deleted: in this organisation changes go through proposals, and deleting a device cannot be proposed.");
+    // An admin is asked for a written reason first; a short one is refused.
+    const noReason = await admin.post(`${team.path}/model/settings`, remove);
+    expect(noReason.status).toBe(403);
+    expect(fieldError(noReason.text, "Why delete it now, outside a proposal (break-glass)")).toMatch(/^Not deleted: in this organisation changes go through proposals\. As an admin/);
+    const short = await admin.post(`${team.path}/model/settings`, { ...remove, breakGlassReason: "old box" });
+    expect(short.status).toBe(400);
+    expect(plain(short.text)).toContain('>old box</textarea>');
+    expect(await Device.count({ where: { id: team.deviceId } })).toBe(1);
+    expect(await AuditEvent.count({ where: { organisationId: team.organisationId, action: ["device.deleted", "device.break-glass-deleted"] } })).toBe(0);
+
+    // With a reason: deleted, and the break-glass recorded beside the deletion.
+    const reason = "The mole's edge box was replaced overnight after a flood.";
+    const deleted = await admin.post(`${team.path}/model/settings`, { ...remove, breakGlassReason: reason });
+    expect(deleted.status).toBe(302);
+    expect(deleted.location).toBe(`/o/${team.slug}/devices`);
+    expect(await Device.count({ where: { id: team.deviceId } })).toBe(0);
+    const breakGlass = await AuditEvent.findOne({ where: { organisationId: team.organisationId, action: "device.break-glass-deleted", targetId: team.deviceId } });
+    expect(breakGlass?.changes).toEqual({ name: "mole-edge", lastRevision: 1, reason });
+    expect(breakGlass?.actorEmail).toBe(team.members.admin.email);
+    expect(await AuditEvent.count({ where: { organisationId: team.organisationId, action: "device.deleted", targetId: team.deviceId } })).toBe(1);
+    // The audit log says it in words.
+    const log = visibleText((await admin.get(`/o/${team.slug}/settings/audit`)).text);
+    expect(log).toContain(`Deleted device “mole-edge” (last r1) though changes go through proposals (break-glass): “${reason}”`);
+  });
+
+  test("Without the policy an engineer deletes a device as before, with no reason asked", async () => {
+    const team = await makeTeam("delete-free");
+    const deleted = await (await team.members.engineer.client()).post(`${team.path}/model/settings`, { intent: "delete-device", baseRevision: "1", confirmName: "mole-edge" });
+    expect(deleted.status).toBe(302);
+    expect(await Device.count({ where: { id: team.deviceId } })).toBe(0);
+    expect(await AuditEvent.count({ where: { organisationId: team.organisationId, action: "device.break-glass-deleted" } })).toBe(0);
   });
 });
