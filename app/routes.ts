@@ -33,6 +33,7 @@ export default [
       route("proposals/new", "routes/organisation/devices/device/proposal-new.tsx"),
       route("proposals/:proposal", "routes/organisation/devices/device/proposal.tsx"),
       route("proposals/:proposal/draft/:section", "routes/organisation/devices/device/proposal-draft.tsx"),
+      route("proposals/:proposal/record", "routes/organisation/devices/device/proposal-record.tsx"),
       // Resource routes sit inside the device layout so its middleware resolves the device for them too.
       route("revisions/:revision/export", "routes/organisation/devices/device/export.ts"),
       route("api/trace", "routes/organisation/devices/device/api.trace.ts"),
@@ -40,6 +41,8 @@ export default [
       route("exposure.csv", "routes/organisation/devices/device/exposure.csv.ts"),
       route("dismissals", "routes/organisation/devices/device/dismissals.ts"),
       route("expectations.json", "routes/organisation/devices/device/expectations.json.ts"),
+      route("proposals/:proposal/effect", "routes/organisation/devices/device/proposal-effect.ts"),
+      route("proposals/:proposal/record.json", "routes/organisation/devices/device/proposal-record.json.ts"),
       route("proposals/:proposal/:step", "routes/organisation/devices/device/proposal-step.ts"),
       route("api/proposals", "routes/organisation/devices/device/api.proposals.ts"),
     ]),

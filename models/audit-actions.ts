@@ -15,6 +15,7 @@ export const AUDIT_ACTIONS = [
   "device.deleted",
   "device.break-glass-saved",
   "device.saved-past-guard",
+  "device.break-glass-deleted",
   "finding.dismissed",
   "finding.restored",
   "finding.dismissal-requested",

@@ -18,7 +18,12 @@ export type RefusalOptions = {
   conflict?: RevisionConflictFacts;
   /** Why a change is blocked (the gate of server/proposals/gate.server.ts): kind, words and details. */
   reasons?: readonly RefusalReason[];
+  /** What the refused change would have done, when it was judged by its effect (a direct save the gate blocks). */
+  effect?: RefusalEffect;
 };
+
+/** A change's effect in short: the headline in words, distinct sources that gain and lose (decimal), findings new and resolved, the rule changes in words. */
+export type RefusalEffect = { headline: string; gains: string; loses: string; findingsNew: number; findingsResolved: number; rules: readonly string[] };
 
 export type RefusalReason = { kind: string; words: string; details: readonly string[] };
 
@@ -35,6 +40,7 @@ export class Refusal extends Error {
   readonly issues: readonly RefusalIssue[];
   readonly conflict?: RevisionConflictFacts;
   readonly reasons: readonly RefusalReason[];
+  readonly effect?: RefusalEffect;
 
   constructor(
     message: string,
@@ -48,6 +54,7 @@ export class Refusal extends Error {
     this.issues = options.issues ?? [];
     this.conflict = options.conflict;
     this.reasons = options.reasons ?? [];
+    this.effect = options.effect;
   }
 }
 

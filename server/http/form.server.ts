@@ -1,6 +1,6 @@
 import { data } from "react-router";
 import type { z } from "zod";
-import type { RefusalReason, RefusalStatus, RevisionConflictFacts } from "../errors.ts";
+import type { RefusalEffect, RefusalReason, RefusalStatus, RevisionConflictFacts } from "../errors.ts";
 
 /** The form body, or a 400 for a body that is not a form at all (never a 500). */
 export async function readForm(request: Request): Promise<FormData> {
@@ -41,12 +41,14 @@ export type FormFailure = {
   conflict: RevisionConflictFacts | null;
   /** Why the change is blocked, when a gate refused it. */
   reasons: readonly RefusalReason[];
+  /** What the refused change would have done, when a gate judged it by its effect. */
+  effect: RefusalEffect | null;
 };
 
 /** The failure body: the messages, and the typed values minus secrets, so nothing is lost. */
-export function formFailure(errors: FieldErrors, values: Record<string, string>, extra: Partial<Pick<FormFailure, "issues" | "conflict" | "reasons">> = {}): FormFailure {
+export function formFailure(errors: FieldErrors, values: Record<string, string>, extra: Partial<Pick<FormFailure, "issues" | "conflict" | "reasons" | "effect">> = {}): FormFailure {
   const safeValues = Object.fromEntries(Object.entries(values).filter(([key]) => !/password/i.test(key)));
-  return { ok: false, errors, values: safeValues, issues: extra.issues ?? [], conflict: extra.conflict ?? null, reasons: extra.reasons ?? [] };
+  return { ok: false, errors, values: safeValues, issues: extra.issues ?? [], conflict: extra.conflict ?? null, reasons: extra.reasons ?? [], effect: extra.effect ?? null };
 }
 
 /** The action result for refused input, with status 400 unless said otherwise. */

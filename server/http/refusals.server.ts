@@ -21,7 +21,7 @@ export function refusedForm(error: unknown, values: Record<string, string>) {
   const refusal = refusalOf(error);
   const errors: FieldErrors = { form: refusal.message };
   if (refusal.field) errors[refusal.field] = refusal.message;
-  return data(formFailure(errors, values, { issues: refusal.issues, conflict: refusal.conflict ?? null, reasons: refusal.reasons }), { status: refusal.status, headers: refusal.headers });
+  return data(formFailure(errors, values, { issues: refusal.issues, conflict: refusal.conflict ?? null, reasons: refusal.reasons, effect: refusal.effect ?? null }), { status: refusal.status, headers: refusal.headers });
 }
 
 /** The same, for an action that answers in its own shape. */
@@ -39,6 +39,7 @@ export function refusedJson(error: unknown): Response {
       ...(refusal.issues.length ? { issues: refusal.issues } : {}),
       ...(refusal.conflict ? { conflict: refusal.conflict } : {}),
       ...(refusal.reasons.length ? { reasons: refusal.reasons } : {}),
+      ...(refusal.effect ? { effect: refusal.effect } : {}),
     },
     { status: refusal.status, headers: refusal.headers },
   );

@@ -30,6 +30,12 @@ export function localText(at: Date, zone: string): string {
   return DateTime.fromJSDate(at, { zone }).toFormat("yyyy-MM-dd'T'HH:mm");
 }
 
+/** A starting point for a new proposal's window: tomorrow evening, 20:00–22:00 in the device's zone, as datetime-local texts. */
+export function defaultWindowText(now: Date, zone: string): { windowStart: string; windowEnd: string } {
+  const start = DateTime.fromJSDate(now, { zone }).plus({ days: 1 }).set({ hour: 20, minute: 0, second: 0, millisecond: 0 });
+  return { windowStart: localText(start.toJSDate(), zone), windowEnd: localText(start.plus({ hours: 2 }).toJSDate(), zone) };
+}
+
 /** What is wrong with a window as a whole (order, length, already over), or null. */
 export function windowProblem(window: ChangeWindow, now: Date): string | null {
   if (window.end.getTime() <= window.start.getTime()) return "The window must end after it starts.";

@@ -1,22 +1,32 @@
 // The gate: the one place that says whether a change may go ahead as it is. Given the model
 // before (the proposal's base, or the live revision for a direct save) and after, it returns
-// the blocking reasons, each with its kind, its words and the details behind them. Today: the
-// lockout guard (an operator network loses every login path) and the address the author works
-// from losing its login. Another kind can join the list (the integrator adds failing
-// expectations) without any caller changing: callers only read `kind`, `words` and `details`.
+// the blocking reasons, each with its kind, its words and the details behind them: the lockout
+// guard (an operator network loses every login path), the address the author works from losing
+// its login, and the device's expectations that held before and fail after — or can no longer
+// be checked (docs/decisions/011). Callers only read `kind`, `words` and `details`.
 import { DateTime } from "luxon";
-import { DAYS, lockoutGuard, outcomeRank, trace, type CompiledModel } from "../engine/index.ts";
+import { compareExpectations, DAYS, lockoutGuard, outcomeRank, trace, type CompiledModel, type Expectation, type ExpectationResult } from "../engine/index.ts";
 
+import { OUTCOME_LABELS } from "../engine/vocabulary.ts";
 import type { GateReason } from "./gate-words.ts";
 
-export { GATE_REASON_KINDS, GATE_REASON_LABELS, type GateReason, type GateReasonKind } from "./gate-words.ts";
+export { GATE_REASON_KINDS, GATE_REASON_LABELS, gateBlocks, gateSubject, type GateReason, type GateReasonKind } from "./gate-words.ts";
 
 export type GateInput = {
   before: CompiledModel;
   after: CompiledModel;
   /** The address the author declared they work from ("" or absent: none). */
   workFrom?: string;
+  /** The device's expectations, checked on both models. */
+  expectations?: readonly Expectation[];
 };
+
+/** The failing probe `trace` replays, in words: "198.51.100.7 → wan https (to 203.0.113.2) at … gets Login with password". */
+function witnessWords(result: ExpectationResult): string[] {
+  const witness = result.witness;
+  if (!witness) return [];
+  return [`witness: ${witness.from} → ${witness.interface} ${witness.service}${witness.to ? ` (to ${witness.to})` : ""} at ${witness.at} gets ${OUTCOME_LABELS[witness.outcome]}`];
+}
 
 /** Lists of addresses are cut here; the count of the rest is said. */
 const DETAILS_SHOWN = 12;
@@ -42,6 +52,15 @@ export function gateReasons(input: GateInput): GateReason[] {
         details: before.map((path) => `it logs in today on ${path}`),
       });
     }
+  }
+  for (const change of compareExpectations(input.before, input.after, input.expectations ?? [])) {
+    if (!change.broken) continue;
+    const now = change.after.status === "unknown" ? "can no longer be checked" : "fails";
+    reasons.push({
+      kind: "expectation",
+      words: `Expectation “${change.id}” held before this change and ${now} after it: ${change.after.words}`,
+      details: [`expected: ${change.expectation}`, `before: ${change.before.words}`, ...witnessWords(change.after)],
+    });
   }
   return reasons;
 }

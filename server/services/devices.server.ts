@@ -6,6 +6,8 @@ import { revisionAnalysisQueue } from "../jobs/revision-analysis.server.ts";
 import type { ValidationIssue } from "../engine/index.ts";
 import type { AuditAction } from "#models/audit-actions.ts";
 import { Refusal } from "../errors.ts";
+import { hasAtLeastRole, type Role } from "../auth/roles.ts";
+import { WRITTEN_REASON_MIN } from "../proposals/state.ts";
 import { countElements, diffDocuments, effectiveDocument, validateDocument, type DocumentChange, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 import { lockSharedLibrary } from "./shared-library-lock.server.ts";
@@ -193,8 +195,13 @@ export type SaveGuardNote = { action: AuditAction; changes: Record<string, unkno
 /**
  * Judges a direct save inside its transaction, on the exact documents that will be saved:
  * refuses by throwing a Refusal, or lets it through, with a note for the audit log or none.
+ * It may read more (the device's expectations) in the save's transaction.
  */
-export type SaveGuard = (current: DeviceAtRevision, validated: { document: ModelDocument; shared: SharedLibrary; effective: ModelDocument }) => SaveGuardNote | null;
+export type SaveGuard = (
+  current: DeviceAtRevision,
+  validated: { document: ModelDocument; shared: SharedLibrary; effective: ModelDocument },
+  transaction: Transaction,
+) => SaveGuardNote | null | Promise<SaveGuardNote | null>;
 
 /**
  * Applies an edit to the current document and saves the result as a new revision — only if
@@ -228,7 +235,7 @@ export async function saveEdit(
       if (!validated.ok) throw invalidModel(validated.errors);
       const changes = diffDocuments(current.effective, validated.effective);
       if (changes.length === 0 && !options.siteId) return { number: currentNumber, changes, saved: null, note: null };
-      const note = options.guard ? options.guard(current, validated) : null;
+      const note = options.guard ? await options.guard(current, validated, transaction) : null;
       const saved = await writeRevision(organisationId, current, validated, changes, actor, message, transaction, { siteId: options.siteId });
       if (note) await recordAuditEvent(actor, { organisationId, action: note.action, targetType: "device", targetId: deviceId, changes: { revision: saved.number, message, ...note.changes } }, transaction);
       return { number: saved.number, changes, saved, note };
@@ -241,12 +248,31 @@ export async function saveEdit(
   }
 }
 
-export async function deleteDevice(organisationId: string, deviceId: string, actor: AuditActor): Promise<boolean> {
+/** Who deletes, under which change policy, and (for an admin's break-glass deletion) why. */
+export type DeletionPolicy = { changesThroughProposals: boolean; role: Role; breakGlassReason?: string };
+
+/**
+ * Deletes a device and its revisions (its proposals go with it: docs/decisions/010). When the
+ * organisation's changes go through proposals, only an admin's break-glass deletion with a
+ * written reason is allowed (403 otherwise, with the reason in words), and it is audited as such
+ * beside the deletion itself.
+ */
+export async function deleteDevice(organisationId: string, deviceId: string, actor: AuditActor, policy?: DeletionPolicy): Promise<boolean> {
+  let breakGlass = "";
+  if (policy?.changesThroughProposals) {
+    if (!hasAtLeastRole(policy.role, "admin")) throw new Refusal("Not deleted: in this organisation changes go through proposals, and deleting a device cannot be proposed. Ask an admin, who can delete it in an emergency (break-glass) with a written reason.", 403);
+    const reason = policy.breakGlassReason?.trim() ?? "";
+    if (!reason) throw new Refusal("Not deleted: in this organisation changes go through proposals. As an admin you can delete it in an emergency (break-glass), with a written reason.", 403, { field: "breakGlassReason" });
+    if (reason.length < WRITTEN_REASON_MIN) throw new Refusal(`A break-glass deletion needs a written reason of at least ${WRITTEN_REASON_MIN} characters, so the next reader knows why.`, 400, { field: "breakGlassReason" });
+    breakGlass = reason;
+  }
   return getDatabase().transaction(async (transaction) => {
     const device = await Device.findOne({ where: { id: deviceId, organisationId }, transaction });
     if (!device) return false;
     await device.destroy({ transaction });
-    await recordAuditEvent(actor, { organisationId, action: "device.deleted", targetType: "device", targetId: deviceId, changes: { name: device.name, lastRevision: device.currentRevisionNumber } }, transaction);
+    const facts = { name: device.name, lastRevision: device.currentRevisionNumber };
+    await recordAuditEvent(actor, { organisationId, action: "device.deleted", targetType: "device", targetId: deviceId, changes: facts }, transaction);
+    if (breakGlass) await recordAuditEvent(actor, { organisationId, action: "device.break-glass-deleted", targetType: "device", targetId: deviceId, changes: { ...facts, reason: breakGlass } }, transaction);
     return true;
   });
 }

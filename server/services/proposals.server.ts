@@ -11,15 +11,15 @@ import type { ProposalState, ReviewVerdict } from "#models/proposal-states.ts";
 import { hasAtLeastRole, type Role } from "../auth/roles.ts";
 import { getDatabase } from "../db/database.server.ts";
 import { deviceRevisions, type DeviceAtRevision } from "../devices/index.ts";
-import { compileModel, type CompiledModel } from "../engine/index.ts";
+import { changeEffect, type CompiledModel, type Expectation } from "../engine/index.ts";
 import { formatInstant } from "../engine/format.ts";
-import { Refusal } from "../errors.ts";
+import { Refusal, type RefusalEffect } from "../errors.ts";
 import { sendMail, type OutgoingMail } from "../mail/mailer.server.ts";
 import { proposalMail } from "../mail/messages.server.ts";
 import { bringUpToDate, type Conflict, type ConflictChoice } from "../proposals/bring-up-to-date.ts";
 import { windowCalendar } from "../proposals/calendar.server.ts";
 import { isInsideWindow, windowProblem, windowWords, type ChangeWindow } from "../proposals/change-window.ts";
-import { gateReasons, type GateReason } from "../proposals/gate.server.ts";
+import { gateBlocks, gateReasons, gateSubject, type GateReason } from "../proposals/gate.server.ts";
 import { isOpenState, nextState, notOpenWords, OPEN_PROPOSAL_STATES, PROPOSAL_STATE_LABELS, WRITTEN_REASON_MIN, type ProposalAction } from "../proposals/state.ts";
 import {
   canonicalJson,
@@ -35,6 +35,8 @@ import {
   type SharedLibrary,
 } from "../workspace/index.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
+import { compiledOn, documentDigest } from "./compiled-drafts.server.ts";
+import { listExpectations } from "./expectations.server.ts";
 import { invalidModel, loadSharedLibrary, saveEdit, writeRevision, type SaveGuard, type SaveGuardNote } from "./devices.server.ts";
 import { revisionAnalysisQueue } from "../jobs/revision-analysis.server.ts";
 import { lockSharedLibrary } from "./shared-library-lock.server.ts";
@@ -117,20 +119,36 @@ function validatedDraft(proposal: ChangeProposal, library: SharedLibrary) {
   return validated;
 }
 
-/** The blocking reasons for the draft against a revision (the base, or the live one when applying). */
-function gateOf(proposal: ChangeProposal, before: DeviceAtRevision, draftEffective: ModelDocument): readonly GateReason[] {
-  const digest = createHash("sha256").update(JSON.stringify(draftEffective)).digest("hex");
-  const key = `${before.revision.id}|${proposal.workFrom}|${digest}`;
+/** A digest of the device's expectations, so a cached answer is never one for another list. */
+export function expectationsDigest(expectations: readonly Expectation[]): string {
+  return createHash("sha256").update(JSON.stringify(expectations)).digest("hex");
+}
+
+/** The device's expectations, read in the caller's transaction (they are part of what a gate decides). */
+async function expectationsOf(ref: { organisationId: string; deviceId: string }, transaction?: Transaction): Promise<Expectation[]> {
+  return (await listExpectations(ref.organisationId, ref.deviceId, transaction)).map((stored) => stored.expectation);
+}
+
+/** The blocking reasons for the draft against a revision (the base, or the live one when applying), with the device's expectations. */
+function gateOf(proposal: ChangeProposal, before: DeviceAtRevision, draftEffective: ModelDocument, expectations: readonly Expectation[]): readonly GateReason[] {
+  const digest = documentDigest(draftEffective);
+  const key = `${before.revision.id}|${proposal.workFrom}|${digest}|${expectationsDigest(expectations)}`;
   const known = gateCache.get(key);
   if (known) return known;
-  const after: CompiledModel = compileModel(draftEffective, { basis: before.analysis.compiled });
-  const reasons = gateReasons({ before: before.analysis.compiled, after, workFrom: proposal.workFrom });
+  const after: CompiledModel = compiledOn(before, draftEffective, digest).compiled;
+  const reasons = gateReasons({ before: before.analysis.compiled, after, workFrom: proposal.workFrom, expectations });
   gateCache.set(key, reasons);
   return reasons;
 }
 
-function gateRefusal(reasons: readonly GateReason[], lead: string, status: 403 | 409, field?: string): Refusal {
-  return new Refusal(`${lead} ${reasons.map((reason) => reason.words).join(" ")}`, status, { reasons, field });
+function gateRefusal(reasons: readonly GateReason[], lead: string, status: 403 | 409, field?: string, effect?: RefusalEffect): Refusal {
+  return new Refusal(`${lead} ${reasons.map((reason) => reason.words).join(" ")}`, status, { reasons, field, effect });
+}
+
+/** "The lockout guard blocks this change", "A failing expectation blocks this change" …, capitalised. */
+function blocksThisChange(reasons: readonly GateReason[]): string {
+  const words = `${gateBlocks(reasons)} this change`;
+  return words.charAt(0).toUpperCase() + words.slice(1);
 }
 
 async function revisionOf(ref: { organisationId: string; deviceId: string }, number: number, transaction?: Transaction): Promise<DeviceAtRevision> {
@@ -372,13 +390,14 @@ export async function submitProposal(ref: ProposalRef, input: { acknowledgement?
     const base = await revisionOf(ref, proposal.baseRevisionNumber, transaction);
     const draft = validatedDraft(proposal, await loadSharedLibrary(ref.organisationId, transaction));
     if (diffDocuments(base.effective, draft.effective).length === 0) throw new Refusal("The draft changes nothing yet: edit it before submitting it for review.", 409);
-    const reasons = gateOf(proposal, base, draft.effective);
+    const reasons = gateOf(proposal, base, draft.effective, await expectationsOf(ref, transaction));
     let acknowledgement = "";
     if (reasons.length > 0) {
       if (!input.acknowledgement?.trim()) {
-        throw gateRefusal(reasons, "Not submitted: the lockout guard blocks this change. Change the draft so nobody loses their way in — or, when the change is meant, acknowledge it in writing and an admin or owner will decide.", 409, "acknowledgement");
+        const fix = reasons.every((reason) => reason.kind === "expectation") ? "Change the draft so every expectation that holds today still holds" : "Change the draft so nobody loses their way in";
+        throw gateRefusal(reasons, `Not submitted: ${gateBlocks(reasons)} this change. ${fix} — or, when the change is meant, acknowledge it in writing and an admin or owner will decide.`, 409, "acknowledgement");
       }
-      acknowledgement = assertWrittenReason(input.acknowledgement, "acknowledgement", "Submitting past the lockout guard", reasons);
+      acknowledgement = assertWrittenReason(input.acknowledgement, "acknowledgement", `Submitting past ${gateSubject(reasons).words}`, reasons);
     }
     await proposal.update({ state: next, submittedAt: nowOf(environment), guardAcknowledgement: acknowledgement }, { transaction });
     await audit(actor, proposal, "proposal.submitted", { draftVersion: proposal.draftVersion, ...(acknowledgement ? { acknowledgement, guard: reasons.map((reason) => reason.words) } : {}) }, transaction);
@@ -389,7 +408,7 @@ export async function submitProposal(ref: ProposalRef, input: { acknowledgement?
     `${actor.name} asks for a review of “${proposal.title}” on ${context.deviceName}.`,
     ...(proposal.reason ? [`Why: ${proposal.reason}`] : []),
     windowSentence(proposal, context.timezone),
-    ...(reasons.length > 0 ? [`The lockout guard blocks this change (${reasons.map((reason) => reason.words).join(" ")}). The author acknowledged it: “${proposal.guardAcknowledgement}”. Only an admin or owner can approve it, with a written reason.`] : []),
+    ...(reasons.length > 0 ? [`${blocksThisChange(reasons)} (${reasons.map((reason) => reason.words).join(" ")}). The author acknowledged it: “${proposal.guardAcknowledgement}”. Only an admin or owner can approve it, with a written reason.`] : []),
   ]);
   return { state: proposal.state, reasons };
 }
@@ -451,11 +470,11 @@ export async function reviewProposal(ref: ProposalRef, input: ReviewInput, actor
       const next = stepTo(proposal, complete ? "complete-approval" : "approve");
       const base = await revisionOf(ref, proposal.baseRevisionNumber, transaction);
       const draft = validatedDraft(proposal, await loadSharedLibrary(ref.organisationId, transaction));
-      const reasons = gateOf(proposal, base, draft.effective);
+      const reasons = gateOf(proposal, base, draft.effective, await expectationsOf(ref, transaction));
       let guardOverride = "";
       if (reasons.length > 0) {
-        if (!hasAtLeastRole(actor.role, "admin")) throw gateRefusal(reasons, "The lockout guard blocks this change: only an admin or owner can approve it, with a written reason.", 403);
-        guardOverride = assertWrittenReason(input.guardOverride ?? "", "guardOverride", "Approving past the lockout guard", reasons);
+        if (!hasAtLeastRole(actor.role, "admin")) throw gateRefusal(reasons, `${blocksThisChange(reasons)}: only an admin or owner can approve it, with a written reason.`, 403);
+        guardOverride = assertWrittenReason(input.guardOverride ?? "", "guardOverride", `Approving past ${gateSubject(reasons).words}`, reasons);
       }
       try {
         await ProposalReview.create({ proposalId: proposal.id, reviewerUserId: actor.userId, reviewerEmail: actor.email, reviewerRole: actor.role, verdict: "approved", reason: input.reason, guardOverrideReason: guardOverride, draftVersion: proposal.draftVersion }, { transaction });
@@ -597,9 +616,9 @@ export async function applyProposal(ref: ProposalRef, input: { outsideWindowReas
       outsideWindowReason = assertWrittenReason(input.outsideWindowReason, "outsideWindowReason", "Applying outside the change window");
     }
     const validated = validatedDraft(proposal, library);
-    const reasons = gateOf(proposal, live, validated.effective);
+    const reasons = gateOf(proposal, live, validated.effective, await expectationsOf(ref, transaction));
     if (reasons.length > 0 && !approvals.some((approval) => approval.guardOverrideReason !== "" && hasAtLeastRole(approval.reviewerRole, "admin"))) {
-      throw gateRefusal(reasons, "Not applied: the lockout guard blocks this change and no admin or owner approved it past the guard.", 409);
+      throw gateRefusal(reasons, `Not applied: ${gateBlocks(reasons)} this change and no admin or owner approved it past ${gateSubject(reasons).plural ? "them" : "it"}.`, 409);
     }
     const changes = diffDocuments(live.effective, validated.effective);
     if (changes.length === 0) throw new Refusal("Not applied: the draft is the same as the live revision.", 409);
@@ -623,15 +642,36 @@ export async function applyProposal(ref: ProposalRef, input: { outsideWindowReas
 // ---------------------------------------------------------------------------------------------
 // Direct saves under the change policy
 
+/** What a refused direct save would have done, in short: the page shows it beside the reasons. */
+function effectSummary(current: DeviceAtRevision, after: ReturnType<typeof compiledOn>, expectations: readonly Expectation[]): RefusalEffect {
+  const effect = changeEffect(current.analysis.compiled, after.compiled, { expectations, findings: { before: deviceRevisions.findingsOf(current), after: after.findings() } });
+  return {
+    headline: effect.headline,
+    gains: effect.totals.gains,
+    loses: effect.totals.loses,
+    findingsNew: effect.findings.new.length,
+    findingsResolved: effect.findings.resolved.length,
+    rules: [
+      ...effect.rules.added.map((rule) => `added ${rule.id} at position ${rule.position}`),
+      ...effect.rules.removed.map((rule) => `removed ${rule.id} (was at position ${rule.position})`),
+      ...effect.rules.moved.map((rule) => `moved ${rule.id} from position ${rule.from} to ${rule.to}`),
+      ...effect.rules.changed.map((rule) => `changed ${rule.id}: ${rule.fields.join(", ")}`),
+    ],
+  };
+}
+
 /**
  * The guard of a direct save in the live editor. When the organisation's changes go through
  * proposals, only an admin's break-glass save with a written reason passes (403 otherwise).
- * Otherwise a save that trips the gate is refused (409 with the reasons) unless an admin saves
- * it anyway with a written reason. Either override is recorded beside the revision.
+ * Otherwise a save that trips the gate — the lockout guard, or an expectation of the device
+ * that held and no longer does — is refused (409 with the reasons and the effect) unless an
+ * admin saves it anyway with a written reason. Either override is recorded beside the revision.
  */
 export function directSaveGuard(policy: { changesThroughProposals: boolean }, actor: ProposalActor, override: { reason: string } | null): SaveGuard {
-  return (current, validated) => {
-    const reasons = gateReasons({ before: current.analysis.compiled, after: compileModel(validated.effective, { basis: current.analysis.compiled }) });
+  return async (current, validated, transaction) => {
+    const expectations = await expectationsOf({ organisationId: current.device.organisationId, deviceId: current.device.id }, transaction);
+    const after = compiledOn(current, validated.effective);
+    const reasons = gateReasons({ before: current.analysis.compiled, after: after.compiled, expectations });
     const isAdmin = hasAtLeastRole(actor.role, "admin");
     if (policy.changesThroughProposals) {
       if (!isAdmin) throw new Refusal("Not saved: in this organisation changes go through proposals. Propose this change instead; an admin can save directly in an emergency (break-glass), with a reason.", 403, { reasons });
@@ -640,9 +680,12 @@ export function directSaveGuard(policy: { changesThroughProposals: boolean }, ac
       return { action: "device.break-glass-saved", changes: { reason, ...(reasons.length ? { guard: reasons.map((entry) => entry.words) } : {}) } };
     }
     if (reasons.length === 0) return null;
-    if (!isAdmin) throw gateRefusal(reasons, "Not saved: the lockout guard blocks this change. Change it so nobody loses their way in, or make it a proposal for an admin or owner to decide.", 409);
-    if (!override) throw gateRefusal(reasons, "Not saved: the lockout guard blocks this change. Change it, make it a proposal, or — as an admin — save it anyway with a written reason.", 409, "overrideReason");
-    const reason = assertWrittenReason(override.reason, "overrideReason", "Saving past the lockout guard", reasons);
+    const effect = effectSummary(current, after, expectations);
+    const blocks = gateBlocks(reasons);
+    const fix = reasons.every((reason) => reason.kind === "expectation") ? "Change it so the expectation holds" : "Change it so nobody loses their way in";
+    if (!isAdmin) throw gateRefusal(reasons, `Not saved: ${blocks} this change. ${fix}, or make it a proposal for an admin or owner to decide.`, 409, undefined, effect);
+    if (!override) throw gateRefusal(reasons, `Not saved: ${blocks} this change. Change it, make it a proposal, or — as an admin — save it anyway with a written reason.`, 409, "overrideReason", effect);
+    const reason = assertWrittenReason(override.reason, "overrideReason", `Saving past ${gateSubject(reasons).words}`, reasons);
     return { action: "device.saved-past-guard", changes: { reason, guard: reasons.map((entry) => entry.words) } };
   };
 }
@@ -770,6 +813,13 @@ export async function listProposals(organisationId: string, filter: ProposalFilt
   return rows.filter((row) => !reviewer || !row.approvedBy.includes(reviewer)).map(({ approvedBy: _approvedBy, ...row }) => row);
 }
 
+/** The proposals applied to a device, by the revision each made: History links each revision to its change record. One query. */
+export async function appliedProposals(organisationId: string, deviceId: string): Promise<Array<{ revision: number; id: string; title: string }>> {
+  if (!UUID.test(deviceId)) return [];
+  const rows = await ChangeProposal.findAll({ where: { organisationId, deviceId, state: "applied" }, attributes: ["id", "title", "appliedRevisionNumber"] });
+  return rows.flatMap((row) => (row.appliedRevisionNumber === null ? [] : [{ revision: row.appliedRevisionNumber, id: row.id, title: row.title }]));
+}
+
 /** Open proposals per device of the organisation, for the fleet table. One query. */
 export async function openProposalCounts(organisationId: string): Promise<Map<string, number>> {
   const rows = await ChangeProposal.count({ where: { organisationId, state: { [Op.in]: [...OPEN_PROPOSAL_STATES] } }, group: ["deviceId"] });
@@ -837,7 +887,7 @@ export async function proposalView(ref: ProposalRef, viewer: { userId: string; r
   const people = new Map((await User.findAll({ where: { id: [...new Set([proposal.authorUserId, ...comments.map((comment) => comment.authorUserId), ...reviews.map((review) => review.reviewerUserId)].filter((id): id is string => id !== null))] }, attributes: ["id", "name"] })).map((user) => [user.id, user.name]));
   const validated = validateDocument(proposal.draftDocument, library);
   const draftEffective = validated.ok ? validated.effective : null;
-  const gate = draftEffective && isOpenState(proposal.state) ? gateOf(proposal, base, draftEffective) : [];
+  const gate = draftEffective && isOpenState(proposal.state) ? gateOf(proposal, base, draftEffective, await expectationsOf(ref)) : [];
   const counted = new Set<string>();
   for (const review of reviews) if (review.verdict === "approved" && review.draftVersion === proposal.draftVersion) counted.add(review.reviewerUserId ?? review.reviewerEmail);
   const author = proposal.authorUserId !== null && proposal.authorUserId === viewer.userId;

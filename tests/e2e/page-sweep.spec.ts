@@ -60,6 +60,7 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
     `${device}/proposals`,
     proposalPath,
     `${proposalPath}/draft/rules`,
+    `${proposalPath}/record`,
     ...DEVICE_SECTIONS.map((section) => `${device}/model/${section}`),
   ];
   const gated = [...GATED.map((page) => ({ ...page, path: `${organisation}/${page.path}` })), { path: `${device}/proposals/new`, role: PAGE_ROLES.proposeChange }];

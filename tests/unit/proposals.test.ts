@@ -4,7 +4,7 @@
 
 import { describe, expect, test } from "vitest";
 import { PROPOSAL_STATES, type ProposalState } from "#models/proposal-states";
-import { compileModel, trace } from "#server/engine/index";
+import { compileModel, trace, type Expectation } from "#server/engine/index";
 import { bringUpToDate } from "#server/proposals/bring-up-to-date";
 import { instantInZone, isInsideWindow, localText, windowProblem } from "#server/proposals/change-window";
 import { gateReasons, loginPaths } from "#server/proposals/gate.server";
@@ -134,6 +134,40 @@ describe("The gate names every reason a change is blocked", () => {
     expect(gateReasons({ before, after, workFrom: "10.40.8.20" })).toEqual([]);
     // An address that never had a login cannot lose it.
     expect(gateReasons({ before, after, workFrom: "198.51.100.4" })).toEqual([]);
+  });
+
+  // Decision 011: an expectation blocks when it held before and fails after — or can no longer
+  // be checked; one that already failed does not (the change did not break it).
+  const deskSsh: Expectation = { id: "desk-ssh", note: "", kind: "probe", from: "10.40.77.7", interface: "inside", service: "ssh", when: "all-week", expect: "login-mfa" };
+  const noPasswordLogin: Expectation = { id: "no-password-login", note: "", kind: "bound", sources: ["10.40.0.0/16"], interface: "inside", service: "ssh", atMost: "login-mfa" };
+
+  test("An expectation that held and fails after the change blocks, naming its witness; one that failed already does not", () => {
+    const withoutDesk = { ...MARINA, inboundRules: MARINA.inboundRules.filter((rule) => rule.id !== "r2") };
+    const after = compileModel(withoutDesk, { basis: before });
+    const reasons = gateReasons({ before, after, expectations: [deskSsh] });
+    expect(reasons.map((reason) => reason.kind)).toEqual(["expectation"]);
+    expect(reasons[0].words).toMatch(/^Expectation “desk-ssh” held before this change and fails after it: /);
+    expect(reasons[0].details[0]).toBe("expected: 10.40.77.7 → inside ssh: Login with second factor, all week");
+    // The witness it names is what `trace` gives on the new model.
+    const witness = /^witness: (\S+) → inside ssh \(to (\S+)\) at (\S+) gets (.+)$/.exec(reasons[0].details.at(-1) ?? "");
+    expect(witness).not.toBeNull();
+    const traced = trace(after, { from: witness?.[1] ?? "", interface: "inside", service: "ssh", to: witness?.[2], at: witness?.[3] });
+    expect(traced.outcome).toBe("silent");
+    expect(witness?.[4]).toBe("No answer");
+    // Broken already on the old model: the change is not what broke it, so it does not block (the reverse change fixes it).
+    expect(gateReasons({ before: after, after: before, expectations: [deskSsh] })).toEqual([]);
+    // A bound that holds on both sides does not block either.
+    expect(gateReasons({ before, after, expectations: [noPasswordLogin] })).toEqual([]);
+  });
+
+  test("An expectation that can no longer be checked (its interface renamed away) blocks as well", () => {
+    const renamed = normalised({
+      ...MARINA,
+      interfaces: MARINA.interfaces.map((entry) => (entry.name === "inside" ? { ...entry, name: "office" } : entry)),
+      inboundRules: MARINA.inboundRules.map((rule) => (rule.interface === "inside" ? { ...rule, interface: "office" } : rule)),
+    });
+    const reasons = gateReasons({ before, after: compileModel(renamed, { basis: before }), expectations: [deskSsh, noPasswordLogin] });
+    expect(reasons.map((reason) => /^Expectation “([^”]+)” held before this change and can no longer be checked after it: Cannot be checked/.exec(reason.words)?.[1])).toEqual(["desk-ssh", "no-password-login"]);
   });
 
   test("A login limited to a schedule counts from the time it starts", () => {

@@ -37,6 +37,7 @@ import { RulesSection } from "./rules-section";
 import type { DeviceSection } from "./sections";
 import type { ReactNode } from "react";
 import { Link } from "react-router";
+import { WRITTEN_REASON_MIN } from "#server/proposals/state";
 
 // The choices of the editor's selects, worded for the person editing; keyed by the engine's
 // words so a new one needs its wording here.
@@ -82,6 +83,8 @@ export type SectionEditorProps = EditorProps & {
   conflict?: { currentNumber: number; changes: DocumentChange[]; message: string };
   /** Editing a proposal's draft: the model only, so no site choice and no deleting the device. */
   draft?: boolean;
+  /** Changes go through proposals: deleting the device is an admin's break-glass step, with a written reason. */
+  deleteNeedsReason?: boolean;
 };
 
 function Conflict({ conflict }: { conflict: NonNullable<SectionEditorProps["conflict"]> }) {
@@ -581,6 +584,16 @@ function SettingsSection(props: SectionEditorProps) {
         <p className="mt-1 text-sm text-ink-muted">Removes the device and every revision of it from Sallyport (the audit log keeps a record). The real device is not touched.</p>
         <EditorForm intent="delete-device" baseRevision={props.baseRevision} className="mt-4 space-y-3" label="Delete device">
           <TextField label={`Type ${device.name} to confirm`} name="confirmName" defaultValue={removal.values.confirmName} error={removal.errors.confirmName} autoComplete="off" />
+          {props.deleteNeedsReason ? (
+            <TextAreaField
+              label="Why delete it now, outside a proposal (break-glass)"
+              name="breakGlassReason"
+              rows={2}
+              defaultValue={removal.values.breakGlassReason}
+              error={removal.errors.breakGlassReason}
+              hint={`Changes go through proposals in this organisation, and a deletion cannot be proposed: as an admin you may delete it with a reason of at least ${WRITTEN_REASON_MIN} characters, recorded in the audit log.`}
+            />
+          ) : null}
           <button type="submit" className="inline-flex h-10 items-center rounded-control bg-danger px-4 text-sm font-medium text-white dark:text-black">
             Delete device
           </button>

@@ -1,4 +1,6 @@
 import { Form } from "react-router";
+import type { RefusalEffect } from "#server/errors";
+import { formatCount, plural, pluralWord } from "#server/engine/format";
 import { TextAreaField } from "../device/editor-kit";
 import { Button } from "../ui/button";
 import { Card } from "../ui/card";
@@ -10,7 +12,8 @@ function carried(values: Record<string, string>): Array<[string, string]> {
 }
 
 /**
- * A direct save the change policy or the lockout guard refused: why, and the two ways on —
+ * A direct save the change policy or the gate (the lockout guard, a failing expectation)
+ * refused: why, what the change would have done (its effect in short), and the two ways on —
  * make the change a proposal (its first draft edit), or, for an admin, save it anyway with a
  * written reason (break-glass when changes go through proposals).
  */
@@ -23,8 +26,10 @@ export function GuardPanel({
   breakGlass,
   proposePath,
   minimum,
+  effect = null,
 }: {
   message: string;
+  effect?: RefusalEffect | null;
   reasons: readonly ShownReason[];
   values: Record<string, string>;
   overrideError?: string;
@@ -42,6 +47,7 @@ export function GuardPanel({
           <GateReasons reasons={reasons} />
         </div>
       ) : null}
+      {effect ? <RefusedEffect effect={effect} /> : null}
       <div className="mt-4 flex flex-wrap items-start gap-6">
         {proposePath ? (
           <Form method="post" action={proposePath}>
@@ -76,5 +82,26 @@ export function GuardPanel({
         ) : null}
       </div>
     </Card>
+  );
+}
+
+/** What the refused save would have done: the headline, the sources that gain and lose, findings, and the rules it touched. */
+function RefusedEffect({ effect }: { effect: RefusalEffect }) {
+  return (
+    <div className="mt-4 rounded-control border border-line bg-surface-sunken p-3 text-sm" data-testid="refused-effect">
+      <h3 className="text-xs font-semibold tracking-wide text-ink-muted uppercase">The effect of this change</h3>
+      <p className="mt-1 font-medium">{effect.headline}</p>
+      <p className="mt-1 text-ink-muted">
+        {formatCount(effect.gains).text} {pluralWord(BigInt(effect.gains), { one: "source gains", other: "sources gain" })}, {formatCount(effect.loses).text} {pluralWord(BigInt(effect.loses), { one: "source loses", other: "sources lose" })} on at least one interface, service or time;{" "}
+        {plural(effect.findingsNew, { one: "new finding", other: "new findings" })}, {plural(effect.findingsResolved, { one: "finding", other: "findings" })} resolved.
+      </p>
+      {effect.rules.length > 0 ? (
+        <ul className="mt-1 list-disc pl-5 text-ink-muted">
+          {effect.rules.slice(0, 8).map((line) => (
+            <li key={line}>{line}</li>
+          ))}
+        </ul>
+      ) : null}
+    </div>
   );
 }

@@ -13,6 +13,9 @@ import { createDevice, deviceNameChoice, findDevice, listDevices, loadSharedLibr
 import { revisionEffect } from "#server/services/revision-effect.server";
 import { listSites } from "#server/services/sites.server";
 import { diffDocuments, summariseDocument, validateDocument, type ModelDocument } from "#server/workspace/index";
+import { readProposalDetails } from "#server/http/proposal-steps.server";
+import { defaultWindowText } from "#server/proposals/change-window";
+import { createProposal } from "#server/services/proposals.server";
 import { OutcomeChip } from "#app/components/outcome";
 import { isOutcome } from "#server/engine/vocabulary";
 import { MODEL_SCHEMA_VERSION, VERSION_1_UPGRADE_SUMMARY } from "#server/engine/index";
@@ -64,6 +67,8 @@ type Preview = {
   effectReadError: string | null;
   /** The device's pages (its trace page replays an effect row's witness); null for a new device. */
   devicePath: string | null;
+  /** A new revision of a device can become a proposal instead: its title and window as typed (or the defaults), and their problems. */
+  proposal: { values: { title: string; windowStart: string; windowEnd: string }; errors: Record<string, string>; timezone: string } | null;
 };
 type ActionResult = { stage: "refused"; message: string; problems: Problem[]; target: string; siteName: string; errors: StepErrors } | Preview;
 
@@ -122,7 +127,9 @@ export async function action({ request, context }: Route.ActionArgs) {
   const actor = actorOf(access, clientAddressOf(context));
   const documentName = validated.document.device.name;
 
-  const preview = async (error: string | null = null, proposed?: string, effectReadError: string | null = null): Promise<Preview> => {
+  const timezone = existing?.effective.device.timezone ?? "UTC";
+  const typedProposal = { title: String(form.get("title") ?? ""), ...defaultWindowText(new Date(), timezone), ...(form.has("windowStart") ? { windowStart: String(form.get("windowStart")), windowEnd: String(form.get("windowEnd") ?? "") } : {}) };
+  const preview = async (error: string | null = null, proposed?: string, effectReadError: string | null = null, proposalErrors: Record<string, string> = {}): Promise<Preview> => {
     const choice = existing ? null : await deviceNameChoice(access.organisation.id, documentName);
     // A new revision is judged by its effect on the current one (counts, findings, lockout guard).
     const effect = existing ? revisionEffect(existing, validated.effective) : null;
@@ -142,9 +149,27 @@ export async function action({ request, context }: Route.ActionArgs) {
       effect,
       effectReadError,
       devicePath: existing ? `/o/${access.organisation.slug}/devices/${existing.device.id}` : null,
+      proposal: existing ? { values: typedProposal, errors: proposalErrors, timezone } : null,
     };
   };
   if (intent === "preview") return data<ActionResult>(await preview());
+  // "Import as a proposal": the document becomes a proposal's draft on the device's current
+  // revision, reviewed before it lands; nothing changes on the device now.
+  if (form.get("as") === "proposal") {
+    if (!existing) return refuse("Only a new revision of an existing device can be imported as a proposal.", [], step);
+    const asked = readProposalDetails({ title: typedProposal.title, windowStart: typedProposal.windowStart, windowEnd: typedProposal.windowEnd }, timezone);
+    if (!asked.ok) return data<ActionResult>(await preview(null, undefined, null, asked.errors), { status: 400 });
+    try {
+      const proposal = await createProposal({ organisationId: access.organisation.id, deviceId: existing.device.id }, { ...asked.details, reason: `Imported from ${read.fileName}.` }, { kind: "document", document: validated.document }, actor);
+      const path = `/o/${access.organisation.slug}/devices/${existing.device.id}/proposals/${proposal.id}`;
+      throw redirect(path, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: `Proposal created from ${read.fileName} on r${proposal.baseRevisionNumber}: review its effect, then submit it for review.` }) } });
+    } catch (error) {
+      if (error instanceof Response) throw error;
+      const refusal = isRefusal(error) ? error : null;
+      if (refusal?.field) return data<ActionResult>(await preview(null, undefined, null, { [refusal.field]: refusal.message }), { status: refusal.status });
+      return refusedWith(error, (found): ActionResult => ({ stage: "refused", message: found.message, problems: [...found.issues], errors: {}, ...step }));
+    }
+  }
   try {
     if (existing) {
       const baseRevision = Number(form.get("baseRevision"));
@@ -310,7 +335,7 @@ function lockoutWords(lockout: ReadonlyArray<{ operatorNetwork: string }>): stri
 }
 
 function ImportPreview({ preview, busy }: { preview: PreviewData; busy: boolean }) {
-  const { rename, effect } = preview;
+  const { rename, effect, proposal } = preview;
   const changes = effect !== null && effect.changes.length > 0;
   const lockout = effect?.exposure.lockout ?? [];
   const carried = (
@@ -425,16 +450,29 @@ function ImportPreview({ preview, busy }: { preview: PreviewData; busy: boolean 
             ) : null}
           </div>
         ) : null}
+        {proposal ? (
+          <fieldset className="space-y-3 rounded-control border border-line p-3" data-testid="import-as-proposal">
+            <legend className="px-1 text-sm font-medium">Or import it as a proposal</legend>
+            <p className="text-sm text-ink-muted">
+              The document becomes the draft of a proposal on r{preview.baseRevision}: nothing changes on the device until someone else approves it and it is applied in its change window. Change the
+              reason and the rest on the proposal.
+            </p>
+            <TextField label="Proposal title" name="title" maxLength={200} defaultValue={proposal.values.title} error={proposal.errors.title} hint="Needed for a proposal only; it becomes the revision's message." />
+            <div className="grid gap-3 sm:grid-cols-2">
+              <TextField label="Change window starts" name="windowStart" type="datetime-local" defaultValue={proposal.values.windowStart} error={proposal.errors.windowStart} hint={`In the device's time zone, ${proposal.timezone}.`} />
+              <TextField label="Change window ends" name="windowEnd" type="datetime-local" defaultValue={proposal.values.windowEnd} error={proposal.errors.windowEnd ?? proposal.errors.form} />
+            </div>
+          </fieldset>
+        ) : null}
         <div className="flex flex-wrap items-center gap-3" data-testid="import-actions">
           <Button type="submit" variant={lockout.length > 0 ? "danger" : "primary"} disabled={busy}>
             Import {rename ? "as a new device" : preview.deviceName}
           </Button>
-          {/*
-            Issue 11 (change proposals): the "Import as a proposal" button goes here, beside
-            Import, for a new revision of a device (effect !== null). It submits this same form
-            (the document, target and base revision above) with its own intent to the proposal
-            service; this page only hands the document over.
-          */}
+          {proposal ? (
+            <Button type="submit" name="as" value="proposal" variant="secondary" disabled={busy}>
+              Import as a proposal
+            </Button>
+          ) : null}
         </div>
       </Form>
       {rename?.taken ? (

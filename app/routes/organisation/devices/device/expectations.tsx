@@ -3,7 +3,7 @@ import type { Route } from "./+types/expectations";
 import { serializeFlash } from "#server/auth/flash.server";
 import { hasAtLeastRole } from "#server/auth/roles";
 import { BUILTIN_SERVICES, checkExpectations, expectationWords, OUTCOMES } from "#server/engine/index";
-import type { Expectation, ExpectationResult, ExpectationWitness } from "#server/engine/index";
+import type { Expectation, ExpectationWitness } from "#server/engine/index";
 import { formatNumber, plural } from "#server/engine/format";
 import { OUTCOME_LABELS } from "#server/engine/vocabulary";
 import { Refusal } from "#server/errors";
@@ -20,6 +20,7 @@ import { Button } from "#app/components/ui/button";
 import { EmptyState } from "#app/components/ui/empty-state";
 import { FormError, SelectField, TextField } from "#app/components/ui/field";
 import { Time } from "#app/components/ui/time";
+import { EXPECTATION_STATUS } from "#app/components/proposals/expectation-status";
 
 export const meta: Route.MetaFunction = () => [{ title: "Expectations · Sallyport" }];
 
@@ -115,11 +116,7 @@ function tryItPath(devicePath: string, witness: ExpectationWitness): string {
   return `${devicePath}/analysis?${new URLSearchParams({ from: witness.from, interface: witness.interface, service: witness.service, ...(witness.to ? { to: witness.to } : {}), at: witness.at })}`;
 }
 
-const STATUS: Record<ExpectationResult["status"], { label: string; tone: "success" | "danger" | "neutral" }> = {
-  holds: { label: "Holds", tone: "success" },
-  fails: { label: "Fails", tone: "danger" },
-  unknown: { label: "Cannot be checked", tone: "neutral" },
-};
+const STATUS = EXPECTATION_STATUS;
 
 export default function Expectations({ loaderData }: Route.ComponentProps) {
   const { items, revision, canEdit, devicePath } = loaderData;

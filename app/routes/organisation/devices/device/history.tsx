@@ -1,7 +1,8 @@
-import { Form, useSearchParams } from "react-router";
+import { Form, Link, useSearchParams } from "react-router";
 import type { Route } from "./+types/history";
 import { requireDevice, requireDeviceRevision, revisionNumberOf } from "#server/http/device-access.server";
 import { listRevisions } from "#server/services/devices.server";
+import { appliedProposals } from "#server/services/proposals.server";
 import { diffDocuments } from "#server/workspace/index";
 import { DocumentChanges } from "#app/components/device/document-changes";
 import { Card } from "#app/components/ui/card";
@@ -12,7 +13,7 @@ export const meta: Route.MetaFunction = () => [{ title: "History · Sallyport" }
 
 export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireDevice(context);
-  const revisions = await listRevisions(access.device.id);
+  const [revisions, applied] = await Promise.all([listRevisions(access.device.id), appliedProposals(access.organisation.id, access.device.id)]);
   const url = new URL(request.url);
   const current = access.revision.number;
   const to = url.searchParams.has("to") ? revisionNumberOf(url.searchParams.get("to")) : current;
@@ -24,13 +25,15 @@ export async function loader({ request, context }: Route.LoaderArgs) {
     from,
     to,
     exportBase: `/o/${access.organisation.slug}/devices/${access.device.id}/revisions`,
+    // The revision a proposal made links to its change record.
+    records: Object.fromEntries(applied.map((entry) => [entry.revision, `/o/${access.organisation.slug}/devices/${access.device.id}/proposals/${entry.id}/record`])),
     changes: before && after ? diffDocuments(before.effective, after.effective) : null,
   };
 }
 
 export default function History({ loaderData }: Route.ComponentProps) {
   const [searchParams] = useSearchParams();
-  const { revisions, timezone, from, to, changes, exportBase } = loaderData;
+  const { revisions, timezone, from, to, changes, exportBase, records } = loaderData;
   return (
     <div className="grid gap-6 2xl:grid-cols-[3fr_2fr]">
       <section aria-labelledby="revisions-heading">
@@ -51,7 +54,14 @@ export default function History({ loaderData }: Route.ComponentProps) {
             {revisions.map((revision) => (
               <tr key={revision.number}>
                 <Td className="tabular font-semibold">r{revision.number}</Td>
-                <Td className="max-sm:min-w-56!">{revision.message || <span className="text-ink-faint">no message</span>}</Td>
+                <Td className="max-sm:min-w-56!">
+                  {revision.message || <span className="text-ink-faint">no message</span>}
+                  {records[revision.number] ? (
+                    <Link to={records[revision.number]} className="block text-sm text-harbour underline underline-offset-4" aria-label={`Change record of revision ${revision.number}`}>
+                      Change record
+                    </Link>
+                  ) : null}
+                </Td>
                 <Td className="text-ink-muted">{revision.authorEmail}</Td>
                 <Td className="tabular whitespace-nowrap text-ink-muted"><Time at={revision.createdAt} timeZone={timezone} clock /></Td>
                 <Td className="text-right">

@@ -1,4 +1,5 @@
-import { data, Link, NavLink, redirect } from "react-router";
+import { useEffect } from "react";
+import { data, Link, NavLink, redirect, useFetcher } from "react-router";
 import type { Route } from "./+types/proposal-draft";
 import { serializeFlash } from "#server/auth/flash.server";
 import { actorOf } from "#server/http/actor.server";
@@ -78,6 +79,45 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   }
 }
 
+/** The effect JSON route's summary (…/effect?summary=1). */
+type EffectSummary = { ok: true; proposal: { draftVersion: number }; effect: { headline: string; blocked: boolean; blocking: Array<{ kind: string; words: string }> } } | { ok: false; problems: string[] } | { error: string };
+
+/**
+ * The draft's effect in one line, fetched from the effect JSON route when the page opens and
+ * again after each edit (the draft version changes), so the author sees what the change does
+ * while drafting it. Announced politely to screen readers.
+ */
+function DraftEffectLine({ proposalPath, draftVersion }: { proposalPath: string; draftVersion: number }) {
+  const { load, data: answer, state } = useFetcher<EffectSummary>();
+  useEffect(() => {
+    load(`${proposalPath}/effect?summary=1&version=${draftVersion}`);
+  }, [load, proposalPath, draftVersion]);
+  const current = answer && "ok" in answer && answer.ok && answer.proposal.draftVersion === draftVersion ? answer : null;
+  return (
+    <p className="mt-2 text-sm" aria-live="polite" data-testid="draft-effect" data-state={current ? "ready" : state}>
+      <span className="font-medium">Effect of this draft: </span>
+      {current ? (
+        <>
+          <span className={current.effect.blocked ? "font-medium text-danger" : undefined} data-testid="effect-headline">
+            {current.effect.headline}
+          </span>
+          {/* The headline names lockouts already; the other blocks are said here. */}
+          {current.effect.blocked ? <span className="text-danger"> — blocked{current.effect.blocking.some((entry) => entry.kind !== "lockout") ? `: ${current.effect.blocking.filter((entry) => entry.kind !== "lockout").map((entry) => entry.words).join(" ")}` : ""}.</span> : null}{" "}
+        </>
+      ) : answer && "ok" in answer && !answer.ok ? (
+        <span className="text-danger">the draft is not a valid model. </span>
+      ) : answer && "error" in answer ? (
+        <span className="text-danger">{answer.error} </span>
+      ) : (
+        <span className="text-ink-muted">working it out… </span>
+      )}
+      <Link to={`${proposalPath}#effect-heading`} className="text-harbour underline underline-offset-4">
+        See the whole effect
+      </Link>
+    </p>
+  );
+}
+
 export default function DraftSection({ loaderData, actionData }: Route.ComponentProps) {
   const { proposal, proposalPath, section } = loaderData;
   return (
@@ -93,6 +133,7 @@ export default function DraftSection({ loaderData, actionData }: Route.Component
           </Link>{" "}
           (version {proposal.draftVersion}, made on r{proposal.baseRevision}). Saves here change only the draft; the device changes when the proposal is approved and applied.
         </p>
+        <DraftEffectLine proposalPath={proposalPath} draftVersion={proposal.draftVersion} />
       </div>
       <nav aria-label="Draft sections" className="flex flex-wrap gap-1 border-b border-line">
         {DEVICE_SECTIONS.map((entry) => (

@@ -1,5 +1,4 @@
 import { Form, redirect, useNavigation } from "react-router";
-import { DateTime } from "luxon";
 import type { Route } from "./+types/proposal-new";
 import { serializeFlash } from "#server/auth/flash.server";
 import { PAGE_ROLES } from "#server/auth/roles";
@@ -11,7 +10,7 @@ import { invalidForm, readForm, unknownIntent } from "#server/http/form.server";
 import { readProposalDetails } from "#server/http/proposal-steps.server";
 import { refusedForm } from "#server/http/refusals.server";
 import { clientAddressOf } from "#server/http/request-context.server";
-import { localText } from "#server/proposals/change-window";
+import { defaultWindowText } from "#server/proposals/change-window";
 import { createProposal } from "#server/services/proposals.server";
 import { ProposalDetailsFields } from "#app/components/proposals/details-fields";
 import { Button } from "#app/components/ui/button";
@@ -29,12 +28,7 @@ export async function loader({ context }: Route.LoaderArgs) {
   const access = requireDevice(context, PAGE_ROLES.proposeChange);
   const timezone = access.effective.device.timezone;
   // An evening window tomorrow, in the device's zone, as a starting point.
-  const start = DateTime.now().setZone(timezone).plus({ days: 1 }).set({ hour: 20, minute: 0, second: 0, millisecond: 0 });
-  return {
-    timezone,
-    revision: access.revision.number,
-    defaults: { windowStart: localText(start.toJSDate(), timezone), windowEnd: localText(start.plus({ hours: 2 }).toJSDate(), timezone) },
-  };
+  return { timezone, revision: access.revision.number, defaults: defaultWindowText(new Date(), timezone) };
 }
 
 export async function action({ request, context }: Route.ActionArgs) {

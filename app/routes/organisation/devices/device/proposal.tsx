@@ -1,5 +1,5 @@
 import type { ReactNode } from "react";
-import { Form, Link, redirect, useNavigation } from "react-router";
+import { Form, Link, redirect, useNavigation, useSearchParams } from "react-router";
 import type { Route } from "./+types/proposal";
 import { serializeFlash } from "#server/auth/flash.server";
 import { getEnvironment } from "#server/config.server";
@@ -14,7 +14,10 @@ import { isProposalStep } from "#server/http/schemas";
 import type { Conflict } from "#server/proposals/bring-up-to-date";
 import { localText } from "#server/proposals/change-window";
 import { proposalView, updateProposalDetails } from "#server/services/proposals.server";
+import { proposalEffect } from "#server/services/proposal-effect.server";
+import { EffectDetails } from "#app/components/proposals/effect-section";
 import { WRITTEN_REASON_MIN } from "#server/proposals/state";
+import { gateBlocks, gateSubject } from "#server/proposals/gate-words";
 import { DocumentChanges } from "#app/components/device/document-changes";
 import { TextAreaField } from "#app/components/device/editor-kit";
 import { DEVICE_SECTIONS, SECTION_TITLES } from "#app/components/device/sections";
@@ -28,14 +31,25 @@ import { plural } from "#server/engine/format";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.view.proposal.title ?? "Proposal"} · Sallyport` }];
 
-export async function loader({ params, context }: Route.LoaderArgs) {
+/** A whole number from the query, or undefined (the effect's sources page). */
+function offsetOf(text: string | null): number | undefined {
+  const value = Number(text ?? "");
+  return text && Number.isInteger(value) && value >= 0 ? value : undefined;
+}
+
+export async function loader({ request, params, context }: Route.LoaderArgs) {
   const access = requireDevice(context);
   const proposalId = proposalIdOf(params.proposal);
+  const url = new URL(request.url);
+  const ref = { organisationId: access.organisation.id, deviceId: access.device.id, proposalId };
   try {
-    const view = await proposalView({ organisationId: access.organisation.id, deviceId: access.device.id, proposalId }, { userId: access.user.id, role: access.role });
+    const [view, effect] = await Promise.all([
+      proposalView(ref, { userId: access.user.id, role: access.role }),
+      proposalEffect(ref, { group: url.searchParams.get("group") ?? undefined, offset: offsetOf(url.searchParams.get("offset")) }),
+    ]);
     // The window as the details form shows it: wall-clock times in the device's zone.
     const localWindow = { start: localText(new Date(view.proposal.windowStart), view.timezone), end: localText(new Date(view.proposal.windowEnd), view.timezone) };
-    return { view, localWindow, base: `/o/${access.organisation.slug}/devices/${access.device.id}`, now: new Date().toISOString() };
+    return { view, effect, localWindow, base: `/o/${access.organisation.slug}/devices/${access.device.id}`, now: new Date().toISOString() };
   } catch (error) {
     return refusedPage(error);
   }
@@ -110,10 +124,20 @@ function Submitting({ children, variant = "primary" }: { children: ReactNode; va
   );
 }
 
+const capitalised = (text: string): string => text.charAt(0).toUpperCase() + text.slice(1);
+
 const VERDICT_WORDS = { approved: "approved", changes_requested: "asked for changes", rejected: "rejected" } as const;
 
 export default function ProposalPage({ loaderData, actionData }: Route.ComponentProps) {
-  const { view, base, now } = loaderData;
+  const { view, base, now, effect } = loaderData;
+  const [searchParams] = useSearchParams();
+  // "Comment" beside a rule of the effect opens the comment form about that rule.
+  const commentRule = searchParams.get("comment") ?? "";
+  const commentPath = (ruleId: string) => {
+    const next = new URLSearchParams(searchParams);
+    next.set("comment", ruleId);
+    return `?${next.toString()}#comments-heading`;
+  };
   const { proposal, can } = view;
   const draftBase = `${base}/proposals/${proposal.id}/draft`;
   const stale = view.liveChanges.length > 0;
@@ -127,8 +151,10 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
   const withdraw = resultFor(actionData, "withdraw");
   const update = resultFor(actionData, "bring-up-to-date");
   const details = resultFor(actionData, "details");
-  const ruleIds = view.draft.inboundRules.map((rule) => rule.id);
+  // The draft's rules, and the rules it removes (a comment may be about one of those too).
+  const ruleIds = [...new Set([...view.draft.inboundRules.map((rule) => rule.id), ...(effect.ok ? effect.view.rules.removed.map((rule) => rule.id) : [])])];
   const blocked = view.gate.length > 0;
+  const gate = gateSubject(view.gate);
 
   return (
     <div className="mx-auto max-w-4xl space-y-6">
@@ -148,6 +174,12 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
             <StateBadge state={proposal.state} />
           </div>
           {proposal.reason ? <p className="mt-2 text-sm whitespace-pre-line">{proposal.reason}</p> : null}
+          <p className="mt-2 text-sm">
+            <Link to={`${base}/proposals/${proposal.id}/record`} className="text-harbour underline underline-offset-4">
+              Change record
+            </Link>{" "}
+            <span className="text-ink-muted">(to print, or download as JSON)</span>
+          </p>
           <dl className="mt-4 grid gap-x-6 gap-y-2 text-sm sm:grid-cols-[10rem_1fr]">
             <dt className="text-ink-muted">Change window</dt>
             <dd>
@@ -237,7 +269,19 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
         </section>
       ) : null}
 
-      <Section id="guard" title="Lockout guard">
+      <Section
+        id="effect"
+        title="Effect"
+        aside={<span className="text-sm text-ink-muted">{effect.basis.appliedRevision !== null ? `r${effect.basis.baseRevision} → r${effect.basis.appliedRevision}` : `r${effect.basis.baseRevision} → draft version ${effect.basis.draftVersion}`}</span>}
+      >
+        {effect.ok ? (
+          <EffectDetails effect={effect.view} search={searchParams} commentPath={can.comment ? commentPath : null} />
+        ) : (
+          <p className="text-sm text-danger">The draft is no longer a valid model, so its effect cannot be worked out: edit the draft.</p>
+        )}
+      </Section>
+
+      <Section id="guard" title="Lockout guard and expectations">
         {view.draftProblems.length > 0 ? (
           <div className="text-sm text-danger">
             <p>The draft is no longer a valid model (a shared object it uses changed):</p>
@@ -253,7 +297,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
             <GateReasons reasons={view.gate} />
           </>
         ) : (
-          <p className="text-sm text-ink-muted">{view.draftChanges.length > 0 ? "No operator network loses its login, nor the address the author works from." : "Nothing to check yet: the draft changes nothing."}</p>
+          <p className="text-sm text-ink-muted">{view.draftChanges.length > 0 ? "No operator network loses its login, nor the address the author works from, and every expectation that held still holds." : "Nothing to check yet: the draft changes nothing."}</p>
         )}
         {proposal.guardAcknowledgement ? <p className="mt-3 text-sm">The author acknowledged the guard: “{proposal.guardAcknowledgement}”</p> : null}
       </Section>
@@ -306,7 +350,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
                 <Time at={review.at} now={now} />
                 {review.verdict === "approved" && !review.counts ? <Badge>no longer counts: the draft changed</Badge> : null}
                 {review.reason ? <p className="text-ink-muted">“{review.reason}”</p> : null}
-                {review.guardOverride ? <p className="text-ink-muted">Past the lockout guard: “{review.guardOverride}”</p> : null}
+                {review.guardOverride ? <p className="text-ink-muted">Approved past what blocked it: “{review.guardOverride}”</p> : null}
               </li>
             ))}
           </ul>
@@ -321,7 +365,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
             {submit.reasons.length > 0 ? <GateReasons reasons={submit.reasons} /> : null}
             {blocked ? (
               <TextAreaField
-                label="Acknowledge the lockout guard (only if the change is meant)"
+                label={`Acknowledge ${gate.words} (only if the change is meant)`}
                 name="acknowledgement"
                 defaultValue={submit.values.acknowledgement}
                 error={submit.errors.acknowledgement}
@@ -343,7 +387,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
               <TextAreaField label="Approval note (optional)" name="reason" rows={2} defaultValue={approve.values.reason} error={approve.errors.reason} />
               {blocked && can.approvePastGuard ? (
                 <TextAreaField
-                  label="Why approve past the lockout guard"
+                  label={`Why approve past ${gate.words}`}
                   name="guardOverride"
                   rows={2}
                   defaultValue={approve.values.guardOverride}
@@ -351,7 +395,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
                   hint={`At least ${WRITTEN_REASON_MIN} characters; recorded with your approval.`}
                 />
               ) : null}
-              {blocked && !can.approvePastGuard ? <p className="text-sm text-ink-muted">The lockout guard blocks this change: only an admin or owner can approve it.</p> : <Submitting>Approve</Submitting>}
+              {blocked && !can.approvePastGuard ? <p className="text-sm text-ink-muted">{capitalised(gateBlocks(view.gate))} this change: only an admin or owner can approve it.</p> : <Submitting>Approve</Submitting>}
             </Form>
             <div className="grid gap-4 md:grid-cols-2">
               <Form method="post" className="space-y-3" aria-label="Request changes">
@@ -425,11 +469,11 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
           <p className="mb-4 text-sm text-ink-muted">No comments yet.</p>
         )}
         {can.comment ? (
-          // Keyed by the number of comments: after one is added the form starts empty, so it is not sent twice.
-          <Form key={`comment-${view.comments.length}`} method="post" className="space-y-3" aria-label="Comment">
+          // Keyed by the rule asked about and the number of comments: after one is added the form starts empty, so it is not sent twice.
+          <Form key={`comment-${commentRule}-${view.comments.length}`} method="post" className="space-y-3" aria-label="Comment">
             <input type="hidden" name="intent" value="comment" />
             <FormError message={comment.errors.form} />
-            <SelectField label="About" name="ruleId" defaultValue={comment.values.ruleId ?? ""} error={comment.errors.ruleId}>
+            <SelectField label="About" name="ruleId" defaultValue={comment.values.ruleId ?? (ruleIds.includes(commentRule) ? commentRule : "")} error={comment.errors.ruleId}>
               <option value="">the whole proposal</option>
               {ruleIds.map((id) => (
                 <option key={id} value={id}>

@@ -6,6 +6,7 @@ import { actorOf } from "#server/http/actor.server";
 import { requireDevice, revisionNumberOf } from "#server/http/device-access.server";
 import { formValuesWithLists, planDeviceEdit, PlannedAttempt, refusedDeviceEdit } from "#server/http/device-forms.server";
 import { appOriginOf, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
+import { refusedForm } from "#server/http/refusals.server";
 import { deleteDevice, loadSharedLibrary } from "#server/services/devices.server";
 import { saveDirectEdit } from "#server/services/proposals.server";
 import { WRITTEN_REASON_MIN } from "#server/proposals/state";
@@ -58,7 +59,12 @@ export async function action({ request, params, context }: Route.ActionArgs) {
       return invalidForm({ form: `Not deleted: the device changed since you opened it (now revision r${access.revision.number}). Review it, then delete again.` }, values, 409);
     }
     if (values.confirmName !== access.device.name) return invalidForm({ confirmName: `Type the device name (${access.device.name}) to confirm.` }, values);
-    await deleteDevice(access.organisation.id, access.device.id, actorOf(access, clientAddressOf(context)));
+    try {
+      // Under "changes go through proposals" only an admin's break-glass deletion, with a reason.
+      await deleteDevice(access.organisation.id, access.device.id, actorOf(access, clientAddressOf(context)), { changesThroughProposals: access.organisation.changesThroughProposals, role: access.role, breakGlassReason: values.breakGlassReason });
+    } catch (error) {
+      return refusedForm(error, values);
+    }
     throw redirect(`/o/${access.organisation.slug}/devices`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: `Device ${access.device.name} and its revisions were deleted.` }) } });
   }
   const baseRevision = revisionNumberOf(values.baseRevision);
@@ -113,9 +119,10 @@ export default function DeviceSection({ loaderData, actionData }: Route.Componen
           breakGlass={policy.changesThroughProposals}
           proposePath={proposePath}
           minimum={WRITTEN_REASON_MIN}
+          effect={actionData.effect}
         />
       ) : null}
-      <SectionEditor {...loaderData} errors={guarded ? {} : errors} values={actionData?.values ?? {}} conflict={conflict} />
+      <SectionEditor {...loaderData} errors={guarded ? {} : errors} values={actionData?.values ?? {}} conflict={conflict} deleteNeedsReason={policy.changesThroughProposals} />
     </>
   );
 }
