@@ -424,10 +424,8 @@ for (const size of SIZES) {
   });
 }
 
-// FIXME(integrator): enable once the change record page (helper D1, review-ui) is merged; adjust
-// the link's and the page's names below to the page as built. Issue 11, "Must show": "the
-// change record prints". Kept here so the first scenario's proposal is followed to its record.
-test.fixme("The change record of an applied proposal shows its reason, approvals and revision, prints without the app's frame, and downloads as JSON", async ({ browser, browserProblems, playwright }, testInfo) => {
+// Issue 11, "Must show": "the change record prints".
+test("The change record of an applied proposal shows its reason, approvals and revision, prints without the app's frame, and downloads as JSON", async ({ browser, browserProblems, playwright }, testInfo) => {
   test.setTimeout(240_000);
   const baseURL = testInfo.project.use.baseURL ?? "";
   const team = await createTeam(playwright.request, baseURL, "record");
@@ -445,8 +443,8 @@ test.fixme("The change record of an applied proposal shows its reason, approvals
   await reviewer.getByRole("link", { name: /change record/i }).click();
   await hydrated(reviewer);
   const record = reviewer.getByRole("main");
-  await expect(record.getByRole("heading", { name: /change record/i }).first()).toBeVisible();
-  await expect(record).toContainText(title);
+  await expect(record.getByRole("heading", { name: title }).first()).toBeVisible();
+  await expect(record).toContainText(`Change record · `);
   await expect(record).toContainText("The auditors need it for the week of the audit.");
   await expect(record).toContainText("Dagny Mwangi");
   await expect(record).toContainText("r2");
@@ -466,7 +464,7 @@ test.fixme("The change record of an applied proposal shows its reason, approvals
 
   // And as JSON, for the change system: the same facts.
   const download = reviewer.waitForEvent("download");
-  await record.getByRole("link", { name: /JSON/ }).click();
+  await record.getByRole("link", { name: "Download JSON" }).click();
   const saved = await (await download).path();
   const json = JSON.parse(readFileSync(saved, "utf8")) as Record<string, unknown>;
   expect(JSON.stringify(json)).toContain(title);
