@@ -4,6 +4,17 @@ import { buttonClasses } from "./ui/button";
 
 export type ErrorText = { status: number | null; title: string; message: string; stack?: string };
 
+const STATUS_TITLES: Record<number, string> = {
+  400: "Not understood",
+  403: "Not allowed",
+  404: "Not found",
+  405: "Not possible here",
+  409: "Changed meanwhile",
+  413: "Too large",
+  429: "Too many requests",
+  503: "Not available just now",
+};
+
 const UNEXPECTED = "An unexpected error occurred. The team has the details in the server log.";
 
 /** What to say about an error a loader or action threw: a refusal's own message, or a calm default. */
@@ -14,7 +25,8 @@ export function errorTextOf(error: unknown): ErrorText {
     if (payload && typeof payload === "object" && "message" in payload && typeof payload.message === "string") message = payload.message;
     else if (typeof payload === "string" && payload) message = payload;
     else if (error.status === 404) message = "There is nothing at this address, or you do not have access to it.";
-    const title = error.status === 404 ? "Not found" : error.status === 403 ? "Not allowed" : `${error.status} ${error.statusText || "Error"}`;
+    // Our own words per status: the status text that reaches the browser after an in-app navigation can be another status's.
+    const title = STATUS_TITLES[error.status] ?? (error.status >= 500 ? "Something went wrong" : "Not possible");
     return { status: error.status, title, message };
   }
   const text: ErrorText = { status: null, title: "Something went wrong", message: UNEXPECTED };
