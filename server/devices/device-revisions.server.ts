@@ -2,7 +2,7 @@
 // model" (docs/decisions/004). Every loader, action, service and resource route that needs a
 // device goes through a DeviceRevisions instance; nothing else queries device revisions.
 import { LRUCache } from "lru-cache";
-import { col, Op, type Transaction } from "sequelize";
+import { col, ForeignKeyConstraintError, Op, type Transaction } from "sequelize";
 import { Device, DeviceRevision, RevisionAnalysisRecord, Site } from "#models/index.ts";
 import type { Finding, Outcome } from "../engine/index.ts";
 import { currentRevision, summariseDocument, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
@@ -156,7 +156,13 @@ export class DeviceRevisions {
     const findings = this.#findings.get(revisionId) ?? analysis.findings;
     this.#findings.set(revisionId, findings);
     const { findingsBySeverity, worstOutsideOutcome } = summariseDocument(analysis.effective, analysis.compiled, findings);
-    await RevisionAnalysisRecord.bulkCreate([{ revisionId, findingsBySeverity, worstOutsideOutcome }], { ignoreDuplicates: true });
+    try {
+      await RevisionAnalysisRecord.bulkCreate([{ revisionId, findingsBySeverity, worstOutsideOutcome }], { ignoreDuplicates: true });
+    } catch (error) {
+      // The device (and with it the revision) was deleted while the analysis ran: nothing to keep.
+      if (!(error instanceof ForeignKeyConstraintError)) throw error;
+      this.#findings.delete(revisionId);
+    }
     return { findingsBySeverity, worstOutsideOutcome };
   }
 
