@@ -12,6 +12,25 @@ export type CompiledDraft = { digest: string; compiled: CompiledModel; findings(
 
 const drafts = new LRUCache<string, CompiledDraft>({ max: 6 });
 
+/**
+ * Drafts the engine has just validated, by proposal, draft version and the shared objects they
+ * were read with: a draft edit validates the new draft anyway, and the effect the editor fetches
+ * right after it would otherwise validate the same document again (docs: the bench's "draft edit
+ * → refreshed effect headline").
+ */
+const validatedDrafts = new LRUCache<string, ModelDocument>({ max: 16 });
+
+const validatedKey = (proposalId: string, draftVersion: number, libraryDigest: string) => `${proposalId}|v${draftVersion}|${libraryDigest}`;
+
+export function rememberValidatedDraft(proposalId: string, draftVersion: number, libraryDigest: string, effective: ModelDocument): void {
+  validatedDrafts.set(validatedKey(proposalId, draftVersion, libraryDigest), effective);
+}
+
+/** The self-contained draft of that version as validated with that library, when it was validated lately. */
+export function validatedDraft(proposalId: string, draftVersion: number, libraryDigest: string): ModelDocument | undefined {
+  return validatedDrafts.get(validatedKey(proposalId, draftVersion, libraryDigest));
+}
+
 /** A digest of a self-contained document (its JSON as stored: the editor keeps element order). */
 export function documentDigest(document: unknown): string {
   return createHash("sha256").update(JSON.stringify(document)).digest("hex");

@@ -5,6 +5,12 @@
 // keyed by the base revision, what the draft is (its version and the shared objects it was
 // read with, or the applied revision) and the expectations, serves the page and the JSON route
 // alike, so a draft edit costs one computation however many readers refresh.
+//
+// The draft editor refreshes only the summary — headline, totals, what blocks — after each
+// edit. Those do not depend on the findings (effect.ts builds them from the diff, the lockout
+// guard, the work-from losses and the expectations), so the summary is computed without the
+// draft's findings, the costliest part on a large device; tests/unit/effect-view.test.ts checks
+// it equals the full effect's.
 import { LRUCache } from "lru-cache";
 import { createHash } from "node:crypto";
 import { ChangeProposal } from "#models/index.ts";
@@ -12,8 +18,8 @@ import { deviceRevisions, type DeviceAtRevision } from "../devices/index.ts";
 import { changeEffect, type ChangeEffect, type CompiledModel, type Expectation, type Finding } from "../engine/index.ts";
 import { effectPicture, effectView, type EffectPicture, type EffectView } from "../analysis/effect-view.ts";
 import { Refusal } from "../errors.ts";
-import { EMPTY_LIBRARY, validateDocument } from "../workspace/index.ts";
-import { compiledOn } from "./compiled-drafts.server.ts";
+import { EMPTY_LIBRARY, validateDocument, type ModelDocument } from "../workspace/index.ts";
+import { compiledOn, documentDigest, validatedDraft } from "./compiled-drafts.server.ts";
 import { loadSharedLibrary } from "./devices.server.ts";
 import { listExpectations } from "./expectations.server.ts";
 
@@ -24,14 +30,22 @@ export type EffectBasis = { baseRevision: number; draftVersion: number; appliedR
 
 export type ProposalEffect = ({ ok: true; view: EffectView } | { ok: false; problems: string[] }) & { basis: EffectBasis };
 
+/** The part of the effect the draft editor refreshes after each edit. */
+export const EFFECT_SUMMARY_KEYS = ["headline", "changed", "blocked", "totals", "blocking"] as const;
+export type EffectSummary = Pick<ChangeEffect, (typeof EFFECT_SUMMARY_KEYS)[number]>;
+export type ProposalEffectSummary = ({ ok: true; summary: EffectSummary } | { ok: false; problems: string[] }) & { basis: EffectBasis };
+
 type Computed = { effect: ChangeEffect; picture: EffectPicture; timezone: string };
 
 /** A few effects: each holds its diff's CIDR lists (for paging sources); the compiled models live in compiled-drafts. */
 const effects = new LRUCache<string, Computed>({ max: 24 });
+const summaries = new LRUCache<string, { summary: EffectSummary; timezone: string }>({ max: 48 });
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 const digest = (value: unknown): string => createHash("sha256").update(JSON.stringify(value)).digest("hex");
+
+const summaryOf = (effect: ChangeEffect): EffectSummary => ({ headline: effect.headline, changed: effect.changed, blocked: effect.blocked, totals: effect.totals, blocking: effect.blocking });
 
 async function revisionOf(ref: ProposalEffectRef, number: number): Promise<DeviceAtRevision> {
   const found = await deviceRevisions.find(ref.organisationId, ref.deviceId, { revisionNumber: number });
@@ -39,27 +53,24 @@ async function revisionOf(ref: ProposalEffectRef, number: number): Promise<Devic
   return found;
 }
 
-/** The effect of base → after, computed once per key. */
-function computed(key: string, base: DeviceAtRevision, after: { compiled: CompiledModel; findings: () => readonly Finding[] }, timezone: string, options: { workFrom: string; expectations: readonly Expectation[] }): Computed {
-  const known = effects.get(key);
-  if (known) return known;
-  const effect = changeEffect(base.analysis.compiled, after.compiled, {
-    ...(options.workFrom ? { workFrom: [options.workFrom] } : {}),
-    expectations: options.expectations,
-    findings: { before: deviceRevisions.findingsOf(base), after: after.findings() },
-  });
-  const entry = { effect, picture: effectPicture(base.analysis.compiled, after.compiled, effect.cells, timezone), timezone };
-  effects.set(key, entry);
-  return entry;
-}
+/** The model after the change: compiled on the base, its findings when asked for. */
+type After = { compiled: CompiledModel; findings: () => readonly Finding[]; timezone: string };
 
-/**
- * The effect of a proposal of this organisation's device (404 otherwise). `page` asks for
- * another page of one group's sources (`group` is the group's key, "login-mfa>silent").
- */
-export async function proposalEffect(ref: ProposalEffectRef, page: { group?: string; offset?: number; limit?: number } = {}): Promise<ProposalEffect> {
+/** Everything the effect depends on, read once; the draft document itself only when no cache has it. */
+type Basis = {
+  basis: EffectBasis;
+  base: DeviceAtRevision;
+  options: { workFrom: string; expectations: readonly Expectation[] };
+  /** Names exactly this comparison: base revision, the draft (version and shared objects) or the applied revision, the expectations, the work-from address. */
+  key: string;
+  /** The model after the change, or the draft's problems when it no longer validates. */
+  after(): Promise<After | { problems: string[] }>;
+};
+
+async function basisOf(ref: ProposalEffectRef): Promise<Basis> {
   if (!UUID.test(ref.proposalId) || !UUID.test(ref.deviceId)) throw new Refusal("No such proposal on this device.", 404);
-  const proposal = await ChangeProposal.findOne({ where: { id: ref.proposalId, organisationId: ref.organisationId, deviceId: ref.deviceId } });
+  // The draft document can be large (a 2,000-rule device): read it only when needed.
+  const proposal = await ChangeProposal.findOne({ where: { id: ref.proposalId, organisationId: ref.organisationId, deviceId: ref.deviceId }, attributes: { exclude: ["draftDocument"] } });
   if (!proposal) throw new Refusal("No such proposal on this device.", 404);
   const applied = proposal.state === "applied" ? proposal.appliedRevisionNumber : null;
   const [base, expectations, library, made] = await Promise.all([
@@ -70,20 +81,73 @@ export async function proposalEffect(ref: ProposalEffectRef, page: { group?: str
   ]);
   const options = { workFrom: proposal.workFrom, expectations };
   const common = `${proposal.id}|${base.revision.id}|${digest(expectations)}|${proposal.workFrom}`;
+  const basis: EffectBasis = { baseRevision: base.revision.number, draftVersion: proposal.draftVersion, appliedRevision: made?.revision.number ?? null, timezone: (made ?? base).effective.device.timezone };
   if (made) {
-    const timezone = made.effective.device.timezone;
-    const basis: EffectBasis = { baseRevision: base.revision.number, draftVersion: proposal.draftVersion, appliedRevision: made.revision.number, timezone };
-    const result = computed(`${common}|r${made.revision.id}`, base, { compiled: made.analysis.compiled, findings: () => deviceRevisions.findingsOf(made) }, timezone, options);
-    return { ok: true, basis, view: effectView(result.effect, result.picture, timezone, page) };
+    return { basis, base, options, key: `${common}|r${made.revision.id}`, after: async () => ({ compiled: made.analysis.compiled, findings: () => deviceRevisions.findingsOf(made), timezone: made.effective.device.timezone }) };
   }
   // The draft as the engine reads it with the shared objects as they are now (the version alone does not say that).
-  const key = `${common}|v${proposal.draftVersion}|${digest(library)}`;
-  const known = effects.get(key);
-  if (known) return { ok: true, basis: { baseRevision: base.revision.number, draftVersion: proposal.draftVersion, appliedRevision: null, timezone: known.timezone }, view: effectView(known.effect, known.picture, known.timezone, page) };
-  const validated = validateDocument(proposal.draftDocument, library ?? EMPTY_LIBRARY);
-  const basis: EffectBasis = { baseRevision: base.revision.number, draftVersion: proposal.draftVersion, appliedRevision: null, timezone: base.effective.device.timezone };
-  if (!validated.ok) return { ok: false, basis, problems: validated.errors.map((issue) => `${issue.path || "document"}: ${issue.message}`) };
-  const timezone = validated.effective.device.timezone;
-  const result = computed(key, base, compiledOn(base, validated.effective), timezone, options);
-  return { ok: true, basis: { ...basis, timezone }, view: effectView(result.effect, result.picture, timezone, page) };
+  const libraryDigest = documentDigest(library ?? EMPTY_LIBRARY);
+  return {
+    basis,
+    base,
+    options,
+    key: `${common}|v${proposal.draftVersion}|${libraryDigest}`,
+    after: async () => {
+      let effective: ModelDocument | undefined = validatedDraft(proposal.id, proposal.draftVersion, libraryDigest);
+      if (!effective) {
+        const row = await ChangeProposal.findByPk(proposal.id, { attributes: ["id", "draftDocument", "draftVersion"] });
+        // Edited since the first read: the caller's key names the version it read, so say nothing about another.
+        if (!row || row.draftVersion !== proposal.draftVersion) throw new Refusal("The draft changed while its effect was being worked out; ask again.", 409);
+        const validated = validateDocument(row.draftDocument, library ?? EMPTY_LIBRARY);
+        if (!validated.ok) return { problems: validated.errors.map((issue) => `${issue.path || "document"}: ${issue.message}`) };
+        effective = validated.effective;
+      }
+      const draft = compiledOn(base, effective);
+      return { compiled: draft.compiled, findings: draft.findings, timezone: effective.device.timezone };
+    },
+  };
+}
+
+function effectOptions(found: Basis, afterFindings: readonly Finding[]) {
+  return {
+    ...(found.options.workFrom ? { workFrom: [found.options.workFrom] } : {}),
+    expectations: found.options.expectations,
+    findings: { before: deviceRevisions.findingsOf(found.base), after: afterFindings },
+  };
+}
+
+/**
+ * The effect of a proposal of this organisation's device (404 otherwise). `page` asks for
+ * another page of one group's sources (`group` is the group's key, "login-mfa>silent").
+ */
+export async function proposalEffect(ref: ProposalEffectRef, page: { group?: string; offset?: number; limit?: number } = {}): Promise<ProposalEffect> {
+  const found = await basisOf(ref);
+  let result = effects.get(found.key);
+  if (!result) {
+    const after = await found.after();
+    if ("problems" in after) return { ok: false, basis: found.basis, problems: after.problems };
+    // Checked again after the await: a request for the same effect may have computed it meanwhile.
+    result = effects.get(found.key);
+    if (!result) {
+      const effect = changeEffect(found.base.analysis.compiled, after.compiled, effectOptions(found, after.findings()));
+      result = { effect, picture: effectPicture(found.base.analysis.compiled, after.compiled, effect.cells, after.timezone), timezone: after.timezone };
+      effects.set(found.key, result);
+      summaries.set(found.key, { summary: summaryOf(effect), timezone: after.timezone });
+    }
+  }
+  return { ok: true, basis: { ...found.basis, timezone: result.timezone }, view: effectView(result.effect, result.picture, result.timezone, page) };
+}
+
+/** The headline, totals and what blocks, for the draft editor: the same as the full effect's, without the draft's findings. */
+export async function proposalEffectSummary(ref: ProposalEffectRef): Promise<ProposalEffectSummary> {
+  const found = await basisOf(ref);
+  const known = summaries.get(found.key);
+  if (known) return { ok: true, basis: { ...found.basis, timezone: known.timezone }, summary: known.summary };
+  const after = await found.after();
+  if ("problems" in after) return { ok: false, basis: found.basis, problems: after.problems };
+  // Findings only shape the rule and finding parts of an effect, none of the summary's.
+  const effect = changeEffect(found.base.analysis.compiled, after.compiled, effectOptions(found, deviceRevisions.findingsOf(found.base)));
+  const summary = summaryOf(effect);
+  summaries.set(found.key, { summary, timezone: after.timezone });
+  return { ok: true, basis: { ...found.basis, timezone: after.timezone }, summary };
 }

@@ -35,7 +35,7 @@ import {
   type SharedLibrary,
 } from "../workspace/index.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
-import { compiledOn, documentDigest } from "./compiled-drafts.server.ts";
+import { compiledOn, documentDigest, rememberValidatedDraft } from "./compiled-drafts.server.ts";
 import { listExpectations } from "./expectations.server.ts";
 import { invalidModel, loadSharedLibrary, saveEdit, writeRevision, type SaveGuard, type SaveGuardNote } from "./devices.server.ts";
 import { revisionAnalysisQueue } from "../jobs/revision-analysis.server.ts";
@@ -345,8 +345,10 @@ export async function editDraft(ref: ProposalRef, expectedVersion: number, attem
     await ProposalEdit.create({ proposalId: proposal.id, position: position + 1, edit: attempt.resolved, message: message.slice(0, 500), authorUserId: actor.userId, authorEmail: actor.email }, { transaction });
     await proposal.update({ draftDocument: validated.document, draftVersion: proposal.draftVersion + 1, state: next }, { transaction });
     await audit(actor, proposal, "proposal.draft-edited", { edit: message, draftVersion: proposal.draftVersion }, transaction);
-    return { draftVersion: proposal.draftVersion, changed: true, approvers, proposal };
+    return { draftVersion: proposal.draftVersion, changed: true, approvers, proposal, validated: { effective: validated.effective, libraryDigest: documentDigest(library) } };
   });
+  // The effect the editor asks for next reads this exact draft: it need not validate it again.
+  if (result.changed && result.validated) rememberValidatedDraft(result.proposal.id, result.draftVersion, result.validated.libraryDigest, result.validated.effective);
   if (result.changed && result.approvers.length > 0) {
     await notify(environment, result.proposal, await usersByIds(result.approvers), () => `Changed after your approval: ${result.proposal.title}`, (context) => [
       `${actor.name} changed the draft of “${result.proposal.title}” on ${context.deviceName} after you approved it (${message}). Your approval no longer counts: review the change again.`,

@@ -4,7 +4,8 @@ source "$(dirname "${BASH_SOURCE[0]}")/lib.sh"
 ensure_debian_packages postgresql >/dev/null
 ensure_npm_dependencies >/dev/null
 ensure_postgres_cluster >/dev/null
-ensure_database sallyport_bench_test
+# Its own database (reset on every run); SALLYPORT_BENCH_DB_NAME gives another, so runs in two worktrees never reset each other.
+ensure_database "${SALLYPORT_BENCH_DB_NAME:-sallyport_bench_test}"
 ensure_session_secret
 export SALLYPORT_TEST_RESET=1
 run_migrations_and_seed >/dev/null

@@ -1,8 +1,11 @@
-// Web benchmark: the trace page's loader and a trace round trip on a benchmark-size device.
+// Web benchmark: the trace page's loader and a trace round trip on a benchmark-size device, and
+// a proposal's draft edit followed by its refreshed effect headline.
 //   npm run bench:web            readable report
 //   npm run bench:web -- --json  one JSON object
 // Targets (2-core machine): device page loader ≤ 300 ms, trace round trip ≤ 50 ms (medians,
-// warm: a revision's compiled model is cached, as it is for an engineer tracing probe after probe).
+// warm: a revision's compiled model is cached, as it is for an engineer tracing probe after probe);
+// a draft edit → refreshed effect headline ≤ 500 ms (issue 11: the edit's POST plus the effect
+// JSON the draft editor fetches after it, a one-rule move each time, median).
 // Needs the build and a database: `bash server/setup/bench-web.sh` prepares both.
 import { spawn } from "node:child_process";
 import { performance } from "node:perf_hooks";
@@ -10,7 +13,8 @@ import { revisionAnalysisQueue } from "#server/jobs/revision-analysis.server.ts"
 import { createDevice, saveEdit } from "#server/services/devices.server.ts";
 import { moveRule } from "#server/workspace/index.ts";
 import { getDatabase } from "#server/db/database.server.ts";
-import { Organisation, Site } from "#models/index.ts";
+import { Organisation, Site, User } from "#models/index.ts";
+import { createProposal } from "#server/services/proposals.server.ts";
 import { BENCH_SIZE, generateModel, prng } from "#server/engine/testing/generate-model.ts";
 import { findFreePort } from "../support/free-port.ts";
 
@@ -28,6 +32,7 @@ function percentile(values: number[], p: number): number {
 }
 const round = (value: number) => Math.round(value * 10) / 10;
 const SAVE_RUNS = 5;
+const EFFECT_RUNS = 7;
 
 async function main() {
   getDatabase();
@@ -91,6 +96,42 @@ async function main() {
       const probe = new URLSearchParams({ from: source, interface: interfaces[Math.floor(random() * interfaces.length)].name, service: services[Math.floor(random() * services.length)], at: "2026-12-02T10:00:00Z" });
       traceTimes.push(await get(`/o/lanternfield/devices/${device.id}/api/trace?${probe}`));
     }
+    // A draft edit and the refreshed effect headline, as the draft editor does them: the edit's
+    // form POST (answered with a redirect), then GET …/effect?summary=1. Each run is a new
+    // proposal on the current revision (made untimed), so each measures a one-rule move.
+    const author = await User.findOne({ where: { email: "priya.nandakumar@lanternfield.example" } });
+    if (!author) throw new Error("the demo engineer is missing");
+    const editTimes: number[] = [];
+    const effectTimes: number[] = [];
+    const roundTrips: number[] = [];
+    for (let run = 0; run < EFFECT_RUNS; run++) {
+      const proposal = await createProposal(
+        { organisationId: organisation.id, deviceId: device.id },
+        { title: `Benchmark proposal ${run + 1}`, reason: "", ticket: "", workFrom: "", window: { start: new Date(Date.now() - 3_600_000), end: new Date(Date.now() + 3_600_000) } },
+        { kind: "revision" },
+        { userId: author.id, email: author.email, name: author.name, role: "engineer", clientAddress: "127.0.0.1" },
+      );
+      const path = `/o/lanternfield/devices/${device.id}/proposals/${proposal.id}`;
+      const ruleId = generated.model.inboundRules?.[10 + run * 7]?.id ?? "";
+      const start = performance.now();
+      const edit = await fetch(`${base}${path}/draft/rules`, {
+        method: "POST",
+        redirect: "manual",
+        headers: { Cookie: cookie, Origin: base, "Content-Type": "application/x-www-form-urlencoded" },
+        body: new URLSearchParams({ intent: "move-rule", ruleId, to: "1", baseRevision: "1" }),
+      });
+      await edit.arrayBuffer();
+      if (edit.status !== 302) throw new Error(`draft edit: ${edit.status}`);
+      const edited = performance.now();
+      const answer = await fetch(`${base}${path}/effect?summary=1`, { headers: { Cookie: cookie } });
+      const body = (await answer.json()) as { proposal?: { draftVersion: number }; effect?: { headline: string } };
+      if (!answer.ok || body.proposal?.draftVersion !== 2 || !body.effect?.headline) throw new Error(`effect: ${answer.status} ${JSON.stringify(body).slice(0, 200)}`);
+      const done = performance.now();
+      editTimes.push(edited - start);
+      effectTimes.push(done - edited);
+      roundTrips.push(done - start);
+    }
+
     const result = {
       model: { interfaces: interfaces.length, inboundRules: generated.model.inboundRules?.length ?? 0, addressObjects: generated.model.addresses?.length ?? 0 },
       saveRevisionMs: round(saveMs),
@@ -102,7 +143,8 @@ async function main() {
       documentMedianMs: round(median(documentTimes)),
       traceRoundTripMedianMs: round(median(traceTimes)),
       traceRoundTripP95Ms: round(percentile(traceTimes, 0.95)),
-      targets: { loaderMs: median(loaderTimes.slice(1)) <= 300, traceRoundTripMs: median(traceTimes) <= 50, saveMs: median(moveTimes) <= 300 },
+      draftEditToEffectHeadlineMs: { min: round(Math.min(...roundTrips)), median: round(median(roundTrips)), max: round(Math.max(...roundTrips)), editMedian: round(median(editTimes)), effectMedian: round(median(effectTimes)), runs: EFFECT_RUNS },
+      targets: { loaderMs: median(loaderTimes.slice(1)) <= 300, traceRoundTripMs: median(traceTimes) <= 50, saveMs: median(moveTimes) <= 300, draftEditToEffectHeadlineMs: median(roundTrips) <= 500 },
     };
     if (json) console.log(JSON.stringify(result));
     else {
@@ -113,6 +155,8 @@ async function main() {
       console.log(`trace page loader: cold ${result.loaderColdMs} ms, warm median ${result.loaderMedianMs} ms (p95 ${result.loaderP95Ms}) — target ≤ 300 ms: ${result.targets.loaderMs ? "met" : "MISSED"}`);
       console.log(`trace page document (loader + render): median ${result.documentMedianMs} ms`);
       console.log(`trace round trip: median ${result.traceRoundTripMedianMs} ms (p95 ${result.traceRoundTripP95Ms}) — target ≤ 50 ms: ${result.targets.traceRoundTripMs ? "met" : "MISSED"}`);
+      const effect = result.draftEditToEffectHeadlineMs;
+      console.log(`draft edit → refreshed effect headline (one-rule move, ${effect.runs} runs): min ${effect.min} / median ${effect.median} / max ${effect.max} ms (edit ${effect.editMedian}, effect ${effect.effectMedian}) — target ≤ 500 ms: ${result.targets.draftEditToEffectHeadlineMs ? "met" : "MISSED"}`);
     }
   } finally {
     server.kill("SIGTERM");

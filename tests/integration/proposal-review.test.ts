@@ -336,6 +336,10 @@ describe("Importing a document as a proposal", () => {
     const newDevice = await postMultipart(engineer, `/o/${team.slug}/devices/import`, { ...fields, target: `site:${site?.id ?? ""}`, as: "proposal", title: "New" });
     expect(newDevice.status).toBe(400);
     expect(visibleText(newDevice.text)).toContain("Only a new revision of an existing device can be imported as a proposal.");
+    // A document the device already matches has nothing to propose.
+    const same = await postMultipart(engineer, `/o/${team.slug}/devices/import`, { ...fields, documentText: JSON.stringify(MOLE), as: "proposal", title: "Nothing", windowStart, windowEnd });
+    expect(same.status).toBe(409);
+    expect(visibleText(same.text)).toContain("This document matches revision r1 of mole-edge: there is nothing to propose.");
     // A trainee may not import at all.
     expect((await postMultipart(await team.members.trainee.client(), `/o/${team.slug}/devices/import`, { ...fields, as: "proposal", title: "Trainee's", windowStart, windowEnd })).status).toBe(403);
   });

@@ -7,7 +7,7 @@
 import { describe, expect, test } from "vitest";
 import { formatAddress, parseCidr } from "#server/engine/addresses";
 import { effectPicture, effectView } from "#server/analysis/effect-view";
-import { changeEffect, compileModel, exposure, OUTCOMES, outcomeRank, parseModel, trace, type CompiledModel, type DeviceModelInput } from "#server/engine/index";
+import { changeEffect, compileModel, exposure, findings, OUTCOMES, outcomeRank, parseModel, trace, type CompiledModel, type DeviceModelInput } from "#server/engine/index";
 import { instantOfWeekTime } from "#server/analysis/exposure-change";
 
 function compiled(input: DeviceModelInput, basis?: CompiledModel): CompiledModel {
@@ -156,5 +156,19 @@ describe("The picture shows each interface × service before and after, changed 
   test("The NOC's ssh on mgmt is marked: it was a login with a second factor and is no answer now", () => {
     const noc = picture.cells.find((cell) => cell.interface === "mgmt" && cell.service === "ssh");
     expect(noc).toMatchObject({ before: "login-mfa", after: "silent", changed: true, gains: "0", loses: "256" }); // RFC 4632: a /24 holds 256 addresses
+  });
+});
+
+describe("The draft editor's summary needs no findings of the draft", () => {
+  // server/services/proposal-effect.server.ts computes the summary without the draft's
+  // findings (the costliest part on a large device): the headline, totals and what blocks must
+  // not depend on them.
+  test("Headline, totals, changed, blocked and blocking are the same whatever findings are passed", () => {
+    const beforeFindings = findings(before);
+    const full = changeEffect(before, after, { workFrom: ["10.60.4.9"] });
+    const quick = changeEffect(before, after, { workFrom: ["10.60.4.9"], findings: { before: beforeFindings, after: beforeFindings } });
+    const summary = (effect: typeof full) => ({ headline: effect.headline, changed: effect.changed, blocked: effect.blocked, totals: effect.totals, blocking: effect.blocking });
+    expect(full.blocked).toBe(true);
+    expect(summary(quick)).toEqual(summary(full));
   });
 });

@@ -157,6 +157,7 @@ export async function action({ request, context }: Route.ActionArgs) {
   // revision, reviewed before it lands; nothing changes on the device now.
   if (form.get("as") === "proposal") {
     if (!existing) return refuse("Only a new revision of an existing device can be imported as a proposal.", [], step);
+    if (diffDocuments(existing.effective, validated.effective).length === 0) return refuse(`This document matches revision r${existing.revision.number} of ${existing.device.name}: there is nothing to propose.`, [], step, 409);
     const asked = readProposalDetails({ title: typedProposal.title, windowStart: typedProposal.windowStart, windowEnd: typedProposal.windowEnd }, timezone);
     if (!asked.ok) return data<ActionResult>(await preview(null, undefined, null, asked.errors), { status: 400 });
     try {
@@ -335,8 +336,10 @@ function lockoutWords(lockout: ReadonlyArray<{ operatorNetwork: string }>): stri
 }
 
 function ImportPreview({ preview, busy }: { preview: PreviewData; busy: boolean }) {
-  const { rename, effect, proposal } = preview;
+  const { rename, effect } = preview;
   const changes = effect !== null && effect.changes.length > 0;
+  // A document that changes nothing has nothing to propose.
+  const proposal = changes ? preview.proposal : null;
   const lockout = effect?.exposure.lockout ?? [];
   const carried = (
     <>

@@ -2,7 +2,7 @@ import type { Route } from "./+types/proposal-effect";
 import { requireDevice } from "#server/http/device-access.server";
 import { proposalIdProblem } from "#server/http/proposal-steps.server";
 import { refusedJson } from "#server/http/refusals.server";
-import { proposalEffect } from "#server/services/proposal-effect.server";
+import { proposalEffect, proposalEffectSummary } from "#server/services/proposal-effect.server";
 
 // GET …/proposals/:proposal/effect → the effect of the proposal's draft on its base revision
 // (an applied proposal: of the revision it made), as the proposal page shows it:
@@ -12,8 +12,6 @@ import { proposalEffect } from "#server/services/proposal-effect.server";
 // or "ok": false with "problems" when the draft no longer validates. `?summary=1` gives only
 // the headline, totals and what blocks (the draft editor refreshes it after each edit);
 // `?group=<before>>after>&offset=N&limit=M` pages one group's sources.
-
-const SUMMARY_KEYS = ["headline", "changed", "blocked", "totals", "blocking"] as const;
 
 function integerParam(url: URL, name: string): number | undefined {
   const text = url.searchParams.get(name);
@@ -31,13 +29,13 @@ export async function loader({ request, params, context }: Route.LoaderArgs) {
   const limit = integerParam(url, "limit");
   const issues = [...(Number.isNaN(offset) ? [{ path: "offset", message: "must be a whole number, 0 or more" }] : []), ...(Number.isNaN(limit) ? [{ path: "limit", message: "must be a whole number, 0 or more" }] : [])];
   if (issues.length > 0) return Response.json({ error: "The request is not valid.", issues }, { status: 400 });
+  const ref = { organisationId: access.organisation.id, deviceId: access.device.id, proposalId: params.proposal };
   try {
-    const answer = await proposalEffect({ organisationId: access.organisation.id, deviceId: access.device.id, proposalId: params.proposal }, { group: url.searchParams.get("group") ?? undefined, offset, limit });
+    const answer = url.searchParams.get("summary") === "1" ? await proposalEffectSummary(ref) : await proposalEffect(ref, { group: url.searchParams.get("group") ?? undefined, offset, limit });
     const proposal = { id: params.proposal, baseRevision: answer.basis.baseRevision, draftVersion: answer.basis.draftVersion, appliedRevision: answer.basis.appliedRevision };
     const headers = { "Cache-Control": "no-store" };
     if (!answer.ok) return Response.json({ proposal, timezone: answer.basis.timezone, ok: false, problems: answer.problems }, { headers });
-    const effect = url.searchParams.get("summary") === "1" ? Object.fromEntries(SUMMARY_KEYS.map((key) => [key, answer.view[key]])) : answer.view;
-    return Response.json({ proposal, timezone: answer.basis.timezone, ok: true, effect }, { headers });
+    return Response.json({ proposal, timezone: answer.basis.timezone, ok: true, effect: "summary" in answer ? answer.summary : answer.view }, { headers });
   } catch (error) {
     return refusedJson(error);
   }
