@@ -25,7 +25,7 @@ export type PictureCell = {
   gains: string;
   loses: string;
   /** For a changed pair: a probe whose outcome changes (`trace` gives `witnessBefore`, then `witnessAfter`). */
-  witness: (ChangeWitness & { before: Outcome; after: Outcome }) | null;
+  witness: (EffectWitness & { before: Outcome; after: Outcome }) | null;
 };
 
 export type EffectPicture = {
@@ -36,7 +36,7 @@ export type EffectPicture = {
 
 export type EffectFindingLine = { key: string; code: string; severity: Finding["severity"]; title: string; elements: readonly string[] };
 
-export type EffectGroupView = Omit<EffectGroup, "sources"> & { sources: Page<string>; witness: ChangeWitness };
+export type EffectGroupView = Omit<EffectGroup, "sources"> & { sources: Page<string>; witness: EffectWitness };
 
 /** What the page and the JSON route show. */
 export type EffectView = Omit<ChangeEffect, "cells" | "groups" | "findings"> & {
@@ -59,10 +59,14 @@ function addRanges(into: Pairs, cidrs: readonly string[]): void {
 
 const distinct = (pairs: Pairs): string => (countOf(collapse(pairs[4])) + countOf(collapse(pairs[6]))).toString();
 
+/** A probe `trace` replays, and when in the device's week it holds: "all week", or the stretch ("mon 08:00 – fri 17:00"). */
+export type EffectWitness = ChangeWitness & { when: string };
+
 /** A probe inside one transition of a cell: its first source, at the start of the cell's stretch of the week. */
-function witnessOf(cell: DiffChange, ranges: readonly string[], timezone: string): ChangeWitness {
+function witnessOf(cell: DiffChange, ranges: readonly string[], timezone: string): EffectWitness {
   const first = parseCidr(ranges[0]).range;
-  return { from: formatAddress(first.family, first.first), interface: cell.interface, service: cell.service, to: cell.to, at: instantOfWeekTime(cell.start, timezone) };
+  const when = cell.start === "mon 00:00" && cell.end === "sun 24:00" ? "all week" : `${cell.start} – ${cell.end}`;
+  return { from: formatAddress(first.family, first.first), interface: cell.interface, service: cell.service, to: cell.to, at: instantOfWeekTime(cell.start, timezone), when };
 }
 
 /** Per "interface|service": the most exposed rank any source gets at any own address and time; absent where the interface has no address. */

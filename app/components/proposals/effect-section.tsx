@@ -110,8 +110,11 @@ function Group({ group, timezone, search }: { group: EffectGroupView; timezone: 
         ) : null}
       </div>
       <p className="text-xs text-ink-muted" data-testid="effect-group-witness">
-        For example <span className="font-mono">{group.witness.from}</span> → <span className="font-mono">{group.witness.interface} {group.witness.service}</span> (to <span className="font-mono">{group.witness.to}</span>) at{" "}
-        {formatInstant(group.witness.at, timezone)}: {OUTCOME_LABELS[group.before]} before, {OUTCOME_LABELS[group.after]} after.
+        For example <span className="font-mono">{group.witness.from}</span> → <span className="font-mono">{group.witness.interface} {group.witness.service}</span> (to <span className="font-mono">{group.witness.to}</span>),{" "}
+        <time dateTime={group.witness.at} title={formatInstant(group.witness.at, timezone)}>
+          {group.witness.when === "all week" ? "all week" : `${group.witness.when} (device time)`}
+        </time>
+        : {OUTCOME_LABELS[group.before]} before, {OUTCOME_LABELS[group.after]} after.
       </p>
     </li>
   );
