@@ -185,8 +185,8 @@ export class CompiledModel {
   private readonly sourceObjects: ReadonlySet<string>;
   /** The basis whose partitions may be re-used (same elements), or null. Weak, so a chain of edits does not keep every earlier version alive. */
   private readonly basisRef: WeakRef<CompiledModel> | null = null;
-  /** Partitions taken from the basis whose outcome runs carry over too (same actions, services, accounts, defaults): the basis's partition. */
-  private readonly outcomesFrom = new Map<RulePartition, RulePartition>();
+  /** Partitions taken from the basis whose outcome runs carry over too (same actions, services, accounts, defaults). */
+  private readonly outcomesCarried = new Set<RulePartition>();
   /** The basis's partitions by a hash of their family and rule tokens. */
   private basisIndex: Map<number, RulePartition[]> | null = null;
   /**
@@ -744,8 +744,8 @@ export class CompiledModel {
     const outcomeKey = (rules.id * this.classes.length + cls) * 2 + (listening ? 1 : 0);
     let outcome = this.outcomeCache.get(outcomeKey);
     if (outcome === undefined) {
-      const from = this.outcomesFrom.get(rules);
-      if (from !== undefined) outcome = this.basisRef?.deref()?.outcomeCache.get((from.id * this.classes.length + cls) * 2 + (listening ? 1 : 0));
+      // A partition taken from the basis is the basis's own object, under the same key there.
+      if (this.outcomesCarried.has(rules)) outcome = this.basisRef?.deref()?.outcomeCache.get(outcomeKey);
       outcome ??= this.outcomeRuns(rules.family, rules, cls, listening);
       this.outcomeCache.set(outcomeKey, outcome);
     }
@@ -895,7 +895,7 @@ export class CompiledModel {
       // Its outcome runs carry over too when every rule in it kept its action.
       let sameActions = this.sameCatalogueAndAccounts;
       for (let k = 0; k < active.length && sameActions; k++) sameActions = basis.rules[basis.slotPositions[active[k]]].allow === this.rules[this.slotPositions[active[k]]].allow;
-      if (sameActions) this.outcomesFrom.set(found, found);
+      if (sameActions) this.outcomesCarried.add(found);
       else this.touch(active);
       return found;
     }
