@@ -68,7 +68,7 @@ interface EditTiming {
   compileMs: number;
   exposureMs: number;
   findingsMs: number;
-  partitions: { swept: number; derived: number; updated: number; reused: number };
+  partitions: { swept: number; derived: number; updated: number; reused: number; inherited: number };
 }
 
 /**
@@ -86,7 +86,7 @@ function editBenchmark(model: DeviceModel): Record<string, EditTiming> {
     if (!parsed.ok) throw new Error(`bench edit "${name}" made an invalid model`);
     const totals: number[] = [];
     const parts: { compile: number[]; exposure: number[]; findings: number[] } = { compile: [], exposure: [], findings: [] };
-    let partitions = { swept: 0, derived: 0, updated: 0, reused: 0 };
+    let partitions = { swept: 0, derived: 0, updated: 0, reused: 0, inherited: 0 };
     for (let i = 0; i < EDIT_RUNS; i++) {
       const [device, compileMs] = time(() => compileModel(parsed.model, { basis }));
       const [, exposureMs] = time(() => exposureCounts(device));

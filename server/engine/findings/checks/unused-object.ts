@@ -9,19 +9,23 @@ export const unusedObject: FindingCheck = {
   severityRule: "info",
   source: SOURCES.hygiene,
   check: ({ model }) => {
-    const addressRefs = new Set<string>([
-      ...model.inboundRules.flatMap((r) => [...r.sources, ...r.destinations]),
-      ...model.addressGroups.flatMap((g) => g.members),
-      ...model.accounts.flatMap((a) => a.loginSources),
-      ...model.operatorNetworks,
-    ]);
-    const serviceRefs = new Set<string>([
-      ...model.inboundRules.flatMap((r) => r.services),
-      ...model.serviceGroups.flatMap((g) => g.members),
-      ...model.interfaces.flatMap((f) => f.listeners),
-      ...model.accounts.flatMap((a) => a.services),
-    ]);
-    const scheduleRefs = new Set(model.inboundRules.map((r) => r.schedule));
+    // Loops rather than spread lists: a model has thousands of rules, and this runs on every edit.
+    const addressRefs = new Set<string>(model.operatorNetworks);
+    const serviceRefs = new Set<string>();
+    const scheduleRefs = new Set<string>();
+    for (const r of model.inboundRules) {
+      for (const name of r.sources) addressRefs.add(name);
+      for (const name of r.destinations) addressRefs.add(name);
+      for (const name of r.services) serviceRefs.add(name);
+      scheduleRefs.add(r.schedule);
+    }
+    for (const g of model.addressGroups) for (const name of g.members) addressRefs.add(name);
+    for (const g of model.serviceGroups) for (const name of g.members) serviceRefs.add(name);
+    for (const f of model.interfaces) for (const name of f.listeners) serviceRefs.add(name);
+    for (const a of model.accounts) {
+      for (const name of a.loginSources) addressRefs.add(name);
+      for (const name of a.services) serviceRefs.add(name);
+    }
     const unused: ElementRef[] = [
       ...model.addresses.filter((a) => !addressRefs.has(a.name)).map((a) => elementRef("address", a.name)),
       ...model.addressGroups.filter((g) => !addressRefs.has(g.name)).map((g) => elementRef("address-group", g.name)),
