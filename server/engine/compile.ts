@@ -1006,6 +1006,11 @@ export class CompiledModel {
         count++;
       }
     }
+    if (count === 0) {
+      // The off rules took nothing: every element keeps its owner, and the runs are the base's (shared, not copied).
+      for (const position of off) patched[this.ruleSlots[position] + 1] = 0;
+      return { id: nextPartitionId++, family, active, owner: base.owner };
+    }
     const wordsInOrder = Int32Array.from(needWords).sort();
     let firstOff = Infinity;
     for (const position of off) if (position < firstOff) firstOff = position;
