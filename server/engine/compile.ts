@@ -476,6 +476,11 @@ export class CompiledModel {
     return this.changedRules === null ? undefined : this.basisRef?.deref();
   }
 
+  /** The ids of the rules the edit against the incremental basis changed (added, removed, moved, or any field); null without one. */
+  get changedRuleIds(): ReadonlySet<string> | null {
+    return this.changedRules === null ? null : this.changedIds;
+  }
+
   /** Whether the edit against the basis changed the rule at this position (added, moved, or any field); false without a basis. */
   ruleChangedByEdit(position: number): boolean {
     return this.changedIds?.has(this.rules[position].id) ?? false;

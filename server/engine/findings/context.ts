@@ -3,7 +3,7 @@
 // ever the first match, the sources with a login path — and the witness probes.
 import { FAMILY, formatAddress, parseAddress, parseEntry, rangeToCidrs } from "../addresses.ts";
 import type { Family } from "../addresses.ts";
-import { EMPTY_SET, intersect, rangesOf, setFromRanges, subtract, unionSets } from "../address-sets.ts";
+import { EMPTY_SET, contains, intersect, rangesOf, setFromRanges, subtract, unionSets } from "../address-sets.ts";
 import type { AddressSet, Ranges } from "../address-sets.ts";
 import { arrivals, firstMatchRules, loginReachable } from "../analysis.ts";
 import { cellPartitions, censusOf, cellsOf, ownerSlots } from "../cells.ts";
@@ -150,6 +150,21 @@ export class FindingContext {
     const edit = engine.incrementalBasis === undefined ? null : censusOf(engine).edit;
     if (edit === null) return engine.ruleUntouched(position);
     return !engine.ruleChangedByEdit(position) && edit.affected[engine.slotOf(position)] === 0;
+  }
+
+  #kept = new Map<string, unknown>();
+
+  /**
+   * A value a check keeps with the findings of this model, computed once; `previous` is the
+   * basis's value under the same key (after an edit), for the check to re-use what the edit
+   * left alone.
+   */
+  kept<T>(key: string, compute: (previous: T | undefined) => T): T {
+    if (this.#kept.has(key)) return this.#kept.get(key) as T;
+    const basis = this.#basis;
+    const value = compute(basis === undefined ? undefined : (basis.#kept.get(key) as T | undefined));
+    this.#kept.set(key, value);
+    return value;
   }
 
   /** Drops the link to the basis, so a chain of edits does not keep every earlier context alive. */
@@ -304,7 +319,7 @@ export class FindingContext {
     for (const { iface, to } of this.arrivals) {
       if (rule.iface !== -1 && rule.iface !== iface) continue;
       const target = engine.addresses[to];
-      if (intersect(rangesOf(rule.destinations, target.family), [target.value, target.value]).length === 0) continue;
+      if (!contains(rangesOf(rule.destinations, target.family), target.value)) continue;
       const source = engine.firstSourceOf(position, target.family);
       if (source === undefined) continue;
       for (const c of engine.classes) {
