@@ -1049,9 +1049,23 @@ export class CompiledModel {
         }
       }
     }
-    const runs = patchedRuns(base.owner, patched, owner, domain.size);
+    const runs = this.internedRuns(family, patchedRuns(base.owner, patched, owner, domain.size));
     for (const position of off) patched[this.ruleSlots[position] + 1] = 0;
     return { id: nextPartitionId++, family, active, owner: runs };
+  }
+
+  /** Derived partitions' runs by family and content: different off rules often leave the same owners, and one copy serves them all. */
+  private readonly runsByContent = new Map<number, Runs[]>();
+
+  private internedRuns(family: Family, runs: Runs): Runs {
+    let hash = (0x811c9dc5 ^ runs.values.length ^ (family << 24)) | 0;
+    for (let k = 0; k < runs.values.length; k++) hash = Math.imul(Math.imul(hash ^ runs.starts[k], 0x01000193) ^ runs.values[k], 0x01000193);
+    const bucket = this.runsByContent.get(hash);
+    const same = bucket?.find((other) => other.values.length === runs.values.length && other.starts.every((start, k) => start === runs.starts[k] && other.values[k] === runs.values[k]));
+    if (same !== undefined) return same;
+    if (bucket === undefined) this.runsByContent.set(hash, [runs]);
+    else bucket.push(runs);
+    return runs;
   }
 
   /**
