@@ -7,6 +7,8 @@ import { hasAtLeastRole } from "#server/auth/roles";
 import { actorOf } from "#server/http/actor.server";
 import { fieldErrorsOf, formFailure, formValues, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
 import { ElementNameSchema } from "#server/http/schemas";
+import { isUuid } from "#server/validation/ids";
+import { textProblem } from "#server/validation/text";
 import {
   deleteSharedObject,
   importSharedObjectsCsv,
@@ -54,7 +56,11 @@ const SharedObjectSchema = z.object({
 /** The confirm step's fields: the library and device revisions the review showed. */
 const ConfirmationSchema = z.object({
   library: z.string().regex(/^[0-9a-f]{64}$/),
-  bases: z.string().max(400_000).regex(/^([0-9a-f-]{36}:\d{1,9}(,[0-9a-f-]{36}:\d{1,9})*)?$/),
+  bases: z
+    .string()
+    .max(400_000)
+    .regex(/^([0-9a-f-]{36}:\d{1,9}(,[0-9a-f-]{36}:\d{1,9})*)?$/)
+    .refine((bases) => bases === "" || bases.split(",").every((base) => isUuid(base.split(":")[0])), "A device id is not valid."),
 });
 
 function confirmationOf(values: Record<string, string>): SharedChangeConfirmation | null {
@@ -125,6 +131,9 @@ export async function action({ request, context }: Route.ActionArgs) {
       const text = upload && typeof upload !== "string" ? await upload.text() : (values.csv ?? "");
       if (!text.trim()) return invalidForm({ csv: "Choose a CSV file or paste rows." }, values);
       if (text.length > 512 * 1024) return invalidForm({ csv: "The CSV is larger than 512 KiB." }, values);
+      // The file's text is stored as entries and names: refused whole when it holds what may not be stored.
+      const textProblemFound = upload && typeof upload !== "string" ? textProblem(text) : null;
+      if (textProblemFound) return invalidForm({ csv: `The file ${textProblemFound}` }, values);
       const review = () => previewSharedObjectsCsv(organisationId, text);
       // The file travels on as text, so the confirmation imports exactly what was reviewed.
       const kept = { intent: "import-csv", csv: text };
@@ -136,7 +145,7 @@ export async function action({ request, context }: Route.ActionArgs) {
           if (preview.devices.length > 0) return data({ ok: true as const, preview, values: kept });
           saved = await importSharedObjectsCsv(organisationId, text, actor, preview.confirmation);
         }
-        return { ok: true as const, report: saved.report ?? [], revisions: saved.revisions };
+        return { ok: true as const, report: saved.report ?? { rows: [], created: 0, updated: 0, refused: 0, unlisted: 0 }, revisions: saved.revisions };
       } catch (error) {
         return refusedWithReview(error, review, kept);
       }
