@@ -21,10 +21,11 @@ const EnvironmentSchema = z.object({
   SALLYPORT_LOCAL: z.enum(["0", "1"]).default("0"),
   PORT: z.coerce.number().int().min(0).max(65535).default(3000),
   HOST: z.string().default("127.0.0.1"),
-  /** "1" trusts X-Forwarded-For (client address) and X-Forwarded-Proto (behind a reverse proxy). */
+  /**
+   * "1" trusts X-Forwarded-For for the client address (behind a reverse proxy). Host and
+   * X-Forwarded-Host are never trusted: the app's origin is APP_ORIGIN (docs/decisions/013).
+   */
   TRUST_PROXY: z.enum(["0", "1"]).default("0"),
-  /** "1" also trusts X-Forwarded-Host; otherwise the header is dropped before anything reads it. */
-  TRUST_FORWARDED_HOST: z.enum(["0", "1"]).default("0"),
   /** The secret that opens the local outbox (`npm start` generates and prints it); without one the outbox stays shut. */
   OUTBOX_SECRET: z.string().min(16, "OUTBOX_SECRET must be at least 16 characters").optional(),
   /** "1" lets the outbox open while the server listens beyond loopback (HOST not 127.0.0.1, ::1 or localhost). */
@@ -97,9 +98,13 @@ export function isProduction(): boolean {
  * to open it with, and the server listens on loopback only (unless OUTBOX_BEYOND_LOOPBACK=1).
  */
 export function isOutboxEnabled(): boolean {
-  const environment = getEnvironment();
+  return outboxEnabledFor(getEnvironment());
+}
+
+/** The same, for a given environment (pure, for tests). */
+export function outboxEnabledFor(environment: Pick<Environment, "SALLYPORT_FAKE_SMTP" | "MAIL_OUTBOX_DIR" | "OUTBOX_SECRET" | "HOST" | "OUTBOX_BEYOND_LOOPBACK">): boolean {
   if (environment.SALLYPORT_FAKE_SMTP !== "1" || !environment.MAIL_OUTBOX_DIR || !environment.OUTBOX_SECRET) return false;
-  return listensOnLoopbackOnly() || environment.OUTBOX_BEYOND_LOOPBACK === "1";
+  return listensOnLoopbackOnly(environment.HOST) || environment.OUTBOX_BEYOND_LOOPBACK === "1";
 }
 
 /**

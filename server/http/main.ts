@@ -9,7 +9,7 @@ import type { ServerBuild } from "react-router";
 import { appOrigin, getEnvironment, isOutboxEnabled, listensOnLoopbackOnly } from "../config.server.ts";
 import { outboxLink } from "../mail/outbox-access.server.ts";
 import { createRequestContext } from "./request-context.server.ts";
-import { clientAddressOf, forwardedHostFilter, requestSizeLimit, requestTextGuard, sameOriginGuard, securityHeaders } from "./security.ts";
+import { canonicalOrigin, clientAddressOf, requestSizeLimit, requestTextGuard, sameOriginGuard, securityHeaders } from "./security.ts";
 import { MAX_DOCUMENT_REQUEST_BYTES, MAX_REQUEST_BYTES } from "../validation/limits.ts";
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "../..");
@@ -22,7 +22,6 @@ const host = environment.HOST;
 const app = express();
 app.disable("x-powered-by");
 app.set("trust proxy", environment.TRUST_PROXY === "1");
-app.use(forwardedHostFilter(environment.TRUST_FORWARDED_HOST === "1"));
 app.use(compression());
 app.use(securityHeaders({ development }));
 app.use(requestTextGuard());
@@ -30,6 +29,7 @@ app.use(requestTextGuard());
 const DOCUMENT_ROUTES = /^\/o\/[^/]+\/devices\/(import|[^/]+\/api\/proposals)(\.data)?$/;
 app.use(requestSizeLimit(Number(process.env.MAX_REQUEST_BYTES ?? MAX_REQUEST_BYTES), { paths: DOCUMENT_ROUTES, maximumBytes: MAX_DOCUMENT_REQUEST_BYTES }));
 app.use(sameOriginGuard(appOrigin()));
+app.use(canonicalOrigin(appOrigin()));
 
 // React Router's middleware takes over from here: the guard resolves user, organisation and device.
 function getLoadContext(request: express.Request, response: express.Response) {

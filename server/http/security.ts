@@ -62,12 +62,20 @@ export function sameOriginGuard(siteOrigin: string) {
 }
 
 /**
- * Drops X-Forwarded-Host unless the operator said a proxy in front sets it (TRUST_FORWARDED_HOST=1),
- * so no client can choose the host the app believes it serves.
+ * Every request is seen by the app as addressed to APP_ORIGIN (docs/decisions/013): the Host,
+ * X-Forwarded-Host and X-Forwarded-Proto a client sends never decide the scheme, host or port of
+ * `request.url`, so no link, redirect or origin comparison downstream (React Router's own action
+ * check included) can be steered by them.
  */
-export function forwardedHostFilter(trusted: boolean) {
+export function canonicalOrigin(siteOrigin: string) {
+  const url = new URL(siteOrigin);
+  const protocol = url.protocol.replace(/:$/, "");
   return (request: Request, _response: Response, next: NextFunction) => {
-    if (!trusted) delete request.headers["x-forwarded-host"];
+    request.headers.host = url.host;
+    delete request.headers["x-forwarded-host"];
+    // Own properties shadow Express's getters for this request only.
+    Object.defineProperty(request, "protocol", { value: protocol, configurable: true });
+    Object.defineProperty(request, "hostname", { value: url.hostname, configurable: true });
     next();
   };
 }

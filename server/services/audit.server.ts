@@ -39,18 +39,15 @@ export async function recordAuditEvent(actor: AuditActor, entry: AuditEntry, tra
  */
 export async function recordAuditEvents(actor: AuditActor, entries: readonly AuditEntry[], transaction: Transaction): Promise<void> {
   if (entries.length === 0) return;
-  await AuditEvent.bulkCreate(
-    entries.map((entry) => ({
-      organisationId: entry.organisationId,
-      actorUserId: actor.userId,
-      actorEmail: actor.email,
-      action: entry.action,
-      targetType: entry.targetType,
-      targetId: entry.targetId ?? "",
-      changes: entry.changes ?? {},
-      clientAddress: actor.clientAddress.slice(0, 64),
-    })),
-    { transaction },
+  const rows = entries.map((entry) => ({ organisation_id: entry.organisationId, action: entry.action, target_type: entry.targetType, target_id: entry.targetId ?? "", changes: entry.changes ?? {} }));
+  // One statement with the rows as one JSON parameter: Sequelize's bulkCreate spent seconds building 25,000 rows.
+  await AuditEvent.sequelize!.query(
+    `INSERT INTO audit_events (organisation_id, actor_user_id, actor_email, action, target_type, target_id, changes, client_address)
+     SELECT r.organisation_id, :actorUserId, :actorEmail, r.action, r.target_type, r.target_id, r.changes, :clientAddress
+     FROM ROWS FROM (jsonb_to_recordset(CAST(:rows AS jsonb)) AS (organisation_id uuid, action text, target_type text, target_id text, changes jsonb))
+       WITH ORDINALITY AS r(organisation_id, action, target_type, target_id, changes, ordinal)
+     ORDER BY r.ordinal`,
+    { replacements: { actorUserId: actor.userId, actorEmail: actor.email, clientAddress: actor.clientAddress.slice(0, 64), rows: JSON.stringify(rows) }, transaction },
   );
 }
 

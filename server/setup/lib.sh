@@ -263,15 +263,21 @@ smtp_banner_is_ours() {
   ' "$1" "$2" 2>/dev/null
 }
 
-stop_local_services() {
-  # Only this checkout's own server, by its pid file — never by name, which would match another
-  # checkout's (or another user's) server.
+# Only this checkout's own fake SMTP server, by its pid file — never by name, which would match
+# another checkout's (or another user's) server.
+stop_fake_smtp() {
   local pid_file
   pid_file=$(fake_smtp_pid_file)
   if is_our_fake_smtp "$(cat "$pid_file" 2>/dev/null)"; then
     kill "$(cat "$pid_file")" && ok "stopped the fake SMTP server"
+  else
+    ok "the fake SMTP server of this checkout is not running"
   fi
   rm -f "$pid_file"
+}
+
+stop_local_services() {
+  stop_fake_smtp
   local bin data
   bin=$(pg_bin_dir)
   data=$(pg_data_dir)
