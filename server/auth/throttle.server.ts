@@ -69,22 +69,18 @@ export const RESET_REQUESTS_PER_CLIENT = 20;
 export const SIGN_UPS_PER_EMAIL = 5;
 export const SIGN_UPS_PER_CLIENT = 30;
 
-/** One password-reset request for the address from the client, or the throttle's verdict. */
-export async function allowPasswordResetRequest(email: string, clientAddress: string): Promise<ThrottleVerdict> {
-  return (
-    await reserve([
-      { scope: "reset-email", subject: email, limit: RESET_REQUESTS_PER_EMAIL, windowMs: REQUEST_WINDOW_MS },
-      { scope: "reset-client", subject: clientAddress, limit: RESET_REQUESTS_PER_CLIENT, windowMs: REQUEST_WINDOW_MS },
-    ])
-  ).verdict;
-}
+const REQUEST_LIMITS = {
+  reset: { email: ["reset-email", RESET_REQUESTS_PER_EMAIL], client: ["reset-client", RESET_REQUESTS_PER_CLIENT] },
+  signup: { email: ["signup-email", SIGN_UPS_PER_EMAIL], client: ["signup-client", SIGN_UPS_PER_CLIENT] },
+} as const satisfies Record<string, Record<"email" | "client", readonly [ThrottleScope, number]>>;
 
-/** One sign-up for the address from the client, or the throttle's verdict. */
-export async function allowSignUp(email: string, clientAddress: string): Promise<ThrottleVerdict> {
+/** One password-reset request ("reset") or sign-up ("signup") for the address from the client, or the throttle's verdict. */
+export async function allowRequest(kind: keyof typeof REQUEST_LIMITS, email: string, clientAddress: string): Promise<ThrottleVerdict> {
+  const { email: [emailScope, perEmail], client: [clientScope, perClient] } = REQUEST_LIMITS[kind];
   return (
     await reserve([
-      { scope: "signup-email", subject: email, limit: SIGN_UPS_PER_EMAIL, windowMs: REQUEST_WINDOW_MS },
-      { scope: "signup-client", subject: clientAddress, limit: SIGN_UPS_PER_CLIENT, windowMs: REQUEST_WINDOW_MS },
+      { scope: emailScope, subject: email, limit: perEmail, windowMs: REQUEST_WINDOW_MS },
+      { scope: clientScope, subject: clientAddress, limit: perClient, windowMs: REQUEST_WINDOW_MS },
     ])
   ).verdict;
 }

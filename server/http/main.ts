@@ -58,7 +58,12 @@ if (development) {
   app.all(/.*/, createRequestHandler({ build, mode: "production", getLoadContext }));
 }
 
-const server = app.listen(port, host, () => {
+// Express 5 calls back with the error when the port cannot be had (EADDRINUSE): say so and stop.
+const server = app.listen(port, host, (error?: Error) => {
+  if (error) {
+    console.error(`Sallyport could not listen on ${host}:${port}: ${error.message}. Is another server using the port? Set PORT.`);
+    process.exit(1);
+  }
   console.log(`Sallyport listening on ${host}:${port} (${development ? "development" : "production"}), served as ${appOrigin()}`);
   if (isOutboxEnabled()) console.log(`Local outbox (keep this link to yourself): ${outboxLink()}`);
   else if (environment.SALLYPORT_FAKE_SMTP === "1" && !listensOnLoopbackOnly()) console.log("Local outbox: off, because the server listens beyond loopback (OUTBOX_BEYOND_LOOPBACK=1 opens it).");

@@ -23,7 +23,8 @@ export type SharedObjectInput = { kind: SharedObjectKind; name: string; items: s
 export type SharedObjectRow = SharedObjectInput & { id: string };
 
 export async function listSharedObjects(organisationId: string, transaction?: Transaction): Promise<SharedObjectRow[]> {
-  const objects = await SharedAddressObject.findAll({ where: { organisationId }, order: [["kind", "ASC"], ["name", "ASC"]], transaction });
+  // Plain rows: a library imported from CSV may hold tens of thousands, and model instances cost a second.
+  const objects = await SharedAddressObject.findAll({ where: { organisationId }, order: [["kind", "ASC"], ["name", "ASC"]], attributes: ["id", "kind", "name", "items", "description"], raw: true, transaction });
   return objects.map((object) => ({ id: object.id, kind: object.kind, name: object.name, items: object.items, description: object.description }));
 }
 

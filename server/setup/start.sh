@@ -22,5 +22,4 @@ else
   export NODE_ENV=production
 fi
 step "Serving on $APP_ORIGIN (Ctrl-C stops the web server; \`npm run stop\` stops PostgreSQL and the fake SMTP server)"
-ok "Local outbox (opens with its secret; keep the link to yourself): $APP_ORIGIN/outbox?key=$OUTBOX_SECRET"
 exec node --import tsx server/http/main.ts
