@@ -21,6 +21,7 @@ import { Site } from "./site.ts";
 import { User } from "./user.ts";
 
 export type { RevisionSummaryRecord, SharedObjectsSnapshot } from "./device-revision.ts";
+export type { ThrottleScope } from "./sign-in-attempt.ts";
 export { ChangeProposal, ProposalComment, ProposalEdit, ProposalReview };
 export { AuditEvent, Device, DeviceExpectation, DeviceRevision, EmailChange, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
 

@@ -7,6 +7,7 @@ import { Device, DeviceRevision, RevisionAnalysisRecord, Site } from "#models/in
 import type { Finding, Outcome } from "../engine/index.ts";
 import { currentRevision, summariseDocument, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
 import { RevisionAnalysis } from "./revision-analysis.ts";
+import { isUuid } from "../validation/ids.ts";
 
 /** A revision's stored facts without its document (which the analysis holds, typed). */
 export type RevisionRecord = Pick<DeviceRevision, "id" | "number" | "message" | "authorEmail" | "createdAt" | "summary" | "sharedObjects" | "analysisRecord">;
@@ -31,7 +32,6 @@ const RECORD_ATTRIBUTES = ["id", "number", "message", "authorEmail", "createdAt"
 /** The revision's stored analysis, when there is one yet (LEFT JOIN). */
 const ANALYSIS_RECORD = { model: RevisionAnalysisRecord, as: "analysisRecord", required: false, attributes: ["revisionId", "findingsBySeverity", "worstOutsideOutcome"] };
 
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 export type DeviceRevisionsOptions = {
   /** Most revisions whose documents and compiled models are kept. */
@@ -68,7 +68,7 @@ export class DeviceRevisions {
    * when the revision's analysis is cached, two otherwise.
    */
   async find(organisationId: string, deviceId: string, options: { revisionNumber?: number; transaction?: Transaction; lock?: boolean } = {}): Promise<DeviceAtRevision | null> {
-    if (!UUID.test(deviceId)) return null;
+    if (!isUuid(deviceId)) return null;
     const { transaction, lock } = options;
     if (lock && transaction) {
       // Lock the device row on its own first: a joined FOR UPDATE that waits for another save

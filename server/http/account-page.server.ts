@@ -5,10 +5,10 @@ import { serializeFlash } from "../auth/flash.server.ts";
 import { findPasswordProblem } from "../auth/password-rules.ts";
 import type { SignedInSession } from "../auth/session.server.ts";
 import { Session } from "#models/index.ts";
-import { getEnvironment } from "../config.server.ts";
+import { appOrigin } from "../config.server.ts";
 import { plural } from "../engine/format.ts";
 import { changePassword, pendingEmailChange, recentAccountActivity, renameUser, requestEmailChange } from "../services/account.server.ts";
-import { appOriginOf, fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "./form.server.ts";
+import { fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "./form.server.ts";
 import { refusedForm } from "./refusals.server.ts";
 import { clientAddressOf, type RequestContext } from "./request-context.server.ts";
 import { ChangeEmailSchema, ChangeNameSchema, ChangePasswordSchema } from "./schemas.ts";
@@ -53,7 +53,7 @@ export async function accountAction(request: Request, context: RequestContext, {
       case "email": {
         const parsed = ChangeEmailSchema.safeParse(values);
         if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
-        await requestEmailChange(user, parsed.data, appOriginOf(request, getEnvironment().APP_ORIGIN), clientAddress);
+        await requestEmailChange(user, parsed.data, appOrigin(), clientAddress);
         return back(`We sent a confirmation link to ${parsed.data.newEmail}. Your e-mail changes when you follow it.`);
       }
       case "password": {

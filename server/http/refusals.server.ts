@@ -4,12 +4,17 @@
 import { data } from "react-router";
 import { ProbeError } from "../engine/index.ts";
 import { Refusal } from "../errors.ts";
+import { failureKindOf } from "./failures.server.ts";
 import { formFailure, type FieldErrors } from "./form.server.ts";
 
-/** The thrown value as a Refusal; the engine's probe input errors count as 400s. Re-throws anything else. */
+/**
+ * The thrown value as a Refusal; the engine's probe input errors count as 400s, and a unique
+ * constraint a concurrent request won as a 409 (docs/decisions/013). Re-throws anything else.
+ */
 export function refusalOf(error: unknown): Refusal {
   if (error instanceof Refusal) return error;
   if (error instanceof ProbeError) return new Refusal(error.message, 400);
+  if (failureKindOf(error) === "conflict") return new Refusal("Someone else made the same change at the same moment (a name that must be unique is now taken). Nothing was changed; reload and try again.", 409);
   throw error;
 }
 

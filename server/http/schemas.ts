@@ -4,6 +4,13 @@ import { ROLES } from "#models/roles.ts";
 import { NAME_PATTERN } from "../engine/vocabulary.ts";
 import { timeZoneProblem } from "../workspace/issue-words.ts";
 import { REASON_MAX, shortReasonMessage, type DismissalRule } from "../services/dismissal-rules.ts";
+import { IdSchema } from "../validation/ids.ts";
+import { refineText } from "../validation/text.ts";
+
+export { IdSchema };
+
+/** A one-line name or title: no control, line-break or bidirectional override characters (server/validation/text.ts). */
+const NameText = z.string().superRefine(refineText("name"));
 
 // Field schemas shared by the actions, so each field is validated the same way everywhere.
 export const EmailSchema = z
@@ -14,9 +21,9 @@ export const EmailSchema = z
   .max(254, "An e-mail address has at most 254 characters.")
   .email("Enter a valid e-mail address, like name@example.com.");
 
-export const PersonNameSchema = z.string().trim().min(1, "Enter a name.").max(100, "Use at most 100 characters.");
+export const PersonNameSchema = NameText.trim().min(1, "Enter a name.").max(100, "Use at most 100 characters.");
 
-export const OrganisationNameSchema = z.string().trim().min(2, "Enter the organisation's name (at least 2 characters).").max(100, "Use at most 100 characters.");
+export const OrganisationNameSchema = NameText.trim().min(2, "Enter the organisation's name (at least 2 characters).").max(100, "Use at most 100 characters.");
 
 export const RoleSchema = z.enum(ROLES, { message: `Choose one of: ${ROLES.join(", ")}.` });
 
@@ -34,7 +41,6 @@ export const TimeZoneSchema = z
     if (problem) context.addIssue({ code: "custom", message: problem });
   });
 
-export const IdSchema = z.string().uuid("That identifier is not valid.");
 
 /** The import page's last step for a new revision of a device: its effect was read (the box ticked). */
 export const ImportEffectReadSchema = z.object({
@@ -74,8 +80,8 @@ export const ResetPasswordSchema = z.object({ password: PasswordInputSchema });
 export const InvitationSignUpSchema = z.object({ name: PersonNameSchema, password: PasswordInputSchema });
 
 export const SiteSchema = z.object({
-  name: z.string().trim().min(1, "Enter the site's name.").max(100, "Use at most 100 characters."),
-  customer: z.string().trim().max(100, "Use at most 100 characters.").default(""),
+  name: NameText.trim().min(1, "Enter the site's name.").max(100, "Use at most 100 characters."),
+  customer: NameText.trim().max(100, "Use at most 100 characters.").default(""),
   location: z.string().trim().max(200, "Use at most 200 characters.").default(""),
 });
 
@@ -102,9 +108,9 @@ export const ChangePasswordSchema = z.object({
 const WrittenReason = z.string().trim().max(2000, "Use at most 2,000 characters.");
 
 export const ProposalDetailsSchema = z.object({
-  title: z.string().trim().min(3, "Give the change a title of at least 3 characters; it becomes the revision's message.").max(200, "Use at most 200 characters."),
+  title: NameText.trim().min(3, "Give the change a title of at least 3 characters; it becomes the revision's message.").max(200, "Use at most 200 characters."),
   reason: z.string().trim().max(4000, "Use at most 4,000 characters.").default(""),
-  ticket: z.string().trim().max(100, "Use at most 100 characters.").default(""),
+  ticket: NameText.trim().max(100, "Use at most 100 characters.").default(""),
   windowStart: z.string().trim().min(1, "Enter when the change window starts."),
   windowEnd: z.string().trim().min(1, "Enter when the change window ends."),
   workFrom: z

@@ -22,6 +22,7 @@ import { EMPTY_LIBRARY, validateDocument, type ModelDocument } from "../workspac
 import { compiledOn, documentDigest, validatedDraft } from "./compiled-drafts.server.ts";
 import { loadSharedLibrary } from "./devices.server.ts";
 import { listExpectations } from "./expectations.server.ts";
+import { isUuid } from "../validation/ids.ts";
 
 export type ProposalEffectRef = { organisationId: string; deviceId: string; proposalId: string };
 
@@ -41,7 +42,6 @@ type Computed = { effect: ChangeEffect; picture: EffectPicture; timezone: string
 const effects = new LRUCache<string, Computed>({ max: 24 });
 const summaries = new LRUCache<string, { summary: EffectSummary; timezone: string }>({ max: 48 });
 
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 const digest = (value: unknown): string => createHash("sha256").update(JSON.stringify(value)).digest("hex");
 
@@ -68,7 +68,7 @@ type Basis = {
 };
 
 async function basisOf(ref: ProposalEffectRef): Promise<Basis> {
-  if (!UUID.test(ref.proposalId) || !UUID.test(ref.deviceId)) throw new Refusal("No such proposal on this device.", 404);
+  if (!isUuid(ref.proposalId) || !isUuid(ref.deviceId)) throw new Refusal("No such proposal on this device.", 404);
   // The draft document can be large (a 2,000-rule device): read it only when needed.
   const proposal = await ChangeProposal.findOne({ where: { id: ref.proposalId, organisationId: ref.organisationId, deviceId: ref.deviceId }, attributes: { exclude: ["draftDocument"] } });
   if (!proposal) throw new Refusal("No such proposal on this device.", 404);

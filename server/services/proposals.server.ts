@@ -40,6 +40,7 @@ import { listExpectations } from "./expectations.server.ts";
 import { invalidModel, loadSharedLibrary, saveEdit, writeRevision, type SaveGuard, type SaveGuardNote } from "./devices.server.ts";
 import { revisionAnalysisQueue } from "../jobs/revision-analysis.server.ts";
 import { lockSharedLibrary } from "./shared-library-lock.server.ts";
+import { isUuid } from "../validation/ids.ts";
 
 /** Who acts: the audit actor with their role in the organisation and their name. */
 export type ProposalActor = AuditActor & { role: Role; name: string };
@@ -60,7 +61,6 @@ export type EditAttempt = { apply(document: ModelDocument): ModelDocument; reado
 /** Where a new proposal's draft comes from: the current revision, a whole document (import, API), or a first edit. */
 export type ProposalSource = { kind: "revision" } | { kind: "document"; document: unknown } | { kind: "edit"; attempt: EditAttempt; message: string };
 
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 const noSuchProposal = () => new Refusal("No such proposal on this device.", 404);
 
@@ -70,7 +70,7 @@ function nowOf(environment: ProposalEnvironment): Date {
 
 /** The proposal's row, locked for the rest of the transaction; 404 when it is not this organisation's device's. */
 async function lockedProposal(ref: ProposalRef, transaction: Transaction): Promise<ChangeProposal> {
-  if (!UUID.test(ref.proposalId) || !UUID.test(ref.deviceId)) throw noSuchProposal();
+  if (!isUuid(ref.proposalId) || !isUuid(ref.deviceId)) throw noSuchProposal();
   const proposal = await ChangeProposal.findOne({ where: { id: ref.proposalId, organisationId: ref.organisationId, deviceId: ref.deviceId }, transaction, lock: transaction.LOCK.UPDATE });
   if (!proposal) throw noSuchProposal();
   return proposal;
@@ -115,7 +115,7 @@ const gateCache = new LRUCache<string, readonly GateReason[]>({ max: 500 });
 /** The draft validated with the organisation's shared objects as they are now; a 409 when it no longer validates. */
 function validatedDraft(proposal: ChangeProposal, library: SharedLibrary) {
   const validated = validateDocument(proposal.draftDocument, library);
-  if (!validated.ok) throw invalidModel(validated.errors, "The draft is no longer a valid model (a shared object it uses changed). Edit the draft:");
+  if (!validated.ok) throw invalidModel(validated.errors, "The draft is no longer a valid model (a shared object it uses changed). Edit the draft:", validated.tooLarge);
   return validated;
 }
 
@@ -290,7 +290,7 @@ export async function createProposal(
       const library = await loadSharedLibrary(where.organisationId, transaction);
       const candidate = source.kind === "document" ? source.document : source.attempt.apply(current.document);
       const validated = validateDocument(candidate, library);
-      if (!validated.ok) throw invalidModel(validated.errors, source.kind === "document" ? "The document is not a valid Sallyport model." : undefined);
+      if (!validated.ok) throw invalidModel(validated.errors, source.kind === "document" ? "The document is not a valid Sallyport model." : undefined, validated.tooLarge);
       draft = validated.document;
       edits = source.kind === "document" ? editsBetween(current.document, draft).map((edit) => ({ edit, message: describeElementEdit(edit) })) : [{ edit: source.attempt.resolved, message: source.message }];
     }
@@ -338,7 +338,7 @@ export async function editDraft(ref: ProposalRef, expectedVersion: number, attem
     assertVersion(proposal, expectedVersion);
     const library = await loadSharedLibrary(ref.organisationId, transaction);
     const validated = validateDocument(attempt.apply(proposal.draftDocument), library);
-    if (!validated.ok) throw invalidModel(validated.errors);
+    if (!validated.ok) throw invalidModel(validated.errors, undefined, validated.tooLarge);
     if (canonicalJson(validated.document) === canonicalJson(proposal.draftDocument)) return { draftVersion: proposal.draftVersion, changed: false, approvers: [], proposal };
     const approvers = (await currentApprovals(proposal, transaction)).map((approval) => approval.reviewerUserId);
     const position = (await ProposalEdit.max<number, ProposalEdit>("position", { where: { proposalId: proposal.id }, transaction })) ?? 0;
@@ -817,7 +817,7 @@ export async function listProposals(organisationId: string, filter: ProposalFilt
 
 /** The proposals applied to a device, by the revision each made: History links each revision to its change record. One query. */
 export async function appliedProposals(organisationId: string, deviceId: string): Promise<Array<{ revision: number; id: string; title: string }>> {
-  if (!UUID.test(deviceId)) return [];
+  if (!isUuid(deviceId)) return [];
   const rows = await ChangeProposal.findAll({ where: { organisationId, deviceId, state: "applied" }, attributes: ["id", "title", "appliedRevisionNumber"] });
   return rows.flatMap((row) => (row.appliedRevisionNumber === null ? [] : [{ revision: row.appliedRevisionNumber, id: row.id, title: row.title }]));
 }
@@ -874,7 +874,7 @@ export type ProposalView = {
 
 /** Everything the proposal page shows, for this viewer. */
 export async function proposalView(ref: ProposalRef, viewer: { userId: string; role: Role }, environment: ProposalEnvironment = {}): Promise<ProposalView> {
-  if (!UUID.test(ref.proposalId)) throw noSuchProposal();
+  if (!isUuid(ref.proposalId)) throw noSuchProposal();
   const proposal = await ChangeProposal.findOne({ where: { id: ref.proposalId, organisationId: ref.organisationId, deviceId: ref.deviceId } });
   if (!proposal) throw noSuchProposal();
   const [live, base, library, edits, comments, reviews, required] = await Promise.all([

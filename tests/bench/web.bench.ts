@@ -60,7 +60,7 @@ async function main() {
 
   const port = await findFreePort();
   const base = `http://127.0.0.1:${port}`;
-  const server = spawn(process.execPath, ["--import", "tsx", "server/http/main.ts"], { env: { ...process.env, NODE_ENV: "production", PORT: String(port) }, stdio: ["ignore", "ignore", "inherit"] });
+  const server = spawn(process.execPath, ["--import", "tsx", "server/http/main.ts"], { env: { ...process.env, NODE_ENV: "production", PORT: String(port), APP_ORIGIN: base }, stdio: ["ignore", "ignore", "inherit"] });
   try {
     for (let attempt = 0; ; attempt++) {
       try {

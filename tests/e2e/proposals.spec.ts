@@ -5,7 +5,7 @@ import type { APIRequest, APIRequestContext, Browser, Page } from "@playwright/t
 import type { Role } from "#models/roles";
 import { formatInstant } from "#server/engine/format";
 import { expect, test, type BrowserProblems } from "./fixtures";
-import { hydrated, screenshot, seriousAccessibilityViolations, signIn, toast } from "./helpers";
+import { hydrated, outboxPath, screenshot, seriousAccessibilityViolations, signIn, toast } from "./helpers";
 import { createTeam, outboxDirectory, type Team } from "./team";
 import { waitForMail } from "../support/outbox";
 
@@ -216,7 +216,7 @@ for (const size of SIZES) {
     browserProblems.watch(reviewerContext);
     const reviewer = await reviewerContext.newPage();
     await signIn(reviewer, reviewerEmail, team.members.reviewer.password);
-    await reviewer.goto("/outbox");
+    await reviewer.goto(outboxPath());
     const mail = reviewer.getByRole("article", { name: `Review requested: ${title} (${team.device.name})` }).filter({ hasText: `To: ${reviewerEmail}` });
     await expect(mail).toContainText("Chen Lindahl asks for a review");
     await mail.getByRole("link", { name: /\/proposals\/[0-9a-f-]{36}$/ }).click();

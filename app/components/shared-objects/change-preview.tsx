@@ -8,7 +8,7 @@ import { Badge, Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
 import { formatCount } from "#server/engine/format";
 import type { ExposureChangeRow, FindingLine } from "#server/analysis/exposure-change";
-import type { CsvRowReport, DeviceEffect, SharedChangePreview } from "#server/services/shared-objects.server";
+import type { DeviceEffect, SharedChangePreview } from "#server/services/shared-objects.server";
 import { CsvReport } from "./csv-report";
 
 const PLURALS = new Intl.PluralRules("en");
@@ -236,7 +236,7 @@ export function SharedChangeReview({ preview, fields, organisationPath, cancelPa
   }, [preview]);
   const count = preview.devices.length;
   const revisions = counted(String(count), "new revision", "new revisions");
-  const report: CsvRowReport[] | null = preview.report;
+  const report = preview.report;
   return (
     <section aria-labelledby="review-heading" className="min-w-0 space-y-4 rounded-card border-2 border-brass/50 bg-brass-soft/40 p-3 sm:p-5" data-testid="shared-change-review">
       <div>

@@ -8,6 +8,8 @@ import { actorOf } from "#server/http/actor.server";
 import { readForm } from "#server/http/form.server";
 import { ElementNameSchema, ImportEffectReadSchema } from "#server/http/schemas";
 import { isRefusal } from "#server/errors";
+import { isUuid } from "#server/validation/ids";
+import { MAX_MODEL_DOCUMENT_BYTES, sizeWords } from "#server/validation/limits";
 import { refusedWith } from "#server/http/refusals.server";
 import { createDevice, deviceNameChoice, findDevice, listDevices, loadSharedLibrary, saveEdit } from "#server/services/devices.server";
 import { revisionEffect } from "#server/services/revision-effect.server";
@@ -35,7 +37,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Import a model · Sally
 export const ErrorBoundary = PageErrorBoundary;
 
 /** Model documents are small; a larger upload is refused before it is parsed. */
-export const MAX_MODEL_BYTES = 1024 * 1024;
+export const MAX_MODEL_BYTES = MAX_MODEL_DOCUMENT_BYTES;
 
 export async function loader({ context }: Route.LoaderArgs) {
   const access = requireRole(context, PAGE_ROLES.importModel);
@@ -85,13 +87,13 @@ async function readDocument(form: FormData): Promise<{ text: string; fileName: s
   const upload = form.get("file");
   if (typeof upload === "string" || upload === null) {
     const text = form.get("documentText");
-    if (typeof text === "string" && text.length > 0) return text.length > MAX_MODEL_BYTES ? { error: "The document is larger than 1 MiB." } : { text, fileName: String(form.get("fileName") ?? "document.json").slice(0, 200) };
+    if (typeof text === "string" && text.length > 0) return new TextEncoder().encode(text).length > MAX_MODEL_BYTES ? { error: `The document is larger than ${sizeWords(MAX_MODEL_BYTES)}.` } : { text, fileName: String(form.get("fileName") ?? "document.json").slice(0, 200) };
     return { error: NO_FILE };
   }
   // A browser sends a form with no file chosen as an empty part without a name.
   if (upload.size === 0 && upload.name === "") return { error: NO_FILE };
   if (upload.size === 0) return { error: "The chosen file is empty." };
-  if (upload.size > MAX_MODEL_BYTES) return { error: `The file is ${Math.ceil(upload.size / 1024)} KiB; model documents may be at most 1024 KiB.` };
+  if (upload.size > MAX_MODEL_BYTES) return { error: `The file is ${sizeWords(upload.size)}; model documents may be at most ${sizeWords(MAX_MODEL_BYTES)}.` };
   return { text: await upload.text(), fileName: upload.name.slice(0, 200) };
 }
 
@@ -112,9 +114,11 @@ export async function action({ request, context }: Route.ActionArgs) {
     return refuse(`This is not JSON: ${error instanceof Error ? error.message : "unreadable"}. Sallyport imports its own model documents (schemaVersion 2, or 1).`, [], step);
   }
   const validated = validateDocument(parsed, await loadSharedLibrary(access.organisation.id));
-  if (!validated.ok) return refuse(`The document is not a valid Sallyport model: ${plural(validated.errors.length, { one: "problem", other: "problems" })}. Nothing was created.`, [...validated.errors], step);
+  if (!validated.ok) return refuse(`The document is not a valid Sallyport model: ${plural(validated.errors.length, { one: "problem", other: "problems" })}. Nothing was created.`, [...validated.errors], step, validated.tooLarge ? 413 : 400);
 
   const [kind, id] = target.split(":");
+  // A device or site id that is not a UUID names nothing here (and must never reach PostgreSQL).
+  if ((kind === "device" || (kind === "site" && target !== NEW_SITE_TARGET)) && !isUuid(id)) return refuse("No such device or site in this organisation.", [], step, 404, { target: "Choose where to import from the list." });
   if (kind !== "site" && kind !== "device") {
     const message = "Choose where to import: a new device at a site, or a new revision of a device.";
     return refuse(message, [], step, 400, { target: message });
@@ -173,7 +177,9 @@ export async function action({ request, context }: Route.ActionArgs) {
   }
   try {
     if (existing) {
-      const baseRevision = Number(form.get("baseRevision"));
+      const baseText = String(form.get("baseRevision") ?? "");
+      const baseRevision = /^\d{1,9}$/.test(baseText) ? Number(baseText) : Number.NaN;
+      if (!Number.isSafeInteger(baseRevision) || baseRevision < 1) return refuse("The revision this import is based on is missing or not a whole number; preview the file again.", [], step, 400);
       // A change to the revision the preview showed lands only once its effect was read. (On a
       // stale base the save below refuses with what changed; an import that changes nothing
       // has no effect to read.)
@@ -220,7 +226,7 @@ export default function ImportModel({ loaderData, actionData }: Route.ComponentP
   const fieldMessages = new Set(Object.values(errors));
   return (
     <>
-      <PageHeader title="Import a model document" description="Upload a Sallyport model document (JSON, schemaVersion 2 — version 1 is read too — at most 1 MiB). You see what it contains before anything is created." />
+      <PageHeader title="Import a model document" description={`Upload a Sallyport model document (JSON, schemaVersion 2 — version 1 is read too — at most ${sizeWords(MAX_MODEL_BYTES)}). You see what it contains before anything is created.`} />
       {/* A new revision's effect needs the page's width; the upload form then sits above it. */}
       <div className={cx("grid gap-6", actionData?.stage === "preview" && actionData.effect ? "" : "lg:grid-cols-2")}>
         <Card className="p-6">
@@ -406,7 +412,8 @@ function ImportPreview({ preview, busy }: { preview: PreviewData; busy: boolean 
           )}
         </section>
       ) : null}
-      <Form method="post" className="mt-6 space-y-4">
+      {/* Multipart, so the document travels as it is (URL-encoding could triple it past the limit). */}
+      <Form method="post" encType="multipart/form-data" className="mt-6 space-y-4">
         <input type="hidden" name="intent" value="import" />
         <input type="hidden" name="target" value={preview.target} />
         <input type="hidden" name="siteName" value={preview.siteName} />

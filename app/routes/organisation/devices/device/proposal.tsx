@@ -2,10 +2,10 @@ import type { ReactNode } from "react";
 import { Form, Link, redirect, useNavigation, useSearchParams } from "react-router";
 import type { Route } from "./+types/proposal";
 import { serializeFlash } from "#server/auth/flash.server";
-import { getEnvironment } from "#server/config.server";
+import { appOrigin } from "#server/config.server";
 import { actorOf } from "#server/http/actor.server";
 import { requireDevice } from "#server/http/device-access.server";
-import { appOriginOf, formValues, readForm, unknownIntent } from "#server/http/form.server";
+import { formValues, readForm, unknownIntent } from "#server/http/form.server";
 import { parseStep, proposalIdOf, readProposalDetails, runProposalStep, STEP_ROLES, stepInputFromForm } from "#server/http/proposal-steps.server";
 import { fieldErrorsOf, invalidForm } from "#server/http/form.server";
 import { refusedForm, refusedPage } from "#server/http/refusals.server";
@@ -79,7 +79,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   if (!parsed.ok) return invalidForm(fieldErrorsOf(parsed.error), values);
   try {
     const outcome = await runProposalStep(parsed.parsed, { organisationId: access.organisation.id, deviceId: access.device.id, proposalId }, actorOf(access, clientAddressOf(context)), {
-      appOrigin: appOriginOf(request, getEnvironment().APP_ORIGIN),
+      appOrigin: appOrigin(),
     });
     // Conflicts to settle: the page lists them with a choice each, nothing changed yet.
     if (outcome.facts.ok === false && Array.isArray(outcome.facts.conflicts)) {
