@@ -3,7 +3,8 @@ import { AuditEvent, Device, Membership, Organisation, Site, User } from "#model
 import { isAuditAction, type AuditAction, type AuditTargetType } from "#models/audit-actions.ts";
 import { pageOf } from "../analysis/paging.ts";
 
-export type AuditActor = { userId: string | null; email: string; clientAddress: string };
+/** Who did it; `apiToken` when they did it through the REST API (docs/decisions/014). */
+export type AuditActor = { userId: string | null; email: string; clientAddress: string; apiToken?: { id: string; name: string } };
 
 export type AuditEntry = {
   organisationId: string | null;
@@ -28,6 +29,8 @@ export async function recordAuditEvent(actor: AuditActor, entry: AuditEntry, tra
     targetId: entry.targetId ?? "",
     changes: entry.changes ?? {},
     clientAddress: actor.clientAddress.slice(0, 64),
+    apiTokenId: actor.apiToken?.id ?? null,
+    apiTokenName: actor.apiToken?.name ?? "",
   }, { transaction });
 }
 
@@ -109,6 +112,8 @@ export type AuditRow = {
   targetName: string | null;
   changes: Record<string, unknown>;
   clientAddress: string;
+  /** The API token the entry was made through ("" when made in the app). */
+  apiTokenName: string;
 };
 
 const text = (value: unknown): string | null => (typeof value === "string" && value !== "" ? value : null);
@@ -180,6 +185,7 @@ async function withNames(organisationId: string, events: readonly AuditEvent[]):
       targetName: names.get(key) ?? recorded.get(key) ?? recordedName(event),
       changes: event.changes,
       clientAddress: event.clientAddress,
+      apiTokenName: event.apiTokenName,
     };
   });
 }
