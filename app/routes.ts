@@ -58,6 +58,7 @@ export default [
         route("organisation", "routes/organisation/settings/organisation.tsx"),
         route("shared-objects", "routes/organisation/settings/shared-objects.tsx"),
         route("audit", "routes/organisation/settings/audit.tsx"),
+        route("api-tokens", "routes/organisation/settings/api-tokens.tsx"),
       ]),
       route("audit.csv", "routes/organisation/settings/audit.csv.ts"),
     ]),

@@ -1,13 +1,10 @@
 import { DataTypes, Model, type CreationOptional, type ForeignKey, type InferAttributes, type InferCreationAttributes, type NonAttribute, type Sequelize } from "sequelize";
 import type { Organisation } from "./organisation.ts";
+import type { ApiTokenKind, ApiTokenScope } from "./api-token-words.ts";
 import type { Role } from "./roles.ts";
-import type { User } from "./user.ts";
 
-export const API_TOKEN_KINDS = ["personal", "service"] as const;
-export type ApiTokenKind = (typeof API_TOKEN_KINDS)[number];
-/** "read" calls only the reading endpoints; "write" calls every endpoint its role allows. */
-export const API_TOKEN_SCOPES = ["read", "write"] as const;
-export type ApiTokenScope = (typeof API_TOKEN_SCOPES)[number];
+export { API_TOKEN_KINDS, API_TOKEN_SCOPES, type ApiTokenKind, type ApiTokenScope } from "./api-token-words.ts";
+import type { User } from "./user.ts";
 
 /**
  * A bearer token for the REST API (docs/decisions/014): personal (acts with its owner's role in

@@ -1,7 +1,7 @@
 // The audit log in words: a label for each action and target type, one sentence per entry and
 // its recorded values as readable lines. Shared by the audit page and its CSV export. Pure.
 import { isAuditAction, isAuditTargetType, type AuditAction, type AuditTargetType } from "#models/audit-actions";
-import { plural } from "#server/engine/format";
+import { formatDay, plural } from "#server/engine/format";
 
 export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "organisation.created": "Organisation created",
@@ -179,7 +179,7 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "password.reset-requested": () => "Asked for a password reset link",
   "password.reset-completed": () => "Set a new password from a reset link and signed out everywhere",
   "api-token.created": (c, target) =>
-    `Created the ${word(c.kind, "")} API token ${quoted(c.name, target)} (${word(c.scope)} scope${word(c.role, "") ? `, acts as ${word(c.role)}` : ""}, expires ${word(c.expiresAt)})`,
+    `Created the ${word(c.kind, "")} API token ${quoted(c.name, target)} (${word(c.scope)} scope${word(c.role, "") ? `, acts as ${word(c.role)}` : ""}, until ${formatDay(word(c.expiresAt))})`,
   "api-token.revoked": (c, target) => `Revoked the API token ${quoted(c.name, target)}`,
   "api.called": (c) => `Called ${word(c.endpoint)} through the API (${word(c.status)})${word(c.query, "") ? ` with ${word(c.query)}` : ""}`,
 };

@@ -17,7 +17,7 @@ import { clientAddressOf, type RequestContext } from "../http/request-context.se
 import { authenticateApiToken, countApiCall, type ApiPrincipal, type RateVerdict } from "../services/api-tokens.server.ts";
 import { recordAuditEvent } from "../services/audit.server.ts";
 import type { ProposalActor } from "../services/proposals.server.ts";
-import type { ApiTokenScope } from "#models/api-token.ts";
+import type { ApiTokenScope } from "#models/api-token-words.ts";
 import { problemCodeOf, problemResponse, type ProblemCode, type ProblemExtras } from "./problems.ts";
 
 /** The API's version prefix: every endpoint's path is below it. */
@@ -181,11 +181,11 @@ function notModified(request: Request, etag: string): boolean {
 async function jsonBodyOf(request: Request): Promise<unknown> {
   const type = (request.headers.get("Content-Type") ?? "").split(";")[0].trim().toLowerCase();
   if (type !== "application/json") throw new Refusal("Send the body as JSON, with Content-Type: application/json.", 415);
-  const declared = Number(request.headers.get("Content-Length") ?? "0");
-  const tooLarge = () => new Refusal(`The request body is larger than ${API_BODY_LIMIT} bytes (1 MiB), the limit.`, 413);
-  if (declared > API_BODY_LIMIT) throw tooLarge();
+  // Read whole before judging its size: the HTTP server has already refused anything over its own
+  // limit (MAX_REQUEST_BYTES, server/http/security.ts), and a body left unread resets the connection
+  // under the client, which would then never see the 413.
   const text = await request.text();
-  if (Buffer.byteLength(text) > API_BODY_LIMIT) throw tooLarge();
+  if (Buffer.byteLength(text) > API_BODY_LIMIT) throw new Refusal(`The request body is larger than ${API_BODY_LIMIT} bytes (1 MiB), the limit.`, 413);
   try {
     return JSON.parse(text) as unknown;
   } catch {
@@ -284,6 +284,8 @@ export async function serveApi(table: EndpointTable, path: string, { request, pa
   const status = answer.status ?? endpoint.response.status;
   const text = JSON.stringify(answer.body);
   const headers: Record<string, string> = { ...cors, ...rate, ...answer.headers, "Content-Type": "application/json; charset=utf-8" };
+  const next = nextPageLink(request, answer.body);
+  if (next) headers.Link = next;
   // A successful write is audited by the service that made the change, in its transaction, with the token's name.
   if (endpoint.scope === "read") await audit(status);
   if (endpoint.response.etag) {
@@ -297,6 +299,14 @@ export async function serveApi(table: EndpointTable, path: string, { request, pa
     headers["Cache-Control"] = "no-store";
   }
   return new Response(text, { status, headers });
+}
+
+/** A page's `Link: <…>; rel="next"` (RFC 8288), relative to the request: never built from its Host. */
+function nextPageLink(request: Request, body: unknown): string | null {
+  if (typeof body !== "object" || body === null || !("nextCursor" in body) || typeof body.nextCursor !== "string") return null;
+  const url = new URL(request.url);
+  url.searchParams.set("cursor", body.nextCursor);
+  return `<${url.pathname}?${url.searchParams.toString()}>; rel="next"`;
 }
 
 /** A table of endpoints by path, for `serveApi`. */

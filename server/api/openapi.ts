@@ -20,8 +20,9 @@ const RATE_HEADERS = {
 };
 
 function refusalDescription(status: number): string {
+  if (status === 403) return "The token's scope or role does not allow this";
   const codes = Object.entries(PROBLEMS).filter(([, problem]) => problem.status === status);
-  return codes.map(([, problem]) => problem.title).join("; ") || problemCodeOf(status);
+  return codes[0]?.[1].title ?? problemCodeOf(status);
 }
 
 function register(registry: OpenAPIRegistry, endpoint: ApiEndpoint): void {

@@ -4,6 +4,7 @@ import { ROLES } from "#models/roles.ts";
 import { NAME_PATTERN } from "../engine/vocabulary.ts";
 import { timeZoneProblem } from "../workspace/issue-words.ts";
 import { REASON_MAX, shortReasonMessage, type DismissalRule } from "../services/dismissal-rules.ts";
+import { API_TOKEN_SCOPES, SERVICE_TOKEN_ROLES, TOKEN_LIFETIMES_DAYS } from "#models/api-token-words.ts";
 
 // Field schemas shared by the actions, so each field is validated the same way everywhere.
 export const EmailSchema = z
@@ -160,3 +161,36 @@ export const ChangePolicySchema = z.object({
     .optional()
     .transform((value) => value === "on" || value === "true"),
 });
+
+// ---------------------------------------------------------------------------------------------
+// API tokens (docs/decisions/014): personal ones on the account page, service tokens in the
+// organisation's settings. The name says where a token is used; control characters are refused.
+
+const TokenNameSchema = z
+  .string()
+  .trim()
+  .min(1, "Name the token after where it is used, e.g. “nightly exposure check”.")
+  .max(100, "Use at most 100 characters.")
+  .regex(/^[^\p{Cc}]*$/u, "Use letters, digits, spaces and punctuation only (no control characters).");
+
+const TokenScopeSchema = z.enum(API_TOKEN_SCOPES, { message: "Choose read, or read and write." });
+
+const TokenLifetimeSchema = z.coerce
+  .number({ message: "Choose how long the token works." })
+  .refine((days) => (TOKEN_LIFETIMES_DAYS as readonly number[]).includes(days), `Choose ${TOKEN_LIFETIMES_DAYS.join(", ")} days.`);
+
+export const PersonalTokenSchema = z.object({
+  name: TokenNameSchema,
+  organisation: z.string().trim().regex(/^[a-z0-9-]{1,63}$/, "Choose one of your organisations."),
+  scope: TokenScopeSchema,
+  lifetimeDays: TokenLifetimeSchema,
+});
+
+export const ServiceTokenSchema = z.object({
+  name: TokenNameSchema,
+  role: z.enum(SERVICE_TOKEN_ROLES, { message: `Choose the role it acts with: ${SERVICE_TOKEN_ROLES.join(", ")}.` }),
+  scope: TokenScopeSchema,
+  lifetimeDays: TokenLifetimeSchema,
+});
+
+export const TokenIdSchema = z.object({ tokenId: IdSchema });

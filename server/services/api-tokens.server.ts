@@ -7,19 +7,14 @@
 import { randomBytes } from "node:crypto";
 import { QueryTypes, UniqueConstraintError } from "sequelize";
 import { ApiToken, Membership, Organisation, User, type ApiTokenKind, type ApiTokenScope } from "#models/index.ts";
+import { SERVICE_TOKEN_ROLE, TOKEN_LIFETIMES_DAYS, type ServiceTokenRole } from "#models/api-token-words.ts";
 import { hasAtLeastRole, roleRank, type Role } from "../auth/roles.ts";
 import { hashToken } from "../auth/tokens.server.ts";
 import { getDatabase } from "../db/database.server.ts";
 import { Refusal } from "../errors.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 
-/** The least role that makes and revokes the organisation's service tokens (and revokes members' tokens). */
-export const SERVICE_TOKEN_ROLE: Role = "admin";
-/** Lifetimes offered when a token is made, in days; a token never lives longer than the last. */
-export const TOKEN_LIFETIMES_DAYS = [7, 30, 90, 365] as const;
-/** Roles a service token may act with: never owner (an owner's powers stay with people). */
-export const SERVICE_TOKEN_ROLES = ["trainee", "reviewer", "engineer", "admin"] as const satisfies readonly Role[];
-export type ServiceTokenRole = (typeof SERVICE_TOKEN_ROLES)[number];
+export { SERVICE_TOKEN_ROLE, SERVICE_TOKEN_ROLES, TOKEN_LIFETIMES_DAYS, type ServiceTokenRole } from "#models/api-token-words.ts";
 
 const PREFIX: Record<ApiTokenKind, string> = { personal: "sallyport_p_", service: "sallyport_s_" };
 /** What a well-formed secret looks like: the kind's prefix and 256 random bits in base64url. */

@@ -4,7 +4,7 @@
 // (outcomes, layers, severities, roles) from the vocabulary, so a new word shows up here too.
 import { z } from "zod";
 import { ROLES } from "#models/roles.ts";
-import { API_TOKEN_KINDS, API_TOKEN_SCOPES } from "#models/api-token.ts";
+import { API_TOKEN_KINDS, API_TOKEN_SCOPES } from "#models/api-token-words.ts";
 import { PROPOSAL_STATES } from "#models/proposal-states.ts";
 import { INTERFACE_ROLES, LAYERS, MODEL_SCHEMA_VERSION, OUTCOMES, SEVERITIES } from "../../engine/index.ts";
 import { MODEL_DOCUMENT_SCHEMA } from "../../engine/index.ts";
@@ -37,7 +37,7 @@ export const ModelDocumentSchema = MODEL_DOCUMENT_SCHEMA.meta({
 /** A document in a request body: any JSON object, checked by the engine (its problems come back with their document paths). */
 export const DocumentField = z
   .record(z.string(), z.unknown(), { message: "must be the model document, a JSON object" })
-  .meta({ $ref: "#/components/schemas/ModelDocument" } as Record<string, unknown>);
+  .meta({ $ref: "#/components/schemas/ModelDocument", description: "The model document (version 2, or 1)." } as Record<string, unknown>);
 
 // ---------------------------------------------------------------------------------------------
 // Token
