@@ -6,7 +6,7 @@
 // and noting its last use are here too, so the API layer holds no SQL.
 import { randomBytes } from "node:crypto";
 import { QueryTypes, UniqueConstraintError } from "sequelize";
-import { ApiToken, Membership, Organisation, User, type ApiTokenKind, type ApiTokenScope } from "#models/index.ts";
+import { ApiToken, Organisation, User, type ApiTokenKind, type ApiTokenScope } from "#models/index.ts";
 import { SERVICE_TOKEN_ROLE, TOKEN_LIFETIMES_DAYS, type ServiceTokenRole } from "#models/api-token-words.ts";
 import { hasAtLeastRole, roleRank, type Role } from "../auth/roles.ts";
 import { hashToken } from "../auth/tokens.server.ts";
@@ -171,37 +171,55 @@ export async function revokeApiToken(tokenId: string, by: AuditActor & { userId:
 /** Who a call is made by: the token, its organisation, the role it acts with and (personal) its owner. */
 export type ApiPrincipal = {
   token: { id: string; name: string; kind: ApiTokenKind; scope: ApiTokenScope; ratePerMinute: number; expiresAt: Date };
-  organisation: Organisation;
+  organisation: { id: string; slug: string; name: string };
   role: Role;
   /** The owner of a personal token; null for a service token. */
-  user: User | null;
+  user: { id: string; email: string; name: string } | null;
+};
+
+type PrincipalRow = {
+  id: string;
+  name: string;
+  kind: ApiTokenKind;
+  scope: ApiTokenScope;
+  token_role: Role | null;
+  rate_limit_per_minute: number;
+  expires_at: Date;
+  organisation_id: string;
+  organisation_slug: string;
+  organisation_name: string;
+  user_id: string | null;
+  user_email: string | null;
+  user_name: string | null;
+  member_role: Role | null;
 };
 
 /**
  * The principal behind a bearer secret, or null when it is malformed, unknown, revoked or
  * expired, or (personal) its owner is no longer a member: the caller answers all of these alike.
+ * One query: the token with its organisation, and its owner's membership there.
  */
 export async function authenticateApiToken(secret: string, now = new Date()): Promise<ApiPrincipal | null> {
   if (!TOKEN_PATTERN.test(secret)) return null;
-  const token = await ApiToken.findOne({
-    where: { tokenHash: hashToken(secret), revokedAt: null },
-    include: [
-      { model: Organisation, as: "organisation", required: true },
-      { model: User, as: "owner", required: false },
-    ],
-  });
-  if (!token?.organisation || token.expiresAt <= now) return null;
-  let role: Role | null = token.role;
-  if (token.kind === "personal") {
-    const membership = token.owner ? await Membership.findOne({ where: { organisationId: token.organisationId, userId: token.owner.id }, attributes: ["role"] }) : null;
-    role = membership?.role ?? null;
-  }
-  if (!role) return null;
+  const [row] = await getDatabase().query<PrincipalRow>(
+    `SELECT t.id, t.name, t.kind, t.scope, t.role AS token_role, t.rate_limit_per_minute, t.expires_at,
+            o.id AS organisation_id, o.slug AS organisation_slug, o.name AS organisation_name,
+            u.id AS user_id, u.email AS user_email, u.name AS user_name, m.role AS member_role
+       FROM api_tokens t
+       JOIN organisations o ON o.id = t.organisation_id
+       LEFT JOIN users u ON u.id = t.owner_user_id
+       LEFT JOIN memberships m ON m.organisation_id = t.organisation_id AND m.user_id = t.owner_user_id
+      WHERE t.token_hash = :hash AND t.revoked_at IS NULL`,
+    { replacements: { hash: hashToken(secret) }, type: QueryTypes.SELECT },
+  );
+  if (!row || new Date(row.expires_at) <= now) return null;
+  const role = row.kind === "personal" ? row.member_role : row.token_role;
+  if (!role || (row.kind === "personal" && !row.user_id)) return null;
   return {
-    token: { id: token.id, name: token.name, kind: token.kind, scope: token.scope, ratePerMinute: token.ratePerMinute, expiresAt: token.expiresAt },
-    organisation: token.organisation,
+    token: { id: row.id, name: row.name, kind: row.kind, scope: row.scope, ratePerMinute: Number(row.rate_limit_per_minute), expiresAt: new Date(row.expires_at) },
+    organisation: { id: row.organisation_id, slug: row.organisation_slug, name: row.organisation_name },
     role,
-    user: token.kind === "personal" ? (token.owner ?? null) : null,
+    user: row.kind === "personal" && row.user_id ? { id: row.user_id, email: row.user_email ?? "", name: row.user_name ?? "" } : null,
   };
 }
 

@@ -4,6 +4,7 @@
 // acting with the role chosen for it, every call in the audit log under the token's name.
 // Semantics: docs/decisions/014-rest-api.md.
 import { createHash } from "node:crypto";
+import { QueryTypes } from "sequelize";
 import { afterAll, describe, expect, test } from "vitest";
 import { ApiToken, AuditEvent, Membership } from "#models/index";
 import { getDatabase } from "#server/db/database.server";
@@ -33,7 +34,7 @@ describe("API tokens", () => {
     expect(made.headers.get("Cache-Control")).toContain("no-store");
 
     // At rest: the hash (OWASP Password Storage Cheat Sheet: a high-entropy token may be stored as a fast hash) and a short hint, never the secret.
-    const rows = await sequelize.query<Record<string, unknown>>(`SELECT * FROM api_tokens WHERE organisation_id = :organisation`, { replacements: { organisation: team.organisationId }, type: "SELECT" });
+    const rows = await sequelize.query<Record<string, unknown>>(`SELECT * FROM api_tokens WHERE organisation_id = :organisation`, { replacements: { organisation: team.organisationId }, type: QueryTypes.SELECT });
     expect(rows).toHaveLength(1);
     expect(rows[0].token_hash).toBe(createHash("sha256").update(secret).digest("hex"));
     expect(JSON.stringify(rows[0])).not.toContain(secret);
@@ -93,7 +94,7 @@ describe("API tokens", () => {
     const team = await makeTeam("scopes");
     const owner = await team.members.owner.client();
     const engineer = await team.members.engineer.client();
-    const siteRow = await sequelize.query<{ id: string }>(`SELECT id FROM sites WHERE organisation_id = :organisation`, { replacements: { organisation: team.organisationId }, type: "SELECT" });
+    const siteRow = await sequelize.query<{ id: string }>(`SELECT id FROM sites WHERE organisation_id = :organisation`, { replacements: { organisation: team.organisationId }, type: QueryTypes.SELECT });
     const body = (name: string) => ({ siteId: siteRow[0].id, document: { ...MOLE, device: { ...MOLE.device, name } } });
 
     const readSecret = secretIn((await engineer.post(`/o/${team.slug}/account`, { intent: "create-token", name: "reader", organisation: team.slug, scope: "read", lifetimeDays: "7" })).text);
