@@ -47,7 +47,8 @@ export type ApiAnswer<Body> = { body: Body; status?: 200 | 201; headers?: Record
 /** A schema's type with read-only arrays and fields accepted, as the engine's answers are typed. */
 type Readable<T> = T extends readonly (infer Item)[] ? readonly Readable<Item>[] : T extends object ? { readonly [K in keyof T]: Readable<T[K]> } : T;
 
-export type EndpointSpec<P extends AnyObject, Q extends AnyObject, B extends z.ZodType, R extends z.ZodType, D extends boolean> = {
+/** What the document says of an endpoint besides its schemas. */
+type EndpointFacts = {
   method: "get" | "post";
   /** The OpenAPI path below /api/v1, with `{name}` parameters named as in app/routes.ts. */
   path: string;
@@ -59,6 +60,9 @@ export type EndpointSpec<P extends AnyObject, Q extends AnyObject, B extends z.Z
   scope: ApiTokenScope;
   /** The least organisation role the token must act with (403 below it). */
   role: Role;
+};
+
+export type EndpointSpec<P extends AnyObject, Q extends AnyObject, B extends z.ZodType, R extends z.ZodType, D extends boolean> = EndpointFacts & {
   params?: P;
   query?: Q;
   body?: B;
@@ -71,15 +75,7 @@ export type EndpointSpec<P extends AnyObject, Q extends AnyObject, B extends z.Z
 };
 
 /** An endpoint with its types erased, as the registry, the router and the document hold it. */
-export type ApiEndpoint = {
-  method: "get" | "post";
-  path: string;
-  operationId: string;
-  summary: string;
-  description: string;
-  tag: ApiTag;
-  scope: ApiTokenScope;
-  role: Role;
+export type ApiEndpoint = EndpointFacts & {
   params?: AnyObject;
   query?: AnyObject;
   body?: z.ZodType;
@@ -108,33 +104,27 @@ function parsed<S extends z.ZodType>(schema: S | undefined, value: unknown, wher
 
 /** Defines an endpoint; its handler is typed by its schemas. */
 export function defineEndpoint<P extends AnyObject = NoFields, Q extends AnyObject = NoFields, B extends z.ZodType = NoFields, R extends z.ZodType = z.ZodType, D extends boolean = false>(spec: EndpointSpec<P, Q, B, R, D>): ApiEndpoint {
+  const { params: paramsSchema, query: querySchema, body: bodySchema, device: withDevice, response, refusals, handle, ...facts } = spec;
   return {
-    method: spec.method,
-    path: spec.path,
-    operationId: spec.operationId,
-    summary: spec.summary,
-    description: spec.description,
-    tag: spec.tag,
-    scope: spec.scope,
-    role: spec.role,
-    params: spec.params,
-    query: spec.query,
-    body: spec.body,
-    device: spec.device === true,
-    response: { ...spec.response, etag: spec.response.etag === true },
-    refusals: spec.refusals ?? [],
+    ...facts,
+    params: paramsSchema,
+    query: querySchema,
+    body: bodySchema,
+    device: withDevice === true,
+    response: { ...response, etag: response.etag === true },
+    refusals: refusals ?? [],
     async run(input) {
-      const params = parsed(spec.params, input.params, "path");
+      const params = parsed(paramsSchema, input.params, "path");
       let device: DeviceAtRevision | null = null;
-      if (spec.device) {
+      if (withDevice) {
         device = await deviceRevisions.find(input.principal.organisation.id, String(input.params.device ?? ""));
         if (!device) throw new Refusal("No such device in this organisation.", 404);
       }
-      const query = parsed(spec.query, input.query, "query");
-      const body = parsed(spec.body, input.body, "body");
+      const query = parsed(querySchema, input.query, "query");
+      const body = parsed(bodySchema, input.body, "body");
       // The device is there exactly when the endpoint asked for it (D true).
       const call = { params, query, body, principal: input.principal, actor: input.actor, device, request: input.request } as ApiCall<z.output<P>, z.output<Q>, z.output<B>, D>;
-      return spec.handle(call);
+      return handle(call);
     },
   };
 }

@@ -1,5 +1,5 @@
 import { Form, useNavigation } from "react-router";
-import { ApiReferenceLink, LifetimeOptions, NewTokenSecret, SCOPE_LABELS, TokenTable, type CreatedToken } from "#app/components/api-tokens/tokens";
+import { ApiReferenceLink, NewTokenSecret, ScopeAndLifetimeFields, TokenTable, type CreatedToken } from "#app/components/api-tokens/tokens";
 import { PASSWORD_MIN_LENGTH } from "#server/auth/password-rules";
 import type { AccountPageData } from "#server/http/account-page.server";
 import { auditSentence } from "#app/utils/audit-words";
@@ -139,13 +139,7 @@ export function AccountSettings({ data, result, organisation }: { data: AccountP
                   </option>
                 ))}
               </SelectField>
-              <SelectField label="Scope" name="scope" defaultValue={token.values.scope ?? "read"} error={token.errors.scope}>
-                <option value="read">{SCOPE_LABELS.read}</option>
-                <option value="write">{SCOPE_LABELS.write}</option>
-              </SelectField>
-              <SelectField label="Expires in" name="lifetimeDays" defaultValue={token.values.lifetimeDays ?? "90"} error={token.errors.lifetimeDays}>
-                <LifetimeOptions />
-              </SelectField>
+              <ScopeAndLifetimeFields values={token.values} errors={token.errors} />
               <div className="sm:col-span-2 lg:col-span-4">
                 <Button type="submit" variant="secondary" disabled={busy}>
                   Create token

@@ -4,6 +4,7 @@ import { TOKEN_LIFETIMES_DAYS } from "#models/api-token-words";
 import { formatDuration } from "#server/engine/format";
 import { Badge } from "#app/components/ui/card";
 import { Button } from "#app/components/ui/button";
+import { SelectField } from "#app/components/ui/field";
 import { Table, Td, Th } from "#app/components/ui/table";
 import { Time } from "#app/components/ui/time";
 
@@ -26,13 +27,23 @@ export type CreatedToken = { secret: string; name: string; organisation: string;
 
 export const SCOPE_LABELS = { read: "Read", write: "Read and write" } as const;
 
-/** The lifetimes offered, as select options. */
-export function LifetimeOptions() {
-  return TOKEN_LIFETIMES_DAYS.map((days) => (
-    <option key={days} value={days}>
-      {formatDuration(days, "day")}
-    </option>
-  ));
+/** The scope and lifetime fields both token forms ask for, keeping what was chosen. */
+export function ScopeAndLifetimeFields({ values, errors }: { values: Record<string, string>; errors: Record<string, string> }) {
+  return (
+    <>
+      <SelectField label="Scope" name="scope" defaultValue={values.scope ?? "read"} error={errors.scope}>
+        <option value="read">{SCOPE_LABELS.read}</option>
+        <option value="write">{SCOPE_LABELS.write}</option>
+      </SelectField>
+      <SelectField label="Expires in" name="lifetimeDays" defaultValue={values.lifetimeDays ?? "90"} error={errors.lifetimeDays}>
+        {TOKEN_LIFETIMES_DAYS.map((days) => (
+          <option key={days} value={days}>
+            {formatDuration(days, "day")}
+          </option>
+        ))}
+      </SelectField>
+    </>
+  );
 }
 
 /** The new token's secret, shown this once, with a button that copies it. */

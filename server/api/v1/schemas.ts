@@ -8,6 +8,7 @@ import { API_TOKEN_KINDS, API_TOKEN_SCOPES } from "#models/api-token-words.ts";
 import { PROPOSAL_STATES } from "#models/proposal-states.ts";
 import { INTERFACE_ROLES, LAYERS, MODEL_SCHEMA_VERSION, OUTCOMES, SEVERITIES } from "../../engine/index.ts";
 import { MODEL_DOCUMENT_SCHEMA } from "../../engine/index.ts";
+import { ProbeQuerySchema } from "../../analysis/probe.ts";
 
 // ---------------------------------------------------------------------------------------------
 // Path parameters
@@ -108,13 +109,8 @@ export const RevisionDetailSchema = RevisionSchema.extend({
 // ---------------------------------------------------------------------------------------------
 // Analysis
 
-const at = z
-  .string()
-  .trim()
-  .max(40, "must be at most 40 characters")
-  .optional()
-  .transform((value) => value || undefined)
-  .meta({ description: "An instant: ISO 8601 with an offset (2026-12-02T16:00Z), or a wall-clock time on the device's clock (2026-12-02T10:00). Default: now." });
+/** An instant, read as the trace's `at` is. */
+const at = ProbeQuerySchema.shape.at;
 
 const TraceLayerSchema = z.object({
   layer: z.enum(LAYERS),

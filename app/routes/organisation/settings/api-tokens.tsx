@@ -9,7 +9,7 @@ import { refusedForm } from "#server/http/refusals.server";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { ServiceTokenSchema, TokenIdSchema } from "#server/http/schemas";
 import { createApiToken, listOrganisationTokens, revokeApiToken, SERVICE_TOKEN_ROLES } from "#server/services/api-tokens.server";
-import { ApiReferenceLink, LifetimeOptions, NewTokenSecret, SCOPE_LABELS, TokenTable, type CreatedToken } from "#app/components/api-tokens/tokens";
+import { ApiReferenceLink, NewTokenSecret, ScopeAndLifetimeFields, TokenTable, type CreatedToken } from "#app/components/api-tokens/tokens";
 import { Button } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { FormError, SelectField, TextField } from "#app/components/ui/field";
@@ -96,13 +96,7 @@ export default function ApiTokens({ loaderData, actionData }: Route.ComponentPro
               </option>
             ))}
           </SelectField>
-          <SelectField label="Scope" name="scope" defaultValue={failed.values.scope ?? "read"} error={failed.errors.scope}>
-            <option value="read">{SCOPE_LABELS.read}</option>
-            <option value="write">{SCOPE_LABELS.write}</option>
-          </SelectField>
-          <SelectField label="Expires in" name="lifetimeDays" defaultValue={failed.values.lifetimeDays ?? "90"} error={failed.errors.lifetimeDays}>
-            <LifetimeOptions />
-          </SelectField>
+          <ScopeAndLifetimeFields values={failed.values} errors={failed.errors} />
           <div className="sm:col-span-2 lg:col-span-4">
             <Button type="submit" variant="secondary" disabled={busy}>
               Create service token
