@@ -33,7 +33,7 @@ export function AccountSettings({ data, result, organisation }: { data: AccountP
   const created = result && "created" in result ? result.created : null;
   return (
     <>
-      <PageHeader title="Your account" description="Your name, the e-mail address you sign in with, your password, and where you are signed in." />
+      <PageHeader title="Your account" description="Your name, the e-mail address you sign in with, your password, your API tokens, and where you are signed in." />
       <div className="grid gap-6 lg:grid-cols-2">
         <Card className="p-5">
           <h2 className="text-sm font-semibold">Name</h2>
@@ -126,7 +126,8 @@ export function AccountSettings({ data, result, organisation }: { data: AccountP
           {data.tokenOrganisations.length === 0 ? (
             <p className="mt-4 text-sm text-ink-faint">Tokens act in an organisation: join or create one first.</p>
           ) : (
-            <Form method="post" className="mt-4 grid gap-4 sm:grid-cols-2 lg:grid-cols-4 lg:items-start" noValidate aria-label="Create an API token">
+            // A new key once a token is made, so the form starts empty again.
+            <Form key={created?.secret ?? "new"} method="post" className="mt-4 grid gap-4 sm:grid-cols-2 lg:grid-cols-4 lg:items-start" noValidate aria-label="Create an API token">
               <input type="hidden" name="intent" value="create-token" />
               <div className="sm:col-span-2 lg:col-span-4">
                 <FormError message={token.errors.form && !token.errors.name && !token.errors.organisation ? token.errors.form : null} />

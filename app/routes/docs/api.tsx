@@ -9,6 +9,7 @@ import { BrandMark } from "#app/components/brand";
 import { Badge, Card } from "#app/components/ui/card";
 import { Table, Td, Th } from "#app/components/ui/table";
 import { cx } from "#app/components/ui/cx";
+import { ScrollArea } from "#app/components/ui/scroll-area";
 
 export const meta: Route.MetaFunction = () => [{ title: "API reference · Sallyport" }];
 
@@ -48,8 +49,16 @@ function Code({ children }: { children: ReactNode }) {
   return <code className="rounded bg-surface-sunken px-1 font-mono text-[0.85em]">{children}</code>;
 }
 
-function Block({ children }: { children: string }) {
-  return <pre className="overflow-x-auto rounded-control border border-line bg-surface-sunken p-3 font-mono text-xs leading-relaxed text-ink">{children}</pre>;
+/** A shell example; on a phone it scrolls sideways inside itself, reachable by keyboard (ScrollArea). */
+function Block({ caption, children }: { caption: string; children: string }) {
+  return (
+    <ScrollArea className="rounded-control border border-line bg-surface-sunken">
+      <figure>
+        <figcaption className="sr-only">{caption}</figcaption>
+        <pre className="p-3 font-mono text-xs leading-relaxed text-ink">{children}</pre>
+      </figure>
+    </ScrollArea>
+  );
 }
 
 const METHOD_TONES: Record<string, string> = {
@@ -249,7 +258,7 @@ export default function ApiReferencePage({ loaderData }: Route.ComponentProps) {
                 Every path below starts with <Code>{reference.basePath}</Code> on your Sallyport server. Make a personal token on your account page (it acts with your role in the
                 organisation you choose), or ask an admin for a service token (organisation settings → API tokens). Send it in the Authorization header:
               </p>
-              <Block>{`export SALLYPORT_URL=https://sallyport.example.net   # your server
+              <Block caption="Listing devices with curl">{`export SALLYPORT_URL=https://sallyport.example.net   # your server
 export SALLYPORT_TOKEN=sallyport_p_…                  # shown once when you made it
 curl -H "Authorization: Bearer $SALLYPORT_TOKEN" "${base}/devices?limit=10"`}</Block>
               <ul className="list-disc space-y-1 pl-5 text-ink-muted">

@@ -83,7 +83,8 @@ export default function ApiTokens({ loaderData, actionData }: Route.ComponentPro
           Members make their own personal tokens on their account page. How to call the API: the <ApiReferenceLink />.
         </p>
         {created ? <NewTokenSecret created={created} /> : null}
-        <Form method="post" className="mt-4 grid gap-4 sm:grid-cols-2 lg:grid-cols-4 lg:items-start" noValidate aria-label="Create a service token">
+        {/* A new key once a token is made, so the form starts empty again. */}
+        <Form key={created?.secret ?? "new"} method="post" className="mt-4 grid gap-4 sm:grid-cols-2 lg:grid-cols-4 lg:items-start" noValidate aria-label="Create a service token">
           <input type="hidden" name="intent" value="create-token" />
           <div className="sm:col-span-2 lg:col-span-4">
             <FormError message={failed.errors.form && !failed.errors.name && !failed.errors.role ? failed.errors.form : null} />
