@@ -54,6 +54,9 @@ export const AUDIT_ACTIONS = [
   "user.password-changed",
   "password.reset-requested",
   "password.reset-completed",
+  "api-token.created",
+  "api-token.revoked",
+  "api.called",
 ] as const;
 export type AuditAction = (typeof AUDIT_ACTIONS)[number];
 
@@ -61,7 +64,7 @@ export function isAuditAction(value: unknown): value is AuditAction {
   return typeof value === "string" && (AUDIT_ACTIONS as readonly string[]).includes(value);
 }
 
-export const AUDIT_TARGET_TYPES = ["organisation", "site", "device", "shared-object", "invitation", "membership", "user", "proposal"] as const;
+export const AUDIT_TARGET_TYPES = ["organisation", "site", "device", "shared-object", "invitation", "membership", "user", "proposal", "api-token"] as const;
 export type AuditTargetType = (typeof AUDIT_TARGET_TYPES)[number];
 
 export function isAuditTargetType(value: unknown): value is AuditTargetType {

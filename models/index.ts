@@ -1,4 +1,5 @@
 import type { Sequelize } from "sequelize";
+import { ApiToken } from "./api-token.ts";
 import { AuditEvent } from "./audit-event.ts";
 import { ChangeProposal } from "./change-proposal.ts";
 import { Device } from "./device.ts";
@@ -22,12 +23,13 @@ import { User } from "./user.ts";
 
 export type { RevisionSummaryRecord, SharedObjectsSnapshot } from "./device-revision.ts";
 export type { ThrottleScope } from "./sign-in-attempt.ts";
+export type { ApiTokenKind, ApiTokenScope } from "./api-token.ts";
 export { ChangeProposal, ProposalComment, ProposalEdit, ProposalReview };
-export { AuditEvent, Device, DeviceExpectation, DeviceRevision, EmailChange, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
+export { ApiToken, AuditEvent, Device, DeviceExpectation, DeviceRevision, EmailChange, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
 
 /** Registers every model and association on one Sequelize instance. */
 export function initModels(sequelize: Sequelize): void {
-  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, SignInAttempt, PasswordReset, EmailChange, Invitation, Device, DeviceRevision, RevisionAnalysisRecord, SharedAddressObject, FindingDismissal, DeviceExpectation, ChangeProposal, ProposalEdit, ProposalComment, ProposalReview]) {
+  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, ApiToken, SignInAttempt, PasswordReset, EmailChange, Invitation, Device, DeviceRevision, RevisionAnalysisRecord, SharedAddressObject, FindingDismissal, DeviceExpectation, ChangeProposal, ProposalEdit, ProposalComment, ProposalReview]) {
     model.initModel(sequelize);
   }
   Organisation.hasMany(Membership, { foreignKey: "organisationId", as: "memberships" });
@@ -63,4 +65,6 @@ export function initModels(sequelize: Sequelize): void {
   ProposalComment.belongsTo(ChangeProposal, { foreignKey: "proposalId" });
   ChangeProposal.hasMany(ProposalReview, { foreignKey: "proposalId", as: "reviews" });
   ProposalReview.belongsTo(ChangeProposal, { foreignKey: "proposalId" });
+  ApiToken.belongsTo(Organisation, { foreignKey: "organisationId", as: "organisation" });
+  ApiToken.belongsTo(User, { foreignKey: "ownerUserId", as: "owner" });
 }

@@ -47,6 +47,15 @@ const EnvironmentSchema = z.object({
   MAIL_OUTBOX_DIR: z.string().optional(),
   /** "1" adds a Server-Timing header with each response's database query count and time. */
   SERVER_TIMING: z.enum(["0", "1"]).default("0"),
+  /**
+   * Origins (comma-separated, e.g. "https://ops.example") whose pages may call the REST API from a
+   * browser (CORS); empty, the default, leaves CORS off (docs/decisions/014).
+   */
+  API_CORS_ORIGINS: z
+    .string()
+    .default("")
+    .transform((text) => text.split(",").map((origin) => origin.trim()).filter(Boolean))
+    .pipe(z.array(z.url({ protocol: /^https?$/, message: "API_CORS_ORIGINS must list origins like https://ops.example, separated by commas" }).refine((origin) => new URL(origin).origin === origin, "API_CORS_ORIGINS must list bare origins (scheme, host and port, no path)"))),
 });
 
 export type Environment = z.infer<typeof EnvironmentSchema>;

@@ -5,7 +5,7 @@
 // Pure: no framework, no database, so the workspace core and the services can both use it.
 
 /** The HTTP statuses an expected failure may answer with. */
-export type RefusalStatus = 400 | 401 | 403 | 404 | 405 | 409 | 413 | 422 | 429;
+export type RefusalStatus = 400 | 401 | 403 | 404 | 405 | 409 | 413 | 415 | 422 | 429;
 
 export type RefusalOptions = {
   /** The form field the message belongs beside; none for a message about the whole form. */

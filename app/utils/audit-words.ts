@@ -1,7 +1,7 @@
 // The audit log in words: a label for each action and target type, one sentence per entry and
 // its recorded values as readable lines. Shared by the audit page and its CSV export. Pure.
 import { isAuditAction, isAuditTargetType, type AuditAction, type AuditTargetType } from "#models/audit-actions";
-import { plural } from "#server/engine/format";
+import { formatDay, plural } from "#server/engine/format";
 
 export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "organisation.created": "Organisation created",
@@ -54,6 +54,9 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "user.password-changed": "Password changed",
   "password.reset-requested": "Password reset requested",
   "password.reset-completed": "Password reset",
+  "api-token.created": "API token created",
+  "api-token.revoked": "API token revoked",
+  "api.called": "API call",
 };
 
 export const AUDIT_TARGET_LABELS: Record<AuditTargetType, string> = {
@@ -65,6 +68,7 @@ export const AUDIT_TARGET_LABELS: Record<AuditTargetType, string> = {
   membership: "Member",
   user: "Account",
   proposal: "Proposal",
+  "api-token": "API token",
 };
 
 /** The label of a stored action; a code this version does not know is shown as it is. */
@@ -174,6 +178,10 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "user.password-changed": (c) => `Changed their password${typeof c.otherSessionsEnded === "number" ? ` and signed out ${plural(c.otherSessionsEnded, { one: "other session", other: "other sessions" })}` : ""}`,
   "password.reset-requested": () => "Asked for a password reset link",
   "password.reset-completed": () => "Set a new password from a reset link and signed out everywhere",
+  "api-token.created": (c, target) =>
+    `Created the ${word(c.kind, "")} API token ${quoted(c.name, target)} (${word(c.scope)} scope${word(c.role, "") ? `, acts as ${word(c.role)}` : ""}, until ${formatDay(word(c.expiresAt))})`,
+  "api-token.revoked": (c, target) => `Revoked the API token ${quoted(c.name, target)}`,
+  "api.called": (c) => `Called ${word(c.endpoint)} through the API (${word(c.status)})${word(c.query, "") ? ` with ${word(c.query)}` : ""}`,
 };
 
 /** One sentence for an entry, naming the target as it is now (or was). */

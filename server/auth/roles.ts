@@ -29,4 +29,6 @@ export const PAGE_ROLES = {
   newDevice: "engineer",
   importModel: "engineer",
   proposeChange: "engineer",
+  /** The organisation's API tokens: service tokens made and revoked, members' tokens revoked (models/api-token-words.ts). */
+  apiTokens: "admin",
 } as const satisfies Record<string, Role>;

@@ -19,7 +19,7 @@ import type { ReachResult } from "./reach.ts";
 import { traceProbe } from "./trace.ts";
 import type { TraceResult } from "./trace.ts";
 
-export { accountServiceProblem, parseModel } from "./model.ts";
+export { accountServiceProblem, MODEL_DOCUMENT_SCHEMA, parseModel } from "./model.ts";
 export { isValidTimeZone } from "./schedules.ts";
 export type {
   Account,

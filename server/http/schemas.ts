@@ -11,6 +11,7 @@ export { IdSchema };
 
 /** A one-line name or title: no control, line-break or bidirectional override characters (server/validation/text.ts). */
 const NameText = z.string().superRefine(refineText("name"));
+import { API_TOKEN_SCOPES, SERVICE_TOKEN_ROLES, TOKEN_LIFETIMES_DAYS } from "#models/api-token-words.ts";
 
 // Field schemas shared by the actions, so each field is validated the same way everywhere.
 export const EmailSchema = z
@@ -166,3 +167,36 @@ export const ChangePolicySchema = z.object({
     .optional()
     .transform((value) => value === "on" || value === "true"),
 });
+
+// ---------------------------------------------------------------------------------------------
+// API tokens (docs/decisions/014): personal ones on the account page, service tokens in the
+// organisation's settings. The name says where a token is used; control characters are refused.
+
+const TokenNameSchema = z
+  .string()
+  .trim()
+  .min(1, "Name the token after where it is used, e.g. “nightly exposure check”.")
+  .max(100, "Use at most 100 characters.")
+  .regex(/^[^\p{Cc}]*$/u, "Use letters, digits, spaces and punctuation only (no control characters).");
+
+const TokenScopeSchema = z.enum(API_TOKEN_SCOPES, { message: "Choose read, or read and write." });
+
+const TokenLifetimeSchema = z.coerce
+  .number({ message: "Choose how long the token works." })
+  .refine((days) => (TOKEN_LIFETIMES_DAYS as readonly number[]).includes(days), `Choose ${TOKEN_LIFETIMES_DAYS.join(", ")} days.`);
+
+export const PersonalTokenSchema = z.object({
+  name: TokenNameSchema,
+  organisation: z.string().trim().regex(/^[a-z0-9-]{1,63}$/, "Choose one of your organisations."),
+  scope: TokenScopeSchema,
+  lifetimeDays: TokenLifetimeSchema,
+});
+
+export const ServiceTokenSchema = z.object({
+  name: TokenNameSchema,
+  role: z.enum(SERVICE_TOKEN_ROLES, { message: `Choose the role it acts with: ${SERVICE_TOKEN_ROLES.join(", ")}.` }),
+  scope: TokenScopeSchema,
+  lifetimeDays: TokenLifetimeSchema,
+});
+
+export const TokenIdSchema = z.object({ tokenId: IdSchema });

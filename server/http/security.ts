@@ -1,6 +1,10 @@
 import { randomBytes } from "node:crypto";
 import type { NextFunction, Request, Response } from "express";
 import { textProblem } from "../validation/text.ts";
+import { PROBLEM_CONTENT_TYPE, problemBody } from "../api/problems.ts";
+
+/** The REST API's prefix (server/api/endpoint.server.ts says the same). */
+const API_PREFIX = "/api/v1";
 
 /** Security headers on every response; the CSP nonce lets only our own inline scripts run. */
 export function securityHeaders(options: { development: boolean }) {
@@ -46,6 +50,9 @@ export function sameOriginGuard(siteOrigin: string) {
   const expected = new URL(siteOrigin).origin;
   return (request: Request, response: Response, next: NextFunction) => {
     if (SAFE_METHODS.has(request.method)) return next();
+    // The REST API takes only bearer tokens, never the session cookie: a browser never sends a
+    // bearer token by itself, so a forged cross-site request has nothing to ride on (docs/decisions/014).
+    if (isApiPath(request.path)) return next();
     const origin = request.headers.origin ?? refererOrigin(request.headers.referer);
     if (origin && origin !== "null") {
       try {
@@ -132,6 +139,22 @@ function refererOrigin(referer: string | undefined): string | undefined {
   }
 }
 
+/** Paths of the REST API, whose refusals are problem details (server/api/problems.ts). */
+function isApiPath(path: string): boolean {
+  return path === API_PREFIX || path.startsWith(`${API_PREFIX}/`);
+}
+
+/** A refusal before routing: problem details for the API, a plain sentence for everything else. */
+function refuse(request: Request, response: Response, code: "content-too-large" | "length-required", detail: string): void {
+  const status = code === "content-too-large" ? 413 : 411;
+  if (isApiPath(request.path)) {
+    const body = code === "content-too-large" ? problemBody(code, detail, { instance: request.path }) : { type: "about:blank", title: "Length Required", status, detail, instance: request.path };
+    response.status(status).type(PROBLEM_CONTENT_TYPE).send(JSON.stringify(body));
+    return;
+  }
+  response.status(status).type("text/plain").send(`Refused: ${detail}`);
+}
+
 export function clientAddressOf(request: Request): string {
   return (request.ip ?? request.socket.remoteAddress ?? "unknown").replace(/^::ffff:/, "");
 }
@@ -145,15 +168,12 @@ export function requestSizeLimit(maximumBytes: number, documents?: { paths: RegE
   return (request: Request, response: Response, next: NextFunction) => {
     const limit = documents && documents.paths.test(request.path) ? Math.max(maximumBytes, documents.maximumBytes) : maximumBytes;
     if (!SAFE_METHODS.has(request.method) && request.headers["content-length"] === undefined && request.headers["transfer-encoding"] !== undefined) {
-      response.status(411).type("text/plain").send("Refused: send the request body with a Content-Length header.");
+      refuse(request, response, "length-required", "Send the request body with a Content-Length header.");
       return;
     }
     const declared = Number(request.headers["content-length"] ?? 0);
     if (declared > limit) {
-      response
-        .status(413)
-        .type("text/plain")
-        .send(`Refused: the request body is ${declared} bytes; the limit is ${limit} bytes.`);
+      refuse(request, response, "content-too-large", `The request body is ${declared} bytes; the limit is ${limit} bytes.`);
       return;
     }
     next();

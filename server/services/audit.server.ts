@@ -4,7 +4,8 @@ import { isAuditAction, type AuditAction, type AuditTargetType } from "#models/a
 import { pageOf } from "../analysis/paging.ts";
 import { isUuid } from "../validation/ids.ts";
 
-export type AuditActor = { userId: string | null; email: string; clientAddress: string };
+/** Who did it; `apiToken` when they did it through the REST API (docs/decisions/014). */
+export type AuditActor = { userId: string | null; email: string; clientAddress: string; apiToken?: { id: string; name: string } };
 
 export type AuditEntry = {
   organisationId: string | null;
@@ -29,6 +30,8 @@ export async function recordAuditEvent(actor: AuditActor, entry: AuditEntry, tra
     targetId: entry.targetId ?? "",
     changes: entry.changes ?? {},
     clientAddress: actor.clientAddress.slice(0, 64),
+    apiTokenId: actor.apiToken?.id ?? null,
+    apiTokenName: actor.apiToken?.name ?? "",
   }, { transaction });
 }
 
@@ -127,6 +130,8 @@ export type AuditRow = {
   targetName: string | null;
   changes: Record<string, unknown>;
   clientAddress: string;
+  /** The API token the entry was made through ("" when made in the app). */
+  apiTokenName: string;
 };
 
 const text = (value: unknown): string | null => (typeof value === "string" && value !== "" ? value : null);
@@ -198,6 +203,7 @@ async function withNames(organisationId: string, events: readonly AuditEvent[]):
       targetName: names.get(key) ?? recorded.get(key) ?? recordedName(event),
       changes: event.changes,
       clientAddress: event.clientAddress,
+      apiTokenName: event.apiTokenName,
     };
   });
 }

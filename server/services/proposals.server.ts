@@ -76,8 +76,14 @@ async function lockedProposal(ref: ProposalRef, transaction: Transaction): Promi
   return proposal;
 }
 
+/** A service token acts for no person: the proposals it makes name it as their author (docs/decisions/014). */
+function authorTokenOf(actor: AuditActor): string | null {
+  return actor.userId === null && actor.apiToken ? actor.apiToken.id : null;
+}
+
 function isAuthor(proposal: ChangeProposal, actor: AuditActor): boolean {
-  return proposal.authorUserId !== null && proposal.authorUserId === actor.userId;
+  if (proposal.authorUserId !== null) return proposal.authorUserId === actor.userId;
+  return proposal.authorTokenId !== null && proposal.authorTokenId === authorTokenOf(actor);
 }
 
 function assertAuthor(proposal: ChangeProposal, actor: AuditActor, what: string): void {
@@ -308,6 +314,7 @@ export async function createProposal(
         workFrom: details.workFrom,
         authorUserId: actor.userId,
         authorEmail: actor.email,
+        authorTokenId: authorTokenOf(actor),
         submittedAt: null,
         appliedRevisionNumber: null,
         appliedByUserId: null,

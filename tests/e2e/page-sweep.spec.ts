@@ -41,6 +41,7 @@ const GATED: Array<{ path: string; role: Role }> = [
   { path: "devices/new", role: PAGE_ROLES.newDevice },
   { path: "devices/import", role: PAGE_ROLES.importModel },
   { path: "settings/audit", role: PAGE_ROLES.auditLog },
+  { path: "settings/api-tokens", role: PAGE_ROLES.apiTokens },
 ];
 
 /** The device navigation's pages, counted from its own groups. */
@@ -65,7 +66,7 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
   ];
   const gated = [...GATED.map((page) => ({ ...page, path: `${organisation}/${page.path}` })), { path: `${device}/proposals/new`, role: PAGE_ROLES.proposeChange }];
   return {
-    open: [...everyone, ...gated.filter((page) => hasAtLeastRole(role, page.role)).map((page) => page.path), "/account", ...devicePages],
+    open: [...everyone, ...gated.filter((page) => hasAtLeastRole(role, page.role)).map((page) => page.path), "/account", "/docs/api", ...devicePages],
     refused: gated.filter((page) => !hasAtLeastRole(role, page.role)).map((page) => page.path),
   };
 }

@@ -148,7 +148,7 @@ describe("A readable audit log", () => {
     expect(response.headers.get("content-type")).toMatch(/^text\/csv/);
     expect(response.headers.get("content-disposition")).toMatch(/^attachment; filename="[A-Za-z0-9._-]+\.csv"$/);
     const [header, ...rows] = parseCsv(response.text);
-    expect(header).toEqual(["at_utc", "actor_name", "actor_email", "action", "action_label", "target_type", "target_type_label", "target_id", "target_name", "summary", "client_address", "changes_json"]);
+    expect(header).toEqual(["at_utc", "actor_name", "actor_email", "action", "action_label", "target_type", "target_type_label", "target_id", "target_name", "summary", "client_address", "api_token", "changes_json"]);
     const column = (name: string) => header.indexOf(name);
     // As many rows as the page counts, in the same order.
     const page = await owner.get(`/o/${slug}/settings/audit`);

@@ -5,10 +5,9 @@ import { nameTie, tableRows, urlSort, type ColumnDef } from "#app/components/ui/
 import type { Route } from "./+types/fleet";
 import { requireRole } from "#server/auth/guard.server";
 import { hasAtLeastRole, PAGE_ROLES } from "#server/auth/roles";
-import { listDevices, type DeviceRow } from "#server/services/devices.server";
-import { activeFindingsBySeverity } from "#server/services/findings.server";
+import type { DeviceRow } from "#server/services/devices.server";
+import { fleetDeviceRows } from "#server/services/device-list.server";
 import { listSites } from "#server/services/sites.server";
-import { openProposalCounts } from "#server/services/proposals.server";
 import { OutcomeChip } from "#app/components/outcome";
 import { isOutcome, outcomeRank } from "#server/engine/vocabulary";
 import { SEVERITY_ORDER, SeverityCounts } from "#app/components/severity";
@@ -45,9 +44,8 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireRole(context);
   const url = new URL(request.url);
   const { sort, descending, sorting } = urlSort(url.searchParams, COLUMNS);
-  const [listed, sites, active, proposals] = await Promise.all([listDevices(access.organisation.id), listSites(access.organisation.id), activeFindingsBySeverity(access.organisation.id), openProposalCounts(access.organisation.id)]);
   // Counts leave out dismissed findings (accepted risks), as the device overview does.
-  const devices = listed.map((device) => ({ ...device, findingsBySeverity: active.get(device.id) ?? device.findingsBySeverity, openProposals: proposals.get(device.id) ?? 0 }));
+  const [devices, sites] = await Promise.all([fleetDeviceRows(access.organisation.id), listSites(access.organisation.id)]);
   const shown = tableRows(devices, [...COLUMNS, SITE_FILTER, nameTie<DeviceRow & { openProposals: number }>()], {
     globalFilter: (url.searchParams.get("q") ?? "").trim().slice(0, 100),
     columnFilters: url.searchParams.get("site") ? [{ id: "siteId", value: url.searchParams.get("site") }] : [],
