@@ -30,7 +30,7 @@ import {
 import type { CompiledModel, Expectation, ExpectationChange, ExposureEntry, FieldCheckResult, Finding, ModelDiff, ParseResult, ReachGroups, Severity, SourceGroup, TraceGroups, TraceResult, ValidationIssue } from "../engine/index.ts";
 import { readObservationsCsv } from "../formats/observations.ts";
 import { CsvSyntaxError, parseCsv } from "../formats/csv.ts";
-import { plural } from "../engine/format.ts";
+import { formatPercent, plural } from "../engine/format.ts";
 import { jsonPieces } from "../formats/json-stream.ts";
 import { table } from "./table.ts";
 
@@ -470,7 +470,7 @@ async function checkCommand(files: readonly string[], values: Options, io: Io): 
 
 function renderCheck(result: FieldCheckResult): string {
   const { agreements, differences, invalid, agreementRate } = result.counts;
-  const rate = agreementRate === null ? "nothing could be checked" : `agreement ${Math.round(agreementRate * 1000) / 10}%`;
+  const rate = agreementRate === null ? "nothing could be checked" : `agreement ${formatPercent(agreementRate)}`;
   const rows = table(
     ["line", "when", "from", "to", "service", "observed", "predicted", "", "why"],
     result.rows.map((row) => [
