@@ -79,7 +79,8 @@ export default function FleetReach({ loaderData }: Route.ComponentProps) {
         description="Which of your devices one source reaches, and how: every device at its current revision, each interface × service with the outcome and the layer that decided it, most exposed first. A CIDR block is answered per group of its sources that get the same answer."
       />
       <Card className="mb-6 p-5">
-        <Form method="get" className="space-y-4" aria-label="Fleet reach query">
+        {/* Keyed by the question, so fields typed into with defaultValue follow an in-app navigation to another one. */}
+        <Form key={searchParams.toString()} method="get" className="space-y-4" aria-label="Fleet reach query">
           <div className="grid items-start gap-4 md:grid-cols-[minmax(0,18rem)_minmax(0,16rem)_minmax(0,14rem)]">
             <TextField label="Source address or CIDR block" name="from" defaultValue={params.from} placeholder="203.0.113.7 or 203.0.113.0/24" error={errorOf("from")} autoComplete="off" spellCheck={false} required />
             <TextField
@@ -192,7 +193,7 @@ export default function FleetReach({ loaderData }: Route.ComponentProps) {
                   {answer.rows.map((row) => (
                     <tr key={`${row.deviceId} ${row.interface} ${row.service} ${row.sources[0] ?? ""}`}>
                       <Td>
-                        <Link to={`/o/${slug}/devices/${row.deviceId}/reach?${new URLSearchParams({ from: answer.from, ...(answer.at ? { at: answer.at } : {}), interface: row.interface }).toString()}`} className="font-medium text-harbour underline-offset-4 hover:underline">
+                        <Link to={`/o/${slug}/devices/${row.deviceId}/reach?${new URLSearchParams({ from: answer.from, ...(answer.at ? { at: answer.at } : {}), interface: row.interface }).toString()}`} className="font-medium whitespace-nowrap text-harbour underline-offset-4 hover:underline">
                           {row.device}
                         </Link>
                         <span className="block text-xs text-ink-muted">
@@ -217,7 +218,7 @@ export default function FleetReach({ loaderData }: Route.ComponentProps) {
                         <span className="font-medium">{isLayer(row.layer) ? LAYER_TITLES[row.layer] : row.layer}</span>
                         <span className="block text-xs text-ink-muted">{row.detail}</span>
                       </Td>
-                      <Td className="font-mono text-xs">{row.ruleId ?? <span className="font-sans whitespace-nowrap text-ink-faint">no rule matched</span>}</Td>
+                      <Td className="font-mono text-xs whitespace-nowrap">{row.ruleId ?? <span className="font-sans whitespace-nowrap text-ink-faint">no rule matched</span>}</Td>
                       <Td className="text-xs">{row.eligibleAccounts.length ? row.eligibleAccounts.join(", ") : <span className="text-ink-faint">—</span>}</Td>
                     </tr>
                   ))}

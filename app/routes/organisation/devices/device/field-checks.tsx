@@ -33,6 +33,8 @@ export async function loader({ context }: Route.LoaderArgs) {
     devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`,
     timezone: access.effective.device.timezone,
     canRecord: hasAtLeastRole(access.role, FIELD_CHECK_ROLE),
+    // Passed as data: the file format's module reads CSV and stays on the server.
+    columns: [...OBSERVATION_COLUMNS],
     checks,
     now: new Date().toISOString(),
   };
@@ -70,7 +72,7 @@ export async function action({ request, context }: Route.ActionArgs) {
 }
 
 export default function FieldChecks({ loaderData }: Route.ComponentProps) {
-  const { checks, canRecord, devicePath, timezone, now } = loaderData;
+  const { checks, canRecord, devicePath, timezone, now, columns } = loaderData;
   const refusal = useActionData<typeof action>();
   const busy = useNavigation().state === "submitting";
   return (
@@ -86,7 +88,7 @@ export default function FieldChecks({ loaderData }: Route.ComponentProps) {
         <Card className="p-5">
           <h3 className="font-semibold">Check observations</h3>
           <p className="mt-1 max-w-3xl text-sm text-ink-muted">
-            A CSV file with a header line naming the columns <code>{OBSERVATION_COLUMNS.join(",")}</code> (<code>interface</code> and <code>note</code> may be left out).{" "}
+            A CSV file with a header line naming the columns <code>{columns.join(",")}</code> (<code>interface</code> and <code>note</code> may be left out).{" "}
             <a href={EXAMPLE_FILE} download className="font-medium text-harbour underline underline-offset-4">
               Download the example file
             </a>

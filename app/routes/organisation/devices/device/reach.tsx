@@ -63,7 +63,7 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
         </p>
       </div>
       <Card className="p-5">
-        <Form method="get" className="grid items-start gap-4 md:grid-cols-[minmax(0,16rem)_minmax(0,20rem)_auto]" aria-label="Reach query">
+        <Form key={searchParams.toString()} method="get" className="grid items-start gap-4 md:grid-cols-[minmax(0,16rem)_minmax(0,20rem)_auto]" aria-label="Reach query">
           {searchParams.get("sort") ? <input type="hidden" name="sort" value={sort} /> : null}
           {searchParams.get("dir") ? <input type="hidden" name="dir" value={descending ? "desc" : "asc"} /> : null}
           <TextField label="Source address or CIDR block" name="from" defaultValue={query.from} placeholder="203.0.113.50 or 203.0.113.0/24" error={errors.from} autoComplete="off" spellCheck={false} required />
