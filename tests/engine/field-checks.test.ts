@@ -1,6 +1,7 @@
 // Field checks: a file of observations read (server/formats/observations.ts) and each row predicted
 // with the revision live at its time (server/engine/field-checks.ts), every row answered.
 
+import { readFileSync } from "node:fs";
 import { describe, expect, test } from "vitest";
 import { checkObservations, compileModel, parseModel, trace } from "#server/engine/index.ts";
 import type { CompiledModel, DeviceModelInput, RevisionAtTime } from "#server/engine/index.ts";
@@ -136,5 +137,17 @@ describe("The field-check file", () => {
     expect(read.observations).toHaveLength(2);
     expect(read.observations[0]).toMatchObject({ line: 2, observed: "silent", from: "203.0.113.9", interface: "" });
     expect(read.observations[1]).toMatchObject({ line: 4, problem: "expected 5 fields as the header names, found 2" });
+  });
+});
+
+describe("The documented example file", () => {
+  test("public/examples/field-check.csv reads, and every row agrees with the demo device it was written for (clf-fw-01)", () => {
+    const read = readObservationsCsv(readFileSync(new URL("../../public/examples/field-check.csv", import.meta.url), "utf8"));
+    if (!read.ok) throw new Error(read.message);
+    const device = compiled(JSON.parse(readFileSync(new URL("../../seeders/devices/clf-fw-01.json", import.meta.url), "utf8")));
+    const result = checkObservations(read.observations, [{ number: null, liveFromMs: -Infinity, compiled: () => device }], NOW);
+    expect(result.counts).toEqual({ rows: read.observations.length, agreements: read.observations.length, differences: 0, invalid: 0, agreementRate: 1 });
+    // The example shows the optional interface column in use.
+    expect(read.observations.some((row) => row.interface !== "")).toBe(true);
   });
 });
