@@ -2,27 +2,15 @@
 // per group of sources with the same answer — against every interface × catalogue service of a
 // device (or the interfaces asked for), with input errors as field messages (never a 500).
 
-import { isSourceBlock, parseSource, ProbeError, reachGroups } from "../engine/index.ts";
-import type { CompiledModel, Layer, Outcome } from "../engine/index.ts";
+import { isSourceBlock, parseSource, ProbeError, reachGroupRows, reachGroups } from "../engine/index.ts";
+import type { CompiledModel, ReachGroupRow } from "../engine/index.ts";
 import { namesByKind } from "./catalogue.ts";
 
-export interface ReachRow {
+export interface ReachRow extends ReachGroupRow {
   /** Stable key for sorting ties: "interface service group". */
   readonly name: string;
   readonly interfaceIndex: number;
   readonly serviceIndex: number;
-  readonly interface: string;
-  readonly to: string | null;
-  readonly service: string;
-  /** The group's sources (minimal CIDRs) and how many addresses; one address for a plain source. */
-  readonly sources: readonly string[];
-  readonly count: string;
-  readonly outcome: Outcome;
-  /** The deciding layer: the last layer of the trace. */
-  readonly layer: Layer;
-  readonly detail: string;
-  readonly ruleId: string | null;
-  readonly eligibleAccounts: readonly string[];
 }
 
 export type ReachQuery = { from: string; at: string; interfaces: string[] };
@@ -73,25 +61,8 @@ export function answerReach(device: CompiledModel, query: { from: string; at: st
   const result = reachGroups(device, query.from, atMs, { interfaces: query.interfaces ?? [] }, nowMs);
   const interfaces = model.interfaces.map((entry) => entry.name);
   const services = namesByKind(device.catalogue);
-  const rows = result.results.flatMap((cell) =>
-    cell.groups.map((group, index): ReachRow => {
-      const deciding = group.trace.layers[group.trace.layers.length - 1];
-      return {
-        name: `${cell.interface} ${cell.service} ${index}`,
-        interfaceIndex: interfaces.indexOf(cell.interface),
-        serviceIndex: services.indexOf(cell.service),
-        interface: cell.interface,
-        to: cell.to,
-        service: cell.service,
-        sources: [...group.sources],
-        count: group.count,
-        outcome: group.outcome,
-        layer: group.layer,
-        detail: deciding.detail,
-        ruleId: group.ruleId,
-        eligibleAccounts: [...group.eligibleAccounts],
-      };
-    }),
+  const rows = reachGroupRows(result).map(
+    ({ row, group }): ReachRow => ({ ...row, name: `${row.interface} ${row.service} ${group}`, interfaceIndex: interfaces.indexOf(row.interface), serviceIndex: services.indexOf(row.service) }),
   );
   return { ok: true, from: result.from, count: result.count, block: isSourceBlock(query.from), at: result.at, localTime: result.localTime, rows };
 }

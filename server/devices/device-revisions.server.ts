@@ -144,14 +144,7 @@ export class DeviceRevisions {
       const cached = this.#analyses.peek(record.id);
       if (cached) analyses.set(record.id, cached);
     }
-    const missing = records.filter((record) => !analyses.has(record.id)).map((record) => record.id);
-    if (missing.length > 0) {
-      const rows = await DeviceRevision.findAll({ where: { id: missing }, attributes: ["id", "document", "sharedObjects"] });
-      for (const row of rows) {
-        const { document, shared } = currentRevision(row.document, row.sharedObjects);
-        analyses.set(row.id, new RevisionAnalysis(document, shared, { findings: this.#findings.get(row.id) }));
-      }
-    }
+    for (const [id, analysis] of await this.#read(records.filter((record) => !analyses.has(record.id)).map((record) => record.id))) analyses.set(id, analysis);
     return records.map((record) => {
       const analysis = analyses.get(record.id);
       // Only a revision deleted between the two queries (its device deleted) can be missing.
@@ -223,6 +216,18 @@ export class DeviceRevisions {
     return this.#analyses.size;
   }
 
+  /** The analyses of revisions read from the database in one query (none when no id is given), not cached. */
+  async #read(ids: readonly string[], transaction?: Transaction, basis?: RevisionAnalysis): Promise<Map<string, RevisionAnalysis>> {
+    const read = new Map<string, RevisionAnalysis>();
+    if (ids.length === 0) return read;
+    const rows = await DeviceRevision.findAll({ where: { id: [...ids] }, attributes: ["id", "document", "sharedObjects"], transaction });
+    for (const row of rows) {
+      const { document, shared } = currentRevision(row.document, row.sharedObjects);
+      read.set(row.id, new RevisionAnalysis(document, shared, { findings: this.#findings.get(row.id), basis }));
+    }
+    return read;
+  }
+
   async #analysesOf(records: readonly RevisionRecord[], transaction?: Transaction, basis?: RevisionAnalysis): Promise<RevisionAnalysis[]> {
     // Kept in hand as well as cached: more records than the cache holds (a large fleet) would evict each other.
     const read = new Map<string, RevisionAnalysis>();
@@ -230,15 +235,9 @@ export class DeviceRevisions {
       const cached = this.#analyses.get(record.id);
       if (cached) read.set(record.id, cached);
     }
-    const missing = records.filter((record) => !read.has(record.id)).map((record) => record.id);
-    if (missing.length > 0) {
-      const rows = await DeviceRevision.findAll({ where: { id: missing }, attributes: ["id", "document", "sharedObjects"], transaction });
-      for (const row of rows) {
-        const { document, shared } = currentRevision(row.document, row.sharedObjects);
-        const analysis = new RevisionAnalysis(document, shared, { findings: this.#findings.get(row.id), basis });
-        read.set(row.id, analysis);
-        this.#analyses.set(row.id, analysis);
-      }
+    for (const [id, analysis] of await this.#read(records.filter((record) => !read.has(record.id)).map((record) => record.id), transaction, basis)) {
+      read.set(id, analysis);
+      this.#analyses.set(id, analysis);
     }
     return records.map((record) => {
       const analysis = read.get(record.id);

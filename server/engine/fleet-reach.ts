@@ -5,10 +5,9 @@
 import type { CompiledModel } from "./compile.ts";
 import { ProbeError } from "./compile.ts";
 import { parseInstant } from "./schedules.ts";
-import { parseSource, reachGroups } from "./source-groups.ts";
-import type { ReachFilter } from "./source-groups.ts";
+import { parseSource, reachGroupRows, reachGroups } from "./source-groups.ts";
+import type { ReachFilter, ReachGroupRow } from "./source-groups.ts";
 import { outcomeRank } from "./vocabulary.ts";
-import type { InterfaceRole, Layer, Outcome } from "./vocabulary.ts";
 
 /** One device of the fleet: the caller's id and name for it, and its compiled current revision. */
 export interface FleetMember {
@@ -18,22 +17,9 @@ export interface FleetMember {
 }
 
 /** One row: a device × interface × service × group of sources with the same answer. */
-export interface FleetReachRow {
+export interface FleetReachRow extends ReachGroupRow {
   readonly deviceId: string;
   readonly device: string;
-  readonly interface: string;
-  readonly role: InterfaceRole;
-  readonly to: string | null;
-  readonly service: string;
-  /** The group's sources inside the asked block (minimal CIDRs, ascending) and how many addresses. */
-  readonly sources: readonly string[];
-  readonly count: string;
-  readonly outcome: Outcome;
-  readonly layer: Layer;
-  /** The deciding layer's words for the group's first address. */
-  readonly detail: string;
-  readonly ruleId: string | null;
-  readonly eligibleAccounts: readonly string[];
   /** The instant the device was asked at (a time without an offset is read on each device's own clock). */
   readonly at: string;
 }
@@ -67,33 +53,9 @@ export function fleetReach(members: readonly FleetMember[], from: string, option
   const rows: { row: FleetReachRow; rank: number; device: number; cell: number; group: number }[] = [];
   sorted.forEach((member, device) => {
     const reach = reachGroups(member.compiled, source.text, at, { roles: options.roles, services: options.services }, nowMs);
-    reach.results.forEach((cell, cellIndex) => {
-      cell.groups.forEach((group, groupIndex) => {
-        const deciding = group.trace.layers[group.trace.layers.length - 1];
-        rows.push({
-          rank: outcomeRank(group.outcome),
-          device,
-          cell: cellIndex,
-          group: groupIndex,
-          row: {
-            deviceId: member.id,
-            device: member.name,
-            interface: cell.interface,
-            role: cell.role,
-            to: cell.to,
-            service: cell.service,
-            sources: group.sources,
-            count: group.count,
-            outcome: group.outcome,
-            layer: group.layer,
-            detail: deciding.detail,
-            ruleId: group.ruleId,
-            eligibleAccounts: group.eligibleAccounts,
-            at: reach.at,
-          },
-        });
-      });
-    });
+    for (const { row, cell, group } of reachGroupRows(reach)) {
+      rows.push({ rank: outcomeRank(row.outcome), device, cell, group, row: { ...row, deviceId: member.id, device: member.name, at: reach.at } });
+    }
   });
   rows.sort((a, b) => b.rank - a.rank || a.device - b.device || a.cell - b.cell || a.group - b.group);
   return { from: source.text, count: (source.last - source.first + 1n).toString(), devices: members.length, rows: rows.map((entry) => entry.row) };

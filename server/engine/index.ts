@@ -162,8 +162,8 @@ export type {
 } from "./expectations.ts";
 export { instantInSlice, instantOfWeekMinute, parseWeekTime, WEEK_TIME_PATTERN } from "./week-times.ts";
 /** Trace and reach from a block of sources, one group per distinct answer (source-groups.ts), and across a fleet. */
-export { isSourceBlock, parseSource, reachGroups, serviceMatches, traceGroups } from "./source-groups.ts";
-export type { ReachCell, ReachFilter, ReachGroups, SourceGroup, SourceRange, TraceGroups } from "./source-groups.ts";
+export { isSourceBlock, parseSource, reachGroupRows, reachGroups, serviceMatches, traceGroups } from "./source-groups.ts";
+export type { ReachCell, ReachFilter, ReachGroupRow, ReachGroups, SourceGroup, SourceRange, TraceGroups } from "./source-groups.ts";
 export { fleetReach } from "./fleet-reach.ts";
 export type { FleetMember, FleetReach, FleetReachOptions, FleetReachRow } from "./fleet-reach.ts";
 /** Field checks: observations predicted with the revision live at their time (field-checks.ts). */

@@ -109,6 +109,46 @@ export interface ReachGroups {
   readonly results: readonly ReachCell[];
 }
 
+/** One group of one interface × service, flat: what a reach table row and its CSV line show. */
+export interface ReachGroupRow {
+  readonly interface: string;
+  readonly role: InterfaceRole;
+  readonly to: string | null;
+  readonly service: string;
+  /** The group's sources inside the asked block (minimal CIDRs, ascending) and how many addresses. */
+  readonly sources: readonly string[];
+  readonly count: string;
+  readonly outcome: Outcome;
+  readonly layer: Layer;
+  /** The deciding layer's words for the group's first address. */
+  readonly detail: string;
+  readonly ruleId: string | null;
+  readonly eligibleAccounts: readonly string[];
+}
+
+/** A reach's rows in its order — interfaces as in the model, the catalogue's order, then each cell's groups — with each row's cell and group index. */
+export function reachGroupRows(reach: ReachGroups): { row: ReachGroupRow; cell: number; group: number }[] {
+  return reach.results.flatMap((cell, cellIndex) =>
+    cell.groups.map((group, groupIndex) => ({
+      cell: cellIndex,
+      group: groupIndex,
+      row: {
+        interface: cell.interface,
+        role: cell.role,
+        to: cell.to,
+        service: cell.service,
+        sources: group.sources,
+        count: group.count,
+        outcome: group.outcome,
+        layer: group.layer,
+        detail: group.trace.layers[group.trace.layers.length - 1].detail,
+        ruleId: group.ruleId,
+        eligibleAccounts: group.eligibleAccounts,
+      },
+    })),
+  );
+}
+
 /** Which cells a reach covers: interfaces by name or role, services by name or PROTOCOL/PORT (all when a list is absent or empty). */
 export interface ReachFilter {
   readonly interfaces?: readonly string[];

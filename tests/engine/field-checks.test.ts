@@ -6,26 +6,7 @@ import { describe, expect, test } from "vitest";
 import { checkObservations, compileModel, parseModel, trace } from "#server/engine/index.ts";
 import type { CompiledModel, DeviceModelInput, RevisionAtTime } from "#server/engine/index.ts";
 import { readObservationsCsv } from "#server/formats/observations.ts";
-
-/** An invented harbour-office gateway: documentation addresses outside (RFC 5737), RFC 1918 inside. */
-const FIRST: DeviceModelInput = {
-  schemaVersion: 2,
-  device: { name: "saltmarsh-gw", timezone: "Europe/Dublin", unlistenedPort: "reset" },
-  interfaces: [
-    { name: "uplink", role: "wan", addresses: ["198.51.100.20/28"], listeners: ["https", "ping"] },
-    { name: "office", role: "lan", addresses: ["10.30.0.1/24"], listeners: ["https", "ssh"] },
-  ],
-  addresses: [{ name: "office-lan", entries: ["10.30.0.0/24"] }],
-  inboundRules: [{ id: "office-admin", interface: "office", sources: ["office-lan"], destinations: ["any"], services: ["https", "ssh"], action: "allow" }],
-  accounts: [{ name: "ops-maeve", loginSources: ["office-lan"], secondFactor: "totp" }],
-  operatorNetworks: ["office-lan"],
-};
-
-/** The next revision: the web console is dropped on the uplink. */
-const SECOND: DeviceModelInput = {
-  ...FIRST,
-  inboundRules: [{ id: "drop-uplink-web", interface: "uplink", sources: ["any"], destinations: ["any"], services: ["https"], action: "deny" }, ...(FIRST.inboundRules ?? [])],
-};
+import { SALTMARSH, SALTMARSH_R2 } from "#tests/support/saltmarsh.ts";
 
 function compiled(input: DeviceModelInput): CompiledModel {
   const parsed = parseModel(input);
@@ -36,8 +17,8 @@ function compiled(input: DeviceModelInput): CompiledModel {
 const R1_AT = Date.parse("2026-11-01T09:00:00Z");
 const R2_AT = Date.parse("2026-11-20T09:00:00Z");
 const NOW = Date.parse("2026-12-02T12:00:00Z");
-const first = compiled(FIRST);
-const second = compiled(SECOND);
+const first = compiled(SALTMARSH);
+const second = compiled(SALTMARSH_R2);
 const REVISIONS: RevisionAtTime[] = [
   { number: 1, liveFromMs: R1_AT, compiled: () => first },
   { number: 2, liveFromMs: R2_AT, compiled: () => second },

@@ -7,25 +7,10 @@ import { createDatabase } from "#server/db/database.server";
 import { AuditEvent, FieldCheckRecord } from "#models/index";
 import { DEMO_PASSWORDS, signUpNewOrganisation, TestClient, type FetchResult } from "../support/client";
 import { plain, UUID, visibleText } from "../support/html";
+import { SALTMARSH, SALTMARSH_R2 } from "../support/saltmarsh";
 
 const sequelize = createDatabase(process.env.DATABASE_URL!);
 afterAll(() => sequelize.close());
-
-/** An invented harbour-office gateway: documentation addresses outside (RFC 5737), RFC 1918 inside. */
-const SALTMARSH = {
-  schemaVersion: 2,
-  device: { name: "saltmarsh-gw", timezone: "Europe/Dublin", unlistenedPort: "reset" },
-  interfaces: [
-    { name: "uplink", role: "wan", addresses: ["198.51.100.20/28"], listeners: ["https", "ping"] },
-    { name: "office", role: "lan", addresses: ["10.30.0.1/24"], listeners: ["https", "ssh"] },
-  ],
-  addresses: [{ name: "office-lan", entries: ["10.30.0.0/24"] }],
-  inboundRules: [{ id: "office-admin", interface: "office", sources: ["office-lan"], destinations: ["any"], services: ["https", "ssh"], action: "allow" }],
-  accounts: [{ name: "ops-maeve", loginSources: ["office-lan"], secondFactor: "totp" }],
-  operatorNetworks: ["office-lan"],
-};
-/** Revision 2: the web console is dropped on the uplink. */
-const SALTMARSH_R2 = { ...SALTMARSH, inboundRules: [{ id: "drop-uplink-web", interface: "uplink", sources: ["any"], destinations: ["any"], services: ["https"], action: "deny" }, ...SALTMARSH.inboundRules] };
 
 let client: TestClient;
 let slug = "";

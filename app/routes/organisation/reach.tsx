@@ -5,11 +5,10 @@ import { pageOf } from "#server/analysis/paging";
 import { askFleetReach } from "#server/http/fleet-reach.server";
 import type { FleetReachParams } from "#server/analysis/fleet-reach";
 import { listSites } from "#server/services/sites.server";
-import { BUILTIN_SERVICES, INTERFACE_ROLES, isLayer, OUTCOMES } from "#server/engine/vocabulary";
+import { BUILTIN_SERVICES, INTERFACE_ROLES } from "#server/engine/vocabulary";
 import { formatNumber, plural } from "#server/engine/format";
-import { OUTCOME_LABELS, OutcomeChip } from "#app/components/outcome";
 import { Count, Pager, SimulationCaution } from "#app/components/analysis/common";
-import { SourcesCell } from "#app/components/analysis/sources-cell";
+import { OutcomeOrderNote, ReachAnswerCells } from "#app/components/analysis/reach-cells";
 import { buttonClasses } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
@@ -17,7 +16,6 @@ import { TextField } from "#app/components/ui/field";
 import { SiteFilter } from "#app/components/ui/site-filter";
 import { Table, Td, Th } from "#app/components/ui/table";
 import { PageErrorBoundary } from "#app/components/error-panel";
-import { LAYER_TITLES } from "#app/utils/trace-words";
 import { reachSummary, worstByPlace } from "#app/utils/reach-words";
 
 export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Fleet reach${loaded?.params.from ? ` from ${loaded.params.from}` : ""} · Sallyport` }];
@@ -205,21 +203,7 @@ export default function FleetReach({ loaderData }: Route.ComponentProps) {
                         {row.to ? <span className="block font-mono text-xs text-ink-faint">{row.to}</span> : null}
                       </Td>
                       <Td className="font-mono">{row.service}</Td>
-                      {answer.block ? (
-                        <Td>
-                          <SourcesCell sources={row.sources} count={row.count} />
-                        </Td>
-                      ) : null}
-                      <Td>
-                        <OutcomeChip outcome={row.outcome} />
-                        <span className="sr-only"> ({row.outcome})</span>
-                      </Td>
-                      <Td className="max-w-md max-sm:min-w-56!">
-                        <span className="font-medium">{isLayer(row.layer) ? LAYER_TITLES[row.layer] : row.layer}</span>
-                        <span className="block text-xs text-ink-muted">{row.detail}</span>
-                      </Td>
-                      <Td className="font-mono text-xs whitespace-nowrap">{row.ruleId ?? <span className="font-sans whitespace-nowrap text-ink-faint">no rule matched</span>}</Td>
-                      <Td className="text-xs">{row.eligibleAccounts.length ? row.eligibleAccounts.join(", ") : <span className="text-ink-faint">—</span>}</Td>
+                      <ReachAnswerCells row={row} block={answer.block} />
                     </tr>
                   ))}
                 </tbody>
@@ -227,9 +211,7 @@ export default function FleetReach({ loaderData }: Route.ComponentProps) {
               <Pager param="page" page={answer.page} pages={answer.pages} search={searchParams} label="Fleet reach pages" />
             </>
           )}
-          <p className="text-xs text-ink-muted">
-            Outcomes, least to most exposed: {OUTCOMES.map((outcome) => OUTCOME_LABELS[outcome]).join(" < ")}. Anything above “{OUTCOME_LABELS.silent}” tells an outsider the device exists.
-          </p>
+          <OutcomeOrderNote />
           <SimulationCaution />
         </section>
       ) : Object.keys(errors).length ? null : (

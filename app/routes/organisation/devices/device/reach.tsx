@@ -2,12 +2,10 @@ import { data, Form, useSearchParams } from "react-router";
 import type { Route } from "./+types/reach";
 import { answerReach, reachQueryOf, type ReachRow } from "#server/analysis/reach.server";
 import { requireDevice } from "#server/http/device-access.server";
-import { OUTCOME_LABELS, OutcomeChip } from "#app/components/outcome";
-import { isLayer, LAYERS, OUTCOMES, outcomeRank } from "#server/engine/vocabulary";
-import { LAYER_TITLES } from "#app/utils/trace-words";
+import { isLayer, LAYERS, outcomeRank } from "#server/engine/vocabulary";
 import { reachSummary, worstByPlace } from "#app/utils/reach-words";
 import { Count } from "#app/components/analysis/common";
-import { SourcesCell } from "#app/components/analysis/sources-cell";
+import { OutcomeOrderNote, ReachAnswerCells } from "#app/components/analysis/reach-cells";
 import { formatInstant } from "#server/engine/format";
 import { buttonClasses } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
@@ -158,29 +156,13 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
                       {row.to ? <span className="block font-mono text-xs text-ink-faint">{row.to}</span> : null}
                     </Td>
                     <Td className="font-mono">{row.service}</Td>
-                    {answer.block ? (
-                      <Td>
-                        <SourcesCell sources={row.sources} count={row.count} />
-                      </Td>
-                    ) : null}
-                    <Td>
-                      <OutcomeChip outcome={row.outcome} />
-                      <span className="sr-only"> ({row.outcome})</span>
-                    </Td>
-                    <Td className="max-w-md max-sm:min-w-56!">
-                      <span className="font-medium">{isLayer(row.layer) ? LAYER_TITLES[row.layer] : row.layer}</span>
-                      <span className="block text-xs text-ink-muted">{row.detail}</span>
-                    </Td>
-                    <Td className="font-mono text-xs">{row.ruleId ?? <span className="font-sans whitespace-nowrap text-ink-faint">no rule matched</span>}</Td>
-                    <Td className="text-xs">{row.eligibleAccounts.length ? row.eligibleAccounts.join(", ") : <span className="text-ink-faint">—</span>}</Td>
+                    <ReachAnswerCells row={row} block={answer.block} />
                   </tr>
                 ))}
               </tbody>
             </Table>
           )}
-          <p className="text-xs text-ink-muted">
-            Outcomes, least to most exposed: {OUTCOMES.map((outcome) => OUTCOME_LABELS[outcome]).join(" < ")}. Anything above “{OUTCOME_LABELS.silent}” tells an outsider the device exists.
-          </p>
+          <OutcomeOrderNote />
         </section>
       ) : Object.keys(errors).length ? null : (
         <EmptyState title="Ask about one source">Enter a source address to see what it can reach on every interface, and what it would see.</EmptyState>
