@@ -29,6 +29,9 @@ export default [
       route("model/:section", "routes/organisation/devices/device/section.tsx"),
       route("history", "routes/organisation/devices/device/history.tsx"),
       route("expectations", "routes/organisation/devices/device/expectations.tsx"),
+      // Field checks: observations predicted with the revision live at their time (issue 13).
+      route("field-checks", "routes/organisation/devices/device/field-checks.tsx"),
+      route("field-checks/:check", "routes/organisation/devices/device/field-check.tsx"),
       route("proposals", "routes/organisation/devices/device/proposals.tsx"),
       route("proposals/new", "routes/organisation/devices/device/proposal-new.tsx"),
       route("proposals/:proposal", "routes/organisation/devices/device/proposal.tsx"),
@@ -47,6 +50,10 @@ export default [
       route("api/proposals", "routes/organisation/devices/device/api.proposals.ts"),
     ]),
     route("sites", "routes/organisation/sites.tsx"),
+    // Fleet reach, its CSV and the app shell's search box (issue 13).
+    route("reach", "routes/organisation/reach.tsx"),
+    route("reach.csv", "routes/organisation/reach.csv.ts"),
+    route("search", "routes/organisation/search.ts"),
     route("findings", "routes/organisation/findings.tsx"),
     route("changes", "routes/organisation/changes.tsx"),
     route("training", "routes/organisation/training.tsx"),

@@ -27,6 +27,7 @@ export const AUDIT_ACTIONS = [
   "expectation.deleted",
   "expectation.reordered",
   "expectation.imported",
+  "field-check.recorded",
   "proposal.created",
   "proposal.draft-edited",
   "proposal.details-changed",

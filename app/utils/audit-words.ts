@@ -27,6 +27,7 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "expectation.deleted": "Expectation deleted",
   "expectation.reordered": "Expectation moved",
   "expectation.imported": "Expectations imported",
+  "field-check.recorded": "Field check recorded",
   "proposal.created": "Proposal created",
   "proposal.draft-edited": "Proposal draft edited",
   "proposal.details-changed": "Proposal details changed",
@@ -147,6 +148,8 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "expectation.reordered": (c, target) => `Moved expectation ${quoted(c.id)} on ${quoted(c.device, target)}${fromTo(c.position)}`,
   "expectation.imported": (c, target) =>
     `Imported ${plural(typeof c.count === "number" ? c.count : 0, { one: "expectation", other: "expectations" })} into ${quoted(c.device, target)} (${c.mode === "replace" ? "replacing the list" : "added to the list"})`,
+  "field-check.recorded": (c, target) =>
+    `Recorded a field check of ${quoted(c.device, target)}${word(c.fileName, "") ? ` from ${quoted(c.fileName)}` : ""}: ${plural(Number(c.rows) || 0, { one: "observation", other: "observations" })}, ${word(c.agreements, "0")} agree, ${word(c.differences, "0")} differ, ${word(c.invalid, "0")} not checked`,
   "proposal.created": (c, target) => `Proposed ${quoted(c.name, target)} for ${quoted(c.device)} on r${word(c.baseRevision)}`,
   "proposal.draft-edited": (c, target) => `Edited the draft of ${quoted(target)}: ${word(c.edit)}`,
   "proposal.details-changed": (c, target) => `Changed the details of ${quoted(target)}${fieldChanges(c) ? `: ${fieldChanges(c)}` : ""}`,

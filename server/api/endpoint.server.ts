@@ -6,6 +6,7 @@
 // path, when the endpoint names one (404) → query (400) → body (415, 413, 400) → handler →
 // answer (with an ETag where asked, 304 on If-None-Match) → audit entry. Every failure is a
 // problem details response (problems.ts).
+import { isUuid } from "../validation/ids.ts";
 import { createHash } from "node:crypto";
 import type { z } from "zod";
 import { hasAtLeastRole, type Role } from "../auth/roles.ts";
@@ -230,7 +231,7 @@ export async function serveApi(table: EndpointTable, path: string, { request, pa
   const clientAddress = clientAddressOf(context);
   const actor = actorOf(principal, clientAddress);
   const endpointName = `${endpoint.method.toUpperCase()} ${endpoint.path}`;
-  const deviceId = typeof params.device === "string" && /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i.test(params.device) ? params.device : null;
+  const deviceId = typeof params.device === "string" && isUuid(params.device) ? params.device : null;
   const query = Object.fromEntries(new URL(request.url).searchParams);
   const audit = (status: number) =>
     recordAuditEvent(actor, {

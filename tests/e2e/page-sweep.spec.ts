@@ -8,6 +8,7 @@ import { DEVICE_SECTIONS } from "#app/components/device/sections";
 import { expect, test } from "./fixtures";
 import { hydrated, seriousAccessibilityViolations } from "./helpers";
 import { createProposal, createTeam, type Team } from "./team";
+import { recordFieldCheck } from "./observations";
 
 // Every page of the app, as every role of an organisation of the tests' own, at a laptop's
 // 1366 px and a phone's 390 px, in light and dark: the shell never scrolls sideways, axe finds
@@ -50,7 +51,7 @@ const DEVICE_PAGE_COUNT = deviceNavGroups("").flatMap((group) => group.tabs).len
 function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } {
   const organisation = `/o/${team.slug}`;
   const device = team.device.path;
-  const everyone = ["devices", "sites", "findings", "changes", "training", "settings/members", "settings/shared-objects", "settings/organisation"].map((page) => `${organisation}/${page}`);
+  const everyone = ["devices", "sites", "findings", "changes", "training", "settings/members", "settings/shared-objects", "settings/organisation", "reach?from=198.51.100.0/24"].map((page) => `${organisation}/${page}`);
   const devicePages = [
     device,
     `${device}/analysis?from=203.0.113.50&interface=outside&service=https`,
@@ -59,6 +60,8 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
     `${device}/expectations`,
     `${device}/history`,
     `${device}/proposals`,
+    `${device}/field-checks`,
+    fieldCheckPath,
     proposalPath,
     `${proposalPath}/draft/rules`,
     `${proposalPath}/record`,
@@ -115,11 +118,14 @@ test.use({ trace: "off" });
 let team: Team;
 /** A proposal of the team's engineer, in review: its page and its draft's editor are swept too. */
 let proposalPath = "";
+/** A field check the team's engineer recorded on the device: its page is swept too. */
+let fieldCheckPath = "";
 test.beforeAll(async ({ playwright }, testInfo) => {
   const baseURL = testInfo.project.use.baseURL;
   if (!baseURL) throw new Error("no baseURL in playwright.config.ts");
   team = await createTeam(playwright.request, baseURL, "sweep");
   proposalPath = await createProposal(playwright.request, baseURL, team);
+  fieldCheckPath = await recordFieldCheck(playwright.request, baseURL, team);
 });
 
 for (const role of ROLES) {

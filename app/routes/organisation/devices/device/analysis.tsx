@@ -3,12 +3,13 @@ import { useEffect, useRef, useState } from "react";
 import { Form, useFetcher } from "react-router";
 import type { Route } from "./+types/analysis";
 import { probeInputOf, probeQueryOf, ProbeQuerySchema } from "#server/analysis/probe";
-import { trace, type TraceResult } from "#server/engine/index";
+import { isSourceBlock, trace, traceGroups } from "#server/engine/index";
 import { inCatalogueOrder, namesByKind } from "#server/analysis/catalogue";
 import { refusalOf } from "#server/http/refusals.server";
 import { requireDevice } from "#server/http/device-access.server";
 import { LayerCanvas, type CanvasModel } from "#app/components/analysis/layer-canvas";
-import { useTraceStore, type ProbeFields } from "#app/components/analysis/trace-store";
+import { useTraceStore, type ProbeFields, type TraceAnswer } from "#app/components/analysis/trace-store";
+import { SourcesCell } from "#app/components/analysis/sources-cell";
 import { OutcomeChip } from "#app/components/outcome";
 import { isOutcome } from "#server/engine/vocabulary";
 import { Button } from "#app/components/ui/button";
@@ -16,7 +17,8 @@ import { Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
 import { NoInterfacesYet } from "#app/components/device/no-interfaces";
 import { LAYER_TITLES, outcomeSentence } from "#app/utils/trace-words";
-import { formatInstant } from "#server/engine/format";
+import { formatInstant, plural } from "#server/engine/format";
+import type { TraceGroups } from "#server/engine/index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Trace a probe · Sallyport" }];
 
@@ -25,15 +27,16 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   const model = access.effective;
   const url = new URL(request.url);
   const query = probeQueryOf(url.searchParams);
-  let initial: { trace: TraceResult | null; error: string | null } = { trace: null, error: null };
+  let initial: { answer: TraceAnswer | null; error: string | null } = { answer: null, error: null };
   if (query.from) {
     const parsed = ProbeQuerySchema.safeParse(query);
-    if (!parsed.success) initial = { trace: null, error: parsed.error.issues[0].message };
+    if (!parsed.success) initial = { answer: null, error: parsed.error.issues[0].message };
     else {
       try {
-        initial = { trace: trace(access.analysis.compiled, probeInputOf(parsed.data)), error: null };
+        const probe = probeInputOf(parsed.data);
+        initial = { answer: isSourceBlock(probe.from) ? traceGroups(access.analysis.compiled, probe) : trace(access.analysis.compiled, probe), error: null };
       } catch (error) {
-        initial = { trace: null, error: refusalOf(error).message };
+        initial = { answer: null, error: refusalOf(error).message };
       }
     }
   }
@@ -84,8 +87,8 @@ export default function Analysis({ loaderData }: Route.ComponentProps) {
 function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">) {
   const { canvas, services, devicePath, timezone } = loaderData;
   const fallback = { interface: canvas.interfaces.find((entry) => entry.role === "wan")?.name ?? canvas.interfaces[0]?.name ?? "", service: "https" };
-  const { probe, trace: result, error, step, setProbe, showResult, setStep, reset } = useTraceStore();
-  const fetcher = useFetcher<TraceResult | { error: string }>();
+  const { probe, trace: result, groups, group, error, step, setProbe, showResult, chooseGroup, setStep, reset } = useTraceStore();
+  const fetcher = useFetcher<TraceAnswer | { error: string }>();
   // `fetcher` is a new object on every render; its `load` is stable, so the debounce effect can depend on it.
   const loadTrace = fetcher.load;
   const [mounted, setMounted] = useState(false);
@@ -95,7 +98,7 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
   // asks the trace API, and the URL follows without a navigation so the query stays linkable.
   useEffect(() => {
     const fields = fieldsFrom(loaderData.query, fallback);
-    reset(fields, loaderData.initial.trace, loaderData.initial.error);
+    reset(fields, loaderData.initial.answer, loaderData.initial.error);
     lastQuery.current = queryOf(fields);
     // eslint-disable-next-line react-hooks/set-state-in-effect -- the first client render must match the server's HTML; only after it does the page switch to the store
     setMounted(true);
@@ -120,7 +123,11 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
     else showResult(fetcher.data, null);
   }, [fetcher.data, showResult]);
 
-  const shown = mounted ? { probe, trace: result, error, step } : { probe: fieldsFrom(loaderData.query, fallback), trace: loaderData.initial.trace, error: loaderData.initial.error, step: loaderData.initial.trace?.layers.length ?? 0 };
+  const initialAnswer = loaderData.initial.answer;
+  const initialTrace = initialAnswer === null ? null : "groups" in initialAnswer ? (initialAnswer.groups[0]?.trace ?? null) : initialAnswer;
+  const shown = mounted
+    ? { probe, trace: result, groups, group, error, step }
+    : { probe: fieldsFrom(loaderData.query, fallback), trace: initialTrace, groups: initialAnswer !== null && "groups" in initialAnswer ? initialAnswer : null, group: 0, error: loaderData.initial.error, step: initialTrace?.layers.length ?? 0 };
   const total = shown.trace?.layers.length ?? 0;
   const rulePosition = canvas.rules.find((rule) => rule.id === shown.trace?.ruleId)?.position;
   const input = "h-9 w-full rounded-control border border-line-strong bg-surface px-2 text-sm";
@@ -131,7 +138,7 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
         <Form method="get" className="grid gap-3 md:grid-cols-3 xl:grid-cols-6" aria-label="Probe" onSubmit={(event) => mounted && event.preventDefault()}>
           <label className="text-sm">
             <span className="mb-1 block font-medium">From (source)</span>
-            <input name="from" className={cx(input, "font-mono")} placeholder="203.0.113.50" value={shown.probe.from} onChange={(event) => setProbe({ from: event.target.value })} aria-invalid={shown.error ? true : undefined} aria-describedby="probe-error" />
+            <input name="from" className={cx(input, "font-mono")} placeholder="203.0.113.50 or a /24" value={shown.probe.from} onChange={(event) => setProbe({ from: event.target.value })} aria-invalid={shown.error ? true : undefined} aria-describedby="probe-error" />
           </label>
           <label className="text-sm">
             <span className="mb-1 block font-medium">Interface</span>
@@ -176,9 +183,19 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
           </noscript>
         </Form>
         <p id="probe-error" role="status" aria-live="polite" className={cx("mt-2 min-h-5 text-sm", shown.error ? "text-danger" : "text-ink-muted")}>
-          {shown.error ? shown.error : fetcher.state === "loading" ? "Tracing…" : shown.trace ? `Traced at ${formatInstant(shown.trace.at, timezone)}.` : "Type a source address to trace a probe through every layer."}
+          {shown.error
+            ? shown.error
+            : fetcher.state === "loading"
+              ? "Tracing…"
+              : shown.groups
+                ? `Traced at ${formatInstant(shown.groups.at, timezone)}: ${plural(shown.groups.groups.length, { one: "group", other: "groups" })} of sources with the same answer; the walkthrough follows the group chosen below.`
+                : shown.trace
+                  ? `Traced at ${formatInstant(shown.trace.at, timezone)}.`
+                  : "Type a source address — or a CIDR block — to trace a probe through every layer."}
         </p>
       </Card>
+
+      {shown.groups ? <GroupChooser groups={shown.groups} chosen={shown.group} onChoose={mounted ? chooseGroup : undefined} /> : null}
 
       {mounted ? <LayerCanvas model={canvas} trace={shown.trace} step={shown.step} devicePath={devicePath} probe={shown.probe} /> : <div className="h-[34rem] rounded-card border border-line bg-surface" aria-hidden="true" />}
 
@@ -222,5 +239,39 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
         </Card>
       ) : null}
     </div>
+  );
+}
+
+/** The groups of a CIDR source, most exposed first; choosing one walks its trace (its first address's) on the canvas. */
+function GroupChooser({ groups, chosen, onChoose }: { groups: TraceGroups; chosen: number; onChoose?: (index: number) => void }) {
+  return (
+    <Card className="p-4">
+      <h2 className="text-sm font-semibold">
+        {groups.from}: {plural(groups.groups.length, { one: "group", other: "groups" })} of sources with the same answer
+      </h2>
+      <p className="mt-1 text-xs text-ink-muted">Every address of a group gets the same outcome, deciding layer, rule and eligible accounts; the walkthrough traces the group's first address.</p>
+      <ul className="mt-3 grid gap-2 md:grid-cols-2" aria-label="Groups of sources">
+        {groups.groups.map((entry, index) => (
+          <li key={entry.example} className={cx("rounded-control border p-3", index === chosen ? "border-harbour bg-harbour-soft" : "border-line")}>
+            <div className="flex flex-wrap items-center justify-between gap-2">
+              <OutcomeChip outcome={entry.outcome} />
+              {onChoose ? (
+                <Button size="sm" variant={index === chosen ? "primary" : "secondary"} aria-pressed={index === chosen} onClick={() => onChoose(index)}>
+                  {index === chosen ? "Walking through" : "Walk through"}
+                </Button>
+              ) : null}
+            </div>
+            <div className="mt-2">
+              <SourcesCell sources={entry.sources} count={entry.count} />
+            </div>
+            <p className="mt-1 text-xs text-ink-muted">
+              {LAYER_TITLES[entry.layer]}
+              {entry.ruleId ? ` · rule ${entry.ruleId}` : " · no rule matched"}
+              {entry.eligibleAccounts.length ? ` · ${entry.eligibleAccounts.join(", ")}` : ""}
+            </p>
+          </li>
+        ))}
+      </ul>
+    </Card>
   );
 }
