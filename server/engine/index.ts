@@ -153,7 +153,7 @@ export type {
   ParsedExpectations,
   ProbeExpectation,
 } from "./expectations.ts";
-export { instantInSlice, instantOfWeekMinute, parseWeekTime, WEEK_TIME_PATTERN } from "./week-times.ts";
+export { formatWeekMinute, instantInSlice, instantOfWeekMinute, instantOfWeekTime, parseWeekTime, WEEK_TIME_PATTERN } from "./week-times.ts";
 
 /** Compiles a validated model for fast questions; partitions are computed on demand and cached. */
 export function compileModel(model: DeviceModel, options: CompileOptions = {}): CompiledModel {

@@ -8,7 +8,7 @@ import { describe, expect, test } from "vitest";
 import { formatAddress, parseCidr } from "#server/engine/addresses";
 import { effectPicture, effectView } from "#server/analysis/effect-view";
 import { changeEffect, compileModel, exposure, findings, OUTCOMES, outcomeRank, parseModel, trace, type CompiledModel, type DeviceModelInput } from "#server/engine/index";
-import { instantOfWeekTime } from "#server/analysis/exposure-change";
+import { instantOfWeekTime } from "#server/engine/week-times";
 
 function compiled(input: DeviceModelInput, basis?: CompiledModel): CompiledModel {
   const parsed = parseModel(input);
