@@ -30,7 +30,8 @@ const VERDICT_STYLE: Record<Verdict, string> = {
   pass: "border-success bg-success-soft/60",
   stop: "border-danger bg-danger-soft/70 ring-2 ring-danger/30",
   ahead: "border-dashed border-line-strong bg-surface",
-  unreached: "border-line bg-surface-sunken opacity-60",
+  // Told by the sunken fill, the dotted edge and the words, not by fading the text below readable contrast (WCAG 2.2 SC 1.4.3).
+  unreached: "border-dotted border-line-strong bg-surface-sunken",
   result: "border-brass bg-brass-soft/60 ring-2 ring-brass/30",
 };
 
@@ -42,7 +43,7 @@ function LayerNode({ data }: NodeProps<Node<LayerNodeData>>) {
       <Handle type="target" position={Position.Left} className="!bg-line-strong" />
       <div className="flex items-center justify-between gap-2">
         <span className="text-[11px] font-semibold tracking-wide text-ink-muted uppercase">{data.title}</span>
-        <span className={cx("rounded px-1.5 py-0.5 text-[10px] font-semibold", data.verdict === "stop" ? "bg-danger text-white dark:text-black" : data.verdict === "pass" ? "bg-success text-white dark:text-black" : "bg-surface-sunken text-ink-faint")}>
+        <span className={cx("rounded px-1.5 py-0.5 text-[10px] font-semibold", data.verdict === "stop" ? "bg-danger text-white dark:text-black" : data.verdict === "pass" ? "bg-success text-white dark:text-black" : "bg-surface-sunken text-ink-muted")}>
           {VERDICT_WORDS[data.verdict]}
         </span>
       </div>
