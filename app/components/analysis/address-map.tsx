@@ -246,15 +246,25 @@ export function AddressZoom({ view, problem, kinds = OUTCOME_KINDS, param = "blo
 
 /**
  * The view as text: the commonest uniform kind in a sentence, the other uniform blocks, and the
- * cells that hold a change (the effect) or else the mixed cells (the exposure map), listed.
+ * places that hold a change (the effect: whole blocks of one changing kind, merged, then the
+ * mixed cells that hold one) or else the mixed cells (the exposure map), listed.
  */
 function ViewInWords({ view, mixed, changed, kinds, linkTo }: { view: ZoomView; mixed: readonly ZoomCell[]; changed: readonly ZoomCell[]; kinds: readonly ZoomKind[]; linkTo: (block: string) => string }) {
   const LIMIT = 12;
-  // Most telling first (the most exposed outcome, or a change), as the reader looks for that.
-  const ranked = [...(changed.length ? changed : mixed)].sort((a, b) => b.top - a.top);
-  const [commonest, ...others] = view.uniform;
   const name = (rank: number): string => kindAt(kinds, rank).name;
   const marked = (rank: number) => kindAt(kinds, rank).marked;
+  const changes = changed.length > 0;
+  // Most telling first (the most exposed outcome, or a change), as the reader looks for that.
+  const ranked = [...(changes ? changed.filter((cell) => !cell.uniform) : mixed)].sort((a, b) => b.top - a.top);
+  const [commonest, ...others] = view.uniform;
+  // With changes, whole blocks of a changing kind are listed with the changes, not again among the other blocks.
+  const changingBlocks = changes ? [...view.uniform].filter((group) => marked(group.rank)).sort((a, b) => b.rank - a.rank) : [];
+  const blockList = (cidrs: readonly string[]) => (
+    <>
+      <span className="font-mono text-xs">{cidrs.slice(0, LIMIT).join(", ")}</span>
+      {cidrs.length > LIMIT ? ` and ${(cidrs.length - LIMIT).toLocaleString("en")} more blocks` : ""}
+    </>
+  );
   return (
     <div className="space-y-2 text-sm">
       <p>
@@ -262,16 +272,23 @@ function ViewInWords({ view, mixed, changed, kinds, linkTo }: { view: ZoomView; 
         {commonest ? `${commonest.cells.toLocaleString("en")} of ${view.cells.length.toLocaleString("en")} cells are all ${name(commonest.rank)}` : "Every cell has several outcomes"}
         {commonest && mixed.length ? `; ${mixed.length.toLocaleString("en")} ${mixed.length === 1 ? "has" : "have"} several outcomes` : ""}.
       </p>
-      {[...others].sort((a, b) => b.rank - a.rank).map((group) => (
-        <p key={group.rank}>
-          All {name(group.rank)}: <span className="font-mono text-xs">{group.cidrs.slice(0, LIMIT).join(", ")}</span>
-          {group.cidrs.length > LIMIT ? ` and ${(group.cidrs.length - LIMIT).toLocaleString("en")} more blocks` : ""}
-        </p>
-      ))}
-      {ranked.length ? (
+      {others
+        .filter((group) => !changes || !marked(group.rank))
+        .sort((a, b) => b.rank - a.rank)
+        .map((group) => (
+          <p key={group.rank}>
+            All {name(group.rank)}: {blockList(group.cidrs)}
+          </p>
+        ))}
+      {ranked.length + changingBlocks.length > 0 ? (
         <div>
-          <h4 className="text-xs font-semibold text-ink-muted">{changed.length ? "Cells whose sources' outcome changes" : "Where the outcome changes (most exposed first)"}</h4>
-          <ul className="mt-1 space-y-0.5" data-testid={changed.length ? "changed-cells" : undefined}>
+          <h4 className="text-xs font-semibold text-ink-muted">{changes ? "Where sources' outcome changes" : "Where the outcome changes (most exposed first)"}</h4>
+          <ul className="mt-1 space-y-0.5" data-testid={changes ? "changed-cells" : undefined}>
+            {changingBlocks.map((group) => (
+              <li key={`all-${group.rank}`} className="text-xs">
+                <span className="text-ink-muted">All {name(group.rank)}:</span> {blockList(group.cidrs)}
+              </li>
+            ))}
             {ranked.slice(0, LIMIT).map((cell) => (
               <li key={cell.cidr}>
                 {cell.zoom ? (
@@ -283,12 +300,12 @@ function ViewInWords({ view, mixed, changed, kinds, linkTo }: { view: ZoomView; 
                 )}{" "}
                 <span className="text-xs text-ink-muted">
                   {cell.zoom && cell.zoom !== cell.cidr ? `(inside ${cell.cidr}) ` : ""}
-                  {changed.length ? countsInWords(cell.counts, kinds, false, marked) : countsInWords(cell.counts, kinds)}
+                  {changes ? countsInWords(cell.counts, kinds, false, marked) : countsInWords(cell.counts, kinds)}
                 </span>
               </li>
             ))}
           </ul>
-          {ranked.length > LIMIT ? <p className="mt-1 text-xs text-ink-muted">and {(ranked.length - LIMIT).toLocaleString("en")} more {changed.length ? "ringed" : "striped"} cells in the picture.</p> : null}
+          {ranked.length > LIMIT ? <p className="mt-1 text-xs text-ink-muted">and {(ranked.length - LIMIT).toLocaleString("en")} more {changes ? "ringed, striped" : "striped"} cells in the picture.</p> : null}
         </div>
       ) : null}
     </div>

@@ -330,7 +330,7 @@ export function SharedChangeReview({
           </div>
         ) : null}
         <Button type="submit" variant={policyApplies ? "danger" : "primary"} disabled={navigation.state === "submitting"}>
-          {policyApplies ? `Save directly and create ${revisions} (break-glass)` : `Save and create ${revisions}`}
+          {policyApplies ? "Save directly (break-glass)" : `Save and create ${revisions}`}
         </Button>
         <ButtonLink to={cancelPath} variant="secondary">
           Cancel

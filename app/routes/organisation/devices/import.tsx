@@ -535,7 +535,7 @@ function ImportPreview({ preview, busy }: { preview: PreviewData; busy: boolean 
         ) : null}
         {proposal ? (
           <fieldset className="space-y-3 rounded-control border border-line p-3" data-testid="import-as-proposal">
-            <legend className="px-1 text-sm font-medium">Or import it as a proposal</legend>
+            <legend className="px-1 text-sm font-medium">{directOffered ? "Or import it as a proposal" : "Import it as a proposal"}</legend>
             <p className="text-sm text-ink-muted">
               The document becomes the draft of a proposal on r{preview.baseRevision}: nothing changes on the device until someone else approves it and it is applied in its change window. Change the
               reason and the rest on the proposal.
