@@ -121,6 +121,11 @@ export function fieldLabel(field: string): string {
   return field.replace(/([a-z])([A-Z])/g, "$1 $2").replace(/[-_]/g, " ").toLowerCase();
 }
 
+/** ", directly though changes go through proposals (break-glass): “why”" for a library change saved so (docs/decisions/017). */
+function breakGlassWords(changes: Changes): string {
+  return word(changes.breakGlass, "") ? `, directly though changes go through proposals (break-glass): ${quoted(changes.breakGlass)}` : "";
+}
+
 const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => string> = {
   "organisation.created": (c, target) => `Created the organisation ${quoted(c.name, target)}`,
   "organisation.renamed": (c) => `Renamed the organisation${fromTo(c.name)}`,
@@ -162,10 +167,10 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "proposal.withdrawn": (c, target) => `Withdrew ${quoted(c.name, target)}`,
   "proposal.brought-up-to-date": (c, target) => `Brought ${quoted(target)} up to date${fromTo(c.baseRevision)}${listOf(c.settled).length ? `, settling ${plural(listOf(c.settled).length, { one: "conflict", other: "conflicts" })}` : ""}`,
   "proposal.applied": (c, target) => `Applied ${quoted(target)} as r${word(c.revision)}${word(c.outsideWindowReason, "") ? `, outside its change window: ${quoted(c.outsideWindowReason)}` : ""}`,
-  "shared-object.created": (c, target) => `Created shared ${c.kind === "group" ? "group" : "address object"} ${quoted(target)}: ${valueText(c.items)}`,
+  "shared-object.created": (c, target) => `Created shared ${c.kind === "group" ? "group" : "address object"} ${quoted(target)}: ${valueText(c.items)}${breakGlassWords(c)}`,
   "shared-object.updated": (c, target) => {
     const changed = fieldChanges(c);
-    return `Changed shared object ${quoted(target)}${changed ? `: ${changed}` : " (no difference)"}`;
+    return `Changed shared object ${quoted(target)}${changed ? `: ${changed}` : " (no difference)"}${breakGlassWords(c)}`;
   },
   "shared-object.deleted": (c, target) => `Deleted shared object ${quoted(target)} (${valueText(c.items)})`,
   "invitation.sent": (c) => `Invited ${word(c.email)} as ${word(c.role)}`,

@@ -160,7 +160,7 @@ export type {
   ParsedExpectations,
   ProbeExpectation,
 } from "./expectations.ts";
-export { instantInSlice, instantOfWeekMinute, parseWeekTime, WEEK_TIME_PATTERN } from "./week-times.ts";
+export { formatWeekMinute, instantInSlice, instantOfWeekMinute, instantOfWeekTime, parseWeekTime, WEEK_TIME_PATTERN } from "./week-times.ts";
 /** Trace and reach from a block of sources, one group per distinct answer (source-groups.ts), and across a fleet. */
 export { isSourceBlock, parseSource, reachGroupRows, reachGroups, serviceMatches, traceGroups } from "./source-groups.ts";
 export type { ReachCell, ReachFilter, ReachGroupRow, ReachGroups, SourceGroup, SourceRange, TraceGroups } from "./source-groups.ts";

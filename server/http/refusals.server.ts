@@ -20,12 +20,15 @@ export function refusalOf(error: unknown): Refusal {
 
 /**
  * The response for a refused form submission: the message at the top of the form and beside its
- * field when it has one (a form without that field still shows it), the typed values kept.
+ * field when it has one (a form without that field still shows it), the typed values kept. A
+ * refusal with reasons hands them over as a list, so the message leaves their words out (the
+ * page shows each reason once).
  */
 export function refusedForm(error: unknown, values: Record<string, string>) {
   const refusal = refusalOf(error);
-  const errors: FieldErrors = { form: refusal.message };
-  if (refusal.field) errors[refusal.field] = refusal.message;
+  const message = refusal.reasons.length > 0 && refusal.lead ? refusal.lead : refusal.message;
+  const errors: FieldErrors = { form: message };
+  if (refusal.field) errors[refusal.field] = message;
   return data(formFailure(errors, values, { issues: refusal.issues, conflict: refusal.conflict ?? null, reasons: refusal.reasons, effect: refusal.effect ?? null }), { status: refusal.status, headers: refusal.headers });
 }
 

@@ -147,8 +147,9 @@ function gateOf(proposal: ChangeProposal, before: DeviceAtRevision, draftEffecti
   return reasons;
 }
 
+/** A refusal by the gate: `lead` says what was refused and what to do; the message adds each reason's words (for the API). */
 function gateRefusal(reasons: readonly GateReason[], lead: string, status: 403 | 409, field?: string, effect?: RefusalEffect): Refusal {
-  return new Refusal(`${lead} ${reasons.map((reason) => reason.words).join(" ")}`, status, { reasons, field, effect });
+  return new Refusal(`${lead} ${reasons.map((reason) => reason.words).join(" ")}`, status, { reasons, field, effect, lead });
 }
 
 /** "The lockout guard blocks this change", "A failing expectation blocks this change" …, capitalised. */
@@ -670,6 +671,16 @@ function effectSummary(current: DeviceAtRevision, after: ReturnType<typeof compi
 }
 
 /**
+ * What the gate says of saving `effective` over the device's current revision directly (the
+ * import page's preview of a new revision): the same reasons the save's guard finds, read
+ * outside its transaction, on the same compiled model (compiledOn caches it for the save).
+ */
+export async function directSaveGate(current: DeviceAtRevision, effective: ModelDocument): Promise<GateReason[]> {
+  const expectations = await expectationsOf({ organisationId: current.device.organisationId, deviceId: current.device.id });
+  return gateReasons({ before: current.analysis.compiled, after: compiledOn(current, effective).compiled, expectations });
+}
+
+/**
  * The guard of a direct save in the live editor. When the organisation's changes go through
  * proposals, only an admin's break-glass save with a written reason passes (403 otherwise).
  * Otherwise a save that trips the gate — the lockout guard, or an expectation of the device
@@ -715,21 +726,27 @@ export async function saveDirectEdit(
 ): Promise<{ number: number; changes: DocumentChange[]; note: SaveGuardNote | null }> {
   const saved = await saveEdit(where.organisationId, where.deviceId, baseNumber, edit, actor, message, { siteId: options.siteId, guard: directSaveGuard(policy, actor, options.override) });
   if (saved.note?.action === "device.break-glass-saved") {
-    const link = `${(environment.appOrigin ?? "").replace(/\/+$/, "")}/o/${where.slug}/devices/${where.deviceId}/history`;
-    const reviewers = await reviewersOf(where.organisationId, [actor.userId]);
-    await deliver(
-      environment,
-      reviewers.map((reviewer) => ({
-        ...proposalMail({
-          to: reviewer.email,
-          subject: `Break-glass change: ${where.deviceName} r${saved.number}`,
-          paragraphs: [`Hello ${reviewer.name},`, `${actor.name} saved revision r${saved.number} of ${where.deviceName} directly, outside a proposal (${message}).`, `Their reason: “${String(saved.note?.changes.reason ?? "")}”.`],
-          link,
-        }),
-      })),
-    );
+    await mailBreakGlass(where.organisationId, actor, environment, {
+      subject: `Break-glass change: ${where.deviceName} r${saved.number}`,
+      what: `saved revision r${saved.number} of ${where.deviceName} directly, outside a proposal (${message})`,
+      reason: String(saved.note?.changes.reason ?? ""),
+      path: `/o/${where.slug}/devices/${where.deviceId}/history`,
+    });
   }
   return saved;
+}
+
+/**
+ * After a break-glass change is committed: e-mails every reviewer (reviewer or higher) but its
+ * author what was changed outside a proposal and why, with a link to where it shows.
+ */
+export async function mailBreakGlass(organisationId: string, actor: ProposalActor, environment: ProposalEnvironment, change: { subject: string; what: string; reason: string; path: string }): Promise<void> {
+  const link = `${(environment.appOrigin ?? "").replace(/\/+$/, "")}${change.path}`;
+  const reviewers = await reviewersOf(organisationId, [actor.userId]);
+  await deliver(
+    environment,
+    reviewers.map((reviewer) => proposalMail({ to: reviewer.email, subject: change.subject, paragraphs: [`Hello ${reviewer.name},`, `${actor.name} ${change.what}.`, `Their reason: “${change.reason}”.`], link })),
+  );
 }
 
 // ---------------------------------------------------------------------------------------------

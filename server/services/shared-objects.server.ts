@@ -1,11 +1,17 @@
 // The organisation's shared address objects and groups. A change to one takes effect on every
 // device that uses it (directly or through shared groups) at once: the change is previewed
 // with each device's exposure diff, and saving it writes the library and a new revision of each
-// of those devices in one transaction, checked against the revisions the preview showed.
+// of those devices in one transaction, checked against the revisions the preview showed. When
+// the organisation's changes go through proposals, a change that moves sources on a device is
+// an admin's break-glass step with a written reason (docs/decisions/017).
 import { createHash } from "node:crypto";
 import type { Transaction } from "sequelize";
 import { getDatabase } from "../db/database.server.ts";
-import { SharedAddressObject } from "#models/index.ts";
+import { Organisation, SharedAddressObject } from "#models/index.ts";
+import { hasAtLeastRole, type Role } from "../auth/roles.ts";
+import { WRITTEN_REASON_MIN } from "../proposals/state.ts";
+import { compiledOn } from "./compiled-drafts.server.ts";
+import { mailBreakGlass, type ProposalEnvironment } from "./proposals.server.ts";
 import type { SharedObjectKind } from "#models/shared-address-object.ts";
 import { exposureChangeOf, type ExposureChange } from "../analysis/exposure-change.ts";
 import { CsvSyntaxError, parseCsv } from "../formats/csv.ts";
@@ -288,10 +294,18 @@ export type DeviceEffect = {
   exposure: ExposureChange;
 };
 
+/**
+ * What the organisation's change policy says of a change (docs/decisions/017): whether changes
+ * go through proposals, and the devices on which this one moves sources (its exposure diff is
+ * not empty) — under the policy those make it a break-glass step.
+ */
+export type LibraryChangePolicy = { throughProposals: boolean; moving: string[] };
+
 export type SharedChangePreview = {
   summary: string;
   /** Devices that get a new revision, by name. */
   devices: DeviceEffect[];
+  policy: LibraryChangePolicy;
   /** Devices that use the object but whose model does not change. */
   unchanged: string[];
   confirmation: SharedChangeConfirmation;
@@ -321,14 +335,21 @@ function effectOf(plan: DeviceRevisionPlan): DeviceEffect {
   };
 }
 
+async function throughProposals(organisationId: string, transaction?: Transaction): Promise<boolean> {
+  const organisation = await Organisation.findByPk(organisationId, { attributes: ["id", "changesThroughProposals"], transaction });
+  return organisation?.changesThroughProposals ?? false;
+}
+
 async function preview(organisationId: string, planner: Planner): Promise<SharedChangePreview> {
   const library = await listSharedObjects(organisationId);
   const devices = await deviceRevisions.current(organisationId);
   const plan = planner(library, devices);
   const { revised, unchanged } = devicePlans(plan, libraryOf(library), devices);
+  const effects = revised.map(effectOf);
   return {
     summary: plan.summary,
-    devices: revised.map(effectOf),
+    devices: effects,
+    policy: { throughProposals: await throughProposals(organisationId), moving: effects.filter((effect) => effect.exposure.transitions > 0).map((effect) => effect.deviceName) },
     unchanged,
     confirmation: { library: fingerprintOf(library), bases: basesOf(revised) },
     report: plan.report ? csvReportOf(plan.report) : null,
@@ -343,7 +364,34 @@ export function previewSharedObjectChange(organisationId: string, originalName: 
 // ---------------------------------------------------------------------------------------------
 // Saving
 
-export type SavedSharedChange = { summary: string; revisions: Array<{ deviceId: string; deviceName: string; number: number }>; report: CsvReport | null };
+export type SavedSharedChange = { summary: string; revisions: Array<{ deviceId: string; deviceName: string; number: number }>; report: CsvReport | null; breakGlass: string | null };
+
+/**
+ * Who saves a library change and, under "changes go through proposals", why it cannot wait:
+ * the break-glass reason an admin writes when the change moves sources on some device.
+ */
+export type LibrarySaveOptions = { role?: Role; name?: string; breakGlassReason?: string; environment?: ProposalEnvironment };
+
+/** The devices (of those the change revises) on which some source's outcome changes: the engine's diff is not empty. */
+function movingDevices(revised: readonly DeviceRevisionPlan[]): string[] {
+  return revised.filter(({ current, effective }) => diffModels(current.analysis.compiled, compiledOn(current, effective).compiled).changes.length > 0).map(({ current }) => current.device.name);
+}
+
+/**
+ * The change policy's verdict on a library change (docs/decisions/017): null when it may be
+ * saved as it is, else the break-glass reason it is saved with. Refused (403) when changes go
+ * through proposals, the change moves sources on a device and no admin gives a written reason.
+ */
+function breakGlassOf(moving: readonly string[], options: LibrarySaveOptions): string | null {
+  if (moving.length === 0) return null;
+  const names = moving.length <= 4 ? moving.join(", ") : `${moving.slice(0, 3).join(", ")} and ${moving.length - 3} more devices`;
+  const why = `Not saved: in this organisation changes go through proposals, and this change moves sources on ${names}. A shared object has one value on every device, so it cannot be proposed per device: save the new value as a new shared object (no device uses it yet), then propose on each device to use it`;
+  if (!options.role || !hasAtLeastRole(options.role, "admin")) throw new Refusal(`${why}. An admin can save it directly in an emergency (break-glass), with a written reason.`, 403);
+  const reason = options.breakGlassReason?.trim() ?? "";
+  if (!reason) throw new Refusal(`${why} — or, in an emergency, save it directly (break-glass) with a written reason.`, 403, { field: "breakGlassReason" });
+  if (reason.length < WRITTEN_REASON_MIN) throw new Refusal(`A break-glass change needs a written reason of at least ${WRITTEN_REASON_MIN} characters, so the next reader knows why.`, 400, { field: "breakGlassReason" });
+  return reason;
+}
 
 function stalePreview(what: string): Refusal {
   return new Refusal(`Nothing was saved: ${what} since you reviewed this change. Review its effect again, then confirm.`, 409);
@@ -377,7 +425,7 @@ function checkBases(revised: readonly DeviceRevisionPlan[], confirmed: string): 
  * and nothing written when the library or any of those devices is no longer as the preview saw
  * it. The new revisions go to the background analysis after the commit.
  */
-async function commit(organisationId: string, planner: Planner, actor: AuditActor, confirmation: SharedChangeConfirmation): Promise<SavedSharedChange> {
+async function commit(organisationId: string, planner: Planner, actor: AuditActor, confirmation: SharedChangeConfirmation, options: LibrarySaveOptions): Promise<SavedSharedChange> {
   const saved = await getDatabase().transaction(async (transaction) => {
     await lockSharedLibrary(transaction, organisationId, "write");
     const library = await listSharedObjects(organisationId, transaction);
@@ -386,6 +434,8 @@ async function commit(organisationId: string, planner: Planner, actor: AuditActo
     const plan = planner(library, devices);
     const { revised } = devicePlans(plan, libraryOf(library), devices);
     checkBases(revised, confirmation.bases);
+    // The policy as it is now, on the devices as they are now (the review may be minutes old).
+    const breakGlass = (await throughProposals(organisationId, transaction)) ? breakGlassOf(movingDevices(revised), options) : null;
     // Device rows locked in one order, so two changes can never wait for each other.
     const ordered = [...revised].sort((a, b) => a.current.device.id.localeCompare(b.current.device.id));
     const locked = new Map<string, DeviceAtRevision>();
@@ -415,6 +465,9 @@ async function commit(organisationId: string, planner: Planner, actor: AuditActo
       // The message names the changes of the objects this device uses.
       const message = `Shared ${[...new Set(entry.uses.map((name) => plan.touched.get(name)))].join("; ")}`.slice(0, 500);
       const written = await writeRevision(organisationId, current, entry, entry.changes, actor, message, transaction, { audit: { sharedObjects: entry.uses } });
+      if (breakGlass !== null) {
+        await recordAuditEvent(actor, { organisationId, action: "device.break-glass-saved", targetType: "device", targetId: current.device.id, changes: { revision: written.number, message, reason: breakGlass, sharedObjects: entry.uses } }, transaction);
+      }
       revisions.push({ deviceId: current.device.id, deviceName: current.device.name, number: written.number, revisionId: written.revisionId });
     }
     const revisionList = revisions.map(({ deviceName, number }) => ({ device: deviceName, revision: number }));
@@ -426,23 +479,33 @@ async function commit(organisationId: string, planner: Planner, actor: AuditActo
         targetType: "shared-object",
         targetId: input.name,
         changes: existing
-          ? { items: { from: existing.items, to: input.items }, name: { from: existing.name, to: input.name }, deviceRevisions: revisionList }
-          : { kind: input.kind, items: input.items, deviceRevisions: revisionList },
+          ? { items: { from: existing.items, to: input.items }, name: { from: existing.name, to: input.name }, deviceRevisions: revisionList, ...(breakGlass === null ? {} : { breakGlass }) }
+          : { kind: input.kind, items: input.items, deviceRevisions: revisionList, ...(breakGlass === null ? {} : { breakGlass }) },
       })),
       transaction,
     );
-    return { summary: plan.summary, revisions, report: plan.report ? csvReportOf(plan.report) : null };
+    return { summary: plan.summary, revisions, report: plan.report ? csvReportOf(plan.report) : null, breakGlass };
   });
   for (const { revisionId } of saved.revisions) revisionAnalysisQueue.enqueue(revisionId);
-  return { summary: saved.summary, revisions: saved.revisions.map(({ deviceId, deviceName, number }) => ({ deviceId, deviceName, number })), report: saved.report };
+  const revisions = saved.revisions.map(({ deviceId, deviceName, number }) => ({ deviceId, deviceName, number }));
+  if (saved.breakGlass !== null && options.role) {
+    const organisation = await Organisation.findByPk(organisationId, { attributes: ["id", "slug"] });
+    await mailBreakGlass(organisationId, { ...actor, role: options.role, name: options.name ?? actor.email }, options.environment ?? {}, {
+      subject: `Break-glass change: shared ${saved.summary}`.slice(0, 200),
+      what: `changed the shared ${saved.summary} directly, outside a proposal, which made ${revisions.map((revision) => `${revision.deviceName} r${revision.number}`).join(", ")}`,
+      reason: saved.breakGlass,
+      path: `/o/${organisation?.slug ?? ""}/settings/audit`,
+    });
+  }
+  return { summary: saved.summary, revisions, report: saved.report, breakGlass: saved.breakGlass };
 }
 
 /**
  * Saves a shared object and gives each device that uses it a new revision, provided the library
  * and those devices are still as `confirmation` (from the preview) says.
  */
-export function saveSharedObject(organisationId: string, originalName: string | null, input: SharedObjectInput, actor: AuditActor, confirmation: SharedChangeConfirmation): Promise<SavedSharedChange> {
-  return commit(organisationId, planSave(originalName, input), actor, confirmation);
+export function saveSharedObject(organisationId: string, originalName: string | null, input: SharedObjectInput, actor: AuditActor, confirmation: SharedChangeConfirmation, options: LibrarySaveOptions = {}): Promise<SavedSharedChange> {
+  return commit(organisationId, planSave(originalName, input), actor, confirmation, options);
 }
 
 /** Deletes an unused shared object; refused with the list of its users (shared groups, devices) when it is in use. */
@@ -480,6 +543,6 @@ export function previewSharedObjectsCsv(organisationId: string, text: string): P
 }
 
 /** Imports the CSV's good rows as one change, through the same checks and device revisions as a single save. */
-export function importSharedObjectsCsv(organisationId: string, text: string, actor: AuditActor, confirmation: SharedChangeConfirmation): Promise<SavedSharedChange> {
-  return commit(organisationId, planCsv(csvRows(text)), actor, confirmation);
+export function importSharedObjectsCsv(organisationId: string, text: string, actor: AuditActor, confirmation: SharedChangeConfirmation, options: LibrarySaveOptions = {}): Promise<SavedSharedChange> {
+  return commit(organisationId, planCsv(csvRows(text)), actor, confirmation, options);
 }

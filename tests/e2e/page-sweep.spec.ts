@@ -63,6 +63,7 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
     `${device}/field-checks`,
     fieldCheckPath,
     proposalPath,
+    `${device}/analysis?from=203.0.113.50&interface=outside&service=https&proposal=${proposalPath.split("/").at(-1) ?? ""}&side=draft`,
     `${proposalPath}/draft/rules`,
     `${proposalPath}/record`,
     ...DEVICE_SECTIONS.map((section) => `${device}/model/${section}`),

@@ -735,8 +735,13 @@ describe("Importing a new revision is judged by its effect", () => {
     // Another value than the box's is not a confirmation either.
     expect((await postMultipart(client, path, { ...last, effectRead: "on" })).status).toBe(400);
 
-    // With the box ticked, the revision lands.
-    const imported = await postMultipart(client, path, { ...last, effectRead: "yes" });
+    // With the box ticked, the lockout guard still stops it, as it stops a save in the editor
+    // (docs/decisions/017): the owner imports it anyway only with a written reason.
+    const guarded = await postMultipart(client, path, { ...last, effectRead: "yes" });
+    expect(guarded.status).toBe(409);
+    expect(words(guarded.text)).toContain("Not saved: the lockout guard blocks this change.");
+    expect(await device.revision()).toBe(1);
+    const imported = await postMultipart(client, path, { ...last, effectRead: "yes", overrideReason: "Retiring the NOC's access on purpose: the new NOC moves in tomorrow." });
     expect(imported.status).toBe(302);
     expect(await device.revision()).toBe(2);
     expect((await device.exported(2)).inboundRules.map((rule) => rule.id)).toEqual(["r4", "r1", "r2"]);

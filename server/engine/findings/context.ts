@@ -13,6 +13,7 @@ import type { Runs } from "../domain.ts";
 import { traceProbe } from "../trace.ts";
 import type { TraceResult } from "../trace.ts";
 import { OUTCOMES, SILENT, isOutcome } from "../vocabulary.ts";
+import { instantInSlice } from "../week-times.ts";
 import type { Finding, Witness, WitnessProbe } from "./types.ts";
 
 /**
@@ -68,9 +69,6 @@ export function witnessSource(ranges: Ranges, family: Family): bigint | undefine
   }
   return ranges[0];
 }
-
-/** A week minute's instant in the reference week: Monday 5 January 2026, 00:00 device time. */
-const REFERENCE_MONDAY_UTC = Date.UTC(2026, 0, 5);
 
 /** Every outcome that answers at all (all but silence). */
 const ANSWERING = OUTCOMES.map((_, outcome) => outcome).filter((outcome) => outcome !== SILENT);
@@ -256,19 +254,6 @@ export class FindingContext {
 
   // ---- witnesses ----
 
-  /** An instant in the given slice of the week (device time zone), as ISO 8601 UTC. */
-  instantIn(slice: number): string {
-    const engine = this.engine;
-    const start = engine.week.slices[slice].start;
-    const monday = REFERENCE_MONDAY_UTC - engine.clock.offsetAt(REFERENCE_MONDAY_UTC) * 60_000;
-    // Normally the slice's first minute; around a daylight-saving change, the next minute that falls in it.
-    for (let minute = 0; minute < 3 * 7 * 24 * 60; minute++) {
-      const ms = monday + (((start + minute) % (7 * 24 * 60)) + (start + minute >= 7 * 24 * 60 ? 7 * 24 * 60 : 0)) * 60_000;
-      if (engine.sliceAt(ms) === slice) return new Date(ms).toISOString();
-    }
-    return new Date(monday + start * 60_000).toISOString();
-  }
-
   /** The probe text for arrival, class, source and slice. */
   probe(iface: number, to: number, cls: number, family: Family, source: bigint, slice: number, serviceText?: string): WitnessProbe {
     const engine = this.engine;
@@ -278,7 +263,7 @@ export class FindingContext {
       interface: this.model.interfaces[iface].name,
       service,
       to: engine.addresses[to].text,
-      at: this.instantIn(slice),
+      at: instantInSlice(engine, slice),
     };
   }
 

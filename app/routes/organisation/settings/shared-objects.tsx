@@ -6,6 +6,7 @@ import { requireRole } from "#server/auth/guard.server";
 import { hasAtLeastRole } from "#server/auth/roles";
 import { actorOf } from "#server/http/actor.server";
 import { fieldErrorsOf, formFailure, formValues, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
+import { appOrigin } from "#server/config.server";
 import { ElementNameSchema } from "#server/http/schemas";
 import { pageOf } from "#server/analysis/paging";
 import { formatNumber } from "#server/engine/format";
@@ -102,6 +103,8 @@ function revisionWords(saved: SavedSharedChange): string {
 export async function action({ request, context }: Route.ActionArgs) {
   const access = requireRole(context, "admin");
   const actor = actorOf(access, clientAddressOf(context));
+  // Who saves, and under "changes go through proposals" why it cannot wait (docs/decisions/017).
+  const policyOptions = (reason: string | undefined) => ({ role: access.role, name: access.user.name, breakGlassReason: reason, environment: { appOrigin: appOrigin() } });
   const organisationId = access.organisation.id;
   const form = await readForm(request);
   const values = formValues(form);
@@ -124,13 +127,15 @@ export async function action({ request, context }: Route.ActionArgs) {
       const review = () => previewSharedObjectChange(organisationId, original, input);
       try {
         let saved: SavedSharedChange;
-        if (confirmation) saved = await saveSharedObject(organisationId, original, input, actor, confirmation);
+        if (confirmation) saved = await saveSharedObject(organisationId, original, input, actor, confirmation, policyOptions(values.breakGlassReason));
         else {
           const preview = await review();
           if (preview.devices.length > 0) return data({ ok: true as const, preview, values });
-          saved = await saveSharedObject(organisationId, original, input, actor, preview.confirmation);
+          saved = await saveSharedObject(organisationId, original, input, actor, preview.confirmation, policyOptions(undefined));
         }
-        return back(`Shared ${input.kind === "group" ? "group" : "address object"} ${input.name} saved.${revisionWords(saved)}`);
+        // A new object no device uses yet: the reviewed way to change a value under the policy is to propose using it.
+        const next = !original && saved.revisions.length === 0 && access.organisation.changesThroughProposals ? " Propose on each device that should use it." : "";
+        return back(`Shared ${input.kind === "group" ? "group" : "address object"} ${input.name} saved${saved.breakGlass ? " directly (break-glass); the reviewers were e-mailed" : ""}.${revisionWords(saved)}${next}`);
       } catch (error) {
         return refusedWithReview(error, review, values);
       }
@@ -155,14 +160,14 @@ export async function action({ request, context }: Route.ActionArgs) {
       if (textProblemFound) return invalidForm({ csv: `The file ${textProblemFound}` }, values);
       const review = () => previewSharedObjectsCsv(organisationId, text);
       // The file travels on as text, so the confirmation imports exactly what was reviewed.
-      const kept = { intent: "import-csv", csv: text };
+      const kept = { intent: "import-csv", csv: text, breakGlassReason: values.breakGlassReason ?? "" };
       try {
         let saved: SavedSharedChange;
-        if (confirmation) saved = await importSharedObjectsCsv(organisationId, text, actor, confirmation);
+        if (confirmation) saved = await importSharedObjectsCsv(organisationId, text, actor, confirmation, policyOptions(values.breakGlassReason));
         else {
           const preview = await review();
           if (preview.devices.length > 0) return data({ ok: true as const, preview, values: kept });
-          saved = await importSharedObjectsCsv(organisationId, text, actor, preview.confirmation);
+          saved = await importSharedObjectsCsv(organisationId, text, actor, preview.confirmation, policyOptions(undefined));
         }
         return { ok: true as const, report: saved.report ?? { rows: [], created: 0, updated: 0, refused: 0, unlisted: 0 }, revisions: saved.revisions };
       } catch (error) {
@@ -192,7 +197,16 @@ export default function SharedObjects({ loaderData, actionData }: Route.Componen
         Address objects and groups that every device of this organisation can use by name — such as the operator networks the team administers from. Changing one gives every device that uses it a new revision at once, after you have reviewed how each device's exposure changes; every revision records the values it was saved with.
       </p>
       <FormError message={errors.form} />
-      {preview ? <SharedChangeReview preview={preview} fields={reviewFields} organisationPath={loaderData.organisationPath} cancelPath={values.intent === "save" && values.original ? `${pagePath}?edit=${encodeURIComponent(values.original)}` : pagePath} /> : null}
+      {preview ? (
+        <SharedChangeReview
+          preview={preview}
+          fields={reviewFields}
+          organisationPath={loaderData.organisationPath}
+          cancelPath={values.intent === "save" && values.original ? `${pagePath}?edit=${encodeURIComponent(values.original)}` : pagePath}
+          breakGlass={{ value: values.breakGlassReason, error: errors.breakGlassReason }}
+          alternative={values.intent === "save" ? { kind: values.kind ?? "address", name: values.name ?? "", items: values.items ?? "", description: values.description ?? "" } : null}
+        />
+      ) : null}
       <div className="grid gap-6 xl:grid-cols-[1fr_26rem]">
         {loaderData.objects.length === 0 ? (
           <EmptyState title="No shared objects yet">Add the networks your team administers from once, and use them on every device.</EmptyState>

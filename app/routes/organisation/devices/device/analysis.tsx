@@ -1,11 +1,12 @@
 import "@xyflow/react/dist/style.css";
 import { useEffect, useRef, useState } from "react";
-import { Form, useFetcher } from "react-router";
+import { Form, Link, useFetcher } from "react-router";
 import type { Route } from "./+types/analysis";
 import { probeInputOf, probeQueryOf, ProbeQuerySchema } from "#server/analysis/probe";
 import { isSourceBlock, trace, traceGroups } from "#server/engine/index";
 import { inCatalogueOrder, namesByKind } from "#server/analysis/catalogue";
-import { refusalOf } from "#server/http/refusals.server";
+import { refusalOf, refusedPage } from "#server/http/refusals.server";
+import { traceSubjectOf, type TraceSubjectNote } from "#server/http/trace-subject.server";
 import { requireDevice } from "#server/http/device-access.server";
 import { LayerCanvas, type CanvasModel } from "#app/components/analysis/layer-canvas";
 import { useTraceStore, type ProbeFields, type TraceAnswer } from "#app/components/analysis/trace-store";
@@ -24,8 +25,11 @@ export const meta: Route.MetaFunction = () => [{ title: "Trace a probe · Sallyp
 
 export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireDevice(context);
-  const model = access.effective;
   const url = new URL(request.url);
+  // The current revision, a stored one or a proposal's draft (read-only), as the URL says.
+  const subject = await traceSubjectOf(access, url.searchParams).catch(refusedPage);
+  const model = subject.model;
+  const compiled = subject.compiled;
   const query = probeQueryOf(url.searchParams);
   let initial: { answer: TraceAnswer | null; error: string | null } = { answer: null, error: null };
   if (query.from) {
@@ -34,14 +38,14 @@ export async function loader({ request, context }: Route.LoaderArgs) {
     else {
       try {
         const probe = probeInputOf(parsed.data);
-        initial = { answer: isSourceBlock(probe.from) ? traceGroups(access.analysis.compiled, probe) : trace(access.analysis.compiled, probe), error: null };
+        initial = { answer: isSourceBlock(probe.from) ? traceGroups(compiled, probe) : trace(compiled, probe), error: null };
       } catch (error) {
         initial = { answer: null, error: refusalOf(error).message };
       }
     }
   }
   const canvas: CanvasModel = {
-    interfaces: model.interfaces.map((entry) => ({ name: entry.name, role: entry.role, addresses: entry.addresses, listeners: inCatalogueOrder(entry.listeners, access.analysis.compiled.catalogue) })),
+    interfaces: model.interfaces.map((entry) => ({ name: entry.name, role: entry.role, addresses: entry.addresses, listeners: inCatalogueOrder(entry.listeners, compiled.catalogue) })),
     rules: model.inboundRules.map((rule, index) => ({
       id: rule.id,
       position: index + 1,
@@ -56,9 +60,10 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   };
   return {
     canvas,
-    services: namesByKind(access.analysis.compiled.catalogue),
+    services: namesByKind(compiled.catalogue),
     timezone: model.device.timezone,
     devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`,
+    subject: { query: subject.query, modelPath: subject.modelPath, note: subject.note },
     query,
     initial,
   };
@@ -84,8 +89,38 @@ export default function Analysis({ loaderData }: Route.ComponentProps) {
   return <TraceWorkspace loaderData={loaderData} />;
 }
 
+/** Above the probe, when a side of a proposal is traced: which one, read-only, and the ways back. */
+function SubjectNote({ note, devicePath }: { note: TraceSubjectNote; devicePath: string }) {
+  const linkClass = "font-medium text-harbour underline underline-offset-4";
+  const proposal = (
+    <Link to={note.proposalPath} className={linkClass}>
+      “{note.title}”
+    </Link>
+  );
+  const where =
+    note.side === "base"
+      ? { title: `Tracing the base of a proposal: r${note.baseRevision}`, body: <>the revision {proposal} was drafted on{note.baseRevision === note.current ? " (the current revision)" : ` (the device is at r${note.current} now)`}</> }
+      : note.appliedRevision !== null
+        ? { title: `Tracing what a proposal made: r${note.appliedRevision}`, body: <>the revision applying {proposal} made</> }
+        : { title: "Tracing a draft — not live", body: <>the draft of {proposal} (version {note.draftVersion}, made on r{note.baseRevision}); nothing here changes it</> };
+  return (
+    <div role="note" className="rounded-card border-2 border-dashed border-brass bg-brass-soft p-4 text-sm" data-testid="trace-subject">
+      <p className="font-semibold text-brass">{where.title}</p>
+      <p className="mt-1">
+        Probes here are traced on {where.body}. Or{" "}
+        <Link to={`${devicePath}/analysis`} className={linkClass}>
+          trace on the live device
+        </Link>
+        .
+      </p>
+    </div>
+  );
+}
+
 function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">) {
-  const { canvas, services, devicePath, timezone } = loaderData;
+  const { canvas, services, devicePath, timezone, subject } = loaderData;
+  // The subject's query (a revision or a proposal's draft) rides along on every fetch and in the address.
+  const withSubject = (query: string) => [subject.query, query].filter(Boolean).join("&");
   const fallback = { interface: canvas.interfaces.find((entry) => entry.role === "wan")?.name ?? canvas.interfaces[0]?.name ?? "", service: "https" };
   const { probe, trace: result, groups, group, error, step, setProbe, showResult, chooseGroup, setStep, reset } = useTraceStore();
   const fetcher = useFetcher<TraceAnswer | { error: string }>();
@@ -102,8 +137,8 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
     lastQuery.current = queryOf(fields);
     // eslint-disable-next-line react-hooks/set-state-in-effect -- the first client render must match the server's HTML; only after it does the page switch to the store
     setMounted(true);
-    // eslint-disable-next-line react-hooks/exhaustive-deps -- seed once per device: the loader's query and the fallback are new on every revalidation and must not overwrite what the user is typing
-  }, [devicePath]);
+    // eslint-disable-next-line react-hooks/exhaustive-deps -- seed once per device and model traced: the loader's query and the fallback are new on every revalidation and must not overwrite what the user is typing
+  }, [devicePath, subject.query]);
 
   useEffect(() => {
     if (!mounted) return;
@@ -111,11 +146,12 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
     if (query === lastQuery.current || !probe.from.trim()) return;
     const timer = setTimeout(() => {
       lastQuery.current = query;
-      loadTrace(`${devicePath}/api/trace?${query}`);
-      window.history.replaceState(window.history.state, "", `${window.location.pathname}?${query}`);
+      loadTrace(`${devicePath}/api/trace?${withSubject(query)}`);
+      window.history.replaceState(window.history.state, "", `${window.location.pathname}?${withSubject(query)}`);
     }, 250);
     return () => clearTimeout(timer);
-  }, [probe, mounted, devicePath, loadTrace]);
+    // eslint-disable-next-line react-hooks/exhaustive-deps -- withSubject only reads subject.query, listed
+  }, [probe, mounted, devicePath, loadTrace, subject.query]);
 
   useEffect(() => {
     if (!fetcher.data) return;
@@ -134,8 +170,12 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
 
   return (
     <div className="space-y-5">
+      {subject.note ? <SubjectNote note={subject.note} devicePath={devicePath} /> : null}
       <Card className="p-4">
         <Form method="get" className="grid gap-3 md:grid-cols-3 xl:grid-cols-6" aria-label="Probe" onSubmit={(event) => mounted && event.preventDefault()}>
+          {[...new URLSearchParams(subject.query)].map(([name, value]) => (
+            <input key={name} type="hidden" name={name} value={value} />
+          ))}
           <label className="text-sm">
             <span className="mb-1 block font-medium">From (source)</span>
             <input name="from" className={cx(input, "font-mono")} placeholder="203.0.113.50 or a /24" value={shown.probe.from} onChange={(event) => setProbe({ from: event.target.value })} aria-invalid={shown.error ? true : undefined} aria-describedby="probe-error" />
@@ -197,7 +237,7 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
 
       {shown.groups ? <GroupChooser groups={shown.groups} chosen={shown.group} onChoose={mounted ? chooseGroup : undefined} /> : null}
 
-      {mounted ? <LayerCanvas model={canvas} trace={shown.trace} step={shown.step} devicePath={devicePath} probe={shown.probe} /> : <div className="h-[34rem] rounded-card border border-line bg-surface" aria-hidden="true" />}
+      {mounted ? <LayerCanvas model={canvas} trace={shown.trace} step={shown.step} modelPath={subject.modelPath} probe={shown.probe} /> : <div className="h-[34rem] rounded-card border border-line bg-surface" aria-hidden="true" />}
 
       <div className="flex flex-wrap items-center gap-2" role="group" aria-label="Walkthrough">
         <Button variant="secondary" size="sm" onClick={() => setStep(0)} disabled={!shown.trace || shown.step === 0}>
