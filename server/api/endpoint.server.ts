@@ -15,6 +15,8 @@ import { deviceRevisions, type DeviceAtRevision } from "../devices/index.ts";
 import { ProbeError } from "../engine/index.ts";
 import { Refusal, type RefusalStatus } from "../errors.ts";
 import { clientAddressOf, type RequestContext } from "../http/request-context.server.ts";
+import { sizeWords } from "../validation/limits.ts";
+import { findTextProblem, textProblemMessage } from "../validation/text.ts";
 import { authenticateApiToken, countApiCall, type ApiPrincipal, type RateVerdict } from "../services/api-tokens.server.ts";
 import { recordAuditEvent } from "../services/audit.server.ts";
 import type { ProposalActor } from "../services/proposals.server.ts";
@@ -23,8 +25,8 @@ import { problemCodeOf, problemResponse, type ProblemCode, type ProblemExtras } 
 
 /** The API's version prefix: every endpoint's path is below it. */
 export const API_PREFIX = "/api/v1";
-/** The largest request body (a model document with its proposal details). */
-export const API_BODY_LIMIT = 1024 * 1024;
+/** The largest request body of an endpoint that takes no model document. */
+export const API_BODY_LIMIT = 64 * 1024;
 
 export type ApiTag = "Token" | "Devices" | "Revisions" | "Analysis" | "Proposals" | "Fleet" | "Field checks";
 type AnyObject = z.ZodObject;
@@ -70,6 +72,8 @@ export type EndpointSpec<P extends AnyObject, Q extends AnyObject, B extends z.Z
   /** True when `params.device` names a device of the token's organisation (404 otherwise); the handler gets it at its current revision. */
   device?: D;
   response: { status: 200 | 201; description: string; schema: R; etag?: boolean };
+  /** The largest body it takes (API_BODY_LIMIT; MAX_DOCUMENT_REQUEST_BYTES for a body with a model document). */
+  bodyLimit?: number;
   /** Statuses this endpoint answers with beyond the ones every endpoint may (400, 401, 403, 404, 429). */
   refusals?: readonly RefusalStatus[];
   handle: (call: ApiCall<z.output<P>, z.output<Q>, z.output<B>, D>) => Promise<ApiAnswer<Readable<z.input<R>>>> | ApiAnswer<Readable<z.input<R>>>;
@@ -82,6 +86,7 @@ export type ApiEndpoint = EndpointFacts & {
   body?: z.ZodType;
   device: boolean;
   response: { status: 200 | 201; description: string; schema: z.ZodType; etag: boolean };
+  bodyLimit: number;
   refusals: readonly RefusalStatus[];
   /** Validates the input against the schemas and runs the handler; throws a Refusal for bad input. */
   run(input: RawInput): Promise<ApiAnswer<unknown>>;
@@ -105,7 +110,7 @@ function parsed<S extends z.ZodType>(schema: S | undefined, value: unknown, wher
 
 /** Defines an endpoint; its handler is typed by its schemas. */
 export function defineEndpoint<P extends AnyObject = NoFields, Q extends AnyObject = NoFields, B extends z.ZodType = NoFields, R extends z.ZodType = z.ZodType, D extends boolean = false>(spec: EndpointSpec<P, Q, B, R, D>): ApiEndpoint {
-  const { params: paramsSchema, query: querySchema, body: bodySchema, device: withDevice, response, refusals, handle, ...facts } = spec;
+  const { params: paramsSchema, query: querySchema, body: bodySchema, device: withDevice, response, bodyLimit, refusals, handle, ...facts } = spec;
   return {
     ...facts,
     params: paramsSchema,
@@ -113,6 +118,7 @@ export function defineEndpoint<P extends AnyObject = NoFields, Q extends AnyObje
     body: bodySchema,
     device: withDevice === true,
     response: { ...response, etag: response.etag === true },
+    bodyLimit: bodyLimit ?? API_BODY_LIMIT,
     refusals: refusals ?? [],
     async run(input) {
       const params = parsed(paramsSchema, input.params, "path");
@@ -168,20 +174,28 @@ function notModified(request: Request, etag: string): boolean {
   return header.split(",").some((tag) => tag.trim() === "*" || opaque(tag) === opaque(etag));
 }
 
-/** The JSON body of a write call, within the limit; a Refusal (415, 413, 400) otherwise. */
-async function jsonBodyOf(request: Request): Promise<unknown> {
+/**
+ * The JSON body of a write call, within the endpoint's limit, every string in it storable; a
+ * Refusal (415, 413, 400 naming the path) otherwise.
+ */
+async function jsonBodyOf(request: Request, limit: number): Promise<unknown> {
   const type = (request.headers.get("Content-Type") ?? "").split(";")[0].trim().toLowerCase();
   if (type !== "application/json") throw new Refusal("Send the body as JSON, with Content-Type: application/json.", 415);
   // Read whole before judging its size: the HTTP server has already refused anything over its own
-  // limit (MAX_REQUEST_BYTES, server/http/security.ts), and a body left unread resets the connection
-  // under the client, which would then never see the 413.
+  // limit (server/http/main.ts), and a body left unread resets the connection under the client,
+  // which would then never see the 413.
   const text = await request.text();
-  if (Buffer.byteLength(text) > API_BODY_LIMIT) throw new Refusal(`The request body is larger than ${API_BODY_LIMIT} bytes (1 MiB), the limit.`, 413);
+  if (Buffer.byteLength(text) > limit) throw new Refusal(`The request body is larger than ${sizeWords(limit)}, this endpoint's limit.`, 413);
+  let body: unknown;
   try {
-    return JSON.parse(text) as unknown;
+    body = JSON.parse(text) as unknown;
   } catch {
     throw new Refusal("The request body is not valid JSON.", 400, { issues: [{ path: "body", message: "is not JSON" }] });
   }
+  // NUL, control characters and lone surrogates are refused before anything is written (server/validation/text.ts).
+  const found = findTextProblem(body);
+  if (found) throw new Refusal(textProblemMessage(found, "body field"), 400, { issues: [{ path: `body.${found.path}`, message: found.problem }] });
+  return body;
 }
 
 /** What the services need to know about the caller: the person (or the service token), the role and the token. */
@@ -263,7 +277,7 @@ export async function serveApi(table: EndpointTable, path: string, { request, pa
 
   let answer: ApiAnswer<unknown>;
   try {
-    const body = endpoint.method === "post" && endpoint.body ? await jsonBodyOf(request) : undefined;
+    const body = endpoint.method === "post" && endpoint.body ? await jsonBodyOf(request, endpoint.bodyLimit) : undefined;
     answer = await endpoint.run({ params, query, body, principal, actor, request });
   } catch (error) {
     const refusal = error instanceof Refusal ? error : error instanceof ProbeError ? new Refusal(error.message, 400) : null;

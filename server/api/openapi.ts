@@ -4,7 +4,8 @@
 import { OpenAPIRegistry, OpenApiGeneratorV31 } from "@asteasolutions/zod-to-openapi";
 import type { z } from "zod";
 import { ROLES } from "#models/roles.ts";
-import { API_PREFIX, API_BODY_LIMIT, type ApiEndpoint } from "./endpoint.server.ts";
+import { sizeWords } from "../validation/limits.ts";
+import { API_PREFIX, type ApiEndpoint } from "./endpoint.server.ts";
 import { API_REFERENCE_PATH, PROBLEM_CONTENT_TYPE, PROBLEMS, ProblemSchema, problemCodeOf } from "./problems.ts";
 
 /** The document's own shape, as far as the reference page reads it. */
@@ -61,7 +62,7 @@ function register(registry: OpenAPIRegistry, endpoint: ApiEndpoint): void {
     request: {
       ...(endpoint.params ? { params: endpoint.params } : {}),
       ...(endpoint.query ? { query: endpoint.query } : {}),
-      ...(endpoint.body ? { body: { required: true, description: `JSON, at most ${API_BODY_LIMIT / 1024} KiB.`, content: { "application/json": { schema: endpoint.body as z.ZodType<unknown> } } } } : {}),
+      ...(endpoint.body ? { body: { required: true, description: `JSON, at most ${sizeWords(endpoint.bodyLimit)}.`, content: { "application/json": { schema: endpoint.body as z.ZodType<unknown> } } } } : {}),
     },
     responses: {
       [String(endpoint.response.status)]: success,

@@ -19,7 +19,7 @@ export const PROBLEMS = {
   "not-found": { status: 404, title: "Not found", explains: "No such endpoint, or no such device, revision or proposal in the token's organisation (another organisation's is answered the same way)." },
   "method-not-allowed": { status: 405, title: "Method not allowed", explains: "The path exists but not with this method; the Allow header lists the ones it takes." },
   conflict: { status: 409, title: "The request conflicts with the current state", explains: "A name is taken, the device changed since, or a proposal is not in a state that allows the step." },
-  "content-too-large": { status: 413, title: "The request body is too large", explains: "Bodies are limited (a model document to 1 MiB); `detail` says the limit." },
+  "content-too-large": { status: 413, title: "The request body is too large", explains: "Bodies are limited: 9 MiB with a model document (a document exports to at most 8 MiB), 64 KiB otherwise; `detail` says the limit." },
   "unsupported-media-type": { status: 415, title: "Send the body as JSON", explains: "Request bodies are JSON with Content-Type: application/json." },
   "unprocessable": { status: 422, title: "The request cannot be carried out", explains: "The input is well-formed but the product refuses it; `detail` says why." },
   "rate-limited": { status: 429, title: "Too many calls with this token", explains: "The token's calls per minute are used up; the Retry-After header says when to call again (RFC 6585 §4)." },

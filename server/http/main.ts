@@ -26,7 +26,8 @@ app.use(compression());
 app.use(securityHeaders({ development }));
 app.use(requestTextGuard());
 // The routes that carry a whole model document take one as large as any export (server/validation/limits.ts).
-const DOCUMENT_ROUTES = /^\/o\/[^/]+\/devices\/(import|[^/]+\/api\/proposals)(\.data)?$/;
+// …and the REST API's two that take a model document (server/api/v1: create a device, propose a change).
+const DOCUMENT_ROUTES = /^(\/o\/[^/]+\/devices\/(import|[^/]+\/api\/proposals)(\.data)?|\/api\/v1\/devices(\/[^/]+\/proposals)?)$/;
 app.use(requestSizeLimit(Number(process.env.MAX_REQUEST_BYTES ?? MAX_REQUEST_BYTES), { paths: DOCUMENT_ROUTES, maximumBytes: MAX_DOCUMENT_REQUEST_BYTES }));
 app.use(sameOriginGuard(appOrigin()));
 app.use(canonicalOrigin(appOrigin()));

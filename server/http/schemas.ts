@@ -4,6 +4,7 @@ import { ROLES } from "#models/roles.ts";
 import { NAME_PATTERN } from "../engine/vocabulary.ts";
 import { timeZoneProblem } from "../workspace/issue-words.ts";
 import { REASON_MAX, shortReasonMessage, type DismissalRule } from "../services/dismissal-rules.ts";
+import { API_TOKEN_SCOPES, SERVICE_TOKEN_ROLES, TOKEN_LIFETIMES_DAYS } from "#models/api-token-words.ts";
 import { IdSchema } from "../validation/ids.ts";
 import { refineText } from "../validation/text.ts";
 
@@ -11,7 +12,6 @@ export { IdSchema };
 
 /** A one-line name or title: no control, line-break or bidirectional override characters (server/validation/text.ts). */
 const NameText = z.string().superRefine(refineText("name"));
-import { API_TOKEN_SCOPES, SERVICE_TOKEN_ROLES, TOKEN_LIFETIMES_DAYS } from "#models/api-token-words.ts";
 
 // Field schemas shared by the actions, so each field is validated the same way everywhere.
 export const EmailSchema = z
@@ -170,14 +170,9 @@ export const ChangePolicySchema = z.object({
 
 // ---------------------------------------------------------------------------------------------
 // API tokens (docs/decisions/014): personal ones on the account page, service tokens in the
-// organisation's settings. The name says where a token is used; control characters are refused.
+// organisation's settings. The name says where a token is used; it is one line of plain text (NameText).
 
-const TokenNameSchema = z
-  .string()
-  .trim()
-  .min(1, "Name the token after where it is used, e.g. “nightly exposure check”.")
-  .max(100, "Use at most 100 characters.")
-  .regex(/^[^\p{Cc}]*$/u, "Use letters, digits, spaces and punctuation only (no control characters).");
+const TokenNameSchema = NameText.trim().min(1, "Name the token after where it is used, e.g. “nightly exposure check”.").max(100, "Use at most 100 characters.");
 
 const TokenScopeSchema = z.enum(API_TOKEN_SCOPES, { message: "Choose read, or read and write." });
 

@@ -1,7 +1,7 @@
 import { randomBytes } from "node:crypto";
 import type { NextFunction, Request, Response } from "express";
-import { textProblem } from "../validation/text.ts";
 import { PROBLEM_CONTENT_TYPE, problemBody } from "../api/problems.ts";
+import { textProblem } from "../validation/text.ts";
 
 /** The REST API's prefix (server/api/endpoint.server.ts says the same). */
 const API_PREFIX = "/api/v1";
@@ -109,7 +109,7 @@ export function requestTextGuard() {
       const decoded = decodedOrNull(raw.replace(/\+/g, " "));
       const problem = decoded === null ? "is not valid percent-encoded UTF-8 (RFC 3986 §2.1)." : textProblem(decoded);
       if (problem) {
-        response.status(400).type("text/plain").send(`Refused: the ${where} of this address ${problem}`);
+        refuse(request, response, "invalid-request", `The ${where} of this address ${problem}`);
         return;
       }
     }
@@ -145,10 +145,10 @@ function isApiPath(path: string): boolean {
 }
 
 /** A refusal before routing: problem details for the API, a plain sentence for everything else. */
-function refuse(request: Request, response: Response, code: "content-too-large" | "length-required", detail: string): void {
-  const status = code === "content-too-large" ? 413 : 411;
+function refuse(request: Request, response: Response, code: "content-too-large" | "invalid-request" | "length-required", detail: string): void {
+  const status = code === "content-too-large" ? 413 : code === "invalid-request" ? 400 : 411;
   if (isApiPath(request.path)) {
-    const body = code === "content-too-large" ? problemBody(code, detail, { instance: request.path }) : { type: "about:blank", title: "Length Required", status, detail, instance: request.path };
+    const body = code === "length-required" ? { type: "about:blank", title: "Length Required", status, detail, instance: request.path } : problemBody(code, detail, { instance: request.path });
     response.status(status).type(PROBLEM_CONTENT_TYPE).send(JSON.stringify(body));
     return;
   }

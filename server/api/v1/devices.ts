@@ -5,6 +5,7 @@ import { isOutcome } from "../../engine/index.ts";
 import { Refusal } from "../../errors.ts";
 import { fleetDeviceRows, type FleetDeviceRow } from "../../services/device-list.server.ts";
 import { createDevice } from "../../services/devices.server.ts";
+import { MAX_DOCUMENT_REQUEST_BYTES } from "../../validation/limits.ts";
 import { defineEndpoint } from "../endpoint.server.ts";
 import { pageOf, PageQuerySchema, pageSchema } from "../pagination.ts";
 import { DeviceDetailSchema, DeviceParams, DeviceSchema, NewDeviceBody } from "./schemas.ts";
@@ -84,6 +85,7 @@ export const createDeviceEndpoint = defineEndpoint({
   scope: "write",
   role: PAGE_ROLES.importModel,
   body: NewDeviceBody,
+  bodyLimit: MAX_DOCUMENT_REQUEST_BYTES,
   refusals: [409, 413, 415],
   response: { status: 201, description: "The new device; Location names it.", schema: DeviceDetailSchema },
   async handle({ principal, actor, body }) {

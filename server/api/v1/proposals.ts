@@ -7,6 +7,7 @@ import { ProposalDocumentSchema } from "../../http/schemas.ts";
 import { proposalEffect } from "../../services/proposal-effect.server.ts";
 import { createProposal, submitProposal } from "../../services/proposals.server.ts";
 import { PAGE_ROLES } from "../../auth/roles.ts";
+import { MAX_DOCUMENT_REQUEST_BYTES } from "../../validation/limits.ts";
 import { defineEndpoint } from "../endpoint.server.ts";
 import { DeviceParams, DocumentField, EffectSchema, ProposalCreatedSchema, ProposalParams, SubmitBody, SubmittedSchema } from "./schemas.ts";
 
@@ -28,6 +29,7 @@ export const createProposalEndpoint = defineEndpoint({
   params: DeviceParams,
   device: true,
   body: NewProposalBody,
+  bodyLimit: MAX_DOCUMENT_REQUEST_BYTES,
   refusals: [409, 413, 415],
   response: { status: 201, description: "The new proposal, a draft; Location names its effect.", schema: ProposalCreatedSchema },
   async handle({ principal, actor, device, body }) {
