@@ -103,7 +103,8 @@ export function AppShell({ organisation, organisations, user, theme, children }:
         {/* Names search the fleet table; an address or CIDR block opens fleet reach (routes/organisation/search.ts). */}
         <Form method="get" action={`/o/${organisation.slug}/search`} role="search" className="ml-auto w-36 shrink-0 sm:w-auto sm:max-w-xs sm:min-w-0 sm:flex-1">
           <label className="relative block">
-            <span className="sr-only">Search devices and sites by name, or type an address or CIDR block for fleet reach</span>
+            {/* Short on purpose: label lookups match parts of names, and the placeholder says what it takes. */}
+            <span className="sr-only">Find in the fleet</span>
             <Icon path="M11 18a7 7 0 1 0 0-14 7 7 0 0 0 0 14zM20 20l-4-4" className="pointer-events-none absolute top-1/2 left-2.5 size-4 -translate-y-1/2 text-ink-faint" />
             <input
               type="search"

@@ -45,7 +45,7 @@ test("An engineer types an address in the shell's search, lands on fleet reach, 
   const page = await engineerPage(browser, browserProblems);
   await page.goto(`/o/${team.slug}/devices`);
   await hydrated(page);
-  const search = page.getByRole("search").getByRole("searchbox", { name: /type an address or CIDR block for fleet reach/ });
+  const search = page.getByRole("search").getByRole("searchbox", { name: "Find in the fleet" });
   await search.fill("198.51.100.20");
   await search.press("Enter");
   await page.waitForURL(/\/reach\?from=198\.51\.100\.20$/);
