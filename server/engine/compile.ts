@@ -274,6 +274,8 @@ export class CompiledModel {
   /** Rule partitions per (candidate list, family), by slice, so a slice need not rebuild the list's key. */
   private readonly slicePartitions = new Map<number, (RulePartition | undefined)[]>();
   private readonly loginRuns = new Map<string, Runs>();
+  /** weekOutcomes per cell (interface, destination, class), as asked for. */
+  private readonly weekOutcomesByCell = new Map<number, readonly OutcomePartition[]>();
   /** Outcome runs per (rule partition, class, listening). */
   private readonly outcomeCache = new Map<number, Runs>();
   private patchScratch: Uint8Array | undefined;
@@ -921,11 +923,15 @@ export class CompiledModel {
    * slice order: the same as outcomeOf for every slice with repeated outcomes left out
    * (equal outcomes are the same Runs object), without building an entry per slice.
    */
-  weekOutcomes(iface: number, to: number, cls: number): OutcomePartition[] {
+  weekOutcomes(iface: number, to: number, cls: number): readonly OutcomePartition[] {
     const c = this.classes[cls];
     const listening = c.service !== null && this.listening[iface].has(c.service.name);
     const family = this.addresses[to].family;
-    if (!listening && (c.kind === "echo" || !this.unlistenedReset)) return [family === 4 ? SILENT_V4 : SILENT_V6];
+    if (!listening && (c.kind === "echo" || !this.unlistenedReset)) return family === 4 ? SILENT_WEEK_V4 : SILENT_WEEK_V6;
+    // Exposure, login reach and the findings each walk every cell's week: built once per cell.
+    const cell = (iface * this.addresses.length + to) * this.classes.length + cls;
+    const cached = this.weekOutcomesByCell.get(cell);
+    if (cached !== undefined) return cached;
     const basis = this.basisOfCleanCell(iface, to, cls);
     if (basis !== undefined) return basis.weekOutcomes(iface, to, cls);
     const out: OutcomePartition[] = [];
@@ -936,6 +942,7 @@ export class CompiledModel {
       seen.add(outcome);
       out.push({ family, outcome });
     }
+    this.weekOutcomesByCell.set(cell, out);
     return out;
   }
 
@@ -1393,6 +1400,8 @@ const UNTOUCHED = -3;
 
 const SILENT_V4: OutcomePartition = { family: 4, outcome: { starts: Int32Array.of(0), values: Int32Array.of(SILENT) } };
 const SILENT_V6: OutcomePartition = { family: 6, outcome: { starts: Int32Array.of(0), values: Int32Array.of(SILENT) } };
+const SILENT_WEEK_V4: readonly OutcomePartition[] = [SILENT_V4];
+const SILENT_WEEK_V6: readonly OutcomePartition[] = [SILENT_V6];
 
 /** Where one version of a rule is a candidate (CompiledModel.candidateRules): interface (-1 any, -2 none), and per device address and class. */
 interface CandidateReach {

@@ -103,6 +103,12 @@ interface DecidingPlace {
   readonly element: number;
 }
 
+/**
+ * The cell (interface, destination, class) each witness probe is traced in. Cells keep their
+ * indices along a chain of rule edits (incrementalBasis), where findings pass from model to model.
+ */
+const probeCells = new WeakMap<WitnessProbe, readonly [number, number, number]>();
+
 export class FindingContext {
   #exposure: Map<string, ServiceExposure> | undefined;
   /** Per interface × service, the distinct outcome runs the exposure was computed from (a later context re-uses equal ones). */
@@ -111,6 +117,7 @@ export class FindingContext {
   #firstMatch: Set<number> | undefined;
   #loginReachable: AddressSet | undefined;
   #arrivals: Arrival[] | undefined;
+  #destinationsByInterface: readonly (readonly number[])[] | undefined;
   /** Per slot, the first place (in cell order) where the rule is the first match: every rule's once #decidingComplete, else those asked for so far. */
   #deciding = new Map<number, DecidingPlace | undefined>();
   #decidingComplete = false;
@@ -137,9 +144,21 @@ export class FindingContext {
     const key = `${code}|${this.engine.rules[position].id}`;
     const basis = this.#basis;
     const previous = basis === undefined ? undefined : basis.#ruleFindings.get(key);
-    const finding = previous !== undefined && this.#decisionsKept(position) ? previous : build();
+    const finding = previous !== undefined && (this.#decisionsKept(position) || this.#witnessKept(position, previous)) ? previous : build();
     this.#ruleFindings.set(key, finding);
     return finding;
+  }
+
+  /**
+   * Whether a rule finding of the basis still holds word for word: the edit left the rule
+   * alone, and the cell its witness probe is traced in is unchanged, so the trace (outcome,
+   * deciding rule) is the basis's. The probe itself depends on the rule's own conditions only.
+   */
+  #witnessKept(position: number, previous: Finding): boolean {
+    const engine = this.engine;
+    if (engine.incrementalBasis === undefined || previous.witness === undefined || engine.ruleChangedByEdit(position)) return false;
+    const cell = probeCells.get(previous.witness.probe);
+    return cell !== undefined && !engine.cellMayDiffer(cell[0], cell[1], cell[2]);
   }
 
   /** Whether every first-match decision about the rule, and every cell it is a candidate in, is the basis's. */
@@ -210,12 +229,11 @@ export class FindingContext {
     const incremental = engine.incrementalBasis !== undefined && basis !== undefined && basisExposure !== undefined;
     const inputs = new Map<string, readonly Runs[]>();
     const out = new Map<string, ServiceExposure>();
-    const destinations: number[][] = engine.interfaceAddresses.map(() => []);
-    for (const { iface, to } of this.arrivals) destinations[iface].push(to);
+    const destinations = this.#destinations;
     for (let iface = 0; iface < engine.interfaceAddresses.length; iface++) {
       for (let cls = 0; cls < engine.catalogue.length; cls++) {
         const key = `${iface}|${cls}`;
-        if (incremental && destinations[iface].every((to) => !engine.cellMayDiffer(iface, to, cls))) {
+        if (incremental && this.#serviceUnchanged(iface, cls)) {
           const kept = basis.get(key);
           if (kept !== undefined) {
             inputs.set(key, kept);
@@ -252,19 +270,52 @@ export class FindingContext {
     return out;
   }
 
+  /** Per interface, the device addresses a probe arriving there may be sent to. */
+  get #destinations(): readonly (readonly number[])[] {
+    if (this.#destinationsByInterface === undefined) {
+      const destinations: number[][] = this.engine.interfaceAddresses.map(() => []);
+      for (const { iface, to } of this.arrivals) destinations[iface].push(to);
+      this.#destinationsByInterface = destinations;
+    }
+    return this.#destinationsByInterface;
+  }
+
+  /** Whether the model was compiled on a basis after a rule edit that changed none of the interface × service's cells. */
+  #serviceUnchanged(iface: number, cls: number): boolean {
+    const engine = this.engine;
+    return engine.incrementalBasis !== undefined && this.#destinations[iface].every((to) => !engine.cellMayDiffer(iface, to, cls));
+  }
+
+  #serviceFindings = new Map<string, readonly Finding[]>();
+
+  /**
+   * A check's findings about one interface × catalogue service: the basis's own when an edit
+   * changed none of its cells (its exposure, witness and words are then the basis's), else built.
+   */
+  serviceFindings(code: string, iface: number, cls: number, build: () => readonly Finding[]): readonly Finding[] {
+    const key = `${code}|${iface}|${cls}`;
+    const basis = this.#basis;
+    const previous = basis === undefined ? undefined : basis.#serviceFindings.get(key);
+    const findings = previous !== undefined && this.#serviceUnchanged(iface, cls) ? previous : build();
+    this.#serviceFindings.set(key, findings);
+    return findings;
+  }
+
   // ---- witnesses ----
 
   /** The probe text for arrival, class, source and slice. */
   probe(iface: number, to: number, cls: number, family: Family, source: bigint, slice: number, serviceText?: string): WitnessProbe {
     const engine = this.engine;
     const service = serviceText ?? engine.classes[cls].service?.name ?? "";
-    return {
+    const probe: WitnessProbe = {
       from: formatAddress(family, source),
       interface: this.model.interfaces[iface].name,
       service,
       to: engine.addresses[to].text,
       at: instantInSlice(engine, slice),
     };
+    probeCells.set(probe, [iface, to, cls]);
+    return probe;
   }
 
   /**
@@ -338,11 +389,11 @@ export class FindingContext {
     const basis = this.#basis;
     if (edit !== null && basis !== undefined && (basis.#decidingComplete || basis.#deciding.has(slot))) {
       const kept = basis.#deciding.get(slot);
-      if (kept === undefined || edit.changed[kept.cell] === 0) {
-        const place = this.#firstPlaceInChangedCells(slot, edit.cells, kept === undefined ? Infinity : kept.cell) ?? kept;
-        this.#deciding.set(slot, place);
-        return place;
-      }
+      const before = this.#firstPlaceInChangedCells(slot, edit.cells, kept === undefined ? Infinity : kept.cell);
+      // The basis's place in a changed cell may be gone: the first place is then at or after that cell, in any cell.
+      const place = before ?? (kept === undefined || edit.changed[kept.cell] === 0 ? kept : this.#firstPlaceFrom(slot, kept.cell));
+      this.#deciding.set(slot, place);
+      return place;
     }
     this.#deciding = this.#firstDecisions();
     this.#decidingComplete = true;
@@ -361,6 +412,22 @@ export class FindingContext {
         if (!ownerSlots(rules).includes(slot)) continue;
         const k = rules.owner.values.indexOf(slot);
         return { cell, iface, to, cls, slice, family: rules.family, element: rules.owner.starts[k] };
+      }
+    }
+    return undefined;
+  }
+
+  /** The first place the rule decides in cell order from `start` on (every cell, changed or not). */
+  #firstPlaceFrom(slot: number, start: number): DecidingPlace | undefined {
+    const engine = this.engine;
+    if (censusOf(engine).owning[slot] === 0) return undefined;
+    const cells = cellsOf(engine);
+    for (let cell = start; cell < cells.count; cell++) {
+      const { iface, to, cls, partitions } = cellPartitions(engine, cells, cell);
+      for (let slice = 0; slice < partitions.length; slice++) {
+        const rules = partitions[slice];
+        const k = rules.owner.values.indexOf(slot);
+        if (k >= 0) return { cell, iface, to, cls, slice, family: rules.family, element: rules.owner.starts[k] };
       }
     }
     return undefined;

@@ -43,38 +43,40 @@ export const internetLoginExposed: FindingCheck = {
   check: (context) =>
     context.model.interfaces.flatMap((entry, iface) => {
       if (entry.role !== "wan" && entry.role !== "dmz") return [];
-      return context.engine.catalogue.flatMap((service, cls): Finding[] => {
-        const seen = context.exposure(iface, cls);
-        if (service.kind !== "login" || seen === undefined) return [];
-        const login = [LOGIN_PASSWORD, LOGIN_MFA, LOGIN_DENIED].filter((outcome) => seen.outcomes.has(outcome));
-        if (login.length === 0) return [];
-        // Exposure limited to the declared operator networks is the intended remote administration;
-        // the severity follows the worst outcome anyone else gets.
-        const outsiders = login.filter((outcome) => !isEmptySet(subtractSets(seen.hits[outcome], context.operators)));
-        const worst = outsiders[0];
-        const all = login.reduce((acc, outcome) => unionSets(acc, seen.hits[outcome]), EMPTY_SET);
-        const shown = worst === undefined ? login[0] : worst;
-        const sources = worst === undefined ? seen.hits[shown] : subtractSets(seen.hits[worst], context.operators);
-        const witness = context.witnessOf(
-          context.exposureWitness(iface, cls, shown, sources),
-          `${worst === undefined ? "An operator network source" : "A non-private source outside the operator networks"} gets ${OUTCOMES[shown]} from ${service.name} on "${entry.name}".`,
-        );
-        return [
-          {
-            code: "internet-login-exposed",
-            severity: worst === undefined ? "low" : worst === LOGIN_PASSWORD ? "critical" : worst === LOGIN_MFA ? "high" : "medium",
-            title: `${service.name} on "${entry.name}" presents a login to non-private sources`,
-            detail:
-              worst === undefined
-                ? `Only operator networks (${countText(all)} non-private addresses) reach the login; keep that list short and the second factor on.`
-                : `${countText(sources)} non-private sources outside the operator networks get ${OUTCOMES[worst]} at some time ` +
-                  `(${firstCidrs(sources, 3).join(", ")}…); allow only operator networks and drop the rest silently.`,
-            elements: [elementRef("interface", entry.name), elementRef("service", service.name)],
-            source: SOURCES.exposure,
-            ...(witness ? { witness } : {}),
-          },
-        ];
-      });
+      return context.engine.catalogue.flatMap((service, cls) =>
+        context.serviceFindings("internet-login-exposed", iface, cls, (): Finding[] => {
+          const seen = context.exposure(iface, cls);
+          if (service.kind !== "login" || seen === undefined) return [];
+          const login = [LOGIN_PASSWORD, LOGIN_MFA, LOGIN_DENIED].filter((outcome) => seen.outcomes.has(outcome));
+          if (login.length === 0) return [];
+          // Exposure limited to the declared operator networks is the intended remote administration;
+          // the severity follows the worst outcome anyone else gets.
+          const outsiders = login.filter((outcome) => !isEmptySet(subtractSets(seen.hits[outcome], context.operators)));
+          const worst = outsiders[0];
+          const all = login.reduce((acc, outcome) => unionSets(acc, seen.hits[outcome]), EMPTY_SET);
+          const shown = worst === undefined ? login[0] : worst;
+          const sources = worst === undefined ? seen.hits[shown] : subtractSets(seen.hits[worst], context.operators);
+          const witness = context.witnessOf(
+            context.exposureWitness(iface, cls, shown, sources),
+            `${worst === undefined ? "An operator network source" : "A non-private source outside the operator networks"} gets ${OUTCOMES[shown]} from ${service.name} on "${entry.name}".`,
+          );
+          return [
+            {
+              code: "internet-login-exposed",
+              severity: worst === undefined ? "low" : worst === LOGIN_PASSWORD ? "critical" : worst === LOGIN_MFA ? "high" : "medium",
+              title: `${service.name} on "${entry.name}" presents a login to non-private sources`,
+              detail:
+                worst === undefined
+                  ? `Only operator networks (${countText(all)} non-private addresses) reach the login; keep that list short and the second factor on.`
+                  : `${countText(sources)} non-private sources outside the operator networks get ${OUTCOMES[worst]} at some time ` +
+                    `(${firstCidrs(sources, 3).join(", ")}…); allow only operator networks and drop the rest silently.`,
+              elements: [elementRef("interface", entry.name), elementRef("service", service.name)],
+              source: SOURCES.exposure,
+              ...(witness ? { witness } : {}),
+            },
+          ];
+        }),
+      );
     }),
 };
 
@@ -84,22 +86,24 @@ export const internetPing: FindingCheck = {
   source: SOURCES.ping,
   check: (context) =>
     context.model.interfaces.flatMap((entry, iface) =>
-      context.engine.catalogue.flatMap((service, cls): Finding[] => {
-        const seen = context.exposure(iface, cls);
-        if (service.kind !== "echo" || seen === undefined || !seen.outcomes.has(ANSWERED)) return [];
-        const witness = context.witnessOf(context.exposureWitness(iface, cls, ANSWERED, seen.hits[ANSWERED]), `A non-private source gets an echo reply on "${entry.name}".`);
-        return [
-          {
-            code: "internet-ping",
-            severity: "low",
-            title: `ping on "${entry.name}" answers non-private sources`,
-            detail: `${countText(seen.hits[ANSWERED])} non-private sources get an echo reply, which tells a scanner the device is there.`,
-            elements: [elementRef("interface", entry.name), "service:ping"],
-            source: SOURCES.ping,
-            ...(witness ? { witness } : {}),
-          },
-        ];
-      }),
+      context.engine.catalogue.flatMap((service, cls) =>
+        context.serviceFindings("internet-ping", iface, cls, (): Finding[] => {
+          const seen = context.exposure(iface, cls);
+          if (service.kind !== "echo" || seen === undefined || !seen.outcomes.has(ANSWERED)) return [];
+          const witness = context.witnessOf(context.exposureWitness(iface, cls, ANSWERED, seen.hits[ANSWERED]), `A non-private source gets an echo reply on "${entry.name}".`);
+          return [
+            {
+              code: "internet-ping",
+              severity: "low",
+              title: `ping on "${entry.name}" answers non-private sources`,
+              detail: `${countText(seen.hits[ANSWERED])} non-private sources get an echo reply, which tells a scanner the device is there.`,
+              elements: [elementRef("interface", entry.name), "service:ping"],
+              source: SOURCES.ping,
+              ...(witness ? { witness } : {}),
+            },
+          ];
+        }),
+      ),
     ),
 };
 
