@@ -46,6 +46,7 @@ export const AUDIT_ACTIONS = [
   "invitation.accepted",
   "member.role-changed",
   "member.removed",
+  "member.trainer-changed",
   "user.signed-in",
   "user.signed-out-everywhere",
   "user.renamed",

@@ -9,7 +9,7 @@ import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 
 export const INVITATION_LIFETIME_MS = 7 * 24 * 60 * 60 * 1000;
 
-export type MemberRow = { membershipId: string; userId: string; name: string; email: string; role: Role; since: string };
+export type MemberRow = { membershipId: string; userId: string; name: string; email: string; role: Role; trainer: boolean; since: string };
 
 export async function listMembers(organisationId: string): Promise<MemberRow[]> {
   const memberships = await Membership.findAll({
@@ -23,6 +23,7 @@ export async function listMembers(organisationId: string): Promise<MemberRow[]> 
     name: membership.user!.name,
     email: membership.user!.email,
     role: membership.role,
+    trainer: membership.trainer,
     since: membership.createdAt.toISOString(),
   }));
 }
@@ -87,6 +88,17 @@ export async function changeMemberRole(organisation: Organisation, membershipId:
   const before = membership.role;
   await membership.update({ role });
   await recordAuditEvent(actor, { organisationId: organisation.id, action: "member.role-changed", targetType: "membership", targetId: membership.id, changes: { email: membership.user?.email, role: { from: before, to: role } } });
+}
+
+/** Gives or takes the trainer capability (docs/decisions/016); the audit entry in the same transaction. */
+export async function setMemberTrainer(organisation: Organisation, membershipId: string, trainer: boolean, actor: AuditActor): Promise<void> {
+  await getDatabase().transaction(async (transaction) => {
+    const membership = await Membership.findOne({ where: { id: membershipId, organisationId: organisation.id }, include: [{ model: User, as: "user", required: true }], transaction, lock: { level: transaction.LOCK.UPDATE, of: Membership } });
+    if (!membership) throw new Refusal("No such member in this organisation.", 404);
+    if (membership.trainer === trainer) return;
+    await membership.update({ trainer }, { transaction });
+    await recordAuditEvent(actor, { organisationId: organisation.id, action: "member.trainer-changed", targetType: "membership", targetId: membership.id, changes: { email: membership.user?.email, trainer: { from: !trainer, to: trainer } } }, transaction);
+  });
 }
 
 export async function removeMember(organisation: Organisation, membershipId: string, actor: AuditActor & { role: Role }): Promise<void> {
