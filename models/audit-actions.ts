@@ -38,6 +38,9 @@ export const AUDIT_ACTIONS = [
   "proposal.withdrawn",
   "proposal.brought-up-to-date",
   "proposal.applied",
+  "training.scenario-created",
+  "training.scenario-edited",
+  "training.scenario-deleted",
   "shared-object.created",
   "shared-object.updated",
   "shared-object.deleted",
@@ -62,7 +65,7 @@ export function isAuditAction(value: unknown): value is AuditAction {
   return typeof value === "string" && (AUDIT_ACTIONS as readonly string[]).includes(value);
 }
 
-export const AUDIT_TARGET_TYPES = ["organisation", "site", "device", "shared-object", "invitation", "membership", "user", "proposal"] as const;
+export const AUDIT_TARGET_TYPES = ["organisation", "site", "device", "shared-object", "invitation", "membership", "user", "proposal", "training-scenario"] as const;
 export type AuditTargetType = (typeof AUDIT_TARGET_TYPES)[number];
 
 export function isAuditTargetType(value: unknown): value is AuditTargetType {

@@ -19,9 +19,12 @@ import { SharedAddressObject } from "./shared-address-object.ts";
 import { SignInAttempt } from "./sign-in-attempt.ts";
 import { Site } from "./site.ts";
 import { User } from "./user.ts";
+import { initTrainingModels, TrainingScenario } from "./training.ts";
 
 export type { RevisionSummaryRecord, SharedObjectsSnapshot } from "./device-revision.ts";
 export { ChangeProposal, ProposalComment, ProposalEdit, ProposalReview };
+export { TrainingScenario };
+export type { ScenarioOrigin } from "./training.ts";
 export { AuditEvent, Device, DeviceExpectation, DeviceRevision, EmailChange, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
 
 /** Registers every model and association on one Sequelize instance. */
@@ -29,6 +32,7 @@ export function initModels(sequelize: Sequelize): void {
   for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, SignInAttempt, PasswordReset, EmailChange, Invitation, Device, DeviceRevision, RevisionAnalysisRecord, SharedAddressObject, FindingDismissal, DeviceExpectation, ChangeProposal, ProposalEdit, ProposalComment, ProposalReview]) {
     model.initModel(sequelize);
   }
+  initTrainingModels(sequelize);
   Organisation.hasMany(Membership, { foreignKey: "organisationId", as: "memberships" });
   Membership.belongsTo(Organisation, { foreignKey: "organisationId", as: "organisation" });
   User.hasMany(Membership, { foreignKey: "userId", as: "memberships" });

@@ -38,6 +38,9 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "proposal.withdrawn": "Proposal withdrawn",
   "proposal.brought-up-to-date": "Proposal brought up to date",
   "proposal.applied": "Proposal applied",
+  "training.scenario-created": "Teaching scenario created",
+  "training.scenario-edited": "Teaching scenario edited",
+  "training.scenario-deleted": "Teaching scenario deleted",
   "shared-object.created": "Shared object created",
   "shared-object.updated": "Shared object changed",
   "shared-object.deleted": "Shared object deleted",
@@ -66,6 +69,7 @@ export const AUDIT_TARGET_LABELS: Record<AuditTargetType, string> = {
   membership: "Member",
   user: "Account",
   proposal: "Proposal",
+  "training-scenario": "Teaching scenario",
 };
 
 /** The label of a stored action; a code this version does not know is shown as it is. */
@@ -156,6 +160,10 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "proposal.withdrawn": (c, target) => `Withdrew ${quoted(c.name, target)}`,
   "proposal.brought-up-to-date": (c, target) => `Brought ${quoted(target)} up to date${fromTo(c.baseRevision)}${listOf(c.settled).length ? `, settling ${plural(listOf(c.settled).length, { one: "conflict", other: "conflicts" })}` : ""}`,
   "proposal.applied": (c, target) => `Applied ${quoted(target)} as r${word(c.revision)}${word(c.outsideWindowReason, "") ? `, outside its change window: ${quoted(c.outsideWindowReason)}` : ""}`,
+  "training.scenario-created": (c, target) =>
+    `Created teaching scenario ${quoted(c.title, target)}${c.origin === "example" ? ` from the example ${quoted(c.example)}` : c.origin === "copy" ? ` as a${c.anonymised === true ? "n anonymised" : ""} copy of ${quoted(c.device)}` : " from scratch"}`,
+  "training.scenario-edited": (c, target) => `Edited teaching scenario ${quoted(c.title, target)}: ${word(c.edit)}`,
+  "training.scenario-deleted": (c, target) => `Deleted teaching scenario ${quoted(c.title, target)}`,
   "shared-object.created": (c, target) => `Created shared ${c.kind === "group" ? "group" : "address object"} ${quoted(target)}: ${valueText(c.items)}`,
   "shared-object.updated": (c, target) => {
     const changed = fieldChanges(c);
