@@ -55,6 +55,11 @@ export default [
       route("scenarios/new", "routes/organisation/training/scenario-new.tsx"),
       route("scenarios/:scenario", "routes/organisation/training/scenario.tsx"),
       route("scenarios/:scenario/model/:section", "routes/organisation/training/scenario-section.tsx"),
+      route("lessons/new", "routes/organisation/training/lesson-new.tsx"),
+      route("lessons/:lesson", "routes/organisation/training/lesson.tsx"),
+      route("lessons/:lesson/edit", "routes/organisation/training/lesson-edit.tsx"),
+      route("lessons/:lesson/present", "routes/organisation/training/lesson-present.tsx"),
+      route("attempts/:attempt", "routes/organisation/training/attempt.tsx"),
     ]),
     route("account", "routes/organisation/account.tsx"),
     ...prefix("settings", [

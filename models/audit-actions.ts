@@ -41,6 +41,9 @@ export const AUDIT_ACTIONS = [
   "training.scenario-created",
   "training.scenario-edited",
   "training.scenario-deleted",
+  "training.lesson-created",
+  "training.lesson-changed",
+  "training.lesson-deleted",
   "shared-object.created",
   "shared-object.updated",
   "shared-object.deleted",
@@ -65,7 +68,7 @@ export function isAuditAction(value: unknown): value is AuditAction {
   return typeof value === "string" && (AUDIT_ACTIONS as readonly string[]).includes(value);
 }
 
-export const AUDIT_TARGET_TYPES = ["organisation", "site", "device", "shared-object", "invitation", "membership", "user", "proposal", "training-scenario"] as const;
+export const AUDIT_TARGET_TYPES = ["organisation", "site", "device", "shared-object", "invitation", "membership", "user", "proposal", "training-scenario", "training-lesson"] as const;
 export type AuditTargetType = (typeof AUDIT_TARGET_TYPES)[number];
 
 export function isAuditTargetType(value: unknown): value is AuditTargetType {

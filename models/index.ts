@@ -19,11 +19,11 @@ import { SharedAddressObject } from "./shared-address-object.ts";
 import { SignInAttempt } from "./sign-in-attempt.ts";
 import { Site } from "./site.ts";
 import { User } from "./user.ts";
-import { initTrainingModels, TrainingScenario } from "./training.ts";
+import { initTrainingModels, TrainingAttempt, TrainingLesson, TrainingPrediction, TrainingScenario } from "./training.ts";
 
 export type { RevisionSummaryRecord, SharedObjectsSnapshot } from "./device-revision.ts";
 export { ChangeProposal, ProposalComment, ProposalEdit, ProposalReview };
-export { TrainingScenario };
+export { TrainingAttempt, TrainingLesson, TrainingPrediction, TrainingScenario };
 export type { ScenarioOrigin } from "./training.ts";
 export { AuditEvent, Device, DeviceExpectation, DeviceRevision, EmailChange, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
 

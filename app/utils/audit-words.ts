@@ -41,6 +41,9 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "training.scenario-created": "Teaching scenario created",
   "training.scenario-edited": "Teaching scenario edited",
   "training.scenario-deleted": "Teaching scenario deleted",
+  "training.lesson-created": "Lesson created",
+  "training.lesson-changed": "Lesson changed",
+  "training.lesson-deleted": "Lesson deleted",
   "shared-object.created": "Shared object created",
   "shared-object.updated": "Shared object changed",
   "shared-object.deleted": "Shared object deleted",
@@ -70,6 +73,7 @@ export const AUDIT_TARGET_LABELS: Record<AuditTargetType, string> = {
   user: "Account",
   proposal: "Proposal",
   "training-scenario": "Teaching scenario",
+  "training-lesson": "Lesson",
 };
 
 /** The label of a stored action; a code this version does not know is shown as it is. */
@@ -164,6 +168,9 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
     `Created teaching scenario ${quoted(c.title, target)}${c.origin === "example" ? ` from the example ${quoted(c.example)}` : c.origin === "copy" ? ` as a${c.anonymised === true ? "n anonymised" : ""} copy of ${quoted(c.device)}` : " from scratch"}`,
   "training.scenario-edited": (c, target) => `Edited teaching scenario ${quoted(c.title, target)}: ${word(c.edit)}`,
   "training.scenario-deleted": (c, target) => `Deleted teaching scenario ${quoted(c.title, target)}`,
+  "training.lesson-created": (c, target) => `Created lesson ${quoted(c.title, target)} on ${quoted(c.scenario)} with ${plural(typeof c.probes === "number" ? c.probes : 0, { one: "probe", other: "probes" })}`,
+  "training.lesson-changed": (c, target) => `Changed lesson ${quoted(isFromTo(c.title) ? c.title.to : c.title, target)}: ${word(c.edit)}`,
+  "training.lesson-deleted": (c, target) => `Deleted lesson ${quoted(c.title, target)} and its ${plural(typeof c.attempts === "number" ? c.attempts : 0, { one: "attempt", other: "attempts" })}`,
   "shared-object.created": (c, target) => `Created shared ${c.kind === "group" ? "group" : "address object"} ${quoted(target)}: ${valueText(c.items)}`,
   "shared-object.updated": (c, target) => {
     const changed = fieldChanges(c);

@@ -1,7 +1,7 @@
 // Teaching scenarios (docs/decisions/016): device models in the training area, apart from the
 // fleet. Each change writes its audit entry in the change's transaction.
 import { Op, type Transaction } from "sequelize";
-import { Device, TrainingScenario, type ScenarioOrigin } from "#models/index.ts";
+import { Device, TrainingLesson, TrainingScenario, type ScenarioOrigin } from "#models/index.ts";
 import { getDatabase } from "../db/database.server.ts";
 import { deviceRevisions } from "../devices/index.ts";
 import { NAME_PATTERN, type DeviceModelInput } from "../engine/index.ts";
@@ -161,6 +161,8 @@ export async function updateScenarioDetails(ref: ScenarioRef, details: ScenarioD
 export async function deleteScenario(ref: ScenarioRef, actor: AuditActor): Promise<string> {
   return getDatabase().transaction(async (transaction) => {
     const scenario = await findScenario(ref, transaction);
+    const lessons = await TrainingLesson.findAll({ where: { scenarioId: scenario.id }, attributes: ["title"], order: [["title", "ASC"]], transaction });
+    if (lessons.length > 0) throw new Refusal(`Not deleted: ${lessons.length === 1 ? "a lesson is" : `${lessons.length} lessons are`} built on this scenario (${lessons.map((lesson) => `“${lesson.title}”`).join(", ")}). Delete ${lessons.length === 1 ? "it" : "them"} first.`, 409);
     await scenario.destroy({ transaction });
     await recordAuditEvent(actor, { organisationId: ref.organisationId, action: "training.scenario-deleted", targetType: "training-scenario", targetId: scenario.id, changes: { title: scenario.title } }, transaction);
     return scenario.title;

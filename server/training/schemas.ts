@@ -1,7 +1,10 @@
 // What the training forms accept (docs/decisions/016): zod schemas with a message per field.
 // Pure, so the routes and the tests share them.
 import { z } from "zod";
+import { ProbeQuerySchema } from "../analysis/probe.ts";
+import { LAYERS, type Layer } from "../engine/index.ts";
 import { IdSchema } from "../http/schemas.ts";
+import { MAX_LESSON_STEPS, MAX_NOTE_LENGTH, type LessonNotes } from "./lessons.ts";
 
 /** Control characters other than tab, line feed and carriage return (C0, DEL, C1). */
 // eslint-disable-next-line no-control-regex -- the point is to find them
@@ -48,3 +51,36 @@ export const ScenarioSourceSchema = z.discriminatedUnion(
   ],
   { message: "Choose where the model comes from." },
 );
+
+export const LessonDetailsSchema = z.object({
+  title: lineText("a title", 100),
+  introduction: paragraphText(4000),
+});
+
+export const NewLessonSchema = LessonDetailsSchema.extend({
+  scenarioId: z.string({ message: "Choose a scenario." }).uuid("Choose a scenario."),
+  withExampleProbes: CHECKBOX,
+});
+
+export const VersionSchema = z.coerce.number({ message: "Reload the page: the form lost its version." }).int().min(1);
+
+/** The form field of a layer's note in the lesson editor. */
+export const noteField = (layer: Layer) => `note-${layer}`;
+
+const NoteSchema = paragraphText(MAX_NOTE_LENGTH);
+
+/** A lesson step's form: the probe's fields, and a note per layer (`note-arrival`, …). */
+export const StepFormSchema = ProbeQuerySchema.and(z.record(z.string(), z.string())).transform((values, context) => {
+  const notes: LessonNotes = {};
+  for (const layer of LAYERS) {
+    const parsed = NoteSchema.safeParse(values[noteField(layer)] ?? "");
+    if (!parsed.success) {
+      context.addIssue({ code: "custom", path: [noteField(layer)], message: parsed.error.issues[0].message });
+      return z.NEVER;
+    }
+    if (parsed.data) notes[layer] = parsed.data;
+  }
+  return { probe: { from: values.from, interface: values.interface, service: values.service, to: values.to, at: values.at, account: values.account }, notes };
+});
+
+export const StepIndexSchema = z.coerce.number({ message: "That probe is not in the lesson." }).int().min(0).max(MAX_LESSON_STEPS - 1);

@@ -3,6 +3,7 @@ import type { Route } from "./+types/index";
 import { requireLearner } from "#server/training/access.server";
 import { TRAINING_EXAMPLES } from "#server/training/examples";
 import { listDeviceNames, listScenarios } from "#server/services/training-scenarios.server";
+import { listLessons } from "#server/services/training-lessons.server";
 import { LAYER_LABELS } from "#server/engine/vocabulary";
 import { PageErrorBoundary } from "#app/components/error-panel";
 import { ButtonLink } from "#app/components/ui/button";
@@ -17,11 +18,12 @@ export const ErrorBoundary = PageErrorBoundary;
 
 export async function loader({ context }: Route.LoaderArgs) {
   const access = requireLearner(context);
-  const [scenarios, devices] = await Promise.all([listScenarios(access.organisation.id), listDeviceNames(access.organisation.id)]);
+  const [scenarios, devices, lessons] = await Promise.all([listScenarios(access.organisation.id), listDeviceNames(access.organisation.id), listLessons(access.organisation.id)]);
   return {
     base: `/o/${access.organisation.slug}`,
     trainer: access.trainer,
     scenarios,
+    lessons,
     devices: devices.slice(0, 12),
     moreDevices: devices.length > 12,
     examples: TRAINING_EXAMPLES.map((example) => ({ key: example.key, title: example.title, summary: example.summary, teaches: LAYER_LABELS[example.teaches] })),
@@ -29,15 +31,48 @@ export async function loader({ context }: Route.LoaderArgs) {
 }
 
 export default function Training({ loaderData }: Route.ComponentProps) {
-  const { base, trainer, scenarios, devices, examples } = loaderData;
+  const { base, trainer, scenarios, lessons, devices, examples } = loaderData;
   return (
     <>
       <PageHeader
         title="Training"
         description="Walk juniors through the layers of defence one at a time: on a device's Trace tab, or in lessons on teaching scenarios that live apart from the fleet."
-        actions={trainer ? <ButtonLink to={`${base}/training/scenarios/new`}>New scenario</ButtonLink> : null}
+        actions={
+          trainer ? (
+            <>
+              <ButtonLink variant="secondary" to={`${base}/training/scenarios/new`}>
+                New scenario
+              </ButtonLink>
+              <ButtonLink to={`${base}/training/lessons/new`}>New lesson</ButtonLink>
+            </>
+          ) : null
+        }
       />
       <div className="space-y-8">
+        <section aria-labelledby="lessons-heading">
+          <h2 id="lessons-heading" className="mb-3 text-sm font-semibold">
+            Lessons
+          </h2>
+          {lessons.length === 0 ? (
+            <EmptyState title="No lessons yet">{trainer ? "Make a scenario (an example is the quickest start), then a lesson on it." : "A trainer makes them; they appear here."}</EmptyState>
+          ) : (
+            <ul className="grid gap-3 md:grid-cols-2">
+              {lessons.map((lesson) => (
+                <li key={lesson.id}>
+                  <Card className="h-full p-4">
+                    <Link to={`${base}/training/lessons/${lesson.id}`} className="font-medium text-harbour underline underline-offset-4">
+                      {lesson.title}
+                    </Link>
+                    <p className="mt-1 text-sm text-ink-muted">
+                      {lesson.probes} {lesson.probes === 1 ? "probe" : "probes"} on {lesson.scenarioTitle}
+                    </p>
+                  </Card>
+                </li>
+              ))}
+            </ul>
+          )}
+        </section>
+
         <Card className="p-5">
           <h2 className="text-sm font-semibold">Walkthrough on a device</h2>
           <p className="mt-1 max-w-3xl text-sm text-ink-muted">
