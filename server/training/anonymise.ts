@@ -19,7 +19,7 @@
 // (tests/unit/training-anonymise.test.ts checks it over random models).
 import { FAMILY, formatAddress, parseAddress, parseEntry, parseInterfaceAddress } from "../engine/addresses.ts";
 import type { Family } from "../engine/addresses.ts";
-import { collapse, intersect, isSubset, union } from "../engine/address-sets.ts";
+import { collapse, complement, intersect, isSubset, union } from "../engine/address-sets.ts";
 import type { Ranges } from "../engine/address-sets.ts";
 import { DEFAULT_ACCOUNT_NAMES, nonPrivate } from "../engine/findings/index.ts";
 import type { DeviceModel } from "../engine/index.ts";
@@ -238,23 +238,13 @@ function permutationFor(family: Family, required: readonly Ranges[], optional: r
     }
     for (const [block, target] of targets) moves.push({ first: block.first, last: block.first + block.size - 1n, offset: target.first - block.first });
     // The documentation addresses the model did not name take the places the moved blocks left.
-    const complementOf = (ranges: Ranges, within: Ranges) => intersect(within, complementRanges(ranges, family));
+    const complementOf = (ranges: Ranges, within: Ranges) => intersect(within, complement(ranges, family));
     moves.push(...streamMoves(complementOf(sources, destinations), complementOf(destinations, sources)));
   }
   moves.sort((a, b) => (a.first < b.first ? -1 : 1));
   return new Permutation(moves);
 }
 
-function complementRanges(ranges: Ranges, family: Family): Ranges {
-  const out: bigint[] = [];
-  let cursor = 0n;
-  for (let i = 0; i < ranges.length; i += 2) {
-    if (ranges[i] > cursor) out.push(cursor, ranges[i] - 1n);
-    cursor = ranges[i + 1] + 1n;
-  }
-  if (cursor <= FAMILY[family].max) out.push(cursor, FAMILY[family].max);
-  return out;
-}
 
 /** Text for a range: an address, a CIDR when it is one aligned block, else "A-B". */
 function rangeText(family: Family, first: bigint, last: bigint): string[] {

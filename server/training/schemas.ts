@@ -70,7 +70,12 @@ export const noteField = (layer: Layer) => `note-${layer}`;
 const NoteSchema = paragraphText(MAX_NOTE_LENGTH);
 
 /** A lesson step's form: the probe's fields, and a note per layer (`note-arrival`, …). */
-export const StepFormSchema = ProbeQuerySchema.and(z.record(z.string(), z.string())).transform((values, context) => {
+export const StepFormSchema = z.record(z.string(), z.string()).transform((values, context) => {
+  const probe = ProbeQuerySchema.safeParse(values);
+  if (!probe.success) {
+    for (const issue of probe.error.issues) context.addIssue({ code: "custom", path: issue.path, message: issue.message });
+    return z.NEVER;
+  }
   const notes: LessonNotes = {};
   for (const layer of LAYERS) {
     const parsed = NoteSchema.safeParse(values[noteField(layer)] ?? "");
@@ -80,7 +85,7 @@ export const StepFormSchema = ProbeQuerySchema.and(z.record(z.string(), z.string
     }
     if (parsed.data) notes[layer] = parsed.data;
   }
-  return { probe: { from: values.from, interface: values.interface, service: values.service, to: values.to, at: values.at, account: values.account }, notes };
+  return { probe: probe.data, notes };
 });
 
 export const StepIndexSchema = z.coerce.number({ message: "That probe is not in the lesson." }).int().min(0).max(MAX_LESSON_STEPS - 1);

@@ -141,3 +141,16 @@ describe("What a page may show", () => {
     expect(presenterView(script, -4, -1).view.index).toBe(0);
   });
 });
+
+describe("The lesson editor's probe form", () => {
+  test("reads a probe with empty optional fields and a note per layer; refuses control characters in a note", async () => {
+    const { StepFormSchema } = await import("#server/training/schemas");
+    const parsed = StepFormSchema.safeParse({ intent: "add-step", version: "1", from: "203.0.113.9", interface: "wan", service: "https", to: "", at: "", account: "", "note-arrival": "  **wan** has it  ", "note-listener": "" });
+    expect(parsed.success && parsed.data).toEqual({ probe: { from: "203.0.113.9", interface: "wan", service: "https", to: undefined, at: undefined, account: undefined }, notes: { arrival: "**wan** has it" } });
+    const bell = StepFormSchema.safeParse({ from: "203.0.113.9", interface: "wan", service: "https", "note-arrival": "ring\u0007" });
+    expect(bell.success).toBe(false);
+    expect(bell.error?.issues[0].path).toEqual(["note-arrival"]);
+    const missing = StepFormSchema.safeParse({ interface: "wan", service: "https" });
+    expect(missing.error?.issues[0].path).toEqual(["from"]);
+  });
+});

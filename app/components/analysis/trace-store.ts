@@ -12,7 +12,8 @@ type TraceState = {
   setProbe: (fields: Partial<ProbeFields>) => void;
   showResult: (trace: TraceResult | null, error: string | null) => void;
   setStep: (step: number) => void;
-  reset: (probe: ProbeFields, trace: TraceResult | null, error: string | null) => void;
+  /** The page's first state: a link opens at `step` (the first step, unless it asks for the whole trace). */
+  reset: (probe: ProbeFields, trace: TraceResult | null, error: string | null, step: number) => void;
 };
 
 /** The trace page's editor state: the probe being typed, the last answer, the walkthrough step. */
@@ -24,5 +25,5 @@ export const useTraceStore = create<TraceState>((set) => ({
   setProbe: (fields) => set((state) => ({ probe: { ...state.probe, ...fields } })),
   showResult: (trace, error) => set({ trace, error, step: trace ? trace.layers.length : 0 }),
   setStep: (step) => set({ step }),
-  reset: (probe, trace, error) => set({ probe, trace, error, step: trace ? trace.layers.length : 0 }),
+  reset: (probe, trace, error, step) => set({ probe, trace, error, step: trace ? Math.min(step, trace.layers.length) : 0 }),
 }));

@@ -17,7 +17,7 @@ type Refusal = { ok: false; key: string; errors: Record<string, string>; values:
 
 /** The trace page's address for a witness probe: the same query the trace form writes. */
 export function tryItPath(devicePath: string, probe: NonNullable<FindingCardData["witness"]>["probe"]): string {
-  return `${devicePath}/analysis?${new URLSearchParams({ from: probe.from, interface: probe.interface, service: probe.service, to: probe.to, at: probe.at })}`;
+  return `${devicePath}/analysis?${new URLSearchParams({ from: probe.from, interface: probe.interface, service: probe.service, to: probe.to, at: probe.at, reveal: "all" })}`;
 }
 
 /** Elements linked to their editors, the witness to try, and the published source (or "common practice"). */

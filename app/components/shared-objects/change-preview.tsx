@@ -32,7 +32,7 @@ function stretchWords(row: Pick<ExposureChangeRow, "start" | "end">): string {
 
 /** The trace page with the row's own probe filled in. */
 function tracePath(devicePath: string, witness: ExposureChangeRow["witness"]): string {
-  return `${devicePath}/analysis?${new URLSearchParams({ from: witness.from, interface: witness.interface, service: witness.service, to: witness.to, at: witness.at })}`;
+  return `${devicePath}/analysis?${new URLSearchParams({ from: witness.from, interface: witness.interface, service: witness.service, to: witness.to, at: witness.at, reveal: "all" })}`;
 }
 
 function ChangeRow({ row, devicePath }: { row: ExposureChangeRow; devicePath: string }) {

@@ -4,6 +4,7 @@ import { OUTCOME_LABELS, type Layer, type Outcome } from "#server/engine/vocabul
 import { LAYER_TITLES, DECIDED_WORDS, decidesText, outcomeSentence, VERDICT_CHOICES } from "#app/utils/trace-words";
 import { OUTCOME_TONES, OutcomeChip } from "#app/components/outcome";
 import { MarkdownText } from "#app/components/markdown";
+import { DoorIcon } from "./door-icon";
 import { cx } from "#app/components/ui/cx";
 import { ScrollArea } from "#app/components/ui/scroll-area";
 import { formatInstant } from "#server/engine/format";
@@ -115,7 +116,12 @@ export function EvidenceView({ evidence, size = "page" }: { evidence: Evidence; 
 export function VerdictBadge({ result, outcome, size = "page" }: { result: "pass" | "stop"; outcome: Outcome | null; size?: Size }) {
   const text = size === "page" ? "text-xs" : "text-xl";
   if (result === "pass" || !outcome) return <span className={cx("w-fit rounded border border-line-strong bg-surface-sunken px-1.5 py-0.5 font-semibold text-ink-muted", text)}>passes</span>;
-  return <span className={cx("w-fit rounded border px-1.5 py-0.5 font-semibold", OUTCOME_TONES[outcome], text)}>{decidesText(outcome)}</span>;
+  return (
+    <span className={cx("inline-flex w-fit items-center gap-1 rounded border px-1.5 py-0.5 font-semibold", OUTCOME_TONES[outcome], text)}>
+      <DoorIcon outcome={outcome} className={size === "page" ? "size-3" : "size-5"} />
+      {decidesText(outcome)}
+    </span>
+  );
 }
 
 function predictionWords(entry: RevealedLayer, outcome: Outcome | null): ReactNode {

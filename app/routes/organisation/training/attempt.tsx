@@ -166,7 +166,7 @@ export default function Attempt({ loaderData, actionData }: Route.ComponentProps
         <Card className="p-4">
           <ProbeLine view={probe} />
         </Card>
-        <RevealedLayers view={probe}>{probe.question && mine ? <Question question={probe.question} probe={probe.index} errors={errors} values={values} /> : null}</RevealedLayers>
+        <RevealedLayers view={probe}>{probe.question && mine ? <Question key={`${probe.index}-${probe.question.layerIndex}`} question={probe.question} probe={probe.index} errors={errors} values={values} /> : null}</RevealedLayers>
         {probe.question && !mine ? <p className="text-sm text-ink-muted">Not answered further yet.</p> : null}
         <ProbeOutcome view={probe} />
         {nextProbe !== null ? (

@@ -1,4 +1,3 @@
-import { useState } from "react";
 import { Form, Link, redirect, useNavigation, useSearchParams } from "react-router";
 import type { Route } from "./+types/lesson-edit";
 import { serializeFlash } from "#server/auth/flash.server";
@@ -18,9 +17,9 @@ import { LessonDetailsSchema, noteField, StepFormSchema, StepIndexSchema, Versio
 import { PageErrorBoundary } from "#app/components/error-panel";
 import { TextAreaField } from "#app/components/device/editor-kit";
 import { VerdictBadge } from "#app/components/training/layer-steps";
+import { DeleteCard } from "#app/components/training/delete-card";
 import { Button, ButtonLink } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
-import { Dialog } from "#app/components/ui/dialog";
 import { FormError, TextField } from "#app/components/ui/field";
 import { LAYER_TITLES } from "#app/utils/trace-words";
 import { cx } from "#app/components/ui/cx";
@@ -289,7 +288,6 @@ function StepCard({ data, step, index, editing, errors, values }: { data: Loader
 export default function EditLesson({ loaderData, actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
   const [searchParams] = useSearchParams();
-  const [deleting, setDeleting] = useState(false);
   const errors: Record<string, string> = actionData?.errors ?? {};
   const values: Record<string, string> = actionData?.values ?? {};
   const editingStep = values.intent === "save-step" ? Number(values.index) : Number(searchParams.get("step") ?? -1);
@@ -362,29 +360,8 @@ export default function EditLesson({ loaderData, actionData }: Route.ComponentPr
           </Card>
         ) : null}
 
-        <Card className="p-5">
-          <h2 className="text-sm font-semibold">Delete the lesson</h2>
-          <p className="mt-1 text-sm text-ink-muted">Its attempts and scores go with it.</p>
-          <Button variant="ghost-danger" size="sm" className="mt-3" onClick={() => setDeleting(true)}>
-            Delete lesson
-          </Button>
-        </Card>
+        <DeleteCard noun="lesson" title={loaderData.title} intent="delete-lesson" before="Its attempts and scores go with it." after="The lesson, every attempt at it and every score are removed. The audit log keeps a record of it." />
       </div>
-      <Dialog
-        open={deleting}
-        onClose={() => setDeleting(false)}
-        title={`Delete “${loaderData.title}”?`}
-        footer={
-          <Form method="post" onSubmit={() => setDeleting(false)}>
-            <input type="hidden" name="intent" value="delete-lesson" />
-            <Button type="submit" variant="danger">
-              Delete lesson
-            </Button>
-          </Form>
-        }
-      >
-        The lesson, every attempt at it and every score are removed. The audit log keeps a record of it.
-      </Dialog>
     </>
   );
 }

@@ -1,4 +1,3 @@
-import { useState } from "react";
 import { Form, Link, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/scenario";
 import { serializeFlash } from "#server/auth/flash.server";
@@ -17,9 +16,9 @@ import { PageErrorBoundary } from "#app/components/error-panel";
 import { MarkdownText } from "#app/components/markdown";
 import { ScenarioBanner, ScenarioNav } from "#app/components/training/scenario-nav";
 import { TextAreaField } from "#app/components/device/editor-kit";
+import { DeleteCard } from "#app/components/training/delete-card";
 import { Button } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
-import { Dialog } from "#app/components/ui/dialog";
 import { FormError, TextField } from "#app/components/ui/field";
 import { Table, Td, Th } from "#app/components/ui/table";
 
@@ -84,7 +83,6 @@ export async function action({ request, params, context }: Route.ActionArgs) {
 
 export default function Scenario({ loaderData, actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
-  const [deleting, setDeleting] = useState(false);
   const errors: Record<string, string> = actionData?.errors ?? {};
   const values: Record<string, string> = actionData?.values ?? {};
   const { counts } = loaderData;
@@ -162,31 +160,10 @@ export default function Scenario({ loaderData, actionData }: Route.ComponentProp
                 </Button>
               </Form>
             </Card>
-            <Card className="p-5">
-              <h2 className="text-sm font-semibold">Delete</h2>
-              <p className="mt-1 text-sm text-ink-muted">Deleting a scenario removes it for everyone. The fleet is not touched.</p>
-              <Button variant="ghost-danger" size="sm" className="mt-3" onClick={() => setDeleting(true)}>
-                Delete scenario
-              </Button>
-            </Card>
+            <DeleteCard noun="scenario" title={loaderData.title} intent="delete" before="It is removed for everyone; the fleet is not touched. A scenario a lesson is built on is kept until the lesson goes." after="The scenario is removed for everyone in this organisation. The audit log keeps a record of it." />
           </div>
         ) : null}
       </div>
-      <Dialog
-        open={deleting}
-        onClose={() => setDeleting(false)}
-        title={`Delete “${loaderData.title}”?`}
-        footer={
-          <Form method="post" onSubmit={() => setDeleting(false)}>
-            <input type="hidden" name="intent" value="delete" />
-            <Button type="submit" variant="danger">
-              Delete scenario
-            </Button>
-          </Form>
-        }
-      >
-        The scenario is removed for everyone in this organisation. The audit log keeps a record of it.
-      </Dialog>
     </>
   );
 }

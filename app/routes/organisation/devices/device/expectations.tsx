@@ -113,7 +113,7 @@ type Item = Route.ComponentProps["loaderData"]["items"][number];
 
 /** The trace page's address for a witness: the same query the trace form writes. */
 function tryItPath(devicePath: string, witness: ExpectationWitness): string {
-  return `${devicePath}/analysis?${new URLSearchParams({ from: witness.from, interface: witness.interface, service: witness.service, ...(witness.to ? { to: witness.to } : {}), at: witness.at })}`;
+  return `${devicePath}/analysis?${new URLSearchParams({ from: witness.from, interface: witness.interface, service: witness.service, ...(witness.to ? { to: witness.to } : {}), at: witness.at, reveal: "all" })}`;
 }
 
 const STATUS = EXPECTATION_STATUS;
