@@ -1,4 +1,5 @@
 import { execFileSync } from "node:child_process";
+import { randomBytes } from "node:crypto";
 import path from "node:path";
 import { defineConfig, devices } from "@playwright/test";
 
@@ -10,6 +11,8 @@ function freePort(): number {
 process.env.E2E_PORT ??= String(freePort());
 process.env.E2E_SMTP_PORT ??= String(freePort());
 process.env.E2E_OUTBOX_DIR ??= path.resolve(".data", `e2e-outbox-${process.env.E2E_PORT}`);
+// The local outbox opens only with its secret (docs/decisions/013); specs open it through outboxPath().
+process.env.E2E_OUTBOX_SECRET ??= randomBytes(24).toString("base64url");
 const port = Number(process.env.E2E_PORT);
 const baseURL = `http://localhost:${port}`;
 
@@ -47,6 +50,9 @@ export default defineConfig({
       env: {
         NODE_ENV: "production",
         PORT: String(port),
+        // Links in e-mails and the same-origin guard use this origin, never the request's Host.
+        APP_ORIGIN: baseURL,
+        OUTBOX_SECRET: process.env.E2E_OUTBOX_SECRET!,
         SMTP_HOST: "127.0.0.1",
         SMTP_PORT: process.env.E2E_SMTP_PORT!,
         SALLYPORT_FAKE_SMTP: "1",

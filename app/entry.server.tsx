@@ -1,5 +1,5 @@
 import { PassThrough } from "node:stream";
-import type { EntryContext, RouterContextProvider } from "react-router";
+import type { EntryContext, HandleErrorFunction, RouterContextProvider } from "react-router";
 import { createReadableStreamFromReadable } from "@react-router/node";
 import { ServerRouter } from "react-router";
 import { isbot } from "isbot";
@@ -8,11 +8,22 @@ import { renderToPipeableStream } from "react-dom/server";
 import { NonceContext } from "./utils/nonce";
 import { getDatabase } from "#server/db/database.server";
 import { requestFactsContext } from "#server/http/request-context.server";
+import { noteFailure } from "#server/http/failures.server";
 
 // Registers the models once, when the server build loads, before any route module runs.
 getDatabase();
 
 export const streamTimeout = 5_000;
+
+// Every error a loader, action or render threw: an unreachable database or a lost unique-constraint
+// race is noted so the root middleware answers 503 or 409 (server/http/failures.server.ts) and is
+// logged in one line; anything else is logged whole, as React Router's default does.
+export const handleError: HandleErrorFunction = (error, { request }) => {
+  if (request.signal.aborted) return;
+  const kind = noteFailure(error);
+  if (kind) console.error(`${request.method} ${new URL(request.url).pathname}: ${kind === "outage" ? "database unreachable" : "unique constraint lost to a concurrent request"} (${error instanceof Error ? error.message : String(error)})`);
+  else console.error(error);
+};
 
 // The framework's default entry, plus the CSP nonce for every inline script it writes.
 export default function handleRequest(request: Request, responseStatusCode: number, responseHeaders: Headers, routerContext: EntryContext, loadContext: RouterContextProvider) {

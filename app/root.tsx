@@ -5,14 +5,16 @@ import "./app.css";
 import { signedInMiddleware, signedInOf } from "#server/auth/guard.server";
 import { readFlash } from "#server/auth/flash.server";
 import { serverTimingMiddleware } from "#server/http/server-timing.server";
+import { failureStatusMiddleware } from "#server/http/failures.server";
 import { readTheme } from "#server/http/theme.server";
 import { isOutboxEnabled } from "#server/config.server";
 import { Toast } from "./components/ui/toast";
 import { useNonce } from "./utils/nonce";
 import { StandaloneError } from "./components/error-panel";
 
-// Query accounting around everything, then who is asking, resolved once per request for every route below.
-export const middleware: Route.MiddlewareFunction[] = [serverTimingMiddleware, signedInMiddleware];
+// Failures outside the request's control (database unreachable → 503, a lost unique race → 409)
+// around everything, then query accounting, then who is asking, resolved once per request.
+export const middleware: Route.MiddlewareFunction[] = [failureStatusMiddleware, serverTimingMiddleware, signedInMiddleware];
 
 export const links: Route.LinksFunction = () => [{ rel: "icon", href: "/favicon.svg", type: "image/svg+xml" }];
 

@@ -27,6 +27,7 @@ export const AUDIT_ACTIONS = [
   "expectation.deleted",
   "expectation.reordered",
   "expectation.imported",
+  "field-check.recorded",
   "proposal.created",
   "proposal.draft-edited",
   "proposal.details-changed",
@@ -61,6 +62,9 @@ export const AUDIT_ACTIONS = [
   "user.password-changed",
   "password.reset-requested",
   "password.reset-completed",
+  "api-token.created",
+  "api-token.revoked",
+  "api.called",
 ] as const;
 export type AuditAction = (typeof AUDIT_ACTIONS)[number];
 
@@ -68,7 +72,7 @@ export function isAuditAction(value: unknown): value is AuditAction {
   return typeof value === "string" && (AUDIT_ACTIONS as readonly string[]).includes(value);
 }
 
-export const AUDIT_TARGET_TYPES = ["organisation", "site", "device", "shared-object", "invitation", "membership", "user", "proposal", "training-scenario", "training-lesson"] as const;
+export const AUDIT_TARGET_TYPES = ["organisation", "site", "device", "shared-object", "invitation", "membership", "user", "proposal", "api-token", "training-scenario", "training-lesson"] as const;
 export type AuditTargetType = (typeof AUDIT_TARGET_TYPES)[number];
 
 export function isAuditTargetType(value: unknown): value is AuditTargetType {

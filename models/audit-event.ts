@@ -11,6 +11,9 @@ export class AuditEvent extends Model<InferAttributes<AuditEvent>, InferCreation
   declare targetId: string;
   declare changes: Record<string, unknown>;
   declare clientAddress: string;
+  /** The API token the change was made through, if any (docs/decisions/014). */
+  declare apiTokenId: CreationOptional<string | null>;
+  declare apiTokenName: CreationOptional<string>;
   declare createdAt: CreationOptional<Date>;
 
   static initModel(sequelize: Sequelize): void {
@@ -25,6 +28,8 @@ export class AuditEvent extends Model<InferAttributes<AuditEvent>, InferCreation
         targetId: { type: DataTypes.STRING(64), allowNull: false, defaultValue: "" },
         changes: { type: DataTypes.JSONB, allowNull: false, defaultValue: {} },
         clientAddress: { type: DataTypes.STRING(64), allowNull: false, defaultValue: "" },
+        apiTokenId: { type: DataTypes.UUID, allowNull: true },
+        apiTokenName: { type: DataTypes.STRING(100), allowNull: false, defaultValue: "" },
         createdAt: DataTypes.DATE,
       },
       { sequelize, tableName: "audit_events", underscored: true, updatedAt: false },

@@ -24,6 +24,8 @@ export class ChangeProposal extends Model<InferAttributes<ChangeProposal>, Infer
   declare workFrom: string;
   declare authorUserId: string | null;
   declare authorEmail: string;
+  /** A proposal made with a service token: that token, its author (docs/decisions/014). */
+  declare authorTokenId: CreationOptional<string | null>;
   declare state: CreationOptional<ProposalState>;
   declare guardAcknowledgement: CreationOptional<string>;
   declare submittedAt: Date | null;
@@ -51,6 +53,7 @@ export class ChangeProposal extends Model<InferAttributes<ChangeProposal>, Infer
         workFrom: { type: DataTypes.STRING(64), allowNull: false, defaultValue: "" },
         authorUserId: { type: DataTypes.UUID, allowNull: true },
         authorEmail: { type: DataTypes.STRING(254), allowNull: false },
+        authorTokenId: { type: DataTypes.UUID, allowNull: true },
         state: { type: DataTypes.STRING(20), allowNull: false, defaultValue: "draft", validate: { isIn: [PROPOSAL_STATES] } },
         guardAcknowledgement: { type: DataTypes.STRING(2000), allowNull: false, defaultValue: "" },
         submittedAt: { type: DataTypes.DATE, allowNull: true },

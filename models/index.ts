@@ -1,10 +1,12 @@
 import type { Sequelize } from "sequelize";
+import { ApiToken } from "./api-token.ts";
 import { AuditEvent } from "./audit-event.ts";
 import { ChangeProposal } from "./change-proposal.ts";
 import { Device } from "./device.ts";
 import { EmailChange } from "./email-change.ts";
 import { DeviceExpectation } from "./device-expectation.ts";
 import { DeviceRevision } from "./device-revision.ts";
+import { FieldCheckRecord } from "./field-check.ts";
 import { FindingDismissal } from "./finding-dismissal.ts";
 import { Invitation } from "./invitation.ts";
 import { Membership } from "./membership.ts";
@@ -22,14 +24,17 @@ import { User } from "./user.ts";
 import { initTrainingModels, TrainingAttempt, TrainingLesson, TrainingPrediction, TrainingScenario } from "./training.ts";
 
 export type { RevisionSummaryRecord, SharedObjectsSnapshot } from "./device-revision.ts";
+export type { ThrottleScope } from "./sign-in-attempt.ts";
+export type { ApiTokenKind, ApiTokenScope } from "./api-token.ts";
 export { ChangeProposal, ProposalComment, ProposalEdit, ProposalReview };
 export { TrainingAttempt, TrainingLesson, TrainingPrediction, TrainingScenario };
 export type { ScenarioOrigin } from "./training.ts";
-export { AuditEvent, Device, DeviceExpectation, DeviceRevision, EmailChange, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
+export { FIELD_CHECK_SOURCES, type FieldCheckSource } from "./field-check.ts";
+export { ApiToken, AuditEvent, Device, DeviceExpectation, DeviceRevision, EmailChange, FieldCheckRecord, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
 
 /** Registers every model and association on one Sequelize instance. */
 export function initModels(sequelize: Sequelize): void {
-  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, SignInAttempt, PasswordReset, EmailChange, Invitation, Device, DeviceRevision, RevisionAnalysisRecord, SharedAddressObject, FindingDismissal, DeviceExpectation, ChangeProposal, ProposalEdit, ProposalComment, ProposalReview]) {
+  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, ApiToken, SignInAttempt, PasswordReset, EmailChange, Invitation, Device, DeviceRevision, RevisionAnalysisRecord, SharedAddressObject, FindingDismissal, DeviceExpectation, ChangeProposal, ProposalEdit, ProposalComment, ProposalReview, FieldCheckRecord]) {
     model.initModel(sequelize);
   }
   initTrainingModels(sequelize);
@@ -57,6 +62,8 @@ export function initModels(sequelize: Sequelize): void {
   Device.hasMany(FindingDismissal, { foreignKey: "deviceId", as: "findingDismissals" });
   DeviceExpectation.belongsTo(Organisation, { foreignKey: "organisationId" });
   DeviceExpectation.belongsTo(Device, { foreignKey: "deviceId" });
+  FieldCheckRecord.belongsTo(Organisation, { foreignKey: "organisationId" });
+  FieldCheckRecord.belongsTo(Device, { foreignKey: "deviceId" });
   ChangeProposal.belongsTo(Organisation, { foreignKey: "organisationId" });
   ChangeProposal.belongsTo(Device, { foreignKey: "deviceId", as: "device" });
   Device.hasMany(ChangeProposal, { foreignKey: "deviceId", as: "proposals" });
@@ -66,4 +73,6 @@ export function initModels(sequelize: Sequelize): void {
   ProposalComment.belongsTo(ChangeProposal, { foreignKey: "proposalId" });
   ChangeProposal.hasMany(ProposalReview, { foreignKey: "proposalId", as: "reviews" });
   ProposalReview.belongsTo(ChangeProposal, { foreignKey: "proposalId" });
+  ApiToken.belongsTo(Organisation, { foreignKey: "organisationId", as: "organisation" });
+  ApiToken.belongsTo(User, { foreignKey: "ownerUserId", as: "owner" });
 }

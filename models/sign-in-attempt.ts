@@ -1,10 +1,14 @@
 import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type Sequelize } from "sequelize";
 
-/** Failed sign-ins, kept in the database so throttling survives restarts. */
+/** What a throttle row counts: failed sign-ins per account or client address, and password-reset requests and sign-ups per e-mail or client address. */
+export const THROTTLE_SCOPES = ["account", "client", "reset-email", "reset-client", "signup-email", "signup-client"] as const;
+export type ThrottleScope = (typeof THROTTLE_SCOPES)[number];
+
+/** Throttled attempts, kept in the database so throttling survives restarts and is shared by every server process. */
 export class SignInAttempt extends Model<InferAttributes<SignInAttempt>, InferCreationAttributes<SignInAttempt>> {
   declare id: CreationOptional<string>;
-  /** "account" (by e-mail) or "client" (by client address). */
-  declare scope: "account" | "client";
+  /** "account" (by e-mail) or "client" (by client address), or a request kind per e-mail or client. */
+  declare scope: ThrottleScope;
   declare subject: string;
   declare createdAt: CreationOptional<Date>;
 

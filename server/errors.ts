@@ -5,7 +5,7 @@
 // Pure: no framework, no database, so the workspace core and the services can both use it.
 
 /** The HTTP statuses an expected failure may answer with. */
-export type RefusalStatus = 400 | 401 | 403 | 404 | 405 | 409 | 413 | 422 | 429;
+export type RefusalStatus = 400 | 401 | 403 | 404 | 405 | 409 | 413 | 415 | 422 | 429;
 
 export type RefusalOptions = {
   /** The form field the message belongs beside; none for a message about the whole form. */
@@ -18,6 +18,11 @@ export type RefusalOptions = {
   conflict?: RevisionConflictFacts;
   /** Why a change is blocked (the gate of server/proposals/gate.server.ts): kind, words and details. */
   reasons?: readonly RefusalReason[];
+  /**
+   * The message without the reasons' words, for a page that lists the reasons once on its own
+   * (the message keeps them, for API clients that read only the message).
+   */
+  lead?: string;
   /** What the refused change would have done, when it was judged by its effect (a direct save the gate blocks). */
   effect?: RefusalEffect;
 };
@@ -40,6 +45,7 @@ export class Refusal extends Error {
   readonly issues: readonly RefusalIssue[];
   readonly conflict?: RevisionConflictFacts;
   readonly reasons: readonly RefusalReason[];
+  readonly lead?: string;
   readonly effect?: RefusalEffect;
 
   constructor(
@@ -54,6 +60,7 @@ export class Refusal extends Error {
     this.issues = options.issues ?? [];
     this.conflict = options.conflict;
     this.reasons = options.reasons ?? [];
+    this.lead = options.lead;
     this.effect = options.effect;
   }
 }

@@ -15,6 +15,14 @@ const NAVIGATION = [
   { to: "settings", label: "Settings", icon: "M12 15a3 3 0 1 0 0-6 3 3 0 0 0 0 6zM19 12a7 7 0 0 0-.1-1.2l2-1.6-2-3.4-2.4 1a7 7 0 0 0-2-1.2L14 3h-4l-.5 2.6a7 7 0 0 0-2 1.2l-2.4-1-2 3.4 2 1.6a7 7 0 0 0 0 2.4l-2 1.6 2 3.4 2.4-1a7 7 0 0 0 2 1.2L10 21h4l.5-2.6a7 7 0 0 0 2-1.2l2.4 1 2-3.4-2-1.6c.1-.4.1-.8.1-1.2z" },
 ] as const;
 
+/** What the search box shows on the page it led to: the fleet table's search or fleet reach's source. */
+function shellSearchValue(pathname: string, search: string): string {
+  const params = new URLSearchParams(search);
+  if (/\/devices\/?$/.test(pathname)) return params.get("q") ?? "";
+  if (/\/reach\/?$/.test(pathname) && !pathname.includes("/devices/")) return params.get("from") ?? "";
+  return "";
+}
+
 function Icon({ path, className }: { path: string; className?: string }) {
   return (
     <svg viewBox="0 0 24 24" className={cx("size-5 shrink-0", className)} fill="none" stroke="currentColor" strokeWidth="1.7" strokeLinecap="round" strokeLinejoin="round" aria-hidden="true">
@@ -92,6 +100,24 @@ export function AppShell({ organisation, organisations, user, theme, children }:
             </ul>
           </div>
         </details>
+        {/* Names search the fleet table; an address or CIDR block opens fleet reach (routes/organisation/search.ts). */}
+        <Form method="get" action={`/o/${organisation.slug}/search`} role="search" className="ml-auto w-36 shrink-0 sm:w-auto sm:max-w-xs sm:min-w-0 sm:flex-1">
+          <label className="relative block">
+            {/* Short on purpose: label lookups match parts of names, and the placeholder says what it takes. */}
+            <span className="sr-only">Find in the fleet</span>
+            <Icon path="M11 18a7 7 0 1 0 0-14 7 7 0 0 0 0 14zM20 20l-4-4" className="pointer-events-none absolute top-1/2 left-2.5 size-4 -translate-y-1/2 text-ink-faint" />
+            <input
+              type="search"
+              name="q"
+              key={location.pathname}
+              defaultValue={shellSearchValue(location.pathname, location.search)}
+              placeholder="Device, site or address"
+              autoComplete="off"
+              spellCheck={false}
+              className="h-9 w-full min-w-0 rounded-control border border-line-strong bg-surface pr-2 pl-8 text-sm placeholder:text-ink-faint"
+            />
+          </label>
+        </Form>
         <details key={`account ${location.pathname}`} className="relative">
           <summary className="flex cursor-pointer list-none items-center gap-2 rounded-control px-2 py-1.5 text-sm hover:bg-surface-sunken" aria-label={`Account menu for ${user.name}`}>
             <span className="grid size-7 place-items-center rounded-full bg-harbour text-xs font-semibold text-on-harbour" aria-hidden="true">

@@ -1,7 +1,8 @@
-import { data } from "react-router";
+import { data, redirect } from "react-router";
 import type { Route } from "./+types/outbox";
 import { getEnvironment, isOutboxEnabled } from "#server/config.server";
 import { listOutboxMessages } from "#server/mail/outbox.server";
+import { hasOutboxCookie, isOutboxKey, outboxCookieHeader } from "#server/mail/outbox-access.server";
 import { BrandMark } from "#app/components/brand";
 import { Card } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
@@ -9,12 +10,17 @@ import { Time } from "#app/components/ui/time";
 
 export const meta: Route.MetaFunction = () => [{ title: "Local outbox · Sallyport" }];
 
-// Only while the local fake SMTP server catches the mail (npm start / npm test); with a real
-// SMTP server configured this page does not exist.
-export async function loader() {
+// Only while the local fake SMTP server catches the mail (npm start / npm test), the server
+// listens on loopback, and only for whoever holds the secret `npm start` printed
+// (server/mail/outbox-access.server.ts, docs/decisions/013); otherwise this page does not exist.
+export async function loader({ request }: Route.LoaderArgs) {
   const directory = getEnvironment().MAIL_OUTBOX_DIR;
   if (!isOutboxEnabled() || !directory) throw data({ message: "The local outbox is only available when Sallyport runs with its fake SMTP server." }, { status: 404 });
-  return { messages: await listOutboxMessages(directory) };
+  const key = new URL(request.url).searchParams.get("key");
+  // The secret is swapped for a cookie at once, so it leaves the address bar and the history.
+  if (key !== null && isOutboxKey(key)) throw redirect("/outbox", { headers: { "Set-Cookie": outboxCookieHeader(), "Cache-Control": "no-store" } });
+  if (!hasOutboxCookie(request)) throw data({ message: "The local outbox opens only with the link `npm start` printed (it carries the outbox's secret)." }, { status: 404 });
+  return data({ messages: await listOutboxMessages(directory) }, { headers: { "Cache-Control": "no-store" } });
 }
 
 function Linkified({ text }: { text: string }) {
@@ -65,4 +71,8 @@ export default function Outbox({ loaderData }: Route.ComponentProps) {
       </div>
     </main>
   );
+}
+
+export function headers({ loaderHeaders }: Route.HeadersArgs) {
+  return loaderHeaders;
 }

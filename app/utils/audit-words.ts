@@ -1,7 +1,7 @@
 // The audit log in words: a label for each action and target type, one sentence per entry and
 // its recorded values as readable lines. Shared by the audit page and its CSV export. Pure.
 import { isAuditAction, isAuditTargetType, type AuditAction, type AuditTargetType } from "#models/audit-actions";
-import { plural } from "#server/engine/format";
+import { formatDay, plural } from "#server/engine/format";
 
 export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "organisation.created": "Organisation created",
@@ -27,6 +27,7 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "expectation.deleted": "Expectation deleted",
   "expectation.reordered": "Expectation moved",
   "expectation.imported": "Expectations imported",
+  "field-check.recorded": "Field check recorded",
   "proposal.created": "Proposal created",
   "proposal.draft-edited": "Proposal draft edited",
   "proposal.details-changed": "Proposal details changed",
@@ -61,6 +62,9 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "user.password-changed": "Password changed",
   "password.reset-requested": "Password reset requested",
   "password.reset-completed": "Password reset",
+  "api-token.created": "API token created",
+  "api-token.revoked": "API token revoked",
+  "api.called": "API call",
 };
 
 export const AUDIT_TARGET_LABELS: Record<AuditTargetType, string> = {
@@ -72,6 +76,7 @@ export const AUDIT_TARGET_LABELS: Record<AuditTargetType, string> = {
   membership: "Member",
   user: "Account",
   proposal: "Proposal",
+  "api-token": "API token",
   "training-scenario": "Teaching scenario",
   "training-lesson": "Lesson",
 };
@@ -125,6 +130,11 @@ export function fieldLabel(field: string): string {
   return field.replace(/([a-z])([A-Z])/g, "$1 $2").replace(/[-_]/g, " ").toLowerCase();
 }
 
+/** ", directly though changes go through proposals (break-glass): “why”" for a library change saved so (docs/decisions/017). */
+function breakGlassWords(changes: Changes): string {
+  return word(changes.breakGlass, "") ? `, directly though changes go through proposals (break-glass): ${quoted(changes.breakGlass)}` : "";
+}
+
 const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => string> = {
   "organisation.created": (c, target) => `Created the organisation ${quoted(c.name, target)}`,
   "organisation.renamed": (c) => `Renamed the organisation${fromTo(c.name)}`,
@@ -152,6 +162,8 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "expectation.reordered": (c, target) => `Moved expectation ${quoted(c.id)} on ${quoted(c.device, target)}${fromTo(c.position)}`,
   "expectation.imported": (c, target) =>
     `Imported ${plural(typeof c.count === "number" ? c.count : 0, { one: "expectation", other: "expectations" })} into ${quoted(c.device, target)} (${c.mode === "replace" ? "replacing the list" : "added to the list"})`,
+  "field-check.recorded": (c, target) =>
+    `Recorded a field check of ${quoted(c.device, target)}${word(c.fileName, "") ? ` from ${quoted(c.fileName)}` : ""}: ${plural(Number(c.rows) || 0, { one: "observation", other: "observations" })}, ${word(c.agreements, "0")} agree, ${word(c.differences, "0")} differ, ${word(c.invalid, "0")} not checked`,
   "proposal.created": (c, target) => `Proposed ${quoted(c.name, target)} for ${quoted(c.device)} on r${word(c.baseRevision)}`,
   "proposal.draft-edited": (c, target) => `Edited the draft of ${quoted(target)}: ${word(c.edit)}`,
   "proposal.details-changed": (c, target) => `Changed the details of ${quoted(target)}${fieldChanges(c) ? `: ${fieldChanges(c)}` : ""}`,
@@ -171,10 +183,10 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "training.lesson-created": (c, target) => `Created lesson ${quoted(c.title, target)} on ${quoted(c.scenario)} with ${plural(typeof c.probes === "number" ? c.probes : 0, { one: "probe", other: "probes" })}`,
   "training.lesson-changed": (c, target) => `Changed lesson ${quoted(isFromTo(c.title) ? c.title.to : c.title, target)}: ${word(c.edit)}`,
   "training.lesson-deleted": (c, target) => `Deleted lesson ${quoted(c.title, target)} and its ${plural(typeof c.attempts === "number" ? c.attempts : 0, { one: "attempt", other: "attempts" })}`,
-  "shared-object.created": (c, target) => `Created shared ${c.kind === "group" ? "group" : "address object"} ${quoted(target)}: ${valueText(c.items)}`,
+  "shared-object.created": (c, target) => `Created shared ${c.kind === "group" ? "group" : "address object"} ${quoted(target)}: ${valueText(c.items)}${breakGlassWords(c)}`,
   "shared-object.updated": (c, target) => {
     const changed = fieldChanges(c);
-    return `Changed shared object ${quoted(target)}${changed ? `: ${changed}` : " (no difference)"}`;
+    return `Changed shared object ${quoted(target)}${changed ? `: ${changed}` : " (no difference)"}${breakGlassWords(c)}`;
   },
   "shared-object.deleted": (c, target) => `Deleted shared object ${quoted(target)} (${valueText(c.items)})`,
   "invitation.sent": (c) => `Invited ${word(c.email)} as ${word(c.role)}`,
@@ -191,6 +203,10 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "user.password-changed": (c) => `Changed their password${typeof c.otherSessionsEnded === "number" ? ` and signed out ${plural(c.otherSessionsEnded, { one: "other session", other: "other sessions" })}` : ""}`,
   "password.reset-requested": () => "Asked for a password reset link",
   "password.reset-completed": () => "Set a new password from a reset link and signed out everywhere",
+  "api-token.created": (c, target) =>
+    `Created the ${word(c.kind, "")} API token ${quoted(c.name, target)} (${word(c.scope)} scope${word(c.role, "") ? `, acts as ${word(c.role)}` : ""}, until ${formatDay(word(c.expiresAt))})`,
+  "api-token.revoked": (c, target) => `Revoked the API token ${quoted(c.name, target)}`,
+  "api.called": (c) => `Called ${word(c.endpoint)} through the API (${word(c.status)})${word(c.query, "") ? ` with ${word(c.query)}` : ""}`,
 };
 
 /** One sentence for an entry, naming the target as it is now (or was). */

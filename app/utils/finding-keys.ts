@@ -2,6 +2,7 @@
 // helpers they build on live in the engine (server/engine/finding-keys.ts, vocabulary.ts).
 import { FINDING_CODE_PATTERN } from "#server/engine/finding-keys";
 import { isSeverity, SEVERITIES, severityRank, type Severity } from "#server/engine/vocabulary";
+import { uuidOrEmpty } from "#server/validation/ids";
 
 export const FINDING_SORTS = ["severity", "device", "code"] as const;
 export type FindingSort = (typeof FINDING_SORTS)[number];
@@ -37,8 +38,8 @@ export function parseFindingsQuery(params: URLSearchParams): FindingsQuery {
   return {
     minSeverity: isSeverity(severity) ? severity : "",
     code: FINDING_CODE_PATTERN.test(code) ? code : "",
-    site: /^[0-9a-f-]{36}$/i.test(params.get("site") ?? "") ? (params.get("site") ?? "") : "",
-    device: /^[0-9a-f-]{36}$/i.test(params.get("device") ?? "") ? (params.get("device") ?? "") : "",
+    site: uuidOrEmpty(params.get("site")),
+    device: uuidOrEmpty(params.get("device")),
     showDismissed: params.get("dismissed") === "show",
     awaitingMine: params.get("awaiting") === "mine",
     sort,

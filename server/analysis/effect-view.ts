@@ -9,9 +9,9 @@
 import { parseCidr, formatAddress, type Family } from "../engine/addresses.ts";
 import { collapse, countOf } from "../engine/address-sets.ts";
 import { outcomeSets } from "../engine/exposure.ts";
-import { effectSourcesPage, findingKey, OUTCOMES, outcomeRank } from "../engine/index.ts";
+import { effectSourcesPage, findingKey, instantOfWeekTime, OUTCOMES, outcomeRank } from "../engine/index.ts";
 import type { ChangeEffect, CompiledModel, DiffChange, EffectGroup, Finding, Outcome, Page } from "../engine/index.ts";
-import { instantOfWeekTime, type ChangeWitness } from "./exposure-change.ts";
+import type { ChangeWitness } from "./exposure-change.ts";
 
 /** One interface × service of the picture. `before`/`after` are null where the interface (or service) is not in that model. */
 export type PictureCell = {

@@ -4,10 +4,9 @@
 // guard and the findings that appear or go. Pure and serialisable: the shared-object preview
 // sends it to the browser as it is.
 
-import { DateTime } from "luxon";
 import { formatAddress, parseCidr, type Family } from "../engine/addresses.ts";
 import { collapse, countOf } from "../engine/address-sets.ts";
-import { DAYS, outcomeRank, OUTCOMES, type ElementRef, type Finding, type ModelDiff, type Outcome, type Severity } from "../engine/index.ts";
+import { instantOfWeekTime, outcomeRank, OUTCOMES, type ElementRef, type Finding, type ModelDiff, type Outcome, type Severity } from "../engine/index.ts";
 
 /** A probe in the words `trace` takes (the trace page's query). */
 export type ChangeWitness = { from: string; interface: string; service: string; to: string; at: string };
@@ -57,21 +56,6 @@ export type ExposureChange = {
 
 export type ExposureChangeLimits = { rows: number; rangesPerRow: number };
 const DEFAULT_LIMITS: ExposureChangeLimits = { rows: 60, rangesPerRow: 4 };
-
-// A week without daylight-saving changes in the usual zones (the engine's witnesses use the same one).
-const REFERENCE_MONDAY = { year: 2026, month: 1, day: 5 } as const;
-
-/**
- * The instant at local week time `start` ("mon 08:00") in the device's zone, in the engine's
- * reference week, as ISO text in UTC (what the finding witnesses give too).
- */
-export function instantOfWeekTime(start: string, timezone: string): string {
-  const match = /^([a-z]{3}) (\d{2}):(\d{2})$/.exec(start);
-  const day = match ? DAYS.indexOf(match[1] as (typeof DAYS)[number]) : -1;
-  if (!match || day < 0) throw new Error(`not a week time: "${start}"`);
-  const wanted = DateTime.fromObject({ ...REFERENCE_MONDAY, day: REFERENCE_MONDAY.day + day, hour: Number(match[2]), minute: Number(match[3]) }, { zone: timezone });
-  return new Date(wanted.toMillis()).toISOString();
-}
 
 type Pairs = Record<Family, Array<[bigint, bigint]>>;
 

@@ -3,7 +3,7 @@
 // its week × hour view.
 
 import { exposure, isOutcome, outcomeRank, OUTCOMES, ProbeError } from "../engine/index.ts";
-import type { CompiledModel, ExposureEntry, Outcome } from "../engine/index.ts";
+import type { CompiledModel, ExposureAt, ExposureEntry, Outcome } from "../engine/index.ts";
 import { namesByKind } from "./catalogue.ts";
 import { parseViewBlock, rootBlock, segmentsOf, topRank, zoomView, type Segment, type ZoomView } from "./address-grids.ts";
 import { pageOf } from "./paging.ts";
@@ -95,11 +95,12 @@ function instantOrError(device: CompiledModel, at: string): { ms: number } | { e
   }
 }
 
-/** The raw entries at an instant, for the CSV. */
-export function exposureEntriesAt(device: CompiledModel, at: string): { ok: true; entries: readonly ExposureEntry[] } | { ok: false; error: string } {
+/** The raw entries at an instant (and the map they come from), for the CSV and the API. */
+export function exposureEntriesAt(device: CompiledModel, at: string): { ok: true; entries: readonly ExposureEntry[]; map: ExposureAt } | { ok: false; error: string } {
   const instant = instantOrError(device, at);
   if ("error" in instant) return { ok: false, error: instant.error };
-  return { ok: true, entries: exposure(device, instant.ms).entries };
+  const map = exposure(device, instant.ms);
+  return { ok: true, entries: map.entries, map };
 }
 
 export function answerExposure(device: CompiledModel, query: ExposureQuery): ExposureAnswer {

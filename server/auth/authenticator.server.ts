@@ -6,7 +6,7 @@ import { formatDuration } from "../engine/format.ts";
 import { Refusal } from "../errors.ts";
 import { getDecoyHash, hashPassword, needsRehash, verifyPassword } from "./password.server.ts";
 import { PASSWORD_MAX_LENGTH } from "./password-rules.ts";
-import { checkSignInThrottle, clearAccountFailures, recordSignInFailure } from "./throttle.server.ts";
+import { beginPasswordAttempt } from "./throttle.server.ts";
 
 /** A sign-in that did not succeed: the message to show, 400/401, or 429 with Retry-After. */
 function signInRefused(message: string, status: 400 | 401 | 429, retryAfterSeconds?: number): Refusal {
@@ -24,7 +24,9 @@ async function verifySignIn(form: FormData, context: SignInContext): Promise<Use
   const parsed = SignInSchema.safeParse({ email: form.get("email") ?? "", password: form.get("password") ?? "" });
   if (!parsed.success) throw signInRefused(parsed.error.issues[0].message, 400);
   const { email, password } = parsed.data;
-  const verdict = await checkSignInThrottle(email, context.clientAddress);
+  // Counted before the password is evaluated, so parallel guesses cannot outrun the count.
+  const attempt = await beginPasswordAttempt(email, context.clientAddress);
+  const { verdict } = attempt;
   if (verdict.throttled) {
     const minutes = Math.ceil(verdict.retryAfterSeconds / 60);
     throw signInRefused(
@@ -35,11 +37,8 @@ async function verifySignIn(form: FormData, context: SignInContext): Promise<Use
   }
   const user = await User.findOne({ where: { email } });
   const valid = await verifyPassword(user?.passwordHash ?? (await getDecoyHash()), password);
-  if (!user || !valid) {
-    await recordSignInFailure(email, context.clientAddress);
-    throw signInRefused("The e-mail address or password is not right.", 401);
-  }
-  await clearAccountFailures(email);
+  await attempt.settle(Boolean(user && valid));
+  if (!user || !valid) throw signInRefused("The e-mail address or password is not right.", 401);
   if (needsRehash(user.passwordHash)) await user.update({ passwordHash: await hashPassword(password) });
   return user;
 }

@@ -21,6 +21,13 @@ export const ROLE_DESCRIPTIONS: Record<Role, string> = {
 };
 
 /**
+ * The least role that reads change proposals — their page, effect and change record, and the
+ * trace of a probe on their draft: every member (docs/decisions/010; proposals are how a team
+ * learns its changes). The guards of those routes read this one value.
+ */
+export const PROPOSAL_READ_ROLE: Role = "trainee";
+
+/**
  * The least role of each page that not every member may open. The page's guard and every
  * link to it read this one table, so a member is never offered a page that refuses them.
  */
@@ -29,4 +36,6 @@ export const PAGE_ROLES = {
   newDevice: "engineer",
   importModel: "engineer",
   proposeChange: "engineer",
+  /** The organisation's API tokens: service tokens made and revoked, members' tokens revoked (models/api-token-words.ts). */
+  apiTokens: "admin",
 } as const satisfies Record<string, Role>;

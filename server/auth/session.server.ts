@@ -1,12 +1,13 @@
 import { createCookie } from "react-router";
 import { Op } from "sequelize";
 import { Session, User } from "#models/index.ts";
-import { getCookieSecrets, isCookieSecure } from "../config.server.ts";
+import { getCookieSecrets, isCookieSecure, sessionLimits } from "../config.server.ts";
 import { createToken, hashToken } from "./tokens.server.ts";
 
-const SESSION_LIFETIME_MS = 14 * 24 * 60 * 60 * 1000;
+// Reauthentication after NIST SP 800-63B §4.2.3 (AAL2): at most 12 hours after sign-in, and after
+// 30 minutes without activity — both configurable (SESSION_ABSOLUTE_HOURS, SESSION_IDLE_MINUTES).
+// The last request is recorded to the minute, so the idle limit holds to within a minute.
 const LAST_SEEN_RESOLUTION_MS = 60 * 1000;
-
 
 let sessionCookie: ReturnType<typeof createCookie> | undefined;
 function getSessionCookie() {
@@ -17,7 +18,7 @@ function getSessionCookie() {
     secure: isCookieSecure(),
     path: "/",
     secrets: getCookieSecrets(),
-    maxAge: SESSION_LIFETIME_MS / 1000,
+    maxAge: Math.floor(sessionLimits().absoluteMs / 1000),
   });
   return sessionCookie;
 }
@@ -38,7 +39,14 @@ export async function getSignedInSession(request: Request): Promise<SignedInSess
     include: [{ model: User, as: "user", required: true }],
   });
   if (!session?.user) return null;
-  if (Date.now() - session.lastSeenAt.getTime() > LAST_SEEN_RESOLUTION_MS) {
+  const { idleMs, absoluteMs } = sessionLimits();
+  const now = Date.now();
+  if (now - session.lastSeenAt.getTime() > idleMs || now - session.createdAt.getTime() > absoluteMs) {
+    // Ended for good: the next request is signed out, whichever limit passed.
+    await Session.destroy({ where: { id: session.id } });
+    return null;
+  }
+  if (now - session.lastSeenAt.getTime() > LAST_SEEN_RESOLUTION_MS) {
     await session.update({ lastSeenAt: new Date() });
   }
   return { session, user: session.user };
@@ -56,7 +64,7 @@ export async function startSession(request: Request, userId: string, clientAddre
   await Session.create({
     tokenHash: hashToken(token),
     userId,
-    expiresAt: new Date(now.getTime() + SESSION_LIFETIME_MS),
+    expiresAt: new Date(now.getTime() + sessionLimits().absoluteMs),
     lastSeenAt: now,
     userAgent: (request.headers.get("User-Agent") ?? "").slice(0, 300),
     clientAddress: clientAddress.slice(0, 64),
@@ -76,8 +84,24 @@ export async function endAllSessions(userId: string): Promise<number> {
   return Session.destroy({ where: { userId } });
 }
 
-/** Only same-site relative paths, so a crafted link cannot send a user elsewhere after sign-in. */
+const REDIRECT_BASE = "http://sallyport.invalid";
+
+/**
+ * Only a path of this site, so a crafted link cannot send a user elsewhere after sign-in (OWASP
+ * ASVS 5.1.5). Browsers drop tabs and line breaks from URLs and read "\\" as "/" (WHATWG URL
+ * Standard, basic URL parser), so "/\t/evil.example" would be "//evil.example": any control
+ * character, whitespace or backslash refuses the value, and what is left must resolve on this site.
+ */
 export function safeRedirectPath(value: unknown, fallback = "/"): string {
-  if (typeof value !== "string" || !value.startsWith("/") || value.startsWith("//") || value.startsWith("/\\")) return fallback;
-  return value;
+  if (typeof value !== "string" || value.length > 2000 || !value.startsWith("/")) return fallback;
+  // eslint-disable-next-line no-control-regex -- finding control characters is the point
+  if (/[\u0000-\u0020\u007f-\u009f\\]/.test(value)) return fallback;
+  let url: URL;
+  try {
+    url = new URL(value, REDIRECT_BASE);
+  } catch {
+    return fallback;
+  }
+  if (url.origin !== REDIRECT_BASE || value.startsWith("//")) return fallback;
+  return `${url.pathname}${url.search}${url.hash}`;
 }

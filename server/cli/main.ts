@@ -18,14 +18,19 @@ import {
   findings,
   parseExpectationsFile,
   parseModel,
+  checkObservations,
+  isSourceBlock,
   reach,
+  reachGroups,
+  traceGroups,
   VERSION_1_UPGRADE_SUMMARY,
   severityAtLeast,
   trace,
 } from "../engine/index.ts";
-import type { CompiledModel, Expectation, ExpectationChange, ExposureEntry, Finding, ModelDiff, ParseResult, Severity, TraceResult, ValidationIssue } from "../engine/index.ts";
+import type { CompiledModel, Expectation, ExpectationChange, ExposureEntry, FieldCheckResult, Finding, ModelDiff, ParseResult, ReachGroups, Severity, SourceGroup, TraceGroups, TraceResult, ValidationIssue } from "../engine/index.ts";
+import { readObservationsCsv } from "../formats/observations.ts";
 import { CsvSyntaxError, parseCsv } from "../formats/csv.ts";
-import { plural } from "../engine/format.ts";
+import { formatPercent, plural } from "../engine/format.ts";
 import { jsonPieces } from "../formats/json-stream.ts";
 import { table } from "./table.ts";
 
@@ -39,12 +44,17 @@ Usage:
   sallyport exposure MODEL [--at ISO] [--json]
   sallyport findings MODEL [--fail-on SEVERITY] [--json]
   sallyport diff BEFORE AFTER [--fail-on-lockout] [--expectations FILE] [--json]
+  sallyport check MODEL --observations FILE.csv [--json]
 
 SVC is a catalogue service name, tcp/PORT, udp/PORT or icmp/echo. ISO times without an
 offset are read on the device's clock. Severities: ${SEVERITIES.join(", ")}.
---expectations FILE checks an expectations file (docs/engine.md) on both revisions.
-Exit codes: 0 ok, 1 a --fail-on… condition met or an expectation that held no longer
-does, 2 usage or validation error.
+IP may be a CIDR block for trace and reach: the answer comes per group of sources
+with the same answer. --expectations FILE checks an expectations file (docs/engine.md)
+on both revisions. check predicts each observation of a field-check file (columns
+when,from,to,service,observed[,interface][,note]; docs/field-checks.md) with MODEL.
+Exit codes: 0 ok, 1 a --fail-on… condition met, an expectation that held no longer
+does, or an observation that differs from the model, 2 usage or validation error
+(check: also any row that could not be checked).
 The simulation models the configuration, not the device: confirm on the device in a
 maintenance window, and keep a tested break-glass path before restricting access.`;
 
@@ -63,6 +73,7 @@ const OPTIONS = {
   "fail-on": { type: "string" },
   "fail-on-lockout": { type: "boolean" },
   expectations: { type: "string" },
+  observations: { type: "string" },
 } as const;
 
 type Options = { [K in keyof typeof OPTIONS]?: (typeof OPTIONS)[K]["type"] extends "boolean" ? boolean : string };
@@ -102,6 +113,8 @@ export async function run(argv: readonly string[], io: Io): Promise<number> {
         return await findingsCommand(files, values, io);
       case "diff":
         return await diffCommand(files, values, io);
+      case "check":
+        return await checkCommand(files, values, io);
       default:
         throw new UsageError(`unknown command "${command}"`);
     }
@@ -202,17 +215,44 @@ async function traceCommand(files: readonly string[], values: Options, io: Io): 
   for (const required of ["from", "on", "service"] as const) {
     if (values[required] === undefined) throw new UsageError(`trace needs --${required} (or --probes FILE.csv)`);
   }
-  const result = trace(device, {
-    from: values.from ?? "",
-    interface: values.on ?? "",
-    service: values.service ?? "",
-    to: values.to,
-    at: values.at,
-    account: values.account,
-  });
+  const probe = { from: values.from ?? "", interface: values.on ?? "", service: values.service ?? "", to: values.to, at: values.at, account: values.account };
+  if (isSourceBlock(probe.from)) {
+    const grouped = traceGroups(device, probe);
+    if (values.json === true) await writeJson(io, grouped);
+    else await write(io, renderTraceGroups(grouped));
+    return 0;
+  }
+  const result = trace(device, probe);
   if (values.json === true) await writeJson(io, result);
   else await write(io, renderTrace(result));
   return 0;
+}
+
+/** A group's sources in a table cell: the first CIDR and how many more. */
+function sourcesCell(group: SourceGroup): string {
+  return group.sources.length === 1 ? group.sources[0] : `${group.sources[0]} +${group.sources.length - 1} more`;
+}
+
+function groupCells(group: SourceGroup): string[] {
+  return [sourcesCell(group), group.count, group.outcome, group.layer, group.ruleId ?? "-", group.eligibleAccounts.join(",") || "-"];
+}
+
+function renderTraceGroups(t: TraceGroups): string {
+  const head =
+    `probe    ${t.from} (${plural(BigInt(t.count), { one: "address", other: "addresses" })}) → ${t.interface}${t.to !== null ? ` (${t.to})` : ""} ${t.service}\n` +
+    `at       ${t.at} (device clock ${t.localTime})\n` +
+    `groups   ${t.groups.length}, most exposed first (each group's sources get the same answer; --json lists every CIDR and each group's trace)\n\n`;
+  return head + table(["sources", "count", "outcome", "deciding layer", "rule", "eligible"], t.groups.map(groupCells));
+}
+
+function renderReachGroups(r: ReachGroups): string {
+  return (
+    `reach of ${r.from} (${plural(BigInt(r.count), { one: "address", other: "addresses" })}) at ${r.at}\n\n` +
+    table(
+      ["interface", "to", "service", "sources", "count", "outcome", "deciding layer", "rule", "eligible"],
+      r.results.flatMap((cell) => cell.groups.map((group) => [cell.interface, cell.to ?? "-", cell.service, ...groupCells(group)])),
+    )
+  );
 }
 
 const PROBE_HEADER = ["from", "interface", "service", "to", "at", "account"];
@@ -267,6 +307,12 @@ function renderTrace(t: TraceResult): string {
 async function reachCommand(files: readonly string[], values: Options, io: Io): Promise<number> {
   const device = loadModel(oneFile(files), io);
   if (values.from === undefined) throw new UsageError("reach needs --from IP");
+  if (isSourceBlock(values.from)) {
+    const grouped = reachGroups(device, values.from, values.at);
+    if (values.json === true) await writeJson(io, grouped);
+    else await write(io, renderReachGroups(grouped));
+    return 0;
+  }
   const result = reach(device, values.from, values.at);
   if (values.json === true) {
     await writeJson(io, result);
@@ -399,6 +445,48 @@ async function diffCommand(files: readonly string[], values: Options, io: Io): P
   const lockedOut = values["fail-on-lockout"] === true && d.lockout.length > 0;
   const broken = checked !== null && checked.some((e) => e.broken);
   return lockedOut || broken ? 1 : 0;
+}
+
+async function checkCommand(files: readonly string[], values: Options, io: Io): Promise<number> {
+  const path = values.observations;
+  if (path === undefined) throw new UsageError("check needs --observations FILE.csv");
+  const device = loadModel(oneFile(files), io);
+  let text: string;
+  try {
+    text = readFileSync(path, "utf8");
+  } catch (e) {
+    throw new UsageError(`cannot read ${path}: ${(e as NodeJS.ErrnoException).code ?? (e as Error).message}`);
+  }
+  const read = readObservationsCsv(text);
+  if (!read.ok) throw new ModelFileError(`${path}: ${read.message}`);
+  // The model file is taken to be the device's configuration at every time of the file.
+  const result = checkObservations(read.observations, [{ number: null, liveFromMs: -Infinity, compiled: () => device }]);
+  for (const row of result.rows) if (row.status === "invalid") io.err(`${path}: line ${row.line}: ${row.problem}\n`);
+  if (values.json === true) await writeJson(io, result);
+  else await write(io, renderCheck(result));
+  const { differences, invalid } = result.counts;
+  return differences > 0 ? 1 : invalid > 0 ? 2 : 0;
+}
+
+function renderCheck(result: FieldCheckResult): string {
+  const { agreements, differences, invalid, agreementRate } = result.counts;
+  const rate = agreementRate === null ? "nothing could be checked" : `agreement ${formatPercent(agreementRate)}`;
+  const rows = table(
+    ["line", "when", "from", "to", "service", "observed", "predicted", "", "why"],
+    result.rows.map((row) => [
+      String(row.line),
+      row.when,
+      row.from,
+      row.interface === null ? row.to : `${row.to} (${row.interface})`,
+      row.service,
+      row.observed,
+      row.predicted ?? "-",
+      row.status === "agrees" ? "agrees" : row.status === "differs" ? "DIFFERS" : "not checked",
+      row.status === "differs" ? (row.difference?.reason ?? "") : row.status === "invalid" ? (row.problem ?? "") : "",
+    ]),
+  );
+  const why = result.rows.flatMap((row) => (row.difference === null ? [] : [`line ${row.line}: ${row.difference.words}\n`])).join("");
+  return `${rows}${why === "" ? "" : `\n${why}`}\n${plural(agreements, { one: "observation agrees", other: "observations agree" })}, ${plural(differences, { one: "differs", other: "differ" })}, ${plural(invalid, { one: "row", other: "rows" })} not checked; ${rate}\n`;
 }
 
 /**

@@ -7,6 +7,7 @@ import { Device, DeviceRevision, RevisionAnalysisRecord, Site } from "#models/in
 import type { Finding, Outcome } from "../engine/index.ts";
 import { currentRevision, summariseDocument, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
 import { RevisionAnalysis } from "./revision-analysis.ts";
+import { isUuid } from "../validation/ids.ts";
 
 /** A revision's stored facts without its document (which the analysis holds, typed). */
 export type RevisionRecord = Pick<DeviceRevision, "id" | "number" | "message" | "authorEmail" | "createdAt" | "summary" | "sharedObjects" | "analysisRecord">;
@@ -31,7 +32,6 @@ const RECORD_ATTRIBUTES = ["id", "number", "message", "authorEmail", "createdAt"
 /** The revision's stored analysis, when there is one yet (LEFT JOIN). */
 const ANALYSIS_RECORD = { model: RevisionAnalysisRecord, as: "analysisRecord", required: false, attributes: ["revisionId", "findingsBySeverity", "worstOutsideOutcome"] };
 
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 export type DeviceRevisionsOptions = {
   /** Most revisions whose documents and compiled models are kept. */
@@ -42,8 +42,13 @@ export type DeviceRevisionsOptions = {
   maxFindings: number;
 };
 
-/** The bounds in production; docs/decisions/004 says why. */
-export const DEFAULT_BOUNDS: DeviceRevisionsOptions = { maxRevisions: 32, maxElements: 200_000, maxFindings: 4_000 };
+/**
+ * The bounds in production; docs/decisions/004 says why. Fleet reach asks every device of an
+ * organisation at once, so the count allows a fleet of several hundred small devices to stay
+ * compiled (about 60 KiB each warm, measured on the demo devices: docs/decisions/015); the
+ * size bound still limits large models.
+ */
+export const DEFAULT_BOUNDS: DeviceRevisionsOptions = { maxRevisions: 1024, maxElements: 200_000, maxFindings: 4_000 };
 
 /** A rough measure of a compiled model's memory: what the compiler walks. */
 export function elementCount(document: ModelDocument): number {
@@ -68,7 +73,7 @@ export class DeviceRevisions {
    * when the revision's analysis is cached, two otherwise.
    */
   async find(organisationId: string, deviceId: string, options: { revisionNumber?: number; transaction?: Transaction; lock?: boolean } = {}): Promise<DeviceAtRevision | null> {
-    if (!UUID.test(deviceId)) return null;
+    if (!isUuid(deviceId)) return null;
     const { transaction, lock } = options;
     if (lock && transaction) {
       // Lock the device row on its own first: a joined FOR UPDATE that waits for another save
@@ -116,6 +121,36 @@ export class DeviceRevisions {
     const withRecords = (await this.currentRecords(organisationId, options)).map(({ device, revision }) => ({ device, record: revision }));
     const analyses = await this.#analysesOf(withRecords.map(({ record }) => record), options.transaction);
     return withRecords.map(({ device, record }, index) => atRevision(device, record, analyses[index]));
+  }
+
+  /**
+   * Every revision of the organisation's device, oldest first, each with when it was saved and
+   * its analysis (compiled only when first asked). Cached analyses are used as they are; the
+   * others are read in one query and handed to the caller without entering the cache, so a long
+   * history read once (a field check) does not push the pages' revisions out. [] for a device
+   * that is not the organisation's.
+   */
+  async timeline(organisationId: string, deviceId: string): Promise<Array<{ number: number; savedAt: Date; analysis: RevisionAnalysis }>> {
+    if (!isUuid(deviceId)) return [];
+    const records = await DeviceRevision.findAll({
+      where: { deviceId },
+      attributes: ["id", "number", "createdAt"],
+      include: [{ model: Device, required: true, attributes: [], where: { organisationId } }],
+      order: [["number", "ASC"]],
+    });
+    // Taken from the cache first, so one evicted meanwhile is still in hand.
+    const analyses = new Map<string, RevisionAnalysis>();
+    for (const record of records) {
+      const cached = this.#analyses.peek(record.id);
+      if (cached) analyses.set(record.id, cached);
+    }
+    for (const [id, analysis] of await this.#read(records.filter((record) => !analyses.has(record.id)).map((record) => record.id))) analyses.set(id, analysis);
+    return records.map((record) => {
+      const analysis = analyses.get(record.id);
+      // Only a revision deleted between the two queries (its device deleted) can be missing.
+      if (!analysis) throw new Error(`revision ${record.id} disappeared while it was being read`);
+      return { number: record.number, savedAt: record.createdAt, analysis };
+    });
   }
 
   /** The numbered list of a device's revisions, newest first, without documents. */
@@ -181,17 +216,31 @@ export class DeviceRevisions {
     return this.#analyses.size;
   }
 
+  /** The analyses of revisions read from the database in one query (none when no id is given), not cached. */
+  async #read(ids: readonly string[], transaction?: Transaction, basis?: RevisionAnalysis): Promise<Map<string, RevisionAnalysis>> {
+    const read = new Map<string, RevisionAnalysis>();
+    if (ids.length === 0) return read;
+    const rows = await DeviceRevision.findAll({ where: { id: [...ids] }, attributes: ["id", "document", "sharedObjects"], transaction });
+    for (const row of rows) {
+      const { document, shared } = currentRevision(row.document, row.sharedObjects);
+      read.set(row.id, new RevisionAnalysis(document, shared, { findings: this.#findings.get(row.id), basis }));
+    }
+    return read;
+  }
+
   async #analysesOf(records: readonly RevisionRecord[], transaction?: Transaction, basis?: RevisionAnalysis): Promise<RevisionAnalysis[]> {
-    const missing = records.filter((record) => !this.#analyses.has(record.id)).map((record) => record.id);
-    if (missing.length > 0) {
-      const rows = await DeviceRevision.findAll({ where: { id: missing }, attributes: ["id", "document", "sharedObjects"], transaction });
-      for (const row of rows) {
-        const { document, shared } = currentRevision(row.document, row.sharedObjects);
-        this.#analyses.set(row.id, new RevisionAnalysis(document, shared, { findings: this.#findings.get(row.id), basis }));
-      }
+    // Kept in hand as well as cached: more records than the cache holds (a large fleet) would evict each other.
+    const read = new Map<string, RevisionAnalysis>();
+    for (const record of records) {
+      const cached = this.#analyses.get(record.id);
+      if (cached) read.set(record.id, cached);
+    }
+    for (const [id, analysis] of await this.#read(records.filter((record) => !read.has(record.id)).map((record) => record.id), transaction, basis)) {
+      read.set(id, analysis);
+      this.#analyses.set(id, analysis);
     }
     return records.map((record) => {
-      const analysis = this.#analyses.get(record.id);
+      const analysis = read.get(record.id);
       // Only a revision deleted between the two queries (its device deleted) can be missing.
       if (!analysis) throw new Error(`revision ${record.id} disappeared while it was being read`);
       return analysis;

@@ -5,6 +5,7 @@ import type { Family } from "./addresses.ts";
 import { intersect } from "./address-sets.ts";
 import type { AddressSet, Ranges } from "./address-sets.ts";
 import type { CompiledModel, EntryPartition, RulePartition } from "./compile.ts";
+import { censusOf, cellsOf, ownerSlots } from "./cells.ts";
 import type { Runs } from "./domain.ts";
 import { LOGIN_MFA, LOGIN_PASSWORD } from "./vocabulary.ts";
 
@@ -57,52 +58,20 @@ export function partitionsOf(engine: CompiledModel, options: { loginOnly?: boole
   return out;
 }
 
-const firstOfListCache = new WeakMap<CompiledModel, { iface: number; to: number; cls: number }[]>();
-
-/** The first (arrival, service class) of each distinct candidate list, in the order of probeClasses(). */
-export function firstOfEachList(engine: CompiledModel): readonly { iface: number; to: number; cls: number }[] {
-  const cached = firstOfListCache.get(engine);
-  if (cached !== undefined) return cached;
-  const seen = new Set<number>();
-  const out: { iface: number; to: number; cls: number }[] = [];
-  for (const { iface, to } of arrivals(engine)) {
-    for (const c of engine.classes) {
-      const list = engine.candidateRules(iface, to, c.index);
-      const key = list.id * 2 + (engine.addresses[to].family === 4 ? 0 : 1);
-      if (seen.has(key)) continue;
-      seen.add(key);
-      out.push({ iface, to, cls: c.index });
-    }
-  }
-  firstOfListCache.set(engine, out);
-  return out;
-}
-
-const distinctCache = new WeakMap<CompiledModel, RulePartition[]>();
-
-/** The distinct first-match partitions over every probe class (computed once per compiled model). */
+/** The distinct first-match partitions over every probe class (the census's, kept by difference after a rule edit). */
 export function distinctRulePartitions(engine: CompiledModel): RulePartition[] {
-  const cached = distinctCache.get(engine);
-  if (cached !== undefined) return cached;
-  // Walks the arrivals in the order of probeClasses(), each candidate list once (equal lists have equal partitions).
-  const byId = new Map<number, RulePartition>();
-  for (const { iface, to, cls } of firstOfEachList(engine)) {
-    for (const rules of engine.weekRulePartitions(iface, to, cls)) byId.set(rules.id, rules);
-  }
-  const list = [...byId.values()];
-  distinctCache.set(engine, list);
-  return list;
+  return [...censusOf(engine).refs.keys()];
 }
 
 /** Positions of rules that are the first match for at least one probe. */
 export function firstMatchRules(engine: CompiledModel): Set<number> {
-  const deciding = new Uint8Array(engine.slotCount);
-  for (const p of distinctRulePartitions(engine)) {
-    const values = p.owner.values;
-    for (let k = 0; k < values.length; k++) if (values[k] >= 0) deciding[values[k]] = 1;
-  }
+  const owning = censusOf(engine).owning;
   const used = new Set<number>();
-  for (let slot = 0; slot < deciding.length; slot++) if (deciding[slot] === 1) used.add(engine.positionOfSlot(slot));
+  for (let slot = 0; slot < owning.length; slot++) {
+    if (owning[slot] === 0) continue;
+    const position = engine.positionOfSlot(slot);
+    if (position >= 0) used.add(position);
+  }
   return used;
 }
 
@@ -151,65 +120,153 @@ const redundantCache = new WeakMap<CompiledModel, Set<number>>();
  * Rules that are the first match somewhere and whose removal alone changes no outcome:
  * wherever such a rule is the first match, the next match (or the default) acts alike. One
  * walk over the distinct partitions; a rule is dropped at the first element where its next
- * match differs, so rules that matter (nearly all) cost a single check.
+ * match differs, so rules that matter (nearly all) cost a single check. After a rule edit,
+ * only the rules in the changed cells' partitions are judged again, by counting the live
+ * partitions where each matters (mattersCount).
  */
 export function redundantRules(engine: CompiledModel): Set<number> {
   const cached = redundantCache.get(engine);
   if (cached !== undefined) return cached;
-  // Per slot: 0 never the first match, 1 the first match somewhere, 2 and removing it matters.
-  const state = new Uint8Array(engine.slotCount);
-  // Per partition, where each active rule sits in its list (reset after each partition).
-  const place = new Int32Array(engine.slotCount).fill(-1);
-  const remaining = new Int32Array(Math.max(engine.domains[4].words, engine.domains[6].words) + 1);
-  for (const p of distinctRulePartitions(engine)) {
-    const { starts, values } = p.owner;
-    const size = engine.domains[p.family].size;
-    const active = p.active;
-    let placed = false;
-    for (let k = 0; k < values.length; k++) {
-      const slot = values[k];
-      if (slot < 0 || state[slot] === 2) continue;
-      state[slot] = 1;
-      if (!placed) {
-        for (let i = 0; i < active.length; i++) place[active[i]] = i;
-        placed = true;
-      }
-      const end = k + 1 < starts.length ? starts[k + 1] : size;
-      if (!actsAlikeAfter(engine, p.family, active, place[slot] + 1, starts[k], end, engine.rules[engine.positionOfSlot(slot)].allow, remaining)) state[slot] = 2;
-    }
-    if (placed) for (let i = 0; i < active.length; i++) place[active[i]] = -1;
-  }
+  const census = censusOf(engine);
+  const basis = engine.incrementalBasis;
   const redundant = new Set<number>();
-  for (let slot = 0; slot < state.length; slot++) if (state[slot] === 1) redundant.add(engine.positionOfSlot(slot));
+  if (census.edit !== null && basis !== undefined) {
+    const before = redundantRules(basis);
+    const affected = census.edit.affected;
+    for (const position of before) {
+      // The same rule (slot: id and sources) at its position in this model.
+      const slot = basis.slotOf(position);
+      if (affected[slot] === 1) continue;
+      const now = engine.positionOfSlot(slot);
+      if (now >= 0) redundant.add(now);
+    }
+    for (let slot = 0; slot < affected.length; slot++) {
+      if (affected[slot] === 0 || census.owning[slot] === 0) continue;
+      const position = engine.positionOfSlot(slot);
+      if (position >= 0 && mattersCount(engine, slot) === 0) redundant.add(position);
+    }
+  } else {
+    // Per slot: 0 never the first match, 1 the first match somewhere, 2 and removing it matters.
+    const state = new Uint8Array(engine.slotCount);
+    // Per partition, where each active rule sits in its list (reset after each partition).
+    const place = new Int32Array(engine.slotCount).fill(-1);
+    for (const p of distinctRulePartitions(engine)) {
+      const { values } = p.owner;
+      const active = p.active;
+      let placed = false;
+      for (let k = 0; k < values.length; k++) {
+        const slot = values[k];
+        if (slot < 0 || state[slot] === 2) continue;
+        state[slot] = 1;
+        if (!placed) {
+          for (let i = 0; i < active.length; i++) place[active[i]] = i;
+          placed = true;
+        }
+        if (runMatters(engine, p, k, place[slot])) state[slot] = 2;
+      }
+      if (placed) for (let i = 0; i < active.length; i++) place[active[i]] = -1;
+    }
+    for (let slot = 0; slot < state.length; slot++) if (state[slot] === 1 && engine.positionOfSlot(slot) >= 0) redundant.add(engine.positionOfSlot(slot));
+  }
   redundantCache.set(engine, redundant);
   return redundant;
 }
 
+/** Per model, per slot asked for: the number of live partitions in which the rule owns elements and removing it changes an outcome. */
+const mattersCounts = new WeakMap<CompiledModel, Map<number, number>>();
+
+/** In how many live partitions removing the rule (by slot) matters: the basis's count moved by the changed cells' partitions, else counted afresh. */
+function mattersCount(engine: CompiledModel, slot: number): number {
+  let counts = mattersCounts.get(engine);
+  if (counts === undefined) mattersCounts.set(engine, (counts = new Map()));
+  const known = counts.get(slot);
+  if (known !== undefined) return known;
+  const census = censusOf(engine);
+  const basis = engine.incrementalBasis;
+  let count = 0;
+  if (census.edit !== null && basis !== undefined && slot < basis.slotCount) {
+    count = mattersCount(basis, slot);
+    if (census.edit.affected[slot] === 1) {
+      const before = censusOf(basis).refs;
+      for (const p of census.edit.marked) {
+        if (!ownerSlots(p).includes(slot)) continue;
+        if (before.has(p) && mattersInPartition(basis, p, slot)) count--;
+        if (census.refs.has(p) && mattersInPartition(engine, p, slot)) count++;
+      }
+    }
+  } else {
+    for (const p of census.refs.keys()) if (ownerSlots(p).includes(slot) && mattersInPartition(engine, p, slot)) count++;
+  }
+  counts.set(slot, count);
+  return count;
+}
+
+/** Whether removing the rule (by slot) changes an outcome somewhere in the partition, with the engine's actions. */
+function mattersInPartition(engine: CompiledModel, p: RulePartition, slot: number): boolean {
+  const values = p.owner.values;
+  const at = p.active.indexOf(slot);
+  for (let k = 0; k < values.length; k++) if (values[k] === slot && runMatters(engine, p, k, at)) return true;
+  return false;
+}
+
+/** Scratch for actsAlikeAfter, large enough for either family's words. */
+let remainingScratch = new Int32Array(0);
+
+/** Whether the k-th run's owner (at index `at` of the partition's active list) decides it differently from what would decide without it (the next match or the default). */
+function runMatters(engine: CompiledModel, p: RulePartition, k: number, at: number): boolean {
+  const { starts, values } = p.owner;
+  const slot = values[k];
+  const words = engine.domains[p.family].words + 1;
+  if (remainingScratch.length < words) remainingScratch = new Int32Array(words);
+  const end = k + 1 < starts.length ? starts[k + 1] : engine.domains[p.family].size;
+  return !actsAlikeAfter(engine, p.family, p.active, at + 1, starts[k], end, engine.rules[engine.positionOfSlot(slot)].allow, remainingScratch);
+}
+
+const loginReachableCache = new WeakMap<CompiledModel, AddressSet>();
+
 /** Sources (both families) that reach a login with an eligible account somewhere, at some time. */
 export function loginReachable(engine: CompiledModel): AddressSet {
+  const cached = loginReachableCache.get(engine);
+  if (cached !== undefined) return cached;
+  const cells = cellsOf(engine);
+  const basis = engine.incrementalBasis;
+  const edit = basis === undefined ? null : censusOf(engine).edit;
+  const before = basis === undefined ? undefined : loginReachableCache.get(basis);
+  // After a rule edit that changed no login cell, the answer is the basis's.
+  if (edit !== null && before !== undefined && !edit.cells.some((c) => engine.classes[cells.cls[c]].kind === "login")) {
+    loginReachableCache.set(engine, before);
+    return before;
+  }
   const byFamily: Record<Family, Runs[]> = { 4: [], 6: [] };
   const seen = new Set<Runs>();
   // Every login probe class (as partitionsOf with loginOnly), each distinct outcome once. A
   // login service nothing listens to has no login outcome, whether or not its rules are evaluated.
   const lists = new Set<number>();
-  for (const { iface, to } of arrivals(engine)) {
-    for (const c of engine.classes) {
-      if (c.kind !== "login") continue;
-      // The same candidate list, class and listening give the same outcomes.
-      const listening = c.service !== null && engine.listening[iface].has(c.service.name) ? 1 : 0;
-      const key = ((engine.candidateRules(iface, to, c.index).id * engine.classes.length + c.index) * 2 + listening) * 2 + (engine.addresses[to].family === 4 ? 0 : 1);
+  for (let c = 0; c < cells.count; c++) {
+    const cls = cells.cls[c];
+    if (engine.classes[cls].kind !== "login") continue;
+    const iface = cells.iface[c];
+    const to = cells.to[c];
+    if (basis === undefined) {
+      // The same candidate list, class and listening give the same outcomes (a model compiled
+      // on a basis skips this: its cells' outcomes are mostly the basis's objects already).
+      const service = engine.classes[cls].service;
+      const listening = service !== null && engine.listening[iface].has(service.name) ? 1 : 0;
+      const key = ((engine.candidateRules(iface, to, cls).id * engine.classes.length + cls) * 2 + listening) * 2 + (engine.addresses[to].family === 4 ? 0 : 1);
       if (lists.has(key)) continue;
       lists.add(key);
-      for (const e of engine.weekOutcomes(iface, to, c.index)) {
-        if (seen.has(e.outcome)) continue;
-        seen.add(e.outcome);
-        byFamily[e.family].push(e.outcome);
-      }
+    }
+    for (const e of engine.weekOutcomes(iface, to, cls)) {
+      if (seen.has(e.outcome)) continue;
+      seen.add(e.outcome);
+      byFamily[e.family].push(e.outcome);
     }
   }
   const login = (1 << LOGIN_MFA) | (1 << LOGIN_PASSWORD);
   const rangesOfFamily = (family: Family): Ranges => (byFamily[family].length === 0 ? [] : engine.domains[family].rangesWhereAny(byFamily[family], login));
-  return { v4: rangesOfFamily(4), v6: rangesOfFamily(6) };
+  const reachable = { v4: rangesOfFamily(4), v6: rangesOfFamily(6) };
+  loginReachableCache.set(engine, reachable);
+  return reachable;
 }
 
 export function intersectsSet(a: AddressSet, b: AddressSet): boolean {

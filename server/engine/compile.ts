@@ -172,6 +172,10 @@ export class CompiledModel {
   private readonly classByKey = new Map<string, ServiceClass>();
   private readonly addressIndex = new Map<string, number>();
   private readonly addressSets = new Map<string, AddressSet>();
+  /** Destination sets by their names (one key per list), shared with a basis of the same address book. */
+  private readonly destinationSets: Map<string, AddressSet>;
+  /** Service keys by the services' names (one key per list; null = any), shared with a basis of the same services. */
+  private readonly serviceKeySets: Map<string, Set<string> | null>;
   private objectsByName: Map<string, DeviceModel["addresses"][number]> | null = null;
   private groupsByName: Map<string, DeviceModel["addressGroups"][number]> | null = null;
   private readonly ruleBits: readonly (readonly [SparseBits, SparseBits])[];
@@ -189,6 +193,8 @@ export class CompiledModel {
   private readonly outcomesCarried = new Set<RulePartition>();
   /** The basis's partitions by a hash of their family and rule tokens. */
   private basisIndex: Map<number, RulePartition[]> | null = null;
+  /** partitionsByContent, once built. */
+  private contentIndex: Map<number, RulePartition[]> | undefined;
   /**
    * Per position: the rule's slot, the number partitions name it by. A rule keeps its slot in
    * a model compiled on a basis with the same elements while its id and sources stay, so the
@@ -203,6 +209,17 @@ export class CompiledModel {
   private readonly touched = new Set<number>();
   /** Whether the model differs from its basis in its inbound rules alone. */
   private readonly onlyRulesChanged: boolean = false;
+  /**
+   * After an edit of the inbound rules alone: per rule the edit changed (added, removed, any
+   * field, or moved), each version's reach as a candidate — the cells where neither version is
+   * a candidate have the basis's candidate slots, partitions and outcomes. Null when the model
+   * is not compiled on such a basis or the rule order changed beyond one moved rule.
+   */
+  private readonly changedRules: readonly CandidateReach[] | null = null;
+  private readonly changedIds: ReadonlySet<string> | null = null;
+  /** The changed rules' reach as this model has them, by id (absent for a removed rule). */
+  private readonly changedReach = new Map<string, CandidateReach>();
+  private positionsById: Map<string, number> | undefined;
 
   private touch(active: Int32Array): void {
     // Only ruleUntouched reads it, and only for a model compiled on a basis.
@@ -223,8 +240,15 @@ export class CompiledModel {
     return this.editedRule?.id !== id && this.basisPositions[position] !== undefined;
   }
 
-  /** How this model's rule partitions came about: swept over their whole list, derived from the list with every rule on (some scheduled rules off), updated from the basis after an edit, or taken from the basis. */
-  readonly partitionSources = { swept: 0, derived: 0, updated: 0, reused: 0 };
+  /**
+   * How this model's rule partitions came about: swept over their whole list, derived from the
+   * list with every rule on (some scheduled rules off), updated from the basis after an edit,
+   * or taken from the basis; and how many cells (interface × destination × class) took all of
+   * theirs from the basis without looking at their rules (no changed rule is a candidate there).
+   */
+  readonly partitionSources = { swept: 0, derived: 0, updated: 0, reused: 0, inherited: 0 };
+  /** Cells (interface, destination, class) already counted in partitionSources.inherited. */
+  private inheritedCells: Uint8Array | undefined;
   /** The one rule an edit changed in a way that changes lists (not only its action), when exactly one did. */
   private readonly editedRule: { id: string; basisPosition: number } | null = null;
   /** Per position: the same rule's position in the basis, or undefined when it is new. */
@@ -245,7 +269,8 @@ export class CompiledModel {
   private readonly serviceColumns = new Map<number, Uint8Array>();
   private readonly partitions = new Map<string, RulePartition>();
   /** Indexed by (interface, destination, class, slice). */
-  private readonly entries: (EntryPartition | undefined)[] = [];
+  /** Per cell (interface, destination, class): its entries by slice, built as asked for. A dense array over every key would be sparse and slow. */
+  private readonly entries = new Map<number, (EntryPartition | undefined)[]>();
   /** Rule partitions per (candidate list, family), by slice, so a slice need not rebuild the list's key. */
   private readonly slicePartitions = new Map<number, (RulePartition | undefined)[]>();
   private readonly loginRuns = new Map<string, Runs>();
@@ -301,8 +326,23 @@ export class CompiledModel {
 
     const scheduleIndex = new Map(model.schedules.map((s, i) => [s.name, i]));
     const setOf = (names: readonly string[]): AddressSet => this.setOfNames(names);
+    // Rules name the same destinations and services again and again; so do a model and its basis.
+    const sameServices = basis !== undefined && JSON.stringify([basis.model.services, basis.model.serviceGroups]) === JSON.stringify([model.services, model.serviceGroups]);
+    this.destinationSets = basis !== undefined ? basis.destinationSets : new Map();
+    this.serviceKeySets = sameServices ? basis.serviceKeySets : new Map();
     this.rules = model.inboundRules.map((r, position): CompiledRule => {
-      const keys = this.serviceKeysOf(r.services);
+      const serviceKey = r.services.join("\n");
+      let keys = this.serviceKeySets.get(serviceKey);
+      if (keys === undefined) {
+        keys = this.serviceKeysOf(r.services);
+        this.serviceKeySets.set(serviceKey, keys);
+      }
+      const destinationKey = r.destinations.join("\n");
+      let destinations = this.destinationSets.get(destinationKey);
+      if (destinations === undefined) {
+        destinations = this.setOfNames(r.destinations);
+        this.destinationSets.set(destinationKey, destinations);
+      }
       let sources: AddressSet | undefined;
       return {
         position,
@@ -315,7 +355,7 @@ export class CompiledModel {
           sources ??= setOf(r.sources);
           return sources;
         },
-        destinations: this.setOfNames(r.destinations),
+        destinations,
         anyService: keys === null,
         serviceKeys: keys ?? new Set(),
         schedule: r.schedule === ALL_WEEK_SCHEDULE ? -1 : (scheduleIndex.get(r.schedule) ?? -1),
@@ -372,14 +412,31 @@ export class CompiledModel {
       // The address book is already known to be the same; the rest is small.
       const others = (m: DeviceModel) => JSON.stringify([m.schemaVersion, m.device, m.interfaces, m.services, m.serviceGroups, m.schedules, m.accounts, m.operatorNetworks]);
       this.onlyRulesChanged = others(basis.model) === others(model);
-      const edit = singleEdit(basis.model, model);
-      this.editedRule = edit === null ? null : { id: edit, basisPosition: basis.model.inboundRules.findIndex((r) => r.id === edit) };
+      const { changed, edited } = ruleEdit(basis.model, model);
+      this.editedRule = edited === null ? null : { id: edited, basisPosition: basis.model.inboundRules.findIndex((r) => r.id === edited) };
       const basisIndexOf = new Map(basis.model.inboundRules.map((r, i) => [r.id, i]));
       this.basisPositions = model.inboundRules.map((r) => basisIndexOf.get(r.id));
       this.sameCatalogueAndAccounts =
         JSON.stringify(basis.model.services) === JSON.stringify(model.services) &&
         basis.defaultAllow === this.defaultAllow &&
         basis.unlistenedReset === this.unlistenedReset;
+      if (this.onlyRulesChanged && changed !== null) {
+        {
+          const reach: CandidateReach[] = [];
+          changed.forEach((id) => {
+            const before = basisIndexOf.get(id);
+            if (before !== undefined) reach.push(basis.candidateReach(basis.rules[before]));
+            const after = this.rules.findIndex((r) => r.id === id);
+            if (after >= 0) {
+              const now = this.candidateReach(this.rules[after]);
+              reach.push(now);
+              this.changedReach.set(id, now);
+            }
+          });
+          this.changedRules = reach;
+          this.changedIds = new Set(changed);
+        }
+      }
     }
     const denseBits = (family: Family, set: AddressSet): Int32Array => {
       const d = this.domains[family];
@@ -401,12 +458,32 @@ export class CompiledModel {
       owner: new Int32Array(this.domains[family].size),
       wordOwners: new Int32Array(this.domains[family].words),
     });
-    this.scratch = { 4: scratchFor(4), 6: scratchFor(6) };
+    // Scratch is used only within one call; a model that shares its basis's elements shares its scratch too.
+    this.scratch = sameElements ? basis.scratch : { 4: scratchFor(4), 6: scratchFor(6) };
   }
 
   /** The model this one was compiled on, while it is still alive and shares this one's elements. */
   get basisModel(): CompiledModel | undefined {
     return this.basisRef?.deref();
+  }
+
+  /**
+   * The basis, when this model differs from it in a few inbound rules only and it is still
+   * alive: then every cell `cellMayDiffer` calls unchanged has the basis's partitions and
+   * outcomes, and whole-model analyses may be kept by difference (cells.ts).
+   */
+  get incrementalBasis(): CompiledModel | undefined {
+    return this.changedRules === null ? undefined : this.basisRef?.deref();
+  }
+
+  /** The ids of the rules the edit against the incremental basis changed (added, removed, moved, or any field); null without one. */
+  get changedRuleIds(): ReadonlySet<string> | null {
+    return this.changedRules === null ? null : this.changedIds;
+  }
+
+  /** Whether the edit against the basis changed the rule at this position (added, moved, or any field); false without a basis. */
+  ruleChangedByEdit(position: number): boolean {
+    return this.changedIds?.has(this.rules[position].id) ?? false;
   }
 
   // ---- name resolution ----
@@ -583,11 +660,51 @@ export class CompiledModel {
 
   // ---- partitions ----
 
+  /** Where a rule is a candidate: its interface, and per device address and service class whether it names them. */
+  private candidateReach(rule: CompiledRule): CandidateReach {
+    if (!rule.enabled) return { iface: -2, destinations: new Uint8Array(0), classes: new Uint8Array(0) };
+    return {
+      iface: rule.iface,
+      destinations: Uint8Array.from(this.addresses, (target) => (contains(rangesOf(rule.destinations, target.family), target.value) ? 1 : 0)),
+      classes: Uint8Array.from(this.classes, (c) => (rule.anyService || rule.serviceKeys.has(c.key) ? 1 : 0)),
+    };
+  }
+
+  /**
+   * The basis, when the cell (interface, destination, class) is one no changed rule is a
+   * candidate for: its candidate rules are the basis's (by slot, in order, with the same
+   * actions), so its partitions and outcomes in every slice are the basis's objects.
+   */
+  private basisOfCleanCell(iface: number, to: number, cls: number): CompiledModel | undefined {
+    const changed = this.changedRules;
+    if (changed === null) return undefined;
+    for (const reach of changed) {
+      if ((reach.iface === -1 || reach.iface === iface) && reach.destinations[to] === 1 && reach.classes[cls] === 1) return undefined;
+    }
+    const basis = this.basisRef?.deref();
+    if (basis !== undefined) {
+      const cell = (iface * this.addresses.length + to) * this.classes.length + cls;
+      this.inheritedCells ??= new Uint8Array(this.interfaceAddresses.length * this.addresses.length * this.classes.length);
+      if (this.inheritedCells[cell] === 0) {
+        this.inheritedCells[cell] = 1;
+        this.partitionSources.inherited++;
+      }
+    }
+    return basis;
+  }
+
+  /** Whether an edit against the basis can change the cell's partitions or outcomes (true when the model is not compiled incrementally). */
+  cellMayDiffer(iface: number, to: number, cls: number): boolean {
+    return this.basisOfCleanCell(iface, to, cls) === undefined;
+  }
+
   /** Enabled rules that can match (interface, destination, service class) at some time, in order. */
   candidateRules(iface: number, to: number, cls: number): Candidates {
     const key = (iface * this.addresses.length + to) * this.classes.length + cls;
     const cached = this.candidates[key];
     if (cached !== undefined) return cached;
+    const fromBasis = this.candidatesFromBasis(iface, to, cls);
+    if (fromBasis !== undefined) return (this.candidates[key] = fromBasis);
     // Addresses every rule's destinations treat alike have the same lists.
     const alike = this.destinationRepresentative(to);
     if (alike !== to) return (this.candidates[key] = this.candidateRules(iface, alike, cls));
@@ -605,6 +722,41 @@ export class CompiledModel {
     const result: Candidates = { id: this.candidateListId(rules), rules, scheduled: scheduledList.length > 0, scheduledRules: Int32Array.from(scheduledList) };
     this.candidates[key] = result;
     return result;
+  }
+
+  /**
+   * After an edit of a few rules: the basis's list for the cell with the changed rules taken
+   * out and put in where they now are candidates — the unchanged rules' membership and order
+   * are the basis's — so a changed cell needs no destination columns over every rule.
+   */
+  private candidatesFromBasis(iface: number, to: number, cls: number): Candidates | undefined {
+    const changed = this.changedRules;
+    const ids = this.changedIds;
+    const basis = changed === null ? undefined : this.basisRef?.deref();
+    if (basis === undefined || ids === null) return undefined;
+    const before = basis.candidateRules(iface, to, cls).rules;
+    const list: number[] = [];
+    for (let k = 0; k < before.length; k++) {
+      const rule = basis.rules[before[k]];
+      if (ids.has(rule.id)) continue;
+      list.push(this.positionOfId(rule.id));
+    }
+    for (const id of ids) {
+      const position = this.positionOfId(id);
+      if (position < 0) continue;
+      const reach = this.changedReach.get(id);
+      if (reach !== undefined && (reach.iface === -1 || reach.iface === iface) && reach.destinations[to] === 1 && reach.classes[cls] === 1) list.push(position);
+    }
+    list.sort((a, b) => a - b);
+    const rules = Int32Array.from(list);
+    const scheduledRules = rules.filter((position) => this.rules[position].schedule >= 0);
+    return { id: this.candidateListId(rules), rules, scheduled: scheduledRules.length > 0, scheduledRules };
+  }
+
+  /** This model's position of a rule id, or -1. */
+  private positionOfId(id: string): number {
+    this.positionsById ??= new Map(this.rules.map((r) => [r.id, r.position]));
+    return this.positionsById.get(id) ?? -1;
   }
 
   /** Enabled rules for the interface (or any) that name the service class, in order: every destination's candidates are a subset. */
@@ -695,24 +847,36 @@ export class CompiledModel {
 
   /** First-match partition for (interface, destination, class, slice); shared between equal rule lists. */
   entry(iface: number, to: number, cls: number, slice: number): EntryPartition {
-    const key = ((iface * this.addresses.length + to) * this.classes.length + cls) * this.week.slices.length + slice;
-    const cached = this.entries[key];
+    const cell = (iface * this.addresses.length + to) * this.classes.length + cls;
+    const bySlice = this.entries.get(cell);
+    const cached = bySlice?.[slice];
     if (cached !== undefined) return cached;
+    // A cell the edit left alone is the basis's, kept there (not copied here).
+    const basis = this.basisOfCleanCell(iface, to, cls);
+    if (basis !== undefined) return basis.entry(iface, to, cls, slice);
     const family = this.addresses[to].family;
     const rules = this.rulePartitionAt(iface, to, cls, slice);
     const result: EntryPartition = { family, rules, outcome: this.outcomeRunsOf(rules, iface, cls) };
-    this.entries[key] = result;
+    if (bySlice === undefined) {
+      const entries = new Array<EntryPartition | undefined>(this.week.slices.length).fill(undefined);
+      entries[slice] = result;
+      this.entries.set(cell, entries);
+    } else bySlice[slice] = result;
     return result;
   }
 
   /** The first-match partition of entry(iface, to, cls, slice).rules, without building or keeping the entry. */
   rulePartitionAt(iface: number, to: number, cls: number, slice: number): RulePartition {
+    const basis = this.basisOfCleanCell(iface, to, cls);
+    if (basis !== undefined) return basis.rulePartitionAt(iface, to, cls, slice);
     const family = this.addresses[to].family;
     return this.partitionsBySlice(family, this.candidateRules(iface, to, cls), [slice])[0];
   }
 
   /** The first-match partitions of (interface, destination, class) for every slice, in slice order. */
   weekRulePartitions(iface: number, to: number, cls: number): RulePartition[] {
+    const basis = this.basisOfCleanCell(iface, to, cls);
+    if (basis !== undefined) return basis.weekRulePartitions(iface, to, cls);
     return this.partitionsBySlice(this.addresses[to].family, this.candidateRules(iface, to, cls), null);
   }
 
@@ -762,6 +926,8 @@ export class CompiledModel {
     const listening = c.service !== null && this.listening[iface].has(c.service.name);
     const family = this.addresses[to].family;
     if (!listening && (c.kind === "echo" || !this.unlistenedReset)) return [family === 4 ? SILENT_V4 : SILENT_V6];
+    const basis = this.basisOfCleanCell(iface, to, cls);
+    if (basis !== undefined) return basis.weekOutcomes(iface, to, cls);
     const out: OutcomePartition[] = [];
     const seen = new Set<Runs>();
     for (const rules of this.weekRulePartitions(iface, to, cls)) {
@@ -799,6 +965,7 @@ export class CompiledModel {
       }
       rules = this.basisPartition(family, active) ?? this.derivedPartition(family, this.slicePartitionAllOn(family, candidates), active, off);
       this.partitions.set(activeKey, rules);
+      this.remember(rules);
     }
     return rules;
   }
@@ -811,6 +978,7 @@ export class CompiledModel {
       const active = Int32Array.from(candidates.rules, (position) => this.ruleSlots[position]);
       rules = this.basisPartition(family, active) ?? this.rulePartition(family, active, key);
       this.partitions.set(key, rules);
+      this.remember(rules);
     }
     return rules;
   }
@@ -842,6 +1010,11 @@ export class CompiledModel {
         owner[element] = -1;
         count++;
       }
+    }
+    if (count === 0) {
+      // The off rules took nothing: every element keeps its owner, and the runs are the base's (shared, not copied).
+      for (const position of off) patched[this.ruleSlots[position] + 1] = 0;
+      return { id: nextPartitionId++, family, active, owner: base.owner };
     }
     const wordsInOrder = Int32Array.from(needWords).sort();
     let firstOff = Infinity;
@@ -876,9 +1049,23 @@ export class CompiledModel {
         }
       }
     }
-    const runs = patchedRuns(base.owner, patched, owner, domain.size);
+    const runs = this.internedRuns(family, patchedRuns(base.owner, patched, owner, domain.size));
     for (const position of off) patched[this.ruleSlots[position] + 1] = 0;
     return { id: nextPartitionId++, family, active, owner: runs };
+  }
+
+  /** Derived partitions' runs by family and content: different off rules often leave the same owners, and one copy serves them all. */
+  private readonly runsByContent = new Map<number, Runs[]>();
+
+  private internedRuns(family: Family, runs: Runs): Runs {
+    let hash = (0x811c9dc5 ^ runs.values.length ^ (family << 24)) | 0;
+    for (let k = 0; k < runs.values.length; k++) hash = Math.imul(Math.imul(hash ^ runs.starts[k], 0x01000193) ^ runs.values[k], 0x01000193);
+    const bucket = this.runsByContent.get(hash);
+    const same = bucket?.find((other) => other.values.length === runs.values.length && other.starts.every((start, k) => start === runs.starts[k] && other.values[k] === runs.values[k]));
+    if (same !== undefined) return same;
+    if (bucket === undefined) this.runsByContent.set(hash, [runs]);
+    else bucket.push(runs);
+    return runs;
   }
 
   /**
@@ -994,16 +1181,30 @@ export class CompiledModel {
     return { id: nextPartitionId++, family, active, owner: runsFromArray(owner, domain.size) };
   }
 
-  /** This model's partitions by the hash of their content: family and the rules' tokens in order. */
+  /**
+   * Partitions by the hash of their content (family and the rules' slots in order): this
+   * model's own and, after a rule edit, its basis's — cells the edit left alone use the
+   * basis's partitions without copying them here, and the next edit looks them up through
+   * this index. Built once, then kept up to date as partitions are made.
+   */
   private partitionsByContent(): Map<number, RulePartition[]> {
+    if (this.contentIndex !== undefined) return this.contentIndex;
+    const basis = this.incrementalBasis;
     const out = new Map<number, RulePartition[]>();
-    for (const p of new Set(this.partitions.values())) {
-      const hash = contentHash(p.family, p.active);
-      const bucket = out.get(hash);
-      if (bucket === undefined) out.set(hash, [p]);
-      else bucket.push(p);
-    }
+    if (basis !== undefined) for (const [hash, bucket] of basis.partitionsByContent()) out.set(hash, [...bucket]);
+    this.contentIndex = out;
+    for (const p of this.partitions.values()) this.remember(p);
     return out;
+  }
+
+  /** Adds a partition to the content index, when there is one. */
+  private remember(p: RulePartition): void {
+    const index = this.contentIndex;
+    if (index === undefined) return;
+    const hash = contentHash(p.family, p.active);
+    const bucket = index.get(hash);
+    if (bucket === undefined) index.set(hash, [p]);
+    else if (!bucket.includes(p)) bucket.push(p);
   }
 
   /**
@@ -1072,6 +1273,7 @@ export class CompiledModel {
     }
     const partition: RulePartition = { id: nextPartitionId++, family, active, owner: runsFromWords(owner, wordOwners, domain.size) };
     this.partitions.set(key, partition);
+    this.remember(partition);
     return partition;
   }
 
@@ -1192,38 +1394,101 @@ const UNTOUCHED = -3;
 const SILENT_V4: OutcomePartition = { family: 4, outcome: { starts: Int32Array.of(0), values: Int32Array.of(SILENT) } };
 const SILENT_V6: OutcomePartition = { family: 6, outcome: { starts: Int32Array.of(0), values: Int32Array.of(SILENT) } };
 
-/**
- * The id of the one rule whose edit can change rule lists, when exactly one did: added,
- * removed, moved, switched on or off, or its interface, sources, destinations, services or
- * schedule changed. A change of action alone changes no list. Null when none or several did.
- */
-function singleEdit(before: DeviceModel, after: DeviceModel): string | null {
-  const listed = (r: DeviceModel["inboundRules"][number]) =>
-    [r.enabled, r.interface, r.schedule, r.sources.join("\n"), r.destinations.join("\n"), r.services.join("\n")].join("\u0001");
-  const old = new Map(before.inboundRules.map((r) => [r.id, r]));
-  const now = new Map(after.inboundRules.map((r) => [r.id, r]));
-  const edited = new Set<string>();
-  for (const [id, r] of now) {
-    const was = old.get(id);
-    if (was === undefined || listed(was) !== listed(r)) edited.add(id);
-  }
-  for (const id of old.keys()) if (!now.has(id)) edited.add(id);
-  if (edited.size > 1) return null;
-  // The order of the other rules must be unchanged; a move shows as one rule out of place.
-  const a = before.inboundRules.map((r) => r.id).filter((id) => now.has(id) && !edited.has(id));
-  const b = after.inboundRules.map((r) => r.id).filter((id) => old.has(id) && !edited.has(id));
-  const first = a.findIndex((id, i) => id !== b[i]);
-  if (first < 0) return edited.size === 1 ? [...edited][0] : null;
-  if (edited.size === 1) return null;
-  for (const moved of [a[first], b[first]]) {
-    const a2 = a.filter((id) => id !== moved);
-    const b2 = b.filter((id) => id !== moved);
-    if (a2.every((id, i) => id === b2[i])) return moved;
-  }
-  return null;
+/** Where one version of a rule is a candidate (CompiledModel.candidateRules): interface (-1 any, -2 none), and per device address and class. */
+interface CandidateReach {
+  readonly iface: number;
+  readonly destinations: Uint8Array;
+  readonly classes: Uint8Array;
 }
 
-/** Whether two models name the same address objects and groups with the same contents. */
+/** Most changed rules an incremental compile follows cell by cell; past this nearly every cell changes anyway. */
+const MOST_CHANGED_RULES = 16;
+
+type InboundRule = DeviceModel["inboundRules"][number];
+
+/**
+ * What an edit of the inbound rules changed. `changed`: the ids of the rules added, removed,
+ * changed in any field, or moved (the one rule whose move explains the new order) — null
+ * when the order changed otherwise or more rules changed than are worth following cell by
+ * cell. `edited`: the one rule whose edit can change rule lists (added, removed, moved,
+ * switched on or off, or its interface, sources, destinations, services or schedule changed;
+ * a change of action alone changes no list), when exactly one did.
+ */
+function ruleEdit(before: DeviceModel, after: DeviceModel): { changed: string[] | null; edited: string | null } {
+  const old = new Map(before.inboundRules.map((r) => [r.id, r]));
+  const now = new Map(after.inboundRules.map((r) => [r.id, r]));
+  const changed = new Set<string>();
+  const listed = new Set<string>();
+  for (const [id, r] of now) {
+    const was = old.get(id);
+    if (was === undefined) {
+      changed.add(id);
+      listed.add(id);
+    } else if (was !== r && !sameRule(was, r)) {
+      changed.add(id);
+      if (!sameLists(was, r)) listed.add(id);
+    }
+  }
+  for (const id of old.keys()) {
+    if (now.has(id)) continue;
+    changed.add(id);
+    listed.add(id);
+  }
+  // The order of the other rules must be unchanged; a move shows as one rule out of place
+  // (undefined: nothing moved; null: more than one move).
+  const moved = (apart: ReadonlySet<string>): string | null | undefined => {
+    const a = before.inboundRules.map((r) => r.id).filter((id) => now.has(id) && !apart.has(id));
+    const b = after.inboundRules.map((r) => r.id).filter((id) => old.has(id) && !apart.has(id));
+    const first = a.findIndex((id, i) => id !== b[i]);
+    if (first < 0) return undefined;
+    for (const candidate of [a[first], b[first]]) {
+      const a2 = a.filter((id) => id !== candidate);
+      const b2 = b.filter((id) => id !== candidate);
+      if (a2.every((id, i) => id === b2[i])) return candidate;
+    }
+    return null;
+  };
+  let edited: string | null = null;
+  if (listed.size <= 1) {
+    const one = moved(listed);
+    if (one === undefined) edited = listed.size === 1 ? [...listed][0] : null;
+    else edited = listed.size === 0 ? one : null;
+  }
+  const other = moved(changed);
+  if (other === null) return { changed: null, edited };
+  if (other !== undefined) changed.add(other);
+  return { changed: changed.size > MOST_CHANGED_RULES ? null : [...changed], edited };
+}
+
+/** Whether two versions of a rule are the same in every field. */
+function sameRule(a: InboundRule, b: InboundRule): boolean {
+  if (a === b) return true;
+  const keys = Object.keys(a) as (keyof InboundRule)[];
+  if (keys.length !== Object.keys(b).length) return false;
+  return keys.every((key) => {
+    const x = a[key];
+    const y = b[key];
+    if (Array.isArray(x) && Array.isArray(y)) return sameNames(x, y);
+    return x === y;
+  });
+}
+
+/** Whether two versions of a rule are in the same candidate lists with the same sources: alike but for the action (and names and notes). */
+function sameLists(a: InboundRule, b: InboundRule): boolean {
+  return (
+    a.enabled === b.enabled &&
+    a.interface === b.interface &&
+    a.schedule === b.schedule &&
+    sameNames(a.sources, b.sources) &&
+    sameNames(a.destinations, b.destinations) &&
+    sameNames(a.services, b.services)
+  );
+}
+
+function sameNames(x: readonly unknown[], y: readonly unknown[]): boolean {
+  return x.length === y.length && x.every((v, i) => v === y[i]);
+}
+
 /** Whether the partition is of the family and of these slots, in order. */
 function sameSlots(partition: RulePartition, family: Family, active: Int32Array): boolean {
   if (partition.family !== family || partition.active.length !== active.length) return false;
@@ -1233,10 +1498,9 @@ function sameSlots(partition: RulePartition, family: Family, active: Int32Array)
 
 function sameAddressBook(a: DeviceModel, b: DeviceModel): boolean {
   if (a.addresses.length !== b.addresses.length || a.addressGroups.length !== b.addressGroups.length) return false;
-  const sameList = (x: readonly string[], y: readonly string[]) => x.length === y.length && x.every((v, i) => v === y[i]);
   return (
-    a.addresses.every((o, i) => o.name === b.addresses[i].name && sameList(o.entries, b.addresses[i].entries)) &&
-    a.addressGroups.every((g, i) => g.name === b.addressGroups[i].name && sameList(g.members, b.addressGroups[i].members))
+    a.addresses.every((o, i) => o.name === b.addresses[i].name && sameNames(o.entries, b.addresses[i].entries)) &&
+    a.addressGroups.every((g, i) => g.name === b.addressGroups[i].name && sameNames(g.members, b.addressGroups[i].members))
   );
 }
 

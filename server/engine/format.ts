@@ -19,6 +19,13 @@ export function formatNumber(value: number | bigint): string {
   return grouped.format(value);
 }
 
+const percent = new Intl.NumberFormat(LOCALE, { style: "percent", maximumFractionDigits: 0 });
+
+/** A share 0–1 as a whole percentage: 0.875 → "88%". */
+export function formatPercent(share: number): string {
+  return percent.format(share);
+}
+
 /** Counts from here up are given in words ("16.8 million"); below, exactly ("999,999"). */
 export const WORDS_FROM = 1_000_000n;
 /**

@@ -19,7 +19,7 @@ import type { ReachResult } from "./reach.ts";
 import { traceProbe } from "./trace.ts";
 import type { TraceResult } from "./trace.ts";
 
-export { accountServiceProblem, parseModel } from "./model.ts";
+export { accountServiceProblem, MODEL_DOCUMENT_SCHEMA, parseModel } from "./model.ts";
 export { isValidTimeZone } from "./schedules.ts";
 export type {
   Account,
@@ -66,6 +66,10 @@ export {
   isLayer,
   isOutcome,
   isSeverity,
+  isObservedAnswer,
+  DIFFERENCE_REASONS,
+  FIELD_CHECK_STATUSES,
+  OBSERVED_ANSWERS,
   LAYERS,
   MODEL_SCHEMA_VERSION,
   looksLikeAddressEntry,
@@ -90,7 +94,10 @@ export type {
   CatalogueService,
   CustomServiceKind,
   Day,
+  DifferenceReason,
   ElementKind,
+  FieldCheckStatus,
+  ObservedAnswer,
   ElementRef,
   InterfaceRole,
   Layer,
@@ -153,7 +160,27 @@ export type {
   ParsedExpectations,
   ProbeExpectation,
 } from "./expectations.ts";
-export { instantInSlice, instantOfWeekMinute, parseWeekTime, WEEK_TIME_PATTERN } from "./week-times.ts";
+export { formatWeekMinute, instantInSlice, instantOfWeekMinute, instantOfWeekTime, parseWeekTime, WEEK_TIME_PATTERN } from "./week-times.ts";
+/** Trace and reach from a block of sources, one group per distinct answer (source-groups.ts), and across a fleet. */
+export { isSourceBlock, parseSource, reachGroupRows, reachGroups, serviceMatches, traceGroups } from "./source-groups.ts";
+export type { ReachCell, ReachFilter, ReachGroupRow, ReachGroups, SourceGroup, SourceRange, TraceGroups } from "./source-groups.ts";
+export { fleetReach } from "./fleet-reach.ts";
+export type { FleetMember, FleetReach, FleetReachOptions, FleetReachRow } from "./fleet-reach.ts";
+/** Field checks: observations predicted with the revision live at their time (field-checks.ts). */
+export {
+  checkObservations,
+  CLOCK_SKEW_MS,
+  DifferenceSchema,
+  fieldCheckCounts,
+  FieldCheckCountsSchema,
+  FieldCheckResultSchema,
+  FieldCheckRowSchema,
+  MAX_NOTE_LENGTH,
+  MAX_OBSERVATIONS,
+  ObservationSchema,
+  observationAgrees,
+} from "./field-checks.ts";
+export type { FieldCheckCounts, FieldCheckResult, FieldCheckRow, Observation, ObservationInput, RevisionAtTime } from "./field-checks.ts";
 
 /** Compiles a validated model for fast questions; partitions are computed on demand and cached. */
 export function compileModel(model: DeviceModel, options: CompileOptions = {}): CompiledModel {

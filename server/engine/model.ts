@@ -121,6 +121,9 @@ function schemaFor(strict: boolean) {
 const STRICT_SCHEMA = schemaFor(true);
 const LOOSE_SCHEMA = schemaFor(false);
 
+/** The version-2 document as parseModel checks it first (strict: unknown fields refused); the API's document describes it. */
+export const MODEL_DOCUMENT_SCHEMA = STRICT_SCHEMA;
+
 /** A validated device model document with every default filled in and CIDRs normalised. */
 export type DeviceModel = z.output<typeof LOOSE_SCHEMA>;
 /** The document as written (optional fields may be missing). */

@@ -209,3 +209,48 @@ export const LAYER_LABELS: Record<Layer, string> = {
   "login-sources": "Login sources",
   "second-factor": "Second factor",
 };
+
+// ---------------------------------------------------------------------------------------------
+// Field checks (docs/engine.md "Field checks"): what a person saw when they tried a device from a
+// vantage point, in the outcome words where one matches, and how each row compares with the model.
+
+/**
+ * What a field check may record as observed: an outcome (PRODUCT.md §3) when the tester could
+ * tell it — trying to log in tells the three login outcomes apart — or "login" when a login page
+ * or banner appeared and nobody tried to log in (it agrees with any login outcome).
+ */
+export const OBSERVED_ANSWERS = [...OUTCOMES, "login"] as const;
+export type ObservedAnswer = (typeof OBSERVED_ANSWERS)[number];
+
+export function isObservedAnswer(value: unknown): value is ObservedAnswer {
+  return oneOf(OBSERVED_ANSWERS, value);
+}
+
+/** How a row of a field check compares with the model. */
+export const FIELD_CHECK_STATUSES = ["agrees", "differs", "invalid"] as const;
+export type FieldCheckStatus = (typeof FIELD_CHECK_STATUSES)[number];
+
+/**
+ * Why a difference is likely: a later revision predicts what was seen (the model was out of date
+ * at the time), an earlier one does (the change may not have reached the device), or none does
+ * (the device, or something on the path to it, differs from its recorded configuration).
+ */
+export const DIFFERENCE_REASONS = ["model-out-of-date", "not-applied", "device-differs"] as const;
+export type DifferenceReason = (typeof DIFFERENCE_REASONS)[number];
+
+export const OBSERVED_LABELS: Record<ObservedAnswer, string> = {
+  ...OUTCOME_LABELS,
+  login: "Login shown (not tried)",
+};
+
+export const FIELD_CHECK_STATUS_LABELS: Record<FieldCheckStatus, string> = {
+  agrees: "Agrees",
+  differs: "Differs",
+  invalid: "Not checked",
+};
+
+export const DIFFERENCE_REASON_LABELS: Record<DifferenceReason, string> = {
+  "model-out-of-date": "Model out of date",
+  "not-applied": "Change not on the device",
+  "device-differs": "Device differs from its configuration",
+};

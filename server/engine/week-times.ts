@@ -1,40 +1,76 @@
-// Local week times ("tue 10:00", as slices and diff stretches are written) and the instants
-// that stand for them: a probe replayed by `trace` needs an instant, and the engine's instants
-// for week times come from one reference week in the device's time zone.
+// The one home of local week times ("tue 10:00", as slices and diff stretches are written) and
+// the instants that stand for them. A probe that `trace` replays needs an instant, and every
+// instant the product gives for a week time — finding witnesses, expectation checks, the
+// effect's and the shared-object review's example probes, the gate's login paths — comes from
+// one reference week read on the device's clock, through the functions below.
 
-import { DateTime } from "luxon";
+import { LocalClock, MINUTES_PER_DAY, WEEK_MINUTES, formatWeekMinute } from "./schedules.ts";
 import type { CompiledModel } from "./compile.ts";
-import { MINUTES_PER_DAY, WEEK_MINUTES } from "./schedules.ts";
 import { DAYS } from "./vocabulary.ts";
 import type { Day } from "./vocabulary.ts";
 
-/** Monday 5 January 2026: a week without daylight-saving changes in the usual zones (the finding witnesses use it too). */
-const REFERENCE_MONDAY = { year: 2026, month: 1, day: 5 } as const;
+export { formatWeekMinute };
+
+/**
+ * Monday 5 January 2026, 00:00, as wall-clock milliseconds: a week without daylight-saving
+ * changes in the zones that have them (they fall in March–April and September–November).
+ */
+const REFERENCE_MONDAY_WALL = Date.UTC(2026, 0, 5);
 
 /** "mon 08:00" … "sun 23:59": a day of the week and a time on the device's clock. */
 export const WEEK_TIME_PATTERN = /^(mon|tue|wed|thu|fri|sat|sun) ([01][0-9]|2[0-3]):([0-5][0-9])$/;
 
-/** The week minute of a week time, or null when the text is not one. */
+/** The week minute of a week time (Monday 00:00 is 0), or null when the text is not one. */
 export function parseWeekTime(text: string): number | null {
   const match = WEEK_TIME_PATTERN.exec(text);
   if (match === null) return null;
   return DAYS.indexOf(match[1] as Day) * MINUTES_PER_DAY + Number(match[2]) * 60 + Number(match[3]);
 }
 
+/** A clock per zone for the callers that know only the zone's name (offsets cached per hour). */
+const clocks = new Map<string, LocalClock>();
+
+function clockOf(timezone: string): LocalClock {
+  let clock = clocks.get(timezone);
+  if (clock === undefined) {
+    if (clocks.size > 1000) clocks.clear();
+    clock = new LocalClock(timezone);
+    clocks.set(timezone, clock);
+  }
+  return clock;
+}
+
 /**
- * The instant (epoch ms) in the reference week at which the device's clock shows this week
- * minute; around a daylight-saving gap, the first later minute the clock does show.
+ * The instant (epoch ms) in the reference week at which the clock shows this week minute;
+ * around a daylight-saving gap, the first later minute it does show.
  */
-export function instantOfWeekMinute(engine: CompiledModel, minute: number): number {
+function instantOnClock(clock: LocalClock, minute: number): number {
   const wanted = ((minute % WEEK_MINUTES) + WEEK_MINUTES) % WEEK_MINUTES;
-  const day = Math.floor(wanted / MINUTES_PER_DAY);
-  const ofDay = wanted % MINUTES_PER_DAY;
-  const ms = DateTime.fromObject({ ...REFERENCE_MONDAY, day: REFERENCE_MONDAY.day + day, hour: Math.floor(ofDay / 60), minute: ofDay % 60 }, { zone: engine.model.device.timezone }).toMillis();
+  const wall = REFERENCE_MONDAY_WALL + wanted * 60_000;
+  // The offset near the wall time, then the offset at the instant it gives (right unless an offset change lies between).
+  const guess = wall - clock.offsetAt(wall) * 60_000;
+  const ms = wall - clock.offsetAt(guess) * 60_000;
   for (let step = 0; step < 180; step++) {
     const at = ms + step * 60_000;
-    if (engine.clock.weekMinute(at) === (wanted + step) % WEEK_MINUTES) return at;
+    if (clock.weekMinute(at) === (wanted + step) % WEEK_MINUTES) return at;
   }
   return ms;
+}
+
+/** The instant (epoch ms) in the reference week at which the device's clock shows this week minute. */
+export function instantOfWeekMinute(engine: CompiledModel, minute: number): number {
+  return instantOnClock(engine.clock, minute);
+}
+
+/**
+ * The instant at week time `text` ("mon 08:00") on a clock in `timezone`, in the reference week,
+ * as ISO 8601 in UTC — for callers that hold a diff's week times and the device's zone, not its
+ * compiled model. Throws on text that is not a week time.
+ */
+export function instantOfWeekTime(text: string, timezone: string): string {
+  const minute = parseWeekTime(text);
+  if (minute === null) throw new Error(`not a week time: "${text}"`);
+  return new Date(instantOnClock(clockOf(timezone), minute)).toISOString();
 }
 
 /** An instant (ISO 8601, UTC) in the given slice of the week: its first minute where the clock shows it. */

@@ -7,6 +7,9 @@ import { stringify } from "csv-stringify/sync";
 
 export type CsvValue = string | number | bigint | null | undefined;
 
+/** A record with the line of the input it starts on (1-based). */
+export type CsvRecord = { readonly line: number; readonly fields: string[] };
+
 /** Text that is not well-formed CSV; the message says where and what to change. */
 export class CsvSyntaxError extends Error {
   override name = "CsvSyntaxError";
@@ -36,8 +39,27 @@ const PROBLEMS: Readonly<Record<string, string>> = {
  * Throws CsvSyntaxError for a stray or unclosed quote.
  */
 export function parseCsv(text: string): string[][] {
+  return parseCsvRecords(text).map((record) => record.fields);
+}
+
+/**
+ * As parseCsv, each record with the line it starts on, so a report can point at the line people
+ * see even when a quoted field above it spans several lines.
+ */
+export function parseCsvRecords(text: string): CsvRecord[] {
   try {
-    return parse(text, { bom: true, relax_column_count: true, record_delimiter: ["\r\n", "\n", "\r"] });
+    // The line each record ends on (the parser counts the lines read so far); the next starts after it.
+    const ends: number[] = [];
+    const records = parse(text, {
+      bom: true,
+      relax_column_count: true,
+      record_delimiter: ["\r\n", "\n", "\r"],
+      on_record: (record, context) => {
+        ends.push(context.lines);
+        return record;
+      },
+    });
+    return records.map((fields, index) => ({ line: index === 0 ? 1 : ends[index - 1] + 1, fields }));
   } catch (error) {
     if (!(error instanceof CsvError)) throw error;
     const line = typeof error.lines === "number" ? error.lines : 1;

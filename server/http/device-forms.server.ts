@@ -32,6 +32,7 @@ import { namesIn } from "../workspace/name-lists.ts";
 import { fieldErrorsOf, formFailure, type FieldErrors } from "./form.server.ts";
 import { refusalOf, refusedForm } from "./refusals.server.ts";
 import { ElementNameSchema, TimeZoneSchema } from "./schemas.ts";
+import { UUID_PATTERN } from "../validation/ids.ts";
 
 /**
  * An edit to apply (data, so a proposal can record it and re-apply it later), the toast that
@@ -167,7 +168,7 @@ const AccountForm = z.object({
 
 const SettingsForm = z.object({
   name: NAME,
-  siteId: z.string().uuid("Choose a site."),
+  siteId: z.string().regex(UUID_PATTERN, "Choose a site."),
   timezone: TimeZoneSchema,
   defaultInbound: z.enum(RULE_ACTIONS, { message: "Choose allow or deny." }),
   unlistenedPort: z.enum(UNLISTENED_PORT_ACTIONS, { message: "Choose drop or reset." }),

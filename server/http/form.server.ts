@@ -1,14 +1,42 @@
 import { data } from "react-router";
 import type { z } from "zod";
 import type { RefusalEffect, RefusalReason, RefusalStatus, RevisionConflictFacts } from "../errors.ts";
+import { findTextProblem, printableName, textProblem, textProblemMessage } from "../validation/text.ts";
 
-/** The form body, or a 400 for a body that is not a form at all (never a 500). */
+/**
+ * The form body, or a 400 for a body that is not a form at all (never a 500). Every text field
+ * (and every field name) is checked for characters that may not be stored — NUL, other control
+ * characters, lone surrogates — and refused with a 400 naming the field before any action
+ * reads it (server/validation/text.ts).
+ */
 export async function readForm(request: Request): Promise<FormData> {
+  let form: FormData;
   try {
-    return await request.formData();
+    form = await request.formData();
   } catch {
     throw data({ message: "The request body is not a readable form submission." }, { status: 400 });
   }
+  for (const [key, value] of form.entries()) {
+    const problem = textProblem(key) ?? (typeof value === "string" ? textProblem(value) : textProblem(value.name));
+    if (problem) throw data({ message: textProblemMessage({ path: key, problem }), field: printableName(key) }, { status: 400 });
+  }
+  return form;
+}
+
+/**
+ * A JSON request body, or a 400: for a body that is not JSON, and for any string in it (key or
+ * value) that may not be stored, naming where it is.
+ */
+export async function readJson(request: Request): Promise<unknown> {
+  let body: unknown;
+  try {
+    body = await request.json();
+  } catch {
+    throw Response.json({ error: "The request body is not JSON." }, { status: 400 });
+  }
+  const found = findTextProblem(body);
+  if (found) throw Response.json({ error: textProblemMessage(found), issues: [{ path: found.path, message: found.problem }] }, { status: 400 });
+  return body;
 }
 
 /** Plain string values of a form; files and repeated keys beyond the first are ignored. */
@@ -54,11 +82,6 @@ export function formFailure(errors: FieldErrors, values: Record<string, string>,
 /** The action result for refused input, with status 400 unless said otherwise. */
 export function invalidForm(errors: FieldErrors, values: Record<string, string>, status: RefusalStatus = 400, headers?: HeadersInit) {
   return data(formFailure(errors, values), { status, headers });
-}
-
-/** The origin used for e-mailed links: APP_ORIGIN when set, else the request's own. */
-export function appOriginOf(request: Request, configured: string | undefined): string {
-  return (configured ?? new URL(request.url).origin).replace(/\/+$/, "");
 }
 
 /** 400 for an intent that this action does not know. */

@@ -6,21 +6,31 @@ import { createRequestHandler } from "@react-router/express";
 import compression from "compression";
 import express from "express";
 import type { ServerBuild } from "react-router";
+import { appOrigin, getEnvironment, isOutboxEnabled, listensOnLoopbackOnly } from "../config.server.ts";
+import { outboxLink } from "../mail/outbox-access.server.ts";
 import { createRequestContext } from "./request-context.server.ts";
-import { clientAddressOf, requestSizeLimit, sameOriginGuard, securityHeaders } from "./security.ts";
+import { canonicalOrigin, clientAddressOf, requestSizeLimit, requestTextGuard, sameOriginGuard, securityHeaders } from "./security.ts";
+import { MAX_DOCUMENT_REQUEST_BYTES, MAX_REQUEST_BYTES } from "../validation/limits.ts";
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "../..");
-const development = process.env.NODE_ENV !== "production";
-const port = Number.parseInt(process.env.PORT ?? "3000", 10);
-const host = process.env.HOST ?? "127.0.0.1";
+// Read and checked before anything listens: production without APP_ORIGIN stops here.
+const environment = getEnvironment();
+const development = environment.NODE_ENV !== "production";
+const port = environment.PORT;
+const host = environment.HOST;
 
 const app = express();
 app.disable("x-powered-by");
-app.set("trust proxy", process.env.TRUST_PROXY === "1");
+app.set("trust proxy", environment.TRUST_PROXY === "1");
 app.use(compression());
 app.use(securityHeaders({ development }));
-app.use(requestSizeLimit(Number(process.env.MAX_REQUEST_BYTES ?? 2 * 1024 * 1024)));
-app.use(sameOriginGuard());
+app.use(requestTextGuard());
+// The routes that carry a whole model document take one as large as any export (server/validation/limits.ts).
+// …and the REST API's two that take a model document (server/api/v1: create a device, propose a change).
+const DOCUMENT_ROUTES = /^(\/o\/[^/]+\/devices\/(import|[^/]+\/api\/proposals)(\.data)?|\/api\/v1\/devices(\/[^/]+\/proposals)?)$/;
+app.use(requestSizeLimit(Number(process.env.MAX_REQUEST_BYTES ?? MAX_REQUEST_BYTES), { paths: DOCUMENT_ROUTES, maximumBytes: MAX_DOCUMENT_REQUEST_BYTES }));
+app.use(sameOriginGuard(appOrigin()));
+app.use(canonicalOrigin(appOrigin()));
 
 // React Router's middleware takes over from here: the guard resolves user, organisation and device.
 function getLoadContext(request: express.Request, response: express.Response) {
@@ -49,8 +59,15 @@ if (development) {
   app.all(/.*/, createRequestHandler({ build, mode: "production", getLoadContext }));
 }
 
-const server = app.listen(port, host, () => {
-  console.log(`Sallyport listening on http://${host === "127.0.0.1" ? "localhost" : host}:${port} (${development ? "development" : "production"})`);
+// Express 5 calls back with the error when the port cannot be had (EADDRINUSE): say so and stop.
+const server = app.listen(port, host, (error?: Error) => {
+  if (error) {
+    console.error(`Sallyport could not listen on ${host}:${port}: ${error.message}. Is another server using the port? Set PORT.`);
+    process.exit(1);
+  }
+  console.log(`Sallyport listening on ${host}:${port} (${development ? "development" : "production"}), served as ${appOrigin()}`);
+  if (isOutboxEnabled()) console.log(`Local outbox (keep this link to yourself): ${outboxLink()}`);
+  else if (environment.SALLYPORT_FAKE_SMTP === "1" && !listensOnLoopbackOnly()) console.log("Local outbox: off, because the server listens beyond loopback (OUTBOX_BEYOND_LOOPBACK=1 opens it).");
 });
 for (const signal of ["SIGINT", "SIGTERM"] as const) {
   process.on(signal, () => server.close(() => process.exit(0)));

@@ -4,23 +4,31 @@
 import { data } from "react-router";
 import { ProbeError } from "../engine/index.ts";
 import { Refusal } from "../errors.ts";
+import { failureKindOf } from "./failures.server.ts";
 import { formFailure, type FieldErrors } from "./form.server.ts";
 
-/** The thrown value as a Refusal; the engine's probe input errors count as 400s. Re-throws anything else. */
+/**
+ * The thrown value as a Refusal; the engine's probe input errors count as 400s, and a unique
+ * constraint a concurrent request won as a 409 (docs/decisions/013). Re-throws anything else.
+ */
 export function refusalOf(error: unknown): Refusal {
   if (error instanceof Refusal) return error;
   if (error instanceof ProbeError) return new Refusal(error.message, 400);
+  if (failureKindOf(error) === "conflict") return new Refusal("Someone else made the same change at the same moment (a name that must be unique is now taken). Nothing was changed; reload and try again.", 409);
   throw error;
 }
 
 /**
  * The response for a refused form submission: the message at the top of the form and beside its
- * field when it has one (a form without that field still shows it), the typed values kept.
+ * field when it has one (a form without that field still shows it), the typed values kept. A
+ * refusal with reasons hands them over as a list, so the message leaves their words out (the
+ * page shows each reason once).
  */
 export function refusedForm(error: unknown, values: Record<string, string>) {
   const refusal = refusalOf(error);
-  const errors: FieldErrors = { form: refusal.message };
-  if (refusal.field) errors[refusal.field] = refusal.message;
+  const message = refusal.reasons.length > 0 && refusal.lead ? refusal.lead : refusal.message;
+  const errors: FieldErrors = { form: message };
+  if (refusal.field) errors[refusal.field] = message;
   return data(formFailure(errors, values, { issues: refusal.issues, conflict: refusal.conflict ?? null, reasons: refusal.reasons, effect: refusal.effect ?? null }), { status: refusal.status, headers: refusal.headers });
 }
 

@@ -4,6 +4,14 @@ import { ROLES } from "#models/roles.ts";
 import { NAME_PATTERN } from "../engine/vocabulary.ts";
 import { timeZoneProblem } from "../workspace/issue-words.ts";
 import { REASON_MAX, shortReasonMessage, type DismissalRule } from "../services/dismissal-rules.ts";
+import { API_TOKEN_SCOPES, SERVICE_TOKEN_ROLES, TOKEN_LIFETIMES_DAYS } from "#models/api-token-words.ts";
+import { IdSchema } from "../validation/ids.ts";
+import { refineText } from "../validation/text.ts";
+
+export { IdSchema };
+
+/** A one-line name or title: no control, line-break or bidirectional override characters (server/validation/text.ts). */
+const NameText = z.string().superRefine(refineText("name"));
 
 // Field schemas shared by the actions, so each field is validated the same way everywhere.
 export const EmailSchema = z
@@ -14,9 +22,9 @@ export const EmailSchema = z
   .max(254, "An e-mail address has at most 254 characters.")
   .email("Enter a valid e-mail address, like name@example.com.");
 
-export const PersonNameSchema = z.string().trim().min(1, "Enter a name.").max(100, "Use at most 100 characters.");
+export const PersonNameSchema = NameText.trim().min(1, "Enter a name.").max(100, "Use at most 100 characters.");
 
-export const OrganisationNameSchema = z.string().trim().min(2, "Enter the organisation's name (at least 2 characters).").max(100, "Use at most 100 characters.");
+export const OrganisationNameSchema = NameText.trim().min(2, "Enter the organisation's name (at least 2 characters).").max(100, "Use at most 100 characters.");
 
 export const RoleSchema = z.enum(ROLES, { message: `Choose one of: ${ROLES.join(", ")}.` });
 
@@ -34,7 +42,6 @@ export const TimeZoneSchema = z
     if (problem) context.addIssue({ code: "custom", message: problem });
   });
 
-export const IdSchema = z.string().uuid("That identifier is not valid.");
 
 /** The import page's last step for a new revision of a device: its effect was read (the box ticked). */
 export const ImportEffectReadSchema = z.object({
@@ -74,8 +81,8 @@ export const ResetPasswordSchema = z.object({ password: PasswordInputSchema });
 export const InvitationSignUpSchema = z.object({ name: PersonNameSchema, password: PasswordInputSchema });
 
 export const SiteSchema = z.object({
-  name: z.string().trim().min(1, "Enter the site's name.").max(100, "Use at most 100 characters."),
-  customer: z.string().trim().max(100, "Use at most 100 characters.").default(""),
+  name: NameText.trim().min(1, "Enter the site's name.").max(100, "Use at most 100 characters."),
+  customer: NameText.trim().max(100, "Use at most 100 characters.").default(""),
   location: z.string().trim().max(200, "Use at most 200 characters.").default(""),
 });
 
@@ -102,9 +109,9 @@ export const ChangePasswordSchema = z.object({
 const WrittenReason = z.string().trim().max(2000, "Use at most 2,000 characters.");
 
 export const ProposalDetailsSchema = z.object({
-  title: z.string().trim().min(3, "Give the change a title of at least 3 characters; it becomes the revision's message.").max(200, "Use at most 200 characters."),
+  title: NameText.trim().min(3, "Give the change a title of at least 3 characters; it becomes the revision's message.").max(200, "Use at most 200 characters."),
   reason: z.string().trim().max(4000, "Use at most 4,000 characters.").default(""),
-  ticket: z.string().trim().max(100, "Use at most 100 characters.").default(""),
+  ticket: NameText.trim().max(100, "Use at most 100 characters.").default(""),
   windowStart: z.string().trim().min(1, "Enter when the change window starts."),
   windowEnd: z.string().trim().min(1, "Enter when the change window ends."),
   workFrom: z
@@ -160,3 +167,31 @@ export const ChangePolicySchema = z.object({
     .optional()
     .transform((value) => value === "on" || value === "true"),
 });
+
+// ---------------------------------------------------------------------------------------------
+// API tokens (docs/decisions/014): personal ones on the account page, service tokens in the
+// organisation's settings. The name says where a token is used; it is one line of plain text (NameText).
+
+const TokenNameSchema = NameText.trim().min(1, "Name the token after where it is used, e.g. “nightly exposure check”.").max(100, "Use at most 100 characters.");
+
+const TokenScopeSchema = z.enum(API_TOKEN_SCOPES, { message: "Choose read, or read and write." });
+
+const TokenLifetimeSchema = z.coerce
+  .number({ message: "Choose how long the token works." })
+  .refine((days) => (TOKEN_LIFETIMES_DAYS as readonly number[]).includes(days), `Choose ${TOKEN_LIFETIMES_DAYS.join(", ")} days.`);
+
+export const PersonalTokenSchema = z.object({
+  name: TokenNameSchema,
+  organisation: z.string().trim().regex(/^[a-z0-9-]{1,63}$/, "Choose one of your organisations."),
+  scope: TokenScopeSchema,
+  lifetimeDays: TokenLifetimeSchema,
+});
+
+export const ServiceTokenSchema = z.object({
+  name: TokenNameSchema,
+  role: z.enum(SERVICE_TOKEN_ROLES, { message: `Choose the role it acts with: ${SERVICE_TOKEN_ROLES.join(", ")}.` }),
+  scope: TokenScopeSchema,
+  lifetimeDays: TokenLifetimeSchema,
+});
+
+export const TokenIdSchema = z.object({ tokenId: IdSchema });

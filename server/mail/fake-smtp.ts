@@ -1,6 +1,6 @@
 import { mkdirSync, writeFileSync } from "node:fs";
 import path from "node:path";
-import { randomBytes } from "node:crypto";
+import { createHash, randomBytes } from "node:crypto";
 import { SMTPServer } from "smtp-server";
 
 export type FakeSmtp = { port: number; close: () => Promise<void> };
@@ -14,7 +14,8 @@ export async function startFakeSmtp(options: { port: number; directory: string; 
   const server = new SMTPServer({
     authOptional: true,
     disabledCommands: ["STARTTLS", "AUTH"],
-    banner: "Sallyport local fake SMTP",
+    // Names the folder it writes to (hashed), so the set-up scripts reuse only their own server.
+    banner: `Sallyport local fake SMTP for ${createHash("sha256").update(options.directory).digest("hex").slice(0, 12)}`,
     logger: false,
     size: 5 * 1024 * 1024,
     onData(stream, _session, callback) {

@@ -4,8 +4,7 @@
 // guard (an operator network loses every login path), the address the author works from losing
 // its login, and the device's expectations that held before and fail after — or can no longer
 // be checked (docs/decisions/011). Callers only read `kind`, `words` and `details`.
-import { DateTime } from "luxon";
-import { compareExpectations, DAYS, lockoutGuard, outcomeRank, trace, type CompiledModel, type Expectation, type ExpectationResult } from "../engine/index.ts";
+import { compareExpectations, formatWeekMinute, instantOfWeekMinute, lockoutGuard, outcomeRank, trace, type CompiledModel, type Expectation, type ExpectationResult } from "../engine/index.ts";
 
 import { OUTCOME_LABELS } from "../engine/vocabulary.ts";
 import type { GateReason } from "./gate-words.ts";
@@ -65,17 +64,7 @@ export function gateReasons(input: GateInput): GateReason[] {
   return reasons;
 }
 
-// A week without daylight-saving changes in any zone that has them (they fall in March–April
-// and September–November), starting on a Monday: week minute 0 is Monday 00:00.
-const REFERENCE_MONDAY = { year: 2026, month: 1, day: 5 };
-
 const LOGIN = outcomeRank("login-mfa");
-
-/** "mon 08:00" for a week minute (Monday 00:00 is 0). */
-function weekTime(minute: number): string {
-  const inDay = minute % 1440;
-  return `${DAYS[Math.floor(minute / 1440)]} ${String(Math.floor(inDay / 60)).padStart(2, "0")}:${String(inDay % 60).padStart(2, "0")}`;
-}
 
 /**
  * Every interface × login service on which the address gets a login (with or without a second
@@ -84,12 +73,10 @@ function weekTime(minute: number): string {
  * slices), traced at each slice's start.
  */
 export function loginPaths(device: CompiledModel, address: string): string[] {
-  const zone = device.model.device.timezone;
-  const monday = DateTime.fromObject({ ...REFERENCE_MONDAY, hour: 0, minute: 0 }, { zone });
   const starts = [...new Set(device.week.slices.map((slice) => slice.start))].sort((a, b) => a - b);
   const paths = new Map<string, { minutes: number[] }>();
   for (const minute of starts) {
-    const at = monday.plus({ minutes: minute }).toMillis();
+    const at = instantOfWeekMinute(device, minute);
     for (const entry of device.model.interfaces) {
       for (const service of device.catalogue) {
         if (service.kind !== "login") continue;
@@ -102,5 +89,5 @@ export function loginPaths(device: CompiledModel, address: string): string[] {
       }
     }
   }
-  return [...paths].map(([key, { minutes }]) => (minutes.length === starts.length ? key : `${key} (from ${weekTime(minutes[0])})`));
+  return [...paths].map(([key, { minutes }]) => (minutes.length === starts.length ? key : `${key} (from ${formatWeekMinute(minutes[0])})`));
 }

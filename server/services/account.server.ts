@@ -4,7 +4,7 @@
 import { Op, UniqueConstraintError } from "sequelize";
 import { AuditEvent, EmailChange, PasswordReset, Session, User } from "#models/index.ts";
 import { hashPassword, verifyPassword } from "../auth/password.server.ts";
-import { checkSignInThrottle, clearAccountFailures, recordSignInFailure } from "../auth/throttle.server.ts";
+import { beginPasswordAttempt } from "../auth/throttle.server.ts";
 import { createToken, hashToken } from "../auth/tokens.server.ts";
 import { getDatabase } from "../db/database.server.ts";
 import { formatDuration } from "../engine/format.ts";
@@ -24,18 +24,17 @@ const actorOf = (user: User, clientAddress: string): AuditActor => ({ userId: us
  * session cannot be used to guess it. Refused on the "currentPassword" field.
  */
 async function requireCurrentPassword(user: User, password: string, clientAddress: string): Promise<void> {
-  const verdict = await checkSignInThrottle(user.email, clientAddress);
+  const attempt = await beginPasswordAttempt(user.email, clientAddress);
+  const { verdict } = attempt;
   if (verdict.throttled) {
     throw new Refusal(`Too many wrong passwords. Try again in ${formatDuration(Math.ceil(verdict.retryAfterSeconds / 60), "minute")}.`, 429, {
       field: "currentPassword",
       headers: { "Retry-After": String(verdict.retryAfterSeconds) },
     });
   }
-  if (!(await verifyPassword(user.passwordHash, password))) {
-    await recordSignInFailure(user.email, clientAddress);
-    throw new Refusal("That is not your current password.", 400, { field: "currentPassword" });
-  }
-  await clearAccountFailures(user.email);
+  const valid = await verifyPassword(user.passwordHash, password);
+  await attempt.settle(valid);
+  if (!valid) throw new Refusal("That is not your current password.", 400, { field: "currentPassword" });
 }
 
 /** Changes the user's display name; false when it is the same. */

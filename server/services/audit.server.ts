@@ -2,8 +2,10 @@ import { Op, type Transaction, type WhereOptions } from "sequelize";
 import { AuditEvent, Device, Membership, Organisation, Site, User } from "#models/index.ts";
 import { isAuditAction, type AuditAction, type AuditTargetType } from "#models/audit-actions.ts";
 import { pageOf } from "../analysis/paging.ts";
+import { isUuid } from "../validation/ids.ts";
 
-export type AuditActor = { userId: string | null; email: string; clientAddress: string };
+/** Who did it; `apiToken` when they did it through the REST API (docs/decisions/014). */
+export type AuditActor = { userId: string | null; email: string; clientAddress: string; apiToken?: { id: string; name: string } };
 
 export type AuditEntry = {
   organisationId: string | null;
@@ -28,7 +30,28 @@ export async function recordAuditEvent(actor: AuditActor, entry: AuditEntry, tra
     targetId: entry.targetId ?? "",
     changes: entry.changes ?? {},
     clientAddress: actor.clientAddress.slice(0, 64),
+    apiTokenId: actor.apiToken?.id ?? null,
+    apiTokenName: actor.apiToken?.name ?? "",
   }, { transaction });
+}
+
+/**
+ * Appends several lines in one statement, in the change's transaction: for a change of many
+ * objects at once (a CSV import of thousands of shared objects), where one insert per line
+ * would cost a round trip each. The same rows `recordAuditEvent` writes, in the given order.
+ */
+export async function recordAuditEvents(actor: AuditActor, entries: readonly AuditEntry[], transaction: Transaction): Promise<void> {
+  if (entries.length === 0) return;
+  const rows = entries.map((entry) => ({ organisation_id: entry.organisationId, action: entry.action, target_type: entry.targetType, target_id: entry.targetId ?? "", changes: entry.changes ?? {} }));
+  // One statement with the rows as one JSON parameter: Sequelize's bulkCreate spent seconds building 25,000 rows.
+  await AuditEvent.sequelize!.query(
+    `INSERT INTO audit_events (organisation_id, actor_user_id, actor_email, action, target_type, target_id, changes, client_address)
+     SELECT r.organisation_id, :actorUserId, :actorEmail, r.action, r.target_type, r.target_id, r.changes, :clientAddress
+     FROM ROWS FROM (jsonb_to_recordset(CAST(:rows AS jsonb)) AS (organisation_id uuid, action text, target_type text, target_id text, changes jsonb))
+       WITH ORDINALITY AS r(organisation_id, action, target_type, target_id, changes, ordinal)
+     ORDER BY r.ordinal`,
+    { replacements: { actorUserId: actor.userId, actorEmail: actor.email, clientAddress: actor.clientAddress.slice(0, 64), rows: JSON.stringify(rows) }, transaction },
+  );
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -51,8 +74,6 @@ export type AuditQuery = {
   page: string;
 };
 
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
-const isUuid = (value: string) => UUID.test(value);
 
 /** A calendar day "YYYY-MM-DD" that exists (ISO 8601 calendar date), else "". */
 function dayOf(value: string | null): string {
@@ -109,6 +130,8 @@ export type AuditRow = {
   targetName: string | null;
   changes: Record<string, unknown>;
   clientAddress: string;
+  /** The API token the entry was made through ("" when made in the app). */
+  apiTokenName: string;
 };
 
 const text = (value: unknown): string | null => (typeof value === "string" && value !== "" ? value : null);
@@ -180,6 +203,7 @@ async function withNames(organisationId: string, events: readonly AuditEvent[]):
       targetName: names.get(key) ?? recorded.get(key) ?? recordedName(event),
       changes: event.changes,
       clientAddress: event.clientAddress,
+      apiTokenName: event.apiTokenName,
     };
   });
 }

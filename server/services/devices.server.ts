@@ -6,6 +6,7 @@ import { revisionAnalysisQueue } from "../jobs/revision-analysis.server.ts";
 import type { ValidationIssue } from "../engine/index.ts";
 import type { AuditAction } from "#models/audit-actions.ts";
 import { Refusal } from "../errors.ts";
+import { isUuid } from "../validation/ids.ts";
 import { hasAtLeastRole, type Role } from "../auth/roles.ts";
 import { WRITTEN_REASON_MIN } from "../proposals/state.ts";
 import { countElements, diffDocuments, effectiveDocument, validateDocument, type DocumentChange, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
@@ -17,10 +18,10 @@ import { createSite, type SiteInput } from "./sites.server.ts";
  * The model did not validate: every problem with its document path. When every problem is in one
  * device setting (a new device's time zone, say), the message belongs beside that field.
  */
-export function invalidModel(issues: readonly ValidationIssue[], lead = "Not saved: the model would not be valid."): Refusal {
+export function invalidModel(issues: readonly ValidationIssue[], lead = "Not saved: the model would not be valid.", tooLarge = false): Refusal {
   const settings = new Set(issues.map((issue) => /^device\.(\w+)$/.exec(issue.path)?.[1] ?? null));
   const field = settings.size === 1 ? [...settings][0] ?? undefined : undefined;
-  return new Refusal(`${lead} ${issues.map((issue) => `${issue.path || "document"}: ${issue.message}`).join(" · ")}`, 400, { issues, field });
+  return new Refusal(`${lead} ${issues.map((issue) => `${issue.path || "document"}: ${issue.message}`).join(" · ")}`, tooLarge ? 413 : 400, { issues, field });
 }
 
 /** The edit was based on an older revision than the current one. */
@@ -85,7 +86,7 @@ export async function listRevisions(deviceId: string): Promise<Array<{ number: n
 }
 
 async function assertSiteOfOrganisation(organisationId: string, siteId: string): Promise<Site> {
-  const site = /^[0-9a-f-]{36}$/i.test(siteId) ? await Site.findOne({ where: { id: siteId, organisationId } }) : null;
+  const site = isUuid(siteId) ? await Site.findOne({ where: { id: siteId, organisationId } }) : null;
   if (!site) throw new Refusal("No such site in this organisation.", 404, { field: "siteId" });
   return site;
 }
@@ -131,7 +132,7 @@ export async function createDevice(organisationId: string, site: DeviceSite, inp
       // The library as no concurrent shared-object change is replacing it (shared-library-lock.server.ts).
       await lockSharedLibrary(transaction, organisationId, "read");
       const validated = validateDocument(input, await loadSharedLibrary(organisationId, transaction));
-      if (!validated.ok) throw invalidModel(validated.errors, "The document is not a valid Sallyport model.");
+      if (!validated.ok) throw invalidModel(validated.errors, "The document is not a valid Sallyport model.", validated.tooLarge);
       name = validated.document.device.name;
       const summary = countsOf(validated.document, validated.shared);
       // A refused site name rolls the whole transaction back: no site without its device.
@@ -217,6 +218,8 @@ export async function saveEdit(
   message: string,
   options: { siteId?: string; guard?: SaveGuard } = {},
 ): Promise<{ number: number; changes: DocumentChange[]; note: SaveGuardNote | null }> {
+  // Checked here as well as in the routes: a NaN or 1e309 would otherwise reach SQL.
+  if (!Number.isSafeInteger(baseNumber) || baseNumber < 1) throw new Refusal("The revision this change is based on is missing or not a whole number; reload the page and try again.", 400, { field: "baseRevision" });
   if (options.siteId) await assertSiteOfOrganisation(organisationId, options.siteId);
   try {
     const result = await getDatabase().transaction(async (transaction) => {
@@ -232,7 +235,7 @@ export async function saveEdit(
         throw revisionConflict(baseNumber, currentNumber, changes, current.revision.authorEmail);
       }
       const validated = validateDocument(edit(current.document), library);
-      if (!validated.ok) throw invalidModel(validated.errors);
+      if (!validated.ok) throw invalidModel(validated.errors, undefined, validated.tooLarge);
       const changes = diffDocuments(current.effective, validated.effective);
       if (changes.length === 0 && !options.siteId) return { number: currentNumber, changes, saved: null, note: null };
       const note = options.guard ? await options.guard(current, validated, transaction) : null;

@@ -53,23 +53,26 @@ export async function inviteMember(
   const existing = await Membership.findOne({ where: { organisationId: organisation.id }, include: [{ model: User, as: "user", where: { email: input.email }, required: true }] });
   if (existing) throw new Refusal(`${input.email} is already a member of ${organisation.name}.`, 409);
   const token = createToken();
-  const invitation = await getDatabase().transaction(async (transaction) => {
+  await getDatabase().transaction(async (transaction) => {
     // A new invitation to the same address replaces the older ones.
     await Invitation.update({ revokedAt: new Date() }, { where: { organisationId: organisation.id, email: input.email, acceptedAt: null, revokedAt: null }, transaction });
-    return Invitation.create(
+    const created = await Invitation.create(
       { organisationId: organisation.id, invitedById: actor.userId!, email: input.email, role: input.role, tokenHash: hashToken(token), expiresAt: new Date(Date.now() + INVITATION_LIFETIME_MS), acceptedAt: null, revokedAt: null },
       { transaction },
     );
+    await recordAuditEvent(actor, { organisationId: organisation.id, action: "invitation.sent", targetType: "invitation", targetId: created.id, changes: { email: input.email, role: input.role } }, transaction);
   });
+  // After the commit: the link works once the mail is out. The link's origin is configured, never the request's Host.
   await sendInvitationMail({ to: input.email, organisationName: organisation.name, inviterName: actor.name, role: input.role, link: `${appOrigin}/invitations/${token}` });
-  await recordAuditEvent(actor, { organisationId: organisation.id, action: "invitation.sent", targetType: "invitation", targetId: invitation.id, changes: { email: input.email, role: input.role } });
 }
 
 export async function revokeInvitation(organisation: Organisation, invitationId: string, actor: AuditActor): Promise<void> {
   const invitation = await Invitation.findOne({ where: { id: invitationId, organisationId: organisation.id, acceptedAt: null, revokedAt: null } });
   if (!invitation) throw new Refusal("That invitation is no longer open.", 404);
-  await invitation.update({ revokedAt: new Date() });
-  await recordAuditEvent(actor, { organisationId: organisation.id, action: "invitation.revoked", targetType: "invitation", targetId: invitation.id, changes: { email: invitation.email } });
+  await getDatabase().transaction(async (transaction) => {
+    await invitation.update({ revokedAt: new Date() }, { transaction });
+    await recordAuditEvent(actor, { organisationId: organisation.id, action: "invitation.revoked", targetType: "invitation", targetId: invitation.id, changes: { email: invitation.email } }, transaction);
+  });
 }
 
 async function countOwners(organisationId: string): Promise<number> {
@@ -86,8 +89,10 @@ export async function changeMemberRole(organisation: Organisation, membershipId:
   }
   if (membership.role === role) return;
   const before = membership.role;
-  await membership.update({ role });
-  await recordAuditEvent(actor, { organisationId: organisation.id, action: "member.role-changed", targetType: "membership", targetId: membership.id, changes: { email: membership.user?.email, role: { from: before, to: role } } });
+  await getDatabase().transaction(async (transaction) => {
+    await membership.update({ role }, { transaction });
+    await recordAuditEvent(actor, { organisationId: organisation.id, action: "member.role-changed", targetType: "membership", targetId: membership.id, changes: { email: membership.user?.email, role: { from: before, to: role } } }, transaction);
+  });
 }
 
 /** Gives or takes the trainer capability (docs/decisions/016); the audit entry in the same transaction. */
@@ -108,8 +113,10 @@ export async function removeMember(organisation: Organisation, membershipId: str
     if (actor.role !== "owner") throw new Refusal("Only an owner can remove an owner.", 403);
     if ((await countOwners(organisation.id)) <= 1) throw new Refusal("This is the last owner; an organisation always keeps one.", 409);
   }
-  await membership.destroy();
-  await recordAuditEvent(actor, { organisationId: organisation.id, action: "member.removed", targetType: "membership", targetId: membership.id, changes: { email: membership.user?.email, role: membership.role } });
+  await getDatabase().transaction(async (transaction) => {
+    await membership.destroy({ transaction });
+    await recordAuditEvent(actor, { organisationId: organisation.id, action: "member.removed", targetType: "membership", targetId: membership.id, changes: { email: membership.user?.email, role: membership.role } }, transaction);
+  });
 }
 
 export type OpenInvitation = { invitation: Invitation; organisationName: string; existingUser: User | null };
@@ -135,7 +142,7 @@ export async function acceptInvitation(open: OpenInvitation, user: User, clientA
     if (updated !== 1) throw new Refusal("This invitation has already been used.", 409);
     const existing = await Membership.findOne({ where: { organisationId: invitation.organisationId, userId: user.id }, transaction });
     if (!existing) await Membership.create({ organisationId: invitation.organisationId, userId: user.id, role: invitation.role }, { transaction });
+    await recordAuditEvent({ userId: user.id, email: user.email, clientAddress }, { organisationId: invitation.organisationId, action: "invitation.accepted", targetType: "invitation", targetId: invitation.id, changes: { email: user.email, role: invitation.role } }, transaction);
   });
-  await recordAuditEvent({ userId: user.id, email: user.email, clientAddress }, { organisationId: invitation.organisationId, action: "invitation.accepted", targetType: "invitation", targetId: invitation.id, changes: { email: user.email, role: invitation.role } });
   return invitation.organisation!.slug;
 }

@@ -17,31 +17,40 @@ import { ChangeProposal } from "#models/index.ts";
 import { deviceRevisions, type DeviceAtRevision } from "../devices/index.ts";
 import { changeEffect, type ChangeEffect, type CompiledModel, type Expectation, type Finding } from "../engine/index.ts";
 import { effectPicture, effectView, type EffectPicture, type EffectView } from "../analysis/effect-view.ts";
+import { spaceQueryOf } from "../analysis/effect-space-params.ts";
+import { choiceOf, effectSpaces, effectSpaceView, type EffectSpace, type EffectSpaceChoice, type EffectSpaceView } from "../analysis/effect-space.ts";
 import { Refusal } from "../errors.ts";
 import { EMPTY_LIBRARY, validateDocument, type ModelDocument } from "../workspace/index.ts";
 import { compiledOn, documentDigest, validatedDraft } from "./compiled-drafts.server.ts";
 import { loadSharedLibrary } from "./devices.server.ts";
 import { listExpectations } from "./expectations.server.ts";
+import { isUuid } from "../validation/ids.ts";
 
 export type ProposalEffectRef = { organisationId: string; deviceId: string; proposalId: string };
 
 /** What the effect compares: the base revision and the draft (its version), or the revision applying it made. */
 export type EffectBasis = { baseRevision: number; draftVersion: number; appliedRevision: number | null; timezone: string };
 
-export type ProposalEffect = ({ ok: true; view: EffectView } | { ok: false; problems: string[] }) & { basis: EffectBasis };
+/**
+ * The effect as the page shows it: the view, the interface × service × family address spaces
+ * where some source moves (`spaces`), and the one asked for at the block asked for (`space`).
+ */
+export type ProposalEffect = ({ ok: true; view: EffectView; spaces: EffectSpaceChoice[]; space: EffectSpaceView | null } | { ok: false; problems: string[] }) & { basis: EffectBasis };
+
+/** Which address space of the effect to draw, and where in it (the page's query, effect-space-params.ts). */
+export type EffectSpaceQuery = ReturnType<typeof spaceQueryOf>;
 
 /** The part of the effect the draft editor refreshes after each edit. */
 export const EFFECT_SUMMARY_KEYS = ["headline", "changed", "blocked", "totals", "blocking"] as const;
 export type EffectSummary = Pick<ChangeEffect, (typeof EFFECT_SUMMARY_KEYS)[number]>;
 export type ProposalEffectSummary = ({ ok: true; summary: EffectSummary } | { ok: false; problems: string[] }) & { basis: EffectBasis };
 
-type Computed = { effect: ChangeEffect; picture: EffectPicture; timezone: string };
+type Computed = { effect: ChangeEffect; picture: EffectPicture; spaces: EffectSpace[]; timezone: string };
 
 /** A few effects: each holds its diff's CIDR lists (for paging sources); the compiled models live in compiled-drafts. */
 const effects = new LRUCache<string, Computed>({ max: 24 });
 const summaries = new LRUCache<string, { summary: EffectSummary; timezone: string }>({ max: 48 });
 
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 const digest = (value: unknown): string => createHash("sha256").update(JSON.stringify(value)).digest("hex");
 
@@ -59,6 +68,7 @@ type After = { compiled: CompiledModel; findings: () => readonly Finding[]; time
 /** Everything the effect depends on, read once; the draft document itself only when no cache has it. */
 type Basis = {
   basis: EffectBasis;
+  title: string;
   base: DeviceAtRevision;
   options: { workFrom: string; expectations: readonly Expectation[] };
   /** Names exactly this comparison: base revision, the draft (version and shared objects) or the applied revision, the expectations, the work-from address. */
@@ -68,7 +78,7 @@ type Basis = {
 };
 
 async function basisOf(ref: ProposalEffectRef): Promise<Basis> {
-  if (!UUID.test(ref.proposalId) || !UUID.test(ref.deviceId)) throw new Refusal("No such proposal on this device.", 404);
+  if (!isUuid(ref.proposalId) || !isUuid(ref.deviceId)) throw new Refusal("No such proposal on this device.", 404);
   // The draft document can be large (a 2,000-rule device): read it only when needed.
   const proposal = await ChangeProposal.findOne({ where: { id: ref.proposalId, organisationId: ref.organisationId, deviceId: ref.deviceId }, attributes: { exclude: ["draftDocument"] } });
   if (!proposal) throw new Refusal("No such proposal on this device.", 404);
@@ -83,12 +93,13 @@ async function basisOf(ref: ProposalEffectRef): Promise<Basis> {
   const common = `${proposal.id}|${base.revision.id}|${digest(expectations)}|${proposal.workFrom}`;
   const basis: EffectBasis = { baseRevision: base.revision.number, draftVersion: proposal.draftVersion, appliedRevision: made?.revision.number ?? null, timezone: (made ?? base).effective.device.timezone };
   if (made) {
-    return { basis, base, options, key: `${common}|r${made.revision.id}`, after: async () => ({ compiled: made.analysis.compiled, findings: () => deviceRevisions.findingsOf(made), timezone: made.effective.device.timezone }) };
+    return { basis, title: proposal.title, base, options, key: `${common}|r${made.revision.id}`, after: async () => ({ compiled: made.analysis.compiled, findings: () => deviceRevisions.findingsOf(made), timezone: made.effective.device.timezone }) };
   }
   // The draft as the engine reads it with the shared objects as they are now (the version alone does not say that).
   const libraryDigest = documentDigest(library ?? EMPTY_LIBRARY);
   return {
     basis,
+    title: proposal.title,
     base,
     options,
     key: `${common}|v${proposal.draftVersion}|${libraryDigest}`,
@@ -118,9 +129,10 @@ function effectOptions(found: Basis, afterFindings: readonly Finding[]) {
 
 /**
  * The effect of a proposal of this organisation's device (404 otherwise). `page` asks for
- * another page of one group's sources (`group` is the group's key, "login-mfa>silent").
+ * another page of one group's sources (`group` is the group's key, "login-mfa>silent"); `space`
+ * for an address space of the picture and a block in it.
  */
-export async function proposalEffect(ref: ProposalEffectRef, page: { group?: string; offset?: number; limit?: number } = {}): Promise<ProposalEffect> {
+export async function proposalEffect(ref: ProposalEffectRef, page: { group?: string; offset?: number; limit?: number } = {}, space: EffectSpaceQuery = {}): Promise<ProposalEffect> {
   const found = await basisOf(ref);
   let result = effects.get(found.key);
   if (!result) {
@@ -130,12 +142,18 @@ export async function proposalEffect(ref: ProposalEffectRef, page: { group?: str
     result = effects.get(found.key);
     if (!result) {
       const effect = changeEffect(found.base.analysis.compiled, after.compiled, effectOptions(found, after.findings()));
-      result = { effect, picture: effectPicture(found.base.analysis.compiled, after.compiled, effect.cells, after.timezone), timezone: after.timezone };
+      result = { effect, picture: effectPicture(found.base.analysis.compiled, after.compiled, effect.cells, after.timezone), spaces: effectSpaces(after.compiled, effect.cells), timezone: after.timezone };
       effects.set(found.key, result);
       summaries.set(found.key, { summary: summaryOf(effect), timezone: after.timezone });
     }
   }
-  return { ok: true, basis: { ...found.basis, timezone: result.timezone }, view: effectView(result.effect, result.picture, result.timezone, page) };
+  return {
+    ok: true,
+    basis: { ...found.basis, timezone: result.timezone },
+    view: effectView(result.effect, result.picture, result.timezone, page),
+    spaces: result.spaces.map(choiceOf),
+    space: effectSpaceView(result.spaces, space),
+  };
 }
 
 /** The headline, totals and what blocks, for the draft editor: the same as the full effect's, without the draft's findings. */
@@ -150,4 +168,22 @@ export async function proposalEffectSummary(ref: ProposalEffectRef): Promise<Pro
   const summary = summaryOf(effect);
   summaries.set(found.key, { summary, timezone: after.timezone });
   return { ok: true, basis: { ...found.basis, timezone: after.timezone }, summary };
+}
+
+/** What a probe is traced on for a proposal: one side of its change, compiled, with what the page says about it. */
+export type ProposalTraceModel = { compiled: CompiledModel; title: string; basis: EffectBasis };
+
+/**
+ * One side of a proposal's change, read-only, for tracing a probe on it (the trace page's "trace
+ * on base" and "trace on draft"): its base revision, or its draft compiled on the base (an
+ * applied proposal: the revision it made) — the same models the effect compares. 404 for another
+ * device's or organisation's proposal; 409 when the draft no longer validates (a shared object it
+ * uses changed).
+ */
+export async function proposalTraceModel(ref: ProposalEffectRef, side: "base" | "draft"): Promise<ProposalTraceModel> {
+  const found = await basisOf(ref);
+  if (side === "base") return { compiled: found.base.analysis.compiled, title: found.title, basis: { ...found.basis, timezone: found.base.effective.device.timezone } };
+  const after = await found.after();
+  if ("problems" in after) throw new Refusal(`The draft of “${found.title}” is no longer a valid model, so nothing can be traced on it: ${after.problems.slice(0, 3).join(" · ")}. Edit the draft.`, 409);
+  return { compiled: after.compiled, title: found.title, basis: { ...found.basis, timezone: after.timezone } };
 }

@@ -40,6 +40,7 @@ import { listExpectations } from "./expectations.server.ts";
 import { invalidModel, loadSharedLibrary, saveEdit, writeRevision, type SaveGuard, type SaveGuardNote } from "./devices.server.ts";
 import { revisionAnalysisQueue } from "../jobs/revision-analysis.server.ts";
 import { lockSharedLibrary } from "./shared-library-lock.server.ts";
+import { isUuid } from "../validation/ids.ts";
 
 /** Who acts: the audit actor with their role in the organisation and their name. */
 export type ProposalActor = AuditActor & { role: Role; name: string };
@@ -60,7 +61,6 @@ export type EditAttempt = { apply(document: ModelDocument): ModelDocument; reado
 /** Where a new proposal's draft comes from: the current revision, a whole document (import, API), or a first edit. */
 export type ProposalSource = { kind: "revision" } | { kind: "document"; document: unknown } | { kind: "edit"; attempt: EditAttempt; message: string };
 
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 const noSuchProposal = () => new Refusal("No such proposal on this device.", 404);
 
@@ -70,14 +70,20 @@ function nowOf(environment: ProposalEnvironment): Date {
 
 /** The proposal's row, locked for the rest of the transaction; 404 when it is not this organisation's device's. */
 async function lockedProposal(ref: ProposalRef, transaction: Transaction): Promise<ChangeProposal> {
-  if (!UUID.test(ref.proposalId) || !UUID.test(ref.deviceId)) throw noSuchProposal();
+  if (!isUuid(ref.proposalId) || !isUuid(ref.deviceId)) throw noSuchProposal();
   const proposal = await ChangeProposal.findOne({ where: { id: ref.proposalId, organisationId: ref.organisationId, deviceId: ref.deviceId }, transaction, lock: transaction.LOCK.UPDATE });
   if (!proposal) throw noSuchProposal();
   return proposal;
 }
 
+/** A service token acts for no person: the proposals it makes name it as their author (docs/decisions/014). */
+function authorTokenOf(actor: AuditActor): string | null {
+  return actor.userId === null && actor.apiToken ? actor.apiToken.id : null;
+}
+
 function isAuthor(proposal: ChangeProposal, actor: AuditActor): boolean {
-  return proposal.authorUserId !== null && proposal.authorUserId === actor.userId;
+  if (proposal.authorUserId !== null) return proposal.authorUserId === actor.userId;
+  return proposal.authorTokenId !== null && proposal.authorTokenId === authorTokenOf(actor);
 }
 
 function assertAuthor(proposal: ChangeProposal, actor: AuditActor, what: string): void {
@@ -115,7 +121,7 @@ const gateCache = new LRUCache<string, readonly GateReason[]>({ max: 500 });
 /** The draft validated with the organisation's shared objects as they are now; a 409 when it no longer validates. */
 function validatedDraft(proposal: ChangeProposal, library: SharedLibrary) {
   const validated = validateDocument(proposal.draftDocument, library);
-  if (!validated.ok) throw invalidModel(validated.errors, "The draft is no longer a valid model (a shared object it uses changed). Edit the draft:");
+  if (!validated.ok) throw invalidModel(validated.errors, "The draft is no longer a valid model (a shared object it uses changed). Edit the draft:", validated.tooLarge);
   return validated;
 }
 
@@ -141,8 +147,9 @@ function gateOf(proposal: ChangeProposal, before: DeviceAtRevision, draftEffecti
   return reasons;
 }
 
+/** A refusal by the gate: `lead` says what was refused and what to do; the message adds each reason's words (for the API). */
 function gateRefusal(reasons: readonly GateReason[], lead: string, status: 403 | 409, field?: string, effect?: RefusalEffect): Refusal {
-  return new Refusal(`${lead} ${reasons.map((reason) => reason.words).join(" ")}`, status, { reasons, field, effect });
+  return new Refusal(`${lead} ${reasons.map((reason) => reason.words).join(" ")}`, status, { reasons, field, effect, lead });
 }
 
 /** "The lockout guard blocks this change", "A failing expectation blocks this change" …, capitalised. */
@@ -290,7 +297,7 @@ export async function createProposal(
       const library = await loadSharedLibrary(where.organisationId, transaction);
       const candidate = source.kind === "document" ? source.document : source.attempt.apply(current.document);
       const validated = validateDocument(candidate, library);
-      if (!validated.ok) throw invalidModel(validated.errors, source.kind === "document" ? "The document is not a valid Sallyport model." : undefined);
+      if (!validated.ok) throw invalidModel(validated.errors, source.kind === "document" ? "The document is not a valid Sallyport model." : undefined, validated.tooLarge);
       draft = validated.document;
       edits = source.kind === "document" ? editsBetween(current.document, draft).map((edit) => ({ edit, message: describeElementEdit(edit) })) : [{ edit: source.attempt.resolved, message: source.message }];
     }
@@ -308,6 +315,7 @@ export async function createProposal(
         workFrom: details.workFrom,
         authorUserId: actor.userId,
         authorEmail: actor.email,
+        authorTokenId: authorTokenOf(actor),
         submittedAt: null,
         appliedRevisionNumber: null,
         appliedByUserId: null,
@@ -338,7 +346,7 @@ export async function editDraft(ref: ProposalRef, expectedVersion: number, attem
     assertVersion(proposal, expectedVersion);
     const library = await loadSharedLibrary(ref.organisationId, transaction);
     const validated = validateDocument(attempt.apply(proposal.draftDocument), library);
-    if (!validated.ok) throw invalidModel(validated.errors);
+    if (!validated.ok) throw invalidModel(validated.errors, undefined, validated.tooLarge);
     if (canonicalJson(validated.document) === canonicalJson(proposal.draftDocument)) return { draftVersion: proposal.draftVersion, changed: false, approvers: [], proposal };
     const approvers = (await currentApprovals(proposal, transaction)).map((approval) => approval.reviewerUserId);
     const position = (await ProposalEdit.max<number, ProposalEdit>("position", { where: { proposalId: proposal.id }, transaction })) ?? 0;
@@ -663,6 +671,16 @@ function effectSummary(current: DeviceAtRevision, after: ReturnType<typeof compi
 }
 
 /**
+ * What the gate says of saving `effective` over the device's current revision directly (the
+ * import page's preview of a new revision): the same reasons the save's guard finds, read
+ * outside its transaction, on the same compiled model (compiledOn caches it for the save).
+ */
+export async function directSaveGate(current: DeviceAtRevision, effective: ModelDocument): Promise<GateReason[]> {
+  const expectations = await expectationsOf({ organisationId: current.device.organisationId, deviceId: current.device.id });
+  return gateReasons({ before: current.analysis.compiled, after: compiledOn(current, effective).compiled, expectations });
+}
+
+/**
  * The guard of a direct save in the live editor. When the organisation's changes go through
  * proposals, only an admin's break-glass save with a written reason passes (403 otherwise).
  * Otherwise a save that trips the gate — the lockout guard, or an expectation of the device
@@ -708,21 +726,27 @@ export async function saveDirectEdit(
 ): Promise<{ number: number; changes: DocumentChange[]; note: SaveGuardNote | null }> {
   const saved = await saveEdit(where.organisationId, where.deviceId, baseNumber, edit, actor, message, { siteId: options.siteId, guard: directSaveGuard(policy, actor, options.override) });
   if (saved.note?.action === "device.break-glass-saved") {
-    const link = `${(environment.appOrigin ?? "").replace(/\/+$/, "")}/o/${where.slug}/devices/${where.deviceId}/history`;
-    const reviewers = await reviewersOf(where.organisationId, [actor.userId]);
-    await deliver(
-      environment,
-      reviewers.map((reviewer) => ({
-        ...proposalMail({
-          to: reviewer.email,
-          subject: `Break-glass change: ${where.deviceName} r${saved.number}`,
-          paragraphs: [`Hello ${reviewer.name},`, `${actor.name} saved revision r${saved.number} of ${where.deviceName} directly, outside a proposal (${message}).`, `Their reason: “${String(saved.note?.changes.reason ?? "")}”.`],
-          link,
-        }),
-      })),
-    );
+    await mailBreakGlass(where.organisationId, actor, environment, {
+      subject: `Break-glass change: ${where.deviceName} r${saved.number}`,
+      what: `saved revision r${saved.number} of ${where.deviceName} directly, outside a proposal (${message})`,
+      reason: String(saved.note?.changes.reason ?? ""),
+      path: `/o/${where.slug}/devices/${where.deviceId}/history`,
+    });
   }
   return saved;
+}
+
+/**
+ * After a break-glass change is committed: e-mails every reviewer (reviewer or higher) but its
+ * author what was changed outside a proposal and why, with a link to where it shows.
+ */
+export async function mailBreakGlass(organisationId: string, actor: ProposalActor, environment: ProposalEnvironment, change: { subject: string; what: string; reason: string; path: string }): Promise<void> {
+  const link = `${(environment.appOrigin ?? "").replace(/\/+$/, "")}${change.path}`;
+  const reviewers = await reviewersOf(organisationId, [actor.userId]);
+  await deliver(
+    environment,
+    reviewers.map((reviewer) => proposalMail({ to: reviewer.email, subject: change.subject, paragraphs: [`Hello ${reviewer.name},`, `${actor.name} ${change.what}.`, `Their reason: “${change.reason}”.`], link })),
+  );
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -817,7 +841,7 @@ export async function listProposals(organisationId: string, filter: ProposalFilt
 
 /** The proposals applied to a device, by the revision each made: History links each revision to its change record. One query. */
 export async function appliedProposals(organisationId: string, deviceId: string): Promise<Array<{ revision: number; id: string; title: string }>> {
-  if (!UUID.test(deviceId)) return [];
+  if (!isUuid(deviceId)) return [];
   const rows = await ChangeProposal.findAll({ where: { organisationId, deviceId, state: "applied" }, attributes: ["id", "title", "appliedRevisionNumber"] });
   return rows.flatMap((row) => (row.appliedRevisionNumber === null ? [] : [{ revision: row.appliedRevisionNumber, id: row.id, title: row.title }]));
 }
@@ -874,7 +898,7 @@ export type ProposalView = {
 
 /** Everything the proposal page shows, for this viewer. */
 export async function proposalView(ref: ProposalRef, viewer: { userId: string; role: Role }, environment: ProposalEnvironment = {}): Promise<ProposalView> {
-  if (!UUID.test(ref.proposalId)) throw noSuchProposal();
+  if (!isUuid(ref.proposalId)) throw noSuchProposal();
   const proposal = await ChangeProposal.findOne({ where: { id: ref.proposalId, organisationId: ref.organisationId, deviceId: ref.deviceId } });
   if (!proposal) throw noSuchProposal();
   const [live, base, library, edits, comments, reviews, required] = await Promise.all([

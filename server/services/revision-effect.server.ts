@@ -2,7 +2,8 @@
 // before anything is saved: element counts before → after, the model's own changes, who gains
 // and who loses (the engine's diff), findings new and resolved, and the lockout guard. The
 // import page shows it for a new revision of an existing device.
-import { compileModel, diffModels, findings } from "../engine/index.ts";
+import { diffModels } from "../engine/index.ts";
+import { compiledOn } from "./compiled-drafts.server.ts";
 import { exposureChangeOf } from "../analysis/exposure-change.ts";
 import { deviceRevisions, type DeviceAtRevision } from "../devices/index.ts";
 import { countElements, diffDocuments, summariseDocument, type ModelDocument, type RevisionSummary } from "../workspace/index.ts";
@@ -18,11 +19,13 @@ export type RevisionEffect = DeviceEffect & {
 /**
  * The effect of replacing `current` (a device at its current revision) with the self-contained
  * document `effective`. The new model is compiled on the current one (docs/engine.md,
- * "Incremental analysis") and compared with the repository's findings of the current revision.
+ * "Incremental analysis"; compiledOn keeps it for the gate and the save that may follow) and
+ * compared with the repository's findings of the current revision.
  */
 export function revisionEffect(current: DeviceAtRevision, effective: ModelDocument): RevisionEffect {
-  const compiled = compileModel(effective, { basis: current.analysis.compiled });
-  const found = findings(compiled);
+  const draft = compiledOn(current, effective);
+  const compiled = draft.compiled;
+  const found = draft.findings();
   const diff = diffModels(current.analysis.compiled, compiled, { findings: { before: deviceRevisions.findingsOf(current), after: found } });
   return {
     deviceId: current.device.id,

@@ -1,20 +1,27 @@
 // The organisation's shared address objects and groups. A change to one takes effect on every
 // device that uses it (directly or through shared groups) at once: the change is previewed
 // with each device's exposure diff, and saving it writes the library and a new revision of each
-// of those devices in one transaction, checked against the revisions the preview showed.
+// of those devices in one transaction, checked against the revisions the preview showed. When
+// the organisation's changes go through proposals, a change that moves sources on a device is
+// an admin's break-glass step with a written reason (docs/decisions/017).
 import { createHash } from "node:crypto";
 import type { Transaction } from "sequelize";
 import { getDatabase } from "../db/database.server.ts";
-import { SharedAddressObject } from "#models/index.ts";
+import { Organisation, SharedAddressObject } from "#models/index.ts";
+import { hasAtLeastRole, type Role } from "../auth/roles.ts";
+import { WRITTEN_REASON_MIN } from "../proposals/state.ts";
+import { compiledOn } from "./compiled-drafts.server.ts";
+import { mailBreakGlass, type ProposalEnvironment } from "./proposals.server.ts";
 import type { SharedObjectKind } from "#models/shared-address-object.ts";
 import { exposureChangeOf, type ExposureChange } from "../analysis/exposure-change.ts";
 import { CsvSyntaxError, parseCsv } from "../formats/csv.ts";
-import { compileModel, diffModels, findings, MODEL_SCHEMA_VERSION, NAME_PATTERN, parseModel } from "../engine/index.ts";
+import { BUILTIN_ADDRESS_NAMES, compileModel, diffModels, findings, MODEL_SCHEMA_VERSION, NAME_PATTERN, parseModel } from "../engine/index.ts";
 import { deviceRevisions, type DeviceAtRevision } from "../devices/index.ts";
 import { Refusal } from "../errors.ts";
 import { revisionAnalysisQueue } from "../jobs/revision-analysis.server.ts";
 import { diffDocuments, EMPTY_LIBRARY, fieldMessagesForIssues, sharedObjectsUsedBy, validateDocument, type DocumentChange, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
-import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
+import { formatNumber } from "../engine/format.ts";
+import { recordAuditEvent, recordAuditEvents, type AuditActor } from "./audit.server.ts";
 import { writeRevision } from "./devices.server.ts";
 import { lockSharedLibrary } from "./shared-library-lock.server.ts";
 
@@ -22,7 +29,8 @@ export type SharedObjectInput = { kind: SharedObjectKind; name: string; items: s
 export type SharedObjectRow = SharedObjectInput & { id: string };
 
 export async function listSharedObjects(organisationId: string, transaction?: Transaction): Promise<SharedObjectRow[]> {
-  const objects = await SharedAddressObject.findAll({ where: { organisationId }, order: [["kind", "ASC"], ["name", "ASC"]], transaction });
+  // Plain rows: a library imported from CSV may hold tens of thousands, and model instances cost a second.
+  const objects = await SharedAddressObject.findAll({ where: { organisationId }, order: [["kind", "ASC"], ["name", "ASC"]], attributes: ["id", "kind", "name", "items", "description"], raw: true, transaction });
   return objects.map((object) => ({ id: object.id, kind: object.kind, name: object.name, items: object.items, description: object.description }));
 }
 
@@ -142,56 +150,103 @@ function planSave(originalName: string | null, input: SharedObjectInput): Planne
   };
 }
 
+/** At most this many saved rows are listed in a CSV report (every refused row is); the rest are counted. */
+export const CSV_REPORT_LISTED = 200;
+
+/** What became of a CSV import's rows: every refused row, the first saved ones, and the counts. */
+export type CsvReport = { rows: CsvRowReport[]; created: number; updated: number; refused: number; unlisted: number };
+
+function csvReportOf(rows: readonly CsvRowReport[]): CsvReport {
+  const refused = rows.filter((row) => row.result === "refused");
+  const saved = rows.filter((row) => row.result !== "refused");
+  const listed = [...refused, ...saved.slice(0, CSV_REPORT_LISTED)].sort((a, b) => a.row - b.row);
+  return { rows: listed, created: saved.filter((row) => row.result === "created").length, updated: saved.filter((row) => row.result === "updated").length, refused: refused.length, unlisted: saved.length - Math.min(saved.length, CSV_REPORT_LISTED) };
+}
+
+/** "a, b, c and 24,997 more": a long list of names in a few words. */
+function someNames(names: readonly string[], shown = 10): string {
+  return names.length <= shown ? names.join(", ") : `${names.slice(0, shown).join(", ")} and ${formatNumber(names.length - shown)} more`;
+}
+
+/**
+ * Which rows' entries the engine refuses, found in one parse: each row becomes an address object
+ * of its own (named after its position) in one library, and the problems are traced back to the
+ * rows by their paths. Entries are literal addresses, so an object's validity is its own.
+ */
+function rowsWithBadEntries(candidates: ReadonlyArray<{ row: number; entries: string[] }>): Set<number> {
+  if (candidates.length === 0) return new Set();
+  const parsed = parseModel({
+    schemaVersion: MODEL_SCHEMA_VERSION,
+    device: { name: "shared-library" },
+    addresses: candidates.map(({ row, entries }) => ({ name: `row-${row}`, entries })),
+    addressGroups: [],
+  });
+  if (parsed.ok) return new Set();
+  const bad = new Set<number>();
+  for (const issue of parsed.errors) {
+    const index = /^addresses\[(\d+)\]/.exec(issue.path)?.[1];
+    if (index !== undefined) bad.add(candidates[Number(index)].row);
+  }
+  return bad;
+}
+
 /**
  * Importing address objects from CSV rows `name,entries` (entries separated by spaces or
  * semicolons; a header row is optional). Each row stands alone: a bad row is reported and the
- * good ones make up the change.
+ * good ones make up the change, applied in order. The rows' entries are checked in one parse and
+ * the whole library once at the end — not the whole library per row, which made 25,000 rows take
+ * minutes (issue 14).
  */
 function planCsv(rows: string[][]): Planner {
-  return (library) => {
-    let after: SharedObjectInput[] = library.map(({ kind, name, items, description }) => ({ kind, name, items, description }));
-    const report: CsvRowReport[] = [];
-    const writes = new Map<string, LibraryWrite>();
-    for (const [index, fields] of rows.entries()) {
-      const row = index + 1;
-      const [rawName = "", rawEntries = "", ...extra] = fields.map((field) => field.trim());
-      if (row === 1 && rawName.toLowerCase() === "name") continue;
-      if (fields.every((field) => field.trim() === "")) continue;
-      const refuse = (message: string) => report.push({ row, name: rawName, result: "refused", message });
-      if (extra.some((field) => field !== "")) {
-        refuse("Too many columns: expected name,entries (quote entries that contain commas).");
-        continue;
-      }
-      if (!NAME_PATTERN.test(rawName)) {
-        refuse("The name must be 1–63 characters of letters, digits, dot, underscore, dash.");
-        continue;
-      }
+  type Candidate = { row: number; name: string; entries: string[] };
+  const report: CsvRowReport[] = [];
+  const candidates: Candidate[] = [];
+  for (const [index, fields] of rows.entries()) {
+    const row = index + 1;
+    const [rawName = "", rawEntries = "", ...extra] = fields.map((field) => field.trim());
+    if (row === 1 && rawName.toLowerCase() === "name") continue;
+    if (fields.every((field) => field.trim() === "")) continue;
+    const refuse = (message: string) => report.push({ row, name: rawName, result: "refused", message });
+    if (extra.some((field) => field !== "")) refuse("Too many columns: expected name,entries (quote entries that contain commas).");
+    else if (!NAME_PATTERN.test(rawName)) refuse("The name must be 1–63 characters of letters, digits, dot, underscore, dash.");
+    else if ((BUILTIN_ADDRESS_NAMES as readonly string[]).includes(rawName)) refuse(`"${rawName}" is a built-in address name; choose another.`);
+    else {
       const entries = rawEntries.split(/[\s;]+/).filter(Boolean);
-      if (entries.length === 0) {
-        refuse("No entries: give at least one address, CIDR or range.");
-        continue;
-      }
-      const current = after.find((object) => object.name === rawName);
-      if (current && current.kind !== "address") {
-        refuse(`"${rawName}" is a shared group; CSV import only writes address objects.`);
-        continue;
-      }
-      const input: SharedObjectInput = { kind: "address", name: rawName, items: entries, description: current?.description ?? "" };
-      const next = [...after.filter((object) => object.name !== rawName), input];
-      const problems = libraryProblems(next, input);
-      if (problems !== null) {
-        refuse(problems);
-        continue;
-      }
-      after = next;
-      const existing = library.find((object) => object.name === rawName) ?? null;
-      writes.set(rawName, { input, existing });
-      report.push({ row, name: rawName, result: current ? "updated" : "created", message: entries.join(" ") });
+      if (entries.length === 0) refuse("No entries: give at least one address, CIDR or range.");
+      else candidates.push({ row, name: rawName, entries });
     }
+  }
+  const badEntries = rowsWithBadEntries(candidates);
+  return (library) => {
+    const after = new Map<string, SharedObjectInput>(library.map(({ kind, name, items, description }) => [name, { kind, name, items, description }]));
+    const before = new Map(library.map((object) => [object.name, object]));
+    const results: CsvRowReport[] = [...report];
+    const writes = new Map<string, LibraryWrite>();
+    for (const { row, name, entries } of candidates) {
+      const current = after.get(name);
+      if (current && current.kind !== "address") {
+        results.push({ row, name, result: "refused", message: `"${name}" is a shared group; CSV import only writes address objects.` });
+        continue;
+      }
+      const input: SharedObjectInput = { kind: "address", name, items: entries, description: current?.description ?? "" };
+      if (badEntries.has(row)) {
+        // The words for the few refused rows come from the same check as a single save.
+        results.push({ row, name, result: "refused", message: libraryProblems([input], input) ?? "The engine refused these entries." });
+        continue;
+      }
+      after.set(name, input);
+      writes.set(name, { input, existing: before.get(name) ?? null });
+      results.push({ row, name, result: current ? "updated" : "created", message: entries.join(" ") });
+    }
+    results.sort((a, b) => a.row - b.row);
+    const all = [...after.values()];
     const written = [...writes.values()];
+    // The whole library once: a group whose members the import changed must still resolve.
+    const whole = written.length > 0 ? libraryProblems(all, written[0].input) : null;
+    if (whole !== null) throw new Refusal(`Nothing was imported: the library would not be valid. ${whole}`, 400, { field: "csv" });
     const touched = new Map(written.filter(({ input, existing }) => !existing || !sameValue(existing, input)).map((write) => [write.input.name, `${changeWords(write)} (CSV import)`]));
-    const summary = `address objects from CSV: ${written.map(({ input, existing }) => `${input.name} ${existing ? "updated" : "created"}`).join(", ")}`;
-    return { after, writes: written, touched, summary, report };
+    const summary = `address objects from CSV: ${someNames(written.map(({ input, existing }) => `${input.name} ${existing ? "updated" : "created"}`))}`;
+    return { after: all, writes: written, touched, summary, report: results };
   };
 }
 
@@ -239,14 +294,22 @@ export type DeviceEffect = {
   exposure: ExposureChange;
 };
 
+/**
+ * What the organisation's change policy says of a change (docs/decisions/017): whether changes
+ * go through proposals, and the devices on which this one moves sources (its exposure diff is
+ * not empty) — under the policy those make it a break-glass step.
+ */
+export type LibraryChangePolicy = { throughProposals: boolean; moving: string[] };
+
 export type SharedChangePreview = {
   summary: string;
   /** Devices that get a new revision, by name. */
   devices: DeviceEffect[];
+  policy: LibraryChangePolicy;
   /** Devices that use the object but whose model does not change. */
   unchanged: string[];
   confirmation: SharedChangeConfirmation;
-  report: CsvRowReport[] | null;
+  report: CsvReport | null;
 };
 
 /** "id:number" per device, sorted: the revisions a save must still find current. */
@@ -272,17 +335,24 @@ function effectOf(plan: DeviceRevisionPlan): DeviceEffect {
   };
 }
 
+async function throughProposals(organisationId: string, transaction?: Transaction): Promise<boolean> {
+  const organisation = await Organisation.findByPk(organisationId, { attributes: ["id", "changesThroughProposals"], transaction });
+  return organisation?.changesThroughProposals ?? false;
+}
+
 async function preview(organisationId: string, planner: Planner): Promise<SharedChangePreview> {
   const library = await listSharedObjects(organisationId);
   const devices = await deviceRevisions.current(organisationId);
   const plan = planner(library, devices);
   const { revised, unchanged } = devicePlans(plan, libraryOf(library), devices);
+  const effects = revised.map(effectOf);
   return {
     summary: plan.summary,
-    devices: revised.map(effectOf),
+    devices: effects,
+    policy: { throughProposals: await throughProposals(organisationId), moving: effects.filter((effect) => effect.exposure.transitions > 0).map((effect) => effect.deviceName) },
     unchanged,
     confirmation: { library: fingerprintOf(library), bases: basesOf(revised) },
-    report: plan.report ?? null,
+    report: plan.report ? csvReportOf(plan.report) : null,
   };
 }
 
@@ -294,7 +364,34 @@ export function previewSharedObjectChange(organisationId: string, originalName: 
 // ---------------------------------------------------------------------------------------------
 // Saving
 
-export type SavedSharedChange = { summary: string; revisions: Array<{ deviceId: string; deviceName: string; number: number }>; report: CsvRowReport[] | null };
+export type SavedSharedChange = { summary: string; revisions: Array<{ deviceId: string; deviceName: string; number: number }>; report: CsvReport | null; breakGlass: string | null };
+
+/**
+ * Who saves a library change and, under "changes go through proposals", why it cannot wait:
+ * the break-glass reason an admin writes when the change moves sources on some device.
+ */
+export type LibrarySaveOptions = { role?: Role; name?: string; breakGlassReason?: string; environment?: ProposalEnvironment };
+
+/** The devices (of those the change revises) on which some source's outcome changes: the engine's diff is not empty. */
+function movingDevices(revised: readonly DeviceRevisionPlan[]): string[] {
+  return revised.filter(({ current, effective }) => diffModels(current.analysis.compiled, compiledOn(current, effective).compiled).changes.length > 0).map(({ current }) => current.device.name);
+}
+
+/**
+ * The change policy's verdict on a library change (docs/decisions/017): null when it may be
+ * saved as it is, else the break-glass reason it is saved with. Refused (403) when changes go
+ * through proposals, the change moves sources on a device and no admin gives a written reason.
+ */
+function breakGlassOf(moving: readonly string[], options: LibrarySaveOptions): string | null {
+  if (moving.length === 0) return null;
+  const names = moving.length <= 4 ? moving.join(", ") : `${moving.slice(0, 3).join(", ")} and ${moving.length - 3} more devices`;
+  const why = `Not saved: in this organisation changes go through proposals, and this change moves sources on ${names}. A shared object has one value on every device, so it cannot be proposed per device: save the new value as a new shared object (no device uses it yet), then propose on each device to use it`;
+  if (!options.role || !hasAtLeastRole(options.role, "admin")) throw new Refusal(`${why}. An admin can save it directly in an emergency (break-glass), with a written reason.`, 403);
+  const reason = options.breakGlassReason?.trim() ?? "";
+  if (!reason) throw new Refusal(`${why} — or, in an emergency, save it directly (break-glass) with a written reason.`, 403, { field: "breakGlassReason" });
+  if (reason.length < WRITTEN_REASON_MIN) throw new Refusal(`A break-glass change needs a written reason of at least ${WRITTEN_REASON_MIN} characters, so the next reader knows why.`, 400, { field: "breakGlassReason" });
+  return reason;
+}
 
 function stalePreview(what: string): Refusal {
   return new Refusal(`Nothing was saved: ${what} since you reviewed this change. Review its effect again, then confirm.`, 409);
@@ -328,7 +425,7 @@ function checkBases(revised: readonly DeviceRevisionPlan[], confirmed: string): 
  * and nothing written when the library or any of those devices is no longer as the preview saw
  * it. The new revisions go to the background analysis after the commit.
  */
-async function commit(organisationId: string, planner: Planner, actor: AuditActor, confirmation: SharedChangeConfirmation): Promise<SavedSharedChange> {
+async function commit(organisationId: string, planner: Planner, actor: AuditActor, confirmation: SharedChangeConfirmation, options: LibrarySaveOptions): Promise<SavedSharedChange> {
   const saved = await getDatabase().transaction(async (transaction) => {
     await lockSharedLibrary(transaction, organisationId, "write");
     const library = await listSharedObjects(organisationId, transaction);
@@ -337,6 +434,8 @@ async function commit(organisationId: string, planner: Planner, actor: AuditActo
     const plan = planner(library, devices);
     const { revised } = devicePlans(plan, libraryOf(library), devices);
     checkBases(revised, confirmation.bases);
+    // The policy as it is now, on the devices as they are now (the review may be minutes old).
+    const breakGlass = (await throughProposals(organisationId, transaction)) ? breakGlassOf(movingDevices(revised), options) : null;
     // Device rows locked in one order, so two changes can never wait for each other.
     const ordered = [...revised].sort((a, b) => a.current.device.id.localeCompare(b.current.device.id));
     const locked = new Map<string, DeviceAtRevision>();
@@ -346,9 +445,19 @@ async function commit(organisationId: string, planner: Planner, actor: AuditActo
       locked.set(found.device.id, found);
     }
 
+    // New objects in one statement (a CSV import may hold thousands), changed ones one by one.
+    const created = plan.writes.filter(({ existing }) => !existing);
+    if (created.length > 0) {
+      // One statement with the rows as one JSON parameter (Sequelize's bulkCreate took seconds for 25,000).
+      await getDatabase().query(
+        `INSERT INTO shared_address_objects (id, organisation_id, kind, name, items, description)
+         SELECT gen_random_uuid(), :organisationId, r.kind, r.name, r.items, r.description
+         FROM jsonb_to_recordset(CAST(:rows AS jsonb)) AS r(kind text, name text, items jsonb, description text)`,
+        { replacements: { organisationId, rows: JSON.stringify(created.map(({ input }) => input)) }, transaction },
+      );
+    }
     for (const { input, existing } of plan.writes) {
       if (existing) await SharedAddressObject.update({ kind: input.kind, name: input.name, items: input.items, description: input.description }, { where: { id: existing.id, organisationId }, transaction });
-      else await SharedAddressObject.create({ organisationId, ...input }, { transaction });
     }
     const revisions: Array<{ deviceId: string; deviceName: string; number: number; revisionId: string }> = [];
     for (const entry of revised) {
@@ -356,36 +465,47 @@ async function commit(organisationId: string, planner: Planner, actor: AuditActo
       // The message names the changes of the objects this device uses.
       const message = `Shared ${[...new Set(entry.uses.map((name) => plan.touched.get(name)))].join("; ")}`.slice(0, 500);
       const written = await writeRevision(organisationId, current, entry, entry.changes, actor, message, transaction, { audit: { sharedObjects: entry.uses } });
+      if (breakGlass !== null) {
+        await recordAuditEvent(actor, { organisationId, action: "device.break-glass-saved", targetType: "device", targetId: current.device.id, changes: { revision: written.number, message, reason: breakGlass, sharedObjects: entry.uses } }, transaction);
+      }
       revisions.push({ deviceId: current.device.id, deviceName: current.device.name, number: written.number, revisionId: written.revisionId });
     }
     const revisionList = revisions.map(({ deviceName, number }) => ({ device: deviceName, revision: number }));
-    for (const { input, existing } of plan.writes) {
-      await recordAuditEvent(
-        actor,
-        {
-          organisationId,
-          action: existing ? "shared-object.updated" : "shared-object.created",
-          targetType: "shared-object",
-          targetId: input.name,
-          changes: existing
-            ? { items: { from: existing.items, to: input.items }, name: { from: existing.name, to: input.name }, deviceRevisions: revisionList }
-            : { kind: input.kind, items: input.items, deviceRevisions: revisionList },
-        },
-        transaction,
-      );
-    }
-    return { summary: plan.summary, revisions, report: plan.report ?? null };
+    await recordAuditEvents(
+      actor,
+      plan.writes.map(({ input, existing }) => ({
+        organisationId,
+        action: existing ? "shared-object.updated" : "shared-object.created",
+        targetType: "shared-object",
+        targetId: input.name,
+        changes: existing
+          ? { items: { from: existing.items, to: input.items }, name: { from: existing.name, to: input.name }, deviceRevisions: revisionList, ...(breakGlass === null ? {} : { breakGlass }) }
+          : { kind: input.kind, items: input.items, deviceRevisions: revisionList, ...(breakGlass === null ? {} : { breakGlass }) },
+      })),
+      transaction,
+    );
+    return { summary: plan.summary, revisions, report: plan.report ? csvReportOf(plan.report) : null, breakGlass };
   });
   for (const { revisionId } of saved.revisions) revisionAnalysisQueue.enqueue(revisionId);
-  return { summary: saved.summary, revisions: saved.revisions.map(({ deviceId, deviceName, number }) => ({ deviceId, deviceName, number })), report: saved.report };
+  const revisions = saved.revisions.map(({ deviceId, deviceName, number }) => ({ deviceId, deviceName, number }));
+  if (saved.breakGlass !== null && options.role) {
+    const organisation = await Organisation.findByPk(organisationId, { attributes: ["id", "slug"] });
+    await mailBreakGlass(organisationId, { ...actor, role: options.role, name: options.name ?? actor.email }, options.environment ?? {}, {
+      subject: `Break-glass change: shared ${saved.summary}`.slice(0, 200),
+      what: `changed the shared ${saved.summary} directly, outside a proposal, which made ${revisions.map((revision) => `${revision.deviceName} r${revision.number}`).join(", ")}`,
+      reason: saved.breakGlass,
+      path: `/o/${organisation?.slug ?? ""}/settings/audit`,
+    });
+  }
+  return { summary: saved.summary, revisions, report: saved.report, breakGlass: saved.breakGlass };
 }
 
 /**
  * Saves a shared object and gives each device that uses it a new revision, provided the library
  * and those devices are still as `confirmation` (from the preview) says.
  */
-export function saveSharedObject(organisationId: string, originalName: string | null, input: SharedObjectInput, actor: AuditActor, confirmation: SharedChangeConfirmation): Promise<SavedSharedChange> {
-  return commit(organisationId, planSave(originalName, input), actor, confirmation);
+export function saveSharedObject(organisationId: string, originalName: string | null, input: SharedObjectInput, actor: AuditActor, confirmation: SharedChangeConfirmation, options: LibrarySaveOptions = {}): Promise<SavedSharedChange> {
+  return commit(organisationId, planSave(originalName, input), actor, confirmation, options);
 }
 
 /** Deletes an unused shared object; refused with the list of its users (shared groups, devices) when it is in use. */
@@ -423,6 +543,6 @@ export function previewSharedObjectsCsv(organisationId: string, text: string): P
 }
 
 /** Imports the CSV's good rows as one change, through the same checks and device revisions as a single save. */
-export function importSharedObjectsCsv(organisationId: string, text: string, actor: AuditActor, confirmation: SharedChangeConfirmation): Promise<SavedSharedChange> {
-  return commit(organisationId, planCsv(csvRows(text)), actor, confirmation);
+export function importSharedObjectsCsv(organisationId: string, text: string, actor: AuditActor, confirmation: SharedChangeConfirmation, options: LibrarySaveOptions = {}): Promise<SavedSharedChange> {
+  return commit(organisationId, planCsv(csvRows(text)), actor, confirmation, options);
 }

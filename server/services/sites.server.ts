@@ -1,5 +1,6 @@
 import { UniqueConstraintError, type Transaction } from "sequelize";
 import { Device, Site } from "#models/index.ts";
+import { getDatabase } from "../db/database.server.ts";
 import { Refusal } from "../errors.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 
@@ -25,10 +26,14 @@ export async function listSites(organisationId: string): Promise<SiteRow[]> {
  */
 export async function createSite(organisationId: string, input: SiteInput, actor: AuditActor, options: { transaction?: Transaction; field?: string } = {}): Promise<SiteRow> {
   const { transaction, field = "name" } = options;
-  try {
-    const site = await Site.create({ organisationId, ...input }, { transaction });
-    await recordAuditEvent(actor, { organisationId, action: "site.created", targetType: "site", targetId: site.id, changes: { ...input } }, transaction);
+  // The site and its audit entry together, in the caller's transaction or one of its own.
+  const create = async (within: Transaction) => {
+    const site = await Site.create({ organisationId, ...input }, { transaction: within });
+    await recordAuditEvent(actor, { organisationId, action: "site.created", targetType: "site", targetId: site.id, changes: { ...input } }, within);
     return toRow(site);
+  };
+  try {
+    return await (transaction ? create(transaction) : getDatabase().transaction(create));
   } catch (error) {
     if (error instanceof UniqueConstraintError) throw new Refusal(`A site named "${input.name}" exists already.`, 409, { field });
     throw error;
@@ -45,12 +50,14 @@ export async function updateSite(organisationId: string, siteId: string, input: 
   }
   if (Object.keys(changes).length === 0) return toRow(site);
   try {
-    await site.update(input);
+    await getDatabase().transaction(async (transaction) => {
+      await site.update(input, { transaction });
+      await recordAuditEvent(actor, { organisationId, action: "site.updated", targetType: "site", targetId: site.id, changes }, transaction);
+    });
   } catch (error) {
     if (error instanceof UniqueConstraintError) throw new Refusal(`A site named "${input.name}" exists already.`, 409, { field: "name" });
     throw error;
   }
-  await recordAuditEvent(actor, { organisationId, action: "site.updated", targetType: "site", targetId: site.id, changes });
   return toRow(site);
 }
 
@@ -59,7 +66,9 @@ export async function deleteSite(organisationId: string, siteId: string, actor: 
   if (!site) return false;
   const devices = await Device.findAll({ where: { siteId }, attributes: ["name"] });
   if (devices.length > 0) throw new Refusal(`The site "${site.name}" still has devices: ${devices.map((device) => device.name).join(", ")}. Move or delete them first.`, 409);
-  await site.destroy();
-  await recordAuditEvent(actor, { organisationId, action: "site.deleted", targetType: "site", targetId: site.id, changes: { name: site.name } });
+  await getDatabase().transaction(async (transaction) => {
+    await site.destroy({ transaction });
+    await recordAuditEvent(actor, { organisationId, action: "site.deleted", targetType: "site", targetId: site.id, changes: { name: site.name } }, transaction);
+  });
   return true;
 }

@@ -1,4 +1,4 @@
-import { Op } from "sequelize";
+import { Op, UniqueConstraintError } from "sequelize";
 import { PasswordReset, User } from "#models/index.ts";
 import { hashPassword } from "../auth/password.server.ts";
 import { endAllSessions } from "../auth/session.server.ts";
@@ -13,7 +13,13 @@ export const PASSWORD_RESET_LIFETIME_MS = 30 * 60 * 1000;
 /** A user created from an invitation link (no organisation of their own). */
 export async function createUser(input: { email: string; name: string; password: string }): Promise<User> {
   if (await User.findOne({ where: { email: input.email } })) throw emailTaken();
-  return User.create({ email: input.email, name: input.name, passwordHash: await hashPassword(input.password) });
+  try {
+    return await User.create({ email: input.email, name: input.name, passwordHash: await hashPassword(input.password) });
+  } catch (error) {
+    // The same address signed up a moment earlier: the unique index decides.
+    if (error instanceof UniqueConstraintError) throw emailTaken();
+    throw error;
+  }
 }
 
 /**
@@ -24,9 +30,12 @@ export async function requestPasswordReset(email: string, appOrigin: string, cli
   const user = await User.findOne({ where: { email } });
   if (!user) return;
   const token = createToken();
-  await PasswordReset.create({ userId: user.id, tokenHash: hashToken(token), expiresAt: new Date(Date.now() + PASSWORD_RESET_LIFETIME_MS), usedAt: null });
+  await getDatabase().transaction(async (transaction) => {
+    await PasswordReset.create({ userId: user.id, tokenHash: hashToken(token), expiresAt: new Date(Date.now() + PASSWORD_RESET_LIFETIME_MS), usedAt: null }, { transaction });
+    await recordAuditEvent({ userId: user.id, email: user.email, clientAddress }, { organisationId: null, action: "password.reset-requested", targetType: "user", targetId: user.id }, transaction);
+  });
+  // The link's origin is the configured APP_ORIGIN, never the request's Host (docs/decisions/013).
   await sendPasswordResetMail({ to: user.email, name: user.name, link: `${appOrigin}/reset-password/${token}`, minutes: PASSWORD_RESET_LIFETIME_MS / 60_000 });
-  await recordAuditEvent({ userId: user.id, email: user.email, clientAddress }, { organisationId: null, action: "password.reset-requested", targetType: "user", targetId: user.id });
 }
 
 /** The user behind a reset link that is unused and unexpired. */
@@ -45,11 +54,12 @@ export async function completePasswordReset(token: string, password: string, cli
     if (!reset) return null;
     await PasswordReset.update({ usedAt: new Date() }, { where: { userId: reset.userId, usedAt: null }, transaction });
     const found = await User.findByPk(reset.userId, { transaction });
-    await found?.update({ passwordHash }, { transaction });
+    if (!found) return null;
+    await found.update({ passwordHash }, { transaction });
+    await recordAuditEvent({ userId: found.id, email: found.email, clientAddress }, { organisationId: null, action: "password.reset-completed", targetType: "user", targetId: found.id }, transaction);
     return found;
   });
   if (!user) return null;
   await endAllSessions(user.id);
-  await recordAuditEvent({ userId: user.id, email: user.email, clientAddress }, { organisationId: null, action: "password.reset-completed", targetType: "user", targetId: user.id });
   return user;
 }

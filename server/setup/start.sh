@@ -9,6 +9,9 @@ ensure_npm_dependencies
 ensure_postgres_cluster
 ensure_database "${SALLYPORT_DB_NAME:-sallyport}"
 ensure_session_secret
+export PORT="${PORT:-3000}"
+ensure_app_origin
+ensure_outbox_secret
 run_migrations_and_seed
 ensure_fake_smtp
 cd "$ROOT"
@@ -18,6 +21,5 @@ else
   build_app
   export NODE_ENV=production
 fi
-export PORT="${PORT:-3000}"
-step "Serving on http://localhost:$PORT (Ctrl-C stops the web server; \`npm run stop\` stops PostgreSQL and the fake SMTP server)"
+step "Serving on $APP_ORIGIN (Ctrl-C stops the web server; \`npm run stop\` stops PostgreSQL and the fake SMTP server)"
 exec node --import tsx server/http/main.ts

@@ -1,5 +1,7 @@
 // The device model document as the workspace stores and edits it. Pure: no I/O.
 import { MODEL_SCHEMA_VERSION, parseModel, type DeviceModel, type ValidationIssue, type VersionOneModel } from "../engine/index.ts";
+import { documentExportText, MAX_MODEL_DOCUMENT_BYTES, sizeWords } from "../validation/limits.ts";
+import { findTextProblem } from "../validation/text.ts";
 
 export type ModelDocument = DeviceModel;
 /** A revision's document as the database holds it: version 2, or version 1 when saved before version 2. */
@@ -79,7 +81,7 @@ export function effectiveDocument(document: ModelDocument, shared: SharedLibrary
 /** `upgradedFrom` is there when the input was a version-1 document (the result is version 2). */
 export type ValidatedDocument =
   | { ok: true; document: ModelDocument; shared: SharedLibrary; effective: ModelDocument; warnings: readonly ValidationIssue[]; upgradedFrom?: 1 }
-  | { ok: false; errors: readonly ValidationIssue[]; warnings: readonly ValidationIssue[] };
+  | { ok: false; errors: readonly ValidationIssue[]; warnings: readonly ValidationIssue[]; /** Over MAX_MODEL_DOCUMENT_BYTES (a 413, not a 400). */ tooLarge?: true };
 
 /**
  * Validates a device document together with the shared objects it uses (a device's own
@@ -89,6 +91,9 @@ export type ValidatedDocument =
  */
 export function validateDocument(input: unknown, library: SharedLibrary): ValidatedDocument {
   if (!input || typeof input !== "object") return { ok: false, errors: [{ path: "", message: "the document must be a JSON object" }], warnings: [] };
+  // Text that PostgreSQL's jsonb would refuse (NUL, lone surrogates) or that misleads (control characters).
+  const badText = findTextProblem(input);
+  if (badText) return { ok: false, errors: [{ path: badText.path, message: badText.problem.replace(/\.$/, "") }], warnings: [] };
   const candidate = input as Partial<ModelDocument>;
   const shared = sharedObjectsUsedBy(candidate, library);
   // A non-list is passed on untouched so the engine reports it at its own path.
@@ -108,6 +113,10 @@ export function validateDocument(input: unknown, library: SharedLibrary): Valida
   };
   // The shared objects as the engine normalised them (canonical CIDRs), like the rest of the revision.
   const normalisedShared: SharedLibrary = { addresses: parsed.model.addresses.filter(isShared), addressGroups: parsed.model.addressGroups.filter(isShared) };
+  const exportedBytes = new TextEncoder().encode(documentExportText(parsed.model)).length;
+  if (exportedBytes > MAX_MODEL_DOCUMENT_BYTES) {
+    return { ok: false, errors: [{ path: "", message: `the model would be ${sizeWords(exportedBytes)} as exported; the most Sallyport stores (and so can import again) is ${sizeWords(MAX_MODEL_DOCUMENT_BYTES)}` }], warnings: [], tooLarge: true };
+  }
   return { ok: true, document, shared: normalisedShared, effective: parsed.model, warnings: parsed.warnings, ...(parsed.upgradedFrom ? { upgradedFrom: parsed.upgradedFrom } : {}) };
 }
 

@@ -91,37 +91,52 @@ test("An engineer asks to dismiss a high finding; the reviewer confirms it from 
   await reviewerContext.close();
 });
 
-test("An engineer's import that locks out the operator networks shows the lockout in words and waits for 'I have read the effect'", async ({ browser, browserProblems }) => {
+test("An import that locks out the operator networks shows the lockout in words: an engineer is offered only a proposal; an admin imports it after 'I have read the effect' and a written reason", async ({ browser, browserProblems }) => {
   test.setTimeout(120_000);
-  // The last step sent once without the box is refused with a 400, on purpose.
+  // The admin's last step sent once without the box (400) and once without a reason (409, the lockout guard), on purpose.
   browserProblems.expect(400, /\/devices\/import\.data$/);
-  const context = await browser.newContext({ storageState: team.members.engineer.storageState });
-  browserProblems.watch(context);
-  const page = await context.newPage();
-  await page.goto(`/o/${team.slug}/devices/import`);
-  await hydrated(page);
-  await page.getByLabel("Model document").setInputFiles({ name: "hl-edge-1-drop-first.json", mimeType: "application/json", buffer: Buffer.from(lockedOutDocument()) });
-  await page.getByLabel("Import as").selectOption({ label: `${team.device.name} (now r1)` });
-  await page.getByRole("button", { name: "Check the document" }).click();
+  browserProblems.expect(409, /\/devices\/import\.data$/);
+  const preview = async (role: "engineer" | "admin") => {
+    const context = await browser.newContext({ storageState: team.members[role].storageState });
+    browserProblems.watch(context);
+    const page = await context.newPage();
+    await page.goto(`/o/${team.slug}/devices/import`);
+    await hydrated(page);
+    await page.getByLabel("Model document").setInputFiles({ name: "hl-edge-1-drop-first.json", mimeType: "application/json", buffer: Buffer.from(lockedOutDocument()) });
+    await page.getByLabel("Import as").selectOption({ label: `${team.device.name} (now r1)` });
+    await page.getByRole("button", { name: "Check the document" }).click();
+    return page;
+  };
 
-  const preview = page.getByRole("region", { name: `Effect on ${team.device.name}: r1 → r2` });
-  await expect(preview).toBeVisible();
-  // Counts before → after (the same elements, reordered), the lockout guard and the words beside the button.
+  const page = await preview("engineer");
+  const effect = page.getByRole("region", { name: `Effect on ${team.device.name}: r1 → r2` });
+  await expect(effect).toBeVisible();
+  // Counts before → after (the same elements, reordered), the lockout guard and the words beside the buttons.
   await expect(page.getByTestId("import-counts")).toContainText("inbound rules 7 → 7");
-  await expect(preview.getByTestId("lockout-guard")).toContainText("noc");
-  await expect(preview.getByTestId("lockout-guard")).toContainText("mgmt-lan");
+  await expect(effect.getByTestId("lockout-guard")).toContainText("noc");
+  await expect(effect.getByTestId("lockout-guard")).toContainText("mgmt-lan");
   await expect(page.getByTestId("import-lockout-warning")).toContainText("Importing this locks the team out: operator networks “noc” and “mgmt-lan” would have no login path left");
-  await expect(preview.getByText('Operator network "noc" has no login path')).toBeVisible();
+  await expect(effect.getByText('Operator network "noc" has no login path')).toBeVisible();
+  // Like a save in the editor (docs/decisions/017): the lockout guard blocks a direct import, so the engineer is offered the proposal only.
+  await expect(page.getByTestId("import-blocked")).toContainText("The lockout guard blocks importing this directly: import it as a proposal, for an admin or owner to decide.");
+  await expect(page.getByTestId("import-actions").getByRole("button")).toHaveText(["Import as a proposal"]);
   expect(await checkEverywhere(page, "30-import-preview-lockout")).toEqual([]);
+  await page.context().close();
 
-  // Import without reading: refused beside the box, the preview and the document kept.
-  await page.getByRole("button", { name: `Import ${team.device.name}` }).click();
-  await expect(page.getByText("Read the effect of this import above, then tick “I have read the effect” to import it.")).toBeVisible();
-  await expect(preview).toBeVisible();
-  await screenshot(page, "31-import-effect-unread");
-  await page.getByLabel("I have read the effect, including the lockout warning").check();
-  await page.getByRole("button", { name: `Import ${team.device.name}` }).click();
-  await expect(toast(page)).toContainText("Imported as revision r2.");
-  await expect(page).toHaveURL(new RegExp(`${team.device.path}/history$`));
-  await context.close();
+  // An admin: the box, then a written reason.
+  const admin = await preview("admin");
+  await expect(admin.getByTestId("import-blocked")).toContainText("or — as an admin — import it anyway with a written reason");
+  await admin.getByRole("button", { name: `Import ${team.device.name} anyway` }).click();
+  await expect(admin.getByText("Read the effect of this import above, then tick “I have read the effect” to import it.")).toBeVisible();
+  await expect(admin.getByRole("region", { name: `Effect on ${team.device.name}: r1 → r2` })).toBeVisible();
+  await screenshot(admin, "31-import-effect-unread");
+  await admin.getByLabel("I have read the effect, including the lockout warning").check();
+  await admin.getByRole("button", { name: `Import ${team.device.name} anyway` }).click();
+  await expect(admin.getByTestId("import-refused")).toContainText("Not saved: the lockout guard blocks this change.");
+  await admin.getByLabel("I have read the effect, including the lockout warning").check();
+  await admin.getByLabel("Why import it anyway").fill("The NOC moves to the new ranges tonight; the old ones go on purpose.");
+  await admin.getByRole("button", { name: `Import ${team.device.name} anyway` }).click();
+  await expect(toast(admin)).toContainText("Imported as revision r2 past the guard, with your reason.");
+  await expect(admin).toHaveURL(new RegExp(`${team.device.path}/history$`));
+  await admin.context().close();
 });

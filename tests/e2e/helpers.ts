@@ -73,3 +73,8 @@ export async function signUpNewOrganisation(page: Page, organisation: string, la
   await page.waitForURL(/\/o\/[a-z0-9-]+\/devices$/);
   return new URL(page.url()).pathname.split("/")[2];
 }
+
+/** The local outbox's address with its secret (docs/decisions/013): the page swaps it for a cookie and shows the mail. */
+export function outboxPath(): string {
+  return `/outbox?key=${encodeURIComponent(process.env.E2E_OUTBOX_SECRET ?? "")}`;
+}

@@ -1,5 +1,5 @@
 import { expect, test } from "./fixtures";
-import { screenshot, signIn, toast } from "./helpers";
+import { outboxPath, screenshot, signIn, toast } from "./helpers";
 
 test("An owner invites a colleague, who joins from the e-mailed link in the local outbox", async ({ page, browser, browserProblems }) => {
   // The malformed address below is refused with a 400.
@@ -26,7 +26,7 @@ test("An owner invites a colleague, who joins from the e-mailed link in the loca
   const guest = await browser.newContext();
   browserProblems.watch(guest);
   const guestPage = await guest.newPage();
-  await guestPage.goto("/outbox");
+  await guestPage.goto(outboxPath());
   const message = guestPage.getByRole("article", { name: "Join Lanternfield Managed Networks on Sallyport" }).filter({ hasText: invitee }).first();
   await expect(message).toBeVisible();
   await screenshot(guestPage, "11-outbox");

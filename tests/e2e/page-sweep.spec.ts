@@ -9,6 +9,7 @@ import { expect, test } from "./fixtures";
 import { hydrated, seriousAccessibilityViolations } from "./helpers";
 import { createProposal, createTeam, type Team } from "./team";
 import { createTrainingPages, type TrainingPages } from "./training-team";
+import { recordFieldCheck } from "./observations";
 
 // Every page of the app, as every role of an organisation of the tests' own, at a laptop's
 // 1366 px and a phone's 390 px, in light and dark: the shell never scrolls sideways, axe finds
@@ -42,6 +43,7 @@ const GATED: Array<{ path: string; role: Role }> = [
   { path: "devices/new", role: PAGE_ROLES.newDevice },
   { path: "devices/import", role: PAGE_ROLES.importModel },
   { path: "settings/audit", role: PAGE_ROLES.auditLog },
+  { path: "settings/api-tokens", role: PAGE_ROLES.apiTokens },
 ];
 
 /** The device navigation's pages, counted from its own groups. */
@@ -50,7 +52,7 @@ const DEVICE_PAGE_COUNT = deviceNavGroups("").flatMap((group) => group.tabs).len
 function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } {
   const organisation = `/o/${team.slug}`;
   const device = team.device.path;
-  const everyone = ["devices", "sites", "findings", "changes", "training", "settings/members", "settings/shared-objects", "settings/organisation"].map((page) => `${organisation}/${page}`);
+  const everyone = ["devices", "sites", "findings", "changes", "training", "settings/members", "settings/shared-objects", "settings/organisation", "reach?from=198.51.100.0/24"].map((page) => `${organisation}/${page}`);
   const devicePages = [
     device,
     `${device}/analysis?from=203.0.113.50&interface=outside&service=https`,
@@ -59,7 +61,10 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
     `${device}/expectations`,
     `${device}/history`,
     `${device}/proposals`,
+    `${device}/field-checks`,
+    fieldCheckPath,
     proposalPath,
+    `${device}/analysis?from=203.0.113.50&interface=outside&service=https&proposal=${proposalPath.split("/").at(-1) ?? ""}&side=draft`,
     `${proposalPath}/draft/rules`,
     `${proposalPath}/record`,
     ...DEVICE_SECTIONS.map((section) => `${device}/model/${section}`),
@@ -70,7 +75,7 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
   const trainerPages = [`${organisation}/training/scenarios/new`, `${organisation}/training/lessons/new`, `${training.lesson}/edit`, `${training.lesson}/present`].map((path) => ({ path, role: "admin" as const }));
   const gated = [...GATED.map((page) => ({ ...page, path: `${organisation}/${page.path}` })), { path: `${device}/proposals/new`, role: PAGE_ROLES.proposeChange }, ...trainerPages];
   return {
-    open: [...everyone, ...trainingPages, ...gated.filter((page) => hasAtLeastRole(role, page.role)).map((page) => page.path), "/account", ...devicePages],
+    open: [...everyone, ...trainingPages, ...gated.filter((page) => hasAtLeastRole(role, page.role)).map((page) => page.path), "/account", "/docs/api", ...devicePages],
     refused: gated.filter((page) => !hasAtLeastRole(role, page.role)).map((page) => page.path),
   };
 }
@@ -121,12 +126,15 @@ let team: Team;
 let proposalPath = "";
 /** A teaching scenario, a lesson on it and each member's attempt at it. */
 let training: TrainingPages;
+/** A field check the team's engineer recorded on the device: its page is swept too. */
+let fieldCheckPath = "";
 test.beforeAll(async ({ playwright }, testInfo) => {
   const baseURL = testInfo.project.use.baseURL;
   if (!baseURL) throw new Error("no baseURL in playwright.config.ts");
   team = await createTeam(playwright.request, baseURL, "sweep");
   proposalPath = await createProposal(playwright.request, baseURL, team);
   training = await createTrainingPages(playwright.request, baseURL, team);
+  fieldCheckPath = await recordFieldCheck(playwright.request, baseURL, team);
 });
 
 for (const role of ROLES) {

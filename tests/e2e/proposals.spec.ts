@@ -5,7 +5,7 @@ import type { APIRequest, APIRequestContext, Browser, Page } from "@playwright/t
 import type { Role } from "#models/roles";
 import { formatInstant } from "#server/engine/format";
 import { expect, test, type BrowserProblems } from "./fixtures";
-import { hydrated, screenshot, seriousAccessibilityViolations, signIn, toast } from "./helpers";
+import { hydrated, outboxPath, screenshot, seriousAccessibilityViolations, signIn, toast } from "./helpers";
 import { createTeam, outboxDirectory, type Team } from "./team";
 import { waitForMail } from "../support/outbox";
 
@@ -188,12 +188,32 @@ for (const size of SIZES) {
     for (const range of ["198.51.100.6/32", "198.51.100.8/29", "2001:db8:99::/48"]) await expect(engineer.getByText(`no login any more from ${range}`, { exact: true }).first()).toBeVisible();
     await expect(engineer.getByText("no login any more from 198.51.100.7/32")).toHaveCount(0);
 
-    // Submitting is refused, in those words; the proposal stays a draft.
+    // Submitting is refused; the proposal stays a draft. Each reason is said once on the page:
+    // under "Lockout guard and expectations", to which the form and the effect point.
     const submitForm = engineer.getByRole("form", { name: "Submit for review" });
     await submitForm.getByRole("button", { name: "Submit for review" }).click();
     await expect(submitForm.getByRole("alert").first()).toContainText("Not submitted: the lockout guard blocks this change.");
-    await expect(submitForm).toContainText("Operator network “noc” would lose every login path");
+    await expect(submitForm.getByRole("link", { name: "Lockout guard and expectations" })).toBeVisible();
+    for (const network of ["noc", "mgmt-lan"]) await expect(engineer.getByText(`Operator network “${network}” would lose every login path`, { exact: false })).toHaveCount(1);
+    await expect(engineer.getByText("no login any more from 198.51.100.6/32", { exact: true })).toHaveCount(1);
+    await expect(engineer.getByTestId("effect-blocking")).toContainText("Blocked: why, and who may still approve it, is under Lockout guard and expectations.");
     await keyStep(engineer, size, "80-proposal-lockout");
+
+    // Where in the address space: the NOC's addresses are ringed on outside ssh, before → after in the list.
+    const space = engineer.getByTestId("effect-space");
+    await space.getByRole("link", { name: /^outside ssh IPv4/ }).click();
+    await expect(space.getByTestId("effect-space-shown")).toContainText("outside ssh IPv4");
+    await expect(space.getByTestId("changed-cells")).toContainText("login with second factor → no answer");
+    await expect(space.locator('td[data-changed="true"]').first()).toBeVisible();
+
+    // An example probe, traced on the draft: the trace page says it is not live and shows the drop deciding.
+    const example = engineer.getByTestId("effect-group").filter({ hasText: "Login with second factor" }).first();
+    await example.getByRole("link", { name: /^Trace on draft/ }).click();
+    await expect(engineer.getByTestId("trace-subject")).toContainText("Tracing a draft — not live");
+    await expect(engineer.getByLabel("Outcome", { exact: true }).getByText("No answer: dropped by inbound rule r-drop (position 1).")).toBeVisible();
+    await keyStep(engineer, size, "80b-trace-on-draft");
+    await engineer.goBack();
+    await hydrated(engineer);
 
     // The fix: the drop goes right below the NOC's allow, on outside only — the vendor's rules
     // on outside fall behind it, the management LAN keeps r-mgmt on its own interface.
@@ -216,7 +236,7 @@ for (const size of SIZES) {
     browserProblems.watch(reviewerContext);
     const reviewer = await reviewerContext.newPage();
     await signIn(reviewer, reviewerEmail, team.members.reviewer.password);
-    await reviewer.goto("/outbox");
+    await reviewer.goto(outboxPath());
     const mail = reviewer.getByRole("article", { name: `Review requested: ${title} (${team.device.name})` }).filter({ hasText: `To: ${reviewerEmail}` });
     await expect(mail).toContainText("Chen Lindahl asks for a review");
     await mail.getByRole("link", { name: /\/proposals\/[0-9a-f-]{36}$/ }).click();

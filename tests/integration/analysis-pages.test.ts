@@ -78,7 +78,7 @@ describe("Reach: what one source can reach", () => {
     expect(response.headers.get("content-disposition")).toMatch(/^attachment; filename=".+\.csv"$/);
     const [header, ...rows] = parseCsv(response.text);
     // Each code column is followed by its label column.
-    expect(header).toEqual(["interface", "to", "service", "outcome", "outcome_label", "deciding_layer", "deciding_layer_label", "rule_id", "eligible_accounts", "detail"]);
+    expect(header).toEqual(["interface", "to", "service", "outcome", "outcome_label", "deciding_layer", "deciding_layer_label", "rule_id", "eligible_accounts", "detail", "sources", "source_count"]);
     const device = demoDevice("clf-gw-02");
     expect(rows).toHaveLength(device.model.interfaces.length * device.catalogue.length);
     const expected = reach(device, "203.0.113.50", AT).results;

@@ -122,7 +122,7 @@ describe("The device-revision repository", () => {
     const after = await deviceRevisions.find(organisationId, deviceIds[0]);
     expect(after?.revision.number).toBe(saved.number);
     const compiled = after!.analysis.compiled;
-    expect(compiled.partitionSources.reused + compiled.partitionSources.updated).toBeGreaterThan(0);
+    expect(compiled.partitionSources.reused + compiled.partitionSources.updated + compiled.partitionSources.inherited).toBeGreaterThan(0);
     expect(compiled.partitionSources.swept).toBe(0);
     // Same answer as a model compiled from nothing (RFC 5737 source; r1 denies ssh, PRODUCT.md §3 layer 2).
     const fresh = compileModel(after!.effective);

@@ -614,19 +614,24 @@ describe("Import and export", () => {
       expect(empty.status).toBe(400);
       expect(plain(empty.text)).toContain("The chosen file is empty.");
     }
-    // Over 1 MiB but under the 2 MiB request limit: the import page refuses it with its size.
-    const padding = " ".repeat(1024 * 1024 + 10);
+    // Over 8 MiB (the largest document Sallyport stores, so any export re-imports) but under the
+    // import's 9 MiB request limit: the import page refuses it with its size.
+    const padding = " ".repeat(8 * 1024 * 1024 + 10);
     const large = await upload("import", JSON.stringify(QUAY_EDGE) + padding);
     expect(large.status).toBe(400);
-    expect(plain(large.text)).toContain("model documents may be at most 1024 KiB");
-    // Over the 2 MiB request limit: the server refuses the body before reading it.
-    const huge = await upload("import", JSON.stringify(QUAY_EDGE) + padding + padding);
+    expect(plain(large.text)).toContain("model documents may be at most 8 MiB");
+    // Over the request limit: the server refuses the body before reading it.
+    const huge = await upload("import", JSON.stringify(QUAY_EDGE) + padding + " ".repeat(1024 * 1024));
     expect(huge.status).toBe(413);
-    expect(huge.text).toContain("the limit is 2097152 bytes");
-    // The same document pasted as text over 1 MiB is refused too.
+    expect(huge.text).toContain("the limit is 9437184 bytes");
+    // The same document pasted as text over 8 MiB is refused too.
     const pasted = await postMultipart(client, `/o/${slug}/devices/import`, { intent: "import", target, documentText: JSON.stringify(QUAY_EDGE) + padding });
     expect(pasted.status).toBe(400);
-    expect(plain(pasted.text)).toContain("larger than 1 MiB");
+    expect(plain(pasted.text)).toContain("larger than 8 MiB");
+    // Any other route keeps the 2 MiB limit.
+    const elsewhere = await client.request(`/o/${slug}/sites`, { method: "POST", body: new URLSearchParams({ intent: "create", name: "x".repeat(3 * 1024 * 1024) }) });
+    expect(elsewhere.status).toBe(413);
+    expect(elsewhere.text).toContain("the limit is 2097152 bytes");
     // A valid document with nowhere to go is refused as well.
     const noTarget = await postMultipart(client, `/o/${slug}/devices/import`, { intent: "import", target: "", file: new Blob([JSON.stringify(QUAY_EDGE)]) });
     expect(noTarget.status).toBe(400);
@@ -730,8 +735,13 @@ describe("Importing a new revision is judged by its effect", () => {
     // Another value than the box's is not a confirmation either.
     expect((await postMultipart(client, path, { ...last, effectRead: "on" })).status).toBe(400);
 
-    // With the box ticked, the revision lands.
-    const imported = await postMultipart(client, path, { ...last, effectRead: "yes" });
+    // With the box ticked, the lockout guard still stops it, as it stops a save in the editor
+    // (docs/decisions/017): the owner imports it anyway only with a written reason.
+    const guarded = await postMultipart(client, path, { ...last, effectRead: "yes" });
+    expect(guarded.status).toBe(409);
+    expect(words(guarded.text)).toContain("Not saved: the lockout guard blocks this change.");
+    expect(await device.revision()).toBe(1);
+    const imported = await postMultipart(client, path, { ...last, effectRead: "yes", overrideReason: "Retiring the NOC's access on purpose: the new NOC moves in tomorrow." });
     expect(imported.status).toBe(302);
     expect(await device.revision()).toBe(2);
     expect((await device.exported(2)).inboundRules.map((rule) => rule.id)).toEqual(["r4", "r1", "r2"]);

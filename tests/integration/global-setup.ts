@@ -1,4 +1,5 @@
 import { spawn, type ChildProcess } from "node:child_process";
+import { randomBytes } from "node:crypto";
 import { mkdtempSync } from "node:fs";
 import { tmpdir } from "node:os";
 import path from "node:path";
@@ -10,6 +11,7 @@ declare module "vitest" {
   export interface ProvidedContext {
     baseUrl: string;
     outboxDir: string;
+    outboxSecret: string;
   }
 }
 
@@ -24,6 +26,7 @@ export default async function setup(project: TestProject) {
   smtp = await startFakeSmtp({ port: 0, directory: outboxDir });
   const port = await findFreePort();
   const baseUrl = `http://127.0.0.1:${port}`;
+  const outboxSecret = randomBytes(24).toString("base64url");
   server = spawn(process.execPath, ["--import", "tsx", "server/http/main.ts"], {
     env: {
       ...process.env,
@@ -31,6 +34,9 @@ export default async function setup(project: TestProject) {
       NODE_ENV: process.env.SALLYPORT_TEST_DEV === "1" ? "development" : "production",
       SALLYPORT_HMR: "0",
       PORT: String(port),
+      // The only origin of e-mailed links and of state-changing requests (docs/decisions/013).
+      APP_ORIGIN: baseUrl,
+      OUTBOX_SECRET: outboxSecret,
       // Tests pose as many clients through X-Forwarded-For, so per-address throttling in one test does not spill into others.
       TRUST_PROXY: "1",
       SMTP_HOST: "127.0.0.1",
@@ -55,6 +61,7 @@ export default async function setup(project: TestProject) {
   }
   project.provide("baseUrl", baseUrl);
   project.provide("outboxDir", outboxDir);
+  project.provide("outboxSecret", outboxSecret);
   return async () => {
     server?.kill("SIGTERM");
     await smtp?.close();

@@ -2,6 +2,7 @@ import { afterAll, describe, expect, test } from "vitest";
 import { createDatabase } from "#server/db/database.server";
 import { User } from "#models/index";
 import { signUpNewOrganisation } from "../support/client";
+import { ownerConnection } from "../support/database";
 
 const sequelize = createDatabase(process.env.DATABASE_URL!);
 afterAll(() => sequelize.close());
@@ -16,7 +17,16 @@ describe("Passwords at rest", () => {
   });
 
   test("The audit log refuses updates and deletes", async () => {
-    await expect(sequelize.query("UPDATE audit_events SET action = 'tampered'")).rejects.toThrow(/append-only/);
-    await expect(sequelize.query("DELETE FROM audit_events")).rejects.toThrow(/append-only/);
+    // The runtime role may not even try (docs/decisions/013)…
+    await expect(sequelize.query("UPDATE audit_events SET action = 'tampered'")).rejects.toThrow(/permission denied/);
+    await expect(sequelize.query("DELETE FROM audit_events")).rejects.toThrow(/permission denied/);
+    // …and the owner role, which may, meets the table's trigger.
+    const owner = ownerConnection();
+    try {
+      await expect(owner.query("UPDATE audit_events SET action = 'tampered'")).rejects.toThrow(/append-only/);
+      await expect(owner.query("DELETE FROM audit_events")).rejects.toThrow(/append-only/);
+    } finally {
+      await owner.close();
+    }
   });
 });

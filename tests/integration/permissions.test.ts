@@ -63,7 +63,8 @@ describe("Other organisations stay invisible", () => {
     const owner = clients.get("owner")!;
     const missing = await owner.get("/o/no-such-organisation-here/sites");
     expect(missing.status).toBe(404);
-    expect((await owner.get("/o/%E2%98%83%00/sites")).status).toBe(404);
+    expect((await owner.get("/o/%E2%98%83/sites")).status).toBe(404);
+    expect((await owner.get("/o/%E2%98%83%00/sites")).status).toBe(400);
   });
 
   test("Another organisation's site cannot be edited through this organisation's page", async () => {

@@ -17,6 +17,7 @@ import { lockSharedLibrary } from "#server/services/shared-library-lock.server";
 import { signUpNewOrganisation, type FetchResult, type TestClient } from "../support/client";
 import { plain, UUID } from "../support/html";
 import { confirmReview, PIER_GW, QUAY_EDGE, reviewConfirmFields } from "../support/shared-objects";
+import { ownerConnection } from "../support/database";
 
 const sequelize = getDatabase();
 afterAll(() => sequelize.close());
@@ -309,14 +310,17 @@ describe("Changing a shared object", () => {
     const auditBefore = await AuditEvent.count({ where: { organisationId } });
     // Revisions are written by device name: pier-gw's is written, then quay-edge's insert fails.
     const trigger = `fail_${randomUUID().replace(/-/g, "")}`;
-    await sequelize.query(`CREATE FUNCTION ${trigger}() RETURNS trigger LANGUAGE plpgsql AS $$ BEGIN RAISE EXCEPTION 'simulated failure'; END $$`);
-    await sequelize.query(`CREATE TRIGGER ${trigger} BEFORE INSERT ON device_revisions FOR EACH ROW WHEN (NEW.device_id = '${devices["quay-edge"]}') EXECUTE FUNCTION ${trigger}()`);
+    // Triggers are the owner role's to create (docs/decisions/013); the app's runtime role cannot.
+    const owner = ownerConnection();
+    await owner.query(`CREATE FUNCTION ${trigger}() RETURNS trigger LANGUAGE plpgsql AS $$ BEGIN RAISE EXCEPTION 'simulated failure'; END $$`);
+    await owner.query(`CREATE TRIGGER ${trigger} BEFORE INSERT ON device_revisions FOR EACH ROW WHEN (NEW.device_id = '${devices["quay-edge"]}') EXECUTE FUNCTION ${trigger}()`);
     try {
       const failed = await confirmReview(client, `/o/${slug}/settings/shared-objects`, review);
       expect(failed.status).toBe(500);
     } finally {
-      await sequelize.query(`DROP TRIGGER ${trigger} ON device_revisions`);
-      await sequelize.query(`DROP FUNCTION ${trigger}()`);
+      await owner.query(`DROP TRIGGER ${trigger} ON device_revisions`);
+      await owner.query(`DROP FUNCTION ${trigger}()`);
+      await owner.close();
     }
     expect((await exported(organisation, "pier-gw", 2)).status).toBe(404);
     expect((await exported(organisation, "quay-edge", 2)).status).toBe(404);

@@ -18,12 +18,14 @@ export type FetchResult = { status: number; headers: Headers; text: string; loca
  * browser would. Redirects are not followed, so tests see each step.
  */
 export class TestClient {
-  readonly baseUrl = inject("baseUrl");
+  readonly baseUrl: string;
   readonly cookies = new Map<string, string>();
   readonly clientAddress: string;
 
-  constructor(clientAddress?: string) {
+  /** `baseUrl` names another server than the suite's (a test that starts its own). */
+  constructor(clientAddress?: string, baseUrl?: string) {
     this.clientAddress = clientAddress ?? nextClientAddress();
+    this.baseUrl = baseUrl ?? inject("baseUrl");
   }
 
   private cookieHeader(): string {

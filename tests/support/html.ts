@@ -19,6 +19,11 @@ export function visibleText(html: string): string {
   return plain(html.replace(/<script[\s\S]*?<\/script>/g, "").replace(/<[^>]+>/g, " "));
 }
 
+/** The page's words as sentences: visibleText with the spaces its tags left behind closed up. */
+export function wordsOf(html: string): string {
+  return visibleText(html).replace(/\s+/g, " ").replace(/ ([.,:;)])/g, "$1").replace(/\( /g, "(");
+}
+
 /**
  * The message shown beside the field with this label, or null: the label's `for` names the
  * control, and the message is the element with that id plus "-error" (the design system's

@@ -7,43 +7,11 @@
 import { describe, expect, test } from "vitest";
 import { formatAddress, parseCidr } from "#server/engine/addresses";
 import { effectPicture, effectView } from "#server/analysis/effect-view";
-import { changeEffect, compileModel, exposure, findings, OUTCOMES, outcomeRank, parseModel, trace, type CompiledModel, type DeviceModelInput } from "#server/engine/index";
-import { instantOfWeekTime } from "#server/analysis/exposure-change";
+import { changeEffect, exposure, findings, OUTCOMES, outcomeRank, trace, type CompiledModel, type DeviceModelInput } from "#server/engine/index";
+import { compiled, TERMINAL, TIMEZONE } from "#tests/support/terminal-gateway";
+import { instantOfWeekTime } from "#server/engine/week-times";
 
-function compiled(input: DeviceModelInput, basis?: CompiledModel): CompiledModel {
-  const parsed = parseModel(input);
-  if (!parsed.ok) throw new Error(`fixture invalid: ${JSON.stringify(parsed.errors)}`);
-  return compileModel(parsed.model, basis ? { basis } : {});
-}
-
-// Invented ferry terminal gateway: the NOC works from 10.60.4.0/24 (RFC 1918), the harbour
-// office's contractor from 198.51.100.0/25 on weekdays (RFC 5737 stands in for the internet).
-const TERMINAL: DeviceModelInput = {
-  schemaVersion: 2,
-  device: { name: "terminal-gw", timezone: "Europe/Oslo" },
-  interfaces: [
-    { name: "wan", role: "wan", addresses: ["203.0.113.5/24", "2001:db8:5::5/64"], listeners: ["https", "ssh", "ping"] },
-    { name: "mgmt", role: "management", addresses: ["10.60.0.1/16"], listeners: ["https", "ssh"] },
-  ],
-  addresses: [
-    { name: "noc", entries: ["10.60.4.0/24"] },
-    { name: "contractor", entries: ["198.51.100.0/25"] },
-  ],
-  schedules: [{ name: "weekdays", windows: [{ days: ["mon", "tue", "wed", "thu", "fri"], start: "07:00", end: "17:00" }] }],
-  inboundRules: [
-    { id: "noc-in", interface: "mgmt", sources: ["noc"], destinations: ["any"], services: ["ssh", "https"], action: "allow" },
-    { id: "contractor-web", interface: "wan", sources: ["contractor"], destinations: ["any"], services: ["https"], schedule: "weekdays", action: "allow" },
-    { id: "ping-all", interface: "wan", sources: ["any"], destinations: ["any"], services: ["ping"], action: "allow" },
-    { id: "drop", interface: "any", sources: ["any"], destinations: ["any"], services: ["any"], action: "deny" },
-  ],
-  accounts: [
-    { name: "ops-sol", loginSources: ["noc"], secondFactor: "totp" },
-    { name: "contractor-kai", loginSources: ["contractor"], secondFactor: "none" },
-  ],
-  operatorNetworks: ["noc"],
-};
-
-/** The proposal: a deny on mgmt above the NOC's rule, contractor web all week instead of weekdays, and ping no longer allowed. */
+/** The proposal: a deny on mgmt above the NOC's rule, contractor web all week instead of weekdays, ping no longer allowed, and the v6 NOC's ssh on wan gone. */
 const PROPOSED: DeviceModelInput = {
   ...TERMINAL,
   inboundRules: [
@@ -54,7 +22,6 @@ const PROPOSED: DeviceModelInput = {
   ],
 };
 
-const TIMEZONE = "Europe/Oslo";
 const before = compiled(TERMINAL);
 const after = compiled(PROPOSED, before);
 const effect = changeEffect(before, after);

@@ -4,7 +4,7 @@
 
 import fc from "fast-check";
 import { describe, expect, test } from "vitest";
-import { exposureChangeOf, instantOfWeekTime } from "#server/analysis/exposure-change";
+import { exposureChangeOf } from "#server/analysis/exposure-change";
 import { compileModel, diffModels, parseModel, trace, type DeviceModel, type DeviceModelInput } from "#server/engine/index";
 import { generateModel, prng, SMALL_SIZE } from "#server/engine/testing/generate-model";
 import { propertyParameters } from "#tests/support/property-runs";
@@ -14,18 +14,6 @@ function validated(input: DeviceModelInput): DeviceModel {
   if (!parsed.ok) throw new Error(`model invalid: ${JSON.stringify(parsed.errors.slice(0, 3))}`);
   return parsed.model;
 }
-
-describe("Week times as instants", () => {
-  test("A local week time in the device's zone is the instant trace needs, in the engine's reference week", () => {
-    // Offsets in the week of 2026-01-05 (IANA time zone database, from memory): Lisbon UTC+0,
-    // New York UTC−5 (standard time), Kolkata UTC+5:30, Lord Howe UTC+11 (its summer time).
-    expect(instantOfWeekTime("mon 08:00", "Europe/Lisbon")).toBe("2026-01-05T08:00:00.000Z");
-    expect(instantOfWeekTime("wed 17:30", "America/New_York")).toBe("2026-01-07T22:30:00.000Z");
-    expect(instantOfWeekTime("sun 00:00", "Asia/Kolkata")).toBe("2026-01-10T18:30:00.000Z");
-    expect(instantOfWeekTime("mon 00:15", "Australia/Lord_Howe")).toBe("2026-01-04T13:15:00.000Z");
-    expect(() => instantOfWeekTime("someday 08:00", "UTC")).toThrow("not a week time");
-  });
-});
 
 describe("The exposure change of an address object edit", () => {
   const budget = { numRuns: 40, timeoutMs: 60_000 };

@@ -1,33 +1,39 @@
 import { Form, useNavigation } from "react-router";
+import { ApiReferenceLink, NewTokenSecret, ScopeAndLifetimeFields, TokenTable, type CreatedToken } from "#app/components/api-tokens/tokens";
 import { PASSWORD_MIN_LENGTH } from "#server/auth/password-rules";
 import type { AccountPageData } from "#server/http/account-page.server";
 import { auditSentence } from "#app/utils/audit-words";
 import { Button } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
-import { FormError, TextField } from "#app/components/ui/field";
+import { FormError, SelectField, TextField } from "#app/components/ui/field";
 import { Table, Td, Th } from "#app/components/ui/table";
 import { Time } from "#app/components/ui/time";
 
-/** What a refused form sends back: messages by field and what was typed (never passwords). */
-export type AccountFormResult = { errors: Record<string, string>; values: Record<string, string> } | undefined;
+/** What a refused form sends back (messages by field and what was typed, never passwords), or a token made just now. */
+export type AccountFormResult = { errors: Record<string, string>; values: Record<string, string> } | { created: CreatedToken } | undefined;
 
-type Intent = "name" | "email" | "password";
+type Intent = "name" | "email" | "password" | "create-token";
 
-/** The messages and typed values for one of the three forms, when it was the one refused. */
+/** The messages and typed values for one of the forms, when it was the one refused. */
 function resultFor(result: AccountFormResult, intent: Intent): { errors: Record<string, string>; values: Record<string, string> } {
-  return result && result.values.intent === intent ? result : { errors: {}, values: {} };
+  return result && "values" in result && result.values.intent === intent ? result : { errors: {}, values: {} };
 }
 
-/** Your name, your sign-in e-mail, your password, where you are signed in and what changed. */
-export function AccountSettings({ data, result }: { data: AccountPageData; result: AccountFormResult }) {
+/**
+ * Your name, your sign-in e-mail, your password, your API tokens, where you are signed in and
+ * what changed. `organisation` is the one whose shell the page is in (the token form's default).
+ */
+export function AccountSettings({ data, result, organisation }: { data: AccountPageData; result: AccountFormResult; organisation?: string }) {
   const navigation = useNavigation();
   const busy = navigation.state === "submitting";
   const name = resultFor(result, "name");
   const email = resultFor(result, "email");
   const password = resultFor(result, "password");
+  const token = resultFor(result, "create-token");
+  const created = result && "created" in result ? result.created : null;
   return (
     <>
-      <PageHeader title="Your account" description="Your name, the e-mail address you sign in with, your password, and where you are signed in." />
+      <PageHeader title="Your account" description="Your name, the e-mail address you sign in with, your password, your API tokens, and where you are signed in." />
       <div className="grid gap-6 lg:grid-cols-2">
         <Card className="p-5">
           <h2 className="text-sm font-semibold">Name</h2>
@@ -106,6 +112,43 @@ export function AccountSettings({ data, result }: { data: AccountPageData; resul
               ))}
             </ul>
           )}
+        </Card>
+
+        <Card className="p-5 lg:col-span-2">
+          <h2 className="text-sm font-semibold" id="api-tokens">
+            API tokens
+          </h2>
+          <p className="mt-1 text-sm text-ink-muted">
+            A token lets a script or pipeline call the Sallyport API as you, with your role in one organisation. A read token only reads; a read and write token may also
+            create devices and proposals. Keep tokens in a secret store and revoke any you no longer use. How to call the API: the <ApiReferenceLink />.
+          </p>
+          {created ? <NewTokenSecret created={created} /> : null}
+          {data.tokenOrganisations.length === 0 ? (
+            <p className="mt-4 text-sm text-ink-faint">Tokens act in an organisation: join or create one first.</p>
+          ) : (
+            // A new key once a token is made, so the form starts empty again.
+            <Form key={created?.secret ?? "new"} method="post" className="mt-4 grid gap-4 sm:grid-cols-2 lg:grid-cols-4 lg:items-start" noValidate aria-label="Create an API token">
+              <input type="hidden" name="intent" value="create-token" />
+              <div className="sm:col-span-2 lg:col-span-4">
+                <FormError message={token.errors.form && !token.errors.name && !token.errors.organisation ? token.errors.form : null} />
+              </div>
+              <TextField label="Name" name="name" required maxLength={100} defaultValue={token.values.name} error={token.errors.name} hint="Where it is used, e.g. “nightly exposure check”." />
+              <SelectField label="Organisation" name="organisation" defaultValue={token.values.organisation ?? organisation ?? data.tokenOrganisations[0].slug} error={token.errors.organisation}>
+                {data.tokenOrganisations.map((choice) => (
+                  <option key={choice.slug} value={choice.slug}>
+                    {choice.name} (as {choice.role})
+                  </option>
+                ))}
+              </SelectField>
+              <ScopeAndLifetimeFields values={token.values} errors={token.errors} />
+              <div className="sm:col-span-2 lg:col-span-4">
+                <Button type="submit" variant="secondary" disabled={busy}>
+                  Create token
+                </Button>
+              </div>
+            </Form>
+          )}
+          <TokenTable tokens={data.tokens.map((row) => ({ ...row, actsAs: row.organisation }))} now={data.now} actsAsHeading="Organisation" busy={busy} />
         </Card>
 
         <Card className="p-5 lg:col-span-2">

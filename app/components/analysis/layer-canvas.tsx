@@ -33,7 +33,8 @@ type LayerNodeData = {
 const VERDICT_STYLE: Record<Exclude<Verdict, "stop">, string> = {
   pass: "border-success bg-success-soft/60",
   ahead: "border-dashed border-line-strong bg-surface",
-  unreached: "border-line bg-surface-sunken opacity-60",
+  // Told by the sunken fill, the dotted edge and the words, not by fading the text below readable contrast (WCAG 2.2 SC 1.4.3).
+  unreached: "border-dotted border-line-strong bg-surface-sunken",
   result: "border-brass bg-brass-soft/60 ring-2 ring-brass/30",
 };
 
@@ -127,9 +128,14 @@ function gridPosition(index: number): { x: number; y: number } {
  * login sources → second factor → outcome. Each node shows the elements it stands for and, up to
  * the walkthrough step, its verdict; a click opens that element's editor.
  */
-export function LayerCanvas({ model, trace, step, devicePath, probe }: { model: CanvasModel; trace: TraceResult | null; step: number; devicePath: string; probe: { from: string; interface: string; service: string } }) {
+/**
+ * `modelPath` is where the traced model's sections are edited (`…/model` for the live device,
+ * a proposal's `…/draft`); null for a model nobody edits (a past revision), whose nodes link nowhere.
+ */
+export function LayerCanvas({ model, trace, step, modelPath, probe }: { model: CanvasModel; trace: TraceResult | null; step: number; modelPath: string | null; probe: { from: string; interface: string; service: string } }) {
   const navigate = useNavigate();
   const { nodes, edges } = useMemo(() => {
+    const section = (path: string): string | undefined => (modelPath === null ? undefined : `${modelPath}/${path}`);
     const verdictOf = (layer: Layer): { verdict: Verdict; detail?: string; outcome?: Outcome } => {
       if (!trace) return { verdict: "ahead" };
       const index = trace.layers.findIndex((entry) => entry.layer === layer);
@@ -153,7 +159,7 @@ export function LayerCanvas({ model, trace, step, devicePath, probe }: { model: 
         data: {
           title: "Interface",
           ...verdictOf("arrival"),
-          href: iface ? `${devicePath}/model/interfaces?edit=${encodeURIComponent(iface.name)}#edit` : undefined,
+          href: iface ? section(`interfaces?edit=${encodeURIComponent(iface.name)}#edit`) : undefined,
           body: iface ? (
             <>
               <p className="font-mono font-semibold">
@@ -172,7 +178,7 @@ export function LayerCanvas({ model, trace, step, devicePath, probe }: { model: 
           title: "Inbound rules",
           ...verdictOf("inbound-rules"),
           wide: true,
-          href: `${devicePath}/model/rules${matched && revealedLayer("inbound-rules") ? `?edit=${encodeURIComponent(matched)}#edit` : ""}`,
+          href: section(`rules${matched && revealedLayer("inbound-rules") ? `?edit=${encodeURIComponent(matched)}#edit` : ""}`),
           body: <RuleList rules={model.rules} matched={matched} revealed={revealedLayer("inbound-rules")} defaultInbound={model.defaultInbound} />,
         },
       },
@@ -181,7 +187,7 @@ export function LayerCanvas({ model, trace, step, devicePath, probe }: { model: 
         data: {
           title: "Listener",
           ...verdictOf("listener"),
-          href: iface ? `${devicePath}/model/interfaces?edit=${encodeURIComponent(iface.name)}#edit` : undefined,
+          href: iface ? section(`interfaces?edit=${encodeURIComponent(iface.name)}#edit`) : undefined,
           body: (
             <p>
               Listening on {iface?.name ?? "—"}: <span className="font-mono">{iface?.listeners.join(", ") || "nothing"}</span>
@@ -191,14 +197,14 @@ export function LayerCanvas({ model, trace, step, devicePath, probe }: { model: 
       },
       {
         id: "service-kind",
-        data: { title: "Service kind", ...verdictOf("service-kind"), href: `${devicePath}/model/services`, body: <p className="font-mono">{trace?.service ?? probe.service ?? "—"}</p> },
+        data: { title: "Service kind", ...verdictOf("service-kind"), href: section("services"), body: <p className="font-mono">{trace?.service ?? probe.service ?? "—"}</p> },
       },
       {
         id: "login-sources",
         data: {
           title: "Login sources",
           ...verdictOf("login-sources"),
-          href: `${devicePath}/model/accounts`,
+          href: section("accounts"),
           body: (
             <ul className="space-y-0.5">
               {model.accounts.slice(0, 8).map((account) => (
@@ -216,7 +222,7 @@ export function LayerCanvas({ model, trace, step, devicePath, probe }: { model: 
         data: {
           title: "Second factor",
           ...verdictOf("second-factor"),
-          href: `${devicePath}/model/accounts`,
+          href: section("accounts"),
           body: (
             <ul className="space-y-0.5">
               {model.accounts
@@ -285,7 +291,7 @@ export function LayerCanvas({ model, trace, step, devicePath, probe }: { model: 
       style: { stroke: index < reachedUpTo ? "var(--color-harbour)" : "var(--color-line-strong)", strokeWidth: index < reachedUpTo ? 2.5 : 1.5 },
     }));
     return { nodes, edges };
-  }, [model, trace, step, devicePath, probe]);
+  }, [model, trace, step, modelPath, probe]);
 
   return (
     <div className="h-[34rem] w-full overflow-hidden rounded-card border border-line bg-surface" role="region" aria-label={trace ? `Layer canvas: ${trace.layers.slice(0, step).map((layer) => `${LAYER_TITLES[layer.layer]} ${layer.result === "stop" ? decidesText(trace.outcome) : "passes"}`).join(", ")}${trace && step >= trace.layers.length ? `; outcome ${OUTCOME_LABELS[trace.outcome]}` : ""}` : "Layer canvas: no probe yet"}>

@@ -30,6 +30,7 @@ export function deviceNavGroups(base: string): Group[] {
       tabs: [
         { to: `${base}/history`, label: "History" },
         { to: `${base}/proposals`, label: "Proposals" },
+        { to: `${base}/field-checks`, label: "Field checks" },
       ],
     },
     { id: "model", label: "Model", tabs: DEVICE_SECTIONS.map((section) => ({ to: `${base}/model/${section}`, label: SECTION_TITLES[section] })) },

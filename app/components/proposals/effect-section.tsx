@@ -6,7 +6,7 @@
 // server computes everything (server/analysis/effect-view.ts); this file only draws.
 import type { ReactNode } from "react";
 import { Link } from "react-router";
-import type { EffectGroupView, EffectPicture, EffectView, PictureCell } from "#server/analysis/effect-view";
+import type { EffectGroupView, EffectPicture, EffectView, EffectWitness, PictureCell } from "#server/analysis/effect-view";
 import { formatCount, formatInstant, plural, pluralWord } from "#server/engine/format";
 import { OUTCOMES, outcomeRank, type Outcome } from "#server/engine/vocabulary";
 import { Count } from "../analysis/common";
@@ -17,6 +17,9 @@ import { Badge } from "../ui/card";
 import { cx } from "../ui/cx";
 import { ScrollArea } from "../ui/scroll-area";
 import { ExpectationStatusBadge } from "./expectation-status";
+import { EffectSpaceSection } from "./effect-space";
+import type { EffectSpaceChoice, EffectSpaceView } from "#server/analysis/effect-space";
+import { witnessQuery } from "#app/utils/trace-links";
 
 function Heading({ id, children }: { id: string; children: ReactNode }) {
   return (
@@ -47,6 +50,31 @@ export function EffectHeadline({ effect }: { effect: Pick<EffectView, "headline"
   );
 }
 
+/**
+ * Where an example probe is traced on each side of the change: the trace page's address for the
+ * base revision and for the draft (`?proposal=<id>&side=base|draft`; the draft side of an
+ * applied proposal is the revision it made), with their link words.
+ */
+export type TraceSides = { base: { path: string; label: string }; after: { path: string; label: string } };
+
+/** "Trace on base r3 · Trace on draft": the example probe opened on the trace page against either side. */
+function TraceLinks({ probe, sides }: { probe: EffectWitness; sides: TraceSides | null }) {
+  if (!sides) return null;
+  const query = witnessQuery(probe);
+  const what = `${probe.from} to ${probe.interface} ${probe.service}`;
+  const linkClass = "text-harbour underline underline-offset-4";
+  return (
+    <span className="inline-flex flex-wrap gap-x-2" data-testid="trace-links">
+      <Link to={`${sides.base.path}&${query}`} className={linkClass} aria-label={`${sides.base.label}: ${what}`}>
+        {sides.base.label}
+      </Link>
+      <Link to={`${sides.after.path}&${query}`} className={linkClass} aria-label={`${sides.after.label}: ${what}`}>
+        {sides.after.label}
+      </Link>
+    </span>
+  );
+}
+
 /** A sources page link: the group and offset in the URL, the rest of the query kept. */
 function pageLink(search: URLSearchParams, key: string, offset: number): string {
   const next = new URLSearchParams(search);
@@ -57,7 +85,7 @@ function pageLink(search: URLSearchParams, key: string, offset: number): string 
 
 const groupAnchor = (key: string): string => key.replace(/[^a-z-]+/gi, "-");
 
-function Group({ group, timezone, search }: { group: EffectGroupView; timezone: string; search: URLSearchParams }) {
+function Group({ group, timezone, search, trace }: { group: EffectGroupView; timezone: string; search: URLSearchParams; trace: TraceSides | null }) {
   const { sources } = group;
   const end = sources.offset + sources.items.length;
   const anchor = groupAnchor(group.key);
@@ -114,7 +142,7 @@ function Group({ group, timezone, search }: { group: EffectGroupView; timezone: 
         <time dateTime={group.witness.at} title={formatInstant(group.witness.at, timezone)}>
           {group.witness.when === "all week" ? "all week" : `${group.witness.when} (device time)`}
         </time>
-        : {OUTCOME_LABELS[group.before]} before, {OUTCOME_LABELS[group.after]} after.
+        : {OUTCOME_LABELS[group.before]} before, {OUTCOME_LABELS[group.after]} after. <TraceLinks probe={group.witness} sides={trace} />
       </p>
     </li>
   );
@@ -187,7 +215,7 @@ function shownServices(picture: EffectPicture): string[] {
   return picture.services.filter((service) => picture.cells.some((cell) => cell.service === service && (cell.changed || (cell.before ?? "silent") !== "silent" || (cell.after ?? "silent") !== "silent")));
 }
 
-export function EffectPictureView({ picture }: { picture: EffectPicture }) {
+export function EffectPictureView({ picture, trace = null }: { picture: EffectPicture; trace?: TraceSides | null }) {
   const services = shownServices(picture);
   const interfaces = picture.interfaces.filter((name) => picture.cells.some((cell) => cell.interface === name));
   const cellOf = new Map(picture.cells.map((cell) => [`${cell.interface}|${cell.service}`, cell]));
@@ -262,6 +290,11 @@ export function EffectPictureView({ picture }: { picture: EffectPicture }) {
               <span className="text-xs text-ink-muted">
                 {formatCount(cell.gains).text} more exposed, {formatCount(cell.loses).text} less
               </span>
+              {cell.witness ? (
+                <span className="text-xs">
+                  <TraceLinks probe={cell.witness} sides={trace} />
+                </span>
+              ) : null}
             </li>
           ))}
         </ul>
@@ -272,14 +305,47 @@ export function EffectPictureView({ picture }: { picture: EffectPicture }) {
 
 /**
  * The whole effect. `commentPath` (null when the viewer may not comment) gives the address
- * that opens the comment form about one rule; `search` is the page's query (for source pages).
+ * that opens the comment form about one rule; `search` is the page's query (for source pages
+ * and the address-space picture); `spaces` and `space` are the picture's choices and the view
+ * asked for. `gate`, on a page that lists what blocks the change in a section of its own (the
+ * proposal page's gate), names that section: the effect then points to it instead of saying the
+ * reasons again, so each reason is read once. `trace` gives every example probe links that open
+ * it on the trace page against the base and the draft.
  */
-export function EffectDetails({ effect, search, commentPath }: { effect: EffectView; search: URLSearchParams; commentPath: ((ruleId: string) => string) | null }) {
+export function EffectDetails({
+  effect,
+  search,
+  commentPath,
+  spaces = [],
+  space = null,
+  gate = null,
+  trace = null,
+}: {
+  effect: EffectView;
+  search: URLSearchParams;
+  commentPath: ((ruleId: string) => string) | null;
+  spaces?: readonly EffectSpaceChoice[];
+  space?: EffectSpaceView | null;
+  gate?: { anchor: string; title: string; blocked: boolean } | null;
+  trace?: TraceSides | null;
+}) {
+  // Operator networks that lose every login path are the gate's first reasons; shown there, not here.
+  const lockout = gate ? [] : effect.lockout;
   return (
     <div className="space-y-5" data-testid="proposal-effect">
       <EffectHeadline effect={effect} />
 
-      {effect.blocking.length > 0 ? (
+      {gate ? (
+        gate.blocked ? (
+          <p className="rounded-control border border-danger/40 bg-danger-soft px-3 py-2 text-sm text-danger" data-testid="effect-blocking">
+            Blocked: why, and who may still approve it, is under{" "}
+            <a href={gate.anchor} className="font-medium underline underline-offset-4">
+              {gate.title}
+            </a>
+            .
+          </p>
+        ) : null
+      ) : effect.blocking.length > 0 ? (
         <div role="alert" className="rounded-control border border-danger/40 bg-danger-soft px-3 py-2 text-sm text-danger" data-testid="effect-blocking">
           <p className="font-semibold">Blocked: only an admin or owner may approve it, with a written reason</p>
           <ul className="mt-1 list-disc pl-5">
@@ -295,7 +361,7 @@ export function EffectDetails({ effect, search, commentPath }: { effect: EffectV
           <Heading id="effect-groups-heading">Who gains and who loses</Heading>
           <ul className="mt-1">
             {effect.groups.map((group) => (
-              <Group key={group.key} group={group} timezone={effect.timezone} search={search} />
+              <Group key={group.key} group={group} timezone={effect.timezone} search={search} trace={trace} />
             ))}
           </ul>
         </section>
@@ -333,11 +399,19 @@ export function EffectDetails({ effect, search, commentPath }: { effect: EffectV
 
       <section aria-labelledby="effect-guard-heading">
         <Heading id="effect-guard-heading">Lockout guard</Heading>
-        {effect.lockout.length + effect.workFrom.length === 0 ? (
-          <p className="mt-1 text-sm text-ink-muted">No operator network loses its last login path; the address the author works from keeps its logins.</p>
+        {lockout.length + effect.workFrom.length === 0 ? (
+          <p className="mt-1 text-sm text-ink-muted">
+            {gate && effect.lockout.length > 0 ? (
+              <>
+                Operator networks that lose every login path are listed under <a href={gate.anchor} className="text-harbour underline underline-offset-4">{gate.title}</a>; the address the author works from keeps its logins.
+              </>
+            ) : (
+              "No operator network loses its last login path; the address the author works from keeps its logins."
+            )}
+          </p>
         ) : (
           <ul className="mt-1 space-y-2 text-sm" data-testid="effect-lockout">
-            {effect.lockout.map((entry) => (
+            {lockout.map((entry) => (
               <li key={entry.operatorNetwork} className="border-l-2 border-danger pl-3">
                 <p>{entry.words}</p>
                 <p className="font-mono text-xs break-all text-ink-muted">sources: {entry.sources.join(", ")}</p>
@@ -371,7 +445,13 @@ export function EffectDetails({ effect, search, commentPath }: { effect: EffectV
                   {entry.broken ? <Badge tone="danger">broken by this change</Badge> : entry.fixed ? <Badge tone="success">fixed by this change</Badge> : null}
                 </p>
                 <p className="text-ink-muted">{entry.expectation}</p>
-                {entry.broken || entry.after.status !== "holds" ? <p className={entry.broken ? "text-danger" : "text-ink-muted"}>After: {entry.after.words}</p> : null}
+                {entry.broken && gate ? (
+                  <p className="text-danger">
+                    After: see <a href={gate.anchor} className="underline underline-offset-4">{gate.title}</a>.
+                  </p>
+                ) : entry.broken || entry.after.status !== "holds" ? (
+                  <p className={entry.broken ? "text-danger" : "text-ink-muted"}>After: {entry.after.words}</p>
+                ) : null}
               </li>
             ))}
           </ul>
@@ -380,8 +460,10 @@ export function EffectDetails({ effect, search, commentPath }: { effect: EffectV
 
       <section aria-labelledby="effect-picture-heading">
         <Heading id="effect-picture-heading">Before and after, per interface and service</Heading>
-        <EffectPictureView picture={effect.picture} />
+        <EffectPictureView picture={effect.picture} trace={trace} />
       </section>
+
+      <EffectSpaceSection spaces={spaces} space={space} search={search} />
     </div>
   );
 }

@@ -55,6 +55,12 @@ function labelOf(kind: string): string {
   return kind in GATE_REASON_LABELS ? GATE_REASON_LABELS[kind as GateReasonKind] : kind;
 }
 
+/** The reasons not among `listed` (by their words): a page that lists the gate once shows a refusal's other reasons only. */
+export function unlistedReasons<Reason extends { words: string }>(reasons: readonly Reason[], listed: readonly { words: string }[]): Reason[] {
+  const shown = new Set(listed.map((reason) => reason.words));
+  return reasons.filter((reason) => !shown.has(reason.words));
+}
+
 /** What blocks a change, each reason with its kind, its words and the details behind it. */
 export function GateReasons({ reasons }: { reasons: readonly ShownReason[] }) {
   return (

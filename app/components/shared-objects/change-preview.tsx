@@ -1,6 +1,8 @@
 import { useEffect, useRef } from "react";
 import { Form, Link, useNavigation } from "react-router";
 import { DocumentChanges } from "#app/components/device/document-changes";
+import { TextAreaField } from "#app/components/device/editor-kit";
+import { TextField } from "#app/components/ui/field";
 import { OutcomeChip } from "#app/components/outcome";
 import { SeverityBadge } from "#app/components/severity";
 import { Button, ButtonLink } from "#app/components/ui/button";
@@ -8,8 +10,9 @@ import { Badge, Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
 import { formatCount } from "#server/engine/format";
 import type { ExposureChangeRow, FindingLine } from "#server/analysis/exposure-change";
-import type { CsvRowReport, DeviceEffect, SharedChangePreview } from "#server/services/shared-objects.server";
+import type { DeviceEffect, SharedChangePreview } from "#server/services/shared-objects.server";
 import { CsvReport } from "./csv-report";
+import { witnessTracePath } from "#app/utils/trace-links";
 
 const PLURALS = new Intl.PluralRules("en");
 
@@ -32,7 +35,7 @@ function stretchWords(row: Pick<ExposureChangeRow, "start" | "end">): string {
 
 /** The trace page with the row's own probe filled in. */
 function tracePath(devicePath: string, witness: ExposureChangeRow["witness"]): string {
-  return `${devicePath}/analysis?${new URLSearchParams({ from: witness.from, interface: witness.interface, service: witness.service, to: witness.to, at: witness.at, reveal: "all" })}`;
+  return witnessTracePath(devicePath, witness);
 }
 
 function ChangeRow({ row, devicePath }: { row: ExposureChangeRow; devicePath: string }) {
@@ -223,11 +226,58 @@ function DeviceEffectCard({ effect, organisationPath }: { effect: DeviceEffect; 
 }
 
 /**
+ * Under "changes go through proposals", a change that moves sources on a device (docs/decisions/017):
+ * why it cannot be proposed, the reviewed way — the new value as a new shared object, then a
+ * proposal per device to use it — and, for an emergency, the break-glass reason.
+ */
+function PolicyNotice({ moving, alternative }: { moving: readonly string[]; alternative: { kind: string; name: string; items: string; description: string } | null }) {
+  const navigation = useNavigation();
+  return (
+    <div className="space-y-3 rounded-control border border-danger/40 bg-surface p-3 text-sm sm:p-4" data-testid="library-policy">
+      <h3 className="font-semibold text-danger">Changes go through proposals in this organisation</h3>
+      <p>
+        This change moves sources on <span className="font-mono">{moving.join(", ")}</span>. A shared object has one value on every device, so its change cannot be proposed per device. The reviewed way: save the new value as a new shared object — no device uses it yet, so nothing changes — then propose on each device to use it.
+      </p>
+      {alternative ? (
+        <Form method="post" className="flex flex-wrap items-end gap-3" aria-label="Save as a new shared object">
+          <input type="hidden" name="intent" value="save" />
+          <input type="hidden" name="original" value="" />
+          <input type="hidden" name="kind" value={alternative.kind} />
+          <input type="hidden" name="items" value={alternative.items} />
+          <input type="hidden" name="description" value={alternative.description} />
+          <TextField label="Name of the new object" name="name" defaultValue={`${alternative.name}-next`.slice(0, 63)} maxLength={63} className="min-w-56" />
+          <Button type="submit" variant="secondary" disabled={navigation.state === "submitting"}>
+            Save as a new object
+          </Button>
+        </Form>
+      ) : null}
+    </div>
+  );
+}
+
+/**
  * The review step before a shared-object change is saved: each device that gets a new revision
  * with how its exposure changes (the engine's diff), then the confirm button. `fields` are the
- * change's own form fields, sent again with the confirmation.
+ * change's own form fields, sent again with the confirmation. Under "changes go through
+ * proposals" a change that moves sources asks for a break-glass reason (`breakGlass`: what was
+ * typed and its problem) and offers the reviewed way round (`alternative`: a single object's
+ * new value, to save under a new name).
  */
-export function SharedChangeReview({ preview, fields, organisationPath, cancelPath }: { preview: SharedChangePreview; fields: Record<string, string>; organisationPath: string; cancelPath: string }) {
+export function SharedChangeReview({
+  preview,
+  fields,
+  organisationPath,
+  cancelPath,
+  breakGlass = {},
+  alternative = null,
+}: {
+  preview: SharedChangePreview;
+  fields: Record<string, string>;
+  organisationPath: string;
+  cancelPath: string;
+  breakGlass?: { value?: string; error?: string };
+  alternative?: { kind: string; name: string; items: string; description: string } | null;
+}) {
   const navigation = useNavigation();
   const heading = useRef<HTMLHeadingElement>(null);
   // The review replaces what the user was looking at: move focus (and the screen) to it.
@@ -236,7 +286,8 @@ export function SharedChangeReview({ preview, fields, organisationPath, cancelPa
   }, [preview]);
   const count = preview.devices.length;
   const revisions = counted(String(count), "new revision", "new revisions");
-  const report: CsvRowReport[] | null = preview.report;
+  const policyApplies = preview.policy.throughProposals && preview.policy.moving.length > 0;
+  const report = preview.report;
   return (
     <section aria-labelledby="review-heading" className="min-w-0 space-y-4 rounded-card border-2 border-brass/50 bg-brass-soft/40 p-3 sm:p-5" data-testid="shared-change-review">
       <div>
@@ -259,15 +310,28 @@ export function SharedChangeReview({ preview, fields, organisationPath, cancelPa
         </p>
       ) : null}
       <p className="text-sm text-ink-muted">The devices themselves change only when the new revisions are applied to them, following your organisation's change policy.</p>
-      <Form method="post" encType={fields.intent === "import-csv" ? "multipart/form-data" : undefined} className="flex flex-wrap items-center gap-3">
+      {policyApplies ? <PolicyNotice moving={preview.policy.moving} alternative={alternative} /> : null}
+      <Form method="post" encType={fields.intent === "import-csv" ? "multipart/form-data" : undefined} className="flex flex-wrap items-end gap-3" aria-label={policyApplies ? "Break-glass save" : "Confirm the change"}>
         {Object.entries(fields).map(([name, value]) => (
           <input key={name} type="hidden" name={name} value={value} />
         ))}
         <input type="hidden" name="confirm" value="1" />
         <input type="hidden" name="library" value={preview.confirmation.library} />
         <input type="hidden" name="bases" value={preview.confirmation.bases} />
-        <Button type="submit" disabled={navigation.state === "submitting"}>
-          Save and create {revisions}
+        {policyApplies ? (
+          <div className="w-full">
+            <TextAreaField
+              label="Why this cannot wait for proposals (break-glass)"
+              name="breakGlassReason"
+              rows={2}
+              defaultValue={breakGlass.value}
+              error={breakGlass.error}
+              hint="At least 20 characters; recorded with each new revision in the audit log, and the reviewers are e-mailed."
+            />
+          </div>
+        ) : null}
+        <Button type="submit" variant={policyApplies ? "danger" : "primary"} disabled={navigation.state === "submitting"}>
+          {policyApplies ? "Save directly (break-glass)" : `Save and create ${revisions}`}
         </Button>
         <ButtonLink to={cancelPath} variant="secondary">
           Cancel

@@ -1,14 +1,17 @@
 import { Badge } from "#app/components/ui/card";
 import { Table, Td, Th } from "#app/components/ui/table";
-import type { CsvRowReport } from "#server/services/shared-objects.server";
+import type { CsvReport as Report } from "#server/services/shared-objects.server";
+import { formatNumber } from "#server/engine/format";
 
-/** What became of each CSV row; `pending` while the import still waits for its confirmation. */
-export function CsvReport({ report, pending = false }: { report: readonly CsvRowReport[]; pending?: boolean }) {
-  const good = report.filter((row) => row.result !== "refused").length;
-  const refused = report.length - good;
+/** What became of each CSV row (every refused one, the first saved ones); `pending` while the import still waits for its confirmation. */
+export function CsvReport({ report, pending = false }: { report: Report; pending?: boolean }) {
+  const good = report.created + report.updated;
   return (
     <Table>
-      <caption className="p-2 text-left text-sm font-medium">{pending ? `${good} to save, ${refused} refused` : `${good} saved, ${refused} refused`}</caption>
+      <caption className="p-2 text-left text-sm font-medium">
+        {pending ? `${formatNumber(good)} to save, ${formatNumber(report.refused)} refused` : `${formatNumber(good)} saved, ${formatNumber(report.refused)} refused`}
+        {report.unlisted > 0 ? ` (${formatNumber(report.unlisted)} more ${pending ? "to save" : "saved"} not listed)` : ""}
+      </caption>
       <thead>
         <tr>
           <Th>Row</Th>
@@ -18,7 +21,7 @@ export function CsvReport({ report, pending = false }: { report: readonly CsvRow
         </tr>
       </thead>
       <tbody>
-        {report.map((row) => (
+        {report.rows.map((row) => (
           <tr key={row.row}>
             <Td className="tabular">{row.row}</Td>
             <Td className="font-mono">{row.name}</Td>

@@ -1,10 +1,12 @@
 import { Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/forgot-password";
-import { getEnvironment, isOutboxEnabled } from "#server/config.server";
-import { appOriginOf, fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
+import { appOrigin, isOutboxEnabled } from "#server/config.server";
+import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
 import { EmailSchema } from "#server/http/schemas";
 import { requestPasswordReset } from "#server/services/users.server";
+import { allowRequest, throttledRefusal } from "#server/auth/throttle.server";
+import { refusedForm } from "#server/http/refusals.server";
 import { Button } from "#app/components/ui/button";
 import { TextField } from "#app/components/ui/field";
 import { clientAddressOf } from "#server/http/request-context.server";
@@ -19,7 +21,10 @@ export async function action({ request, context }: Route.ActionArgs) {
   const values = formValues(await readForm(request));
   const parsed = z.object({ email: EmailSchema }).safeParse(values);
   if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
-  await requestPasswordReset(parsed.data.email, appOriginOf(request, getEnvironment().APP_ORIGIN), clientAddressOf(context));
+  // Per e-mail and per client address, whether or not the address has an account (so the answer tells nothing).
+  const verdict = await allowRequest("reset", parsed.data.email, clientAddressOf(context));
+  if (verdict.throttled) return refusedForm(throttledRefusal(verdict, "reset requests", "email"), values);
+  await requestPasswordReset(parsed.data.email, appOrigin(), clientAddressOf(context));
   // The same answer whether or not the address has an account.
   return { ok: true as const, email: parsed.data.email };
 }
@@ -38,8 +43,8 @@ export default function ForgotPassword({ actionData, loaderData }: Route.Compone
             Running locally: the message is in the{" "}
             <Link to="/outbox" className="font-medium text-harbour underline underline-offset-4">
               local outbox
-            </Link>
-            .
+            </Link>{" "}
+            (it opens once you have followed the outbox link <code>npm start</code> printed).
           </p>
         ) : null}
         <p className="mt-8 text-sm">
@@ -69,4 +74,8 @@ export default function ForgotPassword({ actionData, loaderData }: Route.Compone
       </p>
     </>
   );
+}
+
+export function headers({ actionHeaders }: Route.HeadersArgs) {
+  return actionHeaders;
 }

@@ -13,9 +13,10 @@ export async function loader() {
 }
 
 export async function action({ request, context }: Route.ActionArgs) {
-  const form = await readForm(request.clone());
+  // A POST without a body (or with one that is not a form) still signs out: this session only.
+  const form = request.headers.get("Content-Type") ? await readForm(request.clone()).catch(() => null) : null;
   const signedIn = signedInOf(context);
-  const everywhere = form.get("scope") === "everywhere";
+  const everywhere = form?.get("scope") === "everywhere";
   if (signedIn && everywhere) {
     await endAllSessions(signedIn.user.id);
     await recordAuditEvent({ userId: signedIn.user.id, email: signedIn.user.email, clientAddress: clientAddressOf(context) }, { organisationId: null, action: "user.signed-out-everywhere", targetType: "user", targetId: signedIn.user.id });

@@ -6,6 +6,7 @@ import { signedInOf } from "#server/auth/guard.server";
 import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
 import { SignUpSchema } from "#server/http/schemas";
 import { createUserWithOrganisation } from "#server/services/organisations.server";
+import { allowRequest, throttledRefusal } from "#server/auth/throttle.server";
 import { Button } from "#app/components/ui/button";
 import { FormError, TextField } from "#app/components/ui/field";
 import { clientAddressOf } from "#server/http/request-context.server";
@@ -23,6 +24,8 @@ export async function action({ request, context }: Route.ActionArgs) {
   const parsed = SignUpSchema.safeParse(values);
   if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
   try {
+    const verdict = await allowRequest("signup", parsed.data.email, clientAddressOf(context));
+    if (verdict.throttled) throw throttledRefusal(verdict, "sign-ups", "email");
     const { user, organisation } = await createUserWithOrganisation(parsed.data, clientAddressOf(context));
     const cookie = await startSession(request, user.id, clientAddressOf(context));
     throw redirect(`/o/${organisation.slug}`, { headers: { "Set-Cookie": cookie } });
@@ -65,4 +68,8 @@ export default function SignUp({ actionData }: Route.ComponentProps) {
       </Form>
     </>
   );
+}
+
+export function headers({ actionHeaders }: Route.HeadersArgs) {
+  return actionHeaders;
 }

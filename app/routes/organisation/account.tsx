@@ -15,8 +15,8 @@ export async function action({ request, context }: Route.ActionArgs) {
   return accountAction(request, context, access, `/o/${access.organisation.slug}/account`);
 }
 
-export default function OrganisationAccount({ loaderData, actionData }: Route.ComponentProps) {
-  return <AccountSettings data={loaderData} result={actionData} />;
+export default function OrganisationAccount({ loaderData, actionData, params }: Route.ComponentProps) {
+  return <AccountSettings data={loaderData} result={actionData} organisation={params.organisation} />;
 }
 
 // A throttled password check answers 429 with Retry-After (RFC 9110 §10.2.3) on the page itself.

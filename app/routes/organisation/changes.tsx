@@ -11,13 +11,13 @@ import { PageErrorBoundary } from "#app/components/error-panel";
 import { PageHeader } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
 import { formatNumber, plural } from "#server/engine/format";
+import { isUuid } from "#server/validation/ids";
 
 export const meta: Route.MetaFunction = () => [{ title: "Changes · Sallyport" }];
 
 // A refusal shows inside the organisation's frame.
 export const ErrorBoundary = PageErrorBoundary;
 
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 /** The filters from the URL, read leniently: an unknown value means no filter, so old links still open. */
 function filtersOf(params: URLSearchParams) {
@@ -26,8 +26,8 @@ function filtersOf(params: URLSearchParams) {
   const author = params.get("author") ?? "";
   return {
     state: state === "all" || state === "open" || isProposalState(state) ? state : "open",
-    device: UUID.test(device) ? device : "",
-    author: UUID.test(author) ? author : "",
+    device: isUuid(device) ? device : "",
+    author: isUuid(author) ? author : "",
     review: params.get("review") === "mine",
     week: params.get("window") === "week",
   };

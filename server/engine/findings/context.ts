@@ -3,15 +3,17 @@
 // ever the first match, the sources with a login path — and the witness probes.
 import { FAMILY, formatAddress, parseAddress, parseEntry, rangeToCidrs } from "../addresses.ts";
 import type { Family } from "../addresses.ts";
-import { EMPTY_SET, intersect, rangesOf, setFromRanges, subtract, unionSets } from "../address-sets.ts";
+import { EMPTY_SET, contains, intersect, rangesOf, setFromRanges, subtract, unionSets } from "../address-sets.ts";
 import type { AddressSet, Ranges } from "../address-sets.ts";
-import { arrivals, firstMatchRules, firstOfEachList, loginReachable } from "../analysis.ts";
+import { arrivals, firstMatchRules, loginReachable } from "../analysis.ts";
+import { cellPartitions, censusOf, cellsOf, ownerSlots } from "../cells.ts";
 import type { Arrival } from "../analysis.ts";
 import type { CompiledModel } from "../compile.ts";
 import type { Runs } from "../domain.ts";
 import { traceProbe } from "../trace.ts";
 import type { TraceResult } from "../trace.ts";
 import { OUTCOMES, SILENT, isOutcome } from "../vocabulary.ts";
+import { instantInSlice } from "../week-times.ts";
 import type { Finding, Witness, WitnessProbe } from "./types.ts";
 
 /**
@@ -68,9 +70,6 @@ export function witnessSource(ranges: Ranges, family: Family): bigint | undefine
   return ranges[0];
 }
 
-/** A week minute's instant in the reference week: Monday 5 January 2026, 00:00 device time. */
-const REFERENCE_MONDAY_UTC = Date.UTC(2026, 0, 5);
-
 /** Every outcome that answers at all (all but silence). */
 const ANSWERING = OUTCOMES.map((_, outcome) => outcome).filter((outcome) => outcome !== SILENT);
 
@@ -93,6 +92,17 @@ function exposureOf(engine: CompiledModel, lists: { readonly 4: readonly Runs[];
   return outcomes.size === 0 ? undefined : { outcomes, hits };
 }
 
+/** Where a rule is first the first match: the cell (index in cell order) and slice, and the first element it takes there. */
+interface DecidingPlace {
+  readonly cell: number;
+  readonly iface: number;
+  readonly to: number;
+  readonly cls: number;
+  readonly slice: number;
+  readonly family: Family;
+  readonly element: number;
+}
+
 export class FindingContext {
   #exposure: Map<string, ServiceExposure> | undefined;
   /** Per interface × service, the distinct outcome runs the exposure was computed from (a later context re-uses equal ones). */
@@ -101,7 +111,9 @@ export class FindingContext {
   #firstMatch: Set<number> | undefined;
   #loginReachable: AddressSet | undefined;
   #arrivals: Arrival[] | undefined;
-  #deciding: Map<number, { iface: number; to: number; cls: number; slice: number; family: Family; element: number }> | undefined;
+  /** Per slot, the first place (in cell order) where the rule is the first match: every rule's once #decidingComplete, else those asked for so far. */
+  #deciding = new Map<number, DecidingPlace | undefined>();
+  #decidingComplete = false;
 
   #basis: FindingContext | undefined;
 
@@ -125,9 +137,32 @@ export class FindingContext {
     const key = `${code}|${this.engine.rules[position].id}`;
     const basis = this.#basis;
     const previous = basis === undefined ? undefined : basis.#ruleFindings.get(key);
-    const finding = previous !== undefined && this.engine.ruleUntouched(position) ? previous : build();
+    const finding = previous !== undefined && this.#decisionsKept(position) ? previous : build();
     this.#ruleFindings.set(key, finding);
     return finding;
+  }
+
+  /** Whether every first-match decision about the rule, and every cell it is a candidate in, is the basis's. */
+  #decisionsKept(position: number): boolean {
+    const engine = this.engine;
+    const edit = engine.incrementalBasis === undefined ? null : censusOf(engine).edit;
+    if (edit === null) return engine.ruleUntouched(position);
+    return !engine.ruleChangedByEdit(position) && edit.affected[engine.slotOf(position)] === 0;
+  }
+
+  #kept = new Map<string, unknown>();
+
+  /**
+   * A value a check keeps with the findings of this model, computed once; `previous` is the
+   * basis's value under the same key (after an edit), for the check to re-use what the edit
+   * left alone.
+   */
+  kept<T>(key: string, compute: (previous: T | undefined) => T): T {
+    if (this.#kept.has(key)) return this.#kept.get(key) as T;
+    const basis = this.#basis;
+    const value = compute(basis === undefined ? undefined : (basis.#kept.get(key) as T | undefined));
+    this.#kept.set(key, value);
+    return value;
   }
 
   /** Drops the link to the basis, so a chain of edits does not keep every earlier context alive. */
@@ -171,27 +206,40 @@ export class FindingContext {
     const previous = this.#basis;
     const basis = previous === undefined ? undefined : previous.#exposureInputs;
     const basisExposure = previous === undefined ? undefined : previous.#exposure;
+    // After a rule edit, an interface × service none of whose cells changed keeps the basis's exposure.
+    const incremental = engine.incrementalBasis !== undefined && basis !== undefined && basisExposure !== undefined;
     const inputs = new Map<string, readonly Runs[]>();
     const out = new Map<string, ServiceExposure>();
     const destinations: number[][] = engine.interfaceAddresses.map(() => []);
     for (const { iface, to } of this.arrivals) destinations[iface].push(to);
     for (let iface = 0; iface < engine.interfaceAddresses.length; iface++) {
       for (let cls = 0; cls < engine.catalogue.length; cls++) {
+        const key = `${iface}|${cls}`;
+        if (incremental && destinations[iface].every((to) => !engine.cellMayDiffer(iface, to, cls))) {
+          const kept = basis.get(key);
+          if (kept !== undefined) {
+            inputs.set(key, kept);
+            const exposure = basisExposure.get(key);
+            if (exposure !== undefined) out.set(key, exposure);
+            continue;
+          }
+        }
         // Many cells see the same outcome runs: each distinct list of candidate rules, and each distinct runs object, counts once.
         const lists = { 4: [] as Runs[], 6: [] as Runs[] };
         const seen = new Set<Runs>();
         const candidateLists = new Set<number>();
         for (const to of destinations[iface]) {
-          const list = engine.candidateRules(iface, to, cls).id * 2 + (engine.addresses[to].family === 4 ? 0 : 1);
-          if (candidateLists.has(list)) continue;
-          candidateLists.add(list);
+          if (!incremental) {
+            const list = engine.candidateRules(iface, to, cls).id * 2 + (engine.addresses[to].family === 4 ? 0 : 1);
+            if (candidateLists.has(list)) continue;
+            candidateLists.add(list);
+          }
           for (const partition of engine.weekOutcomes(iface, to, cls)) {
             if (seen.has(partition.outcome)) continue;
             seen.add(partition.outcome);
             lists[partition.family].push(partition.outcome);
           }
         }
-        const key = `${iface}|${cls}`;
         const all = [...lists[4], ...lists[6]];
         inputs.set(key, all);
         const before = basis?.get(key);
@@ -206,19 +254,6 @@ export class FindingContext {
 
   // ---- witnesses ----
 
-  /** An instant in the given slice of the week (device time zone), as ISO 8601 UTC. */
-  instantIn(slice: number): string {
-    const engine = this.engine;
-    const start = engine.week.slices[slice].start;
-    const monday = REFERENCE_MONDAY_UTC - engine.clock.offsetAt(REFERENCE_MONDAY_UTC) * 60_000;
-    // Normally the slice's first minute; around a daylight-saving change, the next minute that falls in it.
-    for (let minute = 0; minute < 3 * 7 * 24 * 60; minute++) {
-      const ms = monday + (((start + minute) % (7 * 24 * 60)) + (start + minute >= 7 * 24 * 60 ? 7 * 24 * 60 : 0)) * 60_000;
-      if (engine.sliceAt(ms) === slice) return new Date(ms).toISOString();
-    }
-    return new Date(monday + start * 60_000).toISOString();
-  }
-
   /** The probe text for arrival, class, source and slice. */
   probe(iface: number, to: number, cls: number, family: Family, source: bigint, slice: number, serviceText?: string): WitnessProbe {
     const engine = this.engine;
@@ -228,7 +263,7 @@ export class FindingContext {
       interface: this.model.interfaces[iface].name,
       service,
       to: engine.addresses[to].text,
-      at: this.instantIn(slice),
+      at: instantInSlice(engine, slice),
     };
   }
 
@@ -269,7 +304,7 @@ export class FindingContext {
     for (const { iface, to } of this.arrivals) {
       if (rule.iface !== -1 && rule.iface !== iface) continue;
       const target = engine.addresses[to];
-      if (intersect(rangesOf(rule.destinations, target.family), [target.value, target.value]).length === 0) continue;
+      if (!contains(rangesOf(rule.destinations, target.family), target.value)) continue;
       const source = engine.firstSourceOf(position, target.family);
       if (source === undefined) continue;
       for (const c of engine.classes) {
@@ -283,8 +318,7 @@ export class FindingContext {
 
   /** A probe for which the rule is the first match (where it decides). Undefined when it never is. */
   ruleDecidesWitness(position: number): WitnessProbe | undefined {
-    this.#deciding ??= this.#firstDecisions();
-    const found = this.#deciding.get(position);
+    const found = this.#decidingPlace(this.engine.slotOf(position));
     if (found === undefined) return undefined;
     const service = this.#serviceTextFor(position, found.cls);
     if (service === undefined) return undefined;
@@ -292,16 +326,57 @@ export class FindingContext {
     return this.probe(found.iface, found.to, found.cls, found.family, source, found.slice, service);
   }
 
-  /** For every rule that is ever the first match, the first place it is: one walk over the distinct partitions. */
-  #firstDecisions(): Map<number, { iface: number; to: number; cls: number; slice: number; family: Family; element: number }> {
+  /**
+   * The first place the rule (by slot) decides. After a rule edit the cells the edit left
+   * alone are the basis's, so when the basis's first place is in such a cell (or the rule
+   * decided nowhere) only the changed cells before it need a look.
+   */
+  #decidingPlace(slot: number): DecidingPlace | undefined {
+    if (this.#decidingComplete || this.#deciding.has(slot)) return this.#deciding.get(slot);
     const engine = this.engine;
-    const out = new Map<number, { iface: number; to: number; cls: number; slice: number; family: Family; element: number }>();
+    const edit = engine.incrementalBasis === undefined ? null : censusOf(engine).edit;
+    const basis = this.#basis;
+    if (edit !== null && basis !== undefined && (basis.#decidingComplete || basis.#deciding.has(slot))) {
+      const kept = basis.#deciding.get(slot);
+      if (kept === undefined || edit.changed[kept.cell] === 0) {
+        const place = this.#firstPlaceInChangedCells(slot, edit.cells, kept === undefined ? Infinity : kept.cell) ?? kept;
+        this.#deciding.set(slot, place);
+        return place;
+      }
+    }
+    this.#deciding = this.#firstDecisions();
+    this.#decidingComplete = true;
+    return this.#deciding.get(slot);
+  }
+
+  /** The first place the rule decides among the changed cells before `limit`, if any. */
+  #firstPlaceInChangedCells(slot: number, changed: Int32Array, limit: number): DecidingPlace | undefined {
+    const engine = this.engine;
+    const cells = cellsOf(engine);
+    for (const cell of changed) {
+      if (cell >= limit) break;
+      const { iface, to, cls, partitions } = cellPartitions(engine, cells, cell);
+      for (let slice = 0; slice < partitions.length; slice++) {
+        const rules = partitions[slice];
+        if (!ownerSlots(rules).includes(slot)) continue;
+        const k = rules.owner.values.indexOf(slot);
+        return { cell, iface, to, cls, slice, family: rules.family, element: rules.owner.starts[k] };
+      }
+    }
+    return undefined;
+  }
+
+  /** For every rule that is ever the first match, the first place it is: one walk over the cells, each distinct partition once. */
+  #firstDecisions(): Map<number, DecidingPlace | undefined> {
+    const engine = this.engine;
+    const cells = cellsOf(engine);
+    const out = new Map<number, DecidingPlace | undefined>();
     const seen = new Set<number>();
     // Slots already given their first place: most runs are of rules already placed, skipped at once.
     const placed = new Uint8Array(engine.slotCount);
-    // A later arrival with an already-walked candidate list has only partitions already seen.
-    for (const { iface, to, cls } of firstOfEachList(engine)) {
-      const partitions = engine.weekRulePartitions(iface, to, cls);
+    let left = censusOf(engine).owning.reduce((n, count) => (count > 0 ? n + 1 : n), 0);
+    for (let cell = 0; cell < cells.count && left > 0; cell++) {
+      const { iface, to, cls, partitions } = cellPartitions(engine, cells, cell);
       for (let slice = 0; slice < partitions.length; slice++) {
         const rules = partitions[slice];
         if (seen.has(rules.id)) continue;
@@ -311,7 +386,8 @@ export class FindingContext {
           const slot = values[k];
           if (slot < 0 || placed[slot] === 1) continue;
           placed[slot] = 1;
-          out.set(engine.positionOfSlot(slot), { iface, to, cls, slice, family: rules.family, element: starts[k] });
+          left--;
+          out.set(slot, { cell, iface, to, cls, slice, family: rules.family, element: starts[k] });
         }
       }
     }

@@ -5,10 +5,11 @@ import { nameTie, tableRows, urlSort, type ColumnDef } from "#app/components/ui/
 import type { Route } from "./+types/fleet";
 import { requireRole } from "#server/auth/guard.server";
 import { hasAtLeastRole, PAGE_ROLES } from "#server/auth/roles";
-import { listDevices, type DeviceRow } from "#server/services/devices.server";
-import { activeFindingsBySeverity } from "#server/services/findings.server";
+import type { DeviceRow } from "#server/services/devices.server";
+import { fleetDeviceRows } from "#server/services/device-list.server";
 import { listSites } from "#server/services/sites.server";
-import { openProposalCounts } from "#server/services/proposals.server";
+import { lastFieldChecks, type FieldCheckSummary } from "#server/services/field-checks.server";
+import { AgreementRate } from "#app/components/field-checks";
 import { OutcomeChip } from "#app/components/outcome";
 import { isOutcome, outcomeRank } from "#server/engine/vocabulary";
 import { SEVERITY_ORDER, SeverityCounts } from "#app/components/severity";
@@ -18,6 +19,7 @@ import { EmptyState } from "#app/components/ui/empty-state";
 import { Table, Td } from "#app/components/ui/table";
 import { Time } from "#app/components/ui/time";
 import { formatNumber, plural } from "#server/engine/format";
+import { looksLikeSource } from "#app/utils/search";
 import { PageErrorBoundary } from "#app/components/error-panel";
 
 export const meta: Route.MetaFunction = () => [{ title: "Devices · Sallyport" }];
@@ -38,22 +40,27 @@ const COLUMNS = [
   { id: "exposure", accessorFn: (device) => (isOutcome(device.worstOutsideOutcome) ? outcomeRank(device.worstOutsideOutcome) : -1) },
   { id: "updated", accessorKey: "updatedAt" },
   { id: "proposals", accessorKey: "openProposals" },
-] as const satisfies readonly ColumnDef<DeviceRow & { openProposals: number }>[];
-const SITE_FILTER = { id: "siteId", accessorKey: "siteId", filterFn: "equals" } as const satisfies ColumnDef<DeviceRow & { openProposals: number }>;
+  // By agreement rate; a device with no field check (or none that could be checked) sorts below every rate.
+  { id: "field-check", accessorFn: (device) => device.fieldCheck?.counts.agreementRate ?? -1 },
+] as const satisfies readonly ColumnDef<FleetRow>[];
+const SITE_FILTER = { id: "siteId", accessorKey: "siteId", filterFn: "equals" } as const satisfies ColumnDef<FleetRow>;
+
+type FleetRow = DeviceRow & { openProposals: number; fieldCheck: FieldCheckSummary | null };
 
 export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireRole(context);
   const url = new URL(request.url);
   const { sort, descending, sorting } = urlSort(url.searchParams, COLUMNS);
-  const [listed, sites, active, proposals] = await Promise.all([listDevices(access.organisation.id), listSites(access.organisation.id), activeFindingsBySeverity(access.organisation.id), openProposalCounts(access.organisation.id)]);
   // Counts leave out dismissed findings (accepted risks), as the device overview does.
-  const devices = listed.map((device) => ({ ...device, findingsBySeverity: active.get(device.id) ?? device.findingsBySeverity, openProposals: proposals.get(device.id) ?? 0 }));
-  const shown = tableRows(devices, [...COLUMNS, SITE_FILTER, nameTie<DeviceRow & { openProposals: number }>()], {
+  const [rows, sites, fieldChecks] = await Promise.all([fleetDeviceRows(access.organisation.id), listSites(access.organisation.id), lastFieldChecks(access.organisation.id)]);
+  const devices: FleetRow[] = rows.map((device) => ({ ...device, fieldCheck: fieldChecks.get(device.id) ?? null }));
+  const shown = tableRows(devices, [...COLUMNS, SITE_FILTER, nameTie<FleetRow>()], {
     globalFilter: (url.searchParams.get("q") ?? "").trim().slice(0, 100),
     columnFilters: url.searchParams.get("site") ? [{ id: "siteId", value: url.searchParams.get("site") }] : [],
     sorting,
   });
-  return { devices: shown, total: devices.length, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canAdd: hasAtLeastRole(access.role, PAGE_ROLES.newDevice), canImport: hasAtLeastRole(access.role, PAGE_ROLES.importModel), slug: access.organisation.slug, now: new Date().toISOString() };
+  const q = (url.searchParams.get("q") ?? "").trim().slice(0, 100);
+  return { devices: shown, total: devices.length, reachFrom: looksLikeSource(q) ? q : null, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canAdd: hasAtLeastRole(access.role, PAGE_ROLES.newDevice), canImport: hasAtLeastRole(access.role, PAGE_ROLES.importModel), slug: access.organisation.slug, now: new Date().toISOString() };
 }
 
 export default function Fleet({ loaderData }: Route.ComponentProps) {
@@ -65,7 +72,13 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
         title="Devices"
         description="Each device's management plane: who can reach it, and what they would see. Figures are from each device's current revision."
         actions={
-          canAdd || canImport ? (
+          <>
+            {loaderData.total > 0 ? (
+              <ButtonLink to={`/o/${slug}/reach`} variant="secondary">
+                Fleet reach
+              </ButtonLink>
+            ) : null}
+            {canAdd || canImport ? (
             <>
               {canImport ? (
                 <ButtonLink to={`/o/${slug}/devices/import`} variant="secondary">
@@ -74,7 +87,8 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
               ) : null}
               {canAdd ? <ButtonLink to={`/o/${slug}/devices/new`}>New device</ButtonLink> : null}
             </>
-          ) : null
+            ) : null}
+          </>
         }
       />
       {loaderData.total === 0 ? (
@@ -112,6 +126,15 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
               {formatNumber(devices.length)} of {plural(loaderData.total, { one: "device", other: "devices" })}
             </span>
           </Form>
+          {loaderData.reachFrom ? (
+            <p className="mb-3 text-sm" role="status">
+              Looking for what <code>{loaderData.reachFrom}</code> reaches?{" "}
+              <Link to={`/o/${slug}/reach?${new URLSearchParams({ from: loaderData.reachFrom }).toString()}`} className="font-medium text-harbour underline-offset-4 hover:underline">
+                Ask fleet reach
+              </Link>
+              .
+            </p>
+          ) : null}
           <Table>
             <caption className="sr-only">Devices, sortable by column</caption>
             <thead>
@@ -122,6 +145,7 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
                 <SortHeader column="exposure" label="Worst on wan" sort={sort} descending={descending} />
                 <SortHeader column="updated" label="Revision" sort={sort} descending={descending} />
                 <SortHeader column="proposals" label="Open proposals" sort={sort} descending={descending} />
+                <SortHeader column="field-check" label="Field check" sort={sort} descending={descending} />
               </tr>
             </thead>
             <tbody>
@@ -147,6 +171,18 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
                       </Link>
                     ) : (
                       <span className="text-ink-faint">none</span>
+                    )}
+                  </Td>
+                  <Td>
+                    {device.fieldCheck ? (
+                      <Link to={`/o/${slug}/devices/${device.id}/field-checks/${device.fieldCheck.id}`} className="underline-offset-4 hover:underline" aria-label={`Last field check of ${device.name}`}>
+                        <AgreementRate counts={device.fieldCheck.counts} className="text-xs" />
+                        <span className="block text-xs text-ink-muted">
+                          <Time at={device.fieldCheck.createdAt} now={loaderData.now} />
+                        </span>
+                      </Link>
+                    ) : (
+                      <span className="text-xs text-ink-faint">none yet</span>
                     )}
                   </Td>
                 </tr>

@@ -4,18 +4,26 @@ import type { Route } from "./+types/import";
 import { serializeFlash } from "#server/auth/flash.server";
 import { requireRole } from "#server/auth/guard.server";
 import { PAGE_ROLES } from "#server/auth/roles";
+import { WRITTEN_REASON_MIN } from "#server/proposals/state";
 import { actorOf } from "#server/http/actor.server";
 import { readForm } from "#server/http/form.server";
 import { ElementNameSchema, ImportEffectReadSchema } from "#server/http/schemas";
 import { isRefusal } from "#server/errors";
+import { isUuid } from "#server/validation/ids";
+import { MAX_MODEL_DOCUMENT_BYTES, sizeWords } from "#server/validation/limits";
 import { refusedWith } from "#server/http/refusals.server";
-import { createDevice, deviceNameChoice, findDevice, listDevices, loadSharedLibrary, saveEdit } from "#server/services/devices.server";
+import { createDevice, deviceNameChoice, findDevice, listDevices, loadSharedLibrary } from "#server/services/devices.server";
+import { hasAtLeastRole } from "#server/auth/roles";
+import { appOrigin } from "#server/config.server";
+import { GateReasons, unlistedReasons, type ShownReason } from "#app/components/proposals/proposal-bits";
+import { TextAreaField } from "#app/components/device/editor-kit";
 import { revisionEffect } from "#server/services/revision-effect.server";
 import { listSites } from "#server/services/sites.server";
 import { diffDocuments, summariseDocument, validateDocument, type ModelDocument } from "#server/workspace/index";
 import { readProposalDetails } from "#server/http/proposal-steps.server";
 import { defaultWindowText } from "#server/proposals/change-window";
-import { createProposal } from "#server/services/proposals.server";
+import { createProposal, directSaveGate, saveDirectEdit } from "#server/services/proposals.server";
+import { gateBlocks } from "#server/proposals/gate-words";
 import { OutcomeChip } from "#app/components/outcome";
 import { isOutcome } from "#server/engine/vocabulary";
 import { MODEL_SCHEMA_VERSION, VERSION_1_UPGRADE_SUMMARY } from "#server/engine/index";
@@ -35,7 +43,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Import a model · Sally
 export const ErrorBoundary = PageErrorBoundary;
 
 /** Model documents are small; a larger upload is refused before it is parsed. */
-export const MAX_MODEL_BYTES = 1024 * 1024;
+export const MAX_MODEL_BYTES = MAX_MODEL_DOCUMENT_BYTES;
 
 export async function loader({ context }: Route.LoaderArgs) {
   const access = requireRole(context, PAGE_ROLES.importModel);
@@ -69,6 +77,13 @@ type Preview = {
   devicePath: string | null;
   /** A new revision of a device can become a proposal instead: its title and window as typed (or the defaults), and their problems. */
   proposal: { values: { title: string; windowStart: string; windowEnd: string }; errors: Record<string, string>; timezone: string } | null;
+  /**
+   * A new revision is a direct save (docs/decisions/017): whether changes go through proposals
+   * (then only an admin imports directly, break-glass), whether this member may override, and
+   * the refusal of the last try — its lead, the gate's reasons, the override reason typed and its problem.
+   */
+  policy: { throughProposals: boolean; canOverride: boolean; gate: ShownReason[] } | null;
+  guard: { message: string; reasons: ShownReason[]; overrideReason: string; overrideError: string | null } | null;
 };
 type ActionResult = { stage: "refused"; message: string; problems: Problem[]; target: string; siteName: string; errors: StepErrors } | Preview;
 
@@ -85,13 +100,13 @@ async function readDocument(form: FormData): Promise<{ text: string; fileName: s
   const upload = form.get("file");
   if (typeof upload === "string" || upload === null) {
     const text = form.get("documentText");
-    if (typeof text === "string" && text.length > 0) return text.length > MAX_MODEL_BYTES ? { error: "The document is larger than 1 MiB." } : { text, fileName: String(form.get("fileName") ?? "document.json").slice(0, 200) };
+    if (typeof text === "string" && text.length > 0) return new TextEncoder().encode(text).length > MAX_MODEL_BYTES ? { error: `The document is larger than ${sizeWords(MAX_MODEL_BYTES)}.` } : { text, fileName: String(form.get("fileName") ?? "document.json").slice(0, 200) };
     return { error: NO_FILE };
   }
   // A browser sends a form with no file chosen as an empty part without a name.
   if (upload.size === 0 && upload.name === "") return { error: NO_FILE };
   if (upload.size === 0) return { error: "The chosen file is empty." };
-  if (upload.size > MAX_MODEL_BYTES) return { error: `The file is ${Math.ceil(upload.size / 1024)} KiB; model documents may be at most 1024 KiB.` };
+  if (upload.size > MAX_MODEL_BYTES) return { error: `The file is ${sizeWords(upload.size)}; model documents may be at most ${sizeWords(MAX_MODEL_BYTES)}.` };
   return { text: await upload.text(), fileName: upload.name.slice(0, 200) };
 }
 
@@ -112,9 +127,11 @@ export async function action({ request, context }: Route.ActionArgs) {
     return refuse(`This is not JSON: ${error instanceof Error ? error.message : "unreadable"}. Sallyport imports its own model documents (schemaVersion 2, or 1).`, [], step);
   }
   const validated = validateDocument(parsed, await loadSharedLibrary(access.organisation.id));
-  if (!validated.ok) return refuse(`The document is not a valid Sallyport model: ${plural(validated.errors.length, { one: "problem", other: "problems" })}. Nothing was created.`, [...validated.errors], step);
+  if (!validated.ok) return refuse(`The document is not a valid Sallyport model: ${plural(validated.errors.length, { one: "problem", other: "problems" })}. Nothing was created.`, [...validated.errors], step, validated.tooLarge ? 413 : 400);
 
   const [kind, id] = target.split(":");
+  // A device or site id that is not a UUID names nothing here (and must never reach PostgreSQL).
+  if ((kind === "device" || (kind === "site" && target !== NEW_SITE_TARGET)) && !isUuid(id)) return refuse("No such device or site in this organisation.", [], step, 404, { target: "Choose where to import from the list." });
   if (kind !== "site" && kind !== "device") {
     const message = "Choose where to import: a new device at a site, or a new revision of a device.";
     return refuse(message, [], step, 400, { target: message });
@@ -129,10 +146,12 @@ export async function action({ request, context }: Route.ActionArgs) {
 
   const timezone = existing?.effective.device.timezone ?? "UTC";
   const typedProposal = { title: String(form.get("title") ?? ""), ...defaultWindowText(new Date(), timezone), ...(form.has("windowStart") ? { windowStart: String(form.get("windowStart")), windowEnd: String(form.get("windowEnd") ?? "") } : {}) };
-  const preview = async (error: string | null = null, proposed?: string, effectReadError: string | null = null, proposalErrors: Record<string, string> = {}): Promise<Preview> => {
+  const preview = async (error: string | null = null, proposed?: string, effectReadError: string | null = null, proposalErrors: Record<string, string> = {}, guard: Preview["guard"] = null): Promise<Preview> => {
     const choice = existing ? null : await deviceNameChoice(access.organisation.id, documentName);
     // A new revision is judged by its effect on the current one (counts, findings, lockout guard).
     const effect = existing ? revisionEffect(existing, validated.effective) : null;
+    // What the save's guard will say, known now: a blocked import is not offered as a direct save.
+    const gate = existing && effect && effect.changes.length > 0 ? await directSaveGate(existing, validated.effective) : [];
     return {
       stage: "preview",
       documentText: JSON.stringify(validated.document),
@@ -150,6 +169,8 @@ export async function action({ request, context }: Route.ActionArgs) {
       effectReadError,
       devicePath: existing ? `/o/${access.organisation.slug}/devices/${existing.device.id}` : null,
       proposal: existing ? { values: typedProposal, errors: proposalErrors, timezone } : null,
+      policy: existing ? { throughProposals: access.organisation.changesThroughProposals, canOverride: hasAtLeastRole(access.role, "admin"), gate: gate.map((reason) => ({ ...reason, details: [...reason.details] })) } : null,
+      guard,
     };
   };
   if (intent === "preview") return data<ActionResult>(await preview());
@@ -173,7 +194,9 @@ export async function action({ request, context }: Route.ActionArgs) {
   }
   try {
     if (existing) {
-      const baseRevision = Number(form.get("baseRevision"));
+      const baseText = String(form.get("baseRevision") ?? "");
+      const baseRevision = /^\d{1,9}$/.test(baseText) ? Number(baseText) : Number.NaN;
+      if (!Number.isSafeInteger(baseRevision) || baseRevision < 1) return refuse("The revision this import is based on is missing or not a whole number; preview the file again.", [], step, 400);
       // A change to the revision the preview showed lands only once its effect was read. (On a
       // stale base the save below refuses with what changed; an import that changes nothing
       // has no effect to read.)
@@ -182,8 +205,27 @@ export async function action({ request, context }: Route.ActionArgs) {
         if (!read.success) return data<ActionResult>(await preview(null, undefined, read.error.issues[0]?.message ?? "Tick “I have read the effect” to import."), { status: 400 });
       }
       const document: ModelDocument = validated.document;
-      const saved = await saveEdit(access.organisation.id, existing.device.id, baseRevision, () => document, actor, `Imported ${read.fileName}`);
-      throw redirect(`/o/${access.organisation.slug}/devices/${existing.device.id}/history`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: saved.changes.length ? `Imported as revision r${saved.number}.` : "The import matched the current revision; nothing changed." }) } });
+      // A direct save like the live editor's: the change policy and the gate judge it (directSaveGuard).
+      const overrideReason = String(form.get("overrideReason") ?? "");
+      try {
+        const saved = await saveDirectEdit(
+          { organisationId: access.organisation.id, deviceId: existing.device.id, deviceName: existing.device.name, slug: access.organisation.slug },
+          { changesThroughProposals: access.organisation.changesThroughProposals },
+          baseRevision,
+          () => document,
+          actor,
+          `Imported ${read.fileName}`,
+          { override: overrideReason.trim() ? { reason: overrideReason } : null },
+          { appOrigin: appOrigin() },
+        );
+        const how = saved.note?.action === "device.break-glass-saved" ? " directly (break-glass); the reviewers were e-mailed" : saved.note ? " past the guard, with your reason" : "";
+        throw redirect(`/o/${access.organisation.slug}/devices/${existing.device.id}/history`, { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: saved.changes.length ? `Imported as revision r${saved.number}${how}.` : "The import matched the current revision; nothing changed." }) } });
+      } catch (error) {
+        // Refused by the policy or the gate: back to the preview, saying why, with the ways on.
+        if (!isRefusal(error) || (error.reasons.length === 0 && error.field !== "overrideReason" && error.status !== 403)) throw error;
+        const guard = { message: error.reasons.length && error.lead ? error.lead : error.message, reasons: error.reasons.map((reason) => ({ ...reason, details: [...reason.details] })), overrideReason, overrideError: error.field === "overrideReason" ? error.message : null };
+        return data<ActionResult>(await preview(null, undefined, null, {}, guard), { status: error.status });
+      }
     }
     // The preview's rename field; a request without it keeps the document's own name.
     const requested = form.get("deviceName");
@@ -220,7 +262,7 @@ export default function ImportModel({ loaderData, actionData }: Route.ComponentP
   const fieldMessages = new Set(Object.values(errors));
   return (
     <>
-      <PageHeader title="Import a model document" description="Upload a Sallyport model document (JSON, schemaVersion 2 — version 1 is read too — at most 1 MiB). You see what it contains before anything is created." />
+      <PageHeader title="Import a model document" description={`Upload a Sallyport model document (JSON, schemaVersion 2 — version 1 is read too — at most ${sizeWords(MAX_MODEL_BYTES)}). You see what it contains before anything is created.`} />
       {/* A new revision's effect needs the page's width; the upload form then sits above it. */}
       <div className={cx("grid gap-6", actionData?.stage === "preview" && actionData.effect ? "" : "lg:grid-cols-2")}>
         <Card className="p-6">
@@ -328,6 +370,8 @@ function ElementCounts({ before, after }: { before: Record<string, number>; afte
   );
 }
 
+const capitalised = (text: string): string => text.charAt(0).toUpperCase() + text.slice(1);
+
 /** The lockout guard in one sentence: which operator networks lose every login path. */
 function lockoutWords(lockout: ReadonlyArray<{ operatorNetwork: string }>): string {
   const names = lockout.map((entry) => `“${entry.operatorNetwork}”`);
@@ -336,8 +380,18 @@ function lockoutWords(lockout: ReadonlyArray<{ operatorNetwork: string }>): stri
 }
 
 function ImportPreview({ preview, busy }: { preview: PreviewData; busy: boolean }) {
-  const { rename, effect } = preview;
+  const { rename, effect, policy, guard } = preview;
   const changes = effect !== null && effect.changes.length > 0;
+  // Under "changes go through proposals" a direct import is an admin's break-glass step; one the
+  // gate blocks is offered only to an admin, with a written reason (docs/decisions/017).
+  const throughProposals = changes && policy?.throughProposals === true;
+  const gate = changes ? (policy?.gate ?? []) : [];
+  const blocked = !throughProposals && (gate.length > 0 || (guard?.reasons.length ?? 0) > 0);
+  const overrideAsked = changes && policy !== null && policy.canOverride && (throughProposals || blocked || guard !== null);
+  const directOffered = (!throughProposals && !blocked) || policy?.canOverride === true;
+  // The lockout shows in the effect and the warning above; only the other reasons are listed here, and a refusal's only when new.
+  const listed = gate.filter((reason) => reason.kind === "expectation");
+  const refusedOnly = guard ? unlistedReasons(guard.reasons, gate) : [];
   // A document that changes nothing has nothing to propose.
   const proposal = changes ? preview.proposal : null;
   const lockout = effect?.exposure.lockout ?? [];
@@ -406,7 +460,8 @@ function ImportPreview({ preview, busy }: { preview: PreviewData; busy: boolean 
           )}
         </section>
       ) : null}
-      <Form method="post" className="mt-6 space-y-4">
+      {/* Multipart, so the document travels as it is (URL-encoding could triple it past the limit). */}
+      <Form method="post" encType="multipart/form-data" className="mt-6 space-y-4">
         <input type="hidden" name="intent" value="import" />
         <input type="hidden" name="target" value={preview.target} />
         <input type="hidden" name="siteName" value={preview.siteName} />
@@ -433,7 +488,28 @@ function ImportPreview({ preview, busy }: { preview: PreviewData; busy: boolean 
             the device in a maintenance window, and follow your organisation's change policy.
           </p>
         ) : null}
-        {changes ? (
+        {guard ? (
+          <div role="alert" className="space-y-3 rounded-control border border-danger/50 p-3" data-testid="import-refused">
+            <p className="text-sm font-semibold text-danger">Not imported</p>
+            <p className="text-sm">{guard.message}</p>
+            {refusedOnly.length > 0 ? <GateReasons reasons={refusedOnly} /> : null}
+          </div>
+        ) : null}
+        {blocked && gate.length > 0 ? (
+          <div className="space-y-3 rounded-control border border-danger/40 bg-danger-soft px-3 py-2 text-sm" data-testid="import-blocked">
+            <p className="text-danger">
+              {capitalised(gateBlocks(gate))} importing this directly: import it as a proposal, for an admin or owner to decide{policy?.canOverride ? ", or — as an admin — import it anyway with a written reason" : ""}.
+            </p>
+            {listed.length > 0 ? <GateReasons reasons={listed} /> : null}
+          </div>
+        ) : null}
+        {throughProposals ? (
+          <p className="rounded-control border border-brass/50 bg-brass-soft px-3 py-2 text-sm" data-testid="import-policy">
+            In this organisation changes go through proposals: import it as a proposal, reviewed before it lands.{" "}
+            {policy?.canOverride ? "As an admin you may import it directly in an emergency (break-glass), with a written reason; the reviewers are e-mailed." : "An admin can import it directly in an emergency (break-glass)."}
+          </p>
+        ) : null}
+        {changes && directOffered ? (
           <div className="space-y-1.5">
             <label className="flex items-start gap-2 text-sm font-medium">
               <input
@@ -453,9 +529,19 @@ function ImportPreview({ preview, busy }: { preview: PreviewData; busy: boolean 
             ) : null}
           </div>
         ) : null}
+        {overrideAsked ? (
+          <TextAreaField
+            label={throughProposals ? "Why this cannot wait for a proposal (break-glass)" : "Why import it anyway"}
+            name="overrideReason"
+            rows={2}
+            defaultValue={guard?.overrideReason}
+            error={guard?.overrideError ?? undefined}
+            hint={`At least ${WRITTEN_REASON_MIN} characters; recorded in the audit log${throughProposals ? ", and the reviewers are e-mailed" : ""}.`}
+          />
+        ) : null}
         {proposal ? (
           <fieldset className="space-y-3 rounded-control border border-line p-3" data-testid="import-as-proposal">
-            <legend className="px-1 text-sm font-medium">Or import it as a proposal</legend>
+            <legend className="px-1 text-sm font-medium">{directOffered ? "Or import it as a proposal" : "Import it as a proposal"}</legend>
             <p className="text-sm text-ink-muted">
               The document becomes the draft of a proposal on r{preview.baseRevision}: nothing changes on the device until someone else approves it and it is applied in its change window. Change the
               reason and the rest on the proposal.
@@ -468,11 +554,13 @@ function ImportPreview({ preview, busy }: { preview: PreviewData; busy: boolean 
           </fieldset>
         ) : null}
         <div className="flex flex-wrap items-center gap-3" data-testid="import-actions">
-          <Button type="submit" variant={lockout.length > 0 ? "danger" : "primary"} disabled={busy}>
-            Import {rename ? "as a new device" : preview.deviceName}
-          </Button>
+          {directOffered ? (
+            <Button type="submit" variant={lockout.length > 0 || throughProposals || blocked ? "danger" : "primary"} disabled={busy}>
+              {throughProposals ? `Import ${preview.deviceName} directly (break-glass)` : blocked ? `Import ${preview.deviceName} anyway` : `Import ${rename ? "as a new device" : preview.deviceName}`}
+            </Button>
+          ) : null}
           {proposal ? (
-            <Button type="submit" name="as" value="proposal" variant="secondary" disabled={busy}>
+            <Button type="submit" name="as" value="proposal" variant={directOffered ? "secondary" : "primary"} disabled={busy}>
               Import as a proposal
             </Button>
           ) : null}

@@ -7,7 +7,7 @@ import { downloadName } from "#app/utils/analysis";
 
 // Codes for programs, each followed by its label as the page shows it; the recorded values as
 // JSON in the last column for anyone who needs them exactly.
-const AUDIT_CSV_HEADER = ["at_utc", "actor_name", "actor_email", "action", "action_label", "target_type", "target_type_label", "target_id", "target_name", "summary", "client_address", "changes_json"] as const;
+const AUDIT_CSV_HEADER = ["at_utc", "actor_name", "actor_email", "action", "action_label", "target_type", "target_type_label", "target_id", "target_name", "summary", "client_address", "api_token", "changes_json"] as const;
 
 // The audit log under the page's filters (the same URL search parameters), newest first.
 export async function loader({ request, context }: Route.LoaderArgs) {
@@ -26,6 +26,7 @@ export async function loader({ request, context }: Route.LoaderArgs) {
     row.targetName ?? "",
     auditSentence(row),
     row.clientAddress,
+    row.apiTokenName,
     JSON.stringify(row.changes),
   ]);
   const fileName = `${downloadName(access.organisation.slug, "audit-log", new Date().toISOString().slice(0, 10))}.csv`;

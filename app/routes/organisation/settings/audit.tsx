@@ -39,6 +39,7 @@ export async function loader({ request, context }: Route.LoaderArgs) {
       actor: row.actorName ?? row.actorEmail,
       actorEmail: row.actorName ? row.actorEmail : "",
       clientAddress: row.clientAddress,
+      apiTokenName: row.apiTokenName,
       target: row.targetName ?? "",
       targetType: auditTargetLabel(row.targetType),
       sentence: auditSentence(row),
@@ -133,6 +134,7 @@ export default function AuditLog({ loaderData }: Route.ComponentProps) {
                   <Td className="align-top">
                     {entry.actor}
                     {entry.actorEmail ? <span className="block text-xs text-ink-muted">{entry.actorEmail}</span> : null}
+                    {entry.apiTokenName ? <span className="block text-xs text-ink-muted">{`through the API token “${entry.apiTokenName}”`}</span> : null}
                   </Td>
                   <Td className="max-w-xl align-top">
                     <span className="font-medium">{entry.actionLabel}</span>

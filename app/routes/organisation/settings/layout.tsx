@@ -14,6 +14,7 @@ export async function loader({ context }: Route.LoaderArgs) {
     { to: "members", label: "Members" },
     { to: "shared-objects", label: "Shared objects" },
     { to: "organisation", label: "Organisation" },
+    ...(hasAtLeastRole(role, PAGE_ROLES.apiTokens) ? [{ to: "api-tokens", label: "API tokens" }] : []),
     ...(hasAtLeastRole(role, PAGE_ROLES.auditLog) ? [{ to: "audit", label: "Audit log" }] : []),
   ];
   return { slug: organisation.slug, tabs };
@@ -44,7 +45,7 @@ export function ErrorBoundary({ error }: Route.ErrorBoundaryProps) {
 function SettingsFrame({ frame, children }: { frame: Route.ComponentProps["loaderData"]; children: ReactNode }) {
   return (
     <>
-      <PageHeader title="Settings" description="Members and their roles, the organisation, and the record of every change." />
+      <PageHeader title="Settings" description="Members and their roles, the organisation, its API tokens, and the record of every change." />
       <nav aria-label="Settings" className="mb-6 flex flex-wrap gap-1 border-b border-line">
         {frame.tabs.map((tab) => (
           <NavLink

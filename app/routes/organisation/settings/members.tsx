@@ -5,9 +5,9 @@ import type { Route } from "./+types/members";
 import { serializeFlash } from "#server/auth/flash.server";
 import { requireRole } from "#server/auth/guard.server";
 import { hasAtLeastRole, ROLE_DESCRIPTIONS, ROLES } from "#server/auth/roles";
-import { getEnvironment } from "#server/config.server";
+import { appOrigin } from "#server/config.server";
 import { actorOf } from "#server/http/actor.server";
-import { appOriginOf, fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
+import { fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
 import { EmailSchema, IdSchema, RoleSchema } from "#server/http/schemas";
 import { changeMemberRole, inviteMember, listMembers, listPendingInvitations, removeMember, revokeInvitation, setMemberTrainer } from "#server/services/members.server";
 import { mayManageTraining, ROLES_THAT_TRAIN } from "#models/roles";
@@ -53,7 +53,7 @@ export async function action({ request, context }: Route.ActionArgs) {
       case "invite": {
         const parsed = InviteSchema.safeParse(values);
         if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
-        await inviteMember(access.organisation, parsed.data, actor, appOriginOf(request, getEnvironment().APP_ORIGIN));
+        await inviteMember(access.organisation, parsed.data, actor, appOrigin());
         return back(`Invitation sent to ${parsed.data.email}.`);
       }
       case "change-role": {

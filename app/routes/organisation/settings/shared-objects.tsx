@@ -6,7 +6,13 @@ import { requireRole } from "#server/auth/guard.server";
 import { hasAtLeastRole } from "#server/auth/roles";
 import { actorOf } from "#server/http/actor.server";
 import { fieldErrorsOf, formFailure, formValues, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
+import { appOrigin } from "#server/config.server";
 import { ElementNameSchema } from "#server/http/schemas";
+import { pageOf } from "#server/analysis/paging";
+import { formatNumber } from "#server/engine/format";
+import { Pager } from "#app/components/analysis/common";
+import { isUuid } from "#server/validation/ids";
+import { textProblem } from "#server/validation/text";
 import {
   deleteSharedObject,
   importSharedObjectsCsv,
@@ -32,9 +38,25 @@ import { refusedForm, refusedWith } from "#server/http/refusals.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Shared objects · Sallyport" }];
 
-export async function loader({ context }: Route.LoaderArgs) {
+/** Objects listed per page: a library imported from CSV may hold tens of thousands. */
+const OBJECTS_PER_PAGE = 100;
+
+export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireRole(context);
-  return { objects: await listSharedObjects(access.organisation.id), canManage: hasAtLeastRole(access.role, "admin"), organisationPath: `/o/${access.organisation.slug}` };
+  const all = await listSharedObjects(access.organisation.id);
+  const search = new URL(request.url).searchParams;
+  const { page, pages, start, end } = pageOf(search.get("page"), all.length, OBJECTS_PER_PAGE);
+  const edit = search.get("edit");
+  return {
+    objects: all.slice(start, end),
+    total: all.length,
+    page,
+    pages,
+    first: start + 1,
+    editing: edit ? (all.find((object) => object.name === edit) ?? null) : null,
+    canManage: hasAtLeastRole(access.role, "admin"),
+    organisationPath: `/o/${access.organisation.slug}`,
+  };
 }
 
 const KIND_LABELS: Record<SharedObjectKind, string> = { address: "address object (entries)", group: "group (member names)" };
@@ -54,7 +76,11 @@ const SharedObjectSchema = z.object({
 /** The confirm step's fields: the library and device revisions the review showed. */
 const ConfirmationSchema = z.object({
   library: z.string().regex(/^[0-9a-f]{64}$/),
-  bases: z.string().max(400_000).regex(/^([0-9a-f-]{36}:\d{1,9}(,[0-9a-f-]{36}:\d{1,9})*)?$/),
+  bases: z
+    .string()
+    .max(400_000)
+    .regex(/^([0-9a-f-]{36}:\d{1,9}(,[0-9a-f-]{36}:\d{1,9})*)?$/)
+    .refine((bases) => bases === "" || bases.split(",").every((base) => isUuid(base.split(":")[0])), "A device id is not valid."),
 });
 
 function confirmationOf(values: Record<string, string>): SharedChangeConfirmation | null {
@@ -77,6 +103,8 @@ function revisionWords(saved: SavedSharedChange): string {
 export async function action({ request, context }: Route.ActionArgs) {
   const access = requireRole(context, "admin");
   const actor = actorOf(access, clientAddressOf(context));
+  // Who saves, and under "changes go through proposals" why it cannot wait (docs/decisions/017).
+  const policyOptions = (reason: string | undefined) => ({ role: access.role, name: access.user.name, breakGlassReason: reason, environment: { appOrigin: appOrigin() } });
   const organisationId = access.organisation.id;
   const form = await readForm(request);
   const values = formValues(form);
@@ -99,13 +127,15 @@ export async function action({ request, context }: Route.ActionArgs) {
       const review = () => previewSharedObjectChange(organisationId, original, input);
       try {
         let saved: SavedSharedChange;
-        if (confirmation) saved = await saveSharedObject(organisationId, original, input, actor, confirmation);
+        if (confirmation) saved = await saveSharedObject(organisationId, original, input, actor, confirmation, policyOptions(values.breakGlassReason));
         else {
           const preview = await review();
           if (preview.devices.length > 0) return data({ ok: true as const, preview, values });
-          saved = await saveSharedObject(organisationId, original, input, actor, preview.confirmation);
+          saved = await saveSharedObject(organisationId, original, input, actor, preview.confirmation, policyOptions(undefined));
         }
-        return back(`Shared ${input.kind === "group" ? "group" : "address object"} ${input.name} saved.${revisionWords(saved)}`);
+        // A new object no device uses yet: the reviewed way to change a value under the policy is to propose using it.
+        const next = !original && saved.revisions.length === 0 && access.organisation.changesThroughProposals ? " Propose on each device that should use it." : "";
+        return back(`Shared ${input.kind === "group" ? "group" : "address object"} ${input.name} saved${saved.breakGlass ? " directly (break-glass); the reviewers were e-mailed" : ""}.${revisionWords(saved)}${next}`);
       } catch (error) {
         return refusedWithReview(error, review, values);
       }
@@ -125,18 +155,21 @@ export async function action({ request, context }: Route.ActionArgs) {
       const text = upload && typeof upload !== "string" ? await upload.text() : (values.csv ?? "");
       if (!text.trim()) return invalidForm({ csv: "Choose a CSV file or paste rows." }, values);
       if (text.length > 512 * 1024) return invalidForm({ csv: "The CSV is larger than 512 KiB." }, values);
+      // The file's text is stored as entries and names: refused whole when it holds what may not be stored.
+      const textProblemFound = upload && typeof upload !== "string" ? textProblem(text) : null;
+      if (textProblemFound) return invalidForm({ csv: `The file ${textProblemFound}` }, values);
       const review = () => previewSharedObjectsCsv(organisationId, text);
       // The file travels on as text, so the confirmation imports exactly what was reviewed.
-      const kept = { intent: "import-csv", csv: text };
+      const kept = { intent: "import-csv", csv: text, breakGlassReason: values.breakGlassReason ?? "" };
       try {
         let saved: SavedSharedChange;
-        if (confirmation) saved = await importSharedObjectsCsv(organisationId, text, actor, confirmation);
+        if (confirmation) saved = await importSharedObjectsCsv(organisationId, text, actor, confirmation, policyOptions(values.breakGlassReason));
         else {
           const preview = await review();
           if (preview.devices.length > 0) return data({ ok: true as const, preview, values: kept });
-          saved = await importSharedObjectsCsv(organisationId, text, actor, preview.confirmation);
+          saved = await importSharedObjectsCsv(organisationId, text, actor, preview.confirmation, policyOptions(undefined));
         }
-        return { ok: true as const, report: saved.report ?? [], revisions: saved.revisions };
+        return { ok: true as const, report: saved.report ?? { rows: [], created: 0, updated: 0, refused: 0, unlisted: 0 }, revisions: saved.revisions };
       } catch (error) {
         return refusedWithReview(error, review, kept);
       }
@@ -149,7 +182,7 @@ export async function action({ request, context }: Route.ActionArgs) {
 export default function SharedObjects({ loaderData, actionData }: Route.ComponentProps) {
   const [searchParams] = useSearchParams();
   const navigation = useNavigation();
-  const editing = loaderData.objects.find((object) => object.name === searchParams.get("edit"));
+  const editing = loaderData.editing ?? undefined;
   const failed = actionData && "errors" in actionData ? actionData : null;
   const errors: Record<string, string> = failed?.errors ?? {};
   const values: Record<string, string> = actionData && "values" in actionData ? actionData.values : {};
@@ -164,49 +197,64 @@ export default function SharedObjects({ loaderData, actionData }: Route.Componen
         Address objects and groups that every device of this organisation can use by name — such as the operator networks the team administers from. Changing one gives every device that uses it a new revision at once, after you have reviewed how each device's exposure changes; every revision records the values it was saved with.
       </p>
       <FormError message={errors.form} />
-      {preview ? <SharedChangeReview preview={preview} fields={reviewFields} organisationPath={loaderData.organisationPath} cancelPath={values.intent === "save" && values.original ? `${pagePath}?edit=${encodeURIComponent(values.original)}` : pagePath} /> : null}
+      {preview ? (
+        <SharedChangeReview
+          preview={preview}
+          fields={reviewFields}
+          organisationPath={loaderData.organisationPath}
+          cancelPath={values.intent === "save" && values.original ? `${pagePath}?edit=${encodeURIComponent(values.original)}` : pagePath}
+          breakGlass={{ value: values.breakGlassReason, error: errors.breakGlassReason }}
+          alternative={values.intent === "save" ? { kind: values.kind ?? "address", name: values.name ?? "", items: values.items ?? "", description: values.description ?? "" } : null}
+        />
+      ) : null}
       <div className="grid gap-6 xl:grid-cols-[1fr_26rem]">
         {loaderData.objects.length === 0 ? (
           <EmptyState title="No shared objects yet">Add the networks your team administers from once, and use them on every device.</EmptyState>
         ) : (
-          <Table>
-            <thead>
-              <tr>
-                <Th>Name</Th>
-                <Th>Kind</Th>
-                <Th>Entries or members</Th>
-                {loaderData.canManage ? <Th className="text-right">Actions</Th> : null}
-              </tr>
-            </thead>
-            <tbody>
-              {loaderData.objects.map((object) => (
-                <tr key={object.id}>
-                  <Td className="font-mono font-medium">
-                    {object.name}
-                    {object.description ? <div className="font-sans text-xs font-normal text-ink-muted">{object.description}</div> : null}
-                  </Td>
-                  <Td>
-                    <Badge tone={object.kind === "group" ? "brass" : "harbour"}>{object.kind === "group" ? "group" : "address"}</Badge>
-                  </Td>
-                  <Td className="font-mono text-xs">{object.items.join(", ")}</Td>
-                  {loaderData.canManage ? (
-                    <Td className="text-right whitespace-nowrap">
-                      <Link to={`?edit=${encodeURIComponent(object.name)}`} className="mr-2 text-sm text-harbour underline underline-offset-4" aria-label={`Edit ${object.name}`}>
-                        Edit
-                      </Link>
-                      <Form method="post" className="inline">
-                        <input type="hidden" name="intent" value="delete" />
-                        <input type="hidden" name="name" value={object.name} />
-                        <Button type="submit" size="sm" variant="ghost-danger" aria-label={`Delete ${object.name}`}>
-                          Delete
-                        </Button>
-                      </Form>
-                    </Td>
-                  ) : null}
+          <div className="min-w-0">
+            <Table>
+              <caption className="p-2 text-left text-sm text-ink-muted">
+                {loaderData.pages > 1 ? `Objects ${formatNumber(loaderData.first)}–${formatNumber(loaderData.first + loaderData.objects.length - 1)} of ${formatNumber(loaderData.total)}, by kind and name` : `${formatNumber(loaderData.total)} shared ${loaderData.total === 1 ? "object" : "objects"}`}
+              </caption>
+              <thead>
+                <tr>
+                  <Th>Name</Th>
+                  <Th>Kind</Th>
+                  <Th>Entries or members</Th>
+                  {loaderData.canManage ? <Th className="text-right">Actions</Th> : null}
                 </tr>
-              ))}
-            </tbody>
-          </Table>
+              </thead>
+              <tbody>
+                {loaderData.objects.map((object) => (
+                  <tr key={object.id}>
+                    <Td className="font-mono font-medium">
+                      {object.name}
+                      {object.description ? <div className="font-sans text-xs font-normal text-ink-muted">{object.description}</div> : null}
+                    </Td>
+                    <Td>
+                      <Badge tone={object.kind === "group" ? "brass" : "harbour"}>{object.kind === "group" ? "group" : "address"}</Badge>
+                    </Td>
+                    <Td className="font-mono text-xs">{object.items.join(", ")}</Td>
+                    {loaderData.canManage ? (
+                      <Td className="text-right whitespace-nowrap">
+                        <Link to={`?${loaderData.page > 1 ? `page=${loaderData.page}&` : ""}edit=${encodeURIComponent(object.name)}`} className="mr-2 text-sm text-harbour underline underline-offset-4" aria-label={`Edit ${object.name}`}>
+                          Edit
+                        </Link>
+                        <Form method="post" className="inline">
+                          <input type="hidden" name="intent" value="delete" />
+                          <input type="hidden" name="name" value={object.name} />
+                          <Button type="submit" size="sm" variant="ghost-danger" aria-label={`Delete ${object.name}`}>
+                            Delete
+                          </Button>
+                        </Form>
+                      </Td>
+                    ) : null}
+                  </tr>
+                ))}
+              </tbody>
+            </Table>
+            <Pager param="page" page={loaderData.page} pages={loaderData.pages} search={searchParams} label="Pages of shared objects" />
+          </div>
         )}
         {loaderData.canManage ? (
           <Card className="p-5">

@@ -1,6 +1,6 @@
 // Exposure checks: cleartext listeners, logins and ping answering non-private sources, no
 // catch-all deny. All read the one enumeration of arrivals (FindingContext.exposure).
-import { EMPTY_SET, countOf, intersect, isEmptySet, rangesOf, subtractSets, unionSets } from "../../address-sets.ts";
+import { EMPTY_SET, contains, countOf, isEmptySet, rangesOf, subtractSets, unionSets } from "../../address-sets.ts";
 import type { AddressSet } from "../../address-sets.ts";
 import type { CompiledModel } from "../../compile.ts";
 import { ANSWERED, LOGIN_DENIED, LOGIN_MFA, LOGIN_PASSWORD, OUTCOMES, elementRef } from "../../vocabulary.ts";
@@ -116,7 +116,7 @@ function hasCatchAllDeny(engine: CompiledModel, iface: number): boolean {
       r.anyService &&
       (r.schedule < 0 || engine.week.slices.every((s) => s.active[r.schedule])) &&
       [...families].every((f) => engine.ruleHoldsEverySource(r.position, f)) &&
-      own.every((a) => intersect(rangesOf(r.destinations, a.family), [a.value, a.value]).length > 0),
+      own.every((a) => contains(rangesOf(r.destinations, a.family), a.value)),
   );
 }
 

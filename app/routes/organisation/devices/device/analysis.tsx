@@ -1,14 +1,16 @@
 import "@xyflow/react/dist/style.css";
 import { useEffect, useRef, useState } from "react";
-import { Form, useFetcher } from "react-router";
+import { Form, Link, useFetcher } from "react-router";
 import type { Route } from "./+types/analysis";
 import { probeInputOf, probeQueryOf, ProbeQuerySchema } from "#server/analysis/probe";
-import { trace, type TraceResult } from "#server/engine/index";
+import { isSourceBlock, trace, traceGroups } from "#server/engine/index";
 import { inCatalogueOrder, namesByKind } from "#server/analysis/catalogue";
-import { refusalOf } from "#server/http/refusals.server";
+import { refusalOf, refusedPage } from "#server/http/refusals.server";
+import { traceSubjectOf, type TraceSubjectNote } from "#server/http/trace-subject.server";
 import { requireDevice } from "#server/http/device-access.server";
 import { LayerCanvas, type CanvasModel } from "#app/components/analysis/layer-canvas";
-import { useTraceStore, type ProbeFields } from "#app/components/analysis/trace-store";
+import { useTraceStore, type ProbeFields, type TraceAnswer } from "#app/components/analysis/trace-store";
+import { SourcesCell } from "#app/components/analysis/sources-cell";
 import { OutcomeChip } from "#app/components/outcome";
 import { isOutcome, LAYERS } from "#server/engine/vocabulary";
 import { VerdictBadge } from "#app/components/training/layer-steps";
@@ -17,29 +19,34 @@ import { Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
 import { NoInterfacesYet } from "#app/components/device/no-interfaces";
 import { LAYER_TITLES, outcomeSentence } from "#app/utils/trace-words";
-import { formatInstant } from "#server/engine/format";
+import { formatInstant, plural } from "#server/engine/format";
+import type { TraceGroups } from "#server/engine/index";
 
 export const meta: Route.MetaFunction = () => [{ title: "Trace a probe · Sallyport" }];
 
 export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireDevice(context);
-  const model = access.effective;
   const url = new URL(request.url);
+  // The current revision, a stored one or a proposal's draft (read-only), as the URL says.
+  const subject = await traceSubjectOf(access, url.searchParams).catch(refusedPage);
+  const model = subject.model;
+  const compiled = subject.compiled;
   const query = probeQueryOf(url.searchParams);
-  let initial: { trace: TraceResult | null; error: string | null } = { trace: null, error: null };
+  let initial: { answer: TraceAnswer | null; error: string | null } = { answer: null, error: null };
   if (query.from) {
     const parsed = ProbeQuerySchema.safeParse(query);
-    if (!parsed.success) initial = { trace: null, error: parsed.error.issues[0].message };
+    if (!parsed.success) initial = { answer: null, error: parsed.error.issues[0].message };
     else {
       try {
-        initial = { trace: trace(access.analysis.compiled, probeInputOf(parsed.data)), error: null };
+        const probe = probeInputOf(parsed.data);
+        initial = { answer: isSourceBlock(probe.from) ? traceGroups(compiled, probe) : trace(compiled, probe), error: null };
       } catch (error) {
-        initial = { trace: null, error: refusalOf(error).message };
+        initial = { answer: null, error: refusalOf(error).message };
       }
     }
   }
   const canvas: CanvasModel = {
-    interfaces: model.interfaces.map((entry) => ({ name: entry.name, role: entry.role, addresses: entry.addresses, listeners: inCatalogueOrder(entry.listeners, access.analysis.compiled.catalogue) })),
+    interfaces: model.interfaces.map((entry) => ({ name: entry.name, role: entry.role, addresses: entry.addresses, listeners: inCatalogueOrder(entry.listeners, compiled.catalogue) })),
     rules: model.inboundRules.map((rule, index) => ({
       id: rule.id,
       position: index + 1,
@@ -54,14 +61,15 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   };
   return {
     canvas,
-    services: namesByKind(access.analysis.compiled.catalogue),
+    services: namesByKind(compiled.catalogue),
     timezone: model.device.timezone,
     devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`,
+    subject: { query: subject.query, modelPath: subject.modelPath, note: subject.note },
     query,
     initial,
     // A link opens the walkthrough at its first step, nothing revealed; a link that asks for the
     // whole trace (`reveal=all`, as "trace this witness" links do) opens with every verdict shown.
-    initialStep: url.searchParams.get("reveal") === "all" ? (initial.trace?.layers.length ?? 0) : 0,
+    revealAll: url.searchParams.get("reveal") === "all",
   };
 }
 
@@ -85,11 +93,41 @@ export default function Analysis({ loaderData }: Route.ComponentProps) {
   return <TraceWorkspace loaderData={loaderData} />;
 }
 
+/** Above the probe, when a side of a proposal is traced: which one, read-only, and the ways back. */
+function SubjectNote({ note, devicePath }: { note: TraceSubjectNote; devicePath: string }) {
+  const linkClass = "font-medium text-harbour underline underline-offset-4";
+  const proposal = (
+    <Link to={note.proposalPath} className={linkClass}>
+      “{note.title}”
+    </Link>
+  );
+  const where =
+    note.side === "base"
+      ? { title: `Tracing the base of a proposal: r${note.baseRevision}`, body: <>the revision {proposal} was drafted on{note.baseRevision === note.current ? " (the current revision)" : ` (the device is at r${note.current} now)`}</> }
+      : note.appliedRevision !== null
+        ? { title: `Tracing what a proposal made: r${note.appliedRevision}`, body: <>the revision applying {proposal} made</> }
+        : { title: "Tracing a draft — not live", body: <>the draft of {proposal} (version {note.draftVersion}, made on r{note.baseRevision}); nothing here changes it</> };
+  return (
+    <div role="note" className="rounded-card border-2 border-dashed border-brass bg-brass-soft p-4 text-sm" data-testid="trace-subject">
+      <p className="font-semibold text-brass">{where.title}</p>
+      <p className="mt-1">
+        Probes here are traced on {where.body}. Or{" "}
+        <Link to={`${devicePath}/analysis`} className={linkClass}>
+          trace on the live device
+        </Link>
+        .
+      </p>
+    </div>
+  );
+}
+
 function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">) {
-  const { canvas, services, devicePath, timezone } = loaderData;
+  const { canvas, services, devicePath, timezone, subject } = loaderData;
+  // The subject's query (a revision or a proposal's draft) rides along on every fetch and in the address.
+  const withSubject = (query: string) => [subject.query, query].filter(Boolean).join("&");
   const fallback = { interface: canvas.interfaces.find((entry) => entry.role === "wan")?.name ?? canvas.interfaces[0]?.name ?? "", service: "https" };
-  const { probe, trace: result, error, step, setProbe, showResult, setStep, reset } = useTraceStore();
-  const fetcher = useFetcher<TraceResult | { error: string }>();
+  const { probe, trace: result, groups, group, error, step, setProbe, showResult, chooseGroup, setStep, reset } = useTraceStore();
+  const fetcher = useFetcher<TraceAnswer | { error: string }>();
   // `fetcher` is a new object on every render; its `load` is stable, so the debounce effect can depend on it.
   const loadTrace = fetcher.load;
   const [mounted, setMounted] = useState(false);
@@ -99,12 +137,12 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
   // asks the trace API, and the URL follows without a navigation so the query stays linkable.
   useEffect(() => {
     const fields = fieldsFrom(loaderData.query, fallback);
-    reset(fields, loaderData.initial.trace, loaderData.initial.error, loaderData.initialStep);
+    reset(fields, loaderData.initial.answer, loaderData.initial.error, loaderData.revealAll);
     lastQuery.current = queryOf(fields);
     // eslint-disable-next-line react-hooks/set-state-in-effect -- the first client render must match the server's HTML; only after it does the page switch to the store
     setMounted(true);
-    // eslint-disable-next-line react-hooks/exhaustive-deps -- seed once per device: the loader's query and the fallback are new on every revalidation and must not overwrite what the user is typing
-  }, [devicePath]);
+    // eslint-disable-next-line react-hooks/exhaustive-deps -- seed once per device and model traced: the loader's query and the fallback are new on every revalidation and must not overwrite what the user is typing
+  }, [devicePath, subject.query]);
 
   useEffect(() => {
     if (!mounted) return;
@@ -112,11 +150,12 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
     if (query === lastQuery.current || !probe.from.trim()) return;
     const timer = setTimeout(() => {
       lastQuery.current = query;
-      loadTrace(`${devicePath}/api/trace?${query}`);
-      window.history.replaceState(window.history.state, "", `${window.location.pathname}?${query}`);
+      loadTrace(`${devicePath}/api/trace?${withSubject(query)}`);
+      window.history.replaceState(window.history.state, "", `${window.location.pathname}?${withSubject(query)}`);
     }, 250);
     return () => clearTimeout(timer);
-  }, [probe, mounted, devicePath, loadTrace]);
+    // eslint-disable-next-line react-hooks/exhaustive-deps -- withSubject only reads subject.query, listed
+  }, [probe, mounted, devicePath, loadTrace, subject.query]);
 
   useEffect(() => {
     if (!fetcher.data) return;
@@ -124,18 +163,26 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
     else showResult(fetcher.data, null);
   }, [fetcher.data, showResult]);
 
-  const shown = mounted ? { probe, trace: result, error, step } : { probe: fieldsFrom(loaderData.query, fallback), trace: loaderData.initial.trace, error: loaderData.initial.error, step: loaderData.initialStep };
+  const initialAnswer = loaderData.initial.answer;
+  const initialTrace = initialAnswer === null ? null : "groups" in initialAnswer ? (initialAnswer.groups[0]?.trace ?? null) : initialAnswer;
+  const shown = mounted
+    ? { probe, trace: result, groups, group, error, step }
+    : { probe: fieldsFrom(loaderData.query, fallback), trace: initialTrace, groups: initialAnswer !== null && "groups" in initialAnswer ? initialAnswer : null, group: 0, error: loaderData.initial.error, step: loaderData.revealAll ? (initialTrace?.layers.length ?? 0) : 0 };
   const total = shown.trace?.layers.length ?? 0;
   const rulePosition = canvas.rules.find((rule) => rule.id === shown.trace?.ruleId)?.position;
   const input = "h-9 w-full rounded-control border border-line-strong bg-surface px-2 text-sm";
 
   return (
     <div className="space-y-5">
+      {subject.note ? <SubjectNote note={subject.note} devicePath={devicePath} /> : null}
       <Card className="p-4">
         <Form method="get" className="grid gap-3 md:grid-cols-3 xl:grid-cols-6" aria-label="Probe" onSubmit={(event) => mounted && event.preventDefault()}>
+          {[...new URLSearchParams(subject.query)].map(([name, value]) => (
+            <input key={name} type="hidden" name={name} value={value} />
+          ))}
           <label className="text-sm">
             <span className="mb-1 block font-medium">From (source)</span>
-            <input name="from" className={cx(input, "font-mono")} placeholder="203.0.113.50" value={shown.probe.from} onChange={(event) => setProbe({ from: event.target.value })} aria-invalid={shown.error ? true : undefined} aria-describedby="probe-error" />
+            <input name="from" className={cx(input, "font-mono")} placeholder="203.0.113.50 or a /24" value={shown.probe.from} onChange={(event) => setProbe({ from: event.target.value })} aria-invalid={shown.error ? true : undefined} aria-describedby="probe-error" />
           </label>
           <label className="text-sm">
             <span className="mb-1 block font-medium">Interface</span>
@@ -180,11 +227,21 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
           </noscript>
         </Form>
         <p id="probe-error" role="status" aria-live="polite" className={cx("mt-2 min-h-5 text-sm", shown.error ? "text-danger" : "text-ink-muted")}>
-          {shown.error ? shown.error : fetcher.state === "loading" ? "Tracing…" : shown.trace ? `Traced at ${formatInstant(shown.trace.at, timezone)}.` : "Type a source address to trace a probe through every layer."}
+          {shown.error
+            ? shown.error
+            : fetcher.state === "loading"
+              ? "Tracing…"
+              : shown.groups
+                ? `Traced at ${formatInstant(shown.groups.at, timezone)}: ${plural(shown.groups.groups.length, { one: "group", other: "groups" })} of sources with the same answer; the walkthrough follows the group chosen below.`
+                : shown.trace
+                  ? `Traced at ${formatInstant(shown.trace.at, timezone)}.`
+                  : "Type a source address — or a CIDR block — to trace a probe through every layer."}
         </p>
       </Card>
 
-      {mounted ? <LayerCanvas model={canvas} trace={shown.trace} step={shown.step} devicePath={devicePath} probe={shown.probe} /> : <div className="h-[34rem] rounded-card border border-line bg-surface" aria-hidden="true" />}
+      {shown.groups ? <GroupChooser groups={shown.groups} chosen={shown.group} onChoose={mounted ? chooseGroup : undefined} /> : null}
+
+      {mounted ? <LayerCanvas model={canvas} trace={shown.trace} step={shown.step} modelPath={subject.modelPath} probe={shown.probe} /> : <div className="h-[34rem] rounded-card border border-line bg-surface" aria-hidden="true" />}
 
       <div className="flex flex-wrap items-center gap-2" role="group" aria-label="Walkthrough">
         <Button variant="secondary" size="sm" onClick={() => setStep(0)} disabled={!shown.trace || shown.step === 0}>
@@ -234,5 +291,39 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
         </Card>
       ) : null}
     </div>
+  );
+}
+
+/** The groups of a CIDR source, most exposed first; choosing one walks its trace (its first address's) on the canvas. */
+function GroupChooser({ groups, chosen, onChoose }: { groups: TraceGroups; chosen: number; onChoose?: (index: number) => void }) {
+  return (
+    <Card className="p-4">
+      <h2 className="text-sm font-semibold">
+        {groups.from}: {plural(groups.groups.length, { one: "group", other: "groups" })} of sources with the same answer
+      </h2>
+      <p className="mt-1 text-xs text-ink-muted">Every address of a group gets the same outcome, deciding layer, rule and eligible accounts; the walkthrough traces the group's first address.</p>
+      <ul className="mt-3 grid gap-2 md:grid-cols-2" aria-label="Groups of sources">
+        {groups.groups.map((entry, index) => (
+          <li key={entry.example} className={cx("rounded-control border p-3", index === chosen ? "border-harbour bg-harbour-soft" : "border-line")}>
+            <div className="flex flex-wrap items-center justify-between gap-2">
+              <OutcomeChip outcome={entry.outcome} />
+              {onChoose ? (
+                <Button size="sm" variant={index === chosen ? "primary" : "secondary"} aria-pressed={index === chosen} onClick={() => onChoose(index)}>
+                  {index === chosen ? "Walking through" : "Walk through"}
+                </Button>
+              ) : null}
+            </div>
+            <div className="mt-2">
+              <SourcesCell sources={entry.sources} count={entry.count} />
+            </div>
+            <p className="mt-1 text-xs text-ink-muted">
+              {LAYER_TITLES[entry.layer]}
+              {entry.ruleId ? ` · rule ${entry.ruleId}` : " · no rule matched"}
+              {entry.eligibleAccounts.length ? ` · ${entry.eligibleAccounts.join(", ")}` : ""}
+            </p>
+          </li>
+        ))}
+      </ul>
+    </Card>
   );
 }

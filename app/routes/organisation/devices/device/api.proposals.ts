@@ -1,4 +1,5 @@
 import { data } from "react-router";
+import { readJson } from "#server/http/form.server";
 import type { Route } from "./+types/api.proposals";
 import { actorOf } from "#server/http/actor.server";
 import { requireDevice } from "#server/http/device-access.server";
@@ -19,12 +20,8 @@ export async function loader({ context }: Route.LoaderArgs) {
 
 export async function action({ request, context }: Route.ActionArgs) {
   const access = requireDevice(context, "engineer");
-  let body: unknown;
-  try {
-    body = await request.json();
-  } catch {
-    return Response.json({ error: "The request body is not valid JSON.", issues: [{ path: "", message: "not JSON" }] }, { status: 400 });
-  }
+  // 400 for a body that is not JSON or holds text that may not be stored, naming where.
+  const body = await readJson(request);
   const parsed = ProposalDocumentSchema.safeParse(body);
   if (!parsed.success) return Response.json({ error: "The request is not valid.", issues: issuesOf(parsed.error) }, { status: 400 });
   const { document, windowStart, windowEnd, ...details } = parsed.data;

@@ -1,6 +1,8 @@
 import { useEffect } from "react";
 import { Form, Link, useFetcher } from "react-router";
 import type { loader as expectationsLoader } from "./expectations";
+import type { loader as fieldChecksLoader } from "./field-checks";
+import { AgreementRate } from "#app/components/field-checks";
 import type { Route } from "./+types/overview";
 import { hasAtLeastRole } from "#server/auth/roles";
 import { CONFIRM_ROLE, DISMISS_ROLE } from "#server/services/dismissal-rules";
@@ -79,6 +81,42 @@ function ExpectationsLine({ devicePath }: { devicePath: string }) {
   );
 }
 
+/**
+ * The device's last field check and its agreement rate, read from the Field checks tab's loader
+ * once the page is interactive (the overview's own request stays within its query budget, as
+ * ExpectationsLine's does).
+ */
+function FieldCheckLine({ devicePath, timeZone }: { devicePath: string; timeZone: string }) {
+  const fetcher = useFetcher<typeof fieldChecksLoader>();
+  const { load, state, data } = fetcher;
+  useEffect(() => {
+    if (state === "idle" && data === undefined) void load(`${devicePath}/field-checks`);
+  }, [devicePath, load, state, data]);
+  if (data === undefined) return null;
+  const last = data.checks[0];
+  if (last === undefined) {
+    return (
+      <p className="text-sm text-ink-muted" role="status">
+        No field check yet:{" "}
+        <Link to={`${devicePath}/field-checks`} className="font-medium text-harbour underline-offset-4 hover:underline">
+          compare what the device really did with its model
+        </Link>
+        .
+      </p>
+    );
+  }
+  return (
+    <p className="text-sm" role="status">
+      <Link to={`${devicePath}/field-checks/${last.id}`} className="font-medium text-harbour underline-offset-4 hover:underline">
+        Last field check
+      </Link>{" "}
+      <Time at={last.createdAt} timeZone={timeZone} now={data.now} />: <AgreementRate counts={last.counts} /> agree
+      {last.counts.differences > 0 ? <span className="text-danger"> · {plural(last.counts.differences, { one: "difference", other: "differences" })}</span> : null}
+      {last.counts.invalid > 0 ? <span className="text-ink-muted"> · {formatNumber(last.counts.invalid)} not checked</span> : null}
+    </p>
+  );
+}
+
 export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
   const { summary, settings, revision, activeCounts, active, dismissed, unmatched, devicePath, powers, awaitingCount } = loaderData;
   const canDismiss = powers.canDismiss;
@@ -112,6 +150,7 @@ export default function DeviceOverview({ loaderData }: Route.ComponentProps) {
         </Card>
       </div>
       <ExpectationsLine devicePath={devicePath} />
+      <FieldCheckLine devicePath={devicePath} timeZone={settings.timezone} />
       <p className="text-sm text-ink-muted">
         Revision r{revision.number}: “{revision.message || "no message"}” by {revision.author || "unknown"} on <Time at={revision.at} timeZone={settings.timezone} />.
       </p>

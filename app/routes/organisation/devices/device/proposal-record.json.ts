@@ -1,5 +1,6 @@
 import type { Route } from "./+types/proposal-record.json";
 import { requireDevice } from "#server/http/device-access.server";
+import { PROPOSAL_READ_ROLE } from "#server/auth/roles";
 import { proposalIdProblem } from "#server/http/proposal-steps.server";
 import { refusedJson } from "#server/http/refusals.server";
 import { changeRecord } from "#server/services/change-record.server";
@@ -8,7 +9,7 @@ import { downloadName } from "#app/utils/analysis";
 // GET …/proposals/:proposal/record.json → the proposal's change record as a file
 // ({"format": "sallyport-change-record", "version": 1, …}; server/services/change-record.server.ts).
 export async function loader({ params, context }: Route.LoaderArgs) {
-  const access = requireDevice(context);
+  const access = requireDevice(context, PROPOSAL_READ_ROLE);
   const idProblem = proposalIdProblem(params.proposal);
   if (idProblem) return Response.json(idProblem, { status: 400 });
   try {

@@ -2,6 +2,7 @@ import type { ReactNode } from "react";
 import { Link } from "react-router";
 import type { Route } from "./+types/proposal-record";
 import { requireDevice } from "#server/http/device-access.server";
+import { PROPOSAL_READ_ROLE } from "#server/auth/roles";
 import { proposalIdOf } from "#server/http/proposal-steps.server";
 import { refusedPage } from "#server/http/refusals.server";
 import { changeRecord } from "#server/services/change-record.server";
@@ -21,7 +22,7 @@ import { Badge, Card } from "#app/components/ui/card";
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `Change record · ${data?.record.proposal.title ?? "Proposal"} · Sallyport` }];
 
 export async function loader({ params, context }: Route.LoaderArgs) {
-  const access = requireDevice(context);
+  const access = requireDevice(context, PROPOSAL_READ_ROLE);
   const proposalId = proposalIdOf(params.proposal);
   try {
     const record = await changeRecord({ organisationId: access.organisation.id, deviceId: access.device.id, proposalId }, access.device, { userId: access.user.id, role: access.role });

@@ -1,9 +1,9 @@
 import { data } from "react-router";
 import type { Route } from "./+types/proposal-step";
-import { getEnvironment } from "#server/config.server";
+import { appOrigin } from "#server/config.server";
 import { actorOf } from "#server/http/actor.server";
 import { requireDevice } from "#server/http/device-access.server";
-import { appOriginOf, formValues, readForm } from "#server/http/form.server";
+import { formValues, readForm, readJson } from "#server/http/form.server";
 import { issuesOf, parseStep, proposalIdProblem, runProposalStep, STEP_ROLES, stepInputFromForm } from "#server/http/proposal-steps.server";
 import { refusedJson } from "#server/http/refusals.server";
 import { clientAddressOf } from "#server/http/request-context.server";
@@ -22,13 +22,7 @@ export async function loader({ context }: Route.LoaderArgs) {
 
 /** The body as JSON when it says so, else as a form; a 400 with the reason when it is neither. */
 async function bodyOf(request: Request, step: (typeof PROPOSAL_STEPS)[number]): Promise<unknown> {
-  if ((request.headers.get("Content-Type") ?? "").includes("application/json")) {
-    try {
-      return (await request.json()) as unknown;
-    } catch {
-      throw Response.json({ error: "The request body is not valid JSON.", issues: [{ path: "", message: "not JSON" }] }, { status: 400 });
-    }
-  }
+  if ((request.headers.get("Content-Type") ?? "").includes("application/json")) return readJson(request);
   return stepInputFromForm(step, formValues(await readForm(request)));
 }
 
@@ -49,7 +43,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
       parsed.parsed,
       { organisationId: access.organisation.id, deviceId: access.device.id, proposalId },
       actorOf(access, clientAddressOf(context)),
-      { appOrigin: appOriginOf(request, getEnvironment().APP_ORIGIN) },
+      { appOrigin: appOrigin() },
     );
     // Conflicts to settle (bringing a draft up to date): nothing changed, so not a success.
     if (outcome.facts.ok === false) return Response.json({ error: outcome.message, ...outcome.facts }, { status: 409 });

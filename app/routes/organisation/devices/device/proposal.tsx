@@ -2,10 +2,11 @@ import type { ReactNode } from "react";
 import { Form, Link, redirect, useNavigation, useSearchParams } from "react-router";
 import type { Route } from "./+types/proposal";
 import { serializeFlash } from "#server/auth/flash.server";
-import { getEnvironment } from "#server/config.server";
+import { appOrigin } from "#server/config.server";
 import { actorOf } from "#server/http/actor.server";
 import { requireDevice } from "#server/http/device-access.server";
-import { appOriginOf, formValues, readForm, unknownIntent } from "#server/http/form.server";
+import { PROPOSAL_READ_ROLE } from "#server/auth/roles";
+import { formValues, readForm, unknownIntent } from "#server/http/form.server";
 import { parseStep, proposalIdOf, readProposalDetails, runProposalStep, STEP_ROLES, stepInputFromForm } from "#server/http/proposal-steps.server";
 import { fieldErrorsOf, invalidForm } from "#server/http/form.server";
 import { refusedForm, refusedPage } from "#server/http/refusals.server";
@@ -16,13 +17,14 @@ import { localText } from "#server/proposals/change-window";
 import { proposalView, updateProposalDetails } from "#server/services/proposals.server";
 import { proposalEffect } from "#server/services/proposal-effect.server";
 import { EffectDetails } from "#app/components/proposals/effect-section";
-import { WRITTEN_REASON_MIN } from "#server/proposals/state";
+import { spaceQueryOf } from "#server/analysis/effect-space-params";
+import { isOpenState, WRITTEN_REASON_MIN } from "#server/proposals/state";
 import { gateBlocks, gateSubject } from "#server/proposals/gate-words";
 import { DocumentChanges } from "#app/components/device/document-changes";
 import { TextAreaField } from "#app/components/device/editor-kit";
 import { DEVICE_SECTIONS, SECTION_TITLES } from "#app/components/device/sections";
 import { ProposalDetailsFields } from "#app/components/proposals/details-fields";
-import { GateReasons, StateBadge, WindowText } from "#app/components/proposals/proposal-bits";
+import { GateReasons, StateBadge, unlistedReasons, WindowText } from "#app/components/proposals/proposal-bits";
 import { Button } from "#app/components/ui/button";
 import { Badge, Card } from "#app/components/ui/card";
 import { FormError, SelectField } from "#app/components/ui/field";
@@ -38,14 +40,14 @@ function offsetOf(text: string | null): number | undefined {
 }
 
 export async function loader({ request, params, context }: Route.LoaderArgs) {
-  const access = requireDevice(context);
+  const access = requireDevice(context, PROPOSAL_READ_ROLE);
   const proposalId = proposalIdOf(params.proposal);
   const url = new URL(request.url);
   const ref = { organisationId: access.organisation.id, deviceId: access.device.id, proposalId };
   try {
     const [view, effect] = await Promise.all([
       proposalView(ref, { userId: access.user.id, role: access.role }),
-      proposalEffect(ref, { group: url.searchParams.get("group") ?? undefined, offset: offsetOf(url.searchParams.get("offset")) }),
+      proposalEffect(ref, { group: url.searchParams.get("group") ?? undefined, offset: offsetOf(url.searchParams.get("offset")) }, spaceQueryOf(url.searchParams)),
     ]);
     // The window as the details form shows it: wall-clock times in the device's zone.
     const localWindow = { start: localText(new Date(view.proposal.windowStart), view.timezone), end: localText(new Date(view.proposal.windowEnd), view.timezone) };
@@ -79,7 +81,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   if (!parsed.ok) return invalidForm(fieldErrorsOf(parsed.error), values);
   try {
     const outcome = await runProposalStep(parsed.parsed, { organisationId: access.organisation.id, deviceId: access.device.id, proposalId }, actorOf(access, clientAddressOf(context)), {
-      appOrigin: appOriginOf(request, getEnvironment().APP_ORIGIN),
+      appOrigin: appOrigin(),
     });
     // Conflicts to settle: the page lists them with a choice each, nothing changed yet.
     if (outcome.facts.ok === false && Array.isArray(outcome.facts.conflicts)) {
@@ -126,6 +128,27 @@ function Submitting({ children, variant = "primary" }: { children: ReactNode; va
 
 const capitalised = (text: string): string => text.charAt(0).toUpperCase() + text.slice(1);
 
+const GATE_TITLE = "Lockout guard and expectations";
+
+/**
+ * A refused step's reasons beside its form: only those the gate's section does not list already
+ * (the page says each reason once), else a pointer to that section.
+ */
+function StepReasons({ reasons, listed }: { reasons: ReturnType<typeof resultFor>["reasons"]; listed: readonly { words: string }[] }) {
+  if (reasons.length === 0) return null;
+  const others = unlistedReasons(reasons, listed);
+  if (others.length > 0) return <GateReasons reasons={others} />;
+  return (
+    <p className="text-sm">
+      Why:{" "}
+      <a href="#guard-heading" className="text-harbour underline underline-offset-4">
+        {GATE_TITLE}
+      </a>
+      , above.
+    </p>
+  );
+}
+
 const VERDICT_WORDS = { approved: "approved", changes_requested: "asked for changes", rejected: "rejected" } as const;
 
 export default function ProposalPage({ loaderData, actionData }: Route.ComponentProps) {
@@ -155,6 +178,8 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
   const ruleIds = [...new Set([...view.draft.inboundRules.map((rule) => rule.id), ...(effect.ok ? effect.view.rules.removed.map((rule) => rule.id) : [])])];
   const blocked = view.gate.length > 0;
   const gate = gateSubject(view.gate);
+  // The gate is worked out for an open proposal whose draft still validates (proposalView).
+  const gateOpen = isOpenState(proposal.state) && view.draftProblems.length === 0;
 
   return (
     <div className="mx-auto max-w-4xl space-y-6">
@@ -275,13 +300,25 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
         aside={<span className="text-sm text-ink-muted">{effect.basis.appliedRevision !== null ? `r${effect.basis.baseRevision} → r${effect.basis.appliedRevision}` : `r${effect.basis.baseRevision} → draft version ${effect.basis.draftVersion}`}</span>}
       >
         {effect.ok ? (
-          <EffectDetails effect={effect.view} search={searchParams} commentPath={can.comment ? commentPath : null} />
+          <EffectDetails
+            effect={effect.view}
+            search={searchParams}
+            commentPath={can.comment ? commentPath : null}
+            spaces={effect.spaces}
+            space={effect.space}
+            // While the proposal is open its gate has a section of its own; the effect points to it.
+            gate={gateOpen ? { anchor: "#guard-heading", title: GATE_TITLE, blocked } : null}
+            trace={{
+              base: { path: `${base}/analysis?proposal=${proposal.id}&side=base`, label: `Trace on base r${effect.basis.baseRevision}` },
+              after: { path: `${base}/analysis?proposal=${proposal.id}&side=draft`, label: effect.basis.appliedRevision === null ? "Trace on draft" : `Trace on r${effect.basis.appliedRevision}` },
+            }}
+          />
         ) : (
           <p className="text-sm text-danger">The draft is no longer a valid model, so its effect cannot be worked out: edit the draft.</p>
         )}
       </Section>
 
-      <Section id="guard" title="Lockout guard and expectations">
+      <Section id="guard" title={GATE_TITLE}>
         {view.draftProblems.length > 0 ? (
           <div className="text-sm text-danger">
             <p>The draft is no longer a valid model (a shared object it uses changed):</p>
@@ -362,7 +399,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
           <Form method="post" className="space-y-3 border-t border-line pt-4" aria-label="Submit for review">
             <input type="hidden" name="intent" value="submit" />
             <FormError message={submit.errors.form} />
-            {submit.reasons.length > 0 ? <GateReasons reasons={submit.reasons} /> : null}
+            <StepReasons reasons={submit.reasons} listed={view.gate} />
             {blocked ? (
               <TextAreaField
                 label={`Acknowledge ${gate.words} (only if the change is meant)`}
@@ -383,7 +420,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
             <Form method="post" className="space-y-3" aria-label="Approve">
               <input type="hidden" name="intent" value="approve" />
               <FormError message={approve.errors.form} />
-              {approve.reasons.length > 0 ? <GateReasons reasons={approve.reasons} /> : null}
+              <StepReasons reasons={approve.reasons} listed={view.gate} />
               <TextAreaField label="Approval note (optional)" name="reason" rows={2} defaultValue={approve.values.reason} error={approve.errors.reason} />
               {blocked && can.approvePastGuard ? (
                 <TextAreaField
@@ -425,7 +462,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
             <Form method="post" className="space-y-3" aria-label="Apply the proposal">
               <input type="hidden" name="intent" value="apply" />
               <FormError message={apply.errors.form} />
-              {apply.reasons.length > 0 ? <GateReasons reasons={apply.reasons} /> : null}
+              <StepReasons reasons={apply.reasons} listed={view.gate} />
               <p className="text-sm">Applying makes one new revision with this proposal's title as its message.</p>
               {!view.insideWindow && can.applyOutsideWindow ? (
                 <TextAreaField

@@ -1,5 +1,5 @@
 import type { Route } from "./+types/proposals";
-import { hasAtLeastRole, PAGE_ROLES } from "#server/auth/roles";
+import { hasAtLeastRole, PAGE_ROLES, PROPOSAL_READ_ROLE } from "#server/auth/roles";
 import { requireDevice } from "#server/http/device-access.server";
 import { isOpenState } from "#server/proposals/state";
 import { listProposals } from "#server/services/proposals.server";
@@ -10,7 +10,7 @@ import { EmptyState } from "#app/components/ui/empty-state";
 export const meta: Route.MetaFunction = () => [{ title: "Proposals · Sallyport" }];
 
 export async function loader({ context }: Route.LoaderArgs) {
-  const access = requireDevice(context);
+  const access = requireDevice(context, PROPOSAL_READ_ROLE);
   const proposals = await listProposals(access.organisation.id, { deviceId: access.device.id });
   return {
     slug: access.organisation.slug,

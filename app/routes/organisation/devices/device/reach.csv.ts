@@ -5,10 +5,11 @@ import { toCsv } from "#server/formats/csv";
 import { downloadName } from "#app/utils/analysis";
 import { isLayer, LAYER_LABELS, OUTCOME_LABELS } from "#server/engine/vocabulary";
 
-// Codes for programs, and beside each code column its label as the screens show it.
-const REACH_CSV_HEADER = ["interface", "to", "service", "outcome", "outcome_label", "deciding_layer", "deciding_layer_label", "rule_id", "eligible_accounts", "detail"] as const;
+// Codes for programs, and beside each code column its label as the screens show it. The sources
+// of each row come last: the whole source for one address, a group's CIDRs for a block.
+const REACH_CSV_HEADER = ["interface", "to", "service", "outcome", "outcome_label", "deciding_layer", "deciding_layer_label", "rule_id", "eligible_accounts", "detail", "sources", "source_count"] as const;
 
-// The reach table as CSV, one row per interface × catalogue service, in engine order.
+// The reach table as CSV, one row per interface × catalogue service (× group of sources for a block), in engine order.
 export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireDevice(context);
   const answer = answerReach(access.analysis.compiled, reachQueryOf(new URL(request.url)));
@@ -27,8 +28,10 @@ export async function loader({ request, context }: Route.LoaderArgs) {
     row.ruleId ?? "",
     row.eligibleAccounts.join(" "),
     row.detail,
+    row.sources.join(" "),
+    row.count,
   ]);
-  const fileName = `${downloadName(access.device.name, "reach", answer.from.replace(/[:.]/g, "_"))}.csv`;
+  const fileName = `${downloadName(access.device.name, "reach", answer.from.replace(/[:./]/g, "_"))}.csv`;
   return new Response(toCsv([REACH_CSV_HEADER, ...rows]), {
     headers: { "Content-Type": "text/csv; charset=utf-8", "Content-Disposition": `attachment; filename="${fileName}"` },
   });

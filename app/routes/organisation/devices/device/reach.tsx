@@ -2,10 +2,11 @@ import { data, Form, useSearchParams } from "react-router";
 import type { Route } from "./+types/reach";
 import { answerReach, reachQueryOf, type ReachRow } from "#server/analysis/reach.server";
 import { requireDevice } from "#server/http/device-access.server";
-import { OUTCOME_LABELS, OutcomeChip } from "#app/components/outcome";
-import { isLayer, LAYERS, OUTCOMES, outcomeRank, presentsLogin, type Outcome } from "#server/engine/vocabulary";
-import { LAYER_TITLES } from "#app/utils/trace-words";
-import { formatInstant, formatNumber, plural, pluralWord, type PluralForms } from "#server/engine/format";
+import { isLayer, LAYERS, outcomeRank } from "#server/engine/vocabulary";
+import { reachSummary, worstByPlace } from "#app/utils/reach-words";
+import { Count } from "#app/components/analysis/common";
+import { OutcomeOrderNote, ReachAnswerCells } from "#app/components/analysis/reach-cells";
+import { formatInstant } from "#server/engine/format";
 import { buttonClasses } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
@@ -13,7 +14,7 @@ import { NoInterfacesYet } from "#app/components/device/no-interfaces";
 import { TextField } from "#app/components/ui/field";
 import { SortHeader } from "#app/components/ui/sort-header";
 import { nameTie, tableRows, urlSort, type ColumnDef } from "#app/components/ui/table-rows";
-import { Table, Td } from "#app/components/ui/table";
+import { Table, Td, Th } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Reach${loaded?.query.from ? ` from ${loaded.query.from}` : ""} · ${loaded?.deviceName ?? "Device"} · Sallyport` }];
 
@@ -33,8 +34,9 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   const url = new URL(request.url);
   const query = reachQueryOf(url);
   const { sort, descending, sorting } = urlSort(url.searchParams, COLUMNS);
-  const noErrors: { from?: string; at?: string } = {};
-  const base = { deviceName: access.device.name, devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`, timezone: access.effective.device.timezone, query, sort, descending };
+  const noErrors: { from?: string; at?: string; interface?: string } = {};
+  const interfaces = access.effective.interfaces.map((entry) => ({ name: entry.name, role: entry.role }));
+  const base = { deviceName: access.device.name, devicePath: `/o/${access.organisation.slug}/devices/${access.device.id}`, timezone: access.effective.device.timezone, interfaces, query, sort, descending };
   // No source yet: just the form (asking is not an error).
   if (!url.searchParams.has("from") && !url.searchParams.has("at")) return { ...base, answer: null, errors: noErrors };
   const answer = answerReach(access.analysis.compiled, query);
@@ -42,44 +44,27 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   return { ...base, answer: { ...answer, rows: tableRows(answer.rows, [...COLUMNS, nameTie<ReachRow>()], { sorting }) }, errors: noErrors };
 }
 
-/** "reaches 2 services with a login (2 with a password only), 1 answers, …" from the rows. */
-function summaryOf(rows: readonly ReachRow[]): string {
-  const count = (outcomes: readonly Outcome[]) => rows.filter((row) => outcomes.includes(row.outcome)).length;
-  const logins = rows.filter((row) => presentsLogin(row.outcome)).length;
-  const loginParts = [
-    [count(["login-password"]), "with a password only"],
-    [count(["login-mfa"]), "with a second factor"],
-    [count(["login-denied"]), "shown but refused"],
-  ] as const;
-  const loginDetail = loginParts
-    .filter(([n]) => n > 0)
-    .map(([n, words]) => `${formatNumber(n)} ${words}`)
-    .join(", ");
-  const verb = (n: number, forms: PluralForms) => `${formatNumber(n)} ${pluralWord(n, forms)}`;
-  return [
-    `reaches ${plural(logins, { one: "service", other: "services" })} with a login${loginDetail ? ` (${loginDetail})` : ""}`,
-    verb(count(["answered"]), { one: "answers", other: "answer" }),
-    verb(count(["refused"]), { one: "refuses and reveals the device", other: "refuse and reveal the device" }),
-    verb(count(["silent"]), { one: "gives no answer", other: "give no answer" }),
-  ].join(", ");
-}
-
 export default function Reach({ loaderData }: Route.ComponentProps) {
   const [searchParams] = useSearchParams();
-  const { query, errors, answer, sort, descending, timezone, devicePath } = loaderData;
+  const { query, errors, answer, sort, descending, timezone, devicePath, interfaces } = loaderData;
   const csvParams = new URLSearchParams({ from: answer?.from ?? query.from });
   if (query.at) csvParams.set("at", query.at);
+  for (const name of query.interfaces) csvParams.append("interface", name);
+  // The headline counts what the table shows: each interface × service once, by the most any asked source gets there.
+  const cells = answer ? worstByPlace(answer.rows, (row) => `${row.interface} ${row.service}`) : [];
   return (
     <div className="space-y-6">
       <div>
         <h2 className="text-lg font-semibold">Reach</h2>
-        <p className="mt-1 max-w-3xl text-sm text-ink-muted">Everything one source can reach on this device: every interface × catalogue service, the outcome, and the layer that decided it.</p>
+        <p className="mt-1 max-w-3xl text-sm text-ink-muted">
+          Everything one source can reach on this device: every interface × catalogue service, the outcome, and the layer that decided it. A CIDR block is answered per group of its sources that get the same answer.
+        </p>
       </div>
       <Card className="p-5">
-        <Form method="get" className="grid items-start gap-4 md:grid-cols-[minmax(0,16rem)_minmax(0,20rem)_auto]" aria-label="Reach query">
+        <Form key={searchParams.toString()} method="get" className="grid items-start gap-4 md:grid-cols-[minmax(0,16rem)_minmax(0,20rem)_auto]" aria-label="Reach query">
           {searchParams.get("sort") ? <input type="hidden" name="sort" value={sort} /> : null}
           {searchParams.get("dir") ? <input type="hidden" name="dir" value={descending ? "desc" : "asc"} /> : null}
-          <TextField label="Source address" name="from" defaultValue={query.from} placeholder="203.0.113.50 or 2001:db8::5" error={errors.from} autoComplete="off" spellCheck={false} required />
+          <TextField label="Source address or CIDR block" name="from" defaultValue={query.from} placeholder="203.0.113.50 or 203.0.113.0/24" error={errors.from} autoComplete="off" spellCheck={false} required />
           <TextField
             label="Time (optional)"
             name="at"
@@ -99,6 +84,25 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
               Show reach
             </button>
           </div>
+          {interfaces.length > 1 ? (
+            <fieldset className="md:col-span-3" aria-describedby={errors.interface ? "reach-interface-error" : undefined}>
+              <legend className="text-sm font-medium">Interfaces</legend>
+              <p className="text-xs text-ink-muted">None ticked: every interface.</p>
+              <div className="mt-1.5 flex flex-wrap gap-x-4 gap-y-1.5">
+                {interfaces.map((entry) => (
+                  <label key={entry.name} className="flex items-center gap-1.5 text-sm">
+                    <input type="checkbox" name="interface" value={entry.name} defaultChecked={query.interfaces.includes(entry.name)} className="size-4" />
+                    <span className="font-mono">{entry.name}</span> <span className="text-ink-muted">({entry.role})</span>
+                  </label>
+                ))}
+              </div>
+              {errors.interface ? (
+                <p id="reach-interface-error" role="alert" className="mt-1 text-sm text-danger">
+                  {errors.interface}
+                </p>
+              ) : null}
+            </fieldset>
+          ) : null}
         </Form>
       </Card>
 
@@ -110,7 +114,13 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
                 From <code>{answer.from}</code>
               </h3>
               <p className="text-sm text-ink-muted">
+                {answer.block ? (
+                  <>
+                    <Count value={answer.count} /> addresses ·{" "}
+                  </>
+                ) : null}
                 At {formatInstant(answer.at, timezone)}
+                {query.interfaces.length > 0 ? ` · on ${query.interfaces.join(", ")}` : ""}
               </p>
             </div>
             <a href={`${devicePath}/reach.csv?${csvParams.toString()}`} className={buttonClasses("secondary", "sm")} download>
@@ -118,7 +128,9 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
             </a>
           </div>
           <p className="text-sm" aria-live="polite">
-            <strong>{answer.from}</strong> {summaryOf(answer.rows)}.
+            {answer.block ? "Some of " : ""}
+            <strong>{answer.from}</strong> {reachSummary(cells, { one: "service", other: "services" })}
+            {answer.block ? " (each service counted by the most any of its addresses gets)" : ""}.
           </p>
           {answer.rows.length === 0 ? (
             <NoInterfacesYet page="Reach" />
@@ -129,6 +141,7 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
                 <tr>
                   <SortHeader column="interface" label="Interface" sort={sort} descending={descending} />
                   <SortHeader column="service" label="Service" sort={sort} descending={descending} />
+                  {answer.block ? <Th>Sources</Th> : null}
                   <SortHeader column="outcome" label="Outcome" sort={sort} descending={descending} />
                   <SortHeader column="layer" label="Deciding layer" sort={sort} descending={descending} />
                   <SortHeader column="rule" label="Rule" sort={sort} descending={descending} />
@@ -143,24 +156,13 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
                       {row.to ? <span className="block font-mono text-xs text-ink-faint">{row.to}</span> : null}
                     </Td>
                     <Td className="font-mono">{row.service}</Td>
-                    <Td>
-                      <OutcomeChip outcome={row.outcome} />
-                      <span className="sr-only"> ({row.outcome})</span>
-                    </Td>
-                    <Td className="max-w-md max-sm:min-w-56!">
-                      <span className="font-medium">{isLayer(row.layer) ? LAYER_TITLES[row.layer] : row.layer}</span>
-                      <span className="block text-xs text-ink-muted">{row.detail}</span>
-                    </Td>
-                    <Td className="font-mono text-xs">{row.ruleId ?? <span className="font-sans whitespace-nowrap text-ink-faint">no rule matched</span>}</Td>
-                    <Td className="text-xs">{row.eligibleAccounts.length ? row.eligibleAccounts.join(", ") : <span className="text-ink-faint">—</span>}</Td>
+                    <ReachAnswerCells row={row} block={answer.block} />
                   </tr>
                 ))}
               </tbody>
             </Table>
           )}
-          <p className="text-xs text-ink-muted">
-            Outcomes, least to most exposed: {OUTCOMES.map((outcome) => OUTCOME_LABELS[outcome]).join(" < ")}. Anything above “{OUTCOME_LABELS.silent}” tells an outsider the device exists.
-          </p>
+          <OutcomeOrderNote />
         </section>
       ) : Object.keys(errors).length ? null : (
         <EmptyState title="Ask about one source">Enter a source address to see what it can reach on every interface, and what it would see.</EmptyState>

@@ -5,12 +5,12 @@ import { hasAtLeastRole, PAGE_ROLES } from "#server/auth/roles";
 import { actorOf } from "#server/http/actor.server";
 import { requireDevice, revisionNumberOf } from "#server/http/device-access.server";
 import { formValuesWithLists, planDeviceEdit, PlannedAttempt, refusedDeviceEdit } from "#server/http/device-forms.server";
-import { appOriginOf, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
+import { invalidForm, readForm, unknownIntent } from "#server/http/form.server";
 import { refusedForm } from "#server/http/refusals.server";
 import { deleteDevice, loadSharedLibrary } from "#server/services/devices.server";
 import { saveDirectEdit } from "#server/services/proposals.server";
 import { WRITTEN_REASON_MIN } from "#server/proposals/state";
-import { getEnvironment } from "#server/config.server";
+import { appOrigin } from "#server/config.server";
 import { GuardPanel } from "#app/components/proposals/guard-panel";
 import { listSites } from "#server/services/sites.server";
 import { SectionEditor } from "#app/components/device/section-editor";
@@ -84,7 +84,7 @@ export async function action({ request, params, context }: Route.ActionArgs) {
       actorOf(access, clientAddressOf(context)),
       planned.plan.message,
       { siteId: planned.plan.siteId, override },
-      { appOrigin: appOriginOf(request, getEnvironment().APP_ORIGIN) },
+      { appOrigin: appOrigin() },
     );
     const overridden = saved.note?.action === "device.break-glass-saved" ? " (break-glass: the reviewers were e-mailed)" : saved.note ? " (past the lockout guard, with your reason)" : "";
     const message = saved.changes.length === 0 && !planned.plan.siteId ? "Nothing changed; no new revision." : `${planned.plan.message}. Saved as revision r${saved.number}${overridden}.`;

@@ -1,0 +1,7 @@
+import type { Route } from "./+types/device";
+import { serveApi } from "#server/api/endpoint.server";
+import { API_V1 } from "#server/api/v1/index";
+
+// GET /api/v1/devices/{device} — server/api/v1/devices.ts.
+export const loader = (args: Route.LoaderArgs) => serveApi(API_V1, "/devices/{device}", args);
+export const action = (args: Route.ActionArgs) => serveApi(API_V1, "/devices/{device}", args);

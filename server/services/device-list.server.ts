@@ -1,0 +1,15 @@
+// The organisation's devices as the fleet table and the API's device list show them: the
+// current revision's facts, the active findings by severity (dismissed ones are accepted risks
+// and leave the counts, as on the device overview) and the open proposals. One home, so the
+// page and the API never disagree.
+import { listDevices, type DeviceRow } from "./devices.server.ts";
+import { activeFindingsBySeverity } from "./findings.server.ts";
+import { openProposalCounts } from "./proposals.server.ts";
+
+export type FleetDeviceRow = DeviceRow & { openProposals: number };
+
+/** Every device of the organisation, by name, with its active findings and open proposals. */
+export async function fleetDeviceRows(organisationId: string): Promise<FleetDeviceRow[]> {
+  const [listed, active, proposals] = await Promise.all([listDevices(organisationId), activeFindingsBySeverity(organisationId), openProposalCounts(organisationId)]);
+  return listed.map((device) => ({ ...device, findingsBySeverity: active.get(device.id) ?? device.findingsBySeverity, openProposals: proposals.get(device.id) ?? 0 }));
+}
