@@ -56,7 +56,18 @@ export default [
     route("search", "routes/organisation/search.ts"),
     route("findings", "routes/organisation/findings.tsx"),
     route("changes", "routes/organisation/changes.tsx"),
-    route("training", "routes/organisation/training.tsx"),
+    // Training (issue 12, docs/decisions/016): the training home, teaching scenarios apart from the fleet, lessons.
+    ...prefix("training", [
+      index("routes/organisation/training/index.tsx"),
+      route("scenarios/new", "routes/organisation/training/scenario-new.tsx"),
+      route("scenarios/:scenario", "routes/organisation/training/scenario.tsx"),
+      route("scenarios/:scenario/model/:section", "routes/organisation/training/scenario-section.tsx"),
+      route("lessons/new", "routes/organisation/training/lesson-new.tsx"),
+      route("lessons/:lesson", "routes/organisation/training/lesson.tsx"),
+      route("lessons/:lesson/edit", "routes/organisation/training/lesson-edit.tsx"),
+      route("lessons/:lesson/present", "routes/organisation/training/lesson-present.tsx"),
+      route("attempts/:attempt", "routes/organisation/training/attempt.tsx"),
+    ]),
     route("account", "routes/organisation/account.tsx"),
     ...prefix("settings", [
       layout("routes/organisation/settings/layout.tsx", [

@@ -39,6 +39,12 @@ export const AUDIT_ACTIONS = [
   "proposal.withdrawn",
   "proposal.brought-up-to-date",
   "proposal.applied",
+  "training.scenario-created",
+  "training.scenario-edited",
+  "training.scenario-deleted",
+  "training.lesson-created",
+  "training.lesson-changed",
+  "training.lesson-deleted",
   "shared-object.created",
   "shared-object.updated",
   "shared-object.deleted",
@@ -47,6 +53,7 @@ export const AUDIT_ACTIONS = [
   "invitation.accepted",
   "member.role-changed",
   "member.removed",
+  "member.trainer-changed",
   "user.signed-in",
   "user.signed-out-everywhere",
   "user.renamed",
@@ -65,7 +72,7 @@ export function isAuditAction(value: unknown): value is AuditAction {
   return typeof value === "string" && (AUDIT_ACTIONS as readonly string[]).includes(value);
 }
 
-export const AUDIT_TARGET_TYPES = ["organisation", "site", "device", "shared-object", "invitation", "membership", "user", "proposal", "api-token"] as const;
+export const AUDIT_TARGET_TYPES = ["organisation", "site", "device", "shared-object", "invitation", "membership", "user", "proposal", "api-token", "training-scenario", "training-lesson"] as const;
 export type AuditTargetType = (typeof AUDIT_TARGET_TYPES)[number];
 
 export function isAuditTargetType(value: unknown): value is AuditTargetType {

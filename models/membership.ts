@@ -8,6 +8,8 @@ export class Membership extends Model<InferAttributes<Membership>, InferCreation
   declare organisationId: ForeignKey<Organisation["id"]>;
   declare userId: ForeignKey<User["id"]>;
   declare role: Role;
+  /** The trainer capability (docs/decisions/016): manages training whatever the role. */
+  declare trainer: CreationOptional<boolean>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
   declare user?: NonAttribute<User>;
@@ -18,6 +20,7 @@ export class Membership extends Model<InferAttributes<Membership>, InferCreation
       {
         id: { type: DataTypes.UUID, defaultValue: DataTypes.UUIDV4, primaryKey: true },
         role: { type: DataTypes.STRING(16), allowNull: false, validate: { isIn: [ROLES] } },
+        trainer: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },

@@ -39,6 +39,12 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "proposal.withdrawn": "Proposal withdrawn",
   "proposal.brought-up-to-date": "Proposal brought up to date",
   "proposal.applied": "Proposal applied",
+  "training.scenario-created": "Teaching scenario created",
+  "training.scenario-edited": "Teaching scenario edited",
+  "training.scenario-deleted": "Teaching scenario deleted",
+  "training.lesson-created": "Lesson created",
+  "training.lesson-changed": "Lesson changed",
+  "training.lesson-deleted": "Lesson deleted",
   "shared-object.created": "Shared object created",
   "shared-object.updated": "Shared object changed",
   "shared-object.deleted": "Shared object deleted",
@@ -47,6 +53,7 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "invitation.accepted": "Invitation accepted",
   "member.role-changed": "Role changed",
   "member.removed": "Member removed",
+  "member.trainer-changed": "Trainer capability changed",
   "user.signed-in": "Signed in",
   "user.signed-out-everywhere": "Signed out everywhere",
   "user.renamed": "Name changed",
@@ -70,6 +77,8 @@ export const AUDIT_TARGET_LABELS: Record<AuditTargetType, string> = {
   user: "Account",
   proposal: "Proposal",
   "api-token": "API token",
+  "training-scenario": "Teaching scenario",
+  "training-lesson": "Lesson",
 };
 
 /** The label of a stored action; a code this version does not know is shown as it is. */
@@ -167,6 +176,13 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "proposal.withdrawn": (c, target) => `Withdrew ${quoted(c.name, target)}`,
   "proposal.brought-up-to-date": (c, target) => `Brought ${quoted(target)} up to date${fromTo(c.baseRevision)}${listOf(c.settled).length ? `, settling ${plural(listOf(c.settled).length, { one: "conflict", other: "conflicts" })}` : ""}`,
   "proposal.applied": (c, target) => `Applied ${quoted(target)} as r${word(c.revision)}${word(c.outsideWindowReason, "") ? `, outside its change window: ${quoted(c.outsideWindowReason)}` : ""}`,
+  "training.scenario-created": (c, target) =>
+    `Created teaching scenario ${quoted(c.title, target)}${c.origin === "example" ? ` from the example ${quoted(c.example)}` : c.origin === "copy" ? ` as a${c.anonymised === true ? "n anonymised" : ""} copy of ${quoted(c.device)}` : " from scratch"}`,
+  "training.scenario-edited": (c, target) => `Edited teaching scenario ${quoted(c.title, target)}: ${word(c.edit)}`,
+  "training.scenario-deleted": (c, target) => `Deleted teaching scenario ${quoted(c.title, target)}`,
+  "training.lesson-created": (c, target) => `Created lesson ${quoted(c.title, target)} on ${quoted(c.scenario)} with ${plural(typeof c.probes === "number" ? c.probes : 0, { one: "probe", other: "probes" })}`,
+  "training.lesson-changed": (c, target) => `Changed lesson ${quoted(isFromTo(c.title) ? c.title.to : c.title, target)}: ${word(c.edit)}`,
+  "training.lesson-deleted": (c, target) => `Deleted lesson ${quoted(c.title, target)} and its ${plural(typeof c.attempts === "number" ? c.attempts : 0, { one: "attempt", other: "attempts" })}`,
   "shared-object.created": (c, target) => `Created shared ${c.kind === "group" ? "group" : "address object"} ${quoted(target)}: ${valueText(c.items)}${breakGlassWords(c)}`,
   "shared-object.updated": (c, target) => {
     const changed = fieldChanges(c);
@@ -177,6 +193,7 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "invitation.revoked": (c) => `Revoked the invitation for ${word(c.email)}`,
   "invitation.accepted": (c) => `${word(c.email)} joined as ${word(c.role)}`,
   "member.role-changed": (c, target) => (isFromTo(c.role) ? `Changed the role of ${target} from ${word(c.role.from)} to ${word(c.role.to)}` : `Changed the role of ${target}`),
+  "member.trainer-changed": (c, target) => (isFromTo(c.trainer) && c.trainer.to === true ? `Made ${target} a trainer` : `Took the trainer capability from ${target}`),
   "member.removed": (c, target) => `Removed ${target}${word(c.role, "") ? ` (${word(c.role)})` : ""} from the organisation`,
   "user.signed-in": () => "Signed in",
   "user.signed-out-everywhere": () => "Signed out on every device",

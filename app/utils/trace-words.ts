@@ -1,6 +1,6 @@
 // Plain-language wording of a trace, shared by the canvas, the step list and tests. Pure.
 import type { TraceResult } from "#server/engine/trace";
-import { LAYER_LABELS } from "#server/engine/vocabulary";
+import { LAYER_LABELS, type Outcome } from "#server/engine/vocabulary";
 
 /** The layers' titles: the vocabulary's labels, so the reach table, its CSV and the canvas agree. */
 export const LAYER_TITLES = LAYER_LABELS;
@@ -28,3 +28,26 @@ export function outcomeSentence(trace: TraceView, rulePosition?: number): string
       return `Login page shown: a password alone logs in (${trace.eligibleAccounts.join(", ")} without a second factor).`;
   }
 }
+
+/**
+ * What the deciding layer decided, in a few words — "decides: password login" — so the layer
+ * is marked by what happened, never as if the attacker was stopped when the door opened.
+ */
+export const DECIDED_WORDS: Record<Outcome, string> = {
+  silent: "no answer",
+  refused: "refused, device revealed",
+  answered: "it answers",
+  "login-denied": "login refused",
+  "login-mfa": "login with second factor",
+  "login-password": "password login",
+};
+
+export function decidesText(outcome: Outcome): string {
+  return `decides: ${DECIDED_WORDS[outcome]}`;
+}
+
+/** A trainee's prediction of a layer: it passes the probe on, or it decides the outcome here. */
+export const VERDICT_CHOICES: Record<"pass" | "stop", string> = {
+  pass: "Passes it on to the next layer",
+  stop: "Decides the outcome here",
+};

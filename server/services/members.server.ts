@@ -9,7 +9,7 @@ import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 
 export const INVITATION_LIFETIME_MS = 7 * 24 * 60 * 60 * 1000;
 
-export type MemberRow = { membershipId: string; userId: string; name: string; email: string; role: Role; since: string };
+export type MemberRow = { membershipId: string; userId: string; name: string; email: string; role: Role; trainer: boolean; since: string };
 
 export async function listMembers(organisationId: string): Promise<MemberRow[]> {
   const memberships = await Membership.findAll({
@@ -23,6 +23,7 @@ export async function listMembers(organisationId: string): Promise<MemberRow[]> 
     name: membership.user!.name,
     email: membership.user!.email,
     role: membership.role,
+    trainer: membership.trainer,
     since: membership.createdAt.toISOString(),
   }));
 }
@@ -91,6 +92,17 @@ export async function changeMemberRole(organisation: Organisation, membershipId:
   await getDatabase().transaction(async (transaction) => {
     await membership.update({ role }, { transaction });
     await recordAuditEvent(actor, { organisationId: organisation.id, action: "member.role-changed", targetType: "membership", targetId: membership.id, changes: { email: membership.user?.email, role: { from: before, to: role } } }, transaction);
+  });
+}
+
+/** Gives or takes the trainer capability (docs/decisions/016); the audit entry in the same transaction. */
+export async function setMemberTrainer(organisation: Organisation, membershipId: string, trainer: boolean, actor: AuditActor): Promise<void> {
+  await getDatabase().transaction(async (transaction) => {
+    const membership = await Membership.findOne({ where: { id: membershipId, organisationId: organisation.id }, include: [{ model: User, as: "user", required: true }], transaction, lock: { level: transaction.LOCK.UPDATE, of: Membership } });
+    if (!membership) throw new Refusal("No such member in this organisation.", 404);
+    if (membership.trainer === trainer) return;
+    await membership.update({ trainer }, { transaction });
+    await recordAuditEvent(actor, { organisationId: organisation.id, action: "member.trainer-changed", targetType: "membership", targetId: membership.id, changes: { email: membership.user?.email, trainer: { from: !trainer, to: trainer } } }, transaction);
   });
 }
 

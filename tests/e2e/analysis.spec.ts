@@ -22,8 +22,9 @@ test("A trainer walks a probe through every layer, one verdict at a time", async
   await page.goto(`/o/lanternfield/devices/${id}/analysis?from=203.0.113.50&interface=outside&service=https`);
   const verdicts = page.getByRole("list", { name: "Layer verdicts" });
   await expect(verdicts.getByRole("listitem")).toHaveCount(6);
-  await page.getByRole("button", { name: "Start walkthrough" }).click();
+  // A shared link opens at the first step, nothing revealed (issue 12).
   await expect(page.getByText("Layer 0 of 6")).toBeVisible();
+  await expect(page.getByRole("button", { name: "Start walkthrough" })).toBeDisabled();
   await expect(verdicts.getByText("Predict this layer's verdict, then step on.").first()).toBeVisible();
   await screenshot(page, "30-walkthrough-start");
   const expected = [
@@ -32,7 +33,7 @@ test("A trainer walks a probe through every layer, one verdict at a time", async
     ["Listener", "passes"],
     ["Service kind", "passes"],
     ["Login sources", "passes"],
-    ["Second factor", "stops here"],
+    ["Second factor", "decides: password login"],
   ];
   for (const [index, [layer, verdict]] of expected.entries()) {
     await page.getByRole("button", { name: "Next layer" }).click();

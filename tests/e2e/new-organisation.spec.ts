@@ -63,8 +63,11 @@ test("A new owner goes from sign-up to a first traced device without a dead end"
   await page.getByLabel("From (source)").fill("203.0.113.50");
   await expect(page).toHaveURL(/from=203\.0\.113\.50/);
   const verdicts = page.getByRole("list", { name: "Layer verdicts" });
-  await expect(verdicts.getByRole("listitem")).toHaveCount(5);
-  await expect(verdicts.getByRole("listitem").last()).toContainText("Login sources");
+  // All six layers are listed; the fifth decides and the sixth is never reached (issue 12).
+  await expect(verdicts.getByRole("listitem")).toHaveCount(6);
+  await expect(verdicts.getByRole("listitem").nth(4)).toContainText("Login sources");
+  await expect(verdicts.getByRole("listitem").nth(4)).toContainText("decides: login refused");
+  await expect(verdicts.getByRole("listitem").last()).toContainText("not reached");
   await expect(page.getByLabel("Outcome", { exact: true })).toBeVisible();
   await screenshot(page, "42-first-trace");
 

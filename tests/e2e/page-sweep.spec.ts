@@ -8,6 +8,7 @@ import { DEVICE_SECTIONS } from "#app/components/device/sections";
 import { expect, test } from "./fixtures";
 import { hydrated, seriousAccessibilityViolations } from "./helpers";
 import { createProposal, createTeam, type Team } from "./team";
+import { createTrainingPages, type TrainingPages } from "./training-team";
 import { recordFieldCheck } from "./observations";
 
 // Every page of the app, as every role of an organisation of the tests' own, at a laptop's
@@ -68,9 +69,13 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
     `${proposalPath}/record`,
     ...DEVICE_SECTIONS.map((section) => `${device}/model/${section}`),
   ];
-  const gated = [...GATED.map((page) => ({ ...page, path: `${organisation}/${page.path}` })), { path: `${device}/proposals/new`, role: PAGE_ROLES.proposeChange }];
+  // Training (docs/decisions/016): every member reads scenarios and takes lessons; managing them
+  // needs the trainer capability, which in this team only the admin and the owner have (always).
+  const trainingPages = [training.scenario, `${training.scenario}/model/rules`, training.lesson, training.attempts[role]];
+  const trainerPages = [`${organisation}/training/scenarios/new`, `${organisation}/training/lessons/new`, `${training.lesson}/edit`, `${training.lesson}/present`].map((path) => ({ path, role: "admin" as const }));
+  const gated = [...GATED.map((page) => ({ ...page, path: `${organisation}/${page.path}` })), { path: `${device}/proposals/new`, role: PAGE_ROLES.proposeChange }, ...trainerPages];
   return {
-    open: [...everyone, ...gated.filter((page) => hasAtLeastRole(role, page.role)).map((page) => page.path), "/account", "/docs/api", ...devicePages],
+    open: [...everyone, ...trainingPages, ...gated.filter((page) => hasAtLeastRole(role, page.role)).map((page) => page.path), "/account", "/docs/api", ...devicePages],
     refused: gated.filter((page) => !hasAtLeastRole(role, page.role)).map((page) => page.path),
   };
 }
@@ -119,6 +124,8 @@ test.use({ trace: "off" });
 let team: Team;
 /** A proposal of the team's engineer, in review: its page and its draft's editor are swept too. */
 let proposalPath = "";
+/** A teaching scenario, a lesson on it and each member's attempt at it. */
+let training: TrainingPages;
 /** A field check the team's engineer recorded on the device: its page is swept too. */
 let fieldCheckPath = "";
 test.beforeAll(async ({ playwright }, testInfo) => {
@@ -126,13 +133,15 @@ test.beforeAll(async ({ playwright }, testInfo) => {
   if (!baseURL) throw new Error("no baseURL in playwright.config.ts");
   team = await createTeam(playwright.request, baseURL, "sweep");
   proposalPath = await createProposal(playwright.request, baseURL, team);
+  training = await createTrainingPages(playwright.request, baseURL, team);
   fieldCheckPath = await recordFieldCheck(playwright.request, baseURL, team);
 });
 
 for (const role of ROLES) {
   test(`Every page as ${role === "admin" || role === "owner" || role === "engineer" ? "an" : "a"} ${role}, at 1366 and 390 px, light and dark, fits the screen and passes axe`, async ({ browser, browserProblems }) => {
-    // About 40 s on a quiet machine; the bound leaves room for a busy one.
-    test.setTimeout(360_000);
+    // About 50 s on a quiet machine (with the training pages); the bound leaves room for a busy
+    // one — at a load average of 16–19 on 2 cores a role took up to 6 minutes.
+    test.setTimeout(600_000);
     // Reduced motion: colours switch at once with the scheme, so axe never measures a transition halfway.
     const context = await browser.newContext({ storageState: team.members[role].storageState, viewport: SIZES[0], reducedMotion: "reduce" });
     browserProblems.watch(context);

@@ -24,9 +24,11 @@ test("A demo engineer signs in, finds the app shell, and signs out", async ({ pa
   for (const item of ["Devices", "Sites", "Findings", "Training", "Settings"]) await expect(navigation.getByRole("link", { name: item })).toBeVisible();
   await screenshot(page, "02-sites");
 
+  // The Training page is the training home now (issue 12), pointing to the Trace tab's walkthrough too.
   await navigation.getByRole("link", { name: "Training" }).click();
-  await expect(page.getByRole("heading", { name: "Coming" })).toBeVisible();
-  await screenshot(page, "03-training-coming");
+  await expect(page.getByRole("heading", { name: "Training", level: 1 })).toBeVisible();
+  await expect(page.getByRole("heading", { name: "Walkthrough on a device" })).toBeVisible();
+  await screenshot(page, "03-training");
 
   await page.getByLabel("Account menu for Priya Nandakumar").click();
   await screenshot(page, "04-user-menu");

@@ -56,8 +56,8 @@ describe("The effect's example probes open the trace on the base and on the draf
     expect(await trace(probe)).toMatchObject({ outcome: "login-mfa", ruleId: "r1" });
     expect(await revisionCount(team.deviceId)).toBe(1);
 
-    // The trace page itself says what it traces, read-only, and traces the probe on it.
-    const tracePage = wordsOf((await reader.get(`${team.path}/analysis?${probe}&proposal=${proposalId}&side=draft`)).text);
+    // The trace page itself says what it traces, read-only, and traces the probe on it (the whole trace: a plain link opens the walkthrough at its first step).
+    const tracePage = wordsOf((await reader.get(`${team.path}/analysis?${probe}&proposal=${proposalId}&side=draft&reveal=all`)).text);
     expect(tracePage).toContain("Tracing a draft — not live");
     expect(tracePage).toMatch(/the draft of “ ?Deny first ?” \(version \d+, made on r ?1\)/);
     expect(tracePage).toContain("No answer: dropped by inbound rule r4");

@@ -17,7 +17,8 @@ type TraceState = {
   showResult: (answer: TraceAnswer | null, error: string | null) => void;
   chooseGroup: (index: number) => void;
   setStep: (step: number) => void;
-  reset: (probe: ProbeFields, answer: TraceAnswer | null, error: string | null) => void;
+  /** The page's first state: a link opens at the first step, unless it asks for the whole trace (`revealAll`). */
+  reset: (probe: ProbeFields, answer: TraceAnswer | null, error: string | null, revealAll: boolean) => void;
 };
 
 /** What the trace API answers: one trace for an address, groups for a CIDR block. */
@@ -48,5 +49,8 @@ export const useTraceStore = create<TraceState>((set) => ({
       return trace ? { group: index, trace, step: trace.layers.length } : {};
     }),
   setStep: (step) => set({ step }),
-  reset: (probe, answer, error) => set({ probe, ...shown(answer), error }),
+  reset: (probe, answer, error, revealAll) => {
+    const first = shown(answer);
+    set({ probe, ...first, step: revealAll ? first.step : 0, error });
+  },
 }));

@@ -8,6 +8,7 @@ import { FormError } from "#app/components/ui/field";
 import { severityRank } from "#server/engine/vocabulary";
 import { Time } from "#app/components/ui/time";
 import type { FindingView } from "#server/services/findings.server";
+import { witnessTracePath } from "#app/utils/trace-links";
 
 /** A finding as the device overview receives it from the loader. */
 export type FindingCardData = FindingView;
@@ -17,7 +18,7 @@ type Refusal = { ok: false; key: string; errors: Record<string, string>; values:
 
 /** The trace page's address for a witness probe: the same query the trace form writes. */
 export function tryItPath(devicePath: string, probe: NonNullable<FindingCardData["witness"]>["probe"]): string {
-  return `${devicePath}/analysis?${new URLSearchParams({ from: probe.from, interface: probe.interface, service: probe.service, to: probe.to, at: probe.at })}`;
+  return witnessTracePath(devicePath, probe);
 }
 
 /** Elements linked to their editors, the witness to try, and the published source (or "common practice"). */

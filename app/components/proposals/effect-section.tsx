@@ -19,6 +19,7 @@ import { ScrollArea } from "../ui/scroll-area";
 import { ExpectationStatusBadge } from "./expectation-status";
 import { EffectSpaceSection } from "./effect-space";
 import type { EffectSpaceChoice, EffectSpaceView } from "#server/analysis/effect-space";
+import { witnessQuery } from "#app/utils/trace-links";
 
 function Heading({ id, children }: { id: string; children: ReactNode }) {
   return (
@@ -59,7 +60,7 @@ export type TraceSides = { base: { path: string; label: string }; after: { path:
 /** "Trace on base r3 · Trace on draft": the example probe opened on the trace page against either side. */
 function TraceLinks({ probe, sides }: { probe: EffectWitness; sides: TraceSides | null }) {
   if (!sides) return null;
-  const query = new URLSearchParams({ from: probe.from, interface: probe.interface, service: probe.service, to: probe.to, at: probe.at }).toString();
+  const query = witnessQuery(probe);
   const what = `${probe.from} to ${probe.interface} ${probe.service}`;
   const linkClass = "text-harbour underline underline-offset-4";
   return (

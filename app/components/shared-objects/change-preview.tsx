@@ -12,6 +12,7 @@ import { formatCount } from "#server/engine/format";
 import type { ExposureChangeRow, FindingLine } from "#server/analysis/exposure-change";
 import type { DeviceEffect, SharedChangePreview } from "#server/services/shared-objects.server";
 import { CsvReport } from "./csv-report";
+import { witnessTracePath } from "#app/utils/trace-links";
 
 const PLURALS = new Intl.PluralRules("en");
 
@@ -34,7 +35,7 @@ function stretchWords(row: Pick<ExposureChangeRow, "start" | "end">): string {
 
 /** The trace page with the row's own probe filled in. */
 function tracePath(devicePath: string, witness: ExposureChangeRow["witness"]): string {
-  return `${devicePath}/analysis?${new URLSearchParams({ from: witness.from, interface: witness.interface, service: witness.service, to: witness.to, at: witness.at })}`;
+  return witnessTracePath(devicePath, witness);
 }
 
 function ChangeRow({ row, devicePath }: { row: ExposureChangeRow; devicePath: string }) {

@@ -9,7 +9,8 @@ import { appOrigin } from "#server/config.server";
 import { actorOf } from "#server/http/actor.server";
 import { fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
 import { EmailSchema, IdSchema, RoleSchema } from "#server/http/schemas";
-import { changeMemberRole, inviteMember, listMembers, listPendingInvitations, removeMember, revokeInvitation } from "#server/services/members.server";
+import { changeMemberRole, inviteMember, listMembers, listPendingInvitations, removeMember, revokeInvitation, setMemberTrainer } from "#server/services/members.server";
+import { mayManageTraining, ROLES_THAT_TRAIN } from "#models/roles";
 import { Badge, Card } from "#app/components/ui/card";
 import { Button } from "#app/components/ui/button";
 import { Dialog } from "#app/components/ui/dialog";
@@ -38,6 +39,7 @@ export async function loader({ context }: Route.LoaderArgs) {
 const InviteSchema = z.object({ email: EmailSchema, role: RoleSchema });
 const ChangeRoleSchema = z.object({ membershipId: IdSchema, role: RoleSchema });
 const MembershipSchema = z.object({ membershipId: IdSchema });
+const TrainerSchema = z.object({ membershipId: IdSchema, trainer: z.enum(["on", "off"], { message: "Choose whether they train." }) });
 const InvitationSchema = z.object({ invitationId: IdSchema });
 
 export async function action({ request, context }: Route.ActionArgs) {
@@ -60,6 +62,12 @@ export async function action({ request, context }: Route.ActionArgs) {
         await changeMemberRole(access.organisation, parsed.data.membershipId, parsed.data.role, actor);
         return back("Role changed.");
       }
+      case "set-trainer": {
+        const parsed = TrainerSchema.safeParse(values);
+        if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
+        await setMemberTrainer(access.organisation, parsed.data.membershipId, parsed.data.trainer === "on", actor);
+        return back(parsed.data.trainer === "on" ? "Trainer capability given: they manage scenarios, lessons and drills." : "Trainer capability taken away.");
+      }
       case "remove": {
         const parsed = MembershipSchema.safeParse(values);
         if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
@@ -81,6 +89,24 @@ export async function action({ request, context }: Route.ActionArgs) {
 }
 
 type Member = Route.ComponentProps["loaderData"]["members"][number];
+
+/** The trainer capability: a toggle for admins, words for everyone else; admins and owners have it always. */
+function TrainerCell({ member, canManage }: { member: Member; canManage: boolean }) {
+  if (ROLES_THAT_TRAIN.includes(member.role)) return <span className="text-sm text-ink-muted">always ({member.role})</span>;
+  const trains = mayManageTraining(member.role, member.trainer);
+  if (!canManage) return trains ? <Badge tone="brass">trainer</Badge> : <span className="text-sm text-ink-faint">no</span>;
+  return (
+    <Form method="post" className="flex items-center gap-2">
+      <input type="hidden" name="intent" value="set-trainer" />
+      <input type="hidden" name="membershipId" value={member.membershipId} />
+      <input type="hidden" name="trainer" value={trains ? "off" : "on"} />
+      {trains ? <Badge tone="brass">trainer</Badge> : null}
+      <Button type="submit" size="sm" variant="ghost" aria-label={trains ? `Stop ${member.name} training` : `Make ${member.name} a trainer`}>
+        {trains ? "Stop" : "Make trainer"}
+      </Button>
+    </Form>
+  );
+}
 
 export default function Members({ loaderData, actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
@@ -124,6 +150,7 @@ export default function Members({ loaderData, actionData }: Route.ComponentProps
               <Th>Name</Th>
               <Th>E-mail</Th>
               <Th>Role</Th>
+              <Th>Trainer</Th>
               {loaderData.canManage ? <Th className="text-right">Actions</Th> : null}
             </tr>
           </thead>
@@ -159,6 +186,9 @@ export default function Members({ loaderData, actionData }: Route.ComponentProps
                     ) : (
                       <Badge tone={member.role === "owner" ? "brass" : "harbour"}>{member.role}</Badge>
                     )}
+                  </Td>
+                  <Td>
+                    <TrainerCell member={member} canManage={loaderData.canManage} />
                   </Td>
                   {loaderData.canManage ? (
                     <Td className="text-right">
@@ -225,6 +255,10 @@ export default function Members({ loaderData, actionData }: Route.ComponentProps
               <dd className="text-ink-muted">{ROLE_DESCRIPTIONS[role]}</dd>
             </div>
           ))}
+          <div className="contents">
+            <dt className="font-medium">trainer</dt>
+            <dd className="text-ink-muted">A capability beside the role: manages training scenarios, lessons and drills, and sees trainees' results. Admins and owners have it always.</dd>
+          </div>
         </dl>
       </section>
 

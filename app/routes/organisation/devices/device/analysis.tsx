@@ -12,7 +12,8 @@ import { LayerCanvas, type CanvasModel } from "#app/components/analysis/layer-ca
 import { useTraceStore, type ProbeFields, type TraceAnswer } from "#app/components/analysis/trace-store";
 import { SourcesCell } from "#app/components/analysis/sources-cell";
 import { OutcomeChip } from "#app/components/outcome";
-import { isOutcome } from "#server/engine/vocabulary";
+import { isOutcome, LAYERS } from "#server/engine/vocabulary";
+import { VerdictBadge } from "#app/components/training/layer-steps";
 import { Button } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
 import { cx } from "#app/components/ui/cx";
@@ -66,6 +67,9 @@ export async function loader({ request, context }: Route.LoaderArgs) {
     subject: { query: subject.query, modelPath: subject.modelPath, note: subject.note },
     query,
     initial,
+    // A link opens the walkthrough at its first step, nothing revealed; a link that asks for the
+    // whole trace (`reveal=all`, as "trace this witness" links do) opens with every verdict shown.
+    revealAll: url.searchParams.get("reveal") === "all",
   };
 }
 
@@ -133,7 +137,7 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
   // asks the trace API, and the URL follows without a navigation so the query stays linkable.
   useEffect(() => {
     const fields = fieldsFrom(loaderData.query, fallback);
-    reset(fields, loaderData.initial.answer, loaderData.initial.error);
+    reset(fields, loaderData.initial.answer, loaderData.initial.error, loaderData.revealAll);
     lastQuery.current = queryOf(fields);
     // eslint-disable-next-line react-hooks/set-state-in-effect -- the first client render must match the server's HTML; only after it does the page switch to the store
     setMounted(true);
@@ -163,7 +167,7 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
   const initialTrace = initialAnswer === null ? null : "groups" in initialAnswer ? (initialAnswer.groups[0]?.trace ?? null) : initialAnswer;
   const shown = mounted
     ? { probe, trace: result, groups, group, error, step }
-    : { probe: fieldsFrom(loaderData.query, fallback), trace: initialTrace, groups: initialAnswer !== null && "groups" in initialAnswer ? initialAnswer : null, group: 0, error: loaderData.initial.error, step: initialTrace?.layers.length ?? 0 };
+    : { probe: fieldsFrom(loaderData.query, fallback), trace: initialTrace, groups: initialAnswer !== null && "groups" in initialAnswer ? initialAnswer : null, group: 0, error: loaderData.initial.error, step: loaderData.revealAll ? (initialTrace?.layers.length ?? 0) : 0 };
   const total = shown.trace?.layers.length ?? 0;
   const rulePosition = canvas.rules.find((rule) => rule.id === shown.trace?.ruleId)?.position;
   const input = "h-9 w-full rounded-control border border-line-strong bg-surface px-2 text-sm";
@@ -253,22 +257,30 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
           Show all
         </Button>
         <span className="text-sm text-ink-muted" aria-live="polite">
-          {shown.trace ? `Layer ${Math.min(shown.step, total)} of ${total}` : ""}
+          {shown.trace ? `Layer ${Math.min(shown.step, total)} of ${LAYERS.length}` : ""}
         </span>
       </div>
 
       {shown.trace ? (
         <Card className="p-5">
+          {/* All six layers at every step: which of them the probe reaches is only known once they are revealed. */}
           <ol className="space-y-2" aria-label="Layer verdicts">
-            {shown.trace.layers.map((layer, index) => (
-              <li key={layer.layer} className={cx("grid grid-cols-[9rem_6rem_1fr] items-baseline gap-3 text-sm max-sm:grid-cols-[minmax(0,1fr)_auto] max-sm:gap-x-3 max-sm:gap-y-0.5 max-sm:[&>:last-child]:col-span-2", index >= shown.step && "opacity-40")}>
-                <span className="font-medium">{LAYER_TITLES[layer.layer]}</span>
-                <span className={cx("w-fit rounded px-1.5 py-0.5 text-xs font-semibold", index >= shown.step ? "bg-surface-sunken text-ink-faint" : layer.result === "stop" ? "bg-danger-soft text-danger" : "bg-success-soft text-success")}>
-                  {index >= shown.step ? "?" : layer.result === "stop" ? "stops here" : "passes"}
-                </span>
-                <span className="text-ink-muted">{index >= shown.step ? "Predict this layer's verdict, then step on." : layer.detail}</span>
-              </li>
-            ))}
+            {LAYERS.map((layerName, index) => {
+              const layer = shown.trace?.layers[index];
+              const revealed = layer !== undefined && index < shown.step;
+              const unreached = layer === undefined && shown.step >= total;
+              return (
+                <li key={layerName} className={cx("grid grid-cols-[9rem_auto_1fr] items-baseline gap-3 text-sm max-sm:grid-cols-[minmax(0,1fr)_auto] max-sm:gap-x-3 max-sm:gap-y-0.5 max-sm:[&>:last-child]:col-span-2")}>
+                  <span className={cx("font-medium", !revealed && "text-ink-muted")}>{LAYER_TITLES[layerName]}</span>
+                  {revealed && layer ? (
+                    <VerdictBadge result={layer.result} outcome={layer.result === "stop" && shown.trace && isOutcome(shown.trace.outcome) ? shown.trace.outcome : null} />
+                  ) : (
+                    <span className="w-fit rounded bg-surface-sunken px-1.5 py-0.5 text-xs font-semibold text-ink-muted">{unreached ? "not reached" : "?"}</span>
+                  )}
+                  <span className="text-ink-muted">{revealed && layer ? layer.detail : unreached ? "The probe never gets here: an earlier layer decided." : "Predict this layer's verdict, then step on."}</span>
+                </li>
+              );
+            })}
           </ol>
           {shown.step >= total && isOutcome(shown.trace.outcome) ? (
             <div className="mt-4 flex flex-wrap items-center gap-3 border-t border-line pt-4" aria-label="Outcome">

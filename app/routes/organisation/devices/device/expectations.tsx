@@ -21,6 +21,7 @@ import { EmptyState } from "#app/components/ui/empty-state";
 import { FormError, SelectField, TextField } from "#app/components/ui/field";
 import { Time } from "#app/components/ui/time";
 import { EXPECTATION_STATUS } from "#app/components/proposals/expectation-status";
+import { witnessTracePath } from "#app/utils/trace-links";
 
 export const meta: Route.MetaFunction = () => [{ title: "Expectations · Sallyport" }];
 
@@ -113,7 +114,7 @@ type Item = Route.ComponentProps["loaderData"]["items"][number];
 
 /** The trace page's address for a witness: the same query the trace form writes. */
 function tryItPath(devicePath: string, witness: ExpectationWitness): string {
-  return `${devicePath}/analysis?${new URLSearchParams({ from: witness.from, interface: witness.interface, service: witness.service, ...(witness.to ? { to: witness.to } : {}), at: witness.at })}`;
+  return witnessTracePath(devicePath, witness);
 }
 
 const STATUS = EXPECTATION_STATUS;
