@@ -244,6 +244,24 @@ describe("The runtime role cannot forge or rewrite the chain", () => {
     expect((await verifyAuditChains(sequelize, { chain: organisationId })).breaks).toEqual([]);
   });
 
+  test("Its privileges on the audit tables are exactly: insert and read the log, read the heads", async () => {
+    const privileges = ["SELECT", "INSERT", "UPDATE", "DELETE", "TRUNCATE", "REFERENCES", "TRIGGER"];
+    const one = async (sql: string) => (await runtime.query<Record<string, boolean>>(sql, { type: QueryTypes.SELECT }))[0];
+    const granted = async (table: string) => {
+      const row = await one(`SELECT ${privileges.map((privilege) => `has_table_privilege(current_user, '${table}', '${privilege}') AS "${privilege}"`).join(", ")}`);
+      return privileges.filter((privilege) => row[privilege]);
+    };
+    expect(await granted("audit_events")).toEqual(["SELECT", "INSERT"]);
+    expect(await granted("audit_chain_heads")).toEqual(["SELECT"]);
+    // It owns neither table nor any of the chain's functions, so it can alter or replace none of them.
+    const owned = await runtime.query<{ name: string }>(
+      `SELECT c.relname AS name FROM pg_class c WHERE c.relname IN ('audit_events', 'audit_chain_heads') AND pg_get_userbyid(c.relowner) = current_user
+       UNION ALL SELECT p.proname FROM pg_proc p WHERE p.proname LIKE 'audit%' AND pg_get_userbyid(p.proowner) = current_user`,
+      { type: QueryTypes.SELECT },
+    );
+    expect(owned).toEqual([]);
+  });
+
   test("It reads the chains' heads but cannot write them, and cannot change the chaining", async () => {
     await expect(runtime.query("SELECT count(*) FROM audit_chain_heads")).resolves.toBeDefined();
     for (const statement of [
