@@ -16,6 +16,9 @@ export function runtimeRoleOf(runtimeUrl: string, ownerUrl: string): string | nu
 /** Tables the runtime role may only insert into and read. */
 export const APPEND_ONLY_TABLES = ["audit_events"] as const;
 
+/** Tables the runtime role may only read: the audit chains' heads, written by the owner's trigger alone (docs/decisions/020). */
+export const READ_ONLY_TABLES = ["audit_chain_heads"] as const;
+
 /** Idempotent: run after every migration, so new tables are covered and nothing more is granted. */
 export async function grantRuntimeRole(sequelize: Sequelize, role: string): Promise<void> {
   await sequelize.query(`
@@ -26,5 +29,6 @@ export async function grantRuntimeRole(sequelize: Sequelize, role: string): Prom
     REVOKE TRUNCATE, REFERENCES, TRIGGER ON ALL TABLES IN SCHEMA public FROM ${role};
     GRANT USAGE, SELECT ON ALL SEQUENCES IN SCHEMA public TO ${role};
     ${APPEND_ONLY_TABLES.map((table) => `REVOKE UPDATE, DELETE ON ${table} FROM ${role};`).join("\n    ")}
+    ${READ_ONLY_TABLES.map((table) => `REVOKE INSERT, UPDATE, DELETE ON ${table} FROM ${role};`).join("\n    ")}
   `);
 }

@@ -287,3 +287,49 @@ stop_local_services() {
     ok "PostgreSQL is not running"
   fi
 }
+
+# Runs a PostgreSQL client program (pg_dump, pg_restore, psql) against URL, with the connection in
+# libpq's environment variables so the password never shows on a command line (ps lists those).
+with_database_url() {
+  local url="$1"; shift
+  local parts=()
+  mapfile -t parts < <(node -e '
+    const url = new URL(process.argv[1]);
+    const part = (value) => decodeURIComponent(value);
+    console.log([part(url.hostname).replace(/^\[|\]$/g, ""), url.port || "5432", part(url.username), part(url.password), part(url.pathname.slice(1))].join("\n"));
+  ' "$url") || fail "not a postgres:// URL: the database URL" "check DATABASE_URL / MIGRATION_DATABASE_URL"
+  PGHOST="${parts[0]}" PGPORT="${parts[1]}" PGUSER="${parts[2]}" PGPASSWORD="${parts[3]}" PGDATABASE="${parts[4]}" "$@"
+}
+
+# The client programs of the local PostgreSQL (same major version as the cluster, so pg_dump
+# can read it), or of the system when DATABASE_URL names another server.
+pg_client_bin() {
+  if [ -n "${PG_BIN:-}" ]; then echo "$PG_BIN"; return; fi
+  local dir
+  dir=$(ls -d /usr/lib/postgresql/*/bin 2>/dev/null | sort -V | tail -n 1)
+  if [ -n "$dir" ]; then echo "$dir"; else dirname "$(command -v pg_dump || fail "pg_dump not found" "apt-get install postgresql-client")"; fi
+}
+
+# The database a backup or restore works on: the owner role's URL (it owns every object).
+backup_database_url() {
+  echo "${MIGRATION_DATABASE_URL:-$DATABASE_URL}"
+}
+
+# pg_dump's custom format (compressed; pg_restore can list and pick from it) of the database
+# at URL into DIR, as sallyport-NAME-YYYYMMDDTHHMMSSZ[-LABEL].dump; prints the file's path.
+# Written under a temporary name first, so a file with the final name is always complete.
+dump_database() {
+  local url="$1" dir="$2" label="${3:-}"
+  local name stamp file bin
+  name=$(node -e 'console.log(decodeURIComponent(new URL(process.argv[1]).pathname.slice(1)))' "$url")
+  stamp=$(date -u +%Y%m%dT%H%M%SZ)
+  file="$dir/sallyport-$name-$stamp${label:+-$label}.dump"
+  bin=$(pg_client_bin)
+  mkdir -p "$dir"
+  chmod 700 "$dir"
+  [ ! -e "$file" ] || fail "$file already exists" "wait a second and run it again"
+  (umask 077 && with_database_url "$url" "$bin/pg_dump" --format=custom --no-password --file="$file.partial") \
+    || { rm -f "$file.partial"; fail "pg_dump failed for database $name" "read the error above"; }
+  mv "$file.partial" "$file"
+  echo "$file"
+}
