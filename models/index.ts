@@ -28,7 +28,7 @@ export type { ThrottleScope } from "./sign-in-attempt.ts";
 export type { ApiTokenKind, ApiTokenScope } from "./api-token.ts";
 export { ChangeProposal, ProposalComment, ProposalEdit, ProposalReview };
 export { TrainingAssignment, TrainingAttempt, TrainingDrill, TrainingLesson, TrainingPrediction, TrainingScenario };
-export type { ScenarioOrigin } from "./training.ts";
+export type { DrillKind, ScenarioOrigin } from "./training.ts";
 export { FIELD_CHECK_SOURCES, type FieldCheckSource } from "./field-check.ts";
 export { ApiToken, AuditEvent, Device, DeviceExpectation, DeviceRevision, EmailChange, FieldCheckRecord, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
 

@@ -198,7 +198,7 @@ export class TrainingDrill extends Model<InferAttributes<TrainingDrill>, InferCr
   declare seed: CreationOptional<number>;
   declare count: CreationOptional<number>;
   declare goals: CreationOptional<unknown[]>;
-  declare answer: CreationOptional<unknown>;
+  declare answer: CreationOptional<Record<string, unknown> | null>;
   declare version: CreationOptional<number>;
   declare createdByUserId: string | null;
   declare createdByEmail: string;
