@@ -179,8 +179,8 @@ export class TrainingPrediction extends Model<InferAttributes<TrainingPrediction
   }
 }
 
-export const DRILL_KINDS = ["predict", "spot", "fix", "order"] as const;
-export type DrillKind = (typeof DRILL_KINDS)[number];
+import { DRILL_KINDS, type DrillKind } from "./training-kinds.ts";
+export { DRILL_KINDS, type DrillKind };
 
 /**
  * A graded exercise on a scenario. A predict drill's probes come from its seed and count

@@ -1,5 +1,5 @@
 // The drill kinds in the product's own words (docs/decisions/016, "Drills"). Pure.
-import type { DrillKind } from "#models/training";
+import type { DrillKind } from "#models/training-kinds";
 
 export const DRILL_KIND_LABELS: Record<DrillKind, string> = {
   predict: "Call the outcome",

@@ -3,7 +3,7 @@
 import { z } from "zod";
 import { ProbeQuerySchema } from "../analysis/probe.ts";
 import { ALL_WEEK, LAYERS, OUTCOMES, ProbeExpectationSchema, type Layer } from "../engine/index.ts";
-import { DRILL_KINDS } from "#models/training.ts";
+import { DRILL_KINDS } from "#models/training-kinds.ts";
 import { MAX_DRILL_GOALS, MAX_DRILL_PROBES, type DrillGoal } from "./drills.ts";
 import { IdSchema } from "../http/schemas.ts";
 import { MAX_LESSON_STEPS, MAX_NOTE_LENGTH, type LessonNotes } from "./lessons.ts";

@@ -10,7 +10,7 @@ import { listScenarios } from "#server/services/training-scenarios.server";
 import { requireTrainer } from "#server/training/access.server";
 import { trainingPath } from "#server/training/routes.server";
 import { NewDrillSchema } from "#server/training/schemas";
-import { DRILL_KINDS } from "#models/training";
+import { DRILL_KINDS } from "#models/training-kinds";
 import { PageErrorBoundary } from "#app/components/error-panel";
 import { TextAreaField } from "#app/components/device/editor-kit";
 import { Button, ButtonLink } from "#app/components/ui/button";
