@@ -113,7 +113,7 @@ function probeWords(probe: { from: string; interface: string; service: string; t
 }
 
 function Mark({ ok, children }: { ok: boolean; children: string }) {
-  return <span className={cx("rounded-full border px-2 text-xs font-medium", ok ? "border-success text-success" : "border-danger text-danger")}>{`${ok ? "right" : "wrong"}: ${children}`}</span>;
+  return <span className={cx("rounded-full border px-2 text-xs font-medium", ok ? "border-success text-success" : "border-danger text-danger")}>{`${ok ? "right" : "wrong — it is"}: ${children}`}</span>;
 }
 
 function Predict({ data, view, errors, values, busy }: { data: Data; view: Extract<Data["view"], { kind: "predict" }>; errors: Record<string, string>; values: Record<string, string>; busy: boolean }) {

@@ -323,7 +323,7 @@ export default function DrillEdit({ loaderData, actionData }: Route.ComponentPro
             <p className="mt-1 text-sm text-ink-muted">
               A copy of the scenario edited to the right fix. A trainee's model is compared with it by effect: any source whose outcome differs is collateral change. Against the scenario: {answer.headline}
             </p>
-            <ButtonLink className="mt-3" variant="secondary" to={`${data.drillPath}/answer/rules`}>
+            <ButtonLink className="mt-3" variant="secondary" to={`${data.drillPath}/answer/model/rules`}>
               Edit the answer model
             </ButtonLink>
           </Card>
