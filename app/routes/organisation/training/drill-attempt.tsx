@@ -221,6 +221,19 @@ function Spot({ data, view, errors, busy }: { data: Data; view: Extract<Data["vi
   );
 }
 
+/** The button that has the engine grade the trainee's model as it stands. */
+function CheckForm({ intent, label, error, busy }: { intent: string; label: string; error?: string; busy: boolean }) {
+  return (
+    <Form method="post" className="mt-4">
+      <input type="hidden" name="intent" value={intent} />
+      <FormError message={error} />
+      <Button type="submit" disabled={busy}>
+        {label}
+      </Button>
+    </Form>
+  );
+}
+
 function Fix({ data, view, errors, busy }: { data: Data; view: Extract<Data["view"], { kind: "fix" }>; errors: Record<string, string>; busy: boolean }) {
   const last = view.checks.at(-1);
   return (
@@ -240,13 +253,7 @@ function Fix({ data, view, errors, busy }: { data: Data; view: Extract<Data["vie
           ))}
         </nav>
         {data.mine && !data.score.finished ? (
-          <Form method="post" className="mt-4">
-            <input type="hidden" name="intent" value="check-fix" />
-            <FormError message={errors.form} />
-            <Button type="submit" disabled={busy}>
-              Check my fix
-            </Button>
-          </Form>
+          <CheckForm intent="check-fix" label="Check my fix" error={errors.form} busy={busy} />
         ) : null}
       </Card>
       {last ? (
@@ -285,13 +292,7 @@ function Order({ data, view, errors, busy }: { data: Data; view: Extract<Data["v
           </ol>
         )}
         {editable ? (
-          <Form method="post" className="mt-4">
-            <input type="hidden" name="intent" value="check-order" />
-            <FormError message={errors.form} />
-            <Button type="submit" disabled={busy}>
-              Check this order
-            </Button>
-          </Form>
+          <CheckForm intent="check-order" label="Check this order" error={errors.form} busy={busy} />
         ) : null}
       </Card>
       {last ? (
