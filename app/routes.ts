@@ -67,6 +67,12 @@ export default [
       route("lessons/:lesson/edit", "routes/organisation/training/lesson-edit.tsx"),
       route("lessons/:lesson/present", "routes/organisation/training/lesson-present.tsx"),
       route("attempts/:attempt", "routes/organisation/training/attempt.tsx"),
+      route("drills/new", "routes/organisation/training/drill-new.tsx"),
+      route("drills/attempts/:attempt", "routes/organisation/training/drill-attempt.tsx"),
+      route("drills/attempts/:attempt/model/:section", "routes/organisation/training/drill-attempt-section.tsx"),
+      route("drills/:drill", "routes/organisation/training/drill.tsx"),
+      route("drills/:drill/edit", "routes/organisation/training/drill-edit.tsx"),
+      route("drills/:drill/answer/model/:section", "routes/organisation/training/drill-answer-section.tsx"),
     ]),
     route("account", "routes/organisation/account.tsx"),
     ...prefix("settings", [

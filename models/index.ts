@@ -21,14 +21,14 @@ import { SharedAddressObject } from "./shared-address-object.ts";
 import { SignInAttempt } from "./sign-in-attempt.ts";
 import { Site } from "./site.ts";
 import { User } from "./user.ts";
-import { initTrainingModels, TrainingAttempt, TrainingLesson, TrainingPrediction, TrainingScenario } from "./training.ts";
+import { initTrainingModels, TrainingAssignment, TrainingAttempt, TrainingDrill, TrainingLesson, TrainingPrediction, TrainingScenario } from "./training.ts";
 
 export type { RevisionSummaryRecord, SharedObjectsSnapshot } from "./device-revision.ts";
 export type { ThrottleScope } from "./sign-in-attempt.ts";
 export type { ApiTokenKind, ApiTokenScope } from "./api-token.ts";
 export { ChangeProposal, ProposalComment, ProposalEdit, ProposalReview };
-export { TrainingAttempt, TrainingLesson, TrainingPrediction, TrainingScenario };
-export type { ScenarioOrigin } from "./training.ts";
+export { TrainingAssignment, TrainingAttempt, TrainingDrill, TrainingLesson, TrainingPrediction, TrainingScenario };
+export type { DrillKind, ScenarioOrigin } from "./training.ts";
 export { FIELD_CHECK_SOURCES, type FieldCheckSource } from "./field-check.ts";
 export { ApiToken, AuditEvent, Device, DeviceExpectation, DeviceRevision, EmailChange, FieldCheckRecord, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
 

@@ -45,6 +45,9 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "training.lesson-created": "Lesson created",
   "training.lesson-changed": "Lesson changed",
   "training.lesson-deleted": "Lesson deleted",
+  "training.drill-created": "Drill created",
+  "training.drill-changed": "Drill changed",
+  "training.drill-deleted": "Drill deleted",
   "shared-object.created": "Shared object created",
   "shared-object.updated": "Shared object changed",
   "shared-object.deleted": "Shared object deleted",
@@ -79,6 +82,7 @@ export const AUDIT_TARGET_LABELS: Record<AuditTargetType, string> = {
   "api-token": "API token",
   "training-scenario": "Teaching scenario",
   "training-lesson": "Lesson",
+  "training-drill": "Drill",
 };
 
 /** The label of a stored action; a code this version does not know is shown as it is. */
@@ -183,6 +187,9 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "training.lesson-created": (c, target) => `Created lesson ${quoted(c.title, target)} on ${quoted(c.scenario)} with ${plural(typeof c.probes === "number" ? c.probes : 0, { one: "probe", other: "probes" })}`,
   "training.lesson-changed": (c, target) => `Changed lesson ${quoted(isFromTo(c.title) ? c.title.to : c.title, target)}: ${word(c.edit)}`,
   "training.lesson-deleted": (c, target) => `Deleted lesson ${quoted(c.title, target)} and its ${plural(typeof c.attempts === "number" ? c.attempts : 0, { one: "attempt", other: "attempts" })}`,
+  "training.drill-created": (c, target) => `Created drill ${quoted(c.title, target)} (${word(c.kind)}) on ${quoted(c.scenario)}`,
+  "training.drill-changed": (c, target) => `Changed drill ${quoted(isFromTo(c.title) ? c.title.to : c.title, target)}: ${word(c.edit)}`,
+  "training.drill-deleted": (c, target) => `Deleted drill ${quoted(c.title, target)} and its ${plural(typeof c.attempts === "number" ? c.attempts : 0, { one: "attempt", other: "attempts" })}`,
   "shared-object.created": (c, target) => `Created shared ${c.kind === "group" ? "group" : "address object"} ${quoted(target)}: ${valueText(c.items)}${breakGlassWords(c)}`,
   "shared-object.updated": (c, target) => {
     const changed = fieldChanges(c);

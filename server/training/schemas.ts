@@ -2,7 +2,9 @@
 // Pure, so the routes and the tests share them.
 import { z } from "zod";
 import { ProbeQuerySchema } from "../analysis/probe.ts";
-import { LAYERS, type Layer } from "../engine/index.ts";
+import { ALL_WEEK, LAYERS, OUTCOMES, ProbeExpectationSchema, type Layer } from "../engine/index.ts";
+import { DRILL_KINDS } from "#models/training-kinds.ts";
+import { MAX_DRILL_GOALS, MAX_DRILL_PROBES, type DrillGoal } from "./drills.ts";
 import { IdSchema } from "../http/schemas.ts";
 import { MAX_LESSON_STEPS, MAX_NOTE_LENGTH, type LessonNotes } from "./lessons.ts";
 
@@ -89,3 +91,60 @@ export const StepFormSchema = z.record(z.string(), z.string()).transform((values
 });
 
 export const StepIndexSchema = z.coerce.number({ message: "That probe is not in the lesson." }).int().min(0).max(MAX_LESSON_STEPS - 1);
+
+// ---------------------------------------------------------------------------------------------
+// Drills (docs/decisions/016, "Drills")
+
+const SeedSchema = z.coerce.number({ message: "Enter a whole number from 1 to 2147483647." }).int("Enter a whole number from 1 to 2147483647.").min(1, "Enter a whole number from 1 to 2147483647.").max(2147483647, "Enter a whole number from 1 to 2147483647.");
+const CountSchema = z.coerce.number({ message: `Enter a number of probes from 1 to ${MAX_DRILL_PROBES}.` }).int(`Enter a number of probes from 1 to ${MAX_DRILL_PROBES}.`).min(1, `Enter a number of probes from 1 to ${MAX_DRILL_PROBES}.`).max(MAX_DRILL_PROBES, `Enter a number of probes from 1 to ${MAX_DRILL_PROBES}.`);
+
+export const DrillDetailsSchema = z.object({
+  title: lineText("a title", 100),
+  introduction: paragraphText(4000),
+  seed: z.preprocess((value) => (value === "" || value === undefined ? "1" : value), SeedSchema),
+  count: z.preprocess((value) => (value === "" || value === undefined ? "10" : value), CountSchema),
+});
+
+export const NewDrillSchema = DrillDetailsSchema.extend({
+  scenarioId: z.string({ message: "Choose a scenario." }).uuid("Choose a scenario."),
+  kind: z.enum(DRILL_KINDS, { message: "Choose what kind of drill." }),
+});
+
+const capitalised = (text: string) => text.charAt(0).toUpperCase() + text.slice(1) + (text.endsWith(".") ? "" : ".");
+
+/** A goal's form (probe → outcome): read through the engine's own probe expectation schema, messages beside each field. */
+export const GoalFormSchema = z.record(z.string(), z.string()).transform((values, context): DrillGoal => {
+  const input = {
+    id: values.goalId ?? "goal",
+    kind: "probe",
+    from: values.from ?? "",
+    interface: (values.interface ?? "").trim(),
+    service: (values.service ?? "").trim(),
+    ...(values.to?.trim() ? { to: values.to.trim() } : {}),
+    when: values.when?.trim() || ALL_WEEK,
+    expect: values.expect ?? "",
+  };
+  const parsed = ProbeExpectationSchema.safeParse(input);
+  if (!parsed.success) {
+    for (const issue of parsed.error.issues) context.addIssue({ code: "custom", path: issue.path, message: capitalised(issue.message) });
+    return z.NEVER;
+  }
+  return parsed.data;
+});
+
+export const GoalIndexSchema = z.coerce.number({ message: "That goal is not in the drill." }).int().min(0).max(MAX_DRILL_GOALS - 1);
+
+export const PredictAnswerSchema = z.object({
+  index: z.coerce.number({ message: "That probe is not in the drill." }).int().min(0).max(MAX_DRILL_PROBES - 1),
+  outcome: z.enum(OUTCOMES, { message: "Choose the outcome." }),
+  layer: z.enum(LAYERS, { message: "Choose the layer that decides." }),
+});
+
+export const SpotAnswerSchema = z.object({ element: z.string({ message: "Pick the element that causes the finding." }).min(1, "Pick the element that causes the finding.").max(200, "Pick one of the model's elements.") });
+
+export const MoveRuleSchema = z.object({
+  ruleId: z.string().min(1).max(200),
+  direction: z.enum(["up", "down"], { message: "Move a rule up or down." }),
+});
+
+export const SpotFindingSchema = z.object({ findingKey: z.string({ message: "Choose a finding." }).min(1, "Choose a finding.").max(1000, "Choose a finding.") });

@@ -2,13 +2,13 @@ import { NavLink } from "react-router";
 import { DEVICE_SECTIONS, SECTION_TITLES } from "#app/components/device/sections";
 import { cx } from "#app/components/ui/cx";
 
-/** A scenario's tabs: its overview, then the device editor's sections. */
-export function ScenarioNav({ scenarioPath }: { scenarioPath: string }) {
+/** A scenario's tabs: its overview, then the device editor's sections (also a drill's answer model and a trainee's sandbox copy, with their own way back). */
+export function ScenarioNav({ scenarioPath, overview = { path: scenarioPath, label: "Overview" }, label = "Scenario sections" }: { scenarioPath: string; overview?: { path: string; label: string }; label?: string }) {
   const tab = ({ isActive }: { isActive: boolean }) => cx("-mb-px border-b-2 px-2 py-2 text-sm font-medium whitespace-nowrap", isActive ? "border-brass text-brass" : "border-transparent text-ink-muted hover:text-ink");
   return (
-    <nav aria-label="Scenario sections" className="mb-5 flex flex-wrap gap-1 border-b border-line">
-      <NavLink to={scenarioPath} end className={tab}>
-        Overview
+    <nav aria-label={label} className="mb-5 flex flex-wrap gap-1 border-b border-line">
+      <NavLink to={overview.path} end className={tab}>
+        {overview.label}
       </NavLink>
       {DEVICE_SECTIONS.map((section) => (
         <NavLink key={section} to={`${scenarioPath}/model/${section}`} className={tab}>

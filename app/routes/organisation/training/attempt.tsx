@@ -32,6 +32,8 @@ export async function loader({ request, params, context }: Route.LoaderArgs) {
   const attemptId = trainingIdOf(params.attempt, "attempt");
   try {
     const attempt = await findAttempt({ organisationId: access.organisation.id, attemptId }, { userId: access.user.id, trainer: access.trainer });
+    // A drill's attempt has its own page (its script is a drill's).
+    if (attempt.kind === "drill") return redirect(trainingPath(access.organisation.slug, "drills", "attempts", attempt.id));
     const view = attemptView(scriptOfAttempt(attempt), await predictionsOf(attempt), probeOf(new URL(request.url)));
     const mine = attempt.userId === access.user.id;
     const ownerName = mine ? null : await attemptOwnerName(attempt);

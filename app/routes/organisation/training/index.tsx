@@ -4,12 +4,14 @@ import { requireLearner } from "#server/training/access.server";
 import { TRAINING_EXAMPLES } from "#server/training/examples";
 import { listDeviceNames, listScenarios } from "#server/services/training-scenarios.server";
 import { listLessons } from "#server/services/training-lessons.server";
+import { listDrills } from "#server/services/training-drills.server";
 import { LAYER_LABELS } from "#server/engine/vocabulary";
 import { PageErrorBoundary } from "#app/components/error-panel";
 import { ButtonLink } from "#app/components/ui/button";
 import { Badge, Card, PageHeader } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
 import { MarkdownText } from "#app/components/markdown";
+import { DRILL_KIND_LABELS } from "#app/utils/drill-words";
 
 export const meta: Route.MetaFunction = () => [{ title: "Training · Sallyport" }];
 
@@ -18,12 +20,13 @@ export const ErrorBoundary = PageErrorBoundary;
 
 export async function loader({ context }: Route.LoaderArgs) {
   const access = requireLearner(context);
-  const [scenarios, devices, lessons] = await Promise.all([listScenarios(access.organisation.id), listDeviceNames(access.organisation.id), listLessons(access.organisation.id)]);
+  const [scenarios, devices, lessons, drills] = await Promise.all([listScenarios(access.organisation.id), listDeviceNames(access.organisation.id), listLessons(access.organisation.id), listDrills(access.organisation.id)]);
   return {
     base: `/o/${access.organisation.slug}`,
     trainer: access.trainer,
     scenarios,
     lessons,
+    drills,
     devices: devices.slice(0, 12),
     moreDevices: devices.length > 12,
     examples: TRAINING_EXAMPLES.map((example) => ({ key: example.key, title: example.title, summary: example.summary, teaches: LAYER_LABELS[example.teaches] })),
@@ -31,7 +34,7 @@ export async function loader({ context }: Route.LoaderArgs) {
 }
 
 export default function Training({ loaderData }: Route.ComponentProps) {
-  const { base, trainer, scenarios, lessons, devices, examples } = loaderData;
+  const { base, trainer, scenarios, lessons, drills, devices, examples } = loaderData;
   return (
     <>
       <PageHeader
@@ -42,6 +45,9 @@ export default function Training({ loaderData }: Route.ComponentProps) {
             <>
               <ButtonLink variant="secondary" to={`${base}/training/scenarios/new`}>
                 New scenario
+              </ButtonLink>
+              <ButtonLink variant="secondary" to={`${base}/training/drills/new`}>
+                New drill
               </ButtonLink>
               <ButtonLink to={`${base}/training/lessons/new`}>New lesson</ButtonLink>
             </>
@@ -65,6 +71,31 @@ export default function Training({ loaderData }: Route.ComponentProps) {
                     </Link>
                     <p className="mt-1 text-sm text-ink-muted">
                       {lesson.probes} {lesson.probes === 1 ? "probe" : "probes"} on {lesson.scenarioTitle}
+                    </p>
+                  </Card>
+                </li>
+              ))}
+            </ul>
+          )}
+        </section>
+
+        <section aria-labelledby="drills-heading">
+          <h2 id="drills-heading" className="mb-3 text-sm font-semibold">
+            Drills
+          </h2>
+          <p className="mb-3 max-w-3xl text-sm text-ink-muted">Exercises the engine grades by itself: call the outcome of generated probes, find the cause of a finding, repair a model until its goals hold, or put rules in order.</p>
+          {drills.length === 0 ? (
+            <EmptyState title="No drills yet">{trainer ? "Make one on a teaching scenario with New drill." : "A trainer makes them; they appear here."}</EmptyState>
+          ) : (
+            <ul className="grid gap-3 md:grid-cols-2">
+              {drills.map((drill) => (
+                <li key={drill.id}>
+                  <Card className="h-full p-4">
+                    <Link to={`${base}/training/drills/${drill.id}`} className="font-medium text-harbour underline underline-offset-4">
+                      {drill.title}
+                    </Link>
+                    <p className="mt-1 text-sm text-ink-muted">
+                      {DRILL_KIND_LABELS[drill.kind]} on {drill.scenarioTitle}
                     </p>
                   </Card>
                 </li>
