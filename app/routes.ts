@@ -67,6 +67,13 @@ export default [
       route("lessons/:lesson/edit", "routes/organisation/training/lesson-edit.tsx"),
       route("lessons/:lesson/present", "routes/organisation/training/lesson-present.tsx"),
       route("attempts/:attempt", "routes/organisation/training/attempt.tsx"),
+      // Assignments and progress (issue 12 point 5).
+      route("mine", "routes/organisation/training/mine.tsx"),
+      route("assignments", "routes/organisation/training/assignments.tsx"),
+      route("assignments/new", "routes/organisation/training/assignment-new.tsx"),
+      route("assignments/:assignment", "routes/organisation/training/assignment.tsx"),
+      route("progress", "routes/organisation/training/progress.tsx"),
+      route("progress.csv", "routes/organisation/training/progress.csv.ts"),
     ]),
     route("account", "routes/organisation/account.tsx"),
     ...prefix("settings", [
