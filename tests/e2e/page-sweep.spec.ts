@@ -71,8 +71,16 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
   ];
   // Training (docs/decisions/016): every member reads scenarios and takes lessons; managing them
   // needs the trainer capability, which in this team only the admin and the owner have (always).
-  const trainingPages = [training.scenario, `${training.scenario}/model/rules`, training.lesson, training.attempts[role]];
-  const trainerPages = [`${organisation}/training/scenarios/new`, `${organisation}/training/lessons/new`, `${training.lesson}/edit`, `${training.lesson}/present`].map((path) => ({ path, role: "admin" as const }));
+  const trainingPages = [training.scenario, `${training.scenario}/model/rules`, training.lesson, training.attempts[role], `${organisation}/training/mine`, training.assignments[role]];
+  const trainerPages = [
+    `${organisation}/training/scenarios/new`,
+    `${organisation}/training/lessons/new`,
+    `${training.lesson}/edit`,
+    `${training.lesson}/present`,
+    `${organisation}/training/assignments`,
+    `${organisation}/training/assignments/new`,
+    `${organisation}/training/progress`,
+  ].map((path) => ({ path, role: "admin" as const }));
   const gated = [...GATED.map((page) => ({ ...page, path: `${organisation}/${page.path}` })), { path: `${device}/proposals/new`, role: PAGE_ROLES.proposeChange }, ...trainerPages];
   return {
     open: [...everyone, ...trainingPages, ...gated.filter((page) => hasAtLeastRole(role, page.role)).map((page) => page.path), "/account", "/docs/api", ...devicePages],

@@ -1,5 +1,8 @@
+import { Link } from "react-router";
 import { ASSIGNMENT_STATE_LABELS, type AssignmentState } from "#server/training/progress";
 import { Badge } from "#app/components/ui/card";
+import { Td } from "#app/components/ui/table";
+import { Time } from "#app/components/ui/time";
 
 // Where an assignment stands, in words (never colour alone): done, done late, in progress or not
 // started, and "overdue" beside an unfinished one past its due date.
@@ -18,4 +21,25 @@ export function AssignmentStatusBadge({ status }: { status: { state: AssignmentS
 export function scoreWords(status: { state: AssignmentState; points: number | null; possible: number | null }): string {
   if (status.points === null || status.possible === null || status.possible === 0) return "—";
   return `${status.points} of ${status.possible}${status.state === "in-progress" ? " so far" : ""}`;
+}
+
+/** An assignment's cells in a table row: what (linked to the assignment), due, status, score. */
+export function AssignmentCells({ assignment, now }: { assignment: { path: string; title: string; kind: string; dueAt: string; status: Parameters<typeof AssignmentStatusBadge>[0]["status"] }; now: string }) {
+  return (
+    <>
+      <Td>
+        <Link to={assignment.path} className="font-medium text-harbour underline underline-offset-4">
+          {assignment.title}
+        </Link>{" "}
+        <span className="text-xs text-ink-muted">({assignment.kind})</span>
+      </Td>
+      <Td className="text-ink-muted">
+        <Time at={assignment.dueAt} now={now} />
+      </Td>
+      <Td>
+        <AssignmentStatusBadge status={assignment.status} />
+      </Td>
+      <Td className="tabular">{scoreWords(assignment.status)}</Td>
+    </>
+  );
 }

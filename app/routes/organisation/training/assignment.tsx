@@ -1,12 +1,9 @@
 import { Form, Link, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/assignment";
-import { serializeFlash } from "#server/auth/flash.server";
-import { actorOf } from "#server/http/actor.server";
 import { formValues, readForm, unknownIntent } from "#server/http/form.server";
 import { refusedForm, refusedPage } from "#server/http/refusals.server";
-import { clientAddressOf } from "#server/http/request-context.server";
-import { assignmentRow, assignmentView, startAssignedLesson, withdrawAssignment } from "#server/services/training-assignments.server";
-import { requireLearner, requireTrainer } from "#server/training/access.server";
+import { assignmentRow, assignmentView, startAssignedLesson } from "#server/services/training-assignments.server";
+import { requireLearner } from "#server/training/access.server";
 import { trainingIdOf, trainingPath } from "#server/training/routes.server";
 import { PageErrorBoundary } from "#app/components/error-panel";
 import { AssignmentStatusBadge, scoreWords } from "#app/components/training/assignment-status";
@@ -16,7 +13,7 @@ import { FormError } from "#app/components/ui/field";
 import { Time } from "#app/components/ui/time";
 
 // One assignment: what the e-mailed link opens. Its assignee begins it here (the attempt records
-// the assignment); a trainer reads it and may withdraw it; anyone else gets 404, exactly as for
+// the assignment); a trainer reads it and may withdraw it (through the list's action); anyone else gets 404, exactly as for
 // one that does not exist (docs/decisions/016, "Assignments and progress").
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data && "assignment" in data ? data.assignment.title : "Assignment"} · Training · Sallyport` }];
@@ -35,29 +32,16 @@ export async function loader({ params, context }: Route.LoaderArgs) {
 }
 
 export async function action({ request, params, context }: Route.ActionArgs) {
+  const access = requireLearner(context);
   const values = formValues(await readForm(request));
   const assignmentId = trainingIdOf(params.assignment, "assignment");
-  if (values.intent === "start") {
-    const access = requireLearner(context);
-    const ref = { organisationId: access.organisation.id, assignmentId };
-    try {
-      const attempt = await startAssignedLesson(ref, { userId: access.user.id, trainer: access.trainer });
-      return redirect(trainingPath(access.organisation.slug, "attempts", attempt.id));
-    } catch (error) {
-      return refusedForm(error, values);
-    }
+  if (values.intent !== "start") return unknownIntent(values.intent);
+  try {
+    const attempt = await startAssignedLesson({ organisationId: access.organisation.id, assignmentId }, { userId: access.user.id, trainer: access.trainer });
+    return redirect(trainingPath(access.organisation.slug, "attempts", attempt.id));
+  } catch (error) {
+    return refusedForm(error, values);
   }
-  if (values.intent === "withdraw") {
-    const access = requireTrainer(context);
-    let title: string;
-    try {
-      title = await withdrawAssignment({ organisationId: access.organisation.id, assignmentId }, actorOf(access, clientAddressOf(context)));
-    } catch (error) {
-      return refusedForm(error, values);
-    }
-    throw redirect(trainingPath(access.organisation.slug, "assignments"), { headers: { "Set-Cookie": await serializeFlash({ kind: "success", message: `Assignment of “${title}” withdrawn; attempts already made stay.` }) } });
-  }
-  return unknownIntent(values.intent);
 }
 
 export default function Assignment({ loaderData, actionData }: Route.ComponentProps) {
@@ -129,8 +113,10 @@ export default function Assignment({ loaderData, actionData }: Route.ComponentPr
             The {assignment.kind}'s page
           </Link>
           {trainer ? (
-            <Form method="post" className="ml-auto">
+            // Withdrawn by the assignment list's action, which says so there.
+            <Form method="post" action={`${loaderData.base}/assignments`} className="ml-auto">
               <input type="hidden" name="intent" value="withdraw" />
+              <input type="hidden" name="assignmentId" value={assignment.id} />
               <Button type="submit" variant="ghost-danger" disabled={navigation.state === "submitting"}>
                 Withdraw the assignment
               </Button>

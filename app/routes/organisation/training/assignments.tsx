@@ -1,4 +1,4 @@
-import { Form, Link, redirect, useNavigation } from "react-router";
+import { Form, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/assignments";
 import { serializeFlash } from "#server/auth/flash.server";
 import { actorOf } from "#server/http/actor.server";
@@ -9,13 +9,12 @@ import { assignmentView, listAssignments, withdrawAssignment } from "#server/ser
 import { requireTrainer } from "#server/training/access.server";
 import { trainingIdOf, trainingPath } from "#server/training/routes.server";
 import { PageErrorBoundary } from "#app/components/error-panel";
-import { AssignmentStatusBadge, scoreWords } from "#app/components/training/assignment-status";
+import { AssignmentCells } from "#app/components/training/assignment-status";
 import { Button, ButtonLink } from "#app/components/ui/button";
 import { PageHeader } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
 import { FormError } from "#app/components/ui/field";
 import { Table, Td, Th } from "#app/components/ui/table";
-import { Time } from "#app/components/ui/time";
 
 // Every assignment of the organisation, for trainers: who has what, by when, where it stands;
 // withdrawing one (docs/decisions/016, "Assignments and progress").
@@ -81,19 +80,7 @@ export default function Assignments({ loaderData, actionData }: Route.ComponentP
             {assignments.map((assignment) => (
               <tr key={assignment.id}>
                 <Td className="font-medium">{assignment.assignee.name}</Td>
-                <Td>
-                  <Link to={assignment.path} className="text-harbour underline underline-offset-4">
-                    {assignment.title}
-                  </Link>{" "}
-                  <span className="text-xs text-ink-muted">({assignment.kind})</span>
-                </Td>
-                <Td className="text-ink-muted">
-                  <Time at={assignment.dueAt} now={now} />
-                </Td>
-                <Td>
-                  <AssignmentStatusBadge status={assignment.status} />
-                </Td>
-                <Td className="tabular">{scoreWords(assignment.status)}</Td>
+                <AssignmentCells assignment={assignment} now={now} />
                 <Td className="text-right">
                   <Form method="post">
                     <input type="hidden" name="intent" value="withdraw" />

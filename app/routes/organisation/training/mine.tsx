@@ -4,7 +4,7 @@ import { assignmentView, myTraining } from "#server/services/training-assignment
 import { requireLearner } from "#server/training/access.server";
 import { trainingPath } from "#server/training/routes.server";
 import { PageErrorBoundary } from "#app/components/error-panel";
-import { AssignmentStatusBadge, scoreWords } from "#app/components/training/assignment-status";
+import { AssignmentCells } from "#app/components/training/assignment-status";
 import { ButtonLink } from "#app/components/ui/button";
 import { PageHeader } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
@@ -64,19 +64,7 @@ export default function MyTraining({ loaderData }: Route.ComponentProps) {
               <tbody>
                 {assigned.map((assignment) => (
                   <tr key={assignment.id}>
-                    <Td>
-                      <Link to={assignment.path} className="font-medium text-harbour underline underline-offset-4">
-                        {assignment.title}
-                      </Link>{" "}
-                      <span className="text-xs text-ink-muted">({assignment.kind})</span>
-                    </Td>
-                    <Td className="text-ink-muted">
-                      <Time at={assignment.dueAt} now={now} />
-                    </Td>
-                    <Td>
-                      <AssignmentStatusBadge status={assignment.status} />
-                    </Td>
-                    <Td className="tabular">{scoreWords(assignment.status)}</Td>
+                    <AssignmentCells assignment={assignment} now={now} />
                   </tr>
                 ))}
               </tbody>

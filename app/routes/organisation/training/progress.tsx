@@ -6,7 +6,7 @@ import { scorePercent, timeSpentWords } from "#server/training/progress";
 import { trainingPath } from "#server/training/routes.server";
 import { PageErrorBoundary } from "#app/components/error-panel";
 import { ScoreChart } from "#app/components/training/score-chart";
-import { ButtonLink } from "#app/components/ui/button";
+import { buttonClasses, ButtonLink } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
 import { SortHeader } from "#app/components/ui/sort-header";
@@ -53,7 +53,7 @@ export default function Progress({ loaderData }: Route.ComponentProps) {
             <ButtonLink variant="secondary" to={`${base}/assignments`}>
               Assignments
             </ButtonLink>
-            <a href={loaderData.csvPath} download className="inline-flex h-10 items-center rounded-control border border-line-strong px-4 text-sm font-medium hover:bg-surface-sunken">
+            <a href={loaderData.csvPath} download className={buttonClasses("secondary")}>
               Download CSV
             </a>
           </>
