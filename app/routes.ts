@@ -73,6 +73,13 @@ export default [
       route("drills/:drill", "routes/organisation/training/drill.tsx"),
       route("drills/:drill/edit", "routes/organisation/training/drill-edit.tsx"),
       route("drills/:drill/answer/model/:section", "routes/organisation/training/drill-answer-section.tsx"),
+      // Assignments and progress (issue 12 point 5).
+      route("mine", "routes/organisation/training/mine.tsx"),
+      route("assignments", "routes/organisation/training/assignments.tsx"),
+      route("assignments/new", "routes/organisation/training/assignment-new.tsx"),
+      route("assignments/:assignment", "routes/organisation/training/assignment.tsx"),
+      route("progress", "routes/organisation/training/progress.tsx"),
+      route("progress.csv", "routes/organisation/training/progress.csv.ts"),
     ]),
     route("account", "routes/organisation/account.tsx"),
     ...prefix("settings", [

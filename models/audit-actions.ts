@@ -48,6 +48,8 @@ export const AUDIT_ACTIONS = [
   "training.drill-created",
   "training.drill-changed",
   "training.drill-deleted",
+  "training.assigned",
+  "training.assignment-withdrawn",
   "shared-object.created",
   "shared-object.updated",
   "shared-object.deleted",
@@ -75,7 +77,7 @@ export function isAuditAction(value: unknown): value is AuditAction {
   return typeof value === "string" && (AUDIT_ACTIONS as readonly string[]).includes(value);
 }
 
-export const AUDIT_TARGET_TYPES = ["organisation", "site", "device", "shared-object", "invitation", "membership", "user", "proposal", "api-token", "training-scenario", "training-lesson", "training-drill"] as const;
+export const AUDIT_TARGET_TYPES = ["organisation", "site", "device", "shared-object", "invitation", "membership", "user", "proposal", "api-token", "training-scenario", "training-lesson", "training-drill", "training-assignment"] as const;
 export type AuditTargetType = (typeof AUDIT_TARGET_TYPES)[number];
 
 export function isAuditTargetType(value: unknown): value is AuditTargetType {

@@ -1,7 +1,7 @@
 // The audit log in words: a label for each action and target type, one sentence per entry and
 // its recorded values as readable lines. Shared by the audit page and its CSV export. Pure.
 import { isAuditAction, isAuditTargetType, type AuditAction, type AuditTargetType } from "#models/audit-actions";
-import { formatDay, plural } from "#server/engine/format";
+import { formatDay, formatInstant, plural } from "#server/engine/format";
 
 export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "organisation.created": "Organisation created",
@@ -48,6 +48,8 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "training.drill-created": "Drill created",
   "training.drill-changed": "Drill changed",
   "training.drill-deleted": "Drill deleted",
+  "training.assigned": "Training assigned",
+  "training.assignment-withdrawn": "Assignment withdrawn",
   "shared-object.created": "Shared object created",
   "shared-object.updated": "Shared object changed",
   "shared-object.deleted": "Shared object deleted",
@@ -83,6 +85,7 @@ export const AUDIT_TARGET_LABELS: Record<AuditTargetType, string> = {
   "training-scenario": "Teaching scenario",
   "training-lesson": "Lesson",
   "training-drill": "Drill",
+  "training-assignment": "Assignment",
 };
 
 /** The label of a stored action; a code this version does not know is shown as it is. */
@@ -190,6 +193,8 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "training.drill-created": (c, target) => `Created drill ${quoted(c.title, target)} (${word(c.kind)}) on ${quoted(c.scenario)}`,
   "training.drill-changed": (c, target) => `Changed drill ${quoted(isFromTo(c.title) ? c.title.to : c.title, target)}: ${word(c.edit)}`,
   "training.drill-deleted": (c, target) => `Deleted drill ${quoted(c.title, target)} and its ${plural(typeof c.attempts === "number" ? c.attempts : 0, { one: "attempt", other: "attempts" })}`,
+  "training.assigned": (c) => `Assigned the ${c.kind === "drill" ? "drill" : "lesson"} ${quoted(c.title)} to ${word(c.assignee)}, due ${typeof c.due === "string" ? formatInstant(c.due) : "?"}`,
+  "training.assignment-withdrawn": (c) => `Withdrew the ${c.kind === "drill" ? "drill" : "lesson"} ${quoted(c.title)} from ${word(c.assignee)}`,
   "shared-object.created": (c, target) => `Created shared ${c.kind === "group" ? "group" : "address object"} ${quoted(target)}: ${valueText(c.items)}${breakGlassWords(c)}`,
   "shared-object.updated": (c, target) => {
     const changed = fieldChanges(c);

@@ -1,5 +1,5 @@
 import type { Role } from "../auth/roles.ts";
-import { formatDuration } from "../engine/format.ts";
+import { formatDuration, formatInstant } from "../engine/format.ts";
 import { sendMail, type OutgoingMail } from "./mailer.server.ts";
 
 function escapeHtml(value: string): string {
@@ -78,4 +78,20 @@ export function proposalMail(input: { to: string; subject: string; paragraphs: s
     html: layout(input.paragraphs, { href: input.link, label: "Open the proposal" }),
     ...(input.calendar ? { attachments: [{ filename: "change-window.ics", content: input.calendar, contentType: "text/calendar; charset=utf-8; method=PUBLISH" }] } : {}),
   };
+}
+
+/** A lesson or drill assigned by a trainer (docs/decisions/016): what, by when, the trainer's note, and the link. */
+export async function sendAssignmentMail(input: { to: string; name: string; organisationName: string; trainerName: string; title: string; kind: "lesson" | "drill"; dueAt: Date; note: string; link: string }): Promise<void> {
+  const paragraphs = [
+    `Hello ${input.name},`,
+    `${input.trainerName} assigned you the ${input.kind} “${input.title}” in ${input.organisationName} on Sallyport, due ${formatInstant(input.dueAt)}.`,
+    ...(input.note ? [`Their note: ${input.note}`] : []),
+    "Answers after the due date are still accepted; they are marked late.",
+  ];
+  await sendMail({
+    to: input.to,
+    subject: `Training assigned: ${input.title}`,
+    text: `${paragraphs.join("\n\n")}\n\nOpen the assignment: ${input.link}\n`,
+    html: layout(paragraphs, { href: input.link, label: "Open the assignment" }),
+  });
 }

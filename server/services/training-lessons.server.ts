@@ -130,8 +130,12 @@ export async function deleteLesson(ref: LessonRef, actor: AuditActor): Promise<s
 export type Viewer = { userId: string; trainer: boolean };
 export type AttemptRef = { organisationId: string; attemptId: string };
 
-/** Begins an attempt at the lesson's first probe, with the script it will be graded against. */
-export async function startAttempt(ref: LessonRef, userId: string, now = Date.now()): Promise<TrainingAttempt> {
+/**
+ * Begins an attempt at the lesson's first probe, with the script it will be graded against; for an
+ * assignment (checked by the caller to be this member's, of this lesson) it records which.
+ */
+export async function startAttempt(ref: LessonRef, userId: string, options: { assignmentId?: string | null; now?: number } = {}): Promise<TrainingAttempt> {
+  const now = options.now ?? Date.now();
   const lesson = await findLesson(ref);
   const steps = stepsOf(lesson);
   if (steps.length === 0) throw new Refusal("This lesson has no probes yet: a trainer adds them first.", 409);
@@ -144,6 +148,7 @@ export async function startAttempt(ref: LessonRef, userId: string, now = Date.no
     kind: "lesson",
     lessonId: lesson.id,
     lessonVersion: lesson.version,
+    assignmentId: options.assignmentId ?? null,
     title: lesson.title,
     script: scripted.script,
     questionCount: questionCount(scripted.script),

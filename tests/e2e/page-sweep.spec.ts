@@ -73,7 +73,7 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
   // needs the trainer capability, which in this team only the admin and the owner have (always).
   const drills = training.drills;
   const mine = drills.attempts[role];
-  const trainingPages = [training.scenario, `${training.scenario}/model/rules`, training.lesson, training.attempts[role], drills.fix, mine.predict, mine.spot, mine.fix, `${mine.fix}/model/rules`, mine.order];
+  const trainingPages = [training.scenario, `${training.scenario}/model/rules`, training.lesson, training.attempts[role], drills.fix, mine.predict, mine.spot, mine.fix, `${mine.fix}/model/rules`, mine.order, `${organisation}/training/mine`, training.assignments[role]];
   const trainerPages = [
     `${organisation}/training/scenarios/new`,
     `${organisation}/training/lessons/new`,
@@ -83,6 +83,9 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
     `${drills.fix}/edit`,
     `${drills.fix}/answer/model/rules`,
     `${drills.order}/edit`,
+    `${organisation}/training/assignments`,
+    `${organisation}/training/assignments/new`,
+    `${organisation}/training/progress`,
   ].map((path) => ({ path, role: "admin" as const }));
   const gated = [...GATED.map((page) => ({ ...page, path: `${organisation}/${page.path}` })), { path: `${device}/proposals/new`, role: PAGE_ROLES.proposeChange }, ...trainerPages];
   return {

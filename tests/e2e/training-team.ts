@@ -3,7 +3,8 @@ import { ROLES, type Role } from "#models/roles";
 import type { Team } from "./team";
 
 // A teaching scenario and a lesson of a test team's own, made over HTTP by its owner (who trains
-// always, docs/decisions/016), and one attempt per member: what the page sweep visits.
+// always, docs/decisions/016), one attempt per member, and the lesson assigned to every member:
+// what the page sweep visits.
 
 export type DrillPages = {
   /** A repair drill (goals and an answer model) on the rule-order example, and the trainer's pages of it. */
@@ -12,7 +13,9 @@ export type DrillPages = {
   /** Each member's attempt at each kind of drill. */
   attempts: Record<Role, { predict: string; spot: string; fix: string; order: string }>;
 };
-export type TrainingPages = { scenario: string; lesson: string; attempts: Record<Role, string>; drills: DrillPages };
+export type TrainingPages = { scenario: string; lesson: string; attempts: Record<Role, string>; assignments: Record<Role, string>; drills: DrillPages };
+
+const ASSIGNMENT_LINK = /href="(\/o\/[^"]+\/training\/assignments\/[0-9a-f-]{36})"/;
 
 function locationOf(response: APIResponse, what: string): string {
   const location = response.headers()["location"];
@@ -34,8 +37,25 @@ export async function createTrainingPages(request: APIRequest, baseURL: string, 
     attempts[role] = locationOf(await member.post(lesson, { form: { intent: "start" }, maxRedirects: 0 }), `begin as ${role}`);
     await member.dispose();
   }
-  return { scenario, lesson, attempts, drills: await createDrillPages(request, baseURL, team, scenario) };
+  // The lesson assigned to everyone, a week ahead: each member's assignment page.
+  const assigner = await contextOf("owner");
+  const form = await (await assigner.get(`${training}/assignments/new`)).text();
+  const memberIds = [...form.matchAll(/name="assignees" value="([0-9a-f-]{36})"/g)].map((match) => match[1]);
+  const fields = new URLSearchParams([["target", `lesson:${lesson.split("/").at(-1) ?? ""}`], ...memberIds.map((id) => ["assignees", id]), ["dueAt", new Date(Date.now() + 7 * 86_400_000).toISOString().slice(0, 16)], ["note", "For the sweep."]]);
+  locationOf(await assigner.post(`${training}/assignments/new`, { data: fields.toString(), headers: { "Content-Type": "application/x-www-form-urlencoded" }, maxRedirects: 0 }), "assign");
+  await assigner.dispose();
+  const assignments = {} as Record<Role, string>;
+  for (const role of ROLES) {
+    const member = await contextOf(role);
+    const mine = await (await member.get(`${training}/mine`)).text();
+    const link = ASSIGNMENT_LINK.exec(mine)?.[1];
+    if (!link) throw new Error(`no assignment on the My training page of the ${role}`);
+    assignments[role] = link;
+    await member.dispose();
+  }
+  return { scenario, lesson, attempts, assignments, drills: await createDrillPages(request, baseURL, team, scenario) };
 }
+
 
 /** A drill of each kind (two scenarios: the lesson's, and the rule-order example), and each member's attempt at each. */
 async function createDrillPages(request: APIRequest, baseURL: string, team: Team, loginScenario: string): Promise<DrillPages> {

@@ -5,7 +5,8 @@
 // works without JavaScript; after hydration the picker replaces it and submits one hidden input
 // per chosen name under the same field name, which the action reads exactly as it reads the
 // text area's lines.
-import { useContext, useId, useState, useSyncExternalStore, type KeyboardEvent, type ReactNode } from "react";
+import { useContext, useId, useState, type KeyboardEvent, type ReactNode } from "react";
+import { useHydrated } from "#app/components/use-hydrated";
 import {
   Button,
   ComboBox,
@@ -44,17 +45,6 @@ export type NamePickerProps = {
   /** Rows of the text area rendered before hydration and without JavaScript. */
   rows?: number;
 };
-
-const noSubscription = () => () => {};
-
-/** False while the server renders and while the client hydrates; true after. No mismatch. */
-function useHydrated(): boolean {
-  return useSyncExternalStore(
-    noSubscription,
-    () => true,
-    () => false,
-  );
-}
 
 export function NamePicker(props: NamePickerProps) {
   const hydrated = useHydrated();

@@ -41,17 +41,28 @@ export default function Training({ loaderData }: Route.ComponentProps) {
         title="Training"
         description="Walk juniors through the layers of defence one at a time: on a device's Trace tab, or in lessons on teaching scenarios that live apart from the fleet."
         actions={
-          trainer ? (
-            <>
-              <ButtonLink variant="secondary" to={`${base}/training/scenarios/new`}>
-                New scenario
-              </ButtonLink>
-              <ButtonLink variant="secondary" to={`${base}/training/drills/new`}>
-                New drill
-              </ButtonLink>
-              <ButtonLink to={`${base}/training/lessons/new`}>New lesson</ButtonLink>
-            </>
-          ) : null
+          <>
+            <ButtonLink variant="secondary" to={`${base}/training/mine`}>
+              My training
+            </ButtonLink>
+            {trainer ? (
+              <>
+                <ButtonLink variant="secondary" to={`${base}/training/progress`}>
+                  Progress
+                </ButtonLink>
+                <ButtonLink variant="secondary" to={`${base}/training/assignments`}>
+                  Assignments
+                </ButtonLink>
+                <ButtonLink variant="secondary" to={`${base}/training/scenarios/new`}>
+                  New scenario
+                </ButtonLink>
+                <ButtonLink variant="secondary" to={`${base}/training/drills/new`}>
+                  New drill
+                </ButtonLink>
+                <ButtonLink to={`${base}/training/lessons/new`}>New lesson</ButtonLink>
+              </>
+            ) : null}
+          </>
         }
       />
       <div className="space-y-8">

@@ -4,6 +4,7 @@ import { readForm, formValues, unknownIntent } from "#server/http/form.server";
 import { refusedForm, refusedPage } from "#server/http/refusals.server";
 import { attemptsOfLesson, findLesson, startAttempt, stepsOf } from "#server/services/training-lessons.server";
 import { findScenario } from "#server/services/training-scenarios.server";
+import { openAssignmentFor } from "#server/services/training-assignments.server";
 import { requireLearner } from "#server/training/access.server";
 import { trainingIdOf, trainingPath } from "#server/training/routes.server";
 import { isLayer, LAYER_LABELS } from "#server/engine/vocabulary";
@@ -33,6 +34,8 @@ export async function loader({ params, context }: Route.LoaderArgs) {
       probes: stepsOf(lesson).length,
       scenario: { title: scenario.title, path: `${base}/scenarios/${scenario.id}` },
       lessonPath: `${base}/lessons/${lesson.id}`,
+      lessonId: lesson.id,
+      assignPath: `${base}/assignments/new`,
       trainer: access.trainer,
       myUserId: access.user.id,
       attempts: attempts.map((attempt) => ({ ...attempt, path: `${base}/attempts/${attempt.id}`, misses: attempt.misses.map((miss) => ({ probe: miss.probe, layer: isLayer(miss.layer) ? LAYER_LABELS[miss.layer] : miss.layer })) })),
@@ -50,7 +53,9 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   const values = formValues(await readForm(request));
   if (values.intent !== "start") return unknownIntent(values.intent);
   try {
-    const attempt = await startAttempt({ organisationId: access.organisation.id, lessonId }, access.user.id);
+    // Begun from the lesson's own page, it still counts for the member's open assignment of it.
+    const assignmentId = await openAssignmentFor(access.organisation.id, access.user.id, { kind: "lesson", id: lessonId });
+    const attempt = await startAttempt({ organisationId: access.organisation.id, lessonId }, access.user.id, { assignmentId });
     // The attempt opens at its first probe, nothing revealed.
     return redirect(trainingPath(access.organisation.slug, "attempts", attempt.id));
   } catch (error) {
@@ -83,6 +88,9 @@ export default function Lesson({ loaderData, actionData }: Route.ComponentProps)
               </ButtonLink>
               <ButtonLink variant="secondary" to={`${loaderData.lessonPath}/present`}>
                 Present
+              </ButtonLink>
+              <ButtonLink variant="secondary" to={`${loaderData.assignPath}?target=lesson:${loaderData.lessonId}`}>
+                Assign
               </ButtonLink>
             </>
           ) : null
