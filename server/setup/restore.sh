@@ -56,8 +56,20 @@ ok "current data backed up to $before"
 {
   echo "BEGIN;"
   echo "SET client_min_messages = warning;"
-  echo "DROP SCHEMA public CASCADE;"
-  echo "CREATE SCHEMA public;"
+  # Every schema the owner role holds (public, and any a library keeps its tables in), not only
+  # public: the dump recreates each, and a leftover would collide with it.
+  cat <<'SQL'
+DO $$
+DECLARE item record;
+BEGIN
+  FOR item IN SELECT nspname FROM pg_namespace
+    WHERE (nspname = 'public' OR pg_get_userbyid(nspowner) = current_user)
+      AND nspname NOT LIKE 'pg\_%' AND nspname <> 'information_schema' LOOP
+    EXECUTE format('DROP SCHEMA %I CASCADE', item.nspname);
+  END LOOP;
+END $$;
+CREATE SCHEMA public;
+SQL
   "$bin/pg_restore" --no-owner --no-acl --file=- "$file" || exit 1
   # Sessions in the backup may since have been signed out: nobody is signed in after a restore.
   echo "DELETE FROM public.sessions;"
