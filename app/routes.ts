@@ -87,6 +87,7 @@ export default [
     route("devices/:device/proposals", "routes/api/v1/proposals.ts"),
     route("devices/:device/proposals/:proposal/effect", "routes/api/v1/proposal-effect.ts"),
     route("devices/:device/proposals/:proposal/submit", "routes/api/v1/proposal-submit.ts"),
+    route("reach", "routes/api/v1/fleet-reach.ts"),
     route("*", "routes/api/v1/not-found.ts"),
   ]),
   route("docs/api", "routes/docs/api.tsx"),

@@ -139,6 +139,32 @@ describe("The OpenAPI document and every endpoint's real answers", () => {
     const reached = conformance.check("GET /devices/{device}/reach", await author.get(`${device}/reach?from=10.20.30.5`));
     expect((reached.json as { rows: unknown[] }).rows).toHaveLength(2 * 6);
     expect(conformance.check("GET /devices/{device}/reach", await author.get(`${device}/reach?from=10.20.30.5&at=yesterday`)).status).toBe(400);
+    // Found in the user walk of 2026-12-02: the interface filter was dropped and a block's rows did
+    // not say which of its sources each answered for. A block's groups per place add up to the block.
+    const outside = conformance.check("GET /devices/{device}/reach", await author.get(`${device}/reach?from=198.51.100.0/24&interface=outside`));
+    const outsideRows = (outside.json as { rows: Array<{ interface: string; service: string; outcome: string; sources: string[]; count: string }> }).rows;
+    expect(new Set(outsideRows.map((row) => row.interface))).toEqual(new Set(["outside"]));
+    const https = outsideRows.filter((row) => row.service === "https");
+    expect(https.length).toBeGreaterThan(1);
+    expect(https.reduce((sum, row) => sum + BigInt(row.count), 0n)).toBe(256n); // RFC 4632 §3.1: a /24 holds 2^8 addresses
+    // partner-hq (198.51.100.0/26) is allowed by r2 and its login refused: PRODUCT.md §3.
+    expect(https.find((row) => row.sources.includes("198.51.100.0/26"))).toMatchObject({ outcome: "login-denied", count: "64" });
+    expect(conformance.check("GET /devices/{device}/reach", await author.get(`${device}/reach?from=10.20.30.5&interface=outside,nowhere`)).status).toBe(400);
+
+    // Fleet reach: the organisation's devices only, filtered by role; bad input is a 400.
+    const fleet = conformance.check("GET /reach", await author.get(`/reach?from=198.51.100.7&role=wan&service=https`));
+    const fleetRows = (fleet.json as { devices: number; rows: Array<{ deviceId: string; role: string; service: string; outcome: string; ruleId: string | null }> }).rows;
+    // The team's device (an earlier test made another from a document).
+    expect((fleet.json as { devices: number }).devices).toBeGreaterThanOrEqual(1);
+    expect(fleetRows.filter((row) => row.deviceId === team.deviceId)).toEqual([expect.objectContaining({ role: "wan", service: "https", outcome: "login-denied", ruleId: "r2" })]);
+    expect(new Set(fleetRows.map((row) => `${row.role} ${row.service}`))).toEqual(new Set(["wan https"]));
+    // Another organisation's fleet reach holds its own devices, never this one.
+    const theirs = (conformance.check("GET /reach", await stranger.get(`/reach?from=198.51.100.7`)).json as { rows: Array<{ deviceId: string }> }).rows;
+    expect(theirs.length).toBeGreaterThan(0);
+    expect(theirs.filter((row) => row.deviceId === team.deviceId)).toEqual([]);
+    expect(conformance.check("GET /reach", await author.get(`/reach?from=198.51.100.0/33`)).status).toBe(400); // RFC 4632 §3.1: /0 to /32
+    expect(conformance.check("GET /reach", await author.get(`/reach?from=198.51.100.7&role=outside`)).status).toBe(400);
+    expect(conformance.check("GET /reach", await author.get(`/reach?from=198.51.100.7&site=not-a-uuid`)).status).toBe(400);
 
     const exposurePage = conformance.check("GET /devices/{device}/exposure", await author.get(`${device}/exposure?limit=3&at=2026-12-02T10:00:00Z`));
     const next = (exposurePage.json as { nextCursor: string }).nextCursor;
