@@ -87,6 +87,8 @@ export default [
     route("devices/:device/proposals", "routes/api/v1/proposals.ts"),
     route("devices/:device/proposals/:proposal/effect", "routes/api/v1/proposal-effect.ts"),
     route("devices/:device/proposals/:proposal/submit", "routes/api/v1/proposal-submit.ts"),
+    route("devices/:device/field-checks", "routes/api/v1/field-checks.ts"),
+    route("devices/:device/field-checks/:check", "routes/api/v1/field-check.ts"),
     route("reach", "routes/api/v1/fleet-reach.ts"),
     route("*", "routes/api/v1/not-found.ts"),
   ]),

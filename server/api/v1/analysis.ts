@@ -1,17 +1,18 @@
 // The analysis of a device's current revision: trace one probe, reach from one source, the
 // exposure map at an instant, and the findings. The same functions answer the pages, their
 // CSVs and the CLI, so every door gives the same answer.
-import { probeInputOf, ProbeQuerySchema } from "../../analysis/probe.ts";
+import { z } from "zod";
+import { probeInputOf } from "../../analysis/probe.ts";
 import { answerReach } from "../../analysis/reach.server.ts";
 import { exposureEntriesAt, filterEntries, type ExposureQuery as PageExposureQuery } from "../../analysis/exposure.server.ts";
-import { isLayer, isOutcome, isSeverity, trace } from "../../engine/index.ts";
+import { isLayer, isOutcome, isSeverity, isSourceBlock, trace, traceGroups } from "../../engine/index.ts";
 import { Refusal } from "../../errors.ts";
 import { deviceFindings } from "../../services/findings.server.ts";
 import { defineEndpoint } from "../endpoint.server.ts";
 import { decodeCursor, pageOf } from "../pagination.ts";
 import { FleetReachQuerySchema } from "../../analysis/fleet-reach.ts";
 import { fleetReachOf } from "../../services/fleet-reach.server.ts";
-import { DeviceParams, ExposureQuery, ExposureSchema, FindingsSchema, FleetReachApiQuery, FleetReachSchema, namesOf, ReachQuery, ReachSchema, TraceSchema } from "./schemas.ts";
+import { DeviceParams, ExposureQuery, ExposureSchema, FindingsSchema, FleetReachApiQuery, FleetReachSchema, namesOf, ReachQuery, ReachSchema, TraceGroupsSchema, TraceQuery, TraceSchema } from "./schemas.ts";
 
 /** A word the engine wrote, typed again after a page-shaped row held it as a string. */
 function word<W extends string>(isWord: (value: unknown) => value is W, value: string): W {
@@ -24,16 +25,19 @@ export const traceEndpoint = defineEndpoint({
   path: "/devices/{device}/trace",
   operationId: "trace",
   summary: "Trace a probe",
-  description: "One probe through every layer of the device's current revision: each layer's verdict, the deciding rule and the eligible accounts. The same JSON as `sallyport trace --json`. An unknown interface, service or account, or a malformed address, is a 400.",
+  description:
+    "One probe through every layer of the device's current revision: each layer's verdict, the deciding rule and the eligible accounts. The same JSON as `sallyport trace --json`. A CIDR block as `from` is answered per group of its sources that get the same answer (TraceGroups), each group with its sources and one trace. An unknown interface, service or account, a malformed address or a block wider than its family is a 400.",
   tag: "Analysis",
   scope: "read",
   role: "trainee",
   params: DeviceParams,
   device: true,
-  query: ProbeQuerySchema,
-  response: { status: 200, description: "The trace.", schema: TraceSchema },
+  query: TraceQuery,
+  response: { status: 200, description: "The trace, or for a block its groups.", schema: z.union([TraceSchema, TraceGroupsSchema]) },
   handle({ device, query }) {
-    return { body: trace(device.analysis.compiled, probeInputOf(query)), headers: { "X-Sallyport-Revision": String(device.revision.number) } };
+    const probe = probeInputOf(query);
+    const body = isSourceBlock(probe.from) ? traceGroups(device.analysis.compiled, probe) : trace(device.analysis.compiled, probe);
+    return { body, headers: { "X-Sallyport-Revision": String(device.revision.number) } };
   },
 });
 
@@ -143,7 +147,7 @@ export const fleetReachEndpoint = defineEndpoint({
   summary: "Fleet reach from one source",
   description:
     "Which of the organisation's devices one source (an address or a CIDR block) reaches, and how: every device at its current revision, now or at a chosen time, one row per device × interface × service (× group of sources, for a block) with the outcome and the deciding layer, most exposed first. The same answer as the Fleet reach page and its CSV.",
-  tag: "Analysis",
+  tag: "Fleet",
   scope: "read",
   role: "trainee",
   query: FleetReachApiQuery,

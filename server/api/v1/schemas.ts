@@ -150,6 +150,35 @@ export function namesOf(list: string | undefined): string[] {
   return [...new Set((list ?? "").split(",").map((name) => name.trim()))].filter((name) => name !== "");
 }
 
+export const TraceGroupsSchema = z
+  .object({
+    from: z.string().meta({ description: "The block as normalised text." }),
+    count: z.string().meta({ description: "Addresses in the block, decimal." }),
+    interface: z.string(),
+    service: z.string(),
+    to: z.string().nullable(),
+    at: z.iso.datetime(),
+    localTime: z.string(),
+    groups: z.array(
+      z.object({
+        sources: z.array(z.string()).meta({ description: "The group's sources inside the block: a minimal CIDR list, ascending." }),
+        count: z.string().meta({ description: "How many addresses, decimal." }),
+        example: z.string().meta({ description: "The group's first address, whose trace `trace` is." }),
+        outcome: z.enum(OUTCOMES),
+        layer: z.enum(LAYERS).meta({ description: "The deciding layer." }),
+        ruleId: z.string().nullable(),
+        eligibleAccounts: z.array(z.string()),
+        trace: TraceSchema,
+      }),
+    ),
+  })
+  .meta({ id: "TraceGroups", description: "A probe from a CIDR block: one group per distinct answer, most exposed first — the same JSON as `sallyport trace --json` with a block." });
+
+/** The trace's question, its source an address or a CIDR block. */
+export const TraceQuery = ProbeQuerySchema.extend({
+  from: ProbeQuerySchema.shape.from.meta({ description: "The source: an address (IPv4 or IPv6), or a CIDR block answered per group of its sources that get the same answer." }),
+});
+
 export const ReachQuery = z.object({
   from: z
     .string()
