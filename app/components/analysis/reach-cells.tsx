@@ -34,6 +34,26 @@ export function ReachAnswerCells({ row, block }: { row: Pick<ReachGroupRow, "sou
 }
 
 /**
+ * Where a reach row answers, as its first table cells: the interface (with its role, where the
+ * table mixes devices) and its address, then the service with the outcome under it on a phone.
+ */
+export function ReachPlaceCells({ row, role }: { row: { interface: string; to: string | null; service: string; outcome: ReachGroupRow["outcome"] }; role?: string }) {
+  return (
+    <>
+      <Td>
+        <span className="font-medium">{row.interface}</span>
+        {role ? <span className="text-xs text-ink-muted"> ({role})</span> : null}
+        {row.to ? <span className="block font-mono text-xs text-ink-faint">{row.to}</span> : null}
+      </Td>
+      <Td className="font-mono">
+        {row.service}
+        <OutcomeOnPhone outcome={row.outcome} />
+      </Td>
+    </>
+  );
+}
+
+/**
  * The outcome again under a row's service on a phone, where the outcome column sits beyond the
  * table's scroll edge: the one column nobody should have to scroll sideways for. Hidden from
  * assistive technology, which reads the outcome cell itself.

@@ -8,7 +8,7 @@ import { listSites } from "#server/services/sites.server";
 import { BUILTIN_SERVICES, INTERFACE_ROLES } from "#server/engine/vocabulary";
 import { formatNumber, plural } from "#server/engine/format";
 import { Pager, SimulationCaution } from "#app/components/analysis/common";
-import { OutcomeOnPhone, OutcomeOrderNote, ReachAnswerCells, ReachAnswerHead } from "#app/components/analysis/reach-cells";
+import { OutcomeOrderNote, ReachAnswerCells, ReachAnswerHead, ReachPlaceCells } from "#app/components/analysis/reach-cells";
 import { buttonClasses } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
@@ -189,14 +189,7 @@ export default function FleetReach({ loaderData }: Route.ComponentProps) {
                           {row.site} · r{row.revision}
                         </span>
                       </Td>
-                      <Td>
-                        <span className="font-medium">{row.interface}</span> <span className="text-xs text-ink-muted">({row.role})</span>
-                        {row.to ? <span className="block font-mono text-xs text-ink-faint">{row.to}</span> : null}
-                      </Td>
-                      <Td className="font-mono">
-                        {row.service}
-                        <OutcomeOnPhone outcome={row.outcome} />
-                      </Td>
+                      <ReachPlaceCells row={row} role={row.role} />
                       <ReachAnswerCells row={row} block={answer.block} />
                     </tr>
                   ))}

@@ -4,7 +4,7 @@ import { answerReach, reachQueryOf, type ReachRow } from "#server/analysis/reach
 import { requireDevice } from "#server/http/device-access.server";
 import { isLayer, LAYERS, outcomeRank } from "#server/engine/vocabulary";
 import { reachSummary, worstByPlace } from "#app/utils/reach-words";
-import { OutcomeOnPhone, OutcomeOrderNote, ReachAnswerCells, ReachAnswerHead } from "#app/components/analysis/reach-cells";
+import { OutcomeOrderNote, ReachAnswerCells, ReachAnswerHead, ReachPlaceCells } from "#app/components/analysis/reach-cells";
 import { formatInstant } from "#server/engine/format";
 import { buttonClasses } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
@@ -13,7 +13,7 @@ import { NoInterfacesYet } from "#app/components/device/no-interfaces";
 import { TextField } from "#app/components/ui/field";
 import { SortHeader } from "#app/components/ui/sort-header";
 import { nameTie, tableRows, urlSort, type ColumnDef } from "#app/components/ui/table-rows";
-import { Table, Td, Th } from "#app/components/ui/table";
+import { Table, Th } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Reach${loaded?.query.from ? ` from ${loaded.query.from}` : ""} · ${loaded?.deviceName ?? "Device"} · Sallyport` }];
 
@@ -141,14 +141,7 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
               <tbody>
                 {answer.rows.map((row) => (
                   <tr key={row.name}>
-                    <Td>
-                      <span className="font-medium">{row.interface}</span>
-                      {row.to ? <span className="block font-mono text-xs text-ink-faint">{row.to}</span> : null}
-                    </Td>
-                    <Td className="font-mono">
-                      {row.service}
-                      <OutcomeOnPhone outcome={row.outcome} />
-                    </Td>
+                    <ReachPlaceCells row={row} />
                     <ReachAnswerCells row={row} block={answer.block} />
                   </tr>
                 ))}
