@@ -4,7 +4,7 @@ import path from "node:path";
 import { fileURLToPath } from "node:url";
 import type { MigrationContext } from "#server/db/migrator.ts";
 import { EMPTY_LIBRARY, summariseDocument, validateDocument } from "#server/workspace/index.ts";
-import { DEMO_ORGANISATION, DEMO_USERS } from "./demo-data.ts";
+import { DEMO_ORGANISATION, DEMO_USERS, demoModelledAt } from "./demo-data.ts";
 
 const folder = path.join(path.dirname(fileURLToPath(import.meta.url)), "devices");
 
@@ -22,13 +22,14 @@ export async function up({ context: queryInterface }: MigrationContext): Promise
   const [authors] = (await sequelize.query(`SELECT id FROM users WHERE email = '${engineer.email}'`)) as [Array<{ id: string }>, unknown];
   const devices = JSON.parse(readFileSync(path.join(folder, "index.json"), "utf8")) as DemoDevice[];
   const now = new Date();
+  const modelledAt = demoModelledAt(now);
   for (const demo of devices) {
     const site = sites.find((candidate) => candidate.name === demo.site);
     if (!site) throw new Error(`demo device ${demo.file}: no site named "${demo.site}"`);
     const validated = validateDocument(JSON.parse(readFileSync(path.join(folder, demo.file), "utf8")), EMPTY_LIBRARY);
     if (!validated.ok) throw new Error(`demo device ${demo.file} does not validate: ${validated.errors.map((issue) => `${issue.path}: ${issue.message}`).join("; ")}`);
     const deviceId = randomUUID();
-    await queryInterface.bulkInsert("devices", [{ id: deviceId, organisation_id: organisationId, site_id: site.id, name: validated.document.device.name, current_revision_number: 1, created_at: now, updated_at: now }]);
+    await queryInterface.bulkInsert("devices", [{ id: deviceId, organisation_id: organisationId, site_id: site.id, name: validated.document.device.name, current_revision_number: 1, created_at: modelledAt, updated_at: modelledAt }]);
     await queryInterface.bulkInsert("device_revisions", [
       {
         id: randomUUID(),
@@ -40,7 +41,7 @@ export async function up({ context: queryInterface }: MigrationContext): Promise
         message: `Demo: ${demo.description}`.slice(0, 500),
         author_user_id: authors[0]?.id ?? null,
         author_email: engineer.email,
-        created_at: now,
+        created_at: modelledAt,
       },
     ]);
   }

@@ -12,6 +12,17 @@ export const DEMO_USERS: ReadonlyArray<{ email: string; name: string; role: Role
   { email: "jun.watanabe@lanternfield.example", name: "Jun Watanabe", role: "trainee", password: "demo-password-trainee" },
 ];
 
+/**
+ * When the demo devices' first revisions were modelled: a fixed day in the past (or now, on a
+ * clock before it), so field checks from the days before a demo is set up — such as every row of
+ * public/examples/field-check.csv — are predicted with r1 instead of being refused as older than
+ * any model of the device.
+ */
+export function demoModelledAt(now: Date = new Date()): Date {
+  const modelled = new Date("2026-11-02T09:00:00Z");
+  return now < modelled ? now : modelled;
+}
+
 export const DEMO_SITES = [
   { name: "Brightwater Clinic — main campus", customer: "Brightwater Clinic", location: "Harbour Road 12, Eastmere" },
   { name: "Copperleaf Foods — plant 2", customer: "Copperleaf Foods", location: "Mill Lane industrial estate, Westbury Vale" },

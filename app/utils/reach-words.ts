@@ -16,8 +16,10 @@ export function worstByPlace<Row extends { outcome: Outcome }>(rows: readonly Ro
 }
 
 /**
- * "reaches 2 services with a login (2 with a password only), 1 answers, 0 refuse and reveal the
- * device, 15 give no answer" — `places` names what is counted ("service", "device").
+ * "reaches 2 services with a login (2 with a password only), 1 answers, 15 give no answer" —
+ * `places` names what is counted ("service", "device"). The logins are always said (none is
+ * news too); the other outcomes only when some place gets them, so a zero never reads as if it
+ * contradicted rows of the table.
  */
 export function reachSummary(outcomes: readonly Outcome[], places: PluralForms): string {
   const count = (wanted: readonly Outcome[]) => outcomes.filter((outcome) => wanted.includes(outcome)).length;
@@ -33,10 +35,14 @@ export function reachSummary(outcomes: readonly Outcome[], places: PluralForms):
     .map(([n, words]) => `${formatNumber(n)} ${words}`)
     .join(", ");
   const verb = (n: number, forms: PluralForms) => `${formatNumber(n)} ${pluralWord(n, forms)}`;
-  return [
-    `reaches ${plural(logins, places)} with a login${loginDetail ? ` (${loginDetail})` : ""}`,
-    verb(count(["answered"]), { one: "answers", other: "answer" }),
-    verb(count(["refused"]), { one: "refuses and reveals the device", other: "refuse and reveal the device" }),
-    verb(count(["silent"]), { one: "gives no answer", other: "give no answer" }),
-  ].join(", ");
+  const others = (
+    [
+      [count(["answered"]), { one: "answers", other: "answer" }],
+      [count(["refused"]), { one: "refuses and reveals the device", other: "refuse and reveal the device" }],
+      [count(["silent"]), { one: "gives no answer", other: "give no answer" }],
+    ] as const
+  )
+    .filter(([n]) => n > 0)
+    .map(([n, forms]) => verb(n, forms));
+  return [`reaches ${plural(logins, places)} with a login${loginDetail ? ` (${loginDetail})` : ""}`, ...others].join(", ");
 }

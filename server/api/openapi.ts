@@ -103,6 +103,8 @@ export function openApiDocument(endpoints: readonly ApiEndpoint[], extra: readon
       { name: "Devices", description: "The organisation's devices." },
       { name: "Revisions", description: "A device's saved revisions; they never change." },
       { name: "Analysis", description: "Trace, reach, the exposure map and findings of a device's current revision." },
+      { name: "Fleet", description: "Answers across every device of the organisation." },
+      { name: "Field checks", description: "What was observed from a vantage point, compared with the model." },
       { name: "Proposals", description: "Changes reviewed before they land." },
     ],
     externalDocs: { description: "Problem types and the reference in the app", url: API_REFERENCE_PATH },

@@ -472,7 +472,7 @@ function renderCheck(result: FieldCheckResult): string {
   const { agreements, differences, invalid, agreementRate } = result.counts;
   const rate = agreementRate === null ? "nothing could be checked" : `agreement ${formatPercent(agreementRate)}`;
   const rows = table(
-    ["line", "when", "from", "to", "service", "observed", "predicted", "", "why"],
+    ["line", "when", "from", "to", "service", "observed", "predicted", "result", "why"],
     result.rows.map((row) => [
       String(row.line),
       row.when,

@@ -438,7 +438,7 @@ export function compareExpectations(before: CompiledModel, after: CompiledModel,
 
 function headlineOf(groups: readonly EffectGroup[], lockout: readonly EffectLockout[]): string {
   const parts: string[] = [];
-  if (lockout.length > 0) parts.push(`Locks out ${listWords(lockout.map((l) => `operator network "${l.operatorNetwork}"`))}`);
+  if (lockout.length > 0) parts.push(`Locks out ${listWords(lockout.map((l) => `operator network “${l.operatorNetwork}”`))}`);
   if (groups.length === 0) {
     parts.push("no source's outcome changes");
     return capitalise(parts.join("; "));
@@ -446,7 +446,7 @@ function headlineOf(groups: readonly EffectGroup[], lockout: readonly EffectLock
   const shown = groups.slice(0, 2);
   parts.push(...shown.map((g) => g.words));
   const rest = groups.length - shown.length;
-  parts.push(rest === 0 ? "nothing else changes" : `and ${rest} more ${pluralWord(rest, { one: "kind", other: "kinds" })} of change`);
+  parts.push(rest === 0 ? "nothing else changes" : `and ${rest} more ${pluralWord(rest, { one: "change", other: "changes" })} in who gets what`);
   return capitalise(parts.join("; "));
 }
 

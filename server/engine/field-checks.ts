@@ -6,6 +6,7 @@
 
 import { z } from "zod";
 import { parseAddress } from "./addresses.ts";
+import { formatInstant } from "./format.ts";
 import { ProbeError } from "./compile.ts";
 import type { CompiledModel } from "./compile.ts";
 import { traceProbe } from "./trace.ts";
@@ -224,7 +225,7 @@ export function checkObservations(observations: readonly ObservationInput[], rev
     while (live + 1 < revisions.length && revisions[live + 1].liveFromMs <= valid.at) live++;
     if (live < 0) {
       const first = revisions[0];
-      return invalid(first === undefined ? "the device has no revision to predict with" : `observed before ${named(first)} was saved (${new Date(first.liveFromMs).toISOString()}): no model of the device then`, { at });
+      return invalid(first === undefined ? "the device has no revision to predict with" : `observed before ${named(first)} was saved (${formatInstant(first.liveFromMs)}): no model of the device then`, { at });
     }
     const revision = revisions[live];
     let prediction: { interface: string; trace: TraceResult };

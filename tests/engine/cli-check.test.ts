@@ -39,6 +39,8 @@ describe("sallyport check", { timeout: 60_000 }, () => {
     const r = sallyport("check", MODEL, "--observations", file("agree.csv", [HEADER, ...AGREE]));
     expect(r.code).toBe(0);
     expect(r.stdout).toContain("3 observations agree, 0 differ, 0 rows not checked; agreement 100%");
+    // Every column of the table is named (the walk of 2026-12-02 found the result column without a heading).
+    expect(r.stdout.split("\n")[0].trim().split(/\s{2,}/)).toEqual(["line", "when", "from", "to", "service", "observed", "predicted", "result", "why"]);
     expect(r.stderr).toBe("");
   });
 

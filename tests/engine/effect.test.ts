@@ -295,7 +295,7 @@ describe("the effect in words, and what blocks a change", () => {
     const after = compileModel(validated({ ...EDGE, inboundRules: rules }), { basis: before });
     const effect = changeEffect(before, after, { workFrom: ["198.51.100.7"] });
     // RFC 4632: a /22 holds 2^10 = 1,024 addresses.
-    expect(effect.headline).toBe('Locks out operator network "noc"; 1,024 addresses lose their login on wan ssh; nothing else changes');
+    expect(effect.headline).toBe('Locks out operator network “noc”; 1,024 addresses lose their login on wan ssh; nothing else changes');
     expect(effect.groups).toHaveLength(1);
     expect(effect.groups[0]).toMatchObject({ key: "login-mfa>silent", direction: "loses", count: "1024", sources: { items: ["198.51.100.0/22"], total: 1 } });
     expect(effect.totals).toEqual({ gains: "0", loses: "1024" });

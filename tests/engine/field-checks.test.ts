@@ -6,6 +6,7 @@ import { describe, expect, test } from "vitest";
 import { checkObservations, compileModel, parseModel, trace } from "#server/engine/index.ts";
 import type { CompiledModel, DeviceModelInput, RevisionAtTime } from "#server/engine/index.ts";
 import { readObservationsCsv } from "#server/formats/observations.ts";
+import { demoModelledAt } from "../../seeders/demo-data.ts";
 import { SALTMARSH, SALTMARSH_R2 } from "#tests/support/saltmarsh.ts";
 
 function compiled(input: DeviceModelInput): CompiledModel {
@@ -130,5 +131,20 @@ describe("The documented example file", () => {
     expect(result.counts).toEqual({ rows: read.observations.length, agreements: read.observations.length, differences: 0, invalid: 0, agreementRate: 1 });
     // The example shows the optional interface column in use.
     expect(read.observations.some((row) => row.interface !== "")).toBe(true);
+  });
+
+  test("on the demo as seeded, every row of the example is predicted with r1, not refused as older than the device's model", () => {
+    // Found in the user walk of 2026-12-02: seeded "now", r1 was newer than every row of the
+    // example, so the file linked from the Field checks tab gave 6 rows "not checked".
+    const read = readObservationsCsv(readFileSync(new URL("../../public/examples/field-check.csv", import.meta.url), "utf8"));
+    if (!read.ok) throw new Error(read.message);
+    const device = compiled(JSON.parse(readFileSync(new URL("../../seeders/devices/clf-fw-01.json", import.meta.url), "utf8")));
+    const seededAt = new Date(NOW);
+    const result = checkObservations(read.observations, [{ number: 1, liveFromMs: demoModelledAt(seededAt).getTime(), compiled: () => device }], NOW);
+    expect(result.counts).toMatchObject({ rows: read.observations.length, agreements: read.observations.length, invalid: 0 });
+    // Without it (r1 saved at the seeding instant) the same rows are refused, with the instant in words.
+    const refused = checkObservations(read.observations, [{ number: 1, liveFromMs: NOW, compiled: () => device }], NOW);
+    expect(refused.counts.invalid).toBe(read.observations.length);
+    expect(refused.rows[0].problem).toBe("observed before revision r1 was saved (Wed 2 Dec 2026, 12:00 UTC): no model of the device then");
   });
 });

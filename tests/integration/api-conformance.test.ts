@@ -133,12 +133,45 @@ describe("The OpenAPI document and every endpoint's real answers", () => {
     // PRODUCT.md §3: partner-hq (198.51.100.0/26) is allowed by r2; the account's login sources are the NOC only.
     expect(traced.json).toMatchObject({ outcome: "login-denied", ruleId: "r2" });
     expect(conformance.check("GET /devices/{device}/trace", await author.get(`${device}/trace?from=10.0.0&interface=outside&service=https`)).status).toBe(400);
+    // A block is answered per group of its sources (the walk of 2026-12-02 found it refused as "not an IPv4 address").
+    const grouped = conformance.check("GET /devices/{device}/trace", await author.get(`${device}/trace?from=198.51.100.0/24&interface=outside&service=https&at=2026-12-02T10:00:00Z`));
+    const groups = (grouped.json as { count: string; groups: Array<{ sources: string[]; count: string; outcome: string; trace: { outcome: string } }> }).groups;
+    expect((grouped.json as { count: string }).count).toBe("256"); // RFC 4632 §3.1
+    expect(groups.reduce((sum, group) => sum + BigInt(group.count), 0n)).toBe(256n);
+    expect(groups.find((group) => group.sources.includes("198.51.100.0/26"))).toMatchObject({ outcome: "login-denied", count: "64", trace: { outcome: "login-denied" } });
+    expect(conformance.check("GET /devices/{device}/trace", await author.get(`${device}/trace?from=198.51.100.0/33&interface=outside&service=https`)).status).toBe(400);
     expect(conformance.check("GET /devices/{device}/trace", await author.get(`${device}/trace?interface=outside`)).status).toBe(400);
     expect(conformance.check("GET /devices/{device}/trace", await stranger.get(`${device}/trace?from=198.51.100.7&interface=outside&service=https`)).status).toBe(404);
 
     const reached = conformance.check("GET /devices/{device}/reach", await author.get(`${device}/reach?from=10.20.30.5`));
     expect((reached.json as { rows: unknown[] }).rows).toHaveLength(2 * 6);
     expect(conformance.check("GET /devices/{device}/reach", await author.get(`${device}/reach?from=10.20.30.5&at=yesterday`)).status).toBe(400);
+    // Found in the user walk of 2026-12-02: the interface filter was dropped and a block's rows did
+    // not say which of its sources each answered for. A block's groups per place add up to the block.
+    const outside = conformance.check("GET /devices/{device}/reach", await author.get(`${device}/reach?from=198.51.100.0/24&interface=outside`));
+    const outsideRows = (outside.json as { rows: Array<{ interface: string; service: string; outcome: string; sources: string[]; count: string }> }).rows;
+    expect(new Set(outsideRows.map((row) => row.interface))).toEqual(new Set(["outside"]));
+    const https = outsideRows.filter((row) => row.service === "https");
+    expect(https.length).toBeGreaterThan(1);
+    expect(https.reduce((sum, row) => sum + BigInt(row.count), 0n)).toBe(256n); // RFC 4632 §3.1: a /24 holds 2^8 addresses
+    // partner-hq (198.51.100.0/26) is allowed by r2 and its login refused: PRODUCT.md §3.
+    expect(https.find((row) => row.sources.includes("198.51.100.0/26"))).toMatchObject({ outcome: "login-denied", count: "64" });
+    expect(conformance.check("GET /devices/{device}/reach", await author.get(`${device}/reach?from=10.20.30.5&interface=outside,nowhere`)).status).toBe(400);
+
+    // Fleet reach: the organisation's devices only, filtered by role; bad input is a 400.
+    const fleet = conformance.check("GET /reach", await author.get(`/reach?from=198.51.100.7&role=wan&service=https`));
+    const fleetRows = (fleet.json as { devices: number; rows: Array<{ deviceId: string; role: string; service: string; outcome: string; ruleId: string | null }> }).rows;
+    // The team's device (an earlier test made another from a document).
+    expect((fleet.json as { devices: number }).devices).toBeGreaterThanOrEqual(1);
+    expect(fleetRows.filter((row) => row.deviceId === team.deviceId)).toEqual([expect.objectContaining({ role: "wan", service: "https", outcome: "login-denied", ruleId: "r2" })]);
+    expect(new Set(fleetRows.map((row) => `${row.role} ${row.service}`))).toEqual(new Set(["wan https"]));
+    // Another organisation's fleet reach holds its own devices, never this one.
+    const theirs = (conformance.check("GET /reach", await stranger.get(`/reach?from=198.51.100.7`)).json as { rows: Array<{ deviceId: string }> }).rows;
+    expect(theirs.length).toBeGreaterThan(0);
+    expect(theirs.filter((row) => row.deviceId === team.deviceId)).toEqual([]);
+    expect(conformance.check("GET /reach", await author.get(`/reach?from=198.51.100.0/33`)).status).toBe(400); // RFC 4632 §3.1: /0 to /32
+    expect(conformance.check("GET /reach", await author.get(`/reach?from=198.51.100.7&role=outside`)).status).toBe(400);
+    expect(conformance.check("GET /reach", await author.get(`/reach?from=198.51.100.7&site=not-a-uuid`)).status).toBe(400);
 
     const exposurePage = conformance.check("GET /devices/{device}/exposure", await author.get(`${device}/exposure?limit=3&at=2026-12-02T10:00:00Z`));
     const next = (exposurePage.json as { nextCursor: string }).nextCursor;
@@ -187,6 +220,41 @@ describe("The OpenAPI document and every endpoint's real answers", () => {
     expect(byService.status).toBe(201);
     const serviceId = (byService.json as { id: string }).id;
     expect(conformance.check("POST /devices/{device}/proposals/{proposal}/submit", await service.post(`${device}/proposals/${serviceId}/submit`, {})).status).toBe(200);
+  });
+
+  test("Field checks are recorded, listed and read as documented: agreements, a difference and two bad rows, each on its own", async () => {
+    // Found in the user walk of 2026-12-02: issue 13 asks for observations posted to the API; there was no endpoint.
+    const { author, reader, trainee, stranger } = clients;
+    const device = `/devices/${team.deviceId}`;
+    const when = new Date().toISOString();
+    const observations = [
+      // partner-hq (198.51.100.0/26) is allowed by r2 on outside https and its login refused (PRODUCT.md §3): a login page agrees.
+      { when, from: "198.51.100.7", to: "203.0.113.2", service: "https", observed: "login", note: "partner laptop" },
+      { when, from: "198.51.100.9", to: "203.0.113.2", service: "https", observed: "login-denied" },
+      { when, from: "198.51.100.8", to: "203.0.113.2", service: "https", observed: "silent" },
+      { when, from: "198.51.100.300", to: "203.0.113.2", service: "https", observed: "silent" },
+      { when: "2026-12-01T10:00", from: "198.51.100.7", to: "203.0.113.2", service: "https", observed: "login" },
+    ];
+    const recorded = conformance.check("POST /devices/{device}/field-checks", await author.post(`${device}/field-checks`, { fileName: "walk.csv", observations }));
+    expect(recorded.status).toBe(201);
+    const check = recorded.json as { id: string; counts: { rows: number; agreements: number; differences: number; invalid: number }; rows: Array<{ line: number; status: string; problem: string | null }> };
+    expect(check.counts).toMatchObject({ rows: 5, agreements: 2, differences: 1, invalid: 2 });
+    expect(check.rows.map((row) => row.status)).toEqual(["agrees", "agrees", "differs", "invalid", "invalid"]);
+    expect(check.rows[3].problem).toContain("198.51.100.300");
+    expect(check.rows[4].problem).toContain("offset");
+    expect(recorded.headers.get("Location")).toBe(`/api/v1${device}/field-checks/${check.id}`);
+
+    const listed = conformance.check("GET /devices/{device}/field-checks", await reader.get(`${device}/field-checks`));
+    expect((listed.json as { items: Array<{ id: string; source: string }> }).items[0]).toMatchObject({ id: check.id, source: "api" });
+    expect(conformance.check("GET /devices/{device}/field-checks/{check}", await reader.get(`${device}/field-checks/${check.id}`)).json).toMatchObject({ id: check.id, counts: check.counts });
+
+    expect(conformance.check("GET /devices/{device}/field-checks/{check}", await reader.get(`${device}/field-checks/${randomUUID()}`)).status).toBe(404);
+    expect(conformance.check("GET /devices/{device}/field-checks", await stranger.get(`${device}/field-checks`)).status).toBe(404);
+    expect(conformance.check("GET /devices/{device}/field-checks", await reader.get(`${device}/field-checks?limit=0`)).status).toBe(400);
+    // A read token may not record; a trainee's write token may not either (the tab's role is engineer).
+    expect(conformance.check("POST /devices/{device}/field-checks", await reader.post(`${device}/field-checks`, { observations })).status).toBe(403);
+    expect(conformance.check("POST /devices/{device}/field-checks", await trainee.post(`${device}/field-checks`, { observations })).status).toBe(403);
+    expect(conformance.check("POST /devices/{device}/field-checks", await author.post(`${device}/field-checks`, { observations: [] })).status).toBe(400);
   });
 
   test("A token over its rate limit gets a 429 problem with Retry-After (RFC 6585 §4)", async () => {

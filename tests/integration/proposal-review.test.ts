@@ -159,7 +159,7 @@ describe("The effect a reviewer reads", () => {
     const draft = compileModel(draftDocument.model);
     const engine = changeEffect(base.analysis.compiled, draft, { workFrom: ["10.20.30.41"] });
     expect(json.effect.headline).toBe(engine.headline);
-    expect(json.effect.headline).toMatch(/^Locks out operator network "noc-net"/);
+    expect(json.effect.headline).toMatch(/^Locks out operator network “noc-net”/);
     expect(json.effect.blocked).toBe(true);
     expect(json.effect.blocking.map((entry) => entry.kind)).toEqual(["lockout", "work-from"]);
     expect(json.effect.rules.moved).toEqual([expect.objectContaining({ id: "r4", from: 4, to: 1 })]);

@@ -33,6 +33,24 @@ export const TERMINAL: DeviceModelInput = {
 
 export const TIMEZONE = "Europe/Oslo";
 
+/**
+ * The change the effect tests propose on TERMINAL: a deny on mgmt above the NOC's rule,
+ * contractor web all week instead of weekdays, the v6 NOC's ssh on wan gone and ping no longer
+ * allowed — unless `extra` rules, put before the final drop, allow some of it back.
+ */
+export function proposedTerminal(extra: DeviceModelInput["inboundRules"] = []): DeviceModelInput {
+  return {
+    ...TERMINAL,
+    inboundRules: [
+      { id: "mgmt-drop", interface: "mgmt", sources: ["any"], destinations: ["any"], services: ["any"], action: "deny" },
+      { id: "noc-in", interface: "mgmt", sources: ["noc"], destinations: ["any"], services: ["ssh", "https"], action: "allow" },
+      { id: "contractor-web", interface: "wan", sources: ["contractor"], destinations: ["any"], services: ["https"], action: "allow" },
+      ...(extra ?? []),
+      { id: "drop", interface: "any", sources: ["any"], destinations: ["any"], services: ["any"], action: "deny" },
+    ],
+  };
+}
+
 /** A model compiled (on `basis`, when given, as a draft is compiled on its base). */
 export function compiled(input: DeviceModelInput | DeviceModel, basis?: CompiledModel): CompiledModel {
   const parsed = parseModel(input);

@@ -19,19 +19,10 @@ import { instantOfWeekMinute } from "#server/engine/week-times";
 import { generateModel, prng, SMALL_SIZE } from "#server/engine/testing/generate-model";
 import { RULE_EDITS } from "#tests/engine/random-edits";
 import { propertyParameters, type PropertyBudget } from "#tests/support/property-runs";
-import { compiled, TERMINAL } from "#tests/support/terminal-gateway";
+import { compiled, proposedTerminal, TERMINAL } from "#tests/support/terminal-gateway";
 
 /** The proposal: a deny on mgmt above the NOC's rule, contractor web all week, ping only from the contractor, the v6 NOC's ssh dropped. */
-const PROPOSED: DeviceModelInput = {
-  ...TERMINAL,
-  inboundRules: [
-    { id: "mgmt-drop", interface: "mgmt", sources: ["any"], destinations: ["any"], services: ["any"], action: "deny" },
-    { id: "noc-in", interface: "mgmt", sources: ["noc"], destinations: ["any"], services: ["ssh", "https"], action: "allow" },
-    { id: "contractor-web", interface: "wan", sources: ["contractor"], destinations: ["any"], services: ["https"], action: "allow" },
-    { id: "ping-contractor", interface: "wan", sources: ["contractor"], destinations: ["any"], services: ["ping"], action: "allow" },
-    { id: "drop", interface: "any", sources: ["any"], destinations: ["any"], services: ["any"], action: "deny" },
-  ],
-};
+const PROPOSED: DeviceModelInput = proposedTerminal([{ id: "ping-contractor", interface: "wan", sources: ["contractor"], destinations: ["any"], services: ["ping"], action: "allow" }]);
 
 /** What trace says about one source on one interface × service: its moves and its most exposed outcome on the draft. */
 type Traced = { moves: Set<string>; after: Outcome | null };

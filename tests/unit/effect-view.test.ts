@@ -8,19 +8,11 @@ import { describe, expect, test } from "vitest";
 import { formatAddress, parseCidr } from "#server/engine/addresses";
 import { effectPicture, effectView } from "#server/analysis/effect-view";
 import { changeEffect, exposure, findings, OUTCOMES, outcomeRank, trace, type CompiledModel, type DeviceModelInput } from "#server/engine/index";
-import { compiled, TERMINAL, TIMEZONE } from "#tests/support/terminal-gateway";
+import { compiled, proposedTerminal, TERMINAL, TIMEZONE } from "#tests/support/terminal-gateway";
 import { instantOfWeekTime } from "#server/engine/week-times";
 
 /** The proposal: a deny on mgmt above the NOC's rule, contractor web all week instead of weekdays, ping no longer allowed, and the v6 NOC's ssh on wan gone. */
-const PROPOSED: DeviceModelInput = {
-  ...TERMINAL,
-  inboundRules: [
-    { id: "mgmt-drop", interface: "mgmt", sources: ["any"], destinations: ["any"], services: ["any"], action: "deny" },
-    { id: "noc-in", interface: "mgmt", sources: ["noc"], destinations: ["any"], services: ["ssh", "https"], action: "allow" },
-    { id: "contractor-web", interface: "wan", sources: ["contractor"], destinations: ["any"], services: ["https"], action: "allow" },
-    { id: "drop", interface: "any", sources: ["any"], destinations: ["any"], services: ["any"], action: "deny" },
-  ],
-};
+const PROPOSED: DeviceModelInput = proposedTerminal();
 
 const before = compiled(TERMINAL);
 const after = compiled(PROPOSED, before);

@@ -1,5 +1,5 @@
 import { Form, useNavigation } from "react-router";
-import { ApiReferenceLink, NewTokenSecret, ScopeAndLifetimeFields, TokenTable, type CreatedToken } from "#app/components/api-tokens/tokens";
+import { ApiReferenceLink, CreateTokenForm, NewTokenSecret, TokenTable, type CreatedToken } from "#app/components/api-tokens/tokens";
 import { PASSWORD_MIN_LENGTH } from "#server/auth/password-rules";
 import type { AccountPageData } from "#server/http/account-page.server";
 import { auditSentence } from "#app/utils/audit-words";
@@ -126,13 +126,16 @@ export function AccountSettings({ data, result, organisation }: { data: AccountP
           {data.tokenOrganisations.length === 0 ? (
             <p className="mt-4 text-sm text-ink-faint">Tokens act in an organisation: join or create one first.</p>
           ) : (
-            // A new key once a token is made, so the form starts empty again.
-            <Form key={created?.secret ?? "new"} method="post" className="mt-4 grid gap-4 sm:grid-cols-2 lg:grid-cols-4 lg:items-start" noValidate aria-label="Create an API token">
-              <input type="hidden" name="intent" value="create-token" />
-              <div className="sm:col-span-2 lg:col-span-4">
-                <FormError message={token.errors.form && !token.errors.name && !token.errors.organisation ? token.errors.form : null} />
-              </div>
-              <TextField label="Name" name="name" required maxLength={100} defaultValue={token.values.name} error={token.errors.name} hint="Where it is used, e.g. “nightly exposure check”." />
+            <CreateTokenForm
+              label="Create an API token"
+              resetKey={created?.secret ?? "new"}
+              values={token.values}
+              errors={token.errors}
+              nameHint="Where it is used, e.g. “nightly exposure check”."
+              actsAsField="organisation"
+              submitLabel="Create token"
+              busy={busy}
+            >
               <SelectField label="Organisation" name="organisation" defaultValue={token.values.organisation ?? organisation ?? data.tokenOrganisations[0].slug} error={token.errors.organisation}>
                 {data.tokenOrganisations.map((choice) => (
                   <option key={choice.slug} value={choice.slug}>
@@ -140,13 +143,7 @@ export function AccountSettings({ data, result, organisation }: { data: AccountP
                   </option>
                 ))}
               </SelectField>
-              <ScopeAndLifetimeFields values={token.values} errors={token.errors} />
-              <div className="sm:col-span-2 lg:col-span-4">
-                <Button type="submit" variant="secondary" disabled={busy}>
-                  Create token
-                </Button>
-              </div>
-            </Form>
+            </CreateTokenForm>
           )}
           <TokenTable tokens={data.tokens.map((row) => ({ ...row, actsAs: row.organisation }))} now={data.now} actsAsHeading="Organisation" busy={busy} />
         </Card>

@@ -1,10 +1,10 @@
-import { useState } from "react";
+import { useState, type ReactNode } from "react";
 import { Form, Link } from "react-router";
 import { TOKEN_LIFETIMES_DAYS } from "#models/api-token-words";
 import { formatDuration } from "#server/engine/format";
 import { Badge } from "#app/components/ui/card";
 import { Button } from "#app/components/ui/button";
-import { SelectField } from "#app/components/ui/field";
+import { FormError, SelectField, TextField } from "#app/components/ui/field";
 import { Table, Td, Th } from "#app/components/ui/table";
 import { Time } from "#app/components/ui/time";
 
@@ -28,7 +28,7 @@ export type CreatedToken = { secret: string; name: string; organisation: string;
 export const SCOPE_LABELS = { read: "Read", write: "Read and write" } as const;
 
 /** The scope and lifetime fields both token forms ask for, keeping what was chosen. */
-export function ScopeAndLifetimeFields({ values, errors }: { values: Record<string, string>; errors: Record<string, string> }) {
+function ScopeAndLifetimeFields({ values, errors }: { values: Record<string, string>; errors: Record<string, string> }) {
   return (
     <>
       <SelectField label="Scope" name="scope" defaultValue={values.scope ?? "read"} error={errors.scope}>
@@ -43,6 +43,51 @@ export function ScopeAndLifetimeFields({ values, errors }: { values: Record<stri
         ))}
       </SelectField>
     </>
+  );
+}
+
+/**
+ * The form that makes a token — a personal one on the account page, a service one in Settings:
+ * its name, who it acts as (`children`: the organisation, or the role, a field named
+ * `actsAsField` whose own error makes the form's redundant), its scope and lifetime. A new
+ * `resetKey` once a token is made starts the form empty again; what was typed stays after a refusal.
+ */
+export function CreateTokenForm({
+  label,
+  resetKey,
+  values,
+  errors,
+  nameHint,
+  actsAsField,
+  submitLabel,
+  busy,
+  children,
+}: {
+  label: string;
+  resetKey: string;
+  values: Record<string, string>;
+  errors: Record<string, string>;
+  nameHint: string;
+  actsAsField: string;
+  submitLabel: string;
+  busy: boolean;
+  children: ReactNode;
+}) {
+  return (
+    <Form key={resetKey} method="post" className="mt-4 grid gap-4 sm:grid-cols-2 lg:grid-cols-4 lg:items-start" noValidate aria-label={label}>
+      <input type="hidden" name="intent" value="create-token" />
+      <div className="sm:col-span-2 lg:col-span-4">
+        <FormError message={errors.form && !errors.name && !errors[actsAsField] ? errors.form : null} />
+      </div>
+      <TextField label="Name" name="name" required maxLength={100} defaultValue={values.name} error={errors.name} hint={nameHint} />
+      {children}
+      <ScopeAndLifetimeFields values={values} errors={errors} />
+      <div className="sm:col-span-2 lg:col-span-4">
+        <Button type="submit" variant="secondary" disabled={busy}>
+          {submitLabel}
+        </Button>
+      </div>
+    </Form>
   );
 }
 

@@ -10,6 +10,7 @@ import type { EffectGroupView, EffectPicture, EffectView, EffectWitness, Picture
 import { formatCount, formatInstant, plural, pluralWord } from "#server/engine/format";
 import { OUTCOMES, outcomeRank, type Outcome } from "#server/engine/vocabulary";
 import { Count } from "../analysis/common";
+import { ExposureTotals } from "../analysis/exposure-totals";
 import { CellMark, cellStyle, OutcomeLegend } from "../analysis/outcome-marks";
 import { OUTCOME_LABELS, OutcomeChip } from "../outcome";
 import { SeverityBadge } from "../severity";
@@ -17,6 +18,7 @@ import { Badge } from "../ui/card";
 import { cx } from "../ui/cx";
 import { ScrollArea } from "../ui/scroll-area";
 import { ExpectationStatusBadge } from "./expectation-status";
+import { workFromWords } from "./proposal-bits";
 import { EffectSpaceSection } from "./effect-space";
 import type { EffectSpaceChoice, EffectSpaceView } from "#server/analysis/effect-space";
 import { witnessQuery } from "#app/utils/trace-links";
@@ -38,12 +40,7 @@ export function EffectHeadline({ effect }: { effect: Pick<EffectView, "headline"
       </p>
       {effect.changed ? (
         <div className="flex flex-wrap gap-2 text-sm">
-          <span className={cx("rounded-control border px-2 py-1", BigInt(effect.totals.gains) > 0n ? "border-danger/40 bg-danger-soft text-danger" : "border-line text-ink-muted")} data-testid="effect-gains" data-count={effect.totals.gains}>
-            More exposed: {formatCount(effect.totals.gains).text} {pluralWord(BigInt(effect.totals.gains), { one: "source", other: "sources" })}
-          </span>
-          <span className={cx("rounded-control border px-2 py-1", BigInt(effect.totals.loses) > 0n ? "border-success/40 bg-success-soft text-success" : "border-line text-ink-muted")} data-testid="effect-loses" data-count={effect.totals.loses}>
-            Less exposed: {formatCount(effect.totals.loses).text} {pluralWord(BigInt(effect.totals.loses), { one: "source", other: "sources" })}
-          </span>
+          <ExposureTotals more={effect.totals.gains} less={effect.totals.loses} testIds={{ more: "effect-gains", less: "effect-loses" }} />
         </div>
       ) : null}
     </div>
@@ -119,7 +116,7 @@ function Group({ group, timezone, search, trace }: { group: EffectGroupView; tim
         <p className="text-xs text-ink-muted">
           Sources {sources.total > sources.items.length ? `${(sources.offset + 1).toLocaleString("en")}–${end.toLocaleString("en")} of ${plural(sources.total, { one: "block", other: "blocks" })}` : `(${plural(sources.total, { one: "block", other: "blocks" })})`}:
         </p>
-        <p className="font-mono text-xs break-all" data-testid="effect-group-sources">
+        <p className="font-mono text-xs wrap-anywhere" data-testid="effect-group-sources">
           {sources.items.join(", ")}
         </p>
         {sources.total > sources.items.length ? (
@@ -320,6 +317,7 @@ export function EffectDetails({
   space = null,
   gate = null,
   trace = null,
+  workFrom,
 }: {
   effect: EffectView;
   search: URLSearchParams;
@@ -328,6 +326,8 @@ export function EffectDetails({
   space?: EffectSpaceView | null;
   gate?: { anchor: string; title: string; blocked: boolean } | null;
   trace?: TraceSides | null;
+  /** The work-from address the author declared ("" when none), named when it keeps its logins. */
+  workFrom: string;
 }) {
   // Operator networks that lose every login path are the gate's first reasons; shown there, not here.
   const lockout = gate ? [] : effect.lockout;
@@ -403,10 +403,10 @@ export function EffectDetails({
           <p className="mt-1 text-sm text-ink-muted">
             {gate && effect.lockout.length > 0 ? (
               <>
-                Operator networks that lose every login path are listed under <a href={gate.anchor} className="text-harbour underline underline-offset-4">{gate.title}</a>; the address the author works from keeps its logins.
+                Operator networks that lose every login path are listed under <a href={gate.anchor} className="text-harbour underline underline-offset-4">{gate.title}</a>; {workFromWords(workFrom)}.
               </>
             ) : (
-              "No operator network loses its last login path; the address the author works from keeps its logins."
+              `No operator network loses its last login path; ${workFromWords(workFrom)}.`
             )}
           </p>
         ) : (
@@ -414,14 +414,14 @@ export function EffectDetails({
             {lockout.map((entry) => (
               <li key={entry.operatorNetwork} className="border-l-2 border-danger pl-3">
                 <p>{entry.words}</p>
-                <p className="font-mono text-xs break-all text-ink-muted">sources: {entry.sources.join(", ")}</p>
+                <p className="font-mono text-xs wrap-anywhere text-ink-muted">sources: {entry.sources.join(", ")}</p>
                 {entry.services.length > 0 ? <p className="font-mono text-xs text-ink-muted">services: {entry.services.map((service) => `${service.interface} ${service.service}`).join(", ")}</p> : null}
               </li>
             ))}
             {effect.workFrom.map((entry) => (
               <li key={entry.sources.join(" ")} className="border-l-2 border-danger pl-3">
                 <p>{entry.words}</p>
-                <p className="font-mono text-xs break-all text-ink-muted">sources: {entry.sources.join(", ")}</p>
+                <p className="font-mono text-xs wrap-anywhere text-ink-muted">sources: {entry.sources.join(", ")}</p>
                 <p className="font-mono text-xs text-ink-muted">services: {entry.services.map((service) => `${service.interface} ${service.service}`).join(", ")}</p>
               </li>
             ))}

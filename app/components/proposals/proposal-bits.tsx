@@ -81,3 +81,12 @@ export function GateReasons({ reasons }: { reasons: readonly ShownReason[] }) {
     </ul>
   );
 }
+
+/**
+ * What the lockout guard says of the author's own address when nothing is lost: it names the
+ * declared address, or says that none was declared (then only operator networks are guarded).
+ */
+export function workFromWords(workFrom: string): string {
+  const declared = workFrom.trim();
+  return declared ? `the address the author works from (${declared}) keeps its logins` : "no work-from address was declared, so only the operator networks are guarded";
+}

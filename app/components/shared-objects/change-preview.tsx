@@ -11,6 +11,7 @@ import { cx } from "#app/components/ui/cx";
 import { formatCount } from "#server/engine/format";
 import type { ExposureChangeRow, FindingLine } from "#server/analysis/exposure-change";
 import type { DeviceEffect, SharedChangePreview } from "#server/services/shared-objects.server";
+import { ExposureTotals } from "#app/components/analysis/exposure-totals";
 import { CsvReport } from "./csv-report";
 import { witnessTracePath } from "#app/utils/trace-links";
 
@@ -123,12 +124,7 @@ export function DeviceEffectDetails({ effect, devicePath, headingId, foldRows = 
           <Badge>No outcome changes for any source</Badge>
         ) : (
           <>
-            <span className={cx("rounded-control border px-2 py-1", BigInt(exposure.moreExposed) > 0n ? "border-danger/40 bg-danger-soft text-danger" : "border-line text-ink-muted")} data-testid="more-exposed" data-count={exposure.moreExposed}>
-              More exposed: {counted(exposure.moreExposed, "source", "sources")}
-            </span>
-            <span className={cx("rounded-control border px-2 py-1", BigInt(exposure.lessExposed) > 0n ? "border-success/40 bg-success-soft text-success" : "border-line text-ink-muted")} data-testid="less-exposed" data-count={exposure.lessExposed}>
-              Less exposed: {counted(exposure.lessExposed, "source", "sources")}
-            </span>
+            <ExposureTotals more={exposure.moreExposed} less={exposure.lessExposed} testIds={{ more: "more-exposed", less: "less-exposed" }} />
           </>
         )}
         {exposure.findingsAdded.length > 0 ? <Badge tone="danger">{counted(String(exposure.findingsAdded.length), "new finding", "new findings")}</Badge> : null}

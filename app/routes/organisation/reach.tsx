@@ -7,8 +7,8 @@ import type { FleetReachParams } from "#server/analysis/fleet-reach";
 import { listSites } from "#server/services/sites.server";
 import { BUILTIN_SERVICES, INTERFACE_ROLES } from "#server/engine/vocabulary";
 import { formatNumber, plural } from "#server/engine/format";
-import { Count, Pager, SimulationCaution } from "#app/components/analysis/common";
-import { OutcomeOrderNote, ReachAnswerCells } from "#app/components/analysis/reach-cells";
+import { Pager, SimulationCaution } from "#app/components/analysis/common";
+import { OutcomeOrderNote, ReachAnswerCells, ReachAnswerHead, ReachPlaceCells } from "#app/components/analysis/reach-cells";
 import { buttonClasses } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
@@ -142,27 +142,18 @@ export default function FleetReach({ loaderData }: Route.ComponentProps) {
 
       {answer ? (
         <section aria-labelledby="fleet-reach-results" className="space-y-3">
-          <div className="flex flex-wrap items-end justify-between gap-3">
-            <div>
-              <h2 id="fleet-reach-results" className="font-semibold">
-                From <code>{answer.from}</code>
-              </h2>
-              <p className="text-sm text-ink-muted">
-                {answer.block ? (
-                  <>
-                    <Count value={answer.count} /> addresses ·{" "}
-                  </>
-                ) : null}
-                {answer.at ? `At ${answer.at}` : "Now"} · {plural(answer.devices, { one: "device", other: "devices" })} asked
-              </p>
-            </div>
-            <a href={`/o/${slug}/reach.csv?${csvParams.toString()}`} className={buttonClasses("secondary", "sm")} download>
-              Download CSV
-            </a>
-          </div>
+          <ReachAnswerHead
+            id="fleet-reach-results"
+            level="h2"
+            from={answer.from}
+            block={answer.block}
+            count={answer.count}
+            asked={`${answer.at ? `At ${answer.at}` : "Now"} · ${plural(answer.devices, { one: "device", other: "devices" })} asked`}
+            csvHref={`/o/${slug}/reach.csv?${csvParams.toString()}`}
+          />
           <p className="text-sm" aria-live="polite">
             {answer.block ? "Some of " : ""}
-            <strong>{answer.from}</strong> gets an answer from {formatNumber(answer.answered)} of {plural(answer.devices, { one: "device", other: "devices" })}: it {answer.summary}.
+            <strong>{answer.from}</strong> gets an answer from {formatNumber(answer.answered)} of {plural(answer.devices, { one: "device", other: "devices" })}. Each device counted once, by the most it gives: it {answer.summary}.
           </p>
           {answer.devices === 0 ? (
             <EmptyState title="No devices to ask">{params.site ? "This site has no devices yet." : "This organisation has no devices yet."}</EmptyState>
@@ -198,11 +189,7 @@ export default function FleetReach({ loaderData }: Route.ComponentProps) {
                           {row.site} · r{row.revision}
                         </span>
                       </Td>
-                      <Td>
-                        <span className="font-medium">{row.interface}</span> <span className="text-xs text-ink-muted">({row.role})</span>
-                        {row.to ? <span className="block font-mono text-xs text-ink-faint">{row.to}</span> : null}
-                      </Td>
-                      <Td className="font-mono">{row.service}</Td>
+                      <ReachPlaceCells row={row} role={row.role} />
                       <ReachAnswerCells row={row} block={answer.block} />
                     </tr>
                   ))}

@@ -1,15 +1,18 @@
 // The analysis of a device's current revision: trace one probe, reach from one source, the
 // exposure map at an instant, and the findings. The same functions answer the pages, their
 // CSVs and the CLI, so every door gives the same answer.
-import { probeInputOf, ProbeQuerySchema } from "../../analysis/probe.ts";
+import { z } from "zod";
+import { probeInputOf } from "../../analysis/probe.ts";
 import { answerReach } from "../../analysis/reach.server.ts";
 import { exposureEntriesAt, filterEntries, type ExposureQuery as PageExposureQuery } from "../../analysis/exposure.server.ts";
-import { isLayer, isOutcome, isSeverity, trace } from "../../engine/index.ts";
+import { isLayer, isOutcome, isSeverity, isSourceBlock, trace, traceGroups } from "../../engine/index.ts";
 import { Refusal } from "../../errors.ts";
 import { deviceFindings } from "../../services/findings.server.ts";
 import { defineEndpoint } from "../endpoint.server.ts";
 import { decodeCursor, pageOf } from "../pagination.ts";
-import { DeviceParams, ExposureQuery, ExposureSchema, FindingsSchema, ReachQuery, ReachSchema, TraceSchema } from "./schemas.ts";
+import { FleetReachQuerySchema } from "../../analysis/fleet-reach.ts";
+import { fleetReachOf } from "../../services/fleet-reach.server.ts";
+import { DeviceParams, ExposureQuery, ExposureSchema, FindingsSchema, FleetReachApiQuery, FleetReachSchema, namesOf, ReachQuery, ReachSchema, TraceGroupsSchema, TraceQuery, TraceSchema } from "./schemas.ts";
 
 /** A word the engine wrote, typed again after a page-shaped row held it as a string. */
 function word<W extends string>(isWord: (value: unknown) => value is W, value: string): W {
@@ -22,16 +25,19 @@ export const traceEndpoint = defineEndpoint({
   path: "/devices/{device}/trace",
   operationId: "trace",
   summary: "Trace a probe",
-  description: "One probe through every layer of the device's current revision: each layer's verdict, the deciding rule and the eligible accounts. The same JSON as `sallyport trace --json`. An unknown interface, service or account, or a malformed address, is a 400.",
+  description:
+    "One probe through every layer of the device's current revision: each layer's verdict, the deciding rule and the eligible accounts. The same JSON as `sallyport trace --json`. A CIDR block as `from` is answered per group of its sources that get the same answer (TraceGroups), each group with its sources and one trace. An unknown interface, service or account, a malformed address or a block wider than its family is a 400.",
   tag: "Analysis",
   scope: "read",
   role: "trainee",
   params: DeviceParams,
   device: true,
-  query: ProbeQuerySchema,
-  response: { status: 200, description: "The trace.", schema: TraceSchema },
+  query: TraceQuery,
+  response: { status: 200, description: "The trace, or for a block its groups.", schema: z.union([TraceSchema, TraceGroupsSchema]) },
   handle({ device, query }) {
-    return { body: trace(device.analysis.compiled, probeInputOf(query)), headers: { "X-Sallyport-Revision": String(device.revision.number) } };
+    const probe = probeInputOf(query);
+    const body = isSourceBlock(probe.from) ? traceGroups(device.analysis.compiled, probe) : trace(device.analysis.compiled, probe);
+    return { body, headers: { "X-Sallyport-Revision": String(device.revision.number) } };
   },
 });
 
@@ -40,7 +46,8 @@ export const reachEndpoint = defineEndpoint({
   path: "/devices/{device}/reach",
   operationId: "reach",
   summary: "Reach from one source",
-  description: "Everything one source can reach on the device's current revision: every interface × catalogue service with its outcome and the deciding layer.",
+  description:
+    "Everything one source can reach on the device's current revision: every interface × catalogue service with its outcome and the deciding layer. A CIDR block is answered per group of its sources that get the same answer (each row names its sources); `interface` keeps only the interfaces named. An unknown interface is a 400.",
   tag: "Analysis",
   scope: "read",
   role: "trainee",
@@ -49,12 +56,12 @@ export const reachEndpoint = defineEndpoint({
   query: ReachQuery,
   response: { status: 200, description: "The reach rows, in the engine's order.", schema: ReachSchema },
   handle({ device, query }) {
-    const answer = answerReach(device.analysis.compiled, { from: query.from, at: query.at ?? "" });
+    const answer = answerReach(device.analysis.compiled, { from: query.from, at: query.at ?? "", interfaces: namesOf(query.interface) });
     if (!answer.ok) {
       const issues = Object.entries(answer.errors).map(([path, message]) => ({ path, message }));
       throw new Refusal(`The query is not valid: ${issues.map((issue) => `${issue.path}: ${issue.message}`).join(" · ")}`, 400, { issues });
     }
-    const rows = answer.rows.map((row) => ({ interface: row.interface, to: row.to, service: row.service, outcome: row.outcome, layer: word(isLayer, row.layer), detail: row.detail, ruleId: row.ruleId, eligibleAccounts: [...row.eligibleAccounts] }));
+    const rows = answer.rows.map((row) => ({ interface: row.interface, to: row.to, service: row.service, outcome: row.outcome, layer: word(isLayer, row.layer), detail: row.detail, ruleId: row.ruleId, eligibleAccounts: [...row.eligibleAccounts], sources: [...row.sources], count: row.count }));
     return { body: { from: answer.from, at: answer.at, localTime: answer.localTime, rows } };
   },
 });
@@ -130,5 +137,27 @@ export const findingsEndpoint = defineEndpoint({
         })),
       },
     };
+  },
+});
+
+export const fleetReachEndpoint = defineEndpoint({
+  method: "get",
+  path: "/reach",
+  operationId: "fleetReach",
+  summary: "Fleet reach from one source",
+  description:
+    "Which of the organisation's devices one source (an address or a CIDR block) reaches, and how: every device at its current revision, now or at a chosen time, one row per device × interface × service (× group of sources, for a block) with the outcome and the deciding layer, most exposed first. The same answer as the Fleet reach page and its CSV.",
+  tag: "Fleet",
+  scope: "read",
+  role: "trainee",
+  query: FleetReachApiQuery,
+  response: { status: 200, description: "The rows, most exposed first.", schema: FleetReachSchema },
+  async handle({ principal, query }) {
+    const question = FleetReachQuerySchema.safeParse({ from: query.from, at: query.at, roles: namesOf(query.role), services: namesOf(query.service), site: query.site });
+    if (!question.success) {
+      const issues = question.error.issues.map((issue) => ({ path: issue.path.join(".") || "query", message: issue.message }));
+      throw new Refusal(`The query is not valid: ${issues.map((issue) => `${issue.path}: ${issue.message}`).join(" · ")}`, 400, { issues });
+    }
+    return { body: await fleetReachOf(principal.organisation.id, question.data) };
   },
 });

@@ -3,8 +3,9 @@
 // (DEVELOPERS.md, "A new API endpoint"); the OpenAPI document picks it up from this list.
 import { endpointTable, type ApiEndpoint } from "../endpoint.server.ts";
 import { openApiDocument, type OpenApiDocument } from "../openapi.ts";
-import { exposureEndpoint, findingsEndpoint, reachEndpoint, traceEndpoint } from "./analysis.ts";
+import { exposureEndpoint, findingsEndpoint, fleetReachEndpoint, reachEndpoint, traceEndpoint } from "./analysis.ts";
 import { createDeviceEndpoint, getDeviceEndpoint, listDevicesEndpoint } from "./devices.ts";
+import { getFieldCheckEndpoint, listFieldChecksEndpoint, recordFieldCheckEndpoint } from "./field-checks.ts";
 import { createProposalEndpoint, proposalEffectEndpoint, submitProposalEndpoint } from "./proposals.ts";
 import { exportRevisionEndpoint, getRevisionEndpoint, listRevisionsEndpoint } from "./revisions.ts";
 import { ModelDocumentSchema } from "./schemas.ts";
@@ -22,6 +23,10 @@ export const API_V1_ENDPOINTS: readonly ApiEndpoint[] = [
   reachEndpoint,
   exposureEndpoint,
   findingsEndpoint,
+  fleetReachEndpoint,
+  recordFieldCheckEndpoint,
+  listFieldChecksEndpoint,
+  getFieldCheckEndpoint,
   createProposalEndpoint,
   proposalEffectEndpoint,
   submitProposalEndpoint,
@@ -37,7 +42,7 @@ export function apiV1Document(): OpenApiDocument {
   document ??= openApiDocument(API_V1_ENDPOINTS, [ModelDocumentSchema], {
     version: "1",
     description:
-      "The Sallyport REST API: devices, revisions, trace, reach, the exposure map, findings and proposals of one organisation, with a bearer token. Errors are problem details (RFC 9457); lists are paged by cursor; each token has a rate limit per minute.",
+      "The Sallyport REST API: devices, revisions, trace, reach (per device and across the fleet), the exposure map, findings, field checks and proposals of one organisation, with a bearer token. Errors are problem details (RFC 9457); lists are paged by cursor; each token has a rate limit per minute.",
   });
   return document;
 }

@@ -16,23 +16,28 @@ async function revisionOf(organisationId: string, device: DeviceAtRevision, numb
   return found;
 }
 
+/** What the revision endpoints share: their tag, a read token of any role, the device in the path. */
+const REVISION_READ = { tag: "Revisions", scope: "read", role: "trainee", device: true } as const;
+
+/** A revision's own facts, as the list and the single revision give them. */
+function revisionFacts(revision: { number: number; message: string; authorEmail: string; createdAt: Date | string }) {
+  return { number: revision.number, message: revision.message, author: revision.authorEmail, createdAt: typeof revision.createdAt === "string" ? revision.createdAt : revision.createdAt.toISOString() };
+}
+
 export const listRevisionsEndpoint = defineEndpoint({
   method: "get",
   path: "/devices/{device}/revisions",
   operationId: "listRevisions",
   summary: "List a device's revisions",
   description: "The device's revisions, newest first: number, message, author and when.",
-  tag: "Revisions",
-  scope: "read",
-  role: "trainee",
+  ...REVISION_READ,
   params: DeviceParams,
-  device: true,
   query: PageQuerySchema,
   response: { status: 200, description: "A page of revisions.", schema: pageSchema(RevisionSchema, "RevisionPage", "A page of revisions, newest first.") },
   async handle({ device, query }) {
     const revisions = await listRevisions(device.device.id);
     const page = pageOf(revisions, (revision) => revision.number, query, { descending: true });
-    return { body: { items: page.items.map((revision) => ({ number: revision.number, message: revision.message, author: revision.authorEmail, createdAt: revision.createdAt })), nextCursor: page.nextCursor } };
+    return { body: { items: page.items.map(revisionFacts), nextCursor: page.nextCursor } };
   },
 });
 
@@ -42,21 +47,15 @@ export const getRevisionEndpoint = defineEndpoint({
   operationId: "getRevision",
   summary: "Get a revision",
   description: "One revision's facts: message, author, element counts and the engine's summary (findings by severity, the most exposed outcome on the outside).",
-  tag: "Revisions",
-  scope: "read",
-  role: "trainee",
+  ...REVISION_READ,
   params: RevisionParams,
-  device: true,
   response: { status: 200, description: "The revision.", schema: RevisionDetailSchema, etag: true },
   async handle({ principal, device, params }) {
     const found = await revisionOf(principal.organisation.id, device, params.revision);
     const [summary] = await deviceRevisions.summariesOf([found.revision]);
     return {
       body: {
-        number: found.revision.number,
-        message: found.revision.message,
-        author: found.revision.authorEmail,
-        createdAt: found.revision.createdAt.toISOString(),
+        ...revisionFacts(found.revision),
         device: { id: device.device.id, name: device.device.name },
         current: found.revision.number === device.revision.number,
         counts: found.revision.summary.counts,
@@ -73,11 +72,8 @@ export const exportRevisionEndpoint = defineEndpoint({
   operationId: "exportRevision",
   summary: "Export a revision as a model document",
   description: "The revision as a self-contained model document: the device's own elements and the shared objects it used, with the values they had then. `sallyport` reads it as it is.",
-  tag: "Revisions",
-  scope: "read",
-  role: "trainee",
+  ...REVISION_READ,
   params: RevisionParams,
-  device: true,
   response: { status: 200, description: "The model document.", schema: ModelDocumentSchema, etag: true },
   async handle({ principal, device, params }) {
     const found = await revisionOf(principal.organisation.id, device, params.revision);

@@ -9,6 +9,7 @@ import { PROPOSAL_STATES } from "#models/proposal-states.ts";
 import { INTERFACE_ROLES, LAYERS, MODEL_SCHEMA_VERSION, OUTCOMES, SEVERITIES } from "../../engine/index.ts";
 import { MODEL_DOCUMENT_SCHEMA } from "../../engine/index.ts";
 import { ProbeQuerySchema } from "../../analysis/probe.ts";
+import { FleetReachResultSchema } from "../../analysis/fleet-reach.ts";
 
 // ---------------------------------------------------------------------------------------------
 // Path parameters
@@ -134,9 +135,59 @@ export const TraceSchema = z
   })
   .meta({ id: "Trace", description: "The probe through every layer: the same JSON as `sallyport trace --json`." });
 
+/** Names in one query parameter, separated by commas ("outside,dmz"): a query holds one value per name. */
+const commaList = (description: string) =>
+  z
+    .string()
+    .trim()
+    .max(1000, "is too long")
+    .regex(/^[A-Za-z0-9._/,: -]*$/, "must be names separated by commas")
+    .optional()
+    .meta({ description });
+
+/** "outside, dmz" → ["outside", "dmz"]: trimmed, without empty or repeated names. */
+export function namesOf(list: string | undefined): string[] {
+  return [...new Set((list ?? "").split(",").map((name) => name.trim()))].filter((name) => name !== "");
+}
+
+export const TraceGroupsSchema = z
+  .object({
+    from: z.string().meta({ description: "The block as normalised text." }),
+    count: z.string().meta({ description: "Addresses in the block, decimal." }),
+    interface: z.string(),
+    service: z.string(),
+    to: z.string().nullable(),
+    at: z.iso.datetime(),
+    localTime: z.string(),
+    groups: z.array(
+      z.object({
+        sources: z.array(z.string()).meta({ description: "The group's sources inside the block: a minimal CIDR list, ascending." }),
+        count: z.string().meta({ description: "How many addresses, decimal." }),
+        example: z.string().meta({ description: "The group's first address, whose trace `trace` is." }),
+        outcome: z.enum(OUTCOMES),
+        layer: z.enum(LAYERS).meta({ description: "The deciding layer." }),
+        ruleId: z.string().nullable(),
+        eligibleAccounts: z.array(z.string()),
+        trace: TraceSchema,
+      }),
+    ),
+  })
+  .meta({ id: "TraceGroups", description: "A probe from a CIDR block: one group per distinct answer, most exposed first — the same JSON as `sallyport trace --json` with a block." });
+
+/** The trace's question, its source an address or a CIDR block. */
+export const TraceQuery = ProbeQuerySchema.extend({
+  from: ProbeQuerySchema.shape.from.meta({ description: "The source: an address (IPv4 or IPv6), or a CIDR block answered per group of its sources that get the same answer." }),
+});
+
 export const ReachQuery = z.object({
-  from: z.string().trim().min(1, "is needed: the source address").max(100, "is too long").meta({ description: "The source address (IPv4 or IPv6)." }),
+  from: z
+    .string()
+    .trim()
+    .min(1, "is needed: the source address")
+    .max(100, "is too long")
+    .meta({ description: "The source: an address (IPv4 or IPv6) or a CIDR block, answered per group of its sources that get the same answer." }),
   at,
+  interface: commaList("Only these interfaces: a name, or several separated by commas. Empty: every interface."),
 });
 
 export const ReachSchema = z
@@ -154,10 +205,25 @@ export const ReachSchema = z
         detail: z.string(),
         ruleId: z.string().nullable(),
         eligibleAccounts: z.array(z.string()),
+        sources: z.array(z.string()).meta({ description: "The sources this row answers for, as a minimal CIDR list: the source itself, or for a block one group of its sources that get the same answer." }),
+        count: z.string().meta({ description: "How many addresses `sources` holds, decimal." }),
       }),
     ),
   })
-  .meta({ id: "Reach", description: "Everything one source reaches: every interface × catalogue service, in the engine's order." });
+  .meta({ id: "Reach", description: "Everything one source reaches: every interface × catalogue service (× group of sources, for a block), in the engine's order." });
+
+export const FleetReachApiQuery = z.object({
+  from: z.string().trim().min(1, "is needed: the source address or CIDR block").max(100, "is too long").meta({ description: "The source: an address or a CIDR block." }),
+  at: z.string().trim().max(40, "is too long").optional().meta({ description: "ISO 8601. Without an offset it is read on each device's own clock; with Z or an offset it is that instant. Default: now." }),
+  role: commaList(`Only interfaces of these roles (${INTERFACE_ROLES.join(", ")}), separated by commas. Empty: every interface.`),
+  service: commaList("Only these services: catalogue names, tcp/PORT or udp/PORT, separated by commas. Empty: every service of each device's catalogue."),
+  site: z.uuid({ message: "must be a UUID (a site's id)" }).optional().meta({ description: "Only the devices of this site." }),
+});
+
+export const FleetReachSchema = FleetReachResultSchema.meta({
+  id: "FleetReach",
+  description: "Which of the organisation's devices one source reaches, and how: one row per device × interface × service (× group of sources, for a block), most exposed first.",
+});
 
 export const ExposureQuery = z.object({
   at,

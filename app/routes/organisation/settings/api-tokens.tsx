@@ -1,4 +1,4 @@
-import { data, Form, redirect, useNavigation } from "react-router";
+import { data, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/api-tokens";
 import { serializeFlash } from "#server/auth/flash.server";
 import { requireRole } from "#server/auth/guard.server";
@@ -9,10 +9,9 @@ import { refusedForm } from "#server/http/refusals.server";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { ServiceTokenSchema, TokenIdSchema } from "#server/http/schemas";
 import { createApiToken, listOrganisationTokens, revokeApiToken, SERVICE_TOKEN_ROLES } from "#server/services/api-tokens.server";
-import { ApiReferenceLink, NewTokenSecret, ScopeAndLifetimeFields, TokenTable, type CreatedToken } from "#app/components/api-tokens/tokens";
-import { Button } from "#app/components/ui/button";
+import { ApiReferenceLink, CreateTokenForm, NewTokenSecret, TokenTable, type CreatedToken } from "#app/components/api-tokens/tokens";
 import { Card } from "#app/components/ui/card";
-import { FormError, SelectField, TextField } from "#app/components/ui/field";
+import { SelectField } from "#app/components/ui/field";
 
 export const meta: Route.MetaFunction = () => [{ title: "API tokens · Settings · Sallyport" }];
 
@@ -83,13 +82,16 @@ export default function ApiTokens({ loaderData, actionData }: Route.ComponentPro
           Members make their own personal tokens on their account page. How to call the API: the <ApiReferenceLink />.
         </p>
         {created ? <NewTokenSecret created={created} /> : null}
-        {/* A new key once a token is made, so the form starts empty again. */}
-        <Form key={created?.secret ?? "new"} method="post" className="mt-4 grid gap-4 sm:grid-cols-2 lg:grid-cols-4 lg:items-start" noValidate aria-label="Create a service token">
-          <input type="hidden" name="intent" value="create-token" />
-          <div className="sm:col-span-2 lg:col-span-4">
-            <FormError message={failed.errors.form && !failed.errors.name && !failed.errors.role ? failed.errors.form : null} />
-          </div>
-          <TextField label="Name" name="name" required maxLength={100} defaultValue={failed.values.name} error={failed.errors.name} hint="The pipeline or system that uses it." />
+        <CreateTokenForm
+          label="Create a service token"
+          resetKey={created?.secret ?? "new"}
+          values={failed.values}
+          errors={failed.errors}
+          nameHint="The pipeline or system that uses it."
+          actsAsField="role"
+          submitLabel="Create service token"
+          busy={busy}
+        >
           <SelectField label="Acts as" name="role" defaultValue={failed.values.role ?? "trainee"} error={failed.errors.role}>
             {loaderData.roles.map((role) => (
               <option key={role} value={role}>
@@ -97,13 +99,7 @@ export default function ApiTokens({ loaderData, actionData }: Route.ComponentPro
               </option>
             ))}
           </SelectField>
-          <ScopeAndLifetimeFields values={failed.values} errors={failed.errors} />
-          <div className="sm:col-span-2 lg:col-span-4">
-            <Button type="submit" variant="secondary" disabled={busy}>
-              Create service token
-            </Button>
-          </div>
-        </Form>
+        </CreateTokenForm>
       </Card>
       <Card className="p-5">
         <h2 className="text-sm font-semibold">Every token of this organisation</h2>

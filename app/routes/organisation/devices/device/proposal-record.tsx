@@ -11,7 +11,7 @@ import { isOutcome } from "#server/engine/vocabulary";
 import { OutcomeChip } from "#app/components/outcome";
 import { SeverityBadge } from "#app/components/severity";
 import { ExpectationStatusBadge } from "#app/components/proposals/expectation-status";
-import { StateBadge, WindowText } from "#app/components/proposals/proposal-bits";
+import { StateBadge, WindowText, workFromWords } from "#app/components/proposals/proposal-bits";
 import { buttonClasses } from "#app/components/ui/button";
 import { Badge, Card } from "#app/components/ui/card";
 
@@ -227,7 +227,7 @@ export default function ChangeRecordPage({ loaderData }: Route.ComponentProps) {
             <div>
               <h4 className="font-semibold">Lockout guard</h4>
               {effect.lockout.length + effect.workFrom.length === 0 ? (
-                <p>No operator network loses its last login path; the address the author works from keeps its logins.</p>
+                <p>No operator network loses its last login path; {workFromWords(proposal.workFrom)}.</p>
               ) : (
                 <ul className="mt-1 list-disc pl-5">
                   {[...effect.lockout, ...effect.workFrom].map((words) => (

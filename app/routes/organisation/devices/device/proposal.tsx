@@ -308,6 +308,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
             space={effect.space}
             // While the proposal is open its gate has a section of its own; the effect points to it.
             gate={gateOpen ? { anchor: "#guard-heading", title: GATE_TITLE, blocked } : null}
+            workFrom={proposal.workFrom}
             trace={{
               base: { path: `${base}/analysis?proposal=${proposal.id}&side=base`, label: `Trace on base r${effect.basis.baseRevision}` },
               after: { path: `${base}/analysis?proposal=${proposal.id}&side=draft`, label: effect.basis.appliedRevision === null ? "Trace on draft" : `Trace on r${effect.basis.appliedRevision}` },
@@ -334,7 +335,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
             <GateReasons reasons={view.gate} />
           </>
         ) : (
-          <p className="text-sm text-ink-muted">{view.draftChanges.length > 0 ? "No operator network loses its login, nor the address the author works from, and every expectation that held still holds." : "Nothing to check yet: the draft changes nothing."}</p>
+          <p className="text-sm text-ink-muted">{view.draftChanges.length > 0 ? `No operator network loses its login, ${proposal.workFrom.trim() ? `nor the address the author works from (${proposal.workFrom.trim()})` : "(no work-from address was declared)"}, and every expectation that held still holds.` : "Nothing to check yet: the draft changes nothing."}</p>
         )}
         {proposal.guardAcknowledgement ? <p className="mt-3 text-sm">The author acknowledged the guard: “{proposal.guardAcknowledgement}”</p> : null}
       </Section>
@@ -464,6 +465,10 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
               <FormError message={apply.errors.form} />
               <StepReasons reasons={apply.reasons} listed={view.gate} />
               <p className="text-sm">Applying makes one new revision with this proposal's title as its message.</p>
+              {/* The revision is the model, not the device: the same caution the issue asks for where work can lock people out. */}
+              <p className="rounded-control border border-brass/40 bg-brass-soft px-3 py-2 text-sm" data-testid="apply-caution">
+                This changes Sallyport's model of the device, not the device itself: make the same change on the device in the change window, keep a tested break-glass path open while you do, and follow your change policy and the device maker's documentation.
+              </p>
               {!view.insideWindow && can.applyOutsideWindow ? (
                 <TextAreaField
                   label="Why apply outside the change window"

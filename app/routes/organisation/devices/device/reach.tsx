@@ -4,8 +4,7 @@ import { answerReach, reachQueryOf, type ReachRow } from "#server/analysis/reach
 import { requireDevice } from "#server/http/device-access.server";
 import { isLayer, LAYERS, outcomeRank } from "#server/engine/vocabulary";
 import { reachSummary, worstByPlace } from "#app/utils/reach-words";
-import { Count } from "#app/components/analysis/common";
-import { OutcomeOrderNote, ReachAnswerCells } from "#app/components/analysis/reach-cells";
+import { OutcomeOrderNote, ReachAnswerCells, ReachAnswerHead, ReachPlaceCells } from "#app/components/analysis/reach-cells";
 import { formatInstant } from "#server/engine/format";
 import { buttonClasses } from "#app/components/ui/button";
 import { Card } from "#app/components/ui/card";
@@ -14,7 +13,7 @@ import { NoInterfacesYet } from "#app/components/device/no-interfaces";
 import { TextField } from "#app/components/ui/field";
 import { SortHeader } from "#app/components/ui/sort-header";
 import { nameTie, tableRows, urlSort, type ColumnDef } from "#app/components/ui/table-rows";
-import { Table, Td, Th } from "#app/components/ui/table";
+import { Table, Th } from "#app/components/ui/table";
 
 export const meta: Route.MetaFunction = ({ data: loaded }) => [{ title: `Reach${loaded?.query.from ? ` from ${loaded.query.from}` : ""} · ${loaded?.deviceName ?? "Device"} · Sallyport` }];
 
@@ -69,7 +68,7 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
             label="Time (optional)"
             name="at"
             defaultValue={query.at}
-            placeholder="2025-03-04T10:00"
+            placeholder="2026-12-02T10:00"
             error={errors.at}
             autoComplete="off"
             spellCheck={false}
@@ -79,11 +78,6 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
               </>
             }
           />
-          <div className="md:pt-7">
-            <button type="submit" className={buttonClasses("primary")}>
-              Show reach
-            </button>
-          </div>
           {interfaces.length > 1 ? (
             <fieldset className="md:col-span-3" aria-describedby={errors.interface ? "reach-interface-error" : undefined}>
               <legend className="text-sm font-medium">Interfaces</legend>
@@ -103,30 +97,26 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
               ) : null}
             </fieldset>
           ) : null}
+          {/* After the interface filter in reading order (a phone shows it last); beside the fields on a wide screen. */}
+          <div className="md:col-start-3 md:row-start-1 md:pt-7">
+            <button type="submit" className={buttonClasses("primary")}>
+              Show reach
+            </button>
+          </div>
         </Form>
       </Card>
 
       {answer ? (
         <section aria-labelledby="reach-results" className="space-y-3">
-          <div className="flex flex-wrap items-end justify-between gap-3">
-            <div>
-              <h3 id="reach-results" className="font-semibold">
-                From <code>{answer.from}</code>
-              </h3>
-              <p className="text-sm text-ink-muted">
-                {answer.block ? (
-                  <>
-                    <Count value={answer.count} /> addresses ·{" "}
-                  </>
-                ) : null}
-                At {formatInstant(answer.at, timezone)}
-                {query.interfaces.length > 0 ? ` · on ${query.interfaces.join(", ")}` : ""}
-              </p>
-            </div>
-            <a href={`${devicePath}/reach.csv?${csvParams.toString()}`} className={buttonClasses("secondary", "sm")} download>
-              Download CSV
-            </a>
-          </div>
+          <ReachAnswerHead
+            id="reach-results"
+            level="h3"
+            from={answer.from}
+            block={answer.block}
+            count={answer.count}
+            asked={`At ${formatInstant(answer.at, timezone)}${query.interfaces.length > 0 ? ` · on ${query.interfaces.join(", ")}` : ""}`}
+            csvHref={`${devicePath}/reach.csv?${csvParams.toString()}`}
+          />
           <p className="text-sm" aria-live="polite">
             {answer.block ? "Some of " : ""}
             <strong>{answer.from}</strong> {reachSummary(cells, { one: "service", other: "services" })}
@@ -151,11 +141,7 @@ export default function Reach({ loaderData }: Route.ComponentProps) {
               <tbody>
                 {answer.rows.map((row) => (
                   <tr key={row.name}>
-                    <Td>
-                      <span className="font-medium">{row.interface}</span>
-                      {row.to ? <span className="block font-mono text-xs text-ink-faint">{row.to}</span> : null}
-                    </Td>
-                    <Td className="font-mono">{row.service}</Td>
+                    <ReachPlaceCells row={row} />
                     <ReachAnswerCells row={row} block={answer.block} />
                   </tr>
                 ))}
