@@ -148,7 +148,7 @@ export default function SecondFactor({ loaderData, actionData }: Route.Component
             <Form method="post" className="mt-4 space-y-4" noValidate aria-label="Make new recovery codes">
               <input type="hidden" name="intent" value="regenerate" />
               <FormError message={regenerate.errors.form && !regenerate.errors.code ? regenerate.errors.form : null} />
-              <TextField label="Current code" name="code" autoComplete="one-time-code" required maxLength={32} spellCheck={false} error={regenerate.errors.code} />
+              <TextField label="Current code" className="max-w-xs" name="code" autoComplete="one-time-code" required maxLength={32} spellCheck={false} error={regenerate.errors.code} />
               <Button type="submit" variant="secondary" disabled={busy}>
                 Make new recovery codes
               </Button>
@@ -164,8 +164,8 @@ export default function SecondFactor({ loaderData, actionData }: Route.Component
               <input type="hidden" name="intent" value="disable" />
               <input type="text" name="username" autoComplete="username" value={loaderData.email} readOnly hidden />
               <FormError message={disable.errors.form && !disable.errors.code && !disable.errors.currentPassword ? disable.errors.form : null} />
-              <TextField label="Current password" name="currentPassword" type="password" autoComplete="current-password" required error={disable.errors.currentPassword} />
-              <TextField label="Code from the app, or a recovery code" name="code" autoComplete="one-time-code" required maxLength={32} spellCheck={false} error={disable.errors.code} />
+              <TextField label="Current password" className="max-w-xs" name="currentPassword" type="password" autoComplete="current-password" required error={disable.errors.currentPassword} />
+              <TextField label="Code from the app, or a recovery code" className="max-w-xs" name="code" autoComplete="one-time-code" required maxLength={32} spellCheck={false} error={disable.errors.code} />
               <Button type="submit" variant="danger" disabled={busy}>
                 Turn off
               </Button>
@@ -203,7 +203,7 @@ export default function SecondFactor({ loaderData, actionData }: Route.Component
           <Form method="post" className="mt-5 space-y-4" noValidate aria-label="Confirm the second factor">
             <input type="hidden" name="intent" value="confirm" />
             <FormError message={confirm.errors.form && !confirm.errors.code ? confirm.errors.form : null} />
-            <TextField label="Code from the app" name="code" inputMode="numeric" autoComplete="one-time-code" required maxLength={6} spellCheck={false} error={confirm.errors.code} />
+            <TextField label="Code from the app" className="max-w-xs" name="code" inputMode="numeric" autoComplete="one-time-code" required maxLength={6} spellCheck={false} error={confirm.errors.code} />
             <div className="flex flex-wrap gap-3">
               <Button type="submit" disabled={busy}>
                 Confirm and turn on

@@ -70,7 +70,7 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
   ];
   const gated = [...GATED.map((page) => ({ ...page, path: `${organisation}/${page.path}` })), { path: `${device}/proposals/new`, role: PAGE_ROLES.proposeChange }];
   return {
-    open: [...everyone, ...gated.filter((page) => hasAtLeastRole(role, page.role)).map((page) => page.path), "/account", "/docs/api", ...devicePages],
+    open: [...everyone, ...gated.filter((page) => hasAtLeastRole(role, page.role)).map((page) => page.path), "/account", "/account/second-factor", "/docs/api", ...devicePages],
     refused: gated.filter((page) => !hasAtLeastRole(role, page.role)).map((page) => page.path),
   };
 }

@@ -169,7 +169,7 @@ export default function OrganisationSettings({ loaderData, actionData }: Route.C
               </p>
             </div>
             <Button type="submit" disabled={navigation.state === "submitting" || (!secondFactor.required && !secondFactor.youHaveOne)}>
-              Save
+              Save the requirement
             </Button>
           </Form>
         ) : (
