@@ -8,7 +8,7 @@ import { refusedForm } from "#server/http/refusals.server";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { confirmEnrolment, disableSecondFactor, ENROLMENT_MINUTES, regenerateRecoveryCodes, secondFactorStatus, startEnrolment } from "#server/services/second-factor.server";
 import { formatDuration } from "#server/engine/format";
-import { BrandMark } from "#app/components/brand";
+import { BrandHomeLink } from "#app/components/brand";
 import { Button, ButtonLink } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
 import { FormError, TextField } from "#app/components/ui/field";
@@ -83,10 +83,7 @@ export default function SecondFactor({ loaderData, actionData }: Route.Component
   return (
     <main className="mx-auto max-w-3xl px-4 py-8 sm:px-6 sm:py-10">
       <div className="mb-8 flex flex-wrap items-center justify-between gap-3">
-        <Link to="/" className="flex items-center gap-2 text-harbour">
-          <BrandMark className="size-7" />
-          <span className="font-semibold">Sallyport</span>
-        </Link>
+        <BrandHomeLink />
         <div className="flex items-center gap-3 text-sm">
           {loaderData.mustEnrol ? null : (
             <Link to="/account" className="text-ink-muted underline underline-offset-4 hover:text-ink">

@@ -1,10 +1,10 @@
 import { mkdirSync } from "node:fs";
 import path from "node:path";
 import type { Page } from "@playwright/test";
-import { totpCode } from "#server/auth/totp";
 import { expect, test } from "./fixtures";
 import { hydrated, seriousAccessibilityViolations, toast } from "./helpers";
 import { createTeam } from "./team";
+import { successiveCodes } from "../support/totp";
 
 // Sallyport's own second factor in the browser (docs/decisions/019): enrolment with a code the
 // test computes from the secret the page shows (as an authenticator app would, RFC 6238), the
@@ -37,17 +37,6 @@ async function everyWay(page: Page, name: string): Promise<void> {
   if (before) await page.setViewportSize(before);
 }
 
-/** Codes of successive time steps for one test (one step back, now, one ahead: RFC 6238 §5.2's window), so no code is used twice. */
-function codesFor(secret: string): () => string {
-  let offset = -30_000;
-  return () => {
-    if (offset > 30_000) throw new Error("at most three codes per test");
-    const code = totpCode(secret, Date.now() + offset);
-    offset += 30_000;
-    return code;
-  };
-}
-
 /** On the second-factor page: draw a secret, read it as an app would, confirm with a code; returns the codes source and the recovery codes shown. */
 async function enrolHere(page: Page, shotName?: string): Promise<{ next: () => string; recoveryCodes: string[] }> {
   await page.getByRole("button", { name: "Set up a second factor" }).click();
@@ -59,7 +48,7 @@ async function enrolHere(page: Page, shotName?: string): Promise<{ next: () => s
   expect(typed).toMatch(/^[A-Z2-7]{32}$/);
   await hydrated(page);
   if (shotName) await everyWay(page, shotName);
-  const next = codesFor(typed);
+  const next = successiveCodes(typed);
   await page.getByLabel("Code from the app").fill(next());
   await page.getByRole("button", { name: "Confirm and turn on" }).click();
   const list = page.getByRole("list", { name: "Recovery codes" });

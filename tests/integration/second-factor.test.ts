@@ -7,27 +7,13 @@ import { ApiClient, makeToken } from "../support/api";
 import { GOOD_PASSWORD, signUpNewOrganisation, TestClient } from "../support/client";
 import { fieldError, plain, wordsOf } from "../support/html";
 import { makeTeam, PASSWORD } from "../support/proposal-team";
+import { successiveCodes } from "../support/totp";
 
 const sequelize = getDatabase();
 afterAll(() => sequelize.close());
 
 const PAGE = "/account/second-factor";
 const RECOVERY_CODE = /\b[a-hjkmnp-z2-9]{5}-[a-hjkmnp-z2-9]{5}\b/g;
-
-/**
- * Codes for successive uses within one test: each use takes the code of a later time step than
- * the one before (one step back, now, one step ahead — RFC 6238 §5.2 allows one step of drift
- * either way), so a test needs no clock of its own and never reuses a code by accident.
- */
-function codes(secret: string) {
-  let offset = -30_000;
-  return () => {
-    if (offset > 30_000) throw new Error("a test may use at most three codes: one step back, now and one step ahead");
-    const code = totpCode(secret, Date.now() + offset);
-    offset += 30_000;
-    return code;
-  };
-}
 
 /** Six digits that are none of the codes a window around now accepts. */
 function wrongCode(secret: string): string {
@@ -46,7 +32,7 @@ async function enrol(client: TestClient) {
   const secret = /data-secret="([A-Z2-7]+)"/.exec(page.text)?.[1];
   expect(secret, "the page shows the secret").toBeDefined();
   expect(page.text).toContain("<svg"); // the QR code, drawn on the server
-  const next = codes(secret!);
+  const next = successiveCodes(secret!);
   const confirmed = await client.post(PAGE, { intent: "confirm", code: next() });
   expect(confirmed.status).toBe(200);
   expect(confirmed.headers.get("cache-control")).toContain("no-store");
