@@ -4,6 +4,8 @@ export default [
   index("routes/home.tsx"),
   layout("routes/auth/layout.tsx", [
     route("login", "routes/auth/login.tsx"),
+    // The second step of a sign-in with a second factor (docs/decisions/019).
+    route("login/code", "routes/auth/second-step.tsx"),
     route("signup", "routes/auth/signup.tsx"),
     route("forgot-password", "routes/auth/forgot-password.tsx"),
     route("reset-password/:token", "routes/auth/reset-password.tsx"),
@@ -12,6 +14,7 @@ export default [
   ]),
   route("logout", "routes/auth/logout.tsx"),
   route("account", "routes/account.tsx"),
+  route("account/second-factor", "routes/second-factor.tsx"),
   route("theme", "routes/theme.tsx"),
   route("preferences", "routes/preferences.ts"),
   route("outbox", "routes/outbox.tsx"),

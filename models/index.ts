@@ -15,6 +15,7 @@ import { PasswordReset } from "./password-reset.ts";
 import { ProposalComment } from "./proposal-comment.ts";
 import { ProposalEdit } from "./proposal-edit.ts";
 import { ProposalReview } from "./proposal-review.ts";
+import { RecoveryCode } from "./recovery-code.ts";
 import { RevisionAnalysisRecord } from "./revision-analysis.ts";
 import { Session } from "./session.ts";
 import { SharedAddressObject } from "./shared-address-object.ts";
@@ -30,11 +31,11 @@ export { ChangeProposal, ProposalComment, ProposalEdit, ProposalReview };
 export { TrainingAssignment, TrainingAttempt, TrainingDrill, TrainingLesson, TrainingPrediction, TrainingScenario };
 export type { DrillKind, ScenarioOrigin } from "./training.ts";
 export { FIELD_CHECK_SOURCES, type FieldCheckSource } from "./field-check.ts";
-export { ApiToken, AuditEvent, Device, DeviceExpectation, DeviceRevision, EmailChange, FieldCheckRecord, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
+export { ApiToken, AuditEvent, Device, DeviceExpectation, DeviceRevision, EmailChange, FieldCheckRecord, FindingDismissal, Invitation, Membership, Organisation, PasswordReset, RecoveryCode, RevisionAnalysisRecord, Session, SharedAddressObject, SignInAttempt, Site, User };
 
 /** Registers every model and association on one Sequelize instance. */
 export function initModels(sequelize: Sequelize): void {
-  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, ApiToken, SignInAttempt, PasswordReset, EmailChange, Invitation, Device, DeviceRevision, RevisionAnalysisRecord, SharedAddressObject, FindingDismissal, DeviceExpectation, ChangeProposal, ProposalEdit, ProposalComment, ProposalReview, FieldCheckRecord]) {
+  for (const model of [User, Organisation, Membership, Site, Session, AuditEvent, ApiToken, SignInAttempt, PasswordReset, EmailChange, Invitation, Device, DeviceRevision, RevisionAnalysisRecord, SharedAddressObject, FindingDismissal, DeviceExpectation, ChangeProposal, ProposalEdit, ProposalComment, ProposalReview, FieldCheckRecord, RecoveryCode]) {
     model.initModel(sequelize);
   }
   initTrainingModels(sequelize);
@@ -46,6 +47,7 @@ export function initModels(sequelize: Sequelize): void {
   Site.belongsTo(Organisation, { foreignKey: "organisationId" });
   Session.belongsTo(User, { foreignKey: "userId", as: "user" });
   PasswordReset.belongsTo(User, { foreignKey: "userId" });
+  RecoveryCode.belongsTo(User, { foreignKey: "userId" });
   EmailChange.belongsTo(User, { foreignKey: "userId" });
   Invitation.belongsTo(Organisation, { foreignKey: "organisationId", as: "organisation" });
   Invitation.belongsTo(User, { foreignKey: "invitedById", as: "invitedBy" });

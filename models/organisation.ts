@@ -9,6 +9,8 @@ export class Organisation extends Model<InferAttributes<Organisation>, InferCrea
   declare approvalsRequired: CreationOptional<number>;
   /** When on, the live editor saves only an admin's break-glass edit; changes go through proposals. */
   declare changesThroughProposals: CreationOptional<boolean>;
+  /** When on, every member must have a second factor: members without one are sent to enrol at sign-in. */
+  declare requireSecondFactor: CreationOptional<boolean>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 
@@ -20,6 +22,7 @@ export class Organisation extends Model<InferAttributes<Organisation>, InferCrea
         name: { type: DataTypes.STRING(100), allowNull: false },
         approvalsRequired: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 1 },
         changesThroughProposals: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
+        requireSecondFactor: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },

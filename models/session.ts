@@ -10,6 +10,8 @@ export class Session extends Model<InferAttributes<Session>, InferCreationAttrib
   declare lastSeenAt: Date;
   declare userAgent: string;
   declare clientAddress: string;
+  /** Made by the password step of a user with a second factor: not signed in until the code step passes. */
+  declare secondFactorPending: CreationOptional<boolean>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
   declare user?: NonAttribute<User>;
@@ -23,6 +25,7 @@ export class Session extends Model<InferAttributes<Session>, InferCreationAttrib
         lastSeenAt: { type: DataTypes.DATE, allowNull: false },
         userAgent: { type: DataTypes.STRING(300), allowNull: false, defaultValue: "" },
         clientAddress: { type: DataTypes.STRING(64), allowNull: false, defaultValue: "" },
+        secondFactorPending: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },

@@ -1,7 +1,7 @@
 import { DataTypes, Model, type CreationOptional, type InferAttributes, type InferCreationAttributes, type Sequelize } from "sequelize";
 
-/** What a throttle row counts: failed sign-ins per account or client address, and password-reset requests and sign-ups per e-mail or client address. */
-export const THROTTLE_SCOPES = ["account", "client", "reset-email", "reset-client", "signup-email", "signup-client"] as const;
+/** What a throttle row counts: failed sign-ins per account or client address, password-reset requests and sign-ups per e-mail or client address, and second-factor codes per account or client address. */
+export const THROTTLE_SCOPES = ["account", "client", "reset-email", "reset-client", "signup-email", "signup-client", "code-account", "code-client"] as const;
 export type ThrottleScope = (typeof THROTTLE_SCOPES)[number];
 
 /** Throttled attempts, kept in the database so throttling survives restarts and is shared by every server process. */

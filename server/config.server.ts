@@ -6,6 +6,12 @@ const EnvironmentSchema = z.object({
   DATABASE_URL: z.string().url({ message: "DATABASE_URL must be a postgres:// URL" }),
   SESSION_SECRET: z.string().min(16, "SESSION_SECRET must be at least 16 characters"),
   /**
+   * The key that seals second-factor secrets at rest (docs/decisions/019); comma-separated to
+   * rotate (the first seals, every one opens). `npm start` keeps one in .data; without it the key
+   * is derived from the first SESSION_SECRET, so rotating that would orphan enrolled secrets.
+   */
+  SECOND_FACTOR_KEY: z.string().min(16, "SECOND_FACTOR_KEY must be at least 16 characters").optional(),
+  /**
    * This site's origin (scheme, host, port): the only base of e-mailed links and the only Origin
    * the same-origin guard accepts (docs/decisions/013). Required in production.
    */
@@ -129,6 +135,13 @@ export function isCookieSecure(): boolean {
 /** Comma-separated so secrets can be rotated: the first signs, all verify. */
 export function getCookieSecrets(): string[] {
   return getEnvironment().SESSION_SECRET.split(",").map((secret) => secret.trim()).filter(Boolean);
+}
+
+/** The secrets second-factor keys are derived from: SECOND_FACTOR_KEY's, else the first session secret. */
+export function getSecondFactorKeySecrets(): string[] {
+  const configured = getEnvironment().SECOND_FACTOR_KEY;
+  const secrets = (configured ?? "").split(",").map((secret) => secret.trim()).filter(Boolean);
+  return secrets.length > 0 ? secrets : [`session:${getCookieSecrets()[0]}`];
 }
 
 export function isServerTimingEnabled(): boolean {

@@ -1,11 +1,11 @@
-import { Link, useRouteLoaderData } from "react-router";
+import { useRouteLoaderData } from "react-router";
 import type { Route } from "./+types/account";
 import { requireSignedIn } from "#server/auth/guard.server";
 import { accountAction, accountPageData } from "#server/http/account-page.server";
 import { listOrganisationsOfUser } from "#server/services/organisations.server";
 import { AccountSettings } from "#app/components/account/account-settings";
 import { AppShell } from "#app/components/app-shell";
-import { BrandMark } from "#app/components/brand";
+import { BrandHomeLink } from "#app/components/brand";
 import type { loader as rootLoader } from "#app/root";
 
 export const meta: Route.MetaFunction = () => [{ title: "Your account · Sallyport" }];
@@ -36,10 +36,7 @@ export default function Account({ loaderData, actionData }: Route.ComponentProps
   }
   return (
     <main className="mx-auto max-w-5xl px-6 py-10">
-      <Link to="/" className="mb-8 flex items-center gap-2 text-harbour">
-        <BrandMark className="size-7" />
-        <span className="font-semibold">Sallyport</span>
-      </Link>
+      <BrandHomeLink className="mb-8" />
       {settings}
     </main>
   );

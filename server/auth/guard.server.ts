@@ -14,9 +14,22 @@ export type OrganisationAccess = SignedInSession & {
   role: Role;
 };
 
-/** Root middleware: the signed-in session of this request, or null, for every route below. */
+/** Where a member who must enrol a second factor is sent, and the only page (with sign-out) they may use until then. */
+export const SECOND_FACTOR_PATH = "/account/second-factor";
+
+// What a member who must enrol may still reach: the enrolment page, sign-out, the theme switch,
+// the health check, the local outbox, and the REST API (bearer tokens, not the session; docs/decisions/019).
+const OPEN_WHILE_ENROLLING = /^\/(?:account\/second-factor(?:\.data)?|logout(?:\.data)?|theme(?:\.data)?|healthz|outbox(?:\.data)?|api\/.*)$/;
+
+/**
+ * Root middleware: the signed-in session of this request, or null, for every route below. A
+ * member without a second factor in an organisation that requires one is sent to enrol, whatever
+ * they asked for, until they have (docs/decisions/019).
+ */
 export const signedInMiddleware: Middleware = async ({ request, context }, next) => {
-  context.set(signedInContext, await getSignedInSession(request));
+  const signedIn = await getSignedInSession(request);
+  context.set(signedInContext, signedIn);
+  if (signedIn?.enrolmentRequired && !OPEN_WHILE_ENROLLING.test(new URL(request.url).pathname)) throw redirect(SECOND_FACTOR_PATH);
   return next();
 };
 

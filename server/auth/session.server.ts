@@ -1,5 +1,5 @@
 import { createCookie } from "react-router";
-import { Op } from "sequelize";
+import { literal, Op } from "sequelize";
 import { Session, User } from "#models/index.ts";
 import { getCookieSecrets, isCookieSecure, sessionLimits } from "../config.server.ts";
 import { createToken, hashToken } from "./tokens.server.ts";
@@ -23,7 +23,19 @@ function getSessionCookie() {
   return sessionCookie;
 }
 
-export type SignedInSession = { session: Session; user: User };
+/**
+ * A signed-in session. `enrolmentRequired`: the user has no second factor and an organisation of
+ * theirs requires one, so they may only enrol or sign out (docs/decisions/019).
+ */
+export type SignedInSession = { session: Session; user: User; enrolmentRequired: boolean };
+
+/** How long the password step waits for the second step before the sign-in starts over. */
+export const SECOND_STEP_MINUTES = 5;
+
+// Read in the session's own query, so the check costs no extra round trip per request.
+const ENROLMENT_REQUIRED = literal(
+  `("user"."second_factor_enabled_at" IS NULL AND EXISTS (SELECT 1 FROM memberships m JOIN organisations o ON o.id = m.organisation_id WHERE m.user_id = "Session"."user_id" AND o.require_second_factor))`,
+);
 
 async function readSessionToken(request: Request): Promise<string | null> {
   const value: unknown = await getSessionCookie().parse(request.headers.get("Cookie"));
@@ -35,7 +47,8 @@ export async function getSignedInSession(request: Request): Promise<SignedInSess
   const token = await readSessionToken(request);
   if (!token) return null;
   const session = await Session.findOne({
-    where: { tokenHash: hashToken(token), expiresAt: { [Op.gt]: new Date() } },
+    where: { tokenHash: hashToken(token), expiresAt: { [Op.gt]: new Date() }, secondFactorPending: false },
+    attributes: { include: [[ENROLMENT_REQUIRED, "enrolmentRequired"]] },
     include: [{ model: User, as: "user", required: true }],
   });
   if (!session?.user) return null;
@@ -49,22 +62,37 @@ export async function getSignedInSession(request: Request): Promise<SignedInSess
   if (now - session.lastSeenAt.getTime() > LAST_SEEN_RESOLUTION_MS) {
     await session.update({ lastSeenAt: new Date() });
   }
-  return { session, user: session.user };
+  return { session, user: session.user, enrolmentRequired: session.get("enrolmentRequired") === true };
+}
+
+/** The user whose password step this request's session passed, while it waits for the second step (at most SECOND_STEP_MINUTES). */
+export async function getPendingSignIn(request: Request): Promise<{ session: Session; user: User } | null> {
+  const token = await readSessionToken(request);
+  if (!token) return null;
+  const session = await Session.findOne({
+    where: { tokenHash: hashToken(token), expiresAt: { [Op.gt]: new Date() }, secondFactorPending: true },
+    include: [{ model: User, as: "user", required: true }],
+  });
+  return session?.user ? { session, user: session.user } : null;
 }
 
 /**
  * Starts a new session for the user (a fresh id at every sign-in, OWASP ASVS 3.2.1) and ends
- * the one the request came with. Returns the Set-Cookie header value.
+ * the one the request came with. Returns the Set-Cookie header value. `pendingSecondFactor`: the
+ * password step of a user with a second factor — a session that signs nobody in and lasts
+ * SECOND_STEP_MINUTES; passing the second step starts a fresh, signed-in one.
  */
-export async function startSession(request: Request, userId: string, clientAddress: string): Promise<string> {
+export async function startSession(request: Request, userId: string, clientAddress: string, options: { pendingSecondFactor?: boolean } = {}): Promise<string> {
   const previous = await readSessionToken(request);
   if (previous) await Session.destroy({ where: { tokenHash: hashToken(previous) } });
   const token = createToken();
   const now = new Date();
+  const pending = options.pendingSecondFactor === true;
   await Session.create({
     tokenHash: hashToken(token),
     userId,
-    expiresAt: new Date(now.getTime() + sessionLimits().absoluteMs),
+    expiresAt: new Date(now.getTime() + (pending ? SECOND_STEP_MINUTES * 60_000 : sessionLimits().absoluteMs)),
+    secondFactorPending: pending,
     lastSeenAt: now,
     userAgent: (request.headers.get("User-Agent") ?? "").slice(0, 300),
     clientAddress: clientAddress.slice(0, 64),

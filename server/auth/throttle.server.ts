@@ -45,17 +45,30 @@ export type PasswordAttempt = {
 };
 
 /** Reserves one password attempt for this account and client address before the password is evaluated. */
-export async function beginPasswordAttempt(email: string, clientAddress: string): Promise<PasswordAttempt> {
+export function beginPasswordAttempt(email: string, clientAddress: string): Promise<PasswordAttempt> {
+  return beginAttempt("account", email, "client", clientAddress);
+}
+
+/**
+ * Reserves one second-factor code attempt (TOTP or recovery code, docs/decisions/019) for this
+ * user and client address before the code is checked: the same limits as passwords, in scopes of
+ * their own, so guessing six digits is as slow as guessing a password (NIST SP 800-63B §5.2.2).
+ */
+export function beginCodeAttempt(userId: string, clientAddress: string): Promise<PasswordAttempt> {
+  return beginAttempt("code-account", userId, "code-client", clientAddress);
+}
+
+async function beginAttempt(accountScope: ThrottleScope, account: string, clientScope: ThrottleScope, clientAddress: string): Promise<PasswordAttempt> {
   const { verdict, ids } = await reserve([
-    { scope: "account", subject: email, limit: MAX_FAILURES_PER_ACCOUNT, windowMs: THROTTLE_WINDOW_MS },
-    { scope: "client", subject: clientAddress, limit: MAX_FAILURES_PER_CLIENT, windowMs: THROTTLE_WINDOW_MS },
+    { scope: accountScope, subject: account, limit: MAX_FAILURES_PER_ACCOUNT, windowMs: THROTTLE_WINDOW_MS },
+    { scope: clientScope, subject: clientAddress, limit: MAX_FAILURES_PER_CLIENT, windowMs: THROTTLE_WINDOW_MS },
   ]);
   return {
     verdict,
     settle: async (success) => {
       if (!success || verdict.throttled) return;
       // A success clears the account's failures; the client's earlier ones stay.
-      await SignInAttempt.destroy({ where: { [Op.or]: [{ scope: "account", subject: email.slice(0, 254) }, { id: ids }] } });
+      await SignInAttempt.destroy({ where: { [Op.or]: [{ scope: accountScope, subject: account.slice(0, 254) }, { id: ids }] } });
     },
   };
 }

@@ -4,11 +4,12 @@ import { data, redirect } from "react-router";
 import { serializeFlash } from "../auth/flash.server.ts";
 import { findPasswordProblem } from "../auth/password-rules.ts";
 import type { SignedInSession } from "../auth/session.server.ts";
-import { Membership, Organisation, Session } from "#models/index.ts";
+import { Membership, Organisation, RecoveryCode, Session } from "#models/index.ts";
 import { appOrigin } from "../config.server.ts";
 import { plural } from "../engine/format.ts";
 import { changePassword, pendingEmailChange, recentAccountActivity, renameUser, requestEmailChange } from "../services/account.server.ts";
 import { createApiToken, listPersonalTokens, revokeApiToken } from "../services/api-tokens.server.ts";
+import { hasSecondFactor } from "../services/second-factor.server.ts";
 import { fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "./form.server.ts";
 import { refusedForm } from "./refusals.server.ts";
 import { clientAddressOf, type RequestContext } from "./request-context.server.ts";
@@ -17,15 +18,18 @@ import { ChangeEmailSchema, ChangeNameSchema, ChangePasswordSchema, PersonalToke
 export type AccountPageData = Awaited<ReturnType<typeof accountPageData>>;
 
 export async function accountPageData({ user, session }: SignedInSession) {
-  const [sessions, pending, activity, tokens, memberships] = await Promise.all([
-    Session.findAll({ where: { userId: user.id }, order: [["lastSeenAt", "DESC"]] }),
+  const [sessions, pending, activity, tokens, memberships, recoveryCodesLeft] = await Promise.all([
+    // Sessions still waiting for their second step sign nobody in: not listed.
+    Session.findAll({ where: { userId: user.id, secondFactorPending: false }, order: [["lastSeenAt", "DESC"]] }),
     pendingEmailChange(user.id),
     recentAccountActivity(user.id),
     listPersonalTokens(user.id),
     Membership.findAll({ where: { userId: user.id }, include: [{ model: Organisation, as: "organisation", required: true, attributes: ["slug", "name"] }], order: [[{ model: Organisation, as: "organisation" }, "name", "ASC"]] }),
+    RecoveryCode.count({ where: { userId: user.id, usedAt: null } }),
   ]);
   return {
     user: { name: user.name, email: user.email },
+    secondFactor: { enabled: hasSecondFactor(user), recoveryCodesLeft },
     pendingEmail: pending ? { newEmail: pending.newEmail, expiresAt: pending.expiresAt.toISOString() } : null,
     sessions: sessions.map((candidate) => ({
       id: candidate.id,

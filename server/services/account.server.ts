@@ -23,7 +23,7 @@ const actorOf = (user: User, clientAddress: string): AuditActor => ({ userId: us
  * The current password, checked with the sign-in throttle (PCI DSS v4.0 8.3.4), so a borrowed
  * session cannot be used to guess it. Refused on the "currentPassword" field.
  */
-async function requireCurrentPassword(user: User, password: string, clientAddress: string): Promise<void> {
+export async function requireCurrentPassword(user: User, password: string, clientAddress: string): Promise<void> {
   const attempt = await beginPasswordAttempt(user.email, clientAddress);
   const { verdict } = attempt;
   if (verdict.throttled) {

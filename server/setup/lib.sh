@@ -195,6 +195,13 @@ ensure_session_secret() {
   SESSION_SECRET=$(secret_file session-secret 32)
 }
 
+# The key that seals second-factor secrets at rest (docs/decisions/019), kept in the data folder.
+ensure_second_factor_key() {
+  if [ -n "${SECOND_FACTOR_KEY:-}" ]; then return; fi
+  export SECOND_FACTOR_KEY
+  SECOND_FACTOR_KEY=$(secret_file second-factor-key 32)
+}
+
 run_migrations_and_seed() {
   step "Migrations and demo seed"
   cd "$ROOT"

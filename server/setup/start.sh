@@ -9,6 +9,7 @@ ensure_npm_dependencies
 ensure_postgres_cluster
 ensure_database "${SALLYPORT_DB_NAME:-sallyport}"
 ensure_session_secret
+ensure_second_factor_key
 export PORT="${PORT:-3000}"
 ensure_app_origin
 ensure_outbox_secret

@@ -8,6 +8,7 @@ ensure_npm_dependencies
 ensure_postgres_cluster
 ensure_database "${SALLYPORT_TEST_DB_NAME:-sallyport_test}"
 ensure_session_secret
+ensure_second_factor_key
 ensure_app_origin
 export SALLYPORT_TEST_RESET=1
 run_migrations_and_seed

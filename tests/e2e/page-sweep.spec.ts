@@ -89,7 +89,7 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
   ].map((path) => ({ path, role: "admin" as const }));
   const gated = [...GATED.map((page) => ({ ...page, path: `${organisation}/${page.path}` })), { path: `${device}/proposals/new`, role: PAGE_ROLES.proposeChange }, ...trainerPages];
   return {
-    open: [...everyone, ...trainingPages, ...gated.filter((page) => hasAtLeastRole(role, page.role)).map((page) => page.path), "/account", "/docs/api", ...devicePages],
+    open: [...everyone, ...trainingPages, ...gated.filter((page) => hasAtLeastRole(role, page.role)).map((page) => page.path), "/account", "/account/second-factor", "/docs/api", ...devicePages],
     refused: gated.filter((page) => !hasAtLeastRole(role, page.role)).map((page) => page.path),
   };
 }

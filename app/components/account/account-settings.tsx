@@ -1,4 +1,4 @@
-import { Form, useNavigation } from "react-router";
+import { Form, Link, useNavigation } from "react-router";
 import { ApiReferenceLink, CreateTokenForm, NewTokenSecret, TokenTable, type CreatedToken } from "#app/components/api-tokens/tokens";
 import { PASSWORD_MIN_LENGTH } from "#server/auth/password-rules";
 import type { AccountPageData } from "#server/http/account-page.server";
@@ -33,7 +33,7 @@ export function AccountSettings({ data, result, organisation }: { data: AccountP
   const created = result && "created" in result ? result.created : null;
   return (
     <>
-      <PageHeader title="Your account" description="Your name, the e-mail address you sign in with, your password, your API tokens, and where you are signed in." />
+      <PageHeader title="Your account" description="Your name, the e-mail address you sign in with, your password and second factor, your API tokens, and where you are signed in." />
       <div className="grid gap-6 lg:grid-cols-2">
         <Card className="p-5">
           <h2 className="text-sm font-semibold">Name</h2>
@@ -92,6 +92,18 @@ export function AccountSettings({ data, result, organisation }: { data: AccountP
               Change password
             </Button>
           </Form>
+        </Card>
+
+        <Card className="p-5">
+          <h2 className="text-sm font-semibold">Second factor</h2>
+          <p className="mt-1 text-sm text-ink-muted">
+            {data.secondFactor.enabled
+              ? `On: signing in takes your password and a code from your authenticator app. Recovery codes left: ${data.secondFactor.recoveryCodesLeft}.`
+              : "Off: your password alone signs you in. A code from an authenticator app as a second step keeps a leaked password from being enough."}
+          </p>
+          <Link to="/account/second-factor" className="mt-4 inline-block text-sm font-medium text-harbour underline underline-offset-4">
+            {data.secondFactor.enabled ? "Manage the second factor" : "Set up a second factor"}
+          </Link>
         </Card>
 
         <Card className="p-5">

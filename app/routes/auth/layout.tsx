@@ -16,7 +16,7 @@ export default function AuthLayout() {
             Model listeners, accounts, login sources, second factors and inbound rules; trace a probe through every layer; review changes by their effect.
           </p>
         </div>
-        <p className="text-sm text-on-harbour/70">The simulation models the configuration, not the device: confirm on the device in a maintenance window.</p>
+        <p className="text-sm text-on-harbour/80">The simulation models the configuration, not the device: confirm on the device in a maintenance window.</p>
         <svg aria-hidden="true" className="pointer-events-none absolute -right-24 -bottom-24 size-96 opacity-10" viewBox="0 0 100 100">
           <path d="M10 100V45a40 40 0 0 1 80 0v55" stroke="currentColor" strokeWidth="8" fill="none" />
         </svg>

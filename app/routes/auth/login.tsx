@@ -9,6 +9,7 @@ import { Button } from "#app/components/ui/button";
 import { FormError, TextField } from "#app/components/ui/field";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { refusedForm } from "#server/http/refusals.server";
+import { hasSecondFactor } from "#server/services/second-factor.server";
 
 export const meta: Route.MetaFunction = () => [{ title: "Sign in · Sallyport" }];
 
@@ -21,6 +22,12 @@ export async function action({ request, context }: Route.ActionArgs) {
   const values = formValues(await readForm(request.clone()));
   try {
     const user = await authenticateWithPassword(request, { clientAddress: clientAddressOf(context) });
+    if (hasSecondFactor(user)) {
+      // The password step alone signs nobody in: a short-lived session waits for the code (docs/decisions/019).
+      const pending = await startSession(request, user.id, clientAddressOf(context), { pendingSecondFactor: true });
+      const redirectTo = safeRedirectPath(values.redirectTo, "");
+      throw redirect(`/login/code${redirectTo ? `?redirectTo=${encodeURIComponent(redirectTo)}` : ""}`, { headers: { "Set-Cookie": pending } });
+    }
     const cookie = await startSession(request, user.id, clientAddressOf(context));
     await recordAuditEvent({ userId: user.id, email: user.email, clientAddress: clientAddressOf(context) }, { organisationId: null, action: "user.signed-in", targetType: "user", targetId: user.id });
     throw redirect(safeRedirectPath(values.redirectTo), { headers: { "Set-Cookie": cookie } });

@@ -5,7 +5,7 @@ import { signedInOf } from "#server/auth/guard.server";
 import { apiReference, type ReferenceField, type ReferenceOperation } from "#server/api/reference";
 import { apiV1Document } from "#server/api/v1/index";
 import { getEnvironment } from "#server/config.server";
-import { BrandMark } from "#app/components/brand";
+import { BrandHomeLink } from "#app/components/brand";
 import { Badge, Card } from "#app/components/ui/card";
 import { Table, Td, Th } from "#app/components/ui/table";
 import { cx } from "#app/components/ui/cx";
@@ -219,10 +219,7 @@ export default function ApiReferencePage({ loaderData }: Route.ComponentProps) {
   return (
     <main className="mx-auto max-w-6xl px-4 py-8 sm:px-6 sm:py-10">
       <div className="mb-8 flex flex-wrap items-center justify-between gap-3">
-        <Link to="/" className="flex items-center gap-2 text-harbour">
-          <BrandMark className="size-7" />
-          <span className="font-semibold">Sallyport</span>
-        </Link>
+        <BrandHomeLink />
         <nav aria-label="API reference links" className="flex flex-wrap gap-4 text-sm">
           <a href={`${reference.basePath}/openapi.json`} className="text-harbour underline-offset-2 hover:underline">
             OpenAPI document (JSON)

@@ -1,0 +1,164 @@
+import { mkdirSync } from "node:fs";
+import path from "node:path";
+import type { Page } from "@playwright/test";
+import { expect, test } from "./fixtures";
+import { hydrated, seriousAccessibilityViolations, toast } from "./helpers";
+import { createTeam } from "./team";
+import { successiveCodes } from "../support/totp";
+
+// Sallyport's own second factor in the browser (docs/decisions/019): enrolment with a code the
+// test computes from the secret the page shows (as an authenticator app would, RFC 6238), the
+// two-step sign-in with a code and with a recovery code, and an organisation's requirement.
+
+const SHOTS = path.resolve("tests/artifacts/screenshots/second-factor");
+const SIZES = [
+  { name: "1366", width: 1366, height: 860 },
+  { name: "390", width: 390, height: 844 },
+] as const;
+
+/**
+ * The page at 1366 and 390 px, light and dark: no sideways scroll, no serious axe finding
+ * (colour rules in dark), and a screenshot of each.
+ */
+async function everyWay(page: Page, name: string): Promise<void> {
+  mkdirSync(SHOTS, { recursive: true });
+  const before = page.viewportSize();
+  for (const size of SIZES) {
+    await page.setViewportSize(size);
+    for (const scheme of ["light", "dark"] as const) {
+      await page.emulateMedia({ colorScheme: scheme });
+      const overflow = await page.evaluate(() => (document.scrollingElement ?? document.documentElement).scrollWidth - window.innerWidth);
+      expect(overflow, `${name} at ${size.name} px, ${scheme}: sideways scroll`).toBe(0);
+      expect(await seriousAccessibilityViolations(page, scheme === "dark" ? ["color-contrast", "link-in-text-block"] : undefined), `${name} at ${size.name} px, ${scheme}`).toEqual([]);
+      await page.screenshot({ path: path.join(SHOTS, `${name}-${size.name}-${scheme}.png`), fullPage: true });
+    }
+  }
+  await page.emulateMedia({ colorScheme: "light" });
+  if (before) await page.setViewportSize(before);
+}
+
+/** On the second-factor page: draw a secret, read it as an app would, confirm with a code; returns the codes source and the recovery codes shown. */
+async function enrolHere(page: Page, shotName?: string): Promise<{ next: () => string; recoveryCodes: string[] }> {
+  await page.getByRole("button", { name: "Set up a second factor" }).click();
+  const secretText = page.getByTestId("totp-secret");
+  await expect(secretText).toBeVisible();
+  await expect(page.getByRole("img", { name: "QR code of the secret for your authenticator app" })).toBeVisible();
+  // The text form is what a person types into the app: Base32 in groups of four.
+  const typed = (await secretText.textContent())!.replace(/\s+/g, "");
+  expect(typed).toMatch(/^[A-Z2-7]{32}$/);
+  await hydrated(page);
+  if (shotName) await everyWay(page, shotName);
+  const next = successiveCodes(typed);
+  await page.getByLabel("Code from the app").fill(next());
+  await page.getByRole("button", { name: "Confirm and turn on" }).click();
+  const list = page.getByRole("list", { name: "Recovery codes" });
+  await expect(list).toBeVisible();
+  const recoveryCodes = (await list.getByRole("listitem").allTextContents()).map((code) => code.trim());
+  expect(recoveryCodes).toHaveLength(10);
+  return { next, recoveryCodes };
+}
+
+async function signOutHere(page: Page): Promise<void> {
+  await page.goto("/account/second-factor");
+  await page.getByRole("button", { name: "Sign out" }).click();
+  await expect(page).toHaveURL(/\/login$/);
+}
+
+async function passwordStep(page: Page, email: string, password: string): Promise<void> {
+  await page.goto("/login");
+  await page.getByLabel("E-mail").fill(email);
+  await page.getByLabel("Password").fill(password);
+  await page.getByRole("button", { name: "Sign in" }).click();
+  await expect(page).toHaveURL(/\/login\/code$/);
+  await expect(page.getByRole("heading", { name: "Second step" })).toBeVisible();
+}
+
+test("A person turns on a second factor from the shown secret, then signs in with a code and with a recovery code", async ({ page }) => {
+  test.setTimeout(120_000);
+  // An invented person in the reserved test.example domain (RFC 2606).
+  const email = `nell.varga.${Date.now().toString(36)}@test.example`;
+  const password = "pier lamps in the fog 31";
+  await page.goto("/signup");
+  await page.getByLabel("Your name").fill("Nell Varga");
+  await page.getByLabel("Work e-mail").fill(email);
+  await page.getByLabel("Organisation").fill(`Quayside Survey ${Date.now().toString(36)}`);
+  await page.getByLabel("Password", { exact: true }).fill(password);
+  await page.getByRole("button", { name: "Create organisation" }).click();
+  await page.waitForURL(/\/o\/[a-z0-9-]+\/devices$/);
+  const slug = new URL(page.url()).pathname.split("/")[2];
+
+  await page.goto("/account");
+  await page.getByRole("link", { name: "Set up a second factor" }).click();
+  await expect(page).toHaveURL(/\/account\/second-factor$/);
+  await hydrated(page);
+  await everyWay(page, "01-off");
+  const { next, recoveryCodes } = await enrolHere(page, "02-enrol");
+  await everyWay(page, "03-recovery-codes");
+  await page.getByRole("link", { name: "I have saved them — continue" }).click();
+  await expect(page).toHaveURL(new RegExp(`/o/${slug}`));
+
+  await signOutHere(page);
+  await passwordStep(page, email, password);
+  await hydrated(page);
+  await everyWay(page, "04-second-step");
+  await page.getByLabel("Code").fill(next());
+  await page.getByRole("button", { name: "Continue" }).click();
+  await expect(page).toHaveURL(new RegExp(`/o/${slug}`));
+  await page.goto("/account");
+  await expect(page.getByText("Recovery codes left: 10")).toBeVisible();
+
+  await signOutHere(page);
+  await passwordStep(page, email, password);
+  await page.getByLabel("Code").fill(recoveryCodes[0]);
+  await page.getByRole("button", { name: "Continue" }).click();
+  await expect(page).toHaveURL(new RegExp(`/o/${slug}`));
+  await expect(toast(page)).toContainText("Signed in with a recovery code");
+  await page.goto("/account/second-factor");
+  await expect(page.getByText(/Recovery codes left:\s*9/)).toBeVisible();
+  await hydrated(page);
+  await everyWay(page, "05-on");
+});
+
+test("An organisation that requires a second factor sends a member without one to enrol before anything else", async ({ browser, playwright, browserProblems }, testInfo) => {
+  test.setTimeout(180_000);
+  const team = await createTeam(playwright.request, testInfo.project.use.baseURL!, "totp");
+  const ownerContext = await browser.newContext({ storageState: team.members.owner.storageState, reducedMotion: "reduce" });
+  browserProblems.watch(ownerContext);
+  const owner = await ownerContext.newPage();
+  const settings = `/o/${team.slug}/settings/organisation`;
+
+  // Without a second factor of their own, the owner cannot turn the requirement on.
+  await owner.goto(settings);
+  const requirement = owner.getByRole("form", { name: "Second factor for every member" });
+  await expect(requirement.getByRole("checkbox", { name: "Require a second factor of every member." })).toBeDisabled();
+  await expect(requirement).toContainText("Set up your own second factor first");
+
+  await owner.goto("/account/second-factor");
+  await enrolHere(owner);
+  await owner.goto(settings);
+  await expect(requirement).toContainText(`${team.members.engineer.name} (engineer)`);
+  await requirement.getByRole("checkbox", { name: "Require a second factor of every member." }).check();
+  await hydrated(owner);
+  await everyWay(owner, "06-organisation-requirement");
+  await requirement.getByRole("button", { name: "Save the requirement" }).click();
+  await expect(toast(owner)).toContainText("Every member now needs a second factor");
+
+  const engineerContext = await browser.newContext({ storageState: team.members.engineer.storageState, reducedMotion: "reduce" });
+  browserProblems.watch(engineerContext);
+  const engineer = await engineerContext.newPage();
+  await engineer.goto(`/o/${team.slug}/devices`);
+  await expect(engineer).toHaveURL(/\/account\/second-factor$/);
+  await expect(engineer.getByRole("alert")).toContainText(`${team.name} requires a second factor of every member`);
+  // Nothing else opens until then.
+  await engineer.goto(team.device.path);
+  await expect(engineer).toHaveURL(/\/account\/second-factor$/);
+  await hydrated(engineer);
+  await everyWay(engineer, "07-enrolment-required");
+  await enrolHere(engineer);
+  await engineer.getByRole("link", { name: "I have saved them — continue" }).click();
+  await engineer.goto(`/o/${team.slug}/devices`);
+  await expect(engineer.getByRole("heading", { name: "Devices" })).toBeVisible();
+
+  await ownerContext.close();
+  await engineerContext.close();
+});
