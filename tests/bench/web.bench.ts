@@ -12,6 +12,7 @@
 import { spawn } from "node:child_process";
 import { performance } from "node:perf_hooks";
 import { revisionAnalysisQueue } from "#server/jobs/revision-analysis.server.ts";
+import { startJobWorking, stopJobWorking } from "#server/jobs/worker.server.ts";
 import { createDevice, saveEdit } from "#server/services/devices.server.ts";
 import { moveRule } from "#server/workspace/index.ts";
 import { getDatabase } from "#server/db/database.server.ts";
@@ -40,6 +41,8 @@ const EFFECT_RUNS = 7;
 
 async function main() {
   getDatabase();
+  // This process works the analysis jobs it queues, as the web process of `npm start` does.
+  await startJobWorking();
   const organisation = await Organisation.findOne({ where: { slug: "lanternfield" } });
   const site = organisation ? await Site.findOne({ where: { organisationId: organisation.id } }) : null;
   if (!organisation || !site) throw new Error("the demo organisation is missing: run the bench through server/setup/bench-web.sh");
@@ -190,6 +193,7 @@ async function main() {
     }
   } finally {
     server.kill("SIGTERM");
+    await stopJobWorking();
     await getDatabase().query(`DELETE FROM devices WHERE id = '${device.id}'`);
     await getDatabase().close();
   }
