@@ -173,6 +173,17 @@ export class DeviceRevisions {
   }
 
   /**
+   * Whether a revision's analysis is still to come and heavy enough to leave to its job: nothing
+   * stored yet, and a model the pool would take (sized by the element counts kept at save time).
+   * The fleet page shows such a row as being analysed instead of analysing it in the request.
+   */
+  awaitsAnalysis(record: RevisionRecord): boolean {
+    if (record.analysisRecord) return false;
+    const size = Object.values(record.summary?.counts ?? {}).reduce((total, count) => total + count, 0);
+    return size >= POOL_THRESHOLD_ELEMENTS;
+  }
+
+  /**
    * Each revision's findings as [key, severity] pairs, in order, from what the analysis stored:
    * the fleet table counts active findings from these without reading any document. A revision
    * not analysed yet (or stored before keys were kept) is analysed now and stored.
@@ -247,7 +258,7 @@ export class DeviceRevisions {
   async #analyseAndStore(revisionId: string, analysis: RevisionAnalysis): Promise<PooledAnalysis> {
     const known = this.#findings.get(revisionId);
     let result: PooledAnalysis;
-    if (known || analysis.isCompiled || elementCount(analysis.effective) < POOL_THRESHOLD_ELEMENTS) {
+    if (analysis.isCompiled || elementCount(analysis.effective) < POOL_THRESHOLD_ELEMENTS) {
       const found = known ?? analysis.findings;
       const { findingsBySeverity, worstOutsideOutcome } = summariseDocument(analysis.effective, analysis.compiled, found);
       result = { findings: [...found], findingKeys: keysOf(found), findingsBySeverity, worstOutsideOutcome };

@@ -161,9 +161,12 @@ export async function fleetFindings(organisationId: string): Promise<{ devices: 
  * Counts of active findings per device of the organisation, by severity, from each device's
  * current revision: the figures the fleet table should show. A finding whose dismissal awaits
  * confirmation is still active. Reads only the stored keys and severities: no document, no engine.
+ * `wait: false` leaves out devices whose large current revision is still being analysed.
  */
-export async function activeFindingsBySeverity(organisationId: string): Promise<Map<string, SeverityCounts>> {
-  const [current, dismissals] = await Promise.all([deviceRevisions.currentRecords(organisationId), standingDismissals({ organisationId })]);
+export async function activeFindingsBySeverity(organisationId: string, options: { wait?: boolean } = {}): Promise<Map<string, SeverityCounts>> {
+  const [records, dismissals] = await Promise.all([deviceRevisions.currentRecords(organisationId), standingDismissals({ organisationId })]);
+  // Without waiting, a large revision still being analysed is left out (listDevices marks its row).
+  const current = options.wait === false ? records.filter(({ revision }) => !deviceRevisions.awaitsAnalysis(revision)) : records;
   const keys = await deviceRevisions.findingKeysOf(current.map(({ revision }) => revision));
   const counts = new Map<string, SeverityCounts>();
   for (const [index, { device }] of current.entries()) {

@@ -15,6 +15,7 @@ import type { AuditActor } from "#server/services/audit.server";
 import { summariseDocument } from "#server/workspace/index";
 import { elementCount } from "#server/devices/index";
 import { ownerConnection } from "../support/database";
+import { signUpNewOrganisation } from "../support/client";
 
 // Background analysis on PostgreSQL (docs/decisions/018): a save queues a job (pg-boss), a job
 // worker — here the suite's server process, or a client this test starts — stores the findings
@@ -166,5 +167,32 @@ describe("Background analysis of saved revisions", () => {
     const stored = await RevisionAnalysisRecord.findByPk(revisionId);
     expect(stored?.findingKeys).toEqual(keys);
     expect(keys.length).toBe(stored?.findings?.length);
+  });
+
+  test("The fleet page shows a large device as being analysed while its job runs, queues it again if it was lost, and shows its figures once stored", async () => {
+    const { client, slug } = await signUpNewOrganisation("jobs-fleet");
+    const organisation = (await Organisation.findOne({ where: { slug } }))!;
+    const site = await Site.create({ organisationId: organisation.id, name: "Dry dock", customer: "", location: "" });
+    const parsed = parseModel(generateModel(20261203, { ...BENCH_SIZE, rules: 300, addressObjects: 100, entries: 300, groups: 10 }).model);
+    if (!parsed.ok) throw new Error("the generated model did not parse");
+    const device = await createDevice(organisation.id, site.id, { ...parsed.model, device: { ...parsed.model.device, name: "dry-dock-edge" } }, actor, "created");
+    await revisionAnalysisQueue.idle();
+    const revision = (await DeviceRevision.findOne({ where: { deviceId: device.id, number: 1 } }))!;
+    // As if the job had been lost before it ran: nothing stored, nothing queued.
+    await RevisionAnalysisRecord.destroy({ where: { revisionId: revision.id } });
+    const during = await client.get(`/o/${slug}/devices`);
+    expect(during.status).toBe(200);
+    expect(during.text).toContain("Analysing r1…");
+    // The page queued the job again; the suite's server works it and the next look shows the figures.
+    const deadline = Date.now() + 30_000;
+    for (;;) {
+      const stored = await RevisionAnalysisRecord.findByPk(revision.id);
+      if (stored?.findingKeys) break;
+      if (Date.now() > deadline) throw new Error("the re-queued analysis was not stored");
+      await new Promise((resolve) => setTimeout(resolve, 200));
+    }
+    const after = await client.get(`/o/${slug}/devices`);
+    expect(after.text).not.toContain("Analysing r1…");
+    expect(after.text).toContain("dry-dock-edge");
   });
 });
