@@ -3,7 +3,10 @@ import { afterAll, beforeAll, describe, expect, test } from "vitest";
 import type PgBoss from "pg-boss";
 import { DeviceRevision, Organisation, RevisionAnalysisRecord, Site } from "#models/index";
 import { getDatabase } from "#server/db/database.server";
-import { DeviceRevisions } from "#server/devices/index";
+import { DeviceRevisions, deviceRevisions } from "#server/devices/index";
+import { withQueryTally } from "#server/db/query-log.server";
+import { fleetDeviceRows } from "#server/services/device-list.server";
+import { fleetFindings } from "#server/services/findings.server";
 import { compileModel, findings, parseModel } from "#server/engine/index";
 import { BENCH_SIZE, generateModel } from "#server/engine/testing/generate-model";
 import { closeAnalysisPool, analyseOffThread, POOL_THRESHOLD_ELEMENTS } from "#server/jobs/analysis-pool.server";
@@ -195,4 +198,16 @@ describe("Background analysis of saved revisions", () => {
     expect(after.text).not.toContain("Analysing r1…");
     expect(after.text).toContain("dry-dock-edge");
   });
+
+  test("The fleet table and the fleet findings read only what the analysis stored: no device document is read and nothing is compiled", async () => {
+    await revisionAnalysisQueue.idle();
+    const compiledBefore = deviceRevisions.cachedRevisions;
+    const { result: rows, tally } = await withQueryTally(() => fleetDeviceRows(organisationId));
+    expect(rows.map((row) => row.name)).toEqual(["quay-a", "quay-b", "quay-c", "quay-d"]);
+    expect(rows.every((row) => !row.analysing && row.worstOutsideOutcome === "login-mfa")).toBe(true);
+    const { tally: findingsTally } = await withQueryTally(() => fleetFindings(organisationId));
+    for (const statement of [...tally.statements, ...findingsTally.statements]) expect(statement).not.toMatch(/"document"/);
+    expect(deviceRevisions.cachedRevisions).toBe(compiledBefore);
+  });
 });
+
