@@ -30,6 +30,7 @@ import { startJobWorking, stopJobWorking } from "#server/jobs/worker.server.ts";
 import { createDevice } from "#server/services/devices.server.ts";
 import { createUserWithOrganisation } from "#server/services/organisations.server.ts";
 import { findFreePort } from "../support/free-port.ts";
+import { waitUntilAnswering } from "../support/answering.ts";
 
 const argument = (name: string, fallback: number) => {
   const given = process.argv.find((value) => value.startsWith(`--${name}=`));
@@ -135,15 +136,7 @@ async function main() {
     stdio: ["ignore", "ignore", "inherit"],
   });
   try {
-    for (let attempt = 0; ; attempt++) {
-      try {
-        if ((await fetch(`${base}/healthz`)).ok) break;
-      } catch {
-        // not up yet
-      }
-      if (attempt > 300) throw new Error("the server did not start");
-      await new Promise((resolve) => setTimeout(resolve, 200));
-    }
+    await waitUntilAnswering(base, 60_000);
     log(`Signing in ${config.sessions} demo sessions and ${config.heavyUsers} of the large organisation…`);
     // Each session from its own documentation address (RFC 5737 TEST-NET-3), so the per-address sign-in throttle is not what is measured.
     const address = (index: number) => `203.0.113.${1 + (index % 250)}`;

@@ -21,6 +21,7 @@ import { createApiToken, revokeApiToken } from "#server/services/api-tokens.serv
 import { createProposal } from "#server/services/proposals.server.ts";
 import { BENCH_SIZE, generateModel, prng } from "#server/engine/testing/generate-model.ts";
 import { findFreePort } from "../support/free-port.ts";
+import { waitUntilAnswering } from "../support/answering.ts";
 
 const json = process.argv.includes("--json");
 const LOADER_RUNS = 15;
@@ -69,15 +70,7 @@ async function main() {
   const base = `http://127.0.0.1:${port}`;
   const server = spawn(process.execPath, ["--import", "tsx", "server/http/main.ts"], { env: { ...process.env, NODE_ENV: "production", PORT: String(port), APP_ORIGIN: base }, stdio: ["ignore", "ignore", "inherit"] });
   try {
-    for (let attempt = 0; ; attempt++) {
-      try {
-        if ((await fetch(`${base}/healthz`)).ok) break;
-      } catch {
-        // not up yet
-      }
-      if (attempt > 150) throw new Error("the server did not start");
-      await new Promise((resolve) => setTimeout(resolve, 200));
-    }
+    await waitUntilAnswering(base, 30_000);
     const signIn = await fetch(`${base}/login`, { method: "POST", redirect: "manual", headers: { Origin: base, "Content-Type": "application/x-www-form-urlencoded" }, body: new URLSearchParams({ email: "priya.nandakumar@lanternfield.example", password: "demo-password-engineer" }) });
     const cookie = signIn.headers.getSetCookie().map((line) => line.split(";")[0]).join("; ");
     if (!cookie) throw new Error("sign-in failed");

@@ -9,6 +9,7 @@ import { REVISION_ANALYSIS_QUEUE } from "#server/jobs/revision-analysis.server";
 import { GOOD_PASSWORD, signUpNewOrganisation, TestClient } from "../support/client";
 import { makeToken } from "../support/api";
 import { findFreePort } from "../support/free-port";
+import { waitUntilAnswering } from "../support/answering";
 
 // Scale-out (docs/decisions/018): two web processes and one job-only process against one
 // database, as `npm start` runs them with WEB_CONCURRENCY=2 JOB_WORKERS=1 behind one origin.
@@ -27,19 +28,6 @@ function start(script: string, environment: Record<string, string>): ChildProces
   return child;
 }
 
-async function answering(base: string): Promise<void> {
-  const deadline = Date.now() + 60_000;
-  for (;;) {
-    try {
-      if ((await fetch(`${base}/healthz`)).ok) return;
-    } catch {
-      // not up yet
-    }
-    if (Date.now() > deadline) throw new Error(`${base} did not answer /healthz`);
-    await new Promise((resolve) => setTimeout(resolve, 200));
-  }
-}
-
 beforeAll(async () => {
   const [portA, portB] = [await findFreePort(), await findFreePort()];
   instanceA = `http://127.0.0.1:${portA}`;
@@ -48,7 +36,7 @@ beforeAll(async () => {
   siteOrigin = instanceA;
   for (const port of [portA, portB]) start("server/http/main.ts", { PORT: String(port), APP_ORIGIN: siteOrigin, SALLYPORT_JOBS: "0" });
   start("server/jobs/main.ts", {});
-  await Promise.all([answering(instanceA), answering(instanceB)]);
+  await Promise.all([waitUntilAnswering(instanceA, 60_000), waitUntilAnswering(instanceB, 60_000)]);
 }, 90_000);
 
 afterAll(async () => {
