@@ -9,9 +9,12 @@ import { NonceContext } from "./utils/nonce";
 import { getDatabase } from "#server/db/database.server";
 import { requestFactsContext } from "#server/http/request-context.server";
 import { noteFailure } from "#server/http/failures.server";
+import { startProcessJobs } from "#server/jobs/worker.server";
 
 // Registers the models once, when the server build loads, before any route module runs.
 getDatabase();
+// Background analysis of saved revisions in this process (docs/decisions/018).
+startProcessJobs();
 
 export const streamTimeout = 5_000;
 

@@ -4,6 +4,8 @@
 import { createDatabase } from "./database.server.ts";
 import { createMigrator, createSeeder } from "./migrator.ts";
 import { grantRuntimeRole, runtimeRoleOf } from "./roles.ts";
+import { grantJobQueue } from "./job-queue-grants.ts";
+import { JOB_QUEUE_SCHEMA } from "../jobs/queues.ts";
 
 const command = process.argv[2];
 const runtimeUrl = process.env.DATABASE_URL;
@@ -21,6 +23,7 @@ try {
     console.log(applied.length ? `  applied ${applied.map((m) => m.name).join(", ")}` : "  migrations up to date");
     if (runtimeRole) {
       await grantRuntimeRole(sequelize, runtimeRole);
+      await grantJobQueue(sequelize, runtimeRole);
       console.log(`  runtime role ${runtimeRole}: data read and written, audit log insert and read only`);
     }
   } else if (command === "seed") {
@@ -30,7 +33,7 @@ try {
     // Test databases only: start every run from an empty schema.
     const database = new URL(ownerUrl).pathname.slice(1);
     if (!database.endsWith("_test")) throw new Error(`refusing to reset "${database}": only databases ending in _test`);
-    await sequelize.query("DROP SCHEMA public CASCADE; CREATE SCHEMA public;");
+    await sequelize.query(`DROP SCHEMA public CASCADE; CREATE SCHEMA public; DROP SCHEMA IF EXISTS ${JOB_QUEUE_SCHEMA} CASCADE;`);
     console.log(`  reset ${database}`);
   } else {
     console.error("usage: tsx server/db/cli.ts migrate|seed|reset");

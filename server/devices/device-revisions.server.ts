@@ -5,6 +5,8 @@ import { LRUCache } from "lru-cache";
 import { col, ForeignKeyConstraintError, Op, type Transaction } from "sequelize";
 import { Device, DeviceRevision, RevisionAnalysisRecord, Site } from "#models/index.ts";
 import type { Finding, Outcome } from "../engine/index.ts";
+import { keysOf } from "./finding-keys.ts";
+import { analyseOffThread, POOL_THRESHOLD_ELEMENTS, type PooledAnalysis } from "../jobs/analysis-pool.server.ts";
 import { currentRevision, summariseDocument, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
 import { RevisionAnalysis } from "./revision-analysis.ts";
 import { isUuid } from "../validation/ids.ts";
@@ -30,7 +32,7 @@ export type DeviceAtRevision = {
 
 const RECORD_ATTRIBUTES = ["id", "number", "message", "authorEmail", "createdAt", "summary", "sharedObjects"] as const;
 /** The revision's stored analysis, when there is one yet (LEFT JOIN). */
-const ANALYSIS_RECORD = { model: RevisionAnalysisRecord, as: "analysisRecord", required: false, attributes: ["revisionId", "findingsBySeverity", "worstOutsideOutcome"] };
+const ANALYSIS_RECORD = { model: RevisionAnalysisRecord, as: "analysisRecord", required: false, attributes: ["revisionId", "findingsBySeverity", "worstOutsideOutcome", "findingKeys"] };
 
 
 export type DeviceRevisionsOptions = {
@@ -163,45 +165,118 @@ export class DeviceRevisions {
    * background analysis has not run yet — computed now, stored (first writer wins) and returned.
    */
   async summariesOf(records: readonly RevisionRecord[]): Promise<FleetSummary[]> {
-    const missing = records.filter((record) => !record.analysisRecord);
-    const computed = new Map<string, FleetSummary>();
-    if (missing.length > 0) {
-      const analyses = await this.#analysesOf(missing);
-      for (const [index, record] of missing.entries()) computed.set(record.id, await this.#storeSummary(record.id, analyses[index]));
-    }
+    const computed = await this.#completeMissing(records, (record) => !record.analysisRecord);
     return records.map((record) => {
       const stored = record.analysisRecord;
       return stored ? { findingsBySeverity: stored.findingsBySeverity, worstOutsideOutcome: stored.worstOutsideOutcome } : computed.get(record.id)!;
     });
   }
 
-  /** Analyses a saved revision and stores its fleet summary (the background job's work); seeds the caches. */
-  async analyseSaved(revisionId: string): Promise<void> {
+  /**
+   * Whether a revision's analysis is still to come and heavy enough to leave to its job: nothing
+   * stored yet, and a model the pool would take (sized by the element counts kept at save time).
+   * The fleet page shows such a row as being analysed instead of analysing it in the request.
+   */
+  awaitsAnalysis(record: RevisionRecord): boolean {
+    if (record.analysisRecord) return false;
+    const size = Object.values(record.summary?.counts ?? {}).reduce((total, count) => total + count, 0);
+    return size >= POOL_THRESHOLD_ELEMENTS;
+  }
+
+  /**
+   * Each revision's findings as [key, severity] pairs, in order, from what the analysis stored:
+   * the fleet table counts active findings from these without reading any document. A revision
+   * not analysed yet (or stored before keys were kept) is analysed now and stored.
+   */
+  async findingKeysOf(records: readonly RevisionRecord[]): Promise<Array<Array<[string, string]>>> {
+    const computed = await this.#completeMissing(records, (record) => !record.analysisRecord?.findingKeys);
+    return records.map((record) => record.analysisRecord?.findingKeys ?? computed.get(record.id)!.findingKeys);
+  }
+
+  /**
+   * The findings of each revision, in order: kept in memory, else as the analysis stored them
+   * (one query for all), else computed now — large models on the analysis pool — and stored.
+   */
+  async storedFindingsOf(records: readonly RevisionRecord[]): Promise<Array<readonly Finding[]>> {
+    const known = new Map<string, readonly Finding[]>();
+    for (const record of records) {
+      const cached = this.#findings.get(record.id);
+      if (cached) known.set(record.id, cached);
+    }
+    const unknown = records.filter((record) => !known.has(record.id) && record.analysisRecord?.findingKeys);
+    if (unknown.length > 0) {
+      const rows = await RevisionAnalysisRecord.findAll({ where: { revisionId: unknown.map((record) => record.id) }, attributes: ["revisionId", "findings"] });
+      for (const row of rows) {
+        if (!row.findings) continue;
+        known.set(row.revisionId, row.findings);
+        this.#findings.set(row.revisionId, row.findings);
+      }
+    }
+    const computed = await this.#completeMissing(records, (record) => !known.has(record.id));
+    return records.map((record) => known.get(record.id) ?? computed.get(record.id)!.findings);
+  }
+
+  /** The findings of a device at a revision (see storedFindingsOf). */
+  async findingsFor(device: DeviceAtRevision): Promise<readonly Finding[]> {
+    const [found] = await this.storedFindingsOf([device.revision]);
+    return found;
+  }
+
+  /**
+   * Analyses a saved revision and stores its findings and fleet summary (the background job's
+   * work); seeds the caches. False when it was analysed already (or is gone): nothing is done twice.
+   */
+  async analyseSaved(revisionId: string): Promise<boolean> {
+    if (!isUuid(revisionId)) return false;
     const record = await DeviceRevision.findByPk(revisionId, { attributes: [...RECORD_ATTRIBUTES, "deviceId"], include: [ANALYSIS_RECORD] });
-    if (!record || record.analysisRecord) return;
+    if (!record || record.analysisRecord?.findingKeys) return false;
     // The revision it was saved on, when its compiled model is still in memory: the new one is
     // then compiled on it and re-uses what the edit left alone.
     const previous = await DeviceRevision.findOne({ where: { deviceId: record.deviceId, number: { [Op.lt]: record.number } }, order: [["number", "DESC"]], attributes: ["id"] });
     const basis = previous ? this.#analyses.peek(previous.id) : undefined;
     const [analysis] = await this.#analysesOf([record], undefined, basis);
-    await this.#storeSummary(record.id, analysis);
+    await this.#analyseAndStore(record.id, analysis);
+    return true;
   }
 
-  async #storeSummary(revisionId: string, analysis: RevisionAnalysis): Promise<FleetSummary> {
-    const findings = this.#findings.get(revisionId) ?? analysis.findings;
-    this.#findings.set(revisionId, findings);
-    const { findingsBySeverity, worstOutsideOutcome } = summariseDocument(analysis.effective, analysis.compiled, findings);
+  /** Analyses the records `missing` selects (documents read in one query) and stores each; by revision id. */
+  async #completeMissing(records: readonly RevisionRecord[], missing: (record: RevisionRecord) => boolean): Promise<Map<string, PooledAnalysis>> {
+    const computed = new Map<string, PooledAnalysis>();
+    const selected = records.filter(missing);
+    if (selected.length === 0) return computed;
+    const analyses = await this.#analysesOf(selected);
+    // One after another: the pool's threads are shared with every other request.
+    for (const [index, record] of selected.entries()) computed.set(record.id, await this.#analyseAndStore(record.id, analyses[index]));
+    return computed;
+  }
+
+  /**
+   * Findings and fleet summary of one revision: on this thread when its compiled model is in
+   * memory or the model is small, else on the analysis pool; then stored (the same answer
+   * whoever writes it, so a second writer changes nothing).
+   */
+  async #analyseAndStore(revisionId: string, analysis: RevisionAnalysis): Promise<PooledAnalysis> {
+    const known = this.#findings.get(revisionId);
+    let result: PooledAnalysis;
+    if (analysis.isCompiled || elementCount(analysis.effective) < POOL_THRESHOLD_ELEMENTS) {
+      const found = known ?? analysis.findings;
+      const { findingsBySeverity, worstOutsideOutcome } = summariseDocument(analysis.effective, analysis.compiled, found);
+      result = { findings: [...found], findingKeys: keysOf(found), findingsBySeverity, worstOutsideOutcome };
+    } else {
+      result = await analyseOffThread(analysis.effective);
+    }
+    this.#findings.set(revisionId, result.findings);
     try {
-      await RevisionAnalysisRecord.bulkCreate([{ revisionId, findingsBySeverity, worstOutsideOutcome }], { ignoreDuplicates: true });
+      await RevisionAnalysisRecord.bulkCreate([{ revisionId, ...result }], { updateOnDuplicate: ["findings", "findingKeys"] });
     } catch (error) {
       // The device (and with it the revision) was deleted while the analysis ran: nothing to keep.
       if (!(error instanceof ForeignKeyConstraintError)) throw error;
       this.#findings.delete(revisionId);
     }
-    return { findingsBySeverity, worstOutsideOutcome };
+    return result;
   }
 
-  /** The findings of a revision, kept longer than its compiled model. */
+  /** The findings of a revision whose compiled model is in hand (the trace and effect pages), kept longer than the model. */
   findingsOf(device: DeviceAtRevision): readonly Finding[] {
     const known = this.#findings.get(device.revision.id);
     if (known) return known;
@@ -209,7 +284,6 @@ export class DeviceRevisions {
     this.#findings.set(device.revision.id, computed);
     return computed;
   }
-
 
   /** Cached analyses, for tests and the contributor guide's numbers. */
   get cachedRevisions(): number {

@@ -11,6 +11,7 @@ import { outboxLink } from "../mail/outbox-access.server.ts";
 import { createRequestContext } from "./request-context.server.ts";
 import { canonicalOrigin, clientAddressOf, requestSizeLimit, requestTextGuard, sameOriginGuard, securityHeaders } from "./security.ts";
 import { MAX_DOCUMENT_REQUEST_BYTES, MAX_REQUEST_BYTES } from "../validation/limits.ts";
+import { stopProcessJobs } from "../jobs/worker.server.ts";
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "../..");
 // Read and checked before anything listens: production without APP_ORIGIN stops here.
@@ -69,6 +70,7 @@ const server = app.listen(port, host, (error?: Error) => {
   if (isOutboxEnabled()) console.log(`Local outbox (keep this link to yourself): ${outboxLink()}`);
   else if (environment.SALLYPORT_FAKE_SMTP === "1" && !listensOnLoopbackOnly()) console.log("Local outbox: off, because the server listens beyond loopback (OUTBOX_BEYOND_LOOPBACK=1 opens it).");
 });
+// The app (app/entry.server.tsx) works the job queue in this process unless SALLYPORT_JOBS=0; stopping lets running jobs end.
 for (const signal of ["SIGINT", "SIGTERM"] as const) {
-  process.on(signal, () => server.close(() => process.exit(0)));
+  process.on(signal, () => server.close(() => void stopProcessJobs().finally(() => process.exit(0))));
 }

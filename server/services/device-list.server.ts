@@ -8,8 +8,11 @@ import { openProposalCounts } from "./proposals.server.ts";
 
 export type FleetDeviceRow = DeviceRow & { openProposals: number };
 
-/** Every device of the organisation, by name, with its active findings and open proposals. */
-export async function fleetDeviceRows(organisationId: string): Promise<FleetDeviceRow[]> {
-  const [listed, active, proposals] = await Promise.all([listDevices(organisationId), activeFindingsBySeverity(organisationId), openProposalCounts(organisationId)]);
+/**
+ * Every device of the organisation, by name, with its active findings and open proposals. The
+ * fleet page passes `wait: false`: a large revision still being analysed shows as such (`analysing`).
+ */
+export async function fleetDeviceRows(organisationId: string, options: { wait?: boolean } = {}): Promise<FleetDeviceRow[]> {
+  const [listed, active, proposals] = await Promise.all([listDevices(organisationId, options), activeFindingsBySeverity(organisationId, options), openProposalCounts(organisationId)]);
   return listed.map((device) => ({ ...device, findingsBySeverity: active.get(device.id) ?? device.findingsBySeverity, openProposals: proposals.get(device.id) ?? 0 }));
 }

@@ -3,7 +3,7 @@ import { getDatabase } from "../db/database.server.ts";
 import { Device, DeviceRevision, SharedAddressObject, Site, type RevisionSummaryRecord } from "#models/index.ts";
 import { deviceRevisions, type DeviceAtRevision, type FleetSummary } from "../devices/index.ts";
 import { revisionAnalysisQueue } from "../jobs/revision-analysis.server.ts";
-import type { ValidationIssue } from "../engine/index.ts";
+import { emptySeverityCounts, type ValidationIssue } from "../engine/index.ts";
 import type { AuditAction } from "#models/audit-actions.ts";
 import { Refusal } from "../errors.ts";
 import { isUuid } from "../validation/ids.ts";
@@ -41,6 +41,8 @@ export type DeviceRow = {
   revision: number;
   updatedAt: string;
   updatedBy: string;
+  /** True while the background analysis of a large current revision runs: the figures below are not known yet. */
+  analysing: boolean;
   findingsBySeverity: Record<string, number>;
   worstOutsideOutcome: string | null;
 };
@@ -53,20 +55,39 @@ export async function loadSharedLibrary(organisationId: string, transaction?: Tr
   };
 }
 
-export async function listDevices(organisationId: string): Promise<DeviceRow[]> {
+/**
+ * The organisation's devices with their current revision's fleet summary. With `wait: false` (the
+ * fleet page) a large revision whose background analysis has not finished is not analysed here:
+ * its row says `analysing` (and its job is queued again, in case it was lost), and the page looks
+ * again shortly; small ones are computed at once. The API waits (`wait: true`) for every answer.
+ */
+export async function listDevices(organisationId: string, options: { wait?: boolean } = {}): Promise<DeviceRow[]> {
   const devices = await deviceRevisions.currentRecords(organisationId);
-  const summaries = await deviceRevisions.summariesOf(devices.map(({ revision }) => revision));
-  return devices.map(({ device, revision }, index) => ({
-    id: device.id,
-    name: device.name,
-    siteId: device.siteId,
-    siteName: device.site.name,
-    revision: revision.number,
-    updatedAt: revision.createdAt.toISOString(),
-    updatedBy: revision.authorEmail,
-    findingsBySeverity: summaries[index].findingsBySeverity,
-    worstOutsideOutcome: summaries[index].worstOutsideOutcome,
-  }));
+  const pending = new Set(options.wait === false ? devices.filter(({ revision }) => deviceRevisions.awaitsAnalysis(revision)).map(({ revision }) => revision.id) : []);
+  for (const id of pending) revisionAnalysisQueue.enqueue(id);
+  const ready = devices.filter(({ revision }) => !pending.has(revision.id));
+  const summaries = new Map((await deviceRevisions.summariesOf(ready.map(({ revision }) => revision))).map((summary, index) => [ready[index].revision.id, summary]));
+  return devices.map(({ device, revision }) => {
+    const summary = summaries.get(revision.id);
+    return {
+      id: device.id,
+      name: device.name,
+      siteId: device.siteId,
+      siteName: device.site.name,
+      revision: revision.number,
+      updatedAt: revision.createdAt.toISOString(),
+      updatedBy: revision.authorEmail,
+      analysing: !summary,
+      findingsBySeverity: summary?.findingsBySeverity ?? emptySeverityCounts(),
+      worstOutsideOutcome: summary?.worstOutsideOutcome ?? null,
+    };
+  });
+}
+
+/** The organisation's devices' ids, names and current revision numbers, by name (no analysis). */
+export async function listDeviceNames(organisationId: string): Promise<Array<{ id: string; name: string; revision: number }>> {
+  const devices = await Device.findAll({ where: { organisationId }, attributes: ["id", "name", "currentRevisionNumber"], order: [["name", "ASC"]] });
+  return devices.map((device) => ({ id: device.id, name: device.name, revision: device.currentRevisionNumber }));
 }
 
 /** The engine's summary of the revision for the pages (stored by the background analysis, or computed now). */

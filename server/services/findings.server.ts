@@ -111,7 +111,7 @@ export type UnmatchedDismissal = { key: string; code: string; title: string; rea
  */
 export async function deviceFindings(found: DeviceAtRevision): Promise<{ findings: FindingView[]; unmatched: UnmatchedDismissal[] }> {
   const standing = (await standingDismissals({ deviceId: found.device.id })).get(found.device.id) ?? new Map<string, FindingDismissal>();
-  const list = deviceRevisions.findingsOf(found);
+  const list = await deviceRevisions.findingsFor(found);
   const current = new Set(list.map((finding) => findingKey(finding)));
   return {
     findings: list.map((finding) => viewOf(finding, standing.get(findingKey(finding)))),
@@ -130,12 +130,16 @@ export async function deviceFindings(found: DeviceAtRevision): Promise<{ finding
   };
 }
 
-/** Every device's current-revision findings in one organisation, dismissed ones and those awaiting confirmation included (marked). */
+/**
+ * Every device's current-revision findings in one organisation, dismissed ones and those awaiting
+ * confirmation included (marked). Reads the findings the background analysis stored, never the
+ * devices' documents (issue 14: one organisation's large fleet must not stall the server).
+ */
 export async function fleetFindings(organisationId: string): Promise<{ devices: Array<{ id: string; name: string; siteId: string; siteName: string }>; rows: FleetFindingRow[] }> {
-  const [current, dismissals] = await Promise.all([deviceRevisions.current(organisationId), standingDismissals({ organisationId })]);
-  const rows = current.flatMap((found) => {
-    const { device, revision } = found;
-    return deviceRevisions.findingsOf(found).map((finding): FleetFindingRow => {
+  const [current, dismissals] = await Promise.all([deviceRevisions.currentRecords(organisationId), standingDismissals({ organisationId })]);
+  const found = await deviceRevisions.storedFindingsOf(current.map(({ revision }) => revision));
+  const rows = current.flatMap(({ device, revision }, index) =>
+    found[index].map((finding): FleetFindingRow => {
       const view = viewOf(finding, dismissals.get(device.id)?.get(findingKey(finding)));
       const state = view.dismissal?.state ?? null;
       return {
@@ -148,22 +152,31 @@ export async function fleetFindings(organisationId: string): Promise<{ devices: 
         dismissed: state === "in-effect",
         awaitingConfirmation: state === "awaiting-confirmation",
       };
-    });
-  });
+    }),
+  );
   return { devices: current.map(({ device }) => ({ id: device.id, name: device.name, siteId: device.siteId, siteName: device.site.name })), rows };
 }
 
 /**
  * Counts of active findings per device of the organisation, by severity, from each device's
  * current revision: the figures the fleet table should show. A finding whose dismissal awaits
- * confirmation is still active.
+ * confirmation is still active. Reads only the stored keys and severities: no document, no engine.
+ * `wait: false` leaves out devices whose large current revision is still being analysed.
  */
-export async function activeFindingsBySeverity(organisationId: string): Promise<Map<string, SeverityCounts>> {
-  const { devices, rows } = await fleetFindings(organisationId);
-  const counts = new Map<string, SeverityCounts>(devices.map((device) => [device.id, emptySeverityCounts()]));
-  for (const row of rows) {
-    const deviceCounts = counts.get(row.deviceId);
-    if (deviceCounts && !row.dismissed && isSeverity(row.severity)) deviceCounts[row.severity] += 1;
+export async function activeFindingsBySeverity(organisationId: string, options: { wait?: boolean } = {}): Promise<Map<string, SeverityCounts>> {
+  const [records, dismissals] = await Promise.all([deviceRevisions.currentRecords(organisationId), standingDismissals({ organisationId })]);
+  // Without waiting, a large revision still being analysed is left out (listDevices marks its row).
+  const current = options.wait === false ? records.filter(({ revision }) => !deviceRevisions.awaitsAnalysis(revision)) : records;
+  const keys = await deviceRevisions.findingKeysOf(current.map(({ revision }) => revision));
+  const counts = new Map<string, SeverityCounts>();
+  for (const [index, { device }] of current.entries()) {
+    const deviceCounts = emptySeverityCounts();
+    for (const [key, severity] of keys[index]) {
+      const dismissal = dismissals.get(device.id)?.get(key);
+      if (dismissal && dismissalViewOf(dismissal).state === "in-effect") continue;
+      if (isSeverity(severity)) deviceCounts[severity] += 1;
+    }
+    counts.set(device.id, deviceCounts);
   }
   return counts;
 }

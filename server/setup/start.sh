@@ -23,4 +23,4 @@ else
   export NODE_ENV=production
 fi
 step "Serving on $APP_ORIGIN (Ctrl-C stops the web server; \`npm run stop\` stops PostgreSQL and the fake SMTP server)"
-exec node --import tsx server/http/main.ts
+exec node --import tsx server/launch.ts

@@ -12,6 +12,7 @@
 import { spawn } from "node:child_process";
 import { performance } from "node:perf_hooks";
 import { revisionAnalysisQueue } from "#server/jobs/revision-analysis.server.ts";
+import { startJobWorking, stopJobWorking } from "#server/jobs/worker.server.ts";
 import { createDevice, saveEdit } from "#server/services/devices.server.ts";
 import { moveRule } from "#server/workspace/index.ts";
 import { getDatabase } from "#server/db/database.server.ts";
@@ -20,6 +21,7 @@ import { createApiToken, revokeApiToken } from "#server/services/api-tokens.serv
 import { createProposal } from "#server/services/proposals.server.ts";
 import { BENCH_SIZE, generateModel, prng } from "#server/engine/testing/generate-model.ts";
 import { findFreePort } from "../support/free-port.ts";
+import { waitUntilAnswering } from "../support/answering.ts";
 
 const json = process.argv.includes("--json");
 const LOADER_RUNS = 15;
@@ -40,6 +42,8 @@ const EFFECT_RUNS = 7;
 
 async function main() {
   getDatabase();
+  // This process works the analysis jobs it queues, as the web process of `npm start` does.
+  await startJobWorking();
   const organisation = await Organisation.findOne({ where: { slug: "lanternfield" } });
   const site = organisation ? await Site.findOne({ where: { organisationId: organisation.id } }) : null;
   if (!organisation || !site) throw new Error("the demo organisation is missing: run the bench through server/setup/bench-web.sh");
@@ -66,15 +70,7 @@ async function main() {
   const base = `http://127.0.0.1:${port}`;
   const server = spawn(process.execPath, ["--import", "tsx", "server/http/main.ts"], { env: { ...process.env, NODE_ENV: "production", PORT: String(port), APP_ORIGIN: base }, stdio: ["ignore", "ignore", "inherit"] });
   try {
-    for (let attempt = 0; ; attempt++) {
-      try {
-        if ((await fetch(`${base}/healthz`)).ok) break;
-      } catch {
-        // not up yet
-      }
-      if (attempt > 150) throw new Error("the server did not start");
-      await new Promise((resolve) => setTimeout(resolve, 200));
-    }
+    await waitUntilAnswering(base, 30_000);
     const signIn = await fetch(`${base}/login`, { method: "POST", redirect: "manual", headers: { Origin: base, "Content-Type": "application/x-www-form-urlencoded" }, body: new URLSearchParams({ email: "priya.nandakumar@lanternfield.example", password: "demo-password-engineer" }) });
     const cookie = signIn.headers.getSetCookie().map((line) => line.split(";")[0]).join("; ");
     if (!cookie) throw new Error("sign-in failed");
@@ -190,6 +186,7 @@ async function main() {
     }
   } finally {
     server.kill("SIGTERM");
+    await stopJobWorking();
     await getDatabase().query(`DELETE FROM devices WHERE id = '${device.id}'`);
     await getDatabase().close();
   }

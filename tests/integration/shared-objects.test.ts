@@ -12,6 +12,7 @@ import { getDatabase } from "#server/db/database.server";
 import { parseCidr } from "#server/engine/addresses";
 import { compileModel, diffModels, parseModel, trace, type CompiledModel, type Outcome } from "#server/engine/index";
 import { revisionAnalysisQueue } from "#server/jobs/revision-analysis.server";
+import { stopJobQueue } from "#server/jobs/job-queue.server";
 import { previewSharedObjectChange, saveSharedObject } from "#server/services/shared-objects.server";
 import { lockSharedLibrary } from "#server/services/shared-library-lock.server";
 import { signUpNewOrganisation, type FetchResult, type TestClient } from "../support/client";
@@ -20,7 +21,10 @@ import { confirmReview, PIER_GW, QUAY_EDGE, reviewConfirmFields } from "../suppo
 import { ownerConnection } from "../support/database";
 
 const sequelize = getDatabase();
-afterAll(() => sequelize.close());
+afterAll(async () => {
+  await stopJobQueue();
+  await sequelize.close();
+});
 
 // Invented devices; documentation addresses (RFC 5737, RFC 3849) stand in for the internet.
 // QUAY_EDGE uses ops-desk directly, PIER_GW through the shared group all-operators.

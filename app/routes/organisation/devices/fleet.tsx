@@ -1,4 +1,5 @@
-import { Form, Link, useSearchParams } from "react-router";
+import { useEffect } from "react";
+import { Form, Link, useRevalidator, useSearchParams } from "react-router";
 import { SiteFilter } from "#app/components/ui/site-filter";
 import { SortHeader } from "#app/components/ui/sort-header";
 import { nameTie, tableRows, urlSort, type ColumnDef } from "#app/components/ui/table-rows";
@@ -52,7 +53,7 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   const url = new URL(request.url);
   const { sort, descending, sorting } = urlSort(url.searchParams, COLUMNS);
   // Counts leave out dismissed findings (accepted risks), as the device overview does.
-  const [rows, sites, fieldChecks] = await Promise.all([fleetDeviceRows(access.organisation.id), listSites(access.organisation.id), lastFieldChecks(access.organisation.id)]);
+  const [rows, sites, fieldChecks] = await Promise.all([fleetDeviceRows(access.organisation.id, { wait: false }), listSites(access.organisation.id), lastFieldChecks(access.organisation.id)]);
   const devices: FleetRow[] = rows.map((device) => ({ ...device, fieldCheck: fieldChecks.get(device.id) ?? null }));
   const shown = tableRows(devices, [...COLUMNS, SITE_FILTER, nameTie<FleetRow>()], {
     globalFilter: (url.searchParams.get("q") ?? "").trim().slice(0, 100),
@@ -60,12 +61,21 @@ export async function loader({ request, context }: Route.LoaderArgs) {
     sorting,
   });
   const q = (url.searchParams.get("q") ?? "").trim().slice(0, 100);
-  return { devices: shown, total: devices.length, reachFrom: looksLikeSource(q) ? q : null, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canAdd: hasAtLeastRole(access.role, PAGE_ROLES.newDevice), canImport: hasAtLeastRole(access.role, PAGE_ROLES.importModel), slug: access.organisation.slug, now: new Date().toISOString() };
+  return { devices: shown, total: devices.length, analysing: devices.filter((device) => device.analysing).length, reachFrom: looksLikeSource(q) ? q : null, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canAdd: hasAtLeastRole(access.role, PAGE_ROLES.newDevice), canImport: hasAtLeastRole(access.role, PAGE_ROLES.importModel), slug: access.organisation.slug, now: new Date().toISOString() };
 }
 
 export default function Fleet({ loaderData }: Route.ComponentProps) {
   const [searchParams] = useSearchParams();
-  const { devices, sites, sort, descending, canAdd, canImport, slug } = loaderData;
+  const { devices, sites, sort, descending, canAdd, canImport, slug, analysing } = loaderData;
+  // While a large device's background analysis runs, look again every few seconds and show its figures once stored.
+  const revalidator = useRevalidator();
+  useEffect(() => {
+    if (analysing === 0) return;
+    const timer = setInterval(() => {
+      if (revalidator.state === "idle") void revalidator.revalidate();
+    }, 3_000);
+    return () => clearInterval(timer);
+  }, [analysing, revalidator]);
   return (
     <>
       <PageHeader
@@ -157,10 +167,20 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
                     </Link>
                   </Td>
                   <Td className="text-ink-muted">{device.siteName}</Td>
-                  <Td>
-                    <SeverityCounts counts={device.findingsBySeverity} />
-                  </Td>
-                  <Td>{isOutcome(device.worstOutsideOutcome) ? <OutcomeChip outcome={device.worstOutsideOutcome} /> : <span className="text-xs text-ink-faint">no wan interface</span>}</Td>
+                  {device.analysing ? (
+                    <Td colSpan={2}>
+                      <span className="text-xs text-ink-muted" role="status">
+                        {`Analysing r${device.revision}… its figures appear here once stored.`}
+                      </span>
+                    </Td>
+                  ) : (
+                    <>
+                      <Td>
+                        <SeverityCounts counts={device.findingsBySeverity} />
+                      </Td>
+                      <Td>{isOutcome(device.worstOutsideOutcome) ? <OutcomeChip outcome={device.worstOutsideOutcome} /> : <span className="text-xs text-ink-faint">no wan interface</span>}</Td>
+                    </>
+                  )}
                   <Td className="tabular text-ink-muted">
                     r{device.revision} · <Time at={device.updatedAt} now={loaderData.now} />
                   </Td>

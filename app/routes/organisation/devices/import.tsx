@@ -12,7 +12,7 @@ import { isRefusal } from "#server/errors";
 import { isUuid } from "#server/validation/ids";
 import { MAX_MODEL_DOCUMENT_BYTES, sizeWords } from "#server/validation/limits";
 import { refusedWith } from "#server/http/refusals.server";
-import { createDevice, deviceNameChoice, findDevice, listDevices, loadSharedLibrary } from "#server/services/devices.server";
+import { createDevice, deviceNameChoice, findDevice, listDeviceNames, loadSharedLibrary } from "#server/services/devices.server";
 import { hasAtLeastRole } from "#server/auth/roles";
 import { appOrigin } from "#server/config.server";
 import { GateReasons, unlistedReasons, type ShownReason } from "#app/components/proposals/proposal-bits";
@@ -47,8 +47,8 @@ export const MAX_MODEL_BYTES = MAX_MODEL_DOCUMENT_BYTES;
 
 export async function loader({ context }: Route.LoaderArgs) {
   const access = requireRole(context, PAGE_ROLES.importModel);
-  const [sites, devices] = await Promise.all([listSites(access.organisation.id), listDevices(access.organisation.id)]);
-  return { sites: sites.map((site) => ({ id: site.id, name: site.name })), devices: devices.map((device) => ({ id: device.id, name: device.name, revision: device.revision })) };
+  const [sites, devices] = await Promise.all([listSites(access.organisation.id), listDeviceNames(access.organisation.id)]);
+  return { sites: sites.map((site) => ({ id: site.id, name: site.name })), devices };
 }
 
 type Problem = { path: string; message: string };

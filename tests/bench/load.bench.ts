@@ -1,0 +1,247 @@
+// Load benchmark (issue 14, docs/decisions/018): the demo organisation plus a second organisation
+// of many benchmark-size devices, served as `npm start` serves them (server/launch.ts: honours
+// WEB_CONCURRENCY and JOB_WORKERS), driven over HTTP with Node's own fetch (undici).
+//   npm run bench:load                         full run: 500 devices, 100 requests/s for 60 s
+//   npm run bench:load -- --json               one JSON object (keys below)
+//   npm run bench:load -- --devices=20 --duration=5 --rate=20 --sessions=20 --closed-seconds=3   a smoke run
+// Phases:
+//  1. open loop — `rate` requests a second for `duration` seconds, each started on schedule whether
+//     or not earlier ones finished, spread over `sessions` signed-in demo sessions: the demo fleet
+//     page, a device's trace page and the trace JSON route, in equal shares; *meanwhile* ten users
+//     of the large organisation load its fleet page again and again (closed loop).
+//  2. closed loop — per route, `connections` requests kept in flight for `closed-seconds`: the
+//     maximum throughput the server sustains on it.
+// JSON keys: { config: {devices, modelSize, rate, durationSeconds, sessions, connections, closedSeconds,
+// webConcurrency, jobWorkers}, seedSeconds, openLoop: { overall, byRoute: {fleet, tracePage, traceApi},
+// heavyFleet }, closedLoop: { fleet, tracePage, traceApi, heavyFleet } }, where every latency block is
+// { count, errors, p50Ms, p95Ms, p99Ms, maxMs } and every closed-loop block adds requestsPerSecond.
+// Targets (issue 14, 2-core machine): open-loop p95 ≤ 250 ms with 0 errors; the demo trace JSON
+// route's p95 ≤ 50 ms while the large fleet page is being loaded.
+// Needs the build and its own database: `bash server/setup/bench-load.sh` prepares both; the large
+// organisation is seeded once and kept between runs (SALLYPORT_LOAD_DB_NAME names the database).
+import { spawn } from "node:child_process";
+import { performance } from "node:perf_hooks";
+import { Membership, Organisation, Site, User } from "#models/index.ts";
+import { getDatabase } from "#server/db/database.server.ts";
+import { deviceRevisions } from "#server/devices/index.ts";
+import { BENCH_SIZE, generateModel, prng, type ModelSize } from "#server/engine/testing/generate-model.ts";
+import { revisionAnalysisQueue } from "#server/jobs/revision-analysis.server.ts";
+import { startJobWorking, stopJobWorking } from "#server/jobs/worker.server.ts";
+import { createDevice } from "#server/services/devices.server.ts";
+import { createUserWithOrganisation } from "#server/services/organisations.server.ts";
+import { findFreePort } from "../support/free-port.ts";
+import { waitUntilAnswering } from "../support/answering.ts";
+
+const argument = (name: string, fallback: number) => {
+  const given = process.argv.find((value) => value.startsWith(`--${name}=`));
+  const parsed = given ? Number(given.slice(name.length + 3)) : fallback;
+  if (!Number.isFinite(parsed) || parsed <= 0) throw new Error(`--${name} must be a positive number`);
+  return parsed;
+};
+const json = process.argv.includes("--json");
+const config = {
+  devices: argument("devices", 500),
+  modelSize: process.argv.includes("--demo-size") ? "demo" : "bench",
+  rate: argument("rate", 100),
+  durationSeconds: argument("duration", 60),
+  sessions: argument("sessions", 200),
+  heavyUsers: argument("heavy-users", 10),
+  connections: argument("connections", 32),
+  closedSeconds: argument("closed-seconds", 15),
+  webConcurrency: Number(process.env.WEB_CONCURRENCY ?? 1),
+  jobWorkers: Number(process.env.JOB_WORKERS ?? 0),
+};
+const LARGE_ORGANISATION = "Tidewater Freight (load benchmark)";
+const LARGE_OWNER = "load-owner@tidewater.example";
+const LARGE_PASSWORD = "load benchmark tide lantern 7";
+const DEMO_ENGINEER = ["priya.nandakumar@lanternfield.example", "demo-password-engineer"] as const;
+/** Smaller models for a quick run (--demo-size): about the demo devices' size. */
+const DEMO_SIZE: ModelSize = { ...BENCH_SIZE, interfaces: 4, rules: 30, addressObjects: 20, entries: 60, groups: 4, accounts: 5, schedules: 2 };
+const log = (line: string) => {
+  if (!json) console.log(line);
+};
+
+type Latencies = { count: number; errors: number; p50Ms: number; p95Ms: number; p99Ms: number; maxMs: number };
+class Recorder {
+  readonly times: number[] = [];
+  errors = 0;
+  add(ms: number, ok: boolean) {
+    this.times.push(ms);
+    if (!ok) this.errors += 1;
+  }
+  summary(): Latencies {
+    const sorted = [...this.times].sort((a, b) => a - b);
+    const at = (p: number) => (sorted.length ? Math.round(sorted[Math.min(sorted.length - 1, Math.floor(sorted.length * p))] * 10) / 10 : 0);
+    return { count: sorted.length, errors: this.errors, p50Ms: at(0.5), p95Ms: at(0.95), p99Ms: at(0.99), maxMs: at(1) };
+  }
+}
+
+/** The large organisation with its devices (made once; later runs add only what is missing). */
+async function seedLargeOrganisation(): Promise<string> {
+  let owner = await User.findOne({ where: { email: LARGE_OWNER } });
+  if (!owner) owner = (await createUserWithOrganisation({ email: LARGE_OWNER, name: "Load Owner", password: LARGE_PASSWORD, organisationName: LARGE_ORGANISATION }, "127.0.0.1")).user;
+  const membership = await Membership.findOne({ where: { userId: owner.id }, include: [{ model: Organisation, as: "organisation", required: true }] });
+  const organisation = (membership as Membership & { organisation: Organisation }).organisation;
+  const [site] = await Site.findOrCreate({ where: { organisationId: organisation.id, name: "Tidewater depots" }, defaults: { organisationId: organisation.id, name: "Tidewater depots", customer: "", location: "" } });
+  const existing = (await deviceRevisions.currentRecords(organisation.id)).length;
+  const size = config.modelSize === "demo" ? DEMO_SIZE : BENCH_SIZE;
+  for (let index = existing; index < config.devices; index++) {
+    const generated = generateModel(40_000 + index, size).model;
+    const document = { ...generated, device: { ...generated.device, name: `tidewater-${String(index + 1).padStart(3, "0")}` } };
+    await createDevice(organisation.id, site.id, document, { userId: owner.id, email: owner.email, clientAddress: "127.0.0.1" }, "Load benchmark device");
+    if ((index + 1) % 25 === 0) {
+      log(`  seeded ${index + 1} / ${config.devices} devices; waiting for their analysis`);
+      await revisionAnalysisQueue.idle(30 * 60_000);
+    }
+  }
+  await revisionAnalysisQueue.idle(30 * 60_000);
+  return organisation.slug;
+}
+
+async function signIn(base: string, email: string, password: string, address: string): Promise<string> {
+  const response = await fetch(`${base}/login`, { method: "POST", redirect: "manual", headers: { Origin: base, "Content-Type": "application/x-www-form-urlencoded", "X-Forwarded-For": address }, body: new URLSearchParams({ email, password }) });
+  const cookie = response.headers.getSetCookie().map((line) => line.split(";")[0]).join("; ");
+  if (response.status !== 302 || !cookie) throw new Error(`sign-in of ${email} failed: ${response.status}`);
+  return cookie;
+}
+
+async function timed(base: string, path: string, cookie: string): Promise<[number, boolean]> {
+  const start = performance.now();
+  try {
+    const response = await fetch(`${base}${path}`, { headers: { Cookie: cookie } });
+    await response.arrayBuffer();
+    return [performance.now() - start, response.ok];
+  } catch {
+    return [performance.now() - start, false];
+  }
+}
+
+async function main() {
+  getDatabase();
+  // This process works the analysis jobs it queues while seeding.
+  await startJobWorking();
+  const seedStart = performance.now();
+  log(`Seeding ${config.devices} ${config.modelSize}-size devices in "${LARGE_ORGANISATION}" (kept between runs)…`);
+  const largeSlug = await seedLargeOrganisation();
+  const seedSeconds = Math.round((performance.now() - seedStart) / 100) / 10;
+  await stopJobWorking();
+  const demo = await Organisation.findOne({ where: { slug: "lanternfield" } });
+  if (!demo) throw new Error("the demo organisation is missing: run through server/setup/bench-load.sh");
+  const demoDevices = (await deviceRevisions.current(demo.id)).map(({ device, effective }) => ({ id: device.id, interfaces: effective.interfaces.map((entry) => entry.name) }));
+
+  const port = await findFreePort();
+  const base = `http://127.0.0.1:${port}`;
+  const server = spawn(process.execPath, ["--import", "tsx", "server/launch.ts"], {
+    env: { ...process.env, NODE_ENV: "production", PORT: String(port), APP_ORIGIN: base, TRUST_PROXY: "1" },
+    stdio: ["ignore", "ignore", "inherit"],
+  });
+  try {
+    await waitUntilAnswering(base, 60_000);
+    log(`Signing in ${config.sessions} demo sessions and ${config.heavyUsers} of the large organisation…`);
+    // Each session from its own documentation address (RFC 5737 TEST-NET-3), so the per-address sign-in throttle is not what is measured.
+    const address = (index: number) => `203.0.113.${1 + (index % 250)}`;
+    const sessions: string[] = [];
+    for (let index = 0; index < config.sessions; index++) sessions.push(await signIn(base, DEMO_ENGINEER[0], DEMO_ENGINEER[1], address(index)));
+    const heavySessions: string[] = [];
+    for (let index = 0; index < config.heavyUsers; index++) heavySessions.push(await signIn(base, LARGE_OWNER, LARGE_PASSWORD, `198.51.100.${1 + index}`));
+
+    const random = prng(14);
+    const services = ["https", "ssh", "http", "ping", "snmp"];
+    const probe = () => {
+      const device = demoDevices[Math.floor(random() * demoDevices.length)];
+      const query = new URLSearchParams({
+        from: `${1 + Math.floor(random() * 222)}.${Math.floor(random() * 256)}.${Math.floor(random() * 256)}.${1 + Math.floor(random() * 254)}`,
+        interface: device.interfaces[Math.floor(random() * device.interfaces.length)] ?? "",
+        service: services[Math.floor(random() * services.length)],
+      });
+      return { device, query };
+    };
+    const routes = {
+      fleet: () => "/o/lanternfield/devices",
+      tracePage: () => {
+        const { device, query } = probe();
+        return `/o/lanternfield/devices/${device.id}/analysis?${query}`;
+      },
+      traceApi: () => {
+        const { device, query } = probe();
+        return `/o/lanternfield/devices/${device.id}/api/trace?${query}`;
+      },
+      heavyFleet: () => `/o/${largeSlug}/devices`,
+    };
+    type RouteName = keyof typeof routes;
+    const mix: RouteName[] = ["fleet", "tracePage", "traceApi"];
+
+    // Warm-up: every page once, so compile-on-first-use is not counted as load.
+    for (const name of [...mix, "heavyFleet"] as RouteName[]) await timed(base, routes[name](), name === "heavyFleet" ? heavySessions[0] : sessions[0]);
+
+    log(`Open loop: ${config.rate} requests/s for ${config.durationSeconds} s over ${config.sessions} sessions, with ${config.heavyUsers} users loading the large fleet page…`);
+    const byRoute: Record<string, Recorder> = { fleet: new Recorder(), tracePage: new Recorder(), traceApi: new Recorder() };
+    const overall = new Recorder();
+    const heavy = new Recorder();
+    let running = true;
+    const heavyLoops = heavySessions.map(async (cookie) => {
+      while (running) {
+        const [ms, ok] = await timed(base, routes.heavyFleet(), cookie);
+        heavy.add(ms, ok);
+      }
+    });
+    const inFlight: Array<Promise<void>> = [];
+    const total = Math.round(config.rate * config.durationSeconds);
+    const started = performance.now();
+    for (let index = 0; index < total; index++) {
+      // Open loop: the next request starts on its schedule, not when an earlier one ends.
+      const due = started + (index * 1000) / config.rate;
+      const wait = due - performance.now();
+      if (wait > 0) await new Promise((resolve) => setTimeout(resolve, wait));
+      const name = mix[index % mix.length];
+      inFlight.push(
+        timed(base, routes[name](), sessions[index % sessions.length]).then(([ms, ok]) => {
+          byRoute[name].add(ms, ok);
+          overall.add(ms, ok);
+        }),
+      );
+    }
+    await Promise.all(inFlight);
+    running = false;
+    await Promise.all(heavyLoops);
+    const openLoop = { overall: overall.summary(), byRoute: Object.fromEntries(Object.entries(byRoute).map(([name, recorder]) => [name, recorder.summary()])), heavyFleet: heavy.summary() };
+
+    log(`Closed loop: ${config.connections} requests in flight per route for ${config.closedSeconds} s each…`);
+    const closedLoop: Record<string, Latencies & { requestsPerSecond: number }> = {};
+    for (const name of [...mix, "heavyFleet"] as RouteName[]) {
+      const recorder = new Recorder();
+      const start = performance.now();
+      const end = start + config.closedSeconds * 1000;
+      const cookies = name === "heavyFleet" ? heavySessions : sessions;
+      await Promise.all(
+        Array.from({ length: config.connections }, async (_, connection) => {
+          while (performance.now() < end) {
+            const [ms, ok] = await timed(base, routes[name](), cookies[connection % cookies.length]);
+            recorder.add(ms, ok);
+          }
+        }),
+      );
+      const seconds = (performance.now() - start) / 1000;
+      closedLoop[name] = { ...recorder.summary(), requestsPerSecond: Math.round((recorder.times.length / seconds) * 10) / 10 };
+    }
+
+    const result = { config, seedSeconds, openLoop, closedLoop };
+    if (json) {
+      console.log(JSON.stringify(result));
+    } else {
+      const line = (label: string, block: Latencies) => console.log(`  ${label}: ${block.count} requests, ${block.errors} errors — p50 ${block.p50Ms} / p95 ${block.p95Ms} / p99 ${block.p99Ms} / max ${block.maxMs} ms`);
+      console.log(`Open loop (${config.rate}/s, ${config.durationSeconds} s; WEB_CONCURRENCY=${config.webConcurrency}, JOB_WORKERS=${config.jobWorkers}):`);
+      line("all", openLoop.overall);
+      for (const [name, block] of Object.entries(openLoop.byRoute)) line(name, block);
+      line(`large fleet page (${config.heavyUsers} users, closed loop)`, openLoop.heavyFleet);
+      console.log(`  targets: p95 ≤ 250 ms and 0 errors: ${openLoop.overall.p95Ms <= 250 && openLoop.overall.errors === 0 ? "met" : "MISSED"}; demo trace JSON p95 ≤ 50 ms meanwhile: ${openLoop.byRoute.traceApi.p95Ms <= 50 ? "met" : "MISSED"}`);
+      console.log(`Closed loop (${config.connections} in flight):`);
+      for (const [name, block] of Object.entries(closedLoop)) console.log(`  ${name}: ${block.requestsPerSecond} requests/s, p95 ${block.p95Ms} ms, ${block.errors} errors`);
+    }
+  } finally {
+    server.kill("SIGTERM");
+    await getDatabase().close();
+  }
+}
+
+await main();
