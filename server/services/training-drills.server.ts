@@ -223,7 +223,8 @@ export function drillScriptOf(drill: TrainingDrill, document: DeviceModel): Dril
   }
 }
 
-export async function startDrillAttempt(ref: DrillRef, userId: string): Promise<TrainingAttempt> {
+/** Begins a drill; `assignmentId` is the member's open assignment of it, if any (openAssignmentFor), so the attempt counts for it. */
+export async function startDrillAttempt(ref: DrillRef, userId: string, options: { assignmentId?: string | null } = {}): Promise<TrainingAttempt> {
   const drill = await findDrill(ref);
   const scenario = await findScenario({ organisationId: ref.organisationId, scenarioId: drill.scenarioId });
   const script = drillScriptOf(drill, scenario.document);
@@ -234,6 +235,7 @@ export async function startDrillAttempt(ref: DrillRef, userId: string): Promise<
     lessonId: null,
     lessonVersion: null,
     drillId: drill.id,
+    assignmentId: options.assignmentId ?? null,
     title: drill.title,
     script,
     questionCount: drillQuestionCount(script),

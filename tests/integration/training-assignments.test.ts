@@ -242,8 +242,10 @@ describe("Assignments", () => {
     expect(words(mine.text)).toMatch(/Twelve probes on the dental office \(drill\) .* Not started/);
     const page = await trainee.get(`${team.training}/assignments/${assignment.id}`);
     expect(page.text).toContain(`href="${team.training}/drills/${drill.id}"`);
-    // A drill is begun on its own page, not here.
+    // A drill is begun on its own page, not here; begun there, the attempt counts for the assignment.
     expect((await trainee.post(`${team.training}/assignments/${assignment.id}`, { intent: "start" })).status).toBe(409);
+    const attemptId = createdId(await trainee.post(`${team.training}/drills/${drill.id}`, { intent: "start" }), "attempts");
+    expect((await TrainingAttempt.findByPk(attemptId, { rejectOnEmpty: true })).assignmentId).toBe(assignment.id);
   });
 });
 

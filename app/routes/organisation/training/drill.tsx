@@ -2,6 +2,7 @@ import { Form, Link, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/drill";
 import { formValues, readForm, unknownIntent } from "#server/http/form.server";
 import { refusedForm, refusedPage } from "#server/http/refusals.server";
+import { openAssignmentFor } from "#server/services/training-assignments.server";
 import { attemptsOfDrill, findDrill, startDrillAttempt } from "#server/services/training-drills.server";
 import { findScenario } from "#server/services/training-scenarios.server";
 import { requireLearner } from "#server/training/access.server";
@@ -50,7 +51,9 @@ export async function action({ request, params, context }: Route.ActionArgs) {
   const values = formValues(await readForm(request));
   if (values.intent !== "start") return unknownIntent(values.intent);
   try {
-    const attempt = await startDrillAttempt({ organisationId: access.organisation.id, drillId }, access.user.id);
+    // Begun from the drill's page, it counts for the member's open assignment of it.
+    const assignmentId = await openAssignmentFor(access.organisation.id, access.user.id, { kind: "drill", id: drillId });
+    const attempt = await startDrillAttempt({ organisationId: access.organisation.id, drillId }, access.user.id, { assignmentId });
     return redirect(trainingPath(access.organisation.slug, "drills", "attempts", attempt.id));
   } catch (error) {
     return refusedForm(error, values);
