@@ -33,6 +33,9 @@ import type { LessonProbe } from "./examples.ts";
 
 export const MAX_DRILL_PROBES = 50;
 
+/** Where a drawn source is taken from when its block allows: RFC 5737 and RFC 3849 documentation space, RFC 1918 and RFC 4193 private space. */
+const READABLE_SOURCES = ["192.0.2.0/24", "198.51.100.0/24", "203.0.113.0/24", "2001:db8::/32", "10.0.0.0/8", "172.16.0.0/12", "192.168.0.0/16", "fd00::/8"].map((text) => parseCidr(text).range);
+
 export type DrillProbe = {
   probe: LessonProbe & { to: string; at: string };
   /** What the trainee must answer, as trace() gives it. */
@@ -91,7 +94,12 @@ export function predictDrill(model: DeviceModel, seed: number, count: number): D
     const candidates = places.get(outcome)!;
     const place = candidates[Math.floor(random() * candidates.length)];
     const { range } = parseCidr(place.cidrs[Math.floor(random() * place.cidrs.length)]);
-    const from = formatAddress(range.family, range.first + below(random, range.last - range.first + 1n));
+    // Inside the documentation or private ranges where the block has any, so a probe reads like the trade's examples (and never names a real network).
+    const readable = READABLE_SOURCES.filter((r) => r.family === range.family && r.first <= range.last && range.first <= r.last);
+    const pick = readable.length === 0 ? range : readable[Math.floor(random() * readable.length)];
+    const first = pick.first > range.first ? pick.first : range.first;
+    const last = pick.last < range.last ? pick.last : range.last;
+    const from = formatAddress(range.family, first + below(random, last - first + 1n));
     const probe = { from, interface: place.interface, service: place.service, to: place.to, at: instantInSlice(device, place.slice) };
     // The answer is trace()'s, whatever the map said.
     const result = trace(device, probe);

@@ -244,7 +244,7 @@ describe("Assignments", () => {
     expect(page.text).toContain(`href="${team.training}/drills/${drill.id}"`);
     // A drill is begun on its own page, not here; begun there, the attempt counts for the assignment.
     expect((await trainee.post(`${team.training}/assignments/${assignment.id}`, { intent: "start" })).status).toBe(409);
-    const attemptId = createdId(await trainee.post(`${team.training}/drills/${drill.id}`, { intent: "start" }), "attempts");
+    const attemptId = createdId(await trainee.post(`${team.training}/drills/${drill.id}`, { intent: "start" }), "drills/attempts");
     expect((await TrainingAttempt.findByPk(attemptId, { rejectOnEmpty: true })).assignmentId).toBe(assignment.id);
   });
 });

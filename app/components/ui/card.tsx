@@ -12,7 +12,7 @@ export function PageHeader({ title, description, actions }: { title: string; des
         <h1 className="text-display text-ink">{title}</h1>
         {description ? <p className="mt-1 max-w-2xl text-sm text-ink-muted">{description}</p> : null}
       </div>
-      {actions ? <div className="flex items-center gap-2">{actions}</div> : null}
+      {actions ? <div className="flex flex-wrap items-center gap-2">{actions}</div> : null}
     </div>
   );
 }
