@@ -3,8 +3,8 @@
 
 import type { Family } from "./addresses.ts";
 import { intersect } from "./address-sets.ts";
-import type { AddressSet, Ranges } from "./address-sets.ts";
-import type { CompiledModel, EntryPartition, RulePartition } from "./compile.ts";
+import type { AddressSet } from "./address-sets.ts";
+import type { CompiledModel, EntryPartition, OutcomePartition, RulePartition } from "./compile.ts";
 import { censusOf, cellsOf, ownerSlots } from "./cells.ts";
 import type { Runs } from "./domain.ts";
 import { LOGIN_MFA, LOGIN_PASSWORD } from "./vocabulary.ts";
@@ -189,9 +189,13 @@ function mattersCount(engine: CompiledModel, slot: number): number {
     if (census.edit.affected[slot] === 1) {
       const before = censusOf(basis).refs;
       for (const p of census.edit.marked) {
+        const was = before.has(p);
+        const is = census.refs.has(p);
+        // Live before and after with the same actions: it matters in both or in neither.
+        if (was === is && (!was || sameActions(engine, basis, p))) continue;
         if (!ownerSlots(p).includes(slot)) continue;
-        if (before.has(p) && mattersInPartition(basis, p, slot)) count--;
-        if (census.refs.has(p) && mattersInPartition(engine, p, slot)) count++;
+        if (was && mattersInPartition(basis, p, slot)) count--;
+        if (is && mattersInPartition(engine, p, slot)) count++;
       }
     }
   } else {
@@ -201,12 +205,45 @@ function mattersCount(engine: CompiledModel, slot: number): number {
   return count;
 }
 
+/** Per model compiled on a basis: whether each partition's rules (and the default) act as they did in the basis. */
+const sameActionsCache = new WeakMap<CompiledModel, Map<RulePartition, boolean>>();
+
+/** Whether every rule of the partition, and the default, has the same action in the model as in its basis. */
+function sameActions(engine: CompiledModel, basis: CompiledModel, p: RulePartition): boolean {
+  let known = sameActionsCache.get(engine);
+  if (known === undefined) sameActionsCache.set(engine, (known = new Map()));
+  let same = known.get(p);
+  if (same === undefined) {
+    same = engine.defaultAllow === basis.defaultAllow;
+    for (let k = 0; k < p.active.length && same; k++) same = engine.rules[engine.positionOfSlot(p.active[k])].allow === basis.rules[basis.positionOfSlot(p.active[k])].allow;
+    known.set(p, same);
+  }
+  return same;
+}
+
+/** Per model, per partition: the slots whose removal changes an outcome in it (mattersInPartition for every owner at once). */
+const slotsThatMatterCache = new WeakMap<CompiledModel, WeakMap<RulePartition, ReadonlySet<number>>>();
+
 /** Whether removing the rule (by slot) changes an outcome somewhere in the partition, with the engine's actions. */
 function mattersInPartition(engine: CompiledModel, p: RulePartition, slot: number): boolean {
-  const values = p.owner.values;
-  const at = p.active.indexOf(slot);
-  for (let k = 0; k < values.length; k++) if (values[k] === slot && runMatters(engine, p, k, at)) return true;
-  return false;
+  let byPartition = slotsThatMatterCache.get(engine);
+  if (byPartition === undefined) slotsThatMatterCache.set(engine, (byPartition = new WeakMap()));
+  let slots = byPartition.get(p);
+  if (slots === undefined) {
+    // One pass over the partition's runs; an owner is judged until one of its runs matters.
+    const found = new Set<number>();
+    const place = new Map<number, number>();
+    p.active.forEach((s, i) => place.set(s, i));
+    const values = p.owner.values;
+    for (let k = 0; k < values.length; k++) {
+      const owner = values[k];
+      if (owner < 0 || found.has(owner)) continue;
+      if (runMatters(engine, p, k, place.get(owner) ?? -1)) found.add(owner);
+    }
+    slots = found;
+    byPartition.set(p, slots);
+  }
+  return slots.has(slot);
 }
 
 /** Scratch for actsAlikeAfter, large enough for either family's words. */
@@ -222,51 +259,81 @@ function runMatters(engine: CompiledModel, p: RulePartition, k: number, at: numb
   return !actsAlikeAfter(engine, p.family, p.active, at + 1, starts[k], end, engine.rules[engine.positionOfSlot(slot)].allow, remainingScratch);
 }
 
-const loginReachableCache = new WeakMap<CompiledModel, AddressSet>();
+/**
+ * Which sources reach a login, kept so an edit updates it: per distinct login outcome runs,
+ * the number of login cells whose week has it, and per family a coverage difference array
+ * over the elements (each distinct runs' login-allowing elements counted once).
+ */
+interface LoginCoverage {
+  readonly cells: ReadonlyMap<Runs, { readonly family: Family; readonly count: number }>;
+  readonly diff: Readonly<Record<Family, Int32Array>>;
+  readonly reachable: AddressSet;
+}
+
+const loginCoverageCache = new WeakMap<CompiledModel, LoginCoverage>();
+
+/** Outcome values that reach a login with an eligible account. */
+const LOGIN_OUTCOMES = (1 << LOGIN_MFA) | (1 << LOGIN_PASSWORD);
 
 /** Sources (both families) that reach a login with an eligible account somewhere, at some time. */
 export function loginReachable(engine: CompiledModel): AddressSet {
-  const cached = loginReachableCache.get(engine);
+  return loginCoverage(engine).reachable;
+}
+
+/**
+ * The login coverage of every login cell (each distinct outcome of a cell's week once; a
+ * login service nothing listens to has no login outcome, whether or not its rules are
+ * evaluated). After a rule edit, the basis's with the changed login cells' outcomes moved.
+ */
+function loginCoverage(engine: CompiledModel): LoginCoverage {
+  const cached = loginCoverageCache.get(engine);
   if (cached !== undefined) return cached;
   const cells = cellsOf(engine);
   const basis = engine.incrementalBasis;
   const edit = basis === undefined ? null : censusOf(engine).edit;
-  const before = basis === undefined ? undefined : loginReachableCache.get(basis);
-  // After a rule edit that changed no login cell, the answer is the basis's.
-  if (edit !== null && before !== undefined && !edit.cells.some((c) => engine.classes[cells.cls[c]].kind === "login")) {
-    loginReachableCache.set(engine, before);
+  const before = basis === undefined || edit === null ? undefined : loginCoverage(basis);
+  const isLogin = (c: number) => engine.classes[cells.cls[c]].kind === "login";
+  if (before !== undefined && edit !== null && !edit.cells.some(isLogin)) {
+    loginCoverageCache.set(engine, before);
     return before;
   }
-  const byFamily: Record<Family, Runs[]> = { 4: [], 6: [] };
-  const seen = new Set<Runs>();
-  // Every login probe class (as partitionsOf with loginOnly), each distinct outcome once. A
-  // login service nothing listens to has no login outcome, whether or not its rules are evaluated.
-  const lists = new Set<number>();
-  for (let c = 0; c < cells.count; c++) {
-    const cls = cells.cls[c];
-    if (engine.classes[cls].kind !== "login") continue;
-    const iface = cells.iface[c];
-    const to = cells.to[c];
-    if (basis === undefined) {
-      // The same candidate list, class and listening give the same outcomes (a model compiled
-      // on a basis skips this: its cells' outcomes are mostly the basis's objects already).
+  const counts = new Map(before?.cells);
+  const diff = { 4: before === undefined ? new Int32Array(engine.domains[4].size + 1) : before.diff[4].slice(), 6: before === undefined ? new Int32Array(engine.domains[6].size + 1) : before.diff[6].slice() };
+  const move = (outcomes: readonly OutcomePartition[], by: number) => {
+    for (const { family, outcome } of outcomes) {
+      const was = counts.get(outcome)?.count ?? 0;
+      const now = was + by;
+      if (now === 0) counts.delete(outcome);
+      else counts.set(outcome, { family, count: now });
+      if (was === 0 || now === 0) engine.domains[family].addCoverage(diff[family], outcome, LOGIN_OUTCOMES, now === 0 ? -1 : 1);
+    }
+  };
+  if (before !== undefined && basis !== undefined && edit !== null) {
+    for (const c of edit.cells) {
+      if (!isLogin(c)) continue;
+      move(basis.weekOutcomes(cells.iface[c], cells.to[c], cells.cls[c]), -1);
+      move(engine.weekOutcomes(cells.iface[c], cells.to[c], cells.cls[c]), 1);
+    }
+  } else {
+    // Cells with the same candidate list, class, listening and family have the same week of outcomes: one look, counted once per cell.
+    const byList = new Map<number, { cell: number; cells: number }>();
+    for (let c = 0; c < cells.count; c++) {
+      if (!isLogin(c)) continue;
+      const iface = cells.iface[c];
+      const to = cells.to[c];
+      const cls = cells.cls[c];
       const service = engine.classes[cls].service;
       const listening = service !== null && engine.listening[iface].has(service.name) ? 1 : 0;
       const key = ((engine.candidateRules(iface, to, cls).id * engine.classes.length + cls) * 2 + listening) * 2 + (engine.addresses[to].family === 4 ? 0 : 1);
-      if (lists.has(key)) continue;
-      lists.add(key);
+      const seen = byList.get(key);
+      if (seen === undefined) byList.set(key, { cell: c, cells: 1 });
+      else seen.cells++;
     }
-    for (const e of engine.weekOutcomes(iface, to, cls)) {
-      if (seen.has(e.outcome)) continue;
-      seen.add(e.outcome);
-      byFamily[e.family].push(e.outcome);
-    }
+    for (const { cell, cells: times } of byList.values()) move(engine.weekOutcomes(cells.iface[cell], cells.to[cell], cells.cls[cell]), times);
   }
-  const login = (1 << LOGIN_MFA) | (1 << LOGIN_PASSWORD);
-  const rangesOfFamily = (family: Family): Ranges => (byFamily[family].length === 0 ? [] : engine.domains[family].rangesWhereAny(byFamily[family], login));
-  const reachable = { v4: rangesOfFamily(4), v6: rangesOfFamily(6) };
-  loginReachableCache.set(engine, reachable);
-  return reachable;
+  const coverage = { cells: counts, diff, reachable: { v4: engine.domains[4].rangesCovered(diff[4]), v6: engine.domains[6].rangesCovered(diff[6]) } };
+  loginCoverageCache.set(engine, coverage);
+  return coverage;
 }
 
 export function intersectsSet(a: AddressSet, b: AddressSet): boolean {

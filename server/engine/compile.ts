@@ -47,6 +47,36 @@ export interface CompiledRule {
   readonly schedule: number;
 }
 
+/** A compiled rule; its sources as address ranges are made only when read (witness text, the diff): analysis works on the rule's bitsets. */
+class RuleOfModel implements CompiledRule {
+  #sources: AddressSet | undefined;
+  readonly anyService: boolean;
+  readonly serviceKeys: ReadonlySet<string>;
+
+  constructor(
+    readonly position: number,
+    readonly id: string,
+    readonly allow: boolean,
+    readonly enabled: boolean,
+    readonly iface: number,
+    private readonly sourceNames: readonly string[],
+    private readonly setOf: (names: readonly string[]) => AddressSet,
+    readonly destinations: AddressSet,
+    keys: ReadonlySet<string> | null,
+    readonly schedule: number,
+  ) {
+    this.anyService = keys === null;
+    this.serviceKeys = keys ?? NO_KEYS;
+  }
+
+  get sources(): AddressSet {
+    this.#sources ??= this.setOf(this.sourceNames);
+    return this.#sources;
+  }
+}
+
+const NO_KEYS: ReadonlySet<string> = new Set();
+
 export interface DeviceAddress {
   readonly index: number;
   readonly family: Family;
@@ -171,7 +201,8 @@ export class CompiledModel {
   private readonly accountIndex = new Map<string, number>();
   private readonly classByKey = new Map<string, ServiceClass>();
   private readonly addressIndex = new Map<string, number>();
-  private readonly addressSets = new Map<string, AddressSet>();
+  /** Address sets by name; the same book gives the same sets, so a model and its basis share this. */
+  private readonly addressSets: Map<string, AddressSet>;
   /** Destination sets by their names (one key per list), shared with a basis of the same address book. */
   private readonly destinationSets: Map<string, AddressSet>;
   /** Service keys by the services' names (one key per list; null = any), shared with a basis of the same services. */
@@ -248,7 +279,7 @@ export class CompiledModel {
    */
   readonly partitionSources = { swept: 0, derived: 0, updated: 0, reused: 0, inherited: 0 };
   /** Cells (interface, destination, class) already counted in partitionSources.inherited. */
-  private inheritedCells: Uint8Array | undefined;
+  private cellStates: Uint8Array | undefined;
   /** The one rule an edit changed in a way that changes lists (not only its action), when exactly one did. */
   private readonly editedRule: { id: string; basisPosition: number } | null = null;
   /** Per position: the same rule's position in the basis, or undefined when it is new. */
@@ -288,9 +319,17 @@ export class CompiledModel {
     options: CompileOptions = {},
   ) {
     const basis = options.basis !== undefined && sameAddressBook(options.basis.model, model) ? options.basis : undefined;
-    if (basis !== undefined) for (const [name, set] of basis.addressSets) this.addressSets.set(name, set);
-    this.clock = new LocalClock(model.device.timezone);
-    this.week = planWeek(model.schedules.map((s) => s.windows));
+    this.addressSets = basis !== undefined ? basis.addressSets : new Map();
+    // After an edit of rules alone, the rules the edit left alone compile as they did in the basis.
+    const others = (m: DeviceModel) => JSON.stringify([m.schemaVersion, m.device, m.interfaces, m.services, m.serviceGroups, m.schedules, m.accounts, m.operatorNetworks]);
+    const onlyRulesChanged = basis !== undefined && others(basis.model) === others(model);
+    const edit = basis === undefined ? null : ruleEdit(basis.model, model);
+    const basisIndexOf = basis === undefined ? null : new Map(basis.model.inboundRules.map((r, i) => [r.id, i]));
+    const changedIds = edit?.changed === null || edit === null ? null : new Set(edit.changed);
+    /** The basis's index of a rule this model compiles exactly as the basis did, else undefined. */
+    const keptRule = (id: string): number | undefined => (onlyRulesChanged && changedIds !== null && !changedIds.has(id) ? basisIndexOf?.get(id) : undefined);
+    this.clock = onlyRulesChanged && basis !== undefined ? basis.clock : new LocalClock(model.device.timezone);
+    this.week = onlyRulesChanged && basis !== undefined ? basis.week : planWeek(model.schedules.map((s) => s.windows));
     this.defaultAllow = model.device.defaultInbound === "allow";
     this.unlistenedReset = model.device.unlistenedPort === "reset";
 
@@ -333,6 +372,11 @@ export class CompiledModel {
     this.destinationSets = basis !== undefined ? basis.destinationSets : new Map();
     this.serviceKeySets = sameServices ? basis.serviceKeySets : new Map();
     this.rules = model.inboundRules.map((r, position): CompiledRule => {
+      const kept = keptRule(r.id);
+      if (kept !== undefined && basis !== undefined) {
+        const b = basis.rules[kept];
+        return new RuleOfModel(position, r.id, b.allow, b.enabled, b.iface, r.sources, setOf, b.destinations, b.anyService ? null : b.serviceKeys, b.schedule);
+      }
       const serviceKey = r.services.join("\n");
       let keys = this.serviceKeySets.get(serviceKey);
       if (keys === undefined) {
@@ -345,23 +389,18 @@ export class CompiledModel {
         destinations = this.setOfNames(r.destinations);
         this.destinationSets.set(destinationKey, destinations);
       }
-      let sources: AddressSet | undefined;
-      return {
+      return new RuleOfModel(
         position,
-        id: r.id,
-        allow: r.action === "allow",
-        enabled: r.enabled,
-        iface: r.interface === ANY_INTERFACE ? -1 : (this.interfaceIndex.get(r.interface) ?? -2),
-        // Address ranges only when read (witness text, the diff): analysis works on the rule's bitsets.
-        get sources(): AddressSet {
-          sources ??= setOf(r.sources);
-          return sources;
-        },
+        r.id,
+        r.action === "allow",
+        r.enabled,
+        r.interface === ANY_INTERFACE ? -1 : (this.interfaceIndex.get(r.interface) ?? -2),
+        r.sources,
+        setOf,
         destinations,
-        anyService: keys === null,
-        serviceKeys: keys ?? new Set(),
-        schedule: r.schedule === ALL_WEEK_SCHEDULE ? -1 : (scheduleIndex.get(r.schedule) ?? -1),
-      };
+        keys,
+        r.schedule === ALL_WEEK_SCHEDULE ? -1 : (scheduleIndex.get(r.schedule) ?? -1),
+      );
     });
     this.accounts = model.accounts.map((a, index): CompiledAccount => ({
       index,
@@ -372,7 +411,10 @@ export class CompiledModel {
       loginSources: a.loginSources.length === 0 ? ANY_SET : this.loginSetOf(a.loginSources),
     }));
 
-    this.sourceKeys = model.inboundRules.map((r) => r.sources.join("\n"));
+    this.sourceKeys = model.inboundRules.map((r) => {
+      const kept = keptRule(r.id);
+      return kept !== undefined && basis !== undefined ? basis.sourceKeys[kept] : r.sources.join("\n");
+    });
     const sameAccounts = basis !== undefined && JSON.stringify(basis.model.accounts) === JSON.stringify(model.accounts);
     // Elements come from the address objects every rule's sources name (disabled rules too, so
     // switching a rule on or off keeps them; groups through their members) and the login
@@ -381,8 +423,10 @@ export class CompiledModel {
     // object keeps them.
     // Elements cut for more objects than these rules name are still exact (only finer), so a
     // basis whose objects include all of these lends its elements too (a rule removed).
-    const named = this.objectNames(model.inboundRules.flatMap((r) => r.sources));
-    const sameElements = sameAccounts && basis !== undefined && named.every((name) => basis.sourceObjects.has(name));
+    // Source lists the basis has bits for name only objects it has elements for; only new lists need a look.
+    const newLists = basis === undefined ? model.inboundRules : model.inboundRules.filter((_, i) => !basis.bitsBySources.has(this.sourceKeys[i]));
+    const sameElements = sameAccounts && basis !== undefined && this.objectNames(newLists.flatMap((r) => r.sources)).every((name) => basis.sourceObjects.has(name));
+    const named = sameElements ? [] : this.objectNames(model.inboundRules.flatMap((r) => r.sources));
     this.sourceObjects = sameElements ? basis.sourceObjects : new Set(named);
     const domainFor = (family: Family): Domain =>
       new Domain(family, [
@@ -402,22 +446,21 @@ export class CompiledModel {
     });
     this.ruleBits = this.sourceKeys.map((key) => this.bitsBySources.get(key) as readonly [SparseBits, SparseBits]);
     // Slots: the basis's for rules with the same id and sources; new ones past the basis's.
-    const basisSlots = new Map<string, number>();
-    if (sameElements) basis.model.inboundRules.forEach((r, i) => basisSlots.set(`${r.id}\u0001${basis.sourceKeys[i]}`, basis.ruleSlots[i]));
     let slotCount = sameElements ? basis.slotCount : model.inboundRules.length;
-    this.ruleSlots = Int32Array.from(model.inboundRules, (r, i) => (sameElements ? (basisSlots.get(`${r.id}\u0001${this.sourceKeys[i]}`) ?? slotCount++) : i));
+    const basisSlotOf = (id: string, sourceKey: string): number | undefined => {
+      const j = basisIndexOf?.get(id);
+      return j !== undefined && basis !== undefined && basis.sourceKeys[j] === sourceKey ? basis.ruleSlots[j] : undefined;
+    };
+    this.ruleSlots = Int32Array.from(model.inboundRules, (r, i) => (sameElements ? (basisSlotOf(r.id, this.sourceKeys[i]) ?? slotCount++) : i));
     this.slotCount = slotCount;
     this.slotPositions = new Int32Array(slotCount).fill(-1);
     this.ruleSlots.forEach((slot, position) => (this.slotPositions[slot] = position));
     if (sameElements) {
       this.basisRef = new WeakRef(basis);
-      // The address book is already known to be the same; the rest is small.
-      const others = (m: DeviceModel) => JSON.stringify([m.schemaVersion, m.device, m.interfaces, m.services, m.serviceGroups, m.schedules, m.accounts, m.operatorNetworks]);
-      this.onlyRulesChanged = others(basis.model) === others(model);
-      const { changed, edited } = ruleEdit(basis.model, model);
-      this.editedRule = edited === null ? null : { id: edited, basisPosition: basis.model.inboundRules.findIndex((r) => r.id === edited) };
-      const basisIndexOf = new Map(basis.model.inboundRules.map((r, i) => [r.id, i]));
-      this.basisPositions = model.inboundRules.map((r) => basisIndexOf.get(r.id));
+      this.onlyRulesChanged = onlyRulesChanged;
+      const { changed, edited } = edit ?? ruleEdit(basis.model, model);
+      this.editedRule = edited === null ? null : { id: edited, basisPosition: basisIndexOf?.get(edited) ?? -1 };
+      this.basisPositions = model.inboundRules.map((r) => basisIndexOf?.get(r.id));
       this.sameCatalogueAndAccounts =
         JSON.stringify(basis.model.services) === JSON.stringify(model.services) &&
         basis.defaultAllow === this.defaultAllow &&
@@ -426,7 +469,7 @@ export class CompiledModel {
         {
           const reach: CandidateReach[] = [];
           changed.forEach((id) => {
-            const before = basisIndexOf.get(id);
+            const before = basisIndexOf?.get(id);
             if (before !== undefined) reach.push(basis.candidateReach(basis.rules[before]));
             const after = this.rules.findIndex((r) => r.id === id);
             if (after >= 0) {
@@ -680,19 +723,20 @@ export class CompiledModel {
   private basisOfCleanCell(iface: number, to: number, cls: number): CompiledModel | undefined {
     const changed = this.changedRules;
     if (changed === null) return undefined;
-    for (const reach of changed) {
-      if ((reach.iface === -1 || reach.iface === iface) && reach.destinations[to] === 1 && reach.classes[cls] === 1) return undefined;
-    }
-    const basis = this.basisRef?.deref();
-    if (basis !== undefined) {
-      const cell = (iface * this.addresses.length + to) * this.classes.length + cls;
-      this.inheritedCells ??= new Uint8Array(this.interfaceAddresses.length * this.addresses.length * this.classes.length);
-      if (this.inheritedCells[cell] === 0) {
-        this.inheritedCells[cell] = 1;
-        this.partitionSources.inherited++;
+    const cell = (iface * this.addresses.length + to) * this.classes.length + cls;
+    // Per cell: 0 not yet looked at, 1 a changed rule is a candidate there, 2 clean (and counted as inherited).
+    const cells = (this.cellStates ??= new Uint8Array(this.interfaceAddresses.length * this.addresses.length * this.classes.length));
+    let state = cells[cell];
+    if (state === 0) {
+      state = 2;
+      for (const reach of changed) {
+        if ((reach.iface === -1 || reach.iface === iface) && reach.destinations[to] === 1 && reach.classes[cls] === 1) state = 1;
       }
+      if (state === 2 && this.basisRef?.deref() === undefined) return undefined;
+      cells[cell] = state;
+      if (state === 2) this.partitionSources.inherited++;
     }
-    return basis;
+    return state === 1 ? undefined : this.basisRef?.deref();
   }
 
   /** Whether an edit against the basis can change the cell's partitions or outcomes (true when the model is not compiled incrementally). */
@@ -736,23 +780,42 @@ export class CompiledModel {
     const ids = this.changedIds;
     const basis = changed === null ? undefined : this.basisRef?.deref();
     if (basis === undefined || ids === null) return undefined;
-    const before = basis.candidateRules(iface, to, cls).rules;
-    const list: number[] = [];
-    for (let k = 0; k < before.length; k++) {
-      const rule = basis.rules[before[k]];
-      if (ids.has(rule.id)) continue;
-      list.push(this.positionOfId(rule.id));
-    }
+    const before = basis.candidateRules(iface, to, cls);
+    // The changed rules that are candidates here now, by position; few, and the same for many cells.
+    const added: number[] = [];
     for (const id of ids) {
       const position = this.positionOfId(id);
       if (position < 0) continue;
       const reach = this.changedReach.get(id);
-      if (reach !== undefined && (reach.iface === -1 || reach.iface === iface) && reach.destinations[to] === 1 && reach.classes[cls] === 1) list.push(position);
+      if (reach !== undefined && (reach.iface === -1 || reach.iface === iface) && reach.destinations[to] === 1 && reach.classes[cls] === 1) added.push(position);
     }
+    // Cells with the same basis list and the same changed rules in it get the same list.
+    const key = added.length === 0 ? `${before.id}` : `${before.id}|${added.join(",")}`;
+    const known = this.listsFromBasis.get(key);
+    if (known !== undefined) return known;
+    const toNow = this.positionsFromBasis(basis, ids);
+    const list: number[] = [];
+    for (let k = 0; k < before.rules.length; k++) {
+      const position = toNow[before.rules[k]];
+      if (position >= 0) list.push(position);
+    }
+    list.push(...added);
     list.sort((a, b) => a - b);
     const rules = Int32Array.from(list);
     const scheduledRules = rules.filter((position) => this.rules[position].schedule >= 0);
-    return { id: this.candidateListId(rules), rules, scheduled: scheduledRules.length > 0, scheduledRules };
+    const candidates: Candidates = { id: this.candidateListId(rules), rules, scheduled: scheduledRules.length > 0, scheduledRules };
+    this.listsFromBasis.set(key, candidates);
+    return candidates;
+  }
+
+  /** candidatesFromBasis's lists, by the basis's list id and the changed rules added. */
+  private readonly listsFromBasis = new Map<string, Candidates>();
+  private basisToNow: Int32Array | undefined;
+
+  /** Per basis position: this model's position of the same rule, or -1 for a rule the edit changed or removed. */
+  private positionsFromBasis(basis: CompiledModel, ids: ReadonlySet<string>): Int32Array {
+    this.basisToNow ??= Int32Array.from(basis.rules, (rule) => (ids.has(rule.id) ? -1 : this.positionOfId(rule.id)));
+    return this.basisToNow;
   }
 
   /** This model's position of a rule id, or -1. */
@@ -1031,30 +1094,7 @@ export class CompiledModel {
       const slot = active[k];
       const position = this.slotPositions[slot];
       if (position < firstOff) continue;
-      const { words, masks } = this.ruleBits[position][familySlot];
-      let from = 0;
-      for (const w of wordsInOrder) {
-        if (need[w] === 0) continue;
-        // The first of the rule's words at or after w (its words are ascending, and so are needWords).
-        let hi = words.length;
-        while (from < hi) {
-          const mid = (from + hi) >>> 1;
-          if (words[mid] < w) from = mid + 1;
-          else hi = mid;
-        }
-        if (from === words.length) break;
-        if (words[from] !== w) continue;
-        let fresh = need[w] & masks[from];
-        if (fresh === 0) continue;
-        need[w] ^= fresh;
-        const elementBase = w << 5;
-        while (fresh !== 0) {
-          const low = fresh & -fresh;
-          owner[elementBase + 31 - Math.clz32(low)] = slot;
-          fresh ^= low;
-          count--;
-        }
-      }
+      count -= claimNeeded(need, wordsInOrder, owner, slot, this.ruleBits[position][familySlot]);
     }
     const runs = this.internedRuns(family, patchedRuns(base.owner, patched, owner, domain.size));
     for (const position of off) patched[this.ruleSlots[position] + 1] = 0;
@@ -1132,60 +1172,45 @@ export class CompiledModel {
     if (base === undefined) return undefined;
 
     const domain = this.domains[family];
-    const { owner, remaining: need } = this.scratch[family];
-    const { starts, values } = base.owner;
-    for (let k = 0; k < starts.length; k++) owner.fill(values[k], starts[k], k + 1 < starts.length ? starts[k + 1] : domain.size);
     const familySlot = family === 4 ? 0 : 1;
+    let runs = base.owner;
     if (removeAt >= 0) {
-      // Its elements go to the next rule of the basis's list that covers them, else to the default.
+      // Its elements go to the next rule of the basis's list that covers them, else to the default;
+      // every other element keeps its owner. Costs the rule's elements and the later rules' words there.
       const removed = base.active[removeAt];
+      const { owner, remaining: need } = this.scratch[family];
+      const { starts, values } = base.owner;
       need.fill(0);
+      const needWords: number[] = [];
       let count = 0;
       for (let k = 0; k < starts.length; k++) {
         if (values[k] !== removed) continue;
         const end = k + 1 < starts.length ? starts[k + 1] : domain.size;
         for (let element = starts[k]; element < end; element++) {
-          need[element >>> 5] |= 1 << (element & 31);
+          const w = element >>> 5;
+          if (need[w] === 0) needWords.push(w);
+          need[w] |= 1 << (element & 31);
           owner[element] = -1;
           count++;
         }
       }
+      const wordsInOrder = Int32Array.from(needWords).sort();
       for (let k = removeAt + 1; k < base.active.length && count > 0; k++) {
         const slot = base.active[k];
-        const bits = basis.ruleBits[basis.slotPositions[slot]][familySlot];
-        for (let j = 0; j < bits.words.length; j++) {
-          const w = bits.words[j];
-          let hit = need[w] & bits.masks[j];
-          if (hit === 0) continue;
-          need[w] ^= hit;
-          const elementBase = w << 5;
-          while (hit !== 0) {
-            const low = hit & -hit;
-            hit ^= low;
-            owner[elementBase + 31 - Math.clz32(low)] = slot;
-            count--;
-          }
-        }
+        count -= claimNeeded(need, wordsInOrder, owner, slot, basis.ruleBits[basis.slotPositions[slot]][familySlot]);
       }
+      const patched = (this.patchScratch ??= new Uint8Array(this.slotCount + 1));
+      patched[removed + 1] = 1;
+      runs = patchedRuns(base.owner, patched, owner, domain.size);
+      patched[removed + 1] = 0;
     }
     if (at >= 0) {
       // The rule takes what it covers from later rules and from the default.
       const slot = active[at];
       const position = this.slotPositions[slot];
-      const bits = this.ruleBits[position][familySlot];
-      for (let j = 0; j < bits.words.length; j++) {
-        let mask = bits.masks[j];
-        const elementBase = bits.words[j] << 5;
-        while (mask !== 0) {
-          const low = mask & -mask;
-          mask ^= low;
-          const element = elementBase + 31 - Math.clz32(low);
-          const current = owner[element];
-          if (current < 0 || this.slotPositions[current] > position) owner[element] = slot;
-        }
-      }
+      runs = takenRuns(runs, this.ruleBits[position][familySlot], slot, (owner) => owner < 0 || this.slotPositions[owner] > position, domain.size);
     }
-    return { id: nextPartitionId++, family, active, owner: runsFromArray(owner, domain.size) };
+    return { id: nextPartitionId++, family, active, owner: runs };
   }
 
   /**
@@ -1395,6 +1420,89 @@ export class CompiledModel {
 
 }
 
+/**
+ * Gives the needed elements (bits of `need`, whose nonzero words are listed ascending in
+ * `wordsInOrder`) that the rule's bits cover to its slot, taking them out of `need`; returns
+ * how many it took. The rule's words are searched from each needed word on, not swept.
+ */
+function claimNeeded(need: Int32Array, wordsInOrder: Int32Array, owner: Int32Array, slot: number, bits: SparseBits): number {
+  const { words, masks } = bits;
+  let taken = 0;
+  let from = 0;
+  for (const w of wordsInOrder) {
+    if (need[w] === 0) continue;
+    // The first of the rule's words at or after w (both ascending).
+    let hi = words.length;
+    while (from < hi) {
+      const mid = (from + hi) >>> 1;
+      if (words[mid] < w) from = mid + 1;
+      else hi = mid;
+    }
+    if (from === words.length) break;
+    if (words[from] !== w) continue;
+    let hit = need[w] & masks[from];
+    if (hit === 0) continue;
+    need[w] ^= hit;
+    const elementBase = w << 5;
+    while (hit !== 0) {
+      const low = hit & -hit;
+      hit ^= low;
+      owner[elementBase + 31 - Math.clz32(low)] = slot;
+      taken++;
+    }
+  }
+  return taken;
+}
+
+/**
+ * Runs like `runs`, except that the elements of `bits` in runs whose owner `takes` allows go
+ * to `slot`: a walk over the runs and the bitset's words, equal neighbours merged (as
+ * runsFromArray would give), without an element array.
+ */
+function takenRuns(runs: Runs, bits: SparseBits, slot: number, takes: (owner: number) => boolean, size: number): Runs {
+  const starts: number[] = [];
+  const values: number[] = [];
+  let previous = UNTOUCHED;
+  const emit = (start: number, value: number) => {
+    if (value === previous) return;
+    starts.push(start);
+    values.push(value);
+    previous = value;
+  };
+  const { words, masks } = bits;
+  const n = runs.starts.length;
+  let j = 0;
+  for (let k = 0; k < n; k++) {
+    const start = runs.starts[k];
+    const end = k + 1 < n ? runs.starts[k + 1] : size;
+    const value = runs.values[k];
+    if (!takes(value)) {
+      emit(start, value);
+      continue;
+    }
+    while (j < words.length && (words[j] << 5) + 31 < start) j++;
+    let cursor = start;
+    for (let i = j; i < words.length && words[i] << 5 < end; i++) {
+      const base = words[i] << 5;
+      let mask = masks[i];
+      if (base < start) mask &= -1 << (start - base);
+      if (end - base < 32) mask &= (1 << (end - base)) - 1;
+      while (mask !== 0) {
+        // The lowest set bit and the ones that follow it: one stretch the rule takes.
+        const first = 31 - Math.clz32(mask & -mask);
+        const inverse = ~(mask >>> first);
+        const length = inverse === 0 ? 32 - first : 31 - Math.clz32(inverse & -inverse);
+        if (base + first > cursor) emit(cursor, value);
+        emit(base + first, slot);
+        cursor = base + first + length;
+        mask = first + length >= 32 ? 0 : mask & ~(((1 << length) - 1) << first);
+      }
+    }
+    if (cursor < end) emit(cursor, value);
+  }
+  return { starts: Int32Array.from(starts), values: Int32Array.from(values) };
+}
+
 /** In a sweep's word owners: no rule has taken any element of the word yet. */
 const UNTOUCHED = -3;
 
@@ -1424,18 +1532,29 @@ type InboundRule = DeviceModel["inboundRules"][number];
  * a change of action alone changes no list), when exactly one did.
  */
 function ruleEdit(before: DeviceModel, after: DeviceModel): { changed: string[] | null; edited: string | null } {
-  const old = new Map(before.inboundRules.map((r) => [r.id, r]));
-  const now = new Map(after.inboundRules.map((r) => [r.id, r]));
+  // Rules before the first difference and after the last are the same rules in the same
+  // order: only the window between needs the look by id (an edit touches one place or two).
+  const a = before.inboundRules;
+  const b = after.inboundRules;
+  let head = 0;
+  while (head < a.length && head < b.length && a[head].id === b[head].id && sameRule(a[head], b[head])) head++;
+  let tail = 0;
+  while (tail < a.length - head && tail < b.length - head && a[a.length - 1 - tail].id === b[b.length - 1 - tail].id && sameRule(a[a.length - 1 - tail], b[b.length - 1 - tail])) tail++;
+  const was = a.slice(head, a.length - tail);
+  const is = b.slice(head, b.length - tail);
+  const old = new Map(was.map((r) => [r.id, r]));
+  const now = new Map(is.map((r) => [r.id, r]));
   const changed = new Set<string>();
   const listed = new Set<string>();
   for (const [id, r] of now) {
-    const was = old.get(id);
-    if (was === undefined) {
+    const previous = old.get(id);
+    if (previous === undefined) {
+      // An id outside the window is a rule that kept its place: a duplicate id cannot be valid.
       changed.add(id);
       listed.add(id);
-    } else if (was !== r && !sameRule(was, r)) {
+    } else if (previous !== r && !sameRule(previous, r)) {
       changed.add(id);
-      if (!sameLists(was, r)) listed.add(id);
+      if (!sameLists(previous, r)) listed.add(id);
     }
   }
   for (const id of old.keys()) {
@@ -1446,14 +1565,14 @@ function ruleEdit(before: DeviceModel, after: DeviceModel): { changed: string[] 
   // The order of the other rules must be unchanged; a move shows as one rule out of place
   // (undefined: nothing moved; null: more than one move).
   const moved = (apart: ReadonlySet<string>): string | null | undefined => {
-    const a = before.inboundRules.map((r) => r.id).filter((id) => now.has(id) && !apart.has(id));
-    const b = after.inboundRules.map((r) => r.id).filter((id) => old.has(id) && !apart.has(id));
-    const first = a.findIndex((id, i) => id !== b[i]);
+    const x = was.map((r) => r.id).filter((id) => now.has(id) && !apart.has(id));
+    const y = is.map((r) => r.id).filter((id) => old.has(id) && !apart.has(id));
+    const first = x.findIndex((id, i) => id !== y[i]);
     if (first < 0) return undefined;
-    for (const candidate of [a[first], b[first]]) {
-      const a2 = a.filter((id) => id !== candidate);
-      const b2 = b.filter((id) => id !== candidate);
-      if (a2.every((id, i) => id === b2[i])) return candidate;
+    for (const candidate of [x[first], y[first]]) {
+      const x2 = x.filter((id) => id !== candidate);
+      const y2 = y.filter((id) => id !== candidate);
+      if (x2.every((id, i) => id === y2[i])) return candidate;
     }
     return null;
   };
@@ -1471,16 +1590,22 @@ function ruleEdit(before: DeviceModel, after: DeviceModel): { changed: string[] 
 
 /** Whether two versions of a rule are the same in every field. */
 function sameRule(a: InboundRule, b: InboundRule): boolean {
-  if (a === b) return true;
-  const keys = Object.keys(a) as (keyof InboundRule)[];
-  if (keys.length !== Object.keys(b).length) return false;
-  return keys.every((key) => {
-    const x = a[key];
-    const y = b[key];
-    if (Array.isArray(x) && Array.isArray(y)) return sameNames(x, y);
-    return x === y;
-  });
+  return a === b || (a.action === b.action && a.note === b.note && sameLists(a, b) && sameKeys(a, b));
 }
+
+/** Whether two rules have the same fields (a field the schema gains later is compared too). */
+function sameKeys(a: InboundRule, b: InboundRule): boolean {
+  for (const key in a) {
+    if (KNOWN_RULE_FIELDS.has(key)) continue;
+    const x = a[key as keyof InboundRule];
+    const y = b[key as keyof InboundRule];
+    if (Array.isArray(x) && Array.isArray(y) ? !sameNames(x, y) : x !== y) return false;
+  }
+  for (const key in b) if (!Object.hasOwn(a, key)) return false;
+  return true;
+}
+
+const KNOWN_RULE_FIELDS: ReadonlySet<string> = new Set(["id", "interface", "sources", "destinations", "services", "schedule", "action", "enabled", "note"]);
 
 /** Whether two versions of a rule are in the same candidate lists with the same sources: alike but for the action (and names and notes). */
 function sameLists(a: InboundRule, b: InboundRule): boolean {

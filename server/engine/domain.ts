@@ -176,15 +176,22 @@ export class Domain {
 
   /** The address ranges a coverage count covers, merged; leaves the count zero again. */
   #covered(cover: Int32Array, touched: readonly number[]): bigint[] {
-    const points = Int32Array.from(touched).sort();
+    return this.#rangesAbove(Int32Array.from(touched).sort(), (at) => {
+      const step = cover[at];
+      cover[at] = 0;
+      return step;
+    });
+  }
+
+  /** The merged address ranges where a depth, changed by `stepAt` at each of the ascending boundaries, is above zero. */
+  #rangesAbove(points: ArrayLike<number>, stepAt: (at: number) => number): bigint[] {
     const out: bigint[] = [];
     let depth = 0;
     let open = 0;
     for (let i = 0; i < points.length; i++) {
       const at = points[i];
       const before = depth;
-      depth += cover[at];
-      cover[at] = 0;
+      depth += stepAt(at);
       if (before === 0 && depth > 0) open = at;
       else if (before > 0 && depth === 0) {
         const first = this.bounds[open];
@@ -197,26 +204,7 @@ export class Domain {
     return out;
   }
 
-  /**
-   * Address ranges of the elements whose value is in `wanted` (a bit mask over values 0…31) in
-   * at least one of the run lists: the union of rangesWhere over lists and values, computed on
-   * element indices (a coverage count per boundary) so only the merged result becomes bigints.
-   */
-  rangesWhereAny(lists: readonly Runs[], wanted: number): bigint[] {
-    if (lists.length === 1 && (wanted & (wanted - 1)) === 0) return this.rangesWhere(lists[0], 31 - Math.clz32(wanted));
-    const cover = this.#cover(0);
-    const touched: number[] = [];
-    for (const runs of lists) {
-      const n = runs.starts.length;
-      for (let k = 0; k < n; k++) {
-        if (((wanted >>> runs.values[k]) & 1) === 0) continue;
-        Domain.#count(cover, touched, runs.starts[k], k + 1 < n ? runs.starts[k + 1] : this.size);
-      }
-    }
-    return this.#covered(cover, touched);
-  }
-
-  /** For each of `values` (each 0…31), the address ranges where some run list has it: rangesWhereAny per value, in one pass over the runs. */
+  /** For each of `values` (each 0…31), the address ranges where some run list has it, in one pass over the runs (a coverage count per boundary, so only the merged result becomes bigints). */
   rangesWhereEach(lists: readonly Runs[], values: readonly number[]): bigint[][] {
     const slot = new Int8Array(32).fill(-1);
     values.forEach((value, i) => (slot[value] = i));
@@ -232,6 +220,26 @@ export class Domain {
       }
     }
     return values.map((_, i) => this.#covered(covers[i], touched[i]));
+  }
+
+  /**
+   * Adds `by` over the runs whose value is in `wanted` (a bit mask over values 0…31) to a
+   * coverage difference array (size + 1 entries: +by at a run's start, -by at its end).
+   */
+  addCoverage(diff: Int32Array, runs: Runs, wanted: number, by: number): void {
+    const n = runs.starts.length;
+    for (let k = 0; k < n; k++) {
+      if (((wanted >>> runs.values[k]) & 1) === 0) continue;
+      diff[runs.starts[k]] += by;
+      diff[k + 1 < n ? runs.starts[k + 1] : this.size] -= by;
+    }
+  }
+
+  /** The address ranges where a coverage difference array (addCoverage) sums above zero, merged. */
+  rangesCovered(diff: Int32Array): bigint[] {
+    const points: number[] = [];
+    for (let at = 0; at <= this.size; at++) if (diff[at] !== 0) points.push(at);
+    return this.#rangesAbove(points, (at) => diff[at]);
   }
 
   /** Address counts per value (values 0 … slots-1). */

@@ -82,6 +82,12 @@ function editBenchmark(model: DeviceModel): Record<string, EditTiming> {
   findings(basis);
   exposureCounts(basis);
   const out: Record<string, EditTiming> = {};
+  // A server has run these code paths before: one untimed pass over every edit first, so the
+  // first edit timed is not also the one that warms the JIT compiler up.
+  for (const edit of Object.values(EDITS)) {
+    const parsed = parseModel(edit(model));
+    if (parsed.ok) findings(compileModel(parsed.model, { basis }));
+  }
   for (const [name, edit] of Object.entries(EDITS)) {
     const parsed = parseModel(edit(model));
     if (!parsed.ok) throw new Error(`bench edit "${name}" made an invalid model`);

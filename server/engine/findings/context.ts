@@ -6,7 +6,7 @@ import type { Family } from "../addresses.ts";
 import { EMPTY_SET, contains, intersect, rangesOf, setFromRanges, subtract, unionSets } from "../address-sets.ts";
 import type { AddressSet, Ranges } from "../address-sets.ts";
 import { arrivals, firstMatchRules, loginReachable } from "../analysis.ts";
-import { cellPartitions, censusOf, cellsOf, ownerSlots } from "../cells.ts";
+import { cellPartitions, censusOf, cellsOf } from "../cells.ts";
 import type { Arrival } from "../analysis.ts";
 import type { CompiledModel } from "../compile.ts";
 import type { Runs } from "../domain.ts";
@@ -389,7 +389,8 @@ export class FindingContext {
     const basis = this.#basis;
     if (edit !== null && basis !== undefined && (basis.#decidingComplete || basis.#deciding.has(slot))) {
       const kept = basis.#deciding.get(slot);
-      const before = this.#firstPlaceInChangedCells(slot, edit.cells, kept === undefined ? Infinity : kept.cell);
+      const first = this.#firstPlacesInChangedCells(edit.cells).get(slot);
+      const before = first !== undefined && (kept === undefined || first.cell < kept.cell) ? first : undefined;
       // The basis's place in a changed cell may be gone: the first place is then at or after that cell, in any cell.
       const place = before ?? (kept === undefined || edit.changed[kept.cell] === 0 ? kept : this.#firstPlaceFrom(slot, kept.cell));
       this.#deciding.set(slot, place);
@@ -400,21 +401,32 @@ export class FindingContext {
     return this.#deciding.get(slot);
   }
 
-  /** The first place the rule decides among the changed cells before `limit`, if any. */
-  #firstPlaceInChangedCells(slot: number, changed: Int32Array, limit: number): DecidingPlace | undefined {
+  #changedFirstPlaces: Map<number, DecidingPlace> | undefined;
+
+  /** Per slot, the first place the rule decides among the changed cells (in cell order): one walk for every rule asked about. */
+  #firstPlacesInChangedCells(changed: Int32Array): Map<number, DecidingPlace> {
+    if (this.#changedFirstPlaces !== undefined) return this.#changedFirstPlaces;
     const engine = this.engine;
     const cells = cellsOf(engine);
+    const out = new Map<number, DecidingPlace>();
+    const seen = new Set<number>();
     for (const cell of changed) {
-      if (cell >= limit) break;
       const { iface, to, cls, partitions } = cellPartitions(engine, cells, cell);
       for (let slice = 0; slice < partitions.length; slice++) {
         const rules = partitions[slice];
-        if (!ownerSlots(rules).includes(slot)) continue;
-        const k = rules.owner.values.indexOf(slot);
-        return { cell, iface, to, cls, slice, family: rules.family, element: rules.owner.starts[k] };
+        // A partition seen in an earlier cell or slice gave its rules their first place there.
+        if (seen.has(rules.id)) continue;
+        seen.add(rules.id);
+        const { starts, values } = rules.owner;
+        for (let k = 0; k < values.length; k++) {
+          const slot = values[k];
+          if (slot < 0 || out.has(slot)) continue;
+          out.set(slot, { cell, iface, to, cls, slice, family: rules.family, element: starts[k] });
+        }
       }
     }
-    return undefined;
+    this.#changedFirstPlaces = out;
+    return out;
   }
 
   /** The first place the rule decides in cell order from `start` on (every cell, changed or not). */
