@@ -185,24 +185,38 @@ function mattersCount(engine: CompiledModel, slot: number): number {
   const basis = engine.incrementalBasis;
   let count = 0;
   if (census.edit !== null && basis !== undefined && slot < basis.slotCount) {
-    count = mattersCount(basis, slot);
-    if (census.edit.affected[slot] === 1) {
-      const before = censusOf(basis).refs;
-      for (const p of census.edit.marked) {
-        const was = before.has(p);
-        const is = census.refs.has(p);
-        // Live before and after with the same actions: it matters in both or in neither.
-        if (was === is && (!was || sameActions(engine, basis, p))) continue;
-        if (!ownerSlots(p).includes(slot)) continue;
-        if (was && mattersInPartition(basis, p, slot)) count--;
-        if (is && mattersInPartition(engine, p, slot)) count++;
-      }
-    }
+    count = mattersCount(basis, slot) + (census.edit.affected[slot] === 1 ? (mattersMoves(engine, basis).get(slot) ?? 0) : 0);
   } else {
     for (const p of census.refs.keys()) if (ownerSlots(p).includes(slot) && mattersInPartition(engine, p, slot)) count++;
   }
   counts.set(slot, count);
   return count;
+}
+
+const mattersMovesCache = new WeakMap<CompiledModel, Map<number, number>>();
+
+/**
+ * After a rule edit, per slot: how the number of live partitions where removing the rule
+ * matters moved, over the changed cells' old and new partitions (one pass over each).
+ */
+function mattersMoves(engine: CompiledModel, basis: CompiledModel): Map<number, number> {
+  const cached = mattersMovesCache.get(engine);
+  if (cached !== undefined) return cached;
+  const census = censusOf(engine);
+  const before = censusOf(basis).refs;
+  const moves = new Map<number, number>();
+  for (const p of census.edit?.marked ?? []) {
+    const was = before.has(p);
+    const is = census.refs.has(p);
+    // Live before and after with the same actions: it matters in both or in neither.
+    if (was === is && (!was || sameActions(engine, basis, p))) continue;
+    for (const slot of ownerSlots(p)) {
+      const move = (is && mattersInPartition(engine, p, slot) ? 1 : 0) - (was && mattersInPartition(basis, p, slot) ? 1 : 0);
+      if (move !== 0) moves.set(slot, (moves.get(slot) ?? 0) + move);
+    }
+  }
+  mattersMovesCache.set(engine, moves);
+  return moves;
 }
 
 /** Per model compiled on a basis: whether each partition's rules (and the default) act as they did in the basis. */
@@ -221,6 +235,9 @@ function sameActions(engine: CompiledModel, basis: CompiledModel, p: RulePartiti
   return same;
 }
 
+/** Scratch for mattersInPartition: per slot, its index in the partition's active list (-1 between calls). */
+let placeScratch = new Int32Array(0);
+
 /** Per model, per partition: the slots whose removal changes an outcome in it (mattersInPartition for every owner at once). */
 const slotsThatMatterCache = new WeakMap<CompiledModel, WeakMap<RulePartition, ReadonlySet<number>>>();
 
@@ -232,14 +249,18 @@ function mattersInPartition(engine: CompiledModel, p: RulePartition, slot: numbe
   if (slots === undefined) {
     // One pass over the partition's runs; an owner is judged until one of its runs matters.
     const found = new Set<number>();
-    const place = new Map<number, number>();
-    p.active.forEach((s, i) => place.set(s, i));
+    // Where each active rule sits in the list (scratch, -1 again afterwards).
+    if (placeScratch.length < engine.slotCount) placeScratch = new Int32Array(engine.slotCount * 2).fill(-1);
+    const place = placeScratch;
+    const active = p.active;
+    for (let i = 0; i < active.length; i++) place[active[i]] = i;
     const values = p.owner.values;
     for (let k = 0; k < values.length; k++) {
       const owner = values[k];
       if (owner < 0 || found.has(owner)) continue;
-      if (runMatters(engine, p, k, place.get(owner) ?? -1)) found.add(owner);
+      if (runMatters(engine, p, k, place[owner])) found.add(owner);
     }
+    for (let i = 0; i < active.length; i++) place[active[i]] = -1;
     slots = found;
     byPartition.set(p, slots);
   }
