@@ -275,7 +275,7 @@ export class DeviceRevisions {
    * revision id (a key the revision does not report is absent; a key reported twice appears
    * twice). The keys are matched inside PostgreSQL, so only the matches travel: the fleet table
    * asks this for the findings a dismissal takes out of its counts. A revision whose keys were
-   * not stored is analysed now (see findingKeysOf).
+   * not stored is analysed now, and its keys stored.
    */
   async severitiesOfKeys(wanted: ReadonlyArray<{ revisionId: string; keys: readonly string[]; hasFindingKeys: boolean }>): Promise<Map<string, Array<[string, string]>>> {
     const found = new Map<string, Array<[string, string]>>();
