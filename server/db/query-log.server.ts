@@ -20,6 +20,6 @@ export function recordQuery(sql: string, milliseconds?: number): void {
   if (!tally) return;
   tally.count += 1;
   tally.milliseconds += milliseconds ?? 0;
-  // Kept short: enough to tell which query a budget test tripped over.
-  if (tally.statements.length < 20) tally.statements.push(sql.slice(0, 160));
+  // Kept short, yet long enough to hold a select list: the fleet test checks which columns are read.
+  if (tally.statements.length < 20) tally.statements.push(sql.slice(0, 1000));
 }

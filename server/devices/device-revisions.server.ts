@@ -2,8 +2,9 @@
 // model" (docs/decisions/004). Every loader, action, service and resource route that needs a
 // device goes through a DeviceRevisions instance; nothing else queries device revisions.
 import { LRUCache } from "lru-cache";
-import { col, ForeignKeyConstraintError, Op, type Transaction } from "sequelize";
+import { col, ForeignKeyConstraintError, Op, QueryTypes, type Transaction } from "sequelize";
 import { Device, DeviceRevision, RevisionAnalysisRecord, Site } from "#models/index.ts";
+import { getDatabase } from "../db/database.server.ts";
 import type { Finding, Outcome } from "../engine/index.ts";
 import { keysOf } from "./finding-keys.ts";
 import { analyseOffThread, POOL_THRESHOLD_ELEMENTS, type PooledAnalysis } from "../jobs/analysis-pool.server.ts";
@@ -16,6 +17,49 @@ export type RevisionRecord = Pick<DeviceRevision, "id" | "number" | "message" | 
 
 /** What the fleet pages show about a revision once the engine has analysed it. */
 export type FleetSummary = { findingsBySeverity: Record<string, number>; worstOutsideOutcome: Outcome | null };
+
+/**
+ * A device's row in the fleet table, as stored: its current revision's facts and, once the
+ * analysis has run, its stored summary. No document, no findings: what 500 large devices cost
+ * to list is 500 short rows (issue 14).
+ */
+export type FleetRecord = {
+  deviceId: string;
+  name: string;
+  siteId: string;
+  siteName: string;
+  revisionId: string;
+  revisionNumber: number;
+  createdAt: Date;
+  authorEmail: string;
+  /** The revision's element total as counted at save time (what decides the analysis pool). */
+  elements: number;
+  /** The stored summary; null while the revision's analysis has not been stored. */
+  summary: FleetSummary | null;
+  /** Whether each finding's key was stored with it (rows stored before keys were kept have none). */
+  hasFindingKeys: boolean;
+};
+
+type FleetRecordRow = {
+  device_id: string;
+  name: string;
+  site_id: string;
+  site_name: string;
+  revision_id: string;
+  revision_number: number;
+  created_at: Date | string;
+  author_email: string;
+  counts: Record<string, number> | null;
+  analysed: boolean;
+  findings_by_severity: Record<string, number> | null;
+  worst_outside_outcome: Outcome | null;
+  keys_stored: boolean;
+};
+
+/** Sum of the element counts kept at save time. */
+function countedElements(counts: Record<string, number> | null | undefined): number {
+  return Object.values(counts ?? {}).reduce((total, count) => total + count, 0);
+}
 
 /** A device of an organisation at one revision, with its site. */
 export type DeviceAtRevision = {
@@ -177,20 +221,89 @@ export class DeviceRevisions {
    * stored yet, and a model the pool would take (sized by the element counts kept at save time).
    * The fleet page shows such a row as being analysed instead of analysing it in the request.
    */
-  awaitsAnalysis(record: RevisionRecord): boolean {
-    if (record.analysisRecord) return false;
-    const size = Object.values(record.summary?.counts ?? {}).reduce((total, count) => total + count, 0);
-    return size >= POOL_THRESHOLD_ELEMENTS;
+  awaitsAnalysis(record: FleetRecord): boolean {
+    return !record.summary && record.elements >= POOL_THRESHOLD_ELEMENTS;
   }
 
   /**
-   * Each revision's findings as [key, severity] pairs, in order, from what the analysis stored:
-   * the fleet table counts active findings from these without reading any document. A revision
-   * not analysed yet (or stored before keys were kept) is analysed now and stored.
+   * Every device of the organisation at its current revision, by name, with the stored summary:
+   * one query reading short columns only (never a document, the findings or their keys, which
+   * for a large device are hundreds of kilobytes each).
    */
-  async findingKeysOf(records: readonly RevisionRecord[]): Promise<Array<Array<[string, string]>>> {
-    const computed = await this.#completeMissing(records, (record) => !record.analysisRecord?.findingKeys);
-    return records.map((record) => record.analysisRecord?.findingKeys ?? computed.get(record.id)!.findingKeys);
+  async fleetRecords(organisationId: string): Promise<FleetRecord[]> {
+    const rows = await getDatabase().query<FleetRecordRow>(
+      `SELECT d.id AS device_id, d.name, d.site_id, s.name AS site_name,
+              r.id AS revision_id, r.number AS revision_number, r.created_at, r.author_email, r.summary -> 'counts' AS counts,
+              a.revision_id IS NOT NULL AS analysed, a.findings_by_severity, a.worst_outside_outcome, a.finding_keys IS NOT NULL AS keys_stored
+         FROM devices d
+         JOIN sites s ON s.id = d.site_id
+         JOIN device_revisions r ON r.device_id = d.id AND r.number = d.current_revision_number
+         LEFT JOIN revision_analyses a ON a.revision_id = r.id
+        WHERE d.organisation_id = :organisationId
+        ORDER BY d.name ASC`,
+      { type: QueryTypes.SELECT, replacements: { organisationId } },
+    );
+    return rows.map((row) => ({
+      deviceId: row.device_id,
+      name: row.name,
+      siteId: row.site_id,
+      siteName: row.site_name,
+      revisionId: row.revision_id,
+      revisionNumber: row.revision_number,
+      createdAt: new Date(row.created_at),
+      authorEmail: row.author_email,
+      elements: countedElements(row.counts),
+      summary: row.analysed && row.findings_by_severity ? { findingsBySeverity: row.findings_by_severity, worstOutsideOutcome: row.worst_outside_outcome } : null,
+      hasFindingKeys: row.keys_stored,
+    }));
+  }
+
+  /**
+   * The fleet summary of revisions by id that have none stored yet: computed now (large models on
+   * the analysis pool) and stored, as summariesOf does.
+   */
+  async summariesByRevisionId(revisionIds: readonly string[]): Promise<Map<string, FleetSummary>> {
+    const computed = await this.#completeMissing(
+      revisionIds.map((id) => ({ id })),
+      () => true,
+    );
+    return new Map([...computed].map(([id, { findingsBySeverity, worstOutsideOutcome }]) => [id, { findingsBySeverity, worstOutsideOutcome }]));
+  }
+
+  /**
+   * The severity of each of these finding keys in these revisions, as [key, severity] pairs per
+   * revision id (a key the revision does not report is absent; a key reported twice appears
+   * twice). The keys are matched inside PostgreSQL, so only the matches travel: the fleet table
+   * asks this for the findings a dismissal takes out of its counts. A revision whose keys were
+   * not stored is analysed now, and its keys stored.
+   */
+  async severitiesOfKeys(wanted: ReadonlyArray<{ revisionId: string; keys: readonly string[]; hasFindingKeys: boolean }>): Promise<Map<string, Array<[string, string]>>> {
+    const found = new Map<string, Array<[string, string]>>();
+    const add = (revisionId: string, key: string, severity: string) => found.set(revisionId, [...(found.get(revisionId) ?? []), [key, severity]]);
+    const stored = wanted.filter((entry) => entry.hasFindingKeys).flatMap((entry) => entry.keys.map((key) => ({ revisionId: entry.revisionId, key })));
+    if (stored.length > 0) {
+      const rows = await getDatabase().query<{ revision_id: string; key: string; severity: string }>(
+        `SELECT a.revision_id, k.pair ->> 0 AS key, k.pair ->> 1 AS severity
+           FROM unnest(ARRAY[:revisionIds]::uuid[], ARRAY[:keys]::text[]) AS w(revision_id, key)
+           JOIN revision_analyses a ON a.revision_id = w.revision_id
+           CROSS JOIN LATERAL jsonb_array_elements(a.finding_keys) AS k(pair)
+          WHERE k.pair ->> 0 = w.key`,
+        { type: QueryTypes.SELECT, replacements: { revisionIds: stored.map((entry) => entry.revisionId), keys: stored.map((entry) => entry.key) } },
+      );
+      for (const row of rows) add(row.revision_id, row.key, row.severity);
+    }
+    const missing = wanted.filter((entry) => !entry.hasFindingKeys);
+    if (missing.length > 0) {
+      const computed = await this.#completeMissing(
+        missing.map((entry) => ({ id: entry.revisionId })),
+        () => true,
+      );
+      for (const entry of missing) {
+        const keys = new Set(entry.keys);
+        for (const [key, severity] of computed.get(entry.revisionId)?.findingKeys ?? []) if (keys.has(key)) add(entry.revisionId, key, severity);
+      }
+    }
+    return found;
   }
 
   /**
@@ -240,7 +353,7 @@ export class DeviceRevisions {
   }
 
   /** Analyses the records `missing` selects (documents read in one query) and stores each; by revision id. */
-  async #completeMissing(records: readonly RevisionRecord[], missing: (record: RevisionRecord) => boolean): Promise<Map<string, PooledAnalysis>> {
+  async #completeMissing<Record extends { id: string }>(records: readonly Record[], missing: (record: Record) => boolean): Promise<Map<string, PooledAnalysis>> {
     const computed = new Map<string, PooledAnalysis>();
     const selected = records.filter(missing);
     if (selected.length === 0) return computed;
@@ -302,7 +415,7 @@ export class DeviceRevisions {
     return read;
   }
 
-  async #analysesOf(records: readonly RevisionRecord[], transaction?: Transaction, basis?: RevisionAnalysis): Promise<RevisionAnalysis[]> {
+  async #analysesOf(records: ReadonlyArray<{ id: string }>, transaction?: Transaction, basis?: RevisionAnalysis): Promise<RevisionAnalysis[]> {
     // Kept in hand as well as cached: more records than the cache holds (a large fleet) would evict each other.
     const read = new Map<string, RevisionAnalysis>();
     for (const record of records) {

@@ -103,22 +103,25 @@ function toDate(at: InstantInput): Date | null {
 }
 
 type DateParts = { weekday: string; day: string; month: string; year: string; hour: string; minute: string };
-const dateFormats = new Map<string, Intl.DateTimeFormat>();
+// Each zone's format with its resolved zone name, kept: resolvedOptions() costs more than the
+// formatting itself, and a fleet table formats an instant per row.
+const dateFormats = new Map<string, { format: Intl.DateTimeFormat; zone: string }>();
 
 /** The wall-clock parts of an instant in a zone; an unknown zone falls back to UTC. */
 function partsIn(date: Date, timeZone: string): { parts: DateParts; zone: string } {
-  let format = dateFormats.get(timeZone);
-  if (!format) {
+  let known = dateFormats.get(timeZone);
+  if (!known) {
     try {
-      format = new Intl.DateTimeFormat(LOCALE, { timeZone, weekday: "short", day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit", hourCycle: "h23" });
+      const format = new Intl.DateTimeFormat(LOCALE, { timeZone, weekday: "short", day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit", hourCycle: "h23" });
+      known = { format, zone: format.resolvedOptions().timeZone };
     } catch {
       return partsIn(date, "UTC");
     }
-    dateFormats.set(timeZone, format);
+    dateFormats.set(timeZone, known);
   }
   const parts: DateParts = { weekday: "", day: "", month: "", year: "", hour: "", minute: "" };
-  for (const part of format.formatToParts(date)) if (part.type in parts) parts[part.type as keyof DateParts] = part.value;
-  return { parts, zone: format.resolvedOptions().timeZone };
+  for (const part of known.format.formatToParts(date)) if (part.type in parts) parts[part.type as keyof DateParts] = part.value;
+  return { parts, zone: known.zone };
 }
 
 // The pieces are put together here rather than by the locale's pattern, so the text does not

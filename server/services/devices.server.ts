@@ -1,7 +1,7 @@
 import { UniqueConstraintError, type Transaction } from "sequelize";
 import { getDatabase } from "../db/database.server.ts";
 import { Device, DeviceRevision, SharedAddressObject, Site, type RevisionSummaryRecord } from "#models/index.ts";
-import { deviceRevisions, type DeviceAtRevision, type FleetSummary } from "../devices/index.ts";
+import { deviceRevisions, type DeviceAtRevision, type FleetRecord, type FleetSummary } from "../devices/index.ts";
 import { revisionAnalysisQueue } from "../jobs/revision-analysis.server.ts";
 import { emptySeverityCounts, type ValidationIssue } from "../engine/index.ts";
 import type { AuditAction } from "#models/audit-actions.ts";
@@ -56,32 +56,48 @@ export async function loadSharedLibrary(organisationId: string, transaction?: Tr
 }
 
 /**
- * The organisation's devices with their current revision's fleet summary. With `wait: false` (the
- * fleet page) a large revision whose background analysis has not finished is not analysed here:
- * its row says `analysing` (and its job is queued again, in case it was lost), and the page looks
- * again shortly; small ones are computed at once. The API waits (`wait: true`) for every answer.
+ * The organisation's devices with their current revision's stored fleet summary (one short query:
+ * no document, no findings). With `wait: false` (the fleet page) a large revision whose background
+ * analysis has not finished is not analysed here: its row says `analysing` (and its job is queued
+ * again, in case it was lost), and the page looks again shortly; small ones are computed at once.
+ * The API waits (`wait: true`) for every answer. Each row comes with its stored record, for the
+ * caller that adjusts the counts (fleetDeviceRows).
  */
-export async function listDevices(organisationId: string, options: { wait?: boolean } = {}): Promise<DeviceRow[]> {
-  const devices = await deviceRevisions.currentRecords(organisationId);
-  const pending = new Set(options.wait === false ? devices.filter(({ revision }) => deviceRevisions.awaitsAnalysis(revision)).map(({ revision }) => revision.id) : []);
-  for (const id of pending) revisionAnalysisQueue.enqueue(id);
-  const ready = devices.filter(({ revision }) => !pending.has(revision.id));
-  const summaries = new Map((await deviceRevisions.summariesOf(ready.map(({ revision }) => revision))).map((summary, index) => [ready[index].revision.id, summary]));
-  return devices.map(({ device, revision }) => {
-    const summary = summaries.get(revision.id);
-    return {
-      id: device.id,
-      name: device.name,
-      siteId: device.siteId,
-      siteName: device.site.name,
-      revision: revision.number,
-      updatedAt: revision.createdAt.toISOString(),
-      updatedBy: revision.authorEmail,
+export async function listDevices(organisationId: string, options: { wait?: boolean } = {}): Promise<Array<{ row: DeviceRow; record: FleetRecord }>> {
+  const records = await deviceRevisions.fleetRecords(organisationId);
+  const pending = options.wait === false ? records.filter((record) => deviceRevisions.awaitsAnalysis(record)) : [];
+  for (const record of pending) requeueAnalysis(record.revisionId);
+  const waiting = new Set(pending.map((record) => record.revisionId));
+  const computed = await deviceRevisions.summariesByRevisionId(records.filter((record) => !record.summary && !waiting.has(record.revisionId)).map((record) => record.revisionId));
+  return records.map((record) => {
+    const summary = record.summary ?? computed.get(record.revisionId);
+    const row: DeviceRow = {
+      id: record.deviceId,
+      name: record.name,
+      siteId: record.siteId,
+      siteName: record.siteName,
+      revision: record.revisionNumber,
+      updatedAt: record.createdAt.toISOString(),
+      updatedBy: record.authorEmail,
       analysing: !summary,
       findingsBySeverity: summary?.findingsBySeverity ?? emptySeverityCounts(),
       worstOutsideOutcome: summary?.worstOutsideOutcome ?? null,
     };
+    return { row, record };
   });
+}
+
+/** When each revision was last queued again by a page, so a page looked at every few seconds does not queue its jobs every time. */
+const requeued = new Map<string, number>();
+const REQUEUE_AFTER_MS = 60_000;
+
+/** Queues the analysis of a revision the fleet found unanalysed again (the job may have been lost), at most once a minute. */
+function requeueAnalysis(revisionId: string): void {
+  const now = Date.now();
+  if ((requeued.get(revisionId) ?? -Infinity) > now - REQUEUE_AFTER_MS) return;
+  if (requeued.size > 10_000) requeued.clear();
+  requeued.set(revisionId, now);
+  revisionAnalysisQueue.enqueue(revisionId);
 }
 
 /** The organisation's devices' ids, names and current revision numbers, by name (no analysis). */

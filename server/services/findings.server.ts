@@ -158,25 +158,31 @@ export async function fleetFindings(organisationId: string): Promise<{ devices: 
 }
 
 /**
- * Counts of active findings per device of the organisation, by severity, from each device's
- * current revision: the figures the fleet table should show. A finding whose dismissal awaits
- * confirmation is still active. Reads only the stored keys and severities: no document, no engine.
- * `wait: false` leaves out devices whose large current revision is still being analysed.
+ * Counts of active findings per device, by severity, from each device's current revision: the
+ * figures the fleet table should show. The stored counts less the findings an in-effect dismissal
+ * takes out (a finding whose dismissal awaits confirmation is still active). Reads the stored
+ * summaries the caller has, the organisation's standing dismissals, and only for devices with
+ * dismissals the severities of the dismissed keys (matched inside PostgreSQL): no document, no
+ * findings list, no engine — nothing that grows with the size of the devices (issue 14).
+ * Devices without a summary (still being analysed) are left out.
  */
-export async function activeFindingsBySeverity(organisationId: string, options: { wait?: boolean } = {}): Promise<Map<string, SeverityCounts>> {
-  const [records, dismissals] = await Promise.all([deviceRevisions.currentRecords(organisationId), standingDismissals({ organisationId })]);
-  // Without waiting, a large revision still being analysed is left out (listDevices marks its row).
-  const current = options.wait === false ? records.filter(({ revision }) => !deviceRevisions.awaitsAnalysis(revision)) : records;
-  const keys = await deviceRevisions.findingKeysOf(current.map(({ revision }) => revision));
+export async function activeFindingsBySeverity(
+  organisationId: string,
+  devices: ReadonlyArray<{ deviceId: string; revisionId: string; hasFindingKeys: boolean; findingsBySeverity: Record<string, number> | null }>,
+): Promise<Map<string, SeverityCounts>> {
+  const dismissals = await standingDismissals({ organisationId });
+  const wanted = devices.flatMap((device) => {
+    const keys = [...(dismissals.get(device.deviceId)?.values() ?? [])].filter((dismissal) => dismissalViewOf(dismissal).state === "in-effect").map((dismissal) => dismissal.findingKey);
+    return device.findingsBySeverity && keys.length > 0 ? [{ revisionId: device.revisionId, keys, hasFindingKeys: device.hasFindingKeys }] : [];
+  });
+  const dismissed = await deviceRevisions.severitiesOfKeys(wanted);
   const counts = new Map<string, SeverityCounts>();
-  for (const [index, { device }] of current.entries()) {
+  for (const device of devices) {
+    if (!device.findingsBySeverity) continue;
     const deviceCounts = emptySeverityCounts();
-    for (const [key, severity] of keys[index]) {
-      const dismissal = dismissals.get(device.id)?.get(key);
-      if (dismissal && dismissalViewOf(dismissal).state === "in-effect") continue;
-      if (isSeverity(severity)) deviceCounts[severity] += 1;
-    }
-    counts.set(device.id, deviceCounts);
+    for (const [severity, count] of Object.entries(device.findingsBySeverity)) if (isSeverity(severity)) deviceCounts[severity] = count;
+    for (const [, severity] of dismissed.get(device.revisionId) ?? []) if (isSeverity(severity)) deviceCounts[severity] -= 1;
+    counts.set(device.deviceId, deviceCounts);
   }
   return counts;
 }

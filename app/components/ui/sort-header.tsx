@@ -7,6 +7,8 @@ export function SortHeader<Column extends string>({ column, label, sort, descend
   const next = new URLSearchParams(searchParams);
   next.set("sort", column);
   next.set("dir", sort === column && !descending ? "desc" : "asc");
+  // A new order starts at its first page.
+  next.delete("page");
   const active = sort === column;
   return (
     <Th aria-sort={active ? (descending ? "descending" : "ascending") : "none"}>

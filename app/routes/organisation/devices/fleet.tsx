@@ -22,6 +22,8 @@ import { Time } from "#app/components/ui/time";
 import { formatNumber, plural } from "#server/engine/format";
 import { looksLikeSource } from "#app/utils/search";
 import { PageErrorBoundary } from "#app/components/error-panel";
+import { Pager } from "#app/components/analysis/common";
+import { pageOf } from "#server/analysis/paging";
 
 export const meta: Route.MetaFunction = () => [{ title: "Devices · Sallyport" }];
 
@@ -55,13 +57,16 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   // Counts leave out dismissed findings (accepted risks), as the device overview does.
   const [rows, sites, fieldChecks] = await Promise.all([fleetDeviceRows(access.organisation.id, { wait: false }), listSites(access.organisation.id), lastFieldChecks(access.organisation.id)]);
   const devices: FleetRow[] = rows.map((device) => ({ ...device, fieldCheck: fieldChecks.get(device.id) ?? null }));
-  const shown = tableRows(devices, [...COLUMNS, SITE_FILTER, nameTie<FleetRow>()], {
+  const matching = tableRows(devices, [...COLUMNS, SITE_FILTER, nameTie<FleetRow>()], {
     globalFilter: (url.searchParams.get("q") ?? "").trim().slice(0, 100),
     columnFilters: url.searchParams.get("site") ? [{ id: "siteId", value: url.searchParams.get("site") }] : [],
     sorting,
   });
+  // Sorted and searched over the whole fleet, then one page of rows sent: a fleet of hundreds
+  // renders (and hydrates) 50 rows, not all of them.
+  const { page, pages, start, end } = pageOf(url.searchParams.get("page"), matching.length);
   const q = (url.searchParams.get("q") ?? "").trim().slice(0, 100);
-  return { devices: shown, total: devices.length, analysing: devices.filter((device) => device.analysing).length, reachFrom: looksLikeSource(q) ? q : null, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canAdd: hasAtLeastRole(access.role, PAGE_ROLES.newDevice), canImport: hasAtLeastRole(access.role, PAGE_ROLES.importModel), slug: access.organisation.slug, now: new Date().toISOString() };
+  return { devices: matching.slice(start, end), matching: matching.length, first: start + 1, page, pages, total: devices.length, analysing: devices.filter((device) => device.analysing).length, reachFrom: looksLikeSource(q) ? q : null, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canAdd: hasAtLeastRole(access.role, PAGE_ROLES.newDevice), canImport: hasAtLeastRole(access.role, PAGE_ROLES.importModel), slug: access.organisation.slug, now: new Date().toISOString() };
 }
 
 export default function Fleet({ loaderData }: Route.ComponentProps) {
@@ -133,7 +138,8 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
               Apply
             </button>
             <span className="text-sm text-ink-muted" aria-live="polite">
-              {formatNumber(devices.length)} of {plural(loaderData.total, { one: "device", other: "devices" })}
+              {formatNumber(loaderData.matching)} of {plural(loaderData.total, { one: "device", other: "devices" })}
+              {loaderData.pages > 1 ? `; ${formatNumber(loaderData.first)}–${formatNumber(loaderData.first + devices.length - 1)} shown` : ""}
             </span>
           </Form>
           {loaderData.reachFrom ? (
@@ -209,6 +215,7 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
               ))}
             </tbody>
           </Table>
+          <Pager param="page" page={loaderData.page} pages={loaderData.pages} search={searchParams} label="Device pages" />
         </>
       )}
     </>
