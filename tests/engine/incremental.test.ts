@@ -122,4 +122,20 @@ describe("incremental analysis", () => {
       chain = after;
     }
   });
+
+  test("unused objects along a long chain of destination edits (the reference counts fold their changes in now and then) match a fresh compile at every step", { timeout: 60_000 }, () => {
+    const generated = validated(generateModel(11, MEDIUM).model);
+    // Eighty objects nothing names yet; each step points the first rule's destinations at the next one (destinations cut no elements, so the edit is followed by difference).
+    const extra = Array.from({ length: 80 }, (_, i) => ({ name: `spare-${i}`, entries: [`192.0.2.${i + 1}/32`] }));
+    const withSpares = validated({ ...generated, addresses: [...generated.addresses, ...extra] });
+    let previous = compileModel(withSpares);
+    findings(previous);
+    for (let step = 0; step < extra.length; step++) {
+      const model = validated({ ...previous.model, inboundRules: previous.model.inboundRules.map((rule, i) => (i === 0 ? { ...rule, destinations: [extra[step].name] } : rule)) });
+      const next = compileModel(model, { basis: previous });
+      const unused = (device: CompiledModel) => JSON.stringify(findings(device).filter((finding) => finding.code === "unused-object"));
+      expect(unused(next), `step ${step}`).toBe(unused(compileModel(model)));
+      previous = next;
+    }
+  });
 });

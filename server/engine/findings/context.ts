@@ -9,10 +9,11 @@ import { arrivals, firstMatchRules, loginReachable } from "../analysis.ts";
 import { cellPartitions, censusOf, cellsOf } from "../cells.ts";
 import type { Arrival } from "../analysis.ts";
 import type { CompiledModel } from "../compile.ts";
+import { runValueAt } from "../domain.ts";
 import type { Runs } from "../domain.ts";
 import { traceProbe } from "../trace.ts";
-import type { TraceResult } from "../trace.ts";
 import { OUTCOMES, SILENT, isOutcome } from "../vocabulary.ts";
+import type { Outcome } from "../vocabulary.ts";
 import { instantInSlice } from "../week-times.ts";
 import type { Finding, Witness, WitnessProbe } from "./types.ts";
 
@@ -108,6 +109,15 @@ interface DecidingPlace {
  * indices along a chain of rule edits (incrementalBasis), where findings pass from model to model.
  */
 const probeCells = new WeakMap<WitnessProbe, readonly [number, number, number]>();
+
+/** Each witness probe's source as made here, beside its cell. */
+const probeSources = new WeakMap<WitnessProbe, { readonly family: Family; readonly value: bigint }>();
+
+/** What a witness records of a probe's trace. */
+export interface WitnessAnswer {
+  readonly outcome: Outcome;
+  readonly ruleId: string | null;
+}
 
 export class FindingContext {
   #exposure: Map<string, ServiceExposure> | undefined;
@@ -315,18 +325,38 @@ export class FindingContext {
       at: instantInSlice(engine, slice),
     };
     probeCells.set(probe, [iface, to, cls]);
+    probeSources.set(probe, { family, value: source });
     return probe;
   }
 
   /**
    * The witness for a probe: `trace` replays it, and its outcome and deciding rule are what the
-   * witness records. `shows` may read the trace (which rule decided, which outcome).
+   * witness records. `shows` may read them (which rule decided, which outcome). A probe made
+   * here is answered from its cell's partitions at its slice and source — what trace reads
+   * (tests/engine/witnesses.test.ts replays every witness through trace) — without parsing
+   * its text again.
    */
-  witnessOf(probe: WitnessProbe | undefined, shows: string | ((trace: TraceResult) => string), proof?: string): Witness | undefined {
+  witnessOf(probe: WitnessProbe | undefined, shows: string | ((answer: WitnessAnswer) => string), proof?: string): Witness | undefined {
     if (probe === undefined) return undefined;
-    const trace = traceProbe(this.engine, probe);
-    if (!isOutcome(trace.outcome)) return undefined;
-    return { probe, outcome: trace.outcome, ruleId: trace.ruleId, shows: typeof shows === "string" ? shows : shows(trace), ...(proof ? { proof } : {}) };
+    const answer = this.#answerOf(probe);
+    if (answer === undefined) return undefined;
+    return { probe, outcome: answer.outcome, ruleId: answer.ruleId, shows: typeof shows === "string" ? shows : shows(answer), ...(proof ? { proof } : {}) };
+  }
+
+  #answerOf(probe: WitnessProbe): WitnessAnswer | undefined {
+    const cell = probeCells.get(probe);
+    const source = probeSources.get(probe);
+    const engine = this.engine;
+    if (cell === undefined || source === undefined) {
+      const trace = traceProbe(engine, probe);
+      return isOutcome(trace.outcome) ? { outcome: trace.outcome, ruleId: trace.ruleId } : undefined;
+    }
+    const [iface, to, cls] = cell;
+    // The slice the probe's instant falls in, as trace finds it (a slice the clock skips has its instant elsewhere).
+    const slice = engine.sliceAt(Date.parse(probe.at));
+    const owner = runValueAt(engine.rulePartitionAt(iface, to, cls, slice).owner, engine.elementOf(source));
+    const outcome = engine.lookup(engine.outcomeOf(iface, to, cls, slice), source.value);
+    return { outcome: OUTCOMES[outcome], ruleId: owner < 0 ? null : engine.rules[engine.positionOfSlot(owner)].id };
   }
 
   /** The service text for a class a rule covers: the catalogue name, or the rule's own port for "other". */
