@@ -327,15 +327,18 @@ export default function Members({ loaderData, actionData }: Route.ComponentProps
           e-mail. Whoever has their password can then sign in without a second factor{" "}
           {loaderData.requireSecondFactor ? "and is asked to set up a new one at once" : "until a new one is set up"}, so make sure the request comes from them first.
         </p>
-        <Form id="reset-second-factor" method="post" className="mt-4" noValidate onSubmit={() => setResetting(null)}>
-          <input type="hidden" name="intent" value="reset-second-factor" />
-          <input type="hidden" name="membershipId" value={resetTarget?.membershipId ?? ""} />
-          <label className="flex items-start gap-2 text-ink">
-            <input type="checkbox" name="confirmed" value="on" className="mt-1" aria-describedby={refusedReset && errors.confirmed ? "reset-confirmed-error" : undefined} />
-            <span>I made sure, by a way other than e-mail (in person, or by calling a number we already had), that this request comes from this member.</span>
-          </label>
-          <FieldNotes id="reset-confirmed" error={refusedReset ? errors.confirmed : undefined} />
-        </Form>
+        {/* Only while open, so the page holds no second field whose label names an e-mail. */}
+        {resetTarget ? (
+          <Form id="reset-second-factor" method="post" className="mt-4" noValidate onSubmit={() => setResetting(null)}>
+            <input type="hidden" name="intent" value="reset-second-factor" />
+            <input type="hidden" name="membershipId" value={resetTarget?.membershipId ?? ""} />
+            <label className="flex items-start gap-2 text-ink">
+              <input type="checkbox" name="confirmed" value="on" className="mt-1" aria-describedby={refusedReset && errors.confirmed ? "reset-confirmed-error" : undefined} />
+              <span>I made sure, by a way other than e-mail (in person, or by calling a number we already had), that this request comes from this member.</span>
+            </label>
+            <FieldNotes id="reset-confirmed" error={refusedReset ? errors.confirmed : undefined} />
+          </Form>
+        ) : null}
       </Dialog>
     </div>
   );
