@@ -13,6 +13,11 @@ export class User extends Model<InferAttributes<User>, InferCreationAttributes<U
   /** A secret shown for enrolment, sealed, until a code from it confirms it. */
   declare secondFactorPendingSecret: CreationOptional<string | null>;
   declare secondFactorPendingAt: CreationOptional<Date | null>;
+  /** Wrong second-factor codes in a row since `secondFactorFailedSince` (docs/decisions/019, the lockout). */
+  declare secondFactorFailures: CreationOptional<number>;
+  declare secondFactorFailedSince: CreationOptional<Date | null>;
+  /** The second step refuses every code until then. */
+  declare secondFactorLockedUntil: CreationOptional<Date | null>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 
@@ -29,6 +34,9 @@ export class User extends Model<InferAttributes<User>, InferCreationAttributes<U
         secondFactorLastStep: { type: DataTypes.BIGINT, allowNull: true },
         secondFactorPendingSecret: { type: DataTypes.TEXT, allowNull: true },
         secondFactorPendingAt: { type: DataTypes.DATE, allowNull: true },
+        secondFactorFailures: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 0 },
+        secondFactorFailedSince: { type: DataTypes.DATE, allowNull: true },
+        secondFactorLockedUntil: { type: DataTypes.DATE, allowNull: true },
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },

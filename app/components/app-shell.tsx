@@ -101,9 +101,9 @@ export function AppShell({ organisation, organisations, user, theme, children }:
           </div>
         </details>
         {/* Names search the fleet table; an address or CIDR block opens fleet reach (routes/organisation/search.ts). */}
-        <Form method="get" action={`/o/${organisation.slug}/search`} role="search" className="ml-auto w-36 shrink-0 sm:w-auto sm:max-w-xs sm:min-w-0 sm:flex-1">
+        <Form method="get" action={`/o/${organisation.slug}/search`} role="search" className="ml-auto w-44 shrink-0 sm:w-auto sm:max-w-xs sm:min-w-0 sm:flex-1">
           <label className="relative block">
-            {/* Short on purpose: label lookups match parts of names, and the placeholder says what it takes. */}
+            {/* Short on purpose: label lookups match parts of names, and the placeholder says what it takes (whole at 390 px, where the box is 11rem). */}
             <span className="sr-only">Find in the fleet</span>
             <Icon path="M11 18a7 7 0 1 0 0-14 7 7 0 0 0 0 14zM20 20l-4-4" className="pointer-events-none absolute top-1/2 left-2.5 size-4 -translate-y-1/2 text-ink-faint" />
             <input
@@ -111,7 +111,7 @@ export function AppShell({ organisation, organisations, user, theme, children }:
               name="q"
               key={location.pathname}
               defaultValue={shellSearchValue(location.pathname, location.search)}
-              placeholder="Device, site or address"
+              placeholder="Name or address"
               autoComplete="off"
               spellCheck={false}
               className="h-9 w-full min-w-0 rounded-control border border-line-strong bg-surface pr-2 pl-8 text-sm placeholder:text-ink-faint"

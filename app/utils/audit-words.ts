@@ -60,6 +60,7 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "member.role-changed": "Role changed",
   "member.removed": "Member removed",
   "member.trainer-changed": "Trainer capability changed",
+  "member.second-factor-reset": "Second factor reset",
   "user.signed-in": "Signed in",
   "user.signed-out-everywhere": "Signed out everywhere",
   "user.renamed": "Name changed",
@@ -69,6 +70,7 @@ export const AUDIT_ACTION_LABELS: Record<AuditAction, string> = {
   "user.second-factor-enabled": "Second factor turned on",
   "user.second-factor-disabled": "Second factor turned off",
   "user.recovery-codes-regenerated": "Recovery codes replaced",
+  "user.second-factor-locked": "Second step locked",
   "password.reset-requested": "Password reset requested",
   "password.reset-completed": "Password reset",
   "api-token.created": "API token created",
@@ -214,6 +216,8 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "invitation.accepted": (c) => `${word(c.email)} joined as ${word(c.role)}`,
   "member.role-changed": (c, target) => (isFromTo(c.role) ? `Changed the role of ${target} from ${word(c.role.from)} to ${word(c.role.to)}` : `Changed the role of ${target}`),
   "member.trainer-changed": (c, target) => (isFromTo(c.trainer) && c.trainer.to === true ? `Made ${target} a trainer` : `Took the trainer capability from ${target}`),
+  "member.second-factor-reset": (c, target) =>
+    `Reset the second factor of ${target}: the authenticator and ${plural(typeof c.recoveryCodesRemoved === "number" ? c.recoveryCodesRemoved : 0, { one: "recovery code", other: "recovery codes" })} removed, ${plural(typeof c.sessionsEnded === "number" ? c.sessionsEnded : 0, { one: "session", other: "sessions" })} ended`,
   "member.removed": (c, target) => `Removed ${target}${word(c.role, "") ? ` (${word(c.role)})` : ""} from the organisation`,
   "user.signed-in": (c) => (word(c.secondFactor, "") ? `Signed in with the password and ${c.secondFactor === "recovery code" ? "a recovery code" : "the authenticator app"}` : "Signed in"),
   "user.signed-out-everywhere": () => "Signed out on every device",
@@ -224,6 +228,8 @@ const SENTENCES: Record<AuditAction, (changes: Changes, target: string) => strin
   "user.second-factor-enabled": (c) => `Turned on a second factor (authenticator app)${typeof c.recoveryCodes === "number" ? ` with ${plural(c.recoveryCodes, { one: "recovery code", other: "recovery codes" })}` : ""}`,
   "user.second-factor-disabled": () => "Turned off the second factor",
   "user.recovery-codes-regenerated": () => "Replaced the recovery codes; the earlier ones no longer work",
+  "user.second-factor-locked": (c) =>
+    `The second step was locked after ${plural(typeof c.failures === "number" ? c.failures : 0, { one: "wrong code", other: "wrong codes" })} in a row${word(c.lockedUntil, "") ? `, until ${formatInstant(word(c.lockedUntil))}` : ""}`,
   "password.reset-requested": () => "Asked for a password reset link",
   "password.reset-completed": () => "Set a new password from a reset link and signed out everywhere",
   "api-token.created": (c, target) =>

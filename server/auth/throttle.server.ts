@@ -20,18 +20,18 @@ type Limit = { scope: ThrottleScope; subject: string; limit: number; windowMs: n
  * parallel guesses through 16–23 times. A refused request takes its rows back, so being
  * throttled never prolongs the throttle.
  */
-async function reserve(limits: readonly Limit[]): Promise<{ verdict: ThrottleVerdict; ids: string[] }> {
-  const rows = await SignInAttempt.bulkCreate(limits.map(({ scope, subject }) => ({ scope, subject: subject.slice(0, 254) })), { returning: ["id"] });
+async function reserve(limits: readonly Limit[], now = Date.now()): Promise<{ verdict: ThrottleVerdict; ids: string[] }> {
+  const rows = await SignInAttempt.bulkCreate(limits.map(({ scope, subject }) => ({ scope, subject: subject.slice(0, 254), createdAt: new Date(now) })), { returning: ["id"] });
   const ids = rows.map((row) => String(row.id));
   for (const { scope, subject, limit, windowMs } of limits) {
-    const since = new Date(Date.now() - windowMs);
+    const since = new Date(now - windowMs);
     const inWindow = await SignInAttempt.findAll({ where: { scope, subject: subject.slice(0, 254), createdAt: { [Op.gt]: since } }, order: [["createdAt", "ASC"]], attributes: ["id", "createdAt"] });
     if (inWindow.length > limit) {
       await SignInAttempt.destroy({ where: { id: ids } });
       const others = inWindow.filter((row) => !ids.includes(String(row.id)));
       // Free again when the oldest row that still counts leaves the window.
       const oldest = (others[Math.max(0, others.length - limit)] ?? inWindow[0]).createdAt.getTime();
-      const retryAfterSeconds = Math.max(1, Math.ceil((oldest + windowMs - Date.now()) / 1000));
+      const retryAfterSeconds = Math.max(1, Math.ceil((oldest + windowMs - now) / 1000));
       return { verdict: { throttled: true, retryAfterSeconds, scope }, ids: [] };
     }
   }
@@ -54,15 +54,18 @@ export function beginPasswordAttempt(email: string, clientAddress: string): Prom
  * user and client address before the code is checked: the same limits as passwords, in scopes of
  * their own, so guessing six digits is as slow as guessing a password (NIST SP 800-63B §5.2.2).
  */
-export function beginCodeAttempt(userId: string, clientAddress: string): Promise<PasswordAttempt> {
-  return beginAttempt("code-account", userId, "code-client", clientAddress);
+export function beginCodeAttempt(userId: string, clientAddress: string, now = Date.now()): Promise<PasswordAttempt> {
+  return beginAttempt("code-account", userId, "code-client", clientAddress, now);
 }
 
-async function beginAttempt(accountScope: ThrottleScope, account: string, clientScope: ThrottleScope, clientAddress: string): Promise<PasswordAttempt> {
-  const { verdict, ids } = await reserve([
-    { scope: accountScope, subject: account, limit: MAX_FAILURES_PER_ACCOUNT, windowMs: THROTTLE_WINDOW_MS },
-    { scope: clientScope, subject: clientAddress, limit: MAX_FAILURES_PER_CLIENT, windowMs: THROTTLE_WINDOW_MS },
-  ]);
+async function beginAttempt(accountScope: ThrottleScope, account: string, clientScope: ThrottleScope, clientAddress: string, now = Date.now()): Promise<PasswordAttempt> {
+  const { verdict, ids } = await reserve(
+    [
+      { scope: accountScope, subject: account, limit: MAX_FAILURES_PER_ACCOUNT, windowMs: THROTTLE_WINDOW_MS },
+      { scope: clientScope, subject: clientAddress, limit: MAX_FAILURES_PER_CLIENT, windowMs: THROTTLE_WINDOW_MS },
+    ],
+    now,
+  );
   return {
     verdict,
     settle: async (success) => {

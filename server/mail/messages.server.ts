@@ -65,6 +65,24 @@ export async function sendEmailChangedNotice(input: { to: string; name: string; 
   await sendMail({ to: input.to, subject: "Your Sallyport e-mail address was changed", text: `${paragraphs.join("\n\n")}\n`, html: layout(paragraphs) });
 }
 
+/** Sent to a member whose second factor an admin or owner reset (docs/decisions/019), so a reset nobody asked for is noticed. */
+export async function sendSecondFactorResetMail(input: { to: string; name: string; organisationName: string; adminName: string; required: boolean; link: string }): Promise<void> {
+  const paragraphs = [
+    `Hello ${input.name},`,
+    `${input.adminName}, an administrator of ${input.organisationName} on Sallyport, reset your second factor: the authenticator app no longer gives codes for this account, your recovery codes no longer work, and you were signed out everywhere.`,
+    input.required
+      ? `${input.organisationName} requires a second factor: after your password, Sallyport asks you to set up a new one before anything else.`
+      : "You sign in with your password alone until you set up a new second factor, which we recommend doing at once.",
+    "If you did not ask for this, tell your organisation's administrator and change your password.",
+  ];
+  await sendMail({
+    to: input.to,
+    subject: "Your Sallyport second factor was reset",
+    text: `${paragraphs.join("\n\n")}\n\nSet up a new second factor: ${input.link}\n`,
+    html: layout(paragraphs, { href: input.link, label: "Set up a new second factor" }),
+  });
+}
+
 /**
  * A message about a change proposal (submitted, commented on, approved, applied …): the
  * paragraphs, a button to the proposal, and, with an approval, its change window as an

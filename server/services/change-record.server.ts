@@ -10,7 +10,8 @@ import { proposalEffect } from "./proposal-effect.server.ts";
 import { proposalView, type ProposalRef } from "./proposals.server.ts";
 
 export const CHANGE_RECORD_FORMAT = "sallyport-change-record";
-export const CHANGE_RECORD_VERSION = 1;
+// 2: `applied.by` names the person ({ name, email }) as reviews and comments do; it was the e-mail alone.
+export const CHANGE_RECORD_VERSION = 2;
 
 type Person = { name: string | null; email: string };
 type ExpectationSide = { status: ExpectationStatus; words: string };
@@ -37,7 +38,7 @@ export type ChangeRecord = {
   device: { id: string; name: string; timezone: string };
   /** Instants in ISO 8601 UTC; `timezone` is the device's, in which the window was typed. */
   window: { start: string; end: string; timezone: string };
-  applied: { revision: number; at: string | null; by: string | null; outsideWindowReason: string } | null;
+  applied: { revision: number; at: string | null; by: Person | null; outsideWindowReason: string } | null;
   effect:
     | {
         /** "draft": a proposal not applied, its draft on its base revision; "applied": the revision it made on its base. */
@@ -93,7 +94,7 @@ export async function changeRecord(ref: ProposalRef, device: { name: string }, v
     },
     device: { id: ref.deviceId, name: device.name, timezone: view.timezone },
     window: { start: proposal.windowStart, end: proposal.windowEnd, timezone: view.timezone },
-    applied: applied && proposal.appliedRevision !== null ? { revision: proposal.appliedRevision, at: proposal.appliedAt, by: proposal.appliedByEmail, outsideWindowReason: proposal.outsideWindowReason } : null,
+    applied: applied && proposal.appliedRevision !== null ? { revision: proposal.appliedRevision, at: proposal.appliedAt, by: proposal.appliedByEmail ? { name: proposal.appliedByName, email: proposal.appliedByEmail } : null, outsideWindowReason: proposal.outsideWindowReason } : null,
     effect: effect.ok
       ? {
           comparedWith: effect.basis.appliedRevision === null ? "draft" : "applied",

@@ -9,7 +9,7 @@ import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
 
 export const INVITATION_LIFETIME_MS = 7 * 24 * 60 * 60 * 1000;
 
-export type MemberRow = { membershipId: string; userId: string; name: string; email: string; role: Role; trainer: boolean; since: string };
+export type MemberRow = { membershipId: string; userId: string; name: string; email: string; role: Role; trainer: boolean; since: string; /** Whether they have a second factor on (docs/decisions/019). */ secondFactor: boolean };
 
 export async function listMembers(organisationId: string): Promise<MemberRow[]> {
   const memberships = await Membership.findAll({
@@ -25,6 +25,7 @@ export async function listMembers(organisationId: string): Promise<MemberRow[]> 
     role: membership.role,
     trainer: membership.trainer,
     since: membership.createdAt.toISOString(),
+    secondFactor: membership.user!.secondFactorEnabledAt !== null,
   }));
 }
 

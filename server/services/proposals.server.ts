@@ -12,7 +12,7 @@ import { hasAtLeastRole, type Role } from "../auth/roles.ts";
 import { getDatabase } from "../db/database.server.ts";
 import { deviceRevisions, type DeviceAtRevision } from "../devices/index.ts";
 import { changeEffect, type CompiledModel, type Expectation } from "../engine/index.ts";
-import { formatInstant } from "../engine/format.ts";
+import { formatCount, formatInstant, pluralWord } from "../engine/format.ts";
 import { Refusal, type RefusalEffect } from "../errors.ts";
 import { sendMail, type OutgoingMail } from "../mail/mailer.server.ts";
 import { proposalMail } from "../mail/messages.server.ts";
@@ -40,6 +40,7 @@ import { listExpectations } from "./expectations.server.ts";
 import { invalidModel, loadSharedLibrary, saveEdit, writeRevision, type SaveGuard, type SaveGuardNote } from "./devices.server.ts";
 import { revisionAnalysisQueue } from "../jobs/revision-analysis.server.ts";
 import { lockSharedLibrary } from "./shared-library-lock.server.ts";
+import { proposalEffectSummary } from "./proposal-effect.server.ts";
 import { isUuid } from "../validation/ids.ts";
 
 /** Who acts: the audit actor with their role in the organisation and their name. */
@@ -263,6 +264,24 @@ async function notify(environment: ProposalEnvironment, proposal: ChangeProposal
   );
 }
 
+/**
+ * The effect as the proposal page opens with it — the headline (who gains or loses what, and
+ * whom the lockout guard sees locked out) and the two totals — in words for the review e-mail.
+ * The mail still goes when the effect cannot be worked out; it says so instead.
+ */
+async function effectParagraphs(ref: ProposalRef): Promise<string[]> {
+  try {
+    const effect = await proposalEffectSummary(ref);
+    if (!effect.ok) return [`Effect: not worked out (${effect.problems.join(" ")}); open the proposal to see why.`];
+    const { summary } = effect;
+    const sources = (decimal: string) => `${formatCount(decimal).text} ${pluralWord(BigInt(decimal), { one: "source", other: "sources" })}`;
+    return [`Effect: ${summary.headline}.`, ...(summary.changed ? [`More exposed: ${sources(summary.totals.gains)}. Less exposed: ${sources(summary.totals.loses)}.`] : [])];
+  } catch (error) {
+    console.error(`the effect of proposal ${ref.proposalId} for its review e-mail could not be worked out:`, error);
+    return [];
+  }
+}
+
 function windowSentence(proposal: ChangeProposal, timezone: string): string {
   return `Change window: ${windowWords({ start: proposal.windowStart, end: proposal.windowEnd }, timezone)}.`;
 }
@@ -414,9 +433,12 @@ export async function submitProposal(ref: ProposalRef, input: { acknowledgement?
     return { proposal, reasons };
   });
   const { proposal, reasons } = result;
-  await notify(environment, proposal, await reviewersOf(ref.organisationId, [proposal.authorUserId]), (context) => `Review requested: ${proposal.title} (${context.deviceName})`, (context) => [
+  const reviewers = await reviewersOf(ref.organisationId, [proposal.authorUserId]);
+  const effect = reviewers.length > 0 ? await effectParagraphs(ref) : [];
+  await notify(environment, proposal, reviewers, (context) => `Review requested: ${proposal.title} (${context.deviceName})`, (context) => [
     `${actor.name} asks for a review of “${proposal.title}” on ${context.deviceName}.`,
     ...(proposal.reason ? [`Why: ${proposal.reason}`] : []),
+    ...effect,
     windowSentence(proposal, context.timezone),
     ...(reasons.length > 0 ? [`${blocksThisChange(reasons)} (${reasons.map((reason) => reason.words).join(" ")}). The author acknowledged it: “${proposal.guardAcknowledgement}”. Only an admin or owner can approve it, with a written reason.`] : []),
   ]);
@@ -871,6 +893,8 @@ export type ProposalView = {
     guardAcknowledgement: string;
     appliedRevision: number | null;
     appliedByEmail: string | null;
+    /** The display name of whoever applied it, as it is now (null when their account is gone). */
+    appliedByName: string | null;
     appliedAt: string | null;
     outsideWindowReason: string;
     createdAt: string;
@@ -910,7 +934,7 @@ export async function proposalView(ref: ProposalRef, viewer: { userId: string; r
     ProposalReview.findAll({ where: { proposalId: proposal.id }, order: [["createdAt", "ASC"]] }),
     approvalsRequired(ref.organisationId),
   ]);
-  const people = new Map((await User.findAll({ where: { id: [...new Set([proposal.authorUserId, ...comments.map((comment) => comment.authorUserId), ...reviews.map((review) => review.reviewerUserId)].filter((id): id is string => id !== null))] }, attributes: ["id", "name"] })).map((user) => [user.id, user.name]));
+  const people = new Map((await User.findAll({ where: { id: [...new Set([proposal.authorUserId, proposal.appliedByUserId, ...comments.map((comment) => comment.authorUserId), ...reviews.map((review) => review.reviewerUserId)].filter((id): id is string => id !== null))] }, attributes: ["id", "name"] })).map((user) => [user.id, user.name]));
   const validated = validateDocument(proposal.draftDocument, library);
   const draftEffective = validated.ok ? validated.effective : null;
   const gate = draftEffective && isOpenState(proposal.state) ? gateOf(proposal, base, draftEffective, await expectationsOf(ref)) : [];
@@ -941,6 +965,7 @@ export async function proposalView(ref: ProposalRef, viewer: { userId: string; r
       guardAcknowledgement: proposal.guardAcknowledgement,
       appliedRevision: proposal.appliedRevisionNumber,
       appliedByEmail: proposal.appliedByEmail,
+      appliedByName: proposal.appliedByUserId ? (people.get(proposal.appliedByUserId) ?? null) : null,
       appliedAt: proposal.appliedAt?.toISOString() ?? null,
       outsideWindowReason: proposal.outsideWindowReason,
       createdAt: proposal.createdAt.toISOString(),

@@ -1,17 +1,20 @@
 // Sallyport's own second factor (docs/decisions/019): enrolment with a TOTP secret shown as a QR
 // code and as text, confirmed by a code before it counts; ten single-use recovery codes, hashed;
 // the code check behind the sign-in throttle, each code accepted once; disabling with the
-// password and a code; and the organisation setting that requires a second factor of every
-// member. Each change writes its audit entry in the change's transaction.
+// password and a code; a lockout after repeated wrong codes; an admin's reset of a member's
+// second factor; and the organisation setting that requires a second factor of every member.
+// Each change writes its audit entry in the change's transaction.
 import { Op, QueryTypes } from "sequelize";
 import QRCode from "qrcode";
-import { Membership, Organisation, RecoveryCode, User } from "#models/index.ts";
+import { Membership, Organisation, RecoveryCode, Session, User } from "#models/index.ts";
+import { hasAtLeastRole, type Role } from "../auth/roles.ts";
 import { hashPassword, verifyPassword } from "../auth/password.server.ts";
 import { openSecret, sealSecret } from "../auth/sealed-secret.server.ts";
 import { beginCodeAttempt } from "../auth/throttle.server.ts";
 import { acceptedStep, groupedSecret, looksLikeTotpCode, newRecoveryCodes, newTotpSecret, normaliseRecoveryCode, totpUri } from "../auth/totp.ts";
 import { getDatabase } from "../db/database.server.ts";
-import { formatDuration } from "../engine/format.ts";
+import { formatDuration, formatInstant } from "../engine/format.ts";
+import { sendSecondFactorResetMail } from "../mail/messages.server.ts";
 import { Refusal } from "../errors.ts";
 import { requireCurrentPassword } from "./account.server.ts";
 import { recordAuditEvent, type AuditActor } from "./audit.server.ts";
@@ -128,13 +131,80 @@ async function acceptRecoveryCode(user: User, code: string): Promise<boolean> {
   return false;
 }
 
+// The lockout (docs/decisions/019): this many wrong codes in a row, the first of them at most
+// LOCKOUT_WINDOW_MINUTES ago, lock the account's second step for LOCKOUT_MINUTES. The same
+// numbers as the throttle (PCI DSS v4.0 8.3.4: at most 10 attempts, locked 30 minutes or until
+// an administrator confirms the identity; NIST SP 800-63B §5.2.2 allows up to 100) — the
+// throttle's window slides, the lockout is a fixed term with an audit entry and a time to show.
+export const LOCKOUT_FAILURES = 10;
+export const LOCKOUT_WINDOW_MINUTES = 15;
+export const LOCKOUT_MINUTES = 15;
+
+/** Until when the user's second step is locked, read fresh from the database (another process may have locked it); null when it is not. */
+export async function secondFactorLockedUntil(userId: string, now = Date.now()): Promise<Date | null> {
+  const row = await User.findByPk(userId, { attributes: ["id", "secondFactorLockedUntil"] });
+  const until = row?.secondFactorLockedUntil ?? null;
+  return until && until.getTime() > now ? until : null;
+}
+
+/** The words of a locked second step: until when, in UTC and in minutes from now. */
+export function lockedMessage(until: Date, now = Date.now()): string {
+  const minutes = Math.max(1, Math.ceil((until.getTime() - now) / 60_000));
+  return `Too many wrong codes for this account: its second step is locked until ${formatInstant(until)} (in ${formatDuration(minutes, "minute")}). Try again then with the code your app shows at that time.`;
+}
+
+function lockedRefusal(until: Date, now: number, field: string): Refusal {
+  return new Refusal(lockedMessage(until, now), 429, { field, headers: { "Retry-After": String(Math.max(1, Math.ceil((until.getTime() - now) / 1000))) } });
+}
+
+/**
+ * Counts one wrong code for the user in one UPDATE (so parallel requests and other web processes
+ * count each failure once); the failure that reaches LOCKOUT_FAILURES locks the second step and
+ * writes `user.second-factor-locked` in the same transaction. Returns the lock's end, if it locked.
+ */
+async function countWrongCode(user: User, clientAddress: string, now: number): Promise<Date | null> {
+  const sequelize = getDatabase();
+  return sequelize.transaction(async (transaction) => {
+    const [rows] = await sequelize.query(
+      `UPDATE users SET
+         second_factor_failures = CASE WHEN second_factor_failed_since IS NULL OR second_factor_failed_since <= :windowStart THEN 1 ELSE second_factor_failures + 1 END,
+         second_factor_failed_since = CASE WHEN second_factor_failed_since IS NULL OR second_factor_failed_since <= :windowStart THEN :now ELSE second_factor_failed_since END
+       WHERE id = :id RETURNING second_factor_failures AS failures`,
+      { replacements: { id: user.id, now: new Date(now), windowStart: new Date(now - LOCKOUT_WINDOW_MINUTES * 60_000) }, transaction },
+    );
+    const failures = Number((rows as { failures: number }[])[0]?.failures ?? 0);
+    if (failures < LOCKOUT_FAILURES) return null;
+    const until = new Date(now + LOCKOUT_MINUTES * 60_000);
+    // The count starts over, so once the lock ends the account has its full number of tries again.
+    await User.update({ secondFactorFailures: 0, secondFactorFailedSince: null, secondFactorLockedUntil: until }, { where: { id: user.id }, transaction });
+    await recordAuditEvent(
+      actorOf(user, clientAddress),
+      { organisationId: null, action: "user.second-factor-locked", targetType: "user", targetId: user.id, changes: { failures, minutes: LOCKOUT_MINUTES, lockedUntil: until.toISOString() } },
+      transaction,
+    );
+    return until;
+  });
+}
+
+/** A right code ends the run of wrong ones. */
+async function clearWrongCodes(userId: string): Promise<void> {
+  await User.update(
+    { secondFactorFailures: 0, secondFactorFailedSince: null, secondFactorLockedUntil: null },
+    { where: { id: userId, [Op.or]: [{ secondFactorFailures: { [Op.gt]: 0 } }, { secondFactorFailedSince: { [Op.ne]: null } }, { secondFactorLockedUntil: { [Op.ne]: null } }] } },
+  );
+}
+
 /**
  * Checks a second-factor code (six digits from the authenticator, or a recovery code) behind the
- * code throttle; refuses with 400 (wrong) or 429 (throttled, with Retry-After) on `field`.
+ * lockout and the code throttle; refuses with 400 (wrong) or 429 (locked or throttled, with
+ * Retry-After) on `field`. It is only ever reached after the password (or a signed-in session),
+ * so saying the second step is locked tells nothing the password step did not.
  */
 export async function verifySecondFactor(user: User, code: string, clientAddress: string, field = "code", now = Date.now()): Promise<SecondFactorMethod> {
   if (!hasSecondFactor(user)) throw new Refusal("This account has no second factor.", 409);
-  const attempt = await beginCodeAttempt(user.id, clientAddress);
+  const locked = await secondFactorLockedUntil(user.id, now);
+  if (locked) throw lockedRefusal(locked, now, field);
+  const attempt = await beginCodeAttempt(user.id, clientAddress, now);
   const { verdict } = attempt;
   if (verdict.throttled) {
     throw new Refusal(`Too many wrong codes ${verdict.scope === "code-account" ? "for this account" : "from your address"}. Try again in ${formatDuration(Math.ceil(verdict.retryAfterSeconds / 60), "minute")}.`, 429, {
@@ -144,7 +214,12 @@ export async function verifySecondFactor(user: User, code: string, clientAddress
   }
   const method: SecondFactorMethod | null = looksLikeTotpCode(code) ? ((await acceptTotp(user, code, now)) ? "authenticator" : null) : (await acceptRecoveryCode(user, code)) ? "recovery code" : null;
   await attempt.settle(method !== null);
-  if (!method) throw wrongCode(field);
+  if (!method) {
+    const lockedNow = await countWrongCode(user, clientAddress, now);
+    if (lockedNow) throw lockedRefusal(lockedNow, now, field);
+    throw wrongCode(field);
+  }
+  await clearWrongCodes(user.id);
   return method;
 }
 
@@ -165,10 +240,64 @@ export async function disableSecondFactor(user: User, input: { currentPassword: 
   await requireCurrentPassword(user, input.currentPassword, clientAddress);
   await verifySecondFactor(user, input.code, clientAddress);
   await getDatabase().transaction(async (transaction) => {
-    await user.update({ secondFactorSecret: null, secondFactorEnabledAt: null, secondFactorLastStep: null, secondFactorPendingSecret: null, secondFactorPendingAt: null }, { transaction });
+    await user.update(NO_SECOND_FACTOR, { transaction });
     await RecoveryCode.destroy({ where: { userId: user.id }, transaction });
     await recordAuditEvent(actorOf(user, clientAddress), { organisationId: null, action: "user.second-factor-disabled", targetType: "user", targetId: user.id }, transaction);
   });
+}
+
+/** What clears a second factor: the secret, the enrolment in progress, and the lockout's count. */
+const NO_SECOND_FACTOR = {
+  secondFactorSecret: null,
+  secondFactorEnabledAt: null,
+  secondFactorLastStep: null,
+  secondFactorPendingSecret: null,
+  secondFactorPendingAt: null,
+  secondFactorFailures: 0,
+  secondFactorFailedSince: null,
+  secondFactorLockedUntil: null,
+} as const;
+
+export type SecondFactorReset = { name: string; email: string; recoveryCodesRemoved: number; sessionsEnded: number; enrolmentRequired: boolean };
+
+/**
+ * An admin's or owner's reset of a member's second factor, for a member who lost both the
+ * authenticator and the recovery codes: the enrolment and the recovery codes go, every session of
+ * the member ends, the audit entry is written in the same transaction, and the member is told by
+ * e-mail (the link from APP_ORIGIN). Refused for oneself (the account page is the way, with the
+ * password and a code), for a member of another organisation, for an owner unless by an owner
+ * (as for roles), and for a member without a second factor. Where the organisation requires one,
+ * the member is sent to enrol at their next sign-in by the existing enforcement.
+ */
+export async function resetMemberSecondFactor(
+  organisation: Organisation,
+  membershipId: string,
+  actor: AuditActor & { role: Role; name: string },
+  appOrigin: string,
+): Promise<SecondFactorReset> {
+  const membership = await Membership.findOne({ where: { id: membershipId, organisationId: organisation.id }, include: [{ model: User, as: "user", required: true }] });
+  if (!membership?.user) throw new Refusal("No such member in this organisation.", 404);
+  const member = membership.user;
+  if (!hasAtLeastRole(actor.role, "admin")) throw new Refusal("Only an admin or owner can reset a member's second factor.", 403);
+  if (member.id === actor.userId) throw new Refusal("This is your own account: turn your second factor off or set it up again on Your account → Second factor.", 409);
+  if (membership.role === "owner" && actor.role !== "owner") throw new Refusal("Only an owner can reset an owner's second factor.", 403);
+  const result = await getDatabase().transaction(async (transaction) => {
+    // Locked and read again inside the transaction, so two admins resetting at once write one entry.
+    const fresh = await User.findByPk(member.id, { transaction, lock: transaction.LOCK.UPDATE });
+    if (!fresh || !hasSecondFactor(fresh)) throw new Refusal(`${member.name} has no second factor to reset.`, 409);
+    await fresh.update(NO_SECOND_FACTOR, { transaction });
+    const recoveryCodesRemoved = await RecoveryCode.destroy({ where: { userId: member.id }, transaction });
+    const sessionsEnded = await Session.destroy({ where: { userId: member.id }, transaction });
+    await recordAuditEvent(
+      actor,
+      { organisationId: organisation.id, action: "member.second-factor-reset", targetType: "membership", targetId: membership.id, changes: { email: member.email, recoveryCodesRemoved, sessionsEnded } },
+      transaction,
+    );
+    return { recoveryCodesRemoved, sessionsEnded };
+  });
+  // After the commit, as for invitations; the link's origin is configured, never the request's Host.
+  await sendSecondFactorResetMail({ to: member.email, name: member.name, organisationName: organisation.name, adminName: actor.name, required: organisation.requireSecondFactor, link: `${appOrigin}/account/second-factor` });
+  return { name: member.name, email: member.email, ...result, enrolmentRequired: organisation.requireSecondFactor };
 }
 
 /** The organisation's members without a second factor, by name, for the cautions beside the setting. */

@@ -3,7 +3,8 @@ import path from "node:path";
 import type { Page } from "@playwright/test";
 import { expect, test } from "./fixtures";
 import { hydrated, seriousAccessibilityViolations, toast } from "./helpers";
-import { createTeam } from "./team";
+import { createTeam, outboxDirectory } from "./team";
+import { waitForMail } from "../support/outbox";
 import { successiveCodes } from "../support/totp";
 
 // Sallyport's own second factor in the browser (docs/decisions/019): enrolment with a code the
@@ -161,4 +162,55 @@ test("An organisation that requires a second factor sends a member without one t
 
   await ownerContext.close();
   await engineerContext.close();
+});
+
+test("An admin resets a member's second factor from the members page, after confirming; the member is signed out, told by e-mail, and signs in again without it", async ({ browser, playwright, browserProblems }, testInfo) => {
+  test.setTimeout(180_000);
+  const team = await createTeam(playwright.request, testInfo.project.use.baseURL!, "totp-reset");
+  const member = team.members.engineer;
+  const memberContext = await browser.newContext({ storageState: member.storageState, reducedMotion: "reduce" });
+  browserProblems.watch(memberContext);
+  const memberPage = await memberContext.newPage();
+  await memberPage.goto("/account/second-factor");
+  await enrolHere(memberPage);
+
+  const adminContext = await browser.newContext({ storageState: team.members.admin.storageState, reducedMotion: "reduce" });
+  browserProblems.watch(adminContext);
+  const admin = await adminContext.newPage();
+  await admin.goto(`/o/${team.slug}/settings/members`);
+  await hydrated(admin);
+  const row = admin.getByRole("row").filter({ hasText: member.email });
+  await expect(row.getByRole("cell", { name: "on", exact: true })).toBeVisible();
+  // No reset of one's own second factor from here.
+  await expect(admin.getByRole("row").filter({ hasText: team.members.admin.email }).getByRole("button", { name: /Reset the second factor/ })).toHaveCount(0);
+
+  await row.getByRole("button", { name: `Reset the second factor of ${member.name}` }).click();
+  const dialog = admin.getByRole("dialog", { name: `Reset the second factor of ${member.name}?` });
+  await expect(dialog).toBeVisible();
+  await everyWay(admin, "08-admin-reset-dialog");
+  // Not confirmed: refused beside the box, and nothing changes.
+  browserProblems.expect(400, /\/settings\/members/);
+  await dialog.getByRole("button", { name: "Reset second factor" }).click();
+  await expect(dialog.getByRole("alert")).toContainText("Tick the box once you have made sure");
+  await dialog.getByRole("checkbox", { name: /I made sure, by a way other than e-mail/ }).check();
+  await dialog.getByRole("button", { name: "Reset second factor" }).click();
+  await expect(toast(admin)).toContainText(`Second factor of ${member.name} reset: signed out everywhere and told by e-mail.`);
+  await expect(row.getByRole("cell", { name: "none", exact: true })).toBeVisible();
+  await hydrated(admin);
+  await everyWay(admin, "09-admin-reset-done");
+
+  // The member's browser is signed out; the e-mail says what happened and links to set up a new one.
+  await memberPage.goto(`/o/${team.slug}/devices`);
+  await expect(memberPage).toHaveURL(/\/login\?redirectTo=/);
+  const mail = await waitForMail(outboxDirectory(), member.email, /second factor was reset/);
+  expect(mail.text).toContain(`${team.members.admin.name}, an administrator of ${team.name}`);
+  expect(mail.text).toContain(`${testInfo.project.use.baseURL}/account/second-factor`);
+  // The password alone signs in now (the organisation does not require a second factor).
+  await memberPage.getByLabel("E-mail").fill(member.email);
+  await memberPage.getByLabel("Password").fill(member.password);
+  await memberPage.getByRole("button", { name: "Sign in" }).click();
+  await expect(memberPage).toHaveURL(new RegExp(`/o/${team.slug}/devices`));
+
+  await adminContext.close();
+  await memberContext.close();
 });

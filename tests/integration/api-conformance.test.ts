@@ -172,6 +172,35 @@ describe("The OpenAPI document and every endpoint's real answers", () => {
     expect(conformance.check("GET /reach", await author.get(`/reach?from=198.51.100.0/33`)).status).toBe(400); // RFC 4632 §3.1: /0 to /32
     expect(conformance.check("GET /reach", await author.get(`/reach?from=198.51.100.7&role=outside`)).status).toBe(400);
     expect(conformance.check("GET /reach", await author.get(`/reach?from=198.51.100.7&site=not-a-uuid`)).status).toBe(400);
+    // Paged as the other lists are (limit and cursor): the pages together are the whole answer, in its order.
+    type FleetPage = { rows: Array<{ deviceId: string; interface: string; service: string; sources: string[]; at: string }>; totalRows: number; nextCursor: string | null };
+    const question = "from=198.51.100.0/24&at=2026-12-02T10:00:00Z";
+    const whole = conformance.check("GET /reach", await author.get(`/reach?${question}&limit=200`)).json as FleetPage;
+    expect(whole.totalRows).toBeGreaterThan(7);
+    expect(whole.totalRows).toBeLessThanOrEqual(200);
+    expect(whole.rows).toHaveLength(whole.totalRows);
+    expect(whole.nextCursor).toBeNull();
+    const walked: FleetPage["rows"] = [];
+    let cursor: string | null = null;
+    for (let page = 0; page < whole.totalRows; page += 1) {
+      const answer = conformance.check("GET /reach", await author.get(`/reach?${question}&limit=7${cursor ? `&cursor=${cursor}` : ""}`)).json as FleetPage;
+      expect(answer.rows.length).toBe(Math.min(7, whole.totalRows - walked.length));
+      expect(answer.totalRows).toBe(whole.totalRows);
+      walked.push(...answer.rows);
+      cursor = answer.nextCursor;
+      if (!cursor) break;
+    }
+    expect(walked).toEqual(whole.rows);
+    // Without `at`, the next page keeps the first page's instant.
+    const nowFirst = conformance.check("GET /reach", await author.get(`/reach?from=198.51.100.0/24&limit=2`)).json as FleetPage;
+    await new Promise((resolve) => setTimeout(resolve, 20));
+    const nowSecond = conformance.check("GET /reach", await author.get(`/reach?from=198.51.100.0/24&limit=2&cursor=${nowFirst.nextCursor}`)).json as FleetPage;
+    expect(nowSecond.rows[0].at).toBe(nowFirst.rows[0].at);
+    expect(conformance.check("GET /reach", await author.get(`/reach?${question}&limit=0`)).status).toBe(400);
+    expect(conformance.check("GET /reach", await author.get(`/reach?${question}&limit=201`)).status).toBe(400);
+    expect(conformance.check("GET /reach", await author.get(`/reach?${question}&cursor=not*a*cursor`)).status).toBe(400);
+    // A cursor from other revisions of the fleet: its positions would mean other rows.
+    expect(conformance.check("GET /reach", await author.get(`/reach?${question}&cursor=${encodeCursor(0, "other-revisions|1796205600000")}`)).status).toBe(409);
 
     const exposurePage = conformance.check("GET /devices/{device}/exposure", await author.get(`${device}/exposure?limit=3&at=2026-12-02T10:00:00Z`));
     const next = (exposurePage.json as { nextCursor: string }).nextCursor;

@@ -253,6 +253,9 @@ describe("The change record", () => {
     for (const part of ["The change", "Effect and expectations", "Review", "Note the partner rule", "The partner asked for a note on their rule.", "CHG-2042", "No source's outcome changes", "changed r2 : note", "partner-console", "Read the effect: nothing changes for anyone.", "Fine by me; the note helps the night shift."]) expect(text).toContain(part);
     expect(text).toMatch(/Approved by Reviewer record \(reviewer-record-[0-9a-f]{8}@test\.example\) \( ?reviewer ?\), \w{3} \d{1,2} \w{3} \d{4}, \d{2}:\d{2} Europe\/Oslo/);
     expect(page.text).toContain(`href="${team.path}/history?to=2"`);
+    // Who applied it, by name and e-mail, on the record and on the proposal's page (walk report).
+    expect(text).toMatch(new RegExp(`Applied as revision r ?2 by ${team.members.author.name} \\(${team.members.author.email.replace(/\./g, "\\.")}\\)`));
+    expect(visibleText((await reviewer.get(proposalPath)).text).replace(/\s+/g, " ")).toMatch(new RegExp(`r ?2 by ${team.members.author.name} \\(${team.members.author.email.replace(/\./g, "\\.")}\\)`));
 
     // The JSON: the same record, as a download, with stable keys.
     const download = await reviewer.get(`${proposalPath}/record.json`);
@@ -265,7 +268,7 @@ describe("The change record", () => {
       "proposal.id", "proposal.title", "proposal.reason", "proposal.ticket", "proposal.state", "proposal.stateLabel", "proposal.author.name", "proposal.author.email", "proposal.workFrom", "proposal.createdAt", "proposal.submittedAt", "proposal.draftVersion", "proposal.baseRevision", "proposal.blockAcknowledged",
       "device.id", "device.name", "device.timezone",
       "window.start", "window.end", "window.timezone",
-      "applied.revision", "applied.at", "applied.by", "applied.outsideWindowReason",
+      "applied.revision", "applied.at", "applied.by.name", "applied.by.email", "applied.outsideWindowReason",
       "effect.comparedWith", "effect.fromRevision", "effect.headline", "effect.changed", "effect.totals.gains", "effect.totals.loses", "effect.groups[]",
       "effect.rules.added[]", "effect.rules.removed[]", "effect.rules.moved[]", "effect.rules.changed[].id", "effect.rules.changed[].fields[]",
       "effect.rules.becomeShadowed[]", "effect.rules.stopShadowed[]", "effect.rules.becomeRedundant[]", "effect.rules.stopRedundant[]",
@@ -274,9 +277,9 @@ describe("The change record", () => {
       "reviews[].verdict", "reviews[].by.name", "reviews[].by.email", "reviews[].role", "reviews[].at", "reviews[].draftVersion", "reviews[].countsNow", "reviews[].reason", "reviews[].approvedPastBlock",
       "comments[].by.name", "comments[].by.email", "comments[].at", "comments[].ruleId", "comments[].body", "comments[].draftVersion",
     ]);
-    expect(record).toMatchObject({ format: "sallyport-change-record", version: 1, proposal: { id: proposal.id, title: "Note the partner rule", ticket: "CHG-2042", state: "applied", baseRevision: 1 }, device: { id: team.deviceId, name: "mole-edge", timezone: "Europe/Oslo" } });
+    expect(record).toMatchObject({ format: "sallyport-change-record", version: 2, proposal: { id: proposal.id, title: "Note the partner rule", ticket: "CHG-2042", state: "applied", baseRevision: 1 }, device: { id: team.deviceId, name: "mole-edge", timezone: "Europe/Oslo" } });
     expect(record.window).toEqual({ start: stored?.windowStart.toISOString(), end: stored?.windowEnd.toISOString(), timezone: "Europe/Oslo" });
-    expect(record.applied).toEqual({ revision: 2, at: stored?.appliedAt?.toISOString(), by: team.members.author.email, outsideWindowReason: "" });
+    expect(record.applied).toEqual({ revision: 2, at: stored?.appliedAt?.toISOString(), by: { name: team.members.author.name, email: team.members.author.email }, outsideWindowReason: "" });
     expect(record.expectations).toEqual([expect.objectContaining({ id: "partner-console", before: expect.objectContaining({ status: "holds" }), after: expect.objectContaining({ status: "holds" }), broken: false })]);
     // The approval's time is the one the audit log recorded for it.
     expect(record.reviews).toEqual([expect.objectContaining({ verdict: "approved", role: "reviewer", countsNow: true, by: { name: team.members.reviewer.name, email: team.members.reviewer.email } })]);

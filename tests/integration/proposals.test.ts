@@ -91,6 +91,15 @@ describe("A change from draft to revision, as the team works it in the browser's
     const outbox = inject("outboxDir");
     const review = await waitForMail(outbox, team.members.reviewer.email, /^Review requested: Open the partner console/);
     expect(review.text).toContain(proposalPath);
+    // …with the effect headline the proposal's page opens with, in words, and the two totals (walk report).
+    const proposalPage = await author.get(proposalPath);
+    const headline = plain(/data-testid="effect-headline"[^>]*>([\s\S]*?)<\/p>/.exec(proposalPage.text)?.[1] ?? "").trim();
+    expect(headline).toMatch(/^\S/);
+    const reviewWords = review.text.replace(/\s+/g, " ");
+    expect(reviewWords).toContain(`Effect: ${headline}.`);
+    // The totals come with a change of outcome only, as on the page.
+    if (/^No source's outcome changes/.test(headline)) expect(reviewWords).not.toContain("More exposed:");
+    else expect(reviewWords).toMatch(/More exposed: \S+ sources?\. Less exposed: \S+ sources?\./);
 
     // A comment on one rule, then the approval.
     const reviewer = await team.members.reviewer.client();

@@ -2,7 +2,7 @@ import { randomBytes } from "node:crypto";
 import { inject } from "vitest";
 
 /** A distinct documentation address (RFC 3849) per client, so per-address throttling stays per test. */
-function nextClientAddress(): string {
+export function nextClientAddress(): string {
   const groups = Array.from(randomBytes(8)).reduce<string[]>((all, byte, index) => {
     if (index % 2 === 0) all.push(byte.toString(16).padStart(2, "0"));
     else all[all.length - 1] += byte.toString(16).padStart(2, "0");

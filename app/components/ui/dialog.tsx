@@ -1,4 +1,4 @@
-import { useEffect, useRef, type ReactNode } from "react";
+import { useEffect, useId, useRef, type ReactNode } from "react";
 import { Button } from "./button";
 
 /**
@@ -7,6 +7,8 @@ import { Button } from "./button";
  */
 export function Dialog({ open, onClose, title, children, footer }: { open: boolean; onClose: () => void; title: string; children: ReactNode; footer?: ReactNode }) {
   const ref = useRef<HTMLDialogElement>(null);
+  // Its own id, so two dialogs on one page are each named by their own title.
+  const titleId = useId();
   useEffect(() => {
     const dialog = ref.current;
     if (!dialog) return;
@@ -17,11 +19,11 @@ export function Dialog({ open, onClose, title, children, footer }: { open: boole
     <dialog
       ref={ref}
       onClose={onClose}
-      aria-labelledby="dialog-title"
+      aria-labelledby={titleId}
       className="m-auto w-full max-w-md rounded-card border border-line bg-surface-raised p-0 text-ink shadow-overlay backdrop:bg-black/40"
     >
       <div className="p-6">
-        <h2 id="dialog-title" className="text-lg font-semibold">
+        <h2 id={titleId} className="text-lg font-semibold">
           {title}
         </h2>
         <div className="mt-3 text-sm text-ink-muted">{children}</div>

@@ -8,7 +8,7 @@ import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/f
 import { refusedForm } from "#server/http/refusals.server";
 import { clientAddressOf } from "#server/http/request-context.server";
 import { recordAuditEvent } from "#server/services/audit.server";
-import { verifySecondFactor } from "#server/services/second-factor.server";
+import { lockedMessage, secondFactorLockedUntil, verifySecondFactor } from "#server/services/second-factor.server";
 import { formatDuration } from "#server/engine/format";
 import { Button } from "#app/components/ui/button";
 import { FormError, TextField } from "#app/components/ui/field";
@@ -23,7 +23,9 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   if (signedInOf(context)) throw redirect(safeRedirectPath(new URL(request.url).searchParams.get("redirectTo")));
   const pending = await getPendingSignIn(request);
   if (!pending) throw await startOver(`Sign in with your password first. The second step waits ${formatDuration(SECOND_STEP_MINUTES, "minute")} at most.`);
-  return { email: pending.user.email };
+  // Reached only after the right password, so saying the step is locked tells nothing new.
+  const lockedUntil = await secondFactorLockedUntil(pending.user.id);
+  return { email: pending.user.email, locked: lockedUntil ? lockedMessage(lockedUntil) : null };
 }
 
 export async function action({ request, context }: Route.ActionArgs) {
@@ -58,7 +60,7 @@ export default function SecondStep({ loaderData, actionData }: Route.ComponentPr
         Your password for <strong className="text-ink">{loaderData.email}</strong> is right. Enter the six-digit code your authenticator app shows now, or one of your recovery codes.
       </p>
       <Form method="post" className="mt-8 space-y-5" noValidate>
-        <FormError message={errors.form && !errors.code ? errors.form : null} />
+        <FormError message={errors.form && !errors.code ? errors.form : !actionData && loaderData.locked ? loaderData.locked : null} />
         <input type="hidden" name="redirectTo" value={searchParams.get("redirectTo") ?? values.redirectTo ?? ""} />
         <TextField
           label="Code"

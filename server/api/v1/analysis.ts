@@ -1,6 +1,7 @@
 // The analysis of a device's current revision: trace one probe, reach from one source, the
 // exposure map at an instant, and the findings. The same functions answer the pages, their
 // CSVs and the CLI, so every door gives the same answer.
+import { createHash } from "node:crypto";
 import { z } from "zod";
 import { probeInputOf } from "../../analysis/probe.ts";
 import { answerReach } from "../../analysis/reach.server.ts";
@@ -146,18 +147,30 @@ export const fleetReachEndpoint = defineEndpoint({
   operationId: "fleetReach",
   summary: "Fleet reach from one source",
   description:
-    "Which of the organisation's devices one source (an address or a CIDR block) reaches, and how: every device at its current revision, now or at a chosen time, one row per device × interface × service (× group of sources, for a block) with the outcome and the deciding layer, most exposed first. The same answer as the Fleet reach page and its CSV.",
+    "Which of the organisation's devices one source (an address or a CIDR block) reaches, and how: every device at its current revision, now or at a chosen time, one row per device × interface × service (× group of sources, for a block) with the outcome and the deciding layer, most exposed first. The same answer as the Fleet reach page and its CSV, paged by row with `limit` and `cursor` (the next pages keep the first page's instant; a cursor from before a device's revision changed is a 409).",
   tag: "Fleet",
   scope: "read",
   role: "trainee",
   query: FleetReachApiQuery,
-  response: { status: 200, description: "The rows, most exposed first.", schema: FleetReachSchema },
+  refusals: [409],
+  response: { status: 200, description: "A page of the rows, most exposed first.", schema: FleetReachSchema },
   async handle({ principal, query }) {
     const question = FleetReachQuerySchema.safeParse({ from: query.from, at: query.at, roles: namesOf(query.role), services: namesOf(query.service), site: query.site });
     if (!question.success) {
       const issues = question.error.issues.map((issue) => ({ path: issue.path.join(".") || "query", message: issue.message }));
       throw new Refusal(`The query is not valid: ${issues.map((issue) => `${issue.path}: ${issue.message}`).join(" · ")}`, 400, { issues });
     }
-    return { body: await fleetReachOf(principal.organisation.id, question.data) };
+    // A later page is asked at the first page's instant, so "now" does not move under the pages.
+    const decoded = query.cursor ? decodeCursor(query.cursor) : null;
+    const pinnedNow = decoded && !("problem" in decoded) ? Number(decoded.pin.split("|")[1]) : NaN;
+    const nowMs = Number.isSafeInteger(pinnedNow) && pinnedNow > 0 ? pinnedNow : Date.now();
+    const answer = await fleetReachOf(principal.organisation.id, question.data, nowMs);
+    // The pin names the revisions that answered and the instant: positions from other ones would mean other rows.
+    const revisions = createHash("sha256")
+      .update([...new Set(answer.rows.map((row) => `${row.deviceId}:${row.revision}`))].sort().join(","))
+      .digest("base64url")
+      .slice(0, 16);
+    const page = pageOf(answer.rows.map((row, index) => ({ row, index })), (item) => item.index, query, { pin: `${revisions}|${nowMs}` });
+    return { body: { ...answer, rows: page.items.map((item) => item.row), totalRows: answer.rows.length, nextCursor: page.nextCursor } };
   },
 });

@@ -10,6 +10,7 @@ import { INTERFACE_ROLES, LAYERS, MODEL_SCHEMA_VERSION, OUTCOMES, SEVERITIES } f
 import { MODEL_DOCUMENT_SCHEMA } from "../../engine/index.ts";
 import { ProbeQuerySchema } from "../../analysis/probe.ts";
 import { FleetReachResultSchema } from "../../analysis/fleet-reach.ts";
+import { PageQuerySchema } from "../pagination.ts";
 
 // ---------------------------------------------------------------------------------------------
 // Path parameters
@@ -218,11 +219,16 @@ export const FleetReachApiQuery = z.object({
   role: commaList(`Only interfaces of these roles (${INTERFACE_ROLES.join(", ")}), separated by commas. Empty: every interface.`),
   service: commaList("Only these services: catalogue names, tcp/PORT or udp/PORT, separated by commas. Empty: every service of each device's catalogue."),
   site: z.uuid({ message: "must be a UUID (a site's id)" }).optional().meta({ description: "Only the devices of this site." }),
-});
+}).extend(PageQuerySchema.shape);
 
-export const FleetReachSchema = FleetReachResultSchema.meta({
+export const FleetReachSchema = FleetReachResultSchema.extend({
+  rows: FleetReachResultSchema.shape.rows.meta({ description: "This page's rows: device × interface × service × group of sources, most exposed first." }),
+  totalRows: z.number().int().meta({ description: "Rows in all pages together." }),
+  nextCursor: z.string().nullable().meta({ description: "Pass as `cursor` (with the same question) for the next page; null on the last page." }),
+}).meta({
   id: "FleetReach",
-  description: "Which of the organisation's devices one source reaches, and how: one row per device × interface × service (× group of sources, for a block), most exposed first.",
+  description:
+    "Which of the organisation's devices one source reaches, and how: one row per device × interface × service (× group of sources, for a block), most exposed first, a page at a time. The next pages keep the first page's instant; a cursor from before a device's revision changed is a 409.",
 });
 
 export const ExposureQuery = z.object({

@@ -131,7 +131,7 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
             <input type="hidden" name="dir" value={descending ? "desc" : "asc"} />
             <label className="text-sm">
               <span className="mb-1 block font-medium">Search</span>
-              <input name="q" defaultValue={searchParams.get("q") ?? ""} placeholder="Device or site" className="h-9 w-64 rounded-control border border-line-strong bg-surface px-3 text-sm" />
+              <input name="q" defaultValue={searchParams.get("q") ?? ""} placeholder="Device or site" className="h-9 w-64 max-w-full rounded-control border border-line-strong bg-surface px-3 text-sm" />
             </label>
             <SiteFilter sites={sites} defaultValue={searchParams.get("site") ?? ""} className="h-9 rounded-control border border-line-strong bg-surface px-2 text-sm" />
             <button type="submit" className="h-9 rounded-control border border-line-strong bg-surface px-3 text-sm font-medium hover:bg-surface-sunken">
@@ -167,7 +167,8 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
             <tbody>
               {devices.map((device) => (
                 <tr key={device.id}>
-                  <Td className="font-medium">
+                  {/* One line where the table has room (names often hold hyphens); on a phone they wrap. */}
+                  <Td className="font-medium max-sm:min-w-36! lg:whitespace-nowrap">
                     <Link to={`/o/${slug}/devices/${device.id}`} className="text-harbour underline-offset-4 hover:underline">
                       {device.name}
                     </Link>

@@ -9,12 +9,13 @@ import { appOrigin } from "#server/config.server";
 import { actorOf } from "#server/http/actor.server";
 import { fieldErrorsOf, formValues, invalidForm, readForm, unknownIntent } from "#server/http/form.server";
 import { EmailSchema, IdSchema, RoleSchema } from "#server/http/schemas";
+import { resetMemberSecondFactor } from "#server/services/second-factor.server";
 import { changeMemberRole, inviteMember, listMembers, listPendingInvitations, removeMember, revokeInvitation, setMemberTrainer } from "#server/services/members.server";
 import { mayManageTraining, ROLES_THAT_TRAIN } from "#models/roles";
 import { Badge, Card } from "#app/components/ui/card";
 import { Button } from "#app/components/ui/button";
 import { Dialog } from "#app/components/ui/dialog";
-import { FormError, SelectField, TextField } from "#app/components/ui/field";
+import { FieldNotes, FormError, SelectField, TextField } from "#app/components/ui/field";
 import { Table, Td, Th } from "#app/components/ui/table";
 import { Time } from "#app/components/ui/time";
 import { formatNumber } from "#server/engine/format";
@@ -32,6 +33,7 @@ export async function loader({ context }: Route.LoaderArgs) {
     canManage,
     myRole: access.role,
     myUserId: access.user.id,
+    requireSecondFactor: access.organisation.requireSecondFactor,
     now: new Date().toISOString(),
   };
 }
@@ -41,6 +43,10 @@ const ChangeRoleSchema = z.object({ membershipId: IdSchema, role: RoleSchema });
 const MembershipSchema = z.object({ membershipId: IdSchema });
 const TrainerSchema = z.object({ membershipId: IdSchema, trainer: z.enum(["on", "off"], { message: "Choose whether they train." }) });
 const InvitationSchema = z.object({ invitationId: IdSchema });
+const ResetSecondFactorSchema = z.object({
+  membershipId: IdSchema,
+  confirmed: z.literal("on", { message: "Tick the box once you have made sure, by a way other than e-mail, that the request comes from this member." }),
+});
 
 export async function action({ request, context }: Route.ActionArgs) {
   const access = requireRole(context, "admin");
@@ -73,6 +79,14 @@ export async function action({ request, context }: Route.ActionArgs) {
         if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
         await removeMember(access.organisation, parsed.data.membershipId, actor);
         return back("Member removed.");
+      }
+      case "reset-second-factor": {
+        const parsed = ResetSecondFactorSchema.safeParse(values);
+        if (!parsed.success) return invalidForm(fieldErrorsOf(parsed.error), values);
+        const reset = await resetMemberSecondFactor(access.organisation, parsed.data.membershipId, actor, appOrigin());
+        return back(
+          `Second factor of ${reset.name} reset: signed out everywhere and told by e-mail. ${reset.enrolmentRequired ? "They set up a new one at their next sign-in." : "They sign in with the password alone until they set up a new one."}`,
+        );
       }
       case "revoke-invitation": {
         const parsed = InvitationSchema.safeParse(values);
@@ -113,6 +127,16 @@ export default function Members({ loaderData, actionData }: Route.ComponentProps
   const [removing, setRemoving] = useState<Member | null>(null);
   const errors: Record<string, string> = actionData?.errors ?? {};
   const values: Record<string, string> = actionData?.values ?? {};
+  // A refused reset opens its dialog again, with the message beside the box.
+  const refusedReset = values.intent === "reset-second-factor" ? (loaderData.members.find((member) => member.membershipId === values.membershipId) ?? null) : null;
+  const [resetting, setResetting] = useState<Member | null>(refusedReset);
+  // Adjusted while rendering when a new answer arrives (React's pattern for state that follows a prop).
+  const [answerSeen, setAnswerSeen] = useState(actionData);
+  if (answerSeen !== actionData) {
+    setAnswerSeen(actionData);
+    if (refusedReset) setResetting(refusedReset);
+  }
+  const resetTarget = resetting;
   const assignable = ROLES.filter((role) => role !== "owner" || loaderData.myRole === "owner");
   return (
     <div className="space-y-8">
@@ -151,6 +175,7 @@ export default function Members({ loaderData, actionData }: Route.ComponentProps
               <Th>E-mail</Th>
               <Th>Role</Th>
               <Th>Trainer</Th>
+              {loaderData.canManage ? <Th>Second factor</Th> : null}
               {loaderData.canManage ? <Th className="text-right">Actions</Th> : null}
             </tr>
           </thead>
@@ -190,12 +215,20 @@ export default function Members({ loaderData, actionData }: Route.ComponentProps
                   <Td>
                     <TrainerCell member={member} canManage={loaderData.canManage} />
                   </Td>
+                  {loaderData.canManage ? <Td className="text-sm text-ink-muted">{member.secondFactor ? "on" : "none"}</Td> : null}
                   {loaderData.canManage ? (
                     <Td className="text-right">
                       {editable ? (
-                        <Button size="sm" variant="ghost-danger" onClick={() => setRemoving(member)} aria-label={`Remove ${member.name}`}>
-                          Remove
-                        </Button>
+                        <div className="flex flex-wrap justify-end gap-1">
+                          {member.secondFactor ? (
+                            <Button size="sm" variant="ghost-danger" onClick={() => setResetting(member)} aria-label={`Reset the second factor of ${member.name}`}>
+                              Reset second factor
+                            </Button>
+                          ) : null}
+                          <Button size="sm" variant="ghost-danger" onClick={() => setRemoving(member)} aria-label={`Remove ${member.name}`}>
+                            Remove
+                          </Button>
+                        </div>
                       ) : null}
                     </Td>
                   ) : null}
@@ -277,6 +310,35 @@ export default function Members({ loaderData, actionData }: Route.ComponentProps
         }
       >
         {removing?.email} loses access to this organisation at once. Their account and other organisations stay.
+      </Dialog>
+
+      <Dialog
+        open={resetTarget !== null}
+        onClose={() => setResetting(null)}
+        title={`Reset the second factor of ${resetTarget?.name ?? "member"}?`}
+        footer={
+          <Button type="submit" form="reset-second-factor" variant="danger">
+            Reset second factor
+          </Button>
+        }
+      >
+        <p>
+          For a member who lost both the authenticator app and the recovery codes. Their authenticator and recovery codes stop working, they are signed out everywhere, and {resetTarget?.email} is told by
+          e-mail. Whoever has their password can then sign in without a second factor{" "}
+          {loaderData.requireSecondFactor ? "and is asked to set up a new one at once" : "until a new one is set up"}, so make sure the request comes from them first.
+        </p>
+        {/* Only while open, so the page holds no second field whose label names an e-mail. */}
+        {resetTarget ? (
+          <Form id="reset-second-factor" method="post" className="mt-4" noValidate onSubmit={() => setResetting(null)}>
+            <input type="hidden" name="intent" value="reset-second-factor" />
+            <input type="hidden" name="membershipId" value={resetTarget?.membershipId ?? ""} />
+            <label className="flex items-start gap-2 text-ink">
+              <input type="checkbox" name="confirmed" value="on" className="mt-1" aria-describedby={refusedReset && errors.confirmed ? "reset-confirmed-error" : undefined} />
+              <span>I made sure, by a way other than e-mail (in person, or by calling a number we already had), that this request comes from this member.</span>
+            </label>
+            <FieldNotes id="reset-confirmed" error={refusedReset ? errors.confirmed : undefined} />
+          </Form>
+        ) : null}
       </Dialog>
     </div>
   );

@@ -209,7 +209,10 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
           </label>
           <label className="text-sm">
             <span className="mb-1 block font-medium">At (optional)</span>
-            <input name="at" className={cx(input, "font-mono")} placeholder={`now · ${timezone}`} value={shown.probe.at} onChange={(event) => setProbe({ at: event.target.value })} />
+            <input name="at" className={cx(input, "font-mono")} placeholder="YYYY-MM-DDTHH:MM" value={shown.probe.at} onChange={(event) => setProbe({ at: event.target.value })} aria-describedby="probe-at-hint" />
+            <span id="probe-at-hint" className="mt-1 block text-xs text-ink-muted">
+              Empty: now. A time is read on the device's clock ({timezone}); end it with Z for UTC.
+            </span>
           </label>
           <label className="text-sm">
             <span className="mb-1 block font-medium">Account (optional)</span>

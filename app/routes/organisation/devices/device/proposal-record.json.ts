@@ -7,7 +7,7 @@ import { changeRecord } from "#server/services/change-record.server";
 import { downloadName } from "#app/utils/analysis";
 
 // GET …/proposals/:proposal/record.json → the proposal's change record as a file
-// ({"format": "sallyport-change-record", "version": 1, …}; server/services/change-record.server.ts).
+// ({"format": "sallyport-change-record", "version": 2, …}; server/services/change-record.server.ts).
 export async function loader({ params, context }: Route.LoaderArgs) {
   const access = requireDevice(context, PROPOSAL_READ_ROLE);
   const idProblem = proposalIdProblem(params.proposal);

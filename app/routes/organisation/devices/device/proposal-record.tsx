@@ -122,7 +122,7 @@ export default function ChangeRecordPage({ loaderData }: Route.ComponentProps) {
                 <Link to={`${devicePath}/history?to=${applied.revision}`} className="text-harbour underline underline-offset-4">
                   revision r{applied.revision}
                 </Link>
-                {applied.by ? ` by ${applied.by}` : ""}
+                {applied.by ? ` by ${applied.by.name ? `${applied.by.name} (${applied.by.email})` : applied.by.email}` : ""}
                 {applied.at ? `, ${formatInstant(applied.at, zone)}` : ""}
                 {applied.outsideWindowReason ? <span className="block text-ink-muted">Outside the change window: “{applied.outsideWindowReason}”</span> : null}
               </>

@@ -242,7 +242,7 @@ export default function ProposalPage({ loaderData, actionData }: Route.Component
                   <Link to={`${base}/history?to=${proposal.appliedRevision}`} className="text-harbour underline underline-offset-4">
                     r{proposal.appliedRevision}
                   </Link>{" "}
-                  by {proposal.appliedByEmail}, {proposal.appliedAt ? <Time at={proposal.appliedAt} timeZone={view.timezone} /> : null}
+                  by {proposal.appliedByName ? `${proposal.appliedByName} (${proposal.appliedByEmail})` : proposal.appliedByEmail}, {proposal.appliedAt ? <Time at={proposal.appliedAt} timeZone={view.timezone} /> : null}
                   {proposal.outsideWindowReason ? <span className="block text-xs text-ink-muted">Outside the window: “{proposal.outsideWindowReason}”</span> : null}
                 </dd>
               </>
