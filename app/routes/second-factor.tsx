@@ -231,8 +231,8 @@ export default function SecondFactor({ loaderData, actionData }: Route.Component
         </Card>
       )}
       <p className="mt-6 text-xs text-ink-muted">
-        Someone who loses both the phone and the recovery codes cannot sign in: nobody in an organisation can turn the second factor off for them. Follow your organisation&apos;s policy for keeping
-        them.
+        Someone who loses both the phone and the recovery codes cannot sign in until an admin or owner of their organisation resets the second factor, after making sure by a way other than
+        e-mail that the request is theirs. Follow your organisation&apos;s policy for keeping them.
       </p>
     </main>
   );

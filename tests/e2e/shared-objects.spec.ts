@@ -2,7 +2,7 @@ import AxeBuilder from "@axe-core/playwright";
 import type { Page } from "@playwright/test";
 import { expect, test } from "./fixtures";
 import { PIER_GW, QUAY_EDGE } from "../support/shared-objects";
-import { screenshot, toast } from "./helpers";
+import { hydrated, screenshot, toast } from "./helpers";
 
 // Changing a shared address object in the browser: the review shows each device that uses it and
 // how its exposure changes, at 1366 px and 390 px, light and dark; confirming gives each device
@@ -67,6 +67,7 @@ async function expectNoSeriousViolations(page: Page) {
 test("An owner changes a shared address object, reviews each device's exposure change, and confirms new revisions", async ({ page }) => {
   const slug = await organisationWithDevices(page);
   await page.goto(`/o/${slug}/settings/shared-objects?edit=ops-desk`);
+  await hydrated(page);
   await page.getByLabel("Entries or members").fill("198.51.100.16/28");
   await page.getByRole("button", { name: "Save", exact: true }).click();
 
@@ -115,6 +116,8 @@ test("An owner changes a shared address object, reviews each device's exposure c
 test("Cancelling the review saves nothing", async ({ page }) => {
   const slug = await organisationWithDevices(page);
   await page.goto(`/o/${slug}/settings/shared-objects?edit=ops-desk`);
+  // Typed once the page is live: a fill racing hydration can land beside the server-rendered text.
+  await hydrated(page);
   await page.getByLabel("Entries or members").fill("198.51.100.32/28");
   await page.getByRole("button", { name: "Save", exact: true }).click();
   await expect(page.getByRole("heading", { name: "Review before saving: 2 devices change" })).toBeVisible();
