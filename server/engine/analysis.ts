@@ -219,20 +219,11 @@ function mattersMoves(engine: CompiledModel, basis: CompiledModel): Map<number, 
   return moves;
 }
 
-/** Per model compiled on a basis: whether each partition's rules (and the default) act as they did in the basis. */
-const sameActionsCache = new WeakMap<CompiledModel, Map<RulePartition, boolean>>();
-
 /** Whether every rule of the partition, and the default, has the same action in the model as in its basis. */
 function sameActions(engine: CompiledModel, basis: CompiledModel, p: RulePartition): boolean {
-  let known = sameActionsCache.get(engine);
-  if (known === undefined) sameActionsCache.set(engine, (known = new Map()));
-  let same = known.get(p);
-  if (same === undefined) {
-    same = engine.defaultAllow === basis.defaultAllow;
-    for (let k = 0; k < p.active.length && same; k++) same = engine.rules[engine.positionOfSlot(p.active[k])].allow === basis.rules[basis.positionOfSlot(p.active[k])].allow;
-    known.set(p, same);
-  }
-  return same;
+  if (engine.defaultAllow !== basis.defaultAllow) return false;
+  for (let k = 0; k < p.active.length; k++) if (engine.rules[engine.positionOfSlot(p.active[k])].allow !== basis.rules[basis.positionOfSlot(p.active[k])].allow) return false;
+  return true;
 }
 
 /** Scratch for mattersInPartition: per slot, its index in the partition's active list (-1 between calls). */

@@ -325,7 +325,7 @@ export class CompiledModel {
     const onlyRulesChanged = basis !== undefined && others(basis.model) === others(model);
     const edit = basis === undefined ? null : ruleEdit(basis.model, model);
     const basisIndexOf = basis === undefined ? null : new Map(basis.model.inboundRules.map((r, i) => [r.id, i]));
-    const changedIds = edit?.changed === null || edit === null ? null : new Set(edit.changed);
+    const changedIds = edit === null || edit.changed === null ? null : new Set(edit.changed);
     /** The basis's index of a rule this model compiles exactly as the basis did, else undefined. */
     const keptRule = (id: string): number | undefined => (onlyRulesChanged && changedIds !== null && !changedIds.has(id) ? basisIndexOf?.get(id) : undefined);
     this.clock = onlyRulesChanged && basis !== undefined ? basis.clock : new LocalClock(model.device.timezone);
@@ -479,7 +479,7 @@ export class CompiledModel {
             }
           });
           this.changedRules = reach;
-          this.changedIds = new Set(changed);
+          this.changedIds = changedIds;
         }
       }
     }

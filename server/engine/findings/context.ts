@@ -105,13 +105,11 @@ interface DecidingPlace {
 }
 
 /**
- * The cell (interface, destination, class) each witness probe is traced in. Cells keep their
- * indices along a chain of rule edits (incrementalBasis), where findings pass from model to model.
+ * Where each witness probe made here falls: its cell (interface, destination, class) and its
+ * source. Cells keep their indices along a chain of rule edits (incrementalBasis), where
+ * findings pass from model to model.
  */
-const probeCells = new WeakMap<WitnessProbe, readonly [number, number, number]>();
-
-/** Each witness probe's source as made here, beside its cell. */
-const probeSources = new WeakMap<WitnessProbe, { readonly family: Family; readonly value: bigint }>();
+const probePlaces = new WeakMap<WitnessProbe, { readonly iface: number; readonly to: number; readonly cls: number; readonly source: { readonly family: Family; readonly value: bigint } }>();
 
 /** What a witness records of a probe's trace. */
 export interface WitnessAnswer {
@@ -167,8 +165,8 @@ export class FindingContext {
   #witnessKept(position: number, previous: Finding): boolean {
     const engine = this.engine;
     if (engine.incrementalBasis === undefined || previous.witness === undefined || engine.ruleChangedByEdit(position)) return false;
-    const cell = probeCells.get(previous.witness.probe);
-    return cell !== undefined && !engine.cellMayDiffer(cell[0], cell[1], cell[2]);
+    const place = probePlaces.get(previous.witness.probe);
+    return place !== undefined && !engine.cellMayDiffer(place.iface, place.to, place.cls);
   }
 
   /** Whether every first-match decision about the rule, and every cell it is a candidate in, is the basis's. */
@@ -324,8 +322,7 @@ export class FindingContext {
       to: engine.addresses[to].text,
       at: instantInSlice(engine, slice),
     };
-    probeCells.set(probe, [iface, to, cls]);
-    probeSources.set(probe, { family, value: source });
+    probePlaces.set(probe, { iface, to, cls, source: { family, value: source } });
     return probe;
   }
 
@@ -344,14 +341,13 @@ export class FindingContext {
   }
 
   #answerOf(probe: WitnessProbe): WitnessAnswer | undefined {
-    const cell = probeCells.get(probe);
-    const source = probeSources.get(probe);
+    const place = probePlaces.get(probe);
     const engine = this.engine;
-    if (cell === undefined || source === undefined) {
+    if (place === undefined) {
       const trace = traceProbe(engine, probe);
       return isOutcome(trace.outcome) ? { outcome: trace.outcome, ruleId: trace.ruleId } : undefined;
     }
-    const [iface, to, cls] = cell;
+    const { iface, to, cls, source } = place;
     // The slice the probe's instant falls in, as trace finds it (a slice the clock skips has its instant elsewhere).
     const slice = engine.sliceAt(Date.parse(probe.at));
     const owner = runValueAt(engine.rulePartitionAt(iface, to, cls, slice).owner, engine.elementOf(source));
