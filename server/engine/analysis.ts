@@ -148,23 +148,14 @@ export function redundantRules(engine: CompiledModel): Set<number> {
   } else {
     // Per slot: 0 never the first match, 1 the first match somewhere, 2 and removing it matters.
     const state = new Uint8Array(engine.slotCount);
-    // Per partition, where each active rule sits in its list (reset after each partition).
-    const place = new Int32Array(engine.slotCount).fill(-1);
     for (const p of distinctRulePartitions(engine)) {
       const { values } = p.owner;
-      const active = p.active;
-      let placed = false;
       for (let k = 0; k < values.length; k++) {
         const slot = values[k];
         if (slot < 0 || state[slot] === 2) continue;
         state[slot] = 1;
-        if (!placed) {
-          for (let i = 0; i < active.length; i++) place[active[i]] = i;
-          placed = true;
-        }
-        if (runMatters(engine, p, k, place[slot])) state[slot] = 2;
+        if (runMatters(engine, p, k, placeInList(engine, p.active, slot))) state[slot] = 2;
       }
-      if (placed) for (let i = 0; i < active.length; i++) place[active[i]] = -1;
     }
     for (let slot = 0; slot < state.length; slot++) if (state[slot] === 1 && engine.positionOfSlot(slot) >= 0) redundant.add(engine.positionOfSlot(slot));
   }
@@ -226,8 +217,21 @@ function sameActions(engine: CompiledModel, basis: CompiledModel, p: RulePartiti
   return true;
 }
 
-/** Scratch for mattersInPartition: per slot, its index in the partition's active list (-1 between calls). */
-let placeScratch = new Int32Array(0);
+/**
+ * Where a rule (by slot) sits in a partition's list of active rules: the list is in rule
+ * order, so a binary search by position finds it without a table over the whole list.
+ */
+function placeInList(engine: CompiledModel, active: Int32Array, slot: number): number {
+  const position = engine.positionOfSlot(slot);
+  let lo = 0;
+  let hi = active.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    if (engine.positionOfSlot(active[mid]) < position) lo = mid + 1;
+    else hi = mid;
+  }
+  return lo;
+}
 
 /** Per model, per partition: the slots whose removal changes an outcome in it (mattersInPartition for every owner at once). */
 const slotsThatMatterCache = new WeakMap<CompiledModel, WeakMap<RulePartition, ReadonlySet<number>>>();
@@ -240,18 +244,12 @@ function mattersInPartition(engine: CompiledModel, p: RulePartition, slot: numbe
   if (slots === undefined) {
     // One pass over the partition's runs; an owner is judged until one of its runs matters.
     const found = new Set<number>();
-    // Where each active rule sits in the list (scratch, -1 again afterwards).
-    if (placeScratch.length < engine.slotCount) placeScratch = new Int32Array(engine.slotCount * 2).fill(-1);
-    const place = placeScratch;
-    const active = p.active;
-    for (let i = 0; i < active.length; i++) place[active[i]] = i;
     const values = p.owner.values;
     for (let k = 0; k < values.length; k++) {
       const owner = values[k];
       if (owner < 0 || found.has(owner)) continue;
-      if (runMatters(engine, p, k, place[owner])) found.add(owner);
+      if (runMatters(engine, p, k, placeInList(engine, p.active, owner))) found.add(owner);
     }
-    for (let i = 0; i < active.length; i++) place[active[i]] = -1;
     slots = found;
     byPartition.set(p, slots);
   }

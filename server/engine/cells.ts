@@ -151,28 +151,41 @@ function countOwners(p: RulePartition, owning: Int32Array, by: number): void {
   for (const slot of ownerSlots(p)) owning[slot] += by;
 }
 
-const ownerSlotsCache = new WeakMap<RulePartition, Int32Array>();
+/** The rules that own elements of a partition, each once, in order of their first run there, with that run's first element. */
+export interface Owners {
+  readonly slots: Int32Array;
+  readonly firstElements: Int32Array;
+}
 
-/** The slots that own elements of a partition, each once (a slot's runs need not be adjacent). */
-export function ownerSlots(p: RulePartition): Int32Array {
-  const cached = ownerSlotsCache.get(p);
+const ownersCache = new WeakMap<RulePartition, Owners>();
+
+/** The owners of a partition (a slot's runs need not be adjacent): walks its runs once, then kept with it. */
+export function ownersOf(p: RulePartition): Owners {
+  const cached = ownersCache.get(p);
   if (cached !== undefined) return cached;
-  const values = p.owner.values;
+  const { starts, values } = p.owner;
   let size = 0;
   for (let k = 0; k < values.length; k++) if (values[k] >= size) size = values[k] + 1;
   if (counted.length < size) counted = new Uint8Array(size * 2);
-  const out: number[] = [];
+  const slots: number[] = [];
+  const firstElements: number[] = [];
   for (let k = 0; k < values.length; k++) {
     const slot = values[k];
     if (slot < 0 || counted[slot] === 1) continue;
     counted[slot] = 1;
-    out.push(slot);
+    slots.push(slot);
+    firstElements.push(starts[k]);
   }
-  for (const slot of out) counted[slot] = 0;
-  const slots = Int32Array.from(out);
-  ownerSlotsCache.set(p, slots);
-  return slots;
+  for (const slot of slots) counted[slot] = 0;
+  const owners = { slots: Int32Array.from(slots), firstElements: Int32Array.from(firstElements) };
+  ownersCache.set(p, owners);
+  return owners;
 }
 
-/** Scratch marks for ownerSlots, all zero between calls. */
+/** The slots that own elements of a partition, each once. */
+export function ownerSlots(p: RulePartition): Int32Array {
+  return ownersOf(p).slots;
+}
+
+/** Scratch marks for ownersOf, all zero between calls. */
 let counted = new Uint8Array(0);

@@ -295,7 +295,9 @@ export class CompiledModel {
   private readonly byInterface = new Map<number, number[]>();
   private readonly byInterfaceAndClass: (Int32Array | undefined)[] = [];
   /** Per device address: whether each rule's destinations hold it (one byte per rule position). */
-  private readonly destinationColumns = new Map<number, Uint8Array>();
+  private destinationColumns: Uint8Array[] | undefined;
+  /** The same as bitmasks over positions. */
+  private destinationMasks: Int32Array[] | undefined;
   /** Per service class: whether each rule's services match it. */
   private readonly serviceColumns = new Map<number, Uint8Array>();
   private readonly partitions = new Map<string, RulePartition>();
@@ -754,15 +756,21 @@ export class CompiledModel {
     // Addresses every rule's destinations treat alike have the same lists.
     const alike = this.destinationRepresentative(to);
     if (alike !== to) return (this.candidates[key] = this.candidateRules(iface, alike, cls));
-    const destinations = this.destinationColumn(to);
+    this.destinationColumn(to);
+    const destinations = (this.destinationMasks as Int32Array[])[to];
     const onInterface = this.serviceRulesOnInterface(iface, cls);
     const list: number[] = [];
     const scheduledList: number[] = [];
-    for (let k = 0; k < onInterface.length; k++) {
-      const position = onInterface[k];
-      if (destinations[position] === 0) continue;
-      list.push(position);
-      if (this.rules[position].schedule >= 0) scheduledList.push(position);
+    // Both as bitmasks over positions: a word at a time, and only the rules in both are visited.
+    for (let w = 0; w < onInterface.length; w++) {
+      let both = onInterface[w] & destinations[w];
+      while (both !== 0) {
+        const low = both & -both;
+        const position = (w << 5) + 31 - Math.clz32(low);
+        list.push(position);
+        if (this.rules[position].schedule >= 0) scheduledList.push(position);
+        both ^= low;
+      }
     }
     const rules = Int32Array.from(list);
     const result: Candidates = { id: this.candidateListId(rules), rules, scheduled: scheduledList.length > 0, scheduledRules: Int32Array.from(scheduledList) };
@@ -824,16 +832,17 @@ export class CompiledModel {
     return this.positionsById.get(id) ?? -1;
   }
 
-  /** Enabled rules for the interface (or any) that name the service class, in order: every destination's candidates are a subset. */
+  /** Enabled rules for the interface (or any) that name the service class, as a bitmask over positions: every destination's candidates are a subset. */
   private serviceRulesOnInterface(iface: number, cls: number): Int32Array {
     const key = iface * this.classes.length + cls;
-    let list = this.byInterfaceAndClass[key];
-    if (list === undefined) {
+    let mask = this.byInterfaceAndClass[key];
+    if (mask === undefined) {
       const services = this.serviceColumn(cls);
-      list = Int32Array.from(this.rulesOnInterface(iface).filter((position) => services[position] !== 0));
-      this.byInterfaceAndClass[key] = list;
+      mask = new Int32Array((this.rules.length + 31) >>> 5);
+      for (const position of this.rulesOnInterface(iface)) if (services[position] !== 0) mask[position >>> 5] |= 1 << (position & 31);
+      this.byInterfaceAndClass[key] = mask;
     }
-    return list;
+    return mask;
   }
 
   /** Equal lists (e.g. two services named by the same rules) share one id, so their partitions are shared. */
@@ -891,13 +900,29 @@ export class CompiledModel {
   }
 
   private destinationColumn(to: number): Uint8Array {
-    let column = this.destinationColumns.get(to);
-    if (column === undefined) {
-      const target = this.addresses[to];
-      column = Uint8Array.from(this.rules, (r) => (contains(rangesOf(r.destinations, target.family), target.value) ? 1 : 0));
-      this.destinationColumns.set(to, column);
+    if (this.destinationColumns === undefined) {
+      // Every address's column at once: rules share their destination sets, so each set is
+      // tested against the device addresses once, not once per rule.
+      const columns = this.addresses.map(() => new Uint8Array(this.rules.length));
+      const masks = this.addresses.map(() => new Int32Array((this.rules.length + 31) >>> 5));
+      const holds = new Map<AddressSet, Uint8Array>();
+      for (const rule of this.rules) {
+        let held = holds.get(rule.destinations);
+        if (held === undefined) {
+          held = Uint8Array.from(this.addresses, (target) => (contains(rangesOf(rule.destinations, target.family), target.value) ? 1 : 0));
+          holds.set(rule.destinations, held);
+        }
+        const position = rule.position;
+        for (let address = 0; address < held.length; address++) {
+          if (held[address] === 0) continue;
+          columns[address][position] = 1;
+          masks[address][position >>> 5] |= 1 << (position & 31);
+        }
+      }
+      this.destinationColumns = columns;
+      this.destinationMasks = masks;
     }
-    return column;
+    return this.destinationColumns[to];
   }
 
   /** Enabled rules for the interface or any, in order. */
@@ -1009,49 +1034,77 @@ export class CompiledModel {
     return out;
   }
 
+  /**
+   * Per candidate list and family: the distinct schedules of its scheduled rules, and its
+   * partitions by which of them are off — many slices share that state, and each slice then
+   * costs a look at those few schedules instead of a walk over the list's scheduled rules.
+   */
+  private readonly partitionsByOffState = new Map<number, { readonly schedules: Int32Array; readonly byState: Map<number | string, RulePartition> }>();
+
   /** The rule partition of a candidate list in one slice: only the list's scheduled rules that are on. */
   private slicePartition(family: Family, candidates: Candidates, slice: number): RulePartition {
-    let activeKey = `${family}|${candidates.id}`;
-    let off: number[] = [];
+    if (!candidates.scheduled) return this.slicePartitionAllOn(family, candidates);
+    const schedules = (this.ruleSchedules ??= Int32Array.from(this.rules, (rule) => rule.schedule));
+    const listKey = candidates.id * 2 + (family === 4 ? 0 : 1);
+    let known = this.partitionsByOffState.get(listKey);
+    if (known === undefined) {
+      const used = [...new Set(Array.from(candidates.scheduledRules, (position) => schedules[position]))].sort((a, b) => a - b);
+      known = { schedules: Int32Array.from(used), byState: new Map() };
+      this.partitionsByOffState.set(listKey, known);
+    }
     const state = this.week.slices[slice].active;
-    if (candidates.scheduled) {
-      // The partition depends only on which of the list's scheduled rules are off in this slice.
-      off = [];
-      for (const p of candidates.scheduledRules) {
-        if (!state[this.rules[p].schedule]) off.push(p);
-      }
-      if (off.length > 0) activeKey += `|${off.join(",")}`;
-    }
-    let rules = this.partitions.get(activeKey);
+    // The partition depends only on which of the list's schedules are off in this slice.
+    let offState: number | string = 0;
+    if (known.schedules.length <= 30) {
+      for (let i = 0; i < known.schedules.length; i++) if (!state[known.schedules[i]]) offState |= 1 << i;
+    } else offState = Array.from(known.schedules, (s) => (state[s] ? "1" : "0")).join("");
+    const cached = known.byState.get(offState);
+    if (cached !== undefined) return cached;
+    let rules = offState === 0 ? this.slicePartitionAllOn(family, candidates) : undefined;
     if (rules === undefined) {
-      if (off.length === 0) return this.slicePartitionAllOn(family, candidates);
-      const active = new Int32Array(candidates.rules.length - off.length);
-      const list = candidates.rules;
-      const schedules = (this.ruleSchedules ??= Int32Array.from(this.rules, (rule) => rule.schedule));
-      let n = 0;
-      for (let k = 0; k < list.length; k++) {
-        const s = schedules[list[k]];
-        if (s < 0 || state[s]) active[n++] = this.ruleSlots[list[k]];
-      }
-      rules = this.basisPartition(family, active) ?? this.derivedPartition(family, this.slicePartitionAllOn(family, candidates), active, off);
-      this.partitions.set(activeKey, rules);
-      this.remember(rules);
+      rules = this.partitionWithOff(family, candidates, state, schedules);
+      // Kept with every partition made here, for the content index (partitionsByContent).
+      this.partitions.set(`off|${listKey}|${offState}`, rules);
     }
+    known.byState.set(offState, rules);
+    return rules;
+  }
+
+  /** The partition of a candidate list with the scheduled rules whose schedules are off in `state` left out. */
+  private partitionWithOff(family: Family, candidates: Candidates, state: readonly boolean[], schedules: Int32Array): RulePartition {
+    const off: number[] = [];
+    for (const p of candidates.scheduledRules) if (!state[schedules[p]]) off.push(p);
+    if (off.length === 0) return this.slicePartitionAllOn(family, candidates);
+    const active = new Int32Array(candidates.rules.length - off.length);
+    const list = candidates.rules;
+    let n = 0;
+    for (let k = 0; k < list.length; k++) {
+      const s = schedules[list[k]];
+      if (s < 0 || state[s]) active[n++] = this.ruleSlots[list[k]];
+    }
+    const rules = this.basisPartition(family, active) ?? this.derivedPartition(family, this.slicePartitionAllOn(family, candidates), active, off);
+    this.remember(rules);
     return rules;
   }
 
   /** The partition of a candidate list with every one of its rules on (whether or not some slice has them all on). */
   private slicePartitionAllOn(family: Family, candidates: Candidates): RulePartition {
-    const key = `${family}|${candidates.id}`;
-    let rules = this.partitions.get(key);
+    const listKey = candidates.id * 2 + (family === 4 ? 0 : 1);
+    let rules = this.partitionsAllOn.get(listKey);
     if (rules === undefined) {
-      const active = Int32Array.from(candidates.rules, (position) => this.ruleSlots[position]);
+      const active = new Int32Array(candidates.rules.length);
+      for (let k = 0; k < active.length; k++) active[k] = this.ruleSlots[candidates.rules[k]];
+      const key = `${family}|${candidates.id}`;
       rules = this.basisPartition(family, active) ?? this.rulePartition(family, active, key);
       this.partitions.set(key, rules);
+      this.partitionsAllOn.set(listKey, rules);
       this.remember(rules);
     }
     return rules;
   }
+
+  /** slicePartitionAllOn's partitions by list and family. */
+  private readonly partitionsAllOn = new Map<number, RulePartition>();
 
   /**
    * The partition of a list with some of its scheduled rules off, from the list's partition with

@@ -6,7 +6,7 @@ import type { Family } from "../addresses.ts";
 import { EMPTY_SET, contains, intersect, rangesOf, setFromRanges, subtract, unionSets } from "../address-sets.ts";
 import type { AddressSet, Ranges } from "../address-sets.ts";
 import { arrivals, firstMatchRules, loginReachable } from "../analysis.ts";
-import { cellPartitions, censusOf, cellsOf } from "../cells.ts";
+import { cellPartitions, censusOf, cellsOf, ownersOf } from "../cells.ts";
 import type { Arrival } from "../analysis.ts";
 import type { CompiledModel } from "../compile.ts";
 import { runValueAt } from "../domain.ts";
@@ -443,11 +443,11 @@ export class FindingContext {
         // A partition seen in an earlier cell or slice gave its rules their first place there.
         if (seen.has(rules.id)) continue;
         seen.add(rules.id);
-        const { starts, values } = rules.owner;
-        for (let k = 0; k < values.length; k++) {
-          const slot = values[k];
-          if (slot < 0 || out.has(slot)) continue;
-          out.set(slot, { cell, iface, to, cls, slice, family: rules.family, element: starts[k] });
+        const { slots, firstElements } = ownersOf(rules);
+        for (let k = 0; k < slots.length; k++) {
+          const slot = slots[k];
+          if (out.has(slot)) continue;
+          out.set(slot, { cell, iface, to, cls, slice, family: rules.family, element: firstElements[k] });
         }
       }
     }
@@ -464,8 +464,9 @@ export class FindingContext {
       const { iface, to, cls, partitions } = cellPartitions(engine, cells, cell);
       for (let slice = 0; slice < partitions.length; slice++) {
         const rules = partitions[slice];
-        const k = rules.owner.values.indexOf(slot);
-        if (k >= 0) return { cell, iface, to, cls, slice, family: rules.family, element: rules.owner.starts[k] };
+        const { slots, firstElements } = ownersOf(rules);
+        const k = slots.indexOf(slot);
+        if (k >= 0) return { cell, iface, to, cls, slice, family: rules.family, element: firstElements[k] };
       }
     }
     return undefined;
@@ -486,13 +487,14 @@ export class FindingContext {
         const rules = partitions[slice];
         if (seen.has(rules.id)) continue;
         seen.add(rules.id);
-        const { starts, values } = rules.owner;
-        for (let k = 0; k < values.length; k++) {
-          const slot = values[k];
-          if (slot < 0 || placed[slot] === 1) continue;
+        // Each owner's first run in the partition is its first place there.
+        const { slots, firstElements } = ownersOf(rules);
+        for (let k = 0; k < slots.length; k++) {
+          const slot = slots[k];
+          if (placed[slot] === 1) continue;
           placed[slot] = 1;
           left--;
-          out.set(slot, { cell, iface, to, cls, slice, family: rules.family, element: starts[k] });
+          out.set(slot, { cell, iface, to, cls, slice, family: rules.family, element: firstElements[k] });
         }
       }
     }

@@ -9,6 +9,7 @@ import { lockout } from "./checks/lockout.ts";
 import { redundantRule, ruleNeverActive, shadowedRule } from "./checks/rules.ts";
 import { unusedObject } from "./checks/unused-object.ts";
 import { FindingContext } from "./context.ts";
+import { FINDING_CODES } from "./types.ts";
 import type { Finding, FindingCheck } from "./types.ts";
 
 export { DEFAULT_ACCOUNT_NAMES } from "./checks/accounts.ts";
@@ -35,7 +36,7 @@ export const FINDING_CHECKS: readonly FindingCheck[] = [
 
 const contexts = new WeakMap<CompiledModel, FindingContext>();
 /** Each model's findings in the order findingsOf returns them, for a model compiled on it to keep that order. */
-const sortedFindings = new WeakMap<CompiledModel, readonly Finding[]>();
+const sortedFindings = new WeakMap<CompiledModel, SortedFindings>();
 const collator = new Intl.Collator();
 
 /** Every finding for a compiled model, most severe first. A model compiled on a basis re-uses what the basis's findings computed and the edit left alone. */
@@ -47,7 +48,57 @@ export function findingsOf(engine: CompiledModel): Finding[] {
   context.releaseBasis();
   const sorted = sortedLike(found, basis === undefined ? undefined : sortedFindings.get(basis));
   sortedFindings.set(engine, sorted);
-  return [...sorted];
+  return [...sorted.list];
+}
+
+/** Findings in order, and whether two neighbours tie (same severity, code and elements): only then does the order among equals need the order found. */
+interface SortedFindings {
+  readonly list: readonly Finding[];
+  readonly ties: boolean;
+}
+
+/** What a finding is ordered by: severity, code (by collation) and elements. */
+interface SortKey {
+  readonly rank: number;
+  readonly code: number;
+  readonly elements: string;
+  /** Whether the elements are printable ASCII, which never collates equal to other text. */
+  readonly ascii: boolean;
+}
+
+/** The codes in collation order, sorted once, so comparing two findings' codes needs no collation. */
+const CODE_ORDER: ReadonlyMap<string, number> = new Map([...FINDING_CODES].sort(collator.compare).map((code, i) => [code, i]));
+
+/** Findings pass unchanged from a model to the next after an edit, and so do their keys. */
+const keyCache = new WeakMap<Finding, SortKey>();
+
+function keyOf(finding: Finding): SortKey {
+  let key = keyCache.get(finding);
+  if (key === undefined) {
+    const elements = finding.elements.join(" ");
+    key = { rank: severityRank(finding.severity), code: CODE_ORDER.get(finding.code) as number, elements, ascii: !NOT_ASCII.test(elements) };
+    keyCache.set(finding, key);
+  }
+  return key;
+}
+
+/** Most severe first, then by code and elements. */
+function compareKeys(x: SortKey, y: SortKey): number {
+  return y.rank - x.rank || x.code - y.code || (x.elements === y.elements ? 0 : collator.compare(x.elements, y.elements));
+}
+
+/** Same severity, code and elements (elements the collator holds equal). */
+function tie(x: SortKey, y: SortKey): boolean {
+  if (x.rank !== y.rank || x.code !== y.code) return false;
+  if (x.elements === y.elements) return true;
+  return !(x.ascii && y.ascii) && collator.compare(x.elements, y.elements) === 0;
+}
+
+/** Indices into `findings` in order; equals in the order of their indices. */
+function sortedIndices(findings: readonly Finding[], indices: number[]): number[] {
+  const keys = new Array<SortKey>(findings.length);
+  for (const i of indices) keys[i] = keyOf(findings[i]);
+  return indices.sort((a, b) => compareKeys(keys[a], keys[b]) || a - b);
 }
 
 /**
@@ -55,51 +106,48 @@ export function findingsOf(engine: CompiledModel): Finding[] {
  * an edit most findings are the basis's own objects, already in order: only the others are
  * sorted and put in their places.
  */
-function sortedLike(found: readonly Finding[], basisOrder: readonly Finding[] | undefined): Finding[] {
-  const index = new Map<Finding, number>();
-  found.forEach((finding, i) => index.set(finding, i));
-  // The key of each finding computed once (a model may have thousands of findings).
-  const keys = new Map<Finding, { rank: number; elements: string }>();
-  const keyOf = (finding: Finding) => {
-    let key = keys.get(finding);
-    if (key === undefined) keys.set(finding, (key = { rank: severityRank(finding.severity), elements: finding.elements.join(" ") }));
-    return key;
-  };
-  const compare = (a: Finding, b: Finding): number => {
-    const x = keyOf(a);
-    const y = keyOf(b);
-    return y.rank - x.rank || collator.compare(a.code, b.code) || collator.compare(x.elements, y.elements) || (index.get(a) ?? 0) - (index.get(b) ?? 0);
-  };
-  if (basisOrder === undefined) return [...found].sort(compare);
-  const kept = basisOrder.filter((finding) => index.has(finding));
+function sortedLike(found: readonly Finding[], basis: SortedFindings | undefined): SortedFindings {
+  if (basis === undefined || basis.ties) return sortedAfresh(found);
+  const present = new Set(found);
+  const kept = basis.list.filter((finding) => present.has(finding));
   const keptSet = new Set(kept);
-  const added = found.filter((finding) => !keptSet.has(finding)).sort(compare);
-  // Ties are ordered by place in `found`: the kept ones must be in that order among equals too.
-  for (let i = 1; i < kept.length; i++) if (sameKey(kept[i - 1], kept[i]) && (index.get(kept[i - 1]) ?? 0) > (index.get(kept[i]) ?? 0)) return [...found].sort(compare);
+  const addedAt: number[] = [];
+  found.forEach((finding, i) => {
+    if (!keptSet.has(finding)) addedAt.push(i);
+  });
+  const added = sortedIndices(found, addedAt);
+  // The kept findings' places in `found` are not needed: no two of them tie, and a new one that ties with one is sorted afresh.
   const out: Finding[] = [];
+  let ties = false;
   let k = 0;
-  for (const finding of added) {
+  for (let a = 0; a < added.length; a++) {
+    const finding = found[added[a]];
+    const key = keyOf(finding);
     let lo = k;
     let hi = kept.length;
     while (lo < hi) {
       const mid = (lo + hi) >>> 1;
-      if (compare(kept[mid], finding) < 0) lo = mid + 1;
+      if (compareKeys(keyOf(kept[mid]), key) < 0) lo = mid + 1;
       else hi = mid;
     }
+    if ((lo > 0 && tie(keyOf(kept[lo - 1]), key)) || (lo < kept.length && tie(keyOf(kept[lo]), key))) return sortedAfresh(found);
+    if (a > 0 && tie(keyOf(found[added[a - 1]]), key)) ties = true;
     while (k < lo) out.push(kept[k++]);
     out.push(finding);
   }
   while (k < kept.length) out.push(kept[k++]);
-  return out;
+  return { list: out, ties };
 }
 
-/** Whether two findings tie in the order: same severity and code, and elements the collator holds equal. */
-function sameKey(a: Finding, b: Finding): boolean {
-  if (a.severity !== b.severity || a.code !== b.code) return false;
-  if (a.elements.length === b.elements.length && a.elements.every((element, i) => element === b.elements[i])) return true;
-  // Different printable ASCII text never collates equal; other text (canonically equivalent forms) may.
-  if (!a.elements.some(NOT_ASCII) && !b.elements.some(NOT_ASCII)) return false;
-  return collator.compare(a.elements.join(" "), b.elements.join(" ")) === 0;
+function sortedAfresh(found: readonly Finding[]): SortedFindings {
+  const order = sortedIndices(
+    found,
+    found.map((_, i) => i),
+  );
+  const list = order.map((i) => found[i]);
+  let ties = false;
+  for (let i = 1; i < list.length && !ties; i++) ties = tie(keyOf(list[i - 1]), keyOf(list[i]));
+  return { list, ties };
 }
 
-const NOT_ASCII = (text: string) => /[^ -~]/.test(text);
+const NOT_ASCII = /[^ -~]/;
