@@ -182,7 +182,7 @@ function TraceWorkspace({ loaderData }: Pick<Route.ComponentProps, "loaderData">
           ))}
           <label className="text-sm">
             <span className="mb-1 block font-medium">From (source)</span>
-            <input name="from" className={cx(input, "font-mono")} placeholder="203.0.113.50 or a /24" value={shown.probe.from} onChange={(event) => setProbe({ from: event.target.value })} aria-invalid={shown.error ? true : undefined} aria-describedby="probe-error" />
+            <input name="from" className={cx(input, "font-mono")} placeholder="203.0.113.0/24" title="One address or a block of addresses (CIDR)" value={shown.probe.from} onChange={(event) => setProbe({ from: event.target.value })} aria-invalid={shown.error ? true : undefined} aria-describedby="probe-error" />
           </label>
           <label className="text-sm">
             <span className="mb-1 block font-medium">Interface</span>
