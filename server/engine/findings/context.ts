@@ -8,6 +8,7 @@ import type { AddressSet, Ranges } from "../address-sets.ts";
 import { arrivals, firstMatchRules, loginReachable } from "../analysis.ts";
 import { cellPartitions, censusOf, cellsOf, ownersOf } from "../cells.ts";
 import type { Arrival } from "../analysis.ts";
+import type { Census } from "../cells.ts";
 import type { CompiledModel } from "../compile.ts";
 import { runValueAt } from "../domain.ts";
 import type { Runs } from "../domain.ts";
@@ -140,8 +141,8 @@ export class FindingContext {
     this.#basis = basis;
   }
 
-  /** Per "code|rule id": the rule findings made here, for a context compiled on this one to re-use. */
-  #ruleFindings = new Map<string, Finding>();
+  /** Per code, per rule id: the rule findings made here, for a context compiled on this one to re-use. */
+  #ruleFindings = new Map<string, Map<string, Finding>>();
 
   /**
    * A finding about one rule: the basis's own when every first-match decision about the rule
@@ -149,11 +150,13 @@ export class FindingContext {
    * walked the partitions (e.g. through firstMatchRules).
    */
   ruleFinding(code: string, position: number, build: () => Finding): Finding {
-    const key = `${code}|${this.engine.rules[position].id}`;
+    const id = this.engine.rules[position].id;
     const basis = this.#basis;
-    const previous = basis === undefined ? undefined : basis.#ruleFindings.get(key);
+    const previous = basis === undefined ? undefined : basis.#ruleFindings.get(code)?.get(id);
     const finding = previous !== undefined && (this.#decisionsKept(position) || this.#witnessKept(position, previous)) ? previous : build();
-    this.#ruleFindings.set(key, finding);
+    let byId = this.#ruleFindings.get(code);
+    if (byId === undefined) this.#ruleFindings.set(code, (byId = new Map()));
+    byId.set(id, finding);
     return finding;
   }
 
@@ -172,10 +175,13 @@ export class FindingContext {
   /** Whether every first-match decision about the rule, and every cell it is a candidate in, is the basis's. */
   #decisionsKept(position: number): boolean {
     const engine = this.engine;
-    const edit = engine.incrementalBasis === undefined ? null : censusOf(engine).edit;
+    const edit = (this.#edit ??= engine.incrementalBasis === undefined ? null : censusOf(engine).edit);
     if (edit === null) return engine.ruleUntouched(position);
     return !engine.ruleChangedByEdit(position) && edit.affected[engine.slotOf(position)] === 0;
   }
+
+  /** The census's edit (looked up once: every rule finding asks). */
+  #edit: Census["edit"] | undefined;
 
   #kept = new Map<string, unknown>();
 
