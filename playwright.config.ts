@@ -20,7 +20,9 @@ export default defineConfig({
   testDir: "tests/e2e",
   outputDir: "test-results",
   fullyParallel: false,
-  workers: 1,
+  // Two workers: every spec makes its own organisation (or only reads the demo), and the page sweep
+  // shares its team and its axe work between them through the run's output folder (tests/e2e/run-once.ts).
+  workers: 2,
   retries: 0,
   timeout: 60_000,
   reporter: [["list"], ["html", { open: "never", outputFolder: "playwright-report" }]],

@@ -11,6 +11,9 @@ export default defineConfig({
           name: "unit",
           include: ["tests/unit/**/*.test.ts", "tests/engine/**/*.test.ts"],
           environment: "node",
+          // Vitest's default is one worker fewer than the cores: a single one on a 2-core machine.
+          // The files share nothing, so both cores work (docs in DEVELOPERS.md, "Tests").
+          maxWorkers: 2,
         },
       },
       {
@@ -22,6 +25,8 @@ export default defineConfig({
           globalSetup: ["tests/integration/global-setup.ts"],
           testTimeout: 30_000,
           hookTimeout: 60_000,
+          // One file at a time: two at once against the one app server and its single job runner
+          // timed out (30 s) in background-analysis, proposals and others on a loaded 2-core machine.
           fileParallelism: false,
         },
       },

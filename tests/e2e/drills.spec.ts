@@ -3,6 +3,9 @@ import { expect, test } from "./fixtures";
 import { hydrated, screenshot, seriousAccessibilityViolations, toast } from "./helpers";
 import { createTeam, type Team } from "./team";
 
+// Each test makes its own organisation, so the two workers may share this file's tests.
+test.describe.configure({ mode: "parallel" });
+
 // Drills graded by the engine (issue 12, point 4; docs/decisions/016, "Drills"): a trainer
 // builds a repair drill; a trainee's incomplete fix is not a pass, the full one is; a predict
 // drill and an order drill are taken once. Every page at 390 and 1366 px, light and dark.

@@ -6,6 +6,7 @@ import { hasAtLeastRole, PAGE_ROLES } from "#server/auth/roles";
 import { deviceNavGroups } from "#app/components/device/device-nav";
 import { DEVICE_SECTIONS } from "#app/components/device/sections";
 import { expect, test } from "./fixtures";
+import { claimOnce, makeOncePerRun, sharedFolder } from "./run-once";
 import { hydrated, seriousAccessibilityViolations } from "./helpers";
 import { createProposal, createTeam, type Team } from "./team";
 import { createTrainingPages, type TrainingPages } from "./training-team";
@@ -16,10 +17,17 @@ import { recordFieldCheck } from "./observations";
 // no serious or critical violation, and (through the shared fixture) nothing logs an error or
 // fails to load. Screenshots go to tests/artifacts/sweep/<role>/ (1366 light and 390 dark).
 //
-// Kept to a few minutes on a 2-core machine: each page is loaded once and re-laid out at each
-// size and scheme; the dark scheme changes colours only, so axe's colour rules run there and
-// every rule runs in light; and a rendering that another role already had (same main content
-// and navigation) is not checked by axe again.
+// Kept to a few minutes on a 2-core machine: the five roles run side by side in the run's two
+// workers, on one team made once for the run; each page is loaded once and re-laid out at each
+// size and scheme. Every role checks every page it may open at both sizes and both schemes for
+// sideways scrolling, its device navigation, its links and its errors. axe, the costly part,
+// runs on every size and scheme of a page for one of the roles that may open it (the page's
+// lead, taken in turn, so the roles share the work), and for the other roles on their own
+// rendering at 1366 px in light (all rules, colour contrast included) — what differs by role is
+// which controls the page shows, not its layout or colours. The dark scheme changes colours
+// only, so axe's colour rules run there and every rule runs in light; and a rendering that was
+// already checked in this run (same main content and navigation, any role, either worker) is
+// not checked by axe again.
 
 const SIZES = [
   { name: "1366", width: 1366, height: 860 },
@@ -29,8 +37,6 @@ const SCHEMES = ["light", "dark"] as const;
 const ARTIFACTS = path.resolve("tests/artifacts/sweep");
 /** axe rules whose verdict depends on colours, the only thing the scheme changes. */
 const COLOUR_RULES = ["color-contrast", "link-in-text-block"];
-/** Renderings axe has checked, across the roles' tests: page, size, scheme and the HTML of the page's own content and navigation. */
-const checked = new Set<string>();
 
 /** A key for what axe would see on the page now, apart from the signed-in person's own name in the top bar. */
 async function renderingKey(page: Page, where: string): Promise<string> {
@@ -94,6 +100,19 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
   };
 }
 
+/**
+ * For every page any role may open, the role that checks it with axe at both sizes and both
+ * schemes: the roles that may open it, taken in turn along the list of pages.
+ */
+function pageLeads(team: Team): Map<string, Role> {
+  const opens = new Map(ROLES.map((role) => [role, new Set(pagesOf(team, role).open)] as const));
+  const everyPage = [...new Set(ROLES.flatMap((role) => [...opens.get(role)!]))];
+  return new Map(everyPage.map((url, index) => {
+    const openers = ROLES.filter((role) => opens.get(role)!.has(url));
+    return [url, openers[index % openers.length]] as const;
+  }));
+}
+
 function artifactName(team: Team, url: string): string {
   return url
     .replace(team.device.path, "device")
@@ -135,7 +154,13 @@ async function linkPaths(page: Page): Promise<string[]> {
 // Traces of ~500 screenshots and axe runs would cost more than the sweep itself.
 test.use({ trace: "off" });
 
+// The roles' tests share nothing but the team and the renderings checked, so they run in parallel.
+test.describe.configure({ mode: "parallel" });
+
+type SweepData = { team: Team; proposalPath: string; training: TrainingPages; fieldCheckPath: string };
 let team: Team;
+/** Where the two workers leave the team and mark the renderings axe has checked. */
+let shared = "";
 /** A proposal of the team's engineer, in review: its page and its draft's editor are swept too. */
 let proposalPath = "";
 /** A teaching scenario, a lesson on it and each member's attempt at it. */
@@ -145,10 +170,15 @@ let fieldCheckPath = "";
 test.beforeAll(async ({ playwright }, testInfo) => {
   const baseURL = testInfo.project.use.baseURL;
   if (!baseURL) throw new Error("no baseURL in playwright.config.ts");
-  team = await createTeam(playwright.request, baseURL, "sweep");
-  proposalPath = await createProposal(playwright.request, baseURL, team);
-  training = await createTrainingPages(playwright.request, baseURL, team);
-  fieldCheckPath = await recordFieldCheck(playwright.request, baseURL, team);
+  // One team for the run, made by whichever worker comes first: one sign-up, not one per worker.
+  test.setTimeout(300_000);
+  shared = sharedFolder(testInfo.project.outputDir, "page-sweep");
+  const data = await makeOncePerRun<SweepData>(shared, "team", async () => {
+    const made = await createTeam(playwright.request, baseURL, "sweep");
+    const proposal = await createProposal(playwright.request, baseURL, made);
+    return { team: made, proposalPath: proposal, training: await createTrainingPages(playwright.request, baseURL, made), fieldCheckPath: await recordFieldCheck(playwright.request, baseURL, made) };
+  });
+  ({ team, proposalPath, training, fieldCheckPath } = data);
 });
 
 for (const role of ROLES) {
@@ -161,6 +191,7 @@ for (const role of ROLES) {
     browserProblems.watch(context);
     const page = await context.newPage();
     const { open, refused } = pagesOf(team, role);
+    const leads = pageLeads(team);
     const folder = path.join(ARTIFACTS, role);
     mkdirSync(folder, { recursive: true });
     const seen = new Set<string>();
@@ -173,6 +204,7 @@ for (const role of ROLES) {
       expect(response?.status(), url).toBe(200);
       await hydrated(page);
       if (url.startsWith(team.device.path)) for (const problem of await deviceNavigationProblems(page)) findings.push(`${url} at 1366 px: ${problem}`);
+      const lead = leads.get(url) === role;
       for (const size of SIZES) {
         await page.setViewportSize(size);
         for (const scheme of SCHEMES) {
@@ -180,13 +212,12 @@ for (const role of ROLES) {
           const where = `${url} at ${size.name} px, ${scheme}`;
           const overflow = await sidewaysOverflow(page);
           if (overflow > 0) findings.push(`${where}: the page scrolls ${overflow} px sideways`);
-          const key = await renderingKey(page, where);
-          if (!checked.has(key)) {
-            checked.add(key);
+          if (!lead && (size.name !== "1366" || scheme !== "light")) continue;
+          if (claimOnce(shared, await renderingKey(page, where))) {
             for (const violation of await seriousAccessibilityViolations(page, scheme === "dark" ? COLOUR_RULES : undefined)) findings.push(`${where}: ${violation}`);
           }
-          // Two of the four kept: the laptop in light and the phone in dark show both sizes and both schemes.
-          if ((size.name === "1366") === (scheme === "light")) await page.screenshot({ path: path.join(folder, `${artifactName(team, url)}-${size.name}-${scheme}.png`), fullPage: true });
+          // Two of the four kept, by the page's lead: the laptop in light and the phone in dark show both sizes and both schemes.
+          if (lead && (size.name === "1366") === (scheme === "light")) await page.screenshot({ path: path.join(folder, `${artifactName(team, url)}-${size.name}-${scheme}.png`), fullPage: true });
         }
       }
       for (const link of await linkPaths(page)) seen.add(link);

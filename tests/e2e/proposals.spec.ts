@@ -9,6 +9,9 @@ import { hydrated, outboxPath, screenshot, seriousAccessibilityViolations, signI
 import { createTeam, outboxDirectory, type Team } from "./team";
 import { waitForMail } from "../support/outbox";
 
+// Each test makes its own organisation, so the two workers may share this file's tests.
+test.describe.configure({ mode: "parallel" });
+
 // Change proposals as a team meets them in the browser (issue 11, "Must show"; semantics in
 // docs/decisions/010-change-proposals.md). Every test signs up an organisation of its own with one
 // member per role and the invented harbour office's edge device

@@ -7,6 +7,9 @@ import { createTeam, outboxDirectory } from "./team";
 import { waitForMail } from "../support/outbox";
 import { successiveCodes } from "../support/totp";
 
+// Each test makes its own organisation, so the two workers may share this file's tests.
+test.describe.configure({ mode: "parallel" });
+
 // Sallyport's own second factor in the browser (docs/decisions/019): enrolment with a code the
 // test computes from the secret the page shows (as an authenticator app would, RFC 6238), the
 // two-step sign-in with a code and with a recovery code, and an organisation's requirement.

@@ -4,6 +4,9 @@ import { expect, test } from "./fixtures";
 import { hydrated, screenshot, seriousAccessibilityViolations, toast } from "./helpers";
 import { createTeam, type Team } from "./team";
 
+// Each test makes its own organisation, so the two workers may share this file's tests.
+test.describe.configure({ mode: "parallel" });
+
 // Training (issue 12, docs/decisions/016): a trainer builds a lesson from a shipped example, a
 // trainee takes it and predicts each layer before it is revealed, the trainer reads the score.
 
