@@ -1,14 +1,15 @@
 // The HTTP server: security headers, the same-origin guard, static files and React Router.
 // `npm start` runs it in production mode on the build; `npm run dev` with Vite's middleware.
+import { readdirSync } from "node:fs";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
-import { createRequestHandler } from "@react-router/express";
 import compression from "compression";
 import express from "express";
 import type { ServerBuild } from "react-router";
 import { appOrigin, getEnvironment, isOutboxEnabled, listensOnLoopbackOnly } from "../config.server.ts";
 import { outboxLink } from "../mail/outbox-access.server.ts";
 import { createRequestContext } from "./request-context.server.ts";
+import { createRequestHandler } from "./respond.server.ts";
 import { canonicalOrigin, clientAddressOf, requestSizeLimit, requestTextGuard, sameOriginGuard, securityHeaders } from "./security.ts";
 import { MAX_DOCUMENT_REQUEST_BYTES, MAX_REQUEST_BYTES } from "../validation/limits.ts";
 import { stopProcessJobs } from "../jobs/worker.server.ts";
@@ -56,7 +57,11 @@ if (development) {
   const buildPath = path.join(root, "build/server/index.js");
   const build = (await import(buildPath)) as ServerBuild;
   app.use("/assets", express.static(path.join(root, "build/client/assets"), { immutable: true, maxAge: "1y" }));
-  app.use(express.static(path.join(root, "build/client"), { maxAge: "1h" }));
+  // The other public files (favicon, examples) by their first path segment, listed once: a page
+  // request then costs no look on disk.
+  const publicFiles = express.static(path.join(root, "build/client"), { maxAge: "1h" });
+  const publicNames = new Set(readdirSync(path.join(root, "build/client")).filter((name) => name !== "assets"));
+  app.use((request, response, next) => (publicNames.has(request.path.split("/")[1] ?? "") ? publicFiles(request, response, next) : next()));
   app.all(/.*/, createRequestHandler({ build, mode: "production", getLoadContext }));
 }
 
