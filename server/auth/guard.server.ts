@@ -3,7 +3,7 @@
 // URL (organisation layout) — and every loader and action then begins with one line that
 // checks the role it needs: `const access = requireRole(context, "engineer");`.
 import { data, redirect } from "react-router";
-import { Membership, Organisation, type User } from "#models/index.ts";
+import type { Membership, Organisation } from "#models/index.ts";
 import { organisationContext, signedInContext, type Middleware, type RequestContext } from "../http/request-context.server.ts";
 import { hasAtLeastRole, type Role } from "./roles.ts";
 import { getSignedInSession, type SignedInSession } from "./session.server.ts";
@@ -40,8 +40,8 @@ export const signedInMiddleware: Middleware = async ({ request, context }, next)
  */
 export const organisationMiddleware: Middleware = async ({ request, params, context }, next) => {
   const signedIn = requireSignedIn(context, request);
-  const membership = await findMembership(signedIn.user, params.organisation);
-  if (!membership?.organisation) throw data({ message: "Organisation not found." }, { status: 404 });
+  const membership = findMembership(signedIn, params.organisation);
+  if (!membership) throw data({ message: "Organisation not found." }, { status: 404 });
   context.set(organisationContext, { ...signedIn, organisation: membership.organisation, membership, role: membership.role });
   return next();
 };
@@ -70,10 +70,8 @@ export function requireRole(context: RequestContext, minimumRole: Role = "traine
   return access;
 }
 
-async function findMembership(user: User, organisationSlug: string | undefined): Promise<Membership | null> {
+/** The user's membership of the organisation with this slug, from those read with the session (no query of its own). */
+function findMembership(signedIn: SignedInSession, organisationSlug: string | undefined): (Membership & { organisation: Organisation }) | null {
   if (!organisationSlug || !/^[a-z0-9-]{1,63}$/.test(organisationSlug)) return null;
-  return Membership.findOne({
-    where: { userId: user.id },
-    include: [{ model: Organisation, as: "organisation", where: { slug: organisationSlug }, required: true }],
-  });
+  return signedIn.memberships.find((membership) => membership.organisation.slug === organisationSlug) ?? null;
 }

@@ -11,6 +11,7 @@ import { analyseOffThread, POOL_THRESHOLD_ELEMENTS, type PooledAnalysis } from "
 import { currentRevision, summariseDocument, type ModelDocument, type SharedLibrary } from "../workspace/index.ts";
 import { RevisionAnalysis } from "./revision-analysis.ts";
 import { isUuid } from "../validation/ids.ts";
+import { columnsOf, instanceOf } from "../db/rows.server.ts";
 
 /** A revision's stored facts without its document (which the analysis holds, typed). */
 export type RevisionRecord = Pick<DeviceRevision, "id" | "number" | "message" | "authorEmail" | "createdAt" | "summary" | "sharedObjects" | "analysisRecord">;
@@ -76,7 +77,21 @@ export type DeviceAtRevision = {
 
 const RECORD_ATTRIBUTES = ["id", "number", "message", "authorEmail", "createdAt", "summary", "sharedObjects"] as const;
 /** The revision's stored analysis, when there is one yet (LEFT JOIN). */
-const ANALYSIS_RECORD = { model: RevisionAnalysisRecord, as: "analysisRecord", required: false, attributes: ["revisionId", "findingsBySeverity", "worstOutsideOutcome", "findingKeys"] };
+const ANALYSIS_ATTRIBUTES = ["revisionId", "findingsBySeverity", "worstOutsideOutcome", "findingKeys"];
+const ANALYSIS_RECORD = { model: RevisionAnalysisRecord, as: "analysisRecord", required: false, attributes: ANALYSIS_ATTRIBUTES };
+
+// The device of an organisation with its site, at its current revision (or :revisionNumber),
+// with the revision's stored analysis when there is one: every device page's one query.
+let deviceAtRevisionStatement: string | undefined;
+function deviceAtRevisionQuery(): string {
+  deviceAtRevisionStatement ??= `SELECT ${columnsOf(Device, "d")}, ${columnsOf(Site, "s")}, ${columnsOf(DeviceRevision, "r", RECORD_ATTRIBUTES)}, ${columnsOf(RevisionAnalysisRecord, "a", ANALYSIS_ATTRIBUTES)}
+       FROM devices d
+       JOIN sites s ON s.id = d.site_id
+       JOIN device_revisions r ON r.device_id = d.id AND r.number = COALESCE(:revisionNumber, d.current_revision_number)
+       LEFT JOIN revision_analyses a ON a.revision_id = r.id
+      WHERE d.id = :deviceId AND d.organisation_id = :organisationId`;
+  return deviceAtRevisionStatement;
+}
 
 
 export type DeviceRevisionsOptions = {
@@ -127,23 +142,18 @@ export class DeviceRevisions {
       const locked = await Device.findOne({ where: { id: deviceId, organisationId }, attributes: ["id"], transaction, lock: transaction.LOCK.UPDATE });
       if (!locked) return null;
     }
-    const device = await Device.findOne({
-      where: { id: deviceId, organisationId },
-      include: [
-        { model: Site, as: "site", required: true },
-        {
-          model: DeviceRevision,
-          as: "revisions",
-          required: true,
-          attributes: [...RECORD_ATTRIBUTES],
-          where: { number: options.revisionNumber ?? { [Op.eq]: col("Device.current_revision_number") } },
-          include: [ANALYSIS_RECORD],
-        },
-      ],
+    const [row] = await getDatabase().query<Record<string, unknown>>(deviceAtRevisionQuery(), {
+      type: QueryTypes.SELECT,
+      replacements: { deviceId, organisationId, revisionNumber: options.revisionNumber ?? null },
       transaction,
     });
-    const record = device?.revisions?.[0];
-    if (!device?.site || !record) return null;
+    const device = row ? instanceOf(Device, row, "d") : null;
+    const site = row ? instanceOf(Site, row, "s") : null;
+    const record = row ? instanceOf(DeviceRevision, row, "r") : null;
+    if (!device || !site || !record) return null;
+    record.analysisRecord = instanceOf(RevisionAnalysisRecord, row, "a");
+    device.site = site;
+    device.revisions = [record];
     const [analysis] = await this.#analysesOf([record], transaction);
     return atRevision(device as Device & { site: Site }, record, analysis);
   }

@@ -99,7 +99,12 @@ export async function listOrganisationsOfUser(userId: string): Promise<Organisat
     include: [{ model: Organisation, as: "organisation", required: true }],
     order: [[{ model: Organisation, as: "organisation" }, "name", "ASC"]],
   });
-  return memberships.map((membership) => ({ slug: membership.organisation!.slug, name: membership.organisation!.name, role: membership.role }));
+  return organisationSummaries(memberships.map((membership) => ({ role: membership.role, organisation: membership.organisation! })));
+}
+
+/** The summaries of memberships already read with their organisations, in their order. */
+export function organisationSummaries(memberships: ReadonlyArray<{ role: Role; organisation: { slug: string; name: string } }>): OrganisationSummary[] {
+  return memberships.map((membership) => ({ slug: membership.organisation.slug, name: membership.organisation.name, role: membership.role }));
 }
 
 export async function renameOrganisation(organisation: Organisation, name: string, actor: AuditActor): Promise<void> {

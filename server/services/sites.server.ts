@@ -11,6 +11,12 @@ function toRow(site: Site, deviceCount = 0): SiteRow {
   return { id: site.id, name: site.name, customer: site.customer, location: site.location, updatedAt: site.updatedAt.toISOString(), deviceCount };
 }
 
+/** The organisation's sites' ids and names, by name: what a site filter or picker needs (no device counts). */
+export async function siteNames(organisationId: string): Promise<Array<{ id: string; name: string }>> {
+  const sites = await Site.findAll({ where: { organisationId }, attributes: ["id", "name"], order: [["name", "ASC"]] });
+  return sites.map((site) => ({ id: site.id, name: site.name }));
+}
+
 export async function listSites(organisationId: string): Promise<SiteRow[]> {
   const [sites, counts] = await Promise.all([
     Site.findAll({ where: { organisationId }, order: [["name", "ASC"]] }),

@@ -1,5 +1,5 @@
 import { beforeAll, describe, expect, test } from "vitest";
-import { signUpNewOrganisation, type FetchResult, type TestClient } from "../support/client";
+import { signUpNewOrganisation, TestClient, type FetchResult } from "../support/client";
 
 // The device pages resolve the member and the device once per request (React Router middleware)
 // and the device revision through one repository with a cache, so a warm page costs a fixed,
@@ -70,12 +70,13 @@ describe("Query budget of the device pages", () => {
     expect(queriesOf(warm)).toBeLessThanOrEqual(4);
   });
 
-  test.each(PAGES)("The whole $page page, with its layouts, stays within 5 queries on a warm cache", async ({ path }) => {
+  test.each(PAGES)("The whole $page page, with its layouts, stays within 4 queries on a warm cache", async ({ path }) => {
     await client.get(`${devicePath}${path}`);
     const warm = await client.get(`${devicePath}${path}`);
     expect(warm.status).toBe(200);
-    // root, organisation layout (its organisation list), device layout and the page itself.
-    expect(queriesOf(warm)).toBeLessThanOrEqual(5);
+    // The session with the user's memberships (which the organisation layout lists), the device,
+    // and what the page itself reads.
+    expect(queriesOf(warm)).toBeLessThanOrEqual(4);
   });
 
   test("The count is real: the fleet findings page grows with the work it does", async () => {
@@ -84,5 +85,64 @@ describe("Query budget of the device pages", () => {
     const fleet = await client.get(`${devicePath.replace(/\/devices\/.*$/, "")}/findings`);
     expect(fleet.status).toBe(200);
     expect(queriesOf(fleet)).toBeGreaterThanOrEqual(3);
+  });
+});
+
+// Issue 14: every request reads the session, the user and their memberships in one query, and a
+// device page the device in one more; nothing else runs per request before the page's own work.
+describe("What a request costs before its page's own work", () => {
+  const trace = () => `${devicePath}/api/trace?from=203.0.113.50&interface=outside&service=https`;
+
+  test("The trace JSON route costs two queries: the session with its memberships, and the device", async () => {
+    await client.get(trace());
+    const warm = await client.get(trace());
+    expect(warm.status).toBe(200);
+    expect(queriesOf(warm)).toBe(2);
+  });
+
+  test("The trace page, its layouts included, costs the same two", async () => {
+    const page = `${devicePath}/analysis?from=203.0.113.50&interface=outside&service=https`;
+    await client.get(page);
+    const warm = await client.get(page);
+    expect(warm.status).toBe(200);
+    expect(queriesOf(warm)).toBe(2);
+  });
+
+  test("The fleet page costs six: the session, the fleet's rows, open proposals, sites, field checks and dismissals", async () => {
+    const fleet = await client.get(devicePath.replace(/\/devices\/.*$/, "/devices"));
+    expect(fleet.status).toBe(200);
+    expect(fleet.text).toContain("tidewater-edge");
+    expect(queriesOf(fleet)).toBeLessThanOrEqual(6);
+  });
+
+  test("The shell still lists the organisations read with the session, and another organisation's pages stay closed", async () => {
+    const other = await signUpNewOrganisation("query-budget-other");
+    const slug = devicePath.split("/")[2];
+    const page = await client.get(devicePath);
+    expect(page.text).toContain(`/o/${slug}/devices`);
+    expect(page.text).not.toContain(`/o/${other.slug}/`);
+    expect((await client.get(`/o/${other.slug}/devices`)).status).toBe(404);
+    expect((await other.client.get(devicePath)).status).toBe(404);
+  });
+
+  test("A small answer goes out whole with its length and uncompressed; a page goes out compressed in one piece", async () => {
+    const small = await client.request(trace(), { headers: { "Accept-Encoding": "br, gzip" } });
+    expect(small.status).toBe(200);
+    expect(small.headers.get("Content-Encoding")).toBeNull();
+    expect(Number(small.headers.get("Content-Length"))).toBe(Buffer.byteLength(small.text));
+    expect(JSON.parse(small.text)).toBeTypeOf("object");
+    const page = await client.request(`${devicePath}/analysis?from=203.0.113.50&interface=outside&service=https`, { headers: { "Accept-Encoding": "gzip" } });
+    expect(page.status).toBe(200);
+    expect(page.headers.get("Content-Encoding")).toBe("gzip");
+    expect(page.text).toMatch(/<\/html>$/);
+  });
+
+  test("Public files are served by name, with their cache lifetime; other paths reach the app", async () => {
+    const icon = await new TestClient().get("/favicon.svg");
+    expect(icon.status).toBe(200);
+    expect(icon.headers.get("Content-Type")).toContain("image/svg+xml");
+    expect(icon.headers.get("Cache-Control")).toBe("public, max-age=3600");
+    const missing = await new TestClient().get("/favicon.svg.missing");
+    expect(missing.status).toBe(404);
   });
 });

@@ -1,7 +1,7 @@
 import { Outlet, useRouteLoaderData } from "react-router";
 import type { Route } from "./+types/layout";
 import { organisationMiddleware, requireRole } from "#server/auth/guard.server";
-import { listOrganisationsOfUser } from "#server/services/organisations.server";
+import { listOrganisationsOfUser, organisationSummaries } from "#server/services/organisations.server";
 import { AppShell } from "#app/components/app-shell";
 import { ErrorPanel, StandaloneError } from "#app/components/error-panel";
 import type { loader as rootLoader } from "#app/root";
@@ -9,11 +9,13 @@ import type { loader as rootLoader } from "#app/root";
 // The member and their role in this organisation, resolved once per request for every route below.
 export const middleware: Route.MiddlewareFunction[] = [organisationMiddleware];
 
-export async function loader({ context }: Route.LoaderArgs) {
+export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireRole(context);
   return {
     organisation: { slug: access.organisation.slug, name: access.organisation.name, role: access.role },
-    organisations: await listOrganisationsOfUser(access.user.id),
+    // Read with the session when the request began; read again after an action, which may have
+    // renamed, joined or left one.
+    organisations: request.method === "GET" ? organisationSummaries(access.memberships) : await listOrganisationsOfUser(access.user.id),
     user: { name: access.user.name, email: access.user.email },
   };
 }

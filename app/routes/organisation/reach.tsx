@@ -4,7 +4,7 @@ import { requireRole } from "#server/auth/guard.server";
 import { pageOf } from "#server/analysis/paging";
 import { askFleetReach } from "#server/http/fleet-reach.server";
 import type { FleetReachParams } from "#server/analysis/fleet-reach";
-import { listSites } from "#server/services/sites.server";
+import { siteNames } from "#server/services/sites.server";
 import { BUILTIN_SERVICES, INTERFACE_ROLES } from "#server/engine/vocabulary";
 import { formatNumber, plural } from "#server/engine/format";
 import { Pager, SimulationCaution } from "#app/components/analysis/common";
@@ -29,7 +29,7 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireRole(context);
   const url = new URL(request.url);
   const slug = access.organisation.slug;
-  const sites = (await listSites(access.organisation.id)).map((site) => ({ id: site.id, name: site.name }));
+  const sites = await siteNames(access.organisation.id);
   const base = { slug, sites, services: BUILTIN_SERVICES.map((service) => service.name) };
   // No source yet: just the form (asking is not an error).
   const none: FleetReachParams = { from: "", roles: [], services: [] };

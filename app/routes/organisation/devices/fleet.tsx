@@ -8,7 +8,7 @@ import { requireRole } from "#server/auth/guard.server";
 import { hasAtLeastRole, PAGE_ROLES } from "#server/auth/roles";
 import type { DeviceRow } from "#server/services/devices.server";
 import { fleetDeviceRows } from "#server/services/device-list.server";
-import { listSites } from "#server/services/sites.server";
+import { siteNames } from "#server/services/sites.server";
 import { lastFieldChecks, type FieldCheckSummary } from "#server/services/field-checks.server";
 import { AgreementRate } from "#app/components/field-checks";
 import { OutcomeChip } from "#app/components/outcome";
@@ -55,7 +55,7 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   const url = new URL(request.url);
   const { sort, descending, sorting } = urlSort(url.searchParams, COLUMNS);
   // Counts leave out dismissed findings (accepted risks), as the device overview does.
-  const [rows, sites, fieldChecks] = await Promise.all([fleetDeviceRows(access.organisation.id, { wait: false }), listSites(access.organisation.id), lastFieldChecks(access.organisation.id)]);
+  const [rows, sites, fieldChecks] = await Promise.all([fleetDeviceRows(access.organisation.id, { wait: false }), siteNames(access.organisation.id), lastFieldChecks(access.organisation.id)]);
   const devices: FleetRow[] = rows.map((device) => ({ ...device, fieldCheck: fieldChecks.get(device.id) ?? null }));
   const matching = tableRows(devices, [...COLUMNS, SITE_FILTER, nameTie<FleetRow>()], {
     globalFilter: (url.searchParams.get("q") ?? "").trim().slice(0, 100),
@@ -66,7 +66,7 @@ export async function loader({ request, context }: Route.LoaderArgs) {
   // renders (and hydrates) 50 rows, not all of them.
   const { page, pages, start, end } = pageOf(url.searchParams.get("page"), matching.length);
   const q = (url.searchParams.get("q") ?? "").trim().slice(0, 100);
-  return { devices: matching.slice(start, end), matching: matching.length, first: start + 1, page, pages, total: devices.length, analysing: devices.filter((device) => device.analysing).length, reachFrom: looksLikeSource(q) ? q : null, sites: sites.map((site) => ({ id: site.id, name: site.name })), sort, descending, canAdd: hasAtLeastRole(access.role, PAGE_ROLES.newDevice), canImport: hasAtLeastRole(access.role, PAGE_ROLES.importModel), slug: access.organisation.slug, now: new Date().toISOString() };
+  return { devices: matching.slice(start, end), matching: matching.length, first: start + 1, page, pages, total: devices.length, analysing: devices.filter((device) => device.analysing).length, reachFrom: looksLikeSource(q) ? q : null, sites, sort, descending, canAdd: hasAtLeastRole(access.role, PAGE_ROLES.newDevice), canImport: hasAtLeastRole(access.role, PAGE_ROLES.importModel), slug: access.organisation.slug, now: new Date().toISOString() };
 }
 
 export default function Fleet({ loaderData }: Route.ComponentProps) {

@@ -18,7 +18,7 @@ import { appOrigin } from "#server/config.server";
 import { GateReasons, unlistedReasons, type ShownReason } from "#app/components/proposals/proposal-bits";
 import { TextAreaField } from "#app/components/device/editor-kit";
 import { revisionEffect } from "#server/services/revision-effect.server";
-import { listSites } from "#server/services/sites.server";
+import { siteNames } from "#server/services/sites.server";
 import { diffDocuments, summariseDocument, validateDocument, type ModelDocument } from "#server/workspace/index";
 import { readProposalDetails } from "#server/http/proposal-steps.server";
 import { defaultWindowText } from "#server/proposals/change-window";
@@ -47,8 +47,8 @@ export const MAX_MODEL_BYTES = MAX_MODEL_DOCUMENT_BYTES;
 
 export async function loader({ context }: Route.LoaderArgs) {
   const access = requireRole(context, PAGE_ROLES.importModel);
-  const [sites, devices] = await Promise.all([listSites(access.organisation.id), listDeviceNames(access.organisation.id)]);
-  return { sites: sites.map((site) => ({ id: site.id, name: site.name })), devices };
+  const [sites, devices] = await Promise.all([siteNames(access.organisation.id), listDeviceNames(access.organisation.id)]);
+  return { sites, devices };
 }
 
 type Problem = { path: string; message: string };

@@ -9,7 +9,7 @@ import { actorOf } from "#server/http/actor.server";
 import { fieldErrorsOf, formValues, invalidForm, readForm } from "#server/http/form.server";
 import { ElementNameSchema, TimeZoneSchema } from "#server/http/schemas";
 import { createDevice } from "#server/services/devices.server";
-import { listSites } from "#server/services/sites.server";
+import { siteNames } from "#server/services/sites.server";
 import { newDocument } from "#server/workspace/index";
 import { Button } from "#app/components/ui/button";
 import { Card, PageHeader } from "#app/components/ui/card";
@@ -25,7 +25,7 @@ export const ErrorBoundary = PageErrorBoundary;
 
 export async function loader({ context }: Route.LoaderArgs) {
   const access = requireRole(context, PAGE_ROLES.newDevice);
-  return { sites: (await listSites(access.organisation.id)).map((site) => ({ id: site.id, name: site.name })) };
+  return { sites: await siteNames(access.organisation.id) };
 }
 
 /** The value of the site choice that creates a new site with the device. */
