@@ -154,15 +154,17 @@ function toWords(value: bigint, out: Words): Words {
 /** Scratch for the eight groups of an IPv6 address (formatting never re-enters itself). */
 const GROUPS = new Uint16Array(8);
 
-/** RFC 5952 text of an IPv6 address given as four 32-bit words. */
-function formatIPv6Words(w: Words): string {
-  if (w[0] === 0 && w[1] === 0 && w[2] === 0xffff) return `::ffff:${formatIPv4Number(w[3])}`;
+/**
+ * The eight groups of an IPv6 address (four 32-bit words) into GROUPS, and the run of zero
+ * groups "::" stands for as start × 16 + length, or -1 (RFC 5952 §4.2.2–4.2.3: the longest
+ * run of two or more zero groups, the first of equals).
+ */
+function groupsAndRun(w: Words): number {
   const g = GROUPS;
   for (let i = 0; i < 4; i++) {
     g[2 * i] = w[i] >>> 16;
     g[2 * i + 1] = w[i] & 0xffff;
   }
-  // RFC 5952 §4.2.2–4.2.3: the longest run of two or more zero groups, the first of equals.
   let bestStart = -1;
   let bestLength = 1;
   for (let i = 0; i < 8; ) {
@@ -178,11 +180,25 @@ function formatIPv6Words(w: Words): string {
     }
     i = j;
   }
-  if (bestStart < 0) {
+  return bestStart < 0 ? -1 : bestStart * 16 + bestLength;
+}
+
+/** Whether the words are an IPv4-mapped address (::ffff:a.b.c.d, RFC 5952 §5). */
+function isMappedIPv4(w: Words): boolean {
+  return w[0] === 0 && w[1] === 0 && w[2] === 0xffff;
+}
+
+/** RFC 5952 text of an IPv6 address given as four 32-bit words. */
+function formatIPv6Words(w: Words): string {
+  if (isMappedIPv4(w)) return `::ffff:${formatIPv4Number(w[3])}`;
+  const run = groupsAndRun(w);
+  const g = GROUPS;
+  if (run < 0) {
     let text = hexGroup(g[0]);
     for (let i = 1; i < 8; i++) text += colonHexGroup(g[i]);
     return text;
   }
+  const bestStart = run >>> 4;
   // "::" is the colon that ends the groups before the run (or starts the text) and the one
   // that starts each group after it.
   let text = ":";
@@ -191,10 +207,117 @@ function formatIPv6Words(w: Words): string {
     for (let i = 1; i < bestStart; i++) text += colonHexGroup(g[i]);
     text += ":";
   }
-  const after = bestStart + bestLength;
+  const after = bestStart + (run & 15);
   if (after === 8) return `${text}:`;
   for (let i = after; i < 8; i++) text += colonHexGroup(g[i]);
   return text;
+}
+
+function fromWords(w: Words): bigint {
+  return (BigInt(w[0]) << 96n) | (BigInt(w[1]) << 64n) | (BigInt(w[2]) << 32n) | BigInt(w[3]);
+}
+
+// ASCII bytes of the same texts, for writers that fill byte buffers (the CLI's JSON output).
+const DOT = 46;
+const COLON = 58;
+const SLASH = 47;
+const HEX_DIGIT = new Uint8Array(Array.from("0123456789abcdef", (c) => c.charCodeAt(0)));
+const MAPPED_PREFIX = new Uint8Array(Array.from("::ffff:", (c) => c.charCodeAt(0)));
+
+/** Writes a number below 1,000 in decimal at `at`; returns the offset after it. */
+function writeDecimal(n: number, bytes: Uint8Array, at: number): number {
+  if (n >= 100) bytes[at++] = 48 + Math.floor(n / 100);
+  if (n >= 10) bytes[at++] = 48 + (Math.floor(n / 10) % 10);
+  bytes[at++] = 48 + (n % 10);
+  return at;
+}
+
+/** Writes an IPv4 address (a number) as dotted-quad ASCII at `at`; returns the offset after it. */
+function writeIPv4Number(n: number, bytes: Uint8Array, at: number): number {
+  at = writeDecimal(n >>> 24, bytes, at);
+  bytes[at++] = DOT;
+  at = writeDecimal((n >>> 16) & 255, bytes, at);
+  bytes[at++] = DOT;
+  at = writeDecimal((n >>> 8) & 255, bytes, at);
+  bytes[at++] = DOT;
+  return writeDecimal(n & 255, bytes, at);
+}
+
+/** Writes a 16-bit group in lower-case hex without leading zeros; returns the offset after it. */
+function writeHexGroup(g: number, bytes: Uint8Array, at: number): number {
+  if (g >= 0x1000) bytes[at++] = HEX_DIGIT[g >>> 12];
+  if (g >= 0x100) bytes[at++] = HEX_DIGIT[(g >>> 8) & 15];
+  if (g >= 0x10) bytes[at++] = HEX_DIGIT[(g >>> 4) & 15];
+  bytes[at++] = HEX_DIGIT[g & 15];
+  return at;
+}
+
+/** Writes the RFC 5952 text of an IPv6 address (four 32-bit words) as ASCII; returns the offset after it. */
+function writeIPv6Words(w: Words, bytes: Uint8Array, at: number): number {
+  if (isMappedIPv4(w)) {
+    bytes.set(MAPPED_PREFIX, at);
+    return writeIPv4Number(w[3], bytes, at + MAPPED_PREFIX.length);
+  }
+  const run = groupsAndRun(w);
+  const g = GROUPS;
+  const start = run < 0 ? 8 : run >>> 4;
+  for (let i = 0; i < start; i++) {
+    if (i > 0) bytes[at++] = COLON;
+    at = writeHexGroup(g[i], bytes, at);
+  }
+  if (run < 0) return at;
+  // "::": the colon ending the groups before the run (or starting the text), then one before each group after it.
+  bytes[at++] = COLON;
+  const after = start + (run & 15);
+  if (after === 8) {
+    bytes[at++] = COLON;
+    return at;
+  }
+  for (let i = after; i < 8; i++) {
+    bytes[at++] = COLON;
+    at = writeHexGroup(g[i], bytes, at);
+  }
+  return at;
+}
+
+/** Longest CIDR text in bytes: "ffff:ffff:ffff:ffff:ffff:ffff:ffff:ffff/128". */
+export const MAX_CIDR_BYTES = 43;
+
+/**
+ * Writes the minimal CIDR cover of [first, last] (pushCidrs' CIDRs, in its order) as ASCII
+ * into `bytes` from `at`, each CIDR between `before` and `after`, while at least
+ * MAX_CIDR_BYTES + `before` + `after` bytes are left. Returns the offset reached and where
+ * the cover stopped: null when it is complete, else the first address of the next CIDR (go
+ * on from there with another buffer).
+ */
+export function writeCidrs(
+  family: Family,
+  first: bigint,
+  last: bigint,
+  bytes: Uint8Array,
+  at: number,
+  before: Uint8Array,
+  after: Uint8Array,
+): { readonly at: number; readonly next: bigint | null } {
+  const need = MAX_CIDR_BYTES + before.length + after.length;
+  const put = (text: Uint8Array): void => {
+    for (let k = 0; k < text.length; k++) bytes[at++] = text[k];
+  };
+  const block = (start: number | Words, prefix: number): boolean => {
+    if (bytes.length - at < need) return false;
+    put(before);
+    at = typeof start === "number" ? writeIPv4Number(start, bytes, at) : writeIPv6Words(start, bytes, at);
+    bytes[at++] = SLASH;
+    at = writeDecimal(prefix, bytes, at);
+    put(after);
+    return true;
+  };
+  let next: bigint | null;
+  if (family === 4) {
+    const stop = ipv4Cover(Number(first), Number(last), block);
+    next = stop === null ? null : BigInt(stop);
+  } else next = ipv6Cover(first, last, block);
+  return { at, next };
 }
 
 const FORMAT_WORDS: Words = new Float64Array(4);
@@ -285,19 +408,42 @@ export function rangeToCidrs(family: Family, first: bigint, last: bigint): strin
  */
 export function pushCidrs(out: string[], family: Family, first: bigint, last: bigint): void {
   if (family === 4) {
-    // Every IPv4 value, count and block size is an exact double below 2^33.
-    let cursor = Number(first);
-    const end = Number(last);
-    while (cursor <= end) {
-      const left = end - cursor + 1;
-      const bySize = left >= TWO_32 ? 32 : 31 - Math.clz32(left);
-      const aligned = cursor === 0 ? 32 : 31 - Math.clz32(cursor & -cursor);
-      const host = aligned < bySize ? aligned : bySize;
-      out.push(formatIPv4Number(cursor) + SLASH_PREFIX[32 - host]);
-      cursor += POW2[host];
-    }
-    return;
+    ipv4Cover(Number(first), Number(last), (start, prefix) => {
+      out.push(formatIPv4Number(start) + SLASH_PREFIX[prefix]);
+      return true;
+    });
+  } else {
+    ipv6Cover(first, last, (start, prefix) => {
+      out.push(formatIPv6Words(start) + SLASH_PREFIX[prefix]);
+      return true;
+    });
   }
+}
+
+/**
+ * The blocks of the minimal CIDR cover of the IPv4 range [first, last] (numbers), ascending,
+ * as pushCidrs describes: `block(start, prefix length)` for each until it returns false.
+ * Returns null when every block was taken, else the start of the block refused.
+ */
+function ipv4Cover(first: number, last: number, block: (start: number, prefix: number) => boolean): number | null {
+  // Every IPv4 value, count and block size is an exact double below 2^33.
+  let cursor = first;
+  while (cursor <= last) {
+    const left = last - cursor + 1;
+    const bySize = left >= TWO_32 ? 32 : 31 - Math.clz32(left);
+    const aligned = cursor === 0 ? 32 : 31 - Math.clz32(cursor & -cursor);
+    const host = aligned < bySize ? aligned : bySize;
+    if (!block(cursor, 32 - host)) return cursor;
+    cursor += POW2[host];
+  }
+  return null;
+}
+
+/**
+ * The same for IPv6, on four 32-bit words so a block costs a few number operations and no
+ * bigint arithmetic: `block(start as words, valid during the call, prefix length)`.
+ */
+function ipv6Cover(first: bigint, last: bigint, block: (start: Words, prefix: number) => boolean): bigint | null {
   const c = toWords(first, CURSOR);
   const l = toWords(last, LAST);
   const d = LEFT;
@@ -321,8 +467,8 @@ export function pushCidrs(out: string[], family: Family, first: bigint, last: bi
     const bySize = carry === 1 ? 128 : floorLog2Words(d);
     const aligned = trailingZerosWords(c);
     const host = aligned < bySize ? aligned : bySize;
-    out.push(formatIPv6Words(c) + SLASH_PREFIX[128 - host]);
-    if (host === bySize && isPowerOfTwoWords(d, carry)) return; // the block ends at last
+    if (!block(c, 128 - host)) return fromWords(c);
+    if (host === bySize && isPowerOfTwoWords(d, carry)) return null; // the block ends at last
     // cursor += 2^host (host < 128 here, and no carry leaves the top word: cursor stays ≤ last).
     let i = 3 - (host >>> 5);
     let v = c[i] + POW2[host & 31];
