@@ -4,7 +4,7 @@
 // is ASCII with nothing to escape, written in the lists' order with JSON.stringify's layout.
 
 import { Buffer } from "node:buffer";
-import { writeCidrs } from "../engine/addresses.ts";
+import { CidrBytes } from "../engine/addresses.ts";
 import type { Ranges } from "../engine/address-sets.ts";
 import { outcomeSets } from "../engine/exposure.ts";
 import type { ExposureCell, ExposureEntry, OutcomeSets } from "../engine/exposure.ts";
@@ -22,51 +22,37 @@ const AFTER = Buffer.from('",', "latin1");
 function* cidrListsText(sets: OutcomeSets, at: string, gap: string): Generator<string, void, undefined> {
   const compact = gap === "";
   const inner = at + gap;
-  const before = Buffer.from(compact ? '"' : `\n${inner}${gap}"`, "latin1");
-  const bytes = Buffer.allocUnsafe(PIECE);
-  let length = 0;
+  const piece = new CidrBytes(Buffer.allocUnsafe(PIECE), Buffer.from(compact ? '"' : `\n${inner}${gap}"`, "latin1"), AFTER);
+  const bytes = piece.bytes as Buffer;
   const take = (): string => {
-    const text = bytes.toString("latin1", 0, length);
-    length = 0;
+    const text = bytes.toString("latin1", 0, piece.at);
+    piece.at = 0;
     return text;
   };
-  /** Room for `text` in the piece, taking the piece first when there is none. */
-  const room = (size: number): string | null => (PIECE - length < size ? take() : null);
-  const put = (text: string): void => {
-    length += bytes.write(text, length, "latin1");
+  /** Writes short text, taking the piece first when it has no room: returns the piece taken, if one was. */
+  const put = (text: string): string | null => {
+    const full = PIECE - piece.at < text.length ? take() : null;
+    piece.at += bytes.write(text, piece.at, "latin1");
+    return full;
   };
   const ranges: readonly Ranges[] = sets.ranges;
   for (let k = 0; k < OUTCOMES.length; k++) {
-    const head = `${k > 0 ? "," : "{"}${compact ? "" : `\n${inner}`}${JSON.stringify(OUTCOMES[k])}${compact ? ":" : ": "}[`;
-    const full = room(head.length + 2);
-    if (full !== null) yield full;
     const list = ranges[k];
-    if (list.length === 0) {
-      put(`${head}]`);
-      continue;
-    }
-    put(head);
+    const head = `${k > 0 ? "," : "{"}${compact ? "" : `\n${inner}`}${JSON.stringify(OUTCOMES[k])}${compact ? ":" : ": "}[${list.length === 0 ? "]" : ""}`;
+    const full = put(head);
+    if (full !== null) yield full;
+    if (list.length === 0) continue;
     for (let r = 0; r < list.length; r += 2) {
       let from: bigint | null = list[r];
-      for (;;) {
-        const written = writeCidrs(sets.family, from, list[r + 1], bytes, length, before, AFTER);
-        length = written.at;
-        from = written.next;
-        if (from === null) break;
-        yield take();
-      }
+      while ((from = piece.cover(sets.family, from, list[r + 1])) !== null) yield take();
     }
     // The last CIDR's comma; it is in this piece, as a piece is only taken before a CIDR.
-    length--;
-    const close = compact ? "]" : `\n${inner}]`;
-    const full2 = room(close.length);
-    if (full2 !== null) yield full2;
-    put(close);
+    piece.at--;
+    const closed = put(compact ? "]" : `\n${inner}]`);
+    if (closed !== null) yield closed;
   }
-  const end = compact ? "}" : `\n${at}}`;
-  const full = room(end.length);
+  const full = put(compact ? "}" : `\n${at}}`);
   if (full !== null) yield full;
-  put(end);
   yield take();
 }
 

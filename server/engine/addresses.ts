@@ -281,43 +281,78 @@ function writeIPv6Words(w: Words, bytes: Uint8Array, at: number): number {
 }
 
 /** Longest CIDR text in bytes: "ffff:ffff:ffff:ffff:ffff:ffff:ffff:ffff/128". */
-export const MAX_CIDR_BYTES = 43;
+const MAX_CIDR_BYTES = 43;
 
 /**
- * Writes the minimal CIDR cover of [first, last] (pushCidrs' CIDRs, in its order) as ASCII
- * into `bytes` from `at`, each CIDR between `before` and `after`, while at least
- * MAX_CIDR_BYTES + `before` + `after` bytes are left. Returns the offset reached and where
- * the cover stopped: null when it is complete, else the first address of the next CIDR (go
- * on from there with another buffer).
+ * Writes minimal CIDR covers (pushCidrs' CIDRs, in its order) as ASCII into a byte buffer
+ * from `at`, each CIDR between `before` and `after`, with no string per CIDR.
  */
-export function writeCidrs(
-  family: Family,
-  first: bigint,
-  last: bigint,
-  bytes: Uint8Array,
-  at: number,
-  before: Uint8Array,
-  after: Uint8Array,
-): { readonly at: number; readonly next: bigint | null } {
-  const need = MAX_CIDR_BYTES + before.length + after.length;
-  const put = (text: Uint8Array): void => {
+export class CidrBytes {
+  at = 0;
+  private readonly limit: number;
+
+  constructor(
+    readonly bytes: Uint8Array,
+    private readonly before: Uint8Array,
+    private readonly after: Uint8Array,
+  ) {
+    this.limit = bytes.length - (MAX_CIDR_BYTES + before.length + after.length);
+  }
+
+  private put(text: Uint8Array, at: number): number {
+    const bytes = this.bytes;
     for (let k = 0; k < text.length; k++) bytes[at++] = text[k];
-  };
-  const block = (start: number | Words, prefix: number): boolean => {
-    if (bytes.length - at < need) return false;
-    put(before);
-    at = typeof start === "number" ? writeIPv4Number(start, bytes, at) : writeIPv6Words(start, bytes, at);
-    bytes[at++] = SLASH;
-    at = writeDecimal(prefix, bytes, at);
-    put(after);
-    return true;
-  };
-  let next: bigint | null;
-  if (family === 4) {
-    const stop = ipv4Cover(Number(first), Number(last), block);
-    next = stop === null ? null : BigInt(stop);
-  } else next = ipv6Cover(first, last, block);
-  return { at, next };
+    return at;
+  }
+
+  /**
+   * Writes the cover of [first, last] while the buffer has room for one more CIDR. Returns
+   * null when the cover is complete, else the first address of the next CIDR: go on from
+   * there once the buffer is emptied (`at` = 0).
+   */
+  cover(family: Family, first: bigint, last: bigint): bigint | null {
+    const bytes = this.bytes;
+    let at = this.at;
+    if (family === 4) {
+      let cursor = Number(first);
+      const end = Number(last);
+      while (cursor <= end) {
+        if (at > this.limit) {
+          this.at = at;
+          return BigInt(cursor);
+        }
+        const host = ipv4BlockHost(cursor, end);
+        at = this.put(this.before, at);
+        at = writeIPv4Number(cursor, bytes, at);
+        bytes[at++] = SLASH;
+        at = writeDecimal(32 - host, bytes, at);
+        at = this.put(this.after, at);
+        cursor += POW2[host];
+      }
+      this.at = at;
+      return null;
+    }
+    const c = toWords(first, CURSOR);
+    const l = toWords(last, LAST);
+    for (;;) {
+      if (at > this.limit) {
+        this.at = at;
+        return fromWords(c);
+      }
+      const step = ipv6BlockHost(c, l);
+      const host = step & 255;
+      at = this.put(this.before, at);
+      at = writeIPv6Words(c, bytes, at);
+      bytes[at++] = SLASH;
+      at = writeDecimal(128 - host, bytes, at);
+      at = this.put(this.after, at);
+      if (step > 255) {
+        this.at = at;
+        return null;
+      }
+      advanceWords(c, host);
+    }
+  }
 }
 
 const FORMAT_WORDS: Words = new Float64Array(4);
@@ -408,77 +443,70 @@ export function rangeToCidrs(family: Family, first: bigint, last: bigint): strin
  */
 export function pushCidrs(out: string[], family: Family, first: bigint, last: bigint): void {
   if (family === 4) {
-    ipv4Cover(Number(first), Number(last), (start, prefix) => {
-      out.push(formatIPv4Number(start) + SLASH_PREFIX[prefix]);
-      return true;
-    });
-  } else {
-    ipv6Cover(first, last, (start, prefix) => {
-      out.push(formatIPv6Words(start) + SLASH_PREFIX[prefix]);
-      return true;
-    });
+    // Every IPv4 value, count and block size is an exact double below 2^33.
+    let cursor = Number(first);
+    const end = Number(last);
+    while (cursor <= end) {
+      const host = ipv4BlockHost(cursor, end);
+      out.push(formatIPv4Number(cursor) + SLASH_PREFIX[32 - host]);
+      cursor += POW2[host];
+    }
+    return;
   }
-}
-
-/**
- * The blocks of the minimal CIDR cover of the IPv4 range [first, last] (numbers), ascending,
- * as pushCidrs describes: `block(start, prefix length)` for each until it returns false.
- * Returns null when every block was taken, else the start of the block refused.
- */
-function ipv4Cover(first: number, last: number, block: (start: number, prefix: number) => boolean): number | null {
-  // Every IPv4 value, count and block size is an exact double below 2^33.
-  let cursor = first;
-  while (cursor <= last) {
-    const left = last - cursor + 1;
-    const bySize = left >= TWO_32 ? 32 : 31 - Math.clz32(left);
-    const aligned = cursor === 0 ? 32 : 31 - Math.clz32(cursor & -cursor);
-    const host = aligned < bySize ? aligned : bySize;
-    if (!block(cursor, 32 - host)) return cursor;
-    cursor += POW2[host];
-  }
-  return null;
-}
-
-/**
- * The same for IPv6, on four 32-bit words so a block costs a few number operations and no
- * bigint arithmetic: `block(start as words, valid during the call, prefix length)`.
- */
-function ipv6Cover(first: bigint, last: bigint, block: (start: Words, prefix: number) => boolean): bigint | null {
   const c = toWords(first, CURSOR);
   const l = toWords(last, LAST);
-  const d = LEFT;
   for (;;) {
-    // d = last − cursor + 1 (addresses left); a carry out of the top word means all 2^128.
-    let borrow = 0;
-    for (let i = 3; i >= 0; i--) {
-      let v = l[i] - c[i] - borrow;
-      borrow = v < 0 ? 1 : 0;
-      if (borrow === 1) v += TWO_32;
-      d[i] = v;
-    }
-    let carry = 1;
-    for (let i = 3; i >= 0 && carry === 1; i--) {
-      if (d[i] === TWO_32 - 1) d[i] = 0;
-      else {
-        d[i] += 1;
-        carry = 0;
-      }
-    }
-    const bySize = carry === 1 ? 128 : floorLog2Words(d);
-    const aligned = trailingZerosWords(c);
-    const host = aligned < bySize ? aligned : bySize;
-    if (!block(c, 128 - host)) return fromWords(c);
-    if (host === bySize && isPowerOfTwoWords(d, carry)) return null; // the block ends at last
-    // cursor += 2^host (host < 128 here, and no carry leaves the top word: cursor stays ≤ last).
-    let i = 3 - (host >>> 5);
-    let v = c[i] + POW2[host & 31];
-    while (v >= TWO_32) {
-      c[i] = v - TWO_32;
-      i--;
-      v = c[i] + 1;
-    }
-    c[i] = v;
+    const step = ipv6BlockHost(c, l);
+    const host = step & 255;
+    out.push(formatIPv6Words(c) + SLASH_PREFIX[128 - host]);
+    if (step > 255) return;
+    advanceWords(c, host);
   }
+}
+
+/** Host bits of the largest block at the IPv4 cursor that ends at or before `last`. */
+function ipv4BlockHost(cursor: number, last: number): number {
+  const left = last - cursor + 1;
+  const bySize = left >= TWO_32 ? 32 : 31 - Math.clz32(left);
+  const aligned = cursor === 0 ? 32 : 31 - Math.clz32(cursor & -cursor);
+  return aligned < bySize ? aligned : bySize;
+}
+
+/** Host bits of the largest block at the IPv6 cursor c that ends at or before l; 256 more when it ends at l (the last block). */
+function ipv6BlockHost(c: Words, l: Words): number {
+  const d = LEFT;
+  // d = last − cursor + 1 (addresses left); a carry out of the top word means all 2^128.
+  let borrow = 0;
+  for (let i = 3; i >= 0; i--) {
+    let v = l[i] - c[i] - borrow;
+    borrow = v < 0 ? 1 : 0;
+    if (borrow === 1) v += TWO_32;
+    d[i] = v;
+  }
+  let carry = 1;
+  for (let i = 3; i >= 0 && carry === 1; i--) {
+    if (d[i] === TWO_32 - 1) d[i] = 0;
+    else {
+      d[i] += 1;
+      carry = 0;
+    }
+  }
+  const bySize = carry === 1 ? 128 : floorLog2Words(d);
+  const aligned = trailingZerosWords(c);
+  const host = aligned < bySize ? aligned : bySize;
+  return host === bySize && isPowerOfTwoWords(d, carry) ? host + 256 : host;
+}
+
+/** cursor += 2^host (host < 128, and no carry leaves the top word: the cursor stays ≤ last). */
+function advanceWords(c: Words, host: number): void {
+  let i = 3 - (host >>> 5);
+  let v = c[i] + POW2[host & 31];
+  while (v >= TWO_32) {
+    c[i] = v - TWO_32;
+    i--;
+    v = c[i] + 1;
+  }
+  c[i] = v;
 }
 
 const CURSOR: Words = new Float64Array(4);
