@@ -154,15 +154,17 @@ function toWords(value: bigint, out: Words): Words {
 /** Scratch for the eight groups of an IPv6 address (formatting never re-enters itself). */
 const GROUPS = new Uint16Array(8);
 
-/** RFC 5952 text of an IPv6 address given as four 32-bit words. */
-function formatIPv6Words(w: Words): string {
-  if (w[0] === 0 && w[1] === 0 && w[2] === 0xffff) return `::ffff:${formatIPv4Number(w[3])}`;
+/**
+ * The eight groups of an IPv6 address (four 32-bit words) into GROUPS, and the run of zero
+ * groups "::" stands for as start × 16 + length, or -1 (RFC 5952 §4.2.2–4.2.3: the longest
+ * run of two or more zero groups, the first of equals).
+ */
+function groupsAndRun(w: Words): number {
   const g = GROUPS;
   for (let i = 0; i < 4; i++) {
     g[2 * i] = w[i] >>> 16;
     g[2 * i + 1] = w[i] & 0xffff;
   }
-  // RFC 5952 §4.2.2–4.2.3: the longest run of two or more zero groups, the first of equals.
   let bestStart = -1;
   let bestLength = 1;
   for (let i = 0; i < 8; ) {
@@ -178,11 +180,25 @@ function formatIPv6Words(w: Words): string {
     }
     i = j;
   }
-  if (bestStart < 0) {
+  return bestStart < 0 ? -1 : bestStart * 16 + bestLength;
+}
+
+/** Whether the words are an IPv4-mapped address (::ffff:a.b.c.d, RFC 5952 §5). */
+function isMappedIPv4(w: Words): boolean {
+  return w[0] === 0 && w[1] === 0 && w[2] === 0xffff;
+}
+
+/** RFC 5952 text of an IPv6 address given as four 32-bit words. */
+function formatIPv6Words(w: Words): string {
+  if (isMappedIPv4(w)) return `::ffff:${formatIPv4Number(w[3])}`;
+  const run = groupsAndRun(w);
+  const g = GROUPS;
+  if (run < 0) {
     let text = hexGroup(g[0]);
     for (let i = 1; i < 8; i++) text += colonHexGroup(g[i]);
     return text;
   }
+  const bestStart = run >>> 4;
   // "::" is the colon that ends the groups before the run (or starts the text) and the one
   // that starts each group after it.
   let text = ":";
@@ -191,10 +207,152 @@ function formatIPv6Words(w: Words): string {
     for (let i = 1; i < bestStart; i++) text += colonHexGroup(g[i]);
     text += ":";
   }
-  const after = bestStart + bestLength;
+  const after = bestStart + (run & 15);
   if (after === 8) return `${text}:`;
   for (let i = after; i < 8; i++) text += colonHexGroup(g[i]);
   return text;
+}
+
+function fromWords(w: Words): bigint {
+  return (BigInt(w[0]) << 96n) | (BigInt(w[1]) << 64n) | (BigInt(w[2]) << 32n) | BigInt(w[3]);
+}
+
+// ASCII bytes of the same texts, for writers that fill byte buffers (the CLI's JSON output).
+const DOT = 46;
+const COLON = 58;
+const SLASH = 47;
+const HEX_DIGIT = new Uint8Array(Array.from("0123456789abcdef", (c) => c.charCodeAt(0)));
+const MAPPED_PREFIX = new Uint8Array(Array.from("::ffff:", (c) => c.charCodeAt(0)));
+
+/** Writes a number below 1,000 in decimal at `at`; returns the offset after it. */
+function writeDecimal(n: number, bytes: Uint8Array, at: number): number {
+  if (n >= 100) bytes[at++] = 48 + Math.floor(n / 100);
+  if (n >= 10) bytes[at++] = 48 + (Math.floor(n / 10) % 10);
+  bytes[at++] = 48 + (n % 10);
+  return at;
+}
+
+/** Writes an IPv4 address (a number) as dotted-quad ASCII at `at`; returns the offset after it. */
+function writeIPv4Number(n: number, bytes: Uint8Array, at: number): number {
+  at = writeDecimal(n >>> 24, bytes, at);
+  bytes[at++] = DOT;
+  at = writeDecimal((n >>> 16) & 255, bytes, at);
+  bytes[at++] = DOT;
+  at = writeDecimal((n >>> 8) & 255, bytes, at);
+  bytes[at++] = DOT;
+  return writeDecimal(n & 255, bytes, at);
+}
+
+/** Writes a 16-bit group in lower-case hex without leading zeros; returns the offset after it. */
+function writeHexGroup(g: number, bytes: Uint8Array, at: number): number {
+  if (g >= 0x1000) bytes[at++] = HEX_DIGIT[g >>> 12];
+  if (g >= 0x100) bytes[at++] = HEX_DIGIT[(g >>> 8) & 15];
+  if (g >= 0x10) bytes[at++] = HEX_DIGIT[(g >>> 4) & 15];
+  bytes[at++] = HEX_DIGIT[g & 15];
+  return at;
+}
+
+/** Writes the RFC 5952 text of an IPv6 address (four 32-bit words) as ASCII; returns the offset after it. */
+function writeIPv6Words(w: Words, bytes: Uint8Array, at: number): number {
+  if (isMappedIPv4(w)) {
+    bytes.set(MAPPED_PREFIX, at);
+    return writeIPv4Number(w[3], bytes, at + MAPPED_PREFIX.length);
+  }
+  const run = groupsAndRun(w);
+  const g = GROUPS;
+  const start = run < 0 ? 8 : run >>> 4;
+  for (let i = 0; i < start; i++) {
+    if (i > 0) bytes[at++] = COLON;
+    at = writeHexGroup(g[i], bytes, at);
+  }
+  if (run < 0) return at;
+  // "::": the colon ending the groups before the run (or starting the text), then one before each group after it.
+  bytes[at++] = COLON;
+  const after = start + (run & 15);
+  if (after === 8) {
+    bytes[at++] = COLON;
+    return at;
+  }
+  for (let i = after; i < 8; i++) {
+    bytes[at++] = COLON;
+    at = writeHexGroup(g[i], bytes, at);
+  }
+  return at;
+}
+
+/** Longest CIDR text in bytes: "ffff:ffff:ffff:ffff:ffff:ffff:ffff:ffff/128". */
+const MAX_CIDR_BYTES = 43;
+
+/**
+ * Writes minimal CIDR covers (pushCidrs' CIDRs, in its order) as ASCII into a byte buffer
+ * from `at`, each CIDR between `before` and `after`, with no string per CIDR.
+ */
+export class CidrBytes {
+  at = 0;
+  private readonly limit: number;
+
+  constructor(
+    readonly bytes: Uint8Array,
+    private readonly before: Uint8Array,
+    private readonly after: Uint8Array,
+  ) {
+    this.limit = bytes.length - (MAX_CIDR_BYTES + before.length + after.length);
+  }
+
+  private put(text: Uint8Array, at: number): number {
+    const bytes = this.bytes;
+    for (let k = 0; k < text.length; k++) bytes[at++] = text[k];
+    return at;
+  }
+
+  /**
+   * Writes the cover of [first, last] while the buffer has room for one more CIDR. Returns
+   * null when the cover is complete, else the first address of the next CIDR: go on from
+   * there once the buffer is emptied (`at` = 0).
+   */
+  cover(family: Family, first: bigint, last: bigint): bigint | null {
+    const bytes = this.bytes;
+    let at = this.at;
+    if (family === 4) {
+      let cursor = Number(first);
+      const end = Number(last);
+      while (cursor <= end) {
+        if (at > this.limit) {
+          this.at = at;
+          return BigInt(cursor);
+        }
+        const host = ipv4BlockHost(cursor, end);
+        at = this.put(this.before, at);
+        at = writeIPv4Number(cursor, bytes, at);
+        bytes[at++] = SLASH;
+        at = writeDecimal(32 - host, bytes, at);
+        at = this.put(this.after, at);
+        cursor += POW2[host];
+      }
+      this.at = at;
+      return null;
+    }
+    const c = toWords(first, CURSOR);
+    const l = toWords(last, LAST);
+    for (;;) {
+      if (at > this.limit) {
+        this.at = at;
+        return fromWords(c);
+      }
+      const step = ipv6BlockHost(c, l);
+      const host = step & 255;
+      at = this.put(this.before, at);
+      at = writeIPv6Words(c, bytes, at);
+      bytes[at++] = SLASH;
+      at = writeDecimal(128 - host, bytes, at);
+      at = this.put(this.after, at);
+      if (step > 255) {
+        this.at = at;
+        return null;
+      }
+      advanceWords(c, host);
+    }
+  }
 }
 
 const FORMAT_WORDS: Words = new Float64Array(4);
@@ -289,10 +447,7 @@ export function pushCidrs(out: string[], family: Family, first: bigint, last: bi
     let cursor = Number(first);
     const end = Number(last);
     while (cursor <= end) {
-      const left = end - cursor + 1;
-      const bySize = left >= TWO_32 ? 32 : 31 - Math.clz32(left);
-      const aligned = cursor === 0 ? 32 : 31 - Math.clz32(cursor & -cursor);
-      const host = aligned < bySize ? aligned : bySize;
+      const host = ipv4BlockHost(cursor, end);
       out.push(formatIPv4Number(cursor) + SLASH_PREFIX[32 - host]);
       cursor += POW2[host];
     }
@@ -300,39 +455,58 @@ export function pushCidrs(out: string[], family: Family, first: bigint, last: bi
   }
   const c = toWords(first, CURSOR);
   const l = toWords(last, LAST);
-  const d = LEFT;
   for (;;) {
-    // d = last − cursor + 1 (addresses left); a carry out of the top word means all 2^128.
-    let borrow = 0;
-    for (let i = 3; i >= 0; i--) {
-      let v = l[i] - c[i] - borrow;
-      borrow = v < 0 ? 1 : 0;
-      if (borrow === 1) v += TWO_32;
-      d[i] = v;
-    }
-    let carry = 1;
-    for (let i = 3; i >= 0 && carry === 1; i--) {
-      if (d[i] === TWO_32 - 1) d[i] = 0;
-      else {
-        d[i] += 1;
-        carry = 0;
-      }
-    }
-    const bySize = carry === 1 ? 128 : floorLog2Words(d);
-    const aligned = trailingZerosWords(c);
-    const host = aligned < bySize ? aligned : bySize;
+    const step = ipv6BlockHost(c, l);
+    const host = step & 255;
     out.push(formatIPv6Words(c) + SLASH_PREFIX[128 - host]);
-    if (host === bySize && isPowerOfTwoWords(d, carry)) return; // the block ends at last
-    // cursor += 2^host (host < 128 here, and no carry leaves the top word: cursor stays ≤ last).
-    let i = 3 - (host >>> 5);
-    let v = c[i] + POW2[host & 31];
-    while (v >= TWO_32) {
-      c[i] = v - TWO_32;
-      i--;
-      v = c[i] + 1;
-    }
-    c[i] = v;
+    if (step > 255) return;
+    advanceWords(c, host);
   }
+}
+
+/** Host bits of the largest block at the IPv4 cursor that ends at or before `last`. */
+function ipv4BlockHost(cursor: number, last: number): number {
+  const left = last - cursor + 1;
+  const bySize = left >= TWO_32 ? 32 : 31 - Math.clz32(left);
+  const aligned = cursor === 0 ? 32 : 31 - Math.clz32(cursor & -cursor);
+  return aligned < bySize ? aligned : bySize;
+}
+
+/** Host bits of the largest block at the IPv6 cursor c that ends at or before l; 256 more when it ends at l (the last block). */
+function ipv6BlockHost(c: Words, l: Words): number {
+  const d = LEFT;
+  // d = last − cursor + 1 (addresses left); a carry out of the top word means all 2^128.
+  let borrow = 0;
+  for (let i = 3; i >= 0; i--) {
+    let v = l[i] - c[i] - borrow;
+    borrow = v < 0 ? 1 : 0;
+    if (borrow === 1) v += TWO_32;
+    d[i] = v;
+  }
+  let carry = 1;
+  for (let i = 3; i >= 0 && carry === 1; i--) {
+    if (d[i] === TWO_32 - 1) d[i] = 0;
+    else {
+      d[i] += 1;
+      carry = 0;
+    }
+  }
+  const bySize = carry === 1 ? 128 : floorLog2Words(d);
+  const aligned = trailingZerosWords(c);
+  const host = aligned < bySize ? aligned : bySize;
+  return host === bySize && isPowerOfTwoWords(d, carry) ? host + 256 : host;
+}
+
+/** cursor += 2^host (host < 128, and no carry leaves the top word: the cursor stays ≤ last). */
+function advanceWords(c: Words, host: number): void {
+  let i = 3 - (host >>> 5);
+  let v = c[i] + POW2[host & 31];
+  while (v >= TWO_32) {
+    c[i] = v - TWO_32;
+    i--;
+    v = c[i] + 1;
+  }
+  c[i] = v;
 }
 
 const CURSOR: Words = new Float64Array(4);

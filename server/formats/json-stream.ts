@@ -7,6 +7,8 @@
 // toJSON, boxed primitives, undefined / functions / symbols left out of objects and written
 // as null in arrays, TypeError on cycles and BigInts). Arrays of plain primitives, the bulk
 // of a large document (CIDR lists), are written by JSON.stringify itself, block by block.
+// A value can also write itself (OWN_JSON): the CLI writes the exposure's CIDR lists as
+// bytes from the address ranges, without making a string per CIDR.
 
 export interface JsonPiecesOptions {
   /** Spaces per level, as JSON.stringify's third argument (0: compact). */
@@ -15,6 +17,29 @@ export interface JsonPiecesOptions {
   readonly pieceSize?: number;
   /** Elements per native block of a primitive array: large enough to be fast, small enough to stay flat. */
   readonly blockSize?: number;
+}
+
+/** Key of the method by which a value writes its own JSON text. */
+export const OWN_JSON: unique symbol = Symbol("sallyport.ownJson");
+
+/** A value that writes its own JSON text. */
+export interface OwnJson {
+  /**
+   * Exactly the text JSON.stringify(value, null, gap) would give the value it stands for,
+   * its inner lines shifted by `at` (the indentation of the line it starts on), in pieces.
+   */
+  [OWN_JSON](at: string, gap: string): Iterable<string>;
+}
+
+function writesOwnJson(value: object): value is OwnJson {
+  return typeof (value as Partial<OwnJson>)[OWN_JSON] === "function";
+}
+
+/** A value writing its own text, a piece per step. */
+interface OwnFrame {
+  readonly kind: "own";
+  readonly pieces: Iterator<string, unknown, undefined>;
+  readonly indent: string;
 }
 
 interface ArrayFrame {
@@ -42,7 +67,7 @@ interface ObjectFrame {
   readonly indent: string;
 }
 
-type Frame = ArrayFrame | BlocksFrame | ObjectFrame;
+type Frame = ArrayFrame | BlocksFrame | ObjectFrame | OwnFrame;
 
 /** The value JSON.stringify serialises for `value` under `key`: toJSON applied, boxed primitives unwrapped. */
 function prepared(value: unknown, key: string): unknown {
@@ -124,6 +149,10 @@ export function* jsonPieces(value: unknown, options: JsonPiecesOptions = {}): Ge
   const begin = (v: unknown, at: string): string | undefined => {
     if (typeof v !== "object" || v === null) return primitiveText(v);
     if (open.includes(v)) throw new TypeError("Converting circular structure to JSON");
+    if (writesOwnJson(v)) {
+      stack.push({ kind: "own", pieces: v[OWN_JSON](at, gap)[Symbol.iterator](), indent: at });
+      return "";
+    }
     if (Array.isArray(v)) {
       if (v.length === 0) return "[]";
       if (holdsPlainPrimitives(v)) {
@@ -141,7 +170,7 @@ export function* jsonPieces(value: unknown, options: JsonPiecesOptions = {}): Ge
     return "";
   };
 
-  const close = (frame: Frame): string => {
+  const close = (frame: ArrayFrame | BlocksFrame | ObjectFrame): string => {
     stack.pop();
     open.pop();
     if (frame.kind === "object") return frame.wrote ? (compact ? "}" : `\n${frame.indent}}`) : "{}";
@@ -160,6 +189,12 @@ export function* jsonPieces(value: unknown, options: JsonPiecesOptions = {}): Ge
     const frame = stack[stack.length - 1];
     const inner = frame.indent + gap;
     switch (frame.kind) {
+      case "own": {
+        const next = frame.pieces.next();
+        if (next.done === true) stack.pop();
+        else buffer += next.value;
+        break;
+      }
       case "blocks": {
         if (frame.index >= frame.array.length) {
           buffer += close(frame);

@@ -8,7 +8,7 @@
 
 import fc from "fast-check";
 import { describe, expect, test } from "vitest";
-import { FAMILY, formatAddress, parseCidr, rangeToCidrs } from "#server/engine/addresses.ts";
+import { CidrBytes, FAMILY, formatAddress, parseCidr, rangeToCidrs } from "#server/engine/addresses.ts";
 import type { Family } from "#server/engine/addresses.ts";
 import { collapse, rangesToCidrs, setToCidrs } from "#server/engine/address-sets.ts";
 import type { Ranges } from "#server/engine/address-sets.ts";
@@ -154,6 +154,42 @@ describe("minimal CIDR cover, word by word, equals the bit-by-bit reference", ()
       }),
       { numRuns: 200 },
     );
+  });
+});
+
+describe("CIDR covers written as bytes (CidrBytes) are the same text", () => {
+  /** The cover of `ranges` written through a buffer of `size` bytes, emptied whenever it is full. */
+  function written(ranges: Ranges, family: Family, size: number): string[] {
+    const piece = new CidrBytes(new Uint8Array(size), new TextEncoder().encode("<"), new TextEncoder().encode(">"));
+    let text = "";
+    const take = (): void => {
+      text += new TextDecoder("latin1").decode(piece.bytes.subarray(0, piece.at));
+      piece.at = 0;
+    };
+    for (let i = 0; i < ranges.length; i += 2) {
+      let from: bigint | null = ranges[i];
+      while ((from = piece.cover(family, from, ranges[i + 1])) !== null) take();
+    }
+    take();
+    return text === "" ? [] : text.slice(1, -1).split("><");
+  }
+
+  test.each([4, 6] as const)("IPv%i: the reference's CIDRs, in order, whatever the buffer size", (family) => {
+    fc.assert(
+      fc.property(rangesOf(family), fc.integer({ min: 46, max: 400 }), (ranges, size) => {
+        expect(written(ranges, family, size)).toEqual(referenceRanges(ranges, family));
+      }),
+      { numRuns: family === 4 ? 400 : 250 },
+    );
+  });
+
+  test("whole families, the all-zero address and IPv4-mapped text (RFC 5952 §4.2, §5)", () => {
+    expect(written([0n, FAMILY[4].max], 4, 64)).toEqual(["0.0.0.0/0"]);
+    expect(written([0n, FAMILY[6].max], 6, 64)).toEqual(["::/0"]);
+    expect(written([0n, 0n, 1n, 1n], 6, 64)).toEqual(["::/128", "::1/128"]);
+    const mapped = (0xffffn << 32n) | 0xc0000201n;
+    expect(written([mapped, mapped], 6, 64)).toEqual(["::ffff:192.0.2.1/128"]);
+    expect(written([0x20010db8n << 96n, (0x20010db8n << 96n) + 1n], 6, 64)).toEqual(["2001:db8::/127"]);
   });
 });
 

@@ -4,8 +4,8 @@
 
 import fc from "fast-check";
 import { describe, expect, test } from "vitest";
-import { jsonPieces } from "#server/formats/json-stream.ts";
-import type { JsonPiecesOptions } from "#server/formats/json-stream.ts";
+import { jsonPieces, OWN_JSON } from "#server/formats/json-stream.ts";
+import type { JsonPiecesOptions, OwnJson } from "#server/formats/json-stream.ts";
 
 const joined = (value: unknown, options: JsonPiecesOptions = {}): string => [...jsonPieces(value, options)].join("");
 
@@ -110,5 +110,20 @@ describe("jsonPieces", () => {
     expect([...jsonPieces(undefined)]).toEqual([]);
     expect([...jsonPieces(() => 1)]).toEqual([]);
     expect(joined({ toJSON: () => undefined })).toBe("");
+  });
+
+  test("a value writing its own text (OWN_JSON) is placed with the indentation of its line", () => {
+    /** Stands for `value`: its text made here, a character per piece, shifted to the line it starts on. */
+    const own = (value: unknown): OwnJson => ({
+      *[OWN_JSON](at: string, gap: string) {
+        yield* (JSON.stringify(value, null, gap) ?? "").replaceAll("\n", `\n${at}`);
+      },
+    });
+    const inner = { silent: ["192.0.2.0/24", "2001:db8::/32"], refused: [] };
+    const document = { entries: [{ to: "198.51.100.1", ranges: inner }, { to: "198.51.100.2", ranges: inner }] };
+    const standIn = { entries: document.entries.map((e) => ({ ...e, ranges: own(e.ranges) })) };
+    for (const indent of [0, 2, 4]) {
+      for (const pieceSize of [1, 16, 1 << 16]) expect(joined(standIn, { indent, pieceSize })).toBe(JSON.stringify(document, null, indent));
+    }
   });
 });

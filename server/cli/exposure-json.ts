@@ -1,0 +1,88 @@
+// The exposure's CIDR lists written as bytes straight from the address ranges. They are the
+// bulk of a large map's JSON (millions of CIDRs); the engine's lists would make a string per
+// CIDR and JSON.stringify would then copy and scan each one. The text is the same: every CIDR
+// is ASCII with nothing to escape, written in the lists' order with JSON.stringify's layout.
+
+import { Buffer } from "node:buffer";
+import { CidrBytes } from "../engine/addresses.ts";
+import type { Ranges } from "../engine/address-sets.ts";
+import { outcomeSets } from "../engine/exposure.ts";
+import type { ExposureCell, ExposureEntry, OutcomeSets } from "../engine/exposure.ts";
+import type { CompiledModel } from "../engine/index.ts";
+import { OUTCOMES } from "../engine/vocabulary.ts";
+import { OWN_JSON } from "../formats/json-stream.ts";
+import type { OwnJson } from "../formats/json-stream.ts";
+
+/** Bytes per piece handed to the JSON writer. */
+const PIECE = 1 << 16;
+/** What follows each CIDR: its closing quote and a comma (the last list element's is taken back). */
+const AFTER = Buffer.from('",', "latin1");
+
+/** JSON text of the six CIDR lists of a partition, as JSON.stringify writes the engine's `ranges` object. */
+function* cidrListsText(sets: OutcomeSets, at: string, gap: string): Generator<string, void, undefined> {
+  const compact = gap === "";
+  const inner = at + gap;
+  const piece = new CidrBytes(Buffer.allocUnsafe(PIECE), Buffer.from(compact ? '"' : `\n${inner}${gap}"`, "latin1"), AFTER);
+  const bytes = piece.bytes as Buffer;
+  const take = (): string => {
+    const text = bytes.toString("latin1", 0, piece.at);
+    piece.at = 0;
+    return text;
+  };
+  /** Writes short text, taking the piece first when it has no room: returns the piece taken, if one was. */
+  const put = (text: string): string | null => {
+    const full = PIECE - piece.at < text.length ? take() : null;
+    piece.at += bytes.write(text, piece.at, "latin1");
+    return full;
+  };
+  const ranges: readonly Ranges[] = sets.ranges;
+  for (let k = 0; k < OUTCOMES.length; k++) {
+    const list = ranges[k];
+    const head = `${k > 0 ? "," : "{"}${compact ? "" : `\n${inner}`}${JSON.stringify(OUTCOMES[k])}${compact ? ":" : ": "}[${list.length === 0 ? "]" : ""}`;
+    const full = put(head);
+    if (full !== null) yield full;
+    if (list.length === 0) continue;
+    for (let r = 0; r < list.length; r += 2) {
+      let from: bigint | null = list[r];
+      while ((from = piece.cover(sets.family, from, list[r + 1])) !== null) yield take();
+    }
+    // The last CIDR's comma; it is in this piece, as a piece is only taken before a CIDR.
+    piece.at--;
+    const closed = put(compact ? "]" : `\n${inner}]`);
+    if (closed !== null) yield closed;
+  }
+  const full = put(compact ? "}" : `\n${at}}`);
+  if (full !== null) yield full;
+  yield take();
+}
+
+/** An entry's CIDR lists, written from the partition's ranges. */
+class CidrLists implements OwnJson {
+  constructor(private readonly sets: OutcomeSets) {}
+  [OWN_JSON](at: string, gap: string): Iterable<string> {
+    return cidrListsText(this.sets, at, gap);
+  }
+}
+
+/**
+ * `value` (an exposure at an instant or one slice) for the JSON writer, its entries' CIDR
+ * lists written from the ranges of `cells` (the slice's cells, in the entries' order). The
+ * value is returned as it is when its entries are not those cells.
+ */
+export function withCidrBytes<T extends { readonly entries: readonly ExposureEntry[] }>(engine: CompiledModel, value: T, cells: readonly ExposureCell[]): unknown {
+  const { entries } = value;
+  if (entries.length !== cells.length) return value;
+  const same = entries.every((entry, i) => {
+    const cell = cells[i];
+    return entry.interface === engine.model.interfaces[cell.iface].name && entry.to === engine.addresses[cell.to].text && entry.service === engine.catalogue[cell.cls].name;
+  });
+  if (!same) return value;
+  return {
+    ...value,
+    entries: entries.map((entry, i) => {
+      const copy: Record<string, unknown> = {};
+      for (const key of Object.keys(entry) as (keyof ExposureEntry)[]) copy[key] = key === "ranges" ? new CidrLists(outcomeSets(engine, cells[i].partition)) : entry[key];
+      return copy;
+    }),
+  };
+}
