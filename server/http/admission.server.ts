@@ -12,6 +12,7 @@
 // squeezed to the share of one with ten. The cost is the process's CPU time, split evenly among
 // the requests in flight while it was spent (processor sharing): no request's time is counted
 // twice and waiting on PostgreSQL costs nothing.
+import { performance } from "node:perf_hooks";
 
 /** A request waiting for its turn. */
 type Waiting = { flow: Flow; start: () => void; cancelled: boolean };
@@ -171,9 +172,14 @@ export class FairAdmission {
   }
 }
 
+/**
+ * The main thread's busy time so far (ms): the event loop's time outside its wait for I/O, which
+ * is where a request's JavaScript, rendering and compression run. Read from the loop's own
+ * counters without a system call: `process.cpuUsage()` (getrusage) showed as ≈ 2 % of the web
+ * process's profile on the loaded machine (0.6 µs against 1.8 µs a call when quiet).
+ */
 function processCpuMilliseconds(): number {
-  const usage = process.cpuUsage();
-  return (usage.user + usage.system) / 1000;
+  return performance.eventLoopUtilization().active;
 }
 
 /** The organisation a request path names (`/o/<slug>/…`), or "" for the pages outside one. */
