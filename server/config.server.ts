@@ -53,6 +53,8 @@ const EnvironmentSchema = z.object({
   MAIL_OUTBOX_DIR: z.string().optional(),
   /** "1" adds a Server-Timing header with each response's database query count and time. */
   SERVER_TIMING: z.enum(["0", "1"]).default("0"),
+  /** Requests one web process works at once; the rest wait their fair turn (server/http/admission.server.ts, docs/decisions/024). */
+  ADMISSION_CONCURRENCY: z.coerce.number().int().min(1, "ADMISSION_CONCURRENCY must be at least 1").max(1024).default(4),
   /**
    * Origins (comma-separated, e.g. "https://ops.example") whose pages may call the REST API from a
    * browser (CORS); empty, the default, leaves CORS off (docs/decisions/014).

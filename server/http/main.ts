@@ -9,6 +9,7 @@ import express from "express";
 import type { ServerBuild } from "react-router";
 import { appOrigin, getEnvironment, isOutboxEnabled, listensOnLoopbackOnly } from "../config.server.ts";
 import { outboxLink } from "../mail/outbox-access.server.ts";
+import { FairAdmission, organisationOfPath } from "./admission.server.ts";
 import { createRequestContext } from "./request-context.server.ts";
 import { createRequestHandler } from "./respond.server.ts";
 import { canonicalOrigin, clientAddressOf, requestSizeLimit, requestTextGuard, sameOriginGuard, securityHeaders } from "./security.ts";
@@ -43,12 +44,29 @@ function getLoadContext(request: express.Request, response: express.Response) {
   return createRequestContext({ clientAddress: clientAddressOf(request), cspNonce: String(response.locals.cspNonce ?? "") });
 }
 
+// Pages and API answers are worked a few at a time, organisations' users in fair turns
+// (docs/decisions/024); static files do not wait.
+const admission = new FairAdmission({ concurrency: environment.ADMISSION_CONCURRENCY });
+function inTurn(handler: express.RequestHandler): express.RequestHandler {
+  return (request, response, next) => {
+    // The flow: the organisation in the URL and whoever's credentials came (not yet checked:
+    // only the order of work depends on it, and an unknown one is refused cheaply in its turn).
+    const who = request.get("authorization") ?? request.get("cookie") ?? clientAddressOf(request);
+    const withdraw = admission.admit(organisationOfPath(request.path), who, (done) => {
+      response.once("finish", done);
+      response.once("close", done);
+      void handler(request, response, next);
+    });
+    response.once("close", withdraw);
+  };
+}
+
 if (development) {
   const vite = await import("vite");
   // SALLYPORT_HMR=0 lets several development servers run side by side (tests, helpers).
   const viteServer = await vite.createServer({ root, server: { middlewareMode: true, hmr: process.env.SALLYPORT_HMR === "0" ? false : undefined } });
   app.use(viteServer.middlewares);
-  app.all(/.*/, async (request, response, next) => {
+  app.all(/.*/, inTurn(async (request, response, next) => {
     try {
       const build = (await viteServer.ssrLoadModule("virtual:react-router/server-build")) as ServerBuild;
       return createRequestHandler({ build, mode: "development", getLoadContext })(request, response, next);
@@ -56,7 +74,7 @@ if (development) {
       if (error instanceof Error) viteServer.ssrFixStacktrace(error);
       next(error);
     }
-  });
+  }));
 } else {
   const buildPath = path.join(root, "build/server/index.js");
   const build = (await import(buildPath)) as ServerBuild;
@@ -66,7 +84,7 @@ if (development) {
   const publicFiles = express.static(path.join(root, "build/client"), { maxAge: "1h" });
   const publicNames = new Set(readdirSync(path.join(root, "build/client")).filter((name) => name !== "assets"));
   app.use((request, response, next) => (publicNames.has(request.path.split("/")[1] ?? "") ? publicFiles(request, response, next) : next()));
-  app.all(/.*/, createRequestHandler({ build, mode: "production", getLoadContext }));
+  app.all(/.*/, inTurn(createRequestHandler({ build, mode: "production", getLoadContext })));
 }
 
 // Express 5 calls back with the error when the port cannot be had (EADDRINUSE): say so and stop.
@@ -79,6 +97,12 @@ const server = app.listen(port, host, (error?: Error) => {
   if (isOutboxEnabled()) console.log(`Local outbox (keep this link to yourself): ${outboxLink()}`);
   else if (environment.SALLYPORT_FAKE_SMTP === "1" && !listensOnLoopbackOnly()) console.log("Local outbox: off, because the server listens beyond loopback (OUTBOX_BEYOND_LOOPBACK=1 opens it).");
 });
+// Idle connections are kept longer than a client or proxy keeps its own (Node's default is 5 s,
+// undici's fetch reuses a connection for up to 4 s and browsers longer): a server that closes
+// first races the client's next request on that connection ("other side closed"). Common
+// practice (no source): above the 60 s idle timeout of common load balancers.
+server.keepAliveTimeout = 65_000;
+server.headersTimeout = 66_000;
 // The app (app/entry.server.tsx) works the job queue in this process unless SALLYPORT_JOBS=0; stopping lets running jobs end.
 for (const signal of ["SIGINT", "SIGTERM"] as const) {
   process.on(signal, () => server.close(() => void stopProcessJobs().finally(() => process.exit(0))));

@@ -1,6 +1,6 @@
 // Load benchmark (issue 14, docs/decisions/018): the demo organisation plus a second organisation
 // of many benchmark-size devices, served as `npm start` serves them (server/launch.ts: honours
-// WEB_CONCURRENCY and JOB_WORKERS), driven over HTTP with Node's own fetch (undici).
+// WEB_CONCURRENCY and JOB_WORKERS), driven over HTTP (sign-in through fetch; the measured requests through one keep-alive agent per session, as a browser).
 //   npm run bench:load                         full run: 500 devices, 100 requests/s for 60 s
 //   npm run bench:load -- --json               one JSON object (keys below)
 //   npm run bench:load -- --devices=20 --duration=5 --rate=20 --sessions=20 --closed-seconds=3   a smoke run
@@ -14,12 +14,13 @@
 // JSON keys: { config: {devices, modelSize, rate, durationSeconds, sessions, connections, closedSeconds,
 // webConcurrency, jobWorkers}, seedSeconds, openLoop: { overall, byRoute: {fleet, tracePage, traceApi},
 // heavyFleet }, closedLoop: { fleet, tracePage, traceApi, heavyFleet } }, where every latency block is
-// { count, errors, p50Ms, p95Ms, p99Ms, maxMs } and every closed-loop block adds requestsPerSecond.
+// { count, errors, errorKinds (only when errors: HTTP status or fetch failure code → count), p50Ms, p95Ms, p99Ms, maxMs } and every closed-loop block adds requestsPerSecond.
 // Targets (issue 14, 2-core machine): open-loop p95 ≤ 250 ms with 0 errors; the demo trace JSON
 // route's p95 ≤ 50 ms while the large fleet page is being loaded.
 // Needs the build and its own database: `bash server/setup/bench-load.sh` prepares both; the large
 // organisation is seeded once and kept between runs (SALLYPORT_LOAD_DB_NAME names the database).
 import { spawn } from "node:child_process";
+import http from "node:http";
 import { performance } from "node:perf_hooks";
 import { Membership, Organisation, Site, User } from "#models/index.ts";
 import { getDatabase } from "#server/db/database.server.ts";
@@ -61,18 +62,24 @@ const log = (line: string) => {
   if (!json) console.log(line);
 };
 
-type Latencies = { count: number; errors: number; p50Ms: number; p95Ms: number; p99Ms: number; maxMs: number };
+type Latencies = { count: number; errors: number; errorKinds?: Record<string, number>; p50Ms: number; p95Ms: number; p99Ms: number; maxMs: number };
 class Recorder {
   readonly times: number[] = [];
   errors = 0;
-  add(ms: number, ok: boolean) {
+  /** What went wrong, counted: an HTTP status or the fetch failure's code. */
+  readonly errorKinds: Record<string, number> = {};
+  add(ms: number, ok: boolean | string) {
     this.times.push(ms);
-    if (!ok) this.errors += 1;
+    if (ok !== true) {
+      this.errors += 1;
+      const kind = ok === false ? "failed" : ok;
+      this.errorKinds[kind] = (this.errorKinds[kind] ?? 0) + 1;
+    }
   }
   summary(): Latencies {
     const sorted = [...this.times].sort((a, b) => a - b);
     const at = (p: number) => (sorted.length ? Math.round(sorted[Math.min(sorted.length - 1, Math.floor(sorted.length * p))] * 10) / 10 : 0);
-    return { count: sorted.length, errors: this.errors, p50Ms: at(0.5), p95Ms: at(0.95), p99Ms: at(0.99), maxMs: at(1) };
+    return { count: sorted.length, errors: this.errors, ...(this.errors ? { errorKinds: this.errorKinds } : {}), p50Ms: at(0.5), p95Ms: at(0.95), p99Ms: at(0.99), maxMs: at(1) };
   }
 }
 
@@ -105,15 +112,35 @@ async function signIn(base: string, email: string, password: string, address: st
   return cookie;
 }
 
-async function timed(base: string, path: string, cookie: string): Promise<[number, boolean]> {
-  const start = performance.now();
-  try {
-    const response = await fetch(`${base}${path}`, { headers: { Cookie: cookie } });
-    await response.arrayBuffer();
-    return [performance.now() - start, response.ok];
-  } catch {
-    return [performance.now() - start, false];
+// Connections are held as browsers hold them: each signed-in session is one browser with its
+// own keep-alive agent of at most six connections (what browsers open per HTTP/1.1 origin),
+// kept open between requests; a request beyond six waits in the client, and that wait counts
+// in its time (the clock starts when it is due). Node's fetch shares one unbounded pool
+// instead: once the server fell behind the open loop opened a new connection per request in
+// flight — thousands — overflowing the listen backlog, and measured connect time-outs and
+// resets (UND_ERR_CONNECT_TIMEOUT, ECONNRESET) that no browser population of this size causes.
+const agents = new Map<string, http.Agent>();
+function agentOf(cookie: string): http.Agent {
+  let agent = agents.get(cookie);
+  if (!agent) {
+    agent = new http.Agent({ keepAlive: true, maxSockets: 6 });
+    agents.set(cookie, agent);
   }
+  return agent;
+}
+
+/** The time taken and true, or what went wrong: the status, or the failure's code. */
+async function timed(base: string, path: string, cookie: string): Promise<[number, true | string]> {
+  const start = performance.now();
+  const outcome = await new Promise<true | string>((resolve) => {
+    const request = http.get(`${base}${path}`, { agent: agentOf(cookie), headers: { Cookie: cookie, "Accept-Encoding": "br, gzip" } }, (response) => {
+      response.on("data", () => undefined);
+      response.on("end", () => resolve((response.statusCode ?? 0) >= 200 && (response.statusCode ?? 0) < 300 ? true : `HTTP ${response.statusCode}`));
+      response.on("error", (error: NodeJS.ErrnoException) => resolve(error.code ?? error.message));
+    });
+    request.on("error", (error: NodeJS.ErrnoException) => resolve(error.code ?? error.message));
+  });
+  return [performance.now() - start, outcome];
 }
 
 async function main() {
@@ -239,6 +266,7 @@ async function main() {
       for (const [name, block] of Object.entries(closedLoop)) console.log(`  ${name}: ${block.requestsPerSecond} requests/s, p95 ${block.p95Ms} ms, ${block.errors} errors`);
     }
   } finally {
+    for (const agent of agents.values()) agent.destroy();
     server.kill("SIGTERM");
     await getDatabase().close();
   }

@@ -1,0 +1,133 @@
+// The web process's fair admission (server/http/admission.server.ts, docs/decisions/024), driven
+// by a CPU clock the test moves: who is let in, in which order, and what each flow is charged.
+import { describe, expect, it } from "vitest";
+import { FairAdmission, organisationOfPath } from "#server/http/admission.server.ts";
+
+function harness(concurrency: number) {
+  let cpu = 0;
+  const admission = new FairAdmission({ concurrency, cpuClock: () => cpu });
+  const started: string[] = [];
+  const finishers = new Map<string, () => void>();
+  const ask = (group: string, who: string, name: string) =>
+    admission.admit(group, who, (done) => {
+      started.push(name);
+      finishers.set(name, done);
+    });
+  /** Spends `ms` of CPU among the requests in flight, then ends request `name`. */
+  const finish = (name: string, ms: number) => {
+    cpu += ms;
+    const done = finishers.get(name);
+    if (!done) throw new Error(`${name} has not started`);
+    finishers.delete(name);
+    done();
+  };
+  return { admission, started, ask, finish };
+}
+
+describe("fair admission", () => {
+  it("works at most `concurrency` requests at once and lets the next in when one ends", () => {
+    const { admission, started, ask, finish } = harness(2);
+    ask("a", "u1", "a1");
+    ask("a", "u1", "a2");
+    ask("a", "u1", "a3");
+    expect(started).toEqual(["a1", "a2"]);
+    expect(admission.active).toBe(2);
+    expect(admission.queued).toBe(1);
+    finish("a1", 10);
+    expect(started).toEqual(["a1", "a2", "a3"]);
+    expect(admission.queued).toBe(0);
+  });
+
+  it("lets a quiet organisation's request pass the queued requests of a busy one", () => {
+    const { started, ask, finish } = harness(1);
+    // The busy organisation's user: one request working, four waiting, each costing 50 ms.
+    for (let index = 1; index <= 5; index++) ask("large", "heavy", `large${index}`);
+    finish("large1", 50);
+    // Another organisation's request arrives behind the four waiting ones…
+    ask("demo", "engineer", "demo1");
+    finish("large2", 50);
+    // …and goes next, not fifth.
+    expect(started).toEqual(["large1", "large2", "demo1"]);
+  });
+
+  it("serves two busy flows in turn by their CPU cost: equal time each, so more of the cheap requests", () => {
+    const { started, ask, finish } = harness(1);
+    for (let index = 1; index <= 4; index++) ask("large", "heavy", `L${index}`);
+    for (let index = 1; index <= 30; index++) ask("demo", "engineer", `d${index}`);
+    const costOf = (name: string) => (name.startsWith("L") ? 40 : 5);
+    while (started.length < 34) finish(started[started.length - 1], costOf(started[started.length - 1]));
+    // After the first large request (40 ms) the demo flow catches up with 8 requests of 5 ms,
+    // then they alternate one 40 ms request against eight 5 ms ones: neither flow starves.
+    const demoBetween = (from: string, to: string) => started.slice(started.indexOf(from) + 1, started.indexOf(to)).length;
+    expect(started[0]).toBe("L1");
+    expect(demoBetween("L1", "L2")).toBe(8);
+    expect(demoBetween("L2", "L3")).toBe(8);
+    expect(demoBetween("L3", "L4")).toBe(8);
+  });
+
+  it("gives each user of an organisation a turn: many users of one organisation are not squeezed to one user's share", () => {
+    const { started, ask, finish } = harness(1);
+    ask("large", "heavy", "L1");
+    ask("large", "heavy", "L2");
+    ask("large", "heavy", "L3");
+    finish("L1", 30);
+    for (let user = 1; user <= 3; user++) ask("demo", `engineer${user}`, `d${user}`);
+    while (started.length < 6) finish(started[started.length - 1], started[started.length - 1].startsWith("L") ? 30 : 30);
+    // The three demo users each had their turn before the large user's third request.
+    expect(started.indexOf("L3")).toBeGreaterThan(started.indexOf("d3"));
+  });
+
+  it("forgets a request withdrawn while waiting and never starts it", () => {
+    const { admission, started, ask, finish } = harness(1);
+    ask("a", "u1", "a1");
+    const withdraw = ask("b", "u2", "b1");
+    ask("c", "u3", "c1");
+    withdraw();
+    withdraw();
+    expect(admission.queued).toBe(1);
+    finish("a1", 1);
+    expect(started).toEqual(["a1", "c1"]);
+  });
+
+  it("charges the CPU spent while several requests worked evenly among them", () => {
+    const { admission, ask, finish } = harness(2);
+    ask("a", "u1", "a1");
+    ask("b", "u2", "b1");
+    // 20 ms while both worked: 10 each.
+    finish("a1", 20);
+    expect(admission.estimateOf("a")).toBeCloseTo(10);
+    // 6 ms more with b alone: b cost 16 in all.
+    finish("b1", 6);
+    expect(admission.estimateOf("b")).toBeCloseTo(16);
+  });
+
+  it("counts a request's end once even when told twice", () => {
+    let cpu = 0;
+    const admission = new FairAdmission({ concurrency: 1, cpuClock: () => cpu });
+    let finishFirst: () => void = () => undefined;
+    const started: string[] = [];
+    admission.admit("a", "u1", (done) => {
+      started.push("a1");
+      finishFirst = done;
+    });
+    admission.admit("a", "u1", () => started.push("a2"));
+    admission.admit("a", "u1", () => started.push("a3"));
+    cpu += 1;
+    finishFirst();
+    finishFirst();
+    expect(started).toEqual(["a1", "a2"]);
+    expect(admission.active).toBe(1);
+  });
+
+  it("refuses a concurrency below one", () => {
+    expect(() => new FairAdmission({ concurrency: 0 })).toThrow(/at least 1/);
+  });
+
+  it("reads the organisation from the path, with or without the data suffix", () => {
+    expect(organisationOfPath("/o/lanternfield/devices")).toBe("lanternfield");
+    expect(organisationOfPath("/o/lanternfield.data")).toBe("lanternfield");
+    expect(organisationOfPath("/o/lanternfield/devices.data")).toBe("lanternfield");
+    expect(organisationOfPath("/login")).toBe("");
+    expect(organisationOfPath("/api/v1/devices")).toBe("");
+  });
+});
