@@ -97,10 +97,11 @@ const server = app.listen(port, host, (error?: Error) => {
   if (isOutboxEnabled()) console.log(`Local outbox (keep this link to yourself): ${outboxLink()}`);
   else if (environment.SALLYPORT_FAKE_SMTP === "1" && !listensOnLoopbackOnly()) console.log("Local outbox: off, because the server listens beyond loopback (OUTBOX_BEYOND_LOOPBACK=1 opens it).");
 });
-// Idle connections are kept longer than a client or proxy keeps its own (Node's default is 5 s,
-// undici's fetch reuses a connection for up to 4 s and browsers longer): a server that closes
-// first races the client's next request on that connection ("other side closed"). Common
-// practice (no source): above the 60 s idle timeout of common load balancers.
+// Idle keep-alive connections live longer than those of the clients and proxies in front of us
+// (browsers keep them about a minute or more, a common load balancer's idle timeout is 60 s):
+// with Node's 5 s default the server could close a connection just as a client reused it,
+// which the client sees as "other side closed" (common practice, no source). headersTimeout must
+// exceed keepAliveTimeout, or a request on a reused connection could be cut off by it.
 server.keepAliveTimeout = 65_000;
 server.headersTimeout = 66_000;
 // The app (app/entry.server.tsx) works the job queue in this process unless SALLYPORT_JOBS=0; stopping lets running jobs end.

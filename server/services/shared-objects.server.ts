@@ -115,7 +115,8 @@ type LibraryPlan = {
   report?: CsvRowReport[];
 };
 
-type Planner = (library: SharedObjectRow[], devices: readonly DeviceAtRevision[]) => LibraryPlan;
+/** Plans a change against the library as it is (`fingerprint` is `fingerprintOf(library)`, computed once by the caller). */
+type Planner = (library: SharedObjectRow[], devices: readonly DeviceAtRevision[], fingerprint: string) => LibraryPlan;
 
 function sameValue(a: SharedObjectInput, b: SharedObjectInput): boolean {
   return a.kind === b.kind && JSON.stringify(a.items) === JSON.stringify(b.items);
@@ -343,7 +344,8 @@ async function throughProposals(organisationId: string, transaction?: Transactio
 async function preview(organisationId: string, planner: Planner): Promise<SharedChangePreview> {
   const library = await listSharedObjects(organisationId);
   const devices = await deviceRevisions.current(organisationId);
-  const plan = planner(library, devices);
+  const fingerprint = fingerprintOf(library);
+  const plan = planner(library, devices, fingerprint);
   const { revised, unchanged } = devicePlans(plan, libraryOf(library), devices);
   const effects = revised.map(effectOf);
   return {
@@ -351,7 +353,7 @@ async function preview(organisationId: string, planner: Planner): Promise<Shared
     devices: effects,
     policy: { throughProposals: await throughProposals(organisationId), moving: effects.filter((effect) => effect.exposure.transitions > 0).map((effect) => effect.deviceName) },
     unchanged,
-    confirmation: { library: fingerprintOf(library), bases: basesOf(revised) },
+    confirmation: { library: fingerprint, bases: basesOf(revised) },
     report: plan.report ? csvReportOf(plan.report) : null,
   };
 }
@@ -431,7 +433,7 @@ async function commit(organisationId: string, planner: Planner, actor: AuditActo
     const library = await listSharedObjects(organisationId, transaction);
     if (fingerprintOf(library) !== confirmation.library) throw stalePreview("the shared objects changed (someone else saved one)");
     const devices = await deviceRevisions.current(organisationId, { transaction });
-    const plan = planner(library, devices);
+    const plan = planner(library, devices, confirmation.library);
     const { revised } = devicePlans(plan, libraryOf(library), devices);
     checkBases(revised, confirmation.bases);
     // The policy as it is now, on the devices as they are now (the review may be minutes old).
@@ -537,12 +539,32 @@ function csvRows(text: string): string[][] {
   }
 }
 
+/**
+ * The last CSV import planned in this process. Importing without a confirmation reviews the
+ * file and then saves it in the same request, and a confirmation saves what was reviewed: both
+ * plan the same text against the same library, so the second takes the first's plan instead of
+ * parsing and checking 25,000 rows again (issue 14). A plan depends only on the text and the
+ * library (not on the devices), hence the key (with the organisation); the save takes the plan out, so at most one is kept.
+ */
+let lastCsvPlan: { key: string; plan: LibraryPlan } | null = null;
+
+function planCsvText(organisationId: string, text: string, { keep }: { keep: boolean }): Planner {
+  const textHash = createHash("sha256").update(text).digest("hex");
+  return (library, devices, fingerprint) => {
+    const key = `${organisationId}:${fingerprint}:${textHash}`;
+    const remembered = lastCsvPlan?.key === key ? lastCsvPlan.plan : null;
+    const plan = remembered ?? planCsv(csvRows(text))(library, devices, fingerprint);
+    lastCsvPlan = keep ? { key, plan } : null;
+    return plan;
+  };
+}
+
 /** What importing the CSV would do: the row report and each device's exposure change. Saves nothing. */
 export function previewSharedObjectsCsv(organisationId: string, text: string): Promise<SharedChangePreview> {
-  return preview(organisationId, planCsv(csvRows(text)));
+  return preview(organisationId, planCsvText(organisationId, text, { keep: true }));
 }
 
 /** Imports the CSV's good rows as one change, through the same checks and device revisions as a single save. */
 export function importSharedObjectsCsv(organisationId: string, text: string, actor: AuditActor, confirmation: SharedChangeConfirmation, options: LibrarySaveOptions = {}): Promise<SavedSharedChange> {
-  return commit(organisationId, planCsv(csvRows(text)), actor, confirmation, options);
+  return commit(organisationId, planCsvText(organisationId, text, { keep: false }), actor, confirmation, options);
 }
