@@ -29,7 +29,6 @@ import { readObservationsCsv } from "../formats/observations.ts";
 import { CsvSyntaxError, parseCsv } from "../formats/csv.ts";
 import { formatPercent, plural } from "../engine/format.ts";
 import { jsonPieces } from "../formats/json-stream.ts";
-import { exposureCells } from "../engine/exposure.ts";
 import { withCidrBytes } from "./exposure-json.ts";
 import { table } from "./table.ts";
 import { USAGE } from "./usage.ts";
@@ -289,7 +288,7 @@ async function exposureCommand(files: readonly string[], values: Options, io: Io
   if (values.at !== undefined) {
     const atMs = device.instantOf(values.at, Date.now());
     const map = exposure(device, atMs);
-    if (values.json === true) await writeJson(io, withCidrBytes(device, map, exposureCells(device, device.sliceAt(atMs))));
+    if (values.json === true) await writeJson(io, withCidrBytes(map));
     else await write(io, `exposure at ${map.at} (device clock ${map.localTime}; slice ${map.slice.start} – ${map.slice.end})\n\n${table(headers, exposureRows(map.entries))}`);
     return 0;
   }
@@ -300,7 +299,7 @@ async function exposureCommand(files: readonly string[], values: Options, io: Io
   for (const s of exposureSlices(device)) {
     index++;
     if (values.json === true) {
-      await writeJson(io, withCidrBytes(device, s, exposureCells(device, index - 1)), 0, index < count ? ",\n" : "\n");
+      await writeJson(io, withCidrBytes(s), 0, index < count ? ",\n" : "\n");
       continue;
     }
     const schedules = s.activeSchedules.length > 0 ? s.activeSchedules.join(", ") : "none";

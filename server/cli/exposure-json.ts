@@ -6,9 +6,8 @@
 import { Buffer } from "node:buffer";
 import { CidrBytes } from "../engine/addresses.ts";
 import type { Ranges } from "../engine/address-sets.ts";
-import { outcomeSets } from "../engine/exposure.ts";
-import type { ExposureCell, ExposureEntry, OutcomeSets } from "../engine/exposure.ts";
-import type { CompiledModel } from "../engine/index.ts";
+import { outcomeSetsOfRanges } from "../engine/exposure.ts";
+import type { ExposureEntry, OutcomeSets } from "../engine/exposure.ts";
 import { OUTCOMES } from "../engine/vocabulary.ts";
 import { OWN_JSON } from "../formats/json-stream.ts";
 import type { OwnJson } from "../formats/json-stream.ts";
@@ -65,24 +64,16 @@ class CidrLists implements OwnJson {
 }
 
 /**
- * `value` (an exposure at an instant or one slice) for the JSON writer, its entries' CIDR
- * lists written from the ranges of `cells` (the slice's cells, in the entries' order). The
- * value is returned as it is when its entries are not those cells.
+ * `value` (an exposure at an instant or one slice) for the JSON writer, each entry's CIDR lists
+ * written from the ranges of the partition behind them; an entry whose lists the engine did not
+ * make is left as it is.
  */
-export function withCidrBytes<T extends { readonly entries: readonly ExposureEntry[] }>(engine: CompiledModel, value: T, cells: readonly ExposureCell[]): unknown {
-  const { entries } = value;
-  if (entries.length !== cells.length) return value;
-  const same = entries.every((entry, i) => {
-    const cell = cells[i];
-    return entry.interface === engine.model.interfaces[cell.iface].name && entry.to === engine.addresses[cell.to].text && entry.service === engine.catalogue[cell.cls].name;
-  });
-  if (!same) return value;
+export function withCidrBytes<T extends { readonly entries: readonly ExposureEntry[] }>(value: T): unknown {
   return {
     ...value,
-    entries: entries.map((entry, i) => {
-      const copy: Record<string, unknown> = {};
-      for (const key of Object.keys(entry) as (keyof ExposureEntry)[]) copy[key] = key === "ranges" ? new CidrLists(outcomeSets(engine, cells[i].partition)) : entry[key];
-      return copy;
+    entries: value.entries.map((entry) => {
+      const sets = outcomeSetsOfRanges(entry.ranges);
+      return sets === undefined ? entry : { ...entry, ranges: new CidrLists(sets) };
     }),
   };
 }

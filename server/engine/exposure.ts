@@ -91,6 +91,12 @@ export function outcomeSets(engine: CompiledModel, partition: OutcomePartition):
 
 const countsCache = new WeakMap<OutcomeSets, OutcomeRecord<string>>();
 const listsCache = new WeakMap<OutcomeSets, OutcomeRecord<string[]>>();
+const setsOfLists = new WeakMap<object, OutcomeSets>();
+
+/** The outcome sets behind an exposure entry's `ranges` (a writer that renders CIDRs its own way reads them); undefined for any other object. */
+export function outcomeSetsOfRanges(ranges: OutcomeRecord<string[]>): OutcomeSets | undefined {
+  return setsOfLists.get(ranges);
+}
 
 /**
  * An exposure entry. Its counts are shared by every entry of the same partition; its CIDR
@@ -110,6 +116,7 @@ export function renderEntry(engine: CompiledModel, cell: ExposureCell): Exposure
   if (ranges === undefined) {
     ranges = cidrLists(sets);
     listsCache.set(sets, ranges);
+    setsOfLists.set(ranges, sets);
   }
   // A plain data object (no accessor of its own): entries are made by the ten thousand and an
   // object literal with a getter is several times slower to create.

@@ -15,6 +15,8 @@ import { compileModel, diffModels, exposure, findings, parseModel, reach } from 
 import { generateModel } from "#server/engine/testing/generate-model.ts";
 import { buildCli } from "#server/cli/build.mjs";
 import { freshBundle } from "#server/cli/fresh-bundle.mjs";
+import { withCidrBytes } from "#server/cli/exposure-json.ts";
+import { jsonPieces, OWN_JSON } from "#server/formats/json-stream.ts";
 
 const ROOT = join(import.meta.dirname, "../..");
 const FIXTURES = join(ROOT, "tests/fixtures/models");
@@ -143,5 +145,17 @@ describe("the bundled CLI", () => {
     at("server/a.ts", 1_000);
     rmSync(join(root, "server/a.ts")); // removed since
     expect(freshBundle(url)).toBeNull();
+  });
+});
+
+describe("the exposure's CIDR lists written as bytes", () => {
+  test("every entry the engine made takes the byte path (no silent fall-back to rendering strings), with the same JSON text", () => {
+    const parsed = parseModel(MODEL);
+    if (!parsed.ok) throw new Error("generated model invalid");
+    const map = exposure(compileModel(parsed.model), Date.parse(AT));
+    const written = withCidrBytes(map) as { entries: { ranges: object }[] };
+    expect(written.entries.length).toBe(map.entries.length);
+    expect(written.entries.every((entry) => OWN_JSON in entry.ranges)).toBe(true);
+    expect([...jsonPieces(written, { indent: 2 })].join("")).toBe(JSON.stringify(map, null, 2));
   });
 });
