@@ -216,11 +216,17 @@ function parseCurrent(input: unknown, warnings: ValidationIssue[]): ParseResult 
     }
     if (errors.length > 0) return { ok: false, errors, warnings };
   }
-  const loose = LOOSE_SCHEMA.safeParse(input);
-  if (!loose.success) {
-    return { ok: false, errors: loose.error.issues.map((i) => ({ path: formatPath(i.path), message: i.message })), warnings };
+  // With no unknown field the strict parse's output is the loose one's: parse again only to
+  // drop unknown fields (a cold parse of a large model costs as much as its compilation).
+  let model: DeviceModel;
+  if (strict.success) model = strict.data;
+  else {
+    const loose = LOOSE_SCHEMA.safeParse(input);
+    if (!loose.success) {
+      return { ok: false, errors: loose.error.issues.map((i) => ({ path: formatPath(i.path), message: i.message })), warnings };
+    }
+    model = loose.data;
   }
-  const model = loose.data;
   checkSemantics(model, errors, warnings);
   return errors.length > 0 ? { ok: false, errors, warnings } : { ok: true, model, warnings };
 }
