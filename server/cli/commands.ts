@@ -112,8 +112,8 @@ function reportWarnings(path: string, warnings: readonly ValidationIssue[], io: 
   if (warnings.length > MAX_WARNINGS) io.err(`${path}: … ${warnings.length - MAX_WARNINGS} more warnings (sallyport validate --json lists them all)\n`);
 }
 
-/** Writes text, waiting first when the reader is behind. */
-async function write(io: Io, text: string): Promise<void> {
+/** Writes text or bytes, waiting first when the reader is behind. */
+async function write(io: Io, text: string | Uint8Array): Promise<void> {
   const wait = io.out(text);
   if (wait !== undefined) await wait;
 }

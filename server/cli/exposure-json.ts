@@ -17,29 +17,37 @@ const PIECE = 1 << 16;
 /** What follows each CIDR: its closing quote and a comma (the last list element's is taken back). */
 const AFTER = Buffer.from('",', "latin1");
 
-/** JSON text of the six CIDR lists of a partition, as JSON.stringify writes the engine's `ranges` object. */
-function* cidrListsText(sets: OutcomeSets, at: string, gap: string): Generator<string, void, undefined> {
+/**
+ * The buffer every list is written into. A piece handed out is a view of it, copied by the
+ * JSON writer before the writing goes on; and at every hand-out the buffer holds nothing
+ * else, so writers taking turns cannot disturb each other.
+ */
+const SCRATCH = Buffer.allocUnsafe(PIECE);
+
+/**
+ * JSON text of the six CIDR lists of a partition, as JSON.stringify writes the engine's
+ * `ranges` object, in ASCII bytes.
+ */
+function* cidrListsText(sets: OutcomeSets, at: string, gap: string): Generator<Uint8Array, void, undefined> {
   const compact = gap === "";
   const inner = at + gap;
-  const piece = new CidrBytes(Buffer.allocUnsafe(PIECE), Buffer.from(compact ? '"' : `\n${inner}${gap}"`, "latin1"), AFTER);
-  const bytes = piece.bytes as Buffer;
-  const take = (): string => {
-    const text = bytes.toString("latin1", 0, piece.at);
+  const piece = new CidrBytes(SCRATCH, Buffer.from(compact ? '"' : `\n${inner}${gap}"`, "latin1"), AFTER);
+  const take = (): Uint8Array => {
+    const text = SCRATCH.subarray(0, piece.at);
     piece.at = 0;
     return text;
   };
-  /** Writes short text, taking the piece first when it has no room: returns the piece taken, if one was. */
-  const put = (text: string): string | null => {
-    const full = PIECE - piece.at < text.length ? take() : null;
-    piece.at += bytes.write(text, piece.at, "latin1");
-    return full;
+  /** Whether short text needs the piece taken first to fit. */
+  const full = (text: string): boolean => PIECE - piece.at < text.length;
+  const put = (text: string): void => {
+    piece.at += SCRATCH.write(text, piece.at, "latin1");
   };
   const ranges: readonly Ranges[] = sets.ranges;
   for (let k = 0; k < OUTCOMES.length; k++) {
     const list = ranges[k];
     const head = `${k > 0 ? "," : "{"}${compact ? "" : `\n${inner}`}${JSON.stringify(OUTCOMES[k])}${compact ? ":" : ": "}[${list.length === 0 ? "]" : ""}`;
-    const full = put(head);
-    if (full !== null) yield full;
+    if (full(head)) yield take();
+    put(head);
     if (list.length === 0) continue;
     for (let r = 0; r < list.length; r += 2) {
       let from: bigint | null = list[r];
@@ -47,18 +55,20 @@ function* cidrListsText(sets: OutcomeSets, at: string, gap: string): Generator<s
     }
     // The last CIDR's comma; it is in this piece, as a piece is only taken before a CIDR.
     piece.at--;
-    const closed = put(compact ? "]" : `\n${inner}]`);
-    if (closed !== null) yield closed;
+    const close = compact ? "]" : `\n${inner}]`;
+    if (full(close)) yield take();
+    put(close);
   }
-  const full = put(compact ? "}" : `\n${at}}`);
-  if (full !== null) yield full;
+  const end = compact ? "}" : `\n${at}}`;
+  if (full(end)) yield take();
+  put(end);
   yield take();
 }
 
 /** An entry's CIDR lists, written from the partition's ranges. */
 class CidrLists implements OwnJson {
   constructor(private readonly sets: OutcomeSets) {}
-  [OWN_JSON](at: string, gap: string): Iterable<string> {
+  [OWN_JSON](at: string, gap: string): Iterable<Uint8Array> {
     return cidrListsText(this.sets, at, gap);
   }
 }

@@ -46,8 +46,12 @@ export const OPTIONS = {
 export type Options = { [K in keyof typeof OPTIONS]?: (typeof OPTIONS)[K]["type"] extends "boolean" ? boolean : string };
 
 export interface Io {
-  /** Standard output. A returned promise means the reader is behind: nothing more is written until it settles. */
-  out(text: string): void | Promise<void>;
+  /**
+   * Standard output: text, or UTF-8 bytes (JSON; the CLI never writes a buffer again once
+   * handed over). A returned promise means the reader is behind: nothing more is written
+   * until it settles.
+   */
+  out(text: string | Uint8Array): void | Promise<void>;
   err(text: string): void;
 }
 

@@ -1,6 +1,7 @@
-// JSON text in pieces: the same characters as JSON.stringify(value, null, indent), handed out
-// a piece at a time, so a document far larger than one string (V8 strings stop near 2^29
-// characters) is written in memory that does not grow with it.
+// JSON text in pieces: the UTF-8 bytes of JSON.stringify(value, null, indent), handed out a
+// piece (a byte buffer) at a time, so a document far larger than one string (V8 strings stop
+// near 2^29 characters) is written in memory that does not grow with it. Each piece is a
+// buffer of its own, never written again: a writer may keep it until the reader has taken it.
 //
 // The walk keeps its own stack (no recursion, no nested generators). Each property is read
 // once, in the order JSON.stringify reads it, with its rules (ECMA-262 SerializeJSONProperty:
@@ -8,12 +9,15 @@
 // as null in arrays, TypeError on cycles and BigInts). Arrays of plain primitives, the bulk
 // of a large document (CIDR lists), are written by JSON.stringify itself, block by block.
 // A value can also write itself (OWN_JSON): the CLI writes the exposure's CIDR lists as
-// bytes from the address ranges, without making a string per CIDR.
+// bytes from the address ranges, without making a string per CIDR; bytes go into the pieces
+// as they are, with no string in between.
+
+import { Buffer } from "node:buffer";
 
 export interface JsonPiecesOptions {
   /** Spaces per level, as JSON.stringify's third argument (0: compact). */
   readonly indent?: number;
-  /** A piece is handed out once it holds this many characters. */
+  /** Bytes per piece: a piece is handed out when it is full (only the last, or one long string alone, differ). */
   readonly pieceSize?: number;
   /** Elements per native block of a primitive array: large enough to be fast, small enough to stay flat. */
   readonly blockSize?: number;
@@ -26,9 +30,11 @@ export const OWN_JSON: unique symbol = Symbol("sallyport.ownJson");
 export interface OwnJson {
   /**
    * Exactly the text JSON.stringify(value, null, gap) would give the value it stands for,
-   * its inner lines shifted by `at` (the indentation of the line it starts on), in pieces.
+   * its inner lines shifted by `at` (the indentation of the line it starts on), in pieces:
+   * strings, or UTF-8 bytes. A byte piece is copied before the next piece is asked for, so
+   * the writer may fill the same buffer again.
    */
-  [OWN_JSON](at: string, gap: string): Iterable<string>;
+  [OWN_JSON](at: string, gap: string): Iterable<string | Uint8Array>;
 }
 
 function writesOwnJson(value: object): value is OwnJson {
@@ -38,7 +44,7 @@ function writesOwnJson(value: object): value is OwnJson {
 /** A value writing its own text, a piece per step. */
 interface OwnFrame {
   readonly kind: "own";
-  readonly pieces: Iterator<string, unknown, undefined>;
+  readonly pieces: Iterator<string | Uint8Array, unknown, undefined>;
   readonly indent: string;
 }
 
@@ -110,13 +116,64 @@ function holdsPlainPrimitives(array: readonly unknown[]): boolean {
   return true;
 }
 
+/** Characters of text gathered before they are encoded into a piece (fewer, larger encodes). */
+const TEXT_RUN = 4096;
+
+/** Fills byte pieces of one size; each full piece waits in `ready` and is never written again. */
+class PieceWriter {
+  ready: Uint8Array[] = [];
+  private piece: Buffer;
+  private at = 0;
+
+  constructor(private readonly size: number) {
+    this.piece = Buffer.allocUnsafe(size);
+  }
+
+  /** Hands out the full pieces. */
+  take(): Uint8Array[] {
+    const ready = this.ready;
+    this.ready = [];
+    return ready;
+  }
+
+  text(text: string): void {
+    if (text === "") return;
+    const room = this.size - this.at;
+    // At most three UTF-8 bytes per UTF-16 unit; measured only near the end of a piece.
+    if (text.length * 3 <= room || (text.length <= room && Buffer.byteLength(text, "utf8") <= room)) {
+      this.at += this.piece.write(text, this.at, "utf8");
+      if (this.at === this.size) this.flush();
+    } else {
+      this.bytes(Buffer.from(text, "utf8"));
+    }
+  }
+
+  /** Copies bytes in, across as many pieces as they need. */
+  bytes(bytes: Uint8Array): void {
+    for (let from = 0; from < bytes.length; ) {
+      const n = Math.min(bytes.length - from, this.size - this.at);
+      this.piece.set(from === 0 && n === bytes.length ? bytes : bytes.subarray(from, from + n), this.at);
+      this.at += n;
+      from += n;
+      if (this.at === this.size) this.flush();
+    }
+  }
+
+  /** Ends the current piece (if it holds anything) and starts a new one. */
+  flush(): void {
+    if (this.at === 0) return;
+    this.ready.push(this.at === this.size ? this.piece : this.piece.subarray(0, this.at));
+    this.piece = Buffer.allocUnsafe(this.size);
+    this.at = 0;
+  }
+}
+
 /**
- * JSON text of `value` in pieces of about `pieceSize` characters (a piece is longer only by
- * one string or one block of a primitive array); joined they are exactly
- * `JSON.stringify(value, null, indent)` — indent 0 is the compact form. Yields nothing where
- * JSON.stringify returns undefined.
+ * JSON text of `value` as UTF-8 in pieces of `pieceSize` bytes (the last one shorter); joined
+ * they are exactly the bytes of `JSON.stringify(value, null, indent)` — indent 0 is the
+ * compact form. Yields nothing where JSON.stringify returns undefined.
  */
-export function* jsonPieces(value: unknown, options: JsonPiecesOptions = {}): Generator<string, void, undefined> {
+export function* jsonPieces(value: unknown, options: JsonPiecesOptions = {}): Generator<Uint8Array, void, undefined> {
   const { indent = 0, pieceSize = 1 << 16, blockSize: BLOCK = 2048 } = options;
   const gap = " ".repeat(Math.max(0, Math.min(10, Math.floor(indent))));
   const compact = gap === "";
@@ -179,20 +236,28 @@ export function* jsonPieces(value: unknown, options: JsonPiecesOptions = {}): Ge
 
   const top = begin(prepared(value, ""), "");
   if (top === undefined) return;
+  const out = new PieceWriter(pieceSize);
+  /** Text not yet in a piece: short texts are joined first and encoded together. */
   let buffer = top;
 
   while (stack.length > 0) {
-    if (buffer.length >= pieceSize) {
-      yield buffer;
+    if (buffer.length >= TEXT_RUN) {
+      out.text(buffer);
       buffer = "";
     }
+    if (out.ready.length > 0) yield* out.take();
     const frame = stack[stack.length - 1];
     const inner = frame.indent + gap;
     switch (frame.kind) {
       case "own": {
         const next = frame.pieces.next();
         if (next.done === true) stack.pop();
-        else buffer += next.value;
+        else if (typeof next.value === "string") buffer += next.value;
+        else {
+          out.text(buffer);
+          buffer = "";
+          out.bytes(next.value);
+        }
         break;
       }
       case "blocks": {
@@ -231,5 +296,7 @@ export function* jsonPieces(value: unknown, options: JsonPiecesOptions = {}): Ge
       }
     }
   }
-  if (buffer !== "") yield buffer;
+  out.text(buffer);
+  out.flush();
+  yield* out.take();
 }
