@@ -31,14 +31,24 @@ export async function run(argv: readonly string[], io: Io): Promise<number> {
 }
 
 /**
+ * Output the CLI may hand to standard output before the reader has taken it. A reader on
+ * the other core takes each piece while the next is made, instead of the two taking turns
+ * at every piece; bounded, so memory stays flat whatever the size of the output.
+ */
+const AHEAD_BYTES = 1 << 20;
+
+/**
  * Entry point when run as a program. Output goes straight to the stream; when the stream
- * holds more than its high-water mark (a pipe whose reader is slow), writing waits for
- * 'drain', so the process never buffers what the reader has not taken.
+ * holds more than AHEAD_BYTES not yet taken by the reader (a pipe whose reader is slow),
+ * writing waits for 'drain', so the process never buffers more than that.
  */
 export function main(): void {
   const stdout = process.stdout;
   const io: Io = {
-    out: (text) => (stdout.write(text) ? undefined : once(stdout, "drain").then(() => undefined)),
+    out: (text) => {
+      stdout.write(text);
+      return stdout.writableLength < AHEAD_BYTES ? undefined : once(stdout, "drain").then(() => undefined);
+    },
     err: (text) => {
       process.stderr.write(text);
     },
