@@ -17,7 +17,7 @@ import { Buffer } from "node:buffer";
 export interface JsonPiecesOptions {
   /** Spaces per level, as JSON.stringify's third argument (0: compact). */
   readonly indent?: number;
-  /** Bytes per piece: a piece is handed out when it is full (only the last, or one long string alone, differ). */
+  /** Bytes per piece: a piece is handed out when it is full (only the last is shorter). */
   readonly pieceSize?: number;
   /** Elements per native block of a primitive array: large enough to be fast, small enough to stay flat. */
   readonly blockSize?: number;
