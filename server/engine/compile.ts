@@ -1025,7 +1025,11 @@ export class CompiledModel {
     if (basis !== undefined) return basis.weekOutcomes(iface, to, cls);
     const out: OutcomePartition[] = [];
     const seen = new Set<Runs>();
+    let previous: RulePartition | undefined;
     for (const rules of this.weekRulePartitions(iface, to, cls)) {
+      // Neighbouring slices mostly share a partition (only a schedule's edge changes it): its outcome is already in.
+      if (rules === previous) continue;
+      previous = rules;
       const outcome = this.outcomeRunsOf(rules, iface, cls);
       if (seen.has(outcome)) continue;
       seen.add(outcome);
