@@ -96,7 +96,16 @@ function freshCensus(engine: CompiledModel): Census {
     else lists.set(key, { partitions: engine.weekRulePartitions(cells.iface[c], to, cells.cls[c]), cells: 1 });
   }
   const refs = new Map<RulePartition, number>();
-  for (const { partitions, cells: times } of lists.values()) for (const p of partitions) refs.set(p, (refs.get(p) ?? 0) + times);
+  for (const { partitions, cells: times } of lists.values()) {
+    // Neighbouring slices mostly share a partition: count each stretch of equal ones at once.
+    for (let slice = 0; slice < partitions.length; ) {
+      const p = partitions[slice];
+      let end = slice + 1;
+      while (end < partitions.length && partitions[end] === p) end++;
+      refs.set(p, (refs.get(p) ?? 0) + times * (end - slice));
+      slice = end;
+    }
+  }
   const owning = new Int32Array(engine.slotCount);
   for (const p of refs.keys()) countOwners(p, owning, 1);
   return { refs, owning, edit: null };

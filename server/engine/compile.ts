@@ -6,7 +6,7 @@ import { formatAddress, parseAddress, parseEntry } from "./addresses.ts";
 import type { Address, Family } from "./addresses.ts";
 import { ANY_SET, EMPTY_SET, contains, rangesOf, setFromRanges, unionSets } from "./address-sets.ts";
 import type { AddressSet } from "./address-sets.ts";
-import { Domain, MIXED_WORD, mapRuns, patchedRuns, runValueAt, runsFromArray, runsFromWords, zipRuns } from "./domain.ts";
+import { Domain, MIXED_WORD, mapRuns, patchedRuns, pieceStartBits, runValueAt, runsFromPieces, zipRuns } from "./domain.ts";
 import type { Runs, SparseBits } from "./domain.ts";
 import { looksLikeAddressEntry, serviceKey } from "./model.ts";
 import type { DeviceModel } from "./model.ts";
@@ -314,7 +314,7 @@ export class CompiledModel {
   private patchScratch: Uint8Array | undefined;
   /** Per position: the rule's schedule index, or -1 for all week. */
   private ruleSchedules: Int32Array | undefined;
-  private readonly scratch: Record<Family, { remaining: Int32Array; owner: Int32Array; wordOwners: Int32Array }>;
+  private readonly scratch: Record<Family, { remaining: Int32Array; owner: Int32Array; wordOwners: Int32Array; pieceStarts: Int32Array }>;
 
   constructor(
     readonly model: DeviceModel,
@@ -504,6 +504,7 @@ export class CompiledModel {
       remaining: new Int32Array(this.domains[family].words),
       owner: new Int32Array(this.domains[family].size),
       wordOwners: new Int32Array(this.domains[family].words),
+      pieceStarts: new Int32Array(this.domains[family].words),
     });
     // Scratch is used only within one call; a model that shares its basis's elements shares its scratch too.
     this.scratch = sameElements ? basis.scratch : { 4: scratchFor(4), 6: scratchFor(6) };
@@ -1024,7 +1025,11 @@ export class CompiledModel {
     if (basis !== undefined) return basis.weekOutcomes(iface, to, cls);
     const out: OutcomePartition[] = [];
     const seen = new Set<Runs>();
+    let previous: RulePartition | undefined;
     for (const rules of this.weekRulePartitions(iface, to, cls)) {
+      // Neighbouring slices mostly share a partition (only a schedule's edge changes it): its outcome is already in.
+      if (rules === previous) continue;
+      previous = rules;
       const outcome = this.outcomeRunsOf(rules, iface, cls);
       if (seen.has(outcome)) continue;
       seen.add(outcome);
@@ -1311,11 +1316,13 @@ export class CompiledModel {
     this.partitionSources.swept++;
     this.touch(active);
     const domain = this.domains[family];
-    const { remaining, owner, wordOwners } = this.scratch[family];
+    const { remaining, owner, wordOwners, pieceStarts } = this.scratch[family];
     remaining.fill(-1);
     if ((domain.size & 31) !== 0) remaining[domain.words - 1] = (1 << (domain.size & 31)) - 1;
-    // Per word: the one rule that took all of it at once, MIXED_WORD, or UNTOUCHED.
+    // Per word: the one rule that took all of it at once, MIXED_WORD, or UNTOUCHED; for a
+    // mixed word, where its pieces start (owner holds each piece's slot at its first element).
     wordOwners.fill(UNTOUCHED);
+    pieceStarts.fill(0);
     let live = domain.words;
     const familySlot = family === 4 ? 0 : 1;
     outer: for (let k = 0; k < active.length; k++) {
@@ -1325,17 +1332,19 @@ export class CompiledModel {
       const masks = bits.masks;
       for (let j = 0; j < words.length; j++) {
         const w = words[j];
-        let fresh = remaining[w] & masks[j];
+        const fresh = remaining[w] & masks[j];
         if (fresh === 0) continue;
         remaining[w] ^= fresh;
         if (fresh === -1) wordOwners[w] = slot;
         else {
           wordOwners[w] = MIXED_WORD;
+          let starts = pieceStartBits(fresh);
+          pieceStarts[w] |= starts;
           const base = w << 5;
-          while (fresh !== 0) {
-            const low = fresh & -fresh;
+          while (starts !== 0) {
+            const low = starts & -starts;
             owner[base + 31 - Math.clz32(low)] = slot;
-            fresh ^= low;
+            starts ^= low;
           }
         }
         if (remaining[w] === 0 && --live === 0) break outer;
@@ -1347,16 +1356,17 @@ export class CompiledModel {
         wordOwners[w] = -1;
         continue;
       }
-      let left = remaining[w];
-      if (left === 0) continue;
+      let starts = pieceStartBits(remaining[w]);
+      if (starts === 0) continue;
+      pieceStarts[w] |= starts;
       const base = w << 5;
-      while (left !== 0) {
-        const low = left & -left;
+      while (starts !== 0) {
+        const low = starts & -starts;
         owner[base + 31 - Math.clz32(low)] = -1;
-        left ^= low;
+        starts ^= low;
       }
     }
-    const partition: RulePartition = { id: nextPartitionId++, family, active, owner: runsFromWords(owner, wordOwners, domain.size) };
+    const partition: RulePartition = { id: nextPartitionId++, family, active, owner: runsFromPieces(owner, wordOwners, pieceStarts, domain.size) };
     this.partitions.set(key, partition);
     this.remember(partition);
     return partition;
@@ -1367,20 +1377,59 @@ export class CompiledModel {
     const key = `${family}|${cls}`;
     const cached = this.loginRuns.get(key);
     if (cached !== undefined) return cached;
-    const domain = this.domains[family];
     const name = this.classes[cls].service?.name ?? "";
-    const values = new Int32Array(domain.size).fill(LOGIN_DENIED);
-    for (const a of this.accounts) {
-      if (!a.enabled || (a.services !== null && !a.services.has(name))) continue;
-      const value = a.secondFactor ? LOGIN_MFA : LOGIN_PASSWORD;
-      const idx = domain.toIndexRanges(rangesOf(a.loginSources, family));
-      for (let i = 0; i < idx.length; i += 2) {
-        for (let e = idx[i]; e <= idx[i + 1]; e++) if (values[e] < value) values[e] = value;
-      }
+    // Classes whose services the same accounts may use get the same runs: keyed by those accounts.
+    let applies = `${family}`;
+    for (const a of this.accounts) if (a.enabled && (a.services === null || a.services.has(name))) applies += `,${a.index}`;
+    let runs = this.loginRunsByAccounts.get(applies);
+    if (runs === undefined) {
+      runs = this.loginRunsOf(family, name);
+      this.loginRunsByAccounts.set(applies, runs);
     }
-    const runs = runsFromArray(values, domain.size);
     this.loginRuns.set(key, runs);
     return runs;
+  }
+
+  /** loginClassRuns by family and the accounts that apply (a key listing them). */
+  private readonly loginRunsByAccounts = new Map<string, Runs>();
+  /** Per family and account: its login sources as element index ranges. */
+  private readonly accountIndexRanges: Record<Family, (Int32Array | undefined)[]> = { 4: [], 6: [] };
+
+  /**
+   * The login runs for a service name: a coverage difference array per second-factor kind
+   * (+1 where an account's sources start, -1 past their end), then one pass that takes the
+   * most exposed kind covering each element — linear in the accounts' ranges and the
+   * elements, not in the elements each account covers.
+   */
+  private loginRunsOf(family: Family, name: string): Runs {
+    const domain = this.domains[family];
+    const size = domain.size;
+    const mfa = new Int32Array(size + 1);
+    const password = new Int32Array(size + 1);
+    for (const a of this.accounts) {
+      if (!a.enabled || (a.services !== null && !a.services.has(name))) continue;
+      let idx = this.accountIndexRanges[family][a.index];
+      if (idx === undefined) this.accountIndexRanges[family][a.index] = idx = domain.toIndexRanges(rangesOf(a.loginSources, family));
+      const diff = a.secondFactor ? mfa : password;
+      for (let i = 0; i < idx.length; i += 2) {
+        diff[idx[i]]++;
+        diff[idx[i + 1] + 1]--;
+      }
+    }
+    const starts: number[] = [];
+    const values: number[] = [];
+    let byMfa = 0;
+    let byPassword = 0;
+    for (let e = 0; e < size; e++) {
+      byMfa += mfa[e];
+      byPassword += password[e];
+      const value = byPassword > 0 ? LOGIN_PASSWORD : byMfa > 0 ? LOGIN_MFA : LOGIN_DENIED;
+      if (e === 0 || values[values.length - 1] !== value) {
+        starts.push(e);
+        values.push(value);
+      }
+    }
+    return { starts: Int32Array.from(starts), values: Int32Array.from(values) };
   }
 
   private outcomeRuns(family: Family, rules: RulePartition, cls: number, listening: boolean): Runs {

@@ -338,11 +338,14 @@ export function runsFromArray(values: Int32Array, length: number): Runs {
 export const MIXED_WORD = -2;
 
 /**
- * runsFromArray for a sweep that knows, per 32-element word, whether one value covers it
- * (`wordOwners[w]`) or not (MIXED_WORD): uniform words are taken whole, so a partition costs
- * its words plus its mixed elements rather than every element.
+ * Runs from a sweep that records, per 32-element word, either the one value covering it
+ * (`wordOwners[w]`) or MIXED_WORD; for a mixed word, `pieceStarts[w]` has a bit at each
+ * element where a piece (elements of one value, contiguous within the word) starts, and
+ * `values` holds the piece's value at that element only. A partition then costs its words
+ * and its pieces, not its elements: a rule's sources are unions of address objects, each a
+ * contiguous stretch of elements, so a word holds a few pieces however many elements.
  */
-export function runsFromWords(values: Int32Array, wordOwners: Int32Array, length: number): Runs {
+export function runsFromPieces(values: Int32Array, wordOwners: Int32Array, pieceStarts: Int32Array, length: number): Runs {
   ensureScratch(length);
   const words = (length + 31) >>> 5;
   let count = 0;
@@ -358,17 +361,26 @@ export function runsFromWords(values: Int32Array, wordOwners: Int32Array, length
       }
       continue;
     }
-    const end = base + 32 < length ? base + 32 : length;
-    for (let i = base; i < end; i++) {
+    // Piece starts in ascending order: lowest set bit first.
+    let starts = pieceStarts[w];
+    while (starts !== 0) {
+      const low = starts & -starts;
+      const i = base + 31 - Math.clz32(low);
       const v = values[i];
       if (v !== previous) {
         runStarts[count] = i;
         runValues[count++] = v;
         previous = v;
       }
+      starts ^= low;
     }
   }
   return { starts: runStarts.slice(0, count), values: runValues.slice(0, count) };
+}
+
+/** The bits of a mask where a stretch of set bits starts (set, with the bit below clear). */
+export function pieceStartBits(mask: number): number {
+  return mask & ~(mask << 1);
 }
 
 /**

@@ -89,8 +89,13 @@ export function outcomeSets(engine: CompiledModel, partition: OutcomePartition):
   return sets;
 }
 
-const countsCache = new WeakMap<OutcomeSets, OutcomeRecord<string>>();
-const listsCache = new WeakMap<OutcomeSets, OutcomeRecord<string[]>>();
+/** An outcome partition's entry parts, shared by every entry of the partition: one look-up per entry. */
+interface EntryParts {
+  readonly counts: OutcomeRecord<string>;
+  readonly ranges: OutcomeRecord<string[]>;
+}
+
+const partsCache = new WeakMap<Runs, EntryParts>();
 const setsOfLists = new WeakMap<object, OutcomeSets>();
 
 /** The outcome sets behind an exposure entry's `ranges` (a writer that renders CIDRs its own way reads them); undefined for any other object. */
@@ -106,21 +111,17 @@ export function outcomeSetsOfRanges(ranges: OutcomeRecord<string[]>): OutcomeSet
  * larger on the benchmark model.) A caller that reads a list twice keeps it in a variable.
  */
 export function renderEntry(engine: CompiledModel, cell: ExposureCell): ExposureEntry {
-  const sets = outcomeSets(engine, cell.partition);
-  let counts = countsCache.get(sets);
-  if (counts === undefined) {
-    counts = outcomeRecord((_, i) => sets.counts[i].toString());
-    countsCache.set(sets, counts);
-  }
-  let ranges = listsCache.get(sets);
-  if (ranges === undefined) {
-    ranges = cidrLists(sets);
-    listsCache.set(sets, ranges);
+  let parts = partsCache.get(cell.partition.outcome);
+  if (parts === undefined) {
+    const sets = outcomeSets(engine, cell.partition);
+    const ranges = cidrLists(sets);
     setsOfLists.set(ranges, sets);
+    parts = { counts: outcomeRecord((_, i) => sets.counts[i].toString()), ranges };
+    partsCache.set(cell.partition.outcome, parts);
   }
   // A plain data object (no accessor of its own): entries are made by the ten thousand and an
   // object literal with a getter is several times slower to create.
-  return { interface: engine.model.interfaces[cell.iface].name, to: engine.addresses[cell.to].text, service: engine.catalogue[cell.cls].name, counts, ranges };
+  return { interface: engine.model.interfaces[cell.iface].name, to: engine.addresses[cell.to].text, service: engine.catalogue[cell.cls].name, counts: parts.counts, ranges: parts.ranges };
 }
 
 /** The six CIDR lists of a partition as enumerable getters, in outcome order: each read renders its list afresh (shared by the partition's entries, kept by none). */
