@@ -212,7 +212,8 @@ async function main() {
     stdio: ["ignore", "ignore", "inherit"],
   });
   try {
-    await waitUntilAnswering(base, 60_000);
+    // Three processes compile the server on start: on a loaded 2-core machine that took over a minute.
+    await waitUntilAnswering(base, 180_000);
     log(`Signing in ${config.sessions} demo sessions and ${config.heavyUsers} of the large organisation…`);
     // Each session from its own documentation address (RFC 5737 TEST-NET-3), so the per-address sign-in throttle is not what is measured.
     const address = (index: number) => `203.0.113.${1 + (index % 250)}`;
