@@ -1,6 +1,9 @@
-import { Writable } from "node:stream";
+import { PassThrough } from "node:stream";
 import type { EntryContext, HandleErrorFunction, RouterContextProvider } from "react-router";
+import { createReadableStreamFromReadable } from "@react-router/node";
 import { ServerRouter } from "react-router";
+import { isbot } from "isbot";
+import type { RenderToPipeableStreamOptions } from "react-dom/server";
 import { renderToPipeableStream } from "react-dom/server";
 import { NonceContext } from "./utils/nonce";
 import { getDatabase } from "#server/db/database.server";
@@ -25,47 +28,38 @@ export const handleError: HandleErrorFunction = (error, { request }) => {
   else console.error(error);
 };
 
-// The framework's default entry, plus the CSP nonce for every inline script it writes, with the
-// page rendered whole into memory: no route streams deferred data (docs/decisions/023), and the
-// writer (server/http/respond.server.ts) sends a page in one write anyway. Collected here, the
-// page goes over as one buffer instead of through a Node stream turned into a web stream that the
-// writer reads back chunk by chunk (docs/decisions/025).
+// The framework's default entry, plus the CSP nonce for every inline script it writes.
 export default function handleRequest(request: Request, responseStatusCode: number, responseHeaders: Headers, routerContext: EntryContext, loadContext: RouterContextProvider) {
   if (request.method.toUpperCase() === "HEAD") {
     return new Response(null, { status: responseStatusCode, headers: responseHeaders });
   }
   const nonce = loadContext.get(requestFactsContext).cspNonce || undefined;
-  return new Promise<Response>((resolve, reject) => {
+  return new Promise((resolve, reject) => {
     let shellRendered = false;
-    const chunks: Buffer[] = [];
+    const userAgent = request.headers.get("user-agent");
+    const readyOption: keyof RenderToPipeableStreamOptions = (userAgent && isbot(userAgent)) || routerContext.isSpaMode ? "onAllReady" : "onShellReady";
     let timeoutId: ReturnType<typeof setTimeout> | undefined = setTimeout(() => abort(), streamTimeout + 1000);
-    const page = new Writable({
-      write(chunk: Buffer, _encoding, callback) {
-        chunks.push(chunk);
-        callback();
-      },
-      final(callback) {
-        clearTimeout(timeoutId);
-        timeoutId = undefined;
-        responseHeaders.set("Content-Type", "text/html; charset=utf-8");
-        resolve(new Response(Buffer.concat(chunks), { headers: responseHeaders, status: responseStatusCode }));
-        callback();
-      },
-    });
     const { pipe, abort } = renderToPipeableStream(
       <NonceContext.Provider value={nonce}>
         <ServerRouter context={routerContext} url={request.url} nonce={nonce} />
       </NonceContext.Provider>,
       {
         nonce,
-        onShellReady() {
+        [readyOption]() {
           shellRendered = true;
-        },
-        onAllReady() {
-          pipe(page);
+          const body = new PassThrough({
+            final(callback) {
+              clearTimeout(timeoutId);
+              timeoutId = undefined;
+              callback();
+            },
+          });
+          const stream = createReadableStreamFromReadable(body);
+          responseHeaders.set("Content-Type", "text/html; charset=utf-8");
+          pipe(body);
+          resolve(new Response(stream, { headers: responseHeaders, status: responseStatusCode }));
         },
         onShellError(error: unknown) {
-          clearTimeout(timeoutId);
           reject(error);
         },
         onError(error: unknown) {
