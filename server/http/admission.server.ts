@@ -12,6 +12,7 @@
 // squeezed to the share of one with ten. The cost is the process's CPU time, split evenly among
 // the requests in flight while it was spent (processor sharing): no request's time is counted
 // twice and waiting on PostgreSQL costs nothing.
+import type { IncomingMessage, ServerResponse } from "node:http";
 import { performance } from "node:perf_hooks";
 
 /** A request waiting for its turn. */
@@ -180,6 +181,39 @@ export class FairAdmission {
  */
 function processCpuMilliseconds(): number {
   return performance.eventLoopUtilization().active;
+}
+
+/** The end of each response's turn, for the writer that hands its body off before it is flushed. */
+const turns = new WeakMap<ServerResponse, () => void>();
+
+/**
+ * Wraps a handler so it runs in its turn. The turn ends when the handler hands the body off
+ * (`handOff`, called by the writer: server/http/respond.server.ts), or else when the response
+ * finishes or its connection closes. A client that reads a large export
+ * slowly keeps its connection, not a slot: the CPU work is done and waiting on a reader costs none.
+ */
+export function takingTurns<Request extends IncomingMessage & { path: string }, Response extends ServerResponse, Next>(
+  admission: FairAdmission,
+  flowOf: (request: Request) => string,
+  handler: (request: Request, response: Response, next: Next) => unknown,
+): (request: Request, response: Response, next: Next) => void {
+  return (request, response, next) => {
+    const withdraw = admission.admit(organisationOfPath(request.path), flowOf(request), (done) => {
+      turns.set(response, done);
+      response.once("finish", done);
+      response.once("close", done);
+      void handler(request, response, next);
+    });
+    response.once("close", withdraw);
+  };
+}
+
+/** The response's body is handed off (written, or streaming at the client's pace): its turn ends now. */
+export function handOff(response: ServerResponse): void {
+  const done = turns.get(response);
+  if (!done) return;
+  turns.delete(response);
+  done();
 }
 
 /** The organisation a request path names (`/o/<slug>/…`), or "" for the pages outside one. */

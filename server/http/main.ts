@@ -9,7 +9,7 @@ import express from "express";
 import type { ServerBuild } from "react-router";
 import { appOrigin, getEnvironment, isOutboxEnabled, listensOnLoopbackOnly } from "../config.server.ts";
 import { outboxLink } from "../mail/outbox-access.server.ts";
-import { FairAdmission, organisationOfPath } from "./admission.server.ts";
+import { FairAdmission, takingTurns } from "./admission.server.ts";
 import { createRequestContext } from "./request-context.server.ts";
 import { createRequestHandler } from "./respond.server.ts";
 import { canonicalOrigin, clientAddressOf, requestSizeLimit, requestTextGuard, sameOriginGuard, securityHeaders } from "./security.ts";
@@ -47,19 +47,9 @@ function getLoadContext(request: express.Request, response: express.Response) {
 // Pages and API answers are worked a few at a time, organisations' users in fair turns
 // (docs/decisions/024); static files do not wait.
 const admission = new FairAdmission({ concurrency: environment.ADMISSION_CONCURRENCY });
-function inTurn(handler: express.RequestHandler): express.RequestHandler {
-  return (request, response, next) => {
-    // The flow: the organisation in the URL and whoever's credentials came (not yet checked:
-    // only the order of work depends on it, and an unknown one is refused cheaply in its turn).
-    const who = request.get("authorization") ?? request.get("cookie") ?? clientAddressOf(request);
-    const withdraw = admission.admit(organisationOfPath(request.path), who, (done) => {
-      response.once("finish", done);
-      response.once("close", done);
-      void handler(request, response, next);
-    });
-    response.once("close", withdraw);
-  };
-}
+// The flow: the organisation in the URL and whoever's credentials came (not yet checked: only the
+// order of work depends on it, and an unknown one is refused cheaply in its turn).
+const inTurn = (handler: express.RequestHandler) => takingTurns(admission, (request: express.Request) => request.get("authorization") ?? request.get("cookie") ?? clientAddressOf(request), handler);
 
 if (development) {
   const vite = await import("vite");

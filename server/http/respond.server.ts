@@ -9,6 +9,7 @@
 import type { Request as ExpressRequest, Response as ExpressResponse, NextFunction } from "express";
 import { createReadableStreamFromReadable } from "@react-router/node";
 import { createRequestHandler as createRouterHandler, type RouterContextProvider, type ServerBuild } from "react-router";
+import { handOff } from "./admission.server.ts";
 
 /** Bodies up to this size are sent in one write with their length (measured pages are 40–170 KB). */
 export const BUFFERED_BYTES = 1024 * 1024;
@@ -18,7 +19,7 @@ export function createRequestHandler(options: { build: ServerBuild; mode: string
   return async (request: ExpressRequest, response: ExpressResponse, next: NextFunction) => {
     try {
       const answer = await handle(toFetchRequest(request, response), options.getLoadContext(request, response));
-      await send(response, answer);
+      await sendAnswer(response, answer);
     } catch (error) {
       next(error);
     }
@@ -47,7 +48,12 @@ function toFetchRequest(request: ExpressRequest, response: ExpressResponse): Req
   return new Request(url.href, init);
 }
 
-async function send(response: ExpressResponse, answer: Response): Promise<void> {
+/**
+ * Writes the answer: whole with its length when short, else streamed minding back-pressure. Its
+ * admission turn (takingTurns) ends once a short body is written, or a long one's first part: the
+ * work is done by then, and a client reading a large export slowly must not keep others out.
+ */
+export async function sendAnswer(response: ExpressResponse, answer: Response): Promise<void> {
   if (response.destroyed || response.writableEnded) {
     await answer.body?.cancel();
     return;
@@ -57,6 +63,7 @@ async function send(response: ExpressResponse, answer: Response): Promise<void> 
   for (const [key, value] of answer.headers.entries()) response.append(key, value);
   if (!answer.body) {
     response.end();
+    handOff(response);
     return;
   }
   const reader = answer.body.getReader();
@@ -70,14 +77,17 @@ async function send(response: ExpressResponse, answer: Response): Promise<void> 
       if (read.done) {
         response.setHeader("Content-Length", size);
         response.end(Buffer.concat(chunks, size));
+        handOff(response);
         return;
       }
       chunks.push(read.value);
       size += read.value.byteLength;
       if (size > BUFFERED_BYTES) break;
     }
-    // A long body: what was read so far, then the rest as it comes, minding back-pressure.
+    // A long body: what was read so far, then the rest as it comes, minding back-pressure. The
+    // answer is made by now (a long one is an export's text); what is left goes at the client's pace.
     for (const chunk of chunks) response.write(chunk);
+    handOff(response);
     for (;;) {
       const read = await Promise.race([reader.read(), closed]);
       if (read === "closed") throw new Error("the client went away");

@@ -4,6 +4,8 @@
 //   npm run bench:load                         full run: 500 devices, 100 requests/s for 60 s
 //   npm run bench:load -- --json               one JSON object (keys below)
 //   npm run bench:load -- --devices=20 --duration=5 --rate=20 --sessions=20 --closed-seconds=3   a smoke run
+//   … --profile-server=DIR                     every server process writes a CPU profile into DIR
+//   … --closed-routes=fleet,traceApi           the closed loop on those routes only
 // Phases:
 //  1. open loop — `rate` requests a second for `duration` seconds, each started on schedule whether
 //     or not earlier ones finished, spread over `sessions` signed-in demo sessions: the demo fleet
@@ -13,13 +15,16 @@
 //     maximum throughput the server sustains on it.
 // JSON keys: { config: {devices, modelSize, rate, durationSeconds, sessions, connections, closedSeconds,
 // webConcurrency, jobWorkers}, seedSeconds, openLoop: { overall, byRoute: {fleet, tracePage, traceApi},
-// heavyFleet }, closedLoop: { fleet, tracePage, traceApi, heavyFleet } }, where every latency block is
-// { count, errors, errorKinds (only when errors: HTTP status or fetch failure code → count), p50Ms, p95Ms, p99Ms, maxMs } and every closed-loop block adds requestsPerSecond.
+// heavyFleet, clientCpuCores, serverCpuCores }, closedLoop: { fleet, tracePage, traceApi, heavyFleet } }, where every latency block is
+// { count, errors, errorKinds (only when errors: HTTP status or fetch failure code → count), p50Ms, p95Ms, p99Ms, maxMs } and every closed-loop block adds requestsPerSecond, clientCpuCores (the load generator's own CPU
+// over that phase, in cores: it shares the machine with the server) and serverCpuMsPerRequest (the
+// server processes' CPU over the phase divided by its requests: the figure a busy neighbour moves least).
 // Targets (issue 14, 2-core machine): open-loop p95 ≤ 250 ms with 0 errors; the demo trace JSON
 // route's p95 ≤ 50 ms while the large fleet page is being loaded.
 // Needs the build and its own database: `bash server/setup/bench-load.sh` prepares both; the large
 // organisation is seeded once and kept between runs (SALLYPORT_LOAD_DB_NAME names the database).
 import { spawn } from "node:child_process";
+import { readdirSync, readFileSync } from "node:fs";
 import http from "node:http";
 import { performance } from "node:perf_hooks";
 import { Membership, Organisation, Site, User } from "#models/index.ts";
@@ -143,6 +148,48 @@ async function timed(base: string, path: string, cookie: string): Promise<[numbe
   return [performance.now() - start, outcome];
 }
 
+/**
+ * The load generator's own CPU from now until the returned function is called, in cores (CPU
+ * seconds per second): on two cores the client competes with the server it measures, so its
+ * share says how much of the machine the figures had.
+ */
+function clientCpu(): () => number {
+  const cpu = process.cpuUsage();
+  const start = performance.now();
+  return () => {
+    const used = process.cpuUsage(cpu);
+    return Math.round(((used.user + used.system) / 1000 / (performance.now() - start)) * 100) / 100;
+  };
+}
+
+/**
+ * The CPU time (ms) the server's processes have used so far: the launched process and its
+ * children (the cluster's web and job processes), from /proc (Linux; 0 elsewhere). On a shared
+ * machine latency and throughput follow the neighbours' load, CPU per request much less so.
+ */
+function serverCpuMs(rootPid: number): number {
+  let entries: string[];
+  try {
+    entries = readdirSync("/proc").filter((name) => /^\d+$/.test(name));
+  } catch {
+    return 0;
+  }
+  const ticksPerMs = 100 / 1000; // USER_HZ is 100 on Linux
+  let total = 0;
+  for (const name of entries) {
+    try {
+      // Fields after the parenthesised command name: state ppid … utime (14th) stime (15th).
+      const stat = readFileSync(`/proc/${name}/stat`, "utf8");
+      const fields = stat.slice(stat.lastIndexOf(")") + 2).split(" ");
+      if (Number(name) !== rootPid && Number(fields[1]) !== rootPid) continue;
+      total += (Number(fields[11]) + Number(fields[12])) / ticksPerMs;
+    } catch {
+      // The process ended while we looked.
+    }
+  }
+  return total;
+}
+
 async function main() {
   getDatabase();
   // This process works the analysis jobs it queues while seeding.
@@ -158,12 +205,15 @@ async function main() {
 
   const port = await findFreePort();
   const base = `http://127.0.0.1:${port}`;
-  const server = spawn(process.execPath, ["--import", "tsx", "server/launch.ts"], {
+  // --profile-server=DIR: each server process writes a CPU profile there when it stops (node --cpu-prof).
+  const profileDirectory = process.argv.find((value) => value.startsWith("--profile-server="))?.slice("--profile-server=".length);
+  const server = spawn(process.execPath, [...(profileDirectory ? ["--cpu-prof", `--cpu-prof-dir=${profileDirectory}`] : []), "--import", "tsx", "server/launch.ts"], {
     env: { ...process.env, NODE_ENV: "production", PORT: String(port), APP_ORIGIN: base, TRUST_PROXY: "1" },
     stdio: ["ignore", "ignore", "inherit"],
   });
   try {
-    await waitUntilAnswering(base, 60_000);
+    // Three processes compile the server on start: on a loaded 2-core machine that took over a minute.
+    await waitUntilAnswering(base, 180_000);
     log(`Signing in ${config.sessions} demo sessions and ${config.heavyUsers} of the large organisation…`);
     // Each session from its own documentation address (RFC 5737 TEST-NET-3), so the per-address sign-in throttle is not what is measured.
     const address = (index: number) => `203.0.113.${1 + (index % 250)}`;
@@ -214,6 +264,8 @@ async function main() {
     });
     const inFlight: Array<Promise<void>> = [];
     const total = Math.round(config.rate * config.durationSeconds);
+    const openClient = clientCpu();
+    const openServerCpu = serverCpuMs(server.pid ?? 0);
     const started = performance.now();
     for (let index = 0; index < total; index++) {
       // Open loop: the next request starts on its schedule, not when an earlier one ends.
@@ -231,12 +283,17 @@ async function main() {
     await Promise.all(inFlight);
     running = false;
     await Promise.all(heavyLoops);
-    const openLoop = { overall: overall.summary(), byRoute: Object.fromEntries(Object.entries(byRoute).map(([name, recorder]) => [name, recorder.summary()])), heavyFleet: heavy.summary() };
+    const openLoop = { overall: overall.summary(), byRoute: Object.fromEntries(Object.entries(byRoute).map(([name, recorder]) => [name, recorder.summary()])), heavyFleet: heavy.summary(), clientCpuCores: openClient(), serverCpuCores: Math.round((serverCpuMs(server.pid ?? 0) - openServerCpu) / (performance.now() - started) * 100) / 100 };
 
     log(`Closed loop: ${config.connections} requests in flight per route for ${config.closedSeconds} s each…`);
-    const closedLoop: Record<string, Latencies & { requestsPerSecond: number }> = {};
+    const closedLoop: Record<string, Latencies & { requestsPerSecond: number; clientCpuCores: number; serverCpuMsPerRequest: number }> = {};
+    // --closed-routes=fleet,traceApi: only those (to profile one route).
+    const closedRoutes = process.argv.find((value) => value.startsWith("--closed-routes="))?.slice("--closed-routes=".length).split(",");
     for (const name of [...mix, "heavyFleet"] as RouteName[]) {
+      if (closedRoutes && !closedRoutes.includes(name)) continue;
       const recorder = new Recorder();
+      const client = clientCpu();
+      const serverCpu = serverCpuMs(server.pid ?? 0);
       const start = performance.now();
       const end = start + config.closedSeconds * 1000;
       const cookies = name === "heavyFleet" ? heavySessions : sessions;
@@ -249,7 +306,7 @@ async function main() {
         }),
       );
       const seconds = (performance.now() - start) / 1000;
-      closedLoop[name] = { ...recorder.summary(), requestsPerSecond: Math.round((recorder.times.length / seconds) * 10) / 10 };
+      closedLoop[name] = { ...recorder.summary(), requestsPerSecond: Math.round((recorder.times.length / seconds) * 10) / 10, clientCpuCores: client(), serverCpuMsPerRequest: Math.round(((serverCpuMs(server.pid ?? 0) - serverCpu) / Math.max(1, recorder.times.length)) * 10) / 10 };
     }
 
     const result = { config, seedSeconds, openLoop, closedLoop };
@@ -261,9 +318,10 @@ async function main() {
       line("all", openLoop.overall);
       for (const [name, block] of Object.entries(openLoop.byRoute)) line(name, block);
       line(`large fleet page (${config.heavyUsers} users, closed loop)`, openLoop.heavyFleet);
+      console.log(`  CPU: server ${openLoop.serverCpuCores} cores, load generator ${openLoop.clientCpuCores} cores`);
       console.log(`  targets: p95 ≤ 250 ms and 0 errors: ${openLoop.overall.p95Ms <= 250 && openLoop.overall.errors === 0 ? "met" : "MISSED"}; demo trace JSON p95 ≤ 50 ms meanwhile: ${openLoop.byRoute.traceApi.p95Ms <= 50 ? "met" : "MISSED"}`);
       console.log(`Closed loop (${config.connections} in flight):`);
-      for (const [name, block] of Object.entries(closedLoop)) console.log(`  ${name}: ${block.requestsPerSecond} requests/s, p95 ${block.p95Ms} ms, ${block.errors} errors`);
+      for (const [name, block] of Object.entries(closedLoop)) console.log(`  ${name}: ${block.requestsPerSecond} requests/s, p95 ${block.p95Ms} ms, ${block.errors} errors, server CPU ${block.serverCpuMsPerRequest} ms/request, load generator ${block.clientCpuCores} cores`);
     }
   } finally {
     for (const agent of agents.values()) agent.destroy();

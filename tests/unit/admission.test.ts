@@ -1,7 +1,11 @@
 // The web process's fair admission (server/http/admission.server.ts, docs/decisions/024), driven
 // by a CPU clock the test moves: who is let in, in which order, and what each flow is charged.
+import http from "node:http";
+import type { AddressInfo } from "node:net";
+import express from "express";
 import { describe, expect, it } from "vitest";
-import { FairAdmission, organisationOfPath } from "#server/http/admission.server.ts";
+import { FairAdmission, organisationOfPath, takingTurns } from "#server/http/admission.server.ts";
+import { sendAnswer } from "#server/http/respond.server.ts";
 
 function harness(concurrency: number) {
   let cpu = 0;
@@ -129,5 +133,53 @@ describe("fair admission", () => {
     expect(organisationOfPath("/o/lanternfield/devices.data")).toBe("lanternfield");
     expect(organisationOfPath("/login")).toBe("");
     expect(organisationOfPath("/api/v1/devices")).toBe("");
+  });
+
+  it("ends a turn when the body is handed off: a client reading a large export slowly does not hold the slot", async () => {
+    // One slot, as the web process's writer (server/http/respond.server.ts) uses it over HTTP.
+    const admission = new FairAdmission({ concurrency: 1 });
+    const exportBytes = 48 * 1024 * 1024;
+    let exportFinished = false;
+    const app = express();
+    app.get(
+      /.*/,
+      takingTurns(admission, (request: express.Request) => request.get("cookie") ?? "", async (request: express.Request, response: express.Response) => {
+        if (request.path.endsWith("/export")) {
+          response.once("finish", () => (exportFinished = true));
+          await sendAnswer(response, new Response("x".repeat(exportBytes), { headers: { "Content-Type": "application/json" } }));
+        } else {
+          await sendAnswer(response, Response.json({ ok: true }));
+        }
+      }),
+    );
+    const server = app.listen(0, "127.0.0.1");
+    await new Promise((resolve) => server.once("listening", resolve));
+    const base = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
+    const agent = new http.Agent({ keepAlive: false });
+    try {
+      // The slow reader: takes the answer's head, then reads nothing.
+      const slow = await new Promise<http.IncomingMessage>((resolve, reject) => {
+        http.get(`${base}/o/large/devices/d1/export`, { agent, headers: { Cookie: "slow" } }, (response) => {
+          response.pause();
+          resolve(response);
+        }).on("error", reject);
+      });
+      await expect.poll(() => admission.active, { timeout: 5_000 }).toBe(0);
+      expect(exportFinished).toBe(false);
+      // Another organisation's request is answered meanwhile through the one slot.
+      const other = await fetch(`${base}/o/demo/devices/d2/api/trace`, { headers: { Cookie: "other" } });
+      expect(await other.json()).toEqual({ ok: true });
+      expect(exportFinished).toBe(false);
+      // The slow reader still gets the whole export.
+      let received = 0;
+      slow.on("data", (chunk: Buffer) => (received += chunk.length));
+      slow.resume();
+      await new Promise((resolve) => slow.once("end", resolve));
+      expect(received).toBe(exportBytes);
+      expect(exportFinished).toBe(true);
+    } finally {
+      agent.destroy();
+      await new Promise((resolve) => server.close(resolve));
+    }
   });
 });
