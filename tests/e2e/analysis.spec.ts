@@ -1,6 +1,6 @@
 import type { Page } from "@playwright/test";
 import { expect, test } from "./fixtures";
-import { screenshot, seriousAccessibilityViolations, signIn } from "./helpers";
+import { screenshot, seriousAccessibilityViolations, useSignedInSession } from "./helpers";
 
 async function deviceId(page: Page, name: string): Promise<string> {
   await page.goto("/o/lanternfield/devices");
@@ -17,7 +17,7 @@ async function expectNoSeriousViolations(page: Page, within?: string) {
 test("A trainer walks a probe through every layer, one verdict at a time", async ({ page, browserProblems }) => {
   // The malformed source typed below is refused by the trace API with a 400, shown beside the field.
   browserProblems.expect(400, /\/api\/trace\.data\?from=10\.0\.0&/);
-  await signIn(page, "jun.watanabe@lanternfield.example", "demo-password-trainee");
+  await useSignedInSession(page, "jun.watanabe@lanternfield.example", "demo-password-trainee");
   const id = await deviceId(page, "clf-gw-02");
   await page.goto(`/o/lanternfield/devices/${id}/analysis?from=203.0.113.50&interface=outside&service=https`);
   const verdicts = page.getByRole("list", { name: "Layer verdicts" });
@@ -60,7 +60,7 @@ test("A trainer walks a probe through every layer, one verdict at a time", async
 });
 
 test("An engineer asks what 203.0.113.50 can reach on a device, and what it would see", async ({ page }) => {
-  await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+  await useSignedInSession(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
   const id = await deviceId(page, "clf-gw-02");
   await page.goto(`/o/lanternfield/devices/${id}/reach`);
   await page.getByLabel("Source address").fill("203.0.113.50");
@@ -77,7 +77,7 @@ test("An engineer asks what 203.0.113.50 can reach on a device, and what it woul
 });
 
 test("An auditor opens the exposure map of the device whose web console answers the internet", async ({ page }) => {
-  await signIn(page, "oskar.lindqvist@lanternfield.example", "demo-password-reviewer");
+  await useSignedInSession(page, "oskar.lindqvist@lanternfield.example", "demo-password-reviewer");
   const id = await deviceId(page, "clf-gw-02");
   await page.goto(`/o/lanternfield/devices/${id}/exposure?interface=outside&service=https`);
   await expect(page.getByRole("heading", { name: "Exposure map" })).toBeVisible();
@@ -89,7 +89,7 @@ test("An auditor opens the exposure map of the device whose web console answers 
 });
 
 test("Findings link to the editor of the element concerned", async ({ page }) => {
-  await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+  await useSignedInSession(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
   await page.goto("/o/lanternfield/findings?code=default-account-name");
   const row = page.getByRole("row").filter({ hasText: "clf-gw-02" }).first();
   await expect(row).toContainText("factory-default");
@@ -102,7 +102,7 @@ test("Findings link to the editor of the element concerned", async ({ page }) =>
 });
 
 test("The device pages have no serious accessibility violations", async ({ page }) => {
-  await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+  await useSignedInSession(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
   const id = await deviceId(page, "clf-gw-02");
   for (const path of [`/o/lanternfield/devices`, `/o/lanternfield/devices/${id}`, `/o/lanternfield/devices/${id}/analysis?from=203.0.113.50&interface=outside&service=https`, `/o/lanternfield/devices/${id}/model/rules`]) {
     await page.goto(path);
@@ -133,7 +133,7 @@ for (const [width, scheme] of [
     await page.setViewportSize({ width, height: 900 });
     await page.emulateMedia({ colorScheme: scheme });
     const problems = watchForErrors(page);
-    await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+    await useSignedInSession(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
     const id = await deviceId(page, "clf-gw-02");
     await page.goto(`/o/lanternfield/devices/${id}/exposure?interface=outside&service=https&family=4`);
     const view = page.getByRole("region", { name: /Where in the IPv4 space the outcome changes/ });
@@ -163,7 +163,7 @@ for (const [width, scheme] of [
     await page.setViewportSize({ width, height: 900 });
     await page.emulateMedia({ colorScheme: scheme });
     const problems = watchForErrors(page);
-    await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+    await useSignedInSession(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
     const id = await deviceId(page, "clf-fw-01");
     await page.goto(`/o/lanternfield/devices/${id}/exposure?interface=outside&service=https&family=4&at=2025-03-18T10:00`);
     const week = page.getByRole("table", { name: /Worst outcome of the changing addresses in each hour/ });

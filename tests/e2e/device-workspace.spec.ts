@@ -1,6 +1,6 @@
 import { readFileSync } from "node:fs";
 import { expect, test } from "./fixtures";
-import { chooseNames, screenshot, signIn, toast } from "./helpers";
+import { chooseNames, screenshot, signIn, toast, useSignedInSession } from "./helpers";
 
 test("An engineer models a new device, reorders its rules, and round-trips it through export and import", async ({ page, browserProblems }) => {
   // Two submissions below are refused on purpose (a bad name, a rule without services): 400s.
@@ -115,7 +115,7 @@ test("An engineer models a new device, reorders its rules, and round-trips it th
 
 test("A bad upload is refused with its problems and creates nothing", async ({ page, browserProblems }) => {
   browserProblems.expect(400, /\/devices\/import\.data$/);
-  await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+  await useSignedInSession(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
   await page.goto("/o/lanternfield/devices/import");
   await page.getByLabel("Model document").setInputFiles({ name: "broken.json", mimeType: "application/json", buffer: Buffer.from(JSON.stringify({ schemaVersion: 2, device: { name: "broken" }, inboundRules: [{ id: "r1", interface: "any", sources: ["noc"], destinations: ["any"], services: ["ssh"], action: "allow" }] })) });
   await page.getByLabel("Import as").selectOption({ label: "New device at Brightwater Clinic — main campus" });
@@ -128,7 +128,7 @@ test("A bad upload is refused with its problems and creates nothing", async ({ p
 });
 
 test("Inbound rules can be reordered with the keyboard and by dragging", async ({ page }) => {
-  await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+  await useSignedInSession(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
   await page.goto("/o/lanternfield/devices");
   await page.getByRole("link", { name: "ngl-core-01", exact: true }).click();
   await page.getByRole("navigation", { name: "Device" }).getByRole("link", { name: "Inbound rules" }).click();

@@ -1,7 +1,8 @@
 import { mkdirSync } from "node:fs";
 import path from "node:path";
 import AxeBuilder from "@axe-core/playwright";
-import { expect, type Locator, type Page } from "@playwright/test";
+import { expect, request, test, type Locator, type Page } from "@playwright/test";
+import { makeOncePerRun, sharedFolder } from "./run-once";
 
 const directory = path.resolve("tests/artifacts/screenshots");
 
@@ -18,6 +19,29 @@ export async function signIn(page: Page, email: string, password: string): Promi
   await page.getByLabel("Password").fill(password);
   await page.getByRole("button", { name: "Sign in" }).click();
   await page.waitForURL((url) => !url.pathname.startsWith("/login"));
+}
+
+/**
+ * Signs the page's browser in as a demo member without the form, for a test that is not about
+ * signing in: the sign-in form's own post is made once per run (by whichever worker asks first)
+ * and every test that asks for the member gets that session's cookie. Tests of signing in itself
+ * use `signIn`.
+ */
+export async function useSignedInSession(page: Page, email: string, password: string): Promise<void> {
+  const { project } = test.info();
+  const baseURL = project.use.baseURL;
+  if (!baseURL) throw new Error("no baseURL in playwright.config.ts");
+  const folder = sharedFolder(project.outputDir, "sessions");
+  const cookies = await makeOncePerRun(folder, email.replace(/[^a-z0-9]+/gi, "-"), async () => {
+    // Posts carry the site's own Origin, as a browser's would (the same-origin guard asks for it).
+    const client = await request.newContext({ baseURL, extraHTTPHeaders: { Origin: baseURL } });
+    const response = await client.post("/login", { form: { email, password }, maxRedirects: 0 });
+    if (response.status() !== 302 || response.headers()["location"]?.startsWith("/login")) throw new Error(`signing in ${email}: expected a redirect into the app, got ${response.status()} ${response.headers()["location"] ?? ""}`);
+    const { cookies: made } = await client.storageState();
+    await client.dispose();
+    return made;
+  });
+  await page.context().addCookies(cookies);
 }
 
 /** The one-time message shown after an action. */

@@ -1,6 +1,6 @@
 import { mkdirSync } from "node:fs";
 import path from "node:path";
-import type { Page } from "@playwright/test";
+import type { APIRequest, Page, TestInfo } from "@playwright/test";
 import { ROLES, type Role } from "#models/roles";
 import { hasAtLeastRole, PAGE_ROLES } from "#server/auth/roles";
 import { deviceNavGroups } from "#app/components/device/device-nav";
@@ -17,9 +17,11 @@ import { recordFieldCheck } from "./observations";
 // no serious or critical violation, and (through the shared fixture) nothing logs an error or
 // fails to load. Screenshots go to tests/artifacts/sweep/<role>/ (1366 light and 390 dark).
 //
-// Kept to a few minutes on a 2-core machine: the five roles run side by side in the run's two
-// workers, on one team made once for the run; each page is loaded once and re-laid out at each
-// size and scheme. Every role checks every page it may open at both sizes and both schemes for
+// Kept to a few minutes on a 2-core machine: each role's pages are swept in five parts (the
+// organisation's pages, the device's, its model's sections, training, and managing training),
+// so the run's two workers share 25 tests of a minute or two each and end together, on one
+// team made once for the run; each page is loaded once and re-laid out at each size and scheme.
+// Every role checks every page it may open at both sizes and both schemes for
 // sideways scrolling, its device navigation, its links and its errors. axe, the costly part,
 // runs on every size and scheme of a page for one of the roles that may open it (the page's
 // lead, taken in turn, so the roles share the work), and for the other roles on their own
@@ -55,7 +57,11 @@ const GATED: Array<{ path: string; role: Role }> = [
 /** The device navigation's pages, counted from its own groups. */
 const DEVICE_PAGE_COUNT = deviceNavGroups("").flatMap((group) => group.tabs).length;
 
-function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } {
+/** The parts a role's sweep is cut into; every page, open or refused, belongs to exactly one. */
+const PARTS = ["organisation", "device", "training", "training management", "device model"] as const;
+type Part = (typeof PARTS)[number];
+
+function pagesOf(team: Team, role: Role): { open: string[]; refused: string[]; partOf: Map<string, Part> } {
   const organisation = `/o/${team.slug}`;
   const device = team.device.path;
   const everyone = ["devices", "sites", "findings", "changes", "training", "settings/members", "settings/shared-objects", "settings/organisation", "reach?from=198.51.100.0/24"].map((page) => `${organisation}/${page}`);
@@ -73,8 +79,8 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
     `${device}/analysis?from=203.0.113.50&interface=outside&service=https&proposal=${proposalPath.split("/").at(-1) ?? ""}&side=draft`,
     `${proposalPath}/draft/rules`,
     `${proposalPath}/record`,
-    ...DEVICE_SECTIONS.map((section) => `${device}/model/${section}`),
   ];
+  const modelPages = DEVICE_SECTIONS.map((section) => `${device}/model/${section}`);
   // Training (docs/decisions/016): every member reads scenarios and takes lessons; managing them
   // needs the trainer capability, which in this team only the admin and the owner have (always).
   const drills = training.drills;
@@ -93,11 +99,27 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[] } 
     `${organisation}/training/assignments/new`,
     `${organisation}/training/progress`,
   ].map((path) => ({ path, role: "admin" as const }));
-  const gated = [...GATED.map((page) => ({ ...page, path: `${organisation}/${page.path}` })), { path: `${device}/proposals/new`, role: PAGE_ROLES.proposeChange }, ...trainerPages];
-  return {
-    open: [...everyone, ...trainingPages, ...gated.filter((page) => hasAtLeastRole(role, page.role)).map((page) => page.path), "/account", "/account/second-factor", "/docs/api", ...devicePages],
-    refused: gated.filter((page) => !hasAtLeastRole(role, page.role)).map((page) => page.path),
+  const newProposal = { path: `${device}/proposals/new`, role: PAGE_ROLES.proposeChange };
+  const gatedOrganisation = GATED.map((page) => ({ ...page, path: `${organisation}/${page.path}` }));
+  const gated = [...gatedOrganisation, newProposal, ...trainerPages];
+  const accountPages = ["/account", "/account/second-factor", "/docs/api"];
+  const partOf = new Map<string, Part>();
+  const place = (part: Part, urls: string[]) => {
+    for (const url of urls) {
+      if (partOf.has(url)) throw new Error(`${url} is in two parts of the sweep`);
+      partOf.set(url, part);
+    }
   };
+  place("organisation", [...everyone, ...gatedOrganisation.map((page) => page.path), ...accountPages]);
+  place("device", [...devicePages, newProposal.path]);
+  place("device model", modelPages);
+  place("training", trainingPages);
+  place("training management", trainerPages.map((page) => page.path));
+  const open = [...everyone, ...trainingPages, ...gated.filter((page) => hasAtLeastRole(role, page.role)).map((page) => page.path), ...accountPages, ...devicePages, ...modelPages];
+  const refused = gated.filter((page) => !hasAtLeastRole(role, page.role)).map((page) => page.path);
+  const unplaced = [...open, ...refused].filter((url) => !partOf.has(url));
+  if (unplaced.length > 0) throw new Error(`pages in no part of the sweep: ${unplaced.join(", ")}`);
+  return { open, refused, partOf };
 }
 
 /**
@@ -167,84 +189,105 @@ let proposalPath = "";
 let training: TrainingPages;
 /** A field check the team's engineer recorded on the device: its page is swept too. */
 let fieldCheckPath = "";
-test.beforeAll(async ({ playwright }, testInfo) => {
+let ready = false;
+
+/**
+ * The run's team, made by whichever worker comes first (one sign-up, not two), read once per
+ * worker. Fetched at the start of each test rather than in a beforeAll hook: Playwright cuts a
+ * parallel file with such a hook into one block of tests per worker, fixed before the run, while
+ * tests without one are handed out one at a time to whichever worker is free, so both end together.
+ */
+async function sweepData(request: APIRequest, testInfo: TestInfo): Promise<void> {
+  if (ready) return;
   const baseURL = testInfo.project.use.baseURL;
   if (!baseURL) throw new Error("no baseURL in playwright.config.ts");
-  // One team for the run, made by whichever worker comes first: one sign-up, not one per worker.
-  test.setTimeout(300_000);
+  // Making the team (or waiting for the other worker to make it) has its own five minutes, on top of the test's.
+  testInfo.setTimeout(testInfo.timeout + 300_000);
   shared = sharedFolder(testInfo.project.outputDir, "page-sweep");
   const data = await makeOncePerRun<SweepData>(shared, "team", async () => {
-    const made = await createTeam(playwright.request, baseURL, "sweep");
-    const proposal = await createProposal(playwright.request, baseURL, made);
-    return { team: made, proposalPath: proposal, training: await createTrainingPages(playwright.request, baseURL, made), fieldCheckPath: await recordFieldCheck(playwright.request, baseURL, made) };
+    const made = await createTeam(request, baseURL, "sweep");
+    const proposal = await createProposal(request, baseURL, made);
+    return { team: made, proposalPath: proposal, training: await createTrainingPages(request, baseURL, made), fieldCheckPath: await recordFieldCheck(request, baseURL, made) };
   });
   ({ team, proposalPath, training, fieldCheckPath } = data);
-});
+  ready = true;
+}
 
-for (const role of ROLES) {
-  test(`Every page as ${role === "admin" || role === "owner" || role === "engineer" ? "an" : "a"} ${role}, at 1366 and 390 px, light and dark, fits the screen and passes axe`, async ({ browser, browserProblems }) => {
-    // About 50 s on a quiet machine (with the training pages); the bound leaves room for a busy
-    // one — at a load average of 16–19 on 2 cores a role took up to 6 minutes.
-    test.setTimeout(600_000);
-    // Reduced motion: colours switch at once with the scheme, so axe never measures a transition halfway.
-    const context = await browser.newContext({ storageState: team.members[role].storageState, viewport: SIZES[0], reducedMotion: "reduce" });
-    browserProblems.watch(context);
-    const page = await context.newPage();
-    const { open, refused } = pagesOf(team, role);
-    const leads = pageLeads(team);
-    const folder = path.join(ARTIFACTS, role);
-    mkdirSync(folder, { recursive: true });
-    const seen = new Set<string>();
-    const findings: string[] = [];
+/** "a trainee", "an admin": the role with its article, for the tests' titles. */
+const withArticle = (role: Role) => `${role === "admin" || role === "owner" || role === "engineer" ? "an" : "a"} ${role}`;
 
-    for (const url of open) {
-      await page.setViewportSize(SIZES[0]);
-      await page.emulateMedia({ colorScheme: "light" });
-      const response = await page.goto(url);
-      expect(response?.status(), url).toBe(200);
-      await hydrated(page);
-      if (url.startsWith(team.device.path)) for (const problem of await deviceNavigationProblems(page)) findings.push(`${url} at 1366 px: ${problem}`);
-      const lead = leads.get(url) === role;
-      for (const size of SIZES) {
-        await page.setViewportSize(size);
-        for (const scheme of SCHEMES) {
-          await page.emulateMedia({ colorScheme: scheme });
-          const where = `${url} at ${size.name} px, ${scheme}`;
-          const overflow = await sidewaysOverflow(page);
-          if (overflow > 0) findings.push(`${where}: the page scrolls ${overflow} px sideways`);
-          if (!lead && (size.name !== "1366" || scheme !== "light")) continue;
-          if (claimOnce(shared, await renderingKey(page, where))) {
-            for (const violation of await seriousAccessibilityViolations(page, scheme === "dark" ? COLOUR_RULES : undefined)) findings.push(`${where}: ${violation}`);
+// One test per role and part (25), the longer parts first, so the last ones handed out are short and the two workers end close together.
+for (const part of PARTS) {
+  for (const role of ROLES) {
+    test(`As ${withArticle(role)}, every ${part} page fits the screen at 1366 and 390 px, light and dark, and passes axe; those it may not open refuse it`, async ({ browser, browserProblems, playwright }, testInfo) => {
+      // About 10–20 s on a quiet machine; the bound leaves room for a busy one — at a load
+      // average of 16–19 on 2 cores a whole role (all five parts) took up to 6 minutes.
+      test.setTimeout(300_000);
+      await sweepData(playwright.request, testInfo);
+      // Reduced motion: colours switch at once with the scheme, so axe never measures a transition halfway.
+      const context = await browser.newContext({ storageState: team.members[role].storageState, viewport: SIZES[0], reducedMotion: "reduce" });
+      browserProblems.watch(context);
+      const page = await context.newPage();
+      const { open: allOpen, refused: allRefused, partOf } = pagesOf(team, role);
+      const open = allOpen.filter((url) => partOf.get(url) === part);
+      const refused = allRefused.filter((url) => partOf.get(url) === part);
+      expect(open.length + refused.length, `pages of the ${part} part for the ${role}`).toBeGreaterThan(0);
+      const leads = pageLeads(team);
+      const folder = path.join(ARTIFACTS, role);
+      mkdirSync(folder, { recursive: true });
+      const seen = new Set<string>();
+      const findings: string[] = [];
+
+      for (const url of open) {
+        await page.setViewportSize(SIZES[0]);
+        await page.emulateMedia({ colorScheme: "light" });
+        const response = await page.goto(url);
+        expect(response?.status(), url).toBe(200);
+        await hydrated(page);
+        if (url.startsWith(team.device.path)) for (const problem of await deviceNavigationProblems(page)) findings.push(`${url} at 1366 px: ${problem}`);
+        const lead = leads.get(url) === role;
+        for (const size of SIZES) {
+          await page.setViewportSize(size);
+          for (const scheme of SCHEMES) {
+            await page.emulateMedia({ colorScheme: scheme });
+            const where = `${url} at ${size.name} px, ${scheme}`;
+            const overflow = await sidewaysOverflow(page);
+            if (overflow > 0) findings.push(`${where}: the page scrolls ${overflow} px sideways`);
+            if (!lead && (size.name !== "1366" || scheme !== "light")) continue;
+            if (claimOnce(shared, await renderingKey(page, where))) {
+              for (const violation of await seriousAccessibilityViolations(page, scheme === "dark" ? COLOUR_RULES : undefined)) findings.push(`${where}: ${violation}`);
+            }
+            // Two of the four kept, by the page's lead: the laptop in light and the phone in dark show both sizes and both schemes.
+            if (lead && (size.name === "1366") === (scheme === "light")) await page.screenshot({ path: path.join(folder, `${artifactName(team, url)}-${size.name}-${scheme}.png`), fullPage: true });
           }
-          // Two of the four kept, by the page's lead: the laptop in light and the phone in dark show both sizes and both schemes.
-          if (lead && (size.name === "1366") === (scheme === "light")) await page.screenshot({ path: path.join(folder, `${artifactName(team, url)}-${size.name}-${scheme}.png`), fullPage: true });
         }
+        for (const link of await linkPaths(page)) seen.add(link);
       }
-      for (const link of await linkPaths(page)) seen.add(link);
-    }
 
-    // A page the role may not open is not linked from any page it may open …
-    const refusedPaths = new Set(refused.map((url) => new URL(url, "http://x").pathname));
-    expect([...seen].filter((link) => refusedPaths.has(link)), "links to pages this role may not open").toEqual([]);
-    // … and every other page linked answers (those not swept above are asked for directly).
-    const swept = new Set(open.map((url) => new URL(url, "http://x").pathname));
-    for (const link of [...seen].filter((candidate) => !swept.has(candidate) && candidate !== "/logout")) {
-      const answer = await page.request.get(link);
-      if (answer.status() >= 400) findings.push(`link ${link} answers ${answer.status()}`);
-    }
+      // A page the role may not open is not linked from any page it may open …
+      const refusedPaths = new Set(allRefused.map((url) => new URL(url, "http://x").pathname));
+      expect([...seen].filter((link) => refusedPaths.has(link)), "links to pages this role may not open").toEqual([]);
+      // … and every other page linked answers (those not swept are asked for directly, once per role in the run).
+      const swept = new Set(allOpen.map((url) => new URL(url, "http://x").pathname));
+      for (const link of [...seen].filter((candidate) => !swept.has(candidate) && candidate !== "/logout")) {
+        if (!claimOnce(shared, `link ${role} ${link}`)) continue;
+        const answer = await page.request.get(link);
+        if (answer.status() >= 400) findings.push(`link ${link} answers ${answer.status()}`);
+      }
 
-    // Opened by address anyway, such a page refuses inside the app's frame, with a way back.
-    for (const url of refused) {
-      browserProblems.expect(403, new RegExp(`${url.replace(/[/.]/g, "\\$&")}(\\?|$)`));
-      const response = await page.goto(url);
-      expect(response?.status(), url).toBe(403);
-      await expect(page.getByRole("heading", { name: "Not allowed" })).toBeVisible();
-      await expect(page.getByRole("navigation", { name: "Main" })).toBeVisible();
-      await expect(page.getByRole("link", { name: /^Back to / })).toBeVisible();
-      await page.screenshot({ path: path.join(folder, `refused-${artifactName(team, url)}-390-dark.png`) });
-    }
+      // Opened by address anyway, such a page refuses inside the app's frame, with a way back.
+      for (const url of refused) {
+        browserProblems.expect(403, new RegExp(`${url.replace(/[/.]/g, "\\$&")}(\\?|$)`));
+        const response = await page.goto(url);
+        expect(response?.status(), url).toBe(403);
+        await expect(page.getByRole("heading", { name: "Not allowed" })).toBeVisible();
+        await expect(page.getByRole("navigation", { name: "Main" })).toBeVisible();
+        await expect(page.getByRole("link", { name: /^Back to / })).toBeVisible();
+        await page.screenshot({ path: path.join(folder, `refused-${artifactName(team, url)}-390-dark.png`) });
+      }
 
-    expect(findings).toEqual([]);
-    await context.close();
-  });
+      expect(findings).toEqual([]);
+      await context.close();
+    });
+  }
 }

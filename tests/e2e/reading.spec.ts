@@ -1,6 +1,6 @@
 import type { Page } from "@playwright/test";
 import { expect, test } from "./fixtures";
-import { screenshot, signIn, toast } from "./helpers";
+import { screenshot, toast, useSignedInSession } from "./helpers";
 
 /** Console errors of the page (a hydration mismatch in a formatted time or count shows here). */
 function consoleErrors(page: Page): string[] {
@@ -80,7 +80,7 @@ test("An owner reads the audit log in words, filters it and opens an entry's det
 
 test("The device overview's times, counts and single caution render the same on the server and in the browser", async ({ page }) => {
   const errors = consoleErrors(page);
-  await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+  await useSignedInSession(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
   await page.goto("/o/lanternfield/devices");
   await page.getByRole("link", { name: "clf-gw-02" }).click();
   await expect(page.getByText(/on (Mon|Tue|Wed|Thu|Fri|Sat|Sun) \d{1,2} \w{3} \d{4}, \d{2}:\d{2} America\/Chicago/)).toBeVisible();
