@@ -222,6 +222,8 @@ export class CompiledModel {
   private readonly basisRef: WeakRef<CompiledModel> | null = null;
   /** Partitions taken from the basis whose outcome runs carry over too (same actions, services, accounts, defaults). */
   private readonly outcomesCarried = new Set<RulePartition>();
+  /** Per partition taken from the basis with other actions or updated from one of its partitions (updatedPartition): that basis partition. */
+  private readonly updatedFrom = new Map<RulePartition, RulePartition>();
   /** The basis's partitions by a hash of their family and rule tokens. */
   private basisIndex: Map<number, RulePartition[]> | null = null;
   /** partitionsByContent, once built. */
@@ -999,8 +1001,17 @@ export class CompiledModel {
     let outcome = this.outcomeCache.get(outcomeKey);
     if (outcome === undefined) {
       // A partition taken from the basis is the basis's own object, under the same key there.
-      if (this.outcomesCarried.has(rules)) outcome = this.basisRef?.deref()?.outcomeCache.get(outcomeKey);
-      outcome ??= this.outcomeRuns(rules.family, rules, cls, listening);
+      const basis = this.basisRef?.deref();
+      if (this.outcomesCarried.has(rules)) outcome = basis?.outcomeCache.get(outcomeKey);
+      if (outcome === undefined) {
+        outcome = this.outcomeRuns(rules.family, rules, cls, listening);
+        // Most edits change no outcome in most places they touch (a shadowed rule removed, an
+        // element passed to a next match that acts alike): equal runs are then the basis's object,
+        // so what is kept per runs object (counts, exposure, login coverage) carries over.
+        const from = basis === undefined || basis.classes.length !== this.classes.length ? undefined : this.updatedFrom.get(rules);
+        const before = from === undefined ? undefined : basis?.outcomeCache.get((from.id * this.classes.length + cls) * 2 + (listening ? 1 : 0));
+        if (before !== undefined && sameRuns(before, outcome)) outcome = before;
+      }
       this.outcomeCache.set(outcomeKey, outcome);
     }
     return outcome;
@@ -1183,7 +1194,10 @@ export class CompiledModel {
       let sameActions = this.sameCatalogueAndAccounts;
       for (let k = 0; k < active.length && sameActions; k++) sameActions = basis.rules[basis.slotPositions[active[k]]].allow === this.rules[this.slotPositions[active[k]]].allow;
       if (sameActions) this.outcomesCarried.add(found);
-      else this.touch(active);
+      else {
+        this.touch(active);
+        this.updatedFrom.set(found, found);
+      }
       return found;
     }
     const updated = this.updatedPartition(basis, family, active);
@@ -1263,7 +1277,9 @@ export class CompiledModel {
       const position = this.slotPositions[slot];
       runs = takenRuns(runs, this.ruleBits[position][familySlot], slot, (owner) => owner < 0 || this.slotPositions[owner] > position, domain.size);
     }
-    return { id: nextPartitionId++, family, active, owner: runs };
+    const updated = { id: nextPartitionId++, family, active, owner: runs };
+    this.updatedFrom.set(updated, base);
+    return updated;
   }
 
   /**
@@ -1434,6 +1450,16 @@ export class CompiledModel {
   /** The position of the rule a partition names by this slot (owners and `active` lists hold slots). */
   positionOfSlot(slot: number): number {
     return this.slotPositions[slot];
+  }
+
+  /**
+   * The basis partition a partition of this model was updated from (updatedPartition), or the
+   * basis's own partition when it is taken with other actions: outside the sources of the
+   * rules the edit changed (changedRuleIds, either version), every element has the same owner
+   * in both. Undefined for any other partition.
+   */
+  partitionBasis(p: RulePartition): RulePartition | undefined {
+    return this.updatedFrom.get(p);
   }
 
   /** The slot partitions name the rule at this position by. */
@@ -1674,6 +1700,15 @@ function sameLists(a: InboundRule, b: InboundRule): boolean {
 
 function sameNames(x: readonly unknown[], y: readonly unknown[]): boolean {
   return x.length === y.length && x.every((v, i) => v === y[i]);
+}
+
+/** Whether two runs lists are equal element by element. */
+function sameRuns(a: Runs, b: Runs): boolean {
+  if (a === b) return true;
+  const n = a.starts.length;
+  if (b.starts.length !== n) return false;
+  for (let k = 0; k < n; k++) if (a.starts[k] !== b.starts[k] || a.values[k] !== b.values[k]) return false;
+  return true;
 }
 
 /** Whether the partition is of the family and of these slots, in order. */
