@@ -254,32 +254,43 @@ function slotsThatMatter(engine: CompiledModel, p: RulePartition): ReadonlySet<n
   // next match with the same action (the changed rules are the only ones that moved, came,
   // went or changed action), so it matters here exactly when it did there.
   let before: ReadonlySet<number> | undefined;
-  let touched: Set<number> | undefined;
   if (basis !== undefined && from !== undefined) {
     before = slotsThatMatter(basis, from);
     const dirty = changedSources(engine, basis)[p.family];
-    touched = new Set<number>();
-    ownersTouching(from.owner, dirty, engine.domains[p.family].size, touched);
-    ownersTouching(p.owner, dirty, engine.domains[p.family].size, touched);
+    if (ownerStates.length < engine.slotCount) ownerStates = new Uint8Array(engine.slotCount * 2);
+    markTouching(from.owner, dirty, engine.domains[p.family].size);
+    markTouching(p.owner, dirty, engine.domains[p.family].size);
   }
   // One pass over the partition's runs; an owner is judged until one of its runs matters.
   const found = new Set<number>();
-  const settled = new Set<number>();
+  const states = ownerStates;
   const values = p.owner.values;
   for (let k = 0; k < values.length; k++) {
     const owner = values[k];
-    if (owner < 0 || settled.has(owner)) continue;
-    if (before !== undefined && touched !== undefined && !touched.has(owner)) {
-      settled.add(owner);
-      if (before.has(owner)) found.add(owner);
+    if (owner < 0) continue;
+    const state = before === undefined ? (found.has(owner) ? SETTLED : TOUCHED) : states[owner];
+    if (state === SETTLED) continue;
+    if (state === UNTOUCHED) {
+      states[owner] = SETTLED;
+      if ((before as ReadonlySet<number>).has(owner)) found.add(owner);
     } else if (runMatters(engine, p, k, placeInList(engine, p.active, owner))) {
-      settled.add(owner);
+      if (before !== undefined) states[owner] = SETTLED;
       found.add(owner);
     }
+  }
+  if (before !== undefined && from !== undefined) {
+    for (const slot of ownerSlots(p)) states[slot] = UNTOUCHED;
+    for (const slot of ownerSlots(from)) if (slot < states.length) states[slot] = UNTOUCHED;
   }
   byPartition.set(p, found);
   return found;
 }
+
+/** Per slot, while slotsThatMatter walks an updated partition: a changed rule's sources touch its elements, or it is settled; zero between calls. */
+let ownerStates = new Uint8Array(0);
+const UNTOUCHED = 0;
+const TOUCHED = 1;
+const SETTLED = 2;
 
 const changedSourcesCache = new WeakMap<CompiledModel, Readonly<Record<Family, Int32Array>>>();
 
@@ -302,12 +313,13 @@ function changedSources(engine: CompiledModel, basis: CompiledModel): Readonly<R
   return out;
 }
 
-/** Adds to `touched` every owner with a run holding an element of the dense bitset: one pass over the runs and the bitset's words. */
-function ownersTouching(runs: Runs, dense: Int32Array, size: number, touched: Set<number>): void {
+/** Marks TOUCHED every owner with a run holding an element of the dense bitset: one pass over the runs and the bitset's words. */
+function markTouching(runs: Runs, dense: Int32Array, size: number): void {
   const { starts, values } = runs;
+  const states = ownerStates;
   for (let k = 0; k < starts.length; k++) {
     const owner = values[k];
-    if (owner < 0 || touched.has(owner)) continue;
+    if (owner < 0 || states[owner] === TOUCHED) continue;
     const start = starts[k];
     const last = (k + 1 < starts.length ? starts[k + 1] : size) - 1;
     const firstWord = start >>> 5;
@@ -318,7 +330,7 @@ function ownersTouching(runs: Runs, dense: Int32Array, size: number, touched: Se
       if (w === firstWord) mask &= -1 << (start & 31);
       if (w === lastWord && (last & 31) !== 31) mask &= (1 << ((last & 31) + 1)) - 1;
       if (mask !== 0) {
-        touched.add(owner);
+        states[owner] = TOUCHED;
         break;
       }
     }

@@ -939,13 +939,17 @@ export class CompiledModel {
 
   /** First-match partition for (interface, destination, class, slice); shared between equal rule lists. */
   entry(iface: number, to: number, cls: number, slice: number): EntryPartition {
+    if (this.changedRules !== null) {
+      // After a rule edit a cell the edit left alone is the basis's, kept there (not copied
+      // here); a changed cell is asked for in every slice (exposure, census, findings), so its
+      // week is built at once, shared by the changed cells of the same list, class and listening.
+      const basis = this.basisOfCleanCell(iface, to, cls);
+      return basis !== undefined ? basis.entry(iface, to, cls, slice) : this.changedWeek(iface, to, cls).entries[slice];
+    }
     const cell = (iface * this.addresses.length + to) * this.classes.length + cls;
     const bySlice = this.entries.get(cell);
     const cached = bySlice?.[slice];
     if (cached !== undefined) return cached;
-    // A cell the edit left alone is the basis's, kept there (not copied here).
-    const basis = this.basisOfCleanCell(iface, to, cls);
-    if (basis !== undefined) return basis.entry(iface, to, cls, slice);
     const family = this.addresses[to].family;
     const rules = this.rulePartitionAt(iface, to, cls, slice);
     const result: EntryPartition = { family, rules, outcome: this.outcomeRunsOf(rules, iface, cls) };
@@ -965,25 +969,32 @@ export class CompiledModel {
     return this.partitionsBySlice(family, this.candidateRules(iface, to, cls), [slice])[0];
   }
 
-  /** The first-match partitions of (interface, destination, class) for every slice, in slice order. */
-  weekRulePartitions(iface: number, to: number, cls: number): RulePartition[] {
+  /**
+   * The first-match partitions of (interface, destination, class) for every slice, in slice
+   * order: one array per candidate list and family (cells alike get the same array).
+   */
+  weekRulePartitions(iface: number, to: number, cls: number): readonly RulePartition[] {
     const basis = this.basisOfCleanCell(iface, to, cls);
     if (basis !== undefined) return basis.weekRulePartitions(iface, to, cls);
     return this.partitionsBySlice(this.addresses[to].family, this.candidateRules(iface, to, cls), null);
   }
 
-  /** Rule partitions of a candidate list for the given slices (null = all, in order). */
-  private partitionsBySlice(family: Family, candidates: Candidates, slices: readonly number[] | null): RulePartition[] {
+  /** Rule partitions of a candidate list for the given slices (null = all, in order: then the list's own array, every slice filled). */
+  private partitionsBySlice(family: Family, candidates: Candidates, slices: readonly number[] | null): readonly RulePartition[] {
     const listKey = candidates.id * 2 + (family === 4 ? 0 : 1);
     let bySlice = this.slicePartitions.get(listKey);
     if (bySlice === undefined) {
       bySlice = new Array<RulePartition | undefined>(this.week.slices.length).fill(undefined);
       this.slicePartitions.set(listKey, bySlice);
     }
-    const count = slices === null ? this.week.slices.length : slices.length;
+    if (slices === null) {
+      for (let slice = 0; slice < bySlice.length; slice++) bySlice[slice] ??= this.slicePartition(family, candidates, slice);
+      return bySlice as readonly RulePartition[];
+    }
+    const count = slices.length;
     const out: RulePartition[] = new Array<RulePartition>(count);
     for (let k = 0; k < count; k++) {
-      const slice = slices === null ? k : slices[k];
+      const slice = slices[k];
       let rules = bySlice[slice];
       if (rules === undefined) {
         rules = this.slicePartition(family, candidates, slice);
@@ -1027,6 +1038,10 @@ export class CompiledModel {
     const listening = c.service !== null && this.listening[iface].has(c.service.name);
     const family = this.addresses[to].family;
     if (!listening && (c.kind === "echo" || !this.unlistenedReset)) return family === 4 ? SILENT_WEEK_V4 : SILENT_WEEK_V6;
+    if (this.changedRules !== null) {
+      const basis = this.basisOfCleanCell(iface, to, cls);
+      return basis !== undefined ? basis.weekOutcomes(iface, to, cls) : this.changedWeek(iface, to, cls).outcomes;
+    }
     // Exposure, login reach and the findings each walk every cell's week: built once per cell.
     const cell = (iface * this.addresses.length + to) * this.classes.length + cls;
     const cached = this.weekOutcomesByCell.get(cell);
@@ -1043,6 +1058,46 @@ export class CompiledModel {
     }
     this.weekOutcomesByCell.set(cell, out);
     return out;
+  }
+
+  /** changedWeek's weeks, by candidate list, family, class and listening. */
+  private readonly changedWeeks = new Map<number, { readonly entries: readonly EntryPartition[]; readonly outcomes: readonly OutcomePartition[] }>();
+
+  /**
+   * After a rule edit, a changed cell's entries in every slice and its distinct outcomes in
+   * slice order (weekOutcomes): shared by the cells with the same candidate list, family,
+   * class and listening, which have the same partitions and outcome runs.
+   */
+  private changedWeek(iface: number, to: number, cls: number): { readonly entries: readonly EntryPartition[]; readonly outcomes: readonly OutcomePartition[] } {
+    const family = this.addresses[to].family;
+    const candidates = this.candidateRules(iface, to, cls);
+    const c = this.classes[cls];
+    const listening = c.service !== null && this.listening[iface].has(c.service.name);
+    const key = ((candidates.id * 2 + (family === 4 ? 0 : 1)) * this.classes.length + cls) * 2 + (listening ? 1 : 0);
+    let week = this.changedWeeks.get(key);
+    if (week === undefined) {
+      const partitions = this.partitionsBySlice(family, candidates, null);
+      const entries = new Array<EntryPartition>(partitions.length);
+      const outcomes: OutcomePartition[] = [];
+      const seen = new Set<Runs>();
+      for (let slice = 0; slice < partitions.length; slice++) {
+        const rules = partitions[slice];
+        // Neighbouring slices often have the same partition: one entry serves them.
+        const previous = slice > 0 ? entries[slice - 1] : undefined;
+        if (previous !== undefined && previous.rules === rules) {
+          entries[slice] = previous;
+          continue;
+        }
+        const outcome = this.outcomeRunsOf(rules, iface, cls);
+        entries[slice] = { family, rules, outcome };
+        if (seen.has(outcome)) continue;
+        seen.add(outcome);
+        outcomes.push({ family, outcome });
+      }
+      week = { entries, outcomes };
+      this.changedWeeks.set(key, week);
+    }
+    return week;
   }
 
   /**
