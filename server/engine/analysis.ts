@@ -402,12 +402,8 @@ function loginCoverage(engine: CompiledModel): LoginCoverage {
   if (before !== undefined && basis !== undefined && edit !== null) {
     for (const c of edit.cells) {
       if (!isLogin(c)) continue;
-      const was = basis.weekOutcomes(cells.iface[c], cells.to[c], cells.cls[c]);
-      const now = engine.weekOutcomes(cells.iface[c], cells.to[c], cells.cls[c]);
-      // Most changed cells keep their outcomes (the same runs objects): nothing moves.
-      if (was.length === now.length && was.every((p, i) => p.outcome === now[i].outcome)) continue;
-      move(was, -1);
-      move(now, 1);
+      move(basis.weekOutcomes(cells.iface[c], cells.to[c], cells.cls[c]), -1);
+      move(engine.weekOutcomes(cells.iface[c], cells.to[c], cells.cls[c]), 1);
     }
   } else {
     // Cells with the same candidate list, class, listening and family have the same week of outcomes: one look, counted once per cell.

@@ -455,9 +455,7 @@ export class CompiledModel {
       const j = basisIndexOf?.get(id);
       return j !== undefined && basis !== undefined && basis.sourceKeys[j] === sourceKey ? basis.ruleSlots[j] : undefined;
     };
-    // A loop, not Int32Array.from with a map function (several times slower on 2,000 rules).
-    this.ruleSlots = new Int32Array(model.inboundRules.length);
-    for (let i = 0; i < model.inboundRules.length; i++) this.ruleSlots[i] = sameElements ? (basisSlotOf(model.inboundRules[i].id, this.sourceKeys[i]) ?? slotCount++) : i;
+    this.ruleSlots = Int32Array.from(model.inboundRules, (r, i) => (sameElements ? (basisSlotOf(r.id, this.sourceKeys[i]) ?? slotCount++) : i));
     this.slotCount = slotCount;
     this.slotPositions = new Int32Array(slotCount).fill(-1);
     this.ruleSlots.forEach((slot, position) => (this.slotPositions[slot] = position));
@@ -1276,15 +1274,8 @@ export class CompiledModel {
   private updatedPartition(basis: CompiledModel, family: Family, active: Int32Array): RulePartition | undefined {
     const edited = this.editedRule;
     if (edited === null) return undefined;
-    // The edited rule's slot here (by slot, not by id: this runs for every changed list).
-    const editedNow = this.positionOfId(edited.id);
-    const at = editedNow < 0 ? -1 : active.indexOf(this.ruleSlots[editedNow]);
-    let without = active;
-    if (at >= 0) {
-      without = new Int32Array(active.length - 1);
-      without.set(active.subarray(0, at));
-      without.set(active.subarray(at + 1), at);
-    }
+    const at = active.findIndex((slot) => this.rules[this.slotPositions[slot]].id === edited.id);
+    const without = at < 0 ? active : active.filter((_, k) => k !== at);
     const index = this.basisIndex as Map<number, RulePartition[]>;
     const lookup = (list: Int32Array) => index.get(contentHash(family, list))?.find((p) => sameSlots(p, family, list));
     let base = lookup(without);
@@ -1325,18 +1316,15 @@ export class CompiledModel {
           count++;
         }
       }
-      if (count > 0) {
-        // (A rule that took nothing here leaves the basis's runs as they are, shared.)
-        const wordsInOrder = Int32Array.from(needWords).sort();
-        for (let k = removeAt + 1; k < base.active.length && count > 0; k++) {
-          const slot = base.active[k];
-          count -= claimNeeded(need, wordsInOrder, owner, slot, basis.ruleBits[basis.slotPositions[slot]][familySlot]);
-        }
-        const patched = (this.patchScratch ??= new Uint8Array(this.slotCount + 1));
-        patched[removed + 1] = 1;
-        runs = patchedRuns(base.owner, patched, owner, domain.size);
-        patched[removed + 1] = 0;
+      const wordsInOrder = Int32Array.from(needWords).sort();
+      for (let k = removeAt + 1; k < base.active.length && count > 0; k++) {
+        const slot = base.active[k];
+        count -= claimNeeded(need, wordsInOrder, owner, slot, basis.ruleBits[basis.slotPositions[slot]][familySlot]);
       }
+      const patched = (this.patchScratch ??= new Uint8Array(this.slotCount + 1));
+      patched[removed + 1] = 1;
+      runs = patchedRuns(base.owner, patched, owner, domain.size);
+      patched[removed + 1] = 0;
     }
     if (at >= 0) {
       // The rule takes what it covers from later rules and from the default.
@@ -1495,8 +1483,7 @@ export class CompiledModel {
     let table = this.#outcomeTables.get(passed);
     if (table === undefined) {
       const allowed = this.allowTable();
-      table = new Int32Array(allowed.length);
-      for (let i = 0; i < allowed.length; i++) table[i] = allowed[i] === 1 ? passed : SILENT;
+      table = Int32Array.from(allowed, (allow) => (allow === 1 ? passed : SILENT));
       this.#outcomeTables.set(passed, table);
     }
     return table;
