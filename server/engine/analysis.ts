@@ -238,22 +238,103 @@ const slotsThatMatterCache = new WeakMap<CompiledModel, WeakMap<RulePartition, R
 
 /** Whether removing the rule (by slot) changes an outcome somewhere in the partition, with the engine's actions. */
 function mattersInPartition(engine: CompiledModel, p: RulePartition, slot: number): boolean {
+  return slotsThatMatter(engine, p).has(slot);
+}
+
+/** The owners of a partition whose removal changes an outcome in it: kept per model and partition. */
+function slotsThatMatter(engine: CompiledModel, p: RulePartition): ReadonlySet<number> {
   let byPartition = slotsThatMatterCache.get(engine);
   if (byPartition === undefined) slotsThatMatterCache.set(engine, (byPartition = new WeakMap()));
-  let slots = byPartition.get(p);
-  if (slots === undefined) {
-    // One pass over the partition's runs; an owner is judged until one of its runs matters.
-    const found = new Set<number>();
-    const values = p.owner.values;
-    for (let k = 0; k < values.length; k++) {
-      const owner = values[k];
-      if (owner < 0 || found.has(owner)) continue;
-      if (runMatters(engine, p, k, placeInList(engine, p.active, owner))) found.add(owner);
-    }
-    slots = found;
-    byPartition.set(p, slots);
+  const cached = byPartition.get(p);
+  if (cached !== undefined) return cached;
+  const basis = engine.incrementalBasis;
+  const from = basis === undefined ? undefined : engine.partitionBasis(p);
+  // After an edit, a partition updated from a basis partition: an owner none of whose elements
+  // (in either version) a changed rule covers has the same elements and, for each, the same
+  // next match with the same action (the changed rules are the only ones that moved, came,
+  // went or changed action), so it matters here exactly when it did there.
+  let before: ReadonlySet<number> | undefined;
+  if (basis !== undefined && from !== undefined) {
+    before = slotsThatMatter(basis, from);
+    const dirty = changedSources(engine, basis)[p.family];
+    if (ownerStates.length < engine.slotCount) ownerStates = new Uint8Array(engine.slotCount * 2);
+    markTouching(from.owner, dirty, engine.domains[p.family].size);
+    markTouching(p.owner, dirty, engine.domains[p.family].size);
   }
-  return slots.has(slot);
+  // One pass over the partition's runs; an owner is judged until one of its runs matters.
+  const found = new Set<number>();
+  const states = ownerStates;
+  const values = p.owner.values;
+  for (let k = 0; k < values.length; k++) {
+    const owner = values[k];
+    if (owner < 0) continue;
+    const state = before === undefined ? (found.has(owner) ? SETTLED : TOUCHED) : states[owner];
+    if (state === SETTLED) continue;
+    if (state === UNTOUCHED) {
+      states[owner] = SETTLED;
+      if ((before as ReadonlySet<number>).has(owner)) found.add(owner);
+    } else if (runMatters(engine, p, k, placeInList(engine, p.active, owner))) {
+      if (before !== undefined) states[owner] = SETTLED;
+      found.add(owner);
+    }
+  }
+  if (before !== undefined && from !== undefined) {
+    for (const slot of ownerSlots(p)) states[slot] = UNTOUCHED;
+    for (const slot of ownerSlots(from)) if (slot < states.length) states[slot] = UNTOUCHED;
+  }
+  byPartition.set(p, found);
+  return found;
+}
+
+/** Per slot, while slotsThatMatter walks an updated partition: a changed rule's sources touch its elements, or it is settled; zero between calls. */
+let ownerStates = new Uint8Array(0);
+const UNTOUCHED = 0;
+const TOUCHED = 1;
+const SETTLED = 2;
+
+const changedSourcesCache = new WeakMap<CompiledModel, Readonly<Record<Family, Int32Array>>>();
+
+/** Per family, a dense bitset of the elements in the sources of every rule the edit changed, as the basis and as the model have them. */
+function changedSources(engine: CompiledModel, basis: CompiledModel): Readonly<Record<Family, Int32Array>> {
+  const cached = changedSourcesCache.get(engine);
+  if (cached !== undefined) return cached;
+  const ids = engine.changedRuleIds ?? new Set<string>();
+  const out = { 4: new Int32Array(engine.domains[4].words), 6: new Int32Array(engine.domains[6].words) };
+  for (const model of [basis, engine]) {
+    for (const rule of model.rules) {
+      if (!ids.has(rule.id)) continue;
+      for (const family of [4, 6] as const) {
+        const { words, masks } = model.ruleSourceBits(rule.position, family);
+        for (let j = 0; j < words.length; j++) out[family][words[j]] |= masks[j];
+      }
+    }
+  }
+  changedSourcesCache.set(engine, out);
+  return out;
+}
+
+/** Marks TOUCHED every owner with a run holding an element of the dense bitset: one pass over the runs and the bitset's words. */
+function markTouching(runs: Runs, dense: Int32Array, size: number): void {
+  const { starts, values } = runs;
+  const states = ownerStates;
+  for (let k = 0; k < starts.length; k++) {
+    const owner = values[k];
+    if (owner < 0 || states[owner] === TOUCHED) continue;
+    const start = starts[k];
+    const last = (k + 1 < starts.length ? starts[k + 1] : size) - 1;
+    const firstWord = start >>> 5;
+    const lastWord = last >>> 5;
+    for (let w = firstWord; w <= lastWord; w++) {
+      let mask = dense[w];
+      if (mask === 0) continue;
+      if (w === firstWord) mask &= -1 << (start & 31);
+      if (w === lastWord && (last & 31) !== 31) mask &= (1 << ((last & 31) + 1)) - 1;
+      if (mask !== 0) {
+        states[owner] = TOUCHED;
+        break;
+      }
+    }
+  }
 }
 
 /** Scratch for actsAlikeAfter, large enough for either family's words. */

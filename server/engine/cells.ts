@@ -65,7 +65,7 @@ export function cellsOf(engine: CompiledModel): Cells {
 }
 
 /** A cell's interface, destination and class, and its first-match partitions by slice. */
-export function cellPartitions(engine: CompiledModel, cells: Cells, cell: number): { iface: number; to: number; cls: number; partitions: RulePartition[] } {
+export function cellPartitions(engine: CompiledModel, cells: Cells, cell: number): { iface: number; to: number; cls: number; partitions: readonly RulePartition[] } {
   const iface = cells.iface[cell];
   const to = cells.to[cell];
   const cls = cells.cls[cell];
@@ -87,7 +87,7 @@ export function censusOf(engine: CompiledModel): Census {
 /** Every cell counted; cells with the same candidate list (and family) share their partitions, so each list is walked once and counted by its number of cells. */
 function freshCensus(engine: CompiledModel): Census {
   const cells = cellsOf(engine);
-  const lists = new Map<number, { partitions: RulePartition[]; cells: number }>();
+  const lists = new Map<number, { partitions: readonly RulePartition[]; cells: number }>();
   for (let c = 0; c < cells.count; c++) {
     const to = cells.to[c];
     const key = engine.candidateRules(cells.iface[c], to, cells.cls[c]).id * 2 + (engine.addresses[to].family === 4 ? 0 : 1);
@@ -124,6 +124,8 @@ function keptCensus(engine: CompiledModel, basis: CompiledModel): Census {
     for (const slot of p.active) affected[slot] = 1;
   };
   const dirty: number[] = [];
+  // Changed cells with the same old and new week arrays (one per candidate list) move alike: each pair once, by its number of cells.
+  const pairs = new Map<readonly RulePartition[], Map<readonly RulePartition[], number>>();
   for (let c = 0; c < cells.count; c++) {
     const iface = cells.iface[c];
     const to = cells.to[c];
@@ -132,14 +134,21 @@ function keptCensus(engine: CompiledModel, basis: CompiledModel): Census {
     dirty.push(c);
     const old = basis.weekRulePartitions(iface, to, cls);
     const now = engine.weekRulePartitions(iface, to, cls);
-    for (let slice = 0; slice < old.length; slice++) {
-      mark(old[slice]);
-      mark(now[slice]);
-      if (old[slice] === now[slice]) continue;
-      const left = (refs.get(old[slice]) ?? 0) - 1;
-      if (left === 0) refs.delete(old[slice]);
-      else refs.set(old[slice], left);
-      refs.set(now[slice], (refs.get(now[slice]) ?? 0) + 1);
+    let byNow = pairs.get(old);
+    if (byNow === undefined) pairs.set(old, (byNow = new Map()));
+    byNow.set(now, (byNow.get(now) ?? 0) + 1);
+  }
+  for (const [old, byNow] of pairs) {
+    for (const [now, times] of byNow) {
+      for (let slice = 0; slice < old.length; slice++) {
+        mark(old[slice]);
+        mark(now[slice]);
+        if (old[slice] === now[slice]) continue;
+        const left = (refs.get(old[slice]) ?? 0) - times;
+        if (left === 0) refs.delete(old[slice]);
+        else refs.set(old[slice], left);
+        refs.set(now[slice], (refs.get(now[slice]) ?? 0) + times);
+      }
     }
   }
   const owning = new Int32Array(engine.slotCount);

@@ -222,6 +222,8 @@ export class CompiledModel {
   private readonly basisRef: WeakRef<CompiledModel> | null = null;
   /** Partitions taken from the basis whose outcome runs carry over too (same actions, services, accounts, defaults). */
   private readonly outcomesCarried = new Set<RulePartition>();
+  /** Per partition taken from the basis with other actions or updated from one of its partitions (updatedPartition): that basis partition. */
+  private readonly updatedFrom = new Map<RulePartition, RulePartition>();
   /** The basis's partitions by a hash of their family and rule tokens. */
   private basisIndex: Map<number, RulePartition[]> | null = null;
   /** partitionsByContent, once built. */
@@ -938,13 +940,17 @@ export class CompiledModel {
 
   /** First-match partition for (interface, destination, class, slice); shared between equal rule lists. */
   entry(iface: number, to: number, cls: number, slice: number): EntryPartition {
+    if (this.changedRules !== null) {
+      // After a rule edit a cell the edit left alone is the basis's, kept there (not copied
+      // here); a changed cell is asked for in every slice (exposure, census, findings), so its
+      // week is built at once, shared by the changed cells of the same list, class and listening.
+      const basis = this.basisOfCleanCell(iface, to, cls);
+      return basis !== undefined ? basis.entry(iface, to, cls, slice) : this.changedWeek(iface, to, cls).entries[slice];
+    }
     const cell = (iface * this.addresses.length + to) * this.classes.length + cls;
     const bySlice = this.entries.get(cell);
     const cached = bySlice?.[slice];
     if (cached !== undefined) return cached;
-    // A cell the edit left alone is the basis's, kept there (not copied here).
-    const basis = this.basisOfCleanCell(iface, to, cls);
-    if (basis !== undefined) return basis.entry(iface, to, cls, slice);
     const family = this.addresses[to].family;
     const rules = this.rulePartitionAt(iface, to, cls, slice);
     const result: EntryPartition = { family, rules, outcome: this.outcomeRunsOf(rules, iface, cls) };
@@ -964,25 +970,32 @@ export class CompiledModel {
     return this.partitionsBySlice(family, this.candidateRules(iface, to, cls), [slice])[0];
   }
 
-  /** The first-match partitions of (interface, destination, class) for every slice, in slice order. */
-  weekRulePartitions(iface: number, to: number, cls: number): RulePartition[] {
+  /**
+   * The first-match partitions of (interface, destination, class) for every slice, in slice
+   * order: one array per candidate list and family (cells alike get the same array).
+   */
+  weekRulePartitions(iface: number, to: number, cls: number): readonly RulePartition[] {
     const basis = this.basisOfCleanCell(iface, to, cls);
     if (basis !== undefined) return basis.weekRulePartitions(iface, to, cls);
     return this.partitionsBySlice(this.addresses[to].family, this.candidateRules(iface, to, cls), null);
   }
 
-  /** Rule partitions of a candidate list for the given slices (null = all, in order). */
-  private partitionsBySlice(family: Family, candidates: Candidates, slices: readonly number[] | null): RulePartition[] {
+  /** Rule partitions of a candidate list for the given slices (null = all, in order: then the list's own array, every slice filled). */
+  private partitionsBySlice(family: Family, candidates: Candidates, slices: readonly number[] | null): readonly RulePartition[] {
     const listKey = candidates.id * 2 + (family === 4 ? 0 : 1);
     let bySlice = this.slicePartitions.get(listKey);
     if (bySlice === undefined) {
       bySlice = new Array<RulePartition | undefined>(this.week.slices.length).fill(undefined);
       this.slicePartitions.set(listKey, bySlice);
     }
-    const count = slices === null ? this.week.slices.length : slices.length;
+    if (slices === null) {
+      for (let slice = 0; slice < bySlice.length; slice++) bySlice[slice] ??= this.slicePartition(family, candidates, slice);
+      return bySlice as readonly RulePartition[];
+    }
+    const count = slices.length;
     const out: RulePartition[] = new Array<RulePartition>(count);
     for (let k = 0; k < count; k++) {
-      const slice = slices === null ? k : slices[k];
+      const slice = slices[k];
       let rules = bySlice[slice];
       if (rules === undefined) {
         rules = this.slicePartition(family, candidates, slice);
@@ -1000,8 +1013,17 @@ export class CompiledModel {
     let outcome = this.outcomeCache.get(outcomeKey);
     if (outcome === undefined) {
       // A partition taken from the basis is the basis's own object, under the same key there.
-      if (this.outcomesCarried.has(rules)) outcome = this.basisRef?.deref()?.outcomeCache.get(outcomeKey);
-      outcome ??= this.outcomeRuns(rules.family, rules, cls, listening);
+      const basis = this.basisRef?.deref();
+      if (this.outcomesCarried.has(rules)) outcome = basis?.outcomeCache.get(outcomeKey);
+      if (outcome === undefined) {
+        outcome = this.outcomeRuns(rules.family, rules, cls, listening);
+        // Most edits change no outcome in most places they touch (a shadowed rule removed, an
+        // element passed to a next match that acts alike): equal runs are then the basis's object,
+        // so what is kept per runs object (counts, exposure, login coverage) carries over.
+        const from = basis === undefined || basis.classes.length !== this.classes.length ? undefined : this.updatedFrom.get(rules);
+        const before = from === undefined ? undefined : basis?.outcomeCache.get((from.id * this.classes.length + cls) * 2 + (listening ? 1 : 0));
+        if (before !== undefined && sameRuns(before, outcome)) outcome = before;
+      }
       this.outcomeCache.set(outcomeKey, outcome);
     }
     return outcome;
@@ -1017,6 +1039,10 @@ export class CompiledModel {
     const listening = c.service !== null && this.listening[iface].has(c.service.name);
     const family = this.addresses[to].family;
     if (!listening && (c.kind === "echo" || !this.unlistenedReset)) return family === 4 ? SILENT_WEEK_V4 : SILENT_WEEK_V6;
+    if (this.changedRules !== null) {
+      const basis = this.basisOfCleanCell(iface, to, cls);
+      return basis !== undefined ? basis.weekOutcomes(iface, to, cls) : this.changedWeek(iface, to, cls).outcomes;
+    }
     // Exposure, login reach and the findings each walk every cell's week: built once per cell.
     const cell = (iface * this.addresses.length + to) * this.classes.length + cls;
     const cached = this.weekOutcomesByCell.get(cell);
@@ -1037,6 +1063,46 @@ export class CompiledModel {
     }
     this.weekOutcomesByCell.set(cell, out);
     return out;
+  }
+
+  /** changedWeek's weeks, by candidate list, family, class and listening. */
+  private readonly changedWeeks = new Map<number, { readonly entries: readonly EntryPartition[]; readonly outcomes: readonly OutcomePartition[] }>();
+
+  /**
+   * After a rule edit, a changed cell's entries in every slice and its distinct outcomes in
+   * slice order (weekOutcomes): shared by the cells with the same candidate list, family,
+   * class and listening, which have the same partitions and outcome runs.
+   */
+  private changedWeek(iface: number, to: number, cls: number): { readonly entries: readonly EntryPartition[]; readonly outcomes: readonly OutcomePartition[] } {
+    const family = this.addresses[to].family;
+    const candidates = this.candidateRules(iface, to, cls);
+    const c = this.classes[cls];
+    const listening = c.service !== null && this.listening[iface].has(c.service.name);
+    const key = ((candidates.id * 2 + (family === 4 ? 0 : 1)) * this.classes.length + cls) * 2 + (listening ? 1 : 0);
+    let week = this.changedWeeks.get(key);
+    if (week === undefined) {
+      const partitions = this.partitionsBySlice(family, candidates, null);
+      const entries = new Array<EntryPartition>(partitions.length);
+      const outcomes: OutcomePartition[] = [];
+      const seen = new Set<Runs>();
+      for (let slice = 0; slice < partitions.length; slice++) {
+        const rules = partitions[slice];
+        // Neighbouring slices often have the same partition: one entry serves them.
+        const previous = slice > 0 ? entries[slice - 1] : undefined;
+        if (previous !== undefined && previous.rules === rules) {
+          entries[slice] = previous;
+          continue;
+        }
+        const outcome = this.outcomeRunsOf(rules, iface, cls);
+        entries[slice] = { family, rules, outcome };
+        if (seen.has(outcome)) continue;
+        seen.add(outcome);
+        outcomes.push({ family, outcome });
+      }
+      week = { entries, outcomes };
+      this.changedWeeks.set(key, week);
+    }
+    return week;
   }
 
   /**
@@ -1188,7 +1254,10 @@ export class CompiledModel {
       let sameActions = this.sameCatalogueAndAccounts;
       for (let k = 0; k < active.length && sameActions; k++) sameActions = basis.rules[basis.slotPositions[active[k]]].allow === this.rules[this.slotPositions[active[k]]].allow;
       if (sameActions) this.outcomesCarried.add(found);
-      else this.touch(active);
+      else {
+        this.touch(active);
+        this.updatedFrom.set(found, found);
+      }
       return found;
     }
     const updated = this.updatedPartition(basis, family, active);
@@ -1268,7 +1337,9 @@ export class CompiledModel {
       const position = this.slotPositions[slot];
       runs = takenRuns(runs, this.ruleBits[position][familySlot], slot, (owner) => owner < 0 || this.slotPositions[owner] > position, domain.size);
     }
-    return { id: nextPartitionId++, family, active, owner: runs };
+    const updated = { id: nextPartitionId++, family, active, owner: runs };
+    this.updatedFrom.set(updated, base);
+    return updated;
   }
 
   /**
@@ -1483,6 +1554,16 @@ export class CompiledModel {
   /** The position of the rule a partition names by this slot (owners and `active` lists hold slots). */
   positionOfSlot(slot: number): number {
     return this.slotPositions[slot];
+  }
+
+  /**
+   * The basis partition a partition of this model was updated from (updatedPartition), or the
+   * basis's own partition when it is taken with other actions: outside the sources of the
+   * rules the edit changed (changedRuleIds, either version), every element has the same owner
+   * in both. Undefined for any other partition.
+   */
+  partitionBasis(p: RulePartition): RulePartition | undefined {
+    return this.updatedFrom.get(p);
   }
 
   /** The slot partitions name the rule at this position by. */
@@ -1723,6 +1804,15 @@ function sameLists(a: InboundRule, b: InboundRule): boolean {
 
 function sameNames(x: readonly unknown[], y: readonly unknown[]): boolean {
   return x.length === y.length && x.every((v, i) => v === y[i]);
+}
+
+/** Whether two runs lists are equal element by element. */
+function sameRuns(a: Runs, b: Runs): boolean {
+  if (a === b) return true;
+  const n = a.starts.length;
+  if (b.starts.length !== n) return false;
+  for (let k = 0; k < n; k++) if (a.starts[k] !== b.starts[k] || a.values[k] !== b.values[k]) return false;
+  return true;
 }
 
 /** Whether the partition is of the family and of these slots, in order. */
