@@ -1,6 +1,7 @@
 import { readFileSync } from "node:fs";
 import { expect, test } from "./fixtures";
 import { chooseNames, screenshot, signIn, toast, useSignedInSession } from "./helpers";
+import { createTeam } from "./team";
 
 test("An engineer models a new device, reorders its rules, and round-trips it through export and import", async ({ page, browserProblems }) => {
   // Two submissions below are refused on purpose (a bad name, a rule without services): 400s.
@@ -127,10 +128,16 @@ test("A bad upload is refused with its problems and creates nothing", async ({ p
   await expect(page.getByText("0 of")).toBeVisible();
 });
 
-test("Inbound rules can be reordered with the keyboard and by dragging", async ({ page }) => {
-  await useSignedInSession(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
-  await page.goto("/o/lanternfield/devices");
-  await page.getByRole("link", { name: "ngl-core-01", exact: true }).click();
+// On a team's own device (tests/e2e/team.ts): the reorder is saved, and the demo's devices stay as seeded.
+test("Inbound rules can be reordered with the keyboard and by dragging", async ({ browser, playwright, browserProblems }, testInfo) => {
+  const baseURL = testInfo.project.use.baseURL;
+  if (!baseURL) throw new Error("no baseURL in playwright.config.ts");
+  const team = await createTeam(playwright.request, baseURL, "reorder");
+  const context = await browser.newContext({ storageState: team.members.engineer.storageState });
+  browserProblems.watch(context);
+  const page = await context.newPage();
+  await page.goto(`/o/${team.slug}/devices`);
+  await page.getByRole("link", { name: team.device.name, exact: true }).click();
   await page.getByRole("navigation", { name: "Device" }).getByRole("link", { name: "Inbound rules" }).click();
   const rules = page.getByRole("list", { name: "Inbound rules in order" });
   const first = await rules.getByRole("listitem").nth(0).getAttribute("aria-label");
@@ -161,4 +168,5 @@ test("Inbound rules can be reordered with the keyboard and by dragging", async (
   await page.mouse.up();
   await expect(rules.getByRole("listitem").nth(0)).toHaveAccessibleName(`Rule ${firstId} at position 1`);
   await expect(toast(page)).toContainText(`Moved inbound rule ${firstId} to position 1`);
+  await context.close();
 });
