@@ -53,6 +53,11 @@ const EnvironmentSchema = z.object({
   MAIL_OUTBOX_DIR: z.string().optional(),
   /** "1" adds a Server-Timing header with each response's database query count and time. */
   SERVER_TIMING: z.enum(["0", "1"]).default("0"),
+  /**
+   * Sign-ups one client address may attempt per hour (server/auth/throttle.server.ts). Raise it
+   * where many people sign up from one address (a classroom behind one NAT, the browser tests).
+   */
+  SIGN_UPS_PER_CLIENT: z.coerce.number().int().min(1, "SIGN_UPS_PER_CLIENT must be at least 1").max(10_000).default(30),
   /** Requests one web process works at once; the rest wait their fair turn (server/http/admission.server.ts, docs/decisions/024). */
   ADMISSION_CONCURRENCY: z.coerce.number().int().min(1, "ADMISSION_CONCURRENCY must be at least 1").max(1024).default(4),
   /**

@@ -1,5 +1,6 @@
 import { Op } from "sequelize";
 import { SignInAttempt, type ThrottleScope } from "#models/index.ts";
+import { getEnvironment } from "../config.server.ts";
 import { formatDuration } from "../engine/format.ts";
 import { Refusal } from "../errors.ts";
 
@@ -83,12 +84,12 @@ export const REQUEST_WINDOW_MS = 60 * 60 * 1000;
 export const RESET_REQUESTS_PER_EMAIL = 5;
 export const RESET_REQUESTS_PER_CLIENT = 20;
 export const SIGN_UPS_PER_EMAIL = 5;
-export const SIGN_UPS_PER_CLIENT = 30;
 
+/** Per client address, sign-ups follow SIGN_UPS_PER_CLIENT (30 unless configured). */
 const REQUEST_LIMITS = {
-  reset: { email: ["reset-email", RESET_REQUESTS_PER_EMAIL], client: ["reset-client", RESET_REQUESTS_PER_CLIENT] },
-  signup: { email: ["signup-email", SIGN_UPS_PER_EMAIL], client: ["signup-client", SIGN_UPS_PER_CLIENT] },
-} as const satisfies Record<string, Record<"email" | "client", readonly [ThrottleScope, number]>>;
+  reset: { email: ["reset-email", RESET_REQUESTS_PER_EMAIL], client: ["reset-client", () => RESET_REQUESTS_PER_CLIENT] },
+  signup: { email: ["signup-email", SIGN_UPS_PER_EMAIL], client: ["signup-client", () => getEnvironment().SIGN_UPS_PER_CLIENT] },
+} as const satisfies Record<string, { email: readonly [ThrottleScope, number]; client: readonly [ThrottleScope, () => number] }>;
 
 /** One password-reset request ("reset") or sign-up ("signup") for the address from the client, or the throttle's verdict. */
 export async function allowRequest(kind: keyof typeof REQUEST_LIMITS, email: string, clientAddress: string): Promise<ThrottleVerdict> {
@@ -96,7 +97,7 @@ export async function allowRequest(kind: keyof typeof REQUEST_LIMITS, email: str
   return (
     await reserve([
       { scope: emailScope, subject: email, limit: perEmail, windowMs: REQUEST_WINDOW_MS },
-      { scope: clientScope, subject: clientAddress, limit: perClient, windowMs: REQUEST_WINDOW_MS },
+      { scope: clientScope, subject: clientAddress, limit: perClient(), windowMs: REQUEST_WINDOW_MS },
     ])
   ).verdict;
 }

@@ -105,6 +105,19 @@ describe("Throttles count before they let a request through", () => {
     expect(statuses.at(-1)).toBe(429);
   });
 
+  test("Sign-ups are throttled per client address: with the default SIGN_UPS_PER_CLIENT of 30 the 31st is 429", { timeout: 60_000 }, async () => {
+    expect(process.env.SIGN_UPS_PER_CLIENT ?? "30").toBe("30");
+    // A fresh browser each time (a signed-in one is sent home), all from one address.
+    const address = new TestClient().clientAddress;
+    const statuses = [];
+    for (let index = 0; index <= 30; index += 1) {
+      const email = uniqueEmail("signup-client");
+      statuses.push((await new TestClient(address).post("/signup", { name: "Classroom", email, organisationName: `Classroom ${index} ${email}`, password: GOOD_PASSWORD })).status);
+    }
+    expect(statuses.slice(0, 30).every((status) => status === 302)).toBe(true);
+    expect(statuses.at(-1)).toBe(429);
+  });
+
   test("Sign-ups are throttled per e-mail address: after five tries the sixth is 429, not another 409", async () => {
     const email = uniqueEmail("signup-flood");
     const statuses = [];
