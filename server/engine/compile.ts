@@ -294,6 +294,9 @@ export class CompiledModel {
   // Candidate lists by content hash; equal lists share one id (compared in full within a bucket).
   private readonly candidateLists = new Map<number, Array<{ id: number; rules: Int32Array }>>();
   private candidateListCount = 0;
+  /** candidateRules's lists by the hash of their mask over rule positions (interface × class AND destination). */
+  private readonly candidatesByMask = new Map<number, Array<{ readonly mask: Int32Array; readonly candidates: Candidates }>>();
+  private maskScratch: Int32Array | undefined;
   private readonly byInterface = new Map<number, number[]>();
   private readonly byInterfaceAndClass: (Int32Array | undefined)[] = [];
   /** Per device address: whether each rule's destinations hold it (one byte per rule position). */
@@ -313,6 +316,8 @@ export class CompiledModel {
   private readonly weekOutcomesByCell = new Map<number, readonly OutcomePartition[]>();
   /** Outcome runs per (rule partition, class, listening). */
   private readonly outcomeCache = new Map<number, Runs>();
+  /** Outcome runs per owner runs object, by (class, listening, family): this model's actions and accounts. */
+  private readonly outcomesByOwner = new WeakMap<Runs, Map<number, Runs>>();
   private patchScratch: Uint8Array | undefined;
   /** Per position: the rule's schedule index, or -1 for all week. */
   private ruleSchedules: Int32Array | undefined;
@@ -762,11 +767,29 @@ export class CompiledModel {
     this.destinationColumn(to);
     const destinations = (this.destinationMasks as Int32Array[])[to];
     const onInterface = this.serviceRulesOnInterface(iface, cls);
+    // Both as bitmasks over positions, a word at a time. Most cells share their list with
+    // another (5,000 cells, under 300 lists on the benchmark model): the list is looked up by
+    // its mask, so only a new one is turned into positions.
+    const mask = (this.maskScratch ??= new Int32Array(onInterface.length));
+    let hash = 0x811c9dc5;
+    for (let w = 0; w < onInterface.length; w++) {
+      const both = onInterface[w] & destinations[w];
+      mask[w] = both;
+      hash = Math.imul(hash ^ both, 0x01000193);
+    }
+    const bucket = this.candidatesByMask.get(hash);
+    if (bucket !== undefined) {
+      for (const known of bucket) {
+        let w = 0;
+        while (w < mask.length && known.mask[w] === mask[w]) w++;
+        if (w === mask.length) return (this.candidates[key] = known.candidates);
+      }
+    }
     const list: number[] = [];
     const scheduledList: number[] = [];
-    // Both as bitmasks over positions: a word at a time, and only the rules in both are visited.
-    for (let w = 0; w < onInterface.length; w++) {
-      let both = onInterface[w] & destinations[w];
+    // Only the rules in both are visited.
+    for (let w = 0; w < mask.length; w++) {
+      let both = mask[w];
       while (both !== 0) {
         const low = both & -both;
         const position = (w << 5) + 31 - Math.clz32(low);
@@ -778,6 +801,9 @@ export class CompiledModel {
     const rules = Int32Array.from(list);
     const result: Candidates = { id: this.candidateListId(rules), rules, scheduled: scheduledList.length > 0, scheduledRules: Int32Array.from(scheduledList) };
     this.candidates[key] = result;
+    const entry = { mask: mask.slice(), candidates: result };
+    if (bucket === undefined) this.candidatesByMask.set(hash, [entry]);
+    else bucket.push(entry);
     return result;
   }
 
@@ -1016,7 +1042,17 @@ export class CompiledModel {
       const basis = this.basisRef?.deref();
       if (this.outcomesCarried.has(rules)) outcome = basis?.outcomeCache.get(outcomeKey);
       if (outcome === undefined) {
-        outcome = this.outcomeRuns(rules.family, rules, cls, listening);
+        // Partitions with the same owner runs (a derived partition whose off rules took
+        // nothing keeps its base's, interned runs) have the same outcome: one object serves
+        // them all, and whatever is kept per runs object is computed once for them.
+        const byOwner = this.outcomesByOwner.get(rules.owner);
+        const ownerKey = (cls * 2 + (listening ? 1 : 0)) * 2 + (rules.family === 4 ? 0 : 1);
+        outcome = byOwner?.get(ownerKey);
+        if (outcome === undefined) {
+          outcome = this.outcomeRuns(rules.family, rules, cls, listening);
+          if (byOwner === undefined) this.outcomesByOwner.set(rules.owner, new Map([[ownerKey, outcome]]));
+          else byOwner.set(ownerKey, outcome);
+        }
         // Most edits change no outcome in most places they touch (a shadowed rule removed, an
         // element passed to a next match that acts alike): equal runs are then the basis's object,
         // so what is kept per runs object (counts, exposure, login coverage) carries over.

@@ -75,6 +75,16 @@ export function instantOfWeekTime(text: string, timezone: string): string {
 
 /** An instant (ISO 8601, UTC) in the given slice of the week: its first minute where the clock shows it. */
 export function instantInSlice(engine: CompiledModel, slice: number): string {
+  // Thousands of witnesses ask for the same few slices: each slice's instant is found once per model.
+  let known = instantsInSlices.get(engine);
+  if (known === undefined) instantsInSlices.set(engine, (known = new Array<string | undefined>(engine.week.slices.length)));
+  return (known[slice] ??= findInstantInSlice(engine, slice));
+}
+
+/** instantInSlice's answers per model, by slice. */
+const instantsInSlices = new WeakMap<CompiledModel, (string | undefined)[]>();
+
+function findInstantInSlice(engine: CompiledModel, slice: number): string {
   const s = engine.week.slices[slice];
   const length = (s.end - s.start + WEEK_MINUTES) % WEEK_MINUTES || WEEK_MINUTES;
   for (let offset = 0; offset < length; offset++) {

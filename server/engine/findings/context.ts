@@ -346,6 +346,9 @@ export class FindingContext {
     return { probe, outcome: answer.outcome, ruleId: answer.ruleId, shows: typeof shows === "string" ? shows : shows(answer), ...(proof ? { proof } : {}) };
   }
 
+  /** #answerOf's slices by the probe's instant text. */
+  #sliceOfInstant = new Map<string, number>();
+
   #answerOf(probe: WitnessProbe): WitnessAnswer | undefined {
     const place = probePlaces.get(probe);
     const engine = this.engine;
@@ -355,7 +358,9 @@ export class FindingContext {
     }
     const { iface, to, cls, source } = place;
     // The slice the probe's instant falls in, as trace finds it (a slice the clock skips has its instant elsewhere).
-    const slice = engine.sliceAt(Date.parse(probe.at));
+    // Witnesses share the few instants instantInSlice gives: each is read once.
+    let slice = this.#sliceOfInstant.get(probe.at);
+    if (slice === undefined) this.#sliceOfInstant.set(probe.at, (slice = engine.sliceAt(Date.parse(probe.at))));
     const owner = runValueAt(engine.rulePartitionAt(iface, to, cls, slice).owner, engine.elementOf(source));
     const outcome = engine.lookup(engine.outcomeOf(iface, to, cls, slice), source.value);
     return { outcome: OUTCOMES[outcome], ruleId: owner < 0 ? null : engine.rules[engine.positionOfSlot(owner)].id };
