@@ -297,8 +297,16 @@ export class FindingContext {
   /** Whether the model was compiled on a basis after a rule edit that changed none of the interface × service's cells. */
   #serviceUnchanged(iface: number, cls: number): boolean {
     const engine = this.engine;
-    return engine.incrementalBasis !== undefined && this.#destinations[iface].every((to) => !engine.cellMayDiffer(iface, to, cls));
+    if (engine.incrementalBasis === undefined) return false;
+    // Asked by the exposure and again by each exposure check: each interface × service is looked at once.
+    const known = (this.#unchangedServices ??= new Int8Array(engine.interfaceAddresses.length * engine.catalogue.length));
+    const key = iface * engine.catalogue.length + cls;
+    if (known[key] === 0) known[key] = this.#destinations[iface].every((to) => !engine.cellMayDiffer(iface, to, cls)) ? 1 : -1;
+    return known[key] === 1;
   }
+
+  /** Per interface × catalogue service: 0 not looked at, 1 none of its cells changed, -1 some did. */
+  #unchangedServices: Int8Array | undefined;
 
   #serviceFindings = new Map<string, readonly Finding[]>();
 

@@ -108,13 +108,16 @@ function sortedIndices(findings: readonly Finding[], indices: number[]): number[
  */
 function sortedLike(found: readonly Finding[], basis: SortedFindings | undefined): SortedFindings {
   if (basis === undefined || basis.ties) return sortedAfresh(found);
-  const present = new Set(found);
-  const kept = basis.list.filter((finding) => present.has(finding));
-  const keptSet = new Set(kept);
+  // One look-up per finding found: where it stands in the basis's list, if it is the basis's.
+  const at = placesOf(basis);
+  const keptAt = new Uint8Array(basis.list.length);
   const addedAt: number[] = [];
-  found.forEach((finding, i) => {
-    if (!keptSet.has(finding)) addedAt.push(i);
-  });
+  for (let i = 0; i < found.length; i++) {
+    const place = at.get(found[i]);
+    if (place === undefined) addedAt.push(i);
+    else keptAt[place] = 1;
+  }
+  const kept = basis.list.filter((_, place) => keptAt[place] === 1);
   const added = sortedIndices(found, addedAt);
   // The kept findings' places in `found` are not needed: no two of them tie, and a new one that ties with one is sorted afresh.
   const out: Finding[] = [];
@@ -137,6 +140,19 @@ function sortedLike(found: readonly Finding[], basis: SortedFindings | undefined
   }
   while (k < kept.length) out.push(kept[k++]);
   return { list: out, ties };
+}
+
+/** Each sorted list's findings by their place in it, made when a model compiled on it first asks. */
+const placesCache = new WeakMap<SortedFindings, ReadonlyMap<Finding, number>>();
+
+function placesOf(sorted: SortedFindings): ReadonlyMap<Finding, number> {
+  let places = placesCache.get(sorted);
+  if (places === undefined) {
+    const made = new Map<Finding, number>();
+    sorted.list.forEach((finding, place) => made.set(finding, place));
+    placesCache.set(sorted, (places = made));
+  }
+  return places;
 }
 
 function sortedAfresh(found: readonly Finding[]): SortedFindings {
