@@ -1227,15 +1227,6 @@ export class CompiledModel {
     const patched = (this.patchScratch ??= new Uint8Array(this.slotCount + 1));
     for (const position of off) patched[this.ruleSlots[position] + 1] = 1;
     const { starts, values } = base.owner;
-    // Most lists' off rules own no element of the base (many lists share few schedules): the
-    // base's owners, listed once per base, say so without a walk over its runs.
-    const owners = this.ownersOfRuns(base.owner);
-    let owns = false;
-    for (let k = 0; k < owners.length && !owns; k++) owns = patched[owners[k] + 1] === 1;
-    if (!owns) {
-      for (const position of off) patched[this.ruleSlots[position] + 1] = 0;
-      return { id: nextPartitionId++, family, active, owner: base.owner };
-    }
     need.fill(0);
     const needWords: number[] = [];
     let count = 0;
@@ -1268,20 +1259,6 @@ export class CompiledModel {
     const runs = this.internedRuns(family, patchedRuns(base.owner, patched, owner, domain.size));
     for (const position of off) patched[this.ruleSlots[position] + 1] = 0;
     return { id: nextPartitionId++, family, active, owner: runs };
-  }
-
-  /** The distinct rules (slots) that own elements in a runs list, once per list. */
-  private readonly ownersByRuns = new WeakMap<Runs, Int32Array>();
-
-  private ownersOfRuns(runs: Runs): Int32Array {
-    let owners = this.ownersByRuns.get(runs);
-    if (owners === undefined) {
-      const distinct = new Set<number>();
-      for (let k = 0; k < runs.values.length; k++) if (runs.values[k] >= 0) distinct.add(runs.values[k]);
-      owners = Int32Array.from(distinct);
-      this.ownersByRuns.set(runs, owners);
-    }
-    return owners;
   }
 
   /** Derived partitions' runs by family and content: different off rules often leave the same owners, and one copy serves them all. */
