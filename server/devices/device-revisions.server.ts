@@ -136,6 +136,8 @@ export class DeviceRevisions {
    */
   async find(organisationId: string, deviceId: string, options: { revisionNumber?: number; transaction?: Transaction; lock?: boolean } = {}): Promise<DeviceAtRevision | null> {
     if (!isUuid(deviceId)) return null;
+    // A revision number PostgreSQL's integer cannot hold (or not whole) names no revision: no query, and no cast error from the bound parameter.
+    if (options.revisionNumber !== undefined && !(Number.isInteger(options.revisionNumber) && options.revisionNumber >= 1 && options.revisionNumber <= 2_147_483_647)) return null;
     const { transaction, lock } = options;
     if (lock && transaction) {
       // Lock the device row on its own first: a joined FOR UPDATE that waits for another save
