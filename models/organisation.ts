@@ -11,6 +11,8 @@ export class Organisation extends Model<InferAttributes<Organisation>, InferCrea
   declare changesThroughProposals: CreationOptional<boolean>;
   /** When on, every member must have a second factor: members without one are sent to enrol at sign-in. */
   declare requireSecondFactor: CreationOptional<boolean>;
+  /** Grows with every change to what the fleet table shows (database triggers; docs/decisions/026). Never set by the app. */
+  declare fleetStamp: CreationOptional<string>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 
@@ -23,6 +25,7 @@ export class Organisation extends Model<InferAttributes<Organisation>, InferCrea
         approvalsRequired: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 1 },
         changesThroughProposals: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
         requireSecondFactor: { type: DataTypes.BOOLEAN, allowNull: false, defaultValue: false },
+        fleetStamp: { type: DataTypes.BIGINT, allowNull: false, defaultValue: "0" },
         createdAt: DataTypes.DATE,
         updatedAt: DataTypes.DATE,
       },

@@ -1,7 +1,8 @@
 import type { ReactNode } from "react";
-import { Form, Link, NavLink, useLocation } from "react-router";
+import { Form } from "react-router";
 import { BrandMark } from "./brand";
 import { cx } from "./ui/cx";
+import { isActivePath, NavAnchor, useNavAnchorContext } from "./ui/nav-anchor";
 
 export type ShellOrganisation = { slug: string; name: string; role: string };
 export type ShellUser = { name: string; email: string };
@@ -37,7 +38,9 @@ function Icon({ path, className }: { path: string; className?: string }) {
  * six under the top bar, so the content keeps the whole width of a phone.
  */
 export function AppShell({ organisation, organisations, user, theme, children }: { organisation: ShellOrganisation; organisations: ShellOrganisation[]; user: ShellUser; theme: string; children: ReactNode }) {
-  const location = useLocation();
+  // One navigate function and location for every link of the frame (ui/nav-anchor.tsx says why).
+  const anchors = useNavAnchorContext();
+  const { pathname, search } = anchors;
   return (
     <div className="grid min-h-screen grid-cols-1 grid-rows-[auto_auto_1fr] md:grid-cols-[auto_minmax(0,1fr)] md:grid-rows-[auto_1fr]">
       <a href="#main" className="sr-only focus:not-sr-only focus:fixed focus:top-2 focus:left-2 focus:z-50 focus:rounded-control focus:bg-surface focus:px-3 focus:py-2">
@@ -47,33 +50,37 @@ export function AppShell({ organisation, organisations, user, theme, children }:
         aria-label="Main"
         className="row-start-2 border-b border-line bg-surface px-2 py-1 md:sticky md:top-0 md:col-start-1 md:row-span-2 md:row-start-1 md:flex md:h-screen md:w-16 md:flex-col md:border-r md:border-b-0 md:px-3 md:py-4 xl:w-56"
       >
-        <Link to={`/o/${organisation.slug}`} className="mb-6 flex items-center gap-2 px-2 text-harbour max-md:hidden">
+        <NavAnchor to={`/o/${organisation.slug}`} context={anchors} className="mb-6 flex items-center gap-2 px-2 text-harbour max-md:hidden">
           <BrandMark className="size-8 shrink-0" />
           <span className="text-lg font-semibold tracking-tight max-xl:hidden">Sallyport</span>
-        </Link>
+        </NavAnchor>
         <ul className="grid grid-cols-6 gap-1 md:block md:space-y-1">
-          {NAVIGATION.map((item) => (
-            <li key={item.to}>
-              <NavLink
-                to={`/o/${organisation.slug}/${item.to}`}
-                title={item.label}
-                className={({ isActive }) =>
-                  cx(
+          {NAVIGATION.map((item) => {
+            const to = `/o/${organisation.slug}/${item.to}`;
+            const isActive = isActivePath(to, pathname);
+            return (
+              <li key={item.to}>
+                <NavAnchor
+                  to={to}
+                  context={anchors}
+                  current={isActive ? "page" : undefined}
+                  title={item.label}
+                  className={cx(
                     "flex items-center rounded-control text-sm font-medium max-md:flex-col max-md:gap-0.5 max-md:px-1 max-md:py-1.5 max-md:text-xs md:gap-3 md:px-2.5 md:py-2",
                     isActive ? "bg-harbour-soft text-harbour" : "text-ink-muted hover:bg-surface-sunken hover:text-ink",
-                  )
-                }
-              >
-                <Icon path={item.icon} />
-                <span className="md:max-xl:sr-only">{item.label}</span>
-              </NavLink>
-            </li>
-          ))}
+                  )}
+                >
+                  <Icon path={item.icon} />
+                  <span className="md:max-xl:sr-only">{item.label}</span>
+                </NavAnchor>
+              </li>
+            );
+          })}
         </ul>
       </nav>
       <header className="row-start-1 flex h-14 min-w-0 items-center justify-between gap-2 border-b border-line bg-surface px-3 sm:gap-4 md:col-start-2 md:px-6">
         {/* Keyed by the path so a menu closes once one of its links has been followed. */}
-        <details key={`organisations ${location.pathname}`} className="group relative min-w-0">
+        <details key={`organisations ${pathname}`} className="group relative min-w-0">
           <summary className="flex cursor-pointer list-none items-center gap-2 rounded-control px-2 py-1.5 text-sm font-semibold hover:bg-surface-sunken" aria-label={`Organisation: ${organisation.name}. Switch organisation`}>
             <span className="grid size-6 shrink-0 place-items-center rounded-md bg-brass-soft text-xs font-bold text-brass" aria-hidden="true">
               {organisation.name.slice(0, 1).toUpperCase()}
@@ -87,14 +94,15 @@ export function AppShell({ organisation, organisations, user, theme, children }:
             <ul>
               {organisations.map((candidate) => (
                 <li key={candidate.slug}>
-                  <Link
+                  <NavAnchor
                     to={`/o/${candidate.slug}`}
-                    aria-current={candidate.slug === organisation.slug ? "true" : undefined}
+                    context={anchors}
+                    current={candidate.slug === organisation.slug ? "true" : undefined}
                     className="flex items-center justify-between rounded-control px-2 py-2 text-sm hover:bg-surface-sunken aria-[current]:font-semibold"
                   >
                     {candidate.name}
                     <span className="text-xs text-ink-faint">{candidate.role}</span>
-                  </Link>
+                  </NavAnchor>
                 </li>
               ))}
             </ul>
@@ -109,8 +117,8 @@ export function AppShell({ organisation, organisations, user, theme, children }:
             <input
               type="search"
               name="q"
-              key={location.pathname}
-              defaultValue={shellSearchValue(location.pathname, location.search)}
+              key={pathname}
+              defaultValue={shellSearchValue(pathname, search)}
               placeholder="Name or address"
               autoComplete="off"
               spellCheck={false}
@@ -118,7 +126,7 @@ export function AppShell({ organisation, organisations, user, theme, children }:
             />
           </label>
         </Form>
-        <details key={`account ${location.pathname}`} className="relative">
+        <details key={`account ${pathname}`} className="relative">
           <summary className="flex cursor-pointer list-none items-center gap-2 rounded-control px-2 py-1.5 text-sm hover:bg-surface-sunken" aria-label={`Account menu for ${user.name}`}>
             <span className="grid size-7 place-items-center rounded-full bg-harbour text-xs font-semibold text-on-harbour" aria-hidden="true">
               {user.name
@@ -133,11 +141,11 @@ export function AppShell({ organisation, organisations, user, theme, children }:
           <div className="absolute right-0 z-30 mt-2 w-72 rounded-card border border-line bg-surface-raised p-2 shadow-overlay">
             <p className="px-2 py-1 text-sm font-medium">{user.name}</p>
             <p className="px-2 pb-2 text-xs break-all text-ink-muted">{user.email}</p>
-            <Link to={`/o/${organisation.slug}/account`} className="block rounded-control px-2 py-2 text-sm hover:bg-surface-sunken">
+            <NavAnchor to={`/o/${organisation.slug}/account`} context={anchors} className="block rounded-control px-2 py-2 text-sm hover:bg-surface-sunken">
               Your account
-            </Link>
+            </NavAnchor>
             <Form method="post" action="/theme" className="flex items-center gap-1 px-2 py-2" aria-label="Theme">
-              <input type="hidden" name="returnTo" value={location.pathname + location.search} />
+              <input type="hidden" name="returnTo" value={pathname + search} />
               {["system", "light", "dark"].map((option) => (
                 <button
                   key={option}

@@ -1,9 +1,9 @@
 import { LRUCache } from "lru-cache";
 import { createCookie } from "react-router";
-import { Op, QueryTypes } from "sequelize";
+import { Op } from "sequelize";
 import { Membership, Organisation, Session, User } from "#models/index.ts";
 import { getCookieSecrets, isCookieSecure, sessionLimits } from "../config.server.ts";
-import { getDatabase } from "../db/database.server.ts";
+import { selectRows } from "../db/select.server.ts";
 import { columnsOf, instanceOf } from "../db/rows.server.ts";
 import { createToken, hashToken } from "./tokens.server.ts";
 
@@ -63,7 +63,7 @@ function signedInQuery(): string {
        FROM sessions s
        JOIN users u ON u.id = s.user_id
        LEFT JOIN (memberships m JOIN organisations o ON o.id = m.organisation_id) ON m.user_id = s.user_id
-      WHERE s.token_hash = :tokenHash AND s.expires_at > :now AND s.second_factor_pending = false
+      WHERE s.token_hash = $1 AND s.expires_at > $2 AND s.second_factor_pending = false
       ORDER BY o.name ASC`;
   return signedInStatement;
 }
@@ -72,7 +72,7 @@ function signedInQuery(): string {
 export async function getSignedInSession(request: Request): Promise<SignedInSession | null> {
   const token = await readSessionToken(request);
   if (!token) return null;
-  const rows = await getDatabase().query<Record<string, unknown>>(signedInQuery(), { type: QueryTypes.SELECT, replacements: { tokenHash: hashToken(token), now: new Date() } });
+  const rows = await selectRows(signedInQuery(), [hashToken(token), new Date()]);
   const session = rows.length > 0 ? instanceOf(Session, rows[0], "s") : null;
   const user = rows.length > 0 ? instanceOf(User, rows[0], "u") : null;
   if (!session || !user) return null;

@@ -12,6 +12,7 @@ import { currentRevision, summariseDocument, type ModelDocument, type SharedLibr
 import { RevisionAnalysis } from "./revision-analysis.ts";
 import { isUuid } from "../validation/ids.ts";
 import { columnsOf, instanceOf } from "../db/rows.server.ts";
+import { selectRows } from "../db/select.server.ts";
 
 /** A revision's stored facts without its document (which the analysis holds, typed). */
 export type RevisionRecord = Pick<DeviceRevision, "id" | "number" | "message" | "authorEmail" | "createdAt" | "summary" | "sharedObjects" | "analysisRecord">;
@@ -87,9 +88,9 @@ function deviceAtRevisionQuery(): string {
   deviceAtRevisionStatement ??= `SELECT ${columnsOf(Device, "d")}, ${columnsOf(Site, "s")}, ${columnsOf(DeviceRevision, "r", RECORD_ATTRIBUTES)}, ${columnsOf(RevisionAnalysisRecord, "a", ANALYSIS_ATTRIBUTES)}
        FROM devices d
        JOIN sites s ON s.id = d.site_id
-       JOIN device_revisions r ON r.device_id = d.id AND r.number = COALESCE(:revisionNumber, d.current_revision_number)
+       JOIN device_revisions r ON r.device_id = d.id AND r.number = COALESCE($3::integer, d.current_revision_number)
        LEFT JOIN revision_analyses a ON a.revision_id = r.id
-      WHERE d.id = :deviceId AND d.organisation_id = :organisationId`;
+      WHERE d.id = $1 AND d.organisation_id = $2`;
   return deviceAtRevisionStatement;
 }
 
@@ -135,6 +136,8 @@ export class DeviceRevisions {
    */
   async find(organisationId: string, deviceId: string, options: { revisionNumber?: number; transaction?: Transaction; lock?: boolean } = {}): Promise<DeviceAtRevision | null> {
     if (!isUuid(deviceId)) return null;
+    // A revision number PostgreSQL's integer cannot hold (or not whole) names no revision: no query, and no cast error from the bound parameter.
+    if (options.revisionNumber !== undefined && !(Number.isInteger(options.revisionNumber) && options.revisionNumber >= 1 && options.revisionNumber <= 2_147_483_647)) return null;
     const { transaction, lock } = options;
     if (lock && transaction) {
       // Lock the device row on its own first: a joined FOR UPDATE that waits for another save
@@ -142,11 +145,9 @@ export class DeviceRevisions {
       const locked = await Device.findOne({ where: { id: deviceId, organisationId }, attributes: ["id"], transaction, lock: transaction.LOCK.UPDATE });
       if (!locked) return null;
     }
-    const [row] = await getDatabase().query<Record<string, unknown>>(deviceAtRevisionQuery(), {
-      type: QueryTypes.SELECT,
-      replacements: { deviceId, organisationId, revisionNumber: options.revisionNumber ?? null },
-      transaction,
-    });
+    const values = [deviceId, organisationId, options.revisionNumber ?? null];
+    // Outside a transaction (every page's read) on a plain connection: Sequelize's own query path cost more than the query (docs/decisions/026).
+    const [row] = transaction ? await getDatabase().query<Record<string, unknown>>(deviceAtRevisionQuery(), { type: QueryTypes.SELECT, bind: values, transaction }) : await selectRows(deviceAtRevisionQuery(), values);
     const device = row ? instanceOf(Device, row, "d") : null;
     const site = row ? instanceOf(Site, row, "s") : null;
     const record = row ? instanceOf(DeviceRevision, row, "r") : null;

@@ -1,6 +1,6 @@
 import { useState } from "react";
-import { NavLink, useLocation } from "react-router";
 import { cx } from "#app/components/ui/cx";
+import { isActivePath, NavAnchor, useNavAnchorContext } from "#app/components/ui/nav-anchor";
 import { DEVICE_SECTIONS, SECTION_TITLES } from "./sections";
 
 type Tab = { to: string; label: string; end?: boolean };
@@ -38,7 +38,7 @@ export function deviceNavGroups(base: string): Group[] {
 }
 
 function isCurrent(tab: Tab, pathname: string): boolean {
-  return tab.end ? pathname === tab.to || pathname === `${tab.to}/` : pathname === tab.to || pathname.startsWith(`${tab.to}/`);
+  return isActivePath(tab.to, pathname, tab.end);
 }
 
 /**
@@ -46,12 +46,13 @@ function isCurrent(tab: Tab, pathname: string): boolean {
  * names the current page, so the page's own content comes first on a phone.
  */
 export function DeviceNav({ base }: { base: string }) {
-  const { pathname } = useLocation();
+  const anchors = useNavAnchorContext();
+  const { pathname } = anchors;
   const [open, setOpen] = useState(false);
   const groups = deviceNavGroups(base);
   const currentGroup = groups.find((group) => group.tabs.some((tab) => isCurrent(tab, pathname)));
   const currentTab = currentGroup?.tabs.find((tab) => isCurrent(tab, pathname));
-  const tabClasses = ({ isActive }: { isActive: boolean }) =>
+  const tabClasses = (isActive: boolean) =>
     cx(
       "block rounded-control px-2.5 py-1.5 text-sm whitespace-nowrap",
       isActive ? "bg-harbour-soft font-semibold text-harbour shadow-[inset_0_-2px_0_var(--color-harbour)]" : "font-medium text-ink-muted hover:bg-surface-sunken hover:text-ink",
@@ -88,9 +89,9 @@ export function DeviceNav({ base }: { base: string }) {
             <ul aria-labelledby={`device-pages-${group.id}`} className="flex min-w-0 flex-wrap gap-0.5">
               {group.tabs.map((tab) => (
                 <li key={tab.to}>
-                  <NavLink to={tab.to} end={tab.end} className={tabClasses} onClick={() => setOpen(false)}>
+                  <NavAnchor to={tab.to} context={anchors} current={isCurrent(tab, pathname) ? "page" : undefined} className={tabClasses(isCurrent(tab, pathname))} onNavigate={() => setOpen(false)}>
                     {tab.label}
-                  </NavLink>
+                  </NavAnchor>
                 </li>
               ))}
             </ul>

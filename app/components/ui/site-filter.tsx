@@ -1,5 +1,5 @@
 /** The "Site" filter of the fleet and findings tables (a GET form field). */
-export function SiteFilter({ sites, defaultValue, className }: { sites: Array<{ id: string; name: string }>; defaultValue: string; className: string }) {
+export function SiteFilter({ sites, defaultValue, className }: { sites: ReadonlyArray<{ id: string; name: string }>; defaultValue: string; className: string }) {
   return (
     <label className="text-sm">
       <span className="mb-1 block font-medium">Site</span>

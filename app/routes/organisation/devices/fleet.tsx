@@ -6,10 +6,7 @@ import { nameTie, tableRows, urlSort, type ColumnDef } from "#app/components/ui/
 import type { Route } from "./+types/fleet";
 import { requireRole } from "#server/auth/guard.server";
 import { hasAtLeastRole, PAGE_ROLES } from "#server/auth/roles";
-import type { DeviceRow } from "#server/services/devices.server";
-import { fleetDeviceRows } from "#server/services/device-list.server";
-import { siteNames } from "#server/services/sites.server";
-import { lastFieldChecks, type FieldCheckSummary } from "#server/services/field-checks.server";
+import { fleetTable, type FleetTableRow } from "#server/services/device-list.server";
 import { AgreementRate } from "#app/components/field-checks";
 import { OutcomeChip } from "#app/components/outcome";
 import { isOutcome, outcomeRank } from "#server/engine/vocabulary";
@@ -48,15 +45,15 @@ const COLUMNS = [
 ] as const satisfies readonly ColumnDef<FleetRow>[];
 const SITE_FILTER = { id: "siteId", accessorKey: "siteId", filterFn: "equals" } as const satisfies ColumnDef<FleetRow>;
 
-type FleetRow = DeviceRow & { openProposals: number; fieldCheck: FieldCheckSummary | null };
+type FleetRow = FleetTableRow;
 
 export async function loader({ request, context }: Route.LoaderArgs) {
   const access = requireRole(context);
   const url = new URL(request.url);
   const { sort, descending, sorting } = urlSort(url.searchParams, COLUMNS);
   // Counts leave out dismissed findings (accepted risks), as the device overview does.
-  const [rows, sites, fieldChecks] = await Promise.all([fleetDeviceRows(access.organisation.id, { wait: false }), siteNames(access.organisation.id), lastFieldChecks(access.organisation.id)]);
-  const devices: FleetRow[] = rows.map((device) => ({ ...device, fieldCheck: fieldChecks.get(device.id) ?? null }));
+  // Kept per organisation under its fleet stamp, read with the session (docs/decisions/026).
+  const { rows: devices, sites } = await fleetTable(access.organisation, { reuse: request.method === "GET" });
   const matching = tableRows(devices, [...COLUMNS, SITE_FILTER, nameTie<FleetRow>()], {
     globalFilter: (url.searchParams.get("q") ?? "").trim().slice(0, 100),
     columnFilters: url.searchParams.get("site") ? [{ id: "siteId", value: url.searchParams.get("site") }] : [],
