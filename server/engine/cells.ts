@@ -6,6 +6,7 @@
 
 import { arrivals } from "./analysis.ts";
 import type { CompiledModel, RulePartition } from "./compile.ts";
+import type { Runs } from "./domain.ts";
 
 /** Every cell, in probe order: parallel arrays of interface, destination and class. */
 export interface Cells {
@@ -175,11 +176,12 @@ export interface Owners {
   readonly firstElements: Int32Array;
 }
 
-const ownersCache = new WeakMap<RulePartition, Owners>();
+/** By runs object: partitions of a list with rules off that took nothing share their list's runs, and so their owners. */
+const ownersCache = new WeakMap<Runs, Owners>();
 
-/** The owners of a partition (a slot's runs need not be adjacent): walks its runs once, then kept with it. */
+/** The owners of a partition (a slot's runs need not be adjacent): walks its runs once, then kept with them. */
 export function ownersOf(p: RulePartition): Owners {
-  const cached = ownersCache.get(p);
+  const cached = ownersCache.get(p.owner);
   if (cached !== undefined) return cached;
   const { starts, values } = p.owner;
   let size = 0;
@@ -196,7 +198,7 @@ export function ownersOf(p: RulePartition): Owners {
   }
   for (const slot of slots) counted[slot] = 0;
   const owners = { slots: Int32Array.from(slots), firstElements: Int32Array.from(firstElements) };
-  ownersCache.set(p, owners);
+  ownersCache.set(p.owner, owners);
   return owners;
 }
 
