@@ -1194,7 +1194,7 @@ export class CompiledModel {
     this.partitionSources.derived++;
     const offSlots = Int32Array.from(off, (position) => this.ruleSlots[position]);
     const partition = (owner: Runs): RulePartition =>
-      given !== null ? { id: nextPartitionId++, family, active: given, owner } : new PartitionWithout(nextPartitionId++, family, base.active, Int32Array.from(off), this.slotPositions, owner);
+      given !== null ? new Partition(nextPartitionId++, family, given, owner) : new Partition(nextPartitionId++, family, null, owner, { all: base.active, off: Int32Array.from(off), slotPositions: this.slotPositions });
     if (given !== null) this.touch(given);
     // Most off rules own nothing in the base (a later rule's schedule, or one shadowed there): the runs are then the base's, shared.
     const owners = this.ownerMask(base);
@@ -1368,7 +1368,7 @@ export class CompiledModel {
       const position = this.slotPositions[slot];
       runs = takenRuns(runs, this.ruleBits[position][familySlot], slot, (owner) => owner < 0 || this.slotPositions[owner] > position, domain.size);
     }
-    const updated = { id: nextPartitionId++, family, active, owner: runs };
+    const updated = new Partition(nextPartitionId++, family, active, runs);
     this.updatedFrom.set(updated, base);
     return updated;
   }
@@ -1468,7 +1468,7 @@ export class CompiledModel {
         starts ^= low;
       }
     }
-    const partition: RulePartition = { id: nextPartitionId++, family, active, owner: runsFromPieces(owner, wordOwners, pieceStarts, domain.size) };
+    const partition: RulePartition = new Partition(nextPartitionId++, family, active, runsFromPieces(owner, wordOwners, pieceStarts, domain.size));
     this.partitions.set(key, partition);
     this.remember(partition);
     return partition;
@@ -1717,28 +1717,36 @@ function takenRuns(runs: Runs, bits: SparseBits, slot: number, takes: (owner: nu
   return { starts: Int32Array.from(starts), values: Int32Array.from(values) };
 }
 
+/** A list with some of its rules off, for a partition whose active list is made when first read. */
+interface ListWithout {
+  readonly all: Int32Array;
+  /** Positions of the rules that are off. */
+  readonly off: Int32Array;
+  /** The model's slot → position table (`all` holds slots, in rule order). */
+  readonly slotPositions: Int32Array;
+}
+
 /**
- * A partition of a list with some of its rules off, whose active list (the list's without
- * those rules) is made when first read: most analyses read only the owners, and the list's
- * stretches between the rules that are off are copied as blocks then.
+ * A rule partition. Every partition is of this one class (so the analyses' reads of it stay
+ * monomorphic); one of a list with some rules off may have its active list (the list's
+ * without those rules) made only when first read: most analyses read only the owners.
  */
-class PartitionWithout implements RulePartition {
-  #active: Int32Array | undefined;
+class Partition implements RulePartition {
+  #active: Int32Array | null;
 
   constructor(
     readonly id: number,
     readonly family: Family,
-    private readonly all: Int32Array,
-    /** Positions of the rules that are off. */
-    private readonly off: Int32Array,
-    /** The model's slot → position table (`all` holds slots, in rule order). */
-    private readonly slotPositions: Int32Array,
+    active: Int32Array | null,
     readonly owner: Runs,
-  ) {}
+    private readonly without: ListWithout | null = null,
+  ) {
+    this.#active = active;
+  }
 
   get active(): Int32Array {
-    if (this.#active === undefined) {
-      const { all, off, slotPositions } = this;
+    if (this.#active === null) {
+      const { all, off, slotPositions } = this.without as ListWithout;
       // Where each off rule sits in the whole list (binary search by position), ascending.
       const places = Int32Array.from(off, (position) => {
         let lo = 0;
