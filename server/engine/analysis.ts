@@ -149,6 +149,11 @@ export function redundantRules(engine: CompiledModel): Set<number> {
     // Per slot: 0 never the first match, 1 the first match somewhere, 2 and removing it matters.
     const state = new Uint8Array(engine.slotCount);
     for (const p of distinctRulePartitions(engine)) {
+      // A partition whose owners are all known to matter already cannot change the answer: its runs are skipped.
+      const owners = ownerSlots(p);
+      let open = false;
+      for (let i = 0; i < owners.length && !open; i++) open = state[owners[i]] !== 2;
+      if (!open) continue;
       const { values } = p.owner;
       for (let k = 0; k < values.length; k++) {
         const slot = values[k];

@@ -1182,6 +1182,13 @@ export class CompiledModel {
     const off: number[] = [];
     for (const p of candidates.scheduledRules) if (!state[schedules[p]]) off.push(p);
     if (off.length === 0) return this.slicePartitionAllOn(family, candidates);
+    const base = this.slicePartitionAllOn(family, candidates);
+    // Without a basis to look the list up in, the active list is made only if something reads it (few do: most partitions of a week differ from their list's by a few rules off).
+    if (this.basisRef === null) {
+      const rules = this.derivedPartition(family, base, null, off);
+      this.remember(rules);
+      return rules;
+    }
     const active = new Int32Array(candidates.rules.length - off.length);
     const list = candidates.rules;
     let n = 0;
@@ -1189,7 +1196,7 @@ export class CompiledModel {
       const s = schedules[list[k]];
       if (s < 0 || state[s]) active[n++] = this.ruleSlots[list[k]];
     }
-    const rules = this.basisPartition(family, active) ?? this.derivedPartition(family, this.slicePartitionAllOn(family, candidates), active, off);
+    const rules = this.basisPartition(family, active) ?? this.derivedPartition(family, base, active, off);
     this.remember(rules);
     return rules;
   }
@@ -1219,13 +1226,21 @@ export class CompiledModel {
    * (or to the default); every other element keeps its owner, since the rules before it are
    * the same or fewer. Costs the base's runs and the off rules' elements, not a sweep of the list.
    */
-  private derivedPartition(family: Family, base: RulePartition, active: Int32Array, off: readonly number[]): RulePartition {
+  private derivedPartition(family: Family, base: RulePartition, given: Int32Array | null, off: readonly number[]): RulePartition {
     this.partitionSources.derived++;
-    this.touch(active);
+    const offSlots = Int32Array.from(off, (position) => this.ruleSlots[position]);
+    const partition = (owner: Runs): RulePartition =>
+      given !== null ? new Partition(nextPartitionId++, family, given, owner) : new Partition(nextPartitionId++, family, null, owner, { all: base.active, off: Int32Array.from(off), slotPositions: this.slotPositions });
+    if (given !== null) this.touch(given);
+    // Most off rules own nothing in the base (a later rule's schedule, or one shadowed there): the runs are then the base's, shared.
+    const owners = this.ownerMask(base);
+    let owning = false;
+    for (let i = 0; i < offSlots.length && !owning; i++) owning = ((owners[offSlots[i] >>> 5] >>> (offSlots[i] & 31)) & 1) === 1;
+    if (!owning) return partition(base.owner);
     const domain = this.domains[family];
     const { remaining: need, owner } = this.scratch[family];
     const patched = (this.patchScratch ??= new Uint8Array(this.slotCount + 1));
-    for (const position of off) patched[this.ruleSlots[position] + 1] = 1;
+    for (const slot of offSlots) patched[slot + 1] = 1;
     const { starts, values } = base.owner;
     need.fill(0);
     const needWords: number[] = [];
@@ -1243,22 +1258,39 @@ export class CompiledModel {
     }
     if (count === 0) {
       // The off rules took nothing: every element keeps its owner, and the runs are the base's (shared, not copied).
-      for (const position of off) patched[this.ruleSlots[position] + 1] = 0;
-      return { id: nextPartitionId++, family, active, owner: base.owner };
+      for (const slot of offSlots) patched[slot + 1] = 0;
+      return partition(base.owner);
     }
     const wordsInOrder = Int32Array.from(needWords).sort();
     let firstOff = Infinity;
     for (const position of off) if (position < firstOff) firstOff = position;
     const familySlot = family === 4 ? 0 : 1;
-    for (let k = 0; k < active.length && count > 0; k++) {
-      const slot = active[k];
+    // The rules of the base's list that are on (the active list), in order.
+    const all = base.active;
+    for (let k = 0; k < all.length && count > 0; k++) {
+      const slot = all[k];
+      if (patched[slot + 1] === 1) continue;
       const position = this.slotPositions[slot];
       if (position < firstOff) continue;
       count -= claimNeeded(need, wordsInOrder, owner, slot, this.ruleBits[position][familySlot]);
     }
     const runs = this.internedRuns(family, patchedRuns(base.owner, patched, owner, domain.size));
-    for (const position of off) patched[this.ruleSlots[position] + 1] = 0;
-    return { id: nextPartitionId++, family, active, owner: runs };
+    for (const slot of offSlots) patched[slot + 1] = 0;
+    return partition(runs);
+  }
+
+  /** Per partition asked for: a bitmask over slots of the rules that own elements in it. */
+  private readonly ownerMasks = new WeakMap<RulePartition, Int32Array>();
+
+  private ownerMask(p: RulePartition): Int32Array {
+    let mask = this.ownerMasks.get(p);
+    if (mask === undefined) {
+      mask = new Int32Array((this.slotCount + 31) >>> 5);
+      const values = p.owner.values;
+      for (let k = 0; k < values.length; k++) if (values[k] >= 0) mask[values[k] >>> 5] |= 1 << (values[k] & 31);
+      this.ownerMasks.set(p, mask);
+    }
+    return mask;
   }
 
   /** Derived partitions' runs by family and content: different off rules often leave the same owners, and one copy serves them all. */
@@ -1268,8 +1300,7 @@ export class CompiledModel {
     let hash = (0x811c9dc5 ^ runs.values.length ^ (family << 24)) | 0;
     for (let k = 0; k < runs.values.length; k++) hash = Math.imul(Math.imul(hash ^ runs.starts[k], 0x01000193) ^ runs.values[k], 0x01000193);
     const bucket = this.runsByContent.get(hash);
-    const same = bucket?.find((other) => other.values.length === runs.values.length && other.starts.every((start, k) => start === runs.starts[k] && other.values[k] === runs.values[k]));
-    if (same !== undefined) return same;
+    if (bucket !== undefined) for (const other of bucket) if (sameRuns(other, runs)) return other;
     if (bucket === undefined) this.runsByContent.set(hash, [runs]);
     else bucket.push(runs);
     return runs;
@@ -1373,7 +1404,7 @@ export class CompiledModel {
       const position = this.slotPositions[slot];
       runs = takenRuns(runs, this.ruleBits[position][familySlot], slot, (owner) => owner < 0 || this.slotPositions[owner] > position, domain.size);
     }
-    const updated = { id: nextPartitionId++, family, active, owner: runs };
+    const updated = new Partition(nextPartitionId++, family, active, runs);
     this.updatedFrom.set(updated, base);
     return updated;
   }
@@ -1473,7 +1504,7 @@ export class CompiledModel {
         starts ^= low;
       }
     }
-    const partition: RulePartition = { id: nextPartitionId++, family, active, owner: runsFromPieces(owner, wordOwners, pieceStarts, domain.size) };
+    const partition: RulePartition = new Partition(nextPartitionId++, family, active, runsFromPieces(owner, wordOwners, pieceStarts, domain.size));
     this.partitions.set(key, partition);
     this.remember(partition);
     return partition;
@@ -1720,6 +1751,61 @@ function takenRuns(runs: Runs, bits: SparseBits, slot: number, takes: (owner: nu
     if (cursor < end) emit(cursor, value);
   }
   return { starts: Int32Array.from(starts), values: Int32Array.from(values) };
+}
+
+/** A list with some of its rules off, for a partition whose active list is made when first read. */
+interface ListWithout {
+  readonly all: Int32Array;
+  /** Positions of the rules that are off. */
+  readonly off: Int32Array;
+  /** The model's slot → position table (`all` holds slots, in rule order). */
+  readonly slotPositions: Int32Array;
+}
+
+/**
+ * A rule partition. Every partition is of this one class (so the analyses' reads of it stay
+ * monomorphic); one of a list with some rules off may have its active list (the list's
+ * without those rules) made only when first read: most analyses read only the owners.
+ */
+class Partition implements RulePartition {
+  #active: Int32Array | null;
+
+  constructor(
+    readonly id: number,
+    readonly family: Family,
+    active: Int32Array | null,
+    readonly owner: Runs,
+    private readonly without: ListWithout | null = null,
+  ) {
+    this.#active = active;
+  }
+
+  get active(): Int32Array {
+    if (this.#active === null) {
+      const { all, off, slotPositions } = this.without as ListWithout;
+      // Where each off rule sits in the whole list (binary search by position), ascending.
+      const places = Int32Array.from(off, (position) => {
+        let lo = 0;
+        let hi = all.length;
+        while (lo < hi) {
+          const mid = (lo + hi) >>> 1;
+          if (slotPositions[all[mid]] < position) lo = mid + 1;
+          else hi = mid;
+        }
+        return lo;
+      }).sort();
+      // The stretches of the whole list between them, copied as blocks.
+      const active = new Int32Array(all.length - places.length);
+      let from = 0;
+      for (let i = 0; i < places.length; i++) {
+        active.set(all.subarray(from, places[i]), from - i);
+        from = places[i] + 1;
+      }
+      active.set(all.subarray(from), from - places.length);
+      this.#active = active;
+    }
+    return this.#active;
+  }
 }
 
 /** In a sweep's word owners: no rule has taken any element of the word yet. */

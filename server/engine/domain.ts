@@ -22,6 +22,10 @@ export interface SparseBits {
 /** 32-bit limbs per IPv6 bound: 2^128 itself needs a fifth. */
 const LIMBS = 5;
 
+/** Sizes (32-bit entries) of the chunks sparse bitsets are stored in: 4 KiB at first, doubling up to 1 MiB. */
+const CHUNK_MIN = 1024;
+const CHUNK_MAX = 262_144;
+
 export class Domain {
   /** Element i is [bounds[i], bounds[i+1] - 1]; bounds[0] = 0 and the last bound is 2^bits. */
   readonly bounds: readonly bigint[];
@@ -87,8 +91,8 @@ export class Domain {
   }
 
   toBits(indexRanges: Int32Array): SparseBits {
-    const words: number[] = [];
-    const masks: number[] = [];
+    const { words, masks } = this.#bitsScratch();
+    let n = 0;
     for (let i = 0; i < indexRanges.length; i += 2) {
       const a = indexRanges[i];
       const b = indexRanges[i + 1];
@@ -96,39 +100,94 @@ export class Domain {
         const lo = w === a >>> 5 ? a & 31 : 0;
         const hi = w === b >>> 5 ? b & 31 : 31;
         const mask = hi - lo === 31 ? -1 : ((1 << (hi - lo + 1)) - 1) << lo;
-        const n = words.length;
         if (n > 0 && words[n - 1] === w) masks[n - 1] |= mask;
         else {
-          words.push(w);
-          masks.push(mask);
+          words[n] = w;
+          masks[n++] = mask;
         }
       }
     }
-    return { words: Int32Array.from(words), masks: Int32Array.from(masks) };
+    return this.#stored(words, masks, n);
   }
 
   #dense: Int32Array | undefined;
+  #scratch: { words: Int32Array; masks: Int32Array } | undefined;
+
+  /** Room for one sparse bitset of this domain (at most one entry per word), reused between calls. */
+  #bitsScratch(): { words: Int32Array; masks: Int32Array } {
+    return (this.#scratch ??= { words: new Int32Array(this.words), masks: new Int32Array(this.words) });
+  }
 
   /** The union of sparse bitsets (one of them returned as is when it is the only one). */
   unionBits(parts: readonly SparseBits[]): SparseBits {
     if (parts.length === 1) return parts[0];
     const dense = (this.#dense ??= new Int32Array(this.words));
-    const touched: number[] = [];
+    const { words: touched, masks } = this.#bitsScratch();
+    let n = 0;
     for (const part of parts) {
-      const { words, masks } = part;
+      const { words, masks: partMasks } = part;
       for (let j = 0; j < words.length; j++) {
         const w = words[j];
-        if (dense[w] === 0) touched.push(w);
-        dense[w] |= masks[j];
+        if (dense[w] === 0) touched[n++] = w;
+        dense[w] |= partMasks[j];
       }
     }
-    const words = Int32Array.from(touched).sort();
-    const masks = new Int32Array(words.length);
-    for (let j = 0; j < words.length; j++) {
-      masks[j] = dense[words[j]];
-      dense[words[j]] = 0;
+    touched.subarray(0, n).sort();
+    for (let j = 0; j < n; j++) {
+      masks[j] = dense[touched[j]];
+      dense[touched[j]] = 0;
     }
-    return { words, masks };
+    return this.#stored(touched, masks, n);
+  }
+
+  /**
+   * Sparse bitsets made here, by a hash of their content: rules name the same sets through
+   * different lists (a list holding "any", a group and its members), and one copy serves all.
+   */
+  readonly #bitsByContent = new Map<number, SparseBits[]>();
+  /**
+   * Where new sparse bitsets are stored: a chunk shared by many (words, then masks, each a view),
+   * so thousands of small sets are not each an allocation of their own. Chunks grow from small
+   * (a small model wastes little) to CHUNK_MAX; a full chunk lives on through its views alone.
+   */
+  #chunk = new Int32Array(0);
+  #chunkUsed = 0;
+
+  /** The first n entries of words and masks (scratch) as a stored sparse bitset: an equal one made before, or a new one. */
+  #stored(words: Int32Array, masks: Int32Array, n: number): SparseBits {
+    let hash = 0x811c9dc5 ^ n;
+    for (let j = 0; j < n; j++) hash = Math.imul(Math.imul(hash ^ words[j], 0x01000193) ^ masks[j], 0x01000193);
+    const bucket = this.#bitsByContent.get(hash);
+    if (bucket !== undefined) {
+      for (const known of bucket) {
+        if (known.words.length !== n) continue;
+        let j = 0;
+        while (j < n && known.words[j] === words[j] && known.masks[j] === masks[j]) j++;
+        if (j === n) return known;
+      }
+    }
+    let at = this.#chunkUsed;
+    if (at + 2 * n > this.#chunk.length) {
+      const size = Math.min(CHUNK_MAX, Math.max(CHUNK_MIN, this.#chunk.length * 2));
+      if (2 * n > size) {
+        // Larger than any chunk: its own allocation, and the current chunk stays.
+        const own = new Int32Array(2 * n);
+        return this.#keep(hash, bucket, own, 0, words, masks, n);
+      }
+      this.#chunk = new Int32Array(size);
+      at = 0;
+    }
+    this.#chunkUsed = at + 2 * n;
+    return this.#keep(hash, bucket, this.#chunk, at, words, masks, n);
+  }
+
+  #keep(hash: number, bucket: SparseBits[] | undefined, store: Int32Array, at: number, words: Int32Array, masks: Int32Array, n: number): SparseBits {
+    store.set(words.subarray(0, n), at);
+    store.set(masks.subarray(0, n), at + n);
+    const bits: SparseBits = { words: store.subarray(at, at + n), masks: store.subarray(at + n, at + 2 * n) };
+    if (bucket === undefined) this.#bitsByContent.set(hash, [bits]);
+    else bucket.push(bits);
+    return bits;
   }
 
   /** The first element a sparse bitset holds, or -1 when it is empty. */
