@@ -23,7 +23,8 @@ export default defineConfig({
           include: ["tests/integration/**/*.test.ts"],
           environment: "node",
           globalSetup: ["tests/integration/global-setup.ts"],
-          testTimeout: 30_000,
+          // Bounds for a hung test, not speed targets: the suite runs beside the browser suite on 2 cores.
+          testTimeout: 60_000,
           hookTimeout: 60_000,
           // One file at a time: two at once against the one app server and its single job runner
           // timed out (30 s) in background-analysis, proposals and others on a loaded 2-core machine.

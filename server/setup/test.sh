@@ -6,12 +6,23 @@ step "Sallyport test set-up"
 ensure_debian_packages postgresql chromium
 ensure_npm_dependencies
 ensure_postgres_cluster
+# Set only when the tests are to run against a database server of someone else's choosing.
+given_database_url="${DATABASE_URL:-}"
 ensure_database "${SALLYPORT_TEST_DB_NAME:-sallyport_test}"
 ensure_session_secret
 ensure_second_factor_key
 ensure_app_origin
 export SALLYPORT_TEST_RESET=1
 run_migrations_and_seed
+# The browser suite gets a database of its own, so it can run beside the integration suite:
+# integration tests restore backups into their database and rewrite its audit chain, and the
+# sign-up throttle counts per database. With a given DATABASE_URL the two suites take turns on it.
+browser_database_urls=""
+if [ -z "$given_database_url" ]; then
+  browser_database_urls=$(unset DATABASE_URL MIGRATION_DATABASE_URL; test_database="${SALLYPORT_TEST_DB_NAME:-sallyport_test}"; ensure_database "${test_database%_test}_browser_test" >&2 && echo "DATABASE_URL=$DATABASE_URL MIGRATION_DATABASE_URL=$MIGRATION_DATABASE_URL") \
+    || fail "could not make the browser suite's database" "read the error above"
+  (export $browser_database_urls; run_migrations_and_seed) || exit 1
+fi
 cd "$ROOT"
 
 failures=()
@@ -23,8 +34,8 @@ run_suite() {
   if "$@"; then ok "$name: passed (${SUITE_SECONDS:-$((SECONDS - started))} s)"; passed=$((passed + 1)); else failures+=("$name"); fi
 }
 
-# Typecheck and lint at the same time, each on its own core (ESLint is not type-aware, so it needs
-# nothing `react-router typegen` writes); their output is shown in order once both have ended.
+# Two suites at the same time (typecheck and lint each on its own core — ESLint is not type-aware,
+# so it needs nothing `react-router typegen` writes); their output is shown in order once both have ended.
 run_suites_together() {
   local first="$1" second="$2" logs
   logs=$(mktemp -d)
@@ -46,8 +57,17 @@ ok "typecheck and lint: $((SECONDS - suite_started)) s"
 run_suite "Unit tests (Vitest)" npx vitest run --project unit
 build_app
 export NODE_ENV=production
-run_suite "Integration tests (Vitest, real PostgreSQL)" npx vitest run --project integration
-run_suite "Browser tests (Playwright, Debian's Chromium)" npx playwright test
+if [ -n "$browser_database_urls" ]; then
+  # Side by side: the integration suite leaves most of a core idle (one file at a time, mostly
+  # waiting on its server), so together they take little longer than the browser suite alone.
+  suites_started=$SECONDS
+  run_suites_together "Integration tests (Vitest, real PostgreSQL)" "Browser tests (Playwright, Debian's Chromium)" \
+    "npx vitest run --project integration" "env $browser_database_urls npx playwright test"
+  ok "integration and browser tests: $((SECONDS - suites_started)) s"
+else
+  run_suite "Integration tests (Vitest, real PostgreSQL)" npx vitest run --project integration
+  run_suite "Browser tests (Playwright, Debian's Chromium)" npx playwright test
+fi
 
 step "Summary"
 printf 'suites: %d passed, %d failed\n' "$passed" "${#failures[@]}"

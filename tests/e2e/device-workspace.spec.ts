@@ -1,21 +1,28 @@
 import { readFileSync } from "node:fs";
 import { expect, test } from "./fixtures";
-import { chooseNames, screenshot, signIn, toast, useSignedInSession } from "./helpers";
+import { chooseNames, screenshot, toast, useSignedInSession } from "./helpers";
 import { createTeam } from "./team";
 
-test("An engineer models a new device, reorders its rules, and round-trips it through export and import", async ({ page, browserProblems }) => {
+// In a team's own organisation (tests/e2e/team.ts), so the demo's fleet stays as seeded.
+test("An engineer models a new device, reorders its rules, and round-trips it through export and import", async ({ browser, playwright, browserProblems }, testInfo) => {
   // Two submissions below are refused on purpose (a bad name, a rule without services): 400s.
   browserProblems.expect(400, /\/devices\/new\.data$/);
   browserProblems.expect(400, /\/model\/rules\.data$/);
+  const baseURL = testInfo.project.use.baseURL;
+  if (!baseURL) throw new Error("no baseURL in playwright.config.ts");
+  const team = await createTeam(playwright.request, baseURL, "workspace");
+  const context = await browser.newContext({ storageState: team.members.engineer.storageState });
+  browserProblems.watch(context);
+  const page = await context.newPage();
   const deviceName = `e2e-edge-${Date.now().toString(36)}`;
-  await signIn(page, "priya.nandakumar@lanternfield.example", "demo-password-engineer");
+  await page.goto(`/o/${team.slug}/devices`);
   await expect(page.getByRole("heading", { name: "Devices" })).toBeVisible();
   await screenshot(page, "20-fleet");
 
   // Create the device.
   await page.getByRole("link", { name: "New device" }).click();
   await page.getByLabel("Device name").fill("bad name with spaces");
-  await page.getByLabel("Site").selectOption({ label: "Copperleaf Foods — plant 2" });
+  await page.getByLabel("Site").selectOption({ label: "Pier office" });
   await page.getByRole("button", { name: "Create device" }).click();
   await expect(page.getByText("Use 1–63 characters")).toBeVisible();
   await expect(page.getByLabel("Site")).toHaveValue(/[0-9a-f-]{36}/);
@@ -102,7 +109,7 @@ test("An engineer models a new device, reorders its rules, and round-trips it th
   expect(exported.inboundRules.map((rule) => rule.id)).toEqual(["team-admin", "drop-rest"]);
 
   // … and import it back as a new revision of the same device: nothing changes.
-  await page.goto("/o/lanternfield/devices/import");
+  await page.goto(`/o/${team.slug}/devices/import`);
   await page.getByLabel("Model document").setInputFiles(exportedPath);
   await page.getByLabel("Import as").selectOption({ label: `${deviceName} (now r7)` });
   await page.getByRole("button", { name: "Check the document" }).click();
@@ -112,6 +119,7 @@ test("An engineer models a new device, reorders its rules, and round-trips it th
   await expect(toast(page)).toContainText("The import matched the current revision; nothing changed.");
   await expect(page.getByRole("cell", { name: "r7", exact: true })).toBeVisible();
   await screenshot(page, "25-history");
+  await context.close();
 });
 
 test("A bad upload is refused with its problems and creates nothing", async ({ page, browserProblems }) => {

@@ -1,6 +1,6 @@
 import type { Browser, BrowserContext, Page } from "@playwright/test";
 import { expect, test } from "./fixtures";
-import { hydrated, screenshot, seriousAccessibilityViolations, toast } from "./helpers";
+import { hydrated, problemsAtEverySize, toast } from "./helpers";
 import { createTeam, type Team } from "./team";
 
 // Each test makes its own organisation, so the two workers may share this file's tests.
@@ -14,25 +14,6 @@ async function memberPage(browser: Browser, team: Team, role: keyof Team["member
   const context = await browser.newContext({ storageState: team.members[role].storageState, viewport: { width: 1366, height: 860 }, reducedMotion: "reduce" });
   watch(context);
   return context.newPage();
-}
-
-/** The page at both widths and in both schemes: nothing sticks out sideways, no serious axe violation; a screenshot of each. */
-async function everyWay(page: Page, name: string): Promise<void> {
-  for (const [width, height] of [
-    [1366, 860],
-    [390, 844],
-  ] as const) {
-    for (const scheme of ["light", "dark"] as const) {
-      await page.setViewportSize({ width, height });
-      await page.emulateMedia({ colorScheme: scheme });
-      const overflow = await page.evaluate(() => (document.scrollingElement ?? document.documentElement).scrollWidth - window.innerWidth);
-      expect(overflow, `${name} at ${width} px, ${scheme}`).toBeLessThanOrEqual(0);
-      expect(await seriousAccessibilityViolations(page), `${name} at ${width} px, ${scheme}`).toEqual([]);
-      await screenshot(page, `${name}-${width}-${scheme}`);
-    }
-  }
-  await page.setViewportSize({ width: 1366, height: 860 });
-  await page.emulateMedia({ colorScheme: "light" });
 }
 
 test("A trainer builds a repair drill; the trainee's incomplete fix is not a pass, and it passes only once every goal holds", async ({ browser, playwright, baseURL, browserProblems }) => {
@@ -51,7 +32,7 @@ test("A trainer builds a repair drill; the trainee's incomplete fix is not a pas
   await trainer.getByLabel("Title").fill("Let the operations centre in");
   await trainer.getByRole("radio", { name: "Repair the model" }).check();
   await trainer.getByLabel("Introduction (optional, Markdown)").fill("The operations centre is locked out. Fix **only** that.");
-  await everyWay(trainer, "91-drill-new");
+  expect(await problemsAtEverySize(trainer, "91-drill-new", "screenshots")).toEqual([]);
   await trainer.getByRole("button", { name: "Create drill" }).click();
   await expect(toast(trainer)).toContainText("Drill “Let the operations centre in” created");
 
@@ -75,7 +56,7 @@ test("A trainer builds a repair drill; the trainee's incomplete fix is not a pas
   await trainer.getByRole("link", { name: "Drill editor" }).click();
   const goals = trainer.getByRole("list", { name: "Goals" });
   await expect(goals.getByText("holds with your answer")).toHaveCount(2);
-  await everyWay(trainer, "92-drill-editor");
+  expect(await problemsAtEverySize(trainer, "92-drill-editor", "screenshots")).toEqual([]);
   const drillPath = new URL(trainer.url()).pathname.replace(/\/edit$/, "");
 
   // The trainee begins it from the Training page.
@@ -96,7 +77,7 @@ test("A trainer builds a repair drill; the trainee's incomplete fix is not a pas
   const result = trainee.getByRole("status", { name: "Result of your last check" });
   await expect(result).toContainText("Not yet: 1 of 2 goals do not hold");
   await expect(result).not.toContainText("Pass");
-  await everyWay(trainee, "93-drill-fix-not-yet");
+  expect(await problemsAtEverySize(trainee, "93-drill-fix-not-yet", "screenshots")).toEqual([]);
 
   // The full fix: the drop enabled again, below the allow.
   await trainee.goto(`${attemptPath}/model/rules`);
@@ -105,18 +86,18 @@ test("A trainer builds a repair drill; the trainee's incomplete fix is not a pas
   await expect(toast(trainee)).toContainText("sandbox copy");
   await trainee.getByRole("button", { name: "Move rule drop-internet down" }).click();
   await expect(toast(trainee)).toContainText("sandbox copy");
-  await everyWay(trainee, "94-drill-sandbox");
+  expect(await problemsAtEverySize(trainee, "94-drill-sandbox", "screenshots")).toEqual([]);
   await trainee.goto(attemptPath);
   await trainee.getByRole("button", { name: "Check my fix" }).click();
   await expect(result).toContainText("Pass: every goal holds");
   await expect(result).toContainText("No collateral change");
   await expect(trainee.getByText("Score 3 of 3 — finished")).toBeVisible();
-  await everyWay(trainee, "95-drill-fix-pass");
+  expect(await problemsAtEverySize(trainee, "95-drill-fix-pass", "screenshots")).toEqual([]);
 
   // The trainer reads the result on the drill's page.
   await trainer.goto(drillPath);
   await expect(trainer.getByRole("row").filter({ hasText: team.members.trainee.name })).toContainText("3 of 3");
-  await everyWay(trainer, "96-drill-results");
+  expect(await problemsAtEverySize(trainer, "96-drill-results", "screenshots")).toEqual([]);
 });
 
 test("A trainee takes a drill that calls outcomes and one that orders rules, with the explanation after each answer", async ({ browser, playwright, baseURL, browserProblems }) => {
@@ -157,7 +138,7 @@ test("A trainee takes a drill that calls outcomes and one that orders rules, wit
     const question = trainee.getByRole("form", { name: `Answer probe ${index}` });
     await question.getByLabel("What does the outsider get?").selectOption({ label: "No answer" });
     await question.getByLabel("Which layer decides it?").selectOption({ label: "Inbound rules" });
-    if (index === 1) await everyWay(trainee, "97-drill-predict-question");
+    if (index === 1) expect(await problemsAtEverySize(trainee, "97-drill-predict-question", "screenshots")).toEqual([]);
     await question.getByRole("button", { name: "Answer" }).click();
     const answered = trainee.locator(`#answer-${index - 1}`);
     await expect(answered.getByRole("heading", { name: `Probe ${index} of 3` })).toBeVisible();
@@ -165,7 +146,7 @@ test("A trainee takes a drill that calls outcomes and one that orders rules, wit
     await expect(answered.getByText("Arrival", { exact: true })).toBeVisible();
   }
   await expect(trainee.getByText(/Score \d of 6 — finished/)).toBeVisible();
-  await everyWay(trainee, "98-drill-predict-done");
+  expect(await problemsAtEverySize(trainee, "98-drill-predict-done", "screenshots")).toEqual([]);
 
   // Put the rules in order: the drop moves below the allow with the buttons (keyboard reachable).
   await trainee.goto(training);
@@ -179,5 +160,5 @@ test("A trainee takes a drill that calls outcomes and one that orders rules, wit
   await trainee.getByRole("button", { name: "Check this order" }).click();
   const result = trainee.getByRole("status", { name: "Result of your last check" });
   await expect(result).toContainText("Pass: every goal holds, as tight as the best order");
-  await everyWay(trainee, "99-drill-order-pass");
+  expect(await problemsAtEverySize(trainee, "99-drill-order-pass", "screenshots")).toEqual([]);
 });

@@ -1,8 +1,7 @@
 import { readFileSync } from "node:fs";
 import path from "node:path";
-import type { Page } from "@playwright/test";
 import { expect, test } from "./fixtures";
-import { hydrated, screenshot, seriousAccessibilityViolations, toast } from "./helpers";
+import { hydrated, problemsAtEverySize, screenshot, toast } from "./helpers";
 import { createTeam, type Team } from "./team";
 
 // Issue 11: an import over an existing device is judged by its effect before it lands, and a
@@ -10,34 +9,11 @@ import { createTeam, type Team } from "./team";
 // the pages are checked at 1366 and 390 px, light and dark: no sideways scroll, no serious axe
 // violation, and (through the shared fixture) no console error or unexpected failed request.
 
-const SIZES = [
-  { name: "1366", width: 1366, height: 860 },
-  { name: "390", width: 390, height: 844 },
-] as const;
-
 /** The fixture device with its catch-all drop moved to the top: both operator networks lose every login path. */
 function lockedOutDocument(): string {
   const document = JSON.parse(readFileSync(path.resolve("tests/fixtures/models/harbourline-edge.json"), "utf8")) as { inboundRules: Array<{ id: string }> };
   const drop = document.inboundRules.filter((rule) => rule.id === "r-drop");
   return JSON.stringify({ ...document, inboundRules: [...drop, ...document.inboundRules.filter((rule) => rule.id !== "r-drop")] }, null, 2);
-}
-
-/** Layout and accessibility at both sizes and schemes; one screenshot per size (laptop light, phone dark). */
-async function checkEverywhere(page: Page, name: string): Promise<string[]> {
-  const problems: string[] = [];
-  for (const size of SIZES) {
-    await page.setViewportSize(size);
-    for (const scheme of ["light", "dark"] as const) {
-      await page.emulateMedia({ colorScheme: scheme });
-      const overflow = await page.evaluate(() => (document.scrollingElement ?? document.documentElement).scrollWidth - window.innerWidth);
-      if (overflow > 0) problems.push(`${name} at ${size.name} px, ${scheme}: scrolls ${overflow} px sideways`);
-      for (const violation of await seriousAccessibilityViolations(page, scheme === "dark" ? ["color-contrast", "link-in-text-block"] : undefined)) problems.push(`${name} at ${size.name} px, ${scheme}: ${violation}`);
-      if ((size.name === "1366") === (scheme === "light")) await screenshot(page, `${name}-${size.name}-${scheme}`);
-    }
-  }
-  await page.setViewportSize(SIZES[0]);
-  await page.emulateMedia({ colorScheme: "light" });
-  return problems;
 }
 
 // The dismissal runs on revision r1; the import that follows makes r2.
@@ -68,7 +44,7 @@ test("An engineer asks to dismiss a high finding; the reviewer confirms it from 
   await expect(activeCard).toContainText("1 dismissal awaits confirmation");
   // The one who asked cannot confirm: no such button for them.
   await expect(card.getByRole("button", { name: /^Confirm dismissal/ })).toHaveCount(0);
-  expect(await checkEverywhere(engineer, "32-dismissal-awaiting")).toEqual([]);
+  expect(await problemsAtEverySize(engineer, "32-dismissal-awaiting", "screenshots")).toEqual([]);
 
   const reviewerContext = await browser.newContext({ storageState: team.members.reviewer.storageState });
   browserProblems.watch(reviewerContext);
@@ -79,7 +55,7 @@ test("An engineer asks to dismiss a high finding; the reviewer confirms it from 
   await expect(reviewer).toHaveURL(/awaiting=mine/);
   await expect(reviewer.getByLabel("Awaiting my confirmation")).toBeChecked();
   await expect(reviewer.getByText(title, { exact: true })).toBeVisible();
-  expect(await checkEverywhere(reviewer, "33-findings-awaiting-my-confirmation")).toEqual([]);
+  expect(await problemsAtEverySize(reviewer, "33-findings-awaiting-my-confirmation", "screenshots")).toEqual([]);
   await reviewer.getByRole("button", { name: `Confirm dismissal of ${title}` }).click();
   await expect(toast(reviewer)).toContainText("it is an accepted risk now and leaves the counts");
   await expect(reviewer.getByRole("heading", { name: "Nothing awaits your confirmation" })).toBeVisible();
@@ -120,7 +96,7 @@ test("An import that locks out the operator networks shows the lockout in words:
   // Like a save in the editor (docs/decisions/017): the lockout guard blocks a direct import, so the engineer is offered the proposal only.
   await expect(page.getByTestId("import-blocked")).toContainText("The lockout guard blocks importing this directly: import it as a proposal, for an admin or owner to decide.");
   await expect(page.getByTestId("import-actions").getByRole("button")).toHaveText(["Import as a proposal"]);
-  expect(await checkEverywhere(page, "30-import-preview-lockout")).toEqual([]);
+  expect(await problemsAtEverySize(page, "30-import-preview-lockout", "screenshots")).toEqual([]);
   await page.context().close();
 
   // An admin: the box, then a written reason.

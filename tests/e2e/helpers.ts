@@ -1,6 +1,6 @@
-import { mkdirSync } from "node:fs";
+import { mkdirSync, readFileSync } from "node:fs";
+import { createRequire } from "node:module";
 import path from "node:path";
-import AxeBuilder from "@axe-core/playwright";
 import { expect, request, test, type Locator, type Page } from "@playwright/test";
 import { makeOncePerRun, sharedFolder } from "./run-once";
 
@@ -8,8 +8,9 @@ const directory = path.resolve("tests/artifacts/screenshots");
 
 /** Saves a full-page screenshot kept as a test artifact (tests/artifacts/screenshots). */
 export async function screenshot(page: Page, name: string): Promise<void> {
-  mkdirSync(directory, { recursive: true });
-  await page.screenshot({ path: path.join(directory, `${name}.png`), fullPage: true });
+  const file = path.join(directory, `${name}.png`);
+  mkdirSync(path.dirname(file), { recursive: true });
+  await page.screenshot({ path: file, fullPage: true });
 }
 
 /** Signs in through the form and waits until the app has taken the user in. */
@@ -64,20 +65,146 @@ export async function chooseNames(scope: Locator, label: string, names: readonly
   for (const name of names) await expect(chosen.getByRole("row", { name })).toBeVisible();
 }
 
+/** The two sizes every page is checked at: a laptop's and a phone's. */
+export const SIZES = [
+  { name: "1366", width: 1366, height: 860 },
+  { name: "390", width: 390, height: 844 },
+] as const;
+export type Size = (typeof SIZES)[number];
+export const SCHEMES = ["light", "dark"] as const;
+export type Scheme = (typeof SCHEMES)[number];
+/** axe rules whose verdict depends on colours (and text size), the only things the scheme changes. */
+export const COLOUR_RULES = ["color-contrast", "link-in-text-block"];
+const WCAG_AA = ["wcag2a", "wcag2aa", "wcag21a", "wcag21aa"];
+/** Marks, for one axe run, what the phone shows differently from the laptop's check. */
+const PHONE_DIFFERENCES = "data-axe-phone-differs";
+
+/** axe itself, put into a page once per document (not once per check, as @axe-core/playwright does). */
+const AXE_SOURCE = readFileSync(createRequire(import.meta.url).resolve("axe-core/axe.min.js"), "utf8");
+type AxeWindow = { axe?: typeof import("axe-core") };
+
 /**
  * axe's serious and critical violations on the page as it is laid out now (WCAG 2.1 A and AA
- * rules, or only `rules` when given), each as "rule: help (first few elements)". Minor and
- * moderate ones are left to review.
+ * rules, or only `rules` when given, or all but `except`; on the elements `within` selects, or the
+ * whole page), each as "rule: help (first few elements)". Minor and moderate ones are left to review.
  */
-export async function seriousAccessibilityViolations(page: Page, rules?: string[], within?: string): Promise<string[]> {
-  // Legacy mode runs axe in the page itself; the default cross-frame mode opens a blank page for
-  // every run to merge frame results, which doubles the time, and the app has no frames.
-  const whole = new AxeBuilder({ page }).setLegacyMode();
-  const builder = within ? whole.include(within) : whole;
-  const results = await (rules ? builder.withRules(rules) : builder.withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa"])).analyze();
-  return results.violations
+export async function seriousAccessibilityViolations(page: Page, rules?: string[], within?: string, except?: string[]): Promise<string[]> {
+  // Reading and compiling axe's 550 kB took about half a second a check on this machine.
+  if (!(await page.evaluate(() => "axe" in window))) await page.evaluate(AXE_SOURCE);
+  const violations = await page.evaluate(
+    async ({ rules, within, except, tags }) => {
+      const { axe } = window as unknown as AxeWindow;
+      if (!axe) throw new Error("axe is not in the page");
+      const results = await axe.run(within ? { include: [[within]] } : document, {
+        runOnly: rules ? { type: "rule", values: rules } : { type: "tag", values: tags },
+        rules: Object.fromEntries((except ?? []).map((rule) => [rule, { enabled: false }])),
+        resultTypes: ["violations"],
+      });
+      return results.violations.map((violation) => ({ id: violation.id, help: violation.help, impact: violation.impact, targets: violation.nodes.map((node) => node.target.join(" ")) }));
+    },
+    { rules, within, except, tags: WCAG_AA },
+  );
+  return violations
     .filter((violation) => violation.impact === "serious" || violation.impact === "critical")
-    .map((violation) => `${violation.id}: ${violation.help} (${violation.nodes.map((node) => node.target.join(" ")).slice(0, 3).join("; ")})`);
+    .map((violation) => `${violation.id}: ${violation.help} (${violation.targets.slice(0, 3).join("; ")})`);
+}
+
+/**
+ * axe at one of the two sizes in one scheme, on the page as it is now. At the laptop's size:
+ * every rule in light, the colour rules in dark (the scheme changes colours only), and how each
+ * visible element looks is remembered. At the phone's size axe looks only at what the phone shows
+ * differently — elements the laptop did not show, or shows with other colours, text size,
+ * opacity or scrolling — with every rule in light and the colour rules in dark: the DOM is the
+ * same, so the rest was checked at the laptop's size (each axe run costs about a second here,
+ * most of it colour contrast). Page-level rules (landmarks, title, language) run at the laptop's
+ * size. Without a laptop check of the scheme on this document first, the phone gets the whole check.
+ */
+export async function accessibilityViolationsAt(page: Page, size: Size, scheme: Scheme): Promise<string[]> {
+  if (size.name === "1366") {
+    const violations = await seriousAccessibilityViolations(page, scheme === "dark" ? COLOUR_RULES : undefined);
+    await rememberLaptopLooks(page, scheme);
+    return violations;
+  }
+  const marked = await page.evaluate(markPhoneDifferences, { scheme, attribute: PHONE_DIFFERENCES });
+  if (marked === null) return seriousAccessibilityViolations(page, scheme === "dark" ? COLOUR_RULES : undefined);
+  if (marked === 0) return [];
+  try {
+    return await seriousAccessibilityViolations(page, scheme === "dark" ? COLOUR_RULES : undefined, `[${PHONE_DIFFERENCES}]`);
+  } finally {
+    await page.evaluate((attribute) => document.querySelectorAll(`[${attribute}]`).forEach((element) => element.removeAttribute(attribute)), PHONE_DIFFERENCES);
+  }
+}
+
+/**
+ * Remembers how each visible element looks at the laptop's size in this scheme, as checked: for a
+ * rendering axe already checked elsewhere in the run, so the phone's check stays a difference.
+ */
+export async function rememberLaptopLooks(page: Page, scheme: Scheme): Promise<void> {
+  await page.evaluate(recordLaptopLooks, scheme);
+}
+
+type LaptopLooks = { laptopLooks?: Partial<Record<Scheme, WeakMap<Element, string>>> };
+
+// Both run in the page (serialised by Playwright), so each carries its own copy of the signature.
+function recordLaptopLooks(scheme: Scheme): void {
+  const signature = (element: Element) => {
+    const style = getComputedStyle(element);
+    const scrolls = /auto|scroll/.test(style.overflowX + style.overflowY) && (element.scrollWidth > element.clientWidth || element.scrollHeight > element.clientHeight);
+    return [style.color, style.backgroundColor, style.backgroundImage, style.opacity, style.fontSize, style.fontWeight, style.textShadow, style.filter, style.mixBlendMode, style.textDecorationLine, scrolls].join("|");
+  };
+  const seen = new WeakMap<Element, string>();
+  for (const element of document.body.querySelectorAll("*")) if (element.checkVisibility({ checkOpacity: true, checkVisibilityCSS: true })) seen.set(element, signature(element));
+  const store = window as unknown as LaptopLooks;
+  store.laptopLooks = { ...store.laptopLooks, [scheme]: seen };
+}
+
+/** Marks the outermost visible elements the laptop did not see so; null when it saw none of this scheme. */
+function markPhoneDifferences({ scheme, attribute }: { scheme: Scheme; attribute: string }): number | null {
+  const signature = (element: Element) => {
+    const style = getComputedStyle(element);
+    const scrolls = /auto|scroll/.test(style.overflowX + style.overflowY) && (element.scrollWidth > element.clientWidth || element.scrollHeight > element.clientHeight);
+    return [style.color, style.backgroundColor, style.backgroundImage, style.opacity, style.fontSize, style.fontWeight, style.textShadow, style.filter, style.mixBlendMode, style.textDecorationLine, scrolls].join("|");
+  };
+  const seen = (window as unknown as LaptopLooks).laptopLooks?.[scheme];
+  if (!seen) return null;
+  let marked = 0;
+  for (const element of document.body.querySelectorAll("*")) {
+    if (!element.checkVisibility({ checkOpacity: true, checkVisibilityCSS: true })) continue;
+    if (seen.get(element) === signature(element) || element.parentElement?.closest(`[${attribute}]`)) continue;
+    element.setAttribute(attribute, "");
+    marked += 1;
+  }
+  return marked;
+}
+
+/**
+ * The page at both sizes and in both schemes: how far it scrolls sideways (it must not) and axe's
+ * serious violations (`accessibilityViolationsAt`), as messages naming the place; a full-page
+ * screenshot per size (laptop in light, phone in dark) when `shots` asks for them. Ends in light
+ * at the size it started at.
+ */
+export async function problemsAtEverySize(page: Page, name: string, shots?: "screenshots"): Promise<string[]> {
+  const before = page.viewportSize() ?? SIZES[0];
+  const problems: string[] = [];
+  for (const size of SIZES) {
+    await page.setViewportSize(size);
+    for (const scheme of SCHEMES) {
+      await page.emulateMedia({ colorScheme: scheme });
+      const where = `${name} at ${size.name} px, ${scheme}`;
+      const overflow = await sidewaysOverflow(page);
+      if (overflow > 0) problems.push(`${where}: the page scrolls ${overflow} px sideways`);
+      for (const violation of await accessibilityViolationsAt(page, size, scheme)) problems.push(`${where}: ${violation}`);
+      if (shots && (size.name === "1366") === (scheme === "light")) await screenshot(page, `${name}-${size.name}-${scheme}`);
+    }
+  }
+  await page.setViewportSize(before);
+  await page.emulateMedia({ colorScheme: "light" });
+  return problems;
+}
+
+/** How far the document scrolls sideways: 0 when nothing sticks out of the viewport. */
+export async function sidewaysOverflow(page: Page): Promise<number> {
+  return page.evaluate(() => (document.scrollingElement ?? document.documentElement).scrollWidth - window.innerWidth);
 }
 
 /** Waits until the page's scripts have hydrated it (the root layout marks <html>). */

@@ -7,7 +7,7 @@ import { deviceNavGroups } from "#app/components/device/device-nav";
 import { DEVICE_SECTIONS } from "#app/components/device/sections";
 import { expect, test } from "./fixtures";
 import { claimOnce, makeOncePerRun, sharedFolder } from "./run-once";
-import { hydrated, seriousAccessibilityViolations } from "./helpers";
+import { accessibilityViolationsAt, hydrated, rememberLaptopLooks, SCHEMES, SIZES, sidewaysOverflow } from "./helpers";
 import { createProposal, createTeam, type Team } from "./team";
 import { createTrainingPages, type TrainingPages } from "./training-team";
 import { recordFieldCheck } from "./observations";
@@ -26,19 +26,13 @@ import { recordFieldCheck } from "./observations";
 // runs on every size and scheme of a page for one of the roles that may open it (the page's
 // lead, taken in turn, so the roles share the work), and for the other roles on their own
 // rendering at 1366 px in light (all rules, colour contrast included) — what differs by role is
-// which controls the page shows, not its layout or colours. The dark scheme changes colours
-// only, so axe's colour rules run there and every rule runs in light; and a rendering that was
-// already checked in this run (same main content and navigation, any role, either worker) is
-// not checked by axe again.
+// which controls the page shows, not its layout or colours. At each size and scheme axe runs as
+// `accessibilityViolationsAt` says: the dark scheme changes colours only, so axe's colour rules
+// run there and every rule runs in light; at the phone's size axe looks only at what the phone
+// shows differently from the laptop. A rendering that was already checked in this run
+// (same main content and navigation, any role, either worker) is not checked by axe again.
 
-const SIZES = [
-  { name: "1366", width: 1366, height: 860 },
-  { name: "390", width: 390, height: 844 },
-] as const;
-const SCHEMES = ["light", "dark"] as const;
 const ARTIFACTS = path.resolve("tests/artifacts/sweep");
-/** axe rules whose verdict depends on colours, the only thing the scheme changes. */
-const COLOUR_RULES = ["color-contrast", "link-in-text-block"];
 
 /** A key for what axe would see on the page now, apart from the signed-in person's own name in the top bar. */
 async function renderingKey(page: Page, where: string): Promise<string> {
@@ -142,11 +136,6 @@ function artifactName(team: Team, url: string): string {
     .replace(/^\//, "")
     .replace(/[^a-z0-9]+/gi, "-")
     .replace(/-+$/, "");
-}
-
-/** How far the document scrolls sideways: 0 when nothing sticks out of the viewport. */
-async function sidewaysOverflow(page: Page): Promise<number> {
-  return page.evaluate(() => (document.scrollingElement ?? document.documentElement).scrollWidth - window.innerWidth);
 }
 
 /**
@@ -255,7 +244,10 @@ for (const part of PARTS) {
             if (overflow > 0) findings.push(`${where}: the page scrolls ${overflow} px sideways`);
             if (!lead && (size.name !== "1366" || scheme !== "light")) continue;
             if (claimOnce(shared, await renderingKey(page, where))) {
-              for (const violation of await seriousAccessibilityViolations(page, scheme === "dark" ? COLOUR_RULES : undefined)) findings.push(`${where}: ${violation}`);
+              for (const violation of await accessibilityViolationsAt(page, size, scheme)) findings.push(`${where}: ${violation}`);
+            } else if (size.name === "1366") {
+              // Checked already by another role or worker: how it looks counts as seen at the laptop's size all the same.
+              await rememberLaptopLooks(page, scheme);
             }
             // Two of the four kept, by the page's lead: the laptop in light and the phone in dark show both sizes and both schemes.
             if (lead && (size.name === "1366") === (scheme === "light")) await page.screenshot({ path: path.join(folder, `${artifactName(team, url)}-${size.name}-${scheme}.png`), fullPage: true });

@@ -5,7 +5,7 @@ import type { APIRequest, APIRequestContext, Browser, Page } from "@playwright/t
 import type { Role } from "#models/roles";
 import { formatInstant } from "#server/engine/format";
 import { expect, test, type BrowserProblems } from "./fixtures";
-import { hydrated, outboxPath, screenshot, seriousAccessibilityViolations, signIn, toast } from "./helpers";
+import { COLOUR_RULES, hydrated, outboxPath, screenshot, seriousAccessibilityViolations, sidewaysOverflow, signIn, toast } from "./helpers";
 import { createTeam, outboxDirectory, type Team } from "./team";
 import { waitForMail } from "../support/outbox";
 
@@ -28,9 +28,6 @@ const SIZES = [
   { name: "390", width: 390, height: 844, scheme: "dark" },
 ] as const;
 type Size = (typeof SIZES)[number];
-
-/** axe rules whose verdict depends on colours, the only thing the dark scheme changes. */
-const COLOUR_RULES = ["color-contrast", "link-in-text-block"];
 
 /** A wall-clock time in the zone, as a datetime-local field takes it. */
 function wallClock(at: DateTime, zone: string): string {
@@ -73,8 +70,7 @@ async function openDevicePage(page: Page, name: string): Promise<void> {
  */
 async function keyStep(page: Page, size: Size, name: string): Promise<void> {
   await hydrated(page);
-  const overflow = await page.evaluate(() => (document.scrollingElement ?? document.documentElement).scrollWidth - window.innerWidth);
-  expect(overflow, `${name} at ${size.name} px scrolls sideways`).toBeLessThanOrEqual(0);
+  expect(await sidewaysOverflow(page), `${name} at ${size.name} px scrolls sideways`).toBeLessThanOrEqual(0);
   expect(await seriousAccessibilityViolations(page, size.scheme === "dark" ? COLOUR_RULES : undefined), `${name} at ${size.name} px, ${size.scheme}`).toEqual([]);
   await screenshot(page, `${name}-${size.name}-${size.scheme}`);
 }

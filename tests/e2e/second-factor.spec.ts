@@ -1,8 +1,6 @@
-import { mkdirSync } from "node:fs";
-import path from "node:path";
 import type { Page } from "@playwright/test";
 import { expect, test } from "./fixtures";
-import { hydrated, seriousAccessibilityViolations, toast } from "./helpers";
+import { hydrated, problemsAtEverySize, toast } from "./helpers";
 import { createTeam, outboxDirectory } from "./team";
 import { waitForMail } from "../support/outbox";
 import { successiveCodes } from "../support/totp";
@@ -14,33 +12,6 @@ test.describe.configure({ mode: "parallel" });
 // test computes from the secret the page shows (as an authenticator app would, RFC 6238), the
 // two-step sign-in with a code and with a recovery code, and an organisation's requirement.
 
-const SHOTS = path.resolve("tests/artifacts/screenshots/second-factor");
-const SIZES = [
-  { name: "1366", width: 1366, height: 860 },
-  { name: "390", width: 390, height: 844 },
-] as const;
-
-/**
- * The page at 1366 and 390 px, light and dark: no sideways scroll, no serious axe finding
- * (colour rules in dark), and a screenshot of each.
- */
-async function everyWay(page: Page, name: string): Promise<void> {
-  mkdirSync(SHOTS, { recursive: true });
-  const before = page.viewportSize();
-  for (const size of SIZES) {
-    await page.setViewportSize(size);
-    for (const scheme of ["light", "dark"] as const) {
-      await page.emulateMedia({ colorScheme: scheme });
-      const overflow = await page.evaluate(() => (document.scrollingElement ?? document.documentElement).scrollWidth - window.innerWidth);
-      expect(overflow, `${name} at ${size.name} px, ${scheme}: sideways scroll`).toBe(0);
-      expect(await seriousAccessibilityViolations(page, scheme === "dark" ? ["color-contrast", "link-in-text-block"] : undefined), `${name} at ${size.name} px, ${scheme}`).toEqual([]);
-      await page.screenshot({ path: path.join(SHOTS, `${name}-${size.name}-${scheme}.png`), fullPage: true });
-    }
-  }
-  await page.emulateMedia({ colorScheme: "light" });
-  if (before) await page.setViewportSize(before);
-}
-
 /** On the second-factor page: draw a secret, read it as an app would, confirm with a code; returns the codes source and the recovery codes shown. */
 async function enrolHere(page: Page, shotName?: string): Promise<{ next: () => string; recoveryCodes: string[] }> {
   await page.getByRole("button", { name: "Set up a second factor" }).click();
@@ -51,7 +22,7 @@ async function enrolHere(page: Page, shotName?: string): Promise<{ next: () => s
   const typed = (await secretText.textContent())!.replace(/\s+/g, "");
   expect(typed).toMatch(/^[A-Z2-7]{32}$/);
   await hydrated(page);
-  if (shotName) await everyWay(page, shotName);
+  if (shotName) expect(await problemsAtEverySize(page, `second-factor/${shotName}`, "screenshots")).toEqual([]);
   const next = successiveCodes(typed);
   await page.getByLabel("Code from the app").fill(next());
   await page.getByRole("button", { name: "Confirm and turn on" }).click();
@@ -95,16 +66,16 @@ test("A person turns on a second factor from the shown secret, then signs in wit
   await page.getByRole("link", { name: "Set up a second factor" }).click();
   await expect(page).toHaveURL(/\/account\/second-factor$/);
   await hydrated(page);
-  await everyWay(page, "01-off");
+  expect(await problemsAtEverySize(page, `second-factor/${"01-off"}`, "screenshots")).toEqual([]);
   const { next, recoveryCodes } = await enrolHere(page, "02-enrol");
-  await everyWay(page, "03-recovery-codes");
+  expect(await problemsAtEverySize(page, `second-factor/${"03-recovery-codes"}`, "screenshots")).toEqual([]);
   await page.getByRole("link", { name: "I have saved them — continue" }).click();
   await expect(page).toHaveURL(new RegExp(`/o/${slug}`));
 
   await signOutHere(page);
   await passwordStep(page, email, password);
   await hydrated(page);
-  await everyWay(page, "04-second-step");
+  expect(await problemsAtEverySize(page, `second-factor/${"04-second-step"}`, "screenshots")).toEqual([]);
   await page.getByLabel("Code").fill(next());
   await page.getByRole("button", { name: "Continue" }).click();
   await expect(page).toHaveURL(new RegExp(`/o/${slug}`));
@@ -120,7 +91,7 @@ test("A person turns on a second factor from the shown secret, then signs in wit
   await page.goto("/account/second-factor");
   await expect(page.getByText(/Recovery codes left:\s*9/)).toBeVisible();
   await hydrated(page);
-  await everyWay(page, "05-on");
+  expect(await problemsAtEverySize(page, `second-factor/${"05-on"}`, "screenshots")).toEqual([]);
 });
 
 test("An organisation that requires a second factor sends a member without one to enrol before anything else", async ({ browser, playwright, browserProblems }, testInfo) => {
@@ -143,7 +114,7 @@ test("An organisation that requires a second factor sends a member without one t
   await expect(requirement).toContainText(`${team.members.engineer.name} (engineer)`);
   await requirement.getByRole("checkbox", { name: "Require a second factor of every member." }).check();
   await hydrated(owner);
-  await everyWay(owner, "06-organisation-requirement");
+  expect(await problemsAtEverySize(owner, `second-factor/${"06-organisation-requirement"}`, "screenshots")).toEqual([]);
   await requirement.getByRole("button", { name: "Save the requirement" }).click();
   await expect(toast(owner)).toContainText("Every member now needs a second factor");
 
@@ -157,7 +128,7 @@ test("An organisation that requires a second factor sends a member without one t
   await engineer.goto(team.device.path);
   await expect(engineer).toHaveURL(/\/account\/second-factor$/);
   await hydrated(engineer);
-  await everyWay(engineer, "07-enrolment-required");
+  expect(await problemsAtEverySize(engineer, `second-factor/${"07-enrolment-required"}`, "screenshots")).toEqual([]);
   await enrolHere(engineer);
   await engineer.getByRole("link", { name: "I have saved them — continue" }).click();
   await engineer.goto(`/o/${team.slug}/devices`);
@@ -190,7 +161,7 @@ test("An admin resets a member's second factor from the members page, after conf
   await row.getByRole("button", { name: `Reset the second factor of ${member.name}` }).click();
   const dialog = admin.getByRole("dialog", { name: `Reset the second factor of ${member.name}?` });
   await expect(dialog).toBeVisible();
-  await everyWay(admin, "08-admin-reset-dialog");
+  expect(await problemsAtEverySize(admin, `second-factor/${"08-admin-reset-dialog"}`, "screenshots")).toEqual([]);
   // Not confirmed: refused beside the box, and nothing changes.
   browserProblems.expect(400, /\/settings\/members/);
   await dialog.getByRole("button", { name: "Reset second factor" }).click();
@@ -200,7 +171,7 @@ test("An admin resets a member's second factor from the members page, after conf
   await expect(toast(admin)).toContainText(`Second factor of ${member.name} reset: signed out everywhere and told by e-mail.`);
   await expect(row.getByRole("cell", { name: "none", exact: true })).toBeVisible();
   await hydrated(admin);
-  await everyWay(admin, "09-admin-reset-done");
+  expect(await problemsAtEverySize(admin, `second-factor/${"09-admin-reset-done"}`, "screenshots")).toEqual([]);
 
   // The member's browser is signed out; the e-mail says what happened and links to set up a new one.
   await memberPage.goto(`/o/${team.slug}/devices`);

@@ -1,8 +1,7 @@
-import AxeBuilder from "@axe-core/playwright";
 import type { Page } from "@playwright/test";
 import { expect, test } from "./fixtures";
 import { PIER_GW, QUAY_EDGE } from "../support/shared-objects";
-import { hydrated, screenshot, toast } from "./helpers";
+import { hydrated, screenshot, seriousAccessibilityViolations, toast } from "./helpers";
 
 // Changing a shared address object in the browser: the review shows each device that uses it and
 // how its exposure changes, at 1366 px and 390 px, light and dark; confirming gives each device
@@ -59,9 +58,7 @@ async function expectContentFits(page: Page) {
 }
 
 async function expectNoSeriousViolations(page: Page) {
-  const results = await new AxeBuilder({ page }).include('[data-testid="shared-change-review"]').withTags(["wcag2a", "wcag2aa", "wcag21a", "wcag21aa"]).analyze();
-  const serious = results.violations.filter((violation) => violation.impact === "serious" || violation.impact === "critical");
-  expect(serious.map((violation) => `${violation.id}: ${violation.help} (${violation.nodes.map((node) => node.target.join(" ")).slice(0, 3).join("; ")})`)).toEqual([]);
+  expect(await seriousAccessibilityViolations(page, undefined, '[data-testid="shared-change-review"]')).toEqual([]);
 }
 
 test("An owner changes a shared address object, reviews each device's exposure change, and confirms new revisions", async ({ page }) => {

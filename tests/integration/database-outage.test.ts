@@ -57,8 +57,9 @@ beforeAll(async () => {
     env: { ...process.env, NODE_ENV: "production", PORT: String(port), APP_ORIGIN: baseUrl, DATABASE_URL: relayed.toString(), TRUST_PROXY: "1", SALLYPORT_FAKE_SMTP: "0" },
     stdio: ["ignore", "ignore", "inherit"],
   });
-  expect(await waitFor(async () => (await fetch(`${baseUrl}/healthz`)).ok, 30_000)).toBe(true);
-}, 60_000);
+  // A second app process starting beside the browser suite on a busy 2-core machine took over 30 s.
+  expect(await waitFor(async () => (await fetch(`${baseUrl}/healthz`)).ok, 90_000)).toBe(true);
+}, 120_000);
 
 afterAll(async () => {
   app?.kill("SIGTERM");

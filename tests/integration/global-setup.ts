@@ -48,7 +48,7 @@ export default async function setup(project: TestProject) {
     },
     stdio: ["ignore", "inherit", "inherit"],
   });
-  const deadline = Date.now() + 30_000;
+  const deadline = Date.now() + 90_000;
   for (;;) {
     try {
       const response = await fetch(`${baseUrl}/healthz`);
@@ -56,7 +56,7 @@ export default async function setup(project: TestProject) {
     } catch {
       // not up yet
     }
-    if (Date.now() > deadline) throw new Error("the app server did not answer /healthz within 30 s (is build/ present? run `npm run build`)");
+    if (Date.now() > deadline) throw new Error("the app server did not answer /healthz within 90 s (is build/ present? run `npm run build`)");
     await new Promise((resolve) => setTimeout(resolve, 200));
   }
   project.provide("baseUrl", baseUrl);
