@@ -58,8 +58,8 @@ run_suite "Unit tests (Vitest)" npx vitest run --project unit
 build_app
 export NODE_ENV=production
 if [ -n "$browser_database_urls" ]; then
-  # Side by side: the integration suite leaves most of a core idle (one file at a time, mostly
-  # waiting on its server), so together they take little longer than the browser suite alone.
+  # Side by side: integration runs one file at a time and waits on its server much of the time.
+  # Measured, this saves only about two minutes (the browser suite alone nearly fills both cores).
   suites_started=$SECONDS
   run_suites_together "Integration tests (Vitest, real PostgreSQL)" "Browser tests (Playwright, Debian's Chromium)" \
     "npx vitest run --project integration" "env $browser_database_urls npx playwright test"

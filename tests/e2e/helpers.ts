@@ -85,24 +85,22 @@ type AxeWindow = { axe?: typeof import("axe-core") };
 
 /**
  * axe's serious and critical violations on the page as it is laid out now (WCAG 2.1 A and AA
- * rules, or only `rules` when given, or all but `except`; on the elements `within` selects, or the
- * whole page), each as "rule: help (first few elements)". Minor and moderate ones are left to review.
+ * rules, or only `rules` when given; on the elements `within` selects, or the whole page), each as "rule: help (first few elements)". Minor and moderate ones are left to review.
  */
-export async function seriousAccessibilityViolations(page: Page, rules?: string[], within?: string, except?: string[]): Promise<string[]> {
+export async function seriousAccessibilityViolations(page: Page, rules?: string[], within?: string): Promise<string[]> {
   // Reading and compiling axe's 550 kB took about half a second a check on this machine.
   if (!(await page.evaluate(() => "axe" in window))) await page.evaluate(AXE_SOURCE);
   const violations = await page.evaluate(
-    async ({ rules, within, except, tags }) => {
+    async ({ rules, within, tags }) => {
       const { axe } = window as unknown as AxeWindow;
       if (!axe) throw new Error("axe is not in the page");
       const results = await axe.run(within ? { include: [[within]] } : document, {
         runOnly: rules ? { type: "rule", values: rules } : { type: "tag", values: tags },
-        rules: Object.fromEntries((except ?? []).map((rule) => [rule, { enabled: false }])),
         resultTypes: ["violations"],
       });
       return results.violations.map((violation) => ({ id: violation.id, help: violation.help, impact: violation.impact, targets: violation.nodes.map((node) => node.target.join(" ")) }));
     },
-    { rules, within, except, tags: WCAG_AA },
+    { rules, within, tags: WCAG_AA },
   );
   return violations
     .filter((violation) => violation.impact === "serious" || violation.impact === "critical")
@@ -115,8 +113,8 @@ export async function seriousAccessibilityViolations(page: Page, rules?: string[
  * visible element looks is remembered. At the phone's size axe looks only at what the phone shows
  * differently — elements the laptop did not show, or shows with other colours, text size,
  * opacity or scrolling — with every rule in light and the colour rules in dark: the DOM is the
- * same, so the rest was checked at the laptop's size (each axe run costs about a second here,
- * most of it colour contrast). Page-level rules (landmarks, title, language) run at the laptop's
+ * same, so the rest was checked at the laptop's size (colour contrast, the costly rule, over a whole
+ * page took 1–10 s a run here). Page-level rules (landmarks, title, language) run at the laptop's
  * size. Without a laptop check of the scheme on this document first, the phone gets the whole check.
  */
 export async function accessibilityViolationsAt(page: Page, size: Size, scheme: Scheme): Promise<string[]> {
@@ -125,7 +123,7 @@ export async function accessibilityViolationsAt(page: Page, size: Size, scheme: 
     await rememberLaptopLooks(page, scheme);
     return violations;
   }
-  const marked = await page.evaluate(markPhoneDifferences, { scheme, attribute: PHONE_DIFFERENCES });
+  const marked = await page.evaluate(compareWithLaptop, { scheme, mark: PHONE_DIFFERENCES });
   if (marked === null) return seriousAccessibilityViolations(page, scheme === "dark" ? COLOUR_RULES : undefined);
   if (marked === 0) return [];
   try {
@@ -140,38 +138,32 @@ export async function accessibilityViolationsAt(page: Page, size: Size, scheme: 
  * rendering axe already checked elsewhere in the run, so the phone's check stays a difference.
  */
 export async function rememberLaptopLooks(page: Page, scheme: Scheme): Promise<void> {
-  await page.evaluate(recordLaptopLooks, scheme);
+  await page.evaluate(compareWithLaptop, { scheme, mark: null });
 }
 
-type LaptopLooks = { laptopLooks?: Partial<Record<Scheme, WeakMap<Element, string>>> };
-
-// Both run in the page (serialised by Playwright), so each carries its own copy of the signature.
-function recordLaptopLooks(scheme: Scheme): void {
-  const signature = (element: Element) => {
+/**
+ * Runs in the page (serialised by Playwright, so self-contained). Without `mark`: remembers how
+ * each visible element looks in this scheme. With it: marks the outermost visible elements the
+ * laptop did not see so, and counts them; null when the laptop saw nothing in this scheme.
+ */
+function compareWithLaptop({ scheme, mark }: { scheme: Scheme; mark: string | null }): number | null {
+  const looks = (element: Element) => {
     const style = getComputedStyle(element);
     const scrolls = /auto|scroll/.test(style.overflowX + style.overflowY) && (element.scrollWidth > element.clientWidth || element.scrollHeight > element.clientHeight);
     return [style.color, style.backgroundColor, style.backgroundImage, style.opacity, style.fontSize, style.fontWeight, style.textShadow, style.filter, style.mixBlendMode, style.textDecorationLine, scrolls].join("|");
   };
-  const seen = new WeakMap<Element, string>();
-  for (const element of document.body.querySelectorAll("*")) if (element.checkVisibility({ checkOpacity: true, checkVisibilityCSS: true })) seen.set(element, signature(element));
-  const store = window as unknown as LaptopLooks;
-  store.laptopLooks = { ...store.laptopLooks, [scheme]: seen };
-}
-
-/** Marks the outermost visible elements the laptop did not see so; null when it saw none of this scheme. */
-function markPhoneDifferences({ scheme, attribute }: { scheme: Scheme; attribute: string }): number | null {
-  const signature = (element: Element) => {
-    const style = getComputedStyle(element);
-    const scrolls = /auto|scroll/.test(style.overflowX + style.overflowY) && (element.scrollWidth > element.clientWidth || element.scrollHeight > element.clientHeight);
-    return [style.color, style.backgroundColor, style.backgroundImage, style.opacity, style.fontSize, style.fontWeight, style.textShadow, style.filter, style.mixBlendMode, style.textDecorationLine, scrolls].join("|");
-  };
-  const seen = (window as unknown as LaptopLooks).laptopLooks?.[scheme];
+  const visible = [...document.body.querySelectorAll("*")].filter((element) => element.checkVisibility({ checkOpacity: true, checkVisibilityCSS: true }));
+  const store = window as unknown as { laptopLooks?: Partial<Record<Scheme, WeakMap<Element, string>>> };
+  if (mark === null) {
+    store.laptopLooks = { ...store.laptopLooks, [scheme]: new WeakMap(visible.map((element) => [element, looks(element)])) };
+    return visible.length;
+  }
+  const seen = store.laptopLooks?.[scheme];
   if (!seen) return null;
   let marked = 0;
-  for (const element of document.body.querySelectorAll("*")) {
-    if (!element.checkVisibility({ checkOpacity: true, checkVisibilityCSS: true })) continue;
-    if (seen.get(element) === signature(element) || element.parentElement?.closest(`[${attribute}]`)) continue;
-    element.setAttribute(attribute, "");
+  for (const element of visible) {
+    if (seen.get(element) === looks(element) || element.parentElement?.closest(`[${mark}]`)) continue;
+    element.setAttribute(mark, "");
     marked += 1;
   }
   return marked;
