@@ -19,9 +19,10 @@ run_migrations_and_seed
 # sign-up throttle counts per database. With a given DATABASE_URL the two suites take turns on it.
 browser_database_urls=""
 if [ -z "$given_database_url" ]; then
-  browser_database_urls=$(unset DATABASE_URL MIGRATION_DATABASE_URL; test_database="${SALLYPORT_TEST_DB_NAME:-sallyport_test}"; ensure_database "${test_database%_test}_browser_test" >&2 && echo "DATABASE_URL=$DATABASE_URL MIGRATION_DATABASE_URL=$MIGRATION_DATABASE_URL") \
+  # A copy of the test database just migrated and seeded, not a second migration and seed.
+  test_database="${SALLYPORT_TEST_DB_NAME:-sallyport_test}"
+  browser_database_urls=$(unset DATABASE_URL MIGRATION_DATABASE_URL; copy_database "$test_database" "${test_database%_test}_browser_test" >&2 && echo "DATABASE_URL=$DATABASE_URL MIGRATION_DATABASE_URL=$MIGRATION_DATABASE_URL") \
     || fail "could not make the browser suite's database" "read the error above"
-  (export $browser_database_urls; run_migrations_and_seed) || exit 1
 fi
 cd "$ROOT"
 
