@@ -32,7 +32,7 @@ async function freshDatabase(): Promise<string> {
   delete env.DATABASE_URL;
   delete env.MIGRATION_DATABASE_URL;
   const { stdout } = await execFileAsync("bash", ["-c", `source server/setup/lib.sh >/dev/null && ensure_postgres_cluster >/dev/null && ensure_database "$1" >/dev/null \
-    && npx tsx server/db/cli.ts reset >/dev/null && npx tsx server/db/cli.ts migrate >/dev/null && echo "$DATABASE_URL"`, "fresh", database], { env });
+    && npx tsx server/db/cli.ts reset migrate >/dev/null && echo "$DATABASE_URL"`, "fresh", database], { env });
   return stdout.trim().split("\n").at(-1)!;
 }
 
