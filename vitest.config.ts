@@ -14,6 +14,11 @@ export default defineConfig({
           // Vitest's default is one worker fewer than the cores: a single one on a 2-core machine.
           // The files share nothing, so both cores work (docs in DEVELOPERS.md, "Tests").
           maxWorkers: 2,
+          // The files share no mutable module state (no mocks, no stubbed environment; the engine's
+          // caches are keyed by the objects they describe), so each worker imports the sources once
+          // instead of once per file: measured 2026-12-03 at load 6–12, 142 s of CPU instead of 202
+          // (imports 34 s instead of 99).
+          isolate: false,
         },
       },
       {

@@ -134,7 +134,7 @@ describe("the bundled CLI", () => {
     }
   });
 
-  test("the launcher runs the TypeScript sources when told to, with the same answer", async () => {
+  test("the launcher runs the TypeScript sources when told to, with the same answer", { timeout: 60_000 }, async () => {
     const args = ["validate", join(FIXTURES, "harbourline-edge.json"), "--json"];
     const fromSource = spawnSync(process.execPath, [join(ROOT, "server/cli/sallyport.mjs"), ...args], { cwd: ROOT, encoding: "utf8", env: { ...process.env, SALLYPORT_CLI_FROM_SOURCE: "1" } });
     const out: string[] = [];
