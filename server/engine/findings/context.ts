@@ -403,7 +403,7 @@ export class FindingContext {
     for (const { iface, to } of this.arrivals) {
       if (rule.iface !== -1 && rule.iface !== iface) continue;
       const target = engine.addresses[to];
-      if (!contains(rangesOf(rule.destinations, target.family), target.value)) continue;
+      if (this.#destinationHolds(rule.destinations)[to] === 0) continue;
       const source = engine.firstSourceOf(position, target.family);
       if (source === undefined) continue;
       for (const c of engine.classes) {
@@ -413,6 +413,20 @@ export class FindingContext {
       }
     }
     return undefined;
+  }
+
+  /** Per destination set (rules share them): 1 for each device address it holds. */
+  #holds = new WeakMap<AddressSet, Uint8Array>();
+
+  #destinationHolds(destinations: AddressSet): Uint8Array {
+    let held = this.#holds.get(destinations);
+    if (held === undefined) {
+      const addresses = this.engine.addresses;
+      held = new Uint8Array(addresses.length);
+      for (let to = 0; to < addresses.length; to++) if (contains(rangesOf(destinations, addresses[to].family), addresses[to].value)) held[to] = 1;
+      this.#holds.set(destinations, held);
+    }
+    return held;
   }
 
   /** A probe for which the rule is the first match (where it decides). Undefined when it never is. */
@@ -503,7 +517,14 @@ export class FindingContext {
     // Slots already given their first place: most runs are of rules already placed, skipped at once.
     const placed = new Uint8Array(engine.slotCount);
     let left = censusOf(engine).owning.reduce((n, count) => (count > 0 ? n + 1 : n), 0);
+    // Compiled afresh, cells with the same candidate list (and family) share their partitions: only the first such cell is looked at.
+    const lists = engine.incrementalBasis === undefined ? new Set<number>() : null;
     for (let cell = 0; cell < cells.count && left > 0; cell++) {
+      if (lists !== null) {
+        const list = engine.candidateRules(cells.iface[cell], cells.to[cell], cells.cls[cell]).id * 2 + (engine.addresses[cells.to[cell]].family === 4 ? 0 : 1);
+        if (lists.has(list)) continue;
+        lists.add(list);
+      }
       const { iface, to, cls, partitions } = cellPartitions(engine, cells, cell);
       for (let slice = 0; slice < partitions.length; slice++) {
         const rules = partitions[slice];
