@@ -400,16 +400,21 @@ export class FindingContext {
     const rule = engine.rules[position];
     const slices = engine.week.slices;
     const activeSlice = Math.max(0, rule.schedule < 0 ? 0 : slices.findIndex((slice) => slice.active[rule.schedule]));
-    for (const { iface, to } of this.arrivals) {
-      if (rule.iface !== -1 && rule.iface !== iface) continue;
-      const target = engine.addresses[to];
-      if (this.#destinationHolds(rule.destinations)[to] === 0) continue;
-      const source = engine.firstSourceOf(position, target.family);
-      if (source === undefined) continue;
-      for (const c of engine.classes) {
-        const service = this.#serviceTextFor(position, c.index);
-        if (service === undefined) continue;
-        return this.probe(iface, to, c.index, target.family, source, activeSlice, service);
+    const held = this.#destinationHolds(rule.destinations);
+    // The arrivals in their order (interface by interface), only the rule's interface's when it names one.
+    const destinations = this.#destinations;
+    const last = rule.iface === -1 ? destinations.length - 1 : rule.iface;
+    for (let iface = rule.iface === -1 ? 0 : rule.iface; iface <= last; iface++) {
+      for (const to of destinations[iface]) {
+        if (held[to] === 0) continue;
+        const target = engine.addresses[to];
+        const source = engine.firstSourceOf(position, target.family);
+        if (source === undefined) continue;
+        for (const c of engine.classes) {
+          const service = this.#serviceTextFor(position, c.index);
+          if (service === undefined) continue;
+          return this.probe(iface, to, c.index, target.family, source, activeSlice, service);
+        }
       }
     }
     return undefined;
