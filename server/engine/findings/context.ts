@@ -119,9 +119,10 @@ export interface WitnessAnswer {
 }
 
 export class FindingContext {
-  #exposure: Map<string, ServiceExposure> | undefined;
-  /** Per interface × service, the distinct outcome runs the exposure was computed from (a later context re-uses equal ones). */
-  #exposureInputs: Map<string, readonly Runs[]> | undefined;
+  /** Per interface × catalogue service asked about: its exposure, null when nothing answers. */
+  #exposure = new Map<string, ServiceExposure | null>();
+  /** Per interface × service asked about, the distinct outcome runs the exposure was computed from (a later context re-uses equal ones). */
+  #exposureInputs = new Map<string, readonly Runs[]>();
   #operators: AddressSet | undefined;
   #firstMatch: Set<number> | undefined;
   #loginReachable: AddressSet | undefined;
@@ -228,60 +229,62 @@ export class FindingContext {
     return this.#loginReachable;
   }
 
-  /** Non-private exposure of interface × catalogue service, over every arrival and slice; undefined when nothing answers. */
+  /**
+   * Non-private exposure of interface × catalogue service, over every arrival and slice;
+   * undefined when nothing answers. Computed for the interface × service asked about only:
+   * the checks ask where the answer can hold a finding (a listened service of theirs).
+   */
   exposure(iface: number, cls: number): ServiceExposure | undefined {
-    this.#exposure ??= this.#computeExposure();
-    return this.#exposure.get(`${iface}|${cls}`);
+    const key = `${iface}|${cls}`;
+    let known = this.#exposure.get(key);
+    if (known === undefined) {
+      known = this.#exposureOf(iface, cls, key) ?? null;
+      this.#exposure.set(key, known);
+    }
+    return known ?? undefined;
   }
 
-  #computeExposure(): Map<string, ServiceExposure> {
+  /** Whether the catalogue service listens on the interface (unlistened, no login or echo reply answers). */
+  listens(iface: number, cls: number): boolean {
+    const service = this.engine.classes[cls].service;
+    return service !== null && this.engine.listening[iface].has(service.name);
+  }
+
+  #exposureOf(iface: number, cls: number, key: string): ServiceExposure | undefined {
     const engine = this.engine;
-    const previous = this.#basis;
-    const basis = previous === undefined ? undefined : previous.#exposureInputs;
-    const basisExposure = previous === undefined ? undefined : previous.#exposure;
-    // After a rule edit, an interface × service none of whose cells changed keeps the basis's exposure.
-    const incremental = engine.incrementalBasis !== undefined && basis !== undefined && basisExposure !== undefined;
-    const inputs = new Map<string, readonly Runs[]>();
-    const out = new Map<string, ServiceExposure>();
-    const destinations = this.#destinations;
-    for (let iface = 0; iface < engine.interfaceAddresses.length; iface++) {
-      for (let cls = 0; cls < engine.catalogue.length; cls++) {
-        const key = `${iface}|${cls}`;
-        if (incremental && this.#serviceUnchanged(iface, cls)) {
-          const kept = basis.get(key);
-          if (kept !== undefined) {
-            inputs.set(key, kept);
-            const exposure = basisExposure.get(key);
-            if (exposure !== undefined) out.set(key, exposure);
-            continue;
-          }
-        }
-        // Many cells see the same outcome runs: each distinct list of candidate rules, and each distinct runs object, counts once.
-        const lists = { 4: [] as Runs[], 6: [] as Runs[] };
-        const seen = new Set<Runs>();
-        const candidateLists = new Set<number>();
-        for (const to of destinations[iface]) {
-          if (!incremental) {
-            const list = engine.candidateRules(iface, to, cls).id * 2 + (engine.addresses[to].family === 4 ? 0 : 1);
-            if (candidateLists.has(list)) continue;
-            candidateLists.add(list);
-          }
-          for (const partition of engine.weekOutcomes(iface, to, cls)) {
-            if (seen.has(partition.outcome)) continue;
-            seen.add(partition.outcome);
-            lists[partition.family].push(partition.outcome);
-          }
-        }
-        const all = [...lists[4], ...lists[6]];
-        inputs.set(key, all);
-        const before = basis?.get(key);
-        const same = before !== undefined && before.length === all.length && before.every((runs, i) => runs === all[i]);
-        const exposure = same ? basisExposure?.get(key) : exposureOf(engine, lists);
-        if (exposure !== undefined) out.set(key, exposure);
+    const basis = this.#basis;
+    // After a rule edit, an interface × service none of whose cells changed keeps the basis's exposure (when the basis computed it).
+    const incremental = engine.incrementalBasis !== undefined && basis !== undefined;
+    if (incremental && this.#serviceUnchanged(iface, cls)) {
+      const kept = basis.#exposureInputs.get(key);
+      const exposure = basis.#exposure.get(key);
+      if (kept !== undefined && exposure !== undefined) {
+        this.#exposureInputs.set(key, kept);
+        return exposure ?? undefined;
       }
     }
-    this.#exposureInputs = inputs;
-    return out;
+    // Many cells see the same outcome runs: each distinct list of candidate rules, and each distinct runs object, counts once.
+    const lists = { 4: [] as Runs[], 6: [] as Runs[] };
+    const seen = new Set<Runs>();
+    const candidateLists = new Set<number>();
+    for (const to of this.#destinations[iface]) {
+      if (!incremental) {
+        const list = engine.candidateRules(iface, to, cls).id * 2 + (engine.addresses[to].family === 4 ? 0 : 1);
+        if (candidateLists.has(list)) continue;
+        candidateLists.add(list);
+      }
+      for (const partition of engine.weekOutcomes(iface, to, cls)) {
+        if (seen.has(partition.outcome)) continue;
+        seen.add(partition.outcome);
+        lists[partition.family].push(partition.outcome);
+      }
+    }
+    const all = [...lists[4], ...lists[6]];
+    this.#exposureInputs.set(key, all);
+    const before = basis === undefined ? undefined : basis.#exposureInputs.get(key);
+    const same = basis !== undefined && before !== undefined && before.length === all.length && before.every((runs, i) => runs === all[i]);
+    const kept = same ? basis.#exposure.get(key) : undefined;
+    return kept !== undefined ? (kept ?? undefined) : exposureOf(engine, lists);
   }
 
   /** Per interface, the device addresses a probe arriving there may be sent to. */
@@ -397,19 +400,38 @@ export class FindingContext {
     const rule = engine.rules[position];
     const slices = engine.week.slices;
     const activeSlice = Math.max(0, rule.schedule < 0 ? 0 : slices.findIndex((slice) => slice.active[rule.schedule]));
-    for (const { iface, to } of this.arrivals) {
-      if (rule.iface !== -1 && rule.iface !== iface) continue;
-      const target = engine.addresses[to];
-      if (!contains(rangesOf(rule.destinations, target.family), target.value)) continue;
-      const source = engine.firstSourceOf(position, target.family);
-      if (source === undefined) continue;
-      for (const c of engine.classes) {
-        const service = this.#serviceTextFor(position, c.index);
-        if (service === undefined) continue;
-        return this.probe(iface, to, c.index, target.family, source, activeSlice, service);
+    const held = this.#destinationHolds(rule.destinations);
+    // The arrivals in their order (interface by interface), only the rule's interface's when it names one.
+    const destinations = this.#destinations;
+    const last = rule.iface === -1 ? destinations.length - 1 : rule.iface;
+    for (let iface = rule.iface === -1 ? 0 : rule.iface; iface <= last; iface++) {
+      for (const to of destinations[iface]) {
+        if (held[to] === 0) continue;
+        const target = engine.addresses[to];
+        const source = engine.firstSourceOf(position, target.family);
+        if (source === undefined) continue;
+        for (const c of engine.classes) {
+          const service = this.#serviceTextFor(position, c.index);
+          if (service === undefined) continue;
+          return this.probe(iface, to, c.index, target.family, source, activeSlice, service);
+        }
       }
     }
     return undefined;
+  }
+
+  /** Per destination set (rules share them): 1 for each device address it holds. */
+  #holds = new WeakMap<AddressSet, Uint8Array>();
+
+  #destinationHolds(destinations: AddressSet): Uint8Array {
+    let held = this.#holds.get(destinations);
+    if (held === undefined) {
+      const addresses = this.engine.addresses;
+      held = new Uint8Array(addresses.length);
+      for (let to = 0; to < addresses.length; to++) if (contains(rangesOf(destinations, addresses[to].family), addresses[to].value)) held[to] = 1;
+      this.#holds.set(destinations, held);
+    }
+    return held;
   }
 
   /** A probe for which the rule is the first match (where it decides). Undefined when it never is. */
@@ -500,7 +522,14 @@ export class FindingContext {
     // Slots already given their first place: most runs are of rules already placed, skipped at once.
     const placed = new Uint8Array(engine.slotCount);
     let left = censusOf(engine).owning.reduce((n, count) => (count > 0 ? n + 1 : n), 0);
+    // Compiled afresh, cells with the same candidate list (and family) share their partitions: only the first such cell is looked at.
+    const lists = engine.incrementalBasis === undefined ? new Set<number>() : null;
     for (let cell = 0; cell < cells.count && left > 0; cell++) {
+      if (lists !== null) {
+        const list = engine.candidateRules(cells.iface[cell], cells.to[cell], cells.cls[cell]).id * 2 + (engine.addresses[cells.to[cell]].family === 4 ? 0 : 1);
+        if (lists.has(list)) continue;
+        lists.add(list);
+      }
       const { iface, to, cls, partitions } = cellPartitions(engine, cells, cell);
       for (let slice = 0; slice < partitions.length; slice++) {
         const rules = partitions[slice];

@@ -45,8 +45,10 @@ export const internetLoginExposed: FindingCheck = {
       if (entry.role !== "wan" && entry.role !== "dmz") return [];
       return context.engine.catalogue.flatMap((service, cls) =>
         context.serviceFindings("internet-login-exposed", iface, cls, (): Finding[] => {
+          // Unlistened, a service answers no login (at most a refusal).
+          if (service.kind !== "login" || !context.listens(iface, cls)) return [];
           const seen = context.exposure(iface, cls);
-          if (service.kind !== "login" || seen === undefined) return [];
+          if (seen === undefined) return [];
           const login = [LOGIN_PASSWORD, LOGIN_MFA, LOGIN_DENIED].filter((outcome) => seen.outcomes.has(outcome));
           if (login.length === 0) return [];
           // Exposure limited to the declared operator networks is the intended remote administration;
@@ -88,8 +90,10 @@ export const internetPing: FindingCheck = {
     context.model.interfaces.flatMap((entry, iface) =>
       context.engine.catalogue.flatMap((service, cls) =>
         context.serviceFindings("internet-ping", iface, cls, (): Finding[] => {
+          // Unlistened, ping gets no reply.
+          if (service.kind !== "echo" || !context.listens(iface, cls)) return [];
           const seen = context.exposure(iface, cls);
-          if (service.kind !== "echo" || seen === undefined || !seen.outcomes.has(ANSWERED)) return [];
+          if (seen === undefined || !seen.outcomes.has(ANSWERED)) return [];
           const witness = context.witnessOf(context.exposureWitness(iface, cls, ANSWERED, seen.hits[ANSWERED]), `A non-private source gets an echo reply on "${entry.name}".`);
           return [
             {
