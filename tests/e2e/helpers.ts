@@ -200,19 +200,28 @@ export async function unclaimedBlockViolationsAt(page: Page, size: Size, scheme:
   const claimed = keys.flatMap((key, index) => (claim(`${size.name} ${scheme}\n${key}`) ? [index] : []));
   await page.evaluate(({ block, mark, claimed }) => claimed.forEach((index) => document.querySelector(`[${block}="${index}"]`)?.setAttribute(mark, "")), { block: BLOCK, mark: CLAIMED, claimed });
   const rules = scheme === "dark" ? COLOUR_RULES : undefined;
+  // A re-render between marking and checking (seen twice in a run of 79 tests) drops the marks: then the whole page is checked.
+  const marked = async (selector: string) => {
+    try {
+      return await seriousAccessibilityViolations(page, rules, selector);
+    } catch (error) {
+      if (error instanceof Error && error.message.includes("No elements found for include")) return seriousAccessibilityViolations(page, rules);
+      throw error;
+    }
+  };
   try {
     if (size.name === "1366") {
       const violations = pageRules && scheme === "light"
         ? await seriousAccessibilityViolations(page, rules, { exclude: `[${BLOCK}]:not([${CLAIMED}])` })
-        : claimed.length > 0 ? await seriousAccessibilityViolations(page, rules, `[${CLAIMED}]`) : [];
+        : claimed.length > 0 ? await marked(`[${CLAIMED}]`) : [];
       await rememberLaptopLooks(page, scheme);
       return violations;
     }
     if (claimed.length === 0) return [];
-    const marked = await page.evaluate(compareWithLaptop, { scheme, mark: PHONE_DIFFERENCES, within: `[${CLAIMED}]` });
-    if (marked === null) return await seriousAccessibilityViolations(page, rules, `[${CLAIMED}]`);
-    if (marked === 0) return [];
-    return await seriousAccessibilityViolations(page, rules, `[${PHONE_DIFFERENCES}]`);
+    const differing = await page.evaluate(compareWithLaptop, { scheme, mark: PHONE_DIFFERENCES, within: `[${CLAIMED}]` });
+    if (differing === null) return await marked(`[${CLAIMED}]`);
+    if (differing === 0) return [];
+    return await marked(`[${PHONE_DIFFERENCES}]`);
   } finally {
     await page.evaluate((attributes) => attributes.forEach((attribute) => document.querySelectorAll(`[${attribute}]`).forEach((element) => element.removeAttribute(attribute))), [BLOCK, CLAIMED, PHONE_DIFFERENCES]);
   }
