@@ -85,16 +85,20 @@ type AxeWindow = { axe?: typeof import("axe-core") };
 
 /**
  * axe's serious and critical violations on the page as it is laid out now (WCAG 2.1 A and AA
- * rules, or only `rules` when given; on the elements `within` selects, or the whole page), each as "rule: help (first few elements)". Minor and moderate ones are left to review.
+ * rules, or only `rules` when given; on the elements `within` selects, on the whole page but
+ * `within.exclude`, or on the whole page), each as "rule: help (first few elements)". Minor and
+ * moderate ones are left to review.
  */
-export async function seriousAccessibilityViolations(page: Page, rules?: string[], within?: string): Promise<string[]> {
+export async function seriousAccessibilityViolations(page: Page, rules?: string[], within?: string | { exclude: string }): Promise<string[]> {
   // Reading and compiling axe's 550 kB took about half a second a check on this machine.
   if (!(await page.evaluate(() => "axe" in window))) await page.evaluate(AXE_SOURCE);
   const violations = await page.evaluate(
     async ({ rules, within, tags }) => {
       const { axe } = window as unknown as AxeWindow;
       if (!axe) throw new Error("axe is not in the page");
-      const results = await axe.run(within ? { include: [[within]] } : document, {
+      // A selector: only what it selects. `exclude`: the whole document (page-level rules included) but that.
+      const context = !within ? document : typeof within === "string" ? { include: [[within]] } : { include: [["html"]], exclude: [[within.exclude]] };
+      const results = await axe.run(context, {
         runOnly: rules ? { type: "rule", values: rules } : { type: "tag", values: tags },
         resultTypes: ["violations"],
       });
@@ -123,7 +127,7 @@ export async function accessibilityViolationsAt(page: Page, size: Size, scheme: 
     await rememberLaptopLooks(page, scheme);
     return violations;
   }
-  const marked = await page.evaluate(compareWithLaptop, { scheme, mark: PHONE_DIFFERENCES });
+  const marked = await page.evaluate(compareWithLaptop, { scheme, mark: PHONE_DIFFERENCES, within: null });
   if (marked === null) return seriousAccessibilityViolations(page, scheme === "dark" ? COLOUR_RULES : undefined);
   if (marked === 0) return [];
   try {
@@ -138,15 +142,16 @@ export async function accessibilityViolationsAt(page: Page, size: Size, scheme: 
  * rendering axe already checked elsewhere in the run, so the phone's check stays a difference.
  */
 export async function rememberLaptopLooks(page: Page, scheme: Scheme): Promise<void> {
-  await page.evaluate(compareWithLaptop, { scheme, mark: null });
+  await page.evaluate(compareWithLaptop, { scheme, mark: null, within: null });
 }
 
 /**
  * Runs in the page (serialised by Playwright, so self-contained). Without `mark`: remembers how
  * each visible element looks in this scheme. With it: marks the outermost visible elements the
- * laptop did not see so, and counts them; null when the laptop saw nothing in this scheme.
+ * laptop did not see so (only inside what `within` selects, when given), and counts them; null
+ * when the laptop saw nothing in this scheme.
  */
-function compareWithLaptop({ scheme, mark }: { scheme: Scheme; mark: string | null }): number | null {
+function compareWithLaptop({ scheme, mark, within }: { scheme: Scheme; mark: string | null; within: string | null }): number | null {
   const looks = (element: Element) => {
     const style = getComputedStyle(element);
     const scrolls = /auto|scroll/.test(style.overflowX + style.overflowY) && (element.scrollWidth > element.clientWidth || element.scrollHeight > element.clientHeight);
@@ -162,11 +167,106 @@ function compareWithLaptop({ scheme, mark }: { scheme: Scheme; mark: string | nu
   if (!seen) return null;
   let marked = 0;
   for (const element of visible) {
-    if (seen.get(element) === looks(element) || element.parentElement?.closest(`[${mark}]`)) continue;
+    if (seen.get(element) === looks(element) || element.parentElement?.closest(`[${mark}]`) || (within && !element.closest(within))) continue;
     element.setAttribute(mark, "");
     marked += 1;
   }
   return marked;
+}
+
+/** Marks, for one axe run, the page's blocks and those of them this check claimed. */
+const BLOCK = "data-axe-block";
+const CLAIMED = "data-axe-claimed";
+/** Levels of plain `div`s inside `main` that are split into their children (a page's wrapper and its sections' grid). */
+const SPLIT_DIVS_BELOW_MAIN = 2;
+
+/** True for the first caller in the run to claim a key (tests/e2e/run-once.ts `claimOnce`, or a set in a test of its own). */
+export type Claim = (key: string) => boolean;
+
+/**
+ * axe at one size and scheme as `accessibilityViolationsAt` runs it, but only on the page's blocks
+ * not yet checked in this run at this size and scheme (by any page, role or worker, as `claim`
+ * says). The page is cut into blocks: the top-level parts beside `main` (top bar, navigation),
+ * `main`'s children and those of the plain `div`s just below it. A block is the same as another
+ * when its HTML (with the `ignore` strings — the signed-in person's name — taken out), its width
+ * and how its ancestors look are the same, so what differs by role costs only the blocks that
+ * show it (a control only an owner sees makes its own block new again). With `pageRules` (once
+ * per page, at 1366 px in light) axe runs over the whole document except the blocks others
+ * checked, so the page-level rules (a way to skip to the content, …) and the elements around the
+ * blocks are checked too.
+ */
+export async function unclaimedBlockViolationsAt(page: Page, size: Size, scheme: Scheme, claim: Claim, { ignore, pageRules }: { ignore: string[]; pageRules: boolean }): Promise<string[]> {
+  const keys = await page.evaluate(markBlocks, { attribute: BLOCK, ignore, splitDivs: SPLIT_DIVS_BELOW_MAIN });
+  const claimed = keys.flatMap((key, index) => (claim(`${size.name} ${scheme}\n${key}`) ? [index] : []));
+  await page.evaluate(({ block, mark, claimed }) => claimed.forEach((index) => document.querySelector(`[${block}="${index}"]`)?.setAttribute(mark, "")), { block: BLOCK, mark: CLAIMED, claimed });
+  const rules = scheme === "dark" ? COLOUR_RULES : undefined;
+  // A re-render between marking and checking (seen twice in a run of 79 tests) drops the marks: then the whole page is checked.
+  const marked = async (selector: string) => {
+    try {
+      return await seriousAccessibilityViolations(page, rules, selector);
+    } catch (error) {
+      if (error instanceof Error && error.message.includes("No elements found for include")) return seriousAccessibilityViolations(page, rules);
+      throw error;
+    }
+  };
+  try {
+    if (size.name === "1366") {
+      const violations = pageRules && scheme === "light"
+        ? await seriousAccessibilityViolations(page, rules, { exclude: `[${BLOCK}]:not([${CLAIMED}])` })
+        : claimed.length > 0 ? await marked(`[${CLAIMED}]`) : [];
+      await rememberLaptopLooks(page, scheme);
+      return violations;
+    }
+    if (claimed.length === 0) return [];
+    const differing = await page.evaluate(compareWithLaptop, { scheme, mark: PHONE_DIFFERENCES, within: `[${CLAIMED}]` });
+    if (differing === null) return await marked(`[${CLAIMED}]`);
+    if (differing === 0) return [];
+    return await marked(`[${PHONE_DIFFERENCES}]`);
+  } finally {
+    await page.evaluate((attributes) => attributes.forEach((attribute) => document.querySelectorAll(`[${attribute}]`).forEach((element) => element.removeAttribute(attribute))), [BLOCK, CLAIMED, PHONE_DIFFERENCES]);
+  }
+}
+
+/**
+ * Runs in the page (serialised by Playwright, so self-contained): cuts the body into blocks,
+ * numbers each in `attribute`, and returns each block's key (SHA-256 of its ancestors' looks, its
+ * width and its HTML without the `ignore` strings), in the blocks' order. Keys are read before the
+ * numbers are written, so the numbers are not part of them.
+ */
+async function markBlocks({ attribute, ignore, splitDivs }: { attribute: string; ignore: string[]; splitDivs: number }): Promise<string[]> {
+  const ownText = (element: Element) => [...element.childNodes].some((node) => node.nodeType === Node.TEXT_NODE && (node.textContent ?? "").trim() !== "");
+  // A plain div adds no role, name or focus of its own, so no rule is about the div itself.
+  const plainDiv = (element: Element) => element.tagName === "DIV" && ![...element.attributes].some((item) => item.name === "role" || item.name === "tabindex" || item.name.startsWith("aria-"));
+  const blocks: Element[] = [];
+  /** `depth`: how many plain divs deep inside main (-1: outside main). */
+  const walk = (element: Element, depth: number) => {
+    if (["SCRIPT", "STYLE", "TEMPLATE", "LINK", "META", "NOSCRIPT"].includes(element.tagName)) return;
+    const isMain = element.tagName === "MAIN";
+    const split = element.children.length > 0 && !ownText(element) && (element === document.body || isMain || element.querySelector("main") !== null || (depth >= 0 && depth < splitDivs && plainDiv(element)));
+    if (!split) {
+      blocks.push(element);
+      return;
+    }
+    for (const child of element.children) walk(child, isMain ? 0 : depth >= 0 ? depth + 1 : -1);
+  };
+  walk(document.body, -1);
+  const looks = (element: Element) => {
+    const style = getComputedStyle(element);
+    return [element.tagName, style.color, style.backgroundColor, style.backgroundImage, style.opacity, style.fontSize, style.fontWeight, style.filter, style.mixBlendMode].join("|");
+  };
+  const keys = await Promise.all(blocks.map(async (block) => {
+    const ancestors: string[] = [];
+    for (let parent = block.parentElement; parent; parent = parent.parentElement) ancestors.push(looks(parent));
+    let html = block.outerHTML;
+    for (const text of ignore) if (text) html = html.split(text).join("\u2026");
+    const key = `${ancestors.join("\n")}\n${Math.round(block.getBoundingClientRect().width)}\n${html}`;
+    // crypto.subtle needs a secure context (localhost is one); elsewhere the key is hashed by the caller.
+    if (!crypto.subtle) return key;
+    const digest = await crypto.subtle.digest("SHA-256", new TextEncoder().encode(key));
+    return [...new Uint8Array(digest)].map((byte) => byte.toString(16).padStart(2, "0")).join("");
+  }));
+  blocks.forEach((block, index) => block.setAttribute(attribute, String(index)));
+  return keys;
 }
 
 /**
@@ -179,7 +279,7 @@ export async function problemsAtEverySize(page: Page, name: string, shots?: "scr
   const before = page.viewportSize() ?? SIZES[0];
   const problems: string[] = [];
   for (const size of SIZES) {
-    await page.setViewportSize(size);
+    await resized(page, size);
     for (const scheme of SCHEMES) {
       await page.emulateMedia({ colorScheme: scheme });
       const where = `${name} at ${size.name} px, ${scheme}`;
@@ -192,6 +292,15 @@ export async function problemsAtEverySize(page: Page, name: string, shots?: "scr
   await page.setViewportSize(before);
   await page.emulateMedia({ colorScheme: "light" });
   return problems;
+}
+
+/**
+ * Sets the viewport and waits two frames and a task: what a resize observer changes (a table's
+ * box becomes a focusable region once it scrolls, `ScrollArea`) is rendered before anything is checked.
+ */
+export async function resized(page: Page, size: { width: number; height: number }): Promise<void> {
+  await page.setViewportSize(size);
+  await page.evaluate(() => new Promise((resolve) => requestAnimationFrame(() => requestAnimationFrame(() => setTimeout(resolve, 0)))));
 }
 
 /** How far the document scrolls sideways: 0 when nothing sticks out of the viewport. */

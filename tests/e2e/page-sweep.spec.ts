@@ -7,7 +7,7 @@ import { deviceNavGroups } from "#app/components/device/device-nav";
 import { DEVICE_SECTIONS } from "#app/components/device/sections";
 import { expect, test } from "./fixtures";
 import { claimOnce, makeOncePerRun, sharedFolder } from "./run-once";
-import { accessibilityViolationsAt, hydrated, rememberLaptopLooks, SCHEMES, SIZES, sidewaysOverflow } from "./helpers";
+import { hydrated, resized, SCHEMES, SIZES, sidewaysOverflow, unclaimedBlockViolationsAt } from "./helpers";
 import { createProposal, createTeam, type Team } from "./team";
 import { createTrainingPages, type TrainingPages } from "./training-team";
 import { recordFieldCheck } from "./observations";
@@ -21,24 +21,18 @@ import { recordFieldCheck } from "./observations";
 // organisation's pages, the device's, its model's sections, training, and managing training),
 // so the run's two workers share 25 tests of a minute or two each and end together, on one
 // team made once for the run; each page is loaded once and re-laid out at each size and scheme.
-// Every role checks every page it may open at both sizes and both schemes for
-// sideways scrolling, its device navigation, its links and its errors. axe, the costly part,
-// runs on every size and scheme of a page for one of the roles that may open it (the page's
-// lead, taken in turn, so the roles share the work), and for the other roles on their own
-// rendering at 1366 px in light (all rules, colour contrast included) — what differs by role is
-// which controls the page shows, not its layout or colours. At each size and scheme axe runs as
-// `accessibilityViolationsAt` says: the dark scheme changes colours only, so axe's colour rules
-// run there and every rule runs in light; at the phone's size axe looks only at what the phone
-// shows differently from the laptop. A rendering that was already checked in this run
-// (same main content and navigation, any role, either worker) is not checked by axe again.
+// Every role checks every page it may open at both sizes and both schemes for sideways
+// scrolling, its device navigation, its links and its errors. axe, the costly part, runs at every
+// size and scheme for every role too, but only on the page's blocks (top bar, navigation, the
+// parts of the main content) that no page, role or worker has checked at that size and scheme yet
+// in this run (`unclaimedBlockViolationsAt`): what differs by role is which controls the page
+// shows, so a role pays only for the blocks its own controls change, and a block only one role
+// sees is still checked at all four. The page-level rules run once per page, at 1366 px in light.
+// At each size and scheme axe runs as `accessibilityViolationsAt` says: the dark scheme changes
+// colours only, so axe's colour rules run there and every rule runs in light; at the phone's size
+// axe looks only at what the phone shows differently from the laptop.
 
 const ARTIFACTS = path.resolve("tests/artifacts/sweep");
-
-/** A key for what axe would see on the page now, apart from the signed-in person's own name in the top bar. */
-async function renderingKey(page: Page, where: string): Promise<string> {
-  const html = await page.evaluate(() => [...document.querySelectorAll("main, nav")].map((element) => element.outerHTML).join(""));
-  return `${where}\n${html}`;
-}
 
 /** Pages that not every role may open, with the least role each needs (the pages' own table). */
 const GATED: Array<{ path: string; role: Role }> = [
@@ -117,8 +111,8 @@ function pagesOf(team: Team, role: Role): { open: string[]; refused: string[]; p
 }
 
 /**
- * For every page any role may open, the role that checks it with axe at both sizes and both
- * schemes: the roles that may open it, taken in turn along the list of pages.
+ * For every page any role may open, the role that keeps its screenshots (1366 px light, 390 px
+ * dark): the roles that may open it, taken in turn along the list of pages.
  */
 function pageLeads(team: Team): Map<string, Role> {
   const opens = new Map(ROLES.map((role) => [role, new Set(pagesOf(team, role).open)] as const));
@@ -226,6 +220,8 @@ for (const part of PARTS) {
       mkdirSync(folder, { recursive: true });
       const seen = new Set<string>();
       const findings: string[] = [];
+      // The signed-in person's own name, address and role word (top bar, account page): not part of what axe sees as new.
+      const personal = [team.members[role].name, team.members[role].email, `(${role})`, `>${role}<`];
 
       for (const url of open) {
         await page.setViewportSize(SIZES[0]);
@@ -236,19 +232,18 @@ for (const part of PARTS) {
         if (url.startsWith(team.device.path)) for (const problem of await deviceNavigationProblems(page)) findings.push(`${url} at 1366 px: ${problem}`);
         const lead = leads.get(url) === role;
         for (const size of SIZES) {
-          await page.setViewportSize(size);
+          await resized(page, size);
           for (const scheme of SCHEMES) {
             await page.emulateMedia({ colorScheme: scheme });
             const where = `${url} at ${size.name} px, ${scheme}`;
             const overflow = await sidewaysOverflow(page);
             if (overflow > 0) findings.push(`${where}: the page scrolls ${overflow} px sideways`);
-            if (!lead && (size.name !== "1366" || scheme !== "light")) continue;
-            if (claimOnce(shared, await renderingKey(page, where))) {
-              for (const violation of await accessibilityViolationsAt(page, size, scheme)) findings.push(`${where}: ${violation}`);
-            } else if (size.name === "1366") {
-              // Checked already by another role or worker: how it looks counts as seen at the laptop's size all the same.
-              await rememberLaptopLooks(page, scheme);
-            }
+            // axe on the blocks no page, role or worker has checked at this size and scheme yet; the page-level rules once per page.
+            const pageRules = size.name === "1366" && scheme === "light" && claimOnce(shared, `page rules ${url}`);
+            const claim = (key: string) => claimOnce(shared, key);
+            // The page's own address too: the top bar's theme form carries it in a hidden field (returnTo), no text.
+            const ignore = [...personal, url, url.replaceAll("&", "&amp;")];
+            for (const violation of await unclaimedBlockViolationsAt(page, size, scheme, claim, { ignore, pageRules })) findings.push(`${where}: ${violation}`);
             // Two of the four kept, by the page's lead: the laptop in light and the phone in dark show both sizes and both schemes.
             if (lead && (size.name === "1366") === (scheme === "light")) await page.screenshot({ path: path.join(folder, `${artifactName(team, url)}-${size.name}-${scheme}.png`), fullPage: true });
           }
