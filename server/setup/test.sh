@@ -65,8 +65,7 @@ suite_started=$SECONDS
 # The build uses one core for most of its time, so it runs beside typecheck and lint (about 25 s saved).
 run_suites_together "Typecheck" "npm run --silent typecheck" "Lint (ESLint)" "npm run --silent lint" "Build" build_app
 ok "typecheck, lint and build: $((SECONDS - suite_started)) s"
-[ -f build/server/index.js ] && [ -f build/cli/sallyport.mjs ] && [[ ! " ${failures[*]} " =~ " Build " ]] \
-  || fail "the build failed, so the integration and browser suites cannot run" "read the build errors above"
+[[ " ${failures[*]} " != *" Build "* ]] || fail "the build failed, so the integration and browser suites cannot run" "read the build errors above"
 run_suite "Unit tests (Vitest)" npx vitest run --project unit
 export NODE_ENV=production
 if [ -n "$browser_database_urls" ]; then
