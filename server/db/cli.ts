@@ -19,11 +19,12 @@ const sequelize = createDatabase(ownerUrl);
 const runtimeRole = runtimeRoleOf(runtimeUrl, ownerUrl);
 
 try {
-  if (commands.length === 0 || commands.some((command) => !["migrate", "seed", "reset"].includes(command))) {
+  const usable = commands.length > 0 && commands.every((command) => ["migrate", "seed", "reset"].includes(command));
+  if (!usable) {
     console.error("usage: tsx server/db/cli.ts migrate|seed|reset …");
     process.exitCode = 2;
   }
-  for (const command of process.exitCode === 2 ? [] : commands) {
+  for (const command of usable ? commands : []) {
     if (command === "migrate") {
       const applied = await createMigrator(sequelize).up();
       console.log(applied.length ? `  applied ${applied.map((m) => m.name).join(", ")}` : "  migrations up to date");
