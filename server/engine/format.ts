@@ -142,8 +142,12 @@ export function formatInstant(at: InstantInput, timeZone = "UTC"): string {
   const date = toDate(at);
   if (!date) return String(at);
   // The same instants come back on every page (revisions, checks, proposals): each is worded once
-  // per zone. The text depends on nothing else, so a remembered one is the one worded now.
-  const key = `${timeZone}\n${date.getTime()}`;
+  // per zone. The text depends on nothing else, so a remembered one is the one worded now. It
+  // shows minutes, and since 1972 every zone's offset is a whole number of minutes (the last
+  // offset with seconds, Liberia's, ended on 7 Jan 1972: IANA tz, africa file; checked over every
+  // zone this runtime knows in tests/unit/format.test.ts), so a trace's "now" is worded once a minute.
+  const milliseconds = date.getTime();
+  const key = `${timeZone}\n${milliseconds >= WHOLE_MINUTE_OFFSETS_FROM ? Math.floor(milliseconds / 60_000) * 60_000 : milliseconds}`;
   const remembered = instantTexts.get(key);
   if (remembered !== undefined) return remembered;
   const text = instantText(date, timeZone);
@@ -155,6 +159,7 @@ export function formatInstant(at: InstantInput, timeZone = "UTC"): string {
 /** Instants worded lately, by zone and epoch milliseconds; the oldest is forgotten first. */
 const instantTexts = new Map<string, string>();
 const REMEMBERED_INSTANTS = 4096;
+const WHOLE_MINUTE_OFFSETS_FROM = Date.UTC(1972, 1, 1);
 
 function instantText(date: Date, timeZone: string): string {
   const local = partsIn(date, timeZone);

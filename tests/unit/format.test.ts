@@ -133,6 +133,24 @@ describe("Instants", () => {
     expect(formatInstant(at, "Asia/Tokyo")).toBe("Wed 2 Dec 2026, 18:00 Asia/Tokyo (09:00 UTC)");
   });
 
+  test("Since 1972 an instant's text is its minute's in every zone this runtime knows, so one worded text serves the whole minute", () => {
+    // IANA tz (africa file): Liberia's offset of −0:44:30 was the last with seconds, until 7 Jan 1972.
+    const zones = Intl.supportedValuesOf("timeZone");
+    fc.assert(
+      fc.property(fc.integer({ min: Date.UTC(1972, 1, 1), max: Date.UTC(2040, 0, 1) }), fc.constantFrom(...zones), (at, timeZone) => {
+        const minute = Math.floor(at / 60_000) * 60_000;
+        const format = new Intl.DateTimeFormat("en", { timeZone, day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit", hourCycle: "h23" });
+        expect(format.format(at)).toBe(format.format(minute));
+        expect(formatInstant(at, timeZone)).toBe(formatInstant(minute + 59_999, timeZone));
+      }),
+      { seed: 20261203, numRuns: 3000 },
+    );
+    // Before then a zone with seconds in its offset can turn its minute within a UTC minute: each instant is worded on its own.
+    // Monrovia kept −0:44:30 until 1972: on 1 Jun 1971, 12:00:20 and 12:00:40 UTC are 11:15:50 and 11:16:10 there.
+    expect(formatInstant(Date.UTC(1971, 5, 1, 12, 0, 20), "Africa/Monrovia")).toBe("Tue 1 Jun 1971, 11:15 Africa/Monrovia (12:00 UTC)");
+    expect(formatInstant(Date.UTC(1971, 5, 1, 12, 0, 40), "Africa/Monrovia")).toBe("Tue 1 Jun 1971, 11:16 Africa/Monrovia (12:00 UTC)");
+  });
+
   test("Whole numbers below a thousand are their digits; the format's answer everywhere (ECMA-402 Intl.NumberFormat)", () => {
     const grouped = new Intl.NumberFormat("en", { maximumFractionDigits: 3 });
     fc.assert(fc.property(fc.oneof(fc.integer({ min: -5000, max: 5000 }), fc.double({ min: -5000, max: 5000, noNaN: true }), fc.constant(-0)), (value) => {
