@@ -60,6 +60,8 @@ const EnvironmentSchema = z.object({
   SIGN_UPS_PER_CLIENT: z.coerce.number().int().min(1, "SIGN_UPS_PER_CLIENT must be at least 1").max(10_000).default(30),
   /** Requests one web process works at once; the rest wait their fair turn (server/http/admission.server.ts, docs/decisions/024). */
   ADMISSION_CONCURRENCY: z.coerce.number().int().min(1, "ADMISSION_CONCURRENCY must be at least 1").max(1024).default(4),
+  /** "1": every answer says how long it waited for its turn (Server-Timing "turn"), for the load benchmark. */
+  ADMISSION_TIMING: z.enum(["0", "1"]).default("0"),
   /**
    * Origins (comma-separated, e.g. "https://ops.example") whose pages may call the REST API from a
    * browser (CORS); empty, the default, leaves CORS off (docs/decisions/014).

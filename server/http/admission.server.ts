@@ -196,9 +196,14 @@ export function takingTurns<Request extends IncomingMessage & { path: string }, 
   admission: FairAdmission,
   flowOf: (request: Request) => string,
   handler: (request: Request, response: Response, next: Next) => unknown,
+  options: { sayWait?: boolean } = {},
 ): (request: Request, response: Response, next: Next) => void {
   return (request, response, next) => {
+    const asked = options.sayWait ? performance.now() : 0;
     const withdraw = admission.admit(organisationOfPath(request.path), flowOf(request), (done) => {
+      // How long the request waited for its turn (W3C Server Timing), so a load test can tell
+      // waiting behind others from being slow itself. Off by default: it tells of others' load.
+      if (options.sayWait) response.setHeader("Server-Timing", `turn;dur=${(performance.now() - asked).toFixed(1)}`);
       turns.set(response, done);
       response.once("finish", done);
       response.once("close", done);

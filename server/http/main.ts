@@ -49,7 +49,7 @@ function getLoadContext(request: express.Request, response: express.Response) {
 const admission = new FairAdmission({ concurrency: environment.ADMISSION_CONCURRENCY });
 // The flow: the organisation in the URL and whoever's credentials came (not yet checked: only the
 // order of work depends on it, and an unknown one is refused cheaply in its turn).
-const inTurn = (handler: express.RequestHandler) => takingTurns(admission, (request: express.Request) => request.get("authorization") ?? request.get("cookie") ?? clientAddressOf(request), handler);
+const inTurn = (handler: express.RequestHandler) => takingTurns(admission, (request: express.Request) => request.get("authorization") ?? request.get("cookie") ?? clientAddressOf(request), handler, { sayWait: environment.ADMISSION_TIMING === "1" });
 
 if (development) {
   const vite = await import("vite");

@@ -43,7 +43,8 @@ ensure_debian_packages() {
 ensure_npm_dependencies() {
   cd "$ROOT"
   local marker="node_modules/.package-lock.json"
-  if [ -f "$marker" ] && [ "$marker" -nt package-lock.json ] && [ "$marker" -nt package.json ]; then
+  # A changed patch of a dependency (patches/, applied by patch-package after install) counts as a change too.
+  if [ -f "$marker" ] && [ "$marker" -nt package-lock.json ] && [ "$marker" -nt package.json ] && [ -z "$(find patches -newer "$marker" 2>/dev/null)" ]; then
     ok "npm dependencies up to date"; return
   fi
   step "Installing npm dependencies (npm ci)"

@@ -16,7 +16,9 @@
 // JSON keys: { config: {devices, modelSize, rate, durationSeconds, sessions, connections, closedSeconds,
 // webConcurrency, jobWorkers}, seedSeconds, openLoop: { overall, byRoute: {fleet, tracePage, traceApi},
 // heavyFleet, clientCpuCores, serverCpuCores }, closedLoop: { fleet, tracePage, traceApi, heavyFleet } }, where every latency block is
-// { count, errors, errorKinds (only when errors: HTTP status or fetch failure code → count), p50Ms, p95Ms, p99Ms, maxMs } and every closed-loop block adds requestsPerSecond, clientCpuCores (the load generator's own CPU
+// { count, errors, errorKinds (only when errors: HTTP status or fetch failure code → count), p50Ms, p95Ms, p99Ms, maxMs,
+// turnWaitP50Ms, turnWaitP95Ms (how long the answers waited for a turn in the web process: the server
+// says so in Server-Timing "turn" when started with ADMISSION_TIMING=1, as here) } and every closed-loop block adds requestsPerSecond, clientCpuCores (the load generator's own CPU
 // over that phase, in cores: it shares the machine with the server) and serverCpuMsPerRequest (the
 // server processes' CPU over the phase divided by its requests: the figure a busy neighbour moves least).
 // Targets (issue 14, 2-core machine): open-loop p95 ≤ 250 ms with 0 errors; the demo trace JSON
@@ -67,14 +69,17 @@ const log = (line: string) => {
   if (!json) console.log(line);
 };
 
-type Latencies = { count: number; errors: number; errorKinds?: Record<string, number>; p50Ms: number; p95Ms: number; p99Ms: number; maxMs: number };
+type Latencies = { count: number; errors: number; errorKinds?: Record<string, number>; p50Ms: number; p95Ms: number; p99Ms: number; maxMs: number; turnWaitP50Ms?: number; turnWaitP95Ms?: number };
 class Recorder {
   readonly times: number[] = [];
+  /** How long each answer waited for its turn in the web process (its Server-Timing "turn"). */
+  readonly turnWaits: number[] = [];
   errors = 0;
   /** What went wrong, counted: an HTTP status or the fetch failure's code. */
   readonly errorKinds: Record<string, number> = {};
-  add(ms: number, ok: boolean | string) {
+  add(ms: number, ok: boolean | string, turnWait?: number) {
     this.times.push(ms);
+    if (turnWait !== undefined) this.turnWaits.push(turnWait);
     if (ok !== true) {
       this.errors += 1;
       const kind = ok === false ? "failed" : ok;
@@ -82,9 +87,13 @@ class Recorder {
     }
   }
   summary(): Latencies {
-    const sorted = [...this.times].sort((a, b) => a - b);
-    const at = (p: number) => (sorted.length ? Math.round(sorted[Math.min(sorted.length - 1, Math.floor(sorted.length * p))] * 10) / 10 : 0);
-    return { count: sorted.length, errors: this.errors, ...(this.errors ? { errorKinds: this.errorKinds } : {}), p50Ms: at(0.5), p95Ms: at(0.95), p99Ms: at(0.99), maxMs: at(1) };
+    const percentile = (values: number[]) => {
+      const sorted = [...values].sort((a, b) => a - b);
+      return (p: number) => (sorted.length ? Math.round(sorted[Math.min(sorted.length - 1, Math.floor(sorted.length * p))] * 10) / 10 : 0);
+    };
+    const at = percentile(this.times);
+    const waitAt = percentile(this.turnWaits);
+    return { count: this.times.length, errors: this.errors, ...(this.errors ? { errorKinds: this.errorKinds } : {}), p50Ms: at(0.5), p95Ms: at(0.95), p99Ms: at(0.99), maxMs: at(1), ...(this.turnWaits.length ? { turnWaitP50Ms: waitAt(0.5), turnWaitP95Ms: waitAt(0.95) } : {}) };
   }
 }
 
@@ -135,17 +144,20 @@ function agentOf(cookie: string): http.Agent {
 }
 
 /** The time taken and true, or what went wrong: the status, or the failure's code. */
-async function timed(base: string, path: string, cookie: string): Promise<[number, true | string]> {
+async function timed(base: string, path: string, cookie: string): Promise<[number, true | string, number | undefined]> {
   const start = performance.now();
+  let turnWait: number | undefined;
   const outcome = await new Promise<true | string>((resolve) => {
     const request = http.get(`${base}${path}`, { agent: agentOf(cookie), headers: { Cookie: cookie, "Accept-Encoding": "br, gzip" } }, (response) => {
+      const waited = /(?:^|,\s*)turn;dur=([\d.]+)/.exec(String(response.headers["server-timing"] ?? ""));
+      if (waited) turnWait = Number(waited[1]);
       response.on("data", () => undefined);
       response.on("end", () => resolve((response.statusCode ?? 0) >= 200 && (response.statusCode ?? 0) < 300 ? true : `HTTP ${response.statusCode}`));
       response.on("error", (error: NodeJS.ErrnoException) => resolve(error.code ?? error.message));
     });
     request.on("error", (error: NodeJS.ErrnoException) => resolve(error.code ?? error.message));
   });
-  return [performance.now() - start, outcome];
+  return [performance.now() - start, outcome, turnWait];
 }
 
 /**
@@ -208,7 +220,7 @@ async function main() {
   // --profile-server=DIR: each server process writes a CPU profile there when it stops (node --cpu-prof).
   const profileDirectory = process.argv.find((value) => value.startsWith("--profile-server="))?.slice("--profile-server=".length);
   const server = spawn(process.execPath, [...(profileDirectory ? ["--cpu-prof", `--cpu-prof-dir=${profileDirectory}`] : []), "--import", "tsx", "server/launch.ts"], {
-    env: { ...process.env, NODE_ENV: "production", PORT: String(port), APP_ORIGIN: base, TRUST_PROXY: "1" },
+    env: { ...process.env, NODE_ENV: "production", PORT: String(port), APP_ORIGIN: base, TRUST_PROXY: "1", ADMISSION_TIMING: "1" },
     stdio: ["ignore", "ignore", "inherit"],
   });
   try {
@@ -258,8 +270,8 @@ async function main() {
     let running = true;
     const heavyLoops = heavySessions.map(async (cookie) => {
       while (running) {
-        const [ms, ok] = await timed(base, routes.heavyFleet(), cookie);
-        heavy.add(ms, ok);
+        const [ms, ok, turnWait] = await timed(base, routes.heavyFleet(), cookie);
+        heavy.add(ms, ok, turnWait);
       }
     });
     const inFlight: Array<Promise<void>> = [];
@@ -274,9 +286,9 @@ async function main() {
       if (wait > 0) await new Promise((resolve) => setTimeout(resolve, wait));
       const name = mix[index % mix.length];
       inFlight.push(
-        timed(base, routes[name](), sessions[index % sessions.length]).then(([ms, ok]) => {
-          byRoute[name].add(ms, ok);
-          overall.add(ms, ok);
+        timed(base, routes[name](), sessions[index % sessions.length]).then(([ms, ok, turnWait]) => {
+          byRoute[name].add(ms, ok, turnWait);
+          overall.add(ms, ok, turnWait);
         }),
       );
     }
@@ -300,8 +312,8 @@ async function main() {
       await Promise.all(
         Array.from({ length: config.connections }, async (_, connection) => {
           while (performance.now() < end) {
-            const [ms, ok] = await timed(base, routes[name](), cookies[connection % cookies.length]);
-            recorder.add(ms, ok);
+            const [ms, ok, turnWait] = await timed(base, routes[name](), cookies[connection % cookies.length]);
+            recorder.add(ms, ok, turnWait);
           }
         }),
       );
@@ -313,7 +325,7 @@ async function main() {
     if (json) {
       console.log(JSON.stringify(result));
     } else {
-      const line = (label: string, block: Latencies) => console.log(`  ${label}: ${block.count} requests, ${block.errors} errors — p50 ${block.p50Ms} / p95 ${block.p95Ms} / p99 ${block.p99Ms} / max ${block.maxMs} ms`);
+      const line = (label: string, block: Latencies) => console.log(`  ${label}: ${block.count} requests, ${block.errors} errors — p50 ${block.p50Ms} / p95 ${block.p95Ms} / p99 ${block.p99Ms} / max ${block.maxMs} ms${block.turnWaitP50Ms === undefined ? "" : `; waiting for a turn p50 ${block.turnWaitP50Ms} / p95 ${block.turnWaitP95Ms} ms`}`);
       console.log(`Open loop (${config.rate}/s, ${config.durationSeconds} s; WEB_CONCURRENCY=${config.webConcurrency}, JOB_WORKERS=${config.jobWorkers}):`);
       line("all", openLoop.overall);
       for (const [name, block] of Object.entries(openLoop.byRoute)) line(name, block);

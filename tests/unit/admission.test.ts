@@ -135,6 +135,35 @@ describe("fair admission", () => {
     expect(organisationOfPath("/api/v1/devices")).toBe("");
   });
 
+  it("says how long a request waited for its turn only when asked to (Server-Timing)", async () => {
+    const admission = new FairAdmission({ concurrency: 1 });
+    let release: () => void = () => undefined;
+    const held = new Promise<void>((resolve) => (release = resolve));
+    const handler = async (request: express.Request, response: express.Response) => {
+      if (request.path.endsWith("/slow")) await held;
+      await sendAnswer(response, Response.json({ ok: true }));
+    };
+    const app = express();
+    app.get("/quiet/*rest", takingTurns(admission, (request: express.Request) => request.get("cookie") ?? "", handler));
+    app.get(/.*/, takingTurns(admission, (request: express.Request) => request.get("cookie") ?? "", handler, { sayWait: true }));
+    const server = app.listen(0, "127.0.0.1");
+    await new Promise((resolve) => server.once("listening", resolve));
+    const base = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
+    try {
+      expect((await fetch(`${base}/quiet/o/demo`)).headers.get("server-timing")).toBeNull();
+      // The one slot is held for 300 ms; the next request waits that long for its turn.
+      const slow = fetch(`${base}/o/large/slow`, { headers: { Cookie: "a" } });
+      await expect.poll(() => admission.active).toBe(1);
+      setTimeout(release, 300);
+      const waited = await fetch(`${base}/o/demo/fast`, { headers: { Cookie: "b" } });
+      const wait = Number(/^turn;dur=([\d.]+)$/.exec(waited.headers.get("server-timing") ?? "")?.[1]);
+      expect(wait).toBeGreaterThanOrEqual(250);
+      expect(Number(/dur=([\d.]+)/.exec((await slow).headers.get("server-timing") ?? "")?.[1])).toBeLessThan(250);
+    } finally {
+      await new Promise((resolve) => server.close(resolve));
+    }
+  });
+
   it("ends a turn when the body is handed off: a client reading a large export slowly does not hold the slot", async () => {
     // One slot, as the web process's writer (server/http/respond.server.ts) uses it over HTTP.
     const admission = new FairAdmission({ concurrency: 1 });

@@ -1,6 +1,7 @@
 // The one formatting module (server/engine/format.ts): numbers, counts, plurals and instants
 // as every page, export message and finding text shows them.
 
+import fc from "fast-check";
 import { describe, expect, test } from "vitest";
 import { formatCount, formatDay, formatDuration, formatInstant, formatNumber, formatRelative, plural, pluralWord, SCIENTIFIC_FROM, WORDS_FROM } from "#server/engine/format";
 
@@ -108,6 +109,53 @@ describe("Instants", () => {
     expect(formatInstant(iso, "Not/AZone")).toBe("Wed 2 Dec 2026, 09:00 UTC"); // an unknown zone falls back to UTC
     expect(formatDay(iso, "Pacific/Auckland")).toBe("Wed 2 Dec 2026"); // NZDT UTC+13: 22:00 the same day
     expect(formatDay("2026-12-02T12:00:00Z", "Pacific/Auckland")).toBe("Thu 3 Dec 2026");
+  });
+
+  test("Remembered texts are the texts worded now: per zone, and still right after many other instants", () => {
+    // A plain formatter with the same options, made here: what each text must equal whether or not it was remembered.
+    const fresh = (at: number, timeZone: string) => {
+      const parts = Object.fromEntries(new Intl.DateTimeFormat("en", { timeZone, weekday: "short", day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit", hourCycle: "h23" }).formatToParts(at).map((part) => [part.type, part.value]));
+      return `${parts.weekday} ${parts.day} ${parts.month} ${parts.year}, ${parts.hour}:${parts.minute}`;
+    };
+    const zones = ["UTC", "Europe/Berlin", "Asia/Tokyo", "America/New_York"];
+    fc.assert(
+      fc.property(fc.integer({ min: Date.UTC(2000, 0, 1), max: Date.UTC(2040, 0, 1) }), fc.constantFrom(...zones), (at, timeZone) => {
+        const first = formatInstant(at, timeZone);
+        expect(first.startsWith(fresh(at, timeZone))).toBe(true);
+        expect(formatInstant(new Date(at).toISOString(), timeZone)).toBe(first);
+      }),
+      { seed: 20261203, numRuns: 300 },
+    );
+    const at = Date.UTC(2026, 11, 2, 9);
+    expect(formatInstant(at, "Asia/Tokyo")).toBe("Wed 2 Dec 2026, 18:00 Asia/Tokyo (09:00 UTC)");
+    expect(formatInstant(at, "UTC")).toBe("Wed 2 Dec 2026, 09:00 UTC"); // the zone is part of what is remembered
+    for (let minute = 1; minute <= 5000; minute++) formatInstant(at + minute * 60_000, "UTC"); // more than are kept
+    expect(formatInstant(at, "Asia/Tokyo")).toBe("Wed 2 Dec 2026, 18:00 Asia/Tokyo (09:00 UTC)");
+  });
+
+  test("Since 1972 an instant's text is its minute's in every zone this runtime knows, so one worded text serves the whole minute", () => {
+    // IANA tz (africa file): Liberia's offset of −0:44:30 was the last with seconds, until 7 Jan 1972.
+    const zones = Intl.supportedValuesOf("timeZone");
+    fc.assert(
+      fc.property(fc.integer({ min: Date.UTC(1972, 1, 1), max: Date.UTC(2040, 0, 1) }), fc.constantFrom(...zones), (at, timeZone) => {
+        const minute = Math.floor(at / 60_000) * 60_000;
+        const format = new Intl.DateTimeFormat("en", { timeZone, day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit", hourCycle: "h23" });
+        expect(format.format(at)).toBe(format.format(minute));
+        expect(formatInstant(at, timeZone)).toBe(formatInstant(minute + 59_999, timeZone));
+      }),
+      { seed: 20261203, numRuns: 3000 },
+    );
+    // Before then a zone with seconds in its offset can turn its minute within a UTC minute: each instant is worded on its own.
+    // Monrovia kept −0:44:30 until 1972: on 1 Jun 1971, 12:00:20 and 12:00:40 UTC are 11:15:50 and 11:16:10 there.
+    expect(formatInstant(Date.UTC(1971, 5, 1, 12, 0, 20), "Africa/Monrovia")).toBe("Tue 1 Jun 1971, 11:15 Africa/Monrovia (12:00 UTC)");
+    expect(formatInstant(Date.UTC(1971, 5, 1, 12, 0, 40), "Africa/Monrovia")).toBe("Tue 1 Jun 1971, 11:16 Africa/Monrovia (12:00 UTC)");
+  });
+
+  test("Whole numbers below a thousand are their digits; the format's answer everywhere (ECMA-402 Intl.NumberFormat)", () => {
+    const grouped = new Intl.NumberFormat("en", { maximumFractionDigits: 3 });
+    fc.assert(fc.property(fc.oneof(fc.integer({ min: -5000, max: 5000 }), fc.double({ min: -5000, max: 5000, noNaN: true }), fc.constant(-0)), (value) => {
+      expect(formatNumber(value)).toBe(grouped.format(value));
+    }), { seed: 20261203, numRuns: 2000 });
   });
 
   test("Relative times count from the given now, in the largest unit that fits", () => {

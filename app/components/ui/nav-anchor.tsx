@@ -1,7 +1,7 @@
 import type { MouseEvent, ReactNode } from "react";
 import { useLocation, useNavigate } from "react-router";
 
-// The frame's navigation (the main bar, the device's tabs) is drawn on every page. React
+// The frame's navigation (the main bar, the device's tabs) and the fleet table's rows are drawn on every page. React
 // Router's Link and NavLink each resolve their path, read the router's contexts and build a
 // click handler per link on the server: for the twenty-odd links of a device page that was
 // about a twentieth of the page's CPU (docs/decisions/026). These anchors take absolute paths
@@ -35,12 +35,13 @@ function followsInApp(event: MouseEvent<HTMLAnchorElement>): boolean {
  * shown, as NavLink marks it). `data-discover` lets the framework fetch the
  * route's code ahead, as it does for its own links.
  */
-export function NavAnchor({ to, context, current, className, title, onNavigate, children }: { to: string; context: NavAnchorContext; current?: "page" | "true"; className?: string; title?: string; onNavigate?: () => void; children: ReactNode }) {
+export function NavAnchor({ to, context, current, className, title, label, onNavigate, children }: { to: string; context: NavAnchorContext; current?: "page" | "true"; className?: string; title?: string; label?: string; onNavigate?: () => void; children: ReactNode }) {
   return (
     <a
       href={to}
       className={className}
       title={title}
+      aria-label={label}
       aria-current={current}
       data-discover="true"
       onClick={(event) => {

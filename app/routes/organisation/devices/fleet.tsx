@@ -15,6 +15,7 @@ import { ButtonLink } from "#app/components/ui/button";
 import { PageHeader } from "#app/components/ui/card";
 import { EmptyState } from "#app/components/ui/empty-state";
 import { Table, Td } from "#app/components/ui/table";
+import { NavAnchor, useNavAnchorContext } from "#app/components/ui/nav-anchor";
 import { Time } from "#app/components/ui/time";
 import { formatNumber, plural } from "#server/engine/format";
 import { looksLikeSource } from "#app/utils/search";
@@ -71,6 +72,8 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
   const { devices, sites, sort, descending, canAdd, canImport, slug, analysing } = loaderData;
   // While a large device's background analysis runs, look again every few seconds and show its figures once stored.
   const revalidator = useRevalidator();
+  // A page holds up to 50 rows of links: plain anchors with one navigate function, not a Link each (decision 026).
+  const anchors = useNavAnchorContext();
   useEffect(() => {
     if (analysing === 0) return;
     const timer = setInterval(() => {
@@ -166,9 +169,9 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
                 <tr key={device.id}>
                   {/* One line where the table has room (names often hold hyphens); on a phone they wrap. */}
                   <Td className="font-medium max-sm:min-w-36! lg:whitespace-nowrap">
-                    <Link to={`/o/${slug}/devices/${device.id}`} className="text-harbour underline-offset-4 hover:underline">
+                    <NavAnchor to={`/o/${slug}/devices/${device.id}`} context={anchors} className="text-harbour underline-offset-4 hover:underline">
                       {device.name}
-                    </Link>
+                    </NavAnchor>
                   </Td>
                   <Td className="text-ink-muted">{device.siteName}</Td>
                   {device.analysing ? (
@@ -190,21 +193,21 @@ export default function Fleet({ loaderData }: Route.ComponentProps) {
                   </Td>
                   <Td className="tabular">
                     {device.openProposals > 0 ? (
-                      <Link to={`/o/${slug}/devices/${device.id}/proposals`} className="text-harbour underline-offset-4 hover:underline" aria-label={`${plural(device.openProposals, { one: "open proposal", other: "open proposals" })} for ${device.name}`}>
+                      <NavAnchor to={`/o/${slug}/devices/${device.id}/proposals`} context={anchors} className="text-harbour underline-offset-4 hover:underline" label={`${plural(device.openProposals, { one: "open proposal", other: "open proposals" })} for ${device.name}`}>
                         {formatNumber(device.openProposals)}
-                      </Link>
+                      </NavAnchor>
                     ) : (
                       <span className="text-ink-faint">none</span>
                     )}
                   </Td>
                   <Td>
                     {device.fieldCheck ? (
-                      <Link to={`/o/${slug}/devices/${device.id}/field-checks/${device.fieldCheck.id}`} className="underline-offset-4 hover:underline" aria-label={`Last field check of ${device.name}`}>
+                      <NavAnchor to={`/o/${slug}/devices/${device.id}/field-checks/${device.fieldCheck.id}`} context={anchors} className="underline-offset-4 hover:underline" label={`Last field check of ${device.name}`}>
                         <AgreementRate counts={device.fieldCheck.counts} className="text-xs" />
                         <span className="block text-xs text-ink-muted">
                           <Time at={device.fieldCheck.createdAt} now={loaderData.now} />
                         </span>
-                      </Link>
+                      </NavAnchor>
                     ) : (
                       <span className="text-xs text-ink-faint">none yet</span>
                     )}
