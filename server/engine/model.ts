@@ -120,15 +120,17 @@ function schemaFor(strict: boolean) {
 }
 
 const STRICT_SCHEMA = schemaFor(true);
-const LOOSE_SCHEMA = schemaFor(false);
+/** The loose schema (unknown fields dropped), built when a document first has one: most never do. */
+let looseSchema: ReturnType<typeof schemaFor> | undefined;
+const looseSchemaOnce = (): ReturnType<typeof schemaFor> => (looseSchema ??= schemaFor(false));
 
 /** The version-2 document as parseModel checks it first (strict: unknown fields refused); the API's document describes it. */
 export const MODEL_DOCUMENT_SCHEMA = STRICT_SCHEMA;
 
 /** A validated device model document with every default filled in and CIDRs normalised. */
-export type DeviceModel = z.output<typeof LOOSE_SCHEMA>;
+export type DeviceModel = z.output<ReturnType<typeof schemaFor>>;
 /** The document as written (optional fields may be missing). */
-export type DeviceModelInput = z.input<typeof LOOSE_SCHEMA>;
+export type DeviceModelInput = z.input<ReturnType<typeof schemaFor>>;
 export type DeviceInterface = DeviceModel["interfaces"][number];
 export type InboundRule = DeviceModel["inboundRules"][number];
 export type Account = DeviceModel["accounts"][number];
@@ -225,7 +227,7 @@ function parseCurrent(input: unknown, warnings: ValidationIssue[]): ParseResult 
   let model: DeviceModel;
   if (strict.success) model = strict.data;
   else {
-    const loose = LOOSE_SCHEMA.safeParse(input);
+    const loose = looseSchemaOnce().safeParse(input);
     if (!loose.success) {
       return { ok: false, errors: loose.error.issues.map((i) => ({ path: formatPath(i.path), message: i.message })), warnings };
     }
