@@ -36,6 +36,8 @@ export function serviceKey(protocol: Protocol, port: number | null): string {
   return protocol === "icmp" ? "icmp/echo" : `${protocol}/${port}`;
 }
 
+// Kept in step with model-shape.ts, the hand-written reader that gives this schema's value for
+// plainly valid documents: a change here goes there too (tests/engine/model-shape.test.ts).
 function schemaFor(strict: boolean) {
   const obj = <T extends z.ZodRawShape>(shape: T) => (strict ? z.strictObject(shape) : z.object(shape));
   const name = z.string().regex(NAME_PATTERN, { message: "must be 1-63 characters of A-Z a-z 0-9 . _ -" });
