@@ -429,8 +429,19 @@ export function parseCidr(text: string): ParsedEntry {
     const a = parseAddress(trimmed);
     return { range: { family: a.family, first: a.value, last: a.value } };
   }
-  const a = parseAddress(trimmed.slice(0, slash));
+  const addressText = trimmed.slice(0, slash);
   const prefixText = trimmed.slice(slash + 1);
+  // IPv4 on numbers (exact below 2^32): two BigInts per CIDR, not six bigint steps.
+  const v4 = addressText.includes(":") ? null : parseIPv4Number(addressText);
+  if (v4 !== null) {
+    if (!PREFIX.test(prefixText) || Number(prefixText) > 32) throw new AddressSyntaxError(`"${text}" has an invalid prefix length (0-32)`);
+    const prefix = Number(prefixText);
+    const size = POW2[32 - prefix];
+    const first = v4 - (v4 % size);
+    const range = { family: 4 as const, first: BigInt(first), last: BigInt(first + size - 1) };
+    return first === v4 ? { range } : { range, normalised: formatCidr(4, range.first, prefix) };
+  }
+  const a = parseAddress(addressText);
   const info = FAMILY[a.family];
   if (!PREFIX.test(prefixText) || Number(prefixText) > info.bits) {
     throw new AddressSyntaxError(`"${text}" has an invalid prefix length (0-${info.bits})`);

@@ -14,6 +14,7 @@ import {
   parseEntry,
   parseIPv4Number,
   parseIPv6Value,
+  parseCidr,
   rangeToCidrs,
 } from "#server/engine/addresses.ts";
 import type { Family } from "#server/engine/addresses.ts";
@@ -328,4 +329,19 @@ describe("IPv6 text read by a scan equals the plain reading", () => {
       expect(parseIPv6Value(text), text).toBe(referenceIPv6Value(text));
     }
   }, 20_000);
+});
+
+describe("IPv4 CIDRs read on numbers equal the bigint reading", () => {
+  test("any address and prefix 0-32: the block's bounds, and the normalised text when host bits are set (RFC 4632 §3.1)", () => {
+    fc.assert(
+      fc.property(v4, fc.integer({ min: 0, max: 32 }), (value, prefix) => {
+        const host = BigInt(32 - prefix);
+        const first = (value >> host) << host;
+        const parsed = parseCidr(`${formatAddress(4, value)}/${prefix}`);
+        expect(parsed.range).toEqual({ family: 4, first, last: first + (1n << host) - 1n });
+        expect(parsed.normalised).toBe(first === value ? undefined : `${formatAddress(4, first)}/${prefix}`);
+      }),
+      propertyParameters({ numRuns: 2000, timeoutMs: 15_000 }),
+    );
+  }, 15_000);
 });
