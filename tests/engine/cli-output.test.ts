@@ -183,7 +183,7 @@ describe("the exposure's CIDR lists written as bytes", () => {
     expect(Buffer.concat([...jsonPieces(written, { indent: 2 })]).toString("utf8")).toBe(JSON.stringify(map, null, 2));
   });
 
-  test("range texts kept or not, shared between layouts and slices: the same text (a cache of no room, a few kilobytes, the default)", () => {
+  test("range texts kept or not, shared between layouts and slices: the same text (a cache of no room, a few kilobytes, the default)", { timeout: 60_000 }, () => {
     const parsed = parseModel(MODEL);
     if (!parsed.ok) throw new Error("generated model invalid");
     const device = compileModel(parsed.model);
@@ -199,7 +199,7 @@ describe("the exposure's CIDR lists written as bytes", () => {
     }
   });
 
-  test("an entry whose lists are not its partition's is written as it is", () => {
+  test("an entry whose lists are not its partition's is written as it is", { timeout: 60_000 }, () => {
     const parsed = parseModel(MODEL);
     if (!parsed.ok) throw new Error("generated model invalid");
     const device = compileModel(parsed.model);

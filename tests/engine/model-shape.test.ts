@@ -164,7 +164,7 @@ describe("the model document's shape read by hand equals the schema's parse", ()
     expect(read).toBeGreaterThan(20);
   });
 
-  test("near misses at every bound are left to the schema, which refuses them", () => {
+  test("near misses at every bound are left to the schema, which refuses them", { timeout: 30_000 }, () => {
     const valid = (): Json => ({
       schemaVersion: 2,
       device: { name: "d" },
@@ -210,7 +210,7 @@ describe("the model document's shape read by hand equals the schema's parse", ()
     expect(readPlainDocument(null)).toBeUndefined();
   });
 
-  test("the benchmark's model is read by hand, with the same validation result", () => {
+  test("the benchmark's model is read by hand, with the same validation result", { timeout: 30_000 }, () => {
     const doc = generateModel(20250301, BENCH_SIZE).model;
     expect(agree(doc)).toBe(true);
     expect(parseModel(doc).ok).toBe(true);
