@@ -29,7 +29,7 @@ import { readObservationsCsv } from "../formats/observations.ts";
 import { CsvSyntaxError, parseCsv } from "../formats/csv.ts";
 import { formatPercent, plural } from "../engine/format.ts";
 import { jsonPieces } from "../formats/json-stream.ts";
-import { withCidrBytes } from "./exposure-json.ts";
+import { CidrTextCache, withCidrBytes } from "./exposure-json.ts";
 import { table } from "./table.ts";
 import { USAGE } from "./usage.ts";
 import type { Io, Options } from "./usage.ts";
@@ -288,18 +288,20 @@ async function exposureCommand(files: readonly string[], values: Options, io: Io
   if (values.at !== undefined) {
     const atMs = device.instantOf(values.at, Date.now());
     const map = exposure(device, atMs);
-    if (values.json === true) await writeJson(io, withCidrBytes(map));
+    if (values.json === true) await writeJson(io, withCidrBytes(map, device, device.sliceAt(atMs)));
     else await write(io, `exposure at ${map.at} (device clock ${map.localTime}; slice ${map.slice.start} – ${map.slice.end})\n\n${table(headers, exposureRows(map.entries))}`);
     return 0;
   }
   const count = device.week.slices.length;
   let index = 0;
   // Built and written one slice at a time; with --json each slice is one compact line of one document.
+  // The slices' lists cut the address space at mostly the same edges: their range texts are shared.
+  const texts = new CidrTextCache();
   if (values.json === true) await write(io, '{\n"slices": [\n');
   for (const s of exposureSlices(device)) {
     index++;
     if (values.json === true) {
-      await writeJson(io, withCidrBytes(s), 0, index < count ? ",\n" : "\n");
+      await writeJson(io, withCidrBytes(s, device, index - 1, texts), 0, index < count ? ",\n" : "\n");
       continue;
     }
     const schedules = s.activeSchedules.length > 0 ? s.activeSchedules.join(", ") : "none";

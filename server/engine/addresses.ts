@@ -33,7 +33,18 @@ export class AddressSyntaxError extends Error {
   override name = "AddressSyntaxError";
 }
 
-const HEX_GROUP = /^[0-9A-Fa-f]{1,4}$/;
+/** A group of one to four hex digits (any case) as a number, or -1. */
+function readHexGroup(part: string): number {
+  if (part.length === 0 || part.length > 4) return -1;
+  let value = 0;
+  for (let i = 0; i < part.length; i++) {
+    const c = part.charCodeAt(i);
+    const digit = c >= 48 && c <= 57 ? c - 48 : c >= 97 && c <= 102 ? c - 87 : c >= 65 && c <= 70 ? c - 55 : -1;
+    if (digit < 0) return -1;
+    value = value * 16 + digit;
+  }
+  return value;
+}
 
 /** IPv4 dotted quad as a number, or null. Four parts, no leading zeros (they read as octal elsewhere). */
 export function parseIPv4Number(text: string): number | null {
@@ -59,6 +70,10 @@ export function parseIPv4Number(text: string): number | null {
   return parts === 4 ? value : null;
 }
 
+/** Scratch for the groups of an IPv6 address being read (parsing never re-enters itself). */
+const READ_GROUPS = new Float64Array(8);
+const READ_WORDS: Words = new Float64Array(4);
+
 /** IPv6 text (any case, compressed or exploded, optional trailing dotted quad) as a bigint, or null. */
 export function parseIPv6Value(text: string): bigint | null {
   if (text.length < 2 || text.length > 45) return null;
@@ -66,34 +81,39 @@ export function parseIPv6Value(text: string): bigint | null {
   if (halves.length > 2) return null;
   const head = halves[0] === "" ? [] : halves[0].split(":");
   const tail = halves.length === 2 ? (halves[1] === "" ? [] : halves[1].split(":")) : [];
-  const groups: number[] = [];
-  const tailGroups: number[] = [];
-  const readGroups = (parts: string[], out: number[], mayEndInIPv4: boolean): boolean => {
+  const g = READ_GROUPS;
+  /** Reads parts into g from `at`; the count of groups after them, or -1 (more than 8 is -1 too). */
+  const readGroups = (parts: string[], at: number, mayEndInIPv4: boolean): number => {
     for (let i = 0; i < parts.length; i++) {
       const part = parts[i];
       if (mayEndInIPv4 && i === parts.length - 1 && part.includes(".")) {
         const v4 = parseIPv4Number(part);
-        if (v4 === null) return false;
-        out.push(Math.floor(v4 / 65536), v4 % 65536);
+        if (v4 === null || at + 2 > 8) return -1;
+        g[at++] = Math.floor(v4 / 65536);
+        g[at++] = v4 % 65536;
       } else {
-        if (!HEX_GROUP.test(part)) return false;
-        out.push(parseInt(part, 16));
+        const group = readHexGroup(part);
+        if (group < 0 || at + 1 > 8) return -1;
+        g[at++] = group;
       }
     }
-    return true;
+    return at;
   };
   if (halves.length === 1) {
-    if (!readGroups(head, groups, true) || groups.length !== 8) return null;
+    if (readGroups(head, 0, true) !== 8) return null;
   } else {
-    if (!readGroups(head, groups, false) || !readGroups(tail, tailGroups, true)) return null;
-    // "::" stands for at least one zero group (RFC 4291 §2.2).
-    if (groups.length + tailGroups.length > 7) return null;
-    while (groups.length + tailGroups.length < 8) groups.push(0);
-    groups.push(...tailGroups);
+    const before = readGroups(head, 0, false);
+    if (before < 0) return null;
+    // The tail is read after the head's groups, then moved to the end; "::" stands for at least one zero group (RFC 4291 §2.2).
+    const end = readGroups(tail, before, true);
+    if (end < 0 || end > 7) return null;
+    const after = end - before;
+    g.copyWithin(8 - after, before, end);
+    g.fill(0, before, 8 - after);
   }
-  let value = 0n;
-  for (const g of groups) value = (value << 16n) | BigInt(g);
-  return value;
+  const w = READ_WORDS;
+  for (let i = 0; i < 4; i++) w[i] = g[2 * i] * 65536 + g[2 * i + 1];
+  return fromWords(w);
 }
 
 /** Parses one address; throws AddressSyntaxError quoting the input. */
@@ -409,8 +429,19 @@ export function parseCidr(text: string): ParsedEntry {
     const a = parseAddress(trimmed);
     return { range: { family: a.family, first: a.value, last: a.value } };
   }
-  const a = parseAddress(trimmed.slice(0, slash));
+  const addressText = trimmed.slice(0, slash);
   const prefixText = trimmed.slice(slash + 1);
+  // IPv4 on numbers (exact below 2^32): two BigInts per CIDR, not six bigint steps.
+  const v4 = addressText.includes(":") ? null : parseIPv4Number(addressText);
+  if (v4 !== null) {
+    if (!PREFIX.test(prefixText) || Number(prefixText) > 32) throw new AddressSyntaxError(`"${text}" has an invalid prefix length (0-32)`);
+    const prefix = Number(prefixText);
+    const size = POW2[32 - prefix];
+    const first = v4 - (v4 % size);
+    const range = { family: 4 as const, first: BigInt(first), last: BigInt(first + size - 1) };
+    return first === v4 ? { range } : { range, normalised: formatCidr(4, range.first, prefix) };
+  }
+  const a = parseAddress(addressText);
   const info = FAMILY[a.family];
   if (!PREFIX.test(prefixText) || Number(prefixText) > info.bits) {
     throw new AddressSyntaxError(`"${text}" has an invalid prefix length (0-${info.bits})`);

@@ -4,6 +4,7 @@
 
 import { z } from "zod";
 import { AddressSyntaxError, formatAddress, parseEntry, parseInterfaceAddress } from "./addresses.ts";
+import { readPlainDocument } from "./model-shape.ts";
 import { isValidTimeZone } from "./schedules.ts";
 import { upgradeModel } from "./upgrade.ts";
 import type { VersionOneRole } from "./upgrade.ts";
@@ -35,6 +36,8 @@ export function serviceKey(protocol: Protocol, port: number | null): string {
   return protocol === "icmp" ? "icmp/echo" : `${protocol}/${port}`;
 }
 
+// Kept in step with model-shape.ts, the hand-written reader that gives this schema's value for
+// plainly valid documents: a change here goes there too (tests/engine/model-shape.test.ts).
 function schemaFor(strict: boolean) {
   const obj = <T extends z.ZodRawShape>(shape: T) => (strict ? z.strictObject(shape) : z.object(shape));
   const name = z.string().regex(NAME_PATTERN, { message: "must be 1-63 characters of A-Z a-z 0-9 . _ -" });
@@ -119,15 +122,17 @@ function schemaFor(strict: boolean) {
 }
 
 const STRICT_SCHEMA = schemaFor(true);
-const LOOSE_SCHEMA = schemaFor(false);
+/** The loose schema (unknown fields dropped), built when a document first has one: most never do. */
+let looseSchema: ReturnType<typeof schemaFor> | undefined;
+const looseSchemaOnce = (): ReturnType<typeof schemaFor> => (looseSchema ??= schemaFor(false));
 
 /** The version-2 document as parseModel checks it first (strict: unknown fields refused); the API's document describes it. */
 export const MODEL_DOCUMENT_SCHEMA = STRICT_SCHEMA;
 
 /** A validated device model document with every default filled in and CIDRs normalised. */
-export type DeviceModel = z.output<typeof LOOSE_SCHEMA>;
+export type DeviceModel = z.output<ReturnType<typeof schemaFor>>;
 /** The document as written (optional fields may be missing). */
-export type DeviceModelInput = z.input<typeof LOOSE_SCHEMA>;
+export type DeviceModelInput = z.input<ReturnType<typeof schemaFor>>;
 export type DeviceInterface = DeviceModel["interfaces"][number];
 export type InboundRule = DeviceModel["inboundRules"][number];
 export type Account = DeviceModel["accounts"][number];
@@ -203,7 +208,10 @@ export function parseModel(input: unknown): ParseResult {
 
 function parseCurrent(input: unknown, warnings: ValidationIssue[]): ParseResult {
   const errors: ValidationIssue[] = [];
-  const strict = STRICT_SCHEMA.safeParse(input);
+  // A plainly valid document is read by hand (model-shape.ts): the schema's value, found faster;
+  // anything else goes through the schema, which alone says what is wrong.
+  const plain = readPlainDocument(input);
+  const strict = plain !== undefined ? ({ success: true, data: plain } as const) : STRICT_SCHEMA.safeParse(input);
   if (!strict.success) {
     for (const issue of strict.error.issues) {
       if (issue.code === "unrecognized_keys") {
@@ -221,7 +229,7 @@ function parseCurrent(input: unknown, warnings: ValidationIssue[]): ParseResult 
   let model: DeviceModel;
   if (strict.success) model = strict.data;
   else {
-    const loose = LOOSE_SCHEMA.safeParse(input);
+    const loose = looseSchemaOnce().safeParse(input);
     if (!loose.success) {
       return { ok: false, errors: loose.error.issues.map((i) => ({ path: formatPath(i.path), message: i.message })), warnings };
     }

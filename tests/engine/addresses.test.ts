@@ -12,6 +12,9 @@ import {
   formatAddress,
   parseAddress,
   parseEntry,
+  parseIPv4Number,
+  parseIPv6Value,
+  parseCidr,
   rangeToCidrs,
 } from "#server/engine/addresses.ts";
 import type { Family } from "#server/engine/addresses.ts";
@@ -261,4 +264,84 @@ describe("set algebra agrees with a brute-force membership table", () => {
       propertyParameters(BUDGETS.quick),
     );
   }, BUDGETS.quick.timeoutMs);
+});
+
+/**
+ * The plain reading of IPv6 text, by splitting and a regular expression, that parseIPv6Value
+ * replaced with a scan (common practice, no source): the two must accept the same texts with
+ * the same values.
+ */
+function referenceIPv6Value(text: string): bigint | null {
+  if (text.length < 2 || text.length > 45) return null;
+  const halves = text.split("::");
+  if (halves.length > 2) return null;
+  const head = halves[0] === "" ? [] : halves[0].split(":");
+  const tail = halves.length === 2 ? (halves[1] === "" ? [] : halves[1].split(":")) : [];
+  const read = (parts: string[], mayEndInIPv4: boolean): number[] | null => {
+    const out: number[] = [];
+    for (let i = 0; i < parts.length; i++) {
+      if (mayEndInIPv4 && i === parts.length - 1 && parts[i].includes(".")) {
+        const v4 = parseIPv4Number(parts[i]);
+        if (v4 === null) return null;
+        out.push(Math.floor(v4 / 65536), v4 % 65536);
+      } else if (/^[0-9A-Fa-f]{1,4}$/.test(parts[i])) out.push(parseInt(parts[i], 16));
+      else return null;
+    }
+    return out;
+  };
+  let groups: number[];
+  if (halves.length === 1) {
+    const all = read(head, true);
+    if (all === null || all.length !== 8) return null;
+    groups = all;
+  } else {
+    const before = read(head, false);
+    const after = read(tail, true);
+    if (before === null || after === null || before.length + after.length > 7) return null;
+    groups = [...before, ...Array<number>(8 - before.length - after.length).fill(0), ...after];
+  }
+  return groups.reduce((value, g) => (value << 16n) | BigInt(g), 0n);
+}
+
+describe("IPv6 text read by a scan equals the plain reading", () => {
+  test("random texts of hex digits, colons and dots, and addresses written every way", () => {
+    const piece = fc.constantFrom("0", "1", "a", "F", "ffff", "12345", "g", ":", "::", ":::", ".", "1.2.3.4", "255.255.255.255", "01.2.3.4", "0:0", "");
+    const texts = fc.oneof(
+      fc.array(piece, { maxLength: 14 }).map((parts) => parts.join("")),
+      fc.array(piece, { maxLength: 10 }).map((parts) => parts.join(":")),
+      // Seven to nine groups with "::" somewhere: one group too many is the edge.
+      fc.tuple(fc.array(fc.constantFrom("1", "ab", "1.2.3.4"), { minLength: 6, maxLength: 9 }), fc.nat()).map(([groups, at]) => {
+        const k = at % (groups.length + 1);
+        return `${groups.slice(0, k).join(":")}::${groups.slice(k).join(":")}`;
+      }),
+      fc.tuple(v6, fc.integer({ min: 0, max: 7 }), fc.boolean()).map(([value, zeros, upper]) => {
+        const text = ipaddr.IPv6.parse(formatAddress(6, value & ~(((1n << BigInt(16 * zeros)) - 1n) << 32n))).toNormalizedString();
+        return upper ? text.toUpperCase() : text;
+      }),
+    );
+    fc.assert(
+      fc.property(texts, (text) => {
+        expect(parseIPv6Value(text)).toBe(referenceIPv6Value(text));
+      }),
+      propertyParameters({ numRuns: 3000, timeoutMs: 20_000 }),
+    );
+    for (const text of ["::", "::1", "1::", "1:2:3:4:5:6:7:8", "1:2:3:4:5:6:7::", "::2:3:4:5:6:7:8", "1:2:3:4:5:6:1.2.3.4", "::ffff:192.0.2.1", "1::2::3", "1:2:3:4:5:6:7:8:9", "1:2:3:4:5:6:7", ":1:2:3:4:5:6:7", "1.2.3.4::", "::1.2.3.4:1", "1:2:3:4::5:6:7:8", "1:2:3:4:5:6:7:8::", "::1:2:3:4:5:6:1.2.3.4", "1::2:3:4:5:6:1.2.3.4"]) {
+      expect(parseIPv6Value(text), text).toBe(referenceIPv6Value(text));
+    }
+  }, 20_000);
+});
+
+describe("IPv4 CIDRs read on numbers equal the bigint reading", () => {
+  test("any address and prefix 0-32: the block's bounds, and the normalised text when host bits are set (RFC 4632 §3.1)", () => {
+    fc.assert(
+      fc.property(v4, fc.integer({ min: 0, max: 32 }), (value, prefix) => {
+        const host = BigInt(32 - prefix);
+        const first = (value >> host) << host;
+        const parsed = parseCidr(`${formatAddress(4, value)}/${prefix}`);
+        expect(parsed.range).toEqual({ family: 4, first, last: first + (1n << host) - 1n });
+        expect(parsed.normalised).toBe(first === value ? undefined : `${formatAddress(4, first)}/${prefix}`);
+      }),
+      propertyParameters({ numRuns: 2000, timeoutMs: 15_000 }),
+    );
+  }, 15_000);
 });

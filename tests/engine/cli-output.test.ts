@@ -15,7 +15,7 @@ import { compileModel, diffModels, exposure, findings, parseModel, reach } from 
 import { generateModel } from "#server/engine/testing/generate-model.ts";
 import { buildCli } from "#server/cli/build.mjs";
 import { freshBundle } from "#server/cli/fresh-bundle.mjs";
-import { withCidrBytes } from "#server/cli/exposure-json.ts";
+import { CidrTextCache, withCidrBytes } from "#server/cli/exposure-json.ts";
 import { jsonPieces, OWN_JSON } from "#server/formats/json-stream.ts";
 
 const ROOT = join(import.meta.dirname, "../..");
@@ -175,10 +175,41 @@ describe("the exposure's CIDR lists written as bytes", () => {
   test("every entry the engine made takes the byte path (no silent fall-back to rendering strings), with the same JSON text", () => {
     const parsed = parseModel(MODEL);
     if (!parsed.ok) throw new Error("generated model invalid");
-    const map = exposure(compileModel(parsed.model), Date.parse(AT));
-    const written = withCidrBytes(map) as { entries: { ranges: object }[] };
+    const device = compileModel(parsed.model);
+    const map = exposure(device, Date.parse(AT));
+    const written = withCidrBytes(map, device, device.sliceAt(Date.parse(AT))) as { entries: { ranges: object }[] };
     expect(written.entries.length).toBe(map.entries.length);
     expect(written.entries.every((entry) => OWN_JSON in entry.ranges)).toBe(true);
     expect(Buffer.concat([...jsonPieces(written, { indent: 2 })]).toString("utf8")).toBe(JSON.stringify(map, null, 2));
+  });
+
+  test("range texts kept or not, shared between layouts and slices: the same text (a cache of no room, a few kilobytes, the default)", { timeout: 60_000 }, () => {
+    const parsed = parseModel(MODEL);
+    if (!parsed.ok) throw new Error("generated model invalid");
+    const device = compileModel(parsed.model);
+    const slices = exposure(device).slices.slice(0, 3);
+    for (const cache of [new CidrTextCache(0), new CidrTextCache(4096), new CidrTextCache()]) {
+      slices.forEach((slice, index) => {
+        // Compact and indented in turn through one cache: each layout keeps its own texts.
+        for (const indent of [0, 2]) {
+          const text = Buffer.concat([...jsonPieces(withCidrBytes(slice, device, index, cache), { indent })]).toString("utf8");
+          expect(text).toBe(JSON.stringify(slice, null, indent));
+        }
+      });
+    }
+  });
+
+  test("an entry whose lists are not its partition's is written as it is", { timeout: 60_000 }, () => {
+    const parsed = parseModel(MODEL);
+    if (!parsed.ok) throw new Error("generated model invalid");
+    const device = compileModel(parsed.model);
+    const map = exposure(device, Date.parse(AT));
+    // The entries in another order: each entry's lists belong to another cell's partition.
+    const shuffled = { ...map, entries: [...map.entries].reverse() };
+    const written = withCidrBytes(shuffled, device, device.sliceAt(Date.parse(AT))) as { entries: { ranges: object }[] };
+    const distinct = new Set(map.entries.map((entry) => entry.ranges)).size;
+    expect(distinct).toBeGreaterThan(1);
+    expect(written.entries.some((entry) => !(OWN_JSON in entry.ranges))).toBe(true);
+    expect(Buffer.concat([...jsonPieces(written, { indent: 2 })]).toString("utf8")).toBe(JSON.stringify(shuffled, null, 2));
   });
 });
