@@ -460,7 +460,8 @@ export class CompiledModel {
       const j = basisIndexOf?.get(id);
       return j !== undefined && basis !== undefined && basis.sourceKeys[j] === sourceKey ? basis.ruleSlots[j] : undefined;
     };
-    this.ruleSlots = Int32Array.from(model.inboundRules, (r, i) => (sameElements ? (basisSlotOf(r.id, this.sourceKeys[i]) ?? slotCount++) : i));
+    this.ruleSlots = new Int32Array(model.inboundRules.length);
+    for (let i = 0; i < this.ruleSlots.length; i++) this.ruleSlots[i] = sameElements ? (basisSlotOf(model.inboundRules[i].id, this.sourceKeys[i]) ?? slotCount++) : i;
     this.slotCount = slotCount;
     this.slotPositions = new Int32Array(slotCount).fill(-1);
     this.ruleSlots.forEach((slot, position) => (this.slotPositions[slot] = position));
@@ -1938,7 +1939,11 @@ function sameLists(a: InboundRule, b: InboundRule): boolean {
 }
 
 function sameNames(x: readonly unknown[], y: readonly unknown[]): boolean {
-  return x.length === y.length && x.every((v, i) => v === y[i]);
+  if (x === y) return true;
+  if (x.length !== y.length) return false;
+  // A plain loop: every edit compares each rule's lists and every address object's entries (an `every` callback cost several times more).
+  for (let i = 0; i < x.length; i++) if (x[i] !== y[i]) return false;
+  return true;
 }
 
 /** Whether two runs lists are equal element by element. */
@@ -1958,11 +1963,19 @@ function sameSlots(partition: RulePartition, family: Family, active: Int32Array)
 }
 
 function sameAddressBook(a: DeviceModel, b: DeviceModel): boolean {
+  if (a.addresses === b.addresses && a.addressGroups === b.addressGroups) return true;
   if (a.addresses.length !== b.addresses.length || a.addressGroups.length !== b.addressGroups.length) return false;
-  return (
-    a.addresses.every((o, i) => o.name === b.addresses[i].name && sameNames(o.entries, b.addresses[i].entries)) &&
-    a.addressGroups.every((g, i) => g.name === b.addressGroups[i].name && sameNames(g.members, b.addressGroups[i].members))
-  );
+  for (let i = 0; i < a.addresses.length; i++) {
+    const x = a.addresses[i];
+    const y = b.addresses[i];
+    if (x !== y && (x.name !== y.name || !sameNames(x.entries, y.entries))) return false;
+  }
+  for (let i = 0; i < a.addressGroups.length; i++) {
+    const x = a.addressGroups[i];
+    const y = b.addressGroups[i];
+    if (x !== y && (x.name !== y.name || !sameNames(x.members, y.members))) return false;
+  }
+  return true;
 }
 
 export function parseProbeAddress(text: string, field: string): Address {

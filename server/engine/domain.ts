@@ -22,6 +22,10 @@ export interface SparseBits {
 /** 32-bit limbs per IPv6 bound: 2^128 itself needs a fifth. */
 const LIMBS = 5;
 
+/** FNV-1a's offset basis and prime (32-bit), for the content hash of stored sparse bitsets. */
+const HASH_SEED = 0x811c9dc5;
+const HASH_PRIME = 0x01000193;
+
 /** Sizes (32-bit entries) of the chunks sparse bitsets are stored in: 4 KiB at first, doubling up to 1 MiB. */
 const CHUNK_MIN = 1024;
 const CHUNK_MAX = 262_144;
@@ -169,6 +173,8 @@ export class Domain {
       if (words[count - 1] >>> 5 > high) high = words[count - 1] >>> 5;
     }
     let n = 0;
+    // The content hash (#stored's) is taken on the way.
+    let hash = HASH_SEED;
     for (let i = low; i <= high; i++) {
       let bits = touched[i];
       if (bits === 0) continue;
@@ -177,13 +183,15 @@ export class Domain {
       while (bits !== 0) {
         const lowest = bits & -bits;
         const w = base + 31 - Math.clz32(lowest);
+        const mask = dense[w];
         out[n] = w;
-        masks[n++] = dense[w];
+        masks[n++] = mask;
         dense[w] = 0;
+        hash = Math.imul(Math.imul(hash ^ w, HASH_PRIME) ^ mask, HASH_PRIME);
         bits ^= lowest;
       }
     }
-    return this.#stored(out, masks, n);
+    return this.#stored(out, masks, n, hash);
   }
 
   /**
@@ -199,10 +207,15 @@ export class Domain {
   #chunk = new Int32Array(0);
   #chunkUsed = 0;
 
-  /** The first n entries of words and masks (scratch) as a stored sparse bitset: an equal one made before, or a new one. */
-  #stored(words: Int32Array, masks: Int32Array, n: number): SparseBits {
-    let hash = 0x811c9dc5 ^ n;
-    for (let j = 0; j < n; j++) hash = Math.imul(Math.imul(hash ^ words[j], 0x01000193) ^ masks[j], 0x01000193);
+  /**
+   * The first n entries of words and masks (scratch) as a stored sparse bitset: an equal one
+   * made before, or a new one. `contentHash`: the words' and masks' hash from HASH_SEED, when
+   * the caller took it while writing them.
+   */
+  #stored(words: Int32Array, masks: Int32Array, n: number, contentHash?: number): SparseBits {
+    let hash = contentHash ?? HASH_SEED;
+    if (contentHash === undefined) for (let j = 0; j < n; j++) hash = Math.imul(Math.imul(hash ^ words[j], HASH_PRIME) ^ masks[j], HASH_PRIME);
+    hash = Math.imul(hash ^ n, HASH_PRIME);
     const bucket = this.#bitsByContent.get(hash);
     if (bucket !== undefined) {
       for (const known of bucket) {
