@@ -1259,13 +1259,8 @@ export class CompiledModel {
     for (let k = 0; k < values.length; k++) {
       if (patched[values[k] + 1] === 0) continue;
       const end = k + 1 < starts.length ? starts[k + 1] : domain.size;
-      for (let element = starts[k]; element < end; element++) {
-        const w = element >>> 5;
-        if (need[w] === 0) needWords.push(w);
-        need[w] |= 1 << (element & 31);
-        owner[element] = -1;
-        count++;
-      }
+      markNeeded(need, needWords, owner, starts[k], end);
+      count += end - starts[k];
     }
     if (count === 0) {
       // The off rules took nothing: every element keeps its owner, and the runs are the base's (shared, not copied).
@@ -1278,12 +1273,13 @@ export class CompiledModel {
     const familySlot = family === 4 ? 0 : 1;
     // The rules of the base's list that are on (the active list), in order.
     const all = base.active;
-    for (let k = 0; k < all.length && count > 0; k++) {
+    let live = wordsInOrder.length;
+    for (let k = 0; k < all.length && live > 0; k++) {
       const slot = all[k];
       if (patched[slot + 1] === 1) continue;
       const position = this.slotPositions[slot];
       if (position < firstOff) continue;
-      count -= claimNeeded(need, wordsInOrder, owner, slot, this.ruleBits[position][familySlot]);
+      live = claimNeeded(need, wordsInOrder, live, owner, slot, this.ruleBits[position][familySlot]);
     }
     const runs = this.internedRuns(family, patchedRuns(base.owner, patched, owner, domain.size));
     for (const slot of offSlots) patched[slot + 1] = 0;
@@ -1391,18 +1387,14 @@ export class CompiledModel {
       for (let k = 0; k < starts.length; k++) {
         if (values[k] !== removed) continue;
         const end = k + 1 < starts.length ? starts[k + 1] : domain.size;
-        for (let element = starts[k]; element < end; element++) {
-          const w = element >>> 5;
-          if (need[w] === 0) needWords.push(w);
-          need[w] |= 1 << (element & 31);
-          owner[element] = -1;
-          count++;
-        }
+        markNeeded(need, needWords, owner, starts[k], end);
+        count += end - starts[k];
       }
       const wordsInOrder = Int32Array.from(needWords).sort();
-      for (let k = removeAt + 1; k < base.active.length && count > 0; k++) {
+      let live = count > 0 ? wordsInOrder.length : 0;
+      for (let k = removeAt + 1; k < base.active.length && live > 0; k++) {
         const slot = base.active[k];
-        count -= claimNeeded(need, wordsInOrder, owner, slot, basis.ruleBits[basis.slotPositions[slot]][familySlot]);
+        live = claimNeeded(need, wordsInOrder, live, owner, slot, basis.ruleBits[basis.slotPositions[slot]][familySlot]);
       }
       const patched = (this.patchScratch ??= new Uint8Array(this.slotCount + 1));
       patched[removed + 1] = 1;
@@ -1686,12 +1678,36 @@ export class CompiledModel {
  * `wordsInOrder`) that the rule's bits cover to its slot, taking them out of `need`; returns
  * how many it took. The rule's words are searched from each needed word on, not swept.
  */
-function claimNeeded(need: Int32Array, wordsInOrder: Int32Array, owner: Int32Array, slot: number, bits: SparseBits): number {
+/**
+ * Marks the elements start … end-1 as needing an owner: their bits in `need` (a word met for
+ * the first time is listed in `needWords`) and -1 (the default) in `owner`, a word at a time.
+ */
+function markNeeded(need: Int32Array, needWords: number[], owner: Int32Array, start: number, end: number): void {
+  owner.fill(-1, start, end);
+  const last = end - 1;
+  const firstWord = start >>> 5;
+  const lastWord = last >>> 5;
+  for (let w = firstWord; w <= lastWord; w++) {
+    const lo = w === firstWord ? start & 31 : 0;
+    const hi = w === lastWord ? last & 31 : 31;
+    const mask = hi - lo === 31 ? -1 : ((1 << (hi - lo + 1)) - 1) << lo;
+    if (need[w] === 0) needWords.push(w);
+    need[w] |= mask;
+  }
+}
+
+/**
+ * Gives the rule (slot) the needed elements its bits hold, in the first `live` words of
+ * `wordsInOrder` (ascending); returns how many of those words still need elements, moved to
+ * the front, so later rules walk only what is left (words whose elements are all taken drop out).
+ */
+function claimNeeded(need: Int32Array, wordsInOrder: Int32Array, live: number, owner: Int32Array, slot: number, bits: SparseBits): number {
   const { words, masks } = bits;
-  let taken = 0;
+  let kept = 0;
   let from = 0;
-  for (const w of wordsInOrder) {
-    if (need[w] === 0) continue;
+  let i = 0;
+  for (; i < live; i++) {
+    const w = wordsInOrder[i];
     // The first of the rule's words at or after w (both ascending).
     let hi = words.length;
     while (from < hi) {
@@ -1700,19 +1716,23 @@ function claimNeeded(need: Int32Array, wordsInOrder: Int32Array, owner: Int32Arr
       else hi = mid;
     }
     if (from === words.length) break;
-    if (words[from] !== w) continue;
-    let hit = need[w] & masks[from];
-    if (hit === 0) continue;
-    need[w] ^= hit;
-    const elementBase = w << 5;
-    while (hit !== 0) {
-      const low = hit & -hit;
-      hit ^= low;
-      owner[elementBase + 31 - Math.clz32(low)] = slot;
-      taken++;
+    if (words[from] === w) {
+      let hit = need[w] & masks[from];
+      if (hit !== 0) {
+        need[w] ^= hit;
+        const elementBase = w << 5;
+        while (hit !== 0) {
+          const low = hit & -hit;
+          hit ^= low;
+          owner[elementBase + 31 - Math.clz32(low)] = slot;
+        }
+      }
     }
+    if (need[w] !== 0) wordsInOrder[kept++] = w;
   }
-  return taken;
+  // Words past the rule's last word are untouched.
+  for (; i < live; i++) wordsInOrder[kept++] = wordsInOrder[i];
+  return kept;
 }
 
 /**
