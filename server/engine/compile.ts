@@ -333,10 +333,18 @@ export class CompiledModel {
     const others = (m: DeviceModel) => JSON.stringify([m.schemaVersion, m.device, m.interfaces, m.services, m.serviceGroups, m.schedules, m.accounts, m.operatorNetworks]);
     const onlyRulesChanged = basis !== undefined && others(basis.model) === others(model);
     const edit = basis === undefined ? null : ruleEdit(basis.model, model);
-    const basisIndexOf = basis === undefined ? null : new Map(basis.model.inboundRules.map((r, i) => [r.id, i]));
+    // Each rule's position in the basis (by id; -1 when it has none), looked up once: the basis
+    // keeps its id → position map, so an edit does not build one over every rule again.
+    const basisAt = new Int32Array(model.inboundRules.length).fill(-1);
+    if (basis !== undefined) for (let i = 0; i < basisAt.length; i++) basisAt[i] = basis.positionOfId(model.inboundRules[i].id);
+    const basisIndexOf = (id: string): number | undefined => {
+      const at = basis === undefined ? -1 : basis.positionOfId(id);
+      return at < 0 ? undefined : at;
+    };
     const changedIds = edit === null || edit.changed === null ? null : new Set(edit.changed);
     /** The basis's index of a rule this model compiles exactly as the basis did, else undefined. */
-    const keptRule = (id: string): number | undefined => (onlyRulesChanged && changedIds !== null && !changedIds.has(id) ? basisIndexOf?.get(id) : undefined);
+    const keptRule = (position: number): number | undefined =>
+      onlyRulesChanged && changedIds !== null && basisAt[position] >= 0 && !changedIds.has(model.inboundRules[position].id) ? basisAt[position] : undefined;
     this.clock = onlyRulesChanged && basis !== undefined ? basis.clock : new LocalClock(model.device.timezone);
     this.week = onlyRulesChanged && basis !== undefined ? basis.week : planWeek(model.schedules.map((s) => s.windows));
     this.defaultAllow = model.device.defaultInbound === "allow";
@@ -381,7 +389,7 @@ export class CompiledModel {
     this.destinationSets = basis !== undefined ? basis.destinationSets : new Map();
     this.serviceKeySets = sameServices ? basis.serviceKeySets : new Map();
     this.rules = model.inboundRules.map((r, position): CompiledRule => {
-      const kept = keptRule(r.id);
+      const kept = keptRule(position);
       if (kept !== undefined && basis !== undefined) {
         const b = basis.rules[kept];
         return new RuleOfModel(position, r.id, b.allow, b.enabled, b.iface, r.sources, setOf, b.destinations, b.anyService ? null : b.serviceKeys, b.schedule);
@@ -420,8 +428,8 @@ export class CompiledModel {
       loginSources: a.loginSources.length === 0 ? ANY_SET : this.loginSetOf(a.loginSources),
     }));
 
-    this.sourceKeys = model.inboundRules.map((r) => {
-      const kept = keptRule(r.id);
+    this.sourceKeys = model.inboundRules.map((r, position) => {
+      const kept = keptRule(position);
       return kept !== undefined && basis !== undefined ? basis.sourceKeys[kept] : r.sources.join("\n");
     });
     const sameAccounts = basis !== undefined && JSON.stringify(basis.model.accounts) === JSON.stringify(model.accounts);
@@ -456,12 +464,12 @@ export class CompiledModel {
     this.ruleBits = this.sourceKeys.map((key) => this.bitsBySources.get(key) as readonly [SparseBits, SparseBits]);
     // Slots: the basis's for rules with the same id and sources; new ones past the basis's.
     let slotCount = sameElements ? basis.slotCount : model.inboundRules.length;
-    const basisSlotOf = (id: string, sourceKey: string): number | undefined => {
-      const j = basisIndexOf?.get(id);
+    const basisSlotOf = (position: number, sourceKey: string): number | undefined => {
+      const j = basisAt[position] < 0 ? undefined : basisAt[position];
       return j !== undefined && basis !== undefined && basis.sourceKeys[j] === sourceKey ? basis.ruleSlots[j] : undefined;
     };
     this.ruleSlots = new Int32Array(model.inboundRules.length);
-    for (let i = 0; i < this.ruleSlots.length; i++) this.ruleSlots[i] = sameElements ? (basisSlotOf(model.inboundRules[i].id, this.sourceKeys[i]) ?? slotCount++) : i;
+    for (let i = 0; i < this.ruleSlots.length; i++) this.ruleSlots[i] = sameElements ? (basisSlotOf(i, this.sourceKeys[i]) ?? slotCount++) : i;
     this.slotCount = slotCount;
     this.slotPositions = new Int32Array(slotCount).fill(-1);
     this.ruleSlots.forEach((slot, position) => (this.slotPositions[slot] = position));
@@ -469,8 +477,8 @@ export class CompiledModel {
       this.basisRef = new WeakRef(basis);
       this.onlyRulesChanged = onlyRulesChanged;
       const { changed, edited } = edit ?? ruleEdit(basis.model, model);
-      this.editedRule = edited === null ? null : { id: edited, basisPosition: basisIndexOf?.get(edited) ?? -1 };
-      this.basisPositions = model.inboundRules.map((r) => basisIndexOf?.get(r.id));
+      this.editedRule = edited === null ? null : { id: edited, basisPosition: basisIndexOf(edited) ?? -1 };
+      this.basisPositions = Array.from(basisAt, (at) => (at < 0 ? undefined : at));
       this.sameCatalogueAndAccounts =
         JSON.stringify(basis.model.services) === JSON.stringify(model.services) &&
         basis.defaultAllow === this.defaultAllow &&
@@ -479,7 +487,7 @@ export class CompiledModel {
         {
           const reach: CandidateReach[] = [];
           changed.forEach((id) => {
-            const before = basisIndexOf?.get(id);
+            const before = basisIndexOf(id);
             if (before !== undefined) reach.push(basis.candidateReach(basis.rules[before]));
             const after = this.rules.findIndex((r) => r.id === id);
             if (after >= 0) {
