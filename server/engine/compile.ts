@@ -333,18 +333,10 @@ export class CompiledModel {
     const others = (m: DeviceModel) => JSON.stringify([m.schemaVersion, m.device, m.interfaces, m.services, m.serviceGroups, m.schedules, m.accounts, m.operatorNetworks]);
     const onlyRulesChanged = basis !== undefined && others(basis.model) === others(model);
     const edit = basis === undefined ? null : ruleEdit(basis.model, model);
-    // Each rule's position in the basis (by id; -1 when it has none), looked up once: the basis
-    // keeps its id → position map, so an edit does not build one over every rule again.
-    const basisAt = new Int32Array(model.inboundRules.length).fill(-1);
-    if (basis !== undefined) for (let i = 0; i < basisAt.length; i++) basisAt[i] = basis.positionOfId(model.inboundRules[i].id);
-    const basisIndexOf = (id: string): number | undefined => {
-      const at = basis === undefined ? -1 : basis.positionOfId(id);
-      return at < 0 ? undefined : at;
-    };
+    const basisIndexOf = basis === undefined ? null : new Map(basis.model.inboundRules.map((r, i) => [r.id, i]));
     const changedIds = edit === null || edit.changed === null ? null : new Set(edit.changed);
     /** The basis's index of a rule this model compiles exactly as the basis did, else undefined. */
-    const keptRule = (position: number): number | undefined =>
-      onlyRulesChanged && changedIds !== null && basisAt[position] >= 0 && !changedIds.has(model.inboundRules[position].id) ? basisAt[position] : undefined;
+    const keptRule = (id: string): number | undefined => (onlyRulesChanged && changedIds !== null && !changedIds.has(id) ? basisIndexOf?.get(id) : undefined);
     this.clock = onlyRulesChanged && basis !== undefined ? basis.clock : new LocalClock(model.device.timezone);
     this.week = onlyRulesChanged && basis !== undefined ? basis.week : planWeek(model.schedules.map((s) => s.windows));
     this.defaultAllow = model.device.defaultInbound === "allow";
@@ -389,7 +381,7 @@ export class CompiledModel {
     this.destinationSets = basis !== undefined ? basis.destinationSets : new Map();
     this.serviceKeySets = sameServices ? basis.serviceKeySets : new Map();
     this.rules = model.inboundRules.map((r, position): CompiledRule => {
-      const kept = keptRule(position);
+      const kept = keptRule(r.id);
       if (kept !== undefined && basis !== undefined) {
         const b = basis.rules[kept];
         return new RuleOfModel(position, r.id, b.allow, b.enabled, b.iface, r.sources, setOf, b.destinations, b.anyService ? null : b.serviceKeys, b.schedule);
@@ -428,8 +420,8 @@ export class CompiledModel {
       loginSources: a.loginSources.length === 0 ? ANY_SET : this.loginSetOf(a.loginSources),
     }));
 
-    this.sourceKeys = model.inboundRules.map((r, position) => {
-      const kept = keptRule(position);
+    this.sourceKeys = model.inboundRules.map((r) => {
+      const kept = keptRule(r.id);
       return kept !== undefined && basis !== undefined ? basis.sourceKeys[kept] : r.sources.join("\n");
     });
     const sameAccounts = basis !== undefined && JSON.stringify(basis.model.accounts) === JSON.stringify(model.accounts);
@@ -464,12 +456,11 @@ export class CompiledModel {
     this.ruleBits = this.sourceKeys.map((key) => this.bitsBySources.get(key) as readonly [SparseBits, SparseBits]);
     // Slots: the basis's for rules with the same id and sources; new ones past the basis's.
     let slotCount = sameElements ? basis.slotCount : model.inboundRules.length;
-    const basisSlotOf = (position: number, sourceKey: string): number | undefined => {
-      const j = basisAt[position] < 0 ? undefined : basisAt[position];
+    const basisSlotOf = (id: string, sourceKey: string): number | undefined => {
+      const j = basisIndexOf?.get(id);
       return j !== undefined && basis !== undefined && basis.sourceKeys[j] === sourceKey ? basis.ruleSlots[j] : undefined;
     };
-    this.ruleSlots = new Int32Array(model.inboundRules.length);
-    for (let i = 0; i < this.ruleSlots.length; i++) this.ruleSlots[i] = sameElements ? (basisSlotOf(i, this.sourceKeys[i]) ?? slotCount++) : i;
+    this.ruleSlots = Int32Array.from(model.inboundRules, (r, i) => (sameElements ? (basisSlotOf(r.id, this.sourceKeys[i]) ?? slotCount++) : i));
     this.slotCount = slotCount;
     this.slotPositions = new Int32Array(slotCount).fill(-1);
     this.ruleSlots.forEach((slot, position) => (this.slotPositions[slot] = position));
@@ -477,8 +468,8 @@ export class CompiledModel {
       this.basisRef = new WeakRef(basis);
       this.onlyRulesChanged = onlyRulesChanged;
       const { changed, edited } = edit ?? ruleEdit(basis.model, model);
-      this.editedRule = edited === null ? null : { id: edited, basisPosition: basisIndexOf(edited) ?? -1 };
-      this.basisPositions = Array.from(basisAt, (at) => (at < 0 ? undefined : at));
+      this.editedRule = edited === null ? null : { id: edited, basisPosition: basisIndexOf?.get(edited) ?? -1 };
+      this.basisPositions = model.inboundRules.map((r) => basisIndexOf?.get(r.id));
       this.sameCatalogueAndAccounts =
         JSON.stringify(basis.model.services) === JSON.stringify(model.services) &&
         basis.defaultAllow === this.defaultAllow &&
@@ -487,7 +478,7 @@ export class CompiledModel {
         {
           const reach: CandidateReach[] = [];
           changed.forEach((id) => {
-            const before = basisIndexOf(id);
+            const before = basisIndexOf?.get(id);
             if (before !== undefined) reach.push(basis.candidateReach(basis.rules[before]));
             const after = this.rules.findIndex((r) => r.id === id);
             if (after >= 0) {
@@ -1267,8 +1258,13 @@ export class CompiledModel {
     for (let k = 0; k < values.length; k++) {
       if (patched[values[k] + 1] === 0) continue;
       const end = k + 1 < starts.length ? starts[k + 1] : domain.size;
-      markNeeded(need, needWords, owner, starts[k], end);
-      count += end - starts[k];
+      for (let element = starts[k]; element < end; element++) {
+        const w = element >>> 5;
+        if (need[w] === 0) needWords.push(w);
+        need[w] |= 1 << (element & 31);
+        owner[element] = -1;
+        count++;
+      }
     }
     if (count === 0) {
       // The off rules took nothing: every element keeps its owner, and the runs are the base's (shared, not copied).
@@ -1281,13 +1277,12 @@ export class CompiledModel {
     const familySlot = family === 4 ? 0 : 1;
     // The rules of the base's list that are on (the active list), in order.
     const all = base.active;
-    let live = wordsInOrder.length;
-    for (let k = 0; k < all.length && live > 0; k++) {
+    for (let k = 0; k < all.length && count > 0; k++) {
       const slot = all[k];
       if (patched[slot + 1] === 1) continue;
       const position = this.slotPositions[slot];
       if (position < firstOff) continue;
-      live = claimNeeded(need, wordsInOrder, live, owner, slot, this.ruleBits[position][familySlot]);
+      count -= claimNeeded(need, wordsInOrder, owner, slot, this.ruleBits[position][familySlot]);
     }
     const runs = this.internedRuns(family, patchedRuns(base.owner, patched, owner, domain.size));
     for (const slot of offSlots) patched[slot + 1] = 0;
@@ -1395,14 +1390,18 @@ export class CompiledModel {
       for (let k = 0; k < starts.length; k++) {
         if (values[k] !== removed) continue;
         const end = k + 1 < starts.length ? starts[k + 1] : domain.size;
-        markNeeded(need, needWords, owner, starts[k], end);
-        count += end - starts[k];
+        for (let element = starts[k]; element < end; element++) {
+          const w = element >>> 5;
+          if (need[w] === 0) needWords.push(w);
+          need[w] |= 1 << (element & 31);
+          owner[element] = -1;
+          count++;
+        }
       }
       const wordsInOrder = Int32Array.from(needWords).sort();
-      let live = count > 0 ? wordsInOrder.length : 0;
-      for (let k = removeAt + 1; k < base.active.length && live > 0; k++) {
+      for (let k = removeAt + 1; k < base.active.length && count > 0; k++) {
         const slot = base.active[k];
-        live = claimNeeded(need, wordsInOrder, live, owner, slot, basis.ruleBits[basis.slotPositions[slot]][familySlot]);
+        count -= claimNeeded(need, wordsInOrder, owner, slot, basis.ruleBits[basis.slotPositions[slot]][familySlot]);
       }
       const patched = (this.patchScratch ??= new Uint8Array(this.slotCount + 1));
       patched[removed + 1] = 1;
@@ -1686,36 +1685,12 @@ export class CompiledModel {
  * `wordsInOrder`) that the rule's bits cover to its slot, taking them out of `need`; returns
  * how many it took. The rule's words are searched from each needed word on, not swept.
  */
-/**
- * Marks the elements start … end-1 as needing an owner: their bits in `need` (a word met for
- * the first time is listed in `needWords`) and -1 (the default) in `owner`, a word at a time.
- */
-function markNeeded(need: Int32Array, needWords: number[], owner: Int32Array, start: number, end: number): void {
-  owner.fill(-1, start, end);
-  const last = end - 1;
-  const firstWord = start >>> 5;
-  const lastWord = last >>> 5;
-  for (let w = firstWord; w <= lastWord; w++) {
-    const lo = w === firstWord ? start & 31 : 0;
-    const hi = w === lastWord ? last & 31 : 31;
-    const mask = hi - lo === 31 ? -1 : ((1 << (hi - lo + 1)) - 1) << lo;
-    if (need[w] === 0) needWords.push(w);
-    need[w] |= mask;
-  }
-}
-
-/**
- * Gives the rule (slot) the needed elements its bits hold, in the first `live` words of
- * `wordsInOrder` (ascending); returns how many of those words still need elements, moved to
- * the front, so later rules walk only what is left (words whose elements are all taken drop out).
- */
-function claimNeeded(need: Int32Array, wordsInOrder: Int32Array, live: number, owner: Int32Array, slot: number, bits: SparseBits): number {
+function claimNeeded(need: Int32Array, wordsInOrder: Int32Array, owner: Int32Array, slot: number, bits: SparseBits): number {
   const { words, masks } = bits;
-  let kept = 0;
+  let taken = 0;
   let from = 0;
-  let i = 0;
-  for (; i < live; i++) {
-    const w = wordsInOrder[i];
+  for (const w of wordsInOrder) {
+    if (need[w] === 0) continue;
     // The first of the rule's words at or after w (both ascending).
     let hi = words.length;
     while (from < hi) {
@@ -1724,23 +1699,19 @@ function claimNeeded(need: Int32Array, wordsInOrder: Int32Array, live: number, o
       else hi = mid;
     }
     if (from === words.length) break;
-    if (words[from] === w) {
-      let hit = need[w] & masks[from];
-      if (hit !== 0) {
-        need[w] ^= hit;
-        const elementBase = w << 5;
-        while (hit !== 0) {
-          const low = hit & -hit;
-          hit ^= low;
-          owner[elementBase + 31 - Math.clz32(low)] = slot;
-        }
-      }
+    if (words[from] !== w) continue;
+    let hit = need[w] & masks[from];
+    if (hit === 0) continue;
+    need[w] ^= hit;
+    const elementBase = w << 5;
+    while (hit !== 0) {
+      const low = hit & -hit;
+      hit ^= low;
+      owner[elementBase + 31 - Math.clz32(low)] = slot;
+      taken++;
     }
-    if (need[w] !== 0) wordsInOrder[kept++] = w;
   }
-  // Words past the rule's last word are untouched.
-  for (; i < live; i++) wordsInOrder[kept++] = wordsInOrder[i];
-  return kept;
+  return taken;
 }
 
 /**
@@ -1967,11 +1938,7 @@ function sameLists(a: InboundRule, b: InboundRule): boolean {
 }
 
 function sameNames(x: readonly unknown[], y: readonly unknown[]): boolean {
-  if (x === y) return true;
-  if (x.length !== y.length) return false;
-  // A plain loop: every edit compares each rule's lists and every address object's entries (an `every` callback cost several times more).
-  for (let i = 0; i < x.length; i++) if (x[i] !== y[i]) return false;
-  return true;
+  return x.length === y.length && x.every((v, i) => v === y[i]);
 }
 
 /** Whether two runs lists are equal element by element. */
@@ -1991,19 +1958,11 @@ function sameSlots(partition: RulePartition, family: Family, active: Int32Array)
 }
 
 function sameAddressBook(a: DeviceModel, b: DeviceModel): boolean {
-  if (a.addresses === b.addresses && a.addressGroups === b.addressGroups) return true;
   if (a.addresses.length !== b.addresses.length || a.addressGroups.length !== b.addressGroups.length) return false;
-  for (let i = 0; i < a.addresses.length; i++) {
-    const x = a.addresses[i];
-    const y = b.addresses[i];
-    if (x !== y && (x.name !== y.name || !sameNames(x.entries, y.entries))) return false;
-  }
-  for (let i = 0; i < a.addressGroups.length; i++) {
-    const x = a.addressGroups[i];
-    const y = b.addressGroups[i];
-    if (x !== y && (x.name !== y.name || !sameNames(x.members, y.members))) return false;
-  }
-  return true;
+  return (
+    a.addresses.every((o, i) => o.name === b.addresses[i].name && sameNames(o.entries, b.addresses[i].entries)) &&
+    a.addressGroups.every((g, i) => g.name === b.addressGroups[i].name && sameNames(g.members, b.addressGroups[i].members))
+  );
 }
 
 export function parseProbeAddress(text: string, field: string): Address {
