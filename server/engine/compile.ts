@@ -8,7 +8,7 @@ import { ANY_SET, EMPTY_SET, contains, rangesOf, setFromRanges, unionSets } from
 import type { AddressSet } from "./address-sets.ts";
 import { Domain, MIXED_WORD, mapRuns, patchedRuns, pieceStartBits, runValueAt, runsFromPieces, zipRuns } from "./domain.ts";
 import type { Runs, SparseBits } from "./domain.ts";
-import { looksLikeAddressEntry, serviceKey } from "./model.ts";
+import { looksLikeAddressEntry, parsedEntries, serviceKey } from "./model.ts";
 import type { DeviceModel } from "./model.ts";
 import {
   ALL_WEEK_SCHEDULE,
@@ -555,7 +555,7 @@ export class CompiledModel {
       this.objectsByName ??= new Map(this.model.addresses.map((a) => [a.name, a]));
       this.groupsByName ??= new Map(this.model.addressGroups.map((g) => [g.name, g]));
       const object = this.objectsByName.get(name);
-      if (object !== undefined) set = setFromRanges(object.entries.map((e) => parseEntry(e).range));
+      if (object !== undefined) set = setFromRanges(parsedEntries(object.entries) ?? object.entries.map((e) => parseEntry(e).range));
       else {
         const group = this.groupsByName.get(name);
         // Validation rules out unknown names and cycles; mark in-progress to stay safe anyway.

@@ -22,6 +22,10 @@ export interface SparseBits {
 /** 32-bit limbs per IPv6 bound: 2^128 itself needs a fifth. */
 const LIMBS = 5;
 
+/** FNV-1a's offset basis and prime (32-bit), for the content hash of stored sparse bitsets. */
+const HASH_SEED = 0x811c9dc5;
+const HASH_PRIME = 0x01000193;
+
 /** Sizes (32-bit entries) of the chunks sparse bitsets are stored in: 4 KiB at first, doubling up to 1 MiB. */
 const CHUNK_MIN = 1024;
 const CHUNK_MAX = 262_144;
@@ -39,16 +43,37 @@ export class Domain {
     sets: readonly Ranges[],
   ) {
     let bounds: bigint[];
+    // Every cut into one array, sorted, then equal neighbours dropped: a Set of this many
+    // numbers above 2^31 (or bigints) cost several times the sort.
     if (family === 4) {
-      // IPv4 bounds (≤ 2^32) are exact as numbers, which a Set and a typed-array sort handle far faster than bigints.
-      const cuts = new Set<number>([0, 2 ** 32]);
-      for (const r of sets) for (let i = 0; i < r.length; i += 2) cuts.add(Number(r[i])).add(Number(r[i + 1]) + 1);
-      this.boundsNumber = Float64Array.from(cuts).sort();
-      bounds = Array.from(this.boundsNumber, (b) => BigInt(b));
+      // IPv4 bounds below 2^32 fit a Uint32Array, whose sort is native; 2^32 is the last bound.
+      let count = 1;
+      for (const r of sets) count += r.length;
+      const cuts = new Uint32Array(count);
+      let n = 1; // cuts[0] = 0
+      for (const r of sets) {
+        for (let i = 0; i < r.length; i += 2) {
+          cuts[n++] = Number(r[i]);
+          const end = Number(r[i + 1]) + 1;
+          if (end < 2 ** 32) cuts[n++] = end;
+        }
+      }
+      const sorted = cuts.subarray(0, n).sort();
+      let distinct = 0;
+      for (let i = 0; i < n; i++) if (distinct === 0 || sorted[i] !== sorted[distinct - 1]) sorted[distinct++] = sorted[i];
+      const numbers = new Float64Array(distinct + 1);
+      for (let i = 0; i < distinct; i++) numbers[i] = sorted[i];
+      numbers[distinct] = 2 ** 32;
+      this.boundsNumber = numbers;
+      bounds = Array.from(numbers, (b) => BigInt(b));
     } else {
-      const cuts = new Set<bigint>([0n, FAMILY[family].size]);
-      for (const r of sets) for (let i = 0; i < r.length; i += 2) cuts.add(r[i]).add(r[i + 1] + 1n);
-      bounds = [...cuts].sort((a, b) => (a < b ? -1 : a > b ? 1 : 0));
+      const cuts: bigint[] = [0n, FAMILY[family].size];
+      for (const r of sets) for (let i = 0; i < r.length; i += 2) cuts.push(r[i], r[i + 1] + 1n);
+      cuts.sort((a, b) => (a < b ? -1 : a > b ? 1 : 0));
+      let distinct = 0;
+      for (let i = 0; i < cuts.length; i++) if (distinct === 0 || cuts[i] !== cuts[distinct - 1]) cuts[distinct++] = cuts[i];
+      cuts.length = distinct;
+      bounds = cuts;
       this.boundsNumber = null;
     }
     this.bounds = bounds;
@@ -118,26 +143,55 @@ export class Domain {
     return (this.#scratch ??= { words: new Int32Array(this.words), masks: new Int32Array(this.words) });
   }
 
-  /** The union of sparse bitsets (one of them returned as is when it is the only one). */
+  /** Per 32 words, a bit for each word unionBits has touched (all zero between calls). */
+  #touchedWords: Int32Array | undefined;
+
+  /**
+   * The union of sparse bitsets (one of them returned as is when it is the only one). Words
+   * are ORed into a dense scratch and each touched word noted in a bitmap of words, which is
+   * then read in order: no sort of the touched words (at 16,000 rules a union holds about 500
+   * of the IPv4 domain's 3,500 words, and sorting them was most of its cost).
+   */
   unionBits(parts: readonly SparseBits[]): SparseBits {
     if (parts.length === 1) return parts[0];
     const dense = (this.#dense ??= new Int32Array(this.words));
-    const { words: touched, masks } = this.#bitsScratch();
-    let n = 0;
+    const touched = (this.#touchedWords ??= new Int32Array((this.words + 31) >>> 5));
+    const { words: out, masks } = this.#bitsScratch();
+    let low = touched.length;
+    let high = -1;
     for (const part of parts) {
       const { words, masks: partMasks } = part;
-      for (let j = 0; j < words.length; j++) {
+      const count = words.length;
+      if (count === 0) continue;
+      for (let j = 0; j < count; j++) {
         const w = words[j];
-        if (dense[w] === 0) touched[n++] = w;
+        touched[w >>> 5] |= 1 << (w & 31);
         dense[w] |= partMasks[j];
       }
+      // A part's words ascend: its first and last bound the block of the bitmap to read.
+      if (words[0] >>> 5 < low) low = words[0] >>> 5;
+      if (words[count - 1] >>> 5 > high) high = words[count - 1] >>> 5;
     }
-    touched.subarray(0, n).sort();
-    for (let j = 0; j < n; j++) {
-      masks[j] = dense[touched[j]];
-      dense[touched[j]] = 0;
+    let n = 0;
+    // The content hash (#stored's) is taken on the way.
+    let hash = HASH_SEED;
+    for (let i = low; i <= high; i++) {
+      let bits = touched[i];
+      if (bits === 0) continue;
+      touched[i] = 0;
+      const base = i << 5;
+      while (bits !== 0) {
+        const lowest = bits & -bits;
+        const w = base + 31 - Math.clz32(lowest);
+        const mask = dense[w];
+        out[n] = w;
+        masks[n++] = mask;
+        dense[w] = 0;
+        hash = Math.imul(Math.imul(hash ^ w, HASH_PRIME) ^ mask, HASH_PRIME);
+        bits ^= lowest;
+      }
     }
-    return this.#stored(touched, masks, n);
+    return this.#stored(out, masks, n, hash);
   }
 
   /**
@@ -153,10 +207,15 @@ export class Domain {
   #chunk = new Int32Array(0);
   #chunkUsed = 0;
 
-  /** The first n entries of words and masks (scratch) as a stored sparse bitset: an equal one made before, or a new one. */
-  #stored(words: Int32Array, masks: Int32Array, n: number): SparseBits {
-    let hash = 0x811c9dc5 ^ n;
-    for (let j = 0; j < n; j++) hash = Math.imul(Math.imul(hash ^ words[j], 0x01000193) ^ masks[j], 0x01000193);
+  /**
+   * The first n entries of words and masks (scratch) as a stored sparse bitset: an equal one
+   * made before, or a new one. `contentHash`: the words' and masks' hash from HASH_SEED, when
+   * the caller took it while writing them.
+   */
+  #stored(words: Int32Array, masks: Int32Array, n: number, contentHash?: number): SparseBits {
+    let hash = contentHash ?? HASH_SEED;
+    if (contentHash === undefined) for (let j = 0; j < n; j++) hash = Math.imul(Math.imul(hash ^ words[j], HASH_PRIME) ^ masks[j], HASH_PRIME);
+    hash = Math.imul(hash ^ n, HASH_PRIME);
     const bucket = this.#bitsByContent.get(hash);
     if (bucket !== undefined) {
       for (const known of bucket) {

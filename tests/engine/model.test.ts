@@ -1,7 +1,8 @@
 // Validation of the device model document: every error names its path.
 
 import { describe, expect, test } from "vitest";
-import { parseModel } from "#server/engine/index.ts";
+import { compileModel, parseModel } from "#server/engine/index.ts";
+import { parsedEntries } from "#server/engine/model.ts";
 import type { DeviceModelInput } from "#server/engine/index.ts";
 
 const base = (): DeviceModelInput => ({
@@ -144,5 +145,28 @@ describe("errors name their path", () => {
 
   test("a document that is not an object is rejected at the root", () => {
     expect(errorsOf("nope")[0]).toMatch(/^: /);
+  });
+});
+
+describe("the entries validation parsed, read again by compilation", () => {
+  test("compiling reads them, and an entries array changed in place after validation is parsed afresh", () => {
+    const doc = base();
+    doc.addresses = [{ name: "noc", entries: ["198.51.100.0/26", "198.51.100.77", "198.51.100.90-198.51.100.99"] }];
+    const result = parseModel(doc);
+    expect(result.ok).toBe(true);
+    if (!result.ok) return;
+    const entries = result.model.addresses[0].entries;
+    expect(parsedEntries(entries)?.map((r) => [r.first, r.last])).toEqual([
+      [0xc6336400n, 0xc633643fn],
+      [0xc633644dn, 0xc633644dn],
+      [0xc633645an, 0xc6336463n],
+    ]);
+    expect(compileModel(result.model).addressSetOf("noc").v4).toEqual([0xc6336400n, 0xc633643fn, 0xc633644dn, 0xc633644dn, 0xc633645an, 0xc6336463n]);
+    // Changed in place (not through parseModel): the ranges kept for the array no longer apply.
+    entries[1] = "203.0.113.5";
+    expect(parsedEntries(entries)).toBeUndefined();
+    expect(compileModel(result.model).addressSetOf("noc").v4).toEqual([0xc6336400n, 0xc633643fn, 0xc633645an, 0xc6336463n, 0xcb007105n, 0xcb007105n]);
+    // An array validation never saw (an edit's copy) has none.
+    expect(parsedEntries([...entries])).toBeUndefined();
   });
 });
