@@ -305,12 +305,12 @@ function referenceIPv6Value(text: string): bigint | null {
 
 describe("IPv6 text read by a scan equals the plain reading", () => {
   test("random texts of hex digits, colons and dots, and addresses written every way", () => {
-    const piece = fc.constantFrom("0", "1", "a", "F", "ffff", "12345", "g", ":", "::", ":::", ".", "1.2.3.4", "255.255.255.255", "01.2.3.4", "0:0", "");
+    const piece = fc.constantFrom("0", "1", "a", "F", "ffff", "12345", "g", ":", "::", ":::", ".", "192.0.2.4", "255.255.255.255", "0192.0.2.4", "0:0", "");
     const texts = fc.oneof(
       fc.array(piece, { maxLength: 14 }).map((parts) => parts.join("")),
       fc.array(piece, { maxLength: 10 }).map((parts) => parts.join(":")),
       // Seven to nine groups with "::" somewhere: one group too many is the edge.
-      fc.tuple(fc.array(fc.constantFrom("1", "ab", "1.2.3.4"), { minLength: 6, maxLength: 9 }), fc.nat()).map(([groups, at]) => {
+      fc.tuple(fc.array(fc.constantFrom("1", "ab", "192.0.2.4"), { minLength: 6, maxLength: 9 }), fc.nat()).map(([groups, at]) => {
         const k = at % (groups.length + 1);
         return `${groups.slice(0, k).join(":")}::${groups.slice(k).join(":")}`;
       }),
@@ -325,7 +325,7 @@ describe("IPv6 text read by a scan equals the plain reading", () => {
       }),
       propertyParameters({ numRuns: 3000, timeoutMs: 20_000 }),
     );
-    for (const text of ["::", "::1", "1::", "1:2:3:4:5:6:7:8", "1:2:3:4:5:6:7::", "::2:3:4:5:6:7:8", "1:2:3:4:5:6:1.2.3.4", "::ffff:192.0.2.1", "1::2::3", "1:2:3:4:5:6:7:8:9", "1:2:3:4:5:6:7", ":1:2:3:4:5:6:7", "1.2.3.4::", "::1.2.3.4:1", "1:2:3:4::5:6:7:8", "1:2:3:4:5:6:7:8::", "::1:2:3:4:5:6:1.2.3.4", "1::2:3:4:5:6:1.2.3.4"]) {
+    for (const text of ["::", "::1", "1::", "1:2:3:4:5:6:7:8", "1:2:3:4:5:6:7::", "::2:3:4:5:6:7:8", "1:2:3:4:5:6:192.0.2.4", "::ffff:192.0.2.1", "1::2::3", "1:2:3:4:5:6:7:8:9", "1:2:3:4:5:6:7", ":1:2:3:4:5:6:7", "192.0.2.4::", "::192.0.2.4:1", "1:2:3:4::5:6:7:8", "1:2:3:4:5:6:7:8::", "::1:2:3:4:5:6:192.0.2.4", "1::2:3:4:5:6:192.0.2.4"]) {
       expect(parseIPv6Value(text), text).toBe(referenceIPv6Value(text));
     }
   }, 20_000);
