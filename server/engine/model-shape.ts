@@ -15,14 +15,13 @@ import {
   INTERFACE_ROLES,
   MODEL_SCHEMA_VERSION,
   NAME_PATTERN,
+  CLOCK_TIME_PATTERN,
   PORT_PROTOCOLS,
   RULE_ACTIONS,
   SECOND_FACTORS,
   UNLISTENED_PORT_ACTIONS,
 } from "./vocabulary.ts";
 import type { DeviceModel } from "./model.ts";
-
-const HHMM = /^([01][0-9]|2[0-3]):[0-5][0-9]$/;
 
 /** Thrown inside the reader when the input is not plainly valid: the schema takes over. */
 const UNSURE = Symbol("unsure");
@@ -157,7 +156,7 @@ function read(input: unknown): DeviceModel {
         for (let k = 0; k < dayList.length; k++) days[k] = oneOf(dayList[k], DAYS);
         const start = string(w.start);
         const end = string(w.end);
-        if (!HHMM.test(start) || !HHMM.test(end)) throw UNSURE;
+        if (!CLOCK_TIME_PATTERN.test(start) || !CLOCK_TIME_PATTERN.test(end)) throw UNSURE;
         windows[i] = { days, start, end };
       }
       return { name: scheduleName, windows };

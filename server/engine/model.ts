@@ -23,14 +23,13 @@ import {
   MODEL_SCHEMA_VERSION,
   looksLikeAddressEntry,
   NAME_PATTERN,
+  CLOCK_TIME_PATTERN,
   PORT_PROTOCOLS,
   RULE_ACTIONS,
   SECOND_FACTORS,
   UNLISTENED_PORT_ACTIONS,
 } from "./vocabulary.ts";
 import type { Protocol } from "./vocabulary.ts";
-
-const HHMM = /^([01][0-9]|2[0-3]):[0-5][0-9]$/;
 
 /** "tcp/443", "udp/161", "icmp/echo": how rules and probes match services. */
 export function serviceKey(protocol: Protocol, port: number | null): string {
@@ -84,8 +83,8 @@ function schemaFor(strict: boolean) {
           windows: z.array(
             obj({
               days: z.array(z.enum(DAYS)),
-              start: z.string().regex(HHMM, { message: "must be HH:MM (00:00-23:59)" }),
-              end: z.string().regex(HHMM, { message: "must be HH:MM (00:00-23:59)" }),
+              start: z.string().regex(CLOCK_TIME_PATTERN, { message: "must be HH:MM (00:00-23:59)" }),
+              end: z.string().regex(CLOCK_TIME_PATTERN, { message: "must be HH:MM (00:00-23:59)" }),
             }),
           ),
         }),

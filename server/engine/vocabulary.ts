@@ -88,6 +88,8 @@ export type SchemaVersion = (typeof READABLE_SCHEMA_VERSIONS)[number];
 
 /** Names are unique per kind, 1–63 characters of [A-Za-z0-9._-] (PRODUCT.md §4). */
 export const NAME_PATTERN = /^[A-Za-z0-9._-]{1,63}$/;
+/** A wall-clock time of a schedule window, "HH:MM" from 00:00 to 23:59. */
+export const CLOCK_TIME_PATTERN = /^([01][0-9]|2[0-3]):[0-5][0-9]$/;
 
 /**
  * Interface roles, in the order PRODUCT.md §4 lists them: WAN and LAN as RFC 7084 names a
