@@ -59,7 +59,7 @@ const EnvironmentSchema = z.object({
    */
   SIGN_UPS_PER_CLIENT: z.coerce.number().int().min(1, "SIGN_UPS_PER_CLIENT must be at least 1").max(10_000).default(30),
   /** Requests one web process works at once; the rest wait their fair turn (server/http/admission.server.ts, docs/decisions/024; 2 since decision 029: the open loop's tail was shorter than with 4). */
-  ADMISSION_CONCURRENCY: z.coerce.number().int().min(1, "ADMISSION_CONCURRENCY must be at least 1").max(1024).default(2),
+  ADMISSION_CONCURRENCY: z.coerce.number().int().min(1, "ADMISSION_CONCURRENCY must be at least 1").max(1024).default(1),
   /** "1": every answer says how long it waited for its turn (Server-Timing "turn"), for the load benchmark. */
   ADMISSION_TIMING: z.enum(["0", "1"]).default("0"),
   /**

@@ -1,4 +1,5 @@
 import argon2 from "argon2";
+import { awayFromTurn } from "../http/admission.server.ts";
 
 // OWASP Password Storage Cheat Sheet: argon2id, m = 19 MiB (19456 KiB), t = 2, p = 1.
 export const ARGON2_OPTIONS = {
@@ -8,13 +9,14 @@ export const ARGON2_OPTIONS = {
   parallelism: 1,
 } as const;
 
+// The hash runs on libuv's thread pool: the request gives its turn up meanwhile (server/http/admission.server.ts).
 export async function hashPassword(password: string): Promise<string> {
-  return argon2.hash(normalisePassword(password), ARGON2_OPTIONS);
+  return awayFromTurn(() => argon2.hash(normalisePassword(password), ARGON2_OPTIONS));
 }
 
 export async function verifyPassword(hash: string, password: string): Promise<boolean> {
   try {
-    return await argon2.verify(hash, normalisePassword(password));
+    return await awayFromTurn(() => argon2.verify(hash, normalisePassword(password)));
   } catch {
     return false;
   }

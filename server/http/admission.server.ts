@@ -12,6 +12,7 @@
 // squeezed to the share of one with ten. The cost is the process's CPU time, split evenly among
 // the requests in flight while it was spent (processor sharing): no request's time is counted
 // twice and waiting on PostgreSQL costs nothing.
+import { AsyncLocalStorage } from "node:async_hooks";
 import type { IncomingMessage, ServerResponse } from "node:http";
 import { performance } from "node:perf_hooks";
 
@@ -28,7 +29,20 @@ type Flow = {
   group: string;
 };
 
-type Running = { flow: Flow; charged: number; estimate: number; cost: number };
+/** A request let in: worked now, set aside while it waits on something outside the process, or ended. */
+type Running = { flow: Flow; charged: number; estimate: number; cost: number; state: "working" | "aside" | "ended" };
+
+/** What a request's handler is given with its turn. */
+export type Turn = {
+  /** Ends the turn (once; later calls do nothing). */
+  done: () => void;
+  /**
+   * Runs `work` — a wait on something that is not this process's CPU: a password hash on the
+   * thread pool, a mail server — with the slot given up, and resolves once the request has a
+   * turn again (before any request still waiting for its first).
+   */
+  aside: <T>(work: () => Promise<T>) => Promise<T>;
+};
 
 export type AdmissionOptions = {
   /** Requests worked at once: enough to overlap one request's CPU with another's wait on PostgreSQL. */
@@ -54,6 +68,8 @@ export class FairAdmission {
   private virtualTime = 0;
   private lastCpu: number;
   private waitingCount = 0;
+  /** Requests set aside that want their slot back, in the order they asked. */
+  private readonly returning: Array<() => void> = [];
   private begun = 0;
 
   constructor(options: AdmissionOptions) {
@@ -79,11 +95,11 @@ export class FairAdmission {
   }
 
   /**
-   * Asks for a turn. `start` is called (synchronously when a slot is free) with `done`, which the
-   * caller must call once when the request has ended. The returned function withdraws a request
+   * Asks for a turn. `start` is called (synchronously when a slot is free) with the turn, whose
+   * `done` the caller must call once when the request has ended. The returned function withdraws a request
    * still waiting (its client went away); it does nothing once the request has started.
    */
-  admit(group: string, who: string, start: (done: () => void) => void): () => void {
+  admit(group: string, who: string, start: (turn: Turn) => void): () => void {
     const key = `${group}\n${who}`;
     let flow = this.flows.get(key);
     if (!flow) {
@@ -103,7 +119,7 @@ export class FairAdmission {
     };
   }
 
-  private begin(entry: Waiting, start: (done: () => void) => void) {
+  private begin(entry: Waiting, start: (turn: Turn) => void) {
     const flow = entry.flow;
     this.account();
     // The flow's start tag: where its earlier requests left it, or now if it was idle.
@@ -113,25 +129,57 @@ export class FairAdmission {
     if (++this.begun % 256 === 0) for (const idle of [...this.flows.values()]) this.forgetIfIdle(idle);
     flow.finishTag = startTag + estimate;
     flow.inFlight += 1;
-    const running: Running = { flow, charged: estimate, estimate, cost: 0 };
+    const running: Running = { flow, charged: estimate, estimate, cost: 0, state: "working" };
     this.running.add(running);
-    let ended = false;
-    start(() => {
-      if (ended) return;
-      ended = true;
-      this.account();
-      this.running.delete(running);
-      flow.inFlight -= 1;
-      // Charge what the request really cost instead of its estimate.
-      flow.finishTag += running.cost - running.charged;
-      this.learn(flow.group, running.cost);
-      this.forgetIfIdle(flow);
+    start({
+      done: () => {
+        if (running.state === "ended") return;
+        this.account();
+        running.state = "ended";
+        this.running.delete(running);
+        flow.inFlight -= 1;
+        // Charge what the request really cost instead of its estimate.
+        flow.finishTag += running.cost - running.charged;
+        this.learn(flow.group, running.cost);
+        this.forgetIfIdle(flow);
+        this.dispatch();
+      },
+      aside: (work) => this.aside(running, work),
+    });
+  }
+
+  private async aside<T>(running: Running, work: () => Promise<T>): Promise<T> {
+    if (running.state !== "working") return work();
+    this.account();
+    running.state = "aside";
+    this.running.delete(running);
+    this.dispatch();
+    try {
+      return await work();
+    } finally {
+      await this.comeBack(running);
+    }
+  }
+
+  /** A request set aside asks for a slot again; it goes before those waiting for their first. */
+  private comeBack(running: Running): Promise<void> {
+    return new Promise((resolve) => {
+      this.returning.push(() => {
+        // A request that ended while aside (its client went away) takes no slot.
+        if (running.state === "aside") {
+          this.account();
+          running.state = "working";
+          this.running.add(running);
+        }
+        resolve();
+      });
       this.dispatch();
     });
   }
 
   /** Lets waiting requests in while slots are free, smallest start tag first. */
   private dispatch() {
+    while (this.running.size < this.concurrency && this.returning.length > 0) (this.returning.shift() as () => void)();
     while (this.running.size < this.concurrency && this.waitingCount > 0) {
       let next: Flow | undefined;
       let nextTag = Infinity;
@@ -186,6 +234,19 @@ function processCpuMilliseconds(): number {
 /** The end of each response's turn, for the writer that hands its body off before it is flushed. */
 const turns = new WeakMap<ServerResponse, () => void>();
 
+/** The turn of the request whose code is running, for `awayFromTurn` deep in a service. */
+const currentTurn = new AsyncLocalStorage<Turn>();
+
+/**
+ * Runs `work`, a wait on something other than this process's CPU (a password hash on the thread
+ * pool, a mail server), with the request's slot given to another while it waits. Outside a
+ * request (the CLI, a job, a test) it just runs `work`.
+ */
+export function awayFromTurn<T>(work: () => Promise<T>): Promise<T> {
+  const turn = currentTurn.getStore();
+  return turn ? turn.aside(work) : work();
+}
+
 /**
  * Wraps a handler so it runs in its turn. The turn ends when the handler hands the body off
  * (`handOff`, called by the writer: server/http/respond.server.ts), or else when the response
@@ -200,14 +261,14 @@ export function takingTurns<Request extends IncomingMessage & { path: string }, 
 ): (request: Request, response: Response, next: Next) => void {
   return (request, response, next) => {
     const asked = options.sayWait ? performance.now() : 0;
-    const withdraw = admission.admit(organisationOfPath(request.path), flowOf(request), (done) => {
+    const withdraw = admission.admit(organisationOfPath(request.path), flowOf(request), (turn) => {
       // How long the request waited for its turn (W3C Server Timing), so a load test can tell
       // waiting behind others from being slow itself. Off by default: it tells of others' load.
       if (options.sayWait) response.setHeader("Server-Timing", `turn;dur=${(performance.now() - asked).toFixed(1)}`);
-      turns.set(response, done);
-      response.once("finish", done);
-      response.once("close", done);
-      void handler(request, response, next);
+      turns.set(response, turn.done);
+      response.once("finish", turn.done);
+      response.once("close", turn.done);
+      currentTurn.run(turn, () => void handler(request, response, next));
     });
     response.once("close", withdraw);
   };

@@ -9,6 +9,7 @@ import path from "node:path";
 import { fileURLToPath } from "node:url";
 import { Piscina } from "piscina";
 import type { Finding, Outcome } from "../engine/index.ts";
+import { awayFromTurn } from "../http/admission.server.ts";
 import type { ModelDocument } from "../workspace/index.ts";
 
 /** What a worker thread answers about one revision. */
@@ -62,7 +63,8 @@ function thePool(): Piscina {
 
 /** The findings and fleet summary of a model document, computed on a worker thread. */
 export async function analyseOffThread(effective: ModelDocument): Promise<PooledAnalysis> {
-  return (await thePool().run({ effective })) as PooledAnalysis;
+  // A request that waits on a worker thread gives its turn up meanwhile (server/http/admission.server.ts).
+  return (await awayFromTurn(() => thePool().run({ effective }))) as PooledAnalysis;
 }
 
 /** Ends the worker threads (shutdown, tests). */

@@ -1,5 +1,6 @@
 import nodemailer, { type Transporter } from "nodemailer";
 import { getEnvironment } from "../config.server.ts";
+import { awayFromTurn } from "../http/admission.server.ts";
 
 /** A file sent with a message, e.g. a change window as an iCalendar event (text/calendar, RFC 5545). */
 export type MailAttachment = { filename: string; content: string; contentType: string };
@@ -22,6 +23,7 @@ function getTransporter(): Transporter {
   return transporter;
 }
 
+/** Sends one message; the request gives its turn up while the mail server answers. */
 export async function sendMail(mail: OutgoingMail): Promise<void> {
-  await getTransporter().sendMail({ from: getEnvironment().MAIL_FROM, ...mail });
+  await awayFromTurn(() => getTransporter().sendMail({ from: getEnvironment().MAIL_FROM, ...mail }));
 }

@@ -4,7 +4,7 @@ import http from "node:http";
 import type { AddressInfo } from "node:net";
 import express from "express";
 import { describe, expect, it } from "vitest";
-import { FairAdmission, organisationOfPath, takingTurns } from "#server/http/admission.server.ts";
+import { awayFromTurn, FairAdmission, organisationOfPath, takingTurns, type Turn } from "#server/http/admission.server.ts";
 import { sendAnswer } from "#server/http/respond.server.ts";
 
 function harness(concurrency: number) {
@@ -12,10 +12,12 @@ function harness(concurrency: number) {
   const admission = new FairAdmission({ concurrency, cpuClock: () => cpu });
   const started: string[] = [];
   const finishers = new Map<string, () => void>();
+  const turns = new Map<string, Turn>();
   const ask = (group: string, who: string, name: string) =>
-    admission.admit(group, who, (done) => {
+    admission.admit(group, who, (turn) => {
       started.push(name);
-      finishers.set(name, done);
+      finishers.set(name, turn.done);
+      turns.set(name, turn);
     });
   /** Spends `ms` of CPU among the requests in flight, then ends request `name`. */
   const finish = (name: string, ms: number) => {
@@ -25,7 +27,7 @@ function harness(concurrency: number) {
     finishers.delete(name);
     done();
   };
-  return { admission, started, ask, finish };
+  return { admission, started, ask, finish, turns, spend: (ms: number) => (cpu += ms) };
 }
 
 describe("fair admission", () => {
@@ -110,9 +112,9 @@ describe("fair admission", () => {
     const admission = new FairAdmission({ concurrency: 1, cpuClock: () => cpu });
     let finishFirst: () => void = () => undefined;
     const started: string[] = [];
-    admission.admit("a", "u1", (done) => {
+    admission.admit("a", "u1", (turn) => {
       started.push("a1");
-      finishFirst = done;
+      finishFirst = turn.done;
     });
     admission.admit("a", "u1", () => started.push("a2"));
     admission.admit("a", "u1", () => started.push("a3"));
@@ -121,6 +123,53 @@ describe("fair admission", () => {
     finishFirst();
     expect(started).toEqual(["a1", "a2"]);
     expect(admission.active).toBe(1);
+  });
+
+  it("gives the slot to another while a request waits aside, and lets it back in before anyone still waiting for a first turn", async () => {
+    const { admission, started, ask, finish, turns } = harness(1);
+    ask("a", "u1", "a1");
+    ask("b", "u2", "b1");
+    ask("b", "u3", "b2");
+    expect(started).toEqual(["a1"]);
+    let release: (value: string) => void = () => undefined;
+    const away = (turns.get("a1") as Turn).aside(() => new Promise<string>((resolve) => (release = resolve)));
+    // While a1 waits on, say, a mail server, b1 is worked.
+    expect(started).toEqual(["a1", "b1"]);
+    expect(admission.active).toBe(1);
+    release("sent");
+    await Promise.resolve();
+    // a1's wait is over, but the slot is b1's until b1 ends; then a1 goes before b2.
+    finish("b1", 3);
+    await expect(away).resolves.toBe("sent");
+    expect(started).toEqual(["a1", "b1"]);
+    expect(admission.active).toBe(1);
+    expect(admission.queued).toBe(1);
+    finish("a1", 2);
+    expect(started).toEqual(["a1", "b1", "b2"]);
+  });
+
+  it("charges a request nothing for the time it waited aside, and takes no slot back for a request that ended meanwhile", async () => {
+    const { admission, started, ask, finish, turns, spend } = harness(1);
+    ask("a", "u1", "a1");
+    let release: () => void = () => undefined;
+    const away = (turns.get("a1") as Turn).aside(() => new Promise<void>((resolve) => (release = resolve)));
+    ask("b", "u2", "b1");
+    expect(started).toEqual(["a1", "b1"]);
+    spend(40);
+    // a1's client went away while it waited: its turn ends; its wait then resolves without a slot.
+    (turns.get("a1") as Turn).done();
+    finish("b1", 0);
+    expect(admission.estimateOf("a")).toBe(0);
+    expect(admission.estimateOf("b")).toBe(40);
+    release();
+    await away;
+    expect(admission.active).toBe(0);
+    ask("c", "u3", "c1");
+    expect(started).toEqual(["a1", "b1", "c1"]);
+  });
+
+  it("runs work away from a turn as it is outside a request (the CLI, a job)", async () => {
+    await expect(awayFromTurn(async () => 7)).resolves.toBe(7);
   });
 
   it("refuses a concurrency below one", () => {
@@ -159,6 +208,38 @@ describe("fair admission", () => {
       const wait = Number(/^turn;dur=([\d.]+)$/.exec(waited.headers.get("server-timing") ?? "")?.[1]);
       expect(wait).toBeGreaterThanOrEqual(250);
       expect(Number(/dur=([\d.]+)/.exec((await slow).headers.get("server-timing") ?? "")?.[1])).toBeLessThan(250);
+    } finally {
+      await new Promise((resolve) => server.close(resolve));
+    }
+  });
+
+  it("lets another request through the one slot while a handler waits away from its turn (a slow mail server, say)", async () => {
+    const admission = new FairAdmission({ concurrency: 1 });
+    let release: () => void = () => undefined;
+    const mailServer = new Promise<void>((resolve) => (release = resolve));
+    let mailing = false;
+    const app = express();
+    app.get(
+      /.*/,
+      takingTurns(admission, (request: express.Request) => request.get("cookie") ?? "", async (request: express.Request, response: express.Response) => {
+        if (request.path.endsWith("/forgot-password")) {
+          mailing = true;
+          await awayFromTurn(() => mailServer);
+        }
+        await sendAnswer(response, Response.json({ path: request.path }));
+      }),
+    );
+    const server = app.listen(0, "127.0.0.1");
+    await new Promise((resolve) => server.once("listening", resolve));
+    const base = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
+    try {
+      const asked = fetch(`${base}/forgot-password`, { headers: { Cookie: "a" } });
+      await expect.poll(() => mailing, { timeout: 5_000 }).toBe(true);
+      expect(admission.active).toBe(0);
+      // The mail is not sent yet, and another organisation's answer comes through the one slot.
+      expect(await (await fetch(`${base}/o/demo/devices/d2/api/trace`, { headers: { Cookie: "b" } })).json()).toEqual({ path: "/o/demo/devices/d2/api/trace" });
+      release();
+      expect(await (await asked).json()).toEqual({ path: "/forgot-password" });
     } finally {
       await new Promise((resolve) => server.close(resolve));
     }
