@@ -14,7 +14,8 @@
 //  2. closed loop — per route, `connections` requests kept in flight for `closed-seconds`: the
 //     maximum throughput the server sustains on it.
 // JSON keys: { config: {devices, modelSize, rate, durationSeconds, sessions, connections, closedSeconds,
-// webConcurrency, jobWorkers}, seedSeconds, openLoop: { overall, byRoute: {fleet, tracePage, traceApi},
+// webConcurrency, jobWorkers, admissionConcurrency}, machine: {naiveUsPerProbe (the machine's speed on the
+// day: tests/bench/machine-speed.ts)}, seedSeconds, openLoop: { overall, byRoute: {fleet, tracePage, traceApi},
 // heavyFleet, clientCpuCores, serverCpuCores }, closedLoop: { fleet, tracePage, traceApi, heavyFleet } }, where every latency block is
 // { count, errors, errorKinds (only when errors: HTTP status or fetch failure code → count), p50Ms, p95Ms, p99Ms, maxMs,
 // turnWaitP50Ms, turnWaitP95Ms (how long the answers waited for a turn in the web process: the server
@@ -39,6 +40,7 @@ import { createDevice } from "#server/services/devices.server.ts";
 import { createUserWithOrganisation } from "#server/services/organisations.server.ts";
 import { findFreePort } from "../support/free-port.ts";
 import { waitUntilAnswering } from "../support/answering.ts";
+import { machineSpeed } from "./machine-speed.ts";
 
 const argument = (name: string, fallback: number) => {
   const given = process.argv.find((value) => value.startsWith(`--${name}=`));
@@ -58,6 +60,7 @@ const config = {
   closedSeconds: argument("closed-seconds", 15),
   webConcurrency: Number(process.env.WEB_CONCURRENCY ?? 1),
   jobWorkers: Number(process.env.JOB_WORKERS ?? 0),
+  admissionConcurrency: Number(process.env.ADMISSION_CONCURRENCY ?? 1),
 };
 const LARGE_ORGANISATION = "Tidewater Freight (load benchmark)";
 const LARGE_OWNER = "load-owner@tidewater.example";
@@ -203,6 +206,8 @@ function serverCpuMs(rootPid: number): number {
 }
 
 async function main() {
+  // The machine's speed first, while nothing of the benchmark runs yet (tests/bench/machine-speed.ts).
+  const machine = machineSpeed();
   getDatabase();
   // This process works the analysis jobs it queues while seeding.
   await startJobWorking();
@@ -321,12 +326,13 @@ async function main() {
       closedLoop[name] = { ...recorder.summary(), requestsPerSecond: Math.round((recorder.times.length / seconds) * 10) / 10, clientCpuCores: client(), serverCpuMsPerRequest: Math.round(((serverCpuMs(server.pid ?? 0) - serverCpu) / Math.max(1, recorder.times.length)) * 10) / 10 };
     }
 
-    const result = { config, seedSeconds, openLoop, closedLoop };
+    const result = { config, machine, seedSeconds, openLoop, closedLoop };
     if (json) {
       console.log(JSON.stringify(result));
     } else {
       const line = (label: string, block: Latencies) => console.log(`  ${label}: ${block.count} requests, ${block.errors} errors — p50 ${block.p50Ms} / p95 ${block.p95Ms} / p99 ${block.p99Ms} / max ${block.maxMs} ms${block.turnWaitP50Ms === undefined ? "" : `; waiting for a turn p50 ${block.turnWaitP50Ms} / p95 ${block.turnWaitP95Ms} ms`}`);
-      console.log(`Open loop (${config.rate}/s, ${config.durationSeconds} s; WEB_CONCURRENCY=${config.webConcurrency}, JOB_WORKERS=${config.jobWorkers}):`);
+      console.log(`Machine: the naive evaluator took ${machine.naiveUsPerProbe} µs a probe (tests/bench/machine-speed.ts)`);
+      console.log(`Open loop (${config.rate}/s, ${config.durationSeconds} s; WEB_CONCURRENCY=${config.webConcurrency}, JOB_WORKERS=${config.jobWorkers}, ADMISSION_CONCURRENCY=${config.admissionConcurrency}):`);
       line("all", openLoop.overall);
       for (const [name, block] of Object.entries(openLoop.byRoute)) line(name, block);
       line(`large fleet page (${config.heavyUsers} users, closed loop)`, openLoop.heavyFleet);

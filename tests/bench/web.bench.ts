@@ -9,6 +9,7 @@
 // call with a bearer token ≤ 20 ms (issue 13, median on loopback: token, rate limit, audit entry and
 // the engine's trace included).
 // Needs the build and a database: `bash server/setup/bench-web.sh` prepares both.
+// JSON: machine {naiveUsPerProbe: the machine's speed on the day, tests/bench/machine-speed.ts}, model, the timings above, targets.
 import { spawn } from "node:child_process";
 import { performance } from "node:perf_hooks";
 import { revisionAnalysisQueue } from "#server/jobs/revision-analysis.server.ts";
@@ -22,6 +23,7 @@ import { createProposal } from "#server/services/proposals.server.ts";
 import { BENCH_SIZE, generateModel, prng } from "#server/engine/testing/generate-model.ts";
 import { findFreePort } from "../support/free-port.ts";
 import { waitUntilAnswering } from "../support/answering.ts";
+import { machineSpeed } from "./machine-speed.ts";
 
 const json = process.argv.includes("--json");
 const LOADER_RUNS = 15;
@@ -41,6 +43,8 @@ const SAVE_RUNS = 5;
 const EFFECT_RUNS = 7;
 
 async function main() {
+  // The machine's speed first, while nothing of the benchmark runs yet (tests/bench/machine-speed.ts).
+  const machine = machineSpeed();
   getDatabase();
   // This process works the analysis jobs it queues, as the web process of `npm start` does.
   await startJobWorking();
@@ -156,6 +160,7 @@ async function main() {
     }
 
     const result = {
+      machine,
       model: { interfaces: interfaces.length, inboundRules: generated.model.inboundRules?.length ?? 0, addressObjects: generated.model.addresses?.length ?? 0 },
       saveRevisionMs: round(saveMs),
       saveOneRuleMoveMs: { min: round(Math.min(...moveTimes)), median: round(median(moveTimes)), max: round(Math.max(...moveTimes)) },
@@ -173,6 +178,7 @@ async function main() {
     };
     if (json) console.log(JSON.stringify(result));
     else {
+      console.log(`machine: the naive evaluator took ${machine.naiveUsPerProbe} µs a probe (tests/bench/machine-speed.ts)`);
       console.log(`benchmark device: ${result.model.inboundRules} inbound rules, ${result.model.addressObjects} address objects, ${result.model.interfaces} interfaces`);
       console.log(`creating the device (validate, write; analysis in the background): ${result.saveRevisionMs} ms`);
       console.log(`saving a one-rule move: min ${result.saveOneRuleMoveMs.min} / median ${result.saveOneRuleMoveMs.median} / max ${result.saveOneRuleMoveMs.max} ms — target ≤ 300 ms: ${result.targets.saveMs ? "met" : "MISSED"}`);
