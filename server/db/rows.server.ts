@@ -26,9 +26,22 @@ export function columnsOf(model: ModelStatic<Model>, alias: string, only?: reado
  * join found no row (its primary key null).
  */
 export function instanceOf<M extends Model>(model: ModelStatic<M>, row: Record<string, unknown>, alias: string): M | null {
-  const key = row[`${alias}.${model.primaryKeyAttribute}`];
+  const { primaryKey, columns } = rowColumnsOf(model, alias);
+  const key = row[primaryKey];
   if (key === null || key === undefined) return null;
   const values: Record<string, unknown> = {};
-  for (const attribute of Object.keys(model.getAttributes())) if (`${alias}.${attribute}` in row) values[attribute] = row[`${alias}.${attribute}`];
+  for (const [attribute, column] of columns) if (column in row) values[attribute] = row[column];
   return model.build(values as M["_creationAttributes"], { isNewRecord: false, raw: true });
+}
+
+/** Each attribute's `alias.attribute` column name, worked out once per model and alias (every request reads a session). */
+const rowColumns = new Map<string, { primaryKey: string; columns: Array<[string, string]> }>();
+function rowColumnsOf(model: ModelStatic<Model>, alias: string): { primaryKey: string; columns: Array<[string, string]> } {
+  const cacheKey = `${model.name}:${alias}`;
+  let found = rowColumns.get(cacheKey);
+  if (found === undefined) {
+    found = { primaryKey: `${alias}.${model.primaryKeyAttribute}`, columns: Object.keys(model.getAttributes()).map((attribute) => [attribute, `${alias}.${attribute}`]) };
+    rowColumns.set(cacheKey, found);
+  }
+  return found;
 }

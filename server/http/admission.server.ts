@@ -30,7 +30,7 @@ type Flow = {
 };
 
 /** A request let in: worked now, set aside while it waits on something outside the process, or ended. */
-type Running = { flow: Flow; charged: number; estimate: number; cost: number; state: "working" | "aside" | "ended" };
+type Running = { flow: Flow; charged: number; estimate: number; cost: number; state: "working" | "aside" | "ended"; since: number };
 
 /** What a request's handler is given with its turn. */
 export type Turn = {
@@ -49,7 +49,19 @@ export type AdmissionOptions = {
   concurrency: number;
   /** The process's CPU time so far, in milliseconds (a parameter so a test can drive it). */
   cpuClock?: () => number;
+  /**
+   * A request worked this long (ms of wall time since its turn began or it came back from aside)
+   * lends its slot: one more request is let in beside it, up to twice `concurrency` at once. So
+   * one long request — an import, a page of many queries — does not hold the only slot.
+   */
+  longAfterMs?: number;
+  /** Wall-clock milliseconds and a timer (parameters so a test can drive them). */
+  clock?: () => number;
+  setTimer?: (callback: () => void, ms: number) => void;
 };
+
+/** The default for `longAfterMs`: about ten of the demo's pages, and twice the trace answer's p95 target. */
+const LONG_AFTER_MS = 100;
 
 /** Groups whose cost estimate is remembered; beyond this the oldest are forgotten. */
 const REMEMBERED_GROUPS = 1_000;
@@ -71,12 +83,20 @@ export class FairAdmission {
   /** Requests set aside that want their slot back, in the order they asked. */
   private readonly returning: Array<() => void> = [];
   private begun = 0;
+  private readonly longAfterMs: number;
+  private readonly clock: () => number;
+  private readonly setTimer: (callback: () => void, ms: number) => void;
+  /** When the timer set to let a request in beside a long one fires (Infinity: none set). */
+  private timerDue = Infinity;
 
   constructor(options: AdmissionOptions) {
     if (!Number.isInteger(options.concurrency) || options.concurrency < 1) throw new Error("admission concurrency must be a whole number of at least 1");
     this.concurrency = options.concurrency;
     this.cpuClock = options.cpuClock ?? processCpuMilliseconds;
     this.lastCpu = this.cpuClock();
+    this.longAfterMs = options.longAfterMs ?? LONG_AFTER_MS;
+    this.clock = options.clock ?? (() => performance.now());
+    this.setTimer = options.setTimer ?? ((callback, ms) => setTimeout(callback, ms).unref());
   }
 
   /** Requests waiting for a turn. */
@@ -129,7 +149,7 @@ export class FairAdmission {
     if (++this.begun % 256 === 0) for (const idle of [...this.flows.values()]) this.forgetIfIdle(idle);
     flow.finishTag = startTag + estimate;
     flow.inFlight += 1;
-    const running: Running = { flow, charged: estimate, estimate, cost: 0, state: "working" };
+    const running: Running = { flow, charged: estimate, estimate, cost: 0, state: "working", since: this.clock() };
     this.running.add(running);
     start({
       done: () => {
@@ -169,6 +189,7 @@ export class FairAdmission {
         if (running.state === "aside") {
           this.account();
           running.state = "working";
+          running.since = this.clock();
           this.running.add(running);
         }
         resolve();
@@ -179,8 +200,8 @@ export class FairAdmission {
 
   /** Lets waiting requests in while slots are free, smallest start tag first. */
   private dispatch() {
-    while (this.running.size < this.concurrency && this.returning.length > 0) (this.returning.shift() as () => void)();
-    while (this.running.size < this.concurrency && this.waitingCount > 0) {
+    while (this.running.size < this.capacity() && this.returning.length > 0) (this.returning.shift() as () => void)();
+    while (this.running.size < this.capacity() && this.waitingCount > 0) {
       let next: Flow | undefined;
       let nextTag = Infinity;
       for (const flow of this.flows.values()) {
@@ -191,11 +212,35 @@ export class FairAdmission {
           nextTag = tag;
         }
       }
-      if (!next) return;
+      if (!next) break;
       const entry = next.waiting.shift() as Waiting;
       this.waitingCount -= 1;
       entry.start();
     }
+    this.lookAgainLater();
+  }
+
+  /** Slots now: `concurrency`, plus one for each request worked longer than `longAfterMs` (at most twice `concurrency`). */
+  private capacity(): number {
+    if (this.running.size < this.concurrency) return this.concurrency;
+    const now = this.clock();
+    let lent = 0;
+    for (const running of this.running) if (now - running.since >= this.longAfterMs) lent++;
+    return this.concurrency + Math.min(lent, this.concurrency);
+  }
+
+  /** With requests still waiting, looks again when the next request in flight turns long. */
+  private lookAgainLater() {
+    if (this.waitingCount + this.returning.length === 0 || this.running.size >= 2 * this.concurrency) return;
+    let due = Infinity;
+    const now = this.clock();
+    for (const running of this.running) if (now - running.since < this.longAfterMs) due = Math.min(due, running.since + this.longAfterMs);
+    if (due === Infinity || due >= this.timerDue) return;
+    this.timerDue = due;
+    this.setTimer(() => {
+      this.timerDue = Infinity;
+      this.dispatch();
+    }, Math.max(0, due - now));
   }
 
   /** Splits the CPU time spent since the last look evenly among the requests in flight. */

@@ -168,6 +168,65 @@ describe("fair admission", () => {
     expect(started).toEqual(["a1", "b1", "c1"]);
   });
 
+  it("lets one more request in beside a request worked longer than longAfterMs, up to twice the concurrency", () => {
+    let now = 0;
+    const timers: Array<{ due: number; callback: () => void }> = [];
+    const admission = new FairAdmission({ concurrency: 1, cpuClock: () => 0, longAfterMs: 100, clock: () => now, setTimer: (callback, ms) => timers.push({ due: now + ms, callback }) });
+    const started: string[] = [];
+    const dones = new Map<string, () => void>();
+    const ask = (group: string, name: string) => admission.admit(group, name, (turn) => (started.push(name), dones.set(name, turn.done)));
+    const advance = (ms: number) => {
+      now += ms;
+      for (const timer of timers.splice(0).filter((t) => t.due <= now || (timers.push(t), false))) timer.callback();
+    };
+    ask("large", "import");
+    ask("demo", "trace");
+    ask("demo", "fleet");
+    expect(started).toEqual(["import"]);
+    advance(99);
+    expect(started).toEqual(["import"]);
+    // The import has been worked 100 ms: the trace answer is let in beside it.
+    advance(1);
+    expect(started).toEqual(["import", "trace"]);
+    // Both long now, but no more than twice the concurrency at once.
+    advance(500);
+    expect(started).toEqual(["import", "trace"]);
+    expect(admission.active).toBe(2);
+    // When the trace ends, the import (still being worked, long) lends its slot again: the fleet page comes in.
+    (dones.get("trace") as () => void)();
+    expect(started).toEqual(["import", "trace", "fleet"]);
+  });
+
+  it("counts a request's time from when it came back from aside, and lends nothing while the slots are not all taken", async () => {
+    let now = 0;
+    const timers: Array<{ due: number; callback: () => void }> = [];
+    const admission = new FairAdmission({ concurrency: 2, cpuClock: () => 0, longAfterMs: 100, clock: () => now, setTimer: (callback, ms) => timers.push({ due: now + ms, callback }) });
+    const started: string[] = [];
+    const turns = new Map<string, Turn>();
+    const ask = (name: string) => admission.admit(name, name, (turn) => (started.push(name), turns.set(name, turn)));
+    ask("a");
+    now = 500;
+    // a is long, but a slot is still free: b takes it, nothing is lent beyond two.
+    ask("b");
+    expect(started).toEqual(["a", "b"]);
+    let release: () => void = () => undefined;
+    const away = (turns.get("b") as Turn).aside(() => new Promise<void>((resolve) => (release = resolve)));
+    ask("c");
+    expect(started).toEqual(["a", "b", "c"]);
+    release();
+    await Promise.resolve();
+    // b wants its slot back: a (long) lends one, c is not long, so b comes back at once.
+    await away;
+    expect(admission.active).toBe(3);
+    ask("d");
+    // a is long and lends its one slot (now b's); b came back at 500, c began at 500: d waits.
+    expect(started).toEqual(["a", "b", "c"]);
+    now = 600;
+    for (const timer of timers.splice(0)) if (timer.due <= now) timer.callback();
+    // b and c have now been worked 100 ms: the slots may be twice the concurrency, d comes in.
+    expect(started).toEqual(["a", "b", "c", "d"]);
+  });
+
   it("runs work away from a turn as it is outside a request (the CLI, a job)", async () => {
     await expect(awayFromTurn(async () => 7)).resolves.toBe(7);
   });
@@ -185,7 +244,8 @@ describe("fair admission", () => {
   });
 
   it("says how long a request waited for its turn only when asked to (Server-Timing)", async () => {
-    const admission = new FairAdmission({ concurrency: 1 });
+    // A slot held 300 ms, not lent meanwhile (that is the next tests' subject).
+    const admission = new FairAdmission({ concurrency: 1, longAfterMs: 60_000 });
     let release: () => void = () => undefined;
     const held = new Promise<void>((resolve) => (release = resolve));
     const handler = async (request: express.Request, response: express.Response) => {
