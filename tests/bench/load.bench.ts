@@ -27,7 +27,6 @@
 // Needs the build and its own database: `bash server/setup/bench-load.sh` prepares both; the large
 // organisation is seeded once and kept between runs (SALLYPORT_LOAD_DB_NAME names the database).
 import { spawn } from "node:child_process";
-import { readdirSync, readFileSync } from "node:fs";
 import http from "node:http";
 import { performance } from "node:perf_hooks";
 import { Membership, Organisation, Site, User } from "#models/index.ts";
@@ -41,6 +40,7 @@ import { createUserWithOrganisation } from "#server/services/organisations.serve
 import { findFreePort } from "../support/free-port.ts";
 import { waitUntilAnswering } from "../support/answering.ts";
 import { machineSpeed } from "./machine-speed.ts";
+import { serverCpuMs, signIn } from "./server-processes.ts";
 
 const argument = (name: string, fallback: number) => {
   const given = process.argv.find((value) => value.startsWith(`--${name}=`));
@@ -122,12 +122,6 @@ async function seedLargeOrganisation(): Promise<string> {
   return organisation.slug;
 }
 
-async function signIn(base: string, email: string, password: string, address: string): Promise<string> {
-  const response = await fetch(`${base}/login`, { method: "POST", redirect: "manual", headers: { Origin: base, "Content-Type": "application/x-www-form-urlencoded", "X-Forwarded-For": address }, body: new URLSearchParams({ email, password }) });
-  const cookie = response.headers.getSetCookie().map((line) => line.split(";")[0]).join("; ");
-  if (response.status !== 302 || !cookie) throw new Error(`sign-in of ${email} failed: ${response.status}`);
-  return cookie;
-}
 
 // Connections are held as browsers hold them: each signed-in session is one browser with its
 // own keep-alive agent of at most six connections (what browsers open per HTTP/1.1 origin),
@@ -177,33 +171,6 @@ function clientCpu(): () => number {
   };
 }
 
-/**
- * The CPU time (ms) the server's processes have used so far: the launched process and its
- * children (the cluster's web and job processes), from /proc (Linux; 0 elsewhere). On a shared
- * machine latency and throughput follow the neighbours' load, CPU per request much less so.
- */
-function serverCpuMs(rootPid: number): number {
-  let entries: string[];
-  try {
-    entries = readdirSync("/proc").filter((name) => /^\d+$/.test(name));
-  } catch {
-    return 0;
-  }
-  const ticksPerMs = 100 / 1000; // USER_HZ is 100 on Linux
-  let total = 0;
-  for (const name of entries) {
-    try {
-      // Fields after the parenthesised command name: state ppid … utime (14th) stime (15th).
-      const stat = readFileSync(`/proc/${name}/stat`, "utf8");
-      const fields = stat.slice(stat.lastIndexOf(")") + 2).split(" ");
-      if (Number(name) !== rootPid && Number(fields[1]) !== rootPid) continue;
-      total += (Number(fields[11]) + Number(fields[12])) / ticksPerMs;
-    } catch {
-      // The process ended while we looked.
-    }
-  }
-  return total;
-}
 
 async function main() {
   // The machine's speed first, while nothing of the benchmark runs yet (tests/bench/machine-speed.ts).
