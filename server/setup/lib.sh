@@ -225,6 +225,20 @@ run_migrations_and_seed() {
   npx tsx server/db/cli.ts "${steps[@]}" || fail "the database set-up (${steps[*]}) failed" "read the error above"
 }
 
+# The load benchmark's database (kept between runs), migrated and seeded, and the build: what
+# bench-load.sh and bench-ab.sh start from.
+prepare_load_benchmark() {
+  ensure_debian_packages postgresql >/dev/null
+  ensure_npm_dependencies >/dev/null
+  ensure_postgres_cluster >/dev/null
+  ensure_database "${SALLYPORT_LOAD_DB_NAME:-sallyport_load_test}"
+  ensure_session_secret
+  ensure_second_factor_key
+  ensure_app_origin
+  run_migrations_and_seed >/dev/null
+  build_app >/dev/null
+}
+
 build_app() {
   step "Building the web app and the CLI"
   cd "$ROOT"
