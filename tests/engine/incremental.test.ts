@@ -95,6 +95,25 @@ describe("incremental analysis", () => {
     }
   });
 
+  test("a rule removed together with another rule's change of action: partitions whose owners did not change still take the new actions", () => {
+    const model = validated(generateModel(21, MEDIUM).model);
+    const previous = compileModel(model);
+    findings(previous);
+    exposure(previous);
+    const rules = model.inboundRules;
+    for (let removed = 0; removed < rules.length; removed++) {
+      // The flipped rule: the next one on the same interface, so it shares the removed rule's lists.
+      const flipped = rules.findIndex((r, i) => i > removed && r.interface === rules[removed].interface);
+      if (flipped < 0) continue;
+      const edited = validated({
+        ...model,
+        inboundRules: rules.flatMap((r, i) => (i === removed ? [] : i === flipped ? [{ ...r, action: r.action === "allow" ? "deny" : "allow" }] : [r])),
+      });
+      const next = compileModel(edited, { basis: previous });
+      expect(answers(next, []), `rule ${removed} removed, ${flipped} flipped`).toBe(answers(compileModel(edited), []));
+    }
+  });
+
   test("a chain of edits, each compiled on the one before, stays exact", { timeout: 60_000 }, () => {
     const generated = generateModel(77, MEDIUM);
     let model = validated(generated.model);
