@@ -264,7 +264,8 @@ function slotsThatMatter(engine: CompiledModel, p: RulePartition): ReadonlySet<n
     const dirty = changedSources(engine, basis)[p.family];
     if (ownerStates.length < engine.slotCount) ownerStates = new Uint8Array(engine.slotCount * 2);
     markTouching(from.owner, dirty, engine.domains[p.family].size);
-    markTouching(p.owner, dirty, engine.domains[p.family].size);
+    // Often the same runs object (the edited rule owns nothing in either): marked already.
+    if (p.owner !== from.owner) markTouching(p.owner, dirty, engine.domains[p.family].size);
   }
   // One pass over the partition's runs; an owner is judged until one of its runs matters.
   const found = new Set<number>();
