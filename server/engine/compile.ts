@@ -1389,10 +1389,17 @@ export class CompiledModel {
    * the elements it covers from later rules and from the default). Linear in the elements
    * instead of a sweep over the whole list. Undefined when the basis has neither list.
    */
+  private editedSlot: number | undefined;
+
   private updatedPartition(basis: CompiledModel, family: Family, active: Int32Array): RulePartition | undefined {
     const edited = this.editedRule;
     if (edited === null) return undefined;
-    const at = active.findIndex((slot) => this.rules[this.slotPositions[slot]].id === edited.id);
+    // The edited rule's slot here (by id, looked up once): a list holds it at most once.
+    if (this.editedSlot === undefined) {
+      const position = this.positionOfId(edited.id);
+      this.editedSlot = position < 0 ? -1 : this.ruleSlots[position];
+    }
+    const at = this.editedSlot < 0 ? -1 : active.indexOf(this.editedSlot);
     const without = at < 0 ? active : active.filter((_, k) => k !== at);
     const index = this.basisIndex as Map<number, RulePartition[]>;
     const lookup = (list: Int32Array) => index.get(contentHash(family, list))?.find((p) => sameSlots(p, family, list));
@@ -1765,15 +1772,15 @@ function claimNeeded(need: Int32Array, wordsInOrder: Int32Array, owner: Int32Arr
 function takenRuns(runs: Runs, bits: SparseBits, slot: number, takes: (owner: number) => boolean, size: number): Runs {
   // A rule shadowed there takes nothing: the same runs object (outcomes kept per runs carry over).
   if (!takesAny(runs, bits, takes, size)) return runs;
-  const starts: number[] = [];
-  const values: number[] = [];
+  // Into typed scratch (at most a run per element), copied out once: no arrays grown per run.
+  if (takenStarts.length < size + 1) {
+    takenStarts = new Int32Array(size + 1);
+    takenValues = new Int32Array(size + 1);
+  }
+  const starts = takenStarts;
+  const values = takenValues;
+  let count = 0;
   let previous = UNTOUCHED;
-  const emit = (start: number, value: number) => {
-    if (value === previous) return;
-    starts.push(start);
-    values.push(value);
-    previous = value;
-  };
   const { words, masks } = bits;
   const n = runs.starts.length;
   let j = 0;
@@ -1782,7 +1789,10 @@ function takenRuns(runs: Runs, bits: SparseBits, slot: number, takes: (owner: nu
     const end = k + 1 < n ? runs.starts[k + 1] : size;
     const value = runs.values[k];
     if (!takes(value)) {
-      emit(start, value);
+      if (value !== previous) {
+        starts[count] = start;
+        values[count++] = previous = value;
+      }
       continue;
     }
     while (j < words.length && (words[j] << 5) + 31 < start) j++;
@@ -1797,16 +1807,29 @@ function takenRuns(runs: Runs, bits: SparseBits, slot: number, takes: (owner: nu
         const first = 31 - Math.clz32(mask & -mask);
         const inverse = ~(mask >>> first);
         const length = inverse === 0 ? 32 - first : 31 - Math.clz32(inverse & -inverse);
-        if (base + first > cursor) emit(cursor, value);
-        emit(base + first, slot);
+        if (base + first > cursor && value !== previous) {
+          starts[count] = cursor;
+          values[count++] = previous = value;
+        }
+        if (slot !== previous) {
+          starts[count] = base + first;
+          values[count++] = previous = slot;
+        }
         cursor = base + first + length;
         mask = first + length >= 32 ? 0 : mask & ~(((1 << length) - 1) << first);
       }
     }
-    if (cursor < end) emit(cursor, value);
+    if (cursor < end && value !== previous) {
+      starts[count] = cursor;
+      values[count++] = previous = value;
+    }
   }
-  return { starts: Int32Array.from(starts), values: Int32Array.from(values) };
+  return { starts: starts.slice(0, count), values: values.slice(0, count) };
 }
+
+/** takenRuns's scratch, grown to the largest domain seen. */
+let takenStarts = new Int32Array(0);
+let takenValues = new Int32Array(0);
 
 /** Whether takenRuns would give any element to the rule: one of its bits lies in a run whose owner it takes from. */
 function takesAny(runs: Runs, bits: SparseBits, takes: (owner: number) => boolean, size: number): boolean {
