@@ -8,7 +8,7 @@
 import fc from "fast-check";
 import { describe, expect, test } from "vitest";
 import { compileModel, exposure, findings, trace, worstOutcome } from "#server/engine/index.ts";
-import type { CompiledModel, DeviceModel } from "#server/engine/index.ts";
+import type { CompiledModel, DeviceModel, Finding } from "#server/engine/index.ts";
 import { RULE_FIELDS_COMPARED } from "#server/engine/compile.ts";
 import { BENCH_SIZE, generateModel, prng } from "#server/engine/testing/generate-model.ts";
 import { MEDIUM, RULE_EDITS, validated } from "./random-edits.ts";
@@ -112,6 +112,23 @@ describe("incremental analysis", () => {
       const next = compileModel(edited, { basis: previous });
       expect(answers(next, []), `rule ${removed} removed, ${flipped} flipped`).toBe(answers(compileModel(edited), []));
     }
+  });
+
+  test("account findings are the basis's own objects after an edit of rules, and made again after an edit of an account", () => {
+    const model = validated(generateModel(13, MEDIUM).model);
+    const previous = compileModel(model);
+    const before = findings(previous);
+    const ofAccounts = (list: readonly Finding[]) => list.filter((f) => f.elements.some((e) => e.startsWith("account:")) && f.code !== "lockout");
+    expect(ofAccounts(before).length).toBeGreaterThan(0);
+    const ruleEdited = compileModel(validated(RULE_EDITS.switch(model, () => 3)), { basis: previous });
+    const kept = ofAccounts(findings(ruleEdited));
+    expect(kept.length).toBe(ofAccounts(before).length);
+    for (const finding of kept) expect(before).toContain(finding);
+    // Every account without a second factor gets one: those findings go, in the incremental compile as in a fresh one.
+    const accountEdited = validated({ ...model, accounts: model.accounts.map((a) => ({ ...a, secondFactor: "totp" as const })) });
+    const next = compileModel(accountEdited, { basis: previous });
+    expect(JSON.stringify(findings(next))).toBe(JSON.stringify(findings(compileModel(accountEdited))));
+    expect(findings(next).some((f) => f.code === "no-second-factor")).toBe(false);
   });
 
   test("a chain of edits, each compiled on the one before, stays exact", { timeout: 60_000 }, () => {
