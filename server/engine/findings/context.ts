@@ -162,6 +162,33 @@ export class FindingContext {
   }
 
   /**
+   * A redundant rule's finding (its witness: the first place it decides): the basis's own when
+   * the edit left the rule alone and that place is the basis's, in a cell the edit did not
+   * change — the probe follows from the place and the rule's own conditions, and its trace
+   * from that cell, as in the basis. Else built.
+   */
+  redundantFinding(position: number, build: () => Finding): Finding {
+    const id = this.engine.rules[position].id;
+    const basis = this.#basis;
+    const previous = basis === undefined ? undefined : basis.#ruleFindings.get("redundant-rule")?.get(id);
+    const finding = previous !== undefined && this.#decidingPlaceKept(position) ? previous : build();
+    let byId = this.#ruleFindings.get("redundant-rule");
+    if (byId === undefined) this.#ruleFindings.set("redundant-rule", (byId = new Map()));
+    byId.set(id, finding);
+    return finding;
+  }
+
+  #decidingPlaceKept(position: number): boolean {
+    const engine = this.engine;
+    const basis = this.#basis;
+    if (basis === undefined || engine.incrementalBasis === undefined || engine.ruleChangedByEdit(position)) return false;
+    const slot = engine.slotOf(position);
+    const place = this.#decidingPlace(slot);
+    const edit = censusOf(engine).edit;
+    return place !== undefined && edit !== null && basis.#deciding.get(slot) === place && edit.changed[place.cell] === 0;
+  }
+
+  /**
    * Whether a rule finding of the basis still holds word for word: the edit left the rule
    * alone, and the cell its witness probe is traced in is unchanged, so the trace (outcome,
    * deciding rule) is the basis's. The probe itself depends on the rule's own conditions only.
