@@ -44,7 +44,9 @@ export function findingsOf(engine: CompiledModel): Finding[] {
   const basis = engine.basisModel;
   const context = new FindingContext(engine, basis === undefined ? undefined : contexts.get(basis));
   contexts.set(engine, context);
-  const found = FINDING_CHECKS.flatMap((check) => check.check(context));
+  // Pushed, not flatMap: four thousand findings on the benchmark model, gathered after every edit.
+  const found: Finding[] = [];
+  for (const check of FINDING_CHECKS) for (const finding of check.check(context)) found.push(finding);
   context.releaseBasis();
   const sorted = sortedLike(found, basis === undefined ? undefined : sortedFindings.get(basis));
   sortedFindings.set(engine, sorted);
