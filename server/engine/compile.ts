@@ -1432,26 +1432,26 @@ export class CompiledModel {
       // carries over without being mapped again (outcomeRunsOf).
       let owns = false;
       for (let k = 0; k < values.length && !owns; k++) owns = values[k] === removed;
-      need.fill(0);
-      const needWords: number[] = [];
-      let count = 0;
-      for (let k = 0; owns && k < starts.length; k++) {
-        if (values[k] !== removed) continue;
-        const end = k + 1 < starts.length ? starts[k + 1] : domain.size;
-        for (let element = starts[k]; element < end; element++) {
-          const w = element >>> 5;
-          if (need[w] === 0) needWords.push(w);
-          need[w] |= 1 << (element & 31);
-          owner[element] = -1;
-          count++;
-        }
-      }
-      const wordsInOrder = Int32Array.from(needWords).sort();
-      for (let k = removeAt + 1; k < base.active.length && count > 0; k++) {
-        const slot = base.active[k];
-        count -= claimNeeded(need, wordsInOrder, owner, slot, basis.ruleBits[basis.slotPositions[slot]][familySlot]);
-      }
       if (owns) {
+        need.fill(0);
+        const needWords: number[] = [];
+        let count = 0;
+        for (let k = 0; k < starts.length; k++) {
+          if (values[k] !== removed) continue;
+          const end = k + 1 < starts.length ? starts[k + 1] : domain.size;
+          for (let element = starts[k]; element < end; element++) {
+            const w = element >>> 5;
+            if (need[w] === 0) needWords.push(w);
+            need[w] |= 1 << (element & 31);
+            owner[element] = -1;
+            count++;
+          }
+        }
+        const wordsInOrder = Int32Array.from(needWords).sort();
+        for (let k = removeAt + 1; k < base.active.length && count > 0; k++) {
+          const slot = base.active[k];
+          count -= claimNeeded(need, wordsInOrder, owner, slot, basis.ruleBits[basis.slotPositions[slot]][familySlot]);
+        }
         const patched = (this.patchScratch ??= new Uint8Array(this.slotCount + 1));
         patched[removed + 1] = 1;
         runs = patchedRuns(base.owner, patched, owner, domain.size);
