@@ -12,6 +12,10 @@
 // ≤ 100 ms and ≤ 400 MiB peak RSS; at 16,000 rules compile ≤ 2 s, findings ≤ 3 s, diff ≤ 3 s,
 // peak RSS ≤ 1 GiB; fleet reach over 500 demo-size devices ≤ 1 s warm. Sizes of the series,
 // the diff and the fleet run in fresh child processes, so each peak RSS is that run's own.
+// The edits' key `edits.<name>.reanalysisMs` keeps its meaning (compile on the basis + every
+// exposure cell's outcome counts over the week + findings); since 2026-12-04 the counts are
+// read through the revision summary's worstOutcome, the call the app makes after a save
+// (exposureCounts below), instead of a walk over every slice's cells.
 
 import { spawn, spawnSync } from "node:child_process";
 import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
