@@ -335,7 +335,8 @@ export class CompiledModel {
     this.othersText = everythingButRules(model);
     const onlyRulesChanged = basis !== undefined && basis.othersText === this.othersText;
     const edit = basis === undefined ? null : ruleEdit(basis.model, model);
-    const basisIndexOf = basis === undefined ? null : new Map(basis.model.inboundRules.map((r, i) => [r.id, i]));
+    // The basis's own id → position map (made once per basis, not once per edit compiled on it).
+    const basisIndexOf = basis === undefined ? null : basis.positionsOfIds();
     const changedIds = edit === null || edit.changed === null ? null : new Set(edit.changed);
     // Per position, looked up once: the basis's index of the rule with the same id, and of a
     // rule this model compiles exactly as the basis did (-1 when none).
@@ -870,8 +871,13 @@ export class CompiledModel {
 
   /** This model's position of a rule id, or -1. */
   private positionOfId(id: string): number {
+    return this.positionsOfIds().get(id) ?? -1;
+  }
+
+  /** Rule positions by id, made once. */
+  private positionsOfIds(): ReadonlyMap<string, number> {
     this.positionsById ??= new Map(this.rules.map((r) => [r.id, r.position]));
-    return this.positionsById.get(id) ?? -1;
+    return this.positionsById;
   }
 
   /** Enabled rules for the interface (or any) that name the service class, as a bitmask over positions: every destination's candidates are a subset. */

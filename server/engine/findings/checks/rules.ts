@@ -8,8 +8,13 @@ import type { FindingContext } from "../context.ts";
 import { SOURCES } from "../sources.ts";
 import type { Finding, FindingCheck } from "../types.ts";
 
+/** Enabled rules whose schedule is active in no slice: made once per context (three checks ask). */
 const neverActive = (context: FindingContext) =>
-  context.engine.rules.filter((rule) => rule.enabled && rule.schedule >= 0 && !context.engine.week.slices.some((slice) => slice.active[rule.schedule]));
+  context.kept("rules|never-active", () => {
+    const slices = context.engine.week.slices;
+    const ever = context.model.schedules.map((_, schedule) => slices.some((slice) => slice.active[schedule]));
+    return context.engine.rules.filter((rule) => rule.enabled && rule.schedule >= 0 && !ever[rule.schedule]);
+  });
 
 export const ruleNeverActive: FindingCheck = {
   code: "rule-never-active",
