@@ -483,7 +483,9 @@ export class CompiledModel {
       this.onlyRulesChanged = onlyRulesChanged;
       const { changed, edited } = edit ?? ruleEdit(basis.model, model);
       this.editedRule = edited === null ? null : { id: edited, basisPosition: basisIndexOf?.get(edited) ?? -1 };
-      this.basisPositions = Array.from(basisIndexAt, (j) => (j >= 0 ? j : undefined));
+      const basisPositions = new Array<number | undefined>(basisIndexAt.length);
+      for (let i = 0; i < basisIndexAt.length; i++) basisPositions[i] = basisIndexAt[i] >= 0 ? basisIndexAt[i] : undefined;
+      this.basisPositions = basisPositions;
       this.sameCatalogueAndAccounts =
         JSON.stringify(basis.model.services) === JSON.stringify(model.services) &&
         basis.defaultAllow === this.defaultAllow &&
@@ -865,7 +867,11 @@ export class CompiledModel {
 
   /** Per basis position: this model's position of the same rule, or -1 for a rule the edit changed or removed. */
   private positionsFromBasis(basis: CompiledModel, ids: ReadonlySet<string>): Int32Array {
-    this.basisToNow ??= Int32Array.from(basis.rules, (rule) => (ids.has(rule.id) ? -1 : this.positionOfId(rule.id)));
+    if (this.basisToNow === undefined) {
+      const toNow = new Int32Array(basis.rules.length);
+      for (let k = 0; k < toNow.length; k++) toNow[k] = ids.has(basis.rules[k].id) ? -1 : this.positionOfId(basis.rules[k].id);
+      this.basisToNow = toNow;
+    }
     return this.basisToNow;
   }
 
@@ -1665,7 +1671,9 @@ export class CompiledModel {
     let table = this.#outcomeTables.get(passed);
     if (table === undefined) {
       const allowed = this.allowTable();
-      table = Int32Array.from(allowed, (allow) => (allow === 1 ? passed : SILENT));
+      // Plain loops here and below: `from` over a typed array or an array with a mapping function makes an iterator result per item.
+      table = new Int32Array(allowed.length);
+      for (let k = 0; k < allowed.length; k++) table[k] = allowed[k] === 1 ? passed : SILENT;
       this.#outcomeTables.set(passed, table);
     }
     return table;

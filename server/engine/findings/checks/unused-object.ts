@@ -93,7 +93,12 @@ function editedReferences(model: DeviceModel, before: DeviceModel, changed: Read
       if (was > 0 === now > 0) continue;
       const element = elementOfName(model, kind, name);
       if (element === undefined) continue;
-      if (byElement === previous.byElement) byElement = new Map(previous.byElement);
+      if (byElement === previous.byElement) {
+        // Copied by forEach: a Map made from a Map's iterator makes an entry array per finding.
+        const copy = new Map<ElementRef, Finding>();
+        previous.byElement.forEach((kept, key) => copy.set(key, kept));
+        byElement = copy;
+      }
       const mine = byElement as Map<ElementRef, Finding>;
       if (now > 0) mine.delete(element);
       else mine.set(element, unusedFinding(element));
