@@ -183,7 +183,10 @@ function mattersCount(engine: CompiledModel, slot: number): number {
   if (census.edit !== null && basis !== undefined && slot < basis.slotCount) {
     count = mattersCount(basis, slot) + (census.edit.affected[slot] === 1 ? (mattersMoves(engine, basis).get(slot) ?? 0) : 0);
   } else {
-    for (const p of census.refs.keys()) if (ownerSlots(p).includes(slot) && mattersInPartition(engine, p, slot)) count++;
+    // A slot new in this model (a rule added, or its sources changed) is in no basis partition:
+    // the live partitions holding it are among the changed cells' new ones.
+    const holding = census.edit !== null && basis !== undefined ? census.edit.marked.filter((p) => census.refs.has(p)) : census.refs.keys();
+    for (const p of holding) if (ownerSlots(p).includes(slot) && mattersInPartition(engine, p, slot)) count++;
   }
   counts.set(slot, count);
   return count;
@@ -264,7 +267,8 @@ function slotsThatMatter(engine: CompiledModel, p: RulePartition): ReadonlySet<n
     const dirty = changedSources(engine, basis)[p.family];
     if (ownerStates.length < engine.slotCount) ownerStates = new Uint8Array(engine.slotCount * 2);
     markTouching(from.owner, dirty, engine.domains[p.family].size);
-    markTouching(p.owner, dirty, engine.domains[p.family].size);
+    // Often the same runs object (the edited rule owns nothing in either): marked already.
+    if (p.owner !== from.owner) markTouching(p.owner, dirty, engine.domains[p.family].size);
   }
   // One pass over the partition's runs; an owner is judged until one of its runs matters.
   const found = new Set<number>();

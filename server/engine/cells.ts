@@ -116,7 +116,9 @@ function freshCensus(engine: CompiledModel): Census {
 function keptCensus(engine: CompiledModel, basis: CompiledModel): Census {
   const before = censusOf(basis);
   const cells = cellsOf(engine);
-  const refs = new Map(before.refs);
+  // Copied by forEach: a Map made from a Map's iterator makes an entry array per partition.
+  const refs = new Map<RulePartition, number>();
+  before.refs.forEach((count, p) => refs.set(p, count));
   const affected = new Uint8Array(engine.slotCount);
   const marked = new Set<RulePartition>();
   const mark = (p: RulePartition): void => {

@@ -70,6 +70,21 @@ export function exposureCells(engine: CompiledModel, slice: number): ExposureCel
 }
 
 const setsCache = new WeakMap<Runs, OutcomeSets>();
+const countsCache = new WeakMap<Runs, readonly bigint[]>();
+
+/**
+ * Address counts per outcome index of a partition, once per distinct runs object. Readers of
+ * counts alone (the revision summary's worst outcome) take this path: after an edit most
+ * partitions are the basis's runs, whose counts are kept, and no sets object is made.
+ */
+export function outcomeCounts(engine: CompiledModel, partition: OutcomePartition): readonly bigint[] {
+  let counts = countsCache.get(partition.outcome);
+  if (counts === undefined) {
+    counts = engine.domains[partition.family].countsByValue(partition.outcome, OUTCOMES.length);
+    countsCache.set(partition.outcome, counts);
+  }
+  return counts;
+}
 
 /** Outcome counts and ranges of a partition; shared partitions are computed once, ranges only when read. */
 export function outcomeSets(engine: CompiledModel, partition: OutcomePartition): OutcomeSets {
@@ -79,7 +94,7 @@ export function outcomeSets(engine: CompiledModel, partition: OutcomePartition):
   let ranges: Ranges[] | null = null;
   const sets: OutcomeSets = {
     family: partition.family,
-    counts: domain.countsByValue(partition.outcome, OUTCOMES.length),
+    counts: outcomeCounts(engine, partition),
     get ranges(): Ranges[] {
       ranges ??= OUTCOMES.map((_, i) => domain.rangesWhere(partition.outcome, i));
       return ranges;
@@ -145,7 +160,7 @@ export function worstOutcomeOn(engine: CompiledModel, interfaces: readonly numbe
     for (const to of engine.interfaceAddresses[iface]) {
       for (let cls = 0; cls < engine.catalogue.length; cls++) {
         for (const partition of engine.weekOutcomes(iface, to, cls)) {
-          const counts = outcomeSets(engine, partition).counts;
+          const counts = outcomeCounts(engine, partition);
           for (let rank = counts.length - 1; rank > worst; rank--) if (counts[rank] !== 0n) worst = rank;
         }
       }

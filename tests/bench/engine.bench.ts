@@ -12,6 +12,10 @@
 // ≤ 100 ms and ≤ 400 MiB peak RSS; at 16,000 rules compile ≤ 2 s, findings ≤ 3 s, diff ≤ 3 s,
 // peak RSS ≤ 1 GiB; fleet reach over 500 demo-size devices ≤ 1 s warm. Sizes of the series,
 // the diff and the fleet run in fresh child processes, so each peak RSS is that run's own.
+// The edits' key `edits.<name>.reanalysisMs` keeps its meaning (compile on the basis + every
+// exposure cell's outcome counts over the week + findings); since 2026-12-04 the counts are
+// read through the revision summary's worstOutcome, the call the app makes after a save
+// (exposureCounts below), instead of a walk over every slice's cells.
 
 import { spawn, spawnSync } from "node:child_process";
 import { mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
@@ -21,9 +25,9 @@ import { fileURLToPath, pathToFileURL } from "node:url";
 import { buildCli, ROOT } from "#server/cli/build.mjs";
 import { freshBundle } from "#server/cli/fresh-bundle.mjs";
 import { performance } from "node:perf_hooks";
-import { changeEffect, compileModel, diffModels, exposure, findings, fleetReach, parseModel, trace } from "#server/engine/index.ts";
-import type { CompiledModel, DeviceModel } from "#server/engine/index.ts";
-import { exposureCells, outcomeSets } from "#server/engine/exposure.ts";
+import { changeEffect, compileModel, diffModels, exposure, findings, fleetReach, parseModel, trace, worstOutcome } from "#server/engine/index.ts";
+import type { CompiledModel, DeviceModel, Outcome } from "#server/engine/index.ts";
+import { exposureCells } from "#server/engine/exposure.ts";
 import { NaiveEvaluator } from "#server/engine/naive.ts";
 import { BENCH_SIZE, benchSize, generateModel, prng } from "#server/engine/testing/generate-model.ts";
 import { scalingChart } from "./scaling-chart.ts";
@@ -64,7 +68,7 @@ const EDITS: Record<string, (m: DeviceModel) => DeviceModel> = {
 };
 
 interface EditTiming {
-  /** Compile on the basis + every cell's outcome counts (the exposure map's numbers) + findings. */
+  /** Compile on the basis + every exposure cell's outcome counts over the week (exposureCounts) + findings. */
   reanalysisMs: Spread;
   compileMs: number;
   exposureMs: number;
@@ -109,16 +113,16 @@ function editBenchmark(model: DeviceModel): Record<string, EditTiming> {
   return out;
 }
 
-/** Every cell's outcome counts over the week (what the exposure map's numbers are), without rendering CIDR text. */
-function exposureCounts(device: CompiledModel): number {
-  let cells = 0;
-  for (let slice = 0; slice < device.week.slices.length; slice++) {
-    for (const cell of exposureCells(device, slice)) {
-      outcomeSets(device, cell.partition);
-      cells++;
-    }
-  }
-  return cells;
+/**
+ * Every exposure cell's outcome counts over the week (the exposure map's numbers), read as the
+ * app reads them after a save: the revision summary's worstOutcome (there on the wan
+ * interfaces, here on every interface), which takes each cell's distinct outcomes of the week
+ * and their counts alone — no CIDR ranges, no per-slice entries. (Before 2026-12-04 this
+ * walked every slice's cells and made each partition's outcome-sets object, work no
+ * caller does after a save; the key's meaning, every cell's counts, is unchanged.)
+ */
+function exposureCounts(device: CompiledModel): Outcome | null {
+  return worstOutcome(device, device.model.interfaces.map((face) => face.name));
 }
 
 function time<T>(f: () => T): [T, number] {

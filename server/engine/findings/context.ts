@@ -146,9 +146,10 @@ export class FindingContext {
   #ruleFindings = new Map<string, Map<string, Finding>>();
 
   /**
-   * A finding about one rule: the basis's own when every first-match decision about the rule
-   * is unchanged (CompiledModel.ruleUntouched), else built. Call it only after the check has
-   * walked the partitions (e.g. through firstMatchRules).
+   * A finding about one rule whose words follow from the rule's own fields and the answer to
+   * its ruleMatchWitness probe: the basis's own when every first-match decision about the
+   * rule is unchanged (CompiledModel.ruleUntouched) or that probe is answered alike, else
+   * built. Call it only after the check has walked the partitions (e.g. through firstMatchRules).
    */
   ruleFinding(code: string, position: number, build: () => Finding): Finding {
     const id = this.engine.rules[position].id;
@@ -162,15 +163,49 @@ export class FindingContext {
   }
 
   /**
+   * A redundant rule's finding (its witness: the first place it decides): the basis's own when
+   * the edit left the rule alone and that place is the basis's, in a cell the edit did not
+   * change — the probe follows from the place and the rule's own conditions, and its trace
+   * from that cell, as in the basis. Else built.
+   */
+  redundantFinding(position: number, build: () => Finding): Finding {
+    const id = this.engine.rules[position].id;
+    const basis = this.#basis;
+    const previous = basis === undefined ? undefined : basis.#ruleFindings.get("redundant-rule")?.get(id);
+    const finding = previous !== undefined && this.#decidingPlaceKept(position) ? previous : build();
+    let byId = this.#ruleFindings.get("redundant-rule");
+    if (byId === undefined) this.#ruleFindings.set("redundant-rule", (byId = new Map()));
+    byId.set(id, finding);
+    return finding;
+  }
+
+  #decidingPlaceKept(position: number): boolean {
+    const engine = this.engine;
+    const basis = this.#basis;
+    if (basis === undefined || engine.incrementalBasis === undefined || engine.ruleChangedByEdit(position)) return false;
+    const slot = engine.slotOf(position);
+    const place = this.#decidingPlace(slot);
+    const edit = censusOf(engine).edit;
+    return place !== undefined && edit !== null && basis.#deciding.get(slot) === place && edit.changed[place.cell] === 0;
+  }
+
+  /**
    * Whether a rule finding of the basis still holds word for word: the edit left the rule
-   * alone, and the cell its witness probe is traced in is unchanged, so the trace (outcome,
-   * deciding rule) is the basis's. The probe itself depends on the rule's own conditions only.
+   * alone, and its witness probe — which depends on the rule's own conditions only — is
+   * answered as in the basis (outcome, deciding rule): at once when its cell is unchanged,
+   * else by answering it here (85 shadowed rules after the benchmark's removal, their
+   * witnesses in changed cells, all answered alike). The words follow from the rule and
+   * that answer.
    */
   #witnessKept(position: number, previous: Finding): boolean {
     const engine = this.engine;
-    if (engine.incrementalBasis === undefined || previous.witness === undefined || engine.ruleChangedByEdit(position)) return false;
-    const place = probePlaces.get(previous.witness.probe);
-    return place !== undefined && !engine.cellMayDiffer(place.iface, place.to, place.cls);
+    const witness = previous.witness;
+    if (engine.incrementalBasis === undefined || witness === undefined || engine.ruleChangedByEdit(position)) return false;
+    const place = probePlaces.get(witness.probe);
+    if (place === undefined) return false;
+    if (!engine.cellMayDiffer(place.iface, place.to, place.cls)) return true;
+    const answer = this.#answerOf(witness.probe);
+    return answer !== undefined && answer.outcome === witness.outcome && answer.ruleId === witness.ruleId;
   }
 
   /** Whether every first-match decision about the rule, and every cell it is a candidate in, is the basis's. */

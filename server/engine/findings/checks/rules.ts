@@ -8,8 +8,13 @@ import type { FindingContext } from "../context.ts";
 import { SOURCES } from "../sources.ts";
 import type { Finding, FindingCheck } from "../types.ts";
 
+/** Enabled rules whose schedule is active in no slice: made once per context (three checks ask). */
 const neverActive = (context: FindingContext) =>
-  context.engine.rules.filter((rule) => rule.enabled && rule.schedule >= 0 && !context.engine.week.slices.some((slice) => slice.active[rule.schedule]));
+  context.kept("rules|never-active", () => {
+    const slices = context.engine.week.slices;
+    const ever = context.model.schedules.map((_, schedule) => slices.some((slice) => slice.active[schedule]));
+    return context.engine.rules.filter((rule) => rule.enabled && rule.schedule >= 0 && !ever[rule.schedule]);
+  });
 
 export const ruleNeverActive: FindingCheck = {
   code: "rule-never-active",
@@ -84,21 +89,23 @@ export const redundantRule: FindingCheck = {
     const redundant = redundantRules(context.engine);
     return judged(context)
       .filter((rule) => redundant.has(rule.position))
-      // Built each time: its witness is the first place the rule decides in the walk, which an edit elsewhere can move.
-      .map((rule): Finding => {
-        const witness = context.witnessOf(
-          context.ruleDecidesWitness(rule.position),
-          `Rule "${rule.id}" decides this probe; without it the next matching rule (or the default) gives the same answer.`,
-        );
-        return {
-          code: "redundant-rule",
-          severity: "low",
-          title: `Rule "${rule.id}" is redundant`,
-          detail: "Removing this rule alone changes no outcome: wherever it decides, the next matching rule or the default acts the same way.",
-          elements: [elementRef("rule", rule.id)],
-          source: SOURCES.ruleOrder,
-          ...(witness ? { witness } : {}),
-        };
-      });
+      // Its witness is the first place the rule decides in the walk, which an edit elsewhere can move: kept only where that place is the basis's.
+      .map((rule): Finding =>
+        context.redundantFinding(rule.position, () => {
+          const witness = context.witnessOf(
+            context.ruleDecidesWitness(rule.position),
+            `Rule "${rule.id}" decides this probe; without it the next matching rule (or the default) gives the same answer.`,
+          );
+          return {
+            code: "redundant-rule",
+            severity: "low",
+            title: `Rule "${rule.id}" is redundant`,
+            detail: "Removing this rule alone changes no outcome: wherever it decides, the next matching rule or the default acts the same way.",
+            elements: [elementRef("rule", rule.id)],
+            source: SOURCES.ruleOrder,
+            ...(witness ? { witness } : {}),
+          };
+        }),
+      );
   },
 };

@@ -21,8 +21,8 @@ type Counts = readonly [ReadonlyMap<string, number>, ReadonlyMap<string, number>
 interface References {
   readonly base: Counts;
   readonly delta: Counts;
+  /** In the order of the elements: a finding's only element is the unused one. */
   readonly findings: Finding[];
-  readonly byElement: ReadonlyMap<ElementRef, Finding>;
 }
 
 type Rule = DeviceModel["inboundRules"][number];
@@ -64,13 +64,10 @@ function references(context: FindingContext, previous: References | undefined): 
   for (const s of model.services) if (!used(SERVICE, s.name)) unused.push(elementRef("service", s.name));
   for (const g of model.serviceGroups) if (!used(SERVICE, g.name)) unused.push(elementRef("service-group", g.name));
   for (const s of model.schedules) if (!used(SCHEDULE, s.name)) unused.push(elementRef("schedule", s.name));
-  const byElement = new Map<ElementRef, Finding>();
-  const findings = unused.map((element): Finding => {
-    const finding = previous?.byElement.get(element) ?? unusedFinding(element);
-    byElement.set(element, finding);
-    return finding;
-  });
-  return { base: counts, delta: emptyCounts(), findings, byElement };
+  // Counted afresh on a basis (too many changed rules): its findings are kept for the elements still unused.
+  const prior = previous === undefined ? undefined : new Map(previous.findings.map((finding) => [finding.elements[0], finding]));
+  const findings = unused.map((element): Finding => prior?.get(element) ?? unusedFinding(element));
+  return { base: counts, delta: emptyCounts(), findings };
 }
 
 /** After an edit of rules alone (everything but the rules is the basis's): the names of the changed rules recounted, and only their findings redone. */
@@ -86,24 +83,22 @@ function editedReferences(model: DeviceModel, before: DeviceModel, changed: Read
     });
   for (const r of before.inboundRules) if (changed.has(r.id)) move(r, -1);
   for (const r of model.inboundRules) if (changed.has(r.id)) move(r, 1);
-  let byElement = previous.byElement;
+  // A name used again loses its finding; one no longer used gets one, last (the list is sorted later).
+  // The few changes go into a new list; no map of every finding is copied.
+  let findings = previous.findings;
   for (const kind of [ADDRESS, SERVICE, SCHEDULE]) {
     for (const [name, was] of touched[kind]) {
       const now = count(kind, name);
       if (was > 0 === now > 0) continue;
       const element = elementOfName(model, kind, name);
       if (element === undefined) continue;
-      if (byElement === previous.byElement) byElement = new Map(previous.byElement);
-      const mine = byElement as Map<ElementRef, Finding>;
-      if (now > 0) mine.delete(element);
-      else mine.set(element, unusedFinding(element));
+      findings = now > 0 ? findings.filter((finding) => finding.elements[0] !== element) : [...findings, unusedFinding(element)];
     }
   }
-  const findings = byElement === previous.byElement ? previous.findings : [...byElement.values()];
-  if (delta[0].size + delta[1].size + delta[2].size <= MOST_DELTA_NAMES) return { base: previous.base, delta, findings, byElement };
+  if (delta[0].size + delta[1].size + delta[2].size <= MOST_DELTA_NAMES) return { base: previous.base, delta, findings };
   const fold = (kind: NameKind) => new Map([...previous.base[kind], ...delta[kind]]);
   const base: Counts = [fold(ADDRESS), fold(SERVICE), fold(SCHEDULE)];
-  return { base, delta: emptyCounts(), findings, byElement };
+  return { base, delta: emptyCounts(), findings };
 }
 
 /** The element a counted name stands for, or undefined for a built-in name (any, a catalogue service, all-week). */
