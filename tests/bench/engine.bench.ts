@@ -28,17 +28,14 @@ import { performance } from "node:perf_hooks";
 import { changeEffect, compileModel, diffModels, exposure, findings, fleetReach, parseModel, trace, worstOutcome } from "#server/engine/index.ts";
 import type { CompiledModel, DeviceModel, Outcome } from "#server/engine/index.ts";
 import { exposureCells } from "#server/engine/exposure.ts";
-import { NaiveEvaluator } from "#server/engine/naive.ts";
 import { BENCH_SIZE, benchSize, generateModel, prng } from "#server/engine/testing/generate-model.ts";
 import { scalingChart } from "./scaling-chart.ts";
+import { benchProbes, NAIVE_PROBES, naiveMicrosecondsPerProbe, SEED, START } from "./machine-speed.ts";
 
-const SEED = 20250301;
 const TRACE_PROBES = 20_000;
-const NAIVE_PROBES = 400;
 const LOOKUPS = 4_000_000;
 const EXPOSURE_RUNS = 5;
 const FINDINGS_RUNS = 3;
-const START = Date.UTC(2025, 2, 24);
 const CLI_RUNS = 5;
 /** The instant of the CLI's `exposure --at`: Tuesday 10:00 UTC in the benchmark week. */
 const CLI_AT = new Date(START + (24 + 10) * 3_600_000).toISOString();
@@ -190,24 +187,6 @@ async function cliBenchmark(model: unknown): Promise<{ bundle: boolean; at: stri
   return { bundle, at: CLI_AT, runs: CLI_RUNS, helpStartMs: spread(help), exposureAtMs: spread(at), exposureAtBytes: bytes };
 }
 
-interface Probe {
-  from: string;
-  interface: string;
-  service: string;
-  atMs: number;
-}
-
-function probesFor(model: DeviceModel, sources: readonly string[], count: number, seed: number): Probe[] {
-  const rnd = prng(seed);
-  const pick = <T>(xs: readonly T[]): T => xs[Math.floor(rnd() * xs.length)];
-  const services = ["https", "http", "ssh", "telnet", "ping", "snmp", "webconsole", "tcp/8080"];
-  return Array.from({ length: count }, () => ({
-    from: pick(sources),
-    interface: pick(model.interfaces).name,
-    service: pick(services),
-    atMs: START + Math.floor(rnd() * 7 * 24 * 60) * 60_000,
-  }));
-}
 
 const median = (xs: readonly number[]): number => [...xs].sort((a, b) => a - b)[Math.floor(xs.length / 2)];
 const currentPeakRssMiB = (): number => process.resourceUsage().maxRSS / 1024;
@@ -514,7 +493,7 @@ async function main(): Promise<void> {
   const findingsMs = { min: round(findingsSorted[0], 1), median: round(findingsSorted[Math.floor(findingsSorted.length / 2)], 1), max: round(findingsSorted[findingsSorted.length - 1], 1), count: findingsCount };
 
   // Trace per probe, the full public API (text parsing, time zone, layer details).
-  const probes = probesFor(model, generated.sampleSources, TRACE_PROBES, SEED + 1);
+  const probes = benchProbes(model, generated.sampleSources, TRACE_PROBES, SEED + 1);
   const inputs = probes.map((p) => ({ from: p.from, interface: p.interface, service: p.service, at: p.atMs }));
   // First pass: partitions outside the exposure map (other ports, other destinations) are built on demand.
   const [, coldMs] = time(() => {
@@ -527,12 +506,7 @@ async function main(): Promise<void> {
   const traceUs = (traceMs * 1000) / probes.length;
 
   // The naive evaluator on the same probes, same run.
-  const naive = new NaiveEvaluator(model);
-  const naiveProbes = probes.slice(0, NAIVE_PROBES);
-  const [, naiveMs] = time(() => {
-    for (const p of naiveProbes) naive.trace(p);
-  });
-  const naiveUs = (naiveMs * 1000) / naiveProbes.length;
+  const naiveUs = naiveMicrosecondsPerProbe(model, probes.slice(0, NAIVE_PROBES));
 
   // Batch lookups: IPv4 sources classified against compiled (interface, address, service, slice) partitions.
   // Every IPv4 cell of the map, each with its full rule partition (no shortcut for silent services).
