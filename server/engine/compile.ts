@@ -1299,27 +1299,14 @@ export class CompiledModel {
     const { remaining: need, owner } = this.scratch[family];
     const patched = (this.patchScratch ??= new Uint8Array(this.slotCount + 1));
     for (const slot of offSlots) patched[slot + 1] = 1;
-    const { starts, values } = base.owner;
-    need.fill(0);
-    const needWords: number[] = [];
-    let count = 0;
-    for (let k = 0; k < values.length; k++) {
-      if (patched[values[k] + 1] === 0) continue;
-      const end = k + 1 < starts.length ? starts[k + 1] : domain.size;
-      for (let element = starts[k]; element < end; element++) {
-        const w = element >>> 5;
-        if (need[w] === 0) needWords.push(w);
-        need[w] |= 1 << (element & 31);
-        owner[element] = -1;
-        count++;
-      }
-    }
+    const freed = freeElementsOwnedBy(base.owner, domain.size, owner, need, (slot) => patched[slot + 1] === 1);
+    const wordsInOrder = freed.wordsInOrder;
+    let count = freed.count;
     if (count === 0) {
       // The off rules took nothing: every element keeps its owner, and the runs are the base's (shared, not copied).
       for (const slot of offSlots) patched[slot + 1] = 0;
       return partition(base.owner);
     }
-    const wordsInOrder = Int32Array.from(needWords).sort();
     let firstOff = Infinity;
     for (const position of off) if (position < firstOff) firstOff = position;
     const familySlot = family === 4 ? 0 : 1;
@@ -1438,28 +1425,16 @@ export class CompiledModel {
       // every other element keeps its owner. Costs the rule's elements and the later rules' words there.
       const removed = base.active[removeAt];
       const { owner, remaining: need } = this.scratch[family];
-      const { starts, values } = base.owner;
+      const { values } = base.owner;
       // Most often the rule owns nothing there (a shadowed rule: 82 of 100 lists after the
       // benchmark's removal): the runs are the basis partition's own object, so its outcome
       // carries over without being mapped again (outcomeRunsOf).
       let owns = false;
       for (let k = 0; k < values.length && !owns; k++) owns = values[k] === removed;
       if (owns) {
-        need.fill(0);
-        const needWords: number[] = [];
-        let count = 0;
-        for (let k = 0; k < starts.length; k++) {
-          if (values[k] !== removed) continue;
-          const end = k + 1 < starts.length ? starts[k + 1] : domain.size;
-          for (let element = starts[k]; element < end; element++) {
-            const w = element >>> 5;
-            if (need[w] === 0) needWords.push(w);
-            need[w] |= 1 << (element & 31);
-            owner[element] = -1;
-            count++;
-          }
-        }
-        const wordsInOrder = Int32Array.from(needWords).sort();
+        const freed = freeElementsOwnedBy(base.owner, domain.size, owner, need, (slot) => slot === removed);
+        const wordsInOrder = freed.wordsInOrder;
+        let count = freed.count;
         for (let k = removeAt + 1; k < base.active.length && count > 0; k++) {
           const slot = base.active[k];
           count -= claimNeeded(need, wordsInOrder, owner, slot, basis.ruleBits[basis.slotPositions[slot]][familySlot]);
@@ -1742,6 +1717,30 @@ export class CompiledModel {
     return runValueAt(entry.outcome, this.domains[entry.family].indexOf(value));
   }
 
+}
+
+/**
+ * Frees the elements of the runs whose owning slot `freed` picks: each is marked in `need` (reset
+ * first), its owner set to -1; returns the nonzero words of `need` ascending and how many
+ * elements were freed — what `claimNeeded` takes.
+ */
+function freeElementsOwnedBy(runs: Runs, size: number, owner: Int32Array, need: Int32Array, freed: (slot: number) => boolean): { wordsInOrder: Int32Array; count: number } {
+  const { starts, values } = runs;
+  need.fill(0);
+  const needWords: number[] = [];
+  let count = 0;
+  for (let k = 0; k < values.length; k++) {
+    if (!freed(values[k])) continue;
+    const end = k + 1 < starts.length ? starts[k + 1] : size;
+    for (let element = starts[k]; element < end; element++) {
+      const w = element >>> 5;
+      if (need[w] === 0) needWords.push(w);
+      need[w] |= 1 << (element & 31);
+      owner[element] = -1;
+      count++;
+    }
+  }
+  return { wordsInOrder: Int32Array.from(needWords).sort(), count };
 }
 
 /**
