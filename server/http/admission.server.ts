@@ -183,6 +183,8 @@ export class FairAdmission {
 
   /** A request set aside asks for a slot again; it goes before those waiting for their first. */
   private comeBack(running: Running): Promise<void> {
+    // Ended meanwhile (its client went away): nothing to wait for.
+    if (running.state !== "aside") return Promise.resolve();
     return new Promise((resolve) => {
       this.returning.push(() => {
         // A request that ended while aside (its client went away) takes no slot.
