@@ -33,7 +33,13 @@ made=$(printf '%s\n' "$listing" | sed -n 's/^; Archive created at //p' | head -n
 from=$(printf '%s\n' "$listing" | sed -n 's/^;[[:space:]]*dbname: //p' | head -n 1)
 grep -q 'TABLE DATA public audit_events' <<<"$listing" || fail "$file holds no Sallyport data (no audit_events table)" "name a backup of a Sallyport database"
 
-others=$(psql_on -tA -c "SELECT count(*) FROM pg_stat_activity WHERE datname = current_database() AND pid <> pg_backend_pid()")
+# A client that has just disconnected (a server stopped a moment ago) can stay listed until its
+# backend process has exited: look again for up to two seconds before refusing.
+for attempt in 1 2 3 4 5 6 7 8 9 10; do
+  others=$(psql_on -tA -c "SELECT count(*) FROM pg_stat_activity WHERE datname = current_database() AND pid <> pg_backend_pid()")
+  [ "$others" = "0" ] && break
+  sleep 0.2
+done
 [ "$others" = "0" ] || fail "$others other connection(s) to database $name are open: is the server (\`npm start\`) running?" \
   "stop the server (Ctrl-C where \`npm start\` runs) and anything else using the database, then run the restore again"
 

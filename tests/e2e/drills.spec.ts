@@ -37,7 +37,7 @@ test("A trainer builds a repair drill; the trainee's incomplete fix is not a pas
   await expect(toast(trainer)).toContainText("Drill “Let the operations centre in” created");
 
   // Two goals: the operations centre logs in with its second factor; the rest of the internet gets no answer.
-  const addGoal = async (from: string, outcome: string) => {
+  const addGoal = async (from: string, outcome: string, goalsAfter: number) => {
     const form = trainer.getByRole("form", { name: "Add a goal" });
     await form.getByLabel("From (source address)").fill(from);
     await form.getByLabel("Interface").selectOption("outside");
@@ -45,9 +45,12 @@ test("A trainer builds a repair drill; the trainee's incomplete fix is not a pas
     await form.getByLabel("Must get").selectOption({ label: outcome });
     await form.getByRole("button", { name: "Add goal" }).click();
     await expect(toast(trainer)).toContainText("Goal added");
+    // The goal itself, not only a toast (the first goal's toast may still show when the second is
+    // added): leaving the page before the save is done would edit an older version of the drill.
+    await expect(trainer.getByRole("list", { name: "Goals" }).getByRole("listitem")).toHaveCount(goalsAfter);
   };
-  await addGoal("192.0.2.70", "Login with second factor");
-  await addGoal("203.0.113.9", "No answer");
+  await addGoal("192.0.2.70", "Login with second factor", 1);
+  await addGoal("203.0.113.9", "No answer", 2);
   // The answer model: the drop moved below the operations centre's allow.
   await trainer.getByRole("link", { name: "Edit the answer model" }).click();
   await hydrated(trainer);
