@@ -58,7 +58,7 @@ const EnvironmentSchema = z.object({
    * where many people sign up from one address (a classroom behind one NAT, the browser tests).
    */
   SIGN_UPS_PER_CLIENT: z.coerce.number().int().min(1, "SIGN_UPS_PER_CLIENT must be at least 1").max(10_000).default(30),
-  /** Requests one web process works at once; the rest wait their fair turn (server/http/admission.server.ts, docs/decisions/024; 2 since decision 029: the open loop's tail was shorter than with 4). */
+  /** Requests one web process works at once; the rest wait their fair turn (server/http/admission.server.ts, docs/decisions/024; 1 since decision 030 — a demo answer then waits for one page, not beside it; 2 from 029, 4 before). */
   ADMISSION_CONCURRENCY: z.coerce.number().int().min(1, "ADMISSION_CONCURRENCY must be at least 1").max(1024).default(1),
   /** "1": every answer says how long it waited for its turn (Server-Timing "turn"), for the load benchmark. */
   ADMISSION_TIMING: z.enum(["0", "1"]).default("0"),

@@ -11,7 +11,9 @@
 // per user (grouped under the organisation), so an organisation with many active users is not
 // squeezed to the share of one with ten. The cost is the process's CPU time, split evenly among
 // the requests in flight while it was spent (processor sharing): no request's time is counted
-// twice and waiting on PostgreSQL costs nothing.
+// twice and waiting on PostgreSQL costs nothing. Decision 030: one request at a time by default;
+// a wait outside the process (a password hash, the mail server) gives the slot up meanwhile
+// (`awayFromTurn`), and a request worked 100 ms lends its slot to one more.
 import { AsyncLocalStorage } from "node:async_hooks";
 import type { IncomingMessage, ServerResponse } from "node:http";
 import { performance } from "node:perf_hooks";
@@ -45,7 +47,7 @@ export type Turn = {
 };
 
 export type AdmissionOptions = {
-  /** Requests worked at once: enough to overlap one request's CPU with another's wait on PostgreSQL. */
+  /** Requests worked at once (ADMISSION_CONCURRENCY; 1 by default, decision 030). */
   concurrency: number;
   /** The process's CPU time so far, in milliseconds (a parameter so a test can drive it). */
   cpuClock?: () => number;

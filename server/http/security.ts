@@ -6,7 +6,7 @@ import { textProblem } from "../validation/text.ts";
 /** The REST API's prefix (server/api/endpoint.server.ts says the same). */
 const API_PREFIX = "/api/v1";
 
-/** Random bytes drawn 4 KiB at a time: one system call per 256 nonces, not one per response. */
+/** Random bytes drawn 4 KiB at a time: one call into the crypto library per 256 nonces (a call per response was ≈ 26 µs of the trace JSON route's profile). */
 const NONCE_BYTES = 16;
 let nonceStock = Buffer.alloc(0);
 let nonceOffset = 0;

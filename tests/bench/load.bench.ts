@@ -122,7 +122,6 @@ async function seedLargeOrganisation(): Promise<string> {
   return organisation.slug;
 }
 
-
 // Connections are held as browsers hold them: each signed-in session is one browser with its
 // own keep-alive agent of at most six connections (what browsers open per HTTP/1.1 origin),
 // kept open between requests; a request beyond six waits in the client, and that wait counts
